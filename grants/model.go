@@ -1,0 +1,175 @@
+package grants
+
+import "time"
+
+// Instrument is the kind of award.
+type Instrument string
+
+const (
+	Option  Instrument = "option"
+	Warrant Instrument = "warrant"
+	RSU     Instrument = "rsu"
+)
+
+// Classification is how a warrant is classified for accounting.
+type Classification string
+
+const (
+	Equity    Classification = "equity"    // measured once, at grant
+	Liability Classification = "liability" // remeasured at every valuation date
+)
+
+// ExerciseStyle is when a vested warrant may be exercised.
+type ExerciseStyle string
+
+const (
+	American ExerciseStyle = "american"
+	European ExerciseStyle = "european"
+)
+
+// EventKind is what happened to some of a grant's shares.
+type EventKind string
+
+const (
+	Exercised EventKind = "exercised"
+	Forfeited EventKind = "forfeited"
+	Expired   EventKind = "expired"
+	Cancelled EventKind = "cancelled"
+)
+
+// Ref is where a value came from: a sheet and a cell such as "D7".
+// The zero Ref means the value is a default.
+type Ref struct {
+	Sheet string
+	Cell  string
+}
+
+func (r Ref) String() string {
+	if r.Sheet == "" {
+		return "default"
+	}
+	return r.Sheet + "!" + r.Cell
+}
+
+// Schedule is a company's grant schedule as read from a workbook or a folder
+// of CSV files: everything grantworth needs to value and expense its awards.
+type Schedule struct {
+	Company     Company
+	Assumptions Assumptions
+	Grants      []Grant
+	Vesting     []VestRow // custom vesting rows; they replace the column schedule of the grants they name
+	SharePrices []PricePoint
+	Rates       []RatePoint
+	Events      []Event
+}
+
+// Company is the Company sheet.
+type Company struct {
+	Name              string
+	ValuationDate     time.Time // the period end
+	PeriodStart       time.Time // default: first day of the quarter ending on ValuationDate
+	Currency          string    // ISO 4217, default USD
+	SharesOutstanding float64
+	Refs              map[string]Ref // by key, e.g. "valuation_date"
+}
+
+// Attribution is how a graded award's cost is spread over service.
+type Attribution string
+
+const (
+	Graded       Attribution = "graded"
+	StraightLine Attribution = "straight-line"
+)
+
+// ForfeiturePolicy is how pre-vesting forfeitures enter expense.
+type ForfeiturePolicy string
+
+const (
+	Estimate ForfeiturePolicy = "estimate"
+	AsOccur  ForfeiturePolicy = "as-occur"
+)
+
+// Assumptions is the Assumptions sheet: company-wide defaults that a grant
+// row may override.
+type Assumptions struct {
+	Volatility               float64
+	DividendYield            float64
+	ExerciseMultiple         float64 // 0 = none
+	PostVestingExitRate      float64 // annual share of vested holders who leave
+	PreVestingForfeitureRate float64 // annual share of unvested holders who leave
+	Attribution              Attribution
+	Forfeitures              ForfeiturePolicy
+	Steps                    int               // 0 = auto
+	Sources                  map[string]string // by key: the text of the source column
+	Refs                     map[string]Ref    // by key: where the value came from
+}
+
+// Grant is one row of the Grants sheet, with defaults filled in
+// (instrument, vest start, expiry from term_years) but no Assumptions merged:
+// a nil override means "use the Assumptions value".
+type Grant struct {
+	ID          string
+	Holder      string
+	Instrument  Instrument
+	GrantDate   time.Time
+	Shares      int64
+	Strike      float64 // 0 for RSUs
+	ExpiryDate  time.Time
+	VestStart   time.Time
+	VestMonths  int
+	CliffMonths int
+	VestEvery   int // months: 1, 3 or 12
+
+	SharePrice          *float64
+	Volatility          *float64
+	DividendYield       *float64
+	ExerciseMultiple    *float64
+	PostVestingExitRate *float64
+
+	Classification Classification // warrants; default equity
+	ExerciseStyle  ExerciseStyle  // warrants; default american
+
+	Row  int            // 1-based row on the Grants sheet
+	Refs map[string]Ref // by column key, e.g. "strike"
+}
+
+// VestRow is one row of the Vesting sheet.
+type VestRow struct {
+	GrantID  string
+	VestDate time.Time
+	Shares   int64
+	Row      int
+}
+
+// PricePoint is one row of Share Prices: the share's fair value from Date on.
+type PricePoint struct {
+	Date  time.Time
+	Price float64
+	Row   int
+}
+
+// RatePoint is one row of Rates.
+type RatePoint struct {
+	CurveDate   time.Time
+	TenorYears  float64
+	Rate        float64
+	Compounding string // continuous | annual | semiannual | par-semiannual
+	Row         int
+}
+
+// Event is one row of Events.
+type Event struct {
+	GrantID string
+	Date    time.Time
+	Kind    EventKind
+	Shares  int64
+	Row     int
+}
+
+// Tranche is the part of a grant that vests on one date.
+type Tranche struct {
+	GrantID  string
+	Index    int // 1-based, in vest-date order
+	VestDate time.Time
+	Shares   int64
+}

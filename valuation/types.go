@@ -1,0 +1,38 @@
+package valuation
+
+// Terms are the contractual and behavioural terms of one award tranche.
+type Terms struct {
+	Strike           float64 // K, currency per share
+	YearsToExpiry    float64 // T, from the measurement date
+	YearsToVest      float64 // V, 0 if already vested
+	ExerciseMultiple float64 // M: exercise once S >= M*K; 0 means no such rule
+	ExitRate         float64 // annual share of vested holders who leave, in [0, 1)
+	Rational         bool    // also exercise whenever that is optimal (American; warrants)
+	European         bool    // exercise at expiry only: ignores vesting, multiple and exit
+}
+
+// Market is what the award is valued in at its measurement date.
+type Market struct {
+	Spot          float64 // S0, share fair value
+	VolAnnual     float64 // sigma
+	DividendYield float64 // q, continuous
+	Curve         *Curve  // zero curve at the measurement date
+}
+
+// Method names how a Result was obtained.
+type Method string
+
+const (
+	MethodLattice Method = "lattice"
+	MethodBSM     Method = "bsm"
+	MethodMC      Method = "mc"
+)
+
+// Result is a value and the statistics of how it was obtained.
+type Result struct {
+	Value             float64 // per share
+	ErrorEstimate     float64 // absolute, per share; 0 when exact (closed form)
+	ExpectedTermYears float64 // risk-neutral expected life of the award from the measurement date
+	Steps             int     // lattice steps over the term (largest used in auto mode); paths for MC
+	Method            Method
+}
