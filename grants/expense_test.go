@@ -203,7 +203,7 @@ func TestTermination(t *testing.T) {
 	a.Events = []Event{{GrantID: "X", Date: date("2030-06-30"), Kind: Forfeited, Shares: 3000, Row: 2}}
 
 	// As-occur: through 2030-03-31 10000 + 10000·455/730 + 10000·455/1095 + 10000·455/1461
-	// = 23,502.44; through 2030-06-30 only tranche 1's 10,000 remains.
+	// = 23,502.43; through 2030-06-30 only tranche 1's 10,000 remains.
 	asOccur := ExpensePolicy{Attribution: Graded, Forfeitures: AsOccur}
 	before := 10000 + 10000.0*455/730 + 10000.0*455/1095 + 10000.0*455/1461
 	r := mustExpense(t, []AwardCost{a}, asOccur, "2030-04-01", "2030-06-30")
