@@ -96,7 +96,7 @@ func TestBootstrapParFlat(t *testing.T) {
 func TestBootstrapParQuantLib(t *testing.T) {
 	const (
 		tolMatched = 1e-10 // continuous zero rate
-		tolQuoted  = 5e-4 // 5 basis points; 2.0 bp measured on the upward set
+		tolQuoted  = 5e-4  // 5 basis points; 2.0 bp measured on the upward set
 	)
 	version, sets := loadQuantLibPar(t)
 	for _, s := range sets {
