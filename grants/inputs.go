@@ -67,9 +67,9 @@ func (s *Schedule) Inputs(g Grant) (Inputs, error) {
 		in.SharePrice = Source{Value: *g.SharePrice, Ref: r, Text: r.String() + " (grant row)"}
 	} else if p, ok := s.PriceAt(md); ok {
 		r := s.cell(SheetSharePrices, "price", p.Row, nil)
-		in.SharePrice = Source{Value: p.Price, Ref: r, Text: fmt.Sprintf("%s (valuation of %s)", r, day(p.Date))}
+		in.SharePrice = Source{Value: p.Price, Ref: r, Text: fmt.Sprintf("%s (valuation of %s)", r, isoDay(p.Date))}
 	} else {
-		return fail("share_price", "no share price is known at %s for grant %s", day(md), g.ID)
+		return fail("share_price", "no share price is known at %s for grant %s", isoDay(md), g.ID)
 	}
 
 	a := &s.Assumptions
@@ -127,7 +127,7 @@ func (s *Schedule) Inputs(g Grant) (Inputs, error) {
 		}
 		T = valuation.YearFrac(md, g.ExpiryDate)
 		if T <= 0 {
-			return fail("expiry_date", "grant %s expired on %s, before its measurement date %s", g.ID, day(g.ExpiryDate), day(md))
+			return fail("expiry_date", "grant %s expired on %s, before its measurement date %s", g.ID, isoDay(g.ExpiryDate), isoDay(md))
 		}
 	}
 	horizon := T
@@ -147,7 +147,7 @@ func (s *Schedule) Inputs(g Grant) (Inputs, error) {
 			tm.European = g.ExerciseStyle == European
 		}
 		if V > tm.YearsToExpiry {
-			return fail("vest_months", "tranche %d of grant %s vests on %s, after the expiry %s", t.Index, g.ID, day(t.VestDate), day(g.ExpiryDate))
+			return fail("vest_months", "tranche %d of grant %s vests on %s, after the expiry %s", t.Index, g.ID, isoDay(t.VestDate), isoDay(g.ExpiryDate))
 		}
 		in.Terms[i] = tm
 	}
@@ -158,16 +158,16 @@ func (s *Schedule) Inputs(g Grant) (Inputs, error) {
 		cv, text, err := c.build()
 		if err != nil {
 			r := s.cell(SheetRates, "curve_date", c.points[0].Row, nil)
-			return Inputs{}, &CellError{Sheet: r.Sheet, Cell: r.Cell, Column: "curve_date", Value: day(c.date), Err: ErrRange, Msg: "curve cannot be built: " + err.Error()}
+			return Inputs{}, &CellError{Sheet: r.Sheet, Cell: r.Cell, Column: "curve_date", Value: isoDay(c.date), Err: ErrRange, Msg: "curve cannot be built: " + err.Error()}
 		}
 		in.Market.Curve, in.CurveDate = cv, c.date
 		r := s.cell(SheetRates, "rate", c.points[0].Row, nil)
 		in.RiskFreeRate = Source{Value: cv.Zero(horizon), Ref: r, Text: text}
 	} else if g.Instrument == RSU {
 		in.Market.Curve = valuation.FlatCurve(0)
-		in.RiskFreeRate = Source{Text: fmt.Sprintf("no Rates curve on or before %s; an RSU's value needs none", day(md))}
+		in.RiskFreeRate = Source{Text: fmt.Sprintf("no Rates curve on or before %s; an RSU's value needs none", isoDay(md))}
 	} else {
-		return fail("grant_date", "no Rates curve is dated on or before %s, the measurement date of grant %s", day(md), g.ID)
+		return fail("grant_date", "no Rates curve is dated on or before %s, the measurement date of grant %s", isoDay(md), g.ID)
 	}
 	return in, nil
 }

@@ -19,9 +19,11 @@ import (
 // last day. A grant with vest_months 0 is one tranche vested at grant.
 //
 // A forfeited (or cancelled) event takes its shares from the tranches that
-// vest after its date, the soonest first; a tranche vesting on the event's
-// date has vested. Exercised and expired events concern vested shares and
-// change no tranche. A grant with no shares has no tranches.
+// vest after its date, the latest vest date first (the order the expense
+// attribution uses; a termination forfeits them all); a tranche vesting on
+// the event's date has vested. Shares beyond the unvested ones concern
+// vested shares, as do exercised and expired events, and change no tranche.
+// A grant with no shares has no tranches.
 func (s *Schedule) Tranches(g Grant) []Tranche {
 	var ts []Tranche
 	if rows := s.vestRows(g.ID); len(rows) > 0 {
@@ -34,7 +36,7 @@ func (s *Schedule) Tranches(g Grant) []Tranche {
 			continue
 		}
 		left := e.Shares
-		for i := range ts {
+		for i := len(ts) - 1; i >= 0; i-- {
 			if left <= 0 {
 				break
 			}

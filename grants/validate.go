@@ -48,7 +48,7 @@ type validator struct {
 }
 
 func num(f float64) string { return strconv.FormatFloat(f, 'g', -1, 64) }
-func day(t time.Time) string {
+func isoDay(t time.Time) string {
 	if t.IsZero() {
 		return ""
 	}
@@ -78,8 +78,8 @@ func (v *validator) company() {
 		return
 	}
 	if !co.PeriodStart.IsZero() && !co.PeriodStart.Before(co.ValuationDate) {
-		v.rep.errf(v.s.cell(SheetCompany, "period_start", 0, co.Refs), "period_start", day(co.PeriodStart), ErrRange,
-			"must be before valuation_date %s", day(co.ValuationDate))
+		v.rep.errf(v.s.cell(SheetCompany, "period_start", 0, co.Refs), "period_start", isoDay(co.PeriodStart), ErrRange,
+			"must be before valuation_date %s", isoDay(co.ValuationDate))
 	}
 	if co.SharesOutstanding < 0 {
 		v.rep.errf(v.s.cell(SheetCompany, "shares_outstanding", 0, co.Refs), "shares_outstanding", num(co.SharesOutstanding), ErrRange, "must be more than zero")
@@ -137,7 +137,7 @@ func (v *validator) prices() {
 			v.rep.errf(v.s.cell(SheetSharePrices, "price", p.Row, nil), "price", num(p.Price), ErrRange, "must be more than zero")
 		}
 		if r, dup := seen[p.Date]; dup {
-			v.rep.errf(v.s.cell(SheetSharePrices, "date", p.Row, nil), "date", day(p.Date), ErrDuplicate,
+			v.rep.errf(v.s.cell(SheetSharePrices, "date", p.Row, nil), "date", isoDay(p.Date), ErrDuplicate,
 				"is also the date of %s; keep one price per date", v.s.cell(SheetSharePrices, "date", r, nil).Cell)
 		} else {
 			seen[p.Date] = p.Row
@@ -155,7 +155,7 @@ func (v *validator) rates() {
 				v.rep.errf(ref, "tenor_years", num(p.TenorYears), ErrRange, "must be from 0 to 100 years")
 			}
 			if r, dup := tenors[p.TenorYears]; dup {
-				v.rep.errf(ref, "tenor_years", num(p.TenorYears), ErrDuplicate, "appears twice in the curve of %s (also %s)", day(c.date), v.s.cell(SheetRates, "tenor_years", r, nil).Cell)
+				v.rep.errf(ref, "tenor_years", num(p.TenorYears), ErrDuplicate, "appears twice in the curve of %s (also %s)", isoDay(c.date), v.s.cell(SheetRates, "tenor_years", r, nil).Cell)
 			} else {
 				tenors[p.TenorYears] = p.Row
 			}
@@ -171,12 +171,12 @@ func (v *validator) rates() {
 		}
 		if par > 0 && other > 0 {
 			v.rep.errf(v.s.cell(SheetRates, "compounding", c.points[0].Row, nil), "compounding", c.points[0].Compounding, ErrInconsistent,
-				"the curve of %s mixes par-semiannual yields with zero rates; give one or the other", day(c.date))
+				"the curve of %s mixes par-semiannual yields with zero rates; give one or the other", isoDay(c.date))
 			continue
 		}
 		if v.rep.OK() {
 			if _, _, err := c.build(); err != nil {
-				v.rep.errf(v.s.cell(SheetRates, "curve_date", c.points[0].Row, nil), "curve_date", day(c.date), ErrRange, "the curve of this date cannot be built: %v", err)
+				v.rep.errf(v.s.cell(SheetRates, "curve_date", c.points[0].Row, nil), "curve_date", isoDay(c.date), ErrRange, "the curve of this date cannot be built: %v", err)
 			}
 		}
 	}
@@ -214,7 +214,7 @@ func (v *validator) grants() {
 			if g.ExpiryDate.IsZero() {
 				v.rep.errf(ref("expiry_date"), "expiry_date", "", ErrRequired, "%s %s needs expiry_date or term_years", article(g.Instrument), g.ID)
 			} else if !g.ExpiryDate.After(g.GrantDate) {
-				v.rep.errf(ref("expiry_date"), "expiry_date", day(g.ExpiryDate), ErrRange, "must be after grant_date %s (%s)", day(g.GrantDate), ref("grant_date").Cell)
+				v.rep.errf(ref("expiry_date"), "expiry_date", isoDay(g.ExpiryDate), ErrRange, "must be after grant_date %s (%s)", isoDay(g.GrantDate), ref("grant_date").Cell)
 			}
 		}
 		if g.CliffMonths > g.VestMonths {
@@ -224,10 +224,10 @@ func (v *validator) grants() {
 			v.rep.errf(ref("vest_every_months"), "vest_every_months", strconv.Itoa(e), ErrRange, "must be 1, 3 or 12")
 		}
 		if !g.VestStart.IsZero() && !g.GrantDate.IsZero() && g.VestStart.After(g.GrantDate.AddDate(1, 0, 0)) {
-			v.rep.warnf(ref("vest_start"), "vest_start", day(g.VestStart), ErrRange, "is more than a year after grant_date %s", day(g.GrantDate))
+			v.rep.warnf(ref("vest_start"), "vest_start", isoDay(g.VestStart), ErrRange, "is more than a year after grant_date %s", isoDay(g.GrantDate))
 		}
 		if co := s.Company.ValuationDate; !co.IsZero() && g.GrantDate.After(co) {
-			v.rep.warnf(ref("grant_date"), "grant_date", day(g.GrantDate), ErrRange, "is after the valuation date %s; the grant is outside the period", day(co))
+			v.rep.warnf(ref("grant_date"), "grant_date", isoDay(g.GrantDate), ErrRange, "is after the valuation date %s; the grant is outside the period", isoDay(co))
 		}
 		// Overrides.
 		if g.Volatility != nil {
@@ -264,11 +264,11 @@ func (v *validator) grants() {
 							last = r
 						}
 					}
-					v.rep.errf(s.cell(SheetVesting, "vest_date", last.Row, nil), "vest_date", day(last.VestDate), ErrRange,
-						"is after the expiry %s of grant %s (%s)", day(g.ExpiryDate), g.ID, ref("expiry_date").Cell)
+					v.rep.errf(s.cell(SheetVesting, "vest_date", last.Row, nil), "vest_date", isoDay(last.VestDate), ErrRange,
+						"is after the expiry %s of grant %s (%s)", isoDay(g.ExpiryDate), g.ID, ref("expiry_date").Cell)
 				} else {
 					v.rep.errf(ref("vest_months"), "vest_months", strconv.Itoa(g.VestMonths), ErrRange,
-						"vesting ends %s, after the expiry %s (%s)", day(ts[n-1].VestDate), day(g.ExpiryDate), ref("expiry_date").Cell)
+						"vesting ends %s, after the expiry %s (%s)", isoDay(ts[n-1].VestDate), isoDay(g.ExpiryDate), ref("expiry_date").Cell)
 				}
 			}
 		}
@@ -297,7 +297,7 @@ func (v *validator) marketAt(g Grant, ref func(string) Ref) {
 	if g.SharePrice == nil {
 		if !ok {
 			v.rep.errf(ref("share_price"), "share_price", "", ErrRequired,
-				"no share price is known at the measurement date %s of grant %s: give one here or a Share Prices row dated on or before it", day(md), g.ID)
+				"no share price is known at the measurement date %s of grant %s: give one here or a Share Prices row dated on or before it", isoDay(md), g.ID)
 		} else if g.Strike > 0 && g.Instrument != RSU && g.Strike < p.Price && md.Equal(g.GrantDate) {
 			v.rep.warnf(ref("strike"), "strike", num(g.Strike), ErrRange, "is below the share price %s at grant (%s): the award is in the money", num(p.Price), s.cell(SheetSharePrices, "price", p.Row, nil))
 		}
@@ -305,13 +305,13 @@ func (v *validator) marketAt(g Grant, ref func(string) Ref) {
 		v.rep.warnf(ref("strike"), "strike", num(g.Strike), ErrRange, "is below the share price %s at grant (%s): the award is in the money", num(*g.SharePrice), ref("share_price").Cell)
 	}
 	if ok && AddMonths(p.Date, StaleMonths).Before(g.GrantDate) {
-		v.rep.warnf(ref("grant_date"), "grant_date", day(g.GrantDate), ErrRange,
-			"is more than %d months after the latest share valuation, %s (%s): the valuation may be stale", StaleMonths, day(p.Date), s.cell(SheetSharePrices, "date", p.Row, nil))
+		v.rep.warnf(ref("grant_date"), "grant_date", isoDay(g.GrantDate), ErrRange,
+			"is more than %d months after the latest share valuation, %s (%s): the valuation may be stale", StaleMonths, isoDay(p.Date), s.cell(SheetSharePrices, "date", p.Row, nil))
 	}
 	if g.Instrument != RSU {
 		if _, ok := s.curveAt(md); !ok {
-			v.rep.errf(ref("grant_date"), "grant_date", day(g.GrantDate), ErrRequired,
-				"no Rates curve is dated on or before the measurement date %s of grant %s", day(md), g.ID)
+			v.rep.errf(ref("grant_date"), "grant_date", isoDay(g.GrantDate), ErrRequired,
+				"no Rates curve is dated on or before the measurement date %s of grant %s", isoDay(md), g.ID)
 		}
 	}
 }
@@ -336,7 +336,7 @@ func (v *validator) vesting() {
 			continue
 		}
 		if !g.GrantDate.IsZero() && r.VestDate.Before(g.GrantDate.AddDate(-10, 0, 0)) {
-			v.rep.errf(s.cell(SheetVesting, "vest_date", r.Row, nil), "vest_date", day(r.VestDate), ErrRange, "is more than ten years before the grant date %s", day(g.GrantDate))
+			v.rep.errf(s.cell(SheetVesting, "vest_date", r.Row, nil), "vest_date", isoDay(r.VestDate), ErrRange, "is more than ten years before the grant date %s", isoDay(g.GrantDate))
 		}
 		if sums[r.GrantID] == nil {
 			sums[r.GrantID] = &sum{}
@@ -377,11 +377,11 @@ func (v *validator) events() {
 			continue
 		}
 		if e.Date.Before(g.GrantDate) {
-			v.rep.errf(ref("date"), "date", day(e.Date), ErrRange, "is before the grant date %s of grant %s (%s)", day(g.GrantDate), g.ID, s.cell(SheetGrants, "grant_date", g.Row, g.Refs).Cell)
+			v.rep.errf(ref("date"), "date", isoDay(e.Date), ErrRange, "is before the grant date %s of grant %s (%s)", isoDay(g.GrantDate), g.ID, s.cell(SheetGrants, "grant_date", g.Row, g.Refs).Cell)
 			continue
 		}
 		if vd := s.Company.ValuationDate; !vd.IsZero() && e.Date.After(vd) {
-			v.rep.warnf(ref("date"), "date", day(e.Date), ErrRange, "is after the valuation date %s", day(vd))
+			v.rep.warnf(ref("date"), "date", isoDay(e.Date), ErrRange, "is after the valuation date %s", isoDay(vd))
 		}
 		if byGrant[e.GrantID] == nil {
 			order = append(order, e.GrantID)
@@ -400,9 +400,9 @@ func (v *validator) events() {
 		for i, t := range ts {
 			live[i] = t.Shares
 		}
-		var usedVested int64 // vested shares exercised, expired or cancelled
-		takeUnvested := func(d time.Time, n int64) {
-			for i := range ts {
+		var usedVested int64                         // vested shares exercised, expired or cancelled
+		takeUnvested := func(d time.Time, n int64) { // latest vest date first, as Tranches does
+			for i := len(ts) - 1; i >= 0; i-- {
 				if n <= 0 {
 					return
 				}
@@ -427,21 +427,27 @@ func (v *validator) events() {
 			gref := s.cell(SheetGrants, "shares", g.Row, g.Refs)
 			switch e.Kind {
 			case Forfeited:
-				if e.Shares > unvested {
+				switch {
+				case e.Shares > unvested+vestedOut:
 					v.rep.errf(ref, "shares", strconv.FormatInt(e.Shares, 10), ErrRange,
-						"forfeits more than the %d unvested shares of grant %s on %s (%s)", unvested, id, day(e.Date), gref)
+						"forfeits more than the %d shares outstanding of grant %s on %s (%s)", max(unvested+vestedOut, 0), id, isoDay(e.Date), gref)
+				case e.Shares > unvested:
+					v.rep.warnf(ref, "shares", strconv.FormatInt(e.Shares, 10), ErrRange,
+						"is more than the %d unvested shares of grant %s on %s; the rest are taken from vested shares (record those as expired)", unvested, id, isoDay(e.Date))
 				}
-				takeUnvested(e.Date, e.Shares)
+				k := min(e.Shares, unvested)
+				takeUnvested(e.Date, k)
+				usedVested += e.Shares - k
 			case Exercised, Expired:
 				if e.Shares > vestedOut {
 					v.rep.errf(ref, "shares", strconv.FormatInt(e.Shares, 10), ErrRange,
-						"%s more than the %d vested shares outstanding of grant %s on %s (%s)", verb(e.Kind), max(vestedOut, 0), id, day(e.Date), gref)
+						"%s more than the %d vested shares outstanding of grant %s on %s (%s)", verb(e.Kind), max(vestedOut, 0), id, isoDay(e.Date), gref)
 				}
 				usedVested += e.Shares
 			case Cancelled:
 				if e.Shares > unvested+vestedOut {
 					v.rep.errf(ref, "shares", strconv.FormatInt(e.Shares, 10), ErrRange,
-						"cancels more than the %d shares outstanding of grant %s on %s (%s)", max(unvested+vestedOut, 0), id, day(e.Date), gref)
+						"cancels more than the %d shares outstanding of grant %s on %s (%s)", max(unvested+vestedOut, 0), id, isoDay(e.Date), gref)
 				}
 				k := min(e.Shares, unvested)
 				takeUnvested(e.Date, k)
@@ -550,7 +556,7 @@ func (c curve) build() (*valuation.Curve, string, error) {
 		if err != nil {
 			return nil, "", err
 		}
-		return cv, fmt.Sprintf("Rates curve of %s, %d %s, par-semiannual yields bootstrapped to zero rates", day(c.date), n, plural(n, "point")), nil
+		return cv, fmt.Sprintf("Rates curve of %s, %d %s, par-semiannual yields bootstrapped to zero rates", isoDay(c.date), n, plural(n, "point")), nil
 	}
 	pts := make([]valuation.CurvePoint, n)
 	kinds := map[string]bool{}
@@ -578,7 +584,7 @@ func (c curve) build() (*valuation.Curve, string, error) {
 		ks = append(ks, k)
 	}
 	sort.Strings(ks)
-	return cv, fmt.Sprintf("Rates curve of %s, %d %s, %s zero rates", day(c.date), n, plural(n, "point"), strings.Join(ks, " and ")), nil
+	return cv, fmt.Sprintf("Rates curve of %s, %d %s, %s zero rates", isoDay(c.date), n, plural(n, "point"), strings.Join(ks, " and ")), nil
 }
 
 func plural(n int, w string) string {
@@ -587,4 +593,3 @@ func plural(n int, w string) string {
 	}
 	return w + "s"
 }
-
