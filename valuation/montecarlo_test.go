@@ -1,0 +1,199 @@
+package valuation
+
+import (
+	"math"
+	"testing"
+)
+
+// mcZMax is the agreement demanded of a Monte Carlo estimate: within 3 of
+// its standard errors of the reference (a two-sided 99.7% band; with a
+// fixed seed the test is deterministic, and a failure means a bias, not bad
+// luck, once the seed has passed).
+const mcZMax = 3
+
+func mcCheck(t *testing.T, name string, terms Terms, mkt Market, o MCOptions, want, wantErr float64) Result {
+	t.Helper()
+	r, err := MonteCarlo(terms, mkt, o)
+	if err != nil {
+		t.Fatalf("%s: %v", name, err)
+	}
+	se := math.Hypot(r.ErrorEstimate, wantErr)
+	z := (r.Value - want) / se
+	if !(math.Abs(z) <= mcZMax) {
+		t.Errorf("%s\n  terms %+v market spot %v vol %v q %v options %+v\n  MC %.5f ± %.5f, reference %.5f ± %.5f, z = %.2f, limit %v",
+			name, terms, mkt.Spot, mkt.VolAnnual, mkt.DividendYield, o, r.Value, r.ErrorEstimate, want, wantErr, z, mcZMax)
+	}
+	t.Logf("%s: MC %.5f ± %.5f, reference %.5f, z = %+.2f, term %.3f", name, r.Value, r.ErrorEstimate, want, z, r.ExpectedTermYears)
+	return r
+}
+
+// Vanilla limits of the employee model (DESIGN §6, limits that must hold):
+// with no multiple, no exits and no dividends the option is worth the BSM
+// call whatever the vesting (early exercise of a call on a share paying no
+// dividends is never optimal, Merton 1973); European terms are the BSM call.
+func TestMonteCarloVanillaLimits(t *testing.T) {
+	curve, err := NewCurve([]CurvePoint{{Tenor: 1, Rate: 0.03}, {Tenor: 10, Rate: 0.045}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	mkt := Market{Spot: 12, VolAnnual: 0.55, Curve: curve}
+	o := MCOptions{Paths: 40000, StepsPerYear: 12, Seed: 1}
+	terms := Terms{Strike: 12, YearsToExpiry: 10, YearsToVest: 4}
+	bsm, _ := BlackScholes(terms, mkt)
+	r := mcCheck(t, "no multiple, no exit, no dividends", terms, mkt, o, bsm.Value, 0)
+	if r.ExpectedTermYears != 10 {
+		t.Errorf("expected term %v, want 10 (held to expiry)", r.ExpectedTermYears)
+	}
+	mkt.DividendYield = 0.03
+	terms.European = true
+	terms.ExerciseMultiple, terms.ExitRate = 2, 0.1 // ignored by European terms
+	bsm, _ = BlackScholes(terms, mkt)
+	mcCheck(t, "European with dividends", terms, mkt, MCOptions{Paths: 40000, Seed: 2}, bsm.Value, 0)
+	// Vesting at expiry is European too.
+	terms.European, terms.YearsToVest = false, 10
+	mcCheck(t, "vesting at expiry", terms, mkt, MCOptions{Paths: 40000, Seed: 3}, bsm.Value, 0)
+}
+
+// With exits only (no multiple) and exercise on exit if in the money, the
+// value has a one-dimensional integral form: the exit time τ − V is
+// exponential with intensity λ and independent of the share, and exercise
+// at s is worth the BSM call of expiry s, so
+//
+//	value = ∫_V^T λ e^(−λ(s−V)) C(s) ds + e^(−λ(T−V)) C(T).
+//
+// (Derived here from the model; Simpson's rule with 4000 intervals, whose
+// error is far below the Monte Carlo error.)
+func TestMonteCarloExitsIntegral(t *testing.T) {
+	for i, c := range []struct {
+		spot, strike, T, V, r, q, vol, exit float64
+	}{
+		{50, 50, 10, 3, 0.05, 0.025, 0.35, 0.10},
+		{12, 12, 10, 4, 0.04, 0, 0.55, 0.08},
+		{30, 40, 7, 1, 0.03, 0.01, 0.45, 0.25},
+		{20, 15, 5, 0, 0.02, 0.04, 0.30, 0.50},
+	} {
+		mkt := Market{Spot: c.spot, VolAnnual: c.vol, DividendYield: c.q, Curve: FlatCurve(c.r)}
+		terms := Terms{Strike: c.strike, YearsToExpiry: c.T, YearsToVest: c.V, ExitRate: c.exit}
+		lam := -math.Log1p(-c.exit)
+		call := func(s float64) float64 {
+			if s == 0 {
+				return math.Max(c.spot-c.strike, 0)
+			}
+			return BSMCall(BSMInputs{c.spot, c.strike, s, c.r, c.q, c.vol})
+		}
+		f := func(s float64) float64 { return lam * math.Exp(-lam*(s-c.V)) * call(s) }
+		const n = 4000
+		h := (c.T - c.V) / n
+		sum := f(c.V) + f(c.T)
+		for k := 1; k < n; k++ {
+			w := 2.0
+			if k%2 == 1 {
+				w = 4
+			}
+			sum += w * f(c.V+float64(k)*h)
+		}
+		want := sum*h/3 + math.Exp(-lam*(c.T-c.V))*call(c.T)
+		// Expected term: V + E[min(τ−V, T−V)] = V + (1 − e^(−λ(T−V)))/λ.
+		wantTerm := c.V + (1-math.Exp(-lam*(c.T-c.V)))/lam
+		r := mcCheck(t, "exits only", terms, mkt, MCOptions{Paths: 40000, StepsPerYear: 12, Seed: uint64(10 + i)}, want, 0)
+		if math.Abs(r.ExpectedTermYears-wantTerm) > 0.03 {
+			t.Errorf("exits only %+v: expected term %.4f, want %.4f", c, r.ExpectedTermYears, wantTerm)
+		}
+	}
+}
+
+// upOutCallRebate is an up-and-out call (barrier H above strike K) with a
+// rebate R paid when the barrier is hit, under constant r and q: Reiner and
+// Rubinstein (1991), as set out in Haug, The Complete Guide to Option
+// Pricing Formulas, 2nd ed., standard barrier options, A − B + C − D + F
+// with η = −1, φ = 1 (from memory).
+func upOutCallRebate(S, K, H, R, T, r, q, sigma float64) float64 {
+	b := r - q
+	sT := sigma * math.Sqrt(T)
+	mu := (b - sigma*sigma/2) / (sigma * sigma)
+	lam := math.Sqrt(mu*mu + 2*r/(sigma*sigma))
+	x1 := math.Log(S/K)/sT + (1+mu)*sT
+	x2 := math.Log(S/H)/sT + (1+mu)*sT
+	y1 := math.Log(H*H/(S*K))/sT + (1+mu)*sT
+	y2 := math.Log(H/S)/sT + (1+mu)*sT
+	zz := math.Log(H/S)/sT + lam*sT
+	N := stdNormCDF
+	fs, fk := S*math.Exp((b-r)*T), K*math.Exp(-r*T)
+	A := fs*N(x1) - fk*N(x1-sT)
+	B := fs*N(x2) - fk*N(x2-sT)
+	hs := H / S
+	C := fs*math.Pow(hs, 2*(mu+1))*N(-y1) - fk*math.Pow(hs, 2*mu)*N(-y1+sT)
+	D := fs*math.Pow(hs, 2*(mu+1))*N(-y2) - fk*math.Pow(hs, 2*mu)*N(-y2+sT)
+	F := R * (math.Pow(hs, mu+lam)*N(-zz) + math.Pow(hs, mu-lam)*N(-zz+2*lam*sT))
+	return A - B + C - D + F
+}
+
+// A vested option (V = 0) with an exercise multiple and no exits is an
+// up-and-out call with the rebate H − K paid at the hit: the continuously
+// monitored barrier of the Monte Carlo against the closed form.
+func TestMonteCarloBarrierClosedForm(t *testing.T) {
+	for i, c := range []struct {
+		spot, strike, T, r, q, vol, mult float64
+	}{
+		{50, 50, 10, 0.05, 0.025, 0.35, 3},
+		{12, 12, 10, 0.04, 0, 0.55, 2.5},
+		{40, 50, 5, 0.03, 0.01, 0.30, 1.5},
+	} {
+		mkt := Market{Spot: c.spot, VolAnnual: c.vol, DividendYield: c.q, Curve: FlatCurve(c.r)}
+		terms := Terms{Strike: c.strike, YearsToExpiry: c.T, ExerciseMultiple: c.mult}
+		H := c.mult * c.strike
+		want := upOutCallRebate(c.spot, c.strike, H, H-c.strike, c.T, c.r, c.q, c.vol)
+		mcCheck(t, "vested, multiple only", terms, mkt, MCOptions{Paths: 40000, StepsPerYear: 52, Seed: uint64(20 + i)}, want, 0)
+	}
+}
+
+func TestMonteCarloReproducible(t *testing.T) {
+	terms := Terms{Strike: 50, YearsToExpiry: 10, YearsToVest: 3, ExerciseMultiple: 3, ExitRate: 0.1}
+	mkt := Market{Spot: 50, VolAnnual: 0.35, DividendYield: 0.025, Curve: FlatCurve(0.05)}
+	o := MCOptions{Paths: 2000, StepsPerYear: 12, Seed: 42}
+	a, _ := MonteCarlo(terms, mkt, o)
+	b, _ := MonteCarlo(terms, mkt, o)
+	if a != b {
+		t.Errorf("same seed, different results: %+v, %+v", a, b)
+	}
+	o.Seed = 43
+	c, _ := MonteCarlo(terms, mkt, o)
+	if c.Value == a.Value {
+		t.Errorf("seeds 42 and 43 gave the same value %v", a.Value)
+	}
+	if a.Steps != 2000 || a.Method != MethodMC || !(a.ErrorEstimate > 0) {
+		t.Errorf("result %+v: want steps 2000, method mc, a positive error estimate", a)
+	}
+}
+
+func TestMonteCarloErrors(t *testing.T) {
+	mkt := Market{Spot: 50, VolAnnual: 0.35, Curve: FlatCurve(0.05)}
+	for _, c := range []struct {
+		terms Terms
+		o     MCOptions
+	}{
+		{Terms{Strike: 50, YearsToExpiry: 10, Rational: true}, MCOptions{}},
+		{Terms{Strike: 50, YearsToExpiry: 10, ExerciseMultiple: 1}, MCOptions{}},
+		{Terms{Strike: 50, YearsToExpiry: 10, ExerciseMultiple: 0.5}, MCOptions{}},
+		{Terms{Strike: 50, YearsToExpiry: 10, ExerciseMultiple: -2}, MCOptions{}},
+		{Terms{Strike: 50, YearsToExpiry: 10, ExitRate: 1}, MCOptions{}},
+		{Terms{Strike: 50, YearsToExpiry: 10, ExitRate: -0.1}, MCOptions{}},
+		{Terms{Strike: 50, YearsToExpiry: 10, YearsToVest: 11}, MCOptions{}},
+		{Terms{Strike: 50, YearsToExpiry: 10}, MCOptions{Paths: 1}},
+		{Terms{Strike: 50, YearsToExpiry: 10}, MCOptions{StepsPerYear: -1}},
+	} {
+		if _, err := MonteCarlo(c.terms, mkt, c.o); err == nil {
+			t.Errorf("MonteCarlo(%+v, %+v) gave no error", c.terms, c.o)
+		}
+	}
+}
+
+func BenchmarkMonteCarlo(b *testing.B) {
+	b.ReportAllocs()
+	terms := Terms{Strike: 50, YearsToExpiry: 10, YearsToVest: 3, ExerciseMultiple: 3, ExitRate: 0.1}
+	mkt := Market{Spot: 50, VolAnnual: 0.35, DividendYield: 0.025, Curve: FlatCurve(0.05)}
+	for b.Loop() {
+		r, _ := MonteCarlo(terms, mkt, MCOptions{Paths: 10000, StepsPerYear: 52, Seed: 1})
+		benchSink += r.Value
+	}
+}

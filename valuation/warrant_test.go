@@ -1,0 +1,71 @@
+package valuation
+
+import (
+	"math"
+	"testing"
+)
+
+// Hull, Options, Futures, and Other Derivatives, the warrants example (from
+// memory; DESIGN §6): 1,000,000 shares at 40, a new issue of 200,000
+// warrants, strike 60, 5 years, r = 0.03, σ = 0.30, no dividends: call
+// 7.04, warrant 7.04/1.2 = 5.87.
+func TestWarrantHullNewIssue(t *testing.T) {
+	const tol = 0.005 // published to 2 decimals
+	terms := Terms{Strike: 60, YearsToExpiry: 5, European: true}
+	mkt := Market{Spot: 40, VolAnnual: 0.30, Curve: FlatCurve(0.03)}
+	call, err := BlackScholes(terms, mkt)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if math.Abs(call.Value-7.04) > tol {
+		t.Errorf("Hull warrant example call: got %.5f, want 7.04, tol %g", call.Value, tol)
+	}
+	r, err := EuropeanWarrant(terms, mkt, Dilution{SharesOutstanding: 1e6, Warrants: 2e5})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if math.Abs(r.Value-5.87) > tol {
+		t.Errorf("Hull warrant example: got %.5f, want 5.87, tol %g", r.Value, tol)
+	}
+	if math.Abs(r.Value-call.Value/1.2) > 1e-12 {
+		t.Errorf("new-issue warrant %v is not call/1.2 = %v", r.Value, call.Value/1.2)
+	}
+}
+
+// Galai-Schneller: the solved w satisfies its fixed point, exceeds the
+// new-issue value (the call is taken on a larger equity per share) and
+// falls back to it as the warrant count goes to 0.
+func TestWarrantGalaiSchneller(t *testing.T) {
+	const tol = 1e-10 // fixed-point residual relative to the spot
+	terms := Terms{Strike: 60, YearsToExpiry: 5, European: true}
+	mkt := Market{Spot: 40, VolAnnual: 0.30, Curve: FlatCurve(0.03)}
+	for _, w := range []float64{1, 1e4, 2e5, 1e6, 5e6} {
+		d := Dilution{SharesOutstanding: 1e6, Warrants: w, PriceReflectsWarrants: true}
+		gs, err := EuropeanWarrant(terms, mkt, d)
+		if err != nil {
+			t.Fatal(err)
+		}
+		shifted := mkt
+		shifted.Spot = 40 + w/1e6*gs.Value
+		c, _ := BlackScholes(terms, shifted)
+		if res := gs.Value - d.Factor()*c.Value; math.Abs(res) > tol*40 {
+			t.Errorf("W=%v: fixed point residual %g (w %v)", w, res, gs.Value)
+		}
+		d.PriceReflectsWarrants = false
+		plain, _ := EuropeanWarrant(terms, mkt, d)
+		if !(gs.Value > plain.Value) {
+			t.Errorf("W=%v: Galai-Schneller %v not above new-issue value %v", w, gs.Value, plain.Value)
+		}
+		if w == 1 && math.Abs(gs.Value-plain.Value) > 1e-5 {
+			t.Errorf("W=1: Galai-Schneller %v far from new-issue value %v", gs.Value, plain.Value)
+		}
+	}
+}
+
+func TestDilutionCheck(t *testing.T) {
+	for _, d := range []Dilution{{0, 1, false}, {-5, 1, true}, {10, -1, false}, {math.Inf(1), 1, false}, {10, math.NaN(), true}} {
+		if _, _, err := DilutedValue(d, 10, func(float64) (float64, error) { return 1, nil }); err == nil {
+			t.Errorf("DilutedValue with %+v gave no error", d)
+		}
+	}
+}
