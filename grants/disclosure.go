@@ -401,7 +401,7 @@ func warrantRow(l *awardLedger, end time.Time, price float64) (WarrantRow, bool)
 		}
 		v := t.FairValue
 		if l.liability {
-			v = l.fairValueAt(i, end)
+			v = l.fairValueAt(i, dn(end))
 		}
 		fv += float64(n) * v
 	}

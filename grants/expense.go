@@ -50,14 +50,15 @@ package grants
 //
 // # Events
 //
-// Forfeited shares come out of the unvested tranches, latest vest date first
-// (a termination forfeits them all); shares beyond the unvested ones come out
-// of vested shares and reverse nothing. Exercised and expired shares come out
-// of vested shares, earliest vest date first, and change counts but not cost.
-// Cancelled shares (a cancellation without a replacement award) come out of
-// unvested tranches first, latest first: their remaining unrecognised cost is
-// recognised in full on the cancellation date (ASC 718-20-35-9, IFRS 2.28(a);
-// from memory). Options and warrants still outstanding at the end of their
+// Forfeited shares come out of the unvested tranches, soonest vest date
+// first, as Schedule.Tranches takes them (a termination forfeits them all);
+// shares beyond the unvested ones come out of vested shares, latest first,
+// and reverse nothing. Exercised and expired shares come out of vested
+// shares, earliest vest date first, and change counts but not cost.
+// Cancelled shares (a cancellation without a replacement award) are taken
+// the same way as forfeited ones; on unvested shares their remaining
+// unrecognised cost is recognised in full on the cancellation date
+// (ASC 718-20-35-9, IFRS 2.28(a); from memory). Options and warrants still outstanding at the end of their
 // expiry date expire then.
 //
 // # Liability-classified warrants
@@ -280,6 +281,7 @@ func (e *EventError) Unwrap() error { return ErrEvent }
 // move is an event applied to one tranche.
 type move struct {
 	date   time.Time
+	dayN   int // dn(date)
 	kind   EventKind
 	shares int64
 	vested bool // the tranche was vested on the day of the move
@@ -289,8 +291,10 @@ type trancheLedger struct {
 	TrancheCost
 	start time.Time // service start
 	days  int       // service days
-	p     float64   // expected share at vest
-	moves []move
+	// day numbers (dn) of the service start and the vest date
+	startN, vestN int
+	p             float64 // expected share at vest
+	moves         []move
 }
 
 type awardLedger struct {
@@ -301,10 +305,20 @@ type awardLedger struct {
 	days      int
 	tr        []trancheLedger
 	remeas    []Remeasurement // sorted by date
+	remeasN   []int           // their day numbers
+	// day numbers of the grant date and the service start
+	grantN, startN int
 }
 
 // onOrBefore reports a <= b by calendar day.
-func onOrBefore(a, b time.Time) bool { return valuation.Days(a, b) >= 0 }
+func onOrBefore(a, b time.Time) bool { return dn(a) <= dn(b) }
+
+// dn is the day number of t's calendar day (days since 1970-01-01), so
+// that the inner loops compare and subtract integers. dn(b) − dn(a) equals
+// valuation.Days(a, b).
+func dn(t time.Time) int {
+	return int(time.Date(t.Year(), t.Month(), t.Day(), 0, 0, 0, 0, time.UTC).Unix() / 86400)
+}
 
 func addDays(t time.Time, n int) time.Time { return t.AddDate(0, 0, n) }
 
@@ -350,8 +364,8 @@ func ledger(a *AwardCost, pol ExpensePolicy, asOf time.Time) (*awardLedger, erro
 		if !g.ExpiryDate.IsZero() && tc.Tranche.VestDate.After(g.ExpiryDate) {
 			return nil, fmt.Errorf("grant %s tranche %d: vests %s, after expiry %s", g.ID, tc.Tranche.Index, tc.Tranche.VestDate.Format(time.DateOnly), g.ExpiryDate.Format(time.DateOnly))
 		}
-		t := trancheLedger{TrancheCost: tc, start: l.start}
-		t.days = valuation.Days(t.start, tc.Tranche.VestDate)
+		t := trancheLedger{TrancheCost: tc, start: l.start, startN: dn(l.start), vestN: dn(tc.Tranche.VestDate)}
+		t.days = t.vestN - t.startN
 		t.p = 1
 		if pol.Forfeitures == Estimate {
 			t.p = ExpectedShare(pol.PreVestingForfeitureRate, t.start, tc.Tranche.VestDate)
@@ -360,6 +374,7 @@ func ledger(a *AwardCost, pol ExpensePolicy, asOf time.Time) (*awardLedger, erro
 	}
 	l.last = a.Tranches[len(a.Tranches)-1].Tranche.VestDate
 	l.days = valuation.Days(l.start, l.last)
+	l.grantN, l.startN = dn(g.GrantDate), dn(l.start)
 	if len(a.Remeasurements) > 0 && !l.liability {
 		return nil, fmt.Errorf("grant %s: remeasurements given but it is not a liability-classified warrant", g.ID)
 	}
@@ -374,7 +389,10 @@ func ledger(a *AwardCost, pol ExpensePolicy, asOf time.Time) (*awardLedger, erro
 		}
 		l.remeas = append(l.remeas, r)
 	}
-	sort.SliceStable(l.remeas, func(i, j int) bool { return l.remeas[i].Date.Before(l.remeas[j].Date) })
+	sort.SliceStable(l.remeas, func(i, j int) bool { return dn(l.remeas[i].Date) < dn(l.remeas[j].Date) })
+	for _, r := range l.remeas {
+		l.remeasN = append(l.remeasN, dn(r.Date))
+	}
 
 	evs := make([]Event, 0, len(a.Events))
 	for _, e := range a.Events {
@@ -394,7 +412,7 @@ func ledger(a *AwardCost, pol ExpensePolicy, asOf time.Time) (*awardLedger, erro
 	if !g.ExpiryDate.IsZero() && onOrBefore(g.ExpiryDate, asOf) && g.Instrument != RSU {
 		for i := range l.tr {
 			if n := l.tr[i].open(); n > 0 {
-				l.tr[i].moves = append(l.tr[i].moves, move{date: g.ExpiryDate, kind: Expired, shares: n, vested: true})
+				l.tr[i].moves = append(l.tr[i].moves, move{date: g.ExpiryDate, dayN: dn(g.ExpiryDate), kind: Expired, shares: n, vested: true})
 			}
 		}
 	}
@@ -409,7 +427,9 @@ func (t *trancheLedger) open() int64 {
 	return n
 }
 
-func (t *trancheLedger) vestedOn(d time.Time) bool { return onOrBefore(t.Tranche.VestDate, d) }
+func (t *trancheLedger) vestedOn(d time.Time) bool { return t.vestN <= dn(d) }
+
+func (t *trancheLedger) vestedN(d int) bool { return t.vestN <= d }
 
 // apply allocates one event's shares to tranches.
 func (l *awardLedger) apply(e Event) error {
@@ -439,7 +459,7 @@ func (l *awardLedger) apply(e Event) error {
 		t := &l.tr[i]
 		n := min(t.open(), left)
 		if n > 0 {
-			t.moves = append(t.moves, move{date: e.Date, kind: e.Kind, shares: n, vested: t.vestedOn(e.Date)})
+			t.moves = append(t.moves, move{date: e.Date, dayN: dn(e.Date), kind: e.Kind, shares: n, vested: t.vestedOn(e.Date)})
 			left -= n
 		}
 	}
@@ -448,7 +468,7 @@ func (l *awardLedger) apply(e Event) error {
 		if e.Shares > unvested+vested {
 			return fail("%s %d shares but only %d are outstanding", e.Kind, e.Shares, unvested+vested)
 		}
-		for i := len(l.tr) - 1; i >= 0 && left > 0; i-- {
+		for i := 0; i < len(l.tr) && left > 0; i++ {
 			if !l.tr[i].vestedOn(e.Date) {
 				take(i)
 			}
@@ -480,10 +500,12 @@ type trancheCounts struct {
 	exercised   int64
 }
 
-func (t *trancheLedger) countsAt(d time.Time) trancheCounts {
+func (t *trancheLedger) countsAt(d time.Time) trancheCounts { return t.countsN(dn(d)) }
+
+func (t *trancheLedger) countsN(d int) trancheCounts {
 	c := trancheCounts{open: t.Tranche.Shares}
 	for _, m := range t.moves {
-		if !onOrBefore(m.date, d) {
+		if m.dayN > d {
 			continue
 		}
 		c.open -= m.shares
@@ -502,10 +524,10 @@ func (t *trancheLedger) countsAt(d time.Time) trancheCounts {
 // live is the shares whose cost still accrues by the attribution rule.
 func (c trancheCounts) live(total int64) int64 { return total - c.reversed - c.accelerated }
 
-// fraction is the share of a service period of days days from start that is
-// rendered through the end of day d.
-func fraction(start time.Time, days int, d time.Time) float64 {
-	done := valuation.Days(start, addDays(d, 1))
+// fraction is the share of a service period of days days from day start
+// that is rendered through the end of day d.
+func fraction(start, days, d int) float64 {
+	done := d + 1 - start
 	if done <= 0 {
 		return 0
 	}
@@ -519,26 +541,23 @@ func fraction(start time.Time, days int, d time.Time) float64 {
 // the policy through the end of day d, writing each tranche's cumulative
 // cost into out. Tranches vested on or before known count in full; the
 // others at their expected share.
-func (l *awardLedger) attribute(pol ExpensePolicy, value []float64, d, known time.Time, out []float64) {
-	if valuation.Days(l.in.Grant.GrantDate, d) < 0 {
+func (l *awardLedger) attribute(pol ExpensePolicy, value []float64, d, known int, out []float64) {
+	if d < l.grantN {
 		for i := range out {
 			out[i] = 0
 		}
 		return
 	}
-	kd := d
-	if known.Before(d) {
-		kd = known
-	}
+	kd := min(d, known)
 	q := func(i int) float64 {
-		if l.tr[i].vestedOn(kd) {
+		if l.tr[i].vestedN(kd) {
 			return 1
 		}
 		return l.tr[i].p
 	}
 	if pol.Attribution == Graded {
 		for i := range l.tr {
-			out[i] = value[i] * q(i) * fraction(l.tr[i].start, l.tr[i].days, d)
+			out[i] = value[i] * q(i) * fraction(l.tr[i].startN, l.tr[i].days, d)
 		}
 		return
 	}
@@ -546,18 +565,18 @@ func (l *awardLedger) attribute(pol ExpensePolicy, value []float64, d, known tim
 	for i := range l.tr {
 		v := value[i] * q(i)
 		total += v
-		if l.tr[i].vestedOn(d) {
+		if l.tr[i].vestedN(d) {
 			floor += v
 		} else {
 			unvested += v
 		}
 	}
-	cum := math.Max(total*fraction(l.start, l.days, d), floor)
+	cum := math.Max(total*fraction(l.startN, l.days, d), floor)
 	rest := cum - floor
 	for i := range l.tr {
 		v := value[i] * q(i)
 		switch {
-		case l.tr[i].vestedOn(d):
+		case l.tr[i].vestedN(d):
 			out[i] = v
 		case unvested > 0:
 			out[i] = rest * v / unvested
@@ -568,10 +587,10 @@ func (l *awardLedger) attribute(pol ExpensePolicy, value []float64, d, known tim
 }
 
 // fairValueAt is the latest liability fair value of tranche i on day d.
-func (l *awardLedger) fairValueAt(i int, d time.Time) float64 {
+func (l *awardLedger) fairValueAt(i int, d int) float64 {
 	fv := l.tr[i].FairValue
-	for _, r := range l.remeas {
-		if onOrBefore(r.Date, d) {
+	for k, r := range l.remeas {
+		if l.remeasN[k] <= d {
 			fv = r.FairValue[i]
 		}
 	}
@@ -596,13 +615,14 @@ func (s snapshot) compTotal() float64 {
 // fvChange is the cumulative change in fair value of a liability warrant.
 func (s snapshot) fvChange() float64 { return s.liability + s.settled - s.compTotal() }
 
-func (l *awardLedger) at(pol ExpensePolicy, d, known time.Time) snapshot {
+func (l *awardLedger) at(pol ExpensePolicy, dt, knownt time.Time) snapshot {
+	d, known := dn(dt), dn(knownt)
 	n := len(l.tr)
 	s := snapshot{comp: make([]float64, n)}
 	value := make([]float64, n)
 	counts := make([]trancheCounts, n)
 	for i := range l.tr {
-		counts[i] = l.tr[i].countsAt(d)
+		counts[i] = l.tr[i].countsN(d)
 		value[i] = l.tr[i].FairValue * float64(counts[i].live(l.tr[i].Tranche.Shares))
 	}
 	l.attribute(pol, value, d, known, s.comp)
@@ -615,8 +635,8 @@ func (l *awardLedger) at(pol ExpensePolicy, d, known time.Time) snapshot {
 	for i := range l.tr {
 		value[i] = l.fairValueAt(i, d) * float64(counts[i].open)
 		for _, m := range l.tr[i].moves {
-			if m.kind == Exercised && onOrBefore(m.date, d) {
-				s.settled += l.fairValueAt(i, m.date) * float64(m.shares)
+			if m.kind == Exercised && m.dayN <= d {
+				s.settled += l.fairValueAt(i, m.dayN) * float64(m.shares)
 			}
 		}
 	}
