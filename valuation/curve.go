@@ -112,10 +112,21 @@ func (c *Curve) Discount(t float64) float64 {
 }
 
 // Forward is the continuous forward rate over [t1, t2]:
-// (z(t2)·t2 − z(t1)·t1)/(t2 − t1). For t1 == t2 it is the zero rate there.
+// (z(t2)·t2 − z(t1)·t1)/(t2 − t1). For t1 == t2 it is the instantaneous
+// forward d(z·t)/dt = z(t) + t·z′(t), taking the slope to the right of a
+// quoted tenor.
 func (c *Curve) Forward(t1, t2 float64) float64 {
 	if t2 == t1 {
-		return c.Zero(t1)
+		n := len(c.tenors)
+		if t1 < c.tenors[0] || t1 >= c.tenors[n-1] {
+			return c.Zero(t1)
+		}
+		i := sort.SearchFloat64s(c.tenors, t1) // tenors[i-1] < t1 <= tenors[i]
+		if c.tenors[i] == t1 {
+			i++ // right slope at a quoted tenor
+		}
+		slope := (c.zeros[i] - c.zeros[i-1]) / (c.tenors[i] - c.tenors[i-1])
+		return c.Zero(t1) + t1*slope
 	}
 	return (c.Zero(t2)*t2 - c.Zero(t1)*t1) / (t2 - t1)
 }

@@ -1,0 +1,152 @@
+package valuation
+
+import "math"
+
+// fdEmployee is the independent reference for the employee-option lattice: a
+// Crank-Nicolson finite-difference solution, in log price, of the
+// continuous-time model the lattice discretises (DESIGN §3):
+//
+//	V_τ = ½σ²V_xx + (r − q − ½σ²)V_x − rV + 1{vested}·λ·((S−K)⁺ − V),
+//
+// with V = S − K on S ≥ M·K after vesting (the exercise multiple as a
+// Dirichlet boundary placed exactly on a grid line), max(V, S − K) after
+// each step under rational exercise, (S−K)⁺ at expiry, and pure diffusion
+// before vesting. Rannacher start-up (four implicit half steps) at expiry and
+// at the vest date damps the kinks. It shares nothing with the tree: no
+// binomial probabilities, no node levels, a different discretisation in both
+// time and space, so agreement of the two checks both.
+//
+// nx is about the number of space steps per unit of log price, nt the
+// time steps per year.
+func fdEmployee(tm Terms, mk Market, nx, nt int) float64 {
+	T, V := tm.YearsToExpiry, tm.YearsToVest
+	K, S0, sig, q := tm.Strike, mk.Spot, mk.VolAnnual, mk.DividendYield
+	lambda := -math.Log(1 - tm.ExitRate)
+	x0 := math.Log(S0)
+	span := 8 * sig * math.Sqrt(T)
+	dx := 1 / float64(nx)
+	hasBar := tm.ExerciseMultiple > 0
+	xH := math.Inf(1)
+	if hasBar {
+		xH = math.Log(tm.ExerciseMultiple * K)
+		if d := math.Abs(xH - x0); d > dx {
+			dx = d / math.Round(d/dx)
+		}
+	}
+	j0 := int(math.Ceil(span / dx))
+	top := x0 + span
+	if hasBar {
+		top = math.Max(top, xH+3*sig*math.Sqrt(T))
+	}
+	J := j0 + int(math.Ceil((top-x0)/dx))
+	xs := make([]float64, J+1)
+	S := make([]float64, J+1)
+	for j := range xs {
+		xs[j] = x0 + float64(j-j0)*dx
+		S[j] = math.Exp(xs[j])
+	}
+	jH := J + 1
+	if hasBar {
+		jH = j0 + int(math.Round((xH-x0)/dx))
+	}
+	val := make([]float64, J+1)
+	for j := range val {
+		val[j] = math.Max(S[j]-K, 0)
+	}
+	// time grid: vest date on a grid line
+	n2 := max(1, int(math.Ceil((T-V)*float64(nt))))
+	n1 := int(math.Ceil(V * float64(nt)))
+	times := []float64{} // calendar times, descending from T
+	for k := 0; k <= n2; k++ {
+		times = append(times, T-(T-V)*float64(k)/float64(n2))
+	}
+	for k := 1; k <= n1; k++ {
+		times = append(times, V-V*float64(k)/float64(n1))
+	}
+	a := make([]float64, J+1)
+	b := make([]float64, J+1)
+	c := make([]float64, J+1)
+	rhs := make([]float64, J+1)
+	cp := make([]float64, J+1)
+	dp := make([]float64, J+1)
+	rannacher := 0
+	var step func(t1, t0 float64, theta float64, vested bool)
+	step = func(t1, t0 float64, theta float64, vested bool) {
+		dt := t1 - t0
+		r := mk.Curve.Forward(t0, t1)
+		mu := r - q - 0.5*sig*sig
+		lam := 0.0
+		if vested {
+			lam = lambda
+		}
+		// L V_j = α V_{j−1} + β V_j + γ V_{j+1} + src_j
+		al := 0.5*sig*sig/(dx*dx) - mu/(2*dx)
+		ga := 0.5*sig*sig/(dx*dx) + mu/(2*dx)
+		be := -sig*sig/(dx*dx) - r - lam
+		hi := J
+		if vested && hasBar {
+			hi = min(jH, J)
+		}
+		// boundary values at the new time level
+		tau := T - t0
+		lowV := 0.0
+		var highV float64
+		if vested && hasBar && jH <= J {
+			highV = S[hi] - K
+		} else {
+			highV = S[hi]*math.Exp(-q*tau) - K*mk.Curve.Discount(T)/mk.Curve.Discount(t0)
+		}
+		for j := 1; j < hi; j++ {
+			src := lam * math.Max(S[j]-K, 0)
+			ex := al*val[j-1] + be*val[j] + ga*val[j+1] + src
+			rhs[j] = val[j] + (1-theta)*dt*ex + theta*dt*src
+			a[j] = -theta * dt * al
+			b[j] = 1 - theta*dt*be
+			c[j] = -theta * dt * ga
+		}
+		rhs[1] -= a[1] * lowV
+		rhs[hi-1] -= c[hi-1] * highV
+		// Thomas algorithm on 1..hi−1
+		cp[1] = c[1] / b[1]
+		dp[1] = rhs[1] / b[1]
+		for j := 2; j < hi; j++ {
+			m := b[j] - a[j]*cp[j-1]
+			cp[j] = c[j] / m
+			dp[j] = (rhs[j] - a[j]*dp[j-1]) / m
+		}
+		val[hi-1] = dp[hi-1]
+		for j := hi - 2; j >= 1; j-- {
+			val[j] = dp[j] - cp[j]*val[j+1]
+		}
+		val[0], val[hi] = lowV, highV
+		if vested && hasBar {
+			for j := hi; j <= J; j++ {
+				val[j] = S[j] - K
+			}
+		}
+		if vested && tm.Rational {
+			for j := range val {
+				val[j] = math.Max(val[j], S[j]-K)
+			}
+		}
+	}
+	for k := 1; k < len(times); k++ {
+		t1, t0 := times[k-1], times[k]
+		vested := t0 >= V-1e-12 && !(V == T)
+		if k == 1 || (k == n2+1) {
+			rannacher = 4
+		}
+		if rannacher > 0 {
+			rannacher--
+			tm := 0.5 * (t1 + t0)
+			step(t1, tm, 1, vested)
+			step(tm, t0, 1, vested)
+			continue
+		}
+		step(t1, t0, 0.5, vested)
+	}
+	if hasBar && V == 0 && S0 >= tm.ExerciseMultiple*K {
+		return S0 - K
+	}
+	return val[j0]
+}
