@@ -13,7 +13,7 @@ var sinkReport *ExpenseReport
 func BenchmarkExpenseLedger(b *testing.B) {
 	var awards []AwardCost
 	for i := 0; i < 10000; i++ {
-		g := date("2022-01-01").AddDate(0, 0, i%1800)
+		g := ymd("2022-01-01").AddDate(0, 0, i%1800)
 		a := AwardCost{Grant: Grant{ID: fmt.Sprintf("B%05d", i), Instrument: Option, GrantDate: g, VestStart: g, ExpiryDate: g.AddDate(10, 0, 0), Strike: 5}}
 		for k := 1; k <= 48; k++ {
 			a.Tranches = append(a.Tranches, TrancheCost{Tranche: Tranche{GrantID: a.Grant.ID, Index: k, VestDate: g.AddDate(0, k, 0), Shares: 100}, FairValue: 3})
@@ -26,7 +26,7 @@ func BenchmarkExpenseLedger(b *testing.B) {
 	pol := ExpensePolicy{Attribution: Graded, Forfeitures: Estimate, PreVestingForfeitureRate: 0.1}
 	b.ReportAllocs()
 	for b.Loop() {
-		r, err := Expense(awards, pol, date("2026-10-01"), date("2026-12-31"))
+		r, err := Expense(awards, pol, ymd("2026-10-01"), ymd("2026-12-31"))
 		if err != nil {
 			b.Fatal(err)
 		}
