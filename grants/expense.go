@@ -50,7 +50,7 @@ package grants
 //
 // # Events
 //
-// Forfeited shares come out of the unvested tranches, soonest vest date
+// Forfeited shares come out of the unvested tranches, latest vest date
 // first, as Schedule.Tranches takes them (a termination forfeits them all);
 // shares beyond the unvested ones come out of vested shares, latest first,
 // and reverse nothing. Exercised and expired shares come out of vested
@@ -471,7 +471,7 @@ func (l *awardLedger) apply(e Event) error {
 		if e.Shares > unvested+vested {
 			return fail("%s %d shares but only %d are outstanding", e.Kind, e.Shares, unvested+vested)
 		}
-		for i := 0; i < len(l.tr) && left > 0; i++ {
+		for i := len(l.tr) - 1; i >= 0 && left > 0; i-- {
 			if !l.tr[i].vestedOn(e.Date) {
 				take(i)
 			}

@@ -231,19 +231,19 @@ func TestTermination(t *testing.T) {
 }
 
 // Rule (ours, matching Schedule.Tranches): a partial forfeiture comes out of
-// the unvested tranche that vests soonest. The four-tranche award at 10,
-// 1,500 forfeited on 2030-06-30 as-occur: tranche 2 loses all 1,000 and
+// the unvested tranches that vest latest. The four-tranche award at 10,
+// 1,500 forfeited on 2030-06-30 as-occur: tranche 4 loses all 1,000 and
 // tranche 3 500; cumulative through 2030-06-30 (546 service days) is
-// 10000 + 0 + 5000·546/1095 + 10000·546/1461.
-func TestPartialForfeitureSoonestFirst(t *testing.T) {
+// 10000 + 10000·546/730 + 5000·546/1095 + 0.
+func TestPartialForfeitureLatestFirst(t *testing.T) {
 	a := testAward("P", Option, "2029-01-01",
 		[]string{"2030-01-01", "2031-01-01", "2032-01-01", "2033-01-01"},
 		[]int64{1000, 1000, 1000, 1000}, []float64{10, 10, 10, 10})
 	a.Events = []Event{{GrantID: "P", Date: ymd("2030-06-30"), Kind: Forfeited, Shares: 1500}}
 	r := mustExpense(t, []AwardCost{a}, ExpensePolicy{Forfeitures: AsOccur}, "2030-04-01", "2030-06-30")
-	nearly(t, "cumulative", r.Cumulative, 10000+5000.0*546/1095+10000.0*546/1461, tolMoney)
-	if got := r.Grants[0].Tranches[1].SharesCounted; got != 0 {
-		t.Errorf("tranche 2 counts %v shares, want 0", got)
+	nearly(t, "cumulative", r.Cumulative, 10000+10000.0*546/730+5000.0*546/1095, tolMoney)
+	if got := r.Grants[0].Tranches[3].SharesCounted; got != 0 {
+		t.Errorf("tranche 4 counts %v shares, want 0", got)
 	}
 }
 
