@@ -1,8 +1,7 @@
 // Command gen writes grantworth's demo schedule: Tarnwick Labs, Inc., an
 // invented company, with about forty grants from late 2023 to its valuation
 // date of 2026-09-30, as sample/tarnwick.xlsx and as the CSV folder
-// sample/tarnwick-csv/, plus invented peer price histories in
-// sample/peers/ for `grantworth vol`. Everything is made up; the random
+// sample/tarnwick-csv/. Everything is made up; the random
 // choices come from a fixed seed, so the files are the same on every run.
 //
 // Run it from the repository root:
@@ -26,13 +25,11 @@ package main
 
 import (
 	"bytes"
-	"encoding/csv"
 	"fmt"
 	"math"
 	"math/rand/v2"
 	"os"
 	"path/filepath"
-	"strconv"
 	"time"
 
 	"grantworth/grants"
@@ -60,7 +57,7 @@ func Schedule() *grants.Schedule {
 			Volatility: 0.52, DividendYield: 0, ExerciseMultiple: 2.2, PostVestingExitRate: 0.12, PreVestingForfeitureRate: 0.10,
 			Attribution: grants.Graded, Forfeitures: grants.Estimate,
 			Sources: map[string]string{
-				"volatility":                  "median of 5 guideline peers' daily log-return volatility over 6 years to 2026-09-30 (grantworth vol sample/peers)",
+				"volatility":                  "median of 5 peers' daily log-return volatility over 6.1 years to 2026-09-30 (grantworth vol sample/peers/*.csv, guideline peers)",
 				"dividend_yield":              "no dividends paid or planned (board resolution of 2023-11-14)",
 				"exercise_multiple":           "Tarnwick exercise history 2019-2026: early exercises at a median 2.2 times strike",
 				"post_vesting_exit_rate":      "Tarnwick HR: 12% a year of vested holders left, 2021-2026",
@@ -190,36 +187,6 @@ func Schedule() *grants.Schedule {
 	return s
 }
 
-// peers writes invented daily closing prices (geometric Brownian motion)
-// of five guideline companies for six and a half years of weekdays to the
-// valuation date.
-func peers(dir string) error {
-	rng := rand.New(rand.NewPCG(seed, 2))
-	names := []string{"alderbank", "brindlework", "corvane", "dunmere", "estoric"}
-	vols := []float64{0.44, 0.58, 0.49, 0.61, 0.53}
-	end := day("2026-09-30")
-	first := end.AddDate(-6, -6, 0)
-	for i, name := range names {
-		var buf bytes.Buffer
-		w := csv.NewWriter(&buf)
-		w.Write([]string{"date", "close"})
-		p := 20 + 30*rng.Float64()
-		dt := 1.0 / 252
-		for t := first; !t.After(end); t = t.AddDate(0, 0, 1) {
-			if wd := t.Weekday(); wd == time.Saturday || wd == time.Sunday {
-				continue
-			}
-			p *= math.Exp((0.06-vols[i]*vols[i]/2)*dt + vols[i]*math.Sqrt(dt)*rng.NormFloat64())
-			w.Write([]string{t.Format(time.DateOnly), strconv.FormatFloat(math.Round(p*100)/100, 'f', 2, 64)})
-		}
-		w.Flush()
-		if err := os.WriteFile(filepath.Join(dir, name+".csv"), buf.Bytes(), 0o644); err != nil {
-			return err
-		}
-	}
-	return nil
-}
-
 func main() {
 	if err := run("sample"); err != nil {
 		fmt.Fprintln(os.Stderr, "gen:", err)
@@ -243,9 +210,5 @@ func run(dir string) error {
 	if err := grants.WriteCSVDir(csvDir, s); err != nil {
 		return err
 	}
-	peerDir := filepath.Join(dir, "peers")
-	if err := os.MkdirAll(peerDir, 0o755); err != nil {
-		return err
-	}
-	return peers(peerDir)
+	return nil
 }
