@@ -148,7 +148,7 @@ func (p *pipeline) valueSet(vs []*valued, sh shift, progress func(done, total in
 			for k, t := range terms {
 				var err error
 				if d := p.dilution(g); d != nil {
-					rs[k], err = warrantValue(t, m, *d, p.opts)
+					rs[k], err = valuation.WarrantValue(t, m, *d, p.opts)
 				} else {
 					tt := t
 					tt.Rational = tt.Rational || !tt.European
@@ -176,34 +176,6 @@ func (p *pipeline) valueSet(vs []*valued, sh shift, progress func(done, total in
 		out[jobOf[j]] = r.Tranches
 	}
 	return out, nil
-}
-
-// warrantValue is the value per warrant under dilution d: the lattice value
-// with rational exercise after vesting, diluted as valuation.DilutedValue
-// says. The error estimate is the lattice's times N/(N+W).
-func warrantValue(t valuation.Terms, m valuation.Market, d valuation.Dilution, o valuation.LatticeOptions) (valuation.Result, error) {
-	if t.European {
-		return valuation.EuropeanWarrant(t, m, d)
-	}
-	t.Rational = true
-	var last valuation.Result
-	w, at, err := valuation.DilutedValue(d, m.Spot, func(s float64) (float64, error) {
-		mm := m
-		mm.Spot = s
-		r, err := valuation.Lattice(t, mm, o)
-		last = r
-		return r.Value, err
-	})
-	if err != nil {
-		return valuation.Result{}, err
-	}
-	mm := m
-	mm.Spot = at
-	if last, err = valuation.Lattice(t, mm, o); err != nil {
-		return valuation.Result{}, err
-	}
-	return valuation.Result{Value: w, ErrorEstimate: d.Factor() * last.ErrorEstimate,
-		ExpectedTermYears: last.ExpectedTermYears, Steps: last.Steps, Method: valuation.MethodLattice}, nil
 }
 
 // buildModel values everything and fills the report Model.
