@@ -170,13 +170,13 @@ func (v *validator) rates() {
 			}
 		}
 		if par > 0 && other > 0 {
-			v.rep.errf(v.s.cell(SheetRates, "compounding", c.points[0].Row, nil), "compounding", c.points[0].Compounding, ErrInconsistent,
+			v.rep.errf(v.s.cell(SheetRates, "compounding", c.points[0].Row, nil), "compounding", "", ErrInconsistent,
 				"the curve of %s mixes par-semiannual yields with zero rates; give one or the other", isoDay(c.date))
 			continue
 		}
 		if v.rep.OK() {
 			if _, _, err := c.build(); err != nil {
-				v.rep.errf(v.s.cell(SheetRates, "curve_date", c.points[0].Row, nil), "curve_date", isoDay(c.date), ErrRange, "the curve of this date cannot be built: %v", err)
+				v.rep.errf(v.s.cell(SheetRates, "curve_date", c.points[0].Row, nil), "curve_date", isoDay(c.date), ErrRange, "cannot be made into a zero curve: %v", err)
 			}
 		}
 	}
@@ -267,7 +267,7 @@ func (v *validator) grants() {
 					v.rep.errf(s.cell(SheetVesting, "vest_date", last.Row, nil), "vest_date", isoDay(last.VestDate), ErrRange,
 						"is after the expiry %s of grant %s (%s)", isoDay(g.ExpiryDate), g.ID, ref("expiry_date").Cell)
 				} else {
-					v.rep.errf(ref("vest_months"), "vest_months", strconv.Itoa(g.VestMonths), ErrRange,
+					v.rep.errf(ref("vest_months"), "vest_months", "", ErrRange,
 						"vesting ends %s, after the expiry %s (%s)", isoDay(ts[n-1].VestDate), isoDay(g.ExpiryDate), ref("expiry_date").Cell)
 				}
 			}
@@ -310,7 +310,7 @@ func (v *validator) marketAt(g Grant, ref func(string) Ref) {
 	}
 	if g.Instrument != RSU {
 		if _, ok := s.curveAt(md); !ok {
-			v.rep.errf(ref("grant_date"), "grant_date", isoDay(g.GrantDate), ErrRequired,
+			v.rep.errf(ref("grant_date"), "grant_date", "", ErrRequired,
 				"no Rates curve is dated on or before the measurement date %s of grant %s", isoDay(md), g.ID)
 		}
 	}
@@ -352,7 +352,7 @@ func (v *validator) vesting() {
 		g, _ := s.Grant(id)
 		if su := sums[id]; su.shares != g.Shares {
 			first, last := su.rows[0], su.rows[len(su.rows)-1]
-			v.rep.errf(s.cell(SheetVesting, "shares", first, nil), "shares", strconv.FormatInt(su.shares, 10), ErrInconsistent,
+			v.rep.errf(s.cell(SheetVesting, "shares", first, nil), "shares", "", ErrInconsistent,
 				"the Vesting rows %d–%d of grant %s add up to %d shares, but the grant has %d (%s)",
 				first, last, id, su.shares, g.Shares, s.cell(SheetGrants, "shares", g.Row, g.Refs))
 		}

@@ -59,7 +59,7 @@ type priceHistory struct {
 	Lines  []int // file line of each point
 }
 
-func normHeader(s string) string {
+func priceNormHeader(s string) string {
 	s = strings.ToLower(strings.TrimSpace(strings.TrimPrefix(s, "\ufeff")))
 	return strings.NewReplacer(" ", "", "_", "").Replace(s)
 }
@@ -78,11 +78,11 @@ func parsePrices(r io.Reader, name string) (*priceHistory, error) {
 		return nil, fail(0, errPriceHeader, "the file is empty; want a header row with date and close")
 	}
 	if err != nil {
-		return nil, csvFail(name, err)
+		return nil, priceCSVFail(name, err)
 	}
 	iDate, iClose, iAdj := -1, -1, -1
 	for i, h := range header {
-		switch normHeader(h) {
+		switch priceNormHeader(h) {
 		case "date":
 			iDate = i
 		case "close":
@@ -106,7 +106,7 @@ func parsePrices(r io.Reader, name string) (*priceHistory, error) {
 			break
 		}
 		if err != nil {
-			return nil, csvFail(name, err)
+			return nil, priceCSVFail(name, err)
 		}
 		line, _ := cr.FieldPos(0)
 		if len(rec) == 1 && strings.TrimSpace(rec[0]) == "" {
@@ -153,7 +153,7 @@ func parsePrices(r io.Reader, name string) (*priceHistory, error) {
 	return h, nil
 }
 
-func csvFail(name string, err error) error {
+func priceCSVFail(name string, err error) error {
 	var pe *csv.ParseError
 	if errors.As(err, &pe) {
 		return &priceFileError{File: name, Line: pe.Line, Err: fmt.Errorf("%w: %v", errPriceValue, pe.Err)}

@@ -179,8 +179,8 @@ func runVol(opts *volOptions) error {
 	return nil
 }
 
-// commonLastDate is the latest date present in every history.
-func commonLastDate(hists []*priceHistory) (time.Time, bool) {
+// volCommonLastDate is the latest date present in every history.
+func volCommonLastDate(hists []*priceHistory) (time.Time, bool) {
 	count := map[time.Time]int{}
 	for _, h := range hists {
 		for _, p := range h.Points {
@@ -196,7 +196,7 @@ func commonLastDate(hists []*priceHistory) (time.Time, bool) {
 	return best, !best.IsZero()
 }
 
-func peerName(file string) string {
+func volPeerName(file string) string {
 	return strings.TrimSuffix(filepath.Base(file), filepath.Ext(file))
 }
 
@@ -204,7 +204,7 @@ func peerName(file string) string {
 func estimateVol(opts *volOptions, hists []*priceHistory) (*volReport, error) {
 	rep := &volReport{Frequency: opts.Frequency, AsOf: opts.AsOf, Proposed: opts.Propose}
 	if rep.AsOf.IsZero() {
-		d, ok := commonLastDate(hists)
+		d, ok := volCommonLastDate(hists)
 		if !ok {
 			return nil, badInput("the files share no date; give --as-of")
 		}
@@ -249,7 +249,7 @@ func estimateVol(opts *volOptions, hists []*priceHistory) (*volReport, error) {
 			rep.Warnings = append(rep.Warnings, fmt.Sprintf("%s: last price %s is %d days before the as-of date",
 				h.File, est.Last.Format(time.DateOnly), int(gap.Hours()/24)))
 		}
-		rep.Peers = append(rep.Peers, volPeer{Name: peerName(h.File), History: h, Est: est})
+		rep.Peers = append(rep.Peers, volPeer{Name: volPeerName(h.File), History: h, Est: est})
 		vols = append(vols, est.Annual)
 	}
 	rep.Summary = valuation.SummarizeVols(vols)
@@ -276,7 +276,7 @@ func (rep *volReport) why() string {
 	return "the median: with few peers one outlying company moves the mean, not the median (common practice)"
 }
 
-func pct(v float64) string { return fmt.Sprintf("%.2f%%", 100*v) }
+func volPct(v float64) string { return fmt.Sprintf("%.2f%%", 100*v) }
 
 func printVolTable(w io.Writer, rep *volReport) {
 	fmt.Fprintf(w, "Volatility from %d peers' %s log returns, annualised with %v %s a year\n",
@@ -286,7 +286,7 @@ func printVolTable(w io.Writer, rep *volReport) {
 	fmt.Fprintln(tw, "peer\tprice column\treturns\tfirst\tlast\tannual vol")
 	for _, p := range rep.Peers {
 		fmt.Fprintf(tw, "%s\t%s\t%d\t%s\t%s\t%s\n", p.Name, p.History.Column, p.Est.Observations,
-			p.Est.First.Format(time.DateOnly), p.Est.Last.Format(time.DateOnly), pct(p.Est.Annual))
+			p.Est.First.Format(time.DateOnly), p.Est.Last.Format(time.DateOnly), volPct(p.Est.Annual))
 	}
 	tw.Flush()
 	fmt.Fprintln(w)
@@ -297,11 +297,11 @@ func printVolTable(w io.Writer, rep *volReport) {
 		}
 		return ""
 	}
-	fmt.Fprintf(tw, "mean\t%s%s\n", pct(rep.Summary.Mean), mark("mean"))
-	fmt.Fprintf(tw, "median\t%s%s\n", pct(rep.Summary.Median), mark("median"))
-	fmt.Fprintf(tw, "trimmed mean\t%s%s\t(drops %d highest and %d lowest)\n", pct(rep.Summary.TrimmedMean), mark("trimmed-mean"), rep.Summary.Trimmed, rep.Summary.Trimmed)
+	fmt.Fprintf(tw, "mean\t%s%s\n", volPct(rep.Summary.Mean), mark("mean"))
+	fmt.Fprintf(tw, "median\t%s%s\n", volPct(rep.Summary.Median), mark("median"))
+	fmt.Fprintf(tw, "trimmed mean\t%s%s\t(drops %d highest and %d lowest)\n", volPct(rep.Summary.TrimmedMean), mark("trimmed-mean"), rep.Summary.Trimmed, rep.Summary.Trimmed)
 	tw.Flush()
-	fmt.Fprintf(w, "\nProposed volatility %s: %s.\nSource text: %s\n", pct(rep.Value), rep.why(), rep.Source)
+	fmt.Fprintf(w, "\nProposed volatility %s: %s.\nSource text: %s\n", volPct(rep.Value), rep.why(), rep.Source)
 	fmt.Fprintln(w, "\nAn estimate, not an audit opinion: defer to licensed auditors or valuation professionals\nand the accounting rules that apply to you (ASC 718, IFRS 2 or local rules).")
 }
 

@@ -13,7 +13,7 @@ import (
 	"grantworth/valuation"
 )
 
-func testIO() (*IO, *bytes.Buffer, *bytes.Buffer) {
+func volTestIO() (*IO, *bytes.Buffer, *bytes.Buffer) {
 	var out, errb bytes.Buffer
 	return &IO{In: strings.NewReader(""), Out: &out, Err: &errb}, &out, &errb
 }
@@ -43,7 +43,7 @@ func TestVolArgs(t *testing.T) {
 		{[]string{"a.csv", "--propose", "mode"}, nil, `--propose "mode"`},
 		{[]string{"a.csv", "--json", "--csv"}, nil, "--json and --csv"},
 	} {
-		ios, _, _ := testIO()
+		ios, _, _ := volTestIO()
 		var got *volOptions
 		cmd := newVolCmd(ios, func(o *volOptions) error { got = o; return nil })
 		cmd.SetArgs(c.argv)
@@ -87,9 +87,9 @@ func writeVolFixtures(t *testing.T) (dir string, files []string) {
 		}
 		prev = p
 		ds := day.Format(time.DateOnly)
-		a.WriteString(ds + "," + ftoa(p) + "\n")
-		b.WriteString(ds + ",999," + ftoa(3*p) + "\n")
-		c.WriteString(ds + "," + ftoa(cp) + "\n")
+		a.WriteString(ds + "," + volFtoa(p) + "\n")
+		b.WriteString(ds + ",999," + volFtoa(3*p) + "\n")
+		c.WriteString(ds + "," + volFtoa(cp) + "\n")
 		day = day.AddDate(0, 0, 1)
 	}
 	for name, s := range map[string]string{"alder.csv": a.String(), "birch.csv": b.String(), "cedar.csv": c.String()} {
@@ -102,14 +102,14 @@ func writeVolFixtures(t *testing.T) (dir string, files []string) {
 	return dir, []string{filepath.Join(dir, "alder.csv"), filepath.Join(dir, "birch.csv"), filepath.Join(dir, "cedar.csv")}
 }
 
-func ftoa(v float64) string { return strconv.FormatFloat(v, 'f', -1, 64) }
+func volFtoa(v float64) string { return strconv.FormatFloat(v, 'f', -1, 64) }
 
 // options → output: the table, JSON and CSV of three peers whose
 // volatilities follow from Hull's table (0.01216·√252 = 19.30%, twice that
 // for the doubled returns).
 func TestVolOutput(t *testing.T) {
 	_, files := writeVolFixtures(t)
-	ios, out, _ := testIO()
+	ios, out, _ := volTestIO()
 	opts := &volOptions{IO: ios, Files: files, MinObservations: 20, Propose: "median", JSON: true}
 	if err := runVol(opts); err != nil {
 		t.Fatal(err)
@@ -189,13 +189,13 @@ func TestVolBadInputExit2(t *testing.T) {
 	} {
 		p := filepath.Join(dir, c.name)
 		os.WriteFile(p, []byte(c.body), 0o644)
-		ios, out, errb := testIO()
+		ios, out, errb := volTestIO()
 		code := run([]string{"vol", good, p, "--min-observations", "3"}, ios)
 		if code != exitInput || !strings.Contains(errb.String(), c.want) || out.Len() != 0 {
 			t.Errorf("%s: exit %d, stderr %q (want exit 2 and %q), stdout %q", c.name, code, errb, c.want, out)
 		}
 	}
-	ios, _, errb := testIO()
+	ios, _, errb := volTestIO()
 	if code := run([]string{"vol", filepath.Join(dir, "missing.csv")}, ios); code != exitInput {
 		t.Errorf("missing file: exit %d, %s", code, errb)
 	}
@@ -207,7 +207,7 @@ func TestVolSamplePeers(t *testing.T) {
 	if len(files) != 5 {
 		t.Fatalf("sample/peers has %d CSV files, want 5", len(files))
 	}
-	ios, out, errb := testIO()
+	ios, out, errb := volTestIO()
 	if code := run(append([]string{"vol", "--as-of", "2026-09-30", "--csv"}, files...), ios); code != 0 {
 		t.Fatalf("exit %d: %s", code, errb)
 	}
