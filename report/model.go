@@ -279,6 +279,7 @@ type Expense struct {
 	Periods                       []ExpensePeriod `json:"periods"`
 	UnrecognizedCost              float64         `json:"unrecognized_cost"`
 	WeightedAverageRemainingYears float64         `json:"weighted_average_remaining_years"`
+	*ExpenseDetail                                // by grant, forecast, journal, disclosures (expense.go)
 }
 
 // ExpensePeriod is the expense recognised in [Start, End].
@@ -286,6 +287,10 @@ type ExpensePeriod struct {
 	Start  Date    `json:"start"`
 	End    Date    `json:"end"`
 	Amount float64 `json:"amount"`
+	// Added by expense.go: the change in fair value of liability warrants,
+	// apart from Amount, and whether this is the reporting period.
+	FairValueChange float64 `json:"fair_value_change"`
+	Current         bool    `json:"current"`
 }
 
 // Caution is the notice every output carries (DESIGN §5).
