@@ -158,6 +158,7 @@ type GrantExpense struct {
 	Holder         string
 	Instrument     Instrument
 	Liability      bool
+	GrantDate      time.Time
 	ServiceStart   time.Time
 	ServiceEnd     time.Time // last vest date
 	Cost           float64
@@ -726,7 +727,7 @@ func Expense(awards []AwardCost, policy ExpensePolicy, periodStart, periodEnd ti
 	var wYears float64
 	for _, l := range ledgers {
 		g := l.in.Grant
-		ge := GrantExpense{GrantID: g.ID, Holder: g.Holder, Instrument: g.Instrument, Liability: l.liability, ServiceStart: l.start, ServiceEnd: l.last}
+		ge := GrantExpense{GrantID: g.ID, Holder: g.Holder, Instrument: g.Instrument, Liability: l.liability, GrantDate: g.GrantDate, ServiceStart: l.start, ServiceEnd: l.last}
 		s0 := l.at(pol, open, open)
 		s1 := l.at(pol, periodEnd, periodEnd)
 		// Every tranche is vested the day after the later of the last vest
@@ -840,8 +841,6 @@ func policyNotes(pol ExpensePolicy, ledgers []*awardLedger) []string {
 	}
 	if pol.Forfeitures == AsOccur {
 		notes = append(notes, "Accounting for forfeitures as they occur is an election under ASC 718 (718-10-35-3); IFRS 2 requires an estimate of the awards expected to vest.")
-	} else {
-		notes = append(notes, fmt.Sprintf("Forfeitures are estimated at %.2f%% a year of service before vesting and trued up to actual at each vest date and each termination.", 100*pol.PreVestingForfeitureRate))
 	}
 	notes = append(notes, "A cancellation is treated as without a replacement award; modifications and replacement awards are not modelled.")
 	return notes

@@ -79,7 +79,9 @@ Without --steps the lattice value is converged, with an error estimate;
 --steps N gives the raw N-step Cox-Ross-Rubinstein tree. With
 --shares-outstanding and --warrants the value is per warrant after dilution:
 by default the share price already reflects the warrants (Galai-Schneller);
---new-issue applies the plain N/(N+W) factor.
+--new-issue applies the plain N/(N+W) factor. On the lattice warrants are
+American (rational exercise) unless --european; --method bsm values them
+European.
 
 The figures are estimates, not an audit opinion: defer to licensed auditors
 or valuation professionals and the accounting rules that apply to you
