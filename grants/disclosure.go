@@ -223,14 +223,14 @@ func Disclose(awards []AwardCost, policy ExpensePolicy, periodStart, periodEnd t
 	if err != nil {
 		return nil, err
 	}
-	periodStart, periodEnd = day(periodStart), day(periodEnd)
+	periodStart, periodEnd = civilDay(periodStart), civilDay(periodEnd)
 	if periodEnd.Before(periodStart) {
 		return nil, fmt.Errorf("period end %s is before period start %s", periodEnd.Format(time.DateOnly), periodStart.Format(time.DateOnly))
 	}
 	if !(sharePrice >= 0) || math.IsInf(sharePrice, 0) {
 		return nil, fmt.Errorf("share price at period end %v: want a finite non-negative number", sharePrice)
 	}
-	open := addDays(periodStart, -1)
+	open := shiftDays(periodStart, -1)
 	var opt, rsu, war rollAccs
 	var optOut, optEx, optExp, warOut, warEx, warExp outAcc
 	var optG, rsuG, warG grantAcc
@@ -241,7 +241,7 @@ func Disclose(awards []AwardCost, policy ExpensePolicy, periodStart, periodEnd t
 		if valuation.Days(g.GrantDate, periodEnd) < 0 {
 			continue
 		}
-		l, err := ledger(aw, pol, periodEnd)
+		l, err := newAwardLedger(aw, pol, periodEnd)
 		if err != nil {
 			return nil, err
 		}
@@ -279,7 +279,7 @@ func Disclose(awards []AwardCost, policy ExpensePolicy, periodStart, periodEnd t
 	return d, d.Check()
 }
 
-func onOrAfter(a, b time.Time) bool { return valuation.Days(b, a) >= 0 }
+func dayOnOrAfter(a, b time.Time) bool { return valuation.Days(b, a) >= 0 }
 
 // rollOutstanding adds an option or warrant grant to a roll-forward of the
 // number outstanding.
@@ -288,12 +288,12 @@ func rollOutstanding(l *awardLedger, r *rollAccs, open, start, end time.Time, in
 	for _, t := range l.tr {
 		atOpen, atEnd := t.Tranche.Shares, t.Tranche.Shares
 		for _, m := range t.moves {
-			if onOrBefore(m.date, open) {
+			if dayOnOrBefore(m.date, open) {
 				atOpen -= m.shares
 				atEnd -= m.shares
 				continue
 			}
-			if onOrBefore(m.date, end) {
+			if dayOnOrBefore(m.date, end) {
 				atEnd -= m.shares
 				switch m.kind {
 				case Exercised:
@@ -329,7 +329,7 @@ func rollNonvested(l *awardLedger, r *rollAccs, open, start, end time.Time, inPe
 		unvestedBy := func(d time.Time) int64 {
 			var n int64
 			for _, m := range t.moves {
-				if !m.vested && onOrBefore(m.date, d) {
+				if !m.vested && dayOnOrBefore(m.date, d) {
 					n += m.shares
 				}
 			}
@@ -337,11 +337,11 @@ func rollNonvested(l *awardLedger, r *rollAccs, open, start, end time.Time, inPe
 		}
 		if inPeriod {
 			r.granted.add(t.Tranche.Shares, 0, t.FairValue)
-		} else if !onOrBefore(ev, open) {
+		} else if !dayOnOrBefore(ev, open) {
 			r.start.add(t.Tranche.Shares-unvestedBy(open), 0, t.FairValue)
 		}
 		for _, m := range t.moves {
-			if m.vested || onOrBefore(m.date, open) || !onOrBefore(m.date, end) {
+			if m.vested || dayOnOrBefore(m.date, open) || !dayOnOrBefore(m.date, end) {
 				continue
 			}
 			switch m.kind {
@@ -352,9 +352,9 @@ func rollNonvested(l *awardLedger, r *rollAccs, open, start, end time.Time, inPe
 			}
 		}
 		switch {
-		case onOrAfter(ev, start) && onOrBefore(ev, end):
+		case dayOnOrAfter(ev, start) && dayOnOrBefore(ev, end):
 			r.vested.add(t.Tranche.Shares-unvestedBy(end), 0, t.FairValue)
-		case !onOrBefore(ev, end):
+		case !dayOnOrBefore(ev, end):
 			r.end.add(t.Tranche.Shares-unvestedBy(end), 0, t.FairValue)
 		}
 	}
@@ -401,7 +401,7 @@ func warrantRow(l *awardLedger, end time.Time, price float64) (WarrantRow, bool)
 		}
 		v := t.FairValue
 		if l.liability {
-			v = l.fairValueAt(i, end)
+			v = l.fairValueAt(i, dayNum(end))
 		}
 		fv += float64(n) * v
 	}

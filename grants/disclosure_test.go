@@ -11,42 +11,42 @@ import (
 // noteAwards is a hand-made ledger for the Q4 2030 note (period
 // 2030-10-01 .. 2030-12-31, share price 25 at period end).
 func noteAwards() []AwardCost {
-	g1 := award("G1", Option, "2029-01-01", []string{"2030-01-01", "2031-01-01", "2032-01-01", "2033-01-01"}, []int64{1000, 1000, 1000, 1000}, []float64{4, 4, 4, 4})
+	g1 := testAward("G1", Option, "2029-01-01", []string{"2030-01-01", "2031-01-01", "2032-01-01", "2033-01-01"}, []int64{1000, 1000, 1000, 1000}, []float64{4, 4, 4, 4})
 	g1.Grant.Strike = 10
-	g1.Grant.ExpiryDate = date("2039-01-01")
+	g1.Grant.ExpiryDate = ymd("2039-01-01")
 	g1.Events = []Event{
-		{GrantID: "G1", Date: date("2030-05-01"), Kind: Exercised, Shares: 200}, // before the period
-		{GrantID: "G1", Date: date("2030-11-15"), Kind: Exercised, Shares: 500},
+		{GrantID: "G1", Date: ymd("2030-05-01"), Kind: Exercised, Shares: 200}, // before the period
+		{GrantID: "G1", Date: ymd("2030-11-15"), Kind: Exercised, Shares: 500},
 	}
-	g2 := award("G2", Option, "2029-06-01", []string{"2030-06-01", "2031-06-01"}, []int64{1000, 1000}, []float64{5, 5})
+	g2 := testAward("G2", Option, "2029-06-01", []string{"2030-06-01", "2031-06-01"}, []int64{1000, 1000}, []float64{5, 5})
 	g2.Grant.Strike = 12
-	g2.Grant.ExpiryDate = date("2039-06-01")
+	g2.Grant.ExpiryDate = ymd("2039-06-01")
 	g2.Events = []Event{
-		{GrantID: "G2", Date: date("2030-12-01"), Kind: Forfeited, Shares: 1000}, // termination: tranche 2
-		{GrantID: "G2", Date: date("2030-12-20"), Kind: Expired, Shares: 400},
+		{GrantID: "G2", Date: ymd("2030-12-01"), Kind: Forfeited, Shares: 1000}, // termination: tranche 2
+		{GrantID: "G2", Date: ymd("2030-12-20"), Kind: Expired, Shares: 400},
 	}
-	g3 := award("G3", Option, "2030-11-01", []string{"2031-11-01"}, []int64{1200}, []float64{8})
+	g3 := testAward("G3", Option, "2030-11-01", []string{"2031-11-01"}, []int64{1200}, []float64{8})
 	g3.Grant.Strike = 20
-	g3.Grant.ExpiryDate = date("2040-11-01")
+	g3.Grant.ExpiryDate = ymd("2040-11-01")
 	g3.Measured = &MeasuredAssumptions{Volatility: 0.5, RiskFreeRate: 0.04, DividendYield: 0, ExpectedTermYears: 6}
-	g4 := award("G4", Option, "2020-01-01", []string{"2021-01-01"}, []int64{300}, []float64{1.5})
+	g4 := testAward("G4", Option, "2020-01-01", []string{"2021-01-01"}, []int64{300}, []float64{1.5})
 	g4.Grant.Strike = 5
-	g4.Grant.ExpiryDate = date("2030-10-31") // expires unexercised in the period
+	g4.Grant.ExpiryDate = ymd("2030-10-31") // expires unexercised in the period
 
-	r1 := award("R1", RSU, "2030-01-01", []string{"2030-04-01", "2030-07-01", "2030-10-01", "2031-01-01"}, []int64{250, 250, 250, 250}, []float64{20, 21, 22, 23})
+	r1 := testAward("R1", RSU, "2030-01-01", []string{"2030-04-01", "2030-07-01", "2030-10-01", "2031-01-01"}, []int64{250, 250, 250, 250}, []float64{20, 21, 22, 23})
 	r1.Grant.ExpiryDate = time.Time{} // RSUs do not expire
-	r1.Events = []Event{{GrantID: "R1", Date: date("2030-11-30"), Kind: Forfeited, Shares: 250}}
-	r2 := award("R2", RSU, "2030-12-15", []string{"2031-12-15"}, []int64{100}, []float64{24})
+	r1.Events = []Event{{GrantID: "R1", Date: ymd("2030-11-30"), Kind: Forfeited, Shares: 250}}
+	r2 := testAward("R2", RSU, "2030-12-15", []string{"2031-12-15"}, []int64{100}, []float64{24})
 	r2.Grant.ExpiryDate = time.Time{}
 
-	w1 := award("W1", Warrant, "2028-01-01", []string{"2028-01-01"}, []int64{10000}, []float64{6})
+	w1 := testAward("W1", Warrant, "2028-01-01", []string{"2028-01-01"}, []int64{10000}, []float64{6})
 	w1.Grant.Strike = 15
-	w1.Grant.ExpiryDate = date("2033-01-01")
-	w2 := award("W2", Warrant, "2030-02-01", []string{"2031-02-01"}, []int64{5000}, []float64{3})
+	w1.Grant.ExpiryDate = ymd("2033-01-01")
+	w2 := testAward("W2", Warrant, "2030-02-01", []string{"2031-02-01"}, []int64{5000}, []float64{3})
 	w2.Grant.Strike = 22
-	w2.Grant.ExpiryDate = date("2035-02-01")
+	w2.Grant.ExpiryDate = ymd("2035-02-01")
 	w2.Grant.Classification = Liability
-	w2.Remeasurements = []Remeasurement{{Date: date("2030-12-31"), FairValue: []float64{4.5}}}
+	w2.Remeasurements = []Remeasurement{{Date: ymd("2030-12-31"), FairValue: []float64{4.5}}}
 	return []AwardCost{g1, g2, g3, g4, r1, r2, w1, w2}
 }
 
@@ -55,8 +55,8 @@ func checkLine(t *testing.T, what string, got RollLine, shares int64, price, fv 
 	if got.Shares != shares {
 		t.Errorf("%s: %d shares, want %d", what, got.Shares, shares)
 	}
-	near(t, what+" weighted exercise price", got.WeightedExercisePrice, price, 1e-9)
-	near(t, what+" weighted fair value", got.WeightedFairValue, fv, 1e-9)
+	nearly(t, what+" weighted exercise price", got.WeightedExercisePrice, price, 1e-9)
+	nearly(t, what+" weighted fair value", got.WeightedFairValue, fv, 1e-9)
 }
 
 // Rule: the option roll-forward with weighted-average exercise prices, the
@@ -64,7 +64,7 @@ func checkLine(t *testing.T, what string, got RollLine, shares int64, price, fv 
 // from memory). Hand-worked from noteAwards.
 func TestDisclosureHandWorked(t *testing.T) {
 	pol := ExpensePolicy{Attribution: Graded, Forfeitures: Estimate, PreVestingForfeitureRate: 0.1}
-	d, err := Disclose(noteAwards(), pol, date("2030-10-01"), date("2030-12-31"), 25)
+	d, err := Disclose(noteAwards(), pol, ymd("2030-10-01"), ymd("2030-12-31"), 25)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -82,25 +82,25 @@ func TestDisclosureHandWorked(t *testing.T) {
 
 	// Exercisable: G1 tranche 1's 300 left at 10, G2's 600 at 12.
 	ex := d.OptionsAtEnd.Exercisable
-	near(t, "exercisable shares", ex.Shares, 900, 0)
-	near(t, "exercisable price", ex.WeightedExercisePrice, 10200.0/900, 1e-9)
-	near(t, "exercisable intrinsic", ex.AggregateIntrinsicValue, 300*15+600*13, 1e-9)
+	nearly(t, "exercisable shares", ex.Shares, 900, 0)
+	nearly(t, "exercisable price", ex.WeightedExercisePrice, 10200.0/900, 1e-9)
+	nearly(t, "exercisable intrinsic", ex.AggregateIntrinsicValue, 300*15+600*13, 1e-9)
 	// Remaining contractual term from 2030-12-31: G1 2,923 days, G2 3,074, G3 3,593.
-	near(t, "exercisable term", ex.WeightedRemainingTermYears, (300*2923.0+600*3074)/900/365, 1e-12)
+	nearly(t, "exercisable term", ex.WeightedRemainingTermYears, (300*2923.0+600*3074)/900/365, 1e-12)
 	out := d.OptionsAtEnd.Outstanding
-	near(t, "outstanding intrinsic", out.AggregateIntrinsicValue, 3300*15+600*13+1200*5, 1e-9)
-	near(t, "outstanding term", out.WeightedRemainingTermYears, (3300*2923.0+600*3074+1200*3593)/5100/365, 1e-12)
+	nearly(t, "outstanding intrinsic", out.AggregateIntrinsicValue, 3300*15+600*13+1200*5, 1e-9)
+	nearly(t, "outstanding term", out.WeightedRemainingTermYears, (3300*2923.0+600*3074+1200*3593)/5100/365, 1e-12)
 	// Vested and expected to vest: 900 + G1's 1,000 × (0.9^2, 0.9^3, 0.9^(1461/365)) + G3's 1,200 × 0.9.
 	wantExp := 900 + 1000*(math.Pow(0.9, 2)+math.Pow(0.9, 3)+math.Pow(0.9, 1461.0/365)) + 1200*0.9
-	near(t, "vested and expected", d.OptionsAtEnd.VestedExpected.Shares, wantExp, 1e-9)
+	nearly(t, "vested and expected", d.OptionsAtEnd.VestedExpected.Shares, wantExp, 1e-9)
 
 	g := d.OptionGrants
 	if g.Grants != 1 || g.Shares != 1200 || g.Measured != 1 {
 		t.Errorf("option grants %+v", g)
 	}
-	near(t, "grant fair value", g.WeightedFairValue, 8, 1e-12)
-	near(t, "grant volatility", g.Volatility, 0.5, 1e-12)
-	near(t, "grant expected term", g.ExpectedTermYears, 6, 1e-12)
+	nearly(t, "grant fair value", g.WeightedFairValue, 8, 1e-12)
+	nearly(t, "grant volatility", g.Volatility, 0.5, 1e-12)
+	nearly(t, "grant expected term", g.ExpectedTermYears, 6, 1e-12)
 
 	// RSUs nonvested: start tranches 3 and 4 of R1 (500 at 22.5), granted R2's
 	// 100 at 24, vested tranche 3 (250 at 22), forfeited tranche 4 (250 at 23), end 100 at 24.
@@ -120,9 +120,9 @@ func TestDisclosureHandWorked(t *testing.T) {
 	if w1.Exercisable != 10000 || w2.Exercisable != 0 || w2.Classification != Liability || w1.Classification != Equity {
 		t.Errorf("warrant rows %+v", d.WarrantsOutstanding)
 	}
-	near(t, "W1 intrinsic", w1.IntrinsicValue, 100000, 1e-9)
-	near(t, "W2 fair value", w2.FairValue, 4.5, 0)
-	near(t, "W1 term", w1.RemainingTermYears, 732.0/365, 1e-12)
+	nearly(t, "W1 intrinsic", w1.IntrinsicValue, 100000, 1e-9)
+	nearly(t, "W2 fair value", w2.FairValue, 4.5, 0)
+	nearly(t, "W1 term", w1.RemainingTermYears, 732.0/365, 1e-12)
 }
 
 // Identity (common practice): start + granted − exercised − forfeited −
@@ -138,7 +138,7 @@ func TestRollForwardIdentity(t *testing.T) {
 			a.Grant.Strike = 1 + 10*rng.Float64()
 			awards = append(awards, a)
 		}
-		start := date("2027-01-01").AddDate(0, 0, rng.IntN(1500))
+		start := ymd("2027-01-01").AddDate(0, 0, rng.IntN(1500))
 		end := start.AddDate(0, 0, rng.IntN(200))
 		for _, a := range awards {
 			if a.Grant.GrantDate.After(end) || a.Grant.Instrument == RSU {

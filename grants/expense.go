@@ -50,14 +50,15 @@ package grants
 //
 // # Events
 //
-// Forfeited shares come out of the unvested tranches, latest vest date first
-// (a termination forfeits them all); shares beyond the unvested ones come out
-// of vested shares and reverse nothing. Exercised and expired shares come out
-// of vested shares, earliest vest date first, and change counts but not cost.
-// Cancelled shares (a cancellation without a replacement award) come out of
-// unvested tranches first, latest first: their remaining unrecognised cost is
-// recognised in full on the cancellation date (ASC 718-20-35-9, IFRS 2.28(a);
-// from memory). Options and warrants still outstanding at the end of their
+// Forfeited shares come out of the unvested tranches, latest vest date
+// first, as Schedule.Tranches takes them (a termination forfeits them all);
+// shares beyond the unvested ones come out of vested shares, latest first,
+// and reverse nothing. Exercised and expired shares come out of vested
+// shares, earliest vest date first, and change counts but not cost.
+// Cancelled shares (a cancellation without a replacement award) are taken
+// the same way as forfeited ones; on unvested shares their remaining
+// unrecognised cost is recognised in full on the cancellation date
+// (ASC 718-20-35-9, IFRS 2.28(a); from memory). Options and warrants still outstanding at the end of their
 // expiry date expire then.
 //
 // # Liability-classified warrants
@@ -157,6 +158,7 @@ type GrantExpense struct {
 	Holder         string
 	Instrument     Instrument
 	Liability      bool
+	GrantDate      time.Time
 	ServiceStart   time.Time
 	ServiceEnd     time.Time // last vest date
 	Cost           float64
@@ -227,6 +229,9 @@ type ExpenseReport struct {
 
 	Journal  []JournalEntry
 	Warnings []string
+	// PolicyNotes say where the chosen policy differs between ASC 718 and
+	// IFRS 2, and what attribution does not model.
+	PolicyNotes []string
 }
 
 // ForecastQuarters is how many calendar quarters the forecast covers.
@@ -280,6 +285,7 @@ func (e *EventError) Unwrap() error { return ErrEvent }
 // move is an event applied to one tranche.
 type move struct {
 	date   time.Time
+	dayN   int // dayNum(date)
 	kind   EventKind
 	shares int64
 	vested bool // the tranche was vested on the day of the move
@@ -289,8 +295,10 @@ type trancheLedger struct {
 	TrancheCost
 	start time.Time // service start
 	days  int       // service days
-	p     float64   // expected share at vest
-	moves []move
+	// day numbers (dn) of the service start and the vest date
+	startN, vestN int
+	p             float64 // expected share at vest
+	moves         []move
 }
 
 type awardLedger struct {
@@ -301,12 +309,22 @@ type awardLedger struct {
 	days      int
 	tr        []trancheLedger
 	remeas    []Remeasurement // sorted by date
+	remeasN   []int           // their day numbers
+	// day numbers of the grant date and the service start
+	grantN, startN int
 }
 
 // onOrBefore reports a <= b by calendar day.
-func onOrBefore(a, b time.Time) bool { return valuation.Days(a, b) >= 0 }
+func dayOnOrBefore(a, b time.Time) bool { return dayNum(a) <= dayNum(b) }
 
-func addDays(t time.Time, n int) time.Time { return t.AddDate(0, 0, n) }
+// dn is the day number of t's calendar day (days since 1970-01-01), so
+// that the inner loops compare and subtract integers. dayNum(b) − dayNum(a) equals
+// valuation.Days(a, b).
+func dayNum(t time.Time) int {
+	return int(time.Date(t.Year(), t.Month(), t.Day(), 0, 0, 0, 0, time.UTC).Unix() / 86400)
+}
+
+func shiftDays(t time.Time, n int) time.Time { return t.AddDate(0, 0, n) }
 
 func (p ExpensePolicy) normalized() (ExpensePolicy, error) {
 	if p.Attribution == "" {
@@ -328,7 +346,7 @@ func (p ExpensePolicy) normalized() (ExpensePolicy, error) {
 }
 
 // ledger applies an award's events up to asOf to its tranches.
-func ledger(a *AwardCost, pol ExpensePolicy, asOf time.Time) (*awardLedger, error) {
+func newAwardLedger(a *AwardCost, pol ExpensePolicy, asOf time.Time) (*awardLedger, error) {
 	g := a.Grant
 	if len(a.Tranches) == 0 {
 		return nil, fmt.Errorf("grant %s: no tranches", g.ID)
@@ -350,8 +368,8 @@ func ledger(a *AwardCost, pol ExpensePolicy, asOf time.Time) (*awardLedger, erro
 		if !g.ExpiryDate.IsZero() && tc.Tranche.VestDate.After(g.ExpiryDate) {
 			return nil, fmt.Errorf("grant %s tranche %d: vests %s, after expiry %s", g.ID, tc.Tranche.Index, tc.Tranche.VestDate.Format(time.DateOnly), g.ExpiryDate.Format(time.DateOnly))
 		}
-		t := trancheLedger{TrancheCost: tc, start: l.start}
-		t.days = valuation.Days(t.start, tc.Tranche.VestDate)
+		t := trancheLedger{TrancheCost: tc, start: l.start, startN: dayNum(l.start), vestN: dayNum(tc.Tranche.VestDate)}
+		t.days = t.vestN - t.startN
 		t.p = 1
 		if pol.Forfeitures == Estimate {
 			t.p = ExpectedShare(pol.PreVestingForfeitureRate, t.start, tc.Tranche.VestDate)
@@ -360,6 +378,7 @@ func ledger(a *AwardCost, pol ExpensePolicy, asOf time.Time) (*awardLedger, erro
 	}
 	l.last = a.Tranches[len(a.Tranches)-1].Tranche.VestDate
 	l.days = valuation.Days(l.start, l.last)
+	l.grantN, l.startN = dayNum(g.GrantDate), dayNum(l.start)
 	if len(a.Remeasurements) > 0 && !l.liability {
 		return nil, fmt.Errorf("grant %s: remeasurements given but it is not a liability-classified warrant", g.ID)
 	}
@@ -374,14 +393,17 @@ func ledger(a *AwardCost, pol ExpensePolicy, asOf time.Time) (*awardLedger, erro
 		}
 		l.remeas = append(l.remeas, r)
 	}
-	sort.SliceStable(l.remeas, func(i, j int) bool { return l.remeas[i].Date.Before(l.remeas[j].Date) })
+	sort.SliceStable(l.remeas, func(i, j int) bool { return dayNum(l.remeas[i].Date) < dayNum(l.remeas[j].Date) })
+	for _, r := range l.remeas {
+		l.remeasN = append(l.remeasN, dayNum(r.Date))
+	}
 
 	evs := make([]Event, 0, len(a.Events))
 	for _, e := range a.Events {
 		if e.GrantID != "" && e.GrantID != g.ID {
 			return nil, &EventError{GrantID: e.GrantID, Row: e.Row, Date: e.Date, Msg: fmt.Sprintf("listed under grant %s", g.ID)}
 		}
-		if onOrBefore(e.Date, asOf) {
+		if dayOnOrBefore(e.Date, asOf) {
 			evs = append(evs, e)
 		}
 	}
@@ -391,10 +413,10 @@ func ledger(a *AwardCost, pol ExpensePolicy, asOf time.Time) (*awardLedger, erro
 			return nil, err
 		}
 	}
-	if !g.ExpiryDate.IsZero() && onOrBefore(g.ExpiryDate, asOf) && g.Instrument != RSU {
+	if !g.ExpiryDate.IsZero() && dayOnOrBefore(g.ExpiryDate, asOf) && g.Instrument != RSU {
 		for i := range l.tr {
 			if n := l.tr[i].open(); n > 0 {
-				l.tr[i].moves = append(l.tr[i].moves, move{date: g.ExpiryDate, kind: Expired, shares: n, vested: true})
+				l.tr[i].moves = append(l.tr[i].moves, move{date: g.ExpiryDate, dayN: dayNum(g.ExpiryDate), kind: Expired, shares: n, vested: true})
 			}
 		}
 	}
@@ -409,7 +431,9 @@ func (t *trancheLedger) open() int64 {
 	return n
 }
 
-func (t *trancheLedger) vestedOn(d time.Time) bool { return onOrBefore(t.Tranche.VestDate, d) }
+func (t *trancheLedger) vestedOn(d time.Time) bool { return t.vestN <= dayNum(d) }
+
+func (t *trancheLedger) vestedN(d int) bool { return t.vestN <= d }
 
 // apply allocates one event's shares to tranches.
 func (l *awardLedger) apply(e Event) error {
@@ -439,7 +463,7 @@ func (l *awardLedger) apply(e Event) error {
 		t := &l.tr[i]
 		n := min(t.open(), left)
 		if n > 0 {
-			t.moves = append(t.moves, move{date: e.Date, kind: e.Kind, shares: n, vested: t.vestedOn(e.Date)})
+			t.moves = append(t.moves, move{date: e.Date, dayN: dayNum(e.Date), kind: e.Kind, shares: n, vested: t.vestedOn(e.Date)})
 			left -= n
 		}
 	}
@@ -480,10 +504,12 @@ type trancheCounts struct {
 	exercised   int64
 }
 
-func (t *trancheLedger) countsAt(d time.Time) trancheCounts {
+func (t *trancheLedger) countsAt(d time.Time) trancheCounts { return t.countsN(dayNum(d)) }
+
+func (t *trancheLedger) countsN(d int) trancheCounts {
 	c := trancheCounts{open: t.Tranche.Shares}
 	for _, m := range t.moves {
-		if !onOrBefore(m.date, d) {
+		if m.dayN > d {
 			continue
 		}
 		c.open -= m.shares
@@ -502,10 +528,10 @@ func (t *trancheLedger) countsAt(d time.Time) trancheCounts {
 // live is the shares whose cost still accrues by the attribution rule.
 func (c trancheCounts) live(total int64) int64 { return total - c.reversed - c.accelerated }
 
-// fraction is the share of a service period of days days from start that is
-// rendered through the end of day d.
-func fraction(start time.Time, days int, d time.Time) float64 {
-	done := valuation.Days(start, addDays(d, 1))
+// fraction is the share of a service period of days days from day start
+// that is rendered through the end of day d.
+func serviceFraction(start, days, d int) float64 {
+	done := d + 1 - start
 	if done <= 0 {
 		return 0
 	}
@@ -519,26 +545,23 @@ func fraction(start time.Time, days int, d time.Time) float64 {
 // the policy through the end of day d, writing each tranche's cumulative
 // cost into out. Tranches vested on or before known count in full; the
 // others at their expected share.
-func (l *awardLedger) attribute(pol ExpensePolicy, value []float64, d, known time.Time, out []float64) {
-	if valuation.Days(l.in.Grant.GrantDate, d) < 0 {
+func (l *awardLedger) attribute(pol ExpensePolicy, value []float64, d, known int, out []float64) {
+	if d < l.grantN {
 		for i := range out {
 			out[i] = 0
 		}
 		return
 	}
-	kd := d
-	if known.Before(d) {
-		kd = known
-	}
+	kd := min(d, known)
 	q := func(i int) float64 {
-		if l.tr[i].vestedOn(kd) {
+		if l.tr[i].vestedN(kd) {
 			return 1
 		}
 		return l.tr[i].p
 	}
 	if pol.Attribution == Graded {
 		for i := range l.tr {
-			out[i] = value[i] * q(i) * fraction(l.tr[i].start, l.tr[i].days, d)
+			out[i] = value[i] * q(i) * serviceFraction(l.tr[i].startN, l.tr[i].days, d)
 		}
 		return
 	}
@@ -546,18 +569,18 @@ func (l *awardLedger) attribute(pol ExpensePolicy, value []float64, d, known tim
 	for i := range l.tr {
 		v := value[i] * q(i)
 		total += v
-		if l.tr[i].vestedOn(d) {
+		if l.tr[i].vestedN(d) {
 			floor += v
 		} else {
 			unvested += v
 		}
 	}
-	cum := math.Max(total*fraction(l.start, l.days, d), floor)
+	cum := math.Max(total*serviceFraction(l.startN, l.days, d), floor)
 	rest := cum - floor
 	for i := range l.tr {
 		v := value[i] * q(i)
 		switch {
-		case l.tr[i].vestedOn(d):
+		case l.tr[i].vestedN(d):
 			out[i] = v
 		case unvested > 0:
 			out[i] = rest * v / unvested
@@ -568,10 +591,10 @@ func (l *awardLedger) attribute(pol ExpensePolicy, value []float64, d, known tim
 }
 
 // fairValueAt is the latest liability fair value of tranche i on day d.
-func (l *awardLedger) fairValueAt(i int, d time.Time) float64 {
+func (l *awardLedger) fairValueAt(i int, d int) float64 {
 	fv := l.tr[i].FairValue
-	for _, r := range l.remeas {
-		if onOrBefore(r.Date, d) {
+	for k, r := range l.remeas {
+		if l.remeasN[k] <= d {
 			fv = r.FairValue[i]
 		}
 	}
@@ -596,13 +619,14 @@ func (s snapshot) compTotal() float64 {
 // fvChange is the cumulative change in fair value of a liability warrant.
 func (s snapshot) fvChange() float64 { return s.liability + s.settled - s.compTotal() }
 
-func (l *awardLedger) at(pol ExpensePolicy, d, known time.Time) snapshot {
+func (l *awardLedger) at(pol ExpensePolicy, dt, knownt time.Time) snapshot {
+	d, known := dayNum(dt), dayNum(knownt)
 	n := len(l.tr)
 	s := snapshot{comp: make([]float64, n)}
 	value := make([]float64, n)
 	counts := make([]trancheCounts, n)
 	for i := range l.tr {
-		counts[i] = l.tr[i].countsAt(d)
+		counts[i] = l.tr[i].countsN(d)
 		value[i] = l.tr[i].FairValue * float64(counts[i].live(l.tr[i].Tranche.Shares))
 	}
 	l.attribute(pol, value, d, known, s.comp)
@@ -615,8 +639,8 @@ func (l *awardLedger) at(pol ExpensePolicy, d, known time.Time) snapshot {
 	for i := range l.tr {
 		value[i] = l.fairValueAt(i, d) * float64(counts[i].open)
 		for _, m := range l.tr[i].moves {
-			if m.kind == Exercised && onOrBefore(m.date, d) {
-				s.settled += l.fairValueAt(i, m.date) * float64(m.shares)
+			if m.kind == Exercised && m.dayN <= d {
+				s.settled += l.fairValueAt(i, m.dayN) * float64(m.shares)
 			}
 		}
 	}
@@ -636,10 +660,12 @@ func quarterStart(d time.Time) time.Time {
 
 // quarterEnd is the last day of the calendar quarter holding d.
 func quarterEnd(d time.Time) time.Time {
-	return addDays(quarterStart(d).AddDate(0, 3, 0), -1)
+	return shiftDays(quarterStart(d).AddDate(0, 3, 0), -1)
 }
 
-func day(t time.Time) time.Time { return time.Date(t.Year(), t.Month(), t.Day(), 0, 0, 0, 0, time.UTC) }
+func civilDay(t time.Time) time.Time {
+	return time.Date(t.Year(), t.Month(), t.Day(), 0, 0, 0, 0, time.UTC)
+}
 
 // Expense attributes the awards' cost to the period [periodStart, periodEnd]
 // (both days included; periodEnd is the valuation date) under the policy.
@@ -650,7 +676,7 @@ func Expense(awards []AwardCost, policy ExpensePolicy, periodStart, periodEnd ti
 	if err != nil {
 		return nil, err
 	}
-	periodStart, periodEnd = day(periodStart), day(periodEnd)
+	periodStart, periodEnd = civilDay(periodStart), civilDay(periodEnd)
 	if periodEnd.Before(periodStart) {
 		return nil, fmt.Errorf("period end %s is before period start %s", periodEnd.Format(time.DateOnly), periodStart.Format(time.DateOnly))
 	}
@@ -661,7 +687,7 @@ func Expense(awards []AwardCost, policy ExpensePolicy, periodStart, periodEnd ti
 		if valuation.Days(awards[i].Grant.GrantDate, periodEnd) < 0 {
 			continue
 		}
-		l, err := ledger(&awards[i], pol, periodEnd)
+		l, err := newAwardLedger(&awards[i], pol, periodEnd)
 		if err != nil {
 			errs = append(errs, err)
 			continue
@@ -671,7 +697,7 @@ func Expense(awards []AwardCost, policy ExpensePolicy, periodStart, periodEnd ti
 	if len(errs) > 0 {
 		return nil, errors.Join(errs...)
 	}
-	open := addDays(periodStart, -1)
+	open := shiftDays(periodStart, -1)
 
 	// Period boundaries: context quarters, then the current period.
 	var bounds []PeriodAmount
@@ -691,22 +717,22 @@ func Expense(awards []AwardCost, policy ExpensePolicy, periodStart, periodEnd ti
 		}
 	}
 	bounds = append(bounds, PeriodAmount{Start: periodStart, End: periodEnd, Current: true})
-	fstart := addDays(periodEnd, 1)
+	fstart := shiftDays(periodEnd, 1)
 	for k := 0; k < ForecastQuarters; k++ {
 		end := quarterEnd(fstart)
 		rep.Forecast = append(rep.Forecast, PeriodAmount{Start: fstart, End: end})
-		fstart = addDays(end, 1)
+		fstart = shiftDays(end, 1)
 	}
 
 	var wYears float64
 	for _, l := range ledgers {
 		g := l.in.Grant
-		ge := GrantExpense{GrantID: g.ID, Holder: g.Holder, Instrument: g.Instrument, Liability: l.liability, ServiceStart: l.start, ServiceEnd: l.last}
+		ge := GrantExpense{GrantID: g.ID, Holder: g.Holder, Instrument: g.Instrument, Liability: l.liability, GrantDate: g.GrantDate, ServiceStart: l.start, ServiceEnd: l.last}
 		s0 := l.at(pol, open, open)
 		s1 := l.at(pol, periodEnd, periodEnd)
 		// Every tranche is vested the day after the later of the last vest
 		// date and the period end, so the cost there is the expected total.
-		far := addDays(l.last, 1)
+		far := shiftDays(l.last, 1)
 		if far.Before(periodEnd) {
 			far = periodEnd
 		}
@@ -733,7 +759,7 @@ func Expense(awards []AwardCost, policy ExpensePolicy, periodStart, periodEnd ti
 			if te.Unrecognized < 1e-9*math.Max(1, te.Cost) {
 				te.Unrecognized = 0
 			}
-			if left := valuation.Days(addDays(periodEnd, 1), t.Tranche.VestDate); left > 0 && te.Unrecognized > 0 {
+			if left := valuation.Days(shiftDays(periodEnd, 1), t.Tranche.VestDate); left > 0 && te.Unrecognized > 0 {
 				te.RemainingYears = float64(left) / 365
 			}
 			ge.Tranches = append(ge.Tranches, te)
@@ -748,7 +774,7 @@ func Expense(awards []AwardCost, policy ExpensePolicy, periodStart, periodEnd ti
 		ge.Period = ge.Cumulative - ge.CumulativeOpen
 		if ge.Unrecognized > 0 {
 			if pol.Attribution == StraightLine {
-				if left := valuation.Days(addDays(periodEnd, 1), lastLive); left > 0 {
+				if left := valuation.Days(shiftDays(periodEnd, 1), lastLive); left > 0 {
 					ge.RemainingYears = float64(left) / 365
 				}
 				wYears += ge.Unrecognized * ge.RemainingYears
@@ -796,13 +822,33 @@ func Expense(awards []AwardCost, policy ExpensePolicy, periodStart, periodEnd ti
 		rep.RemainingYears = wYears / rep.Unrecognized
 	}
 	rep.Periods = bounds
-	rep.Journal = journal(rep)
+	rep.Journal = periodJournal(rep)
+	rep.PolicyNotes = policyNotes(pol, ledgers)
 	return rep, nil
+}
+
+// policyNotes explains the policy's standing under each standard.
+func policyNotes(pol ExpensePolicy, ledgers []*awardLedger) []string {
+	graded := false
+	for _, l := range ledgers {
+		if len(l.tr) > 1 {
+			graded = true
+		}
+	}
+	var notes []string
+	if pol.Attribution == StraightLine && graded {
+		notes = append(notes, "Straight-line attribution of a graded-vesting award is an election under ASC 718 (718-10-35-8); IFRS 2 treats each tranche as a separate award, which is graded attribution.")
+	}
+	if pol.Forfeitures == AsOccur {
+		notes = append(notes, "Accounting for forfeitures as they occur is an election under ASC 718 (718-10-35-3); IFRS 2 requires an estimate of the awards expected to vest.")
+	}
+	notes = append(notes, "A cancellation is treated as without a replacement award; modifications and replacement awards are not modelled.")
+	return notes
 }
 
 // entry builds a two-line entry moving amount from credit to debit; a
 // negative amount swaps the sides.
-func entry(desc, debit, credit string, amount float64) JournalEntry {
+func journalEntry(desc, debit, credit string, amount float64) JournalEntry {
 	if amount < 0 {
 		debit, credit, amount = credit, debit, -amount
 	}
@@ -811,7 +857,7 @@ func entry(desc, debit, credit string, amount float64) JournalEntry {
 
 // journal is the period's summary entries; entries with nothing to book are
 // left out.
-func journal(rep *ExpenseReport) []JournalEntry {
+func periodJournal(rep *ExpenseReport) []JournalEntry {
 	var equity, liaComp, fv, reclass float64
 	for _, g := range rep.Grants {
 		if g.Liability {
@@ -828,10 +874,10 @@ func journal(rep *ExpenseReport) []JournalEntry {
 			out = append(out, e)
 		}
 	}
-	add(entry("Share-based compensation for the period (equity-classified awards)", AccountCompensation, AccountAPIC, equity), equity)
-	add(entry("Share-based compensation for the period (liability-classified warrants)", AccountCompensation, AccountLiability, liaComp), liaComp)
-	add(entry("Remeasurement of the warrant liability to fair value (apart from compensation)", AccountFairValueDelta, AccountLiability, fv), fv)
-	add(entry("Exercised liability-classified warrants reclassified to equity", AccountLiability, AccountAPIC, reclass), reclass)
+	add(journalEntry("Share-based compensation for the period (equity-classified awards)", AccountCompensation, AccountAPIC, equity), equity)
+	add(journalEntry("Share-based compensation for the period (liability-classified warrants)", AccountCompensation, AccountLiability, liaComp), liaComp)
+	add(journalEntry("Remeasurement of the warrant liability to fair value (apart from compensation)", AccountFairValueDelta, AccountLiability, fv), fv)
+	add(journalEntry("Exercised liability-classified warrants reclassified to equity", AccountLiability, AccountAPIC, reclass), reclass)
 	return out
 }
 

@@ -13,7 +13,7 @@ import (
 // is exact, so only float rounding separates the two sides.
 const tolMoney = 1e-6
 
-func date(s string) time.Time {
+func ymd(s string) time.Time {
 	t, err := time.Parse(time.DateOnly, s)
 	if err != nil {
 		panic(err)
@@ -22,25 +22,25 @@ func date(s string) time.Time {
 }
 
 // award builds a grant dated grantDate with one tranche per vest date.
-func award(id string, inst Instrument, grantDate string, vests []string, shares []int64, fvs []float64) AwardCost {
-	a := AwardCost{Grant: Grant{ID: id, Instrument: inst, GrantDate: date(grantDate), VestStart: date(grantDate), ExpiryDate: date(grantDate).AddDate(10, 0, 0)}}
+func testAward(id string, inst Instrument, grantDate string, vests []string, shares []int64, fvs []float64) AwardCost {
+	a := AwardCost{Grant: Grant{ID: id, Instrument: inst, GrantDate: ymd(grantDate), VestStart: ymd(grantDate), ExpiryDate: ymd(grantDate).AddDate(10, 0, 0)}}
 	for i, v := range vests {
 		a.Grant.Shares += shares[i]
-		a.Tranches = append(a.Tranches, TrancheCost{Tranche: Tranche{GrantID: id, Index: i + 1, VestDate: date(v), Shares: shares[i]}, FairValue: fvs[i]})
+		a.Tranches = append(a.Tranches, TrancheCost{Tranche: Tranche{GrantID: id, Index: i + 1, VestDate: ymd(v), Shares: shares[i]}, FairValue: fvs[i]})
 	}
 	return a
 }
 
 func mustExpense(t *testing.T, awards []AwardCost, pol ExpensePolicy, start, end string) *ExpenseReport {
 	t.Helper()
-	r, err := Expense(awards, pol, date(start), date(end))
+	r, err := Expense(awards, pol, ymd(start), ymd(end))
 	if err != nil {
 		t.Fatalf("Expense(%v, %s..%s): %v", pol, start, end, err)
 	}
 	return r
 }
 
-func near(t *testing.T, what string, got, want, tol float64) {
+func nearly(t *testing.T, what string, got, want, tol float64) {
 	t.Helper()
 	if math.Abs(got-want) > tol || math.IsNaN(got) {
 		t.Errorf("%s: got %.6f, want %.6f (diff %.3g, tol %g)", what, got, want, got-want, tol)
@@ -56,18 +56,18 @@ func near(t *testing.T, what string, got, want, tol float64) {
 func TestIFRS2CliffForfeitureEstimate(t *testing.T) {
 	var awards []AwardCost
 	for i := 0; i < 500; i++ {
-		awards = append(awards, award(fmt.Sprintf("E%03d", i), Option, "2029-01-01", []string{"2032-01-01"}, []int64{100}, []float64{15}))
+		awards = append(awards, testAward(fmt.Sprintf("E%03d", i), Option, "2029-01-01", []string{"2032-01-01"}, []int64{100}, []float64{15}))
 	}
 	rate := 1 - math.Pow(0.8, 1.0/3)
 	for _, attr := range []Attribution{Graded, StraightLine} {
 		pol := ExpensePolicy{Attribution: attr, Forfeitures: Estimate, PreVestingForfeitureRate: rate}
 		for _, y := range []string{"2029", "2030", "2031"} {
 			r := mustExpense(t, awards, pol, y+"-01-01", y+"-12-31")
-			near(t, fmt.Sprintf("%s %s expense", attr, y), r.Period, 200000, 1e-4)
+			nearly(t, fmt.Sprintf("%s %s expense", attr, y), r.Period, 200000, 1e-4)
 		}
 		r := mustExpense(t, awards, pol, "2031-01-01", "2031-12-31")
-		near(t, string(attr)+" cumulative 2031", r.Cumulative, 600000, 1e-4)
-		near(t, string(attr)+" unrecognised 2031", r.Unrecognized, 0, 1e-4)
+		nearly(t, string(attr)+" cumulative 2031", r.Cumulative, 600000, 1e-4)
+		nearly(t, string(attr)+" unrecognised 2031", r.Unrecognized, 0, 1e-4)
 	}
 }
 
@@ -75,7 +75,7 @@ func TestIFRS2CliffForfeitureEstimate(t *testing.T) {
 // granted 2029-01-01, fair values 8, 9, 10, 11. Service days to the vest
 // dates: 365, 730, 1,095, 1,461 (2032 is a leap year).
 func fourTranche() AwardCost {
-	return award("A4", Option, "2029-01-01",
+	return testAward("A4", Option, "2029-01-01",
 		[]string{"2030-01-01", "2031-01-01", "2032-01-01", "2033-01-01"},
 		[]int64{1000, 1000, 1000, 1000}, []float64{8, 9, 10, 11})
 }
@@ -98,23 +98,23 @@ func TestFourTrancheGraded(t *testing.T) {
 	}
 	for _, c := range cases {
 		r := mustExpense(t, aw, pol, c.start, c.end)
-		near(t, "graded "+c.start, r.Period, c.want, tolMoney)
+		nearly(t, "graded "+c.start, r.Period, c.want, tolMoney)
 	}
 	// At 2029-12-31: cumulative 8000 + 9000·365/730 + 10000·365/1095 + 11000·365/1461.
 	r := mustExpense(t, aw, pol, "2029-10-01", "2029-12-31")
 	cum := 8000 + 4500 + 10000.0/3 + 11000.0*365/1461
-	near(t, "graded cumulative 2029", r.Cumulative, cum, tolMoney)
-	near(t, "graded unrecognised 2029", r.Unrecognized, 38000-cum, tolMoney)
+	nearly(t, "graded cumulative 2029", r.Cumulative, cum, tolMoney)
+	nearly(t, "graded unrecognised 2029", r.Unrecognized, 38000-cum, tolMoney)
 	// Weighted-average remaining period: tranche 2 has 4,500 left over 365
 	// days, tranche 3 6,666.67 over 730, tranche 4 11000·1096/1461 over 1,096.
 	u2, u3, u4 := 4500.0, 20000.0/3, 11000.0*1096/1461
 	wantYears := (u2*365 + u3*730 + u4*1096) / 365 / (u2 + u3 + u4)
-	near(t, "graded remaining years", r.RemainingYears, wantYears, 1e-12)
+	nearly(t, "graded remaining years", r.RemainingYears, wantYears, 1e-12)
 	if len(r.Grants) != 1 || len(r.Grants[0].Tranches) != 4 {
 		t.Fatalf("want one grant of four tranches, got %+v", r.Grants)
 	}
-	near(t, "tranche 1 period", r.Grants[0].Tranches[0].Period, 8000.0*92/365, tolMoney)
-	near(t, "tranche 4 unrecognised", r.Grants[0].Tranches[3].Unrecognized, u4, tolMoney)
+	nearly(t, "tranche 1 period", r.Grants[0].Tranches[0].Period, 8000.0*92/365, tolMoney)
+	nearly(t, "tranche 4 unrecognised", r.Grants[0].Tranches[3].Unrecognized, u4, tolMoney)
 }
 
 // Rule: straight-line attribution over the whole award's service period
@@ -128,21 +128,21 @@ func TestFourTrancheStraightLine(t *testing.T) {
 	}{{"2029-01-01", "2029-03-31", 90}, {"2029-10-01", "2029-12-31", 92}, {"2030-01-01", "2030-03-31", 90}} {
 		r := mustExpense(t, aw, pol, c.start, c.end)
 		// 38000·days/1461; the floor on 2030-01-01 is 8,000 < 38000·366/1461 = 9,519.5.
-		near(t, "straight-line "+c.start, r.Period, 38000*c.days/1461, tolMoney)
+		nearly(t, "straight-line "+c.start, r.Period, 38000*c.days/1461, tolMoney)
 	}
 	r := mustExpense(t, aw, pol, "2029-10-01", "2029-12-31")
-	near(t, "straight-line unrecognised 2029", r.Unrecognized, 38000*1096.0/1461, tolMoney)
-	near(t, "straight-line remaining years", r.RemainingYears, 1096.0/365, 1e-12)
+	nearly(t, "straight-line unrecognised 2029", r.Unrecognized, 38000*1096.0/1461, tolMoney)
+	nearly(t, "straight-line remaining years", r.RemainingYears, 1096.0/365, 1e-12)
 	// By tranche, the award's cumulative goes to the unvested tranches in
 	// proportion to cost (none vested yet): tranche 1 gets 8/38 of it.
-	near(t, "tranche 1 share", r.Grants[0].Tranches[0].Cumulative, 38000*365.0/1461*8/38, tolMoney)
+	nearly(t, "tranche 1 share", r.Grants[0].Tranches[0].Cumulative, 38000*365.0/1461*8/38, tolMoney)
 }
 
 // Rule: the straight-line floor (ASC 718-10-35-8): cumulative cost at least
 // the cost of the tranches vested so far. Tranches of 2,000, 1,000, 500 and
 // 500 shares at 10, vesting 2030-01-01 .. 2033-01-01; total 40,000.
 func TestStraightLineFloorBites(t *testing.T) {
-	a := award("F", Option, "2029-01-01",
+	a := testAward("F", Option, "2029-01-01",
 		[]string{"2030-01-01", "2031-01-01", "2032-01-01", "2033-01-01"},
 		[]int64{2000, 1000, 500, 500}, []float64{10, 10, 10, 10})
 	pol := ExpensePolicy{Attribution: StraightLine, Forfeitures: AsOccur}
@@ -166,11 +166,11 @@ func TestStraightLineFloorBites(t *testing.T) {
 	}
 	for _, c := range cases {
 		r := mustExpense(t, []AwardCost{a}, pol, c.start, c.end)
-		near(t, "floor "+c.start+".."+c.end, r.Period, c.want, tolMoney)
+		nearly(t, "floor "+c.start+".."+c.end, r.Period, c.want, tolMoney)
 	}
 	// Graded on the same award for contrast: the floor never binds graded.
 	r := mustExpense(t, []AwardCost{a}, ExpensePolicy{Attribution: Graded, Forfeitures: AsOccur}, "2029-01-01", "2029-12-31")
-	near(t, "graded 2029", r.Period, 20000+10000.0*365/730+5000.0*365/1095+5000.0*365/1461, tolMoney)
+	nearly(t, "graded 2029", r.Period, 20000+10000.0*365/730+5000.0*365/1095+5000.0*365/1461, tolMoney)
 }
 
 // Rule: an estimated forfeiture rate trued up to actual at vesting (ASC
@@ -178,17 +178,17 @@ func TestStraightLineFloorBites(t *testing.T) {
 // rate 10%: 1000 × 0.9 × 10 = 9,000 accrues over 2029; nobody left, so on the
 // vest date 2030-01-01 the count is trued up to 1,000 and Q1 2030 books 1,000.
 func TestEstimateTrueUpAtVesting(t *testing.T) {
-	a := award("T", Option, "2029-01-01", []string{"2030-01-01"}, []int64{1000}, []float64{10})
+	a := testAward("T", Option, "2029-01-01", []string{"2030-01-01"}, []int64{1000}, []float64{10})
 	pol := ExpensePolicy{Attribution: Graded, Forfeitures: Estimate, PreVestingForfeitureRate: 0.10}
 	r := mustExpense(t, []AwardCost{a}, pol, "2029-10-01", "2029-12-31")
-	near(t, "Q4 2029", r.Period, 9000.0*92/365, tolMoney)
-	near(t, "cumulative 2029", r.Cumulative, 9000, tolMoney)
-	near(t, "unrecognised 2029 (net of expected forfeitures)", r.Unrecognized, 0, tolMoney)
+	nearly(t, "Q4 2029", r.Period, 9000.0*92/365, tolMoney)
+	nearly(t, "cumulative 2029", r.Cumulative, 9000, tolMoney)
+	nearly(t, "unrecognised 2029 (net of expected forfeitures)", r.Unrecognized, 0, tolMoney)
 	r = mustExpense(t, []AwardCost{a}, pol, "2030-01-01", "2030-03-31")
-	near(t, "Q1 2030 true-up", r.Period, 1000, tolMoney)
+	nearly(t, "Q1 2030 true-up", r.Period, 1000, tolMoney)
 	// The forecast made at 2029-12-31 expects no true-up (forfeitures at the rate).
 	r = mustExpense(t, []AwardCost{a}, pol, "2029-10-01", "2029-12-31")
-	near(t, "forecast Q1 2030", r.Forecast[0].Amount, 0, tolMoney)
+	nearly(t, "forecast Q1 2030", r.Forecast[0].Amount, 0, tolMoney)
 }
 
 // Rule: a termination under both forfeiture policies (ASC 718-10-35-3 and
@@ -197,37 +197,54 @@ func TestEstimateTrueUpAtVesting(t *testing.T) {
 // forfeited and their cost reversed; tranche 1 vested on 2030-01-01 stays.
 // Cumulative through 2030-03-31 is 455 service days.
 func TestTermination(t *testing.T) {
-	a := award("X", Option, "2029-01-01",
+	a := testAward("X", Option, "2029-01-01",
 		[]string{"2030-01-01", "2031-01-01", "2032-01-01", "2033-01-01"},
 		[]int64{1000, 1000, 1000, 1000}, []float64{10, 10, 10, 10})
-	a.Events = []Event{{GrantID: "X", Date: date("2030-06-30"), Kind: Forfeited, Shares: 3000, Row: 2}}
+	a.Events = []Event{{GrantID: "X", Date: ymd("2030-06-30"), Kind: Forfeited, Shares: 3000, Row: 2}}
 
 	// As-occur: through 2030-03-31 10000 + 10000·455/730 + 10000·455/1095 + 10000·455/1461
 	// = 23,502.43; through 2030-06-30 only tranche 1's 10,000 remains.
 	asOccur := ExpensePolicy{Attribution: Graded, Forfeitures: AsOccur}
 	before := 10000 + 10000.0*455/730 + 10000.0*455/1095 + 10000.0*455/1461
 	r := mustExpense(t, []AwardCost{a}, asOccur, "2030-04-01", "2030-06-30")
-	near(t, "as-occur Q2 2030", r.Period, 10000-before, tolMoney)
-	near(t, "as-occur cumulative", r.Cumulative, 10000, tolMoney)
-	near(t, "as-occur unrecognised", r.Unrecognized, 0, tolMoney)
+	nearly(t, "as-occur Q2 2030", r.Period, 10000-before, tolMoney)
+	nearly(t, "as-occur cumulative", r.Cumulative, 10000, tolMoney)
+	nearly(t, "as-occur unrecognised", r.Unrecognized, 0, tolMoney)
 
 	// Estimate at 10%: the unvested tranches counted at 0.9^Y, Y = 730/365,
 	// 1095/365, 1461/365; tranche 1 was trued up to 10,000 on its vest date.
 	est := ExpensePolicy{Attribution: Graded, Forfeitures: Estimate, PreVestingForfeitureRate: 0.10}
 	beforeEst := 10000 + 10000*math.Pow(0.9, 2)*455/730 + 10000*math.Pow(0.9, 3)*455/1095 + 10000*math.Pow(0.9, 1461.0/365)*455/1461
 	r = mustExpense(t, []AwardCost{a}, est, "2030-04-01", "2030-06-30")
-	near(t, "estimate Q2 2030", r.Period, 10000-beforeEst, tolMoney)
-	near(t, "estimate cumulative", r.Cumulative, 10000, tolMoney)
+	nearly(t, "estimate Q2 2030", r.Period, 10000-beforeEst, tolMoney)
+	nearly(t, "estimate cumulative", r.Cumulative, 10000, tolMoney)
 
 	// The day before, nothing is reversed yet.
 	r = mustExpense(t, []AwardCost{a}, asOccur, "2030-04-01", "2030-06-29")
-	near(t, "as-occur through 06-29", r.Cumulative, 10000+10000.0*545/730+10000.0*545/1095+10000.0*545/1461, tolMoney)
+	nearly(t, "as-occur through 06-29", r.Cumulative, 10000+10000.0*545/730+10000.0*545/1095+10000.0*545/1461, tolMoney)
 
 	// Straight-line: through 2030-03-31 max(40000·455/1461, 10000) = 12,457.22;
 	// after the termination the floor leaves exactly the vested 10,000.
 	sl := ExpensePolicy{Attribution: StraightLine, Forfeitures: AsOccur}
 	r = mustExpense(t, []AwardCost{a}, sl, "2030-04-01", "2030-06-30")
-	near(t, "straight-line Q2 2030", r.Period, 10000-40000.0*455/1461, tolMoney)
+	nearly(t, "straight-line Q2 2030", r.Period, 10000-40000.0*455/1461, tolMoney)
+}
+
+// Rule (ours, matching Schedule.Tranches): a partial forfeiture comes out of
+// the unvested tranches that vest latest. The four-tranche award at 10,
+// 1,500 forfeited on 2030-06-30 as-occur: tranche 4 loses all 1,000 and
+// tranche 3 500; cumulative through 2030-06-30 (546 service days) is
+// 10000 + 10000·546/730 + 5000·546/1095 + 0.
+func TestPartialForfeitureLatestFirst(t *testing.T) {
+	a := testAward("P", Option, "2029-01-01",
+		[]string{"2030-01-01", "2031-01-01", "2032-01-01", "2033-01-01"},
+		[]int64{1000, 1000, 1000, 1000}, []float64{10, 10, 10, 10})
+	a.Events = []Event{{GrantID: "P", Date: ymd("2030-06-30"), Kind: Forfeited, Shares: 1500}}
+	r := mustExpense(t, []AwardCost{a}, ExpensePolicy{Forfeitures: AsOccur}, "2030-04-01", "2030-06-30")
+	nearly(t, "cumulative", r.Cumulative, 10000+10000.0*546/730+5000.0*546/1095, tolMoney)
+	if got := r.Grants[0].Tranches[3].SharesCounted; got != 0 {
+		t.Errorf("tranche 4 counts %v shares, want 0", got)
+	}
 }
 
 // Rule: a cancellation without a replacement recognises the remaining
@@ -235,10 +252,10 @@ func TestTermination(t *testing.T) {
 // The four-tranche award at 10 a share, 3,000 unvested shares cancelled on
 // 2030-06-30: cumulative jumps to the full 40,000.
 func TestCancellationAccelerates(t *testing.T) {
-	a := award("C", Option, "2029-01-01",
+	a := testAward("C", Option, "2029-01-01",
 		[]string{"2030-01-01", "2031-01-01", "2032-01-01", "2033-01-01"},
 		[]int64{1000, 1000, 1000, 1000}, []float64{10, 10, 10, 10})
-	a.Events = []Event{{GrantID: "C", Date: date("2030-06-30"), Kind: Cancelled, Shares: 3000}}
+	a.Events = []Event{{GrantID: "C", Date: ymd("2030-06-30"), Kind: Cancelled, Shares: 3000}}
 	before := 10000 + 10000.0*455/730 + 10000.0*455/1095 + 10000.0*455/1461
 	for _, pol := range []ExpensePolicy{
 		{Attribution: Graded, Forfeitures: AsOccur},
@@ -246,13 +263,13 @@ func TestCancellationAccelerates(t *testing.T) {
 		{Attribution: Graded, Forfeitures: Estimate, PreVestingForfeitureRate: 0.1},
 	} {
 		r := mustExpense(t, []AwardCost{a}, pol, "2030-04-01", "2030-06-30")
-		near(t, fmt.Sprintf("%v cumulative", pol), r.Cumulative, 40000, tolMoney)
-		near(t, fmt.Sprintf("%v unrecognised", pol), r.Unrecognized, 0, tolMoney)
+		nearly(t, fmt.Sprintf("%v cumulative", pol), r.Cumulative, 40000, tolMoney)
+		nearly(t, fmt.Sprintf("%v unrecognised", pol), r.Unrecognized, 0, tolMoney)
 		if pol.Attribution == Graded && pol.Forfeitures == AsOccur {
-			near(t, "as-occur Q2 2030", r.Period, 40000-before, tolMoney)
+			nearly(t, "as-occur Q2 2030", r.Period, 40000-before, tolMoney)
 		}
 		for _, f := range r.Forecast {
-			near(t, "forecast after cancellation", f.Amount, 0, tolMoney)
+			nearly(t, "forecast after cancellation", f.Amount, 0, tolMoney)
 		}
 	}
 }
@@ -263,33 +280,33 @@ func TestCancellationAccelerates(t *testing.T) {
 // warrants granted 2029-01-01, one-year cliff, grant-date value 5; remeasured
 // 6 on 2029-03-31 and 4.50 on 2029-06-30.
 func TestLiabilityWarrantRemeasured(t *testing.T) {
-	a := award("W", Warrant, "2029-01-01", []string{"2030-01-01"}, []int64{1000}, []float64{5})
+	a := testAward("W", Warrant, "2029-01-01", []string{"2030-01-01"}, []int64{1000}, []float64{5})
 	a.Grant.Classification = Liability
 	a.Remeasurements = []Remeasurement{
-		{Date: date("2029-03-31"), FairValue: []float64{6}},
-		{Date: date("2029-06-30"), FairValue: []float64{4.5}},
+		{Date: ymd("2029-03-31"), FairValue: []float64{6}},
+		{Date: ymd("2029-06-30"), FairValue: []float64{4.5}},
 	}
 	pol := ExpensePolicy{Attribution: Graded, Forfeitures: AsOccur}
 
 	// Q1: compensation 5000·90/365 = 1,232.88; liability 6000·90/365 =
 	// 1,479.45; change in fair value 1000·90/365 = 246.58.
 	r := mustExpense(t, []AwardCost{a}, pol, "2029-01-01", "2029-03-31")
-	near(t, "Q1 compensation", r.Period, 5000.0*90/365, tolMoney)
-	near(t, "Q1 fair-value change", r.FairValueChange, 1000.0*90/365, tolMoney)
-	near(t, "Q1 liability", r.Grants[0].LiabilityEnd, 6000.0*90/365, tolMoney)
+	nearly(t, "Q1 compensation", r.Period, 5000.0*90/365, tolMoney)
+	nearly(t, "Q1 fair-value change", r.FairValueChange, 1000.0*90/365, tolMoney)
+	nearly(t, "Q1 liability", r.Grants[0].LiabilityEnd, 6000.0*90/365, tolMoney)
 
 	// Q2: compensation 5000·91/365 = 1,246.58; liability 4500·181/365 =
 	// 2,231.51; cumulative change (4500 − 5000)·181/365 = −247.95, so Q2's
 	// change is −247.95 − 246.58 = −494.52.
 	r = mustExpense(t, []AwardCost{a}, pol, "2029-04-01", "2029-06-30")
-	near(t, "Q2 compensation", r.Period, 5000.0*91/365, tolMoney)
-	near(t, "Q2 fair-value change", r.FairValueChange, (-500.0*181-1000*90)/365, tolMoney)
+	nearly(t, "Q2 compensation", r.Period, 5000.0*91/365, tolMoney)
+	nearly(t, "Q2 fair-value change", r.FairValueChange, (-500.0*181-1000*90)/365, tolMoney)
 	g := r.Grants[0]
-	near(t, "Q2 liability roll", g.LiabilityEnd-g.LiabilityOpen, g.Period+g.FairValueChange-g.ReclassifiedEquity, tolMoney)
+	nearly(t, "Q2 liability roll", g.LiabilityEnd-g.LiabilityOpen, g.Period+g.FairValueChange-g.ReclassifiedEquity, tolMoney)
 	if len(r.Periods) != 2 || r.Periods[0].Current || !r.Periods[1].Current {
 		t.Fatalf("periods: want Q1 context then Q2 current, got %+v", r.Periods)
 	}
-	near(t, "context Q1 fair-value change", r.Periods[0].FairValueChange, 1000.0*90/365, tolMoney)
+	nearly(t, "context Q1 fair-value change", r.Periods[0].FairValueChange, 1000.0*90/365, tolMoney)
 
 	// Journal: Dr compensation / Cr liability 1,246.58; the gain of 494.52
 	// is Dr liability / Cr change in fair value.
@@ -306,41 +323,41 @@ func TestLiabilityWarrantRemeasured(t *testing.T) {
 			if got.Account != l.Account {
 				t.Errorf("journal %d line %d: account %q, want %q", i, j, got.Account, l.Account)
 			}
-			near(t, "journal debit", got.Debit, l.Debit, tolMoney)
-			near(t, "journal credit", got.Credit, l.Credit, tolMoney)
+			nearly(t, "journal debit", got.Debit, l.Debit, tolMoney)
+			nearly(t, "journal credit", got.Credit, l.Credit, tolMoney)
 		}
 	}
 
 	// Vested, then 400 exercised on 2030-03-31 at the 2030-03-31 value of
 	// 7: 2,800 is reclassified to equity; the liability left is 600 × 7.
-	a.Remeasurements = append(a.Remeasurements, Remeasurement{Date: date("2030-03-31"), FairValue: []float64{7}})
-	a.Events = []Event{{GrantID: "W", Date: date("2030-03-31"), Kind: Exercised, Shares: 400}}
+	a.Remeasurements = append(a.Remeasurements, Remeasurement{Date: ymd("2030-03-31"), FairValue: []float64{7}})
+	a.Events = []Event{{GrantID: "W", Date: ymd("2030-03-31"), Kind: Exercised, Shares: 400}}
 	r = mustExpense(t, []AwardCost{a}, pol, "2030-01-01", "2030-03-31")
 	g = r.Grants[0]
-	near(t, "reclassified", g.ReclassifiedEquity, 2800, tolMoney)
-	near(t, "liability after exercise", g.LiabilityEnd, 4200, tolMoney)
-	near(t, "liability roll after exercise", g.LiabilityEnd-g.LiabilityOpen, g.Period+g.FairValueChange-g.ReclassifiedEquity, tolMoney)
-	near(t, "Q1 2030 compensation", r.Period, 0, tolMoney)
+	nearly(t, "reclassified", g.ReclassifiedEquity, 2800, tolMoney)
+	nearly(t, "liability after exercise", g.LiabilityEnd, 4200, tolMoney)
+	nearly(t, "liability roll after exercise", g.LiabilityEnd-g.LiabilityOpen, g.Period+g.FairValueChange-g.ReclassifiedEquity, tolMoney)
+	nearly(t, "Q1 2030 compensation", r.Period, 0, tolMoney)
 }
 
 // Rule: the service period starts at the later of grant date and vest start
 // (ServiceStart). A vest start after the grant date delays accrual; one
 // before it is caught up on the grant date.
 func TestServiceStart(t *testing.T) {
-	a := award("L", RSU, "2029-01-01", []string{"2030-04-01"}, []int64{365}, []float64{1})
-	a.Grant.VestStart = date("2029-04-01") // 365 service days to 2030-04-01
+	a := testAward("L", RSU, "2029-01-01", []string{"2030-04-01"}, []int64{365}, []float64{1})
+	a.Grant.VestStart = ymd("2029-04-01") // 365 service days to 2030-04-01
 	pol := ExpensePolicy{Forfeitures: AsOccur}
 	r := mustExpense(t, []AwardCost{a}, pol, "2029-01-01", "2029-03-31")
-	near(t, "nothing before vest start", r.Period, 0, tolMoney)
+	nearly(t, "nothing before vest start", r.Period, 0, tolMoney)
 	r = mustExpense(t, []AwardCost{a}, pol, "2029-04-01", "2029-04-30")
-	near(t, "30 days of 365", r.Period, 30, tolMoney)
+	nearly(t, "30 days of 365", r.Period, 30, tolMoney)
 
 	// Vest start back-dated a year to 2028-01-01, four annual tranches:
 	// tranche 1 (vest 2029-01-01) is vested at grant and booked on the grant day.
-	b := award("B", Option, "2029-01-01", []string{"2029-01-01", "2030-01-01"}, []int64{100, 100}, []float64{2, 2})
-	b.Grant.VestStart = date("2028-01-01")
+	b := testAward("B", Option, "2029-01-01", []string{"2029-01-01", "2030-01-01"}, []int64{100, 100}, []float64{2, 2})
+	b.Grant.VestStart = ymd("2028-01-01")
 	r = mustExpense(t, []AwardCost{b}, pol, "2029-01-01", "2029-01-01")
-	near(t, "catch-up on the grant day", r.Period, 200+200.0/365, tolMoney)
+	nearly(t, "catch-up on the grant day", r.Period, 200+200.0/365, tolMoney)
 }
 
 // Rule: events that do not fit their grant are errors naming the row.
@@ -350,17 +367,17 @@ func TestEventErrors(t *testing.T) {
 		name string
 		ev   Event
 	}{
-		{"exercise unvested", Event{Date: date("2029-06-30"), Kind: Exercised, Shares: 1, Row: 4}},
-		{"exercise more than vested", Event{Date: date("2030-06-30"), Kind: Exercised, Shares: 1001, Row: 5}},
-		{"forfeit more than outstanding", Event{Date: date("2030-06-30"), Kind: Forfeited, Shares: 4001, Row: 6}},
-		{"before grant", Event{Date: date("2028-12-31"), Kind: Forfeited, Shares: 1, Row: 7}},
-		{"zero shares", Event{Date: date("2029-12-31"), Kind: Cancelled, Shares: 0, Row: 8}},
-		{"unknown kind", Event{Date: date("2029-12-31"), Kind: "sold", Shares: 1, Row: 9}},
+		{"exercise unvested", Event{Date: ymd("2029-06-30"), Kind: Exercised, Shares: 1, Row: 4}},
+		{"exercise more than vested", Event{Date: ymd("2030-06-30"), Kind: Exercised, Shares: 1001, Row: 5}},
+		{"forfeit more than outstanding", Event{Date: ymd("2030-06-30"), Kind: Forfeited, Shares: 4001, Row: 6}},
+		{"before grant", Event{Date: ymd("2028-12-31"), Kind: Forfeited, Shares: 1, Row: 7}},
+		{"zero shares", Event{Date: ymd("2029-12-31"), Kind: Cancelled, Shares: 0, Row: 8}},
+		{"unknown kind", Event{Date: ymd("2029-12-31"), Kind: "sold", Shares: 1, Row: 9}},
 	}
 	for _, c := range cases {
 		a := base
 		a.Events = []Event{c.ev}
-		_, err := Expense([]AwardCost{a}, ExpensePolicy{}, date("2030-10-01"), date("2030-12-31"))
+		_, err := Expense([]AwardCost{a}, ExpensePolicy{}, ymd("2030-10-01"), ymd("2030-12-31"))
 		var ee *EventError
 		if !errors.As(err, &ee) || !errors.Is(err, ErrEvent) || ee.Row != c.ev.Row {
 			t.Errorf("%s: got %v, want an EventError for row %d", c.name, err, c.ev.Row)
@@ -368,14 +385,14 @@ func TestEventErrors(t *testing.T) {
 	}
 	// Events after the period end are not applied yet.
 	a := base
-	a.Events = []Event{{Date: date("2031-06-30"), Kind: Exercised, Shares: 5000}}
-	if _, err := Expense([]AwardCost{a}, ExpensePolicy{}, date("2030-10-01"), date("2030-12-31")); err != nil {
+	a.Events = []Event{{Date: ymd("2031-06-30"), Kind: Exercised, Shares: 5000}}
+	if _, err := Expense([]AwardCost{a}, ExpensePolicy{}, ymd("2030-10-01"), ymd("2030-12-31")); err != nil {
 		t.Errorf("event after the period: %v", err)
 	}
-	if _, err := Expense([]AwardCost{base}, ExpensePolicy{Attribution: "front-loaded"}, date("2030-10-01"), date("2030-12-31")); err == nil {
+	if _, err := Expense([]AwardCost{base}, ExpensePolicy{Attribution: "front-loaded"}, ymd("2030-10-01"), ymd("2030-12-31")); err == nil {
 		t.Error("unknown attribution accepted")
 	}
-	if _, err := Expense([]AwardCost{base}, ExpensePolicy{PreVestingForfeitureRate: 1}, date("2030-10-01"), date("2030-12-31")); err == nil {
+	if _, err := Expense([]AwardCost{base}, ExpensePolicy{PreVestingForfeitureRate: 1}, ymd("2030-10-01"), ymd("2030-12-31")); err == nil {
 		t.Error("forfeiture rate 1 accepted")
 	}
 }
@@ -383,7 +400,7 @@ func TestEventErrors(t *testing.T) {
 // randomAward is a grant of 1-6 tranches at random vest dates with random
 // fair values, and at most one termination or cancellation and some exercises.
 func randomAward(rng *rand.Rand, id string) (a AwardCost, vestedCost float64) {
-	grant := date("2027-01-01").AddDate(0, 0, rng.IntN(900))
+	grant := ymd("2027-01-01").AddDate(0, 0, rng.IntN(900))
 	n := 1 + rng.IntN(6)
 	a = AwardCost{Grant: Grant{ID: id, Instrument: []Instrument{Option, RSU, Warrant}[rng.IntN(3)], GrantDate: grant, VestStart: grant.AddDate(0, 0, rng.IntN(200)-100), ExpiryDate: grant.AddDate(10, 0, 0)}}
 	v := grant
@@ -393,7 +410,7 @@ func randomAward(rng *rand.Rand, id string) (a AwardCost, vestedCost float64) {
 		a.Grant.Shares += sh
 		a.Tranches = append(a.Tranches, TrancheCost{Tranche: Tranche{GrantID: id, Index: i + 1, VestDate: v, Shares: sh}, FairValue: 20 * rng.Float64()})
 	}
-	end := date("2027-01-01").AddDate(0, 0, 2800)
+	end := ymd("2027-01-01").AddDate(0, 0, 2800)
 	switch rng.IntN(3) {
 	case 0: // no event: every tranche vests
 		for _, tc := range a.Tranches {
@@ -445,7 +462,7 @@ func TestLifetimeExpenseEqualsVestedCost(t *testing.T) {
 		a, want := randomAward(rng, fmt.Sprintf("R%d", k))
 		tol := 1e-9 * math.Max(1, want)
 		for _, pol := range pols {
-			r, err := Expense([]AwardCost{a}, pol, date("2034-10-01"), date("2034-12-31"))
+			r, err := Expense([]AwardCost{a}, pol, ymd("2034-10-01"), ymd("2034-12-31"))
 			if err != nil {
 				t.Fatalf("award %+v: %v", a, err)
 			}
@@ -460,7 +477,7 @@ func TestLifetimeExpenseEqualsVestedCost(t *testing.T) {
 				t.Errorf("%v award %s: periods add to %.6f, cumulative %.6f", pol, a.Grant.ID, sum, r.Cumulative)
 			}
 			// Mid-life: forecast + after = unrecognised.
-			mid, err := Expense([]AwardCost{a}, pol, date("2028-07-01"), date("2028-09-30"))
+			mid, err := Expense([]AwardCost{a}, pol, ymd("2028-07-01"), ymd("2028-09-30"))
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -503,14 +520,14 @@ func TestForecastQuarters(t *testing.T) {
 	if len(r.Forecast) != ForecastQuarters {
 		t.Fatalf("forecast has %d quarters", len(r.Forecast))
 	}
-	if got := r.Forecast[0]; !got.Start.Equal(date("2029-11-16")) || !got.End.Equal(date("2029-12-31")) {
+	if got := r.Forecast[0]; !got.Start.Equal(ymd("2029-11-16")) || !got.End.Equal(ymd("2029-12-31")) {
 		t.Errorf("first forecast quarter %v..%v", got.Start, got.End)
 	}
-	if got := r.Forecast[15]; !got.Start.Equal(date("2033-07-01")) || !got.End.Equal(date("2033-09-30")) {
+	if got := r.Forecast[15]; !got.Start.Equal(ymd("2033-07-01")) || !got.End.Equal(ymd("2033-09-30")) {
 		t.Errorf("last forecast quarter %v..%v", got.Start, got.End)
 	}
 	// Context: Q1, Q2 2029, then July 2029 (the period starts 1 August), then the current period.
-	if len(r.Periods) != 4 || !r.Periods[2].End.Equal(date("2029-07-31")) || !r.Periods[3].Current {
+	if len(r.Periods) != 4 || !r.Periods[2].End.Equal(ymd("2029-07-31")) || !r.Periods[3].Current {
 		t.Errorf("periods %+v", r.Periods)
 	}
 }

@@ -61,6 +61,10 @@ type Schedule struct {
 	SharePrices []PricePoint
 	Rates       []RatePoint
 	Events      []Event
+
+	// layout is, per sheet read, the 0-based column of each column key, so
+	// that problems with empty cells can name the cell.
+	layout map[string]map[string]int
 }
 
 // Company is the Company sheet.
@@ -171,5 +175,18 @@ type Tranche struct {
 	GrantID  string
 	Index    int // 1-based, in vest-date order
 	VestDate time.Time
-	Shares   int64
+	Shares   int64 // as granted
+
+	// Forfeited of Shares were forfeited before vesting, by the forfeited
+	// events up to ForfeitDate (the last such event): the holder left.
+	Forfeited   int64
+	ForfeitDate time.Time
+	// Cancelled of Shares were cancelled before vesting by cancelled
+	// events up to CancelDate.
+	Cancelled  int64
+	CancelDate time.Time
 }
+
+// Vesting is the number of shares of the tranche that vest (or vested):
+// Shares less Forfeited and Cancelled.
+func (t Tranche) Vesting() int64 { return t.Shares - t.Forfeited - t.Cancelled }

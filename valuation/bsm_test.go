@@ -36,6 +36,8 @@ func TestBSMPublished(t *testing.T) {
 			BSMInputs{Spot: 75, Strike: 70, Years: 0.5, Rate: 0.10, DividendYield: 0.05, Vol: 0.35}, false, 4.0870, tol4},
 		{"Haug (1998) table as used by many libraries' test suites, call",
 			BSMInputs{Spot: 42, Strike: 40, Years: 0.75, Rate: 0.04, DividendYield: 0.08, Vol: 0.35}, true, 5.0975, tol4},
+		{"Benninga, Financial Modelling 3rd ed., §17.8, the BSM call on S·e^(−qT) beside the employee-option lattice",
+			BSMInputs{Spot: 50, Strike: 50, Years: 10, Rate: 0.05, DividendYield: 0.025, Vol: 0.35}, true, 19.1842, tol4},
 	}
 	for _, c := range cases {
 		got := BSMPut(c.in)
@@ -44,6 +46,27 @@ func TestBSMPublished(t *testing.T) {
 		}
 		if math.Abs(got-c.want) > c.tol {
 			t.Errorf("%s\n  inputs %+v call=%v: got %.6f, want %.4f, tol %g", c.source, c.in, c.call, got, c.want, c.tol)
+		}
+	}
+}
+
+// Hull, Options, Futures, and Other Derivatives, the Greek letters chapter:
+// S=49, K=50, r=0.05, σ=0.20, T=20 weeks (0.3846 years): call 2.40, delta
+// 0.522, gamma 0.066, theta −4.31 a year, vega 12.1, rho 8.91 (from memory).
+// Tolerances are half a unit in the published last decimal.
+func TestBSMGreeksHull(t *testing.T) {
+	in := BSMInputs{Spot: 49, Strike: 50, Years: 20.0 / 52, Rate: 0.05, Vol: 0.20}
+	g := BSMGreeks(in, true)
+	for _, c := range []struct {
+		name      string
+		got, want float64
+		tol       float64
+	}{
+		{"call", BSMCall(in), 2.40, 0.005}, {"delta", g.Delta, 0.522, 0.0005}, {"gamma", g.Gamma, 0.066, 0.0005},
+		{"theta", g.Theta, -4.31, 0.005}, {"vega", g.Vega, 12.1, 0.05}, {"rho", g.Rho, 8.91, 0.005},
+	} {
+		if math.Abs(c.got-c.want) > c.tol {
+			t.Errorf("Hull Greeks example %s %+v: got %.5f, want %v, tol %g", c.name, in, c.got, c.want, c.tol)
 		}
 	}
 }
@@ -99,6 +122,7 @@ func loadQuantLibBSM(t *testing.T) (version string, cases []qlBSMCase) {
 func TestBSMQuantLib(t *testing.T) {
 	const relTol = 1e-9 // relative to max(|want|, 1e-3·spot)
 	version, cases := loadQuantLibBSM(t)
+	worst := 0.0
 	for _, c := range cases {
 		in := BSMInputs{c.Spot, c.Strike, c.Years, c.Rate, c.DividendYield, c.Vol}
 		call := c.Type == "call"
@@ -113,11 +137,13 @@ func TestBSMQuantLib(t *testing.T) {
 		}{{"value", value, c.Value}, {"delta", g.Delta, c.Delta}, {"gamma", g.Gamma, c.Gamma},
 			{"vega", g.Vega, c.Vega}, {"theta", g.Theta, c.Theta}, {"rho", g.Rho, c.Rho}} {
 			scale := math.Max(math.Abs(x.want), 1e-3*c.Spot)
+			worst = math.Max(worst, math.Abs(x.got-x.want)/scale)
 			if math.Abs(x.got-x.want) > relTol*scale {
 				t.Errorf("QuantLib %s %s %+v: got %.15g, want %.15g, tol %g", version, x.name, c, x.got, x.want, relTol*scale)
 			}
 		}
 	}
+	t.Logf("%d cases against QuantLib %s: largest relative difference %.2g (value and Greeks)", len(cases), version, worst)
 }
 
 // bsmGrid is a spread of inputs for the identity tests below.

@@ -197,3 +197,54 @@ func BenchmarkMonteCarlo(b *testing.B) {
 		benchSink += r.Value
 	}
 }
+
+// Monte Carlo against the lattice (auto mode, default conventions) on a
+// spread of employee options: two independent methods of the same model
+// agree within 3 combined standard errors (the lattice's error estimate
+// counted as one).
+func TestMonteCarloVersusLattice(t *testing.T) {
+	curve, err := NewCurve([]CurvePoint{{Tenor: 0.5, Rate: 0.035}, {Tenor: 2, Rate: 0.038}, {Tenor: 10, Rate: 0.045}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	cases := []struct {
+		name  string
+		terms Terms
+		mkt   Market
+		spy   int
+		paths int
+	}{
+		{"DESIGN §6 employee option, our conventions", Terms{Strike: 50, YearsToExpiry: 10, YearsToVest: 3, ExerciseMultiple: 3, ExitRate: 0.10},
+			Market{Spot: 50, VolAnnual: 0.35, DividendYield: 0.025, Curve: FlatCurve(0.05)}, 24, 40000},
+		{"issue 2 done-when grant", Terms{Strike: 12, YearsToExpiry: 10, YearsToVest: 4, ExerciseMultiple: 2.5, ExitRate: 0.08},
+			Market{Spot: 12, VolAnnual: 0.55, DividendYield: 0, Curve: FlatCurve(0.04)}, 24, 40000},
+		{"out of the money, curve", Terms{Strike: 30, YearsToExpiry: 7, YearsToVest: 1, ExerciseMultiple: 2, ExitRate: 0.15},
+			Market{Spot: 20, VolAnnual: 0.45, DividendYield: 0.01, Curve: curve}, 24, 40000},
+		{"in the money, vested, high exits", Terms{Strike: 15, YearsToExpiry: 5, ExerciseMultiple: 2.2, ExitRate: 0.40},
+			Market{Spot: 20, VolAnnual: 0.30, DividendYield: 0.04, Curve: curve}, 24, 40000},
+		{"no multiple, exits, dividends", Terms{Strike: 40, YearsToExpiry: 8, YearsToVest: 2, ExitRate: 0.12},
+			Market{Spot: 42, VolAnnual: 0.40, DividendYield: 0.03, Curve: FlatCurve(0.03)}, 24, 40000},
+		{"multiple only, low vol", Terms{Strike: 100, YearsToExpiry: 10, YearsToVest: 4, ExerciseMultiple: 1.6},
+			Market{Spot: 100, VolAnnual: 0.20, DividendYield: 0.015, Curve: curve}, 24, 40000},
+		{"short term, multiple near spot", Terms{Strike: 10, YearsToExpiry: 2, YearsToVest: 0.5, ExerciseMultiple: 1.3, ExitRate: 0.2},
+			Market{Spot: 11, VolAnnual: 0.60, DividendYield: 0, Curve: curve}, 52, 40000},
+		{"cliff at 1 year, high vol", Terms{Strike: 5, YearsToExpiry: 10, YearsToVest: 1, ExerciseMultiple: 4, ExitRate: 0.05},
+			Market{Spot: 4, VolAnnual: 0.80, DividendYield: 0, Curve: FlatCurve(0.045)}, 24, 40000},
+		{"negative rates, vesting 3", Terms{Strike: 20, YearsToExpiry: 6, YearsToVest: 3, ExerciseMultiple: 2, ExitRate: 0.1},
+			Market{Spot: 20, VolAnnual: 0.30, DividendYield: 0.0, Curve: FlatCurve(-0.005)}, 24, 40000},
+	}
+	for i, c := range cases {
+		lat, err := Lattice(c.terms, c.mkt, LatticeOptions{})
+		if err != nil {
+			t.Fatalf("%s: lattice: %v", c.name, err)
+		}
+		r := mcCheck(t, c.name, c.terms, c.mkt, MCOptions{Paths: c.paths, StepsPerYear: c.spy, Seed: uint64(100 + i)}, lat.Value, lat.ErrorEstimate)
+		// Expected terms: the Monte Carlo term has a standard error of about
+		// (sd of the life ≤ 3 years)/√20,000 pairs ≈ 0.02 years (the pair
+		// shares its exit time), so 0.05 is under 3 of them.
+		if d := r.ExpectedTermYears - lat.ExpectedTermYears; math.Abs(d) > 0.05 {
+			t.Errorf("%s: expected term MC %.4f, lattice %.4f", c.name, r.ExpectedTermYears, lat.ExpectedTermYears)
+		}
+		t.Logf("  lattice %.5f ± %.5f, term %.4f (MC term %.4f)", lat.Value, lat.ErrorEstimate, lat.ExpectedTermYears, r.ExpectedTermYears)
+	}
+}

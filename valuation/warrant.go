@@ -107,3 +107,55 @@ func EuropeanWarrant(t Terms, m Market, d Dilution) (Result, error) {
 	}
 	return Result{Value: w, ExpectedTermYears: t.YearsToExpiry, Method: MethodBSM}, nil
 }
+
+// WarrantValue is the value per warrant under the dilution d.
+//
+// European terms (t.European) use EuropeanWarrant. Otherwise the warrant is
+// exercisable at any time after vesting: the call C in Dilution's formulas is
+// the lattice value of the same terms with rational exercise
+// (t.Rational = true; Lattice with options o), and the dilution is then
+// applied to it. That is an approximation for American warrants, the usual
+// one: the dilution factor treats the whole issue as exercised at once at the
+// optimal time of one undiluted call, whereas holders exercising early in
+// part change the share count and the share price process afterwards. It is
+// exact when early exercise is never optimal (no dividends, no exit, no
+// multiple), where it equals the European value.
+//
+// The result's ErrorEstimate is the lattice's error estimate times N/(N+W)
+// (and 0 for European terms); ExpectedTermYears, Steps and Method are the
+// lattice's at the share value the call was finally evaluated at.
+func WarrantValue(t Terms, m Market, d Dilution, o LatticeOptions) (Result, error) {
+	if t.European {
+		return EuropeanWarrant(t, m, d)
+	}
+	if err := checkClosedForm(t, m); err != nil {
+		return Result{}, err
+	}
+	tt := t
+	tt.Rational = true
+	var last Result
+	w, at, err := DilutedValue(d, m.Spot, func(s float64) (float64, error) {
+		mm := m
+		mm.Spot = s
+		r, err := Lattice(tt, mm, o)
+		last = r
+		return r.Value, err
+	})
+	if err != nil {
+		return Result{}, err
+	}
+	if at != m.Spot { // the root finder's last call need not be at the root
+		mm := m
+		mm.Spot = at
+		if last, err = Lattice(tt, mm, o); err != nil {
+			return Result{}, err
+		}
+	}
+	return Result{
+		Value:             w,
+		ErrorEstimate:     d.Factor() * last.ErrorEstimate,
+		ExpectedTermYears: last.ExpectedTermYears,
+		Steps:             last.Steps,
+		Method:            MethodLattice,
+	}, nil
+}

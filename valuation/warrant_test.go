@@ -69,3 +69,50 @@ func TestDilutionCheck(t *testing.T) {
 		}
 	}
 }
+
+// American warrants on the lattice: on a share paying no dividends early
+// exercise is never optimal (Merton 1973), so the American warrant equals
+// the European one; with dividends it is worth at least as much; and with
+// the price reflecting the warrants the Galai-Schneller fixed point holds
+// with the lattice value as the call.
+func TestWarrantAmerican(t *testing.T) {
+	terms := Terms{Strike: 60, YearsToExpiry: 5}
+	mkt := Market{Spot: 40, VolAnnual: 0.30, Curve: FlatCurve(0.03)}
+	for _, reflects := range []bool{false, true} {
+		d := Dilution{SharesOutstanding: 1e6, Warrants: 2e5, PriceReflectsWarrants: reflects}
+		am, err := WarrantValue(terms, mkt, d, LatticeOptions{})
+		if err != nil {
+			t.Fatal(err)
+		}
+		eu, err := EuropeanWarrant(terms, mkt, d)
+		if err != nil {
+			t.Fatal(err)
+		}
+		tol := 3*am.ErrorEstimate + 1e-5*eu.Value // lattice error estimate; the 1e-5 vanilla target of DESIGN §5
+		if math.Abs(am.Value-eu.Value) > tol || am.Method != MethodLattice {
+			t.Errorf("reflects=%v: American warrant %.7f ± %.2g, European %.7f, tol %.2g", reflects, am.Value, am.ErrorEstimate, eu.Value, tol)
+		}
+	}
+	mkt.DividendYield = 0.06
+	terms.Strike = 30
+	d := Dilution{SharesOutstanding: 1e6, Warrants: 2e5, PriceReflectsWarrants: true}
+	am, err := WarrantValue(terms, mkt, d, LatticeOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	eu, _ := EuropeanWarrant(terms, mkt, d)
+	if !(am.Value > eu.Value) {
+		t.Errorf("with dividends: American warrant %v not above European %v", am.Value, eu.Value)
+	}
+	shifted := mkt
+	shifted.Spot = 40 + 0.2*am.Value
+	rational := terms
+	rational.Rational = true
+	c, err := Lattice(rational, shifted, LatticeOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if res := am.Value - d.Factor()*c.Value; math.Abs(res) > 1e-9*40 {
+		t.Errorf("American Galai-Schneller residual %g", res)
+	}
+}

@@ -1,0 +1,190 @@
+package main
+
+import (
+	"encoding/json"
+	"errors"
+	"fmt"
+	"io"
+	"io/fs"
+	"sort"
+	"strings"
+	"time"
+
+	"github.com/spf13/cobra"
+
+	"grantworth/grants"
+)
+
+func init() { verbs = append(verbs, newCheckCmd) }
+
+type checkOptions struct {
+	io   *IO
+	path string
+	json bool
+}
+
+func newCheckCmd(ios *IO) *cobra.Command {
+	opts := &checkOptions{io: ios}
+	cmd := &cobra.Command{
+		Use:   "check SCHEDULE",
+		Short: "Validate a grant schedule and list every problem with its cell",
+		Long: `check reads a grant schedule (an .xlsx workbook or a folder of CSV files)
+and lists every problem it finds, one per line as Sheet!Cell (column): message,
+errors first, then warnings, and a short summary: grants by instrument,
+tranches and measurement dates.
+
+It exits 0 when there is no error (warnings allowed) and 2 when there is any.`,
+		Example: `  grantworth check sample/tarnwick.xlsx
+  grantworth check sample/tarnwick-csv
+  grantworth check ledger.xlsx --json | jq .errors`,
+		Args: cobra.ExactArgs(1),
+		RunE: func(_ *cobra.Command, args []string) error {
+			opts.path = args[0]
+			return runCheck(opts)
+		},
+	}
+	cmd.Flags().BoolVar(&opts.json, "json", false, "print the problems and the summary as one JSON object")
+	return cmd
+}
+
+type checkProblem struct {
+	Sheet   string `json:"sheet"`
+	Cell    string `json:"cell"`
+	Column  string `json:"column,omitempty"`
+	Value   string `json:"value,omitempty"`
+	Message string `json:"message"`
+}
+
+type checkSummary struct {
+	Grants           int            `json:"grants"`
+	Instruments      map[string]int `json:"instruments"`
+	Tranches         int            `json:"tranches"`
+	MeasurementDates int            `json:"measurement_dates"`
+	FirstDate        string         `json:"first_measurement_date,omitempty"`
+	LastDate         string         `json:"last_measurement_date,omitempty"`
+}
+
+type checkResult struct {
+	Path          string         `json:"path"`
+	OK            bool           `json:"ok"`
+	Errors        []checkProblem `json:"errors"`
+	ErrorsDropped int            `json:"errors_not_listed"`
+	Warnings      []checkProblem `json:"warnings"`
+	Summary       *checkSummary  `json:"summary,omitempty"`
+}
+
+func checkProblemOf(e *grants.CellError) checkProblem {
+	p := checkProblem{Sheet: e.Sheet, Cell: e.Cell, Column: e.Column, Value: e.Value, Message: e.Error()}
+	return p
+}
+
+func runCheck(o *checkOptions) error {
+	s, rep, err := grants.ReadFile(o.path)
+	res := checkResult{Path: o.path, Errors: []checkProblem{}, Warnings: []checkProblem{}}
+	if err != nil {
+		var ce *grants.CellError
+		switch {
+		case errors.As(err, &ce):
+			res.Errors = append(res.Errors, checkProblemOf(ce))
+		case errors.Is(err, fs.ErrNotExist):
+			return badInput("%s: no such file or folder", o.path)
+		default:
+			return err
+		}
+	} else {
+		for _, e := range rep.Errors {
+			res.Errors = append(res.Errors, checkProblemOf(e))
+		}
+		for _, w := range rep.Warnings {
+			res.Warnings = append(res.Warnings, checkProblemOf(w))
+		}
+		res.ErrorsDropped = rep.Dropped
+		res.Summary = checkSummarize(s)
+	}
+	res.OK = len(res.Errors) == 0 && res.ErrorsDropped == 0
+	if o.json {
+		enc := json.NewEncoder(o.io.Out)
+		enc.SetIndent("", "  ")
+		if err := enc.Encode(res); err != nil {
+			return err
+		}
+	} else {
+		printCheck(o.io.Out, &res)
+	}
+	if !res.OK {
+		return silentExit{exitInput}
+	}
+	return nil
+}
+
+func printCheck(w io.Writer, r *checkResult) {
+	for _, e := range r.Errors {
+		fmt.Fprintln(w, e.Message)
+	}
+	if r.ErrorsDropped > 0 {
+		fmt.Fprintf(w, "... and %d more errors not listed\n", r.ErrorsDropped)
+	}
+	for _, e := range r.Warnings {
+		fmt.Fprintln(w, checkWarningLine(e.Message))
+	}
+	if sm := r.Summary; sm != nil {
+		var kinds []string
+		for _, k := range []string{"option", "warrant", "rsu"} {
+			if n := sm.Instruments[k]; n > 0 {
+				kinds = append(kinds, fmt.Sprintf("%d %s", n, checkPlural(n, k)))
+			}
+		}
+		fmt.Fprintf(w, "%s: %d %s", r.Path, sm.Grants, checkPlural(sm.Grants, "grant"))
+		if len(kinds) > 0 {
+			fmt.Fprintf(w, " (%s)", strings.Join(kinds, ", "))
+		}
+		fmt.Fprintf(w, ", %d %s, %d measurement %s", sm.Tranches, checkPlural(sm.Tranches, "tranche"), sm.MeasurementDates, checkPlural(sm.MeasurementDates, "date"))
+		if sm.FirstDate != "" {
+			fmt.Fprintf(w, " from %s to %s", sm.FirstDate, sm.LastDate)
+		}
+		fmt.Fprintln(w)
+	}
+	ne := len(r.Errors) + r.ErrorsDropped
+	fmt.Fprintf(w, "%d %s, %d %s\n", ne, checkPlural(ne, "error"), len(r.Warnings), checkPlural(len(r.Warnings), "warning"))
+}
+
+// warningLine puts "warning:" after the cell reference, so that every line
+// still starts with Sheet!Cell.
+func checkWarningLine(msg string) string {
+	if i := strings.Index(msg, ": "); i >= 0 {
+		return msg[:i] + ": warning: " + msg[i+2:]
+	}
+	return "warning: " + msg
+}
+
+func checkPlural(n int, w string) string {
+	if n == 1 {
+		return w
+	}
+	if w == "rsu" {
+		return "RSUs"
+	}
+	return w + "s"
+}
+
+func checkSummarize(s *grants.Schedule) *checkSummary {
+	sm := &checkSummary{Grants: len(s.Grants), Instruments: map[string]int{}}
+	dates := map[time.Time]bool{}
+	for _, g := range s.Grants {
+		sm.Instruments[string(g.Instrument)]++
+		sm.Tranches += len(s.Tranches(g))
+		dates[s.MeasurementDate(g)] = true
+	}
+	var ds []time.Time
+	for t := range dates {
+		if !t.IsZero() {
+			ds = append(ds, t)
+		}
+	}
+	sort.Slice(ds, func(i, j int) bool { return ds[i].Before(ds[j]) })
+	sm.MeasurementDates = len(ds)
+	if len(ds) > 0 {
+		sm.FirstDate, sm.LastDate = ds[0].Format(time.DateOnly), ds[len(ds)-1].Format(time.DateOnly)
+	}
+	return sm
+}

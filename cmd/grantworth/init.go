@@ -1,0 +1,127 @@
+package main
+
+import (
+	"bytes"
+	"errors"
+	"fmt"
+	"io/fs"
+	"os"
+	"path/filepath"
+
+	"github.com/spf13/cobra"
+
+	"grantworth/grants"
+)
+
+func init() { verbs = append(verbs, newInitCmd) }
+
+// Names of what init writes inside DIR.
+const (
+	templateXLSX = "grant-schedule.xlsx"
+	templateCSV  = "grant-schedule-csv"
+)
+
+type initOptions struct {
+	io    *IO
+	dir   string
+	csv   bool
+	force bool
+}
+
+func newInitCmd(ios *IO) *cobra.Command {
+	opts := &initOptions{io: ios}
+	cmd := &cobra.Command{
+		Use:   "init [DIR]",
+		Short: "Write a blank, documented grant schedule workbook to fill in",
+		Long: `init writes ` + templateXLSX + ` into DIR (default: the current folder): every
+sheet grantworth reads with its column headers, an About sheet that explains
+each column, drop-down lists for the choices and date and percent formats.
+With --csv it writes the folder ` + templateCSV + ` of CSV files instead, one
+per sheet. It never overwrites an existing file unless --force is given.`,
+		Example: `  grantworth init
+  grantworth init q3-close
+  grantworth init q3-close --csv`,
+		Args: cobra.MaximumNArgs(1),
+		RunE: func(_ *cobra.Command, args []string) error {
+			opts.dir = "."
+			if len(args) == 1 {
+				opts.dir = args[0]
+			}
+			return runInit(opts)
+		},
+	}
+	cmd.Flags().BoolVar(&opts.csv, "csv", false, "write a folder of CSV files instead of a workbook")
+	cmd.Flags().BoolVar(&opts.force, "force", false, "replace existing files")
+	return cmd
+}
+
+func runInit(o *initOptions) error {
+	if err := os.MkdirAll(o.dir, 0o755); err != nil {
+		return badInput("cannot create %s: %v", o.dir, err)
+	}
+	if o.csv {
+		dir := filepath.Join(o.dir, templateCSV)
+		if _, err := os.Stat(dir); err == nil && !o.force {
+			return badInput("%s exists; use --force to replace its files", dir)
+		}
+		if err := os.MkdirAll(dir, 0o755); err != nil {
+			return err
+		}
+		if err := grants.WriteCSVDir(dir, nil); err != nil {
+			return err
+		}
+		fmt.Fprintln(o.io.Out, dir)
+		return nil
+	}
+	path := filepath.Join(o.dir, templateXLSX)
+	if _, err := os.Stat(path); err == nil && !o.force {
+		return badInput("%s exists; use --force to replace it", path)
+	} else if err != nil && !errors.Is(err, fs.ErrNotExist) {
+		return err
+	}
+	var buf bytes.Buffer
+	if err := grants.WriteXLSX(&buf, nil); err != nil {
+		return err
+	}
+	if err := initWriteAtomic(path, buf.Bytes()); err != nil {
+		return err
+	}
+	fmt.Fprintln(o.io.Out, path)
+	return nil
+}
+
+// initWriteAtomic writes data to a temporary file beside path, syncs it and
+// renames it over path, so that path is never left half written.
+func initWriteAtomic(path string, data []byte) (err error) {
+	dir := filepath.Dir(path)
+	f, err := os.CreateTemp(dir, "."+filepath.Base(path)+".tmp*")
+	if err != nil {
+		return err
+	}
+	defer func() {
+		if err != nil {
+			f.Close()
+			os.Remove(f.Name())
+		}
+	}()
+	if _, err = f.Write(data); err != nil {
+		return err
+	}
+	if err = f.Sync(); err != nil {
+		return err
+	}
+	if err = f.Close(); err != nil {
+		return err
+	}
+	if err = os.Chmod(f.Name(), 0o644); err != nil {
+		return err
+	}
+	if err = os.Rename(f.Name(), path); err != nil {
+		return err
+	}
+	if d, err := os.Open(dir); err == nil {
+		d.Sync()
+		d.Close()
+	}
+	return nil
+}

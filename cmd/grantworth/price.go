@@ -1,0 +1,415 @@
+package main
+
+import (
+	"encoding/json"
+	"fmt"
+	"io"
+	"math"
+	"strings"
+	"text/tabwriter"
+
+	"github.com/spf13/cobra"
+
+	"grantworth/valuation"
+)
+
+func init() {
+	verbs = append(verbs, func(ios *IO) *cobra.Command { return newPriceCmd(ios, nil) })
+}
+
+// priceOptions are the parsed arguments of `grantworth price`.
+type priceOptions struct {
+	IO                *IO
+	Spot, Strike      float64
+	Years, Vol, Rate  float64
+	DividendYield     float64
+	VestYears         float64
+	Multiple          float64
+	ExitRate          float64
+	American          bool
+	European          bool
+	Steps             int // 0 = auto
+	Method            valuation.Method
+	SharesOutstanding float64 // 0 = no dilution
+	Warrants          float64
+	NewIssue          bool
+	Paths             int
+	Seed              uint64
+	JSON              bool
+}
+
+func (o *priceOptions) diluted() bool { return o.SharesOutstanding > 0 }
+
+func (o *priceOptions) terms() valuation.Terms {
+	return valuation.Terms{
+		Strike: o.Strike, YearsToExpiry: o.Years, YearsToVest: o.VestYears,
+		ExerciseMultiple: o.Multiple, ExitRate: o.ExitRate,
+		Rational: o.American, European: o.European,
+	}
+}
+
+func (o *priceOptions) market() valuation.Market {
+	return valuation.Market{Spot: o.Spot, VolAnnual: o.Vol, DividendYield: o.DividendYield, Curve: valuation.FlatCurve(o.Rate)}
+}
+
+func (o *priceOptions) dilution() valuation.Dilution {
+	return valuation.Dilution{SharesOutstanding: o.SharesOutstanding, Warrants: o.Warrants, PriceReflectsWarrants: !o.NewIssue}
+}
+
+func newPriceCmd(ios *IO, runF func(*priceOptions) error) *cobra.Command {
+	opts := &priceOptions{IO: ios}
+	var method string
+	cmd := &cobra.Command{
+		Use:   "price",
+		Short: "Value one option, warrant or award from its terms",
+		Long: `Value one award from flags: the fair value per share on the employee-option
+lattice (default), by Black-Scholes-Merton, or by Monte Carlo, with the
+expected term and the Black-Scholes-Merton comparison on the contractual term
+and on the simplified-method term ((vesting + term)/2, SEC SAB 107).
+
+The model: no exercise before vesting; once vested, exercise as soon as the
+share reaches --exercise-multiple times the strike; vested holders leave at
+--exit-rate a year (the annual share who leave) and then exercise if in the
+money, else the option lapses; at expiry, exercise if in the money.
+--american adds rational early exercise; --european values exercise at
+expiry only (ignoring vesting, multiple and exits). Rates are continuously
+compounded; volatility and rates are decimals (0.45, not 45).
+
+Without --steps the lattice value is converged, with an error estimate;
+--steps N gives the raw N-step Cox-Ross-Rubinstein tree. With
+--shares-outstanding and --warrants the value is per warrant after dilution:
+by default the share price already reflects the warrants (Galai-Schneller);
+--new-issue applies the plain N/(N+W) factor. On the lattice warrants are
+American (rational exercise) unless --european; --method bsm values them
+European.
+
+The figures are estimates, not an audit opinion: defer to licensed auditors
+or valuation professionals and the accounting rules that apply to you
+(ASC 718, IFRS 2 or local rules).`,
+		Example: `  # A Halvard Bioworks option: 4-year vesting, exercise at 2.5x the strike, 8% of vested holders leave a year
+  grantworth price --spot 12 --strike 12 --years 10 --vol 0.55 --rate 0.04 \
+      --vest-years 4 --exercise-multiple 2.5 --exit-rate 0.08
+
+  # The same as one JSON object, and cross-checked by Monte Carlo
+  grantworth price --spot 12 --strike 12 --years 10 --vol 0.55 --rate 0.04 \
+      --vest-years 4 --exercise-multiple 2.5 --exit-rate 0.08 --json
+  grantworth price --spot 12 --strike 12 --years 10 --vol 0.55 --rate 0.04 \
+      --vest-years 4 --exercise-multiple 2.5 --exit-rate 0.08 --method mc
+
+  # Warrants Halvard issued to a lender: 400,000 on 25,000,000 shares, American
+  grantworth price --spot 12 --strike 15 --years 7 --vol 0.55 --rate 0.04 \
+      --american --shares-outstanding 25000000 --warrants 400000`,
+		Args: cobra.NoArgs,
+		RunE: func(cmd *cobra.Command, args []string) error {
+			if err := opts.check(cmd, method); err != nil {
+				return err
+			}
+			if runF != nil {
+				return runF(opts)
+			}
+			return runPrice(opts)
+		},
+	}
+	f := cmd.Flags()
+	f.Float64Var(&opts.Spot, "spot", 0, "share fair value at the measurement date (required)")
+	f.Float64Var(&opts.Strike, "strike", 0, "exercise price (required)")
+	f.Float64Var(&opts.Years, "years", 0, "contractual term in years (required)")
+	f.Float64Var(&opts.Vol, "vol", 0, "annual volatility, e.g. 0.45 (required)")
+	f.Float64Var(&opts.Rate, "rate", 0, "risk-free rate, flat, continuously compounded, e.g. 0.04 (required)")
+	f.Float64Var(&opts.DividendYield, "dividend-yield", 0, "continuous dividend yield")
+	f.Float64Var(&opts.VestYears, "vest-years", 0, "years to the vest date (0 = vested)")
+	f.Float64Var(&opts.Multiple, "exercise-multiple", 0, "exercise once the share reaches this multiple of the strike (0 = none)")
+	f.Float64Var(&opts.ExitRate, "exit-rate", 0, "annual share of vested holders who leave, in [0, 1)")
+	f.BoolVar(&opts.American, "american", false, "also exercise whenever that is optimal (rational exercise)")
+	f.BoolVar(&opts.European, "european", false, "exercise at expiry only: ignores vesting, multiple and exits")
+	f.IntVar(&opts.Steps, "steps", 0, "raw N-step lattice (default: auto, converged)")
+	f.StringVar(&method, "method", "lattice", "lattice, bsm or mc")
+	f.Float64Var(&opts.SharesOutstanding, "shares-outstanding", 0, "shares in issue, for warrant dilution (with --warrants)")
+	f.Float64Var(&opts.Warrants, "warrants", 0, "shares the warrants would issue (with --shares-outstanding)")
+	f.BoolVar(&opts.NewIssue, "new-issue", false, "dilution of a new issue: the share price does not yet reflect the warrants")
+	f.IntVar(&opts.Paths, "paths", 100000, "Monte Carlo paths (with --method mc)")
+	f.Uint64Var(&opts.Seed, "seed", 1, "Monte Carlo seed (with --method mc)")
+	f.BoolVar(&opts.JSON, "json", false, "print one JSON object")
+	return cmd
+}
+
+// check validates the flags; every message names the flag and its value.
+func (o *priceOptions) check(cmd *cobra.Command, method string) error {
+	f := cmd.Flags()
+	var missing []string
+	for _, name := range []string{"spot", "strike", "years", "vol", "rate"} {
+		if !f.Changed(name) {
+			missing = append(missing, "--"+name)
+		}
+	}
+	if len(missing) > 0 {
+		return badInput("missing required flags: %s", strings.Join(missing, ", "))
+	}
+	for _, c := range []struct {
+		flag string
+		v    float64
+	}{{"spot", o.Spot}, {"strike", o.Strike}, {"years", o.Years}, {"vol", o.Vol}, {"rate", o.Rate},
+		{"dividend-yield", o.DividendYield}, {"vest-years", o.VestYears}, {"exercise-multiple", o.Multiple},
+		{"exit-rate", o.ExitRate}, {"shares-outstanding", o.SharesOutstanding}, {"warrants", o.Warrants}} {
+		if math.IsNaN(c.v) || math.IsInf(c.v, 0) {
+			return badInput("--%s %v: not a finite number", c.flag, c.v)
+		}
+	}
+	switch {
+	case o.Spot <= 0:
+		return badInput("--spot %v: the share value must be above 0", o.Spot)
+	case o.Strike <= 0:
+		return badInput("--strike %v: the strike must be above 0", o.Strike)
+	case o.Years <= 0 || o.Years > 100:
+		return badInput("--years %v: the term must be above 0 (and at most 100) years", o.Years)
+	case o.Vol <= 0 || o.Vol > 5:
+		return badInput("--vol %v: volatility must be above 0 (a decimal: 0.45, not 45)", o.Vol)
+	case math.Abs(o.Rate) > 1:
+		return badInput("--rate %v: a decimal rate between -1 and 1 (0.04, not 4)", o.Rate)
+	case o.DividendYield < 0 || o.DividendYield > 1:
+		return badInput("--dividend-yield %v: a decimal yield between 0 and 1", o.DividendYield)
+	case o.VestYears < 0:
+		return badInput("--vest-years %v: must be at or above 0", o.VestYears)
+	case o.VestYears > o.Years:
+		return badInput("--vest-years %v: vesting comes after expiry (--years %v)", o.VestYears, o.Years)
+	case o.Multiple < 0 || (o.Multiple > 0 && o.Multiple <= 1):
+		return badInput("--exercise-multiple %v: 0 (none) or above 1", o.Multiple)
+	case o.ExitRate < 0 || o.ExitRate >= 1:
+		return badInput("--exit-rate %v: an annual share at or above 0 and below 1", o.ExitRate)
+	case f.Changed("steps") && (o.Steps < 1 || o.Steps > valuation.MaxLatticeSteps):
+		return badInput("--steps %d: between 1 and %d", o.Steps, valuation.MaxLatticeSteps)
+	case o.American && o.European:
+		return badInput("--american and --european cannot be used together")
+	case f.Changed("shares-outstanding") != f.Changed("warrants"):
+		return badInput("--shares-outstanding and --warrants go together")
+	case f.Changed("shares-outstanding") && o.SharesOutstanding <= 0:
+		return badInput("--shares-outstanding %v: must be above 0", o.SharesOutstanding)
+	case f.Changed("warrants") && o.Warrants <= 0:
+		return badInput("--warrants %v: must be above 0", o.Warrants)
+	case o.NewIssue && !f.Changed("warrants"):
+		return badInput("--new-issue needs --shares-outstanding and --warrants")
+	}
+	switch method {
+	case "lattice":
+		o.Method = valuation.MethodLattice
+	case "bsm":
+		o.Method = valuation.MethodBSM
+		if f.Changed("steps") {
+			return badInput("--steps %d: the lattice's; --method bsm is a closed form", o.Steps)
+		}
+		if o.American {
+			return badInput("--american: --method bsm values exercise at expiry only; use --method lattice")
+		}
+	case "mc":
+		o.Method = valuation.MethodMC
+		if f.Changed("steps") {
+			return badInput("--steps %d: the lattice's; --method mc takes --paths", o.Steps)
+		}
+		if o.American {
+			return badInput("--american: Monte Carlo does not value rational exercise; use --method lattice")
+		}
+		if o.Paths < 2 || o.Paths > 10_000_000 {
+			return badInput("--paths %d: between 2 and 10000000", o.Paths)
+		}
+	default:
+		return badInput("--method %q: want lattice, bsm or mc", method)
+	}
+	return nil
+}
+
+// priceResult is everything `price` prints.
+type priceResult struct {
+	Main            valuation.Result
+	Mode            string // auto, raw, closed form, Monte Carlo
+	BSM, Simplified valuation.Result
+	Opts            *priceOptions
+}
+
+// dilute applies the options' dilution (if any) to a value function of the
+// share price.
+func (o *priceOptions) dilute(value func(valuation.Market) (valuation.Result, error)) (valuation.Result, error) {
+	m := o.market()
+	if !o.diluted() {
+		return value(m)
+	}
+	var last valuation.Result
+	w, at, err := valuation.DilutedValue(o.dilution(), m.Spot, func(s float64) (float64, error) {
+		mm := m
+		mm.Spot = s
+		r, err := value(mm)
+		last = r
+		return r.Value, err
+	})
+	if err != nil {
+		return valuation.Result{}, err
+	}
+	m.Spot = at
+	if last, err = value(m); err != nil {
+		return valuation.Result{}, err
+	}
+	f := o.dilution().Factor()
+	last.Value, last.ErrorEstimate = w, f*last.ErrorEstimate
+	return last, nil
+}
+
+func computePrice(o *priceOptions) (*priceResult, error) {
+	t := o.terms()
+	res := &priceResult{Opts: o}
+	var err error
+	switch o.Method {
+	case valuation.MethodLattice:
+		res.Mode = "auto (converged)"
+		if o.Steps > 0 {
+			res.Mode = fmt.Sprintf("raw %d-step tree", o.Steps)
+		}
+		if o.diluted() {
+			res.Main, err = valuation.WarrantValue(t, o.market(), o.dilution(), valuation.LatticeOptions{Steps: o.Steps})
+		} else {
+			res.Main, err = valuation.Lattice(t, o.market(), valuation.LatticeOptions{Steps: o.Steps})
+		}
+	case valuation.MethodBSM:
+		res.Mode = "closed form, exercise at expiry"
+		res.Main, err = o.dilute(func(m valuation.Market) (valuation.Result, error) { return valuation.BlackScholes(t, m) })
+	case valuation.MethodMC:
+		res.Mode = fmt.Sprintf("Monte Carlo, %d paths, seed %d", o.Paths, o.Seed)
+		mo := valuation.MCOptions{Paths: o.Paths, Seed: o.Seed}
+		res.Main, err = o.dilute(func(m valuation.Market) (valuation.Result, error) { return valuation.MonteCarlo(t, m, mo) })
+	}
+	if err != nil {
+		return nil, asInput(err)
+	}
+	if res.BSM, err = o.dilute(func(m valuation.Market) (valuation.Result, error) { return valuation.BlackScholes(t, m) }); err != nil {
+		return nil, asInput(err)
+	}
+	if res.Simplified, err = o.dilute(func(m valuation.Market) (valuation.Result, error) { return valuation.SimplifiedBSM(t, m) }); err != nil {
+		return nil, asInput(err)
+	}
+	return res, nil
+}
+
+func runPrice(o *priceOptions) error {
+	res, err := computePrice(o)
+	if err != nil {
+		return err
+	}
+	if o.JSON {
+		return printPriceJSON(o.IO.Out, res)
+	}
+	printPriceText(o.IO.Out, res)
+	return nil
+}
+
+func printPriceText(w io.Writer, r *priceResult) {
+	o := r.Opts
+	what := "option"
+	if o.diluted() {
+		what = "warrant, after dilution"
+	}
+	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
+	fmt.Fprintf(tw, "Fair value per %s\t%.4f\n", what, r.Main.Value)
+	if r.Main.ErrorEstimate > 0 {
+		kind := "error estimate"
+		if o.Method == valuation.MethodMC {
+			kind = "standard error"
+		}
+		fmt.Fprintf(tw, "%s\t± %.4f\n", strings.ToUpper(kind[:1])+kind[1:], r.Main.ErrorEstimate)
+	} else {
+		fmt.Fprintf(tw, "Error estimate\t%s\n", map[bool]string{true: "exact (closed form)", false: "none (raw tree, not converged)"}[o.Method == valuation.MethodBSM])
+	}
+	fmt.Fprintf(tw, "Expected term\t%.2f years\n", r.Main.ExpectedTermYears)
+	fmt.Fprintf(tw, "Method\t%s, %s\n", r.Main.Method, r.Mode)
+	stepsName := "Steps"
+	if o.Method == valuation.MethodMC {
+		stepsName = "Paths"
+	}
+	fmt.Fprintf(tw, "%s\t%d\n", stepsName, r.Main.Steps)
+	tw.Flush()
+	fmt.Fprintln(w, "\nBlack-Scholes-Merton comparison (exercise at expiry):")
+	tw = tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
+	fmt.Fprintf(tw, "  on the contractual term\t%.2f years\t%.4f\n", r.BSM.ExpectedTermYears, r.BSM.Value)
+	fmt.Fprintf(tw, "  on the simplified term\t%.2f years\t%.4f\t(SEC SAB 107: (vesting + term)/2)\n", r.Simplified.ExpectedTermYears, r.Simplified.Value)
+	tw.Flush()
+	fmt.Fprintf(w, "\nInputs: spot %g, strike %g, term %g years, volatility %g, rate %g, dividend yield %g, vesting %g years, exercise multiple %s, exit rate %g",
+		o.Spot, o.Strike, o.Years, o.Vol, o.Rate, o.DividendYield, o.VestYears, priceMultiple(o.Multiple), o.ExitRate)
+	switch {
+	case o.American:
+		fmt.Fprint(w, ", rational exercise")
+	case o.European:
+		fmt.Fprint(w, ", exercise at expiry only")
+	}
+	if o.diluted() {
+		kind := "price reflects the warrants (Galai-Schneller)"
+		if o.NewIssue {
+			kind = "new issue, N/(N+W)"
+		}
+		fmt.Fprintf(w, ", %.0f shares and %.0f warrants (%s)", o.SharesOutstanding, o.Warrants, kind)
+	}
+	fmt.Fprintln(w, ".")
+	fmt.Fprintln(w, "An estimate, not an audit opinion: defer to licensed auditors or valuation professionals\nand the accounting rules that apply to you (ASC 718, IFRS 2 or local rules).")
+}
+
+func priceMultiple(m float64) string {
+	if m == 0 {
+		return "none"
+	}
+	return fmt.Sprintf("%g", m)
+}
+
+func printPriceJSON(w io.Writer, r *priceResult) error {
+	o := r.Opts
+	type comparison struct {
+		Value     float64 `json:"value"`
+		TermYears float64 `json:"term_years"`
+	}
+	type dilution struct {
+		SharesOutstanding     float64 `json:"shares_outstanding"`
+		Warrants              float64 `json:"warrants"`
+		PriceReflectsWarrants bool    `json:"price_reflects_warrants"`
+		Factor                float64 `json:"factor"`
+	}
+	type inputs struct {
+		Spot             float64 `json:"spot"`
+		Strike           float64 `json:"strike"`
+		Years            float64 `json:"years"`
+		Vol              float64 `json:"vol"`
+		Rate             float64 `json:"rate"`
+		DividendYield    float64 `json:"dividend_yield"`
+		VestYears        float64 `json:"vest_years"`
+		ExerciseMultiple float64 `json:"exercise_multiple"`
+		ExitRate         float64 `json:"exit_rate"`
+		American         bool    `json:"american"`
+		European         bool    `json:"european"`
+		Steps            int     `json:"steps"`
+		Paths            int     `json:"paths,omitempty"`
+		Seed             *uint64 `json:"seed,omitempty"`
+	}
+	out := struct {
+		Value             float64    `json:"value"`
+		ErrorEstimate     float64    `json:"error_estimate"`
+		ExpectedTermYears float64    `json:"expected_term_years"`
+		Steps             int        `json:"steps"`
+		Method            string     `json:"method"`
+		Mode              string     `json:"mode"`
+		BSM               comparison `json:"bsm"`
+		BSMSimplified     comparison `json:"bsm_simplified"`
+		Dilution          *dilution  `json:"dilution,omitempty"`
+		Inputs            inputs     `json:"inputs"`
+	}{
+		Value: r.Main.Value, ErrorEstimate: r.Main.ErrorEstimate, ExpectedTermYears: r.Main.ExpectedTermYears,
+		Steps: r.Main.Steps, Method: string(r.Main.Method), Mode: r.Mode,
+		BSM:           comparison{r.BSM.Value, r.BSM.ExpectedTermYears},
+		BSMSimplified: comparison{r.Simplified.Value, r.Simplified.ExpectedTermYears},
+		Inputs: inputs{o.Spot, o.Strike, o.Years, o.Vol, o.Rate, o.DividendYield, o.VestYears, o.Multiple, o.ExitRate,
+			o.American, o.European, o.Steps, 0, nil},
+	}
+	if o.Method == valuation.MethodMC {
+		out.Inputs.Paths, out.Inputs.Seed = o.Paths, &o.Seed
+	}
+	if o.diluted() {
+		d := o.dilution()
+		out.Dilution = &dilution{d.SharesOutstanding, d.Warrants, d.PriceReflectsWarrants, d.Factor()}
+	}
+	enc := json.NewEncoder(w)
+	enc.SetIndent("", "  ")
+	return enc.Encode(out)
+}

@@ -1,0 +1,221 @@
+package grants
+
+import (
+	"fmt"
+	"strings"
+)
+
+// Kind is the type of value a column holds.
+type Kind int
+
+const (
+	KindText    Kind = iota // free text
+	KindInt                 // whole number
+	KindNumber              // decimal number
+	KindPercent             // decimal (0.45) or percentage (45%)
+	KindDate                // date cell, Excel serial or ISO YYYY-MM-DD text
+	KindChoice              // one of Column.Choices
+	KindSteps               // "auto" or a whole number
+)
+
+func (k Kind) String() string {
+	switch k {
+	case KindText:
+		return "text"
+	case KindInt:
+		return "whole number"
+	case KindNumber:
+		return "number"
+	case KindPercent:
+		return "percent"
+	case KindDate:
+		return "date"
+	case KindChoice:
+		return "choice"
+	case KindSteps:
+		return "auto or number"
+	}
+	return fmt.Sprintf("Kind(%d)", int(k))
+}
+
+// Column describes one column of a table sheet or one key of a key-value
+// sheet. The table of columns drives header matching, parsing, validation
+// messages, the init template with its About sheet, and the README's list.
+type Column struct {
+	Key      string   // canonical header or key, e.g. "grant_date"
+	Kind     Kind     //
+	Unit     string   // e.g. "shares", "currency per share", "years", "annual"
+	Required bool     // needed on every row (or, on a key-value sheet, needed at all)
+	Need     string   // in words: "required", "optional", "options and warrants"
+	Choices  []string // for KindChoice
+	Default  string   // in words, when optional
+	Help     string   // plain words for the About sheet
+}
+
+// Sheet describes one sheet of the input workbook (or one CSV file).
+type Sheet struct {
+	Name     string // canonical name, e.g. "Share Prices"
+	File     string // CSV file name, e.g. "share_prices.csv"
+	KeyValue bool   // rows of key, value (and source) rather than a table
+	Required bool
+	Help     string
+	Columns  []Column
+}
+
+// Column returns the column with key k, or nil.
+func (sh *Sheet) Column(k string) *Column {
+	for i := range sh.Columns {
+		if sh.Columns[i].Key == k {
+			return &sh.Columns[i]
+		}
+	}
+	return nil
+}
+
+// Canonical sheet names.
+const (
+	SheetCompany     = "Company"
+	SheetAssumptions = "Assumptions"
+	SheetGrants      = "Grants"
+	SheetVesting     = "Vesting"
+	SheetSharePrices = "Share Prices"
+	SheetRates       = "Rates"
+	SheetEvents      = "Events"
+)
+
+var (
+	instruments     = []string{string(Option), string(Warrant), string(RSU)}
+	classifications = []string{string(Equity), string(Liability)}
+	exerciseStyles  = []string{string(American), string(European)}
+	eventKinds      = []string{string(Exercised), string(Forfeited), string(Expired), string(Cancelled)}
+	compoundings    = []string{"continuous", "annual", "semiannual", "par-semiannual"}
+)
+
+// Sheets is the layout of the input workbook (DESIGN §4.2), in the order the
+// template writes them.
+var Sheets = []Sheet{
+	{Name: SheetCompany, File: "company.csv", KeyValue: true, Required: true,
+		Help: "The company and the reporting period: one key and its value per row.",
+		Columns: []Column{
+			{Key: "company_name", Kind: KindText, Required: true, Need: "required", Help: "The company's name as it appears in the memo."},
+			{Key: "valuation_date", Kind: KindDate, Required: true, Need: "required", Help: "The period end: liability-classified warrants are remeasured on it and expense runs to it."},
+			{Key: "period_start", Kind: KindDate, Need: "optional", Default: "first day of the quarter ending on valuation_date", Help: "The first day of the reporting period."},
+			{Key: "currency", Kind: KindText, Unit: "ISO 4217 code", Need: "optional", Default: "USD", Help: "Three-letter currency code of prices and strikes."},
+			{Key: "shares_outstanding", Kind: KindInt, Unit: "shares", Need: "warrants", Help: "Common shares outstanding, for the dilution of warrants."},
+		}},
+	{Name: SheetAssumptions, File: "assumptions.csv", KeyValue: true, Required: true,
+		Help: "Company-wide valuation assumptions: key, value and an optional source that the memo quotes. A grant row may override some of them.",
+		Columns: []Column{
+			{Key: "volatility", Kind: KindPercent, Unit: "annual", Need: "required unless every grant row gives one", Help: "Expected volatility of the share price, e.g. 45% or 0.45."},
+			{Key: "dividend_yield", Kind: KindPercent, Unit: "annual, continuous", Need: "optional", Default: "0", Help: "Expected dividend yield."},
+			{Key: "exercise_multiple", Kind: KindNumber, Unit: "times strike", Need: "optional", Default: "0 (none)", Help: "Holders exercise a vested option once the share price reaches this multiple of the strike; 0 means no such rule."},
+			{Key: "post_vesting_exit_rate", Kind: KindPercent, Unit: "annual", Need: "optional", Default: "0", Help: "Share of vested holders who leave each year; a leaver exercises if in the money, else the option lapses."},
+			{Key: "pre_vesting_forfeiture_rate", Kind: KindPercent, Unit: "annual", Need: "optional", Default: "0", Help: "Share of unvested holders who leave each year; used for expense, never in fair value."},
+			{Key: "attribution", Kind: KindChoice, Choices: []string{string(Graded), string(StraightLine)}, Need: "optional", Default: "graded", Help: "How a graded award's cost is spread over service: per tranche (graded) or evenly over the whole award (straight-line)."},
+			{Key: "forfeitures", Kind: KindChoice, Choices: []string{string(Estimate), string(AsOccur)}, Need: "optional", Default: "estimate", Help: "Estimate forfeitures in advance, or account for them as they occur."},
+			{Key: "steps", Kind: KindSteps, Need: "optional", Default: "auto", Help: "Lattice steps: auto (converged, with an error estimate) or a fixed number."},
+		}},
+	{Name: SheetGrants, File: "grants.csv", Required: true,
+		Help: "One row per grant. Empty cells take the defaults shown.",
+		Columns: []Column{
+			{Key: "grant_id", Kind: KindText, Required: true, Need: "required", Help: "A unique code for the grant."},
+			{Key: "holder", Kind: KindText, Need: "optional", Help: "A code for the holder (no names needed)."},
+			{Key: "instrument", Kind: KindChoice, Choices: instruments, Need: "optional", Default: "option", Help: "Stock option, warrant or restricted stock unit."},
+			{Key: "grant_date", Kind: KindDate, Required: true, Need: "required", Help: "The grant (measurement) date."},
+			{Key: "shares", Kind: KindInt, Unit: "shares", Required: true, Need: "required", Help: "Number of shares under the grant."},
+			{Key: "strike", Kind: KindNumber, Unit: "currency per share", Need: "options and warrants", Help: "Exercise price per share."},
+			{Key: "expiry_date", Kind: KindDate, Need: "options and warrants: this or term_years", Help: "The last day the award may be exercised."},
+			{Key: "term_years", Kind: KindNumber, Unit: "years", Need: "options and warrants: this or expiry_date", Help: "Contractual term from the grant date, when expiry_date is empty."},
+			{Key: "vest_start", Kind: KindDate, Need: "optional", Default: "grant_date", Help: "The date vesting counts from."},
+			{Key: "vest_months", Kind: KindInt, Unit: "months", Need: "optional", Default: "0 (vested at grant)", Help: "Length of the vesting period."},
+			{Key: "cliff_months", Kind: KindInt, Unit: "months", Need: "optional", Default: "0", Help: "Nothing vests before the cliff; at the cliff everything accrued so far vests."},
+			{Key: "vest_every_months", Kind: KindInt, Choices: []string{"1", "3", "12"}, Unit: "months", Need: "optional", Default: "1", Help: "After the cliff, shares vest monthly (1), quarterly (3) or yearly (12)."},
+			{Key: "share_price", Kind: KindNumber, Unit: "currency per share", Need: "optional", Default: "Share Prices at the measurement date", Help: "Overrides the share's fair value at the measurement date."},
+			{Key: "volatility", Kind: KindPercent, Unit: "annual", Need: "optional", Default: "Assumptions", Help: "Overrides the volatility."},
+			{Key: "dividend_yield", Kind: KindPercent, Unit: "annual", Need: "optional", Default: "Assumptions", Help: "Overrides the dividend yield."},
+			{Key: "exercise_multiple", Kind: KindNumber, Unit: "times strike", Need: "optional", Default: "Assumptions", Help: "Overrides the exercise multiple."},
+			{Key: "post_vesting_exit_rate", Kind: KindPercent, Unit: "annual", Need: "optional", Default: "Assumptions", Help: "Overrides the post-vesting exit rate."},
+			{Key: "classification", Kind: KindChoice, Choices: classifications, Need: "warrants, optional", Default: "equity", Help: "Equity warrants are measured at grant; liability warrants are remeasured at every valuation date."},
+			{Key: "exercise_style", Kind: KindChoice, Choices: exerciseStyles, Need: "warrants, optional", Default: "american", Help: "American warrants may be exercised at any time once vested; european only at expiry."},
+		}},
+	{Name: SheetVesting, File: "vesting.csv",
+		Help: "Optional custom vesting: for each grant named here these rows replace the schedule of the Grants columns. The shares of a grant must add up to its grant.",
+		Columns: []Column{
+			{Key: "grant_id", Kind: KindText, Required: true, Need: "required", Help: "A grant_id of the Grants sheet."},
+			{Key: "vest_date", Kind: KindDate, Required: true, Need: "required", Help: "The date these shares vest."},
+			{Key: "shares", Kind: KindInt, Unit: "shares", Required: true, Need: "required", Help: "Shares vesting on that date."},
+		}},
+	{Name: SheetSharePrices, File: "share_prices.csv",
+		Help: "The fair value of one share from each date on (a step function), usually one row per valuation of the common stock.",
+		Columns: []Column{
+			{Key: "date", Kind: KindDate, Required: true, Need: "required", Help: "The date from which the price holds."},
+			{Key: "price", Kind: KindNumber, Unit: "currency per share", Required: true, Need: "required", Help: "Fair value per share."},
+		}},
+	{Name: SheetRates, File: "rates.csv", Required: true,
+		Help: "Risk-free rate curves: one row per tenor; a grant uses the latest curve dated on or before its measurement date.",
+		Columns: []Column{
+			{Key: "curve_date", Kind: KindDate, Required: true, Need: "required", Help: "The date of the curve."},
+			{Key: "tenor_years", Kind: KindNumber, Unit: "years", Required: true, Need: "required", Help: "Tenor of the rate."},
+			{Key: "rate", Kind: KindPercent, Unit: "annual", Required: true, Need: "required", Help: "The rate, e.g. 4.1% or 0.041."},
+			{Key: "compounding", Kind: KindChoice, Choices: compoundings, Need: "optional", Default: "continuous", Help: "Zero rates compounded continuously, annually or semiannually, or government par yields with semiannual coupons (par-semiannual), which are bootstrapped to zero rates."},
+		}},
+	{Name: SheetEvents, File: "events.csv",
+		Help: "Optional: what happened to granted shares. A forfeited event forfeits the unvested shares of tranches that vest after its date.",
+		Columns: []Column{
+			{Key: "grant_id", Kind: KindText, Required: true, Need: "required", Help: "A grant_id of the Grants sheet."},
+			{Key: "date", Kind: KindDate, Required: true, Need: "required", Help: "The date of the event."},
+			{Key: "event", Kind: KindChoice, Choices: eventKinds, Required: true, Need: "required", Help: "exercised, forfeited (unvested shares lost on leaving), expired (vested shares lapsed) or cancelled."},
+			{Key: "shares", Kind: KindInt, Unit: "shares", Required: true, Need: "required", Help: "Shares affected."},
+		}},
+}
+
+// SheetSpec returns the layout of the sheet with canonical name name; it
+// panics for an unknown name (a programming error).
+func SheetSpec(name string) *Sheet {
+	for i := range Sheets {
+		if Sheets[i].Name == name {
+			return &Sheets[i]
+		}
+	}
+	panic("grants: no sheet " + name)
+}
+
+// ColumnsMarkdown renders the sheets and their columns as Markdown, for the
+// README.
+func ColumnsMarkdown() string {
+	var b strings.Builder
+	for _, sh := range Sheets {
+		need := "optional sheet"
+		if sh.Required {
+			need = "required sheet"
+		}
+		file := sh.File
+		fmt.Fprintf(&b, "### %s (%s; CSV file `%s`)\n\n%s\n\n", sh.Name, need, file, sh.Help)
+		head := "column"
+		if sh.KeyValue {
+			head = "key"
+		}
+		fmt.Fprintf(&b, "| %s | kind | unit | needed | meaning |\n|---|---|---|---|---|\n", head)
+		for _, c := range sh.Columns {
+			kind := c.Kind.String()
+			if c.Kind == KindChoice {
+				kind = "one of " + strings.Join(quoteAll(c.Choices), ", ")
+			}
+			need := c.Need
+			if c.Default != "" {
+				need += "; default " + c.Default
+			}
+			fmt.Fprintf(&b, "| `%s` | %s | %s | %s | %s |\n", c.Key, kind, c.Unit, need, c.Help)
+		}
+		b.WriteString("\n")
+	}
+	return b.String()
+}
+
+func quoteAll(ss []string) []string {
+	out := make([]string, len(ss))
+	for i, s := range ss {
+		out[i] = "`" + s + "`"
+	}
+	return out
+}

@@ -1,0 +1,90 @@
+// Package grants owns everything spreadsheet-shaped in grantworth: the grant
+// schedule model, reading it from an .xlsx workbook or a folder of CSV files,
+// validation with cell references, the expansion of grants into vesting
+// tranches, the valuation inputs of each grant with the source of every
+// assumption, and (in expense.go and disclosure.go) expense attribution and
+// disclosure roll-forwards. It does no numerics of its own beyond counting
+// shares; valuation does those.
+//
+// # The workbook
+//
+// The sheets and their columns are listed in Sheets (DESIGN §4.2, a
+// contract); ColumnsMarkdown renders the list for the README, and WriteXLSX
+// with a nil Schedule writes the blank template. Sheet names, headers and
+// keys are matched case-insensitively, ignoring spaces and underscores;
+// columns come in any order; unknown sheets, columns and keys are warnings.
+// Rows whose cells are all empty are skipped.
+//
+// Values are read from the stored cell values (formats are not needed):
+//
+//   - Dates: date cells and Excel serial numbers (1900 or 1904 system, as the
+//     workbook says), or ISO text YYYY-MM-DD. Other text such as 03/04/2025
+//     is refused: it is ambiguous.
+//   - Numbers: numeric cells or plain text numbers. Commas are accepted only
+//     as thousands separators in groups of three ("1,234,567.5"); "1,5" is
+//     refused because a decimal comma cannot be told from a separator.
+//   - Percentages: 0.45, a cell formatted 45% (which stores 0.45), or the
+//     text "45%".
+//   - A formula is read by the value the spreadsheet saved with it; a formula
+//     with no saved value is an error naming the cell.
+//
+// A CSV folder holds one UTF-8 file per sheet (grants.csv, company.csv, ...;
+// an optional byte-order mark is dropped; quoted fields may hold commas and
+// line breaks). Its rows are numbered as a spreadsheet would show the file,
+// so problems carry the same Sheet!Cell references as in a workbook. A file
+// separated by semicolons or tabs is refused with a message saying so.
+//
+// # Limits
+//
+// Untrusted workbooks cannot exhaust memory: files are capped at MaxFileSize
+// bytes, a workbook at MaxUnzipSize unzipped (large worksheets stream
+// through a temporary file), each sheet at MaxRows rows and each row at
+// MaxColumns non-empty columns. Counts written inside a file are never used
+// to size anything.
+//
+// # Problems
+//
+// Every problem is a *CellError naming the sheet, the cell, the column and
+// the value found, wrapping a sentinel (ErrNotDate, ErrRange, ...) for
+// errors.Is. A Report keeps errors and warnings apart and holds up to
+// MaxErrors errors. Reading never stops at the first problem: a row with a
+// bad cell is left out of the Schedule (and rules that would misfire
+// because of it are skipped), and everything else is still checked.
+//
+// The rules Validate applies, beyond the types of the cells:
+//
+//   - Company: period_start before valuation_date; shares_outstanding given
+//     when there are warrants.
+//   - Assumptions: volatility given (unless every option and warrant row
+//     gives one) and above 0, a warning outside 5%–200%; dividend yield,
+//     exit and forfeiture rates in [0, 1); exercise multiple 0 or 1 to 100.
+//   - Grants: unique grant_id (both rows named); shares above 0; a strike
+//     for options and warrants, never negative (an RSU's is ignored with a
+//     warning); an expiry (expiry_date or term_years) after grant_date;
+//     cliff_months not above vest_months; vest_every_months 1, 3 or 12;
+//     vesting that ends after expiry; the same override bounds as the
+//     Assumptions; a warning for a strike below the share price at grant, a
+//     grant after the valuation date, a vest_start over a year after grant.
+//   - Market: a share price at every measurement date (the row's share_price
+//     or a Share Prices row on or before it), with a warning when the latest
+//     valuation is more than StaleMonths old at the grant date (common
+//     practice); a Rates curve dated on or before every measurement date of
+//     an option or warrant; prices above 0 and one per date; tenors from 0
+//     to 100 years and unique within a curve; rates between -20% and 50%
+//     (4.5 for 4.5% is caught); a curve is par-semiannual or zero rates, not
+//     both, and must build.
+//   - Vesting: rows for known grants, shares above 0, adding up to the grant.
+//   - Events: known grants, shares above 0, dates not before the grant (a
+//     warning after the valuation date); shares never above what is
+//     outstanding when they happen: forfeited and cancelled against all
+//     outstanding shares (a warning when a forfeiture exceeds the unvested
+//     ones), exercised and expired against vested outstanding shares.
+//
+// # Measurement
+//
+// Tranches expands a grant into vesting tranches (DESIGN §4.2) with its
+// forfeitures applied; Inputs gives a grant's valuation.Terms per tranche,
+// its valuation.Market at the measurement date (the grant date, or the
+// valuation date for a liability-classified warrant) and the source of each
+// assumption, ready for the memo.
+package grants

@@ -1,0 +1,184 @@
+package grants
+
+import (
+	"fmt"
+	"time"
+
+	"grantworth/valuation"
+)
+
+// Source is one valuation input as used for a grant and where it came from.
+type Source struct {
+	Value float64
+	Ref   Ref    // the cell it was read from; the zero Ref for a default
+	Text  string // for the memo, e.g. "Share Prices!B7 (valuation of 2025-03-31)"
+}
+
+// Inputs is everything the valuation needs for one grant, with provenance.
+type Inputs struct {
+	Grant           Grant
+	MeasurementDate time.Time // grant date; valuation date for liability warrants
+	Tranches        []Tranche
+	Terms           []valuation.Terms // one per tranche, same order
+	Market          valuation.Market
+	CurveDate       time.Time // zero when no curve was needed (an RSU without one)
+
+	SharePrice       Source
+	Volatility       Source
+	DividendYield    Source
+	ExerciseMultiple Source
+	ExitRate         Source
+	// RiskFreeRate is the continuous zero rate at the grant's years to
+	// expiry (for an RSU, to its last vest date); Text describes the curve.
+	RiskFreeRate Source
+}
+
+// Inputs gathers the valuation inputs of grant g: the measurement date,
+// one valuation.Terms per tranche, the Market at the measurement date and
+// the source of every assumption.
+//
+// The share price is the grant row's share_price, else the Share Prices
+// row in force at the measurement date. Volatility and dividend yield are
+// the row's overrides, else the Assumptions. The exercise multiple and
+// post-vesting exit rate describe employees: options take the row's
+// overrides, else the Assumptions; warrants take only the row's (default
+// none); RSUs have neither. The curve is the latest Rates curve dated on or
+// before the measurement date. For an RSU, YearsToExpiry equals
+// YearsToVest and the strike is 0. American warrants get Rational, european
+// ones European.
+//
+// The error (a *CellError) says what is missing; Validate reports the same
+// problems for the whole schedule at once.
+func (s *Schedule) Inputs(g Grant) (Inputs, error) {
+	in := Inputs{Grant: g, MeasurementDate: s.MeasurementDate(g), Tranches: s.Tranches(g)}
+	md := in.MeasurementDate
+	gref := func(k string) Ref { return s.cell(SheetGrants, k, g.Row, g.Refs) }
+	fail := func(k, format string, args ...any) (Inputs, error) {
+		r := gref(k)
+		return Inputs{}, &CellError{Sheet: r.Sheet, Cell: r.Cell, Column: k, Err: ErrRequired, Msg: fmt.Sprintf(format, args...)}
+	}
+	if md.IsZero() {
+		return fail("grant_date", "grant %s has no grant date", g.ID)
+	}
+
+	// Share price.
+	if g.SharePrice != nil {
+		r := gref("share_price")
+		in.SharePrice = Source{Value: *g.SharePrice, Ref: r, Text: r.String() + " (grant row)"}
+	} else if p, ok := s.PriceAt(md); ok {
+		r := s.cell(SheetSharePrices, "price", p.Row, nil)
+		in.SharePrice = Source{Value: p.Price, Ref: r, Text: fmt.Sprintf("%s (valuation of %s)", r, isoDay(p.Date))}
+	} else {
+		return fail("share_price", "no share price is known at %s for grant %s", isoDay(md), g.ID)
+	}
+
+	a := &s.Assumptions
+	assumed := func(key string, v float64) Source {
+		r, ok := a.Refs[key]
+		if !ok && a.Refs == nil { // built in code: every value given
+			text := "Assumptions"
+			if src := a.Sources[key]; src != "" {
+				text = src
+			}
+			return Source{Value: v, Text: text}
+		}
+		if !ok {
+			return Source{Value: v, Text: "default"}
+		}
+		text := r.String()
+		if src := a.Sources[key]; src != "" {
+			text = src + " (" + r.String() + ")"
+		}
+		return Source{Value: v, Ref: r, Text: text}
+	}
+	override := func(key string, p *float64, fallback Source) Source {
+		if p == nil {
+			return fallback
+		}
+		r := gref(key)
+		return Source{Value: *p, Ref: r, Text: r.String() + " (grant row)"}
+	}
+	none := Source{Text: "none"}
+	in.Volatility = override("volatility", g.Volatility, assumed("volatility", a.Volatility))
+	in.DividendYield = override("dividend_yield", g.DividendYield, assumed("dividend_yield", a.DividendYield))
+	switch g.Instrument {
+	case Option:
+		in.ExerciseMultiple = override("exercise_multiple", g.ExerciseMultiple, assumed("exercise_multiple", a.ExerciseMultiple))
+		in.ExitRate = override("post_vesting_exit_rate", g.PostVestingExitRate, assumed("post_vesting_exit_rate", a.PostVestingExitRate))
+	case Warrant:
+		in.ExerciseMultiple = override("exercise_multiple", g.ExerciseMultiple, none)
+		in.ExitRate = override("post_vesting_exit_rate", g.PostVestingExitRate, none)
+	default:
+		in.ExerciseMultiple, in.ExitRate = none, none
+	}
+	if g.Instrument != RSU {
+		if _, ok := g.Refs["volatility"]; !ok && g.Volatility == nil {
+			if !a.has("volatility") {
+				return fail("volatility", "grant %s has no volatility, and the Assumptions give none", g.ID)
+			}
+		}
+	}
+
+	// Terms per tranche.
+	T := 0.0
+	if g.Instrument != RSU {
+		if g.ExpiryDate.IsZero() {
+			return fail("expiry_date", "grant %s has no expiry", g.ID)
+		}
+		T = valuation.YearFrac(md, g.ExpiryDate)
+		if T <= 0 {
+			return fail("expiry_date", "grant %s expired on %s, before its measurement date %s", g.ID, isoDay(g.ExpiryDate), isoDay(md))
+		}
+	}
+	horizon := T
+	in.Terms = make([]valuation.Terms, len(in.Tranches))
+	for i, t := range in.Tranches {
+		V := max(valuation.YearFrac(md, t.VestDate), 0)
+		tm := valuation.Terms{
+			Strike: g.Strike, YearsToExpiry: T, YearsToVest: V,
+			ExerciseMultiple: in.ExerciseMultiple.Value, ExitRate: in.ExitRate.Value,
+		}
+		switch g.Instrument {
+		case RSU:
+			tm.Strike, tm.YearsToExpiry = 0, V
+			horizon = max(horizon, V)
+		case Warrant:
+			tm.Rational = g.ExerciseStyle != European
+			tm.European = g.ExerciseStyle == European
+		}
+		if V > tm.YearsToExpiry {
+			return fail("vest_months", "tranche %d of grant %s vests on %s, after the expiry %s", t.Index, g.ID, isoDay(t.VestDate), isoDay(g.ExpiryDate))
+		}
+		in.Terms[i] = tm
+	}
+
+	// Curve.
+	in.Market = valuation.Market{Spot: in.SharePrice.Value, VolAnnual: in.Volatility.Value, DividendYield: in.DividendYield.Value}
+	if c, ok := s.curveAt(md); ok {
+		cv, text, err := c.build()
+		if err != nil {
+			r := s.cell(SheetRates, "curve_date", c.points[0].Row, nil)
+			return Inputs{}, &CellError{Sheet: r.Sheet, Cell: r.Cell, Column: "curve_date", Value: isoDay(c.date), Err: ErrRange, Msg: "curve cannot be built: " + err.Error()}
+		}
+		in.Market.Curve, in.CurveDate = cv, c.date
+		r := s.cell(SheetRates, "rate", c.points[0].Row, nil)
+		in.RiskFreeRate = Source{Value: cv.Zero(horizon), Ref: r, Text: text}
+	} else if g.Instrument == RSU {
+		in.Market.Curve = valuation.FlatCurve(0)
+		in.RiskFreeRate = Source{Text: fmt.Sprintf("no Rates curve on or before %s; an RSU's value needs none", isoDay(md))}
+	} else {
+		return fail("grant_date", "no Rates curve is dated on or before %s, the measurement date of grant %s", isoDay(md), g.ID)
+	}
+	return in, nil
+}
+
+// has reports whether key was given on the Assumptions sheet (for
+// Assumptions built in code, with no Refs, whether volatility is set; every
+// other key has a usable zero default).
+func (a *Assumptions) has(key string) bool {
+	if a.Refs == nil {
+		return key != "volatility" || a.Volatility != 0
+	}
+	_, ok := a.Refs[key]
+	return ok
+}

@@ -1,0 +1,102 @@
+package grants
+
+import (
+	"math"
+	"strings"
+	"testing"
+
+	"grantworth/valuation"
+)
+
+func TestInputsOption(t *testing.T) {
+	s := smallSchedule()
+	xlsx, _ := writeBoth(t, s)
+	s, rep, err := ReadFile(xlsx)
+	if err != nil || !rep.OK() {
+		t.Fatalf("read: %v\n%s", err, problems(rep))
+	}
+	g, _ := s.Grant("G-001")
+	in, err := s.Inputs(g)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !in.MeasurementDate.Equal(d("2024-01-31")) {
+		t.Errorf("measurement date %v, want the grant date", in.MeasurementDate)
+	}
+	// Share Prices: 2.0 from 2023-12-31 is in force on 2024-01-31.
+	if in.Market.Spot != 2.0 || in.SharePrice.Text != "Share Prices!B2 (valuation of 2023-12-31)" {
+		t.Errorf("share price %v from %q", in.Market.Spot, in.SharePrice.Text)
+	}
+	if in.Volatility.Value != 0.55 || !strings.HasPrefix(in.Volatility.Text, "median of peers") || in.Volatility.Ref.String() != "Assumptions!B2" {
+		t.Errorf("volatility %+v", in.Volatility)
+	}
+	if in.ExerciseMultiple.Value != 2.5 || in.ExitRate.Value != 0.1 {
+		t.Errorf("behaviour %+v %+v", in.ExerciseMultiple, in.ExitRate)
+	}
+	if len(in.Terms) != len(in.Tranches) || len(in.Terms) != 37 {
+		t.Fatalf("%d terms for %d tranches", len(in.Terms), len(in.Tranches))
+	}
+	T := valuation.YearFrac(d("2024-01-31"), d("2034-01-31"))
+	if tm := in.Terms[0]; tm.YearsToExpiry != T || tm.Strike != 2.5 || tm.YearsToVest != valuation.YearFrac(d("2024-01-31"), d("2025-01-31")) || tm.Rational {
+		t.Errorf("terms of tranche 1: %+v", tm)
+	}
+	// The 2023-12-31 curve (continuous 4.5% at 1y, 4.0% at 10y).
+	if !in.CurveDate.Equal(d("2023-12-31")) || in.Market.Curve.Zero(10) != 0.04 {
+		t.Errorf("curve of %v, zero(10) %v", in.CurveDate, in.Market.Curve.Zero(10))
+	}
+	if !strings.Contains(in.RiskFreeRate.Text, "Rates curve of 2023-12-31, 2 points") {
+		t.Errorf("curve text %q", in.RiskFreeRate.Text)
+	}
+}
+
+func TestInputsLiabilityWarrant(t *testing.T) {
+	s := smallSchedule()
+	g, _ := s.Grant("G-002")
+	in, err := s.Inputs(g)
+	if err != nil {
+		t.Fatal(err)
+	}
+	// Remeasured at the valuation date 2026-09-30: price 4.5 from 2025-12-31,
+	// curve of 2026-06-30 (5y semiannual 3.9% → 2·ln(1.0195) continuous).
+	if !in.MeasurementDate.Equal(d("2026-09-30")) || in.Market.Spot != 4.5 {
+		t.Errorf("measured %v at %v", in.MeasurementDate, in.Market.Spot)
+	}
+	if want := 2 * math.Log(1+0.039/2); math.Abs(in.Market.Curve.Zero(3)-want) > 1e-15 {
+		t.Errorf("zero %v, want %v", in.Market.Curve.Zero(3), want)
+	}
+	tm := in.Terms[0]
+	if !tm.Rational || tm.YearsToVest != 0 || tm.ExerciseMultiple != 0 || tm.ExitRate != 0 {
+		t.Errorf("warrant terms %+v: want rational, vested, no employee behaviour", tm)
+	}
+}
+
+func TestInputsRSU(t *testing.T) {
+	s := smallSchedule()
+	g, _ := s.Grant("G-003")
+	in, err := s.Inputs(g)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if in.Market.Spot != 3.1 || len(in.Terms) != 3 {
+		t.Fatalf("spot %v, %d tranches", in.Market.Spot, len(in.Terms))
+	}
+	for _, tm := range in.Terms {
+		if tm.Strike != 0 || tm.YearsToExpiry != tm.YearsToVest {
+			t.Errorf("RSU terms %+v", tm)
+		}
+	}
+}
+
+func TestInputsMissingCurve(t *testing.T) {
+	s := smallSchedule()
+	s.Rates = s.Rates[2:] // first curve 2024-12-31, after G-001's grant
+	g, _ := s.Grant("G-001")
+	_, err := s.Inputs(g)
+	if err == nil || !strings.Contains(err.Error(), "no Rates curve") {
+		t.Fatalf("got %v, want a missing-curve error", err)
+	}
+	rep := Validate(s)
+	if !strings.Contains(problems(&rep), "no Rates curve is dated on or before the measurement date 2024-01-31 of grant G-001") {
+		t.Errorf("validate did not report it:\n%s", problems(&rep))
+	}
+}

@@ -1,0 +1,877 @@
+package grants
+
+import (
+	"bytes"
+	"errors"
+	"fmt"
+	"io"
+	"io/fs"
+	"os"
+	"path/filepath"
+	"strings"
+	"time"
+
+	"github.com/xuri/excelize/v2"
+)
+
+// Limits against workbooks built to exhaust memory. Counts stated inside a
+// file are never trusted: rows and cells are counted as they are read.
+const (
+	MaxFileSize  = 64 << 20  // bytes of an .xlsx file or of one CSV file
+	MaxUnzipSize = 512 << 20 // bytes of an .xlsx file once unzipped
+	maxUnzipXML  = 32 << 20  // larger worksheets stream through a temporary file
+	MaxRows      = 1_000_000 // rows of one sheet
+	MaxColumns   = 256       // non-empty columns of one row
+)
+
+// source is a workbook or a folder of CSV files, seen as sheets of rows.
+type source interface {
+	sheetNames() []string
+	rows(name string) (rowIter, error)
+	date1904() bool
+}
+
+// rowIter walks a sheet's rows. next advances one row (rows are numbered
+// from 1 with no gaps); cells returns the current row's raw cell texts.
+type rowIter interface {
+	next() bool
+	cells() (row int, cells []string, err error)
+	// emptyIsFormula reports whether the empty cell at col, row (1-based)
+	// holds a formula with no saved value.
+	emptyIsFormula(col, row int) bool
+	close() error
+}
+
+// ReadFile reads the schedule at path: an .xlsx workbook or a folder of CSV
+// files. It returns an error only when nothing could be read (no such file,
+// not a workbook, too large); every problem in the schedule itself, with
+// its sheet and cell, is in the Report, and the Schedule holds the rows
+// that could be read.
+func ReadFile(path string) (*Schedule, *Report, error) {
+	st, err := os.Stat(path)
+	if err != nil {
+		return nil, nil, err
+	}
+	if st.IsDir() {
+		return ReadCSVDir(os.DirFS(path))
+	}
+	name := filepath.Base(path)
+	if strings.EqualFold(filepath.Ext(path), ".csv") {
+		return nil, nil, &CellError{Sheet: name, Err: ErrFormat,
+			Msg: "is one CSV file; give the folder that holds grants.csv, company.csv and the other sheets"}
+	}
+	if st.Size() > MaxFileSize {
+		return nil, nil, &CellError{Sheet: name, Err: ErrTooLarge, Msg: fmt.Sprintf("is %d bytes, more than the %d bytes allowed", st.Size(), MaxFileSize)}
+	}
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, nil, err
+	}
+	defer f.Close()
+	s, rep, err := ReadXLSX(f, st.Size())
+	var ce *CellError
+	if errors.As(err, &ce) && ce.Sheet == "" {
+		ce.Sheet = name
+	}
+	return s, rep, err
+}
+
+// ReadXLSX reads a schedule workbook of size bytes from r.
+func ReadXLSX(r io.ReaderAt, size int64) (*Schedule, *Report, error) {
+	if size > MaxFileSize {
+		return nil, nil, &CellError{Err: ErrTooLarge, Msg: fmt.Sprintf("is %d bytes, more than the %d bytes allowed", size, MaxFileSize)}
+	}
+	if size == 0 {
+		return nil, nil, &CellError{Err: ErrFormat, Msg: "is empty, not an .xlsx workbook"}
+	}
+	f, err := excelize.OpenReader(io.NewSectionReader(r, 0, size), excelize.Options{
+		UnzipSizeLimit: MaxUnzipSize, UnzipXMLSizeLimit: maxUnzipXML,
+	})
+	if err != nil {
+		msg := "is not an .xlsx workbook (" + err.Error() + ")"
+		if strings.Contains(err.Error(), "size limit") || strings.Contains(err.Error(), "exceeds") {
+			return nil, nil, &CellError{Err: ErrTooLarge, Msg: "unzips to more than the allowed size (" + err.Error() + ")"}
+		}
+		return nil, nil, &CellError{Err: ErrFormat, Msg: msg}
+	}
+	defer f.Close()
+	src := &xlsxSource{f: f}
+	src.scanFormulas()
+	s, rep := read(src)
+	return s, rep, nil
+}
+
+// ReadCSVDir reads a schedule from a folder of CSV files, one per sheet
+// (grants.csv, company.csv, ...; names matched like sheet names).
+func ReadCSVDir(fsys fs.FS) (*Schedule, *Report, error) {
+	ents, err := fs.ReadDir(fsys, ".")
+	if err != nil {
+		return nil, nil, err
+	}
+	src := &csvSource{fsys: fsys, files: map[string]string{}}
+	for _, e := range ents {
+		if e.IsDir() || !strings.EqualFold(filepath.Ext(e.Name()), ".csv") {
+			continue
+		}
+		sheet := strings.TrimSuffix(e.Name(), filepath.Ext(e.Name()))
+		src.names = append(src.names, sheet)
+		src.files[sheet] = e.Name()
+	}
+	if len(src.names) == 0 {
+		return nil, nil, &CellError{Sheet: ".", Err: ErrFormat, Msg: "holds no .csv files"}
+	}
+	s, rep := read(src)
+	return s, rep, nil
+}
+
+// xlsxSource reads sheets of an excelize workbook by streaming rows.
+type xlsxSource struct {
+	f           *excelize.File
+	hasFormulas bool
+}
+
+func (x *xlsxSource) sheetNames() []string { return x.f.GetSheetList() }
+
+func (x *xlsxSource) date1904() bool {
+	p, err := x.f.GetWorkbookProps()
+	return err == nil && p.Date1904 != nil && *p.Date1904
+}
+
+// scanFormulas looks for any formula in the worksheets, so that empty cells
+// need no further look when there is none.
+func (x *xlsxSource) scanFormulas() {
+	seen := 0
+	x.f.Pkg.Range(func(k, v any) bool {
+		name, _ := k.(string)
+		if !strings.HasPrefix(name, "xl/worksheets/") || !strings.HasSuffix(name, ".xml") {
+			return true
+		}
+		seen++
+		b, _ := v.([]byte)
+		for _, pat := range [][]byte{[]byte("<f>"), []byte("<f "), []byte("<f/>"), []byte(":f>"), []byte(":f ")} {
+			if bytes.Contains(b, pat) {
+				x.hasFormulas = true
+				return false
+			}
+		}
+		return true
+	})
+	if seen < x.f.SheetCount {
+		x.hasFormulas = true // some worksheet streams from a temporary file
+	}
+}
+
+func (x *xlsxSource) rows(name string) (rowIter, error) {
+	r, err := x.f.Rows(name)
+	if err != nil {
+		return nil, err
+	}
+	return &xlsxRows{src: x, sheet: name, r: r}, nil
+}
+
+type xlsxRows struct {
+	src   *xlsxSource
+	sheet string
+	r     *excelize.Rows
+	n     int
+}
+
+func (x *xlsxRows) next() bool {
+	if !x.r.Next() {
+		return false
+	}
+	x.n++
+	return true
+}
+
+func (x *xlsxRows) cells() (int, []string, error) {
+	c, err := x.r.Columns(excelize.Options{RawCellValue: true})
+	return x.n, c, err
+}
+
+func (x *xlsxRows) emptyIsFormula(col, row int) bool {
+	if !x.src.hasFormulas {
+		return false
+	}
+	name, err := excelize.CoordinatesToCellName(col, row)
+	if err != nil {
+		return false
+	}
+	fx, err := x.src.f.GetCellFormula(x.sheet, name)
+	return err == nil && fx != ""
+}
+
+func (x *xlsxRows) close() error { return x.r.Close() }
+
+// read builds a Schedule from a source and validates it.
+func read(src source) (*Schedule, *Report) {
+	s := &Schedule{layout: map[string]map[string]int{}}
+	rep := &Report{skip: map[string]bool{}}
+	s.Company.Refs = map[string]Ref{}
+	s.Assumptions.Refs = map[string]Ref{}
+	s.Assumptions.Sources = map[string]string{}
+	s.Assumptions.Attribution = Graded
+	s.Assumptions.Forfeitures = Estimate
+
+	found := map[string]string{} // canonical → actual name
+	for _, name := range src.sheetNames() {
+		n := norm(name)
+		matched := false
+		for _, sh := range Sheets {
+			if norm(sh.Name) == n {
+				if prev, dup := found[sh.Name]; dup {
+					rep.errf(Ref{Sheet: name}, "", "", ErrDuplicate, "sheet matches %s, like sheet %q", sh.Name, prev)
+				} else {
+					found[sh.Name] = name
+				}
+				matched = true
+			}
+		}
+		if !matched && n != "about" {
+			rep.warnf(Ref{Sheet: name}, "", "", ErrUnknown, "sheet is not one grantworth reads; it is ignored")
+		}
+	}
+	d1904 := src.date1904()
+	for i := range Sheets {
+		sh := &Sheets[i]
+		name, ok := found[sh.Name]
+		if !ok {
+			if sh.Required {
+				rep.errf(Ref{Sheet: sh.Name}, "", "", ErrMissingSheet, "sheet is missing (CSV: %s)", sh.File)
+			}
+			continue
+		}
+		it, err := src.rows(name)
+		if err != nil {
+			rep.errf(Ref{Sheet: sh.Name}, "", "", ErrFormat, "cannot be read: %v", err)
+			continue
+		}
+		t := &tableReader{s: s, sh: sh, rep: rep, it: it, d1904: d1904}
+		if sh.KeyValue {
+			t.readKeyValue()
+		} else {
+			t.readTable()
+		}
+		if err := it.close(); err != nil {
+			rep.errf(Ref{Sheet: sh.Name}, "", "", ErrFormat, "cannot be read: %v", err)
+		}
+	}
+	finishCompany(s, rep)
+	v := validate(s, rep.skip)
+	rep.Merge(v)
+	return s, rep
+}
+
+type tableReader struct {
+	s     *Schedule
+	sh    *Sheet
+	rep   *Report
+	it    rowIter
+	d1904 bool
+}
+
+// nextRow returns the next row with any non-blank cell.
+func (t *tableReader) nextRow() (int, []string, bool) {
+	for t.it.next() {
+		n, cells, err := t.it.cells()
+		if err != nil {
+			var ce *CellError
+			if errors.As(err, &ce) {
+				if ce.Sheet == "" {
+					ce.Sheet = t.sh.Name
+				}
+				t.rep.addErr(ce)
+			} else {
+				t.rep.errf(Ref{Sheet: t.sh.Name, Cell: cellName(1, n)}, "", "", ErrFormat, "row cannot be read: %v", err)
+			}
+			return 0, nil, false
+		}
+		if n > MaxRows {
+			t.rep.errf(Ref{Sheet: t.sh.Name, Cell: cellName(1, n)}, "", "", ErrTooLarge, "sheet has more than %d rows", MaxRows)
+			return 0, nil, false
+		}
+		blank := true
+		for i, c := range cells {
+			if strings.TrimSpace(c) != "" {
+				if i >= MaxColumns {
+					t.rep.errf(Ref{Sheet: t.sh.Name, Cell: cellName(i+1, n)}, "", "", ErrTooLarge, "row has cells beyond column %d", MaxColumns)
+					return 0, nil, false
+				}
+				blank = false
+			}
+		}
+		if len(cells) > MaxColumns {
+			cells = cells[:MaxColumns]
+		}
+		if blank {
+			// A row of formulas with no saved values is not blank.
+			for i := range cells {
+				if t.it.emptyIsFormula(i+1, n) {
+					blank = false
+					break
+				}
+			}
+		}
+		if !blank {
+			return n, cells, true
+		}
+	}
+	return 0, nil, false
+}
+
+func cellName(col, row int) string {
+	if col < 1 || row < 1 {
+		return ""
+	}
+	name, err := excelize.CoordinatesToCellName(col, row)
+	if err != nil {
+		return ""
+	}
+	return name
+}
+
+func (t *tableReader) readTable() {
+	hrow, head, ok := t.nextRow()
+	if !ok {
+		if t.sh.Required {
+			t.rep.errf(Ref{Sheet: t.sh.Name, Cell: "A1"}, "", "", ErrMissingColumn, "sheet is empty; it needs a header row (%s)", headerList(t.sh))
+		}
+		return
+	}
+	cols := map[string]int{}
+	for i, h := range head {
+		n := norm(h)
+		if n == "" {
+			continue
+		}
+		var col *Column
+		for j := range t.sh.Columns {
+			if norm(t.sh.Columns[j].Key) == n {
+				col = &t.sh.Columns[j]
+			}
+		}
+		ref := Ref{Sheet: t.sh.Name, Cell: cellName(i+1, hrow)}
+		if col == nil {
+			t.rep.warnf(ref, "", h, ErrUnknown, "is not a column grantworth reads; it is ignored")
+			continue
+		}
+		if j, dup := cols[col.Key]; dup {
+			t.rep.errf(ref, col.Key, h, ErrDuplicate, "is the same column as %s", cellName(j+1, hrow))
+			continue
+		}
+		cols[col.Key] = i
+	}
+	t.s.layout[t.sh.Name] = cols
+	missing := false
+	for _, c := range t.sh.Columns {
+		if _, ok := cols[c.Key]; c.Required && !ok {
+			t.rep.errf(Ref{Sheet: t.sh.Name, Cell: cellName(1, hrow)}, c.Key, "", ErrMissingColumn, "column is missing from the header row")
+			missing = true
+		}
+	}
+	if missing {
+		return
+	}
+	for {
+		n, cells, ok := t.nextRow()
+		if !ok {
+			return
+		}
+		c := &rowCtx{t: t, row: n, cells: cells, cols: cols, refs: map[string]Ref{}}
+		switch t.sh.Name {
+		case SheetGrants:
+			t.grantRow(c)
+		case SheetVesting:
+			t.vestRow(c)
+		case SheetSharePrices:
+			t.priceRow(c)
+		case SheetRates:
+			t.rateRow(c)
+		case SheetEvents:
+			t.eventRow(c)
+		}
+	}
+}
+
+func headerList(sh *Sheet) string {
+	var keys []string
+	for _, c := range sh.Columns {
+		if c.Required {
+			keys = append(keys, c.Key)
+		}
+	}
+	return strings.Join(keys, ", ")
+}
+
+// rowCtx reads typed values from one row, recording problems.
+type rowCtx struct {
+	t      *tableReader
+	row    int
+	cells  []string
+	cols   map[string]int // key → 0-based column
+	refs   map[string]Ref
+	failed bool
+}
+
+func (c *rowCtx) ref(key string) Ref {
+	if i, ok := c.cols[key]; ok {
+		return Ref{Sheet: c.t.sh.Name, Cell: cellName(i+1, c.row)}
+	}
+	return Ref{Sheet: c.t.sh.Name, Cell: cellName(1, c.row)}
+}
+
+func (c *rowCtx) fail(key, value string, err error) {
+	c.failed = true
+	ref := c.ref(key)
+	c.t.rep.addErr(&CellError{Sheet: ref.Sheet, Cell: ref.Cell, Column: key, Value: value, Err: err})
+}
+
+func (c *rowCtx) failf(key, value string, err error, format string, args ...any) {
+	c.failed = true
+	c.t.rep.errf(c.ref(key), key, value, err, format, args...)
+}
+
+// text returns the trimmed text of the cell in column key and whether it
+// is non-empty.
+func (c *rowCtx) text(key string) (string, bool) {
+	i, ok := c.cols[key]
+	if !ok {
+		return "", false
+	}
+	v := ""
+	if i < len(c.cells) {
+		v = strings.TrimSpace(c.cells[i])
+	}
+	if v == "" {
+		if c.t.it.emptyIsFormula(i+1, c.row) {
+			c.fail(key, "", ErrNoCachedValue)
+		}
+		return "", false
+	}
+	c.refs[key] = c.ref(key)
+	return v, true
+}
+
+func (c *rowCtx) required(key string) (string, bool) {
+	v, ok := c.text(key)
+	if !ok && !c.failed {
+		c.fail(key, "", ErrRequired)
+	}
+	return v, ok
+}
+
+func (c *rowCtx) date(key string, req bool) (time.Time, bool) {
+	v, ok := c.get(key, req)
+	if !ok {
+		return time.Time{}, false
+	}
+	t, err := parseDate(v, c.t.d1904)
+	if err != nil {
+		if errors.Is(err, ErrRange) {
+			c.failf(key, v, err, "is not a date between %d and %d", minYear, maxYear)
+		} else {
+			c.fail(key, v, err)
+		}
+		return time.Time{}, false
+	}
+	return t, true
+}
+
+func (c *rowCtx) get(key string, req bool) (string, bool) {
+	if req {
+		return c.required(key)
+	}
+	return c.text(key)
+}
+
+func (c *rowCtx) number(key string, req bool) (float64, bool) {
+	v, ok := c.get(key, req)
+	if !ok {
+		return 0, false
+	}
+	f, err := ParseNumber(v)
+	if err != nil {
+		c.fail(key, v, err)
+		return 0, false
+	}
+	return f, true
+}
+
+func (c *rowCtx) integer(key string, req bool) (int64, bool) {
+	v, ok := c.get(key, req)
+	if !ok {
+		return 0, false
+	}
+	n, err := ParseInt(v)
+	if err != nil {
+		c.fail(key, v, err)
+		return 0, false
+	}
+	return n, true
+}
+
+func (c *rowCtx) percent(key string, req bool) (float64, bool) {
+	v, ok := c.get(key, req)
+	if !ok {
+		return 0, false
+	}
+	f, err := ParsePercent(v)
+	if err != nil {
+		c.fail(key, v, err)
+		return 0, false
+	}
+	return f, true
+}
+
+func (c *rowCtx) choice(key string, req bool) (string, bool) {
+	v, ok := c.get(key, req)
+	if !ok {
+		return "", false
+	}
+	col := c.t.sh.Column(key)
+	for _, ch := range col.Choices {
+		if norm(ch) == norm(v) || strings.EqualFold(ch, v) {
+			return ch, true
+		}
+	}
+	c.failf(key, v, ErrNotChoice, "is not one of %s", strings.Join(col.Choices, ", "))
+	return "", false
+}
+
+func (c *rowCtx) ptr(key string, percent bool) *float64 {
+	var f float64
+	var ok bool
+	if percent {
+		f, ok = c.percent(key, false)
+	} else {
+		f, ok = c.number(key, false)
+	}
+	if !ok {
+		return nil
+	}
+	return &f
+}
+
+func (t *tableReader) grantRow(c *rowCtx) {
+	g := Grant{Row: c.row}
+	id, idOK := c.required("grant_id")
+	g.ID = id
+	g.Holder, _ = c.text("holder")
+	g.Instrument = Option
+	if v, ok := c.choice("instrument", false); ok {
+		g.Instrument = Instrument(v)
+	}
+	g.GrantDate, _ = c.date("grant_date", true)
+	g.Shares, _ = c.integer("shares", true)
+	g.Strike, _ = c.number("strike", false)
+	exp, expOK := c.date("expiry_date", false)
+	term, termOK := c.number("term_years", false)
+	switch {
+	case expOK:
+		g.ExpiryDate = exp
+	case termOK && !g.GrantDate.IsZero():
+		if term <= 0 || term > 100 {
+			c.failf("term_years", c.cellText("term_years"), ErrRange, "must be more than 0 and at most 100 years")
+		} else {
+			g.ExpiryDate = termExpiry(g.GrantDate, term)
+		}
+	}
+	if expOK && termOK && !g.GrantDate.IsZero() {
+		if d := termExpiry(g.GrantDate, term).Sub(exp); d > 4*24*time.Hour || d < -4*24*time.Hour {
+			t.rep.warnf(c.ref("term_years"), "term_years", c.cellText("term_years"), ErrInconsistent,
+				"disagrees with expiry_date %s (%s); expiry_date is used", exp.Format(time.DateOnly), c.ref("expiry_date").Cell)
+		}
+	}
+	g.VestStart = g.GrantDate
+	if v, ok := c.date("vest_start", false); ok {
+		g.VestStart = v
+	}
+	vm, _ := c.integer("vest_months", false)
+	cm, _ := c.integer("cliff_months", false)
+	g.VestEvery = 1
+	if ve, ok := c.integer("vest_every_months", false); ok {
+		g.VestEvery = int(ve)
+	}
+	if vm < 0 || vm > 1200 {
+		c.failf("vest_months", c.cellText("vest_months"), ErrRange, "must be from 0 to 1200 months")
+	}
+	if cm < 0 || cm > 1200 {
+		c.failf("cliff_months", c.cellText("cliff_months"), ErrRange, "must be from 0 to 1200 months")
+	}
+	g.VestMonths, g.CliffMonths = int(vm), int(cm)
+	g.SharePrice = c.ptr("share_price", false)
+	g.Volatility = c.ptr("volatility", true)
+	g.DividendYield = c.ptr("dividend_yield", true)
+	g.ExerciseMultiple = c.ptr("exercise_multiple", false)
+	g.PostVestingExitRate = c.ptr("post_vesting_exit_rate", true)
+	cl, clOK := c.choice("classification", false)
+	st, stOK := c.choice("exercise_style", false)
+	if g.Instrument == Warrant {
+		g.Classification, g.ExerciseStyle = Equity, American
+		if clOK {
+			g.Classification = Classification(cl)
+		}
+		if stOK {
+			g.ExerciseStyle = ExerciseStyle(st)
+		}
+	} else {
+		for _, k := range []string{"classification", "exercise_style"} {
+			if _, ok := c.refs[k]; ok {
+				t.rep.warnf(c.ref(k), k, c.cellText(k), ErrInconsistent, "applies to warrants only; ignored for %s %s", g.Instrument, g.ID)
+			}
+		}
+	}
+	g.Refs = c.refs
+	if c.failed || !idOK {
+		if idOK {
+			t.rep.skip[id] = true
+		}
+		return
+	}
+	t.s.Grants = append(t.s.Grants, g)
+}
+
+// termExpiry is the grant date plus a contractual term in years: whole
+// months are added as months (month-end clamped); any rest of a month as
+// days of a 365-day year.
+func termExpiry(grant time.Time, years float64) time.Time {
+	months := years * 12
+	whole := int(months)
+	t := AddMonths(grant, whole)
+	if rest := months - float64(whole); rest > 1e-9 {
+		t = t.AddDate(0, 0, int(rest/12*365+0.5))
+	}
+	return t
+}
+
+func (c *rowCtx) cellText(key string) string {
+	if i, ok := c.cols[key]; ok && i < len(c.cells) {
+		return strings.TrimSpace(c.cells[i])
+	}
+	return ""
+}
+
+func (t *tableReader) vestRow(c *rowCtx) {
+	v := VestRow{Row: c.row}
+	v.GrantID, _ = c.required("grant_id")
+	v.VestDate, _ = c.date("vest_date", true)
+	v.Shares, _ = c.integer("shares", true)
+	if c.failed {
+		if v.GrantID != "" {
+			t.rep.skip[v.GrantID] = true
+		}
+		return
+	}
+	t.s.Vesting = append(t.s.Vesting, v)
+}
+
+func (t *tableReader) priceRow(c *rowCtx) {
+	p := PricePoint{Row: c.row}
+	p.Date, _ = c.date("date", true)
+	p.Price, _ = c.number("price", true)
+	if !c.failed {
+		t.s.SharePrices = append(t.s.SharePrices, p)
+	}
+}
+
+func (t *tableReader) rateRow(c *rowCtx) {
+	p := RatePoint{Row: c.row, Compounding: "continuous"}
+	p.CurveDate, _ = c.date("curve_date", true)
+	p.TenorYears, _ = c.number("tenor_years", true)
+	p.Rate, _ = c.percent("rate", true)
+	if v, ok := c.choice("compounding", false); ok {
+		p.Compounding = v
+	}
+	if !c.failed {
+		t.s.Rates = append(t.s.Rates, p)
+	}
+}
+
+func (t *tableReader) eventRow(c *rowCtx) {
+	e := Event{Row: c.row}
+	e.GrantID, _ = c.required("grant_id")
+	e.Date, _ = c.date("date", true)
+	if k, ok := c.choice("event", true); ok {
+		e.Kind = EventKind(k)
+	}
+	e.Shares, _ = c.integer("shares", true)
+	if c.failed {
+		if e.GrantID != "" {
+			t.rep.skip[e.GrantID] = true
+		}
+		return
+	}
+	t.s.Events = append(t.s.Events, e)
+}
+
+// readKeyValue reads Company or Assumptions: rows of key, value and
+// (Assumptions) source. A header row "key, value, source" is optional.
+func (t *tableReader) readKeyValue() {
+	kc, vc, sc := 0, 1, 2
+	first := true
+	seen := map[string]Ref{}
+	for {
+		n, cells, ok := t.nextRow()
+		if !ok {
+			break
+		}
+		if first {
+			first = false
+			if len(cells) > 0 && norm(cells[0]) == "key" {
+				kc, vc, sc = -1, -1, -1
+				for i, h := range cells {
+					switch norm(h) {
+					case "key":
+						kc = i
+					case "value":
+						vc = i
+					case "source":
+						sc = i
+					case "":
+					default:
+						t.rep.warnf(Ref{Sheet: t.sh.Name, Cell: cellName(i+1, n)}, "", h, ErrUnknown, "is not a column grantworth reads (key, value, source); it is ignored")
+					}
+				}
+				if vc < 0 {
+					t.rep.errf(Ref{Sheet: t.sh.Name, Cell: cellName(1, n)}, "value", "", ErrMissingColumn, "column is missing from the header row")
+					return
+				}
+				continue
+			}
+		}
+		key := ""
+		if kc < len(cells) {
+			key = strings.TrimSpace(cells[kc])
+		}
+		keyRef := Ref{Sheet: t.sh.Name, Cell: cellName(kc+1, n)}
+		if key == "" {
+			t.rep.errf(keyRef, "key", "", ErrRequired, "has a value but no key")
+			continue
+		}
+		col := (*Column)(nil)
+		for i := range t.sh.Columns {
+			if norm(t.sh.Columns[i].Key) == norm(key) {
+				col = &t.sh.Columns[i]
+			}
+		}
+		if col == nil {
+			t.rep.warnf(keyRef, "key", key, ErrUnknown, "is not a key grantworth reads; it is ignored")
+			continue
+		}
+		if prev, dup := seen[col.Key]; dup {
+			t.rep.errf(keyRef, "key", key, ErrDuplicate, "is given twice (also %s)", prev.Cell)
+			continue
+		}
+		seen[col.Key] = keyRef
+		c := &rowCtx{t: t, row: n, cells: cells, cols: map[string]int{col.Key: vc}, refs: map[string]Ref{}}
+		if t.sh.Name == SheetCompany {
+			t.companyValue(c, col)
+		} else {
+			t.assumptionValue(c, col)
+			if sc >= 0 && sc < len(cells) {
+				if src := strings.TrimSpace(cells[sc]); src != "" {
+					t.s.Assumptions.Sources[col.Key] = src
+				}
+			}
+		}
+		for k, r := range c.refs {
+			if t.sh.Name == SheetCompany {
+				t.s.Company.Refs[k] = r
+			} else {
+				t.s.Assumptions.Refs[k] = r
+			}
+		}
+	}
+	for _, col := range t.sh.Columns {
+		if _, ok := seen[col.Key]; col.Required && !ok {
+			t.rep.errf(Ref{Sheet: t.sh.Name, Cell: cellName(1, 1)}, col.Key, "", ErrRequired, "key is missing; add a row %s with its value", col.Key)
+		}
+	}
+}
+
+func (t *tableReader) companyValue(c *rowCtx, col *Column) {
+	co := &t.s.Company
+	switch col.Key {
+	case "company_name":
+		co.Name, _ = c.required(col.Key)
+	case "valuation_date":
+		co.ValuationDate, _ = c.date(col.Key, true)
+	case "period_start":
+		co.PeriodStart, _ = c.date(col.Key, false)
+	case "currency":
+		if v, ok := c.text(col.Key); ok {
+			if !isCurrency(v) {
+				c.failf(col.Key, v, ErrRange, "is not a three-letter ISO 4217 currency code such as USD or EUR")
+			} else {
+				co.Currency = strings.ToUpper(v)
+			}
+		}
+	case "shares_outstanding":
+		co.SharesOutstanding = 0
+		if n, ok := c.integer(col.Key, false); ok {
+			co.SharesOutstanding = float64(n)
+		}
+	}
+}
+
+func isCurrency(s string) bool {
+	if len(s) != 3 {
+		return false
+	}
+	for _, r := range s {
+		if !(r >= 'A' && r <= 'Z' || r >= 'a' && r <= 'z') {
+			return false
+		}
+	}
+	return true
+}
+
+func (t *tableReader) assumptionValue(c *rowCtx, col *Column) {
+	a := &t.s.Assumptions
+	switch col.Key {
+	case "volatility":
+		a.Volatility, _ = c.percent(col.Key, false)
+	case "dividend_yield":
+		a.DividendYield, _ = c.percent(col.Key, false)
+	case "exercise_multiple":
+		a.ExerciseMultiple, _ = c.number(col.Key, false)
+	case "post_vesting_exit_rate":
+		a.PostVestingExitRate, _ = c.percent(col.Key, false)
+	case "pre_vesting_forfeiture_rate":
+		a.PreVestingForfeitureRate, _ = c.percent(col.Key, false)
+	case "attribution":
+		if v, ok := c.choice(col.Key, false); ok {
+			a.Attribution = Attribution(v)
+		}
+	case "forfeitures":
+		if v, ok := c.choice(col.Key, false); ok {
+			a.Forfeitures = ForfeiturePolicy(v)
+		}
+	case "steps":
+		if v, ok := c.text(col.Key); ok && !strings.EqualFold(v, "auto") {
+			n, err := ParseInt(v)
+			if err != nil || n < 1 || n > 100000 {
+				c.failf(col.Key, v, ErrRange, "must be auto or a whole number of steps from 1 to 100000")
+			} else {
+				a.Steps = int(n)
+			}
+		}
+	}
+}
+
+// finishCompany fills the Company defaults.
+func finishCompany(s *Schedule, rep *Report) {
+	co := &s.Company
+	if co.Currency == "" {
+		co.Currency = "USD"
+	}
+	if co.PeriodStart.IsZero() && !co.ValuationDate.IsZero() {
+		co.PeriodStart = QuarterStart(co.ValuationDate)
+	}
+}
+
+// QuarterStart is the first day of the three-month period that ends on
+// end: the day after end, three months back (2026-09-30 gives 2026-07-01).
+func QuarterStart(end time.Time) time.Time {
+	return AddMonths(end.AddDate(0, 0, 1), -3)
+}

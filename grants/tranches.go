@@ -1,0 +1,165 @@
+package grants
+
+import (
+	"sort"
+	"time"
+)
+
+// Tranches expands a grant into its vesting tranches, in vest-date order,
+// with the forfeited and cancelled events of the grant applied.
+//
+// If the Vesting sheet names the grant, its rows are the tranches (rows on
+// the same date are added together). Otherwise the Grants columns give them
+// by the rule of DESIGN §4.2 (common practice): after m months of service,
+// floor(shares × m / vest_months) shares have vested, counted at the cliff
+// and then every vest_every_months (and at vest_months itself); a tranche
+// is the difference between successive counts, so the tranches add up to
+// the grant exactly, and months with no new shares give no tranche. Month
+// m falls on vest_start plus m months, a missing day becoming the month's
+// last day. A grant with vest_months 0 is one tranche vested at grant.
+//
+// A forfeited (or cancelled) event takes its shares from the tranches that
+// vest after its date, the latest vest date first (the order the expense
+// attribution uses; a termination forfeits them all); a tranche vesting on
+// the event's date has vested. Shares beyond the unvested ones concern
+// vested shares, as do exercised and expired events, and change no tranche.
+// A grant with no shares has no tranches.
+func (s *Schedule) Tranches(g Grant) []Tranche {
+	var ts []Tranche
+	if rows := s.vestRows(g.ID); len(rows) > 0 {
+		ts = customTranches(g, rows)
+	} else {
+		ts = expand(g)
+	}
+	for _, e := range s.EventsOf(g.ID) {
+		if e.Kind != Forfeited && e.Kind != Cancelled {
+			continue
+		}
+		left := e.Shares
+		for i := len(ts) - 1; i >= 0; i-- {
+			if left <= 0 {
+				break
+			}
+			t := &ts[i]
+			if !t.VestDate.After(e.Date) {
+				continue
+			}
+			take := min(left, t.Vesting())
+			if take <= 0 {
+				continue
+			}
+			left -= take
+			if e.Kind == Forfeited {
+				t.Forfeited += take
+				t.ForfeitDate = e.Date
+			} else {
+				t.Cancelled += take
+				t.CancelDate = e.Date
+			}
+		}
+	}
+	return ts
+}
+
+// expand applies the column schedule of DESIGN §4.2.
+func expand(g Grant) []Tranche {
+	if g.Shares <= 0 {
+		return nil
+	}
+	vm := g.VestMonths
+	if vm <= 0 {
+		return []Tranche{{GrantID: g.ID, Index: 1, VestDate: g.GrantDate, Shares: g.Shares}}
+	}
+	every := g.VestEvery
+	if every <= 0 {
+		every = 1
+	}
+	cliff := min(max(g.CliffMonths, 0), vm)
+	var ts []Tranche
+	var prev int64
+	add := func(m int) {
+		cum := floorMulDiv(g.Shares, int64(m), int64(vm))
+		if cum > prev {
+			ts = append(ts, Tranche{GrantID: g.ID, Index: len(ts) + 1, VestDate: AddMonths(g.VestStart, m), Shares: cum - prev})
+			prev = cum
+		}
+	}
+	if cliff > 0 {
+		add(cliff)
+	}
+	for m := every; m < vm; m += every {
+		if m > cliff {
+			add(m)
+		}
+	}
+	add(vm)
+	return ts
+}
+
+// floorMulDiv is floor(a×m/n) for a, m ≥ 0 and n > 0, without overflow for
+// any a up to 2^53 and m up to n.
+func floorMulDiv(a, m, n int64) int64 {
+	return a/n*m + (a%n)*m/n
+}
+
+func customTranches(g Grant, rows []VestRow) []Tranche {
+	rows = append([]VestRow(nil), rows...)
+	sort.SliceStable(rows, func(i, j int) bool { return rows[i].VestDate.Before(rows[j].VestDate) })
+	var ts []Tranche
+	for _, r := range rows {
+		if r.Shares <= 0 {
+			continue
+		}
+		if n := len(ts); n > 0 && ts[n-1].VestDate.Equal(r.VestDate) {
+			ts[n-1].Shares += r.Shares
+			continue
+		}
+		ts = append(ts, Tranche{GrantID: g.ID, Index: len(ts) + 1, VestDate: r.VestDate, Shares: r.Shares})
+	}
+	return ts
+}
+
+func (s *Schedule) vestRows(id string) []VestRow {
+	var out []VestRow
+	for _, v := range s.Vesting {
+		if v.GrantID == id {
+			out = append(out, v)
+		}
+	}
+	return out
+}
+
+// EventsOf returns the events of grant id in date order (rows on the same
+// date in sheet order).
+func (s *Schedule) EventsOf(id string) []Event {
+	var out []Event
+	for _, e := range s.Events {
+		if e.GrantID == id {
+			out = append(out, e)
+		}
+	}
+	sort.SliceStable(out, func(i, j int) bool { return out[i].Date.Before(out[j].Date) })
+	return out
+}
+
+// Grant returns the grant with the given id.
+func (s *Schedule) Grant(id string) (Grant, bool) {
+	for _, g := range s.Grants {
+		if g.ID == id {
+			return g, true
+		}
+	}
+	return Grant{}, false
+}
+
+// VestedAt is the number of shares of ts vested on date d (tranches vesting
+// on d included), before forfeitures.
+func VestedAt(ts []Tranche, d time.Time) int64 {
+	var n int64
+	for _, t := range ts {
+		if !t.VestDate.After(d) {
+			n += t.Shares
+		}
+	}
+	return n
+}

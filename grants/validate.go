@@ -1,0 +1,595 @@
+package grants
+
+import (
+	"fmt"
+	"sort"
+	"strconv"
+	"strings"
+	"time"
+
+	"grantworth/valuation"
+)
+
+// Validate checks a schedule for the problems that reading cannot see
+// (the rules are listed in the package documentation) and returns them
+// with the cell each concerns. ReadFile, ReadXLSX and ReadCSVDir run it
+// already; call it for a schedule built in code.
+func Validate(s *Schedule) Report {
+	return validate(s, nil)
+}
+
+// StaleMonths is how old the latest share valuation may be at a grant date
+// before a warning (common practice: a valuation more than twelve months
+// old is stale).
+const StaleMonths = 12
+
+// Bounds outside which a volatility draws a warning.
+const (
+	VolLow  = 0.05
+	VolHigh = 2.00
+)
+
+func validate(s *Schedule, skip map[string]bool) Report {
+	v := &validator{s: s, skip: skip}
+	v.company()
+	v.assumptions()
+	v.prices()
+	v.rates()
+	v.grants()
+	v.vesting()
+	v.events()
+	return v.rep
+}
+
+type validator struct {
+	s    *Schedule
+	skip map[string]bool
+	rep  Report
+}
+
+func num(f float64) string { return strconv.FormatFloat(f, 'g', -1, 64) }
+func isoDay(t time.Time) string {
+	if t.IsZero() {
+		return ""
+	}
+	return t.Format(time.DateOnly)
+}
+
+// cell is the reference of column key on row of sheet: from refs if the
+// cell was read, else from the sheet's header layout.
+func (s *Schedule) cell(sheet, key string, row int, refs map[string]Ref) Ref {
+	if r, ok := refs[key]; ok {
+		return r
+	}
+	if cols, ok := s.layout[sheet]; ok {
+		if i, ok := cols[key]; ok && row > 0 {
+			return Ref{Sheet: sheet, Cell: cellName(i+1, row)}
+		}
+	}
+	if row > 0 {
+		return Ref{Sheet: sheet, Cell: cellName(1, row)}
+	}
+	return Ref{Sheet: sheet}
+}
+
+func (v *validator) company() {
+	co := &v.s.Company
+	if co.ValuationDate.IsZero() {
+		return
+	}
+	if !co.PeriodStart.IsZero() && !co.PeriodStart.Before(co.ValuationDate) {
+		v.rep.errf(v.s.cell(SheetCompany, "period_start", 0, co.Refs), "period_start", isoDay(co.PeriodStart), ErrRange,
+			"must be before valuation_date %s", isoDay(co.ValuationDate))
+	}
+	if co.SharesOutstanding < 0 {
+		v.rep.errf(v.s.cell(SheetCompany, "shares_outstanding", 0, co.Refs), "shares_outstanding", num(co.SharesOutstanding), ErrRange, "must be more than zero")
+	}
+}
+
+func (v *validator) rate(sheet, key string, row int, refs map[string]Ref, x float64, what string) {
+	ref := v.s.cell(sheet, key, row, refs)
+	if x < 0 || x >= 1 {
+		v.rep.errf(ref, key, num(x), ErrRange, "must be at least 0 and below 1 (100%%): %s", what)
+	}
+}
+
+func (v *validator) vol(sheet string, row int, refs map[string]Ref, x float64) {
+	ref := v.s.cell(sheet, "volatility", row, refs)
+	switch {
+	case x <= 0 || x > 10:
+		v.rep.errf(ref, "volatility", num(x), ErrRange, "must be more than 0 (as a decimal, 0.45, or a percentage, 45%%)")
+	case x < VolLow || x > VolHigh:
+		v.rep.warnf(ref, "volatility", num(x), ErrRange, "is outside %g%%–%g%%; check that it is an annual decimal (0.45 = 45%%)", VolLow*100, VolHigh*100)
+	}
+}
+
+func (v *validator) multiple(sheet string, row int, refs map[string]Ref, x float64) {
+	if x != 0 && x < 1 || x < 0 || x > 100 {
+		v.rep.errf(v.s.cell(sheet, "exercise_multiple", row, refs), "exercise_multiple", num(x), ErrRange, "must be 0 (no such rule) or from 1 to 100 times the strike")
+	}
+}
+
+func (v *validator) assumptions() {
+	a := &v.s.Assumptions
+	sh := SheetAssumptions
+	if a.has("volatility") {
+		v.vol(sh, 0, a.Refs, a.Volatility)
+	} else {
+		for _, g := range v.s.Grants {
+			if g.Volatility == nil && g.Instrument != RSU {
+				v.rep.errf(Ref{Sheet: sh}, "volatility", "", ErrRequired, "key is missing, and grant %s (%s) gives none", g.ID, v.s.cell(SheetGrants, "volatility", g.Row, g.Refs))
+				break
+			}
+		}
+	}
+	if a.DividendYield < 0 || a.DividendYield >= 1 {
+		v.rep.errf(v.s.cell(sh, "dividend_yield", 0, a.Refs), "dividend_yield", num(a.DividendYield), ErrRange, "must be at least 0 and below 1 (100%%)")
+	}
+	v.multiple(sh, 0, a.Refs, a.ExerciseMultiple)
+	v.rate(sh, "post_vesting_exit_rate", 0, a.Refs, a.PostVestingExitRate, "the annual share of vested holders who leave")
+	v.rate(sh, "pre_vesting_forfeiture_rate", 0, a.Refs, a.PreVestingForfeitureRate, "the annual share of unvested holders who leave")
+}
+
+func (v *validator) prices() {
+	seen := map[time.Time]int{}
+	for _, p := range v.s.SharePrices {
+		if p.Price <= 0 {
+			v.rep.errf(v.s.cell(SheetSharePrices, "price", p.Row, nil), "price", num(p.Price), ErrRange, "must be more than zero")
+		}
+		if r, dup := seen[p.Date]; dup {
+			v.rep.errf(v.s.cell(SheetSharePrices, "date", p.Row, nil), "date", isoDay(p.Date), ErrDuplicate,
+				"is also the date of %s; keep one price per date", v.s.cell(SheetSharePrices, "date", r, nil).Cell)
+		} else {
+			seen[p.Date] = p.Row
+		}
+	}
+}
+
+func (v *validator) rates() {
+	for _, c := range v.s.curves() {
+		tenors := map[float64]int{}
+		par, other := 0, 0
+		for _, p := range c.points {
+			ref := v.s.cell(SheetRates, "tenor_years", p.Row, nil)
+			if p.TenorYears < 0 || p.TenorYears > 100 {
+				v.rep.errf(ref, "tenor_years", num(p.TenorYears), ErrRange, "must be from 0 to 100 years")
+			}
+			if r, dup := tenors[p.TenorYears]; dup {
+				v.rep.errf(ref, "tenor_years", num(p.TenorYears), ErrDuplicate, "appears twice in the curve of %s (also %s)", isoDay(c.date), v.s.cell(SheetRates, "tenor_years", r, nil).Cell)
+			} else {
+				tenors[p.TenorYears] = p.Row
+			}
+			if p.Rate <= -0.2 || p.Rate >= 0.5 {
+				v.rep.errf(v.s.cell(SheetRates, "rate", p.Row, nil), "rate", num(p.Rate), ErrRange,
+					"is not a plausible rate; write 4.5%% or 0.045, not 4.5")
+			}
+			if p.Compounding == "par-semiannual" {
+				par++
+			} else {
+				other++
+			}
+		}
+		if par > 0 && other > 0 {
+			v.rep.errf(v.s.cell(SheetRates, "compounding", c.points[0].Row, nil), "compounding", "", ErrInconsistent,
+				"the curve of %s mixes par-semiannual yields with zero rates; give one or the other", isoDay(c.date))
+			continue
+		}
+		if v.rep.OK() {
+			if _, _, err := c.build(); err != nil {
+				v.rep.errf(v.s.cell(SheetRates, "curve_date", c.points[0].Row, nil), "curve_date", isoDay(c.date), ErrRange, "cannot be made into a zero curve: %v", err)
+			}
+		}
+	}
+}
+
+func (v *validator) grants() {
+	s := v.s
+	ids := map[string]int{}
+	for _, g := range s.Grants {
+		ref := func(k string) Ref { return s.cell(SheetGrants, k, g.Row, g.Refs) }
+		if r, dup := ids[g.ID]; dup {
+			v.rep.errf(ref("grant_id"), "grant_id", g.ID, ErrDuplicate, "is also the grant_id of row %d (%s)", r, s.cell(SheetGrants, "grant_id", r, nil).Cell)
+		} else {
+			ids[g.ID] = g.Row
+		}
+		if g.Shares <= 0 {
+			v.rep.errf(ref("shares"), "shares", strconv.FormatInt(g.Shares, 10), ErrRange, "must be more than zero")
+		}
+		if g.Shares > 1e12 {
+			v.rep.errf(ref("shares"), "shares", strconv.FormatInt(g.Shares, 10), ErrRange, "is more than 10^12 shares")
+		}
+		_, hasStrike := g.Refs["strike"]
+		if g.Refs == nil {
+			hasStrike = g.Strike > 0
+		}
+		switch {
+		case g.Instrument != RSU && !hasStrike:
+			v.rep.errf(ref("strike"), "strike", "", ErrRequired, "is required for %s %s", article(g.Instrument), g.ID)
+		case g.Strike < 0:
+			v.rep.errf(ref("strike"), "strike", num(g.Strike), ErrRange, "must be zero or more")
+		case g.Instrument == RSU && hasStrike && g.Strike != 0:
+			v.rep.warnf(ref("strike"), "strike", num(g.Strike), ErrInconsistent, "an RSU has no strike; it is ignored")
+		}
+		if g.Instrument != RSU {
+			if g.ExpiryDate.IsZero() {
+				v.rep.errf(ref("expiry_date"), "expiry_date", "", ErrRequired, "%s %s needs expiry_date or term_years", article(g.Instrument), g.ID)
+			} else if !g.ExpiryDate.After(g.GrantDate) {
+				v.rep.errf(ref("expiry_date"), "expiry_date", isoDay(g.ExpiryDate), ErrRange, "must be after grant_date %s (%s)", isoDay(g.GrantDate), ref("grant_date").Cell)
+			}
+		}
+		if g.CliffMonths > g.VestMonths {
+			v.rep.errf(ref("cliff_months"), "cliff_months", strconv.Itoa(g.CliffMonths), ErrRange, "is longer than vest_months %d (%s)", g.VestMonths, ref("vest_months").Cell)
+		}
+		if e := g.VestEvery; e != 1 && e != 3 && e != 12 {
+			v.rep.errf(ref("vest_every_months"), "vest_every_months", strconv.Itoa(e), ErrRange, "must be 1, 3 or 12")
+		}
+		if !g.VestStart.IsZero() && !g.GrantDate.IsZero() && g.VestStart.After(g.GrantDate.AddDate(1, 0, 0)) {
+			v.rep.warnf(ref("vest_start"), "vest_start", isoDay(g.VestStart), ErrRange, "is more than a year after grant_date %s", isoDay(g.GrantDate))
+		}
+		if co := s.Company.ValuationDate; !co.IsZero() && g.GrantDate.After(co) {
+			v.rep.warnf(ref("grant_date"), "grant_date", isoDay(g.GrantDate), ErrRange, "is after the valuation date %s; the grant is outside the period", isoDay(co))
+		}
+		// Overrides.
+		if g.Volatility != nil {
+			v.vol(SheetGrants, g.Row, g.Refs, *g.Volatility)
+		}
+		if g.DividendYield != nil && (*g.DividendYield < 0 || *g.DividendYield >= 1) {
+			v.rep.errf(ref("dividend_yield"), "dividend_yield", num(*g.DividendYield), ErrRange, "must be at least 0 and below 1 (100%%)")
+		}
+		if g.ExerciseMultiple != nil {
+			v.multiple(SheetGrants, g.Row, g.Refs, *g.ExerciseMultiple)
+		}
+		if g.PostVestingExitRate != nil {
+			v.rate(SheetGrants, "post_vesting_exit_rate", g.Row, g.Refs, *g.PostVestingExitRate, "the annual share of vested holders who leave")
+		}
+		if g.SharePrice != nil && *g.SharePrice <= 0 {
+			v.rep.errf(ref("share_price"), "share_price", num(*g.SharePrice), ErrRange, "must be more than zero")
+		}
+		if g.Instrument == Warrant && s.Company.SharesOutstanding <= 0 {
+			v.rep.errf(s.cell(SheetCompany, "shares_outstanding", 0, s.Company.Refs), "shares_outstanding", "", ErrRequired,
+				"is needed for the dilution of warrant %s (%s)", g.ID, ref("grant_id").Cell)
+		}
+		if g.Shares <= 0 || g.GrantDate.IsZero() {
+			continue
+		}
+		v.marketAt(g, ref)
+		// Vesting that ends after expiry.
+		if g.Instrument != RSU && !g.ExpiryDate.IsZero() && g.ExpiryDate.After(g.GrantDate) && g.CliffMonths <= g.VestMonths {
+			ts := s.Tranches(g)
+			if n := len(ts); n > 0 && ts[n-1].VestDate.After(g.ExpiryDate) {
+				if rows := s.vestRows(g.ID); len(rows) > 0 {
+					last := rows[0]
+					for _, r := range rows {
+						if r.VestDate.After(last.VestDate) {
+							last = r
+						}
+					}
+					v.rep.errf(s.cell(SheetVesting, "vest_date", last.Row, nil), "vest_date", isoDay(last.VestDate), ErrRange,
+						"is after the expiry %s of grant %s (%s)", isoDay(g.ExpiryDate), g.ID, ref("expiry_date").Cell)
+				} else {
+					v.rep.errf(ref("vest_months"), "vest_months", "", ErrRange,
+						"vesting ends %s, after the expiry %s (%s)", isoDay(ts[n-1].VestDate), isoDay(g.ExpiryDate), ref("expiry_date").Cell)
+				}
+			}
+		}
+	}
+}
+
+func article(i Instrument) string {
+	switch i {
+	case Option:
+		return "option"
+	case Warrant:
+		return "warrant"
+	}
+	return string(i)
+}
+
+// marketAt checks that a share price and a rate curve are known at the
+// grant's measurement date, and that the price is not stale.
+func (v *validator) marketAt(g Grant, ref func(string) Ref) {
+	s := v.s
+	md := s.MeasurementDate(g)
+	if md.IsZero() {
+		return
+	}
+	p, ok := s.PriceAt(md)
+	if g.SharePrice == nil {
+		if !ok {
+			v.rep.errf(ref("share_price"), "share_price", "", ErrRequired,
+				"no share price is known at the measurement date %s of grant %s: give one here or a Share Prices row dated on or before it", isoDay(md), g.ID)
+		} else if g.Strike > 0 && g.Instrument != RSU && g.Strike < p.Price && md.Equal(g.GrantDate) {
+			v.rep.warnf(ref("strike"), "strike", num(g.Strike), ErrRange, "is below the share price %s at grant (%s): the award is in the money", num(p.Price), s.cell(SheetSharePrices, "price", p.Row, nil))
+		}
+	} else if g.Strike > 0 && g.Instrument != RSU && g.Strike < *g.SharePrice && md.Equal(g.GrantDate) {
+		v.rep.warnf(ref("strike"), "strike", num(g.Strike), ErrRange, "is below the share price %s at grant (%s): the award is in the money", num(*g.SharePrice), ref("share_price").Cell)
+	}
+	if ok && AddMonths(p.Date, StaleMonths).Before(g.GrantDate) {
+		v.rep.warnf(ref("grant_date"), "grant_date", isoDay(g.GrantDate), ErrRange,
+			"is more than %d months after the latest share valuation, %s (%s): the valuation may be stale", StaleMonths, isoDay(p.Date), s.cell(SheetSharePrices, "date", p.Row, nil))
+	}
+	if g.Instrument != RSU {
+		if _, ok := s.curveAt(md); !ok {
+			v.rep.errf(ref("grant_date"), "grant_date", "", ErrRequired,
+				"no Rates curve is dated on or before the measurement date %s of grant %s", isoDay(md), g.ID)
+		}
+	}
+}
+
+func (v *validator) vesting() {
+	s := v.s
+	type sum struct {
+		shares int64
+		rows   []int
+	}
+	sums := map[string]*sum{}
+	var order []string
+	for _, r := range s.Vesting {
+		if r.Shares <= 0 {
+			v.rep.errf(s.cell(SheetVesting, "shares", r.Row, nil), "shares", strconv.FormatInt(r.Shares, 10), ErrRange, "must be more than zero")
+		}
+		g, ok := s.Grant(r.GrantID)
+		if !ok {
+			if !v.skip[r.GrantID] {
+				v.rep.errf(s.cell(SheetVesting, "grant_id", r.Row, nil), "grant_id", r.GrantID, ErrUnknown, "is not a grant_id of the Grants sheet")
+			}
+			continue
+		}
+		if !g.GrantDate.IsZero() && r.VestDate.Before(g.GrantDate.AddDate(-10, 0, 0)) {
+			v.rep.errf(s.cell(SheetVesting, "vest_date", r.Row, nil), "vest_date", isoDay(r.VestDate), ErrRange, "is more than ten years before the grant date %s", isoDay(g.GrantDate))
+		}
+		if sums[r.GrantID] == nil {
+			sums[r.GrantID] = &sum{}
+			order = append(order, r.GrantID)
+		}
+		sums[r.GrantID].shares += r.Shares
+		sums[r.GrantID].rows = append(sums[r.GrantID].rows, r.Row)
+	}
+	for _, id := range order {
+		if v.skip[id] {
+			continue
+		}
+		g, _ := s.Grant(id)
+		if su := sums[id]; su.shares != g.Shares {
+			first, last := su.rows[0], su.rows[len(su.rows)-1]
+			v.rep.errf(s.cell(SheetVesting, "shares", first, nil), "shares", "", ErrInconsistent,
+				"the Vesting rows %d–%d of grant %s add up to %d shares, but the grant has %d (%s)",
+				first, last, id, su.shares, g.Shares, s.cell(SheetGrants, "shares", g.Row, g.Refs))
+		}
+	}
+}
+
+func (v *validator) events() {
+	s := v.s
+	byGrant := map[string][]Event{}
+	var order []string
+	for _, e := range s.Events {
+		ref := func(k string) Ref { return s.cell(SheetEvents, k, e.Row, nil) }
+		if e.Shares <= 0 {
+			v.rep.errf(ref("shares"), "shares", strconv.FormatInt(e.Shares, 10), ErrRange, "must be more than zero")
+			continue
+		}
+		g, ok := s.Grant(e.GrantID)
+		if !ok {
+			if !v.skip[e.GrantID] {
+				v.rep.errf(ref("grant_id"), "grant_id", e.GrantID, ErrUnknown, "is not a grant_id of the Grants sheet")
+			}
+			continue
+		}
+		if e.Date.Before(g.GrantDate) {
+			v.rep.errf(ref("date"), "date", isoDay(e.Date), ErrRange, "is before the grant date %s of grant %s (%s)", isoDay(g.GrantDate), g.ID, s.cell(SheetGrants, "grant_date", g.Row, g.Refs).Cell)
+			continue
+		}
+		if vd := s.Company.ValuationDate; !vd.IsZero() && e.Date.After(vd) {
+			v.rep.warnf(ref("date"), "date", isoDay(e.Date), ErrRange, "is after the valuation date %s", isoDay(vd))
+		}
+		if byGrant[e.GrantID] == nil {
+			order = append(order, e.GrantID)
+		}
+		byGrant[e.GrantID] = append(byGrant[e.GrantID], e)
+	}
+	for _, id := range order {
+		if v.skip[id] {
+			continue
+		}
+		g, _ := s.Grant(id)
+		evs := byGrant[id]
+		sort.SliceStable(evs, func(i, j int) bool { return evs[i].Date.Before(evs[j].Date) })
+		ts := s.tranchesBeforeEvents(g)
+		live := make([]int64, len(ts)) // shares of each tranche not forfeited or cancelled
+		for i, t := range ts {
+			live[i] = t.Shares
+		}
+		var usedVested int64                         // vested shares exercised, expired or cancelled
+		takeUnvested := func(d time.Time, n int64) { // latest vest date first, as Tranches does
+			for i := len(ts) - 1; i >= 0; i-- {
+				if n <= 0 {
+					return
+				}
+				if ts[i].VestDate.After(d) {
+					k := min(n, live[i])
+					live[i] -= k
+					n -= k
+				}
+			}
+		}
+		for _, e := range evs {
+			var vested, unvested int64
+			for i, t := range ts {
+				if t.VestDate.After(e.Date) {
+					unvested += live[i]
+				} else {
+					vested += live[i]
+				}
+			}
+			vestedOut := vested - usedVested
+			ref := s.cell(SheetEvents, "shares", e.Row, nil)
+			gref := s.cell(SheetGrants, "shares", g.Row, g.Refs)
+			switch e.Kind {
+			case Forfeited:
+				switch {
+				case e.Shares > unvested+vestedOut:
+					v.rep.errf(ref, "shares", strconv.FormatInt(e.Shares, 10), ErrRange,
+						"forfeits more than the %d shares outstanding of grant %s on %s (%s)", max(unvested+vestedOut, 0), id, isoDay(e.Date), gref)
+				case e.Shares > unvested:
+					v.rep.warnf(ref, "shares", strconv.FormatInt(e.Shares, 10), ErrRange,
+						"is more than the %d unvested shares of grant %s on %s; the rest are taken from vested shares (record those as expired)", unvested, id, isoDay(e.Date))
+				}
+				k := min(e.Shares, unvested)
+				takeUnvested(e.Date, k)
+				usedVested += e.Shares - k
+			case Exercised, Expired:
+				if e.Shares > vestedOut {
+					v.rep.errf(ref, "shares", strconv.FormatInt(e.Shares, 10), ErrRange,
+						"%s more than the %d vested shares outstanding of grant %s on %s (%s)", verb(e.Kind), max(vestedOut, 0), id, isoDay(e.Date), gref)
+				}
+				usedVested += e.Shares
+			case Cancelled:
+				if e.Shares > unvested+vestedOut {
+					v.rep.errf(ref, "shares", strconv.FormatInt(e.Shares, 10), ErrRange,
+						"cancels more than the %d shares outstanding of grant %s on %s (%s)", max(unvested+vestedOut, 0), id, isoDay(e.Date), gref)
+				}
+				k := min(e.Shares, unvested)
+				takeUnvested(e.Date, k)
+				usedVested += e.Shares - k
+			}
+		}
+	}
+}
+
+func verb(k EventKind) string {
+	if k == Exercised {
+		return "exercises"
+	}
+	return "expires"
+}
+
+// tranchesBeforeEvents is the vesting of g with no events applied.
+func (s *Schedule) tranchesBeforeEvents(g Grant) []Tranche {
+	if rows := s.vestRows(g.ID); len(rows) > 0 {
+		return customTranches(g, rows)
+	}
+	return expand(g)
+}
+
+// MeasurementDate is the date a grant is measured at: the grant date, or
+// for a liability-classified warrant the valuation date (it is remeasured
+// every period).
+func (s *Schedule) MeasurementDate(g Grant) time.Time {
+	if g.Instrument == Warrant && g.Classification == Liability && !s.Company.ValuationDate.IsZero() {
+		return s.Company.ValuationDate
+	}
+	return g.GrantDate
+}
+
+// PriceAt is the Share Prices row in force on d: the latest dated on or
+// before d.
+func (s *Schedule) PriceAt(d time.Time) (PricePoint, bool) {
+	var best PricePoint
+	ok := false
+	for _, p := range s.SharePrices {
+		if !p.Date.After(d) && (!ok || p.Date.After(best.Date)) {
+			best, ok = p, true
+		}
+	}
+	return best, ok
+}
+
+// curve is the Rates rows of one curve date.
+type curve struct {
+	date   time.Time
+	points []RatePoint
+}
+
+func (s *Schedule) curves() []curve {
+	by := map[time.Time][]RatePoint{}
+	var dates []time.Time
+	for _, p := range s.Rates {
+		if by[p.CurveDate] == nil {
+			dates = append(dates, p.CurveDate)
+		}
+		by[p.CurveDate] = append(by[p.CurveDate], p)
+	}
+	sort.Slice(dates, func(i, j int) bool { return dates[i].Before(dates[j]) })
+	out := make([]curve, len(dates))
+	for i, d := range dates {
+		out[i] = curve{date: d, points: by[d]}
+	}
+	return out
+}
+
+// curveAt is the latest curve dated on or before d.
+func (s *Schedule) curveAt(d time.Time) (curve, bool) {
+	var best curve
+	ok := false
+	for _, p := range s.Rates {
+		if !p.CurveDate.After(d) && (!ok || p.CurveDate.After(best.date)) {
+			best, ok = curve{date: p.CurveDate}, true
+		}
+	}
+	if !ok {
+		return curve{}, false
+	}
+	for _, p := range s.Rates {
+		if p.CurveDate.Equal(best.date) {
+			best.points = append(best.points, p)
+		}
+	}
+	return best, true
+}
+
+// build makes the zero curve and says how.
+func (c curve) build() (*valuation.Curve, string, error) {
+	n := len(c.points)
+	if n > 0 && c.points[0].Compounding == "par-semiannual" {
+		pts := append([]RatePoint(nil), c.points...)
+		sort.Slice(pts, func(i, j int) bool { return pts[i].TenorYears < pts[j].TenorYears })
+		tenors := make([]float64, n)
+		yields := make([]float64, n)
+		for i, p := range pts {
+			if p.Compounding != "par-semiannual" {
+				return nil, "", fmt.Errorf("the curve mixes par-semiannual yields with zero rates")
+			}
+			tenors[i], yields[i] = p.TenorYears, p.Rate
+		}
+		cv, err := bootstrapPar(tenors, yields)
+		if err != nil {
+			return nil, "", err
+		}
+		return cv, fmt.Sprintf("Rates curve of %s, %d %s, par-semiannual yields bootstrapped to zero rates", isoDay(c.date), n, plural(n, "point")), nil
+	}
+	pts := make([]valuation.CurvePoint, n)
+	kinds := map[string]bool{}
+	for i, p := range c.points {
+		var comp valuation.Compounding
+		switch p.Compounding {
+		case "annual":
+			comp = valuation.Annual
+		case "semiannual":
+			comp = valuation.Semiannual
+		case "continuous", "":
+			comp = valuation.Continuous
+		default:
+			return nil, "", fmt.Errorf("the curve mixes par-semiannual yields with zero rates")
+		}
+		kinds[comp.String()] = true
+		pts[i] = valuation.CurvePoint{Tenor: p.TenorYears, Rate: p.Rate, Compounding: comp}
+	}
+	cv, err := valuation.NewCurve(pts)
+	if err != nil {
+		return nil, "", err
+	}
+	var ks []string
+	for k := range kinds {
+		ks = append(ks, k)
+	}
+	sort.Strings(ks)
+	return cv, fmt.Sprintf("Rates curve of %s, %d %s, %s zero rates", isoDay(c.date), n, plural(n, "point"), strings.Join(ks, " and ")), nil
+}
+
+func plural(n int, w string) string {
+	if n == 1 {
+		return w
+	}
+	return w + "s"
+}

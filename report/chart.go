@@ -1,0 +1,176 @@
+package report
+
+import (
+	"bytes"
+	"image/color"
+	"math"
+
+	"gonum.org/v1/plot"
+	"gonum.org/v1/plot/font"
+	"gonum.org/v1/plot/plotter"
+	"gonum.org/v1/plot/vg"
+	"gonum.org/v1/plot/vg/draw"
+	"gonum.org/v1/plot/vg/vgimg"
+)
+
+// Chart colours: a dark slate for data, a muted amber for the reference.
+var (
+	inkData = color.RGBA{R: 0x2F, G: 0x48, B: 0x58, A: 0xFF}
+	inkRef  = color.RGBA{R: 0xC0, G: 0x7A, B: 0x1E, A: 0xFF}
+	inkGrid = color.RGBA{R: 0xDD, G: 0xDD, B: 0xDD, A: 0xFF}
+)
+
+const chartDPI = 200
+
+// pngOf draws p at w×h and returns the PNG bytes.
+func pngOf(p *plot.Plot, w, h vg.Length) ([]byte, error) {
+	c := vgimg.NewWith(vgimg.UseWH(w, h), vgimg.UseDPI(chartDPI))
+	p.Draw(draw.New(c))
+	var buf bytes.Buffer
+	if _, err := (vgimg.PngCanvas{Canvas: c}).WriteTo(&buf); err != nil {
+		return nil, err
+	}
+	return buf.Bytes(), nil
+}
+
+func init() {
+	// Sans-serif, to match the memo's text.
+	plot.DefaultFont = font.Font{Typeface: "Liberation", Variant: "Sans"}
+	plotter.DefaultFont = plot.DefaultFont
+}
+
+func basePlot(title, xlabel, ylabel string) *plot.Plot {
+	p := plot.New()
+	p.Title.Text = title
+	p.Title.TextStyle.Font.Size = vg.Points(10)
+	p.X.Label.Text = xlabel
+	p.Y.Label.Text = ylabel
+	for _, a := range []*plot.Axis{&p.X, &p.Y} {
+		a.Label.TextStyle.Font.Size = vg.Points(8)
+		a.Tick.Label.Font.Size = vg.Points(7)
+	}
+	g := plotter.NewGrid()
+	g.Vertical.Color, g.Horizontal.Color = inkGrid, inkGrid
+	p.Add(g)
+	return p
+}
+
+// amountTicks labels an axis with grouped digits instead of exponents.
+type amountTicks struct{ decimals int }
+
+func (t amountTicks) Ticks(min, max float64) []plot.Tick {
+	ts := plot.DefaultTicks{}.Ticks(min, max)
+	for i := range ts {
+		if ts[i].Label != "" {
+			ts[i].Label = groupDigits(ts[i].Value, t.decimals)
+		}
+	}
+	return ts
+}
+
+// SensitivityPNG charts total fair value against the shifts of one input,
+// with the base case marked.
+func SensitivityPNG(s Sensitivity, currency string, w, h vg.Length) ([]byte, error) {
+	p := basePlot(s.Label, "shift ("+s.Unit+")", "total fair value ("+currency+" thousands)")
+	pts := make(plotter.XYs, len(s.Points))
+	var base plotter.XYs
+	for i, q := range s.Points {
+		pts[i] = plotter.XY{X: q.Shift, Y: q.FairValueTotal / 1000}
+		if q.Shift == 0 {
+			base = append(base, pts[i])
+		}
+	}
+	l, sc, err := plotter.NewLinePoints(pts)
+	if err != nil {
+		return nil, err
+	}
+	l.Color, sc.Color = inkData, inkData
+	sc.Shape = draw.CircleGlyph{}
+	p.Add(l, sc)
+	if len(base) > 0 {
+		b, err := plotter.NewScatter(base)
+		if err != nil {
+			return nil, err
+		}
+		b.Color, b.Shape, b.Radius = inkRef, draw.CircleGlyph{}, vg.Points(3.5)
+		p.Add(b)
+	}
+	p.Y.Tick.Marker = amountTicks{decimals: 1}
+	return pngOf(p, w, h)
+}
+
+// ConvergencePNG charts raw N-step lattice values against N (log scale)
+// with the auto value and its error band.
+func ConvergencePNG(c Convergence, currency string, w, h vg.Length) ([]byte, error) {
+	p := basePlot("", "lattice steps N (log scale)", "value per share ("+currency+")")
+	pts := make(plotter.XYs, len(c.Points))
+	lo, hi := math.Inf(1), math.Inf(-1)
+	for i, q := range c.Points {
+		pts[i] = plotter.XY{X: float64(q.Steps), Y: q.Value}
+		lo, hi = math.Min(lo, float64(q.Steps)), math.Max(hi, float64(q.Steps))
+	}
+	if len(pts) == 0 {
+		lo, hi = 10, 1000
+	}
+	p.X.Scale = plot.LogScale{}
+	p.X.Tick.Marker = plot.LogTicks{Prec: -1}
+	line := func(y float64, dashed bool) (*plotter.Line, error) {
+		l, err := plotter.NewLine(plotter.XYs{{X: lo, Y: y}, {X: hi, Y: y}})
+		if err != nil {
+			return nil, err
+		}
+		l.Color = inkRef
+		if dashed {
+			l.Dashes = []vg.Length{vg.Points(3), vg.Points(2)}
+		} else {
+			l.Width = vg.Points(1.2)
+		}
+		return l, nil
+	}
+	auto, err := line(c.AutoValue, false)
+	if err != nil {
+		return nil, err
+	}
+	p.Add(auto)
+	p.Legend.Add("auto value", auto)
+	if c.AutoError > 0 {
+		for _, y := range []float64{c.AutoValue - c.AutoError, c.AutoValue + c.AutoError} {
+			band, err := line(y, true)
+			if err != nil {
+				return nil, err
+			}
+			p.Add(band)
+		}
+	}
+	if len(pts) > 0 {
+		l, sc, err := plotter.NewLinePoints(pts)
+		if err != nil {
+			return nil, err
+		}
+		l.Color, sc.Color = inkData, inkData
+		sc.Shape = draw.CircleGlyph{}
+		p.Add(l, sc)
+		p.Legend.Add("raw N-step value", l, sc)
+	}
+	p.Legend.Top = true
+	p.Legend.TextStyle.Font.Size = vg.Points(7)
+	p.Y.Tick.Marker = amountTicks{decimals: 4}
+	return pngOf(p, w, h)
+}
+
+// BarPNG is a bar chart of values by label, for memo sections added by
+// hooks (for example expense by quarter).
+func BarPNG(title string, labels []string, values []float64, ylabel string, w, h vg.Length) ([]byte, error) {
+	p := basePlot(title, "", ylabel)
+	bars, err := plotter.NewBarChart(plotter.Values(values), vg.Points(14))
+	if err != nil {
+		return nil, err
+	}
+	bars.Color, bars.LineStyle.Width = inkData, 0
+	p.Add(bars)
+	p.NominalX(labels...)
+	p.X.Tick.Label.Rotation = math.Pi / 4
+	p.X.Tick.Label.XAlign, p.X.Tick.Label.YAlign = draw.XRight, draw.YCenter
+	p.Y.Tick.Marker = amountTicks{}
+	return pngOf(p, w, h)
+}

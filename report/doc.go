@@ -1,0 +1,38 @@
+// Package report lays out a valuation as the three files a finance team
+// files at quarter close: valuation.json (DESIGN §4.3), valuation.xlsx and
+// memo.pdf.
+//
+// # One model, three renderers
+//
+// The caller builds one Model from the schedule, the valuation results and
+// the run's settings (valuation date, tool version, input path and its
+// SHA-256: injected, never read from a clock), calls Summarize to fill the
+// sums, and passes it to WriteJSON, WriteWorkbook and WriteMemo. The
+// renderers value nothing and look nothing up outside the Model, so the
+// three files cannot disagree. Each writes to an io.Writer; the command
+// owns the files.
+//
+// # Determinism
+//
+// The same Model gives the same bytes from every renderer: JSON fields in a
+// fixed order; the workbook's zip entries in name order with no
+// timestamps and its document dates set to the valuation date; the PDF's
+// creation and modification dates set to the valuation date, its catalogs
+// sorted and every image of a distinct pixel width (see Memo.Draw).
+//
+// # Adding a section
+//
+// Another file of this package adds a workbook sheet by appending a
+// SheetHook to sheetHooks, and a memo section by appending a MemoHook to
+// memoHooks, in an init function; hooks come after the built-in results
+// and before Warnings. The Book and Memo helpers (NewTable, Text, Cell,
+// Table, Para, Sub, Chart, BarPNG) give them the same look. Data for a new
+// section goes into the Model (as Expense does), so that JSON carries it
+// too.
+//
+// # Units
+//
+// Money is in the Company currency; values per share carry four decimals
+// in the memo; rates, volatilities and yields are decimals in JSON and the
+// workbook (formatted as percentages there) and percentages in the memo.
+package report

@@ -1,0 +1,253 @@
+package report
+
+// Memo sections of the expense attribution, the journal summary and the
+// disclosure tables.
+
+import (
+	"fmt"
+	"strings"
+
+	"gonum.org/v1/plot/vg"
+)
+
+func init() {
+	memoHooks = append(memoHooks,
+		MemoHook{"expense", "Compensation expense for the period", (*Memo).expense},
+		MemoHook{"journal", "Journal summary", (*Memo).journal},
+		MemoHook{"disclosures", "Share-based payment disclosures", (*Memo).disclosures})
+}
+
+// expenseData is what the expense templates see.
+type expenseData struct {
+	*Model
+	E *ExpenseDetail
+}
+
+// chartQuarters is how many recognised periods (the current one included)
+// the expense chart shows before the forecast.
+const chartQuarters = 8
+
+func quarterLabel(p ExpensePeriod) string {
+	t := p.End.Time()
+	return fmt.Sprintf("%d Q%d", t.Year(), (int(t.Month())+2)/3)
+}
+
+func (d *Memo) expense(m *Model) error {
+	e := detail(m)
+	if e == nil {
+		d.Para("Expense attribution did not run for this valuation.")
+		return nil
+	}
+	cur := m.Company.Currency
+	if err := d.Text("expense", expenseData{m, e}); err != nil {
+		return err
+	}
+	d.Sub("Key figures")
+	d.Table([]Col{{"Item", 100, false}, {"Amount", 70, true}}, [][]string{
+		{"Compensation expense for the period", money(e.Amount, cur)},
+		{"Change in fair value of warrant liabilities (apart from compensation)", money(e.FairValueChange, cur)},
+		{"Cumulative compensation expense to the period end", money(e.Cumulative, cur)},
+		{"Unrecognized compensation cost at the period end", money(m.Expense.UnrecognizedCost, cur)},
+		{"Weighted-average remaining recognition period", fixed(m.Expense.WeightedAverageRemainingYears, 2) + " years"},
+	})
+
+	if len(e.ByGrant) <= maxGrantRows {
+		d.Sub("By grant")
+		cols := []Col{{"Grant", 18, false}, {"Instrument", 20, false}, {"Service", 30, false}, {"Total cost", 22, true},
+			{"This period", 20, true}, {"Cumulative", 22, true}, {"Unrecognized", 22, true}, {"Years left", 16, true}}
+		rows := make([][]string, 0, len(e.ByGrant)+1)
+		var cost float64
+		for _, g := range e.ByGrant {
+			inst := g.Instrument
+			if g.Liability {
+				inst += " (liability)"
+			}
+			rows = append(rows, []string{g.GrantID, inst, g.ServiceStart.String() + " to " + g.ServiceEnd.String(),
+				groupDigits(g.Cost, 2), groupDigits(g.Amount, 2), groupDigits(g.Cumulative, 2), groupDigits(g.Unrecognized, 2), fixed(g.RemainingYears, 2)})
+			cost += g.Cost
+		}
+		rows = append(rows, []string{"\x00Total", "", "", groupDigits(cost, 2), groupDigits(e.Amount, 2), groupDigits(e.Cumulative, 2),
+			groupDigits(m.Expense.UnrecognizedCost, 2), fixed(m.Expense.WeightedAverageRemainingYears, 2)})
+		d.Table(cols, rows)
+	} else {
+		d.Sub("By grant month")
+		cols := []Col{{"Grant month", 26, false}, {"Grants", 16, true}, {"Total cost", 32, true}, {"This period", 32, true},
+			{"Cumulative", 32, true}, {"Unrecognized", 32, true}}
+		rows := make([][]string, 0, len(e.ByGrantMonth))
+		for _, g := range e.ByGrantMonth {
+			rows = append(rows, []string{g.Key, count(g.Grants), groupDigits(g.Cost, 2), groupDigits(g.Amount, 2),
+				groupDigits(g.Cumulative, 2), groupDigits(g.Unrecognized, 2)})
+		}
+		d.Table(cols, rows)
+	}
+	var liab [][]string
+	for _, g := range e.ByGrant {
+		if g.Liability {
+			liab = append(liab, []string{g.GrantID, groupDigits(g.LiabilityOpen, 2), groupDigits(g.Amount, 2),
+				groupDigits(g.FairValueChange, 2), groupDigits(g.ReclassifiedEquity, 2), groupDigits(g.LiabilityEnd, 2)})
+		}
+	}
+	if len(liab) > 0 {
+		d.Sub("Warrant liabilities")
+		d.Table([]Col{{"Grant", 30, false}, {"Opening liability", 28, true}, {"Compensation", 28, true},
+			{"Change in fair value", 28, true}, {"To equity on exercise", 28, true}, {"Closing liability", 28, true}}, liab)
+	}
+	d.Note("Every grant and tranche, with its share counts and expected share at vest, is on the Expense sheet of valuation.xlsx.")
+
+	d.Sub("Expense by quarter")
+	periods := m.Expense.Periods
+	if len(periods) > chartQuarters {
+		periods = periods[len(periods)-chartQuarters:]
+	}
+	var labels []string
+	var values []float64
+	for _, p := range periods {
+		label := quarterLabel(p)
+		if p.Current {
+			label += " (this period)"
+		}
+		labels = append(labels, label)
+		values = append(values, p.Amount)
+	}
+	for _, p := range e.Forecast {
+		labels = append(labels, quarterLabel(p)+" e")
+		values = append(values, p.Amount)
+	}
+	if err := d.Chart(func(w, h vg.Length) ([]byte, error) {
+		return BarPNG("Compensation expense by quarter (e = expected)", labels, values, cur, w, h)
+	}, textW, 80); err != nil {
+		return err
+	}
+	d.Para(fmt.Sprintf("The expected expense assumes no further grants, terminations or cancellations%s. It is a budget figure, not a forecast of events.",
+		map[bool]string{true: " and forfeitures at the estimated rate", false: ""}[e.Forfeitures == "estimate"]))
+	rows := make([][]string, 0, len(e.Forecast)+1)
+	var sum float64
+	for _, p := range e.Forecast {
+		rows = append(rows, []string{quarterLabel(p), p.Start.String() + " to " + p.End.String(), groupDigits(p.Amount, 2)})
+		sum += p.Amount
+	}
+	rows = append(rows, []string{"Later", "", groupDigits(e.AfterForecast, 2)})
+	rows = append(rows, []string{"\x00Total", "", groupDigits(sum+e.AfterForecast, 2)})
+	d.Table([]Col{{"Quarter", 40, false}, {"Days", 70, false}, {"Expected expense (" + cur + ")", 60, true}}, rows)
+	return nil
+}
+
+func (d *Memo) journal(m *Model) error {
+	e := detail(m)
+	if e == nil {
+		d.Para("Expense attribution did not run for this valuation.")
+		return nil
+	}
+	if len(e.Journal) == 0 {
+		d.Para("Nothing is to be booked for the period.")
+		return nil
+	}
+	d.Para(fmt.Sprintf("Summary entries for the period %s to %s, in %s. Equity-classified awards credit additional paid-in capital; liability-classified warrants credit the warrant liability, with the change in its fair value booked apart from compensation. Exercise proceeds are not shown.",
+		e.PeriodStart, e.PeriodEnd, m.Company.Currency))
+	var rows [][]string
+	for i, j := range e.Journal {
+		rows = append(rows, []string{"\x00" + fmt.Sprintf("%d. %s", i+1, j.Description), "", ""})
+		for _, l := range j.Lines {
+			acct := "Dr " + l.Account
+			dr, cr := groupDigits(l.Debit, 2), ""
+			if l.Credit != 0 {
+				acct, dr, cr = "    Cr "+l.Account, "", groupDigits(l.Credit, 2)
+			}
+			rows = append(rows, []string{acct, dr, cr})
+		}
+	}
+	d.Table([]Col{{"Entry and account", 110, false}, {"Debit", 30, true}, {"Credit", 30, true}}, rows)
+	return nil
+}
+
+func (d *Memo) rollTable(r RollForward, price bool) {
+	cur := d.Currency()
+	cols := []Col{{"", 70, false}, {"Shares", 30, true}}
+	if price {
+		cols = append(cols, Col{"Weighted-average exercise price (" + cur + ")", 35, true})
+	}
+	cols = append(cols, Col{"Weighted-average grant-date fair value (" + cur + ")", 35, true})
+	var rows [][]string
+	for i, l := range r.Lines {
+		label := l.Label
+		if i == 0 || i == len(r.Lines)-1 {
+			label = "\x00" + label
+		}
+		px, fv := "–", "–"
+		if l.Shares != 0 {
+			px, fv = perShare(l.WeightedExercisePrice), perShare(l.WeightedFairValue)
+		}
+		row := []string{label, count(l.Shares)}
+		if price {
+			row = append(row, px)
+		}
+		rows = append(rows, append(row, fv))
+	}
+	d.Table(cols, rows)
+}
+
+func (d *Memo) summaryTable(ls []SummaryLine) {
+	cur := d.Currency()
+	var rows [][]string
+	for _, l := range ls {
+		rows = append(rows, []string{l.Label, groupDigits(l.Shares, 0), perShare(l.WeightedExercisePrice), fixed(l.RemainingTermYears, 2), groupDigits(l.IntrinsicValue, 2)})
+	}
+	d.Table([]Col{{"At the period end", 50, false}, {"Shares", 26, true}, {"Weighted-average exercise price (" + cur + ")", 32, true},
+		{"Weighted-average remaining contractual term (years)", 30, true}, {"Aggregate intrinsic value (" + cur + ")", 32, true}}, rows)
+}
+
+func (d *Memo) disclosures(m *Model) error {
+	e := detail(m)
+	if e == nil || e.Disclosures == nil {
+		d.Para("Expense attribution did not run for this valuation.")
+		return nil
+	}
+	x := e.Disclosures
+	if err := d.Text("disclosures", expenseData{m, e}); err != nil {
+		return err
+	}
+	d.Sub("Options")
+	d.rollTable(x.Options, true)
+	d.summaryTable(x.OptionsAtEnd)
+	g := x.OptionGrants
+	if g.Grants == 0 {
+		d.Para("No options were granted in the period.")
+	} else {
+		grantsWord := "grants"
+		if g.Grants == 1 {
+			grantsWord = "grant"
+		}
+		text := fmt.Sprintf("%s options were granted in the period (%s %s) at a weighted-average grant-date fair value of %s per share.",
+			count(g.Shares), count(g.Grants), grantsWord, perShare(g.WeightedFairValue))
+		if g.Measured > 0 {
+			text += fmt.Sprintf(" Their weighted-average valuation assumptions: volatility %s, risk-free rate %s, dividend yield %s, expected term %s years.",
+				pct(g.Volatility), pct(g.RiskFreeRate), pct(g.DividendYield), fixed(g.ExpectedTermYears, 2))
+		}
+		d.Para(text)
+	}
+	d.Sub("Restricted stock units (nonvested)")
+	d.rollTable(x.RSUs, false)
+	d.Sub("Warrants")
+	d.rollTable(x.Warrants, true)
+	if len(x.WarrantsOutstanding) > 0 {
+		var rows [][]string
+		for _, w := range x.WarrantsOutstanding {
+			rows = append(rows, []string{w.GrantID, w.Classification, count(w.Shares), count(w.Exercisable), perShare(w.Strike),
+				w.ExpiryDate.String(), perShare(w.FairValuePerShare), groupDigits(w.IntrinsicValue, 2)})
+		}
+		d.Table([]Col{{"Grant", 20, false}, {"Classification", 24, false}, {"Outstanding", 20, true}, {"Exercisable", 20, true},
+			{"Strike", 18, true}, {"Expiry", 22, false}, {"Fair value per share", 22, true}, {"Intrinsic value", 24, true}}, rows)
+	}
+	var broken []string
+	for _, r := range []RollForward{x.Options, x.RSUs, x.Warrants} {
+		if !r.Balances {
+			broken = append(broken, r.Instrument)
+		}
+	}
+	if len(broken) > 0 {
+		d.Para("Check: the roll-forward of " + strings.Join(broken, ", ") + " does not balance; see the warnings.")
+	} else {
+		d.Note("Each roll-forward balances: start + granted − vested − exercised − forfeited − cancelled − expired = end. The same tables are on the Disclosures sheet of valuation.xlsx.")
+	}
+	return nil
+}

@@ -1,0 +1,232 @@
+package report
+
+import (
+	"bytes"
+	"encoding/json"
+	"math"
+	"strconv"
+	"strings"
+	"testing"
+	"time"
+
+	"github.com/xuri/excelize/v2"
+
+	"grantworth/grants"
+)
+
+func ymdT(s string) time.Time {
+	t, err := time.Parse(time.DateOnly, s)
+	if err != nil {
+		panic(err)
+	}
+	return t
+}
+
+// expenseSchedule is an invented company (demo data, not a reference): an
+// option grant with a termination, an RSU grant, and a liability warrant.
+func expenseSchedule() *grants.Schedule {
+	return &grants.Schedule{
+		Company:     grants.Company{Name: "Quillmere Instruments GmbH", ValuationDate: ymdT("2026-12-31"), PeriodStart: ymdT("2026-10-01"), Currency: "EUR"},
+		Assumptions: grants.Assumptions{Attribution: grants.Graded, Forfeitures: grants.Estimate, PreVestingForfeitureRate: 0.05},
+		Grants: []grants.Grant{
+			{ID: "Q-1", Holder: "E7", Instrument: grants.Option, GrantDate: ymdT("2025-01-15"), Shares: 4000, Strike: 3,
+				ExpiryDate: ymdT("2035-01-15"), VestStart: ymdT("2025-01-15"), VestMonths: 48, CliffMonths: 12, VestEvery: 12},
+			{ID: "Q-2", Holder: "E9", Instrument: grants.Option, GrantDate: ymdT("2026-11-02"), Shares: 1200, Strike: 5,
+				ExpiryDate: ymdT("2036-11-02"), VestStart: ymdT("2026-11-02"), VestMonths: 36, CliffMonths: 12, VestEvery: 12},
+			{ID: "Q-3", Holder: "E2", Instrument: grants.RSU, GrantDate: ymdT("2026-02-01"), Shares: 900,
+				VestStart: ymdT("2026-02-01"), VestMonths: 36, VestEvery: 12},
+			{ID: "Q-4", Holder: "=SUM(A1)", Instrument: grants.Warrant, GrantDate: ymdT("2026-03-01"), Shares: 10000, Strike: 4,
+				ExpiryDate: ymdT("2031-03-01"), VestStart: ymdT("2026-03-01"), VestMonths: 12, VestEvery: 12, Classification: grants.Liability},
+		},
+		Events: []grants.Event{
+			{GrantID: "Q-1", Date: ymdT("2026-11-30"), Kind: grants.Forfeited, Shares: 2000, Row: 2},
+			{GrantID: "Q-1", Date: ymdT("2026-12-10"), Kind: grants.Exercised, Shares: 600, Row: 3},
+		},
+	}
+}
+
+// expenseModelFor values every tranche at an invented fair value and runs
+// AddExpense; the liability warrant is revalued at 1.10 at grant and 0.05
+// more each quarter end.
+func expenseModelFor(t *testing.T, s *grants.Schedule) *Model {
+	t.Helper()
+	m := &Model{Tool: Tool{Name: "grantworth", Version: "test"}, ValuationDate: DateOf(s.Company.ValuationDate),
+		PeriodStart: DateOf(s.Company.PeriodStart), Company: Company{Name: s.Company.Name, Currency: s.Company.Currency}, Caution: Caution}
+	for _, g := range s.Grants {
+		mg := Grant{ID: g.ID, Holder: g.Holder, Instrument: string(g.Instrument), GrantDate: DateOf(g.GrantDate), Shares: g.Shares,
+			Strike: g.Strike, Volatility: 0.5, RiskFreeRate: 0.03, Classification: string(g.Classification)}
+		for _, tr := range s.Tranches(g) {
+			mg.Tranches = append(mg.Tranches, Tranche{Index: tr.Index, VestDate: DateOf(tr.VestDate), Shares: tr.Shares,
+				FairValuePerShare: 1 + float64(tr.Index)/4, ExpectedTermYears: 5})
+		}
+		m.Grants = append(m.Grants, mg)
+	}
+	Summarize(m)
+	revalue := func(g grants.Grant, at time.Time) ([]float64, error) {
+		q := float64(int(at.Sub(g.GrantDate).Hours()/24) / 91)
+		return []float64{1.10 + 0.05*q}, nil
+	}
+	if err := AddExpense(m, s, 6, revalue); err != nil {
+		t.Fatal(err)
+	}
+	return m
+}
+
+// The three outputs carry the expense figures and agree with each other:
+// the JSON fields of DESIGN §4.3, the Expense, Expense forecast and
+// Disclosures sheets, and the memo's sections.
+func TestExpenseOutputs(t *testing.T) {
+	m := expenseModelFor(t, expenseSchedule())
+	e := m.Expense
+	if e == nil || e.ExpenseDetail == nil {
+		t.Fatal("no expense")
+	}
+	// JSON: the contract fields and the detail beside them.
+	var buf bytes.Buffer
+	if err := WriteJSON(&buf, m); err != nil {
+		t.Fatal(err)
+	}
+	var raw map[string]any
+	if err := json.Unmarshal(buf.Bytes(), &raw); err != nil {
+		t.Fatal(err)
+	}
+	ex := raw["expense"].(map[string]any)
+	for _, k := range []string{"periods", "unrecognized_cost", "weighted_average_remaining_years", "by_grant", "forecast", "journal", "disclosures"} {
+		if _, ok := ex[k]; !ok {
+			t.Errorf("valuation.json expense has no %q", k)
+		}
+	}
+	periods := ex["periods"].([]any)
+	last := periods[len(periods)-1].(map[string]any)
+	if last["start"] != "2026-10-01" || last["end"] != "2026-12-31" || last["current"] != true {
+		t.Errorf("current period %v", last)
+	}
+	if got := last["amount"].(float64); math.Abs(got-e.Amount) > 1e-9 {
+		t.Errorf("current period amount %v, detail %v", got, e.Amount)
+	}
+	if n := len(ex["forecast"].([]any)); n != grants.ForecastQuarters {
+		t.Errorf("forecast has %d quarters", n)
+	}
+	var unrec float64
+	for _, g := range e.ByGrant {
+		unrec += g.Unrecognized
+	}
+	if math.Abs(unrec-e.UnrecognizedCost) > 1e-6 {
+		t.Errorf("by-grant unrecognised %v, total %v", unrec, e.UnrecognizedCost)
+	}
+	// The liability warrant shows a change in fair value, and its liability rolls.
+	var w *ExpenseGrant
+	for i := range e.ByGrant {
+		if e.ByGrant[i].Liability {
+			w = &e.ByGrant[i]
+		}
+	}
+	if w == nil || w.FairValueChange == 0 {
+		t.Fatalf("liability warrant: %+v", w)
+	}
+	if d := w.LiabilityEnd - w.LiabilityOpen - (w.Amount + w.FairValueChange - w.ReclassifiedEquity); math.Abs(d) > 1e-6 {
+		t.Errorf("liability roll off by %v", d)
+	}
+	for _, r := range []RollForward{e.Disclosures.Options, e.Disclosures.RSUs, e.Disclosures.Warrants} {
+		if !r.Balances {
+			t.Errorf("%s roll-forward does not balance: %+v", r.Instrument, r.Lines)
+		}
+	}
+
+	// Workbook: the total row of Expense equals the JSON; the warrant's
+	// formula-like holder is text; the Disclosures sheet has the roll-forward.
+	var xb bytes.Buffer
+	if err := WriteWorkbook(&xb, m); err != nil {
+		t.Fatal(err)
+	}
+	f, err := excelize.OpenReader(&xb)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	rows, err := f.GetRows(SheetExpense, excelize.Options{RawCellValue: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	total := rows[len(rows)-1]
+	if total[0] != "total" {
+		t.Fatalf("last Expense row %v", total)
+	}
+	if got, _ := strconv.ParseFloat(total[13], 64); math.Abs(got-e.Amount) > 1e-6 {
+		t.Errorf("Expense sheet period total %v, JSON %v", got, e.Amount)
+	}
+	for _, r := range rows[1:] {
+		if r[1] == "Q-4" {
+			cell := ""
+			for i, row := range rows {
+				if len(row) > 1 && row[1] == "Q-4" {
+					cell, _ = excelize.CoordinatesToCellName(3, i+1)
+					break
+				}
+			}
+			if fm, _ := f.GetCellFormula(SheetExpense, cell); fm != "" {
+				t.Errorf("holder %s written as a formula %q", cell, fm)
+			}
+			break
+		}
+	}
+	drows, err := f.GetRows(SheetDisclosures)
+	if err != nil {
+		t.Fatal(err)
+	}
+	found := false
+	for _, r := range drows {
+		if len(r) > 2 && r[0] == "Option roll-forward" && r[1] == "Outstanding at end" {
+			found = true
+			if want := strconv.FormatInt(e.Disclosures.Options.Lines[len(e.Disclosures.Options.Lines)-1].Shares, 10); strings.ReplaceAll(r[2], ",", "") != want {
+				t.Errorf("Disclosures outstanding at end %q, want %s", r[2], want)
+			}
+		}
+	}
+	if !found {
+		t.Error("Disclosures sheet has no option roll-forward end line")
+	}
+	frows, _ := f.GetRows(SheetForecast)
+	if len(frows) != 1+len(e.Periods)+grants.ForecastQuarters+1 {
+		t.Errorf("Expense forecast has %d rows", len(frows))
+	}
+
+	// Memo: the three sections with their figures.
+	text := pdfText(t, renderMemo(t, m))
+	flat := strings.Join(strings.Fields(text), " ")
+	for _, want := range []string{"Compensation expense for the period", "Journal summary", "Share-based payment disclosures",
+		"Expense by quarter", "Outstanding at end", "Nonvested at start", "Vested and expected to vest",
+		money(e.Amount, "EUR"), "Additional paid-in capital", "Warrant liability"} {
+		if !strings.Contains(flat, want) {
+			t.Errorf("memo has no %q", want)
+		}
+	}
+}
+
+// Golden: the expense part of valuation.json for the invented company.
+func TestExpenseJSONGolden(t *testing.T) {
+	m := expenseModelFor(t, expenseSchedule())
+	b, err := json.MarshalIndent(m.Expense, "", "  ")
+	if err != nil {
+		t.Fatal(err)
+	}
+	golden(t, "expense.json", append(b, '\n'))
+}
+
+// Without a revaluation a liability warrant is measured at the valuation
+// date only, and a warning says so.
+func TestExpenseNoRevalue(t *testing.T) {
+	s := expenseSchedule()
+	m := expenseModelFor(t, s)
+	m.Expense = nil
+	m.Warnings = nil
+	if err := AddExpense(m, s, 6, nil); err != nil {
+		t.Fatal(err)
+	}
+	if len(m.Warnings) == 0 || !strings.Contains(strings.Join(m.Warnings, "\n"), "Q-4") {
+		t.Errorf("warnings %v", m.Warnings)
+	}
+	if m.Expense.FairValueChange != 0 {
+		t.Errorf("fair value change %v without remeasurements", m.Expense.FairValueChange)
+	}
+}

@@ -1,0 +1,502 @@
+package report
+
+import (
+	"bytes"
+	"fmt"
+	"io"
+	"io/fs"
+	"strings"
+	"text/template"
+
+	"github.com/jung-kurt/gofpdf"
+	"golang.org/x/image/font/gofont/gobold"
+	"golang.org/x/image/font/gofont/goitalic"
+	"golang.org/x/image/font/gofont/goregular"
+	"gonum.org/v1/plot/vg"
+
+	"grantworth/templates"
+)
+
+// MemoHook adds one numbered section to the memo. Other files of this
+// package register hooks in an init function (for example the expense and
+// disclosure sections); they come after the comparison with
+// Black-Scholes-Merton and before the warnings.
+type MemoHook struct {
+	Key   string // for cross-references from templates: {{sec "key"}}
+	Title string
+	Write func(d *Memo, m *Model) error
+}
+
+var memoHooks []MemoHook
+
+// Memo is the PDF being written. Hooks use its methods so that their
+// sections look like the others.
+type Memo struct {
+	pdf      *gofpdf.Fpdf
+	m        *Model
+	tpl      *template.Template
+	sections map[string]int
+	images   int
+	widths   map[int]bool // pixel widths of the images placed so far
+}
+
+// Page geometry, in millimetres (A4).
+const (
+	pageW, pageH  = 210.0, 297.0
+	marginL       = 20.0
+	marginR       = 20.0
+	marginT       = 22.0
+	marginB       = 20.0
+	textW         = pageW - marginL - marginR
+	bodySize      = 9.5
+	bodyLine      = 4.6
+	tableSize     = 7.5
+	tableLine     = 3.6
+	fontSans      = "gosans"
+	maxGrantRows  = 150 // above this the memo groups grants by grant month
+	maxDetailRows = 150 // assumption and warning rows listed in full up to this
+)
+
+// WriteMemo writes memo.pdf. Dates in the PDF's metadata are the valuation
+// date and its resource catalogs are sorted, so the same Model gives the
+// same bytes. (gofpdf's font subsetting of Go Mono varied from run to run
+// in the glyph metrics it wrote, so the memo uses Go Regular, Bold and
+// Italic only.)
+func WriteMemo(w io.Writer, m *Model) error {
+	d, err := newMemo(m)
+	if err != nil {
+		return err
+	}
+	steps := []MemoHook{
+		{"summary", "Summary", (*Memo).summary},
+		{"methodology", "Methodology", (*Memo).methodology},
+		{"assumptions", "Assumptions and their sources", (*Memo).assumptions},
+		{"results", "Results by grant and instrument", (*Memo).results},
+		{"warrants", "Warrants", (*Memo).warrants},
+		{"sensitivity", "Sensitivity of total fair value", (*Memo).sensitivity},
+		{"convergence", "Convergence of the lattice", (*Memo).convergence},
+		{"comparison", "Lattice against simplified-method Black-Scholes-Merton", (*Memo).comparison},
+	}
+	steps = append(steps, memoHooks...)
+	steps = append(steps,
+		MemoHook{"warnings", "Warnings", (*Memo).warnings},
+		MemoHook{"caution", "Caution", (*Memo).caution})
+	for i, s := range steps {
+		d.sections[s.Key] = i + 1
+	}
+	d.cover()
+	for i, s := range steps {
+		newPage := map[string]bool{"summary": true, "methodology": true, "results": true, "sensitivity": true}[s.Key]
+		d.Section(i+1, s.Title, newPage)
+		if err := s.Write(d, m); err != nil {
+			return fmt.Errorf("memo section %s: %w", s.Title, err)
+		}
+		if err := d.pdf.Error(); err != nil {
+			return fmt.Errorf("memo section %s: %w", s.Title, err)
+		}
+	}
+	return d.pdf.Output(w)
+}
+
+func newMemo(m *Model) (*Memo, error) {
+	pdf := gofpdf.New("P", "mm", "A4", "")
+	pdf.SetCompression(true)
+	pdf.SetCatalogSort(true)
+	t := m.ValuationDate.Time()
+	pdf.SetCreationDate(t)
+	pdf.SetModificationDate(t)
+	pdf.SetTitle("Fair value memo: "+m.Company.Name, true)
+	pdf.SetSubject("Fair value of share-based awards as of "+m.ValuationDate.String(), true)
+	pdf.SetAuthor(m.Tool.Name+" "+m.Tool.Version, true)
+	pdf.SetCreator(m.Tool.Name+" "+m.Tool.Version, true)
+	pdf.SetProducer(m.Tool.Name, true)
+	pdf.AddUTF8FontFromBytes(fontSans, "", goregular.TTF)
+	pdf.AddUTF8FontFromBytes(fontSans, "B", gobold.TTF)
+	pdf.AddUTF8FontFromBytes(fontSans, "I", goitalic.TTF)
+	pdf.SetMargins(marginL, marginT, marginR)
+	pdf.SetAutoPageBreak(true, marginB)
+	pdf.AliasNbPages("{nb}")
+	d := &Memo{pdf: pdf, m: m, sections: map[string]int{}, widths: map[int]bool{}}
+	pdf.SetHeaderFuncMode(d.header, false)
+	pdf.SetFooterFunc(d.footer)
+	tpl := template.New("memo").Funcs(template.FuncMap{
+		"money":     money,
+		"perShare":  perShare,
+		"pct":       pct,
+		"signedPct": signedPct,
+		"fixed":     fixed,
+		"count":     func(n any) string { return fmt.Sprint(groupAny(n)) },
+		"ratio": func(a, b float64) float64 {
+			if b == 0 {
+				return 0
+			}
+			return a/b - 1
+		},
+		"sec": func(key string) string { return fmt.Sprint(d.sections[key]) },
+		"first": func(ps []ConvergencePoint) string {
+			if len(ps) == 0 {
+				return "–"
+			}
+			return count(ps[0].Steps)
+		},
+		"last": func(ps []ConvergencePoint) string {
+			if len(ps) == 0 {
+				return "–"
+			}
+			return count(ps[len(ps)-1].Steps)
+		},
+	})
+	sub, err := fs.Sub(templates.Memo, "memo")
+	if err != nil {
+		return nil, err
+	}
+	if d.tpl, err = tpl.ParseFS(sub, "*.tmpl"); err != nil {
+		return nil, err
+	}
+	return d, pdf.Error()
+}
+
+func groupAny(n any) string {
+	switch v := n.(type) {
+	case int:
+		return count(v)
+	case int64:
+		return count(v)
+	case float64:
+		return groupDigits(v, 0)
+	}
+	return fmt.Sprint(n)
+}
+
+func (d *Memo) header() {
+	if d.pdf.PageNo() == 1 {
+		return
+	}
+	p := d.pdf
+	p.SetFont(fontSans, "", 7.5)
+	p.SetTextColor(90, 90, 90)
+	p.SetXY(marginL, 10)
+	p.CellFormat(textW/2, 4, d.m.Company.Name+" · Fair value memo", "", 0, "L", false, 0, "")
+	p.CellFormat(textW/2, 4, "Valuation date "+d.m.ValuationDate.String(), "", 0, "R", false, 0, "")
+	p.SetDrawColor(180, 180, 180)
+	p.SetLineWidth(0.2)
+	p.Line(marginL, 15, pageW-marginR, 15)
+	p.SetTextColor(0, 0, 0)
+	p.SetXY(marginL, marginT)
+}
+
+func (d *Memo) footer() {
+	p := d.pdf
+	p.SetY(-13)
+	p.SetFont(fontSans, "", 7)
+	p.SetTextColor(90, 90, 90)
+	p.CellFormat(textW*0.75, 4, "An estimate, not an audit opinion: see the Caution section.", "", 0, "L", false, 0, "")
+	p.CellFormat(textW*0.25, 4, fmt.Sprintf("Page %d of {nb}", p.PageNo()), "", 0, "R", false, 0, "")
+	p.SetTextColor(0, 0, 0)
+}
+
+func (d *Memo) cover() {
+	p, m := d.pdf, d.m
+	p.AddPage()
+	p.SetFillColor(0x2F, 0x48, 0x58)
+	p.Rect(0, 0, pageW, 8, "F")
+	p.SetY(62)
+	p.SetFont(fontSans, "", 12)
+	p.SetTextColor(0x2F, 0x48, 0x58)
+	p.CellFormat(textW, 7, "Fair value of share-based awards", "", 1, "L", false, 0, "")
+	p.SetFont(fontSans, "B", 24)
+	p.SetTextColor(0, 0, 0)
+	p.MultiCell(textW, 11, m.Company.Name, "", "L", false)
+	p.Ln(2)
+	p.SetFont(fontSans, "", 12)
+	p.CellFormat(textW, 7, "Valuation memo as of "+m.ValuationDate.String(), "", 1, "L", false, 0, "")
+	if !m.PeriodStart.IsZero() {
+		p.CellFormat(textW, 7, "Reporting period "+m.PeriodStart.String()+" to "+m.ValuationDate.String(), "", 1, "L", false, 0, "")
+	}
+	p.Ln(14)
+	rows := [][2]string{
+		{"Grants", count(m.Totals.Grants)},
+		{"Vesting tranches", count(m.Totals.Tranches)},
+		{"Total fair value", money(m.Totals.FairValueTotal, m.Company.Currency)},
+		{"Prepared with", m.Tool.Name + " " + m.Tool.Version},
+		{"Input", m.Input.Path},
+	}
+	for _, r := range rows {
+		p.SetFont(fontSans, "", 9.5)
+		p.SetTextColor(90, 90, 90)
+		p.CellFormat(38, 6, r[0], "", 0, "L", false, 0, "")
+		p.SetTextColor(0, 0, 0)
+		p.MultiCell(textW-38, 6, r[1], "", "L", false)
+	}
+	p.SetFont(fontSans, "", 9.5)
+	p.SetTextColor(90, 90, 90)
+	p.CellFormat(38, 6, "Input SHA-256", "", 0, "L", false, 0, "")
+	p.SetTextColor(0, 0, 0)
+	p.SetFont(fontSans, "", 8)
+	p.MultiCell(textW-38, 6, m.Input.SHA256, "", "L", false)
+	// The caution, boxed, at the foot of the cover.
+	p.SetFont(fontSans, "", 8.5)
+	lines := p.SplitText(m.Caution, textW-10)
+	h := float64(len(lines))*4.2 + 12
+	y := pageH - marginB - h - 6
+	p.SetFillColor(0xF3, 0xEE, 0xE4)
+	p.Rect(marginL, y, textW, h, "F")
+	p.SetXY(marginL+5, y+4)
+	p.SetFont(fontSans, "B", 8.5)
+	p.CellFormat(textW-10, 4.2, "Caution", "", 2, "L", false, 0, "")
+	p.SetFont(fontSans, "", 8.5)
+	p.MultiCell(textW-10, 4.2, m.Caution, "", "L", false)
+}
+
+// Section starts numbered section n, on a new page if asked or if little
+// room is left.
+func (d *Memo) Section(n int, title string, newPage bool) {
+	p := d.pdf
+	if newPage || p.GetY() > pageH-marginB-45 {
+		p.AddPage()
+	} else {
+		p.Ln(6)
+	}
+	p.SetFont(fontSans, "B", 14)
+	p.SetTextColor(0x2F, 0x48, 0x58)
+	p.MultiCell(textW, 7, fmt.Sprintf("%d. %s", n, title), "", "L", false)
+	p.SetTextColor(0, 0, 0)
+	p.Ln(2)
+}
+
+// Sub is a sub-heading.
+func (d *Memo) Sub(title string) {
+	p := d.pdf
+	d.need(20)
+	p.Ln(2)
+	p.SetFont(fontSans, "B", 10.5)
+	p.MultiCell(textW, 5.5, title, "", "L", false)
+	p.Ln(0.5)
+}
+
+// Para is a paragraph of body text.
+func (d *Memo) Para(text string) {
+	p := d.pdf
+	p.SetFont(fontSans, "", bodySize)
+	p.MultiCell(textW, bodyLine, text, "", "L", false)
+	p.Ln(1.8)
+}
+
+// Note is a small italic line, for pointers to the workbook.
+func (d *Memo) Note(text string) {
+	p := d.pdf
+	p.SetFont(fontSans, "I", 8)
+	p.SetTextColor(70, 70, 70)
+	p.MultiCell(textW, 3.8, text, "", "L", false)
+	p.SetTextColor(0, 0, 0)
+	p.Ln(1.5)
+}
+
+func (d *Memo) bullet(text string) {
+	p := d.pdf
+	p.SetFont(fontSans, "", bodySize)
+	x := p.GetX()
+	p.CellFormat(5, bodyLine, "•", "", 0, "L", false, 0, "")
+	p.MultiCell(textW-5, bodyLine, text, "", "L", false)
+	p.SetX(x)
+	p.Ln(0.8)
+}
+
+// Text renders the template name (memo/NAME.tmpl) over data and lays it
+// out: blank lines part paragraphs, "## " starts a sub-heading and "- " a
+// bullet.
+func (d *Memo) Text(name string, data any) error {
+	var buf bytes.Buffer
+	if err := d.tpl.ExecuteTemplate(&buf, name+".tmpl", data); err != nil {
+		return err
+	}
+	for _, block := range strings.Split(strings.TrimSpace(buf.String()), "\n\n") {
+		block = strings.TrimSpace(block)
+		switch {
+		case block == "":
+		case strings.HasPrefix(block, "## "):
+			d.Sub(strings.TrimPrefix(block, "## "))
+		case strings.HasPrefix(block, "- "):
+			for _, item := range strings.Split(block, "\n") {
+				d.bullet(strings.TrimPrefix(strings.TrimSpace(item), "- "))
+			}
+			d.pdf.Ln(1)
+		default:
+			d.Para(strings.Join(strings.Fields(block), " "))
+		}
+	}
+	return nil
+}
+
+// need starts a new page unless h millimetres are left.
+func (d *Memo) need(h float64) {
+	if d.pdf.GetY()+h > pageH-marginB {
+		d.pdf.AddPage()
+	}
+}
+
+// Col is one column of a memo table; widths are in millimetres and
+// should add up to at most the text width (170).
+type Col struct {
+	Header string
+	Width  float64
+	Right  bool // align right (numbers)
+}
+
+// Table lays out rows under a shaded header. Cells wrap within their
+// column; a table that runs past the page continues on the next one with
+// its header repeated. A row whose first cell starts with "\x00" is drawn
+// bold (totals).
+func (d *Memo) Table(cols []Col, rows [][]string) {
+	p := d.pdf
+	head := func() {
+		p.SetFont(fontSans, "B", tableSize)
+		p.SetFillColor(0x2F, 0x48, 0x58)
+		p.SetTextColor(255, 255, 255)
+		lines := 1
+		for _, c := range cols {
+			if n := len(p.SplitText(c.Header, c.Width-2)); n > lines {
+				lines = n
+			}
+		}
+		h := float64(lines)*tableLine + 1.6
+		x, y := p.GetX(), p.GetY()
+		for _, c := range cols {
+			p.Rect(x, y, c.Width, h, "F")
+			d.cellLines(x, y+0.8, c, p.SplitText(c.Header, c.Width-2))
+			x += c.Width
+		}
+		p.SetXY(marginL, y+h)
+		p.SetTextColor(0, 0, 0)
+	}
+	d.need(20)
+	head()
+	for i, r := range rows {
+		bold := len(r) > 0 && strings.HasPrefix(r[0], "\x00")
+		style := ""
+		if bold {
+			style = "B"
+		}
+		p.SetFont(fontSans, style, tableSize)
+		wrapped := make([][]string, len(cols))
+		lines := 1
+		for j, c := range cols {
+			s := ""
+			if j < len(r) {
+				s = strings.TrimPrefix(r[j], "\x00")
+			}
+			wrapped[j] = p.SplitText(s, c.Width-2)
+			if len(wrapped[j]) == 0 {
+				wrapped[j] = []string{""}
+			}
+			if len(wrapped[j]) > lines {
+				lines = len(wrapped[j])
+			}
+		}
+		h := float64(lines)*tableLine + 1.2
+		if p.GetY()+h > pageH-marginB {
+			p.AddPage()
+			head()
+			p.SetFont(fontSans, style, tableSize)
+		}
+		x, y := marginL, p.GetY()
+		if i%2 == 1 {
+			p.SetFillColor(0xF2, 0xF4, 0xF5)
+			p.Rect(x, y, sumWidths(cols), h, "F")
+		}
+		if bold {
+			p.SetDrawColor(0x2F, 0x48, 0x58)
+			p.SetLineWidth(0.3)
+			p.Line(x, y, x+sumWidths(cols), y)
+		}
+		for j, c := range cols {
+			d.cellLines(x, y+0.6, c, wrapped[j])
+			x += c.Width
+		}
+		p.SetXY(marginL, y+h)
+	}
+	p.Ln(3)
+}
+
+func (d *Memo) cellLines(x, y float64, c Col, lines []string) {
+	align := "L"
+	if c.Right {
+		align = "R"
+	}
+	for k, s := range lines {
+		d.pdf.SetXY(x+1, y+float64(k)*tableLine)
+		d.pdf.CellFormat(c.Width-2, tableLine, s, "", 0, align, false, 0, "")
+	}
+}
+
+func sumWidths(cols []Col) float64 {
+	var s float64
+	for _, c := range cols {
+		s += c.Width
+	}
+	return s
+}
+
+// Draw renders a chart w×h millimetres in size and returns it with the
+// width it was drawn at: a few hundredths of a millimetre more than w when
+// another image already has that pixel width. gofpdf orders images by
+// pixel width alone when writing, so two images of one width would come
+// out in map order and two runs would differ.
+func (d *Memo) Draw(chart func(w, h vg.Length) ([]byte, error), w, h float64) ([]byte, float64, error) {
+	px := int(w/25.4*chartDPI + 0.5)
+	for d.widths[px] || d.widths[px-1] || d.widths[px+1] {
+		px += 3
+	}
+	d.widths[px] = true
+	w = float64(px) * 25.4 / chartDPI
+	png, err := chart(mm(w), mm(h))
+	return png, w, err
+}
+
+// Chart draws a chart and places it at the current position, on a new page
+// if it does not fit.
+func (d *Memo) Chart(chart func(w, h vg.Length) ([]byte, error), w, h float64) error {
+	png, w, err := d.Draw(chart, w, h)
+	if err != nil {
+		return err
+	}
+	d.ImageAt(png, marginL, -1, w, h)
+	d.pdf.SetY(d.pdf.GetY() + h + 3)
+	return nil
+}
+
+// ImageAt places a PNG made by Draw at x and y (y < 0: the current line)
+// without moving the cursor.
+func (d *Memo) ImageAt(png []byte, x, y, w, h float64) {
+	p := d.pdf
+	if y < 0 {
+		d.need(h + 2)
+		y = p.GetY()
+	}
+	d.images++
+	name := fmt.Sprintf("chart%03d", d.images)
+	p.RegisterImageOptionsReader(name, gofpdf.ImageOptions{ImageType: "PNG"}, bytes.NewReader(png))
+	p.ImageOptions(name, x, y, w, h, false, gofpdf.ImageOptions{ImageType: "PNG"}, 0, "")
+}
+
+// mm converts millimetres to plot lengths.
+func mm(v float64) vg.Length { return vg.Length(v) * vg.Millimeter }
+
+// Currency is the Model's currency code.
+func (d *Memo) Currency() string { return d.m.Company.Currency }
+
+// memoData is what the templates see: the Model and a few views of it.
+type memoData struct {
+	*Model
+	Warrants []Grant
+}
+
+func (d *Memo) data() memoData {
+	md := memoData{Model: d.m}
+	for _, g := range d.m.Grants {
+		if g.Instrument == Warrant {
+			md.Warrants = append(md.Warrants, g)
+		}
+	}
+	return md
+}

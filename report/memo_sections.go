@@ -1,0 +1,354 @@
+package report
+
+import (
+	"fmt"
+	"sort"
+	"strings"
+
+	"gonum.org/v1/plot/vg"
+)
+
+func (d *Memo) summary(m *Model) error {
+	if err := d.Text("summary", d.data()); err != nil {
+		return err
+	}
+	cur := m.Company.Currency
+	d.Sub("Key figures")
+	rows := [][]string{
+		{"Company", m.Company.Name},
+		{"Valuation date", m.ValuationDate.String()},
+		{"Grants / vesting tranches", count(m.Totals.Grants) + " / " + count(m.Totals.Tranches)},
+		{"Shares under award", count(m.Totals.Shares)},
+		{"Total fair value", money(m.Totals.FairValueTotal, cur)},
+		{"Simplified-method Black-Scholes-Merton", money(m.Totals.BSMSimplifiedTotal, cur)},
+	}
+	if m.Expense != nil {
+		rows = append(rows,
+			[]string{"Unrecognized compensation cost", money(m.Expense.UnrecognizedCost, cur)},
+			[]string{"Weighted-average remaining recognition period", fixed(m.Expense.WeightedAverageRemainingYears, 2) + " years"})
+	}
+	for _, x := range m.CrossChecks {
+		rows = append(rows, []string{fmt.Sprintf("Monte Carlo check, %s tranche %d", x.GrantID, x.TrancheIndex),
+			fmt.Sprintf("%s against lattice %s (standard error %s)", perShare(x.Value), perShare(x.Lattice), fixed(x.StdErr, 4))})
+	}
+	rows = append(rows, []string{"Warnings", count(len(m.Warnings))})
+	d.Table([]Col{{"Item", 70, false}, {"Value", 100, false}}, rows)
+	d.Sub("By instrument")
+	d.groupTable("Instrument", m.ByInstrument, m.Totals)
+	return nil
+}
+
+func (d *Memo) groupTable(first string, gs []Group, tot Totals) {
+	cur := d.Currency()
+	cols := []Col{{first, 30, false}, {"Grants", 18, true}, {"Tranches", 18, true}, {"Shares", 24, true},
+		{"Fair value per share", 24, true}, {"Fair value total (" + cur + ")", 32, true}, {"Simplified BSM (" + cur + ")", 24, true}}
+	rows := make([][]string, 0, len(gs)+1)
+	for _, g := range gs {
+		rows = append(rows, []string{g.Key, count(g.Grants), count(g.Tranches), count(g.Shares),
+			perShare(g.FairValuePerShare), groupDigits(g.FairValueTotal, 2), groupDigits(g.BSMSimplifiedTotal, 2)})
+	}
+	var per float64
+	if tot.Shares > 0 {
+		per = tot.FairValueTotal / float64(tot.Shares)
+	}
+	rows = append(rows, []string{"\x00Total", count(tot.Grants), count(tot.Tranches), count(tot.Shares),
+		perShare(per), groupDigits(tot.FairValueTotal, 2), groupDigits(tot.BSMSimplifiedTotal, 2)})
+	d.Table(cols, rows)
+}
+
+func (d *Memo) methodology(*Model) error { return d.Text("methodology", d.data()) }
+
+func (d *Memo) assumptions(m *Model) error {
+	if err := d.Text("assumptions", d.data()); err != nil {
+		return err
+	}
+	var company, grant []Assumption
+	for _, a := range m.Assumptions {
+		if a.GrantID == "" {
+			company = append(company, a)
+		} else {
+			grant = append(grant, a)
+		}
+	}
+	cols := []Col{{"Input", 40, false}, {"Value", 30, false}, {"Cell", 26, false}, {"Source", 74, false}}
+	if len(company) > 0 {
+		d.Sub("Company-wide")
+		rows := make([][]string, len(company))
+		for i, a := range company {
+			rows[i] = []string{a.Name, assumptionText(a, m.Company.Currency), a.Ref, a.Source}
+		}
+		d.Table(cols, rows)
+	}
+	var terms int
+	assumed := grant[:0:0]
+	for _, a := range grant {
+		if a.Term {
+			terms++
+		} else {
+			assumed = append(assumed, a)
+		}
+	}
+	if len(assumed) == 0 {
+		return nil
+	}
+	d.Sub("By grant")
+	if len(assumed) <= maxDetailRows {
+		cols := []Col{{"Grant", 20, false}, {"Input", 32, false}, {"Value", 20, true}, {"Cell", 26, false}, {"Source", 72, false}}
+		rows := make([][]string, len(assumed))
+		for i, a := range assumed {
+			rows[i] = []string{a.GrantID, a.Name, assumptionText(a, m.Company.Currency), a.Ref, a.Source}
+		}
+		d.Table(cols, rows)
+		d.Note("The grants' terms (dates, shares, strike, vesting) are in section " + fmt.Sprint(d.sections["results"]) + " and, with their cells, on the workbook's Assumptions sheet.")
+		return nil
+	}
+	// Many grants: one row per input, value and source, with the grants
+	// that share it; every row stays in the workbook.
+	type key struct{ name, value, source, sheet string }
+	seen := map[key]int{}
+	first := map[key]Assumption{}
+	cells := map[key]map[string]bool{}
+	var order []key
+	for _, a := range assumed {
+		sheet, _, _ := strings.Cut(a.Ref, "!")
+		k := key{a.Name, assumptionText(a, m.Company.Currency), a.Source, sheet}
+		if seen[k] == 0 {
+			order = append(order, k)
+			first[k] = a
+			cells[k] = map[string]bool{}
+		}
+		seen[k]++
+		cells[k][a.Ref] = true
+	}
+	sort.SliceStable(order, func(i, j int) bool { return order[i].name < order[j].name })
+	d.Note(fmt.Sprintf("%s inputs of %s grants, grouped by input, value and source. The workbook's Assumptions sheet lists each one with its cell, and the grants' terms (dates, shares, strike, vesting) too.", count(len(assumed)), count(len(m.Grants))))
+	if len(order) > 3*maxDetailRows {
+		d.Note(fmt.Sprintf("Only the first %d of %s groups are shown.", 3*maxDetailRows, count(len(order))))
+		order = order[:3*maxDetailRows]
+	}
+	gcols := []Col{{"Input", 32, false}, {"Value", 20, true}, {"Grants", 22, false}, {"Cell", 26, false}, {"Source", 70, false}}
+	rows := make([][]string, len(order))
+	for i, k := range order {
+		who := count(seen[k]) + " grants"
+		if seen[k] == 1 {
+			who = first[k].GrantID
+		}
+		cell := first[k].Ref
+		if n := len(cells[k]); n > 1 {
+			cell = k.sheet + " (" + count(n) + " cells)"
+		}
+		rows[i] = []string{k.name, k.value, who, cell, k.source}
+	}
+	d.Table(gcols, rows)
+	return nil
+}
+
+func assumptionText(a Assumption, cur string) string {
+	switch a.Kind {
+	case KindPercent:
+		return pct(a.Value)
+	case KindMoney:
+		return perShare(a.Value)
+	case KindYears:
+		return fixed(a.Value, 3)
+	case KindNumber:
+		if a.Value == float64(int64(a.Value)) {
+			return groupDigits(a.Value, 0)
+		}
+		return strings.TrimRight(strings.TrimRight(fixed(a.Value, 4), "0"), ".")
+	}
+	return a.Text
+}
+
+func (d *Memo) results(m *Model) error {
+	if err := d.Text("results", d.data()); err != nil {
+		return err
+	}
+	d.Sub("By instrument")
+	d.groupTable("Instrument", m.ByInstrument, m.Totals)
+	if len(m.Grants) > maxGrantRows {
+		d.Sub("By grant month")
+		d.Note(fmt.Sprintf("The schedule has %s grants, so they are grouped here by the month of grant; the workbook's Grants and Tranches sheets show each one.", count(len(m.Grants))))
+		d.groupTable("Grant month", m.ByGrantMonth, m.Totals)
+		return nil
+	}
+	d.Sub("By grant")
+	cur := m.Company.Currency
+	cols := []Col{{"Grant", 16, false}, {"Holder", 18, false}, {"Instrument", 18, false}, {"Grant date", 18, false},
+		{"Shares", 18, true}, {"Strike", 13, true}, {"Share price", 13, true}, {"Tranches", 16, true},
+		{"Fair value per share", 16, true}, {"Fair value total (" + cur + ")", 24, true}}
+	rows := make([][]string, 0, len(m.Grants)+1)
+	for _, g := range m.Grants {
+		strike := perShare(g.Strike)
+		if g.Instrument == RSU {
+			strike = "–"
+		}
+		rows = append(rows, []string{g.ID, g.Holder, g.Instrument, g.GrantDate.String(), count(g.Shares), strike,
+			perShare(g.SharePrice), count(len(g.Tranches)), perShare(g.FairValuePerShare), groupDigits(g.FairValueTotal, 2)})
+	}
+	rows = append(rows, []string{"\x00Total", "", "", "", count(m.Totals.Shares), "", "", count(m.Totals.Tranches), "",
+		groupDigits(m.Totals.FairValueTotal, 2)})
+	d.Table(cols, rows)
+	return nil
+}
+
+func (d *Memo) warrants(m *Model) error {
+	data := d.data()
+	if err := d.Text("warrants", data); err != nil {
+		return err
+	}
+	if len(data.Warrants) == 0 {
+		return nil
+	}
+	cur := m.Company.Currency
+	cols := []Col{{"Warrant", 18, false}, {"Holder", 26, false}, {"Classification", 22, false}, {"Exercise", 17, false},
+		{"Warrants", 18, true}, {"Strike", 15, true}, {"Dilution", 34, false}, {"Per warrant", 20, true}}
+	rows := make([][]string, 0, len(data.Warrants))
+	var total float64
+	for i, g := range data.Warrants {
+		if i == 3*maxDetailRows {
+			d.Note(fmt.Sprintf("Only the first %d of %s warrant grants are listed; the workbook lists all.", i, count(len(data.Warrants))))
+			break
+		}
+		dil := "none"
+		if g.Dilution != nil {
+			dil = fmt.Sprintf("%s, %s new on %s", g.Dilution.Method, count(int64(g.Dilution.Warrants)), count(int64(g.Dilution.SharesOutstanding)))
+		}
+		rows = append(rows, []string{g.ID, g.Holder, g.Classification, g.ExerciseStyle, count(g.Shares), perShare(g.Strike), dil,
+			perShare(g.FairValuePerShare)})
+		total += g.FairValueTotal
+	}
+	d.Table(cols, rows)
+	d.Para(fmt.Sprintf("Total fair value of the warrants listed: %s.", money(total, cur)))
+	return nil
+}
+
+func (d *Memo) sensitivity(m *Model) error {
+	if err := d.Text("sensitivity", d.data()); err != nil {
+		return err
+	}
+	if len(m.Sensitivity) == 0 {
+		d.Para("No sensitivity runs were made.")
+		return nil
+	}
+	if m.Settings.Sensitivities != "" {
+		d.Note(m.Settings.Sensitivities)
+	}
+	cur := m.Company.Currency
+	// Charts two by two.
+	const cw, ch = 84.0, 56.0
+	for i, s := range m.Sensitivity {
+		png, w, err := d.Draw(func(w, h vg.Length) ([]byte, error) { return SensitivityPNG(s, cur, w, h) }, cw, ch)
+		if err != nil {
+			return err
+		}
+		col := i % 2
+		if col == 0 {
+			d.need(ch + 2)
+		}
+		y := d.pdf.GetY()
+		d.ImageAt(png, marginL+float64(col)*(cw+2), y, w, ch)
+		if col == 1 || i == len(m.Sensitivity)-1 {
+			d.pdf.SetY(y + ch + 2)
+		}
+	}
+	cols := []Col{{"Input", 44, false}, {"Case", 40, false}, {"Total fair value (" + cur + ")", 50, true}, {"Change from base", 36, true}}
+	var rows [][]string
+	for _, s := range m.Sensitivity {
+		for _, p := range s.Points {
+			rows = append(rows, []string{s.Label, p.Label, groupDigits(p.FairValueTotal, 2), signedPct(p.Change)})
+		}
+	}
+	d.Table(cols, rows)
+	return nil
+}
+
+func (d *Memo) convergence(m *Model) error {
+	c := m.Convergence
+	if c == nil {
+		d.Para("No convergence study was run.")
+		return nil
+	}
+	if err := d.Text("convergence", d.data()); err != nil {
+		return err
+	}
+	if err := d.Chart(func(w, h vg.Length) ([]byte, error) { return ConvergencePNG(*c, m.Company.Currency, w, h) }, 150, 78); err != nil {
+		return err
+	}
+	cols := []Col{{"Steps N", 30, true}, {"Raw value", 40, true}, {"Less auto value", 40, true}}
+	rows := make([][]string, len(c.Points))
+	for i, p := range c.Points {
+		rows[i] = []string{count(p.Steps), perShare(p.Value), fixed(p.Value-c.AutoValue, 6)}
+	}
+	d.Table(cols, rows)
+	return nil
+}
+
+func (d *Memo) comparison(m *Model) error {
+	if err := d.Text("comparison", d.data()); err != nil {
+		return err
+	}
+	cur := m.Company.Currency
+	diff := func(a, b float64) string {
+		if b == 0 {
+			return "–"
+		}
+		return signedPct(a/b - 1)
+	}
+	var rows [][]string
+	first := "Grant"
+	if len(m.Grants) > maxGrantRows {
+		first = "Grant month"
+		for _, g := range m.ByGrantMonth {
+			rows = append(rows, []string{g.Key, "", groupDigits(g.FairValueTotal, 2), groupDigits(g.BSMSimplifiedTotal, 2),
+				diff(g.FairValueTotal, g.BSMSimplifiedTotal)})
+		}
+	} else {
+		for _, g := range m.Grants {
+			rows = append(rows, []string{g.ID, g.Instrument, groupDigits(g.FairValueTotal, 2), groupDigits(g.BSMSimplifiedTotal, 2),
+				diff(g.FairValueTotal, g.BSMSimplifiedTotal)})
+		}
+	}
+	rows = append(rows, []string{"\x00Total", "", groupDigits(m.Totals.FairValueTotal, 2), groupDigits(m.Totals.BSMSimplifiedTotal, 2),
+		diff(m.Totals.FairValueTotal, m.Totals.BSMSimplifiedTotal)})
+	d.Table([]Col{{first, 30, false}, {"Instrument", 24, false}, {"Lattice (" + cur + ")", 40, true},
+		{"Simplified BSM (" + cur + ")", 40, true}, {"Lattice against BSM", 36, true}}, rows)
+	if len(m.CrossChecks) > 0 {
+		d.Sub("Monte Carlo cross-check")
+		if m.Settings.MonteCarlo != "" {
+			d.Note(m.Settings.MonteCarlo)
+		}
+		var xr [][]string
+		for _, x := range m.CrossChecks {
+			z := "–"
+			if x.StdErr > 0 {
+				z = fixed((x.Value-x.Lattice)/x.StdErr, 2)
+			}
+			xr = append(xr, []string{fmt.Sprintf("%s / %d", x.GrantID, x.TrancheIndex), perShare(x.Lattice), perShare(x.Value),
+				fixed(x.StdErr, 4), z, count(x.Paths)})
+		}
+		d.Table([]Col{{"Grant / tranche", 34, false}, {"Lattice", 26, true}, {"Monte Carlo", 26, true}, {"Standard error", 28, true},
+			{"Difference in standard errors", 30, true}, {"Paths", 26, true}}, xr)
+	}
+	return nil
+}
+
+func (d *Memo) warnings(m *Model) error {
+	if len(m.Warnings) == 0 {
+		d.Para("The schedule raised no warnings.")
+		return nil
+	}
+	ws := m.Warnings
+	if len(ws) > maxDetailRows {
+		d.Note(fmt.Sprintf("The first %d of %s warnings; the workbook's Warnings sheet lists all.", maxDetailRows, count(len(ws))))
+		ws = ws[:maxDetailRows]
+	}
+	rows := make([][]string, len(ws))
+	for i, w := range ws {
+		rows[i] = []string{count(i + 1), w}
+	}
+	d.Table([]Col{{"#", 10, true}, {"Warning", 160, false}}, rows)
+	return nil
+}
+
+func (d *Memo) caution(*Model) error { return d.Text("caution", d.data()) }

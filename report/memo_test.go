@@ -1,0 +1,73 @@
+package report
+
+import (
+	"bytes"
+	"fmt"
+	"os"
+	"os/exec"
+	"path/filepath"
+	"strings"
+	"testing"
+)
+
+func renderMemo(t *testing.T, m *Model) []byte {
+	t.Helper()
+	var buf bytes.Buffer
+	if err := WriteMemo(&buf, m); err != nil {
+		t.Fatal(err)
+	}
+	return buf.Bytes()
+}
+
+// pdfText runs pdftotext (Debian's poppler-utils) on pdf and returns the
+// text, pages parted by form feeds.
+func pdfText(t *testing.T, pdf []byte) string {
+	t.Helper()
+	if _, err := exec.LookPath("pdftotext"); err != nil {
+		t.Fatal("pdftotext not found: install poppler-utils (the CI script does)")
+	}
+	path := filepath.Join(t.TempDir(), "memo.pdf")
+	if err := os.WriteFile(path, pdf, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	out, err := exec.Command("pdftotext", "-layout", path, "-").Output()
+	if err != nil {
+		t.Fatalf("pdftotext: %v", err)
+	}
+	return string(out)
+}
+
+func TestMemoText(t *testing.T) {
+	m := fixture()
+	text := pdfText(t, renderMemo(t, m))
+	flat := strings.Join(strings.Fields(text), " ")
+	for _, want := range []string{
+		"Larkspur Robotics Ltd",
+		"EUR " + groupDigits(m.Totals.FairValueTotal, 2),
+		"not an audit opinion",
+		"ASC 718, IFRS 2 or local rules",
+		"Cox-Ross-Rubinstein",
+		"Galai",
+		"Ø-7 Søren",
+		m.Input.SHA256,
+		"Page 2 of",
+	} {
+		if !strings.Contains(flat, want) {
+			t.Errorf("memo text lacks %q", want)
+		}
+	}
+	// The page count is kept in a golden file: a change in layout that
+	// adds or drops pages shows up in review.
+	golden(t, "fixture.pages.txt", []byte(fmt.Sprintf("%d\n", strings.Count(text, "\f"))))
+}
+
+// Map order varies from run to run, so three renderings give a fair chance
+// of catching anything that depends on it.
+func TestMemoDeterministic(t *testing.T) {
+	a := renderMemo(t, fixture())
+	for i := 0; i < 2; i++ {
+		if b := renderMemo(t, fixture()); !bytes.Equal(a, b) {
+			t.Fatal("two renderings of the same Model differ")
+		}
+	}
+}

@@ -1,0 +1,299 @@
+package report
+
+import (
+	"encoding/json"
+	"fmt"
+	"time"
+)
+
+// Date is a calendar date. It is written as YYYY-MM-DD in JSON and as a
+// date cell in the workbook; the zero Date is written as null.
+type Date struct{ t time.Time }
+
+// DateOf returns the date part of t.
+func DateOf(t time.Time) Date {
+	if t.IsZero() {
+		return Date{}
+	}
+	return Date{time.Date(t.Year(), t.Month(), t.Day(), 0, 0, 0, 0, time.UTC)}
+}
+
+// Time is the date at midnight UTC.
+func (d Date) Time() time.Time { return d.t }
+
+// IsZero reports whether d is unset.
+func (d Date) IsZero() bool { return d.t.IsZero() }
+
+// String is YYYY-MM-DD, or "" for the zero Date.
+func (d Date) String() string {
+	if d.t.IsZero() {
+		return ""
+	}
+	return d.t.Format("2006-01-02")
+}
+
+// MarshalJSON writes "YYYY-MM-DD" or null.
+func (d Date) MarshalJSON() ([]byte, error) {
+	if d.t.IsZero() {
+		return []byte("null"), nil
+	}
+	return json.Marshal(d.String())
+}
+
+// UnmarshalJSON reads what MarshalJSON writes.
+func (d *Date) UnmarshalJSON(b []byte) error {
+	if string(b) == "null" {
+		*d = Date{}
+		return nil
+	}
+	var s string
+	if err := json.Unmarshal(b, &s); err != nil {
+		return err
+	}
+	t, err := time.Parse("2006-01-02", s)
+	if err != nil {
+		return fmt.Errorf("date %q: %w", s, err)
+	}
+	*d = Date{t}
+	return nil
+}
+
+// Model is everything the three outputs show, built once by the caller
+// from the schedule, the valuation results and the run's settings. The
+// renderers (WriteJSON, WriteWorkbook, WriteMemo) only lay it out: no
+// renderer values, sums or looks anything up that is not in the Model, so
+// the memo, the workbook and the JSON cannot disagree.
+type Model struct {
+	Tool          Tool          `json:"tool"`
+	Input         Input         `json:"input"`
+	ValuationDate Date          `json:"valuation_date"`
+	PeriodStart   Date          `json:"period_start"`
+	Company       Company       `json:"company"`
+	Settings      Settings      `json:"settings"`
+	Grants        []Grant       `json:"grants"`
+	Totals        Totals        `json:"totals"`
+	Expense       *Expense      `json:"expense"` // nil until expense attribution has run
+	Warnings      []string      `json:"warnings"`
+	ByInstrument  []Group       `json:"by_instrument"`
+	ByGrantMonth  []Group       `json:"by_grant_month"`
+	Assumptions   []Assumption  `json:"assumptions"`
+	Sensitivity   []Sensitivity `json:"sensitivity"`
+	Convergence   *Convergence  `json:"convergence"`
+	CrossChecks   []CrossCheck  `json:"cross_checks"`
+	Caution       string        `json:"caution"`
+}
+
+// Tool names the program that made the outputs.
+type Tool struct {
+	Name    string `json:"name"`
+	Version string `json:"version"`
+}
+
+// Input identifies the schedule that was valued.
+type Input struct {
+	Path   string `json:"path"`   // as given on the command line
+	SHA256 string `json:"sha256"` // hex, of the file's bytes (of the CSV files in name order for a folder)
+}
+
+// Company is what the memo says about the issuer.
+type Company struct {
+	Name              string  `json:"name"`
+	Currency          string  `json:"currency"` // ISO 4217
+	SharesOutstanding float64 `json:"shares_outstanding"`
+}
+
+// Settings are the run's choices that change numbers.
+type Settings struct {
+	Steps         string `json:"steps"`         // "auto" or a step count
+	Attribution   string `json:"attribution"`   // graded | straight-line
+	Forfeitures   string `json:"forfeitures"`   // estimate | as-occur
+	MonteCarlo    string `json:"monte_carlo"`   // what the cross-check ran, in words
+	Sensitivities string `json:"sensitivities"` // how the sensitivity runs were made, in words
+}
+
+// Instrument names used in the Model.
+const (
+	Option  = "option"
+	Warrant = "warrant"
+	RSU     = "rsu"
+)
+
+// Grant is one award and its tranches, with the inputs it was valued on.
+// Rates are the continuous zero rate at the grant's contractual term.
+type Grant struct {
+	ID                  string  `json:"grant_id"`
+	Holder              string  `json:"holder"`
+	Instrument          string  `json:"instrument"`
+	GrantDate           Date    `json:"grant_date"`
+	MeasurementDate     Date    `json:"measurement_date"`
+	ExpiryDate          Date    `json:"expiry_date"`
+	Shares              int64   `json:"shares"`
+	Strike              float64 `json:"strike"`
+	SharePrice          float64 `json:"share_price"`
+	Volatility          float64 `json:"volatility"`
+	RiskFreeRate        float64 `json:"risk_free_rate"`
+	DividendYield       float64 `json:"dividend_yield"`
+	ExerciseMultiple    float64 `json:"exercise_multiple"`
+	PostVestingExitRate float64 `json:"post_vesting_exit_rate"`
+	FairValuePerShare   float64 `json:"fair_value_per_share"` // share-weighted over the tranches
+	FairValueTotal      float64 `json:"fair_value_total"`
+	BSMSimplifiedTotal  float64 `json:"bsm_simplified_total"`
+	Method              string  `json:"method"` // lattice, bsm, rsu, ...
+
+	// Warrants only.
+	Classification string    `json:"classification,omitempty"`
+	ExerciseStyle  string    `json:"exercise_style,omitempty"`
+	Dilution       *Dilution `json:"dilution,omitempty"`
+
+	Tranches []Tranche `json:"tranches"`
+}
+
+// Dilution is how a warrant's value was adjusted for the new shares.
+type Dilution struct {
+	SharesOutstanding     float64 `json:"shares_outstanding"`
+	Warrants              float64 `json:"warrants"`
+	PriceReflectsWarrants bool    `json:"price_reflects_warrants"`
+	Method                string  `json:"method"`                    // e.g. Galai-Schneller
+	UndilutedValue        float64 `json:"undiluted_value_per_share"` // the same lattice without dilution, first tranche
+}
+
+// Tranche is the part of a grant vesting on one date, with its value.
+type Tranche struct {
+	Index             int     `json:"index"`
+	VestDate          Date    `json:"vest_date"`
+	Shares            int64   `json:"shares"`
+	YearsToExpiry     float64 `json:"years_to_expiry"`
+	YearsToVest       float64 `json:"years_to_vest"`
+	RiskFreeRate      float64 `json:"risk_free_rate"` // zero rate at the tranche's expiry
+	FairValuePerShare float64 `json:"fair_value_per_share"`
+	ErrorEstimate     float64 `json:"error_estimate"`
+	ExpectedTermYears float64 `json:"expected_term_years"`
+	Steps             int     `json:"steps"`
+
+	// The closed-form comparison: for options Black-Scholes-Merton on the
+	// simplified-method expected term (vest + expiry)/2, at the zero rate of
+	// that term; for warrants Black-Scholes-Merton over the contractual term
+	// before dilution (the simplified method is for employee options); for
+	// RSUs the RSU value itself.
+	BSMSimplifiedValue float64 `json:"bsm_simplified_value"`
+	SimplifiedTerm     float64 `json:"simplified_term_years"`
+	SimplifiedRate     float64 `json:"simplified_rate"`
+
+	FairValueTotal float64 `json:"fair_value_total"`
+}
+
+// Totals are the sums over all grants.
+type Totals struct {
+	Grants             int     `json:"grants"`
+	Tranches           int     `json:"tranches"`
+	Shares             int64   `json:"shares"`
+	FairValueTotal     float64 `json:"fair_value_total"`
+	BSMSimplifiedTotal float64 `json:"bsm_simplified_total"`
+}
+
+// Group is a subtotal: by instrument, or by grant month (Key "2024-03").
+type Group struct {
+	Key                string  `json:"key"`
+	Grants             int     `json:"grants"`
+	Tranches           int     `json:"tranches"`
+	Shares             int64   `json:"shares"`
+	FairValueTotal     float64 `json:"fair_value_total"`
+	FairValuePerShare  float64 `json:"fair_value_per_share"`
+	BSMSimplifiedTotal float64 `json:"bsm_simplified_total"`
+}
+
+// Value kinds of an Assumption, which say how it is formatted.
+const (
+	KindPercent = "percent"
+	KindNumber  = "number"
+	KindMoney   = "money"
+	KindDate    = "date"
+	KindText    = "text"
+	KindYears   = "years"
+)
+
+// Assumption is one input a grant was valued on and where it came from. A row
+// with an empty GrantID is a company-wide input.
+type Assumption struct {
+	GrantID string  `json:"grant_id"`
+	Name    string  `json:"name"` // the input key, e.g. "volatility"
+	Kind    string  `json:"kind"`
+	Value   float64 `json:"value"` // for number kinds
+	Text    string  `json:"text"`  // for date and text kinds, and as given otherwise
+	Ref     string  `json:"ref"`   // Sheet!Cell, or "default"
+	Source  string  `json:"source"`
+	// Term marks a contractual term of the grant (dates, shares, strike,
+	// vesting) rather than a valuation assumption; the memo shows terms in
+	// its results and lists only assumptions.
+	Term bool `json:"term,omitempty"`
+}
+
+// Sensitivity is total fair value when one input is moved for every grant.
+type Sensitivity struct {
+	Input  string             `json:"input"` // volatility, exercise_multiple, post_vesting_exit_rate, risk_free_rate
+	Label  string             `json:"label"`
+	Unit   string             `json:"unit"` // how Shift is read: "points", "x", ...
+	Points []SensitivityPoint `json:"points"`
+}
+
+// SensitivityPoint is one shifted run; Shift 0 is the base case.
+type SensitivityPoint struct {
+	Shift          float64 `json:"shift"`
+	Label          string  `json:"label"`
+	FairValueTotal float64 `json:"fair_value_total"`
+	Change         float64 `json:"change"` // relative to the base case
+}
+
+// Convergence shows raw lattice values against the step count for one
+// tranche, and the auto value the tool reports.
+type Convergence struct {
+	GrantID      string             `json:"grant_id"`
+	TrancheIndex int                `json:"tranche_index"`
+	AutoValue    float64            `json:"auto_value"`
+	AutoError    float64            `json:"auto_error_estimate"`
+	AutoSteps    int                `json:"auto_steps"`
+	Points       []ConvergencePoint `json:"points"`
+}
+
+// ConvergencePoint is a raw N-step lattice value.
+type ConvergencePoint struct {
+	Steps int     `json:"steps"`
+	Value float64 `json:"value"`
+}
+
+// CrossCheck compares the lattice with an independent method for one
+// tranche.
+type CrossCheck struct {
+	GrantID      string  `json:"grant_id"`
+	TrancheIndex int     `json:"tranche_index"`
+	Method       string  `json:"method"` // "mc"
+	Lattice      float64 `json:"lattice"`
+	Value        float64 `json:"value"`
+	StdErr       float64 `json:"standard_error"`
+	Paths        int     `json:"paths"`
+}
+
+// Expense is the period's expense attribution (DESIGN §4.3). It is filled
+// by the expense attribution step; nil means it did not run.
+type Expense struct {
+	Periods                       []ExpensePeriod `json:"periods"`
+	UnrecognizedCost              float64         `json:"unrecognized_cost"`
+	WeightedAverageRemainingYears float64         `json:"weighted_average_remaining_years"`
+	*ExpenseDetail                                // by grant, forecast, journal, disclosures (expense.go)
+}
+
+// ExpensePeriod is the expense recognised in [Start, End].
+type ExpensePeriod struct {
+	Start  Date    `json:"start"`
+	End    Date    `json:"end"`
+	Amount float64 `json:"amount"`
+	// Added by expense.go: the change in fair value of liability warrants,
+	// apart from Amount, and whether this is the reporting period.
+	FairValueChange float64 `json:"fair_value_change"`
+	Current         bool    `json:"current"`
+}
+
+// Caution is the notice every output carries (DESIGN §5).
+const Caution = "The figures in this report are estimates made by software from the inputs shown. " +
+	"They are not an audit opinion or a valuation opinion. Defer to licensed auditors or valuation " +
+	"professionals and to the accounting rules that apply to you (ASC 718, IFRS 2 or local rules)."

@@ -1,0 +1,214 @@
+// Command gen writes grantworth's demo schedule: Tarnwick Labs, Inc., an
+// invented company, with about forty grants from late 2023 to its valuation
+// date of 2026-09-30, as sample/tarnwick.xlsx and as the CSV folder
+// sample/tarnwick-csv/. Everything is made up; the random
+// choices come from a fixed seed, so the files are the same on every run.
+//
+// Run it from the repository root:
+//
+//	go run ./sample/gen
+//
+// What is in the schedule:
+//   - options on the common practice four-year, one-year-cliff monthly
+//     schedule, some quarterly and some vesting yearly, and refresh grants to
+//     earlier holders (four years monthly, no cliff);
+//   - one option with a custom schedule on the Vesting sheet;
+//   - two warrants: an equity-classified one issued with a loan and a
+//     liability-classified one (remeasured at the valuation date);
+//   - RSUs vesting yearly over three years;
+//   - terminations (forfeited unvested shares, then expired vested ones)
+//     and exercises on the Events sheet;
+//   - six valuations of the common stock on Share Prices;
+//   - a rate curve at every quarter end, zero rates until 2026-03-31 and
+//     government par yields (par-semiannual) from 2026-06-30 on.
+package main
+
+import (
+	"bytes"
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"os"
+	"path/filepath"
+	"time"
+
+	"grantworth/grants"
+)
+
+const seed = 20260930
+
+func day(s string) time.Time {
+	t, err := time.Parse(time.DateOnly, s)
+	if err != nil {
+		panic(err)
+	}
+	return t
+}
+
+func f(x float64) *float64 { return &x }
+
+// Schedule builds the Tarnwick Labs schedule.
+func Schedule() *grants.Schedule {
+	rng := rand.New(rand.NewPCG(seed, 1))
+	s := &grants.Schedule{
+		Company: grants.Company{Name: "Tarnwick Labs, Inc.", ValuationDate: day("2026-09-30"), PeriodStart: day("2026-07-01"),
+			Currency: "USD", SharesOutstanding: 24_500_000},
+		Assumptions: grants.Assumptions{
+			Volatility: 0.52, DividendYield: 0, ExerciseMultiple: 2.2, PostVestingExitRate: 0.12, PreVestingForfeitureRate: 0.10,
+			Attribution: grants.Graded, Forfeitures: grants.Estimate,
+			Sources: map[string]string{
+				"volatility":                  "median of 5 peers' daily log-return volatility over 6.1 years to 2026-09-30 (grantworth vol sample/peers/*.csv, guideline peers)",
+				"dividend_yield":              "no dividends paid or planned (board resolution of 2023-11-14)",
+				"exercise_multiple":           "Tarnwick exercise history 2019-2026: early exercises at a median 2.2 times strike",
+				"post_vesting_exit_rate":      "Tarnwick HR: 12% a year of vested holders left, 2021-2026",
+				"pre_vesting_forfeiture_rate": "Tarnwick HR: 10% a year of unvested holders left, 2021-2026",
+				"attribution":                 "accounting policy memo of 2023-10-02",
+			},
+		},
+	}
+	s.SharePrices = []grants.PricePoint{
+		{Date: day("2023-09-30"), Price: 0.85},
+		{Date: day("2024-03-31"), Price: 1.10},
+		{Date: day("2024-12-31"), Price: 1.60},
+		{Date: day("2025-06-30"), Price: 2.40},
+		{Date: day("2026-03-31"), Price: 3.05},
+		{Date: day("2026-09-30"), Price: 3.40},
+	}
+	priceAt := func(t time.Time) float64 {
+		p := 0.0
+		for _, pp := range s.SharePrices {
+			if !pp.Date.After(t) {
+				p = pp.Price
+			}
+		}
+		return p
+	}
+
+	// Grant dates: from 2023-10-02 to 2026-09-15, about one a month.
+	start := day("2023-10-02")
+	n := 0
+	id := func() string { n++; return fmt.Sprintf("TW-%03d", n) }
+	holder := 0
+	var optionHolders []string
+	var opts []grants.Grant
+	for m := 0; m < 36; m++ {
+		gd := grants.AddMonths(start, m).AddDate(0, 0, rng.IntN(12))
+		if m == 35 {
+			gd = day("2026-09-15")
+		}
+		holder++
+		h := fmt.Sprintf("E%03d", holder)
+		g := grants.Grant{ID: id(), Holder: h, Instrument: grants.Option, GrantDate: gd,
+			Shares: int64(1000 * (4 + rng.IntN(60))), Strike: priceAt(gd), ExpiryDate: grants.AddMonths(gd, 120),
+			VestStart: gd, VestMonths: 48, CliffMonths: 12, VestEvery: 1}
+		switch {
+		case m%9 == 4: // quarterly after the cliff
+			g.VestEvery = 3
+		case m%11 == 7: // yearly, a quarter each anniversary
+			g.VestEvery, g.CliffMonths = 12, 0
+		}
+		if m%12 == 10 { // refresh grant to an earlier holder
+			g.Holder = optionHolders[rng.IntN(len(optionHolders))]
+			g.CliffMonths = 0
+			g.Shares = int64(1000 * (2 + rng.IntN(20)))
+			holder--
+		} else {
+			optionHolders = append(optionHolders, g.Holder)
+		}
+		if m == 20 { // an executive's grant with its own strike price premium and a lower exit rate
+			g.Strike = math.Round(priceAt(gd)*1.25*100) / 100
+			g.PostVestingExitRate = f(0.05)
+		}
+		opts = append(opts, g)
+	}
+	// A grant vesting on milestones, on the Vesting sheet (30/30/40).
+	ms := grants.Grant{ID: id(), Holder: "E900", Instrument: grants.Option, GrantDate: day("2024-08-19"), Shares: 50_000,
+		Strike: priceAt(day("2024-08-19")), ExpiryDate: day("2034-08-19"), VestStart: day("2024-08-19"), VestMonths: 36, CliffMonths: 12, VestEvery: 12}
+	opts = append(opts, ms)
+	s.Vesting = []grants.VestRow{
+		{GrantID: ms.ID, VestDate: day("2025-03-31"), Shares: 15_000},
+		{GrantID: ms.ID, VestDate: day("2026-01-15"), Shares: 15_000},
+		{GrantID: ms.ID, VestDate: day("2027-06-30"), Shares: 20_000},
+	}
+	s.Grants = append(s.Grants, opts...)
+
+	// Warrants, vested at issue, seven-year term.
+	s.Grants = append(s.Grants,
+		grants.Grant{ID: id(), Holder: "LENDER-1", Instrument: grants.Warrant, GrantDate: day("2024-05-20"), Shares: 250_000, Strike: 1.20,
+			ExpiryDate: day("2031-05-20"), VestStart: day("2024-05-20"), VestEvery: 1, Classification: grants.Equity, ExerciseStyle: grants.American},
+		grants.Grant{ID: id(), Holder: "INVESTOR-2", Instrument: grants.Warrant, GrantDate: day("2025-02-10"), Shares: 400_000, Strike: 2.00,
+			ExpiryDate: day("2032-02-10"), VestStart: day("2025-02-10"), VestEvery: 1, Classification: grants.Liability, ExerciseStyle: grants.American,
+			Volatility: f(0.50)},
+	)
+	// RSUs: three years, a third each anniversary.
+	for i, gd := range []string{"2024-02-15", "2024-11-12", "2025-05-06", "2025-11-18", "2026-04-21"} {
+		t := day(gd)
+		s.Grants = append(s.Grants, grants.Grant{ID: id(), Holder: fmt.Sprintf("D%02d", i+1), Instrument: grants.RSU, GrantDate: t,
+			Shares: int64(500 * (6 + rng.IntN(20))), VestStart: t, VestMonths: 36, VestEvery: 12})
+	}
+
+	// Events: two holders left (unvested forfeited on leaving, vested shares
+	// unexercised expired 90 days later), two exercises.
+	left := func(g grants.Grant, on time.Time, exercise int64) {
+		ts := s.Tranches(g)
+		vested := grants.VestedAt(ts, on)
+		s.Events = append(s.Events, grants.Event{GrantID: g.ID, Date: on, Kind: grants.Forfeited, Shares: g.Shares - vested})
+		if exercise > 0 {
+			s.Events = append(s.Events, grants.Event{GrantID: g.ID, Date: on.AddDate(0, 0, 30), Kind: grants.Exercised, Shares: exercise})
+		}
+		if rest := vested - exercise; rest > 0 && !on.AddDate(0, 0, 90).After(s.Company.ValuationDate) {
+			s.Events = append(s.Events, grants.Event{GrantID: g.ID, Date: on.AddDate(0, 0, 90), Kind: grants.Expired, Shares: rest})
+		}
+	}
+	left(opts[2], day("2025-07-18"), 0)
+	left(opts[5], day("2026-02-27"), 1000)
+	s.Events = append(s.Events,
+		grants.Event{GrantID: opts[0].ID, Date: day("2026-05-12"), Kind: grants.Exercised, Shares: 2000},
+		grants.Event{GrantID: opts[1].ID, Date: day("2026-08-03"), Kind: grants.Exercised, Shares: 1500},
+	)
+
+	// A curve per quarter end: invented zero rates drifting down from about
+	// 4.9% to 3.8%, then par yields.
+	tenors := []float64{0.25, 0.5, 1, 2, 3, 5, 7, 10}
+	q := day("2023-09-30")
+	for i := 0; !q.After(s.Company.ValuationDate); i++ {
+		level := 0.049 - 0.0011*float64(i)
+		comp := "continuous"
+		if !q.Before(day("2026-06-30")) {
+			comp = "par-semiannual"
+		}
+		for _, tn := range tenors {
+			slope := -0.004 + 0.0012*math.Log1p(tn)
+			r := level + slope + 0.0004*(rng.Float64()-0.5)
+			s.Rates = append(s.Rates, grants.RatePoint{CurveDate: q, TenorYears: tn, Rate: math.Round(r*1e5) / 1e5, Compounding: comp})
+		}
+		q = grants.AddMonths(q.AddDate(0, 0, 1), 3).AddDate(0, 0, -1)
+	}
+	return s
+}
+
+func main() {
+	if err := run("sample"); err != nil {
+		fmt.Fprintln(os.Stderr, "gen:", err)
+		os.Exit(1)
+	}
+}
+
+func run(dir string) error {
+	s := Schedule()
+	var buf bytes.Buffer
+	if err := grants.WriteXLSX(&buf, s); err != nil {
+		return err
+	}
+	if err := os.WriteFile(filepath.Join(dir, "tarnwick.xlsx"), buf.Bytes(), 0o644); err != nil {
+		return err
+	}
+	csvDir := filepath.Join(dir, "tarnwick-csv")
+	if err := os.MkdirAll(csvDir, 0o755); err != nil {
+		return err
+	}
+	if err := grants.WriteCSVDir(csvDir, s); err != nil {
+		return err
+	}
+	return nil
+}
