@@ -241,7 +241,11 @@ func (p *pipeline) buildModel(vs []*valued, set report.Model) (*report.Model, er
 	if err := p.convergence(vs, &m); err != nil {
 		return nil, err
 	}
-	if err := p.expense(vs, &m); err != nil {
+	var price float64
+	if pp, ok := s.PriceAt(s.Company.ValuationDate); ok {
+		price = pp.Price
+	}
+	if err := report.AddExpense(&m, s, price, p.revalue); err != nil {
 		return nil, err
 	}
 	m.Warnings = append(m.Warnings, p.warnings...)
@@ -523,38 +527,32 @@ func (p *pipeline) convergence(vs []*valued, m *report.Model) error {
 	return nil
 }
 
-// expense runs the period's attribution (grants.Expense) and keeps the
-// figures DESIGN §4.3 asks of valuation.json.
-func (p *pipeline) expense(vs []*valued, m *report.Model) error {
-	s := p.s
-	awards := make([]grants.AwardCost, 0, len(vs))
-	for _, v := range vs {
-		a := grants.AwardCost{Grant: v.in.Grant, Events: s.EventsOf(v.in.Grant.ID)}
-		var et, w float64
-		for k, t := range v.in.Tranches {
-			a.Tranches = append(a.Tranches, grants.TrancheCost{Tranche: t, FairValue: v.res[k].Value})
-			et += v.res[k].ExpectedTermYears * float64(t.Shares)
-			w += float64(t.Shares)
-		}
-		if w > 0 {
-			a.Measured = &grants.MeasuredAssumptions{Volatility: v.in.Volatility.Value, RiskFreeRate: v.in.RiskFreeRate.Value,
-				DividendYield: v.in.DividendYield.Value, ExpectedTermYears: et / w}
-		}
-		awards = append(awards, a)
-	}
-	pol := grants.ExpensePolicy{Attribution: s.Assumptions.Attribution, Forfeitures: s.Assumptions.Forfeitures,
-		PreVestingForfeitureRate: s.Assumptions.PreVestingForfeitureRate}
-	rep, err := grants.Expense(awards, pol, s.Company.PeriodStart, s.Company.ValuationDate)
+// revalue is a liability-classified warrant's value per tranche measured
+// at date at (its grant date, or a past quarter end) for the expense
+// attribution's remeasurements: the schedule's inputs as of that date, on
+// the same lattice with the same dilution.
+func (p *pipeline) revalue(g grants.Grant, at time.Time) ([]float64, error) {
+	s := *p.s
+	s.Company.ValuationDate = at
+	in, err := s.Inputs(g)
 	if err != nil {
-		return fmt.Errorf("expense attribution: %w", err)
+		return nil, err
 	}
-	e := &report.Expense{UnrecognizedCost: rep.Unrecognized, WeightedAverageRemainingYears: rep.RemainingYears}
-	for _, pa := range rep.Periods {
-		e.Periods = append(e.Periods, report.ExpensePeriod{Start: report.DateOf(pa.Start), End: report.DateOf(pa.End), Amount: pa.Amount})
+	out := make([]float64, len(in.Terms))
+	for k, t := range in.Terms {
+		var r valuation.Result
+		if d := p.dilution(g); d != nil {
+			r, err = valuation.WarrantValue(t, in.Market, *d, p.opts)
+		} else {
+			t.Rational = t.Rational || !t.European
+			r, err = valuation.Lattice(t, in.Market, p.opts)
+		}
+		if err != nil {
+			return nil, fmt.Errorf("tranche %d: %w", k+1, err)
+		}
+		out[k] = r.Value
 	}
-	m.Expense = e
-	p.warnings = append(p.warnings, rep.Warnings...)
-	return nil
+	return out, nil
 }
 
 // warningTexts returns the schedule's warnings as text, in the order found.
