@@ -101,7 +101,7 @@ var Sheets = []Sheet{
 			{Key: "valuation_date", Kind: KindDate, Required: true, Need: "required", Help: "The period end: liability-classified warrants are remeasured on it and expense runs to it."},
 			{Key: "period_start", Kind: KindDate, Need: "optional", Default: "first day of the quarter ending on valuation_date", Help: "The first day of the reporting period."},
 			{Key: "currency", Kind: KindText, Unit: "ISO 4217 code", Need: "optional", Default: "USD", Help: "Three-letter currency code of prices and strikes."},
-			{Key: "shares_outstanding", Kind: KindInt, Unit: "shares", Need: "when there are warrants", Help: "Common shares outstanding, for the dilution of warrants."},
+			{Key: "shares_outstanding", Kind: KindInt, Unit: "shares", Need: "warrants", Help: "Common shares outstanding, for the dilution of warrants."},
 		}},
 	{Name: SheetAssumptions, File: "assumptions.csv", KeyValue: true, Required: true,
 		Help: "Company-wide valuation assumptions: key, value and an optional source that the memo quotes. A grant row may override some of them.",
