@@ -133,6 +133,18 @@ func newMemo(m *Model) (*Memo, error) {
 			return a/b - 1
 		},
 		"sec": func(key string) string { return fmt.Sprint(d.sections[key]) },
+		"first": func(ps []ConvergencePoint) string {
+			if len(ps) == 0 {
+				return "–"
+			}
+			return count(ps[0].Steps)
+		},
+		"last": func(ps []ConvergencePoint) string {
+			if len(ps) == 0 {
+				return "–"
+			}
+			return count(ps[len(ps)-1].Steps)
+		},
 	})
 	sub, err := fs.Sub(templates.Memo, "memo")
 	if err != nil {

@@ -2,6 +2,7 @@ package report
 
 import (
 	"fmt"
+	"sort"
 	"strings"
 
 	"gonum.org/v1/plot/vg"
@@ -69,7 +70,7 @@ func (d *Memo) assumptions(m *Model) error {
 			grant = append(grant, a)
 		}
 	}
-	cols := []Col{{"Input", 34, false}, {"Value", 24, true}, {"Cell", 30, false}, {"Source", 82, false}}
+	cols := []Col{{"Input", 40, false}, {"Value", 30, false}, {"Cell", 26, false}, {"Source", 74, false}}
 	if len(company) > 0 {
 		d.Sub("Company-wide")
 		rows := make([][]string, len(company))
@@ -78,43 +79,65 @@ func (d *Memo) assumptions(m *Model) error {
 		}
 		d.Table(cols, rows)
 	}
-	if len(grant) == 0 {
+	var terms int
+	assumed := grant[:0:0]
+	for _, a := range grant {
+		if a.Term {
+			terms++
+		} else {
+			assumed = append(assumed, a)
+		}
+	}
+	if len(assumed) == 0 {
 		return nil
 	}
 	d.Sub("By grant")
-	if len(grant) <= maxDetailRows {
-		cols := []Col{{"Grant", 22, false}, {"Input", 30, false}, {"Value", 22, true}, {"Cell", 26, false}, {"Source", 70, false}}
-		rows := make([][]string, len(grant))
-		for i, a := range grant {
+	if len(assumed) <= maxDetailRows {
+		cols := []Col{{"Grant", 20, false}, {"Input", 32, false}, {"Value", 20, true}, {"Cell", 26, false}, {"Source", 72, false}}
+		rows := make([][]string, len(assumed))
+		for i, a := range assumed {
 			rows[i] = []string{a.GrantID, a.Name, assumptionText(a, m.Company.Currency), a.Ref, a.Source}
 		}
 		d.Table(cols, rows)
+		d.Note("The grants' terms (dates, shares, strike, vesting) are in section " + fmt.Sprint(d.sections["results"]) + " and, with their cells, on the workbook's Assumptions sheet.")
 		return nil
 	}
-	// A long ledger: one row per input, value and source, with the number
-	// of grants that share it; every row stays in the workbook.
+	// Many grants: one row per input, value and source, with the grants
+	// that share it; every row stays in the workbook.
 	type key struct{ name, value, source, sheet string }
 	seen := map[key]int{}
-	first := map[key]string{}
+	first := map[key]Assumption{}
+	cells := map[key]map[string]bool{}
 	var order []key
-	for _, a := range grant {
+	for _, a := range assumed {
 		sheet, _, _ := strings.Cut(a.Ref, "!")
 		k := key{a.Name, assumptionText(a, m.Company.Currency), a.Source, sheet}
 		if seen[k] == 0 {
 			order = append(order, k)
-			first[k] = a.Ref
+			first[k] = a
+			cells[k] = map[string]bool{}
 		}
 		seen[k]++
+		cells[k][a.Ref] = true
 	}
-	d.Note(fmt.Sprintf("%s grant-level inputs, grouped by input, value and source; the workbook's Assumptions sheet lists each one with its cell.", count(len(grant))))
+	sort.SliceStable(order, func(i, j int) bool { return order[i].name < order[j].name })
+	d.Note(fmt.Sprintf("%s inputs of %s grants, grouped by input, value and source. The workbook's Assumptions sheet lists each one with its cell, and the grants' terms (dates, shares, strike, vesting) too.", count(len(assumed)), count(len(m.Grants))))
 	if len(order) > 3*maxDetailRows {
 		d.Note(fmt.Sprintf("Only the first %d of %s groups are shown.", 3*maxDetailRows, count(len(order))))
 		order = order[:3*maxDetailRows]
 	}
-	gcols := []Col{{"Input", 30, false}, {"Value", 22, true}, {"Grants", 16, true}, {"First cell", 26, false}, {"Source", 76, false}}
+	gcols := []Col{{"Input", 32, false}, {"Value", 20, true}, {"Grants", 22, false}, {"Cell", 26, false}, {"Source", 70, false}}
 	rows := make([][]string, len(order))
 	for i, k := range order {
-		rows[i] = []string{k.name, k.value, count(seen[k]), first[k], k.source}
+		who := count(seen[k]) + " grants"
+		if seen[k] == 1 {
+			who = first[k].GrantID
+		}
+		cell := first[k].Ref
+		if n := len(cells[k]); n > 1 {
+			cell = k.sheet + " (" + count(n) + " cells)"
+		}
+		rows[i] = []string{k.name, k.value, who, cell, k.source}
 	}
 	d.Table(gcols, rows)
 	return nil
@@ -129,6 +152,9 @@ func assumptionText(a Assumption, cur string) string {
 	case KindYears:
 		return fixed(a.Value, 3)
 	case KindNumber:
+		if a.Value == float64(int64(a.Value)) {
+			return groupDigits(a.Value, 0)
+		}
 		return strings.TrimRight(strings.TrimRight(fixed(a.Value, 4), "0"), ".")
 	}
 	return a.Text
@@ -148,9 +174,9 @@ func (d *Memo) results(m *Model) error {
 	}
 	d.Sub("By grant")
 	cur := m.Company.Currency
-	cols := []Col{{"Grant", 16, false}, {"Holder", 20, false}, {"Instrument", 19, false}, {"Grant date", 19, false},
-		{"Shares", 15, true}, {"Strike", 14, true}, {"Share price", 14, true}, {"Tranches", 15, true},
-		{"Fair value per share", 16, true}, {"Fair value total (" + cur + ")", 22, true}}
+	cols := []Col{{"Grant", 16, false}, {"Holder", 18, false}, {"Instrument", 18, false}, {"Grant date", 18, false},
+		{"Shares", 18, true}, {"Strike", 13, true}, {"Share price", 13, true}, {"Tranches", 16, true},
+		{"Fair value per share", 16, true}, {"Fair value total (" + cur + ")", 24, true}}
 	rows := make([][]string, 0, len(m.Grants)+1)
 	for _, g := range m.Grants {
 		strike := perShare(g.Strike)

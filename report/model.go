@@ -153,8 +153,8 @@ type Dilution struct {
 	SharesOutstanding     float64 `json:"shares_outstanding"`
 	Warrants              float64 `json:"warrants"`
 	PriceReflectsWarrants bool    `json:"price_reflects_warrants"`
-	Method                string  `json:"method"` // e.g. Galai-Schneller
-	UndilutedValue        float64 `json:"undiluted_value_per_share"`
+	Method                string  `json:"method"`                    // e.g. Galai-Schneller
+	UndilutedValue        float64 `json:"undiluted_value_per_share"` // the same lattice without dilution, first tranche
 }
 
 // Tranche is the part of a grant vesting on one date, with its value.
@@ -170,8 +170,11 @@ type Tranche struct {
 	ExpectedTermYears float64 `json:"expected_term_years"`
 	Steps             int     `json:"steps"`
 
-	// The simplified-method comparison: Black-Scholes-Merton on the
-	// expected term (vest + expiry)/2, at the zero rate of that term.
+	// The closed-form comparison: for options Black-Scholes-Merton on the
+	// simplified-method expected term (vest + expiry)/2, at the zero rate of
+	// that term; for warrants Black-Scholes-Merton over the contractual term
+	// before dilution (the simplified method is for employee options); for
+	// RSUs the RSU value itself.
 	BSMSimplifiedValue float64 `json:"bsm_simplified_value"`
 	SimplifiedTerm     float64 `json:"simplified_term_years"`
 	SimplifiedRate     float64 `json:"simplified_rate"`
@@ -219,6 +222,10 @@ type Assumption struct {
 	Text    string  `json:"text"`  // for date and text kinds, and as given otherwise
 	Ref     string  `json:"ref"`   // Sheet!Cell, or "default"
 	Source  string  `json:"source"`
+	// Term marks a contractual term of the grant (dates, shares, strike,
+	// vesting) rather than a valuation assumption; the memo shows terms in
+	// its results and lists only assumptions.
+	Term bool `json:"term,omitempty"`
 }
 
 // Sensitivity is total fair value when one input is moved for every grant.

@@ -1,0 +1,300 @@
+package main
+
+import (
+	"bytes"
+	"crypto/sha256"
+	"encoding/hex"
+	"errors"
+	"fmt"
+	"io"
+	"io/fs"
+	"os"
+	"path/filepath"
+	"sort"
+	"strings"
+	"time"
+
+	"github.com/spf13/cobra"
+
+	"grantworth/grants"
+	"grantworth/report"
+	"grantworth/valuation"
+)
+
+func init() { verbs = append(verbs, newValueCmd) }
+
+// Output file names (DESIGN §4.1).
+var outputNames = []string{"memo.pdf", "valuation.xlsx", "valuation.json"}
+
+type valueOptions struct {
+	io            *IO
+	path          string
+	out           string
+	valuationDate string
+	force         bool
+}
+
+func newValueCmd(ios *IO) *cobra.Command {
+	opts := &valueOptions{io: ios}
+	cmd := &cobra.Command{
+		Use:   "value SCHEDULE",
+		Short: "Value every grant and write memo.pdf, valuation.xlsx and valuation.json",
+		Long: `value is the quarter-close job. It reads a grant schedule (an .xlsx workbook
+or a folder of CSV files), validates it, expands every grant into vesting
+tranches, values each tranche (options on the employee-option lattice in
+automatic, converged mode on all cores; warrants on the lattice with dilution;
+RSUs in closed form), runs the sensitivity, convergence and Monte Carlo
+checks and the period's expense attribution, and writes three files into the
+output folder:
+
+  memo.pdf        the memo for the file and the auditor
+  valuation.xlsx  every input with its cell and every result, with live
+                  Black-Scholes-Merton formulas beside the tool's figures
+  valuation.json  the same figures for other programs (DESIGN §4.3)
+
+Any error in the schedule is printed with its cell and nothing is written
+(exit 2). An existing output is never replaced without --force; the outputs
+are written all together or not at all. The same schedule gives the same
+files byte for byte.
+
+The figures are estimates, not an audit opinion: defer to licensed auditors or
+valuation professionals and the accounting rules that apply to you (ASC 718,
+IFRS 2 or local rules).`,
+		Example: `  grantworth value sample/tarnwick.xlsx --out out
+  grantworth value ledger.xlsx --out q3 --valuation-date 2026-09-30 --force`,
+		Args: cobra.ExactArgs(1),
+		RunE: func(_ *cobra.Command, args []string) error {
+			opts.path = args[0]
+			return runValue(opts)
+		},
+	}
+	cmd.Flags().StringVar(&opts.out, "out", "out", "folder to write the three files into (created if missing)")
+	cmd.Flags().StringVar(&opts.valuationDate, "valuation-date", "", "period end YYYY-MM-DD, instead of the schedule's Company valuation_date")
+	cmd.Flags().BoolVar(&opts.force, "force", false, "replace existing output files")
+	return cmd
+}
+
+func runValue(o *valueOptions) error {
+	// Refuse early, before any work, when an output is in the way.
+	if !o.force {
+		have, err := existingOutputs(o.out, outputNames)
+		if err != nil {
+			return err
+		}
+		if len(have) > 0 {
+			return badInput("%s already exist%s; use --force to replace %s", joinList(have), plural1(len(have)), them(len(have)))
+		}
+	}
+	var vdate time.Time
+	if o.valuationDate != "" {
+		t, err := time.Parse("2006-01-02", o.valuationDate)
+		if err != nil {
+			return badInput("--valuation-date %q is not a date YYYY-MM-DD", o.valuationDate)
+		}
+		vdate = t
+	}
+	s, rep, err := grants.ReadFile(o.path)
+	if err != nil {
+		var ce *grants.CellError
+		switch {
+		case errors.As(err, &ce):
+			return asInput(err)
+		case errors.Is(err, fs.ErrNotExist):
+			return badInput("%s: no such file or folder", o.path)
+		default:
+			return err
+		}
+	}
+	if !vdate.IsZero() {
+		applyValuationDate(s, vdate)
+		// The date moves measurement dates and curves: check again, and
+		// keep the problems not already found.
+		again := grants.Validate(s)
+		seen := map[string]bool{}
+		for _, e := range rep.Errors {
+			seen[e.Error()] = true
+		}
+		for _, e := range rep.Warnings {
+			seen[e.Error()] = true
+		}
+		var fresh grants.Report
+		for _, e := range again.Errors {
+			if !seen[e.Error()] {
+				fresh.Errors = append(fresh.Errors, e)
+			}
+		}
+		for _, e := range again.Warnings {
+			if !seen[e.Error()] {
+				fresh.Warnings = append(fresh.Warnings, e)
+			}
+		}
+		fresh.Dropped = again.Dropped
+		rep.Merge(fresh)
+	}
+	vs, inErrs := gatherInputs(s)
+	if !rep.OK() || len(inErrs) > 0 {
+		return printProblems(o.io.Err, rep, inErrs)
+	}
+	sum, err := hashInput(o.path)
+	if err != nil {
+		return err
+	}
+	bar := newProgress(o.io, "valuing grants")
+	p := &pipeline{s: s, opts: valuation.LatticeOptions{Steps: s.Assumptions.Steps}, progress: bar.update}
+	if o.io.ErrIsTerminal {
+		p.sensBar = newProgress(o.io, "sensitivity runs")
+	}
+	settings := report.Model{
+		Tool:     report.Tool{Name: "grantworth", Version: version},
+		Input:    report.Input{Path: filepath.ToSlash(o.path), SHA256: sum},
+		Warnings: warningTexts(rep),
+	}
+	m, err := p.buildModel(vs, settings)
+	bar.finish()
+	if err != nil {
+		return err
+	}
+	files, err := render(m)
+	if err != nil {
+		return err
+	}
+	if err := writeAll(o.out, files, o.force); err != nil {
+		return err
+	}
+	printSummary(o.io.Out, m, o.out)
+	return nil
+}
+
+// applyValuationDate moves the period end to d; a period start the schedule
+// defaulted (or one after d) becomes the first day of d's quarter.
+func applyValuationDate(s *grants.Schedule, d time.Time) {
+	s.Company.ValuationDate = d
+	if _, given := s.Company.Refs["period_start"]; !given || s.Company.PeriodStart.After(d) {
+		s.Company.PeriodStart = grants.QuarterStart(d)
+	}
+}
+
+func printProblems(w io.Writer, rep *grants.Report, more []error) error {
+	for _, e := range rep.Errors {
+		fmt.Fprintln(w, e.Error())
+	}
+	for _, e := range more {
+		fmt.Fprintln(w, e.Error())
+	}
+	if rep.Dropped > 0 {
+		fmt.Fprintf(w, "... and %d more errors not listed\n", rep.Dropped)
+	}
+	for _, e := range rep.Warnings {
+		fmt.Fprintln(w, checkWarningLine(e.Error()))
+	}
+	n := rep.ErrorCount() + len(more)
+	fmt.Fprintf(w, "%d %s; nothing was written\n", n, checkPlural(n, "error"))
+	return silentExit{exitInput}
+}
+
+// hashInput is the SHA-256 of the schedule: of the file's bytes, or for a
+// folder of CSV files of each .csv file's name, a NUL byte, its length as
+// decimal digits, a NUL byte and its bytes, in name order.
+func hashInput(path string) (string, error) {
+	st, err := os.Stat(path)
+	if err != nil {
+		return "", err
+	}
+	h := sha256.New()
+	if !st.IsDir() {
+		f, err := os.Open(path)
+		if err != nil {
+			return "", err
+		}
+		defer f.Close()
+		if _, err := io.Copy(h, f); err != nil {
+			return "", err
+		}
+		return hex.EncodeToString(h.Sum(nil)), nil
+	}
+	ents, err := os.ReadDir(path)
+	if err != nil {
+		return "", err
+	}
+	var names []string
+	for _, e := range ents {
+		if !e.IsDir() && strings.EqualFold(filepath.Ext(e.Name()), ".csv") {
+			names = append(names, e.Name())
+		}
+	}
+	sort.Strings(names)
+	for _, n := range names {
+		b, err := os.ReadFile(filepath.Join(path, n))
+		if err != nil {
+			return "", err
+		}
+		fmt.Fprintf(h, "%s\x00%d\x00", n, len(b))
+		h.Write(b)
+	}
+	return hex.EncodeToString(h.Sum(nil)), nil
+}
+
+// render lays the Model out as the three files, in memory, so that nothing
+// is written unless all three could be made.
+func render(m *report.Model) ([]outFile, error) {
+	var pdf, xlsx, js bytes.Buffer
+	if err := report.WriteMemo(&pdf, m); err != nil {
+		return nil, fmt.Errorf("memo.pdf: %w", err)
+	}
+	if err := report.WriteWorkbook(&xlsx, m); err != nil {
+		return nil, fmt.Errorf("valuation.xlsx: %w", err)
+	}
+	if err := report.WriteJSON(&js, m); err != nil {
+		return nil, fmt.Errorf("valuation.json: %w", err)
+	}
+	return []outFile{{"memo.pdf", pdf.Bytes()}, {"valuation.xlsx", xlsx.Bytes()}, {"valuation.json", js.Bytes()}}, nil
+}
+
+func printSummary(w io.Writer, m *report.Model, dir string) {
+	cur := m.Company.Currency
+	fmt.Fprintf(w, "%s, valuation date %s\n", m.Company.Name, m.ValuationDate)
+	fmt.Fprintf(w, "  grants            %d\n", m.Totals.Grants)
+	for _, g := range m.ByInstrument {
+		fmt.Fprintf(w, "    %-15s %d (%s %s)\n", g.Key, g.Grants, cur, money2(g.FairValueTotal))
+	}
+	fmt.Fprintf(w, "  tranches          %d\n", m.Totals.Tranches)
+	fmt.Fprintf(w, "  shares            %d\n", m.Totals.Shares)
+	fmt.Fprintf(w, "  total fair value  %s %s\n", cur, money2(m.Totals.FairValueTotal))
+	if m.Expense != nil && len(m.Expense.Periods) > 0 {
+		last := m.Expense.Periods[len(m.Expense.Periods)-1]
+		fmt.Fprintf(w, "  period expense    %s %s (%s to %s)\n", cur, money2(last.Amount), last.Start, last.End)
+	}
+	if len(m.Warnings) > 0 {
+		fmt.Fprintf(w, "  warnings          %d (listed in the memo and the workbook)\n", len(m.Warnings))
+	}
+	for _, n := range outputNames {
+		fmt.Fprintf(w, "  wrote             %s\n", filepath.Join(dir, n))
+	}
+	fmt.Fprintln(w, "Estimates, not an audit opinion; defer to your auditors and the rules that apply (ASC 718, IFRS 2 or local rules).")
+}
+
+// money2 is an amount with two decimals and grouped thousands.
+func money2(v float64) string {
+	neg := v < 0
+	s := fmt.Sprintf("%.2f", abs(v))
+	i := strings.IndexByte(s, '.')
+	var b strings.Builder
+	for k, r := range s[:i] {
+		if k > 0 && (i-k)%3 == 0 {
+			b.WriteByte(',')
+		}
+		b.WriteRune(r)
+	}
+	out := b.String() + s[i:]
+	if neg && out != "0.00" {
+		out = "-" + out
+	}
+	return out
+}
+
+func abs(v float64) float64 {
+	if v < 0 {
+		return -v
+	}
+	return v
+}
