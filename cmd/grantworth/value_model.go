@@ -523,39 +523,7 @@ func (p *pipeline) convergence(vs []*valued, m *report.Model) error {
 	return nil
 }
 
-// expense runs the period's attribution (grants.Expense) and keeps the
-// figures DESIGN §4.3 asks of valuation.json.
-func (p *pipeline) expense(vs []*valued, m *report.Model) error {
-	s := p.s
-	awards := make([]grants.AwardCost, 0, len(vs))
-	for _, v := range vs {
-		a := grants.AwardCost{Grant: v.in.Grant, Events: s.EventsOf(v.in.Grant.ID)}
-		var et, w float64
-		for k, t := range v.in.Tranches {
-			a.Tranches = append(a.Tranches, grants.TrancheCost{Tranche: t, FairValue: v.res[k].Value})
-			et += v.res[k].ExpectedTermYears * float64(t.Shares)
-			w += float64(t.Shares)
-		}
-		if w > 0 {
-			a.Measured = &grants.MeasuredAssumptions{Volatility: v.in.Volatility.Value, RiskFreeRate: v.in.RiskFreeRate.Value,
-				DividendYield: v.in.DividendYield.Value, ExpectedTermYears: et / w}
-		}
-		awards = append(awards, a)
-	}
-	pol := grants.ExpensePolicy{Attribution: s.Assumptions.Attribution, Forfeitures: s.Assumptions.Forfeitures,
-		PreVestingForfeitureRate: s.Assumptions.PreVestingForfeitureRate}
-	rep, err := grants.Expense(awards, pol, s.Company.PeriodStart, s.Company.ValuationDate)
-	if err != nil {
-		return fmt.Errorf("expense attribution: %w", err)
-	}
-	e := &report.Expense{UnrecognizedCost: rep.Unrecognized, WeightedAverageRemainingYears: rep.RemainingYears}
-	for _, pa := range rep.Periods {
-		e.Periods = append(e.Periods, report.ExpensePeriod{Start: report.DateOf(pa.Start), End: report.DateOf(pa.End), Amount: pa.Amount})
-	}
-	m.Expense = e
-	p.warnings = append(p.warnings, rep.Warnings...)
-	return nil
-}
+// expense is in value_expense.go.
 
 // warningTexts returns the schedule's warnings as text, in the order found.
 func warningTexts(rep *grants.Report) []string {
