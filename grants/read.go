@@ -77,7 +77,14 @@ func ReadFile(path string) (*Schedule, *Report, error) {
 }
 
 // ReadXLSX reads a schedule workbook of size bytes from r.
-func ReadXLSX(r io.ReaderAt, size int64) (*Schedule, *Report, error) {
+func ReadXLSX(r io.ReaderAt, size int64) (s *Schedule, rep *Report, err error) {
+	defer func() {
+		// A workbook damaged in a way the spreadsheet library does not
+		// expect must still give an error, not a crash.
+		if p := recover(); p != nil {
+			s, rep, err = nil, nil, &CellError{Err: ErrFormat, Msg: fmt.Sprintf("is a damaged .xlsx workbook (%v)", p)}
+		}
+	}()
 	if size > MaxFileSize {
 		return nil, nil, &CellError{Err: ErrTooLarge, Msg: fmt.Sprintf("is %d bytes, more than the %d bytes allowed", size, MaxFileSize)}
 	}
@@ -97,7 +104,7 @@ func ReadXLSX(r io.ReaderAt, size int64) (*Schedule, *Report, error) {
 	defer f.Close()
 	src := &xlsxSource{f: f}
 	src.scanFormulas()
-	s, rep := read(src)
+	s, rep = read(src)
 	return s, rep, nil
 }
 

@@ -75,7 +75,7 @@ func expand(g Grant) []Tranche {
 		every = 1
 	}
 	cliff := min(max(g.CliffMonths, 0), vm)
-	var ts []Tranche
+	ts := make([]Tranche, 0, min((vm-cliff)/every+2, 1202))
 	var prev int64
 	add := func(m int) {
 		cum := floorMulDiv(g.Shares, int64(m), int64(vm))

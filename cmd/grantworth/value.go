@@ -260,9 +260,12 @@ func printSummary(w io.Writer, m *report.Model, dir string) {
 	fmt.Fprintf(w, "  tranches          %d\n", m.Totals.Tranches)
 	fmt.Fprintf(w, "  shares            %d\n", m.Totals.Shares)
 	fmt.Fprintf(w, "  total fair value  %s %s\n", cur, money2(m.Totals.FairValueTotal))
-	if m.Expense != nil && len(m.Expense.Periods) > 0 {
-		last := m.Expense.Periods[len(m.Expense.Periods)-1]
-		fmt.Fprintf(w, "  period expense    %s %s (%s to %s)\n", cur, money2(last.Amount), last.Start, last.End)
+	if m.Expense != nil {
+		for _, p := range m.Expense.Periods {
+			if p.Current {
+				fmt.Fprintf(w, "  period expense    %s %s (%s to %s)\n", cur, money2(p.Amount), p.Start, p.End)
+			}
+		}
 	}
 	if len(m.Warnings) > 0 {
 		fmt.Fprintf(w, "  warnings          %d (listed in the memo and the workbook)\n", len(m.Warnings))

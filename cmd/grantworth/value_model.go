@@ -241,7 +241,11 @@ func (p *pipeline) buildModel(vs []*valued, set report.Model) (*report.Model, er
 	if err := p.convergence(vs, &m); err != nil {
 		return nil, err
 	}
-	if err := p.expense(vs, &m); err != nil {
+	var price float64
+	if pp, ok := s.PriceAt(s.Company.ValuationDate); ok {
+		price = pp.Price
+	}
+	if err := report.AddExpense(&m, s, price, p.revalue); err != nil {
 		return nil, err
 	}
 	m.Warnings = append(m.Warnings, p.warnings...)
@@ -523,7 +527,33 @@ func (p *pipeline) convergence(vs []*valued, m *report.Model) error {
 	return nil
 }
 
-// expense is in value_expense.go.
+// revalue is a liability-classified warrant's value per tranche measured
+// at date at (its grant date, or a past quarter end) for the expense
+// attribution's remeasurements: the schedule's inputs as of that date, on
+// the same lattice with the same dilution.
+func (p *pipeline) revalue(g grants.Grant, at time.Time) ([]float64, error) {
+	s := *p.s
+	s.Company.ValuationDate = at
+	in, err := s.Inputs(g)
+	if err != nil {
+		return nil, err
+	}
+	out := make([]float64, len(in.Terms))
+	for k, t := range in.Terms {
+		var r valuation.Result
+		if d := p.dilution(g); d != nil {
+			r, err = valuation.WarrantValue(t, in.Market, *d, p.opts)
+		} else {
+			t.Rational = t.Rational || !t.European
+			r, err = valuation.Lattice(t, in.Market, p.opts)
+		}
+		if err != nil {
+			return nil, fmt.Errorf("tranche %d: %w", k+1, err)
+		}
+		out[k] = r.Value
+	}
+	return out, nil
+}
 
 // warningTexts returns the schedule's warnings as text, in the order found.
 func warningTexts(rep *grants.Report) []string {

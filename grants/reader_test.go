@@ -1,0 +1,271 @@
+package grants
+
+import (
+	"bytes"
+	"errors"
+	"os"
+	"strings"
+	"testing"
+	"testing/fstest"
+
+	"github.com/xuri/excelize/v2"
+)
+
+// baseCSV is a valid schedule as CSV text, sheet by sheet.
+func baseCSV() fstest.MapFS {
+	return fstest.MapFS{
+		"company.csv":      {Data: []byte("key,value\ncompany_name,Pebblebrook Audio\nvaluation_date,2026-09-30\n")},
+		"assumptions.csv":  {Data: []byte("key,value,source\nvolatility,45%,peers\n")},
+		"grants.csv":       {Data: []byte("grant_id,grant_date,shares,strike,term_years,vest_months,cliff_months\nA-1,2025-01-15,1200,2.00,10,48,12\n")},
+		"share_prices.csv": {Data: []byte("date,price\n2025-01-01,2.00\n")},
+		"rates.csv":        {Data: []byte("curve_date,tenor_years,rate\n2025-01-01,5,4%\n")},
+	}
+}
+
+func readMap(t *testing.T, fs fstest.MapFS) (*Schedule, *Report) {
+	t.Helper()
+	s, rep, err := ReadCSVDir(fs)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return s, rep
+}
+
+func TestReadHeadersLoose(t *testing.T) {
+	fs := baseCSV()
+	// Other order, other case, spaces instead of underscores, an unknown
+	// column, empty rows, thousands separators, percentages as text, a
+	// sheet file named with spaces and capitals.
+	fs["grants.csv"] = &fstest.MapFile{Data: []byte("Shares, Grant ID ,GRANT_DATE,Strike,Term Years,Vest Months,Cliff Months,Notes\n\"1,200\",A-1,2025-01-15,2.00,10,48,12,first hire\n,,,,,,,\n")}
+	delete(fs, "share_prices.csv")
+	fs["Share Prices.CSV"] = &fstest.MapFile{Data: []byte("Date,Price\n2025-01-01,2.00\n")}
+	s, rep := readMap(t, fs)
+	if !rep.OK() {
+		t.Fatalf("problems:\n%s", problems(rep))
+	}
+	if len(s.Grants) != 1 || s.Grants[0].Shares != 1200 || s.Grants[0].ID != "A-1" || s.Assumptions.Volatility != 0.45 || s.Rates[0].Rate != 0.04 {
+		t.Fatalf("read %+v", s)
+	}
+	if !s.Grants[0].ExpiryDate.Equal(d("2035-01-15")) {
+		t.Errorf("term 10 years gives expiry %v", s.Grants[0].ExpiryDate)
+	}
+	if got := problems(rep); !strings.Contains(got, `warning: Grants!H1: "Notes" is not a column grantworth reads; it is ignored`) {
+		t.Errorf("no warning for the unknown column:\n%s", got)
+	}
+	if g := s.Grants[0]; g.Refs["shares"].String() != "Grants!A2" || g.Refs["grant_id"].String() != "Grants!B2" {
+		t.Errorf("refs %v", g.Refs)
+	}
+	if !s.Company.PeriodStart.Equal(d("2026-07-01")) || s.Company.Currency != "USD" {
+		t.Errorf("company defaults %+v", s.Company)
+	}
+}
+
+func TestReadCollectsEveryProblem(t *testing.T) {
+	fs := baseCSV()
+	fs["grants.csv"] = &fstest.MapFile{Data: []byte("grant_id,grant_date,shares,strike,term_years\nA-1,2025/01/15,x,-1,10\nA-2,2025-01-15,10,,10\nA-2,2025-01-16,10,1,10\n")}
+	_, rep := readMap(t, fs)
+	got := problems(rep)
+	for _, w := range []string{
+		`Grants!B2 (grant_date): "2025/01/15" is not an ISO date`,
+		`Grants!C2 (shares): "x" is not a number`,
+		"Grants!D3 (strike): is required for option A-2",
+		`Grants!A4 (grant_id): "A-2" is also the grant_id of row 3 (A3)`,
+	} {
+		if !strings.Contains(got, w) {
+			t.Errorf("missing %q in\n%s", w, got)
+		}
+	}
+	var ce *CellError
+	if !errors.As(rep.Err(), &ce) || !errors.Is(rep.Err(), ErrAmbiguousDate) {
+		t.Errorf("Report.Err does not unwrap to the cell errors: %v", rep.Err())
+	}
+}
+
+func TestReadWarnings(t *testing.T) {
+	fs := baseCSV()
+	// Strike below the price at grant, a volatility of 300%, and a grant
+	// more than twelve months after the latest valuation.
+	fs["assumptions.csv"] = &fstest.MapFile{Data: []byte("key,value\nvolatility,3\n")}
+	fs["grants.csv"] = &fstest.MapFile{Data: []byte("grant_id,grant_date,shares,strike,term_years\nA-1,2025-01-15,100,1.50,10\nA-2,2026-03-01,100,2,10\n")}
+	_, rep := readMap(t, fs)
+	if !rep.OK() {
+		t.Fatalf("errors:\n%s", problems(rep))
+	}
+	got := problems(rep)
+	for _, w := range []string{
+		`Grants!D2 (strike): "1.5" is below the share price 2 at grant (Share Prices!B2)`,
+		`Assumptions!B2 (volatility): "3" is outside 5%–200%`,
+		`Grants!B3 (grant_date): "2026-03-01" is more than 12 months after the latest share valuation, 2025-01-01 (Share Prices!A2)`,
+	} {
+		if !strings.Contains(got, w) {
+			t.Errorf("missing warning %q in\n%s", w, got)
+		}
+	}
+}
+
+func TestReadXLSXCells(t *testing.T) {
+	// A workbook typed by hand: date cells, a percent cell, text numbers, a
+	// formula with a saved value, a 1904 date system.
+	s := smallSchedule()
+	var buf bytes.Buffer
+	if err := WriteXLSX(&buf, s); err != nil {
+		t.Fatal(err)
+	}
+	f, err := excelize.OpenReader(&buf)
+	if err != nil {
+		t.Fatal(err)
+	}
+	must := func(err error) {
+		if err != nil {
+			t.Fatal(err)
+		}
+	}
+	must(f.SetCellStr("Grants", "E2", "4,800"))      // text number with a separator
+	must(f.SetCellStr("Grants", "D2", "2024-01-31")) // ISO text date
+	must(f.SetCellFormula("Grants", "F2", "5/2"))
+	must(f.SetCellValue("Grants", "F2", 2.5)) // the saved value
+	must(f.SetCellFormula("Grants", "F2", "5/2"))
+	must(f.SetCellStr("Assumptions", "B2", "55%"))
+	var out bytes.Buffer
+	must(f.Write(&out))
+	got, rep, err := ReadXLSX(bytes.NewReader(out.Bytes()), int64(out.Len()))
+	if err != nil || !rep.OK() {
+		t.Fatalf("%v\n%s", err, problems(rep))
+	}
+	g := got.Grants[0]
+	if g.Shares != 4800 || g.Strike != 2.5 || !g.GrantDate.Equal(d("2024-01-31")) || got.Assumptions.Volatility != 0.55 {
+		t.Errorf("read %+v vol %v", g, got.Assumptions.Volatility)
+	}
+}
+
+func TestReadLimits(t *testing.T) {
+	_, _, err := ReadXLSX(bytes.NewReader(nil), MaxFileSize+1)
+	if !errors.Is(err, ErrTooLarge) {
+		t.Errorf("oversized workbook: %v", err)
+	}
+	fs := baseCSV()
+	fs["grants.csv"] = &fstest.MapFile{Data: append([]byte("grant_id,"), bytes.Repeat([]byte("x"), MaxFileSize)...)}
+	_, rep := readMap(t, fs)
+	if !strings.Contains(problems(rep), "Grants: grants.csv is more than") {
+		t.Errorf("oversized CSV:\n%s", problems(rep))
+	}
+	wide := "grant_id" + strings.Repeat(",", MaxColumns) + "x\n"
+	fs = baseCSV()
+	fs["grants.csv"] = &fstest.MapFile{Data: []byte(wide)}
+	_, rep = readMap(t, fs)
+	if !strings.Contains(problems(rep), "row has cells beyond column 256") {
+		t.Errorf("wide row:\n%s", problems(rep))
+	}
+}
+
+func TestColumnsMarkdown(t *testing.T) {
+	md := ColumnsMarkdown()
+	for _, sh := range Sheets {
+		if !strings.Contains(md, "### "+sh.Name) {
+			t.Errorf("no section for %s", sh.Name)
+		}
+		for _, c := range sh.Columns {
+			if !strings.Contains(md, "| `"+c.Key+"` |") {
+				t.Errorf("no row for %s.%s", sh.Name, c.Key)
+			}
+		}
+	}
+}
+
+func TestTemplate(t *testing.T) {
+	var buf bytes.Buffer
+	if err := WriteXLSX(&buf, nil); err != nil {
+		t.Fatal(err)
+	}
+	data := buf.Bytes()
+	f, err := excelize.OpenReader(bytes.NewReader(data))
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := []string{"Company", "Assumptions", "Grants", "Vesting", "Share Prices", "Rates", "Events", "About"}
+	if got := f.GetSheetList(); strings.Join(got, "|") != strings.Join(want, "|") {
+		t.Errorf("sheets %v, want %v", got, want)
+	}
+	dvs, err := f.GetDataValidations("Grants")
+	if err != nil || len(dvs) < 4 {
+		t.Errorf("Grants has %d drop-down lists (%v), want instrument, vest_every_months, classification, exercise_style", len(dvs), err)
+	}
+	about, _ := f.GetRows("About")
+	text := ""
+	for _, r := range about {
+		text += strings.Join(r, "\t") + "\n"
+	}
+	if !strings.Contains(text, "not an audit opinion") || !strings.Contains(text, "post_vesting_exit_rate") {
+		t.Errorf("About sheet lacks the caution or a column:\n%s", text)
+	}
+	// The date column carries a date format.
+	st, _ := f.GetCellStyle("Grants", "D2")
+	if s, _ := f.GetStyle(st); s == nil || s.CustomNumFmt == nil || *s.CustomNumFmt != "yyyy-mm-dd" {
+		t.Errorf("grant_date D2 style %+v", s)
+	}
+	// A blank template reads with only the required company values missing.
+	_, rep, err := ReadXLSX(bytes.NewReader(data), int64(len(data)))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(rep.Errors) != 2 || len(rep.Warnings) != 0 {
+		t.Errorf("blank template:\n%s", problems(rep))
+	}
+}
+
+func FuzzReadCSV(f *testing.F) {
+	f.Add([]byte("grant_id,grant_date,shares,strike,term_years\nA-1,2025-01-15,100,1.50,10\n"))
+	f.Add([]byte("\ufeffgrant_id;shares\n"))
+	f.Add([]byte("grant_id,holder\n\"a\nb\",\"c,d\"\n\n\nx"))
+	f.Add([]byte("grant_id,grant_date\n\"unterminated\n"))
+	f.Fuzz(func(t *testing.T, data []byte) {
+		fs := baseCSV()
+		fs["grants.csv"] = &fstest.MapFile{Data: data}
+		s, rep, err := ReadCSVDir(fs)
+		if err != nil {
+			t.Fatal(err)
+		}
+		for _, e := range rep.Errors {
+			if e.Sheet == "" || e.Error() == "" {
+				t.Fatalf("problem without a sheet: %#v", e)
+			}
+		}
+		for _, g := range s.Grants {
+			var sum int64
+			for _, tr := range s.Tranches(g) {
+				sum += tr.Shares
+			}
+			if g.Shares > 0 && sum != g.Shares {
+				t.Fatalf("tranches of %+v add up to %d", g, sum)
+			}
+		}
+	})
+}
+
+func FuzzReadXLSX(f *testing.F) {
+	var buf bytes.Buffer
+	if err := WriteXLSX(&buf, smallSchedule()); err != nil {
+		f.Fatal(err)
+	}
+	f.Add(buf.Bytes())
+	if b, err := os.ReadFile("testdata/malformed/xlsx-formula-without-value/schedule.xlsx"); err == nil {
+		f.Add(b)
+	}
+	f.Add([]byte("PK\x03\x04"))
+	f.Add([]byte{})
+	f.Fuzz(func(t *testing.T, data []byte) {
+		_, rep, err := ReadXLSX(bytes.NewReader(data), int64(len(data)))
+		if err != nil {
+			var ce *CellError
+			if !errors.As(err, &ce) {
+				t.Fatalf("error %v is not a *CellError", err)
+			}
+			return
+		}
+		for _, e := range rep.Errors {
+			if e.Sheet == "" {
+				t.Fatalf("problem without a sheet: %#v", e)
+			}
+		}
+	})
+}
