@@ -30,7 +30,10 @@ const (
 )
 
 func validate(s *Schedule, skip map[string]bool) Report {
-	v := &validator{s: s, skip: skip}
+	v := &validator{s: s, skip: skip, byID: make(map[string]int, len(s.Grants))}
+	for i := len(s.Grants) - 1; i >= 0; i-- {
+		v.byID[s.Grants[i].ID] = i // the first row of an id wins
+	}
 	v.company()
 	v.assumptions()
 	v.prices()
@@ -44,7 +47,16 @@ func validate(s *Schedule, skip map[string]bool) Report {
 type validator struct {
 	s    *Schedule
 	skip map[string]bool
+	byID map[string]int // grant index by id
 	rep  Report
+}
+
+func (v *validator) grant(id string) (Grant, bool) {
+	i, ok := v.byID[id]
+	if !ok {
+		return Grant{}, false
+	}
+	return v.s.Grants[i], true
 }
 
 func num(f float64) string { return strconv.FormatFloat(f, 'g', -1, 64) }
@@ -328,7 +340,7 @@ func (v *validator) vesting() {
 		if r.Shares <= 0 {
 			v.rep.errf(s.cell(SheetVesting, "shares", r.Row, nil), "shares", strconv.FormatInt(r.Shares, 10), ErrRange, "must be more than zero")
 		}
-		g, ok := s.Grant(r.GrantID)
+		g, ok := v.grant(r.GrantID)
 		if !ok {
 			if !v.skip[r.GrantID] {
 				v.rep.errf(s.cell(SheetVesting, "grant_id", r.Row, nil), "grant_id", r.GrantID, ErrUnknown, "is not a grant_id of the Grants sheet")
@@ -349,7 +361,7 @@ func (v *validator) vesting() {
 		if v.skip[id] {
 			continue
 		}
-		g, _ := s.Grant(id)
+		g, _ := v.grant(id)
 		if su := sums[id]; su.shares != g.Shares {
 			first, last := su.rows[0], su.rows[len(su.rows)-1]
 			v.rep.errf(s.cell(SheetVesting, "shares", first, nil), "shares", "", ErrInconsistent,
@@ -369,7 +381,7 @@ func (v *validator) events() {
 			v.rep.errf(ref("shares"), "shares", strconv.FormatInt(e.Shares, 10), ErrRange, "must be more than zero")
 			continue
 		}
-		g, ok := s.Grant(e.GrantID)
+		g, ok := v.grant(e.GrantID)
 		if !ok {
 			if !v.skip[e.GrantID] {
 				v.rep.errf(ref("grant_id"), "grant_id", e.GrantID, ErrUnknown, "is not a grant_id of the Grants sheet")
@@ -392,7 +404,7 @@ func (v *validator) events() {
 		if v.skip[id] {
 			continue
 		}
-		g, _ := s.Grant(id)
+		g, _ := v.grant(id)
 		evs := byGrant[id]
 		sort.SliceStable(evs, func(i, j int) bool { return evs[i].Date.Before(evs[j].Date) })
 		ts := s.tranchesBeforeEvents(g)

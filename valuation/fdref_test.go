@@ -27,27 +27,28 @@ func fdEmployee(tm Terms, mk Market, nx, nt int) float64 {
 	dx := 1 / float64(nx)
 	hasBar := tm.ExerciseMultiple > 0
 	xH := math.Inf(1)
+	anchor := x0 // a grid line: the barrier if there is one, else the spot
 	if hasBar {
 		xH = math.Log(tm.ExerciseMultiple * K)
-		if d := math.Abs(xH - x0); d > dx {
-			dx = d / math.Round(d/dx)
-		}
+		anchor = xH
 	}
-	j0 := int(math.Ceil(span / dx))
+	lo := x0 - span
 	top := x0 + span
 	if hasBar {
 		top = math.Max(top, xH+3*sig*math.Sqrt(T))
+		lo = math.Min(lo, xH-span)
 	}
-	J := j0 + int(math.Ceil((top-x0)/dx))
+	ja := int(math.Ceil((anchor - lo) / dx)) // index of the anchor
+	J := ja + int(math.Ceil((top-anchor)/dx))
 	xs := make([]float64, J+1)
 	S := make([]float64, J+1)
 	for j := range xs {
-		xs[j] = x0 + float64(j-j0)*dx
+		xs[j] = anchor + float64(j-ja)*dx
 		S[j] = math.Exp(xs[j])
 	}
 	jH := J + 1
 	if hasBar {
-		jH = j0 + int(math.Round((xH-x0)/dx))
+		jH = ja
 	}
 	val := make([]float64, J+1)
 	for j := range val {
@@ -148,5 +149,23 @@ func fdEmployee(tm Terms, mk Market, nx, nt int) float64 {
 	if hasBar && V == 0 && S0 >= tm.ExerciseMultiple*K {
 		return S0 - K
 	}
-	return val[j0]
+	// Cubic Lagrange interpolation at the spot, from points on the spot's
+	// side of the barrier when the tranche is vested now (the value has a
+	// kink there).
+	j := int(math.Floor((x0 - xs[0]) / dx))
+	st := j - 1
+	if hasBar && V == 0 {
+		st = min(st, jH-3)
+	}
+	v := 0.0
+	for a := st; a < st+4; a++ {
+		w := 1.0
+		for b := st; b < st+4; b++ {
+			if b != a {
+				w *= (x0 - xs[b]) / (xs[a] - xs[b])
+			}
+		}
+		v += w * val[a]
+	}
+	return v
 }

@@ -401,3 +401,28 @@ func TestLatticeAutoRefinesForProbability(t *testing.T) {
 		t.Errorf("got %v at %d steps, BSM %v", r.Value, r.Steps, want)
 	}
 }
+
+// A barrier on or next to the spot (S0 = M·K, or within rounding of it), vested
+// now or later: auto mode must neither hang nor lose accuracy. Vested now with
+// S0 ≥ M·K the holder exercises at once: S0 − K exactly (DESIGN §3).
+func TestLatticeAutoBarrierAtSpot(t *testing.T) {
+	mk := Market{Spot: 20, VolAnnual: 0.4, Curve: FlatCurve(0.03)}
+	for _, M := range []float64{2, 2 * (1 + 1e-13), 2 * (1 - 1e-13)} {
+		r, err := Lattice(Terms{Strike: 10, YearsToExpiry: 5, ExerciseMultiple: M, ExitRate: 0.1}, mk, LatticeOptions{})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if M <= 2 && math.Abs(r.Value-10) > 1e-9 {
+			t.Errorf("multiple %v, vested now at the barrier: %v, want S0 − K = 10", M, r.Value)
+		}
+		r, err = Lattice(Terms{Strike: 10, YearsToExpiry: 5, YearsToVest: 1, ExerciseMultiple: M, ExitRate: 0.1}, mk, LatticeOptions{})
+		if err != nil {
+			t.Fatal(err)
+		}
+		tm := Terms{Strike: 10, YearsToExpiry: 5, YearsToVest: 1, ExerciseMultiple: M, ExitRate: 0.1}
+		ref := fdEmployee(tm, mk, 300, 150)
+		if math.Abs(r.Value-ref) > 5e-4*ref {
+			t.Errorf("multiple %v, vesting in a year: auto %v ± %v, FD %v", M, r.Value, r.ErrorEstimate, ref)
+		}
+	}
+}
