@@ -829,10 +829,13 @@ func Expense(awards []AwardCost, policy ExpensePolicy, periodStart, periodEnd ti
 
 // policyNotes explains the policy's standing under each standard.
 func policyNotes(pol ExpensePolicy, ledgers []*awardLedger) []string {
-	graded := false
+	graded, warrants := false, false
 	for _, l := range ledgers {
 		if len(l.tr) > 1 {
 			graded = true
+		}
+		if l.in.Grant.Instrument == Warrant {
+			warrants = true
 		}
 	}
 	var notes []string
@@ -841,6 +844,9 @@ func policyNotes(pol ExpensePolicy, ledgers []*awardLedger) []string {
 	}
 	if pol.Forfeitures == AsOccur {
 		notes = append(notes, "Accounting for forfeitures as they occur is an election under ASC 718 (718-10-35-3); IFRS 2 requires an estimate of the awards expected to vest.")
+	}
+	if warrants {
+		notes = append(notes, "Warrants are attributed like awards for goods or services. A warrant issued in a financing (to a lender or an investor) is not share-based compensation: its issue-date value belongs with the financing (a debt discount or an issue cost; ASC 470, ASC 815, IAS 32), and only its remeasurement, for a liability, belongs in profit or loss.")
 	}
 	notes = append(notes, "A cancellation is treated as without a replacement award; modifications and replacement awards are not modelled.")
 	return notes

@@ -316,9 +316,17 @@ func (v *validator) marketAt(g Grant, ref func(string) Ref) {
 	} else if g.Strike > 0 && g.Instrument != RSU && g.Strike < *g.SharePrice && md.Equal(g.GrantDate) {
 		v.rep.warnf(ref("strike"), "strike", num(g.Strike), ErrRange, "is below the share price %s at grant (%s): the award is in the money", num(*g.SharePrice), ref("share_price").Cell)
 	}
-	if ok && AddMonths(p.Date, StaleMonths).Before(g.GrantDate) {
-		v.rep.warnf(ref("grant_date"), "grant_date", isoDay(g.GrantDate), ErrRange,
+	if ok && g.SharePrice == nil && AddMonths(p.Date, StaleMonths).Before(md) {
+		r, key := ref("grant_date"), "grant_date"
+		if !md.Equal(g.GrantDate) { // a liability warrant, measured at the valuation date
+			r, key = s.cell(SheetCompany, "valuation_date", 0, s.Company.Refs), "valuation_date"
+		}
+		v.rep.warnf(r, key, isoDay(md), ErrRange,
 			"is more than %d months after the latest share valuation, %s (%s): the valuation may be stale", StaleMonths, isoDay(p.Date), s.cell(SheetSharePrices, "date", p.Row, nil))
+	}
+	if g.Instrument == Warrant && g.Classification == Liability && !g.ExpiryDate.IsZero() && !md.Before(g.ExpiryDate) {
+		v.rep.errf(ref("expiry_date"), "expiry_date", isoDay(g.ExpiryDate), ErrRange,
+			"is on or before the valuation date %s: liability-classified warrant %s is remeasured at the valuation date but has expired; leave it out of the schedule of outstanding awards", isoDay(md), g.ID)
 	}
 	if g.Instrument != RSU {
 		if _, ok := s.curveAt(md); !ok {
