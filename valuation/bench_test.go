@@ -80,3 +80,23 @@ func BenchmarkLatticeAuto(b *testing.B) {
 		})
 	}
 }
+
+// A ledger slice: 100 grants of 48 monthly tranches in auto mode on all
+// cores; ms/grant scales to the 10,000-grant target of DESIGN §5.
+func BenchmarkRunJobsAuto(b *testing.B) {
+	tm, mk := benchGrant()
+	jobs := make([]Job, 100)
+	for i := range jobs {
+		t := tm
+		t.Strike = 8 + 0.1*float64(i)
+		m := mk
+		m.VolAnnual = 0.3 + 0.004*float64(i)
+		jobs[i] = Job{Terms: t, VestYears: monthly(48), Market: m}
+	}
+	b.ReportAllocs()
+	for b.Loop() {
+		rs := RunJobs(jobs, 0, nil)
+		latticeSink += rs[0].Tranches[0].Value
+	}
+	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/float64(len(jobs))/1e6, "ms/grant")
+}
