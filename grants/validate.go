@@ -2,6 +2,7 @@ package grants
 
 import (
 	"fmt"
+	"math"
 	"sort"
 	"strconv"
 	"strings"
@@ -177,6 +178,10 @@ func (v *validator) rates() {
 			}
 			if p.Compounding == "par-semiannual" {
 				par++
+				if h := p.TenorYears * 2; p.TenorYears >= 0.5 && math.Abs(h-math.Round(h)) > 1e-9 {
+					v.rep.errf(ref, "tenor_years", num(p.TenorYears), ErrRange,
+						"is not a whole number of half-years, as a par-semiannual yield needs (semiannual coupons); below half a year any tenor is a bill")
+				}
 			} else {
 				other++
 			}
@@ -220,7 +225,7 @@ func (v *validator) grants() {
 		case g.Strike < 0:
 			v.rep.errf(ref("strike"), "strike", num(g.Strike), ErrRange, "must be zero or more")
 		case g.Instrument == RSU && hasStrike && g.Strike != 0:
-			v.rep.warnf(ref("strike"), "strike", num(g.Strike), ErrInconsistent, "an RSU has no strike; it is ignored")
+			v.rep.warnf(ref("strike"), "strike", num(g.Strike), ErrInconsistent, "is ignored: an RSU has no strike")
 		}
 		if g.Instrument != RSU {
 			if g.ExpiryDate.IsZero() {
