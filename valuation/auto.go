@@ -1,6 +1,7 @@
 package valuation
 
 import (
+	"errors"
 	"math"
 )
 
@@ -66,6 +67,19 @@ func latticeAuto(t Terms, vestYears []float64, m Market, conv Convention) ([]Res
 		return nil, inputErr("no step count keeps the up-probability in (0, 1): volatility %v is too low for the rates of the curve (forward up to %v) and dividend yield %v",
 			m.VolAnnual, maxForward(t, m), m.DividendYield)
 	}
+	for {
+		rs, err := latticeAutoSteps(t, vestYears, m, conv, nmin)
+		var pe *probError
+		if errors.As(err, &pe) && 2*pe.steps <= MaxLatticeSteps {
+			// The probe of the curve missed a steep forward: refine.
+			nmin = 2 * pe.steps
+			continue
+		}
+		return rs, err
+	}
+}
+
+func latticeAutoSteps(t Terms, vestYears []float64, m Market, conv Convention, nmin int) ([]Result, error) {
 	plan := autoSteps(t, m, nmin)
 	n := len(vestYears)
 	vals := make([][3]float64, n)
@@ -135,6 +149,9 @@ func (w *work) vestPass(vestYears []float64, kb int, vals, lives []float64) {
 	par := -1
 	if kb != math.MaxInt && kb <= N {
 		par = kb & 1
+		if w.conv.VestNodeUnvested {
+			par ^= 1 // the layer read is one after the vest step
+		}
 	}
 	steps := make([]int, 0, 2*len(vestYears))
 	fr := make([]float64, len(vestYears))

@@ -266,12 +266,13 @@ func (w *work) build(t Terms, m Market, n int, conv Convention, smooth bool) err
 		w.price[k+n] = s
 	}
 	// exh[par][m] = (S−K)⁺ at level k with k+n = 2m+par.
+	lnK := math.Log(K)
 	for idx := 0; idx <= 2*n; idx++ {
 		e := w.sign * (w.price[idx] - K)
 		if e < 0 {
 			e = 0
 		}
-		if x := w.lnS0 + float64(idx-n)*h; smooth && K > 0 && math.Abs(x-math.Log(K)) < h {
+		if x := w.lnS0 + float64(idx-n)*h; smooth && K > 0 && math.Abs(x-lnK) < h {
 			e = cellAverageCall(x, h, K)
 		}
 		w.exh[idx&1][idx>>1] = e

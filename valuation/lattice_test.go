@@ -160,6 +160,23 @@ func TestLatticeBenningaTable(t *testing.T) {
 	if got := refBSMCall(50*math.Exp(-0.025*10), 50, 10, 0.05, 0, 0.35); math.Abs(got-19.1842) > tol {
 		t.Errorf("BSM on S·e^(−qT): got %.6f, Benninga 19.1842", got)
 	}
+	// Auto mode under the book's conventions converges to their continuous
+	// limit: exits at intensity e before and after vesting, so the value is
+	// e^(−e·V) (survive to vesting; exits are independent of the price)
+	// times the default-convention value with λ = e, which the Crank-Nicolson
+	// reference gives.
+	lim := tm
+	lim.ExitRate = 1 - math.Exp(-0.10) // λ = −ln(1−e') = 0.10
+	f1, f2 := fdEmployee(lim, mk, 120, 60), fdEmployee(lim, mk, 240, 120)
+	limit := math.Exp(-0.10*3) * (f2 + (f2-f1)/3)
+	conv.StepsPerYear = false
+	auto, err := Lattice(tm, mk, LatticeOptions{Convention: conv})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if e := math.Abs(auto.Value - limit); e > 5e-4*limit || e > auto.ErrorEstimate {
+		t.Errorf("book conventions, auto: %.6f ± %.2g, continuous limit %.6f (FD), tol 5e-4 relative", auto.Value, auto.ErrorEstimate, limit)
+	}
 	// Same inputs, our defaults, auto mode: reported in the issue note. The
 	// converged value must lie within its error estimate of the 200-a-year
 	// raw tree's neighbourhood and below the BSM bound.
