@@ -47,7 +47,7 @@ type Column struct {
 	Unit     string   // e.g. "shares", "currency per share", "years", "annual"
 	Required bool     // needed on every row (or, on a key-value sheet, needed at all)
 	Need     string   // in words: "required", "optional", "options and warrants"
-	Choices  []string // for KindChoice
+	Choices  []string // for KindChoice (and the allowed whole numbers of a KindInt)
 	Default  string   // in words, when optional
 	Help     string   // plain words for the About sheet
 }
@@ -198,7 +198,7 @@ func ColumnsMarkdown() string {
 		fmt.Fprintf(&b, "| %s | kind | unit | needed | meaning |\n|---|---|---|---|---|\n", head)
 		for _, c := range sh.Columns {
 			kind := c.Kind.String()
-			if c.Kind == KindChoice {
+			if len(c.Choices) > 0 {
 				kind = "one of " + strings.Join(quoteAll(c.Choices), ", ")
 			}
 			need := c.Need

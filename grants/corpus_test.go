@@ -76,3 +76,15 @@ func TestMalformedCorpus(t *testing.T) {
 		})
 	}
 }
+
+// The schedule every malformed case starts from reads with no problem, so
+// each case's errors come from what it breaks.
+func TestCorpusBaseIsValid(t *testing.T) {
+	_, rep, err := ReadFile(filepath.Join("testdata", "valid", "schedule"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(rep.Errors)+len(rep.Warnings) != 0 {
+		t.Fatalf("base problems:\n%s", problems(rep))
+	}
+}

@@ -26,7 +26,9 @@
 //   - Percentages: 0.45, a cell formatted 45% (which stores 0.45), or the
 //     text "45%".
 //   - A formula is read by the value the spreadsheet saved with it; a formula
-//     with no saved value is an error naming the cell.
+//     with no saved value is an error naming the cell. (To find those, a
+//     workbook that holds any formula has its sheets loaded whole rather
+//     than streamed; one without formulas is streamed row by row.)
 //
 // A CSV folder holds one UTF-8 file per sheet (grants.csv, company.csv, ...;
 // an optional byte-order mark is dropped; quoted fields may hold commas and

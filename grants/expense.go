@@ -312,6 +312,10 @@ type awardLedger struct {
 	remeasN   []int           // their day numbers
 	// day numbers of the grant date and the service start
 	grantN, startN int
+
+	// scratch for atInto
+	bufValue, bufLia, bufComp []float64
+	bufCounts                 []trancheCounts
 }
 
 // onOrBefore reports a <= b by calendar day.
@@ -620,11 +624,19 @@ func (s snapshot) compTotal() float64 {
 func (s snapshot) fvChange() float64 { return s.liability + s.settled - s.compTotal() }
 
 func (l *awardLedger) at(pol ExpensePolicy, dt, knownt time.Time) snapshot {
+	return l.atInto(pol, dt, knownt, make([]float64, len(l.tr)))
+}
+
+// atInto is at, writing the cumulative cost by tranche into comp; the
+// other buffers are the ledger's own, reused from call to call.
+func (l *awardLedger) atInto(pol ExpensePolicy, dt, knownt time.Time, comp []float64) snapshot {
 	d, known := dayNum(dt), dayNum(knownt)
 	n := len(l.tr)
-	s := snapshot{comp: make([]float64, n)}
-	value := make([]float64, n)
-	counts := make([]trancheCounts, n)
+	s := snapshot{comp: comp}
+	if len(l.bufValue) < n {
+		l.bufValue, l.bufLia, l.bufCounts = make([]float64, n), make([]float64, n), make([]trancheCounts, n)
+	}
+	value, counts := l.bufValue[:n], l.bufCounts[:n]
 	for i := range l.tr {
 		counts[i] = l.tr[i].countsN(d)
 		value[i] = l.tr[i].FairValue * float64(counts[i].live(l.tr[i].Tranche.Shares))
@@ -644,7 +656,7 @@ func (l *awardLedger) at(pol ExpensePolicy, dt, knownt time.Time) snapshot {
 			}
 		}
 	}
-	lia := make([]float64, n)
+	lia := l.bufLia[:n]
 	l.attribute(pol, value, d, known, lia)
 	for _, v := range lia {
 		s.liability += v
@@ -801,18 +813,22 @@ func Expense(awards []AwardCost, policy ExpensePolicy, periodStart, periodEnd ti
 		rep.Cumulative += ge.Cumulative
 		rep.Unrecognized += ge.Unrecognized
 
-		prev := snapshot{comp: make([]float64, len(l.tr))}
+		l.bufComp = make([]float64, len(l.tr))
+		var prevComp, prevFV float64
 		for k := range bounds {
-			cur := l.at(pol, bounds[k].End, bounds[k].End)
-			bounds[k].Amount += cur.compTotal() - prev.compTotal()
+			cur := l.atInto(pol, bounds[k].End, bounds[k].End, l.bufComp)
+			c := cur.compTotal()
+			bounds[k].Amount += c - prevComp
 			if l.liability {
-				bounds[k].FairValueChange += cur.fvChange() - prev.fvChange()
+				fv := cur.fvChange()
+				bounds[k].FairValueChange += fv - prevFV
+				prevFV = fv
 			}
-			prev = cur
+			prevComp = c
 		}
 		prevTotal := s1.compTotal()
 		for k := range rep.Forecast {
-			cur := l.at(pol, rep.Forecast[k].End, periodEnd).compTotal()
+			cur := l.atInto(pol, rep.Forecast[k].End, periodEnd, l.bufComp).compTotal()
 			rep.Forecast[k].Amount += cur - prevTotal
 			prevTotal = cur
 		}
@@ -829,10 +845,13 @@ func Expense(awards []AwardCost, policy ExpensePolicy, periodStart, periodEnd ti
 
 // policyNotes explains the policy's standing under each standard.
 func policyNotes(pol ExpensePolicy, ledgers []*awardLedger) []string {
-	graded := false
+	graded, warrants := false, false
 	for _, l := range ledgers {
 		if len(l.tr) > 1 {
 			graded = true
+		}
+		if l.in.Grant.Instrument == Warrant {
+			warrants = true
 		}
 	}
 	var notes []string
@@ -841,6 +860,9 @@ func policyNotes(pol ExpensePolicy, ledgers []*awardLedger) []string {
 	}
 	if pol.Forfeitures == AsOccur {
 		notes = append(notes, "Accounting for forfeitures as they occur is an election under ASC 718 (718-10-35-3); IFRS 2 requires an estimate of the awards expected to vest.")
+	}
+	if warrants {
+		notes = append(notes, "Warrants are attributed like awards for goods or services. A warrant issued in a financing (to a lender or an investor) is not share-based compensation: its issue-date value belongs with the financing (a debt discount or an issue cost; ASC 470, ASC 815, IAS 32), and only its remeasurement, for a liability, belongs in profit or loss.")
 	}
 	notes = append(notes, "A cancellation is treated as without a replacement award; modifications and replacement awards are not modelled.")
 	return notes

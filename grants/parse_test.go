@@ -18,10 +18,12 @@ func TestParseDate(t *testing.T) {
 		{"2026-09-30T00:00:00", "2026-09-30", nil},
 		{"2026-09-30 00:00:00", "2026-09-30", nil},
 		{"2026-09-30T00:00:00Z", "2026-09-30", nil},
-		// Excel serials (1900 date system): 45200 is 2023-10-01, 1 is
-		// 1900-01-01, 61 is 1900-03-01 (common practice: day 60 is the
-		// 29 February 1900 spreadsheets count that never was).
+		// Excel serials (1900 date system). Expected dates computed with
+		// Python's datetime as date(1899, 12, 30) + timedelta(n) for n >= 61
+		// and date(1899, 12, 31) + timedelta(n) below (common practice:
+		// spreadsheets count a 29 February 1900 that never was, day 60).
 		{"45200", "2023-10-01", nil},
+		{"46295", "2026-09-30", nil},
 		{"45200.75", "2023-10-01", nil},
 		{"1", "1900-01-01", nil},
 		{"59", "1900-02-28", nil},
@@ -55,7 +57,8 @@ func TestParseDate(t *testing.T) {
 }
 
 func TestParseDate1904(t *testing.T) {
-	// In the 1904 date system day 0 is 1904-01-01 (common practice).
+	// In the 1904 date system day 0 is 1904-01-01 (common practice;
+	// Python: date(1904, 1, 1) + timedelta(1) = 1904-01-02).
 	got, err := parseDate("1", true)
 	if err != nil || !got.Equal(d("1904-01-02")) {
 		t.Errorf("1904 serial 1 = %v, %v; want 1904-01-02", got, err)

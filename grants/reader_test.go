@@ -3,6 +3,7 @@ package grants
 import (
 	"bytes"
 	"errors"
+	"math/rand/v2"
 	"os"
 	"strings"
 	"testing"
@@ -268,4 +269,69 @@ func FuzzReadXLSX(f *testing.F) {
 			}
 		}
 	})
+}
+
+func TestReadMoreWarnings(t *testing.T) {
+	fs := baseCSV()
+	fs["company.csv"] = &fstest.MapFile{Data: []byte("key,value\ncompany_name,Pebblebrook Audio\nvaluation_date,2026-09-30\nauditor,someone\n")}
+	fs["grants.csv"] = &fstest.MapFile{Data: []byte("grant_id,instrument,grant_date,shares,strike,expiry_date,term_years,vest_start,vest_months,classification\n" +
+		"A-1,option,2025-01-15,1200,2.00,2035-01-15,5,2025-01-15,48,equity\n" +
+		"A-2,rsu,2025-01-15,100,3,,,2026-06-01,12,\n" +
+		"A-3,option,2026-11-02,100,2.00,2036-11-02,,,0,\n")}
+	fs["events.csv"] = &fstest.MapFile{Data: []byte("grant_id,date,event,shares\nA-1,2026-02-01,forfeited,800\nA-3,2026-12-01,exercised,10\n")}
+	fs["notes.csv"] = &fstest.MapFile{Data: []byte("anything\n")}
+	_, rep := readMap(t, fs)
+	if !rep.OK() {
+		t.Fatalf("errors:\n%s", problems(rep))
+	}
+	got := problems(rep)
+	for _, w := range []string{
+		`warning: notes: sheet is not one grantworth reads; it is ignored`,
+		`warning: Company!A4 (key): "auditor" is not a key grantworth reads`,
+		`warning: Grants!G2 (term_years): "5" disagrees with expiry_date 2035-01-15 (F2); expiry_date is used`,
+		`warning: Grants!J2 (classification): "equity" applies to warrants only`,
+		`warning: Grants!E3 (strike): "3" is ignored: an RSU has no strike`,
+		`warning: Grants!H3 (vest_start): "2026-06-01" is more than a year after grant_date 2025-01-15`,
+		`warning: Grants!C4 (grant_date): "2026-11-02" is after the valuation date 2026-09-30`,
+		// 2026-02-01: 12 months of 48 vested (300 of 1200), 900 unvested; 800 is fine.
+		`warning: Events!B3 (date): "2026-12-01" is after the valuation date 2026-09-30`,
+	} {
+		if !strings.Contains(got, w) {
+			t.Errorf("missing %q in\n%s", w, got)
+		}
+	}
+	if strings.Contains(got, "Events!D2") {
+		t.Errorf("800 of 900 unvested shares drew a problem:\n%s", got)
+	}
+	fs["events.csv"] = &fstest.MapFile{Data: []byte("grant_id,date,event,shares\nA-1,2026-02-01,forfeited,1000\n")}
+	_, rep = readMap(t, fs)
+	if got := problems(rep); !strings.Contains(got, `warning: Events!D2 (shares): "1000" is more than the 900 unvested shares of grant A-1 on 2026-02-01`) {
+		t.Errorf("forfeiting vested shares:\n%s", got)
+	}
+}
+
+// Damaged workbooks give an error or a report, never a crash: random byte
+// changes to a valid workbook (seeded; the fuzz target FuzzReadXLSX explores
+// further).
+func TestReadXLSXMutations(t *testing.T) {
+	var buf bytes.Buffer
+	if err := WriteXLSX(&buf, smallSchedule()); err != nil {
+		t.Fatal(err)
+	}
+	seed := buf.Bytes()
+	rng := rand.New(rand.NewPCG(3, 5))
+	for i := 0; i < 40; i++ {
+		b := append([]byte(nil), seed...)
+		for k := 0; k < 1+rng.IntN(4); k++ {
+			b[rng.IntN(len(b))] = byte(rng.IntN(256))
+		}
+		s, rep, err := ReadXLSX(bytes.NewReader(b), int64(len(b)))
+		var ce *CellError
+		if err != nil && !errors.As(err, &ce) {
+			t.Errorf("mutation %d: error %v is not a *CellError", i, err)
+		}
+		if err == nil && (s == nil || rep == nil) {
+			t.Errorf("mutation %d: no schedule and no error", i)
+		}
+	}
 }

@@ -2,6 +2,7 @@ package grants
 
 import (
 	"fmt"
+	"math"
 	"sort"
 	"strconv"
 	"strings"
@@ -30,7 +31,10 @@ const (
 )
 
 func validate(s *Schedule, skip map[string]bool) Report {
-	v := &validator{s: s, skip: skip}
+	v := &validator{s: s, skip: skip, byID: make(map[string]int, len(s.Grants))}
+	for i := len(s.Grants) - 1; i >= 0; i-- {
+		v.byID[s.Grants[i].ID] = i // the first row of an id wins
+	}
 	v.company()
 	v.assumptions()
 	v.prices()
@@ -44,7 +48,16 @@ func validate(s *Schedule, skip map[string]bool) Report {
 type validator struct {
 	s    *Schedule
 	skip map[string]bool
+	byID map[string]int // grant index by id
 	rep  Report
+}
+
+func (v *validator) grant(id string) (Grant, bool) {
+	i, ok := v.byID[id]
+	if !ok {
+		return Grant{}, false
+	}
+	return v.s.Grants[i], true
 }
 
 func num(f float64) string { return strconv.FormatFloat(f, 'g', -1, 64) }
@@ -165,6 +178,10 @@ func (v *validator) rates() {
 			}
 			if p.Compounding == "par-semiannual" {
 				par++
+				if h := p.TenorYears * 2; p.TenorYears >= 0.5 && math.Abs(h-math.Round(h)) > 1e-9 {
+					v.rep.errf(ref, "tenor_years", num(p.TenorYears), ErrRange,
+						"is not a whole number of half-years, as a par-semiannual yield needs (semiannual coupons); below half a year any tenor is a bill")
+				}
 			} else {
 				other++
 			}
@@ -208,7 +225,7 @@ func (v *validator) grants() {
 		case g.Strike < 0:
 			v.rep.errf(ref("strike"), "strike", num(g.Strike), ErrRange, "must be zero or more")
 		case g.Instrument == RSU && hasStrike && g.Strike != 0:
-			v.rep.warnf(ref("strike"), "strike", num(g.Strike), ErrInconsistent, "an RSU has no strike; it is ignored")
+			v.rep.warnf(ref("strike"), "strike", num(g.Strike), ErrInconsistent, "is ignored: an RSU has no strike")
 		}
 		if g.Instrument != RSU {
 			if g.ExpiryDate.IsZero() {
@@ -304,9 +321,17 @@ func (v *validator) marketAt(g Grant, ref func(string) Ref) {
 	} else if g.Strike > 0 && g.Instrument != RSU && g.Strike < *g.SharePrice && md.Equal(g.GrantDate) {
 		v.rep.warnf(ref("strike"), "strike", num(g.Strike), ErrRange, "is below the share price %s at grant (%s): the award is in the money", num(*g.SharePrice), ref("share_price").Cell)
 	}
-	if ok && AddMonths(p.Date, StaleMonths).Before(g.GrantDate) {
-		v.rep.warnf(ref("grant_date"), "grant_date", isoDay(g.GrantDate), ErrRange,
+	if ok && g.SharePrice == nil && AddMonths(p.Date, StaleMonths).Before(md) {
+		r, key := ref("grant_date"), "grant_date"
+		if !md.Equal(g.GrantDate) { // a liability warrant, measured at the valuation date
+			r, key = s.cell(SheetCompany, "valuation_date", 0, s.Company.Refs), "valuation_date"
+		}
+		v.rep.warnf(r, key, isoDay(md), ErrRange,
 			"is more than %d months after the latest share valuation, %s (%s): the valuation may be stale", StaleMonths, isoDay(p.Date), s.cell(SheetSharePrices, "date", p.Row, nil))
+	}
+	if g.Instrument == Warrant && g.Classification == Liability && !g.ExpiryDate.IsZero() && !md.Before(g.ExpiryDate) {
+		v.rep.errf(ref("expiry_date"), "expiry_date", isoDay(g.ExpiryDate), ErrRange,
+			"is on or before the valuation date %s: liability-classified warrant %s is remeasured at the valuation date but has expired; leave it out of the schedule of outstanding awards", isoDay(md), g.ID)
 	}
 	if g.Instrument != RSU {
 		if _, ok := s.curveAt(md); !ok {
@@ -328,7 +353,7 @@ func (v *validator) vesting() {
 		if r.Shares <= 0 {
 			v.rep.errf(s.cell(SheetVesting, "shares", r.Row, nil), "shares", strconv.FormatInt(r.Shares, 10), ErrRange, "must be more than zero")
 		}
-		g, ok := s.Grant(r.GrantID)
+		g, ok := v.grant(r.GrantID)
 		if !ok {
 			if !v.skip[r.GrantID] {
 				v.rep.errf(s.cell(SheetVesting, "grant_id", r.Row, nil), "grant_id", r.GrantID, ErrUnknown, "is not a grant_id of the Grants sheet")
@@ -349,7 +374,7 @@ func (v *validator) vesting() {
 		if v.skip[id] {
 			continue
 		}
-		g, _ := s.Grant(id)
+		g, _ := v.grant(id)
 		if su := sums[id]; su.shares != g.Shares {
 			first, last := su.rows[0], su.rows[len(su.rows)-1]
 			v.rep.errf(s.cell(SheetVesting, "shares", first, nil), "shares", "", ErrInconsistent,
@@ -369,7 +394,7 @@ func (v *validator) events() {
 			v.rep.errf(ref("shares"), "shares", strconv.FormatInt(e.Shares, 10), ErrRange, "must be more than zero")
 			continue
 		}
-		g, ok := s.Grant(e.GrantID)
+		g, ok := v.grant(e.GrantID)
 		if !ok {
 			if !v.skip[e.GrantID] {
 				v.rep.errf(ref("grant_id"), "grant_id", e.GrantID, ErrUnknown, "is not a grant_id of the Grants sheet")
@@ -392,7 +417,7 @@ func (v *validator) events() {
 		if v.skip[id] {
 			continue
 		}
-		g, _ := s.Grant(id)
+		g, _ := v.grant(id)
 		evs := byGrant[id]
 		sort.SliceStable(evs, func(i, j int) bool { return evs[i].Date.Before(evs[j].Date) })
 		ts := s.tranchesBeforeEvents(g)

@@ -95,10 +95,7 @@ func colStyle(c *Column, st cellStyles) int {
 }
 
 func choices(c *Column) []string {
-	if c.Key == "vest_every_months" {
-		return []string{"1", "3", "12"}
-	}
-	if c.Kind == KindChoice {
+	if len(c.Choices) > 0 {
 		return c.Choices
 	}
 	return nil

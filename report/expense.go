@@ -209,9 +209,7 @@ func AddExpense(m *Model, s *grants.Schedule, sharePrice float64, revalue Revalu
 			a.Measured = &grants.MeasuredAssumptions{Volatility: mg.Volatility, RiskFreeRate: mg.RiskFreeRate, DividendYield: mg.DividendYield, ExpectedTermYears: term / shares}
 		}
 		if g.Instrument == grants.Warrant && g.Classification == grants.Liability {
-			if err := remeasure(&a, fv, end, revalue, m); err != nil {
-				return err
-			}
+			remeasure(&a, fv, end, revalue, m)
 		}
 		awards = append(awards, a)
 	}
@@ -230,23 +228,26 @@ func AddExpense(m *Model, s *grants.Schedule, sharePrice float64, revalue Revalu
 
 // remeasure makes a liability warrant's grant-date value its FairValue and
 // the valuation-date value fv (with past quarter ends, if revalue can give
-// them) its Remeasurements.
-func remeasure(a *grants.AwardCost, fv []float64, end time.Time, revalue Revalue, m *Model) error {
+// them) its Remeasurements. When revalue is nil or fails (no share price or
+// curve at the grant date, say), the warrant is measured at the valuation
+// date only and a warning says so.
+func remeasure(a *grants.AwardCost, fv []float64, end time.Time, revalue Revalue, m *Model) {
 	g := a.Grant
-	if revalue == nil {
-		m.Warnings = append(m.Warnings, fmt.Sprintf("grant %s: liability-classified warrant measured at the valuation date only; its compensation expense uses that value and no change in fair value is shown apart", g.ID))
+	only := func(why string) {
+		m.Warnings = append(m.Warnings, fmt.Sprintf("grant %s: liability-classified warrant measured at the valuation date only (%s); its compensation expense uses that value and no change in fair value is shown apart", g.ID, why))
+		for i := range a.Tranches {
+			a.Tranches[i].FairValue = fv[i]
+		}
 		a.Remeasurements = []grants.Remeasurement{{Date: end, FairValue: fv}}
-		return nil
+	}
+	if revalue == nil {
+		only("no revaluation was run")
+		return
 	}
 	at0, err := revalue(g, g.GrantDate)
-	if err != nil {
-		return fmt.Errorf("expense: grant %s at its grant date: %w", g.ID, err)
-	}
-	if len(at0) != len(fv) {
-		return fmt.Errorf("expense: grant %s: %d grant-date values for %d tranches", g.ID, len(at0), len(fv))
-	}
-	for i := range a.Tranches {
-		a.Tranches[i].FairValue = at0[i]
+	if err != nil || len(at0) != len(fv) {
+		only(fmt.Sprintf("it could not be valued at its grant date: %v", err))
+		return
 	}
 	var ends []time.Time
 	for q := quarterEndOf(g.GrantDate); q.Before(end); q = quarterEndOf(q.AddDate(0, 0, 1)) {
@@ -255,15 +256,19 @@ func remeasure(a *grants.AwardCost, fv []float64, end time.Time, revalue Revalue
 	if len(ends) > maxRemeasurements {
 		ends = ends[len(ends)-maxRemeasurements:]
 	}
+	var rs []grants.Remeasurement
 	for _, q := range ends {
 		v, err := revalue(g, q)
-		if err != nil {
-			return fmt.Errorf("expense: grant %s at %s: %w", g.ID, q.Format(time.DateOnly), err)
+		if err != nil || len(v) != len(fv) {
+			only(fmt.Sprintf("it could not be valued at %s: %v", q.Format(time.DateOnly), err))
+			return
 		}
-		a.Remeasurements = append(a.Remeasurements, grants.Remeasurement{Date: q, FairValue: v})
+		rs = append(rs, grants.Remeasurement{Date: q, FairValue: v})
 	}
-	a.Remeasurements = append(a.Remeasurements, grants.Remeasurement{Date: end, FairValue: fv})
-	return nil
+	for i := range a.Tranches {
+		a.Tranches[i].FairValue = at0[i]
+	}
+	a.Remeasurements = append(rs, grants.Remeasurement{Date: end, FairValue: fv})
 }
 
 func quarterEndOf(d time.Time) time.Time {

@@ -3,6 +3,7 @@ package report
 import (
 	"bytes"
 	"encoding/json"
+	"errors"
 	"math"
 	"strconv"
 	"strings"
@@ -213,8 +214,8 @@ func TestExpenseJSONGolden(t *testing.T) {
 	golden(t, "expense.json", append(b, '\n'))
 }
 
-// Without a revaluation a liability warrant is measured at the valuation
-// date only, and a warning says so.
+// Without a revaluation (or when it fails) a liability warrant is measured
+// at the valuation date only, and a warning says so.
 func TestExpenseNoRevalue(t *testing.T) {
 	s := expenseSchedule()
 	m := expenseModelFor(t, s)
@@ -228,5 +229,13 @@ func TestExpenseNoRevalue(t *testing.T) {
 	}
 	if m.Expense.FairValueChange != 0 {
 		t.Errorf("fair value change %v without remeasurements", m.Expense.FairValueChange)
+	}
+	m.Expense, m.Warnings = nil, nil
+	failing := func(grants.Grant, time.Time) ([]float64, error) { return nil, errors.New("no curve on 2026-03-01") }
+	if err := AddExpense(m, s, 6, failing); err != nil {
+		t.Fatal(err)
+	}
+	if !strings.Contains(strings.Join(m.Warnings, "\n"), "no curve on 2026-03-01") || m.Expense.FairValueChange != 0 {
+		t.Errorf("failed revaluation: warnings %v, fair value change %v", m.Warnings, m.Expense.FairValueChange)
 	}
 }

@@ -1,6 +1,7 @@
 package valuation
 
 import (
+	"errors"
 	"math"
 )
 
@@ -34,8 +35,12 @@ import (
 //     sits on a node at the vest date.
 //   - Richardson extrapolation for an error in 1/N over three such step
 //     counts, each about twice the last; the finer extrapolation is the
-//     value, and the gap between the two extrapolations times a safety
-//     factor is the error estimate.
+//     value. The error estimate is the finest tree's own correction
+//     |V(N3) − R23| plus twice the gap |R23 − R12| between the two
+//     extrapolations: the extrapolated value is trusted no further than the
+//     finest tree, and less where the extrapolations disagree. Against an
+//     independent finite-difference solution it covered the actual error in
+//     159 of 160 random employee-option cases (see the tests).
 
 // autoTarget are the approximate step counts of the three levels.
 var autoTarget = [3]int{300, 600, 1200}
@@ -44,7 +49,8 @@ var autoTarget = [3]int{300, 600, 1200}
 // up-probabilities need more.
 const autoMaxSteps = 2500
 
-// autoSafety multiplies the gap between successive extrapolations.
+// autoSafety multiplies the gap between the two extrapolations in the error
+// estimate.
 const autoSafety = 2.0
 
 type autoPlan struct {
@@ -61,6 +67,19 @@ func latticeAuto(t Terms, vestYears []float64, m Market, conv Convention) ([]Res
 		return nil, inputErr("no step count keeps the up-probability in (0, 1): volatility %v is too low for the rates of the curve (forward up to %v) and dividend yield %v",
 			m.VolAnnual, maxForward(t, m), m.DividendYield)
 	}
+	for {
+		rs, err := latticeAutoSteps(t, vestYears, m, conv, nmin)
+		var pe *probError
+		if errors.As(err, &pe) && 2*pe.steps <= MaxLatticeSteps {
+			// The probe of the curve missed a steep forward: refine.
+			nmin = 2 * pe.steps
+			continue
+		}
+		return rs, err
+	}
+}
+
+func latticeAutoSteps(t Terms, vestYears []float64, m Market, conv Convention, nmin int) ([]Result, error) {
 	plan := autoSteps(t, m, nmin)
 	n := len(vestYears)
 	vals := make([][3]float64, n)
@@ -115,7 +134,7 @@ func latticeAuto(t Terms, vestYears []float64, m Market, conv Convention) ([]Res
 		r23 := rich(v[1], v[2], n2, n3)
 		l := lives[i]
 		life := rich(l[1], l[2], n2, n3)
-		est := autoSafety*math.Abs(r23-r12) + 1e-9*math.Max(1, math.Abs(r23))
+		est := math.Abs(v[2]-r23) + autoSafety*math.Abs(r23-r12) + 1e-9*math.Max(1, math.Abs(r23))
 		out[i] = Result{Value: r23, ErrorEstimate: est, ExpectedTermYears: life, Steps: plan.steps[2], Method: MethodLattice}
 	}
 	return out, nil
@@ -130,6 +149,9 @@ func (w *work) vestPass(vestYears []float64, kb int, vals, lives []float64) {
 	par := -1
 	if kb != math.MaxInt && kb <= N {
 		par = kb & 1
+		if w.conv.VestNodeUnvested {
+			par ^= 1 // the layer read is one after the vest step
+		}
 	}
 	steps := make([]int, 0, 2*len(vestYears))
 	fr := make([]float64, len(vestYears))
@@ -196,17 +218,18 @@ func autoSteps(t Terms, m Market, nmin int) autoPlan {
 	if plan.barrier && x > 0 {
 		below := plan.x < 0
 		var st [3]int
+		limit := max(autoMaxSteps, int(scale*float64(autoTarget[2])))
 		for k, target := range autoTarget {
 			nt := scale * float64(target)
 			F := math.Max(1, math.Round(x*math.Sqrt(nt/s2T)))
 			N := alignedSteps(F, s2T, x, below)
-			for N < nmin || N < 2 || (k > 0 && float64(N) < 1.5*float64(st[k-1])) {
+			for N <= limit && (N < nmin || N < 2 || (k > 0 && float64(N) < 1.5*float64(st[k-1]))) {
 				F++
 				N = alignedSteps(F, s2T, x, below)
 			}
 			st[k] = N
 		}
-		if st[2] <= max(autoMaxSteps, int(scale*float64(autoTarget[2]))) {
+		if st[2] <= limit {
 			plan.steps, plan.aligned = st, true
 			return plan
 		}
@@ -221,6 +244,9 @@ func autoSteps(t Terms, m Market, nmin int) autoPlan {
 // above the barrier at log-distance x from the spot.
 func alignedSteps(F, s2T, x float64, below bool) int {
 	a := F * F * s2T / (x * x)
+	if a > MaxLatticeSteps {
+		return MaxLatticeSteps + 1
+	}
 	if below {
 		return int(math.Ceil(a))
 	}

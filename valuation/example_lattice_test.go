@@ -17,10 +17,10 @@ func ExampleLattice() {
 		fmt.Println(err)
 		return
 	}
-	fmt.Printf("value %.3f, error estimate below 0.001: %v, expected term %.2f years, method %s\n",
-		r.Value, r.ErrorEstimate < 0.001, r.ExpectedTermYears, r.Method)
+	fmt.Printf("value %.3f, error estimate below 0.005: %v, expected term %.2f years, method %s\n",
+		r.Value, r.ErrorEstimate < 0.005, r.ExpectedTermYears, r.Method)
 	// Output:
-	// value 7.059, error estimate below 0.001: true, expected term 7.57 years, method lattice
+	// value 7.059, error estimate below 0.005: true, expected term 7.57 years, method lattice
 }
 
 // The raw 500-step tree of a grant vesting in four yearly tranches, valued

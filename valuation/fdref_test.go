@@ -11,14 +11,23 @@ import "math"
 // with V = S − K on S ≥ M·K after vesting (the exercise multiple as a
 // Dirichlet boundary placed exactly on a grid line), max(V, S − K) after
 // each step under rational exercise, (S−K)⁺ at expiry, and pure diffusion
-// before vesting. Rannacher start-up (four implicit half steps) at expiry and
-// at the vest date damps the kinks. It shares nothing with the tree: no
-// binomial probabilities, no node levels, a different discretisation in both
-// time and space, so agreement of the two checks both.
+// before vesting. The expected remaining life L solves the same equation
+// without discounting, with a source of 1 and the exit intensity as its
+// only decay, and L = 0 wherever the option is exercised. Rannacher
+// start-up (four implicit half steps) at expiry and at the vest date damps
+// the kinks; the spot's value is interpolated (cubic) from the grid, which
+// is anchored on the barrier. It shares nothing with the tree: no binomial
+// probabilities, no node levels, a different discretisation in both time and
+// space, so agreement of the two checks both.
 //
 // nx is about the number of space steps per unit of log price, nt the
-// time steps per year.
+// time steps per year. It returns the value and the expected life in years.
 func fdEmployee(tm Terms, mk Market, nx, nt int) float64 {
+	v, _ := fdEmployeeLife(tm, mk, nx, nt)
+	return v
+}
+
+func fdEmployeeLife(tm Terms, mk Market, nx, nt int) (value, life float64) {
 	T, V := tm.YearsToExpiry, tm.YearsToVest
 	K, S0, sig, q := tm.Strike, mk.Spot, mk.VolAnnual, mk.DividendYield
 	lambda := -math.Log(1 - tm.ExitRate)
@@ -27,31 +36,40 @@ func fdEmployee(tm Terms, mk Market, nx, nt int) float64 {
 	dx := 1 / float64(nx)
 	hasBar := tm.ExerciseMultiple > 0
 	xH := math.Inf(1)
+	anchor := x0 // a grid line: the barrier if there is one, else the spot
 	if hasBar {
 		xH = math.Log(tm.ExerciseMultiple * K)
-		if d := math.Abs(xH - x0); d > dx {
-			dx = d / math.Round(d/dx)
-		}
+		anchor = xH
 	}
-	j0 := int(math.Ceil(span / dx))
+	lo := x0 - span
 	top := x0 + span
 	if hasBar {
 		top = math.Max(top, xH+3*sig*math.Sqrt(T))
+		lo = math.Min(lo, xH-span)
 	}
-	J := j0 + int(math.Ceil((top-x0)/dx))
+	ja := int(math.Ceil((anchor - lo) / dx)) // index of the anchor
+	J := ja + int(math.Ceil((top-anchor)/dx))
 	xs := make([]float64, J+1)
 	S := make([]float64, J+1)
 	for j := range xs {
-		xs[j] = x0 + float64(j-j0)*dx
+		xs[j] = anchor + float64(j-ja)*dx
 		S[j] = math.Exp(xs[j])
 	}
 	jH := J + 1
 	if hasBar {
-		jH = j0 + int(math.Round((xH-x0)/dx))
+		jH = ja
 	}
 	val := make([]float64, J+1)
+	lif := make([]float64, J+1)
 	for j := range val {
 		val[j] = math.Max(S[j]-K, 0)
+	}
+	// life of a vested option that is never exercised: exits or expiry
+	g := func(tau float64) float64 {
+		if lambda == 0 {
+			return tau
+		}
+		return -math.Expm1(-lambda*tau) / lambda
 	}
 	// time grid: vest date on a grid line
 	n2 := max(1, int(math.Ceil((T-V)*float64(nt))))
@@ -69,44 +87,20 @@ func fdEmployee(tm Terms, mk Market, nx, nt int) float64 {
 	rhs := make([]float64, J+1)
 	cp := make([]float64, J+1)
 	dp := make([]float64, J+1)
-	rannacher := 0
-	var step func(t1, t0 float64, theta float64, vested bool)
-	step = func(t1, t0 float64, theta float64, vested bool) {
-		dt := t1 - t0
-		r := mk.Curve.Forward(t0, t1)
-		mu := r - q - 0.5*sig*sig
-		lam := 0.0
-		if vested {
-			lam = lambda
-		}
-		// L V_j = α V_{j−1} + β V_j + γ V_{j+1} + src_j
-		al := 0.5*sig*sig/(dx*dx) - mu/(2*dx)
-		ga := 0.5*sig*sig/(dx*dx) + mu/(2*dx)
-		be := -sig*sig/(dx*dx) - r - lam
-		hi := J
-		if vested && hasBar {
-			hi = min(jH, J)
-		}
-		// boundary values at the new time level
-		tau := T - t0
-		lowV := 0.0
-		var highV float64
-		if vested && hasBar && jH <= J {
-			highV = S[hi] - K
-		} else {
-			highV = S[hi]*math.Exp(-q*tau) - K*mk.Curve.Discount(T)/mk.Curve.Discount(t0)
-		}
+	src := make([]float64, J+1)
+	// cn advances u one step: u_τ = α u_{j−1} + (β − k) u_j + γ u_{j+1} + src_j
+	// on 1..hi−1 with Dirichlet values lowV, highV.
+	cn := func(u []float64, hi int, al, be, ga, kill, dt, theta, lowV, highV float64) {
+		bb := be - kill
 		for j := 1; j < hi; j++ {
-			src := lam * math.Max(S[j]-K, 0)
-			ex := al*val[j-1] + be*val[j] + ga*val[j+1] + src
-			rhs[j] = val[j] + (1-theta)*dt*ex + theta*dt*src
+			ex := al*u[j-1] + bb*u[j] + ga*u[j+1] + src[j]
+			rhs[j] = u[j] + (1-theta)*dt*ex + theta*dt*src[j]
 			a[j] = -theta * dt * al
-			b[j] = 1 - theta*dt*be
+			b[j] = 1 - theta*dt*bb
 			c[j] = -theta * dt * ga
 		}
 		rhs[1] -= a[1] * lowV
 		rhs[hi-1] -= c[hi-1] * highV
-		// Thomas algorithm on 1..hi−1
 		cp[1] = c[1] / b[1]
 		dp[1] = rhs[1] / b[1]
 		for j := 2; j < hi; j++ {
@@ -114,22 +108,69 @@ func fdEmployee(tm Terms, mk Market, nx, nt int) float64 {
 			cp[j] = c[j] / m
 			dp[j] = (rhs[j] - a[j]*dp[j-1]) / m
 		}
-		val[hi-1] = dp[hi-1]
+		u[hi-1] = dp[hi-1]
 		for j := hi - 2; j >= 1; j-- {
-			val[j] = dp[j] - cp[j]*val[j+1]
+			u[j] = dp[j] - cp[j]*u[j+1]
 		}
-		val[0], val[hi] = lowV, highV
+		u[0], u[hi] = lowV, highV
+	}
+	step := func(t1, t0 float64, theta float64, vested bool) {
+		dt := t1 - t0
+		r := mk.Curve.Forward(t0, t1)
+		mu := r - q - 0.5*sig*sig
+		lam := 0.0
+		if vested {
+			lam = lambda
+		}
+		al := 0.5*sig*sig/(dx*dx) - mu/(2*dx)
+		ga := 0.5*sig*sig/(dx*dx) + mu/(2*dx)
+		be := -sig * sig / (dx * dx)
+		hi := J
+		if vested && hasBar {
+			hi = min(jH, J)
+		}
+		tau := T - t0
+		// value
+		highV := S[hi]*math.Exp(-q*tau) - K*mk.Curve.Discount(T)/mk.Curve.Discount(t0)
+		if vested && hasBar && jH <= J {
+			highV = S[hi] - K
+		}
+		for j := range src {
+			src[j] = lam * math.Max(S[j]-K, 0)
+		}
+		cn(val, hi, al, be, ga, r+lam, dt, theta, 0, highV)
+		// expected life
+		var lowL, highL float64
+		if vested {
+			lowL, highL = g(tau), g(tau)
+			if hasBar || (tm.Rational && q > 0) {
+				highL = 0
+			}
+		} else {
+			lowL = V - t0 + g(T-V)
+			highL = lowL
+			if hasBar {
+				highL = V - t0
+			}
+		}
+		for j := range src {
+			src[j] = 1
+		}
+		cn(lif, hi, al, be, ga, lam, dt, theta, lowL, highL)
 		if vested && hasBar {
 			for j := hi; j <= J; j++ {
-				val[j] = S[j] - K
+				val[j], lif[j] = S[j]-K, 0
 			}
 		}
 		if vested && tm.Rational {
 			for j := range val {
-				val[j] = math.Max(val[j], S[j]-K)
+				if S[j]-K > val[j] {
+					val[j], lif[j] = S[j]-K, 0
+				}
 			}
 		}
 	}
+	rannacher := 0
 	for k := 1; k < len(times); k++ {
 		t1, t0 := times[k-1], times[k]
 		vested := t0 >= V-1e-12 && !(V == T)
@@ -146,7 +187,25 @@ func fdEmployee(tm Terms, mk Market, nx, nt int) float64 {
 		step(t1, t0, 0.5, vested)
 	}
 	if hasBar && V == 0 && S0 >= tm.ExerciseMultiple*K {
-		return S0 - K
+		return S0 - K, 0
 	}
-	return val[j0]
+	// Cubic Lagrange interpolation at the spot, from points on the spot's
+	// side of the barrier when the tranche is vested now (the value has a
+	// kink there).
+	j := int(math.Floor((x0 - xs[0]) / dx))
+	st := j - 1
+	if hasBar && V == 0 {
+		st = min(st, jH-3)
+	}
+	for a := st; a < st+4; a++ {
+		w := 1.0
+		for b := st; b < st+4; b++ {
+			if b != a {
+				w *= (x0 - xs[b]) / (xs[a] - xs[b])
+			}
+		}
+		value += w * val[a]
+		life += w * lif[a]
+	}
+	return value, life
 }

@@ -266,12 +266,13 @@ func (w *work) build(t Terms, m Market, n int, conv Convention, smooth bool) err
 		w.price[k+n] = s
 	}
 	// exh[par][m] = (S−K)⁺ at level k with k+n = 2m+par.
+	lnK := math.Log(K)
 	for idx := 0; idx <= 2*n; idx++ {
 		e := w.sign * (w.price[idx] - K)
 		if e < 0 {
 			e = 0
 		}
-		if x := w.lnS0 + float64(idx-n)*h; smooth && K > 0 && math.Abs(x-math.Log(K)) < h {
+		if x := w.lnS0 + float64(idx-n)*h; smooth && K > 0 && math.Abs(x-lnK) < h {
 			e = cellAverageCall(x, h, K)
 		}
 		w.exh[idx&1][idx>>1] = e
@@ -475,11 +476,7 @@ func (w *work) backward(lo int, at func(i int, wv, lv []float64)) {
 		if w.smooth && i == n-1 {
 			w.smoothLast(jb)
 		} else if !rational {
-			e := ex[:jb]
-			for j := range e {
-				ww[j] = a*e[j] + pd*ww[j+1] + qd*ww[j]
-				ll[j] = dl + pl*ll[j+1] + ql*ll[j]
-			}
+			rollVested(ex[:jb], ww[:jb+1], ll[:jb+1], a, pd, qd, dl, pl, ql)
 		} else {
 			for j := 0; j < jb; j++ {
 				c := a*ex[j] + pd*ww[j+1] + qd*ww[j]
@@ -585,4 +582,23 @@ func cellAverageCall(x, h, K float64) float64 {
 		return math.Exp(x) - K
 	}
 	return (math.Exp(x+h) - K - K*(x+h-lk)) / (2 * h)
+}
+
+// rollVested is the inner loop of the backward pass below the exercise
+// region: w[j] = a·e[j] + pd·w[j+1] + qd·w[j] and l[j] = dl + pl·l[j+1] +
+// ql·l[j] for j < len(e), in place, with the upper neighbour carried in a
+// register. len(w) and len(l) must be len(e)+1.
+func rollVested(e, w, l []float64, a, pd, qd, dl, pl, ql float64) {
+	if len(e) == 0 {
+		return
+	}
+	w = w[:len(e)+1]
+	l = l[:len(e)+1]
+	w0, l0 := w[0], l[0]
+	for j, ej := range e {
+		w1, l1 := w[j+1], l[j+1]
+		w[j] = a*ej + pd*w1 + qd*w0
+		l[j] = dl + pl*l1 + ql*l0
+		w0, l0 = w1, l1
+	}
 }

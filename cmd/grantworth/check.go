@@ -158,11 +158,11 @@ func checkWarningLine(msg string) string {
 }
 
 func checkPlural(n int, w string) string {
+	if w == "rsu" {
+		w = "RSU"
+	}
 	if n == 1 {
 		return w
-	}
-	if w == "rsu" {
-		return "RSUs"
 	}
 	return w + "s"
 }

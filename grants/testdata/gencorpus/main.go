@@ -3,7 +3,9 @@
 // (schedule.xlsx, a CSV folder schedule/, or another file) and want.txt,
 // the problem lines check must print (each line of want.txt is the start of
 // one printed line, cell reference first). The expected lines are written
-// here by hand, not taken from the reader. Run from the repository root:
+// here by hand, not taken from the reader. Each case breaks one thing in a
+// valid base schedule, written to grants/testdata/valid. Run from the
+// repository root:
 //
 //	go run ./grants/testdata/gencorpus
 package main
@@ -184,6 +186,34 @@ var cases = []corpusCase{
 		want: []string{`Grants!F3 (term_years): "-5" must be more than 0 and at most 100 years`}},
 	{name: "warrant-without-shares-outstanding", edits: []edit{{"company.csv", "shares_outstanding,5000000\n", ""}},
 		want: []string{"Company (shares_outstanding): is needed for the dilution of warrant PB-4 (A5)"}},
+	{name: "liability-warrant-expired", edits: []edit{{"grants.csv", "2.50,2030-02-01", "2.50,2026-06-01"}},
+		want: []string{`Grants!F5 (expiry_date): "2026-06-01" is on or before the valuation date 2026-09-30: liability-classified warrant PB-4`}},
+	{name: "event-before-grant", edits: []edit{{"events.csv", "PB-1,2026-03-15", "PB-1,2023-03-15"}},
+		want: []string{`Events!B2 (date): "2023-03-15" is before the grant date 2024-03-01 of grant PB-1 (C2)`}},
+	{name: "unknown-compounding", edits: []edit{{"rates.csv", "2024-01-01,1,0.045,continuous", "2024-01-01,1,0.045,monthly"}},
+		want: []string{`Rates!D2 (compounding): "monthly" is not one of continuous, annual, semiannual, par-semiannual`}},
+	{name: "bad-currency", edits: []edit{{"company.csv", "currency,USD", "currency,US$"}},
+		want: []string{`Company!B4 (currency): "US$" is not a three-letter ISO 4217 currency code`}},
+	{name: "duplicate-price-date", edits: []edit{{"share_prices.csv", "2025-01-01,2.00", "2024-01-01,2.00"}},
+		want: []string{`Share Prices!A3 (date): "2024-01-01" is also the date of A2; keep one price per date`}},
+	{name: "cancel-above-outstanding", edits: []edit{{"events.csv", "forfeited,2400", "cancelled,5000"}},
+		want: []string{`Events!D2 (shares): "5000" cancels more than the 4800 shares outstanding of grant PB-1 on 2026-03-15 (Grants!D2)`}},
+	{name: "expire-above-vested", edits: []edit{{"events.csv", "forfeited,2400", "expired,3000"}},
+		want: []string{`Events!D2 (shares): "3000" expires more than the 2400 vested shares outstanding of grant PB-1 on 2026-03-15 (Grants!D2)`}},
+	{name: "exercise-multiple-below-one", edits: []edit{{"assumptions.csv", "exercise_multiple,2.5", "exercise_multiple,0.5"}},
+		want: []string{`Assumptions!B4 (exercise_multiple): "0.5" must be 0 (no such rule) or from 1 to 100 times the strike`}},
+	{name: "period-start-after-valuation-date", edits: []edit{{"company.csv", "currency,USD\n", "currency,USD\nperiod_start,2026-10-01\n"}},
+		want: []string{`Company!B5 (period_start): "2026-10-01" must be before valuation_date 2026-09-30`}},
+	{name: "par-tenor-not-half-years", edits: []edit{{"rates.csv", "2026-06-30,2,", "2026-06-30,2.3,"}},
+		want: []string{`Rates!B5 (tenor_years): "2.3" is not a whole number of half-years, as a par-semiannual yield needs`}},
+	{name: "volatility-missing", edits: []edit{{"assumptions.csv", "volatility,0.5,peer median\n", ""}},
+		want: []string{"Assumptions (volatility): key is missing, and grant PB-1 (Grants!A2) gives none"}},
+	{name: "tenor-too-long", edits: []edit{{"rates.csv", "2024-01-01,10,", "2024-01-01,150,"}},
+		want: []string{`Rates!B3 (tenor_years): "150" must be from 0 to 100 years`}},
+	{name: "event-zero-shares", edits: []edit{{"events.csv", "forfeited,2400", "forfeited,0"}},
+		want: []string{`Events!D2 (shares): "0" must be more than zero`}},
+	{name: "vesting-zero-shares", edits: []edit{{"vesting.csv", "2026-01-15,600", "2026-01-15,0"}},
+		want: []string{`Vesting!C3 (shares): "0" must be more than zero`}},
 	{name: "ambiguous-vest-date", edits: []edit{{"vesting.csv", "PB-2,2025-07-15", "PB-2,15.07.2025"}},
 		want: []string{`Vesting!B2 (vest_date): "15.07.2025" ` + isoMsg}},
 	{name: "decimal-comma-price", edits: []edit{{"share_prices.csv", "2025-01-01,2.00", "2025-01-01,\"2,00\""}},
@@ -251,7 +281,14 @@ func main() {
 		}
 		write(filepath.Join(dir, "want.txt"), strings.Join(c.want, "\n")+"\n")
 	}
-	fmt.Printf("wrote %d cases to %s\n", len(cases), out)
+	// The base itself, which must read with no problem at all.
+	valid := filepath.Join("grants", "testdata", "valid", "schedule")
+	must(os.RemoveAll(valid))
+	must(os.MkdirAll(valid, 0o755))
+	for k, v := range base {
+		write(filepath.Join(valid, k), v)
+	}
+	fmt.Printf("wrote %d cases to %s and the valid base to %s\n", len(cases), out, valid)
 }
 
 // patchCells rewrites cells of one worksheet inside the .xlsx at path.

@@ -1,0 +1,102 @@
+package valuation
+
+import (
+	"fmt"
+	"testing"
+)
+
+var latticeSink float64
+
+func benchGrant() (Terms, Market) {
+	return Terms{Strike: 12, YearsToExpiry: 10, YearsToVest: 4, ExerciseMultiple: 2.5, ExitRate: 0.08},
+		Market{Spot: 12, VolAnnual: 0.55, DividendYield: 0.01, Curve: FlatCurve(0.04)}
+}
+
+func monthly(n int) []float64 {
+	v := make([]float64, n)
+	for i := range v {
+		v[i] = float64(i+1) / 12
+	}
+	return v
+}
+
+// One tranche on the raw N-step tree; ns/node counts the (N+1)(N+2)/2 nodes
+// of the tree (backward pass of value and expected life, forward pass to the
+// vest date).
+func BenchmarkLatticeRaw(b *testing.B) {
+	tm, mk := benchGrant()
+	for _, n := range []int{500, 2000, 5000} {
+		b.Run(fmt.Sprintf("N=%d", n), func(b *testing.B) {
+			b.ReportAllocs()
+			o := LatticeOptions{Steps: n}
+			for b.Loop() {
+				r, err := Lattice(tm, mk, o)
+				if err != nil {
+					b.Fatal(err)
+				}
+				latticeSink += r.Value
+			}
+			nodes := float64(n+1) * float64(n+2) / 2
+			b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/nodes, "ns/node")
+		})
+	}
+}
+
+// A grant of 48 monthly tranches against one tranche, both at N = 2000.
+func BenchmarkLatticeTranches(b *testing.B) {
+	tm, mk := benchGrant()
+	for _, k := range []int{1, 48} {
+		vest := monthly(48)[48-k:] // the single tranche is the last (4 years)
+		b.Run(fmt.Sprintf("tranches=%d/N=2000", k), func(b *testing.B) {
+			b.ReportAllocs()
+			o := LatticeOptions{Steps: 2000}
+			for b.Loop() {
+				rs, err := LatticeTranches(tm, vest, mk, o)
+				if err != nil {
+					b.Fatal(err)
+				}
+				latticeSink += rs[0].Value
+			}
+		})
+	}
+}
+
+// Auto mode: one tranche and a 48-tranche grant; the ms/tranche metric is
+// the cost per tranche.
+func BenchmarkLatticeAuto(b *testing.B) {
+	tm, mk := benchGrant()
+	for _, k := range []int{1, 48} {
+		vest := monthly(48)[48-k:]
+		b.Run(fmt.Sprintf("tranches=%d", k), func(b *testing.B) {
+			b.ReportAllocs()
+			for b.Loop() {
+				rs, err := LatticeTranches(tm, vest, mk, LatticeOptions{})
+				if err != nil {
+					b.Fatal(err)
+				}
+				latticeSink += rs[0].Value
+			}
+			b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/float64(k)/1e6, "ms/tranche")
+		})
+	}
+}
+
+// A ledger slice: 100 grants of 48 monthly tranches in auto mode on all
+// cores; ms/grant scales to the 10,000-grant target of DESIGN §5.
+func BenchmarkRunJobsAuto(b *testing.B) {
+	tm, mk := benchGrant()
+	jobs := make([]Job, 100)
+	for i := range jobs {
+		t := tm
+		t.Strike = 8 + 0.1*float64(i)
+		m := mk
+		m.VolAnnual = 0.3 + 0.004*float64(i)
+		jobs[i] = Job{Terms: t, VestYears: monthly(48), Market: m}
+	}
+	b.ReportAllocs()
+	for b.Loop() {
+		rs := RunJobs(jobs, 0, nil)
+		latticeSink += rs[0].Tranches[0].Value
+	}
+	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/float64(len(jobs))/1e6, "ms/grant")
+}
