@@ -2,9 +2,9 @@ package report
 
 import (
 	"archive/zip"
-	"bytes"
 	"fmt"
 	"io"
+	"os"
 	"sort"
 	"strings"
 	"time"
@@ -113,19 +113,31 @@ func WriteWorkbook(w io.Writer, m *Model) error {
 		}
 	}
 	f.SetActiveSheet(0)
-	var raw bytes.Buffer
-	if err := f.Write(&raw); err != nil {
+	// excelize's archive goes to a temporary file, not memory: for a large
+	// ledger it is hundreds of megabytes. It is then copied to w in a fixed
+	// entry order.
+	tmp, err := os.CreateTemp("", "grantworth-xlsx-*")
+	if err != nil {
 		return err
 	}
-	return canonicalZip(w, raw.Bytes())
+	defer os.Remove(tmp.Name())
+	defer tmp.Close()
+	if err := f.Write(tmp); err != nil {
+		return err
+	}
+	size, err := tmp.Seek(0, io.SeekCurrent)
+	if err != nil {
+		return err
+	}
+	return canonicalZip(w, tmp, size)
 }
 
 // canonicalZip copies the zip archive in to w with its entries in a fixed
 // order ([Content_Types].xml first, then by name) and no timestamps.
 // excelize writes streamed sheets in map order, which would make two runs
 // differ; the entries are copied without recompressing.
-func canonicalZip(w io.Writer, in []byte) error {
-	zr, err := zip.NewReader(bytes.NewReader(in), int64(len(in)))
+func canonicalZip(w io.Writer, in io.ReaderAt, size int64) error {
+	zr, err := zip.NewReader(in, size)
 	if err != nil {
 		return err
 	}
