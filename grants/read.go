@@ -53,7 +53,12 @@ func ReadFile(path string) (*Schedule, *Report, error) {
 		return nil, nil, err
 	}
 	if st.IsDir() {
-		return ReadCSVDir(os.DirFS(path))
+		s, rep, err := ReadCSVDir(os.DirFS(path))
+		var ce *CellError
+		if errors.As(err, &ce) && ce.Sheet == "." {
+			ce.Sheet = filepath.Base(path)
+		}
+		return s, rep, err
 	}
 	name := filepath.Base(path)
 	if strings.EqualFold(filepath.Ext(path), ".csv") {

@@ -3,6 +3,7 @@ package grants
 import (
 	"bytes"
 	"errors"
+	"math/rand/v2"
 	"os"
 	"strings"
 	"testing"
@@ -306,5 +307,31 @@ func TestReadMoreWarnings(t *testing.T) {
 	_, rep = readMap(t, fs)
 	if got := problems(rep); !strings.Contains(got, `warning: Events!D2 (shares): "1000" is more than the 900 unvested shares of grant A-1 on 2026-02-01`) {
 		t.Errorf("forfeiting vested shares:\n%s", got)
+	}
+}
+
+// Damaged workbooks give an error or a report, never a crash: random byte
+// changes to a valid workbook (seeded; the fuzz target FuzzReadXLSX explores
+// further).
+func TestReadXLSXMutations(t *testing.T) {
+	var buf bytes.Buffer
+	if err := WriteXLSX(&buf, smallSchedule()); err != nil {
+		t.Fatal(err)
+	}
+	seed := buf.Bytes()
+	rng := rand.New(rand.NewPCG(3, 5))
+	for i := 0; i < 40; i++ {
+		b := append([]byte(nil), seed...)
+		for k := 0; k < 1+rng.IntN(4); k++ {
+			b[rng.IntN(len(b))] = byte(rng.IntN(256))
+		}
+		s, rep, err := ReadXLSX(bytes.NewReader(b), int64(len(b)))
+		var ce *CellError
+		if err != nil && !errors.As(err, &ce) {
+			t.Errorf("mutation %d: error %v is not a *CellError", i, err)
+		}
+		if err == nil && (s == nil || rep == nil) {
+			t.Errorf("mutation %d: no schedule and no error", i)
+		}
 	}
 }

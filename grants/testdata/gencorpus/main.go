@@ -115,6 +115,11 @@ var cases = []corpusCase{
 		write(filepath.Join(dir, "grants.csv"), base["grants.csv"])
 		return "grants.csv"
 	}, want: []string{"grants.csv: is one CSV file; give the folder that holds grants.csv"}},
+	{name: "folder-without-csv", raw: func(dir string) string {
+		must(os.MkdirAll(filepath.Join(dir, "schedule"), 0o755))
+		write(filepath.Join(dir, "schedule", "grants.txt"), base["grants.csv"])
+		return "schedule"
+	}, want: []string{"schedule: holds no .csv files"}},
 	{name: "csv-semicolons", edits: []edit{{"grants.csv", "", strings.ReplaceAll(base["grants.csv"], ",", ";")}},
 		want: []string{"Grants: grants.csv line 1: the fields seem separated by semicolons"}},
 	{name: "csv-tabs", edits: []edit{{"rates.csv", "", strings.ReplaceAll(base["rates.csv"], ",", "\t")}},
