@@ -1,6 +1,8 @@
 package report
 
 import (
+	"bufio"
+	"bytes"
 	"encoding/json"
 	"fmt"
 	"io"
@@ -32,10 +34,55 @@ func WriteJSON(w io.Writer, m *Model) error {
 		e.Periods = []ExpensePeriod{}
 		c.Expense = &e
 	}
-	enc := json.NewEncoder(w)
-	enc.SetIndent("", "  ")
+	// Everything but the grants is encoded at once; the grants, which are
+	// most of the file for a large ledger, one at a time into the place
+	// left for them, so that memory does not grow with the whole file.
+	grants := c.Grants
+	c.Grants = []Grant{}
+	head, err := marshalIndent(&c, "")
+	if err != nil {
+		return err
+	}
+	const slot = "\n  \"grants\": [],\n"
+	i := bytes.Index(head, []byte(slot))
+	if i < 0 {
+		return fmt.Errorf("report: no grants field in the JSON head")
+	}
+	bw := bufio.NewWriterSize(w, 1<<16)
+	bw.Write(head[:i])
+	if len(grants) == 0 {
+		bw.WriteString(slot)
+	} else {
+		bw.WriteString("\n  \"grants\": [\n")
+		for k := range grants {
+			g, err := marshalIndent(&grants[k], "    ")
+			if err != nil {
+				return err
+			}
+			bw.WriteString("    ")
+			bw.Write(bytes.TrimSuffix(g, []byte("\n")))
+			if k < len(grants)-1 {
+				bw.WriteString(",")
+			}
+			bw.WriteString("\n")
+		}
+		bw.WriteString("  ],\n")
+	}
+	bw.Write(head[i+len(slot):])
+	return bw.Flush()
+}
+
+// marshalIndent encodes v as the whole file is encoded (two-space indent,
+// no HTML escaping), each line after the first prefixed.
+func marshalIndent(v any, prefix string) ([]byte, error) {
+	var buf bytes.Buffer
+	enc := json.NewEncoder(&buf)
+	enc.SetIndent(prefix, "  ")
 	enc.SetEscapeHTML(false)
-	return enc.Encode(&c)
+	if err := enc.Encode(v); err != nil {
+		return nil, err
+	}
+	return buf.Bytes(), nil
 }
 
 func nonNil[T any](s []T) []T {

@@ -1,7 +1,6 @@
 package main
 
 import (
-	"bytes"
 	"crypto/sha256"
 	"encoding/hex"
 	"errors"
@@ -154,11 +153,7 @@ func runValue(o *valueOptions) error {
 	if err != nil {
 		return err
 	}
-	files, err := render(m)
-	if err != nil {
-		return err
-	}
-	if err := writeAll(o.out, files, o.force); err != nil {
+	if err := writeAll(o.out, outputs(m), o.force); err != nil {
 		return err
 	}
 	printSummary(o.io.Out, m, o.out)
@@ -234,20 +229,16 @@ func hashInput(path string) (string, error) {
 	return hex.EncodeToString(h.Sum(nil)), nil
 }
 
-// render lays the Model out as the three files, in memory, so that nothing
-// is written unless all three could be made.
-func render(m *report.Model) ([]outFile, error) {
-	var pdf, xlsx, js bytes.Buffer
-	if err := report.WriteMemo(&pdf, m); err != nil {
-		return nil, fmt.Errorf("memo.pdf: %w", err)
+// outputs are the three files, each rendered from the Model straight into
+// its temporary file by writeAll, so that a large ledger's files are never
+// all in memory at once and nothing is renamed into place unless all three
+// were made.
+func outputs(m *report.Model) []outFile {
+	return []outFile{
+		{"memo.pdf", func(w io.Writer) error { return report.WriteMemo(w, m) }},
+		{"valuation.xlsx", func(w io.Writer) error { return report.WriteWorkbook(w, m) }},
+		{"valuation.json", func(w io.Writer) error { return report.WriteJSON(w, m) }},
 	}
-	if err := report.WriteWorkbook(&xlsx, m); err != nil {
-		return nil, fmt.Errorf("valuation.xlsx: %w", err)
-	}
-	if err := report.WriteJSON(&js, m); err != nil {
-		return nil, fmt.Errorf("valuation.json: %w", err)
-	}
-	return []outFile{{"memo.pdf", pdf.Bytes()}, {"valuation.xlsx", xlsx.Bytes()}, {"valuation.json", js.Bytes()}}, nil
 }
 
 func printSummary(w io.Writer, m *report.Model, dir string) {

@@ -3,8 +3,10 @@ package main
 import (
 	"bytes"
 	"encoding/json"
+	"errors"
 	"flag"
 	"fmt"
+	"io"
 	"math"
 	"os"
 	"os/exec"
@@ -337,7 +339,10 @@ func TestWriteAllFailureLeavesNothing(t *testing.T) {
 	if err := os.MkdirAll(filepath.Join(out, "valuation.json", "x"), 0o755); err != nil {
 		t.Fatal(err)
 	}
-	files := []outFile{{"memo.pdf", []byte("a")}, {"valuation.xlsx", []byte("b")}, {"valuation.json", []byte("c")}}
+	text := func(s string) func(io.Writer) error {
+		return func(w io.Writer) error { _, err := io.WriteString(w, s); return err }
+	}
+	files := []outFile{{"memo.pdf", text("a")}, {"valuation.xlsx", text("b")}, {"valuation.json", text("c")}}
 	if err := writeAll(out, files, true); err == nil {
 		t.Fatal("writeAll over a folder named valuation.json succeeded")
 	}
@@ -351,6 +356,18 @@ func TestWriteAllFailureLeavesNothing(t *testing.T) {
 	}
 	if err := writeAll(block, files, false); err == nil {
 		t.Error("writeAll into a file succeeded")
+	}
+	// A renderer that fails after writing part of its file.
+	out2 := filepath.Join(dir, "out2")
+	broken := []outFile{{"memo.pdf", text("a")}, {"valuation.xlsx", func(w io.Writer) error {
+		io.WriteString(w, "half a workbook")
+		return errors.New("renderer failed")
+	}}, {"valuation.json", text("c")}}
+	if err := writeAll(out2, broken, false); err == nil || !strings.Contains(err.Error(), "renderer failed") {
+		t.Fatalf("writeAll with a failing renderer: %v", err)
+	}
+	if ents, _ := os.ReadDir(out2); len(ents) != 0 {
+		t.Errorf("a failed render left %d files behind", len(ents))
 	}
 }
 
