@@ -140,7 +140,7 @@ func runValue(o *valueOptions) error {
 		fresh.Dropped = again.Dropped
 		rep.Merge(fresh)
 	}
-	vs, inErrs := gatherInputs(s)
+	vs, inErrs, skipped := gatherInputs(s)
 	if !rep.OK() || len(inErrs) > 0 {
 		return printProblems(o.io.Err, rep, inErrs)
 	}
@@ -156,14 +156,24 @@ func runValue(o *valueOptions) error {
 	settings := report.Model{
 		Tool:     report.Tool{Name: "grantworth", Version: version},
 		Input:    report.Input{Path: filepath.ToSlash(o.path), SHA256: sum},
-		Warnings: warningTexts(rep),
+		Warnings: append(warningTexts(rep), skipped...),
 	}
 	m, err := p.buildModel(vs, settings)
 	bar.finish()
 	if err != nil {
 		return err
 	}
-	if err := writeAll(o.out, outputs(m), o.force); err != nil {
+	files := outputs(m)
+	if o.io.ErrIsTerminal {
+		for i := range files {
+			f := files[i]
+			files[i].write = func(w io.Writer) error {
+				fmt.Fprintf(o.io.Err, "writing %s\n", f.name)
+				return f.write(w)
+			}
+		}
+	}
+	if err := writeAll(o.out, files, o.force); err != nil {
 		return err
 	}
 	printSummary(o.io.Out, m, o.out)

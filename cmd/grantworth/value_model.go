@@ -45,11 +45,19 @@ type pipeline struct {
 	warnings []string
 }
 
-// gatherInputs collects every grant's inputs, or every error found.
-func gatherInputs(s *grants.Schedule) ([]*valued, []error) {
+// gatherInputs collects the inputs of every grant made on or before the
+// valuation date (a later grant is not outstanding at the period end and is
+// left out, with a warning), or every error found.
+func gatherInputs(s *grants.Schedule) ([]*valued, []error, []string) {
 	var out []*valued
 	var errs []error
+	var warns []string
 	for _, g := range s.Grants {
+		if valuation.Days(s.Company.ValuationDate, g.GrantDate) > 0 {
+			warns = append(warns, fmt.Sprintf("grant %s, dated %s after the valuation date %s, is left out of this valuation",
+				g.ID, report.DateOf(g.GrantDate), report.DateOf(s.Company.ValuationDate)))
+			continue
+		}
 		in, err := s.Inputs(g)
 		if err != nil {
 			errs = append(errs, err)
@@ -61,7 +69,7 @@ func gatherInputs(s *grants.Schedule) ([]*valued, []error) {
 		}
 		out = append(out, v)
 	}
-	return out, errs
+	return out, errs, warns
 }
 
 // dilution is how a warrant grant dilutes: its own shares against the

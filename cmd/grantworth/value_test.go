@@ -389,3 +389,35 @@ func TestProgressBar(t *testing.T) {
 		t.Errorf("progress on a non-terminal wrote %q", buf.String())
 	}
 }
+
+// --valuation-date moves the period end: grants made after it are left out
+// with a warning, and the period is the quarter ending on it.
+func TestValueValuationDate(t *testing.T) {
+	dir := filepath.Join(t.TempDir(), "q2")
+	code, _, errs := runArgs(t, "value", sampleXLSX, "--out", dir, "--valuation-date", "2026-06-30")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	js, _ := os.ReadFile(filepath.Join(dir, "valuation.json"))
+	var m report.Model
+	if err := json.Unmarshal(js, &m); err != nil {
+		t.Fatal(err)
+	}
+	if m.ValuationDate.String() != "2026-06-30" || m.PeriodStart.String() != "2026-04-01" {
+		t.Errorf("valuation date %s, period start %s; want 2026-06-30 and 2026-04-01", m.ValuationDate, m.PeriodStart)
+	}
+	left := 0
+	for _, w := range m.Warnings {
+		if strings.Contains(w, "is left out of this valuation") {
+			left++
+		}
+	}
+	for _, g := range m.Grants {
+		if g.GrantDate.Time().After(m.ValuationDate.Time()) {
+			t.Errorf("grant %s dated %s is valued as of %s", g.ID, g.GrantDate, m.ValuationDate)
+		}
+	}
+	if left == 0 {
+		t.Error("no warning names the grants made after the valuation date")
+	}
+}
