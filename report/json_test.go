@@ -144,3 +144,24 @@ func TestJSONDeterministic(t *testing.T) {
 		t.Fatal("two renderings of the same Model differ")
 	}
 }
+
+// WriteJSON streams the file field by field and grant by grant; the bytes
+// must be those of encoding/json's indenting Encoder on the whole Model.
+func TestJSONStreamingMatchesEncoder(t *testing.T) {
+	m := fixture()
+	m.Expense = &Expense{Periods: []ExpensePeriod{{Start: day("2026-07-01"), End: day("2026-09-30"), Amount: 1.5}}}
+	m.Grants[0].Holder = `quote " backslash \ brace { bracket ] <tag> & é`
+	var got, want bytes.Buffer
+	if err := WriteJSON(&got, m); err != nil {
+		t.Fatal(err)
+	}
+	enc := json.NewEncoder(&want)
+	enc.SetIndent("", "  ")
+	enc.SetEscapeHTML(false)
+	if err := enc.Encode(m); err != nil {
+		t.Fatal(err)
+	}
+	if !bytes.Equal(got.Bytes(), want.Bytes()) {
+		t.Fatalf("streamed JSON differs from the Encoder's:\n got %d bytes\nwant %d bytes", got.Len(), want.Len())
+	}
+}

@@ -87,7 +87,9 @@ func WriteMemo(w io.Writer, m *Model) error {
 	d.cover()
 	for i, s := range steps {
 		newPage := map[string]bool{"summary": true, "methodology": true, "results": true, "sensitivity": true}[s.Key]
-		d.Section(i+1, s.Title, newPage)
+		// The caution is kept on one page: it is the part no reader may miss.
+		keep := map[string]float64{"caution": 80}[s.Key]
+		d.section(i+1, s.Title, newPage, keep)
 		if err := s.Write(d, m); err != nil {
 			return fmt.Errorf("memo section %s: %w", s.Title, err)
 		}
@@ -250,9 +252,13 @@ func (d *Memo) cover() {
 
 // Section starts numbered section n, on a new page if asked or if little
 // room is left.
-func (d *Memo) Section(n int, title string, newPage bool) {
+func (d *Memo) Section(n int, title string, newPage bool) { d.section(n, title, newPage, 0) }
+
+// section is Section that also starts a new page unless keep millimetres
+// are left.
+func (d *Memo) section(n int, title string, newPage bool, keep float64) {
 	p := d.pdf
-	if newPage || p.GetY() > pageH-marginB-45 {
+	if newPage || p.GetY() > pageH-marginB-max(45, keep) {
 		p.AddPage()
 	} else {
 		p.Ln(6)

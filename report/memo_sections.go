@@ -111,7 +111,11 @@ func (d *Memo) assumptions(m *Model) error {
 	var order []key
 	for _, a := range assumed {
 		sheet, _, _ := strings.Cut(a.Ref, "!")
-		k := key{a.Name, assumptionText(a, m.Company.Currency), a.Source, sheet}
+		src := a.Source
+		if a.Ref != "" && strings.Contains(a.Ref, "!") {
+			src = strings.ReplaceAll(src, a.Ref, sheet) // "Grants!Q7 (grant row)" groups as "Grants (grant row)"
+		}
+		k := key{a.Name, assumptionText(a, m.Company.Currency), src, sheet}
 		if seen[k] == 0 {
 			order = append(order, k)
 			first[k] = a

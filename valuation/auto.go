@@ -64,8 +64,8 @@ func latticeAuto(t Terms, vestYears []float64, m Market, conv Convention) ([]Res
 	conv.StepsPerYear = false
 	nmin := minStepsForProb(t, m)
 	if nmin > MaxLatticeSteps {
-		return nil, inputErr("no step count keeps the up-probability in (0, 1): volatility %v is too low for the rates of the curve (forward up to %v) and dividend yield %v",
-			m.VolAnnual, maxForward(t, m), m.DividendYield)
+		return nil, inputErr("no step count up to %d keeps the up-probability in (0, 1): volatility %v is too low for the rates of the curve (forward up to %.4g) and dividend yield %v",
+			MaxLatticeSteps, m.VolAnnual, maxForward(t, m), m.DividendYield)
 	}
 	for {
 		rs, err := latticeAutoSteps(t, vestYears, m, conv, nmin)

@@ -147,7 +147,7 @@ func latticeRaw(t Terms, vestYears []float64, m Market, o LatticeOptions) ([]Res
 	w := getWork(n)
 	defer putWork(w)
 	if err := w.build(t, m, n, o.Convention, false); err != nil {
-		return nil, err
+		return nil, fmt.Errorf("%w; use at least %d steps over the term, or auto", err, minStepsForProb(t, m))
 	}
 	steps := make([]int, len(vestYears))
 	for i, v := range vestYears {

@@ -1,17 +1,20 @@
 package main
 
 import (
+	"bufio"
 	"errors"
 	"fmt"
+	"io"
 	"io/fs"
 	"os"
 	"path/filepath"
 )
 
-// outFile is one output: its name in the output folder and its bytes.
+// outFile is one output: its name in the output folder and the function
+// that writes its bytes.
 type outFile struct {
-	name string
-	data []byte
+	name  string
+	write func(io.Writer) error
 }
 
 // existingOutputs lists the outputs that already exist in dir.
@@ -28,8 +31,8 @@ func existingOutputs(dir string, names []string) ([]string, error) {
 	return have, nil
 }
 
-// writeAll writes every file into dir all or nothing: each goes to a
-// temporary file in dir, which is written, synced and closed; only when all
+// writeAll writes every file into dir all or nothing: each is rendered into
+// a temporary file in dir, which is written, synced and closed; only when all
 // are ready are they renamed into place, and the directory is synced. On any
 // failure the temporary files are removed, and files already renamed that
 // did not exist before are removed too, so a failed run leaves no partial
@@ -93,7 +96,12 @@ func writeTemp(dir string, f outFile) (string, error) {
 		return "", err
 	}
 	name := tf.Name()
-	if _, err := tf.Write(f.data); err != nil {
+	bw := bufio.NewWriterSize(tf, 1<<16)
+	if err := f.write(bw); err != nil {
+		tf.Close()
+		return name, fmt.Errorf("%s: %w", f.name, err)
+	}
+	if err := bw.Flush(); err != nil {
 		tf.Close()
 		return name, fmt.Errorf("writing %s: %w", name, err)
 	}

@@ -1,7 +1,6 @@
 package main
 
 import (
-	"bytes"
 	"crypto/sha256"
 	"encoding/hex"
 	"errors"
@@ -10,6 +9,7 @@ import (
 	"io/fs"
 	"os"
 	"path/filepath"
+	"runtime/debug"
 	"sort"
 	"strings"
 	"time"
@@ -74,7 +74,16 @@ IFRS 2 or local rules).`,
 	return cmd
 }
 
+// memoryLimit is the soft limit on the Go heap during value (unless the
+// GOMEMLIMIT environment variable sets one): a large ledger's workbook
+// makes much short-lived garbage, and collecting it sooner keeps the
+// process within DESIGN §5's budget of 1 GiB at little cost in time.
+const memoryLimit = 768 << 20
+
 func runValue(o *valueOptions) error {
+	if os.Getenv("GOMEMLIMIT") == "" {
+		defer debug.SetMemoryLimit(debug.SetMemoryLimit(memoryLimit))
+	}
 	// Refuse early, before any work, when an output is in the way.
 	if !o.force {
 		have, err := existingOutputs(o.out, outputNames)
@@ -131,7 +140,7 @@ func runValue(o *valueOptions) error {
 		fresh.Dropped = again.Dropped
 		rep.Merge(fresh)
 	}
-	vs, inErrs := gatherInputs(s)
+	vs, inErrs, skipped := gatherInputs(s)
 	if !rep.OK() || len(inErrs) > 0 {
 		return printProblems(o.io.Err, rep, inErrs)
 	}
@@ -147,16 +156,22 @@ func runValue(o *valueOptions) error {
 	settings := report.Model{
 		Tool:     report.Tool{Name: "grantworth", Version: version},
 		Input:    report.Input{Path: filepath.ToSlash(o.path), SHA256: sum},
-		Warnings: warningTexts(rep),
+		Warnings: append(warningTexts(rep), skipped...),
 	}
 	m, err := p.buildModel(vs, settings)
 	bar.finish()
 	if err != nil {
 		return err
 	}
-	files, err := render(m)
-	if err != nil {
-		return err
+	files := outputs(m)
+	if o.io.ErrIsTerminal {
+		for i := range files {
+			f := files[i]
+			files[i].write = func(w io.Writer) error {
+				fmt.Fprintf(o.io.Err, "writing %s\n", f.name)
+				return f.write(w)
+			}
+		}
 	}
 	if err := writeAll(o.out, files, o.force); err != nil {
 		return err
@@ -234,20 +249,16 @@ func hashInput(path string) (string, error) {
 	return hex.EncodeToString(h.Sum(nil)), nil
 }
 
-// render lays the Model out as the three files, in memory, so that nothing
-// is written unless all three could be made.
-func render(m *report.Model) ([]outFile, error) {
-	var pdf, xlsx, js bytes.Buffer
-	if err := report.WriteMemo(&pdf, m); err != nil {
-		return nil, fmt.Errorf("memo.pdf: %w", err)
+// outputs are the three files, each rendered from the Model straight into
+// its temporary file by writeAll, so that a large ledger's files are never
+// all in memory at once and nothing is renamed into place unless all three
+// were made.
+func outputs(m *report.Model) []outFile {
+	return []outFile{
+		{"memo.pdf", func(w io.Writer) error { return report.WriteMemo(w, m) }},
+		{"valuation.xlsx", func(w io.Writer) error { return report.WriteWorkbook(w, m) }},
+		{"valuation.json", func(w io.Writer) error { return report.WriteJSON(w, m) }},
 	}
-	if err := report.WriteWorkbook(&xlsx, m); err != nil {
-		return nil, fmt.Errorf("valuation.xlsx: %w", err)
-	}
-	if err := report.WriteJSON(&js, m); err != nil {
-		return nil, fmt.Errorf("valuation.json: %w", err)
-	}
-	return []outFile{{"memo.pdf", pdf.Bytes()}, {"valuation.xlsx", xlsx.Bytes()}, {"valuation.json", js.Bytes()}}, nil
 }
 
 func printSummary(w io.Writer, m *report.Model, dir string) {

@@ -45,11 +45,19 @@ type pipeline struct {
 	warnings []string
 }
 
-// gatherInputs collects every grant's inputs, or every error found.
-func gatherInputs(s *grants.Schedule) ([]*valued, []error) {
+// gatherInputs collects the inputs of every grant made on or before the
+// valuation date (a later grant is not outstanding at the period end and is
+// left out, with a warning), or every error found.
+func gatherInputs(s *grants.Schedule) ([]*valued, []error, []string) {
 	var out []*valued
 	var errs []error
+	var warns []string
 	for _, g := range s.Grants {
+		if valuation.Days(s.Company.ValuationDate, g.GrantDate) > 0 {
+			warns = append(warns, fmt.Sprintf("grant %s, dated %s after the valuation date %s, is left out of this valuation",
+				g.ID, report.DateOf(g.GrantDate), report.DateOf(s.Company.ValuationDate)))
+			continue
+		}
 		in, err := s.Inputs(g)
 		if err != nil {
 			errs = append(errs, err)
@@ -61,7 +69,7 @@ func gatherInputs(s *grants.Schedule) ([]*valued, []error) {
 		}
 		out = append(out, v)
 	}
-	return out, errs
+	return out, errs, warns
 }
 
 // dilution is how a warrant grant dilutes: its own shares against the
@@ -167,8 +175,12 @@ func (p *pipeline) valueSet(vs []*valued, sh shift, progress func(done, total in
 			jobOf = append(jobOf, i)
 		}
 	}
-	res := valuation.RunJobs(jobs, 0, progress)
-	for j, r := range res {
+	// Grants with the same terms, vesting and market (a board's batch of
+	// grants on one date) are valued once.
+	uniq, index := dedupJobs(jobs)
+	res := valuation.RunJobs(uniq, 0, progress)
+	for j := range jobs {
+		r := res[index[j]]
 		v := vs[jobOf[j]]
 		if r.Err != nil {
 			return nil, fmt.Errorf("grant %s: %w", v.in.Grant.ID, r.Err)
@@ -176,6 +188,57 @@ func (p *pipeline) valueSet(vs []*valued, sh shift, progress func(done, total in
 		out[jobOf[j]] = r.Tranches
 	}
 	return out, nil
+}
+
+// dedupJobs returns the distinct jobs and, for each job, the index of its
+// distinct copy. Jobs are the same when every number that enters the
+// lattice is the same, bit for bit.
+func dedupJobs(jobs []valuation.Job) ([]valuation.Job, []int) {
+	seen := map[string]int{}
+	index := make([]int, len(jobs))
+	var uniq []valuation.Job
+	for i, j := range jobs {
+		k := jobKey(j)
+		u, ok := seen[k]
+		if !ok {
+			u = len(uniq)
+			seen[k] = u
+			uniq = append(uniq, j)
+		}
+		index[i] = u
+	}
+	return uniq, index
+}
+
+func jobKey(j valuation.Job) string {
+	b := make([]byte, 0, 256)
+	f := func(x float64) { b = strconv.AppendUint(b, math.Float64bits(x), 16); b = append(b, ',') }
+	t, m := j.Terms, j.Market
+	f(t.Strike)
+	f(t.YearsToExpiry)
+	f(t.ExerciseMultiple)
+	f(t.ExitRate)
+	b = strconv.AppendBool(b, t.Rational)
+	b = strconv.AppendBool(b, t.European)
+	b = append(b, '|')
+	for _, v := range j.VestYears {
+		f(v)
+	}
+	b = append(b, '|')
+	f(m.Spot)
+	f(m.VolAnnual)
+	f(m.DividendYield)
+	if m.Curve != nil {
+		ten, zs := m.Curve.Points()
+		for i := range ten {
+			f(ten[i])
+			f(zs[i])
+		}
+	}
+	b = append(b, '|')
+	b = strconv.AppendInt(b, int64(j.Options.Steps), 10)
+	b = append(b, fmt.Sprintf("%+v", j.Options.Convention)...)
+	return string(b)
 }
 
 // buildModel values everything and fills the report Model.

@@ -3,8 +3,10 @@ package main
 import (
 	"bytes"
 	"encoding/json"
+	"errors"
 	"flag"
 	"fmt"
+	"io"
 	"math"
 	"os"
 	"os/exec"
@@ -337,7 +339,10 @@ func TestWriteAllFailureLeavesNothing(t *testing.T) {
 	if err := os.MkdirAll(filepath.Join(out, "valuation.json", "x"), 0o755); err != nil {
 		t.Fatal(err)
 	}
-	files := []outFile{{"memo.pdf", []byte("a")}, {"valuation.xlsx", []byte("b")}, {"valuation.json", []byte("c")}}
+	text := func(s string) func(io.Writer) error {
+		return func(w io.Writer) error { _, err := io.WriteString(w, s); return err }
+	}
+	files := []outFile{{"memo.pdf", text("a")}, {"valuation.xlsx", text("b")}, {"valuation.json", text("c")}}
 	if err := writeAll(out, files, true); err == nil {
 		t.Fatal("writeAll over a folder named valuation.json succeeded")
 	}
@@ -351,6 +356,18 @@ func TestWriteAllFailureLeavesNothing(t *testing.T) {
 	}
 	if err := writeAll(block, files, false); err == nil {
 		t.Error("writeAll into a file succeeded")
+	}
+	// A renderer that fails after writing part of its file.
+	out2 := filepath.Join(dir, "out2")
+	broken := []outFile{{"memo.pdf", text("a")}, {"valuation.xlsx", func(w io.Writer) error {
+		io.WriteString(w, "half a workbook")
+		return errors.New("renderer failed")
+	}}, {"valuation.json", text("c")}}
+	if err := writeAll(out2, broken, false); err == nil || !strings.Contains(err.Error(), "renderer failed") {
+		t.Fatalf("writeAll with a failing renderer: %v", err)
+	}
+	if ents, _ := os.ReadDir(out2); len(ents) != 0 {
+		t.Errorf("a failed render left %d files behind", len(ents))
 	}
 }
 
@@ -370,5 +387,37 @@ func TestProgressBar(t *testing.T) {
 	p.finish()
 	if buf.Len() != 0 {
 		t.Errorf("progress on a non-terminal wrote %q", buf.String())
+	}
+}
+
+// --valuation-date moves the period end: grants made after it are left out
+// with a warning, and the period is the quarter ending on it.
+func TestValueValuationDate(t *testing.T) {
+	dir := filepath.Join(t.TempDir(), "q2")
+	code, _, errs := runArgs(t, "value", sampleXLSX, "--out", dir, "--valuation-date", "2026-06-30")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	js, _ := os.ReadFile(filepath.Join(dir, "valuation.json"))
+	var m report.Model
+	if err := json.Unmarshal(js, &m); err != nil {
+		t.Fatal(err)
+	}
+	if m.ValuationDate.String() != "2026-06-30" || m.PeriodStart.String() != "2026-04-01" {
+		t.Errorf("valuation date %s, period start %s; want 2026-06-30 and 2026-04-01", m.ValuationDate, m.PeriodStart)
+	}
+	left := 0
+	for _, w := range m.Warnings {
+		if strings.Contains(w, "is left out of this valuation") {
+			left++
+		}
+	}
+	for _, g := range m.Grants {
+		if g.GrantDate.Time().After(m.ValuationDate.Time()) {
+			t.Errorf("grant %s dated %s is valued as of %s", g.ID, g.GrantDate, m.ValuationDate)
+		}
+	}
+	if left == 0 {
+		t.Error("no warning names the grants made after the valuation date")
 	}
 }
