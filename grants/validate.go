@@ -405,6 +405,10 @@ func (v *validator) events() {
 			v.rep.errf(ref("date"), "date", isoDay(e.Date), ErrRange, "is before the grant date %s of grant %s (%s)", isoDay(g.GrantDate), g.ID, s.cell(SheetGrants, "grant_date", g.Row, g.Refs).Cell)
 			continue
 		}
+		if !g.ExpiryDate.IsZero() && e.Date.After(g.ExpiryDate) {
+			v.rep.errf(ref("date"), "date", isoDay(e.Date), ErrRange, "is after the expiry date %s of grant %s (%s)", isoDay(g.ExpiryDate), g.ID, s.cell(SheetGrants, "expiry_date", g.Row, g.Refs).Cell)
+			continue
+		}
 		if vd := s.Company.ValuationDate; !vd.IsZero() && e.Date.After(vd) {
 			v.rep.warnf(ref("date"), "date", isoDay(e.Date), ErrRange, "is after the valuation date %s", isoDay(vd))
 		}

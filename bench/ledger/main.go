@@ -13,6 +13,7 @@ import (
 	"bytes"
 	"flag"
 	"fmt"
+	"math"
 	"math/rand/v2"
 	"os"
 	"time"
@@ -83,5 +84,5 @@ func priceAt(s *grants.Schedule, d time.Time) float64 {
 			p = pp.Price
 		}
 	}
-	return float64(int(p*100+0.5)) / 100
+	return math.Ceil(p*100) / 100 // at the money or just above: no in-the-money warning
 }

@@ -195,6 +195,8 @@ var cases = []corpusCase{
 		want: []string{`Grants!F5 (expiry_date): "2026-06-01" is on or before the valuation date 2026-09-30: liability-classified warrant PB-4`}},
 	{name: "event-before-grant", edits: []edit{{"events.csv", "PB-1,2026-03-15", "PB-1,2023-03-15"}},
 		want: []string{`Events!B2 (date): "2023-03-15" is before the grant date 2024-03-01 of grant PB-1 (C2)`}},
+	{name: "event-after-expiry", edits: []edit{{"events.csv", "PB-1,2026-03-15", "PB-1,2034-06-01"}},
+		want: []string{`Events!B2 (date): "2034-06-01" is after the expiry date 2034-03-01 of grant PB-1 (F2)`}},
 	{name: "unknown-compounding", edits: []edit{{"rates.csv", "2024-01-01,1,0.045,continuous", "2024-01-01,1,0.045,monthly"}},
 		want: []string{`Rates!D2 (compounding): "monthly" is not one of continuous, annual, semiannual, par-semiannual`}},
 	{name: "bad-currency", edits: []edit{{"company.csv", "currency,USD", "currency,US$"}},
