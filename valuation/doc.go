@@ -20,7 +20,8 @@
 //
 // Bad data (a negative volatility, vesting after expiry) returns an error
 // that names the input and its value. Programmer misuse, such as a nil curve
-// where one is required, panics.//
+// where one is required, panics.
+//
 // # The employee-option lattice
 //
 // Lattice and LatticeTranches value an option on a Cox-Ross-Rubinstein tree

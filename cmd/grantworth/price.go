@@ -86,7 +86,7 @@ European.
 The figures are estimates, not an audit opinion: defer to licensed auditors
 or valuation professionals and the accounting rules that apply to you
 (ASC 718, IFRS 2 or local rules).`,
-		Example: `  # A Halvard Bioworks option: 4-year vesting, exercise at 2.5x the strike, 8% of vested holders leave a year
+		Example: `  # A Tarnwick Labs option: 4-year vesting, exercise at 2.5x the strike, 8% of vested holders leave a year
   grantworth price --spot 12 --strike 12 --years 10 --vol 0.55 --rate 0.04 \
       --vest-years 4 --exercise-multiple 2.5 --exit-rate 0.08
 
@@ -96,7 +96,7 @@ or valuation professionals and the accounting rules that apply to you
   grantworth price --spot 12 --strike 12 --years 10 --vol 0.55 --rate 0.04 \
       --vest-years 4 --exercise-multiple 2.5 --exit-rate 0.08 --method mc
 
-  # Warrants Halvard issued to a lender: 400,000 on 25,000,000 shares, American
+  # Warrants Tarnwick issued to a lender: 400,000 on 25,000,000 shares, American
   grantworth price --spot 12 --strike 15 --years 7 --vol 0.55 --rate 0.04 \
       --american --shares-outstanding 25000000 --warrants 400000`,
 		Args: cobra.NoArgs,

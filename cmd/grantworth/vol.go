@@ -63,7 +63,7 @@ match it to the award's expected term).
 The figure is an estimate, not an audit opinion: defer to licensed auditors
 or valuation professionals and the accounting rules that apply to you
 (ASC 718, IFRS 2 or local rules).`,
-		Example: `  # Halvard Bioworks values its options with five peers, six years to the period end
+		Example: `  # Tarnwick Labs values its options with five peers, six years to the period end
   grantworth vol sample/peers/*.csv --as-of 2026-09-30 --lookback 6
 
   # An Assumptions-sheet row (key,value,source) and a chart of rolling one-year volatility

@@ -1,8 +1,8 @@
 //go:build ignore
 
 // Command gen writes the demo peer price histories in this folder: five
-// invented guideline companies of the invented demo company Halvard
-// Bioworks, daily closes to 2026-09-30. The figures are invented (geometric
+// invented guideline companies of the invented demo company Tarnwick
+// Labs, daily closes to 2026-09-30. The figures are invented (geometric
 // Brownian motion with a fixed seed), for the demo only.
 //
 // Run from the repository root:
