@@ -394,9 +394,18 @@ func TestProgressBar(t *testing.T) {
 // with a warning, and the period is the quarter ending on it.
 func TestValueValuationDate(t *testing.T) {
 	dir := filepath.Join(t.TempDir(), "q2")
-	code, _, errs := runArgs(t, "value", sampleXLSX, "--out", dir, "--valuation-date", "2026-06-30")
+	// On a terminal, progress goes to stderr; the summary stays on stdout.
+	var out, errb bytes.Buffer
+	code := run([]string{"value", sampleXLSX, "--out", dir, "--valuation-date", "2026-06-30"},
+		&IO{In: strings.NewReader(""), Out: &out, Err: &errb, ErrIsTerminal: true})
 	if code != 0 {
-		t.Fatalf("exit %d: %s", code, errs)
+		t.Fatalf("exit %d: %s", code, errb.String())
+	}
+	if e := errb.String(); !strings.Contains(e, "\r") || !strings.Contains(e, "valuing grants") || !strings.Contains(e, "writing memo.pdf") {
+		t.Errorf("terminal stderr = %q, want a progress bar and the files being written", e)
+	}
+	if strings.Contains(out.String(), "\r") {
+		t.Error("progress went to stdout")
 	}
 	js, _ := os.ReadFile(filepath.Join(dir, "valuation.json"))
 	var m report.Model
