@@ -430,3 +430,16 @@ func TestValueValuationDate(t *testing.T) {
 		t.Error("no warning names the grants made after the valuation date")
 	}
 }
+
+// End to end on the sample: read, value, render, write. Run briefly:
+// go test ./cmd/grantworth -run - -bench ValueSample -benchtime 2x
+func BenchmarkValueSample(b *testing.B) {
+	b.ReportAllocs()
+	for i := 0; i < b.N; i++ {
+		dir := b.TempDir()
+		var out, errb bytes.Buffer
+		if code := run([]string{"value", sampleXLSX, "--out", dir}, &IO{In: strings.NewReader(""), Out: &out, Err: &errb}); code != 0 {
+			b.Fatalf("exit %d: %s", code, errb.String())
+		}
+	}
+}
