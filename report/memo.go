@@ -38,6 +38,7 @@ type Memo struct {
 	sections map[string]int
 	images   int
 	widths   map[int]bool // pixel widths of the images placed so far
+	sub      string       // a sub-heading not drawn yet: it goes with what follows
 }
 
 // Page geometry, in millimetres (A4).
@@ -257,6 +258,7 @@ func (d *Memo) Section(n int, title string, newPage bool) { d.section(n, title, 
 // section is Section that also starts a new page unless keep millimetres
 // are left.
 func (d *Memo) section(n int, title string, newPage bool, keep float64) {
+	d.flushSub(0)
 	p := d.pdf
 	if newPage || p.GetY() > pageH-marginB-max(45, keep) {
 		p.AddPage()
@@ -270,10 +272,23 @@ func (d *Memo) section(n int, title string, newPage bool, keep float64) {
 	p.Ln(2)
 }
 
-// Sub is a sub-heading.
+// Sub is a sub-heading. It is drawn with whatever comes next, on the same
+// page, so that it is never left alone at the foot of a page.
 func (d *Memo) Sub(title string) {
+	d.flushSub(0)
+	d.sub = title
+}
+
+// flushSub draws a pending sub-heading, first starting a new page unless
+// the heading and next millimetres of what follows it fit.
+func (d *Memo) flushSub(next float64) {
+	if d.sub == "" {
+		return
+	}
+	title := d.sub
+	d.sub = ""
 	p := d.pdf
-	d.need(20)
+	d.need(9 + next)
 	p.Ln(2)
 	p.SetFont(fontSans, "B", 10.5)
 	p.MultiCell(textW, 5.5, title, "", "L", false)
@@ -282,6 +297,7 @@ func (d *Memo) Sub(title string) {
 
 // Para is a paragraph of body text.
 func (d *Memo) Para(text string) {
+	d.flushSub(3 * bodyLine)
 	p := d.pdf
 	p.SetFont(fontSans, "", bodySize)
 	p.MultiCell(textW, bodyLine, text, "", "L", false)
@@ -290,6 +306,7 @@ func (d *Memo) Para(text string) {
 
 // Note is a small italic line, for pointers to the workbook.
 func (d *Memo) Note(text string) {
+	d.flushSub(12)
 	p := d.pdf
 	p.SetFont(fontSans, "I", 8)
 	p.SetTextColor(70, 70, 70)
@@ -299,6 +316,7 @@ func (d *Memo) Note(text string) {
 }
 
 func (d *Memo) bullet(text string) {
+	d.flushSub(2 * bodyLine)
 	p := d.pdf
 	p.SetFont(fontSans, "", bodySize)
 	x := p.GetX()
@@ -375,6 +393,7 @@ func (d *Memo) Table(cols []Col, rows [][]string) {
 		p.SetXY(marginL, y+h)
 		p.SetTextColor(0, 0, 0)
 	}
+	d.flushSub(20)
 	d.need(20)
 	head()
 	for i, r := range rows {
@@ -476,6 +495,7 @@ func (d *Memo) Chart(chart func(w, h vg.Length) ([]byte, error), w, h float64) e
 func (d *Memo) ImageAt(png []byte, x, y, w, h float64) {
 	p := d.pdf
 	if y < 0 {
+		d.flushSub(h + 2)
 		d.need(h + 2)
 		y = p.GetY()
 	}

@@ -248,6 +248,7 @@ func (d *Memo) sensitivity(m *Model) error {
 		}
 		col := i % 2
 		if col == 0 {
+			d.flushSub(ch + 2)
 			d.need(ch + 2)
 		}
 		y := d.pdf.GetY()

@@ -71,3 +71,23 @@ func TestMemoDeterministic(t *testing.T) {
 		}
 	}
 }
+
+// A ledger too long to list grant by grant is grouped by grant month, and
+// its memo stays short (issue 5: a 10,000-grant ledger still gives a
+// readable memo).
+func TestMemoLargeLedgerGrouped(t *testing.T) {
+	m := bigModel(2000)
+	text := pdfText(t, renderMemo(t, m))
+	flat := strings.Join(strings.Fields(text), " ")
+	for _, want := range []string{"By grant month", "so they are grouped here by the month of grant", "Grant month"} {
+		if !strings.Contains(flat, want) {
+			t.Errorf("memo of 2,000 grants lacks %q", want)
+		}
+	}
+	if strings.Contains(flat, "L-01999") {
+		t.Error("memo of 2,000 grants lists grants one by one")
+	}
+	if pages := strings.Count(text, "\f"); pages > 20 {
+		t.Errorf("memo of 2,000 grants has %d pages, want at most 20", pages)
+	}
+}

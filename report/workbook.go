@@ -47,7 +47,7 @@ type Book struct {
 // Styles are the cell styles of the workbook.
 type Styles struct {
 	Header, Text, Input, Int, Number, Years, Percent, Date int
-	Money, MoneyPerShare, Bold                             int
+	Money, MoneyPerShare, Bold, BoldTop, Wrap              int
 }
 
 // Column is one column of a sheet table.
@@ -202,7 +202,8 @@ func (b *Book) styles(currency string) error {
 			Border:    []excelize.Border{{Type: "bottom", Color: "1B2A33", Style: 1}},
 		}},
 		{&b.Style.Text, excelize.Style{NumFmt: 49}},
-		{&b.Style.Input, excelize.Style{NumFmt: 49, Alignment: &excelize.Alignment{WrapText: false}}},
+		{&b.Style.Input, excelize.Style{NumFmt: 49, Alignment: &excelize.Alignment{Indent: 1}}},
+		{&b.Style.Wrap, excelize.Style{Alignment: &excelize.Alignment{WrapText: true, Vertical: "top"}}},
 		{&b.Style.Int, excelize.Style{NumFmt: 3}},
 		{&b.Style.Number, excelize.Style{CustomNumFmt: strPtr("#,##0.0000")}},
 		{&b.Style.Years, excelize.Style{CustomNumFmt: strPtr("0.000")}},
@@ -211,6 +212,7 @@ func (b *Book) styles(currency string) error {
 		{&b.Style.Money, excelize.Style{CustomNumFmt: strPtr(`#,##0.00\ "` + cur + `"`)}},
 		{&b.Style.MoneyPerShare, excelize.Style{CustomNumFmt: strPtr(`#,##0.0000\ "` + cur + `"`)}},
 		{&b.Style.Bold, excelize.Style{Font: &excelize.Font{Bold: true}}},
+		{&b.Style.BoldTop, excelize.Style{Font: &excelize.Font{Bold: true}, Alignment: &excelize.Alignment{Vertical: "top"}}},
 	}
 	for _, s := range fmts {
 		id, err := b.f.NewStyle(&s.st)
@@ -232,6 +234,17 @@ func (b *Book) NewTable(name string, cols []Column, rows int) (*Table, error) {
 		return nil, err
 	}
 	if err := b.f.AutoFilter(name, "A1:"+last, nil); err != nil {
+		return nil, err
+	}
+	// Printed, a sheet is landscape and one page wide, header row repeated.
+	land, one, none, fit := "landscape", 1, 0, true
+	if err := b.f.SetPageLayout(name, &excelize.PageLayoutOptions{Orientation: &land, FitToWidth: &one, FitToHeight: &none}); err != nil {
+		return nil, err
+	}
+	if err := b.f.SetSheetProps(name, &excelize.SheetPropsOptions{FitToPage: &fit}); err != nil {
+		return nil, err
+	}
+	if err := b.f.SetDefinedName(&excelize.DefinedName{Name: "_xlnm.Print_Titles", RefersTo: "'" + name + "'!$1:$1", Scope: name}); err != nil {
 		return nil, err
 	}
 	sw, err := b.f.NewStreamWriter(name)
@@ -261,6 +274,26 @@ func (b *Book) NewTable(name string, cols []Column, rows int) (*Table, error) {
 func (t *Table) Row(values ...any) error {
 	t.row++
 	return t.sw.SetRow(fmt.Sprintf("A%d", t.row), values)
+}
+
+// TallRow appends one row of the given height in points.
+func (t *Table) TallRow(height float64, values ...any) error {
+	t.row++
+	return t.sw.SetRow(fmt.Sprintf("A%d", t.row), values, excelize.RowOpts{Height: height})
+}
+
+// Merge merges the cells from column first to column last (1-based) of the
+// last row written.
+func (t *Table) Merge(first, last int) error {
+	a, err := excelize.CoordinatesToCellName(first, t.row)
+	if err != nil {
+		return err
+	}
+	b, err := excelize.CoordinatesToCellName(last, t.row)
+	if err != nil {
+		return err
+	}
+	return t.sw.MergeCell(a, b)
 }
 
 // Skip leaves n empty rows.
@@ -350,7 +383,10 @@ func writeSummary(b *Book, m *Model) error {
 		}
 	}
 	t.Skip(1)
-	if err := t.Row(b.Cell(b.Style.Bold, "Caution"), m.Caution); err != nil {
+	if err := t.TallRow(48, b.Cell(b.Style.BoldTop, "Caution"), b.Cell(b.Style.Wrap, m.Caution)); err != nil {
+		return err
+	}
+	if err := t.Merge(2, len(cols)); err != nil {
 		return err
 	}
 	return t.Close()
@@ -439,9 +475,11 @@ const (
 )
 
 // bsmFormulas are the Black-Scholes-Merton call with dividend yield on the
-// row's simplified term and rate, in Excel syntax: d1, d2 and the value,
-// each in its own column so that an auditor can follow them. An RSU's
-// comparison value is the share price less the dividends forgone to
+// row's term and rate, in the file's formula syntax (NORM.S.DIST carries
+// the _xlfn. prefix that the file format requires of functions added in
+// Excel 2010; without it spreadsheet programs show #NAME?): d1, d2 and the
+// value, each in its own column so that an auditor can follow them. An
+// RSU's comparison value is the share price less the dividends forgone to
 // vesting, and has no d1 or d2.
 func bsmFormulas(row int, instrument string) (d1, d2, value string) {
 	c := func(col string) string { return fmt.Sprintf("%s%d", col, row) }
@@ -451,7 +489,7 @@ func bsmFormulas(row int, instrument string) (d1, d2, value string) {
 	d1 = fmt.Sprintf("(LN(%s/%s)+(%s-%s+%s^2/2)*%s)/(%s*SQRT(%s))",
 		c(colSpot), c(colStrike), c(colRate), c(colDiv), c(colVol), c(colTerm), c(colVol), c(colTerm))
 	d2 = fmt.Sprintf("%s-%s*SQRT(%s)", c(colD1), c(colVol), c(colTerm))
-	value = fmt.Sprintf("%s*EXP(-%s*%s)*NORM.S.DIST(%s,TRUE)-%s*EXP(-%s*%s)*NORM.S.DIST(%s,TRUE)",
+	value = fmt.Sprintf("%s*EXP(-%s*%s)*_xlfn.NORM.S.DIST(%s,TRUE)-%s*EXP(-%s*%s)*_xlfn.NORM.S.DIST(%s,TRUE)",
 		c(colSpot), c(colDiv), c(colTerm), c(colD1), c(colStrike), c(colRate), c(colTerm), c(colD2))
 	return d1, d2, value
 }
@@ -590,7 +628,7 @@ func writeAbout(b *Book, m *Model) error {
 		{"Forfeitures", b.Text(m.Settings.Forfeitures)},
 		{"Monte Carlo cross-check", m.Settings.MonteCarlo},
 		{"Sensitivity runs", m.Settings.Sensitivities},
-		{"Formulas", "Tranches columns V to X recompute the simplified-method Black-Scholes-Merton value from columns G, H, J, K, M, S and T with NORM.S.DIST; column U is the tool's own figure. Excel recalculates them on opening."},
+		{"Formulas", "Tranches columns V to X recompute the simplified-method Black-Scholes-Merton value from columns G, H, J, K, M, S and T with NORM.S.DIST; column U is the tool's own figure. Spreadsheet programs recalculate them when the file is opened."},
 		{"Caution", m.Caution},
 	}
 	t, err := b.NewTable(SheetAbout, []Column{{"Item", 26}, {"Value", 110}}, len(rows))
@@ -598,7 +636,15 @@ func writeAbout(b *Book, m *Model) error {
 		return err
 	}
 	for _, r := range rows {
-		if err := t.Row(r[0], r[1]); err != nil {
+		v := r[1]
+		if s, ok := v.(string); ok && len(s) > 100 {
+			// About's value column is 110 characters wide.
+			if err := t.TallRow(15*float64(1+len(s)/100), b.Cell(b.Style.Wrap, r[0]), b.Cell(b.Style.Wrap, s)); err != nil {
+				return err
+			}
+			continue
+		}
+		if err := t.Row(r[0], v); err != nil {
 			return err
 		}
 	}

@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"strconv"
+	"strings"
 	"time"
 
 	"grantworth/grants"
@@ -583,8 +584,8 @@ func (p *pipeline) convergence(vs []*valued, m *report.Model) error {
 		m.Settings.MonteCarlo = "Monte Carlo check not run: " + err.Error()
 		return nil
 	}
-	m.Settings.MonteCarlo = fmt.Sprintf("%d paths (antithetic pairs, control variate), weekly grid with continuous barrier monitoring, seed %d, on grant %s tranche %d.",
-		mc.Steps, mcSeed, v.in.Grant.ID, v.in.Tranches[k].Index)
+	m.Settings.MonteCarlo = fmt.Sprintf("%s paths (antithetic pairs, control variate), weekly grid with continuous barrier monitoring, seed %d, on grant %s tranche %d.",
+		strings.TrimSuffix(money2(float64(mc.Steps)), ".00"), mcSeed, v.in.Grant.ID, v.in.Tranches[k].Index)
 	m.CrossChecks = append(m.CrossChecks, report.CrossCheck{GrantID: v.in.Grant.ID, TrancheIndex: v.in.Tranches[k].Index,
 		Method: "mc", Lattice: auto.Value, Value: mc.Value, StdErr: mc.ErrorEstimate, Paths: mc.Steps})
 	return nil

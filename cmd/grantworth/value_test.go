@@ -394,9 +394,18 @@ func TestProgressBar(t *testing.T) {
 // with a warning, and the period is the quarter ending on it.
 func TestValueValuationDate(t *testing.T) {
 	dir := filepath.Join(t.TempDir(), "q2")
-	code, _, errs := runArgs(t, "value", sampleXLSX, "--out", dir, "--valuation-date", "2026-06-30")
+	// On a terminal, progress goes to stderr; the summary stays on stdout.
+	var out, errb bytes.Buffer
+	code := run([]string{"value", sampleXLSX, "--out", dir, "--valuation-date", "2026-06-30"},
+		&IO{In: strings.NewReader(""), Out: &out, Err: &errb, ErrIsTerminal: true})
 	if code != 0 {
-		t.Fatalf("exit %d: %s", code, errs)
+		t.Fatalf("exit %d: %s", code, errb.String())
+	}
+	if e := errb.String(); !strings.Contains(e, "\r") || !strings.Contains(e, "valuing grants") || !strings.Contains(e, "writing memo.pdf") {
+		t.Errorf("terminal stderr = %q, want a progress bar and the files being written", e)
+	}
+	if strings.Contains(out.String(), "\r") {
+		t.Error("progress went to stdout")
 	}
 	js, _ := os.ReadFile(filepath.Join(dir, "valuation.json"))
 	var m report.Model
@@ -419,5 +428,18 @@ func TestValueValuationDate(t *testing.T) {
 	}
 	if left == 0 {
 		t.Error("no warning names the grants made after the valuation date")
+	}
+}
+
+// End to end on the sample: read, value, render, write. Run briefly:
+// go test ./cmd/grantworth -run - -bench ValueSample -benchtime 2x
+func BenchmarkValueSample(b *testing.B) {
+	b.ReportAllocs()
+	for i := 0; i < b.N; i++ {
+		dir := b.TempDir()
+		var out, errb bytes.Buffer
+		if code := run([]string{"value", sampleXLSX, "--out", dir}, &IO{In: strings.NewReader(""), Out: &out, Err: &errb}); code != 0 {
+			b.Fatalf("exit %d: %s", code, errb.String())
+		}
 	}
 }
