@@ -1,6 +1,13 @@
 package report
 
-import "sort"
+import (
+	"fmt"
+	"sort"
+	"strconv"
+	"time"
+
+	"grantworth/grants"
+)
 
 // Summarize fills the sums of m from its tranches: each grant's total,
 // share-weighted value per share and simplified-method total, m.Totals, and
@@ -58,4 +65,207 @@ func sortedGroups(set map[string]*Group) []Group {
 	}
 	sort.Slice(out, func(i, j int) bool { return out[i].Key < out[j].Key })
 	return out
+}
+
+// Run is what a Model says about the run itself, given by the caller: the
+// tool, the input and its hash, and the warnings found before valuing (the
+// schedule's, then the grants left out).
+type Run struct {
+	Tool     Tool
+	Input    Input
+	Warnings []string
+}
+
+// Build lays the schedule s and its valuation v into a Model: every grant
+// with its inputs, their provenance and tranche results, the sums
+// (Summarize), the sensitivity cases, the convergence study, the Monte
+// Carlo check and the period's expense attribution (AddExpense, with the
+// revaluations v already holds). It values nothing.
+func Build(s *grants.Schedule, v *grants.Valuation, run Run) (*Model, error) {
+	m := &Model{Tool: run.Tool, Input: run.Input, Warnings: append(make([]string, 0, len(run.Warnings)), run.Warnings...)}
+	m.Company = Company{Name: s.Company.Name, Currency: s.Company.Currency, SharesOutstanding: s.Company.SharesOutstanding}
+	m.ValuationDate = DateOf(s.Company.ValuationDate)
+	m.PeriodStart = DateOf(s.Company.PeriodStart)
+	m.Settings.Steps = "auto"
+	if n := v.Options.Lattice.Steps; n > 0 {
+		m.Settings.Steps = strconv.Itoa(n) + " (raw lattice)"
+	}
+	m.Settings.Attribution = string(s.Assumptions.Attribution)
+	m.Settings.Forfeitures = string(s.Assumptions.Forfeitures)
+	m.Caution = Caution
+	m.Assumptions = companyAssumptions(s)
+	for i := range v.Grants {
+		gv := &v.Grants[i]
+		m.Grants = append(m.Grants, grantOf(gv))
+		m.Assumptions = append(m.Assumptions, grantAssumptions(gv)...)
+	}
+	Summarize(m)
+	if v.SensitivitySample < len(v.Grants) {
+		m.Settings.Sensitivities = fmt.Sprintf("Each case revalues an evenly spaced sample of %d of the %d grants; its relative change is applied to the total fair value of all grants.", v.SensitivitySample, len(v.Grants))
+	} else {
+		m.Settings.Sensitivities = "Each case revalues every grant with the input moved for all of them."
+	}
+	for _, c := range v.Sensitivity {
+		sens := Sensitivity{Input: c.Input, Label: c.Label, Unit: c.Unit}
+		for _, p := range c.Points {
+			sens.Points = append(sens.Points, SensitivityPoint{Shift: p.Shift, Label: p.Label, FairValueTotal: p.FairValueTotal, Change: p.Change})
+		}
+		m.Sensitivity = append(m.Sensitivity, sens)
+	}
+	if c := v.Convergence; c != nil {
+		mc := &Convergence{GrantID: c.GrantID, TrancheIndex: c.TrancheIndex,
+			AutoValue: c.Auto.Value, AutoError: c.Auto.ErrorEstimate, AutoSteps: c.Auto.Steps}
+		for _, p := range c.Points {
+			mc.Points = append(mc.Points, ConvergencePoint{Steps: p.Steps, Value: p.Value})
+		}
+		m.Convergence = mc
+	}
+	switch {
+	case v.MonteCarloRational:
+		m.Settings.MonteCarlo = "No Monte Carlo check: the representative award allows rational early exercise, which the simulation does not model."
+	case v.MonteCarloErr != nil:
+		m.Settings.MonteCarlo = "Monte Carlo check not run: " + v.MonteCarloErr.Error()
+	case v.MonteCarlo != nil:
+		c := v.MonteCarlo
+		m.Settings.MonteCarlo = fmt.Sprintf("%s paths (antithetic pairs, control variate), weekly grid with continuous barrier monitoring, seed %d, on grant %s tranche %d.",
+			count(c.Result.Steps), c.Seed, c.GrantID, c.TrancheIndex)
+		m.CrossChecks = append(m.CrossChecks, CrossCheck{GrantID: c.GrantID, TrancheIndex: c.TrancheIndex,
+			Method: "mc", Lattice: c.Lattice, Value: c.Result.Value, StdErr: c.Result.ErrorEstimate, Paths: c.Result.Steps})
+	}
+	var price float64
+	if pp, ok := s.PriceAt(s.Company.ValuationDate); ok {
+		price = pp.Price
+	}
+	if err := AddExpense(m, s, price, v.Revalued); err != nil {
+		return nil, err
+	}
+	m.Warnings = append(m.Warnings, v.Warnings...)
+	return m, nil
+}
+
+func grantOf(gv *grants.GrantValue) Grant {
+	in, g := gv.Inputs, gv.Inputs.Grant
+	rg := Grant{
+		ID: g.ID, Holder: g.Holder, Instrument: string(g.Instrument),
+		GrantDate: DateOf(g.GrantDate), MeasurementDate: DateOf(in.MeasurementDate),
+		ExpiryDate: DateOf(g.ExpiryDate), Shares: g.Shares, Strike: g.Strike,
+		SharePrice: in.SharePrice.Value, Volatility: in.Volatility.Value, RiskFreeRate: in.RiskFreeRate.Value,
+		DividendYield: in.DividendYield.Value, ExerciseMultiple: in.ExerciseMultiple.Value,
+		PostVestingExitRate: in.ExitRate.Value, Method: "lattice",
+	}
+	switch g.Instrument {
+	case grants.RSU:
+		rg.Method = "rsu"
+	case grants.Warrant:
+		rg.Classification, rg.ExerciseStyle = string(g.Classification), string(g.ExerciseStyle)
+		if d := gv.Dilution; d != nil {
+			method := "N/(N+W) factor, new issue"
+			if d.PriceReflectsWarrants {
+				method = "Galai-Schneller"
+			}
+			rg.Method = "lattice, diluted"
+			rg.Dilution = &Dilution{SharesOutstanding: d.SharesOutstanding, Warrants: d.Warrants,
+				PriceReflectsWarrants: d.PriceReflectsWarrants, Method: method, UndilutedValue: gv.UndilutedValue}
+		}
+	}
+	for k, t := range in.Tranches {
+		term := in.Terms[k]
+		r, b := gv.Results[k], gv.BSM[k]
+		tr := Tranche{Index: t.Index, VestDate: DateOf(t.VestDate), Shares: t.Shares,
+			YearsToExpiry: term.YearsToExpiry, YearsToVest: term.YearsToVest,
+			FairValuePerShare: r.Value, ErrorEstimate: r.ErrorEstimate, ExpectedTermYears: r.ExpectedTermYears, Steps: r.Steps,
+			BSMSimplifiedValue: b.Value, SimplifiedTerm: b.ExpectedTermYears}
+		if c := in.Market.Curve; c != nil {
+			tr.RiskFreeRate = c.Zero(term.YearsToExpiry)
+			tr.SimplifiedRate = c.Zero(b.ExpectedTermYears)
+		}
+		rg.Tranches = append(rg.Tranches, tr)
+	}
+	return rg
+}
+
+func companyAssumptions(s *grants.Schedule) []Assumption {
+	c, a := s.Company, s.Assumptions
+	src := func(key string) string { return a.Sources[key] }
+	cref := func(key string) string { return c.Refs[key].String() }
+	aref := func(key string) string { return a.Refs[key].String() }
+	day := func(t time.Time) string { return DateOf(t).String() }
+	out := []Assumption{
+		{Name: "company_name", Kind: KindText, Text: c.Name, Ref: cref("company_name")},
+		{Name: "valuation_date", Kind: KindDate, Text: day(c.ValuationDate), Ref: cref("valuation_date")},
+		{Name: "period_start", Kind: KindDate, Text: day(c.PeriodStart), Ref: cref("period_start")},
+		{Name: "currency", Kind: KindText, Text: c.Currency, Ref: cref("currency")},
+		{Name: "shares_outstanding", Kind: KindNumber, Value: c.SharesOutstanding, Text: strconv.FormatFloat(c.SharesOutstanding, 'f', -1, 64), Ref: cref("shares_outstanding")},
+	}
+	num := func(key, kind string, v float64) Assumption {
+		return Assumption{Name: key, Kind: kind, Value: v, Text: strconv.FormatFloat(v, 'g', -1, 64), Ref: aref(key), Source: src(key)}
+	}
+	steps := "auto"
+	if a.Steps > 0 {
+		steps = strconv.Itoa(a.Steps)
+	}
+	out = append(out,
+		num("volatility", KindPercent, a.Volatility),
+		num("dividend_yield", KindPercent, a.DividendYield),
+		num("exercise_multiple", KindNumber, a.ExerciseMultiple),
+		num("post_vesting_exit_rate", KindPercent, a.PostVestingExitRate),
+		num("pre_vesting_forfeiture_rate", KindPercent, a.PreVestingForfeitureRate),
+		Assumption{Name: "attribution", Kind: KindText, Text: string(a.Attribution), Ref: aref("attribution"), Source: src("attribution")},
+		Assumption{Name: "forfeitures", Kind: KindText, Text: string(a.Forfeitures), Ref: aref("forfeitures"), Source: src("forfeitures")},
+		Assumption{Name: "steps", Kind: KindText, Text: steps, Ref: aref("steps"), Source: src("steps")},
+	)
+	return out
+}
+
+// grantAssumptions are the inputs a grant was valued on, each with its
+// cell and source text.
+func grantAssumptions(gv *grants.GrantValue) []Assumption {
+	in, g := gv.Inputs, gv.Inputs.Grant
+	ref := func(k string) string { return g.Refs[k].String() }
+	day := func(t time.Time) string { return DateOf(t).String() }
+	src := func(key, kind string, s grants.Source) Assumption {
+		return Assumption{GrantID: g.ID, Name: key, Kind: kind, Value: s.Value, Text: strconv.FormatFloat(s.Value, 'g', -1, 64), Ref: s.Ref.String(), Source: s.Text}
+	}
+	out := []Assumption{
+		{GrantID: g.ID, Name: "instrument", Kind: KindText, Text: string(g.Instrument), Ref: ref("instrument"), Term: true},
+		{GrantID: g.ID, Name: "grant_date", Kind: KindDate, Text: day(g.GrantDate), Ref: ref("grant_date"), Term: true},
+		{GrantID: g.ID, Name: "measurement_date", Kind: KindDate, Text: day(in.MeasurementDate), Source: measurementNote(g), Term: true},
+		{GrantID: g.ID, Name: "shares", Kind: KindNumber, Value: float64(g.Shares), Text: strconv.FormatInt(g.Shares, 10), Ref: ref("shares"), Term: true},
+	}
+	if g.Instrument != grants.RSU {
+		out = append(out,
+			Assumption{GrantID: g.ID, Name: "strike", Kind: KindMoney, Value: g.Strike, Text: strconv.FormatFloat(g.Strike, 'g', -1, 64), Ref: ref("strike"), Term: true},
+			Assumption{GrantID: g.ID, Name: "expiry_date", Kind: KindDate, Text: day(g.ExpiryDate), Ref: firstRef(g.Refs, "expiry_date", "term_years"), Term: true})
+	}
+	out = append(out, Assumption{GrantID: g.ID, Name: "vesting", Kind: KindText,
+		Text: fmt.Sprintf("%d tranches from %s", len(in.Tranches), day(g.VestStart)), Ref: firstRef(g.Refs, "vest_months", "vest_start"),
+		Source: fmt.Sprintf("%d months, cliff %d, every %d", g.VestMonths, g.CliffMonths, g.VestEvery), Term: true})
+	out = append(out, src("share_price", KindMoney, in.SharePrice))
+	if g.Instrument != grants.RSU {
+		out = append(out, src("volatility", KindPercent, in.Volatility))
+	}
+	out = append(out, src("dividend_yield", KindPercent, in.DividendYield))
+	if g.Instrument != grants.RSU {
+		out = append(out,
+			src("exercise_multiple", KindNumber, in.ExerciseMultiple),
+			src("post_vesting_exit_rate", KindPercent, in.ExitRate),
+			src("risk_free_rate", KindPercent, in.RiskFreeRate))
+	}
+	return out
+}
+
+func measurementNote(g grants.Grant) string {
+	if g.Instrument == grants.Warrant && g.Classification == grants.Liability {
+		return "valuation date: a liability-classified warrant is remeasured each period"
+	}
+	return "grant date"
+}
+
+func firstRef(refs map[string]grants.Ref, keys ...string) string {
+	for _, k := range keys {
+		if r, ok := refs[k]; ok {
+			return r.String()
+		}
+	}
+	return grants.Ref{}.String()
 }

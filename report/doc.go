@@ -4,10 +4,11 @@
 //
 // # One model, three renderers
 //
-// The caller builds one Model from the schedule, the valuation results and
-// the run's settings (valuation date, tool version, input path and its
-// SHA-256: injected, never read from a clock), calls Summarize to fill the
-// sums, and passes it to WriteJSON, WriteWorkbook and WriteMemo. The
+// Build lays a schedule and its valuation (grants.Schedule.Value) into one
+// Model with the run's settings (tool version, input path and its SHA-256:
+// injected, never read from a clock); it sums (Summarize) and attributes
+// expense (AddExpense) but values nothing. The Model goes to WriteJSON,
+// WriteWorkbook and WriteMemo. The
 // renderers value nothing and look nothing up outside the Model, so the
 // three files cannot disagree. Each writes to an io.Writer; the command
 // owns the files.

@@ -173,10 +173,6 @@ type WarrantRow struct {
 // the valuation date only.
 type Revalue func(g grants.Grant, at time.Time) ([]float64, error)
 
-// maxRemeasurements bounds the past quarter ends at which a liability
-// warrant is revalued (the most recent ones are kept).
-const maxRemeasurements = 12
-
 // AddExpense runs expense attribution and the disclosure tables for the
 // schedule's period over the valued grants of m, and fills m.Expense. It is
 // a build step, like Summarize: the renderers only lay out what it writes.
@@ -249,13 +245,7 @@ func remeasure(a *grants.AwardCost, fv []float64, end time.Time, revalue Revalue
 		only(fmt.Sprintf("it could not be valued at its grant date: %v", err))
 		return
 	}
-	var ends []time.Time
-	for q := quarterEndOf(g.GrantDate); q.Before(end); q = quarterEndOf(q.AddDate(0, 0, 1)) {
-		ends = append(ends, q)
-	}
-	if len(ends) > maxRemeasurements {
-		ends = ends[len(ends)-maxRemeasurements:]
-	}
+	ends := grants.RemeasurementDates(g.GrantDate, end)
 	var rs []grants.Remeasurement
 	for _, q := range ends {
 		v, err := revalue(g, q)
@@ -269,11 +259,6 @@ func remeasure(a *grants.AwardCost, fv []float64, end time.Time, revalue Revalue
 		a.Tranches[i].FairValue = at0[i]
 	}
 	a.Remeasurements = append(rs, grants.Remeasurement{Date: end, FairValue: fv})
-}
-
-func quarterEndOf(d time.Time) time.Time {
-	m := (int(d.Month())-1)/3*3 + 1
-	return time.Date(d.Year(), time.Month(m), 1, 0, 0, 0, 0, time.UTC).AddDate(0, 3, -1)
 }
 
 func periodsOf(ps []grants.PeriodAmount) []ExpensePeriod {

@@ -140,7 +140,7 @@ func runValue(o *valueOptions) error {
 		fresh.Dropped = again.Dropped
 		rep.Merge(fresh)
 	}
-	vs, inErrs, skipped := gatherInputs(s)
+	ins, inErrs, skipped := s.ValueInputs()
 	if !rep.OK() || len(inErrs) > 0 {
 		return printProblems(o.io.Err, rep, inErrs)
 	}
@@ -149,17 +149,22 @@ func runValue(o *valueOptions) error {
 		return err
 	}
 	bar := newProgress(o.io, "valuing grants")
-	p := &pipeline{s: s, opts: valuation.LatticeOptions{Steps: s.Assumptions.Steps}, progress: bar.update}
-	if o.io.ErrIsTerminal {
-		p.sensBar = newProgress(o.io, "sensitivity runs")
+	sensBar := newProgress(o.io, "sensitivity runs")
+	v, err := s.Value(ins, grants.ValueOptions{
+		Lattice:     valuation.LatticeOptions{Steps: s.Assumptions.Steps},
+		Progress:    bar.update,
+		Sensitivity: func(done, total int) { bar.finish(); sensBar.update(done, total) },
+	})
+	bar.finish()
+	sensBar.finish()
+	if err != nil {
+		return err
 	}
-	settings := report.Model{
+	m, err := report.Build(s, v, report.Run{
 		Tool:     report.Tool{Name: "grantworth", Version: version},
 		Input:    report.Input{Path: filepath.ToSlash(o.path), SHA256: sum},
 		Warnings: append(warningTexts(rep), skipped...),
-	}
-	m, err := p.buildModel(vs, settings)
-	bar.finish()
+	})
 	if err != nil {
 		return err
 	}
@@ -285,6 +290,15 @@ func printSummary(w io.Writer, m *report.Model, dir string) {
 		fmt.Fprintf(w, "  wrote             %s\n", filepath.Join(dir, n))
 	}
 	fmt.Fprintln(w, "Estimates, not an audit opinion; defer to your auditors and the rules that apply (ASC 718, IFRS 2 or local rules).")
+}
+
+// warningTexts returns the schedule's warnings as text, in the order found.
+func warningTexts(rep *grants.Report) []string {
+	out := make([]string, 0, len(rep.Warnings))
+	for _, w := range rep.Warnings {
+		out = append(out, w.Error())
+	}
+	return out
 }
 
 // money2 is an amount with two decimals and grouped thousands.

@@ -1,0 +1,633 @@
+package grants
+
+import (
+	"fmt"
+	"math"
+	"strconv"
+	"time"
+
+	"grantworth/valuation"
+)
+
+// The valuing half of the value command: from a validated schedule's
+// inputs to every number the reports show. Value values; it neither
+// prints nor lays anything out (package report does that).
+
+// Sizes of the extra runs. The sensitivity runs revalue every grant when
+// the ledger is small, else an evenly spaced sample of SensitivitySample
+// grants whose relative change is applied to the full total.
+const (
+	SensitivitySample = 300
+	MonteCarloPaths   = 100_000
+	MonteCarloSeed    = 1
+	// MaxRemeasurements bounds the past quarter ends at which a
+	// liability-classified warrant is revalued (the most recent are kept).
+	MaxRemeasurements = 12
+)
+
+// ConvergenceSteps are the raw step counts of the convergence study: about
+// √2 apart, so that the oscillation between them shows.
+var ConvergenceSteps = []int{25, 35, 50, 71, 100, 141, 200, 283, 400, 566, 800, 1131, 1600, 2263, 3200, 4525}
+
+// ValueOptions are the choices of one valuation run.
+type ValueOptions struct {
+	// Lattice is passed to every lattice valuation of the base and
+	// sensitivity runs (Steps 0 is the automatic, converged mode).
+	Lattice valuation.LatticeOptions
+	// Progress, when not nil, is called as the base valuation advances
+	// (done of total distinct option jobs); Sensitivity as the sensitivity
+	// cases finish.
+	Progress, Sensitivity func(done, total int)
+}
+
+// GrantValue is one grant's inputs and the value of each of its tranches.
+type GrantValue struct {
+	Inputs  Inputs
+	Results []valuation.Result // per tranche, in Inputs.Tranches order
+	// BSM is the closed-form comparison per tranche: Black-Scholes-Merton
+	// on the simplified-method term for options, over the contractual term
+	// before dilution for warrants, the RSU value itself for RSUs.
+	BSM []valuation.Result
+	// Dilution is how a warrant was diluted; nil for options, RSUs and
+	// warrants of a company without shares outstanding.
+	Dilution *valuation.Dilution
+	// UndilutedValue is, for a diluted warrant, its first tranche on the
+	// automatic lattice without dilution (0 if that failed).
+	UndilutedValue float64
+}
+
+// FairValueTotal is the sum over the tranches of value times shares.
+func (g *GrantValue) FairValueTotal() float64 {
+	var t float64
+	for k, tr := range g.Inputs.Tranches {
+		t += g.Results[k].Value * float64(tr.Shares)
+	}
+	return t
+}
+
+// Sensitivity is total fair value with one input moved for every grant.
+type Sensitivity struct {
+	Input, Label, Unit string
+	Points             []SensitivityPoint
+}
+
+// SensitivityPoint is one shifted run; Shift 0 is the base case. Shift is
+// in percentage points for rates and in the input's own unit otherwise.
+type SensitivityPoint struct {
+	Shift          float64
+	Label          string
+	FairValueTotal float64
+	Change         float64 // relative to the base case
+}
+
+// Convergence is the raw lattice against the step count for one tranche,
+// beside the automatic value.
+type Convergence struct {
+	GrantID      string
+	TrancheIndex int
+	Auto         valuation.Result
+	Points       []ConvergencePoint
+}
+
+// ConvergencePoint is a raw N-step lattice value.
+type ConvergencePoint struct {
+	Steps int
+	Value float64
+}
+
+// MonteCarloCheck is the simulation of the convergence study's tranche.
+type MonteCarloCheck struct {
+	GrantID      string
+	TrancheIndex int
+	Lattice      float64 // the automatic lattice value
+	Result       valuation.Result
+	Seed         uint64
+}
+
+// Revaluation is a liability-classified warrant's value per tranche
+// measured at Date, or the error that stopped it.
+type Revaluation struct {
+	Date   time.Time
+	Values []float64
+	Err    error
+}
+
+// Valuation is everything Value found.
+type Valuation struct {
+	Options ValueOptions
+	Grants  []GrantValue
+	// FairValueTotal sums the grants' totals in order.
+	FairValueTotal float64
+	// SensitivitySample is how many grants each sensitivity case revalued
+	// (all of them when it equals len(Grants)).
+	SensitivitySample int
+	Sensitivity       []Sensitivity
+	Convergence       *Convergence // nil without a lattice-valued tranche
+	MonteCarlo        *MonteCarloCheck
+	// MonteCarloRational is set when the check was not run because the
+	// representative award allows rational early exercise; MonteCarloErr
+	// when the simulation refused the inputs.
+	MonteCarloRational bool
+	MonteCarloErr      error
+	// Revaluations are, per liability-classified warrant's grant ID, its
+	// values at the grant date and then at RemeasurementDates, up to the
+	// first that failed.
+	Revaluations map[string][]Revaluation
+	Warnings     []string
+}
+
+// Revalued returns the stored revaluation of grant g at date at, in the
+// shape of report.Revalue.
+func (v *Valuation) Revalued(g Grant, at time.Time) ([]float64, error) {
+	for _, r := range v.Revaluations[g.ID] {
+		if r.Date.Equal(at) {
+			return r.Values, r.Err
+		}
+	}
+	return nil, fmt.Errorf("grant %s was not revalued at %s", g.ID, at.Format(time.DateOnly))
+}
+
+// RemeasurementDates are the quarter ends from the one containing
+// grantDate up to before end, the most recent MaxRemeasurements of them.
+func RemeasurementDates(grantDate, end time.Time) []time.Time {
+	var ends []time.Time
+	for q := quarterEndOf(grantDate); q.Before(end); q = quarterEndOf(q.AddDate(0, 0, 1)) {
+		ends = append(ends, q)
+	}
+	if len(ends) > MaxRemeasurements {
+		ends = ends[len(ends)-MaxRemeasurements:]
+	}
+	return ends
+}
+
+func quarterEndOf(d time.Time) time.Time {
+	m := (int(d.Month())-1)/3*3 + 1
+	return time.Date(d.Year(), time.Month(m), 1, 0, 0, 0, 0, time.UTC).AddDate(0, 3, -1)
+}
+
+// ValueInputs collects the inputs of every grant made on or before the
+// valuation date (a later grant is not outstanding at the period end and
+// is left out, with a warning in skipped), or every error found.
+func (s *Schedule) ValueInputs() (ins []Inputs, errs []error, skipped []string) {
+	for _, g := range s.Grants {
+		if valuation.Days(s.Company.ValuationDate, g.GrantDate) > 0 {
+			skipped = append(skipped, fmt.Sprintf("grant %s, dated %s after the valuation date %s, is left out of this valuation",
+				g.ID, dateText(g.GrantDate), dateText(s.Company.ValuationDate)))
+			continue
+		}
+		in, err := s.Inputs(g)
+		if err != nil {
+			errs = append(errs, err)
+			continue
+		}
+		ins = append(ins, in)
+	}
+	return ins, errs, skipped
+}
+
+func dateText(t time.Time) string {
+	if t.IsZero() {
+		return ""
+	}
+	return t.Format("2006-01-02")
+}
+
+// Value values the grants ins (from ValueInputs): options as lattice jobs
+// on all cores, warrants on the lattice with dilution, RSUs in closed
+// form, the closed-form comparison per tranche; then the sensitivity
+// cases, the convergence study and Monte Carlo check on a representative
+// tranche, and the revaluations of liability-classified warrants that
+// expense attribution needs. The result depends only on the schedule and
+// opts, never on the number of cores.
+func (s *Schedule) Value(ins []Inputs, opts ValueOptions) (*Valuation, error) {
+	p := &pricer{s: s, opts: opts.Lattice}
+	v := &Valuation{Options: opts, Grants: make([]GrantValue, len(ins))}
+	for i := range ins {
+		v.Grants[i].Inputs = ins[i]
+	}
+	base, err := p.valueSet(v.Grants, shift{}, opts.Progress)
+	if err != nil {
+		return nil, err
+	}
+	for i := range v.Grants {
+		gv := &v.Grants[i]
+		gv.Results = base[i]
+		if err := p.compare(gv); err != nil {
+			return nil, err
+		}
+		v.FairValueTotal += gv.FairValueTotal()
+	}
+	if s.Company.SharesOutstanding <= 0 {
+		for _, gv := range v.Grants {
+			if gv.Inputs.Grant.Instrument == Warrant {
+				v.Warnings = append(v.Warnings, "Company!shares_outstanding is not given, so warrants are valued without dilution")
+				break
+			}
+		}
+	}
+	if err := p.sensitivity(v, opts.Sensitivity); err != nil {
+		return nil, err
+	}
+	if err := p.convergence(v); err != nil {
+		return nil, err
+	}
+	v.Revaluations = map[string][]Revaluation{}
+	_, end := s.Period()
+	for _, gv := range v.Grants {
+		g := gv.Inputs.Grant
+		if g.Instrument != Warrant || g.Classification != Liability {
+			continue
+		}
+		var rs []Revaluation
+		for _, at := range append([]time.Time{g.GrantDate}, RemeasurementDates(g.GrantDate, end)...) {
+			vals, err := p.revalue(g, at)
+			rs = append(rs, Revaluation{Date: at, Values: vals, Err: err})
+			if err != nil {
+				break
+			}
+		}
+		v.Revaluations[g.ID] = rs
+	}
+	return v, nil
+}
+
+// pricer holds a run's schedule and lattice settings.
+type pricer struct {
+	s    *Schedule
+	opts valuation.LatticeOptions
+}
+
+// dilution is how a warrant grant dilutes: its own shares against the
+// company's shares outstanding. A liability-classified warrant is measured
+// at the valuation date, when the share price already reflects the
+// warrants (Galai-Schneller); an equity-classified one at issue, a new
+// issue (the plain factor).
+func (p *pricer) dilution(g Grant) *valuation.Dilution {
+	n := p.s.Company.SharesOutstanding
+	if n <= 0 {
+		return nil
+	}
+	return &valuation.Dilution{SharesOutstanding: n, Warrants: float64(g.Shares), PriceReflectsWarrants: g.Classification == Liability}
+}
+
+// compare fills a valued grant's closed-form comparison, dilution and
+// undiluted value.
+func (p *pricer) compare(gv *GrantValue) error {
+	in, g := gv.Inputs, gv.Inputs.Grant
+	if g.Instrument == Warrant {
+		gv.Dilution = p.dilution(g)
+		if gv.Dilution != nil && len(in.Terms) > 0 {
+			t := in.Terms[0]
+			t.Rational = t.Rational || !t.European
+			if r, err := valuation.Lattice(t, in.Market, valuation.LatticeOptions{}); err == nil {
+				gv.UndilutedValue = r.Value
+			}
+		}
+	}
+	gv.BSM = make([]valuation.Result, len(in.Terms))
+	for k, t := range in.Terms {
+		var err error
+		switch g.Instrument {
+		case RSU:
+			gv.BSM[k] = valuation.RSUValue(in.Market, t.YearsToVest)
+			continue
+		case Warrant:
+			// The simplified method is for employee options: a warrant
+			// is compared with BSM over its term, before dilution.
+			if gv.BSM[k], err = valuation.BlackScholes(t, in.Market); err != nil {
+				return fmt.Errorf("grant %s tranche %d: BSM: %w", g.ID, k+1, err)
+			}
+			continue
+		}
+		if gv.BSM[k], err = valuation.SimplifiedBSM(t, in.Market); err != nil {
+			return fmt.Errorf("grant %s tranche %d: simplified BSM: %w", g.ID, k+1, err)
+		}
+	}
+	return nil
+}
+
+// shift is one input moved by d for a sensitivity case; the zero shift is
+// the base case.
+type shift struct {
+	name string
+	d    float64
+}
+
+// shiftCase is the shifted copy of a grant's terms and market for one
+// case. curves caches the shifted copy of each curve.
+func shiftCase(in Inputs, sh shift, curves map[*valuation.Curve]*valuation.Curve) ([]valuation.Terms, valuation.Market, error) {
+	terms := append([]valuation.Terms(nil), in.Terms...)
+	m := in.Market
+	switch sh.name {
+	case "volatility":
+		m.VolAnnual = math.Max(0.01, m.VolAnnual+sh.d)
+	case "risk_free_rate":
+		c, ok := curves[m.Curve]
+		if !ok {
+			ten, zs := m.Curve.Points()
+			pts := make([]valuation.CurvePoint, len(ten))
+			for i := range ten {
+				pts[i] = valuation.CurvePoint{Tenor: ten[i], Rate: zs[i] + sh.d}
+			}
+			var err error
+			if c, err = valuation.NewCurve(pts); err != nil {
+				return nil, m, err
+			}
+			curves[m.Curve] = c
+		}
+		m.Curve = c
+	case "exercise_multiple":
+		if in.Grant.Instrument == Option {
+			for i := range terms {
+				if terms[i].ExerciseMultiple > 0 {
+					terms[i].ExerciseMultiple = math.Max(1.05, terms[i].ExerciseMultiple+sh.d)
+				}
+			}
+		}
+	case "post_vesting_exit_rate":
+		if in.Grant.Instrument == Option {
+			for i := range terms {
+				terms[i].ExitRate = math.Min(0.95, math.Max(0, terms[i].ExitRate+sh.d))
+			}
+		}
+	}
+	return terms, m, nil
+}
+
+// valueSet values the grants gs under one case: options on the lattice,
+// all cores; warrants on the lattice with dilution; RSUs in closed form.
+// It returns the tranche results per grant.
+func (p *pricer) valueSet(gs []GrantValue, sh shift, progress func(done, total int)) ([][]valuation.Result, error) {
+	out := make([][]valuation.Result, len(gs))
+	curves := map[*valuation.Curve]*valuation.Curve{}
+	var jobs []valuation.Job
+	var jobOf []int
+	for i := range gs {
+		in := gs[i].Inputs
+		terms, m, err := shiftCase(in, sh, curves)
+		if err != nil {
+			return nil, err
+		}
+		g := in.Grant
+		switch g.Instrument {
+		case RSU:
+			rs := make([]valuation.Result, len(in.Terms))
+			for k, t := range in.Terms {
+				rs[k] = valuation.RSUValue(m, t.YearsToVest)
+			}
+			out[i] = rs
+		case Warrant:
+			rs := make([]valuation.Result, len(terms))
+			for k, t := range terms {
+				var err error
+				if d := p.dilution(g); d != nil {
+					rs[k], err = valuation.WarrantValue(t, m, *d, p.opts)
+				} else {
+					tt := t
+					tt.Rational = tt.Rational || !tt.European
+					rs[k], err = valuation.Lattice(tt, m, p.opts)
+				}
+				if err != nil {
+					return nil, fmt.Errorf("grant %s tranche %d: %w", g.ID, k+1, err)
+				}
+			}
+			out[i] = rs
+		default:
+			if len(terms) == 0 {
+				continue
+			}
+			vest := make([]float64, len(in.Terms))
+			for k, t := range in.Terms {
+				vest[k] = t.YearsToVest
+			}
+			jobs = append(jobs, valuation.Job{Terms: terms[0], VestYears: vest, Market: m, Options: p.opts})
+			jobOf = append(jobOf, i)
+		}
+	}
+	// Grants with the same terms, vesting and market (a board's batch of
+	// grants on one date) are valued once.
+	uniq, index := dedupJobs(jobs)
+	res := valuation.RunJobs(uniq, 0, progress)
+	for j := range jobs {
+		r := res[index[j]]
+		if r.Err != nil {
+			return nil, fmt.Errorf("grant %s: %w", gs[jobOf[j]].Inputs.Grant.ID, r.Err)
+		}
+		out[jobOf[j]] = r.Tranches
+	}
+	return out, nil
+}
+
+// dedupJobs returns the distinct jobs and, for each job, the index of its
+// distinct copy. Jobs are the same when every number that enters the
+// lattice is the same, bit for bit.
+func dedupJobs(jobs []valuation.Job) ([]valuation.Job, []int) {
+	seen := map[string]int{}
+	index := make([]int, len(jobs))
+	var uniq []valuation.Job
+	for i, j := range jobs {
+		k := jobKey(j)
+		u, ok := seen[k]
+		if !ok {
+			u = len(uniq)
+			seen[k] = u
+			uniq = append(uniq, j)
+		}
+		index[i] = u
+	}
+	return uniq, index
+}
+
+func jobKey(j valuation.Job) string {
+	b := make([]byte, 0, 256)
+	f := func(x float64) { b = strconv.AppendUint(b, math.Float64bits(x), 16); b = append(b, ',') }
+	t, m := j.Terms, j.Market
+	f(t.Strike)
+	f(t.YearsToExpiry)
+	f(t.ExerciseMultiple)
+	f(t.ExitRate)
+	b = strconv.AppendBool(b, t.Rational)
+	b = strconv.AppendBool(b, t.European)
+	b = append(b, '|')
+	for _, v := range j.VestYears {
+		f(v)
+	}
+	b = append(b, '|')
+	f(m.Spot)
+	f(m.VolAnnual)
+	f(m.DividendYield)
+	if m.Curve != nil {
+		ten, zs := m.Curve.Points()
+		for i := range ten {
+			f(ten[i])
+			f(zs[i])
+		}
+	}
+	b = append(b, '|')
+	b = strconv.AppendInt(b, int64(j.Options.Steps), 10)
+	b = append(b, fmt.Sprintf("%+v", j.Options.Convention)...)
+	return string(b)
+}
+
+// sensitivityCases are the inputs moved and by how much.
+var sensitivityCases = []struct {
+	key, label, unit string
+	shifts           []float64
+	labels           []string
+}{
+	{"volatility", "Volatility", "percentage points", []float64{-0.10, -0.05, 0, 0.05, 0.10}, []string{"−10 points", "−5 points", "base", "+5 points", "+10 points"}},
+	{"exercise_multiple", "Exercise multiple", "multiple", []float64{-0.5, 0, 0.5, 1.0}, []string{"−0.5", "base", "+0.5", "+1.0"}},
+	{"post_vesting_exit_rate", "Post-vesting exit rate", "percentage points", []float64{-0.05, 0, 0.05, 0.10}, []string{"−5 points", "base", "+5 points", "+10 points"}},
+	{"risk_free_rate", "Risk-free rate", "percentage points", []float64{-0.01, 0, 0.01}, []string{"−1 point", "base", "+1 point"}},
+}
+
+// sensitivity revalues the ledger (or a sample of it) with one input moved
+// at a time.
+func (p *pricer) sensitivity(v *Valuation, progress func(done, total int)) error {
+	gs := v.Grants
+	sample := gs
+	if len(gs) > SensitivitySample {
+		sample = make([]GrantValue, 0, SensitivitySample)
+		for i := 0; i < SensitivitySample; i++ {
+			sample = append(sample, gs[i*len(gs)/SensitivitySample])
+		}
+	}
+	v.SensitivitySample = len(sample)
+	total := func(rs [][]valuation.Result) float64 {
+		var t float64
+		for i := range sample {
+			for k, tr := range sample[i].Inputs.Tranches {
+				t += rs[i][k].Value * float64(tr.Shares)
+			}
+		}
+		return t
+	}
+	baseRes := make([][]valuation.Result, len(sample))
+	for i := range sample {
+		baseRes[i] = sample[i].Results
+	}
+	sampleBase := total(baseRes)
+	base := v.FairValueTotal
+	n, done := 0, 0
+	for _, c := range sensitivityCases {
+		n += len(c.shifts) - 1
+	}
+	for _, c := range sensitivityCases {
+		sens := Sensitivity{Input: c.key, Label: c.label, Unit: c.unit}
+		for j, d := range c.shifts {
+			fv := base
+			if d != 0 {
+				rs, err := p.valueSet(sample, shift{c.key, d}, nil)
+				if err != nil {
+					return fmt.Errorf("sensitivity %s %+g: %w", c.key, d, err)
+				}
+				if sampleBase > 0 {
+					fv = base * total(rs) / sampleBase
+				}
+				done++
+				if progress != nil {
+					progress(done, n)
+				}
+			}
+			change := 0.0
+			if base > 0 {
+				change = fv/base - 1
+			}
+			x := d
+			if c.unit == "percentage points" {
+				x = d * 100
+			}
+			sens.Points = append(sens.Points, SensitivityPoint{Shift: x, Label: c.labels[j], FairValueTotal: fv, Change: change})
+		}
+		v.Sensitivity = append(v.Sensitivity, sens)
+	}
+	return nil
+}
+
+// representative is the option tranche with the largest total fair value
+// (else any lattice-valued tranche): the convergence study and the Monte
+// Carlo check use it.
+func representative(gs []GrantValue) (*GrantValue, int) {
+	var best *GrantValue
+	bk, bv := -1, -1.0
+	for pass := 0; pass < 2 && best == nil; pass++ {
+		for i := range gs {
+			gv := &gs[i]
+			if gv.Inputs.Grant.Instrument == RSU || (pass == 0 && gv.Inputs.Grant.Instrument != Option) {
+				continue
+			}
+			for k, t := range gv.Inputs.Tranches {
+				if x := gv.Results[k].Value * float64(t.Shares); x > bv {
+					best, bk, bv = gv, k, x
+				}
+			}
+		}
+	}
+	return best, bk
+}
+
+// convergence runs the convergence study and the Monte Carlo check on the
+// representative tranche.
+func (p *pricer) convergence(v *Valuation) error {
+	gv, k := representative(v.Grants)
+	if gv == nil {
+		return nil
+	}
+	in := gv.Inputs
+	t := in.Terms[k]
+	mk := in.Market
+	if in.Grant.Instrument == Warrant {
+		t.Rational = t.Rational || !t.European
+	}
+	auto, err := valuation.Lattice(t, mk, valuation.LatticeOptions{})
+	if err != nil {
+		return fmt.Errorf("convergence study, grant %s: %w", in.Grant.ID, err)
+	}
+	c := &Convergence{GrantID: in.Grant.ID, TrancheIndex: in.Tranches[k].Index, Auto: auto}
+	for _, n := range ConvergenceSteps {
+		r, err := valuation.Lattice(t, mk, valuation.LatticeOptions{Steps: n})
+		if err != nil {
+			return fmt.Errorf("convergence study, grant %s, %d steps: %w", in.Grant.ID, n, err)
+		}
+		c.Points = append(c.Points, ConvergencePoint{Steps: n, Value: r.Value})
+	}
+	v.Convergence = c
+	if t.Rational {
+		v.MonteCarloRational = true
+		return nil
+	}
+	mc, err := valuation.MonteCarlo(t, mk, valuation.MCOptions{Paths: MonteCarloPaths, Seed: MonteCarloSeed})
+	if err != nil {
+		v.MonteCarloErr = err
+		return nil
+	}
+	v.MonteCarlo = &MonteCarloCheck{GrantID: in.Grant.ID, TrancheIndex: in.Tranches[k].Index, Lattice: auto.Value, Result: mc, Seed: MonteCarloSeed}
+	return nil
+}
+
+// revalue is a liability-classified warrant's value per tranche measured
+// at date at (its grant date, or a past quarter end): the schedule's
+// inputs as of that date, on the same lattice with the same dilution.
+func (p *pricer) revalue(g Grant, at time.Time) ([]float64, error) {
+	s := *p.s
+	s.Company.ValuationDate = at
+	in, err := s.Inputs(g)
+	if err != nil {
+		return nil, err
+	}
+	out := make([]float64, len(in.Terms))
+	for k, t := range in.Terms {
+		var r valuation.Result
+		if d := p.dilution(g); d != nil {
+			r, err = valuation.WarrantValue(t, in.Market, *d, p.opts)
+		} else {
+			t.Rational = t.Rational || !t.European
+			r, err = valuation.Lattice(t, in.Market, p.opts)
+		}
+		if err != nil {
+			return nil, fmt.Errorf("tranche %d: %w", k+1, err)
+		}
+		out[k] = r.Value
+	}
+	return out, nil
+}

@@ -1,0 +1,212 @@
+package grants
+
+import (
+	"math"
+	"path/filepath"
+	"strings"
+	"sync"
+	"testing"
+	"time"
+
+	"grantworth/valuation"
+)
+
+// The sample valued once for the tests of this file.
+var sampleValued = sync.OnceValues(func() (*Valuation, error) {
+	s, _, err := ReadFile(filepath.Join("..", "sample", "tarnwick.xlsx"))
+	if err != nil {
+		return nil, err
+	}
+	ins, errs, _ := s.ValueInputs()
+	if len(errs) > 0 {
+		return nil, errs[0]
+	}
+	return s.Value(ins, ValueOptions{})
+})
+
+func valuedSample(t *testing.T) *Valuation {
+	t.Helper()
+	v, err := sampleValued()
+	if err != nil {
+		t.Fatal(err)
+	}
+	return v
+}
+
+// Calendar quarter ends (common practice) from the grant's quarter up to
+// before the period end, at most MaxRemeasurements of the latest.
+func TestRemeasurementDates(t *testing.T) {
+	cases := []struct {
+		grant, end string
+		want       []string
+	}{
+		{"2025-02-10", "2025-09-30", []string{"2025-03-31", "2025-06-30"}},
+		{"2025-03-31", "2025-09-30", []string{"2025-03-31", "2025-06-30"}},
+		{"2025-07-01", "2025-09-30", nil},
+		{"2025-11-15", "2025-12-31", nil},
+		{"2025-12-31", "2026-03-31", []string{"2025-12-31"}},
+		{"2019-01-01", "2025-09-30", []string{"2022-09-30", "2022-12-31", "2023-03-31", "2023-06-30", "2023-09-30", "2023-12-31",
+			"2024-03-31", "2024-06-30", "2024-09-30", "2024-12-31", "2025-03-31", "2025-06-30"}},
+	}
+	for _, c := range cases {
+		var got []string
+		for _, q := range RemeasurementDates(d(c.grant), d(c.end)) {
+			got = append(got, q.Format(time.DateOnly))
+		}
+		if strings.Join(got, " ") != strings.Join(c.want, " ") {
+			t.Errorf("RemeasurementDates(%s, %s) = %v, want %v", c.grant, c.end, got, c.want)
+		}
+	}
+}
+
+// Jobs equal bit for bit are valued once; any difference in a number that
+// enters the lattice keeps them apart.
+func TestDedupJobs(t *testing.T) {
+	c, err := valuation.NewCurve([]valuation.CurvePoint{{Tenor: 1, Rate: 0.04}, {Tenor: 10, Rate: 0.042}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	c2, err := valuation.NewCurve([]valuation.CurvePoint{{Tenor: 1, Rate: 0.04}, {Tenor: 10, Rate: 0.0421}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	base := valuation.Job{Terms: valuation.Terms{Strike: 2, YearsToExpiry: 10, ExerciseMultiple: 2.5, ExitRate: 0.08},
+		VestYears: []float64{1, 2, 3, 4}, Market: valuation.Market{Spot: 2, VolAnnual: 0.5, Curve: c}}
+	vol := base
+	vol.Market.VolAnnual = math.Nextafter(0.5, 1)
+	vest := base
+	vest.VestYears = []float64{1, 2, 3}
+	curve := base
+	curve.Market.Curve = c2
+	steps := base
+	steps.Options.Steps = 200
+	sameCurve := base
+	sameCurve.Market.Curve, _ = valuation.NewCurve([]valuation.CurvePoint{{Tenor: 1, Rate: 0.04}, {Tenor: 10, Rate: 0.042}})
+	jobs := []valuation.Job{base, vol, base, vest, curve, steps, sameCurve}
+	uniq, index := dedupJobs(jobs)
+	want := []int{0, 1, 0, 2, 3, 4, 0}
+	if len(uniq) != 5 {
+		t.Errorf("%d distinct jobs, want 5", len(uniq))
+	}
+	for i := range want {
+		if index[i] != want[i] {
+			t.Errorf("job %d → %d, want %d (index %v)", i, index[i], want[i], index)
+		}
+	}
+}
+
+// A grant made after the valuation date is left out, with a warning that
+// names it; the others keep their order.
+func TestValueInputsLeavesOutLaterGrants(t *testing.T) {
+	s := smallSchedule()
+	late := s.Grants[0]
+	late.ID, late.GrantDate = "G-LATE", s.Company.ValuationDate.AddDate(0, 0, 1)
+	s.Grants = append(s.Grants, late)
+	ins, errs, skipped := s.ValueInputs()
+	if len(errs) > 0 {
+		t.Fatal(errs)
+	}
+	if len(ins) != len(s.Grants)-1 || len(skipped) != 1 || !strings.Contains(skipped[0], "grant G-LATE") {
+		t.Fatalf("%d inputs of %d grants, skipped %q", len(ins), len(s.Grants), skipped)
+	}
+	for i, in := range ins {
+		if in.Grant.ID != s.Grants[i].ID {
+			t.Errorf("input %d is grant %s, want %s", i, in.Grant.ID, s.Grants[i].ID)
+		}
+	}
+}
+
+// Value on the sample: a result per tranche, totals that add up, and the
+// extra runs move the way option values must.
+func TestValueSample(t *testing.T) {
+	v := valuedSample(t)
+	var sum float64
+	for _, gv := range v.Grants {
+		g := gv.Inputs.Grant
+		if len(gv.Results) != len(gv.Inputs.Tranches) || len(gv.BSM) != len(gv.Inputs.Tranches) {
+			t.Fatalf("grant %s: %d results, %d BSM for %d tranches", g.ID, len(gv.Results), len(gv.BSM), len(gv.Inputs.Tranches))
+		}
+		for k, r := range gv.Results {
+			if !(r.Value > 0) || r.Value > gv.Inputs.Market.Spot {
+				t.Errorf("grant %s tranche %d: value %g outside (0, spot %g]", g.ID, k+1, r.Value, gv.Inputs.Market.Spot)
+			}
+		}
+		if (g.Instrument == Warrant) != (gv.Dilution != nil) {
+			t.Errorf("grant %s (%s): dilution %+v", g.ID, g.Instrument, gv.Dilution)
+		}
+		sum += gv.FairValueTotal()
+	}
+	if sum != v.FairValueTotal {
+		t.Errorf("FairValueTotal %v, sum of grants %v", v.FairValueTotal, sum)
+	}
+	if v.SensitivitySample != len(v.Grants) {
+		t.Errorf("sensitivity sample %d of %d grants; a small ledger is revalued whole", v.SensitivitySample, len(v.Grants))
+	}
+	// Option value rises with volatility (positive vega: common practice).
+	for _, c := range v.Sensitivity {
+		if c.Input != "volatility" {
+			continue
+		}
+		for j := 1; j < len(c.Points); j++ {
+			if !(c.Points[j].FairValueTotal > c.Points[j-1].FairValueTotal) {
+				t.Errorf("volatility %s → %s: total %v → %v, want a rise", c.Points[j-1].Label, c.Points[j].Label, c.Points[j-1].FairValueTotal, c.Points[j].FairValueTotal)
+			}
+		}
+	}
+	// The raw lattice converges: its values over the four finest step
+	// counts spread less than over the four coarsest (an identity of a
+	// convergent sequence, no citation needed).
+	c := v.Convergence
+	if c == nil || len(c.Points) != len(ConvergenceSteps) {
+		t.Fatalf("convergence %+v", c)
+	}
+	spread := func(ps []ConvergencePoint) float64 {
+		lo, hi := math.Inf(1), math.Inf(-1)
+		for _, p := range ps {
+			lo, hi = math.Min(lo, p.Value), math.Max(hi, p.Value)
+		}
+		return hi - lo
+	}
+	if first, last := spread(c.Points[:4]), spread(c.Points[len(c.Points)-4:]); !(last < first) {
+		t.Errorf("convergence: spread of the finest four %v not below the coarsest four %v (%+v)", last, first, c.Points)
+	}
+	// The simulation agrees with the lattice within 4 standard errors plus
+	// the lattice's own error (the weekly grid adds a small bias).
+	if mc := v.MonteCarlo; mc != nil {
+		tol := 4*mc.Result.ErrorEstimate + c.Auto.ErrorEstimate + 0.005*mc.Lattice
+		if math.Abs(mc.Result.Value-mc.Lattice) > tol {
+			t.Errorf("Monte Carlo %v ± %v, lattice %v, tol %v", mc.Result.Value, mc.Result.ErrorEstimate, mc.Lattice, tol)
+		}
+	} else if !v.MonteCarloRational && v.MonteCarloErr == nil {
+		t.Error("no Monte Carlo check and no reason why")
+	}
+	// Each liability warrant is revalued at its grant date and the past
+	// quarter ends, and Revalued gives those back.
+	n := 0
+	for _, gv := range v.Grants {
+		g := gv.Inputs.Grant
+		if g.Instrument != Warrant || g.Classification != Liability {
+			continue
+		}
+		n++
+		rs := v.Revaluations[g.ID]
+		if len(rs) == 0 || !rs[0].Date.Equal(g.GrantDate) {
+			t.Fatalf("grant %s revaluations %+v", g.ID, rs)
+		}
+		for _, r := range rs {
+			if r.Err != nil || len(r.Values) != len(gv.Inputs.Tranches) {
+				t.Errorf("grant %s at %s: %v, %d values", g.ID, r.Date.Format(time.DateOnly), r.Err, len(r.Values))
+			}
+			got, err := v.Revalued(g, r.Date)
+			if err != nil || len(got) != len(r.Values) {
+				t.Errorf("Revalued(%s, %s) = %v, %v", g.ID, r.Date.Format(time.DateOnly), got, err)
+			}
+		}
+		if _, err := v.Revalued(g, g.GrantDate.AddDate(0, 0, 1)); err == nil {
+			t.Errorf("Revalued(%s) at a date not revalued gave no error", g.ID)
+		}
+	}
+	if n == 0 {
+		t.Error("the sample has no liability-classified warrant to revalue")
+	}
+}

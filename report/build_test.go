@@ -1,0 +1,72 @@
+package report
+
+import (
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"grantworth/grants"
+)
+
+// Build lays a valuation out without changing a number: the Model's
+// tranches, totals, sensitivity and checks are the valuation's own.
+func TestBuildMapsTheValuation(t *testing.T) {
+	s, _, err := grants.ReadFile(filepath.Join("..", "sample", "tarnwick.xlsx"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	ins, errs, _ := s.ValueInputs()
+	if len(errs) > 0 {
+		t.Fatal(errs)
+	}
+	v, err := s.Value(ins, grants.ValueOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	run := Run{Tool: Tool{Name: "grantworth", Version: "test"}, Input: Input{Path: "sample/tarnwick.xlsx", SHA256: "00"}, Warnings: []string{"first warning"}}
+	m, err := Build(s, v, run)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(m.Grants) != len(v.Grants) {
+		t.Fatalf("%d grants in the Model, %d valued", len(m.Grants), len(v.Grants))
+	}
+	for i, g := range m.Grants {
+		gv := v.Grants[i]
+		if g.ID != gv.Inputs.Grant.ID || len(g.Tranches) != len(gv.Results) {
+			t.Fatalf("grant %d: %s with %d tranches, valued %s with %d", i, g.ID, len(g.Tranches), gv.Inputs.Grant.ID, len(gv.Results))
+		}
+		for k, tr := range g.Tranches {
+			if tr.FairValuePerShare != gv.Results[k].Value || tr.BSMSimplifiedValue != gv.BSM[k].Value || tr.ErrorEstimate != gv.Results[k].ErrorEstimate {
+				t.Errorf("grant %s tranche %d: model %+v, valued %+v, BSM %+v", g.ID, k+1, tr, gv.Results[k], gv.BSM[k])
+			}
+		}
+	}
+	if m.Totals.FairValueTotal != v.FairValueTotal {
+		t.Errorf("model total %v, valuation total %v", m.Totals.FairValueTotal, v.FairValueTotal)
+	}
+	if len(m.Sensitivity) != len(v.Sensitivity) {
+		t.Fatalf("%d sensitivity cases, %d run", len(m.Sensitivity), len(v.Sensitivity))
+	}
+	for i, c := range m.Sensitivity {
+		for j, p := range c.Points {
+			if q := v.Sensitivity[i].Points[j]; p.FairValueTotal != q.FairValueTotal || p.Shift != q.Shift {
+				t.Errorf("sensitivity %s point %d: model %+v, run %+v", c.Input, j, p, q)
+			}
+		}
+	}
+	if !strings.HasPrefix(m.Settings.Sensitivities, "Each case revalues every grant") {
+		t.Errorf("settings.sensitivities = %q for a ledger revalued whole", m.Settings.Sensitivities)
+	}
+	if v.MonteCarlo != nil {
+		if len(m.CrossChecks) != 1 || m.CrossChecks[0].Value != v.MonteCarlo.Result.Value || !strings.Contains(m.Settings.MonteCarlo, "100,000 paths") {
+			t.Errorf("cross checks %+v, settings %q, from %+v", m.CrossChecks, m.Settings.MonteCarlo, v.MonteCarlo)
+		}
+	}
+	if m.Expense == nil {
+		t.Error("no expense attribution")
+	}
+	if len(m.Warnings) == 0 || m.Warnings[0] != "first warning" {
+		t.Errorf("warnings %q: the run's come first", m.Warnings)
+	}
+}
