@@ -10,6 +10,7 @@ import (
 	"os"
 	"path/filepath"
 	"runtime/debug"
+	"runtime/pprof"
 	"sort"
 	"strings"
 	"time"
@@ -32,6 +33,7 @@ type valueOptions struct {
 	out           string
 	valuationDate string
 	force         bool
+	cpuProfile    string
 }
 
 func newValueCmd(ios *IO) *cobra.Command {
@@ -71,6 +73,9 @@ IFRS 2 or local rules).`,
 	cmd.Flags().StringVar(&opts.out, "out", "out", "folder to write the three files into (created if missing)")
 	cmd.Flags().StringVar(&opts.valuationDate, "valuation-date", "", "period end YYYY-MM-DD, instead of the schedule's Company valuation_date")
 	cmd.Flags().BoolVar(&opts.force, "force", false, "replace existing output files")
+	// For developers: a CPU profile of the run, for go tool pprof.
+	cmd.Flags().StringVar(&opts.cpuProfile, "cpuprofile", "", "write a CPU profile to this file")
+	_ = cmd.Flags().MarkHidden("cpuprofile")
 	return cmd
 }
 
@@ -83,6 +88,17 @@ const memoryLimit = 768 << 20
 func runValue(o *valueOptions) error {
 	if os.Getenv("GOMEMLIMIT") == "" {
 		defer debug.SetMemoryLimit(debug.SetMemoryLimit(memoryLimit))
+	}
+	if o.cpuProfile != "" {
+		f, err := os.Create(o.cpuProfile)
+		if err != nil {
+			return err
+		}
+		defer f.Close()
+		if err := pprof.StartCPUProfile(f); err != nil {
+			return err
+		}
+		defer pprof.StopCPUProfile()
 	}
 	// Refuse early, before any work, when an output is in the way.
 	if !o.force {
