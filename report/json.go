@@ -18,8 +18,16 @@ func WriteJSON(w io.Writer, m *Model) error {
 	}
 	c := *m
 	c.Grants = nonNil(c.Grants)
+	// The other renderers may be reading m at the same time: the grants
+	// are copied, not changed, when one lacks its list of tranches.
 	for i := range c.Grants {
-		c.Grants[i].Tranches = nonNil(c.Grants[i].Tranches)
+		if c.Grants[i].Tranches == nil {
+			c.Grants = append([]Grant(nil), c.Grants...)
+			for j := i; j < len(c.Grants); j++ {
+				c.Grants[j].Tranches = nonNil(c.Grants[j].Tranches)
+			}
+			break
+		}
 	}
 	c.Warnings = nonNil(c.Warnings)
 	c.ByInstrument = nonNil(c.ByInstrument)

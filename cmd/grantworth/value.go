@@ -13,6 +13,7 @@ import (
 	"runtime/pprof"
 	"sort"
 	"strings"
+	"sync"
 	"time"
 
 	"github.com/spf13/cobra"
@@ -186,10 +187,13 @@ func runValue(o *valueOptions) error {
 	}
 	files := outputs(m)
 	if o.io.ErrIsTerminal {
+		var mu sync.Mutex // the files are written at the same time
 		for i := range files {
 			f := files[i]
 			files[i].write = func(w io.Writer) error {
+				mu.Lock()
 				fmt.Fprintf(o.io.Err, "writing %s\n", f.name)
+				mu.Unlock()
 				return f.write(w)
 			}
 		}
