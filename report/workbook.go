@@ -8,6 +8,7 @@ import (
 	"io"
 	"os"
 	"sort"
+	"strconv"
 	"strings"
 	"time"
 	"unicode"
@@ -283,13 +284,13 @@ func (b *Book) NewTable(name string, cols []Column, rows int) (*Table, error) {
 // numbers, or strings; use Book.Text for text from the input.
 func (t *Table) Row(values ...any) error {
 	t.row++
-	return t.sw.SetRow(fmt.Sprintf("A%d", t.row), values)
+	return t.sw.SetRow("A"+strconv.Itoa(t.row), values)
 }
 
 // TallRow appends one row of the given height in points.
 func (t *Table) TallRow(height float64, values ...any) error {
 	t.row++
-	return t.sw.SetRow(fmt.Sprintf("A%d", t.row), values, excelize.RowOpts{Height: height})
+	return t.sw.SetRow("A"+strconv.Itoa(t.row), values, excelize.RowOpts{Height: height})
 }
 
 // Merge merges the cells from column first to column last (1-based) of the
@@ -492,15 +493,18 @@ const (
 // RSU's comparison value is the share price less the dividends forgone to
 // vesting, and has no d1 or d2.
 func bsmFormulas(row int, instrument string) (d1, d2, value string) {
-	c := func(col string) string { return fmt.Sprintf("%s%d", col, row) }
+	// Plain concatenation rather than fmt: this runs for every tranche of
+	// a ledger that may have hundreds of thousands.
+	n := strconv.Itoa(row)
+	c := func(col string) string { return col + n }
 	if instrument == RSU {
-		return "", "", fmt.Sprintf("%s*EXP(-%s*%s)", c(colSpot), c(colDiv), c(colVest))
+		return "", "", c(colSpot) + "*EXP(-" + c(colDiv) + "*" + c(colVest) + ")"
 	}
-	d1 = fmt.Sprintf("(LN(%s/%s)+(%s-%s+%s^2/2)*%s)/(%s*SQRT(%s))",
-		c(colSpot), c(colStrike), c(colRate), c(colDiv), c(colVol), c(colTerm), c(colVol), c(colTerm))
-	d2 = fmt.Sprintf("%s-%s*SQRT(%s)", c(colD1), c(colVol), c(colTerm))
-	value = fmt.Sprintf("%s*EXP(-%s*%s)*_xlfn.NORM.S.DIST(%s,TRUE)-%s*EXP(-%s*%s)*_xlfn.NORM.S.DIST(%s,TRUE)",
-		c(colSpot), c(colDiv), c(colTerm), c(colD1), c(colStrike), c(colRate), c(colTerm), c(colD2))
+	d1 = "(LN(" + c(colSpot) + "/" + c(colStrike) + ")+(" + c(colRate) + "-" + c(colDiv) + "+" + c(colVol) + "^2/2)*" + c(colTerm) +
+		")/(" + c(colVol) + "*SQRT(" + c(colTerm) + "))"
+	d2 = c(colD1) + "-" + c(colVol) + "*SQRT(" + c(colTerm) + ")"
+	value = c(colSpot) + "*EXP(-" + c(colDiv) + "*" + c(colTerm) + ")*_xlfn.NORM.S.DIST(" + c(colD1) + ",TRUE)-" +
+		c(colStrike) + "*EXP(-" + c(colRate) + "*" + c(colTerm) + ")*_xlfn.NORM.S.DIST(" + c(colD2) + ",TRUE)"
 	return d1, d2, value
 }
 
@@ -523,26 +527,36 @@ func writeTranches(b *Book, m *Model) error {
 		return err
 	}
 	s := b.Style
+	// The row's cells are built in place and passed by pointer, not boxed
+	// one by one: the sheet has a row per tranche, hundreds of thousands
+	// for a large ledger.
+	var cells [26]excelize.Cell
+	vals := make([]any, len(cells))
 	for _, g := range m.Grants {
 		for _, tr := range g.Tranches {
 			row := t.RowNum() + 1
 			d1, d2, bsm := bsmFormulas(row, g.Instrument)
-			var c1, c2 any
-			if d1 != "" {
-				c1 = excelize.Cell{StyleID: s.Number, Formula: d1}
-				c2 = excelize.Cell{StyleID: s.Number, Formula: d2}
-			}
-			if err := t.Row(b.Text(g.ID), b.Text(g.Holder), b.Text(g.Instrument), b.Cell(s.Int, tr.Index),
-				b.DateCell(tr.VestDate), b.Cell(s.Int, tr.Shares), b.Cell(s.MoneyPerShare, g.SharePrice),
+			cells = [26]excelize.Cell{b.Text(g.ID), b.Text(g.Holder), b.Text(g.Instrument), b.Cell(s.Int, tr.Index),
+				{StyleID: s.Date, Value: tr.VestDate.Time()}, b.Cell(s.Int, tr.Shares), b.Cell(s.MoneyPerShare, g.SharePrice),
 				b.Cell(s.MoneyPerShare, g.Strike), b.Cell(s.Years, tr.YearsToExpiry), b.Cell(s.Years, tr.YearsToVest),
 				b.Cell(s.Percent, g.Volatility), b.Cell(s.Percent, tr.RiskFreeRate), b.Cell(s.Percent, g.DividendYield),
 				b.Cell(s.Number, g.ExerciseMultiple), b.Cell(s.Percent, g.PostVestingExitRate),
 				b.Cell(s.MoneyPerShare, tr.FairValuePerShare), b.Cell(s.Number, tr.ErrorEstimate),
 				b.Cell(s.Years, tr.ExpectedTermYears), b.Cell(s.Years, tr.SimplifiedTerm),
 				b.Cell(s.Percent, tr.SimplifiedRate), b.Cell(s.MoneyPerShare, tr.BSMSimplifiedValue),
-				c1, c2, excelize.Cell{StyleID: s.MoneyPerShare, Formula: bsm},
+				{StyleID: s.Number, Formula: d1}, {StyleID: s.Number, Formula: d2}, {StyleID: s.MoneyPerShare, Formula: bsm},
 				b.Cell(s.MoneyPerShare, tr.FairValuePerShare-tr.BSMSimplifiedValue),
-				b.Cell(s.Money, tr.FairValueTotal)); err != nil {
+				b.Cell(s.Money, tr.FairValueTotal)}
+			for i := range cells {
+				vals[i] = &cells[i]
+			}
+			if tr.VestDate.IsZero() {
+				vals[4] = nil
+			}
+			if d1 == "" {
+				vals[21], vals[22] = nil, nil
+			}
+			if err := t.Row(vals...); err != nil {
 				return err
 			}
 		}
