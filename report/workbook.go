@@ -4,6 +4,7 @@ import (
 	"archive/zip"
 	"bufio"
 	"bytes"
+	"errors"
 	"fmt"
 	"io"
 	"os"
@@ -44,6 +45,10 @@ var sheetHooks []SheetHook
 type Book struct {
 	f     *excelize.File
 	Style Styles
+	// fast holds the Tranches rows written apart (fastsheet.go); slow
+	// sends every sheet through excelize (for the test that compares).
+	fast *fastRows
+	slow bool
 }
 
 // Styles are the cell styles of the workbook.
@@ -95,7 +100,12 @@ func WriteWorkbook(w io.Writer, m *Model) error {
 		})
 		return zw
 	})
-	b := &Book{f: f}
+	b := &Book{f: f, slow: slowSheets}
+	defer func() {
+		if b.fast != nil {
+			b.fast.close()
+		}
+	}()
 	if err := b.styles(m.Company.Currency); err != nil {
 		return err
 	}
@@ -151,14 +161,17 @@ func WriteWorkbook(w io.Writer, m *Model) error {
 	if err != nil {
 		return err
 	}
-	return canonicalZip(w, tmp, size)
+	return canonicalZip(w, tmp, size, b.fast)
 }
 
 // canonicalZip copies the zip archive in to w with its entries in a fixed
 // order ([Content_Types].xml first, then by name) and no timestamps.
 // excelize writes streamed sheets in map order, which would make two runs
 // differ; the entries are copied without recompressing.
-func canonicalZip(w io.Writer, in io.ReaderAt, size int64) error {
+//
+// When fast is not nil, the worksheet holding the placeholder row is
+// written anew with fast's rows in that row's place.
+func canonicalZip(w io.Writer, in io.ReaderAt, size int64, fast *fastRows) error {
 	zr, err := zip.NewReader(in, size)
 	if err != nil {
 		return err
@@ -172,11 +185,24 @@ func canonicalZip(w io.Writer, in io.ReaderAt, size int64) error {
 		return a < b
 	})
 	zw := zip.NewWriter(w)
+	zw.RegisterCompressor(zip.Deflate, func(out io.Writer) (io.WriteCloser, error) {
+		return newParallelDeflate(out), nil
+	})
 	for _, zf := range files {
 		h := zf.FileHeader
 		h.Modified = time.Time{}
 		h.ModifiedDate, h.ModifiedTime = 0, 0
 		h.Extra = nil
+		if fast != nil && strings.HasPrefix(zf.Name, "xl/worksheets/") && zf.UncompressedSize64 < 1<<20 {
+			done, err := spliceRows(zw, zf, h, fast)
+			if err != nil {
+				return err
+			}
+			if done {
+				fast = nil
+				continue
+			}
+		}
 		r, err := zf.OpenRaw()
 		if err != nil {
 			return err
@@ -189,7 +215,43 @@ func canonicalZip(w io.Writer, in io.ReaderAt, size int64) error {
 			return err
 		}
 	}
+	if fast != nil {
+		return errors.New("workbook: the Tranches placeholder row was not found; its rows would be lost")
+	}
 	return zw.Close()
+}
+
+// spliceRows writes entry zf anew with fast's rows in place of the
+// placeholder row, if it holds that row.
+func spliceRows(zw *zip.Writer, zf *zip.File, h zip.FileHeader, fast *fastRows) (bool, error) {
+	r, err := zf.Open()
+	if err != nil {
+		return false, err
+	}
+	data, err := io.ReadAll(r)
+	r.Close()
+	if err != nil {
+		return false, err
+	}
+	i := bytes.Index(data, placeholderRow)
+	if i < 0 {
+		return false, nil
+	}
+	h.CRC32, h.CompressedSize64, h.UncompressedSize64 = 0, 0, 0
+	h.CompressedSize, h.UncompressedSize = 0, 0
+	h.Method = zip.Deflate
+	dst, err := zw.CreateHeader(&h)
+	if err != nil {
+		return false, err
+	}
+	if _, err := dst.Write(data[:i]); err != nil {
+		return false, err
+	}
+	if _, err := io.Copy(dst, io.NewSectionReader(fast.f, 0, fast.size)); err != nil {
+		return false, err
+	}
+	_, err = dst.Write(data[i+len(placeholderRow):])
+	return true, err
 }
 
 func (b *Book) styles(currency string) error {
@@ -524,6 +586,16 @@ func writeTranches(b *Book, m *Model) error {
 	}
 	t, err := b.NewTable(SheetTranches, TrancheColumns, n)
 	if err != nil {
+		return err
+	}
+	if !b.slow && trancheRowsPlain(m) {
+		if err := t.Row(rowsToken); err != nil {
+			return err
+		}
+		if err := t.Close(); err != nil {
+			return err
+		}
+		b.fast, err = writeTrancheRows(b, m)
 		return err
 	}
 	s := b.Style

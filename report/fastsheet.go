@@ -1,0 +1,292 @@
+package report
+
+import (
+	"bufio"
+	"bytes"
+	"encoding/xml"
+	"io"
+	"math"
+	"os"
+	"strconv"
+	"time"
+)
+
+// The Tranches sheet of a large ledger has a row per tranche, hundreds of
+// thousands of rows of 26 cells, and excelize's stream writer spent most
+// of the workbook's time on it cell by cell. When every value on the sheet
+// is of a plain kind (text of printable ASCII needing no escape, finite
+// numbers, dates after 1900-02-28), its rows are written here instead,
+// byte for byte as the stream writer writes them, into a temporary file;
+// excelize writes the sheet with the header and a placeholder row, and
+// canonicalZip puts the rows in the placeholder's place. Otherwise the
+// sheet goes through excelize as every other sheet does. A test checks
+// that both ways give the same sheet XML.
+
+// slowSheets, set by a test, sends the Tranches sheet through excelize.
+var slowSheets = false
+
+// rowsToken is the placeholder cell's text.
+const rowsToken = "grantworth-rows-placeholder-5c1e"
+
+// placeholderRow is the row excelize writes for the placeholder: row 2,
+// one inline string in A2, no style.
+var placeholderRow = []byte(`<row r="2"><c r="A2" t="inlineStr"><is><t>` + rowsToken + `</t></is></c></row>`)
+
+// fastRows are a sheet's rows written apart, in a temporary file.
+type fastRows struct {
+	f    *os.File
+	size int64
+}
+
+func (r *fastRows) close() {
+	r.f.Close()
+	os.Remove(r.f.Name())
+}
+
+// plainText reports whether excelize writes s as it is: printable ASCII
+// without an XML special character, an underscore (its _xHHHH_ escapes)
+// or white space at either end.
+func plainText(s string) bool {
+	if len(s) > 0 && (s[0] == ' ' || s[len(s)-1] == ' ') {
+		return false
+	}
+	for i := 0; i < len(s); i++ {
+		switch c := s[i]; {
+		case c < 0x20 || c > 0x7e, c == '&', c == '<', c == '>', c == '"', c == '\'', c == '_':
+			return false
+		}
+	}
+	return true
+}
+
+// Excel's day 60 is the 29th of February 1900 that never was; from the
+// 1st of March 1900 on, a date's serial is its days since 1899-12-30.
+var (
+	excelEpoch    = time.Date(1899, 12, 30, 0, 0, 0, 0, time.UTC)
+	excelFirstDay = time.Date(1900, 3, 1, 0, 0, 0, 0, time.UTC)
+	excelLastDay  = time.Date(2200, 1, 1, 0, 0, 0, 0, time.UTC)
+)
+
+// plainDate reports whether d is a date the fast rows can write.
+func plainDate(d Date) bool {
+	t := d.Time()
+	return d.IsZero() || (!t.Before(excelFirstDay) && t.Before(excelLastDay))
+}
+
+func finite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
+
+// rowWriter appends cells in the stream writer's form.
+type rowWriter struct {
+	b   []byte
+	row []byte // the row number as text
+}
+
+func (w *rowWriter) ref(col int) {
+	w.b = append(w.b, ` r="`...)
+	w.b = appendColumn(w.b, col)
+	w.b = append(w.b, w.row...)
+	w.b = append(w.b, '"')
+}
+
+func appendColumn(b []byte, col int) []byte {
+	var tmp [4]byte
+	i := len(tmp)
+	for col > 0 {
+		col--
+		i--
+		tmp[i] = byte('A' + col%26)
+		col /= 26
+	}
+	return append(b, tmp[i:]...)
+}
+
+func (w *rowWriter) style(s int) {
+	if s != 0 {
+		w.b = append(w.b, ` s="`...)
+		w.b = strconv.AppendInt(w.b, int64(s), 10)
+		w.b = append(w.b, '"')
+	}
+}
+
+// text is an inline string (the caller has checked plainText).
+func (w *rowWriter) text(col, s int, v string) {
+	w.b = append(w.b, `<c`...)
+	w.ref(col)
+	w.style(s)
+	w.b = append(w.b, ` t="inlineStr"><is><t>`...)
+	w.b = append(w.b, v...)
+	w.b = append(w.b, `</t></is></c>`...)
+}
+
+func (w *rowWriter) value(col, s int, v []byte) {
+	w.b = append(w.b, `<c`...)
+	w.ref(col)
+	w.style(s)
+	w.b = append(w.b, `><v>`...)
+	w.b = append(w.b, v...)
+	w.b = append(w.b, `</v></c>`...)
+}
+
+func (w *rowWriter) int(col, s int, v int64) {
+	var tmp [24]byte
+	w.value(col, s, strconv.AppendInt(tmp[:0], v, 10))
+}
+
+func (w *rowWriter) float(col, s int, v float64) {
+	var tmp [40]byte
+	w.value(col, s, appendCellFloat(tmp[:0], v))
+}
+
+// date writes d as its serial number; the zero Date writes nothing.
+func (w *rowWriter) date(col, s int, d Date) {
+	if d.IsZero() {
+		return
+	}
+	days := d.Time().Sub(excelEpoch) / (24 * time.Hour)
+	w.int(col, s, int64(days))
+}
+
+func (w *rowWriter) formula(col, s int, f string) {
+	if f == "" {
+		return
+	}
+	w.b = append(w.b, `<c`...)
+	w.ref(col)
+	w.style(s)
+	w.b = append(w.b, ` t="str"><f>`...)
+	var esc bytes.Buffer
+	_ = xml.EscapeText(&esc, []byte(f))
+	w.b = append(w.b, esc.Bytes()...)
+	w.b = append(w.b, `</f></c>`...)
+}
+
+// appendCellFloat writes v as excelize does: the shortest decimal form,
+// cut to Excel's 15 significant digits (truncated, not rounded; digits
+// cut before the decimal point become zeros).
+func appendCellFloat(b []byte, v float64) []byte {
+	start := len(b)
+	b = strconv.AppendFloat(b, v, 'f', -1, 64)
+	if math.Abs(v) == math.MaxFloat64 {
+		return b
+	}
+	s := b[start:]
+	dot := bytes.IndexByte(s, '.')
+	sig := 0
+	for i, c := range s {
+		if c < '0' || c > '9' || (sig == 0 && c == '0') {
+			continue
+		}
+		sig++
+		if sig <= 15 {
+			continue
+		}
+		if dot >= 0 && i > dot {
+			s = s[:i]
+			if s[len(s)-1] == '.' {
+				s = s[:len(s)-1]
+			}
+			return b[:start+len(s)]
+		}
+		if dot < 0 {
+			dot = len(s)
+		}
+		for ; i < dot; i++ {
+			s[i] = '0'
+		}
+		return b[:start+dot]
+	}
+	return b
+}
+
+// trancheRowsPlain reports whether the fast rows can write m's Tranches
+// sheet.
+func trancheRowsPlain(m *Model) bool {
+	for _, g := range m.Grants {
+		if !plainText(g.ID) || !plainText(g.Holder) || !plainText(g.Instrument) {
+			return false
+		}
+		for _, v := range []float64{g.SharePrice, g.Strike, g.Volatility, g.DividendYield, g.ExerciseMultiple, g.PostVestingExitRate} {
+			if !finite(v) {
+				return false
+			}
+		}
+		for _, tr := range g.Tranches {
+			if !plainDate(tr.VestDate) {
+				return false
+			}
+			for _, v := range []float64{tr.YearsToExpiry, tr.YearsToVest, tr.RiskFreeRate, tr.FairValuePerShare, tr.ErrorEstimate,
+				tr.ExpectedTermYears, tr.SimplifiedTerm, tr.SimplifiedRate, tr.BSMSimplifiedValue, tr.FairValuePerShare - tr.BSMSimplifiedValue, tr.FairValueTotal} {
+				if !finite(v) {
+					return false
+				}
+			}
+		}
+	}
+	return true
+}
+
+// writeTrancheRows writes the Tranches sheet's data rows, from row 2, to
+// a temporary file, the cells of writeTranches in the same order.
+func writeTrancheRows(b *Book, m *Model) (*fastRows, error) {
+	f, err := os.CreateTemp("", "grantworth-rows-*")
+	if err != nil {
+		return nil, err
+	}
+	out := &fastRows{f: f}
+	bw := bufio.NewWriterSize(f, 1<<20)
+	s := b.Style
+	w := &rowWriter{b: make([]byte, 0, 8192)}
+	row := 1
+	for _, g := range m.Grants {
+		for _, tr := range g.Tranches {
+			row++
+			w.row = strconv.AppendInt(w.row[:0], int64(row), 10)
+			d1, d2, bsm := bsmFormulas(row, g.Instrument)
+			w.b = append(w.b[:0], `<row r="`...)
+			w.b = append(w.b, w.row...)
+			w.b = append(w.b, `">`...)
+			w.text(1, s.Input, g.ID)
+			w.text(2, s.Input, g.Holder)
+			w.text(3, s.Input, g.Instrument)
+			w.int(4, s.Int, int64(tr.Index))
+			w.date(5, s.Date, tr.VestDate)
+			w.int(6, s.Int, tr.Shares)
+			w.float(7, s.MoneyPerShare, g.SharePrice)
+			w.float(8, s.MoneyPerShare, g.Strike)
+			w.float(9, s.Years, tr.YearsToExpiry)
+			w.float(10, s.Years, tr.YearsToVest)
+			w.float(11, s.Percent, g.Volatility)
+			w.float(12, s.Percent, tr.RiskFreeRate)
+			w.float(13, s.Percent, g.DividendYield)
+			w.float(14, s.Number, g.ExerciseMultiple)
+			w.float(15, s.Percent, g.PostVestingExitRate)
+			w.float(16, s.MoneyPerShare, tr.FairValuePerShare)
+			w.float(17, s.Number, tr.ErrorEstimate)
+			w.float(18, s.Years, tr.ExpectedTermYears)
+			w.float(19, s.Years, tr.SimplifiedTerm)
+			w.float(20, s.Percent, tr.SimplifiedRate)
+			w.float(21, s.MoneyPerShare, tr.BSMSimplifiedValue)
+			w.formula(22, s.Number, d1)
+			w.formula(23, s.Number, d2)
+			w.formula(24, s.MoneyPerShare, bsm)
+			w.float(25, s.MoneyPerShare, tr.FairValuePerShare-tr.BSMSimplifiedValue)
+			w.float(26, s.Money, tr.FairValueTotal)
+			w.b = append(w.b, `</row>`...)
+			if _, err := bw.Write(w.b); err != nil {
+				out.close()
+				return nil, err
+			}
+		}
+	}
+	if err := bw.Flush(); err != nil {
+		out.close()
+		return nil, err
+	}
+	size, err := f.Seek(0, io.SeekCurrent)
+	if err != nil {
+		out.close()
+		return nil, err
+	}
+	out.size = size
+	return out, nil
+}
