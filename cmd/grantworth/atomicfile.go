@@ -8,6 +8,7 @@ import (
 	"io/fs"
 	"os"
 	"path/filepath"
+	"sync"
 )
 
 // outFile is one output: its name in the output folder and the function
@@ -57,17 +58,27 @@ func writeAll(dir string, files []outFile, force bool) error {
 	for _, p := range existed {
 		before[p] = true
 	}
-	temps := make([]string, 0, len(files))
+	// The files are rendered at the same time (a large ledger's workbook
+	// and JSON each take seconds); every renderer only reads its input.
+	temps := make([]string, len(files))
+	errs := make([]error, len(files))
+	var wg sync.WaitGroup
+	for i, f := range files {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			temps[i], errs[i] = writeTemp(dir, f)
+		}()
+	}
+	wg.Wait()
 	cleanup := func() {
 		for _, t := range temps {
-			os.Remove(t)
+			if t != "" {
+				os.Remove(t)
+			}
 		}
 	}
-	for _, f := range files {
-		t, err := writeTemp(dir, f)
-		if t != "" {
-			temps = append(temps, t)
-		}
+	for _, err := range errs {
 		if err != nil {
 			cleanup()
 			return err

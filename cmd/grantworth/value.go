@@ -10,8 +10,10 @@ import (
 	"os"
 	"path/filepath"
 	"runtime/debug"
+	"runtime/pprof"
 	"sort"
 	"strings"
+	"sync"
 	"time"
 
 	"github.com/spf13/cobra"
@@ -32,6 +34,7 @@ type valueOptions struct {
 	out           string
 	valuationDate string
 	force         bool
+	cpuProfile    string
 }
 
 func newValueCmd(ios *IO) *cobra.Command {
@@ -71,6 +74,9 @@ IFRS 2 or local rules).`,
 	cmd.Flags().StringVar(&opts.out, "out", "out", "folder to write the three files into (created if missing)")
 	cmd.Flags().StringVar(&opts.valuationDate, "valuation-date", "", "period end YYYY-MM-DD, instead of the schedule's Company valuation_date")
 	cmd.Flags().BoolVar(&opts.force, "force", false, "replace existing output files")
+	// For developers: a CPU profile of the run, for go tool pprof.
+	cmd.Flags().StringVar(&opts.cpuProfile, "cpuprofile", "", "write a CPU profile to this file")
+	_ = cmd.Flags().MarkHidden("cpuprofile")
 	return cmd
 }
 
@@ -83,6 +89,17 @@ const memoryLimit = 768 << 20
 func runValue(o *valueOptions) error {
 	if os.Getenv("GOMEMLIMIT") == "" {
 		defer debug.SetMemoryLimit(debug.SetMemoryLimit(memoryLimit))
+	}
+	if o.cpuProfile != "" {
+		f, err := os.Create(o.cpuProfile)
+		if err != nil {
+			return err
+		}
+		defer f.Close()
+		if err := pprof.StartCPUProfile(f); err != nil {
+			return err
+		}
+		defer pprof.StopCPUProfile()
 	}
 	// Refuse early, before any work, when an output is in the way.
 	if !o.force {
@@ -170,10 +187,13 @@ func runValue(o *valueOptions) error {
 	}
 	files := outputs(m)
 	if o.io.ErrIsTerminal {
+		var mu sync.Mutex // the files are written at the same time
 		for i := range files {
 			f := files[i]
 			files[i].write = func(w io.Writer) error {
+				mu.Lock()
 				fmt.Fprintf(o.io.Err, "writing %s\n", f.name)
+				mu.Unlock()
 				return f.write(w)
 			}
 		}
