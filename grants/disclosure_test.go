@@ -90,8 +90,10 @@ func TestDisclosureHandWorked(t *testing.T) {
 	out := d.OptionsAtEnd.Outstanding
 	nearly(t, "outstanding intrinsic", out.AggregateIntrinsicValue, 3300*15+600*13+1200*5, 1e-9)
 	nearly(t, "outstanding term", out.WeightedRemainingTermYears, (3300*2923.0+600*3074+1200*3593)/5100/365, 1e-12)
-	// Vested and expected to vest: 900 + G1's 1,000 × (0.9^2, 0.9^3, 0.9^(1461/365)) + G3's 1,200 × 0.9.
-	wantExp := 900 + 1000*(math.Pow(0.9, 2)+math.Pow(0.9, 3)+math.Pow(0.9, 1461.0/365)) + 1200*0.9
+	// Vested and expected to vest: 900 + G1's 1,000 a tranche × 0.9^(service
+	// days to come / 365) after 2030-12-31 (0, 365 and 731 days) + G3's 1,200
+	// × 0.9^(304/365) (2031-01-01 to its 2031-11-01 vest date).
+	wantExp := 900 + 1000*(1+0.9+math.Pow(0.9, 731.0/365)) + 1200*math.Pow(0.9, 304.0/365)
 	nearly(t, "vested and expected", d.OptionsAtEnd.VestedExpected.Shares, wantExp, 1e-9)
 
 	g := d.OptionGrants

@@ -40,11 +40,13 @@ package grants
 //
 // # Forfeitures
 //
-// Estimate: a tranche still unvested counts at the expected share of its
-// shares still there at its vest date, (1 − rate)^Y with Y the years of
-// service from its service start to its vest date; on its vest date the count
-// is trued up to the actual shares (factor 1), and a termination removes the
-// forfeited shares at once. As-occur: every share counts until it is
+// Estimate: a tranche still unvested counts its shares not yet forfeited at
+// the expected share still there at its vest date, (1 − rate)^Y with Y the
+// years of service still to come (at the service start, the whole service
+// period). Leavers already recorded are not expected to leave again: a
+// termination removes the forfeited shares at once and the estimate for the
+// rest covers only the service ahead, so the count converges to the actual
+// shares by the vest date (factor 1 from then on). As-occur: every share counts until it is
 // forfeited. Either way a forfeiture reverses all the cost recognised on the
 // forfeited shares, on the day of the forfeiture.
 //
@@ -143,7 +145,7 @@ type TrancheExpense struct {
 	Shares         int64   // as granted
 	SharesCounted  float64 // shares whose cost counts at period end (expected at vest under Estimate)
 	FairValue      float64 // per share, grant date
-	ExpectedShare  float64 // (1 − rate)^Y, 1 under as-occur
+	ExpectedShare  float64 // (1 − rate)^Y at period end, Y the service years still to come; 1 under as-occur
 	Cost           float64 // expected total compensation cost at period end
 	CumulativeOpen float64 // through the day before the period start
 	Period         float64
@@ -249,11 +251,16 @@ func ServiceStart(g Grant) time.Time {
 	return g.GrantDate
 }
 
-// ExpectedShare is the expected share of a tranche still there at its vest
-// date under an annual pre-vesting forfeiture rate: (1 − rate)^Y, with Y the
-// ACT/365F years from service start to vest date (1 if already vested).
-func ExpectedShare(rate float64, serviceStart, vest time.Time) float64 {
-	y := valuation.YearFrac(serviceStart, vest)
+// ExpectedShare is the expected share of a tranche's holders there on a date
+// who are still there at its vest date, under an annual pre-vesting
+// forfeiture rate: (1 − rate)^Y, with Y the ACT/365F years from that date to
+// the vest date (1 if already vested). Attribution applies it from the later
+// of the service start and the latest date whose leavers are known, to the
+// shares not yet forfeited: leavers already recorded are not expected to
+// leave again, so the estimate is trued up to actual at every termination
+// and converges to the actual count at vesting.
+func ExpectedShare(rate float64, from, vest time.Time) float64 {
+	y := valuation.YearFrac(from, vest)
 	if y <= 0 || rate == 0 {
 		return 1
 	}
@@ -297,7 +304,7 @@ type trancheLedger struct {
 	days  int       // service days
 	// day numbers (dn) of the service start and the vest date
 	startN, vestN int
-	p             float64 // expected share at vest
+	rate          float64 // pre-vesting forfeiture rate; 0 under as-occur
 	moves         []move
 }
 
@@ -374,9 +381,8 @@ func newAwardLedger(a *AwardCost, pol ExpensePolicy, asOf time.Time) (*awardLedg
 		}
 		t := trancheLedger{TrancheCost: tc, start: l.start, startN: dayNum(l.start), vestN: dayNum(tc.Tranche.VestDate)}
 		t.days = t.vestN - t.startN
-		t.p = 1
 		if pol.Forfeitures == Estimate {
-			t.p = ExpectedShare(pol.PreVestingForfeitureRate, t.start, tc.Tranche.VestDate)
+			t.rate = pol.PreVestingForfeitureRate
 		}
 		l.tr = append(l.tr, t)
 	}
@@ -438,6 +444,17 @@ func (t *trancheLedger) open() int64 {
 func (t *trancheLedger) vestedOn(d time.Time) bool { return t.vestN <= dayNum(d) }
 
 func (t *trancheLedger) vestedN(d int) bool { return t.vestN <= d }
+
+// expected is the expected share of the tranche's live shares at the end of
+// day d that are still there at its vest date (see ExpectedShare): the rate
+// over the service days still to come, from day d+1 (or the service start)
+// to the day before vesting; 1 once vested or with no forfeiture rate.
+func (t *trancheLedger) expected(d int) float64 {
+	if t.vestedN(d) || t.rate == 0 {
+		return 1
+	}
+	return math.Pow(1-t.rate, float64(t.vestN-max(t.startN, d+1))/365)
+}
 
 // apply allocates one event's shares to tranches.
 func (l *awardLedger) apply(e Event) error {
@@ -557,12 +574,7 @@ func (l *awardLedger) attribute(pol ExpensePolicy, value []float64, d, known int
 		return
 	}
 	kd := min(d, known)
-	q := func(i int) float64 {
-		if l.tr[i].vestedN(kd) {
-			return 1
-		}
-		return l.tr[i].p
-	}
+	q := func(i int) float64 { return l.tr[i].expected(kd) }
 	if pol.Attribution == Graded {
 		for i := range l.tr {
 			out[i] = value[i] * q(i) * serviceFraction(l.tr[i].startN, l.tr[i].days, d)
@@ -756,14 +768,11 @@ func Expense(awards []AwardCost, policy ExpensePolicy, periodStart, periodEnd ti
 			if live > 0 {
 				lastLive = t.Tranche.VestDate
 			}
-			q := t.p
-			if t.vestedOn(periodEnd) {
-				q = 1
-			}
+			q := t.expected(dayNum(periodEnd))
 			te := TrancheExpense{
 				Index: t.Tranche.Index, VestDate: t.Tranche.VestDate, ServiceStart: t.start,
 				Shares: t.Tranche.Shares, SharesCounted: float64(live)*q + float64(c.accelerated),
-				FairValue: t.FairValue, ExpectedShare: t.p,
+				FairValue: t.FairValue, ExpectedShare: q,
 				Cost: sInf.comp[i], CumulativeOpen: s0.comp[i], Cumulative: s1.comp[i],
 			}
 			te.Period = te.Cumulative - te.CumulativeOpen

@@ -53,19 +53,41 @@ func nearly(t *testing.T, what string, got, want, tol float64) {
 // 50,000 × 80% × 15 / 3 = 200,000 a year. The annual rate that leaves 80%
 // after three years is 1 − 0.8^(1/3). 2029-2031 have no 29 February, so each
 // year is 365 of the 1,095 service days, a third exactly.
+//
+// The guidance's figures assume the leavers come as expected; the estimate
+// here counts the holders still there at the rate over the service still to
+// come, so the test records them: 500·(1 − 0.8^(1/3)) ≈ 36 leave in 2029, 33
+// in 2030 and 31 in 2031 (100 in all), each on 31 December. Year 1:
+// 464 × 0.8^(2/3) × 100 × 15 / 3 = 199,931.6; year 2: 431 × 0.8^(1/3) × 1,000
+// − 199,931.6 = 200,172.6; year 3: 400 × 1,500 − 400,104.2 = 199,895.8. Whole
+// leavers against a smooth estimate leave these within 0.1% of 200,000; the
+// three years add to 400 × 100 × 15 = 600,000 exactly.
 func TestIFRS2CliffForfeitureEstimate(t *testing.T) {
+	const tolRounding = 200 // 0.1% of 200,000: whole employees leave, the estimate is smooth
+	leavers := map[string]int{"2029": 36, "2030": 33, "2031": 31}
 	var awards []AwardCost
-	for i := 0; i < 500; i++ {
-		awards = append(awards, testAward(fmt.Sprintf("E%03d", i), Option, "2029-01-01", []string{"2032-01-01"}, []int64{100}, []float64{15}))
+	next := 0
+	for _, y := range []string{"2029", "2030", "2031"} {
+		for k := 0; k < leavers[y]; k++ {
+			a := testAward(fmt.Sprintf("E%03d", next), Option, "2029-01-01", []string{"2032-01-01"}, []int64{100}, []float64{15})
+			a.Events = []Event{{GrantID: a.Grant.ID, Date: ymd(y + "-12-31"), Kind: Forfeited, Shares: 100}}
+			awards = append(awards, a)
+			next++
+		}
+	}
+	for ; next < 500; next++ {
+		awards = append(awards, testAward(fmt.Sprintf("E%03d", next), Option, "2029-01-01", []string{"2032-01-01"}, []int64{100}, []float64{15}))
 	}
 	rate := 1 - math.Pow(0.8, 1.0/3)
 	for _, attr := range []Attribution{Graded, StraightLine} {
 		pol := ExpensePolicy{Attribution: attr, Forfeitures: Estimate, PreVestingForfeitureRate: rate}
 		for _, y := range []string{"2029", "2030", "2031"} {
 			r := mustExpense(t, awards, pol, y+"-01-01", y+"-12-31")
-			nearly(t, fmt.Sprintf("%s %s expense", attr, y), r.Period, 200000, 1e-4)
+			nearly(t, fmt.Sprintf("%s %s expense", attr, y), r.Period, 200000, tolRounding)
 		}
-		r := mustExpense(t, awards, pol, "2031-01-01", "2031-12-31")
+		r := mustExpense(t, awards, pol, "2029-01-01", "2029-12-31")
+		nearly(t, string(attr)+" 2029 by hand", r.Period, 464*math.Pow(0.8, 2.0/3)*100*15/3, 1e-4)
+		r = mustExpense(t, awards, pol, "2031-01-01", "2031-12-31")
 		nearly(t, string(attr)+" cumulative 2031", r.Cumulative, 600000, 1e-4)
 		nearly(t, string(attr)+" unrecognised 2031", r.Unrecognized, 0, 1e-4)
 	}
@@ -173,22 +195,29 @@ func TestStraightLineFloorBites(t *testing.T) {
 	nearly(t, "graded 2029", r.Period, 20000+10000.0*365/730+5000.0*365/1095+5000.0*365/1461, tolMoney)
 }
 
-// Rule: an estimated forfeiture rate trued up to actual at vesting (ASC
-// 718-10-35-3; IFRS 2.20). One tranche of 1,000 at 10 vesting after a year,
-// rate 10%: 1000 × 0.9 × 10 = 9,000 accrues over 2029; nobody left, so on the
-// vest date 2030-01-01 the count is trued up to 1,000 and Q1 2030 books 1,000.
+// Rule: an estimated forfeiture rate trued up to actual by vesting (ASC
+// 718-10-35-3; IFRS 2.20). One tranche of 1,000 at 10 vesting 2030-01-01
+// after 365 service days, rate 10%. At the end of a day the count is the
+// 1,000 still there times 0.9^(service days still to come / 365): through
+// 2029-09-30 (273 days served, 92 to come) 10,000 × 0.9^(92/365) × 273/365;
+// nobody left, so by 2029-12-31 the count has risen to the actual 1,000 and
+// the cumulative cost is 10,000; vesting on 2030-01-01 adds nothing.
 func TestEstimateTrueUpAtVesting(t *testing.T) {
 	a := testAward("T", Option, "2029-01-01", []string{"2030-01-01"}, []int64{1000}, []float64{10})
 	pol := ExpensePolicy{Attribution: Graded, Forfeitures: Estimate, PreVestingForfeitureRate: 0.10}
-	r := mustExpense(t, []AwardCost{a}, pol, "2029-10-01", "2029-12-31")
-	nearly(t, "Q4 2029", r.Period, 9000.0*92/365, tolMoney)
-	nearly(t, "cumulative 2029", r.Cumulative, 9000, tolMoney)
-	nearly(t, "unrecognised 2029 (net of expected forfeitures)", r.Unrecognized, 0, tolMoney)
-	r = mustExpense(t, []AwardCost{a}, pol, "2030-01-01", "2030-03-31")
-	nearly(t, "Q1 2030 true-up", r.Period, 1000, tolMoney)
-	// The forecast made at 2029-12-31 expects no true-up (forfeitures at the rate).
+	r := mustExpense(t, []AwardCost{a}, pol, "2029-01-01", "2029-09-30")
+	nearly(t, "cumulative to 2029-09-30", r.Cumulative, 10000*math.Pow(0.9, 92.0/365)*273/365, tolMoney)
+	nearly(t, "unrecognised at 2029-09-30 (net of expected forfeitures)", r.Unrecognized, 10000*math.Pow(0.9, 92.0/365)*92/365, tolMoney)
 	r = mustExpense(t, []AwardCost{a}, pol, "2029-10-01", "2029-12-31")
-	nearly(t, "forecast Q1 2030", r.Forecast[0].Amount, 0, tolMoney)
+	nearly(t, "Q4 2029", r.Period, 10000-10000*math.Pow(0.9, 92.0/365)*273/365, tolMoney)
+	nearly(t, "cumulative 2029", r.Cumulative, 10000, tolMoney)
+	nearly(t, "unrecognised 2029", r.Unrecognized, 0, tolMoney)
+	r = mustExpense(t, []AwardCost{a}, pol, "2030-01-01", "2030-03-31")
+	nearly(t, "Q1 2030 at vesting", r.Period, 0, tolMoney)
+	// The forecast made at 2029-09-30 books the rest at the expected share
+	// (forfeitures at the rate): 10,000 × 0.9^(92/365) × 92/365 in Q4.
+	r = mustExpense(t, []AwardCost{a}, pol, "2029-07-01", "2029-09-30")
+	nearly(t, "forecast Q4 2029", r.Forecast[0].Amount, 10000*math.Pow(0.9, 92.0/365)*92/365, tolMoney)
 }
 
 // Rule: a termination under both forfeiture policies (ASC 718-10-35-3 and
@@ -211,10 +240,11 @@ func TestTermination(t *testing.T) {
 	nearly(t, "as-occur cumulative", r.Cumulative, 10000, tolMoney)
 	nearly(t, "as-occur unrecognised", r.Unrecognized, 0, tolMoney)
 
-	// Estimate at 10%: the unvested tranches counted at 0.9^Y, Y = 730/365,
-	// 1095/365, 1461/365; tranche 1 was trued up to 10,000 on its vest date.
+	// Estimate at 10%: through 2030-03-31 the unvested tranches count at
+	// 0.9^(service days still to come / 365): 730−455, 1095−455 and 1461−455
+	// days; tranche 1 is vested at its 10,000.
 	est := ExpensePolicy{Attribution: Graded, Forfeitures: Estimate, PreVestingForfeitureRate: 0.10}
-	beforeEst := 10000 + 10000*math.Pow(0.9, 2)*455/730 + 10000*math.Pow(0.9, 3)*455/1095 + 10000*math.Pow(0.9, 1461.0/365)*455/1461
+	beforeEst := 10000 + 10000*math.Pow(0.9, 275.0/365)*455/730 + 10000*math.Pow(0.9, 640.0/365)*455/1095 + 10000*math.Pow(0.9, 1006.0/365)*455/1461
 	r = mustExpense(t, []AwardCost{a}, est, "2030-04-01", "2030-06-30")
 	nearly(t, "estimate Q2 2030", r.Period, 10000-beforeEst, tolMoney)
 	nearly(t, "estimate cumulative", r.Cumulative, 10000, tolMoney)

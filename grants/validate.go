@@ -24,10 +24,12 @@ func Validate(s *Schedule) Report {
 // old is stale).
 const StaleMonths = 12
 
-// Bounds outside which a volatility draws a warning.
+// Bounds outside which a volatility draws a warning, and the largest one
+// accepted at all (the price command's limit too).
 const (
 	VolLow  = 0.05
 	VolHigh = 2.00
+	VolMax  = 5.00
 )
 
 func validate(s *Schedule, skip map[string]bool) Report {
@@ -109,16 +111,16 @@ func (v *validator) rate(sheet, key string, row int, refs map[string]Ref, x floa
 func (v *validator) vol(sheet string, row int, refs map[string]Ref, x float64) {
 	ref := v.s.cell(sheet, "volatility", row, refs)
 	switch {
-	case x <= 0 || x > 10:
-		v.rep.errf(ref, "volatility", num(x), ErrRange, "must be more than 0 (as a decimal, 0.45, or a percentage, 45%%)")
+	case x <= 0 || x > VolMax:
+		v.rep.errf(ref, "volatility", num(x), ErrRange, "must be more than 0 and at most %g (%g%%), as a decimal, 0.45, or a percentage, 45%%", VolMax, VolMax*100)
 	case x < VolLow || x > VolHigh:
 		v.rep.warnf(ref, "volatility", num(x), ErrRange, "is outside %g%%–%g%%; check that it is an annual decimal (0.45 = 45%%)", VolLow*100, VolHigh*100)
 	}
 }
 
 func (v *validator) multiple(sheet string, row int, refs map[string]Ref, x float64) {
-	if x != 0 && x < 1 || x < 0 || x > 100 {
-		v.rep.errf(v.s.cell(sheet, "exercise_multiple", row, refs), "exercise_multiple", num(x), ErrRange, "must be 0 (no such rule) or from 1 to 100 times the strike")
+	if x != 0 && x <= 1 || x < 0 || x > 100 {
+		v.rep.errf(v.s.cell(sheet, "exercise_multiple", row, refs), "exercise_multiple", num(x), ErrRange, "must be 0 (no such rule) or above 1, up to 100 times the strike")
 	}
 }
 

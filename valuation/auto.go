@@ -81,6 +81,10 @@ func latticeAuto(t Terms, vestYears []float64, m Market, conv Convention) ([]Res
 
 func latticeAutoSteps(t Terms, vestYears []float64, m Market, conv Convention, nmin int) ([]Result, error) {
 	plan := autoSteps(t, m, nmin)
+	if plan.steps[2] > MaxLatticeSteps {
+		return nil, inputErr("auto mode needs %d steps to keep the up-probability in (0, 1), above the limit of %d: volatility %v is too low for the rates of the curve (forward up to %.4g) and dividend yield %v",
+			plan.steps[2], MaxLatticeSteps, m.VolAnnual, maxForward(t, m), m.DividendYield)
+	}
 	n := len(vestYears)
 	vals := make([][3]float64, n)
 	lives := make([][3]float64, n)
@@ -89,6 +93,9 @@ func latticeAutoSteps(t Terms, vestYears []float64, m Market, conv Convention, n
 	va, la := make([]float64, n), make([]float64, n)
 	vb, lb := make([]float64, n), make([]float64, n)
 	for lv, N := range plan.steps {
+		if err := checkSpan(t, m, N); err != nil {
+			return nil, err
+		}
 		w := getWork(N)
 		if err := w.build(t, m, N, conv, true); err != nil {
 			putWork(w)

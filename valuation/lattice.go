@@ -71,10 +71,36 @@ func LatticeTranches(t Terms, vestYears []float64, m Market, o LatticeOptions) (
 		}
 		vestYears = vy
 	}
+	var rs []Result
+	var err error
 	if o.Steps > 0 {
-		return latticeRaw(t, vestYears, m, o)
+		rs, err = latticeRaw(t, vestYears, m, o)
+	} else {
+		rs, err = latticeAuto(t, vestYears, m, o.Convention)
 	}
-	return latticeAuto(t, vestYears, m, o.Convention)
+	if err != nil {
+		return nil, err
+	}
+	for _, r := range rs {
+		if !finite(r.Value) || !finite(r.ExpectedTermYears) || !finite(r.ErrorEstimate) {
+			return nil, inputErr("the lattice gave no finite value for volatility %v, years to expiry %v, spot %v and strike %v", m.VolAnnual, t.YearsToExpiry, m.Spot, t.Strike)
+		}
+	}
+	return rs, nil
+}
+
+// maxLogSpan bounds σ√(T·N), the log-price distance from the spot to the
+// tree's top node, so that node prices stay far inside float64 range
+// (e^709 overflows).
+const maxLogSpan = 600
+
+// checkSpan refuses a tree whose extreme node prices would overflow.
+func checkSpan(t Terms, m Market, n int) error {
+	if span := m.VolAnnual * math.Sqrt(t.YearsToExpiry*float64(n)); span > maxLogSpan {
+		return inputErr("volatility %v over %v years on %d steps puts the top node e^%.0f times the spot, beyond floating point; use fewer steps or check the volatility (a decimal: 0.45, not 45)",
+			m.VolAnnual, t.YearsToExpiry, n, span)
+	}
+	return nil
 }
 
 func inputErr(format string, args ...any) error {
@@ -142,6 +168,9 @@ func vestStep(v, T float64, n int) int {
 func latticeRaw(t Terms, vestYears []float64, m Market, o LatticeOptions) ([]Result, error) {
 	n, err := rawSteps(t, o)
 	if err != nil {
+		return nil, err
+	}
+	if err := checkSpan(t, m, n); err != nil {
 		return nil, err
 	}
 	w := getWork(n)

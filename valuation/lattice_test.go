@@ -443,3 +443,36 @@ func TestLatticeAutoBarrierAtSpot(t *testing.T) {
 		}
 	}
 }
+
+// A tree whose top node price would overflow float64 is refused with an
+// error naming the volatility, never a NaN value (σ√(T·N) = 1.6·√(10·20000)
+// ≈ 716 > 709 = ln of the largest float64; σ = 8 over 10 years needs it in
+// auto mode too).
+func TestLatticeRefusesOverflowingTree(t *testing.T) {
+	cases := []struct {
+		vol   float64
+		steps int
+	}{{1.6, 20000}, {5, 2000}, {8, 0}, {10, 0}}
+	for _, c := range cases {
+		terms := Terms{Strike: 50, YearsToExpiry: 10}
+		m := Market{Spot: 50, VolAnnual: c.vol, Curve: FlatCurve(0.05)}
+		r, err := Lattice(terms, m, LatticeOptions{Steps: c.steps})
+		if !errors.Is(err, ErrLatticeInput) {
+			t.Errorf("vol %v steps %d: got value %v, err %v; want an ErrLatticeInput", c.vol, c.steps, r.Value, err)
+		}
+	}
+}
+
+// Auto mode never builds a tree above MaxLatticeSteps: a volatility so low
+// that the up-probability needs more is refused.
+func TestLatticeAutoStepLimit(t *testing.T) {
+	terms := Terms{Strike: 50, YearsToExpiry: 10, YearsToVest: 1, ExerciseMultiple: 2}
+	m := Market{Spot: 50, VolAnnual: 0.004, Curve: FlatCurve(0.10)}
+	r, err := Lattice(terms, m, LatticeOptions{})
+	if err == nil && r.Steps > MaxLatticeSteps {
+		t.Fatalf("auto mode used %d steps, above the limit %d", r.Steps, MaxLatticeSteps)
+	}
+	if err != nil && !errors.Is(err, ErrLatticeInput) {
+		t.Fatalf("err %v does not wrap ErrLatticeInput", err)
+	}
+}

@@ -121,8 +121,11 @@ func EuropeanWarrant(t Terms, m Market, d Dilution) (Result, error) {
 // exact when early exercise is never optimal (no dividends, no exit, no
 // multiple), where it equals the European value.
 //
-// The result's ErrorEstimate is the lattice's error estimate times N/(N+W)
-// (and 0 for European terms); ExpectedTermYears, Steps and Method are the
+// The result's ErrorEstimate is the lattice's error estimate ε times
+// N/(N+W) for a new issue. When the share price reflects the warrants, the
+// fixed point w = f·C(S0 + (W/N)·w) passes an error ε in C on as
+// f·ε/(1 − f·(W/N)·∂C/∂S), at most ε since the delta is at most 1, so the
+// estimate is ε itself. It is 0 for European terms; ExpectedTermYears, Steps and Method are the
 // lattice's at the share value the call was finally evaluated at.
 func WarrantValue(t Terms, m Market, d Dilution, o LatticeOptions) (Result, error) {
 	if t.European {
@@ -153,9 +156,18 @@ func WarrantValue(t Terms, m Market, d Dilution, o LatticeOptions) (Result, erro
 	}
 	return Result{
 		Value:             w,
-		ErrorEstimate:     d.Factor() * last.ErrorEstimate,
+		ErrorEstimate:     warrantError(d, last.ErrorEstimate),
 		ExpectedTermYears: last.ExpectedTermYears,
 		Steps:             last.Steps,
 		Method:            MethodLattice,
 	}, nil
+}
+
+// warrantError carries the call's error estimate through the dilution (see
+// WarrantValue).
+func warrantError(d Dilution, callErr float64) float64 {
+	if d.PriceReflectsWarrants {
+		return callErr
+	}
+	return d.Factor() * callErr
 }
