@@ -1,14 +1,14 @@
 package report
 
 import (
-	"bufio"
 	"bytes"
 	"encoding/xml"
 	"io"
 	"math"
-	"os"
 	"strconv"
+	"strings"
 	"time"
+	"unicode/utf8"
 )
 
 // The Tranches sheet of a large ledger has a row per tranche, hundreds of
@@ -16,9 +16,9 @@ import (
 // of the workbook's time on it cell by cell. When every value on the sheet
 // is of a plain kind (text of printable ASCII needing no escape, finite
 // numbers, dates after 1900-02-28), its rows are written here instead,
-// byte for byte as the stream writer writes them, into a temporary file;
-// excelize writes the sheet with the header and a placeholder row, and
-// canonicalZip puts the rows in the placeholder's place. Otherwise the
+// byte for byte as the stream writer writes them: excelize writes the
+// sheet with the header and a placeholder row, and canonicalZip writes
+// the rows in the placeholder's place as it copies the archive. Otherwise the
 // sheet goes through excelize as every other sheet does. A test checks
 // that both ways give the same sheet XML.
 
@@ -32,16 +32,8 @@ const rowsToken = "grantworth-rows-placeholder-5c1e"
 // one inline string in A2, no style.
 var placeholderRow = []byte(`<row r="2"><c r="A2" t="inlineStr"><is><t>` + rowsToken + `</t></is></c></row>`)
 
-// fastRows are a sheet's rows written apart, in a temporary file.
-type fastRows struct {
-	f    *os.File
-	size int64
-}
-
-func (r *fastRows) close() {
-	r.f.Close()
-	os.Remove(r.f.Name())
-}
+// fastRows writes a sheet's data rows, in the stream writer's form, to w.
+type fastRows func(w io.Writer) error
 
 // plainText reports whether excelize writes s as it is: printable ASCII
 // without an XML special character, an underscore (its _xHHHH_ escapes)
@@ -154,9 +146,13 @@ func (w *rowWriter) formula(col, s int, f string) {
 	w.ref(col)
 	w.style(s)
 	w.b = append(w.b, ` t="str"><f>`...)
-	var esc bytes.Buffer
-	_ = xml.EscapeText(&esc, []byte(f))
-	w.b = append(w.b, esc.Bytes()...)
+	if strings.ContainsAny(f, "&<>\"'\t\n\r") || !utf8.ValidString(f) {
+		var esc bytes.Buffer
+		_ = xml.EscapeText(&esc, []byte(f))
+		w.b = append(w.b, esc.Bytes()...)
+	} else {
+		w.b = append(w.b, f...)
+	}
 	w.b = append(w.b, `</f></c>`...)
 }
 
@@ -225,68 +221,53 @@ func trancheRowsPlain(m *Model) bool {
 	return true
 }
 
-// writeTrancheRows writes the Tranches sheet's data rows, from row 2, to
-// a temporary file, the cells of writeTranches in the same order.
-func writeTrancheRows(b *Book, m *Model) (*fastRows, error) {
-	f, err := os.CreateTemp("", "grantworth-rows-*")
-	if err != nil {
-		return nil, err
-	}
-	out := &fastRows{f: f}
-	bw := bufio.NewWriterSize(f, 1<<20)
-	s := b.Style
-	w := &rowWriter{b: make([]byte, 0, 8192)}
-	row := 1
-	for _, g := range m.Grants {
-		for _, tr := range g.Tranches {
-			row++
-			w.row = strconv.AppendInt(w.row[:0], int64(row), 10)
-			d1, d2, bsm := bsmFormulas(row, g.Instrument)
-			w.b = append(w.b[:0], `<row r="`...)
-			w.b = append(w.b, w.row...)
-			w.b = append(w.b, `">`...)
-			w.text(1, s.Input, g.ID)
-			w.text(2, s.Input, g.Holder)
-			w.text(3, s.Input, g.Instrument)
-			w.int(4, s.Int, int64(tr.Index))
-			w.date(5, s.Date, tr.VestDate)
-			w.int(6, s.Int, tr.Shares)
-			w.float(7, s.MoneyPerShare, g.SharePrice)
-			w.float(8, s.MoneyPerShare, g.Strike)
-			w.float(9, s.Years, tr.YearsToExpiry)
-			w.float(10, s.Years, tr.YearsToVest)
-			w.float(11, s.Percent, g.Volatility)
-			w.float(12, s.Percent, tr.RiskFreeRate)
-			w.float(13, s.Percent, g.DividendYield)
-			w.float(14, s.Number, g.ExerciseMultiple)
-			w.float(15, s.Percent, g.PostVestingExitRate)
-			w.float(16, s.MoneyPerShare, tr.FairValuePerShare)
-			w.float(17, s.Number, tr.ErrorEstimate)
-			w.float(18, s.Years, tr.ExpectedTermYears)
-			w.float(19, s.Years, tr.SimplifiedTerm)
-			w.float(20, s.Percent, tr.SimplifiedRate)
-			w.float(21, s.MoneyPerShare, tr.BSMSimplifiedValue)
-			w.formula(22, s.Number, d1)
-			w.formula(23, s.Number, d2)
-			w.formula(24, s.MoneyPerShare, bsm)
-			w.float(25, s.MoneyPerShare, tr.FairValuePerShare-tr.BSMSimplifiedValue)
-			w.float(26, s.Money, tr.FairValueTotal)
-			w.b = append(w.b, `</row>`...)
-			if _, err := bw.Write(w.b); err != nil {
-				out.close()
-				return nil, err
+// trancheRows writes the Tranches sheet's data rows, from row 2, the
+// cells of writeTranches in the same order.
+func trancheRows(b *Book, m *Model) fastRows {
+	return func(out io.Writer) error {
+		s := b.Style
+		w := &rowWriter{b: make([]byte, 0, 8192)}
+		row := 1
+		for _, g := range m.Grants {
+			for _, tr := range g.Tranches {
+				row++
+				w.row = strconv.AppendInt(w.row[:0], int64(row), 10)
+				d1, d2, bsm := bsmFormulas(row, g.Instrument)
+				w.b = append(w.b[:0], `<row r="`...)
+				w.b = append(w.b, w.row...)
+				w.b = append(w.b, `">`...)
+				w.text(1, s.Input, g.ID)
+				w.text(2, s.Input, g.Holder)
+				w.text(3, s.Input, g.Instrument)
+				w.int(4, s.Int, int64(tr.Index))
+				w.date(5, s.Date, tr.VestDate)
+				w.int(6, s.Int, tr.Shares)
+				w.float(7, s.MoneyPerShare, g.SharePrice)
+				w.float(8, s.MoneyPerShare, g.Strike)
+				w.float(9, s.Years, tr.YearsToExpiry)
+				w.float(10, s.Years, tr.YearsToVest)
+				w.float(11, s.Percent, g.Volatility)
+				w.float(12, s.Percent, tr.RiskFreeRate)
+				w.float(13, s.Percent, g.DividendYield)
+				w.float(14, s.Number, g.ExerciseMultiple)
+				w.float(15, s.Percent, g.PostVestingExitRate)
+				w.float(16, s.MoneyPerShare, tr.FairValuePerShare)
+				w.float(17, s.Number, tr.ErrorEstimate)
+				w.float(18, s.Years, tr.ExpectedTermYears)
+				w.float(19, s.Years, tr.SimplifiedTerm)
+				w.float(20, s.Percent, tr.SimplifiedRate)
+				w.float(21, s.MoneyPerShare, tr.BSMSimplifiedValue)
+				w.formula(22, s.Number, d1)
+				w.formula(23, s.Number, d2)
+				w.formula(24, s.MoneyPerShare, bsm)
+				w.float(25, s.MoneyPerShare, tr.FairValuePerShare-tr.BSMSimplifiedValue)
+				w.float(26, s.Money, tr.FairValueTotal)
+				w.b = append(w.b, `</row>`...)
+				if _, err := out.Write(w.b); err != nil {
+					return err
+				}
 			}
 		}
+		return nil
 	}
-	if err := bw.Flush(); err != nil {
-		out.close()
-		return nil, err
-	}
-	size, err := f.Seek(0, io.SeekCurrent)
-	if err != nil {
-		out.close()
-		return nil, err
-	}
-	out.size = size
-	return out, nil
 }

@@ -45,9 +45,9 @@ var sheetHooks []SheetHook
 type Book struct {
 	f     *excelize.File
 	Style Styles
-	// fast holds the Tranches rows written apart (fastsheet.go); slow
+	// fast writes the Tranches rows apart (fastsheet.go); slow
 	// sends every sheet through excelize (for the test that compares).
-	fast *fastRows
+	fast fastRows
 	slow bool
 }
 
@@ -101,11 +101,6 @@ func WriteWorkbook(w io.Writer, m *Model) error {
 		return zw
 	})
 	b := &Book{f: f, slow: slowSheets}
-	defer func() {
-		if b.fast != nil {
-			b.fast.close()
-		}
-	}()
 	if err := b.styles(m.Company.Currency); err != nil {
 		return err
 	}
@@ -171,7 +166,7 @@ func WriteWorkbook(w io.Writer, m *Model) error {
 //
 // When fast is not nil, the worksheet holding the placeholder row is
 // written anew with fast's rows in that row's place.
-func canonicalZip(w io.Writer, in io.ReaderAt, size int64, fast *fastRows) error {
+func canonicalZip(w io.Writer, in io.ReaderAt, size int64, fast fastRows) error {
 	zr, err := zip.NewReader(in, size)
 	if err != nil {
 		return err
@@ -223,7 +218,7 @@ func canonicalZip(w io.Writer, in io.ReaderAt, size int64, fast *fastRows) error
 
 // spliceRows writes entry zf anew with fast's rows in place of the
 // placeholder row, if it holds that row.
-func spliceRows(zw *zip.Writer, zf *zip.File, h zip.FileHeader, fast *fastRows) (bool, error) {
+func spliceRows(zw *zip.Writer, zf *zip.File, h zip.FileHeader, fast fastRows) (bool, error) {
 	r, err := zf.Open()
 	if err != nil {
 		return false, err
@@ -247,7 +242,12 @@ func spliceRows(zw *zip.Writer, zf *zip.File, h zip.FileHeader, fast *fastRows) 
 	if _, err := dst.Write(data[:i]); err != nil {
 		return false, err
 	}
-	if _, err := io.Copy(dst, io.NewSectionReader(fast.f, 0, fast.size)); err != nil {
+	// Large writes: the compressor works in pieces of a megabyte.
+	bw := bufio.NewWriterSize(dst, 1<<20)
+	if err := fast(bw); err != nil {
+		return false, err
+	}
+	if err := bw.Flush(); err != nil {
 		return false, err
 	}
 	_, err = dst.Write(data[i+len(placeholderRow):])
@@ -595,8 +595,8 @@ func writeTranches(b *Book, m *Model) error {
 		if err := t.Close(); err != nil {
 			return err
 		}
-		b.fast, err = writeTrancheRows(b, m)
-		return err
+		b.fast = trancheRows(b, m)
+		return nil
 	}
 	s := b.Style
 	// The row's cells are built in place and passed by pointer, not boxed
