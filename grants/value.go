@@ -3,7 +3,10 @@ package grants
 import (
 	"fmt"
 	"math"
+	"runtime"
+	"sort"
 	"strconv"
+	"sync"
 	"time"
 
 	"grantworth/valuation"
@@ -18,8 +21,14 @@ import (
 // grants whose relative change is applied to the full total.
 const (
 	SensitivitySample = 300
-	MonteCarloPaths   = 100_000
-	MonteCarloSeed    = 1
+	// The Monte Carlo cross-check simulates up to MonteCarloSample
+	// tranches with MonteCarloPaths paths each, the i-th (from 0) with
+	// seed MonteCarloSeed+i. A check whose |z| exceeds MonteCarloZLimit
+	// raises a warning.
+	MonteCarloSample = 8
+	MonteCarloPaths  = 40_000
+	MonteCarloSeed   = 1
+	MonteCarloZLimit = 4.0
 	// MaxRemeasurements bounds the past quarter ends at which a
 	// liability-classified warrant is revalued (the most recent are kept).
 	MaxRemeasurements = 12
@@ -95,13 +104,19 @@ type ConvergencePoint struct {
 	Value float64
 }
 
-// MonteCarloCheck is the simulation of the convergence study's tranche.
+// MonteCarloCheck is the simulation of one sampled tranche beside the
+// automatic lattice on the same terms (undiluted for a warrant).
 type MonteCarloCheck struct {
 	GrantID      string
 	TrancheIndex int
+	Instrument   Instrument
 	Lattice      float64 // the automatic lattice value
+	LatticeError float64 // its error estimate
 	Result       valuation.Result
 	Seed         uint64
+	// Z is (Result.Value − Lattice) / √(s.e.² + LatticeError²); 0 when
+	// both errors are 0.
+	Z float64
 }
 
 // Revaluation is a liability-classified warrant's value per tranche
@@ -123,10 +138,12 @@ type Valuation struct {
 	SensitivitySample int
 	Sensitivity       []Sensitivity
 	Convergence       *Convergence // nil without a lattice-valued tranche
-	MonteCarlo        *MonteCarloCheck
-	// MonteCarloRational is set when the check was not run because the
-	// representative award allows rational early exercise; MonteCarloErr
-	// when the simulation refused the inputs.
+	// MonteCarlo is the cross-check of a sample of tranches (see
+	// monteCarloSample), in ledger order. MonteCarloRational is set when
+	// no tranche could be checked because every lattice-valued award
+	// allows rational early exercise; MonteCarloErr holds the first
+	// refusal of the simulation (that tranche is left out of the sample).
+	MonteCarlo         []MonteCarloCheck
 	MonteCarloRational bool
 	MonteCarloErr      error
 	// Revaluations are, per liability-classified warrant's grant ID, its
@@ -195,8 +212,8 @@ func dateText(t time.Time) string {
 // Value values the grants ins (from ValueInputs): options as lattice jobs
 // on all cores, warrants on the lattice with dilution, RSUs in closed
 // form, the closed-form comparison per tranche; then the sensitivity
-// cases, the convergence study and Monte Carlo check on a representative
-// tranche, and the revaluations of liability-classified warrants that
+// cases, the convergence study on a representative tranche, the Monte
+// Carlo check of a small sample of tranches, and the revaluations of liability-classified warrants that
 // expense attribution needs. The result depends only on the schedule and
 // opts, never on the number of cores.
 func (s *Schedule) Value(ins []Inputs, opts ValueOptions) (*Valuation, error) {
@@ -229,6 +246,9 @@ func (s *Schedule) Value(ins []Inputs, opts ValueOptions) (*Valuation, error) {
 		return nil, err
 	}
 	if err := p.convergence(v); err != nil {
+		return nil, err
+	}
+	if err := p.monteCarlo(v); err != nil {
 		return nil, err
 	}
 	v.Revaluations = map[string][]Revaluation{}
@@ -545,8 +565,7 @@ func (p *pricer) sensitivity(v *Valuation, progress func(done, total int)) error
 }
 
 // representative is the option tranche with the largest total fair value
-// (else any lattice-valued tranche): the convergence study and the Monte
-// Carlo check use it.
+// (else any lattice-valued tranche): the convergence study uses it.
 func representative(gs []GrantValue) (*GrantValue, int) {
 	var best *GrantValue
 	bk, bv := -1, -1.0
@@ -566,19 +585,15 @@ func representative(gs []GrantValue) (*GrantValue, int) {
 	return best, bk
 }
 
-// convergence runs the convergence study and the Monte Carlo check on the
-// representative tranche.
+// convergence runs the convergence study on the representative tranche.
 func (p *pricer) convergence(v *Valuation) error {
 	gv, k := representative(v.Grants)
 	if gv == nil {
 		return nil
 	}
 	in := gv.Inputs
-	t := in.Terms[k]
+	t := mcTerms(gv, k)
 	mk := in.Market
-	if in.Grant.Instrument == Warrant {
-		t.Rational = t.Rational || !t.European
-	}
 	auto, err := valuation.Lattice(t, mk, valuation.LatticeOptions{})
 	if err != nil {
 		return fmt.Errorf("convergence study, grant %s: %w", in.Grant.ID, err)
@@ -592,17 +607,171 @@ func (p *pricer) convergence(v *Valuation) error {
 		c.Points = append(c.Points, ConvergencePoint{Steps: n, Value: r.Value})
 	}
 	v.Convergence = c
-	if t.Rational {
-		v.MonteCarloRational = true
-		return nil
-	}
-	mc, err := valuation.MonteCarlo(t, mk, valuation.MCOptions{Paths: MonteCarloPaths, Seed: MonteCarloSeed})
-	if err != nil {
-		v.MonteCarloErr = err
-		return nil
-	}
-	v.MonteCarlo = &MonteCarloCheck{GrantID: in.Grant.ID, TrancheIndex: in.Tranches[k].Index, Lattice: auto.Value, Result: mc, Seed: MonteCarloSeed}
 	return nil
+}
+
+// mcTerms are the lattice terms of tranche k of gv as the convergence
+// study and the cross-check value them: a warrant that is not European is
+// exercised rationally.
+func mcTerms(gv *GrantValue, k int) valuation.Terms {
+	t := gv.Inputs.Terms[k]
+	if gv.Inputs.Grant.Instrument == Warrant {
+		t.Rational = t.Rational || !t.European
+	}
+	return t
+}
+
+// simulable reports whether valuation.MonteCarlo values terms t: it does
+// not simulate rational exercise after vesting.
+func simulable(t valuation.Terms) bool {
+	return !t.Rational || t.European || t.YearsToVest >= t.YearsToExpiry
+}
+
+// mcPick is a tranche of the Monte Carlo sample: grant index i in the
+// ledger, tranche k.
+type mcPick struct{ i, k int }
+
+// monteCarloSample picks up to MonteCarloSample tranches for the Monte
+// Carlo check, deterministically, in ledger order. The candidates are the
+// equity options and warrants whose terms the simulation can value (no
+// rational exercise), one per grant: its tranche of largest total fair
+// value. Picks are made one at a time, each the candidate that first adds
+// an instrument not yet in the sample, then a grant month not yet in it,
+// then has the largest total fair value (ties to the earlier grant). It
+// reports whether any lattice-valued tranche was left out because it
+// allows rational exercise.
+func monteCarloSample(gs []GrantValue) (picks []mcPick, rational bool) {
+	type cand struct {
+		mcPick
+		month int
+		inst  Instrument
+		fv    float64
+	}
+	var cs []cand
+	for i := range gs {
+		gv := &gs[i]
+		g := gv.Inputs.Grant
+		if g.Instrument != Option && g.Instrument != Warrant {
+			continue
+		}
+		best, bv := -1, -1.0
+		for k, tr := range gv.Inputs.Tranches {
+			if !simulable(mcTerms(gv, k)) {
+				rational = true
+				continue
+			}
+			if x := gv.Results[k].Value * float64(tr.Shares); x > bv {
+				best, bv = k, x
+			}
+		}
+		if best >= 0 {
+			cs = append(cs, cand{mcPick{i, best}, g.GrantDate.Year()*12 + int(g.GrantDate.Month()), g.Instrument, bv})
+		}
+	}
+	insts := map[Instrument]bool{}
+	months := map[int]bool{}
+	taken := make([]bool, len(cs))
+	for len(picks) < MonteCarloSample && len(picks) < len(cs) {
+		b := -1
+		better := func(c, d cand) bool {
+			if x, y := !insts[c.inst], !insts[d.inst]; x != y {
+				return x
+			}
+			if x, y := !months[c.month], !months[d.month]; x != y {
+				return x
+			}
+			return c.fv > d.fv
+		}
+		for j := range cs {
+			if !taken[j] && (b < 0 || better(cs[j], cs[b])) {
+				b = j
+			}
+		}
+		taken[b] = true
+		insts[cs[b].inst], months[cs[b].month] = true, true
+		picks = append(picks, cs[b].mcPick)
+	}
+	sort.Slice(picks, func(a, b int) bool {
+		if picks[a].i != picks[b].i {
+			return picks[a].i < picks[b].i
+		}
+		return picks[a].k < picks[b].k
+	})
+	return picks, rational
+}
+
+// monteCarlo runs the Monte Carlo cross-check on the sample, the tranches
+// on all cores (each its own seed, so the result does not depend on their
+// number), and warns of any |z| above MonteCarloZLimit.
+func (p *pricer) monteCarlo(v *Valuation) error {
+	picks, rational := monteCarloSample(v.Grants)
+	if len(picks) == 0 {
+		v.MonteCarloRational = rational
+		return nil
+	}
+	type out struct {
+		c     MonteCarloCheck
+		err   error // the lattice failed: the run fails
+		mcErr error // the simulation refused: the tranche is left out
+	}
+	outs := make([]out, len(picks))
+	sem := make(chan struct{}, max(1, runtime.GOMAXPROCS(0)))
+	var wg sync.WaitGroup
+	for j, pk := range picks {
+		wg.Add(1)
+		sem <- struct{}{}
+		go func() {
+			defer func() { <-sem; wg.Done() }()
+			gv := &v.Grants[pk.i]
+			in := gv.Inputs
+			t := mcTerms(gv, pk.k)
+			o := &outs[j]
+			auto, err := valuation.Lattice(t, in.Market, valuation.LatticeOptions{})
+			if err != nil {
+				o.err = fmt.Errorf("Monte Carlo check, grant %s tranche %d: lattice: %w", in.Grant.ID, in.Tranches[pk.k].Index, err)
+				return
+			}
+			seed := uint64(MonteCarloSeed + j)
+			mc, err := valuation.MonteCarlo(t, in.Market, valuation.MCOptions{Paths: MonteCarloPaths, Seed: seed})
+			if err != nil {
+				o.mcErr = fmt.Errorf("grant %s tranche %d: %w", in.Grant.ID, in.Tranches[pk.k].Index, err)
+				return
+			}
+			o.c = MonteCarloCheck{GrantID: in.Grant.ID, TrancheIndex: in.Tranches[pk.k].Index, Instrument: in.Grant.Instrument,
+				Lattice: auto.Value, LatticeError: auto.ErrorEstimate, Result: mc, Seed: seed}
+			if d := math.Hypot(mc.ErrorEstimate, auto.ErrorEstimate); d > 0 {
+				o.c.Z = (mc.Value - auto.Value) / d
+			}
+		}()
+	}
+	wg.Wait()
+	for _, o := range outs {
+		switch {
+		case o.err != nil:
+			return o.err
+		case o.mcErr != nil:
+			if v.MonteCarloErr == nil {
+				v.MonteCarloErr = o.mcErr
+			}
+			continue
+		}
+		c := o.c
+		v.MonteCarlo = append(v.MonteCarlo, c)
+		if w := mcWarning(c); w != "" {
+			v.Warnings = append(v.Warnings, w)
+		}
+	}
+	return nil
+}
+
+// mcWarning is the warning a check raises when |z| exceeds
+// MonteCarloZLimit, else "".
+func mcWarning(c MonteCarloCheck) string {
+	if !(math.Abs(c.Z) > MonteCarloZLimit) {
+		return ""
+	}
+	return fmt.Sprintf("the Monte Carlo check of grant %s tranche %d gives %.4f ± %.4f per share against the lattice's %.4f ± %.4f (z = %.1f, beyond ±%g): a reviewer should look at this tranche's inputs and value",
+		c.GrantID, c.TrancheIndex, c.Result.Value, c.Result.ErrorEstimate, c.Lattice, c.LatticeError, c.Z, MonteCarloZLimit)
 }
 
 // revalue is a liability-classified warrant's value per tranche measured

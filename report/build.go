@@ -120,17 +120,31 @@ func Build(s *grants.Schedule, v *grants.Valuation, run Run) (*Model, error) {
 		}
 		m.Convergence = mc
 	}
-	switch {
-	case v.MonteCarloRational:
-		m.Settings.MonteCarlo = "No Monte Carlo check: the representative award allows rational early exercise, which the simulation does not model."
+	switch n := len(v.MonteCarlo); {
+	case n > 0:
+		c := v.MonteCarlo
+		tranches := "1 tranche"
+		if n > 1 {
+			tranches = count(n) + " tranches, the largest of each of " + count(n) + " grants spread over instruments and grant months"
+		}
+		seeds := fmt.Sprintf("seed %d", c[0].Seed)
+		if n > 1 {
+			seeds = fmt.Sprintf("seeds %d to %d", c[0].Seed, c[n-1].Seed)
+		}
+		m.Settings.MonteCarlo = fmt.Sprintf("%s paths per tranche (antithetic pairs, control variate), weekly grid with continuous barrier monitoring, %s, on %s.",
+			count(c[0].Result.Steps), seeds, tranches)
+		if v.MonteCarloErr != nil {
+			m.Settings.MonteCarlo += " Left out: " + v.MonteCarloErr.Error() + "."
+		}
+		for _, c := range c {
+			m.CrossChecks = append(m.CrossChecks, CrossCheck{GrantID: c.GrantID, TrancheIndex: c.TrancheIndex,
+				Method: "mc", Lattice: c.Lattice, LatticeError: c.LatticeError, Value: c.Result.Value, StdErr: c.Result.ErrorEstimate,
+				Paths: c.Result.Steps, Seed: c.Seed, Z: c.Z})
+		}
 	case v.MonteCarloErr != nil:
 		m.Settings.MonteCarlo = "Monte Carlo check not run: " + v.MonteCarloErr.Error()
-	case v.MonteCarlo != nil:
-		c := v.MonteCarlo
-		m.Settings.MonteCarlo = fmt.Sprintf("%s paths (antithetic pairs, control variate), weekly grid with continuous barrier monitoring, seed %d, on grant %s tranche %d.",
-			count(c.Result.Steps), c.Seed, c.GrantID, c.TrancheIndex)
-		m.CrossChecks = append(m.CrossChecks, CrossCheck{GrantID: c.GrantID, TrancheIndex: c.TrancheIndex,
-			Method: "mc", Lattice: c.Lattice, Value: c.Result.Value, StdErr: c.Result.ErrorEstimate, Paths: c.Result.Steps})
+	case v.MonteCarloRational:
+		m.Settings.MonteCarlo = "No Monte Carlo check: every lattice-valued award allows rational early exercise, which the simulation does not model."
 	}
 	var price float64
 	if pp, ok := s.PriceAt(s.Company.ValuationDate); ok {

@@ -58,9 +58,14 @@ func TestBuildMapsTheValuation(t *testing.T) {
 	if !strings.HasPrefix(m.Settings.Sensitivities, "Each case revalues every grant") {
 		t.Errorf("settings.sensitivities = %q for a ledger revalued whole", m.Settings.Sensitivities)
 	}
-	if v.MonteCarlo != nil {
-		if len(m.CrossChecks) != 1 || m.CrossChecks[0].Value != v.MonteCarlo.Result.Value || !strings.Contains(m.Settings.MonteCarlo, "100,000 paths") {
-			t.Errorf("cross checks %+v, settings %q, from %+v", m.CrossChecks, m.Settings.MonteCarlo, v.MonteCarlo)
+	if len(m.CrossChecks) != len(v.MonteCarlo) || !strings.Contains(m.Settings.MonteCarlo, count(grants.MonteCarloPaths)+" paths per tranche") {
+		t.Errorf("cross checks %+v, settings %q, from %+v", m.CrossChecks, m.Settings.MonteCarlo, v.MonteCarlo)
+	}
+	for j, x := range m.CrossChecks {
+		c := v.MonteCarlo[j]
+		if x.GrantID != c.GrantID || x.TrancheIndex != c.TrancheIndex || x.Value != c.Result.Value || x.Lattice != c.Lattice ||
+			x.LatticeError != c.LatticeError || x.StdErr != c.Result.ErrorEstimate || x.Z != c.Z || x.Seed != c.Seed {
+			t.Errorf("cross check %d: model %+v, run %+v", j, x, c)
 		}
 	}
 	if m.Expense == nil {

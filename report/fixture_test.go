@@ -25,7 +25,7 @@ func fixture() *Model {
 		PeriodStart:   day("2026-07-01"),
 		Company:       Company{Name: "Larkspur Robotics Ltd", Currency: "EUR", SharesOutstanding: 12_500_000},
 		Settings: Settings{Steps: "auto", Attribution: "graded", Forfeitures: "estimate",
-			MonteCarlo: "200,000 paths, seed 1, on grant G-001 tranche 1", Sensitivities: "all grants revalued for each case"},
+			MonteCarlo: "40,000 paths per tranche, seeds 1 to 2, on grants G-001 and G-002", Sensitivities: "all grants revalued for each case"},
 		Warnings: []string{
 			"Grants!C9 (holder): unknown column \"notes\" ignored",
 			"grant G-004: exercise multiple 1.2 is below 1.5; check it",
@@ -94,6 +94,9 @@ func fixture() *Model {
 		c.Points = append(c.Points, ConvergencePoint{Steps: n, Value: 1.32 + sign*0.4/float64(n)})
 	}
 	m.Convergence = c
-	m.CrossChecks = []CrossCheck{{GrantID: "G-001", TrancheIndex: 1, Method: "mc", Lattice: 1.32, Value: 1.3187, StdErr: 0.0021, Paths: 200000}}
+	m.CrossChecks = []CrossCheck{
+		{GrantID: "G-001", TrancheIndex: 1, Method: "mc", Lattice: 1.32, LatticeError: 0.0003, Value: 1.3187, StdErr: 0.0021, Paths: 40000, Seed: 1, Z: -0.6128},
+		{GrantID: "G-002", TrancheIndex: 1, Method: "mc", Lattice: 0.874, LatticeError: 0.0002, Value: 0.8772, StdErr: 0.0015, Paths: 40000, Seed: 2, Z: 2.1146},
+	}
 	return m
 }

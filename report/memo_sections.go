@@ -2,6 +2,7 @@ package report
 
 import (
 	"fmt"
+	"math"
 	"sort"
 	"strings"
 
@@ -27,9 +28,8 @@ func (d *Memo) summary(m *Model) error {
 			[]string{"Unrecognized compensation cost", money(m.Expense.UnrecognizedCost, cur)},
 			[]string{"Weighted-average remaining recognition period", fixed(m.Expense.WeightedAverageRemainingYears, 2) + " years"})
 	}
-	for _, x := range m.CrossChecks {
-		rows = append(rows, []string{fmt.Sprintf("Monte Carlo check, %s tranche %d", x.GrantID, x.TrancheIndex),
-			fmt.Sprintf("%s against lattice %s (standard error %s)", perShare(x.Value), perShare(x.Lattice), fixed(x.StdErr, 4))})
+	if len(m.CrossChecks) > 0 {
+		rows = append(rows, []string{"Monte Carlo check", crossCheckSummary(m.CrossChecks)})
 	}
 	rows = append(rows, []string{"Warnings", count(len(m.Warnings))})
 	d.Table([]Col{{"Item", 70, false}, {"Value", 100, false}}, rows)
@@ -320,22 +320,46 @@ func (d *Memo) comparison(m *Model) error {
 		{"Simplified BSM (" + cur + ")", 40, true}, {"Lattice against BSM", 36, true}}, rows)
 	if len(m.CrossChecks) > 0 {
 		d.Sub("Monte Carlo cross-check")
+		if err := d.Text("crosscheck", d.data()); err != nil {
+			return err
+		}
 		if m.Settings.MonteCarlo != "" {
 			d.Note(m.Settings.MonteCarlo)
 		}
 		var xr [][]string
 		for _, x := range m.CrossChecks {
-			z := "–"
-			if x.StdErr > 0 {
-				z = fixed((x.Value-x.Lattice)/x.StdErr, 2)
-			}
-			xr = append(xr, []string{fmt.Sprintf("%s / %d", x.GrantID, x.TrancheIndex), perShare(x.Lattice), perShare(x.Value),
-				fixed(x.StdErr, 4), z, count(x.Paths)})
+			xr = append(xr, []string{x.GrantID, count(x.TrancheIndex), perShare(x.Lattice) + " ± " + fixed(x.LatticeError, 4),
+				perShare(x.Value) + " ± " + fixed(x.StdErr, 4), signedFixed(x.Z, 2)})
 		}
-		d.Table([]Col{{"Grant / tranche", 34, false}, {"Lattice", 26, true}, {"Monte Carlo", 26, true}, {"Standard error", 28, true},
-			{"Difference in standard errors", 30, true}, {"Paths", 26, true}}, xr)
+		d.Table([]Col{{"Grant", 30, false}, {"Tranche", 18, true}, {"Lattice ± error", 42, true}, {"Monte Carlo ± s.e.", 42, true},
+			{"z", 20, true}}, xr)
 	}
 	return nil
+}
+
+// crossCheckSummary is the key-figures line of the Monte Carlo check.
+func crossCheckSummary(xs []CrossCheck) string {
+	worst := 0.0
+	for _, x := range xs {
+		worst = max(worst, math.Abs(x.Z))
+	}
+	n := count(len(xs)) + " tranches"
+	if len(xs) == 1 {
+		n = "1 tranche"
+	}
+	return fmt.Sprintf("%s, largest |z| %s", n, fixed(worst, 1))
+}
+
+// signedFixed is x with d decimals and an explicit sign (− for negative).
+func signedFixed(x float64, d int) string {
+	s := fixed(math.Abs(x), d)
+	switch {
+	case s == fixed(0, d):
+		return s
+	case x < 0:
+		return "−" + s
+	}
+	return "+" + s
 }
 
 func (d *Memo) warnings(m *Model) error {

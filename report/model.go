@@ -262,15 +262,19 @@ type ConvergencePoint struct {
 }
 
 // CrossCheck compares the lattice with an independent method for one
-// tranche.
+// tranche of the sample.
 type CrossCheck struct {
 	GrantID      string  `json:"grant_id"`
 	TrancheIndex int     `json:"tranche_index"`
 	Method       string  `json:"method"` // "mc"
 	Lattice      float64 `json:"lattice"`
+	LatticeError float64 `json:"lattice_error"` // the automatic lattice's error estimate
 	Value        float64 `json:"value"`
 	StdErr       float64 `json:"standard_error"`
 	Paths        int     `json:"paths"`
+	Seed         uint64  `json:"seed"`
+	// Z is (Value − Lattice) / √(StdErr² + LatticeError²).
+	Z float64 `json:"z"`
 }
 
 // Expense is the period's expense attribution (DESIGN §4.3). It is filled

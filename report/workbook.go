@@ -680,7 +680,7 @@ func writeConvergence(b *Book, m *Model) error {
 	}
 	if len(m.CrossChecks) > 0 {
 		t.Skip(1)
-		hs := []string{"Cross-check grant", "Tranche", "Method", "Lattice value", "Other method", "Standard error", "Paths"}
+		hs := []string{"Cross-check grant", "Tranche", "Method", "Lattice value", "Other method", "Standard error", "Paths", "Lattice error", "z"}
 		head := make([]any, len(hs))
 		for i, h := range hs {
 			head[i] = b.Cell(s.Header, h)
@@ -690,7 +690,8 @@ func writeConvergence(b *Book, m *Model) error {
 		}
 		for _, x := range m.CrossChecks {
 			if err := t.Row(b.Text(x.GrantID), b.Cell(s.Int, x.TrancheIndex), x.Method, b.Cell(s.MoneyPerShare, x.Lattice),
-				b.Cell(s.MoneyPerShare, x.Value), b.Cell(s.Number, x.StdErr), b.Cell(s.Int, x.Paths)); err != nil {
+				b.Cell(s.MoneyPerShare, x.Value), b.Cell(s.Number, x.StdErr), b.Cell(s.Int, x.Paths),
+				b.Cell(s.Number, x.LatticeError), b.Cell(s.Number, x.Z)); err != nil {
 				return err
 			}
 		}
