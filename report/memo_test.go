@@ -24,7 +24,12 @@ func renderMemo(t *testing.T, m *Model) []byte {
 func pdfText(t *testing.T, pdf []byte) string {
 	t.Helper()
 	if _, err := exec.LookPath("pdftotext"); err != nil {
-		t.Fatal("pdftotext not found: install poppler-utils (the CI script does)")
+		// CI installs poppler-utils and must read the memo; elsewhere a
+		// machine without it skips only the checks of the memo's text.
+		if os.Getenv("CI") != "" {
+			t.Fatal("pdftotext not found: install poppler-utils (the CI script does)")
+		}
+		t.Skip("pdftotext not found: apt-get install poppler-utils to check the memo's text")
 	}
 	path := filepath.Join(t.TempDir(), "memo.pdf")
 	if err := os.WriteFile(path, pdf, 0o644); err != nil {

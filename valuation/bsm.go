@@ -168,8 +168,8 @@ func checkClosedForm(t Terms, m Market) error {
 	switch {
 	case !(t.YearsToExpiry > 0) || math.IsInf(t.YearsToExpiry, 0):
 		return fmt.Errorf("years to expiry %v must be a finite number above 0", t.YearsToExpiry)
-	case !(t.Strike > 0) || math.IsInf(t.Strike, 0):
-		return fmt.Errorf("strike %v must be a finite number above 0", t.Strike)
+	case !(t.Strike >= 0) || math.IsInf(t.Strike, 0):
+		return fmt.Errorf("strike %v must be a finite number at or above 0", t.Strike)
 	case !(t.YearsToVest >= 0) || t.YearsToVest > t.YearsToExpiry:
 		return fmt.Errorf("years to vest %v must lie between 0 and the years to expiry %v", t.YearsToVest, t.YearsToExpiry)
 	case !(m.Spot > 0) || math.IsInf(m.Spot, 0):

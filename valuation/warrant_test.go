@@ -116,3 +116,32 @@ func TestWarrantAmerican(t *testing.T) {
 		t.Errorf("American Galai-Schneller residual %g", res)
 	}
 }
+
+// A zero-strike (pre-funded) warrant, an identity: with no dividends the
+// call is the share itself, so a new issue is worth N/(N+W)·S0, and when the
+// share price already reflects the warrants the fixed point
+// w = N/(N+W)·(S0 + (W/N)·w) gives w = S0 exactly: one warrant, one share.
+func TestWarrantZeroStrike(t *testing.T) {
+	const tol = 1e-9
+	mkt := Market{Spot: 4, VolAnnual: 0.5, Curve: FlatCurve(0.04)}
+	d := Dilution{SharesOutstanding: 9e6, Warrants: 1e6}
+	for _, european := range []bool{true, false} {
+		terms := Terms{Strike: 0, YearsToExpiry: 7, European: european}
+		plain, err := WarrantValue(terms, mkt, d, LatticeOptions{})
+		if err != nil {
+			t.Fatalf("european=%v new issue: %v", european, err)
+		}
+		if want := 0.9 * 4; math.Abs(plain.Value-want) > tol*want {
+			t.Errorf("european=%v new issue: got %v, want N/(N+W)·S0 = %v", european, plain.Value, want)
+		}
+		gs := d
+		gs.PriceReflectsWarrants = true
+		r, err := WarrantValue(terms, mkt, gs, LatticeOptions{})
+		if err != nil {
+			t.Fatalf("european=%v Galai-Schneller: %v", european, err)
+		}
+		if math.Abs(r.Value-4) > 1e-6 {
+			t.Errorf("european=%v Galai-Schneller: got %v, want S0 = 4", european, r.Value)
+		}
+	}
+}

@@ -158,8 +158,8 @@ func (o *priceOptions) check(cmd *cobra.Command, method string) error {
 	switch {
 	case o.Spot <= 0:
 		return badInput("--spot %v: the share value must be above 0", o.Spot)
-	case o.Strike <= 0:
-		return badInput("--strike %v: the strike must be above 0", o.Strike)
+	case o.Strike < 0:
+		return badInput("--strike %v: the strike must be 0 (a pre-funded warrant) or more", o.Strike)
 	case o.Years <= 0 || o.Years > 100:
 		return badInput("--years %v: the term must be above 0 (and at most 100) years", o.Years)
 	case o.Vol <= 0 || o.Vol > 5:
