@@ -260,11 +260,7 @@ func ServiceStart(g Grant) time.Time {
 // leave again, so the estimate is trued up to actual at every termination
 // and converges to the actual count at vesting.
 func ExpectedShare(rate float64, from, vest time.Time) float64 {
-	y := valuation.YearFrac(from, vest)
-	if y <= 0 || rate == 0 {
-		return 1
-	}
-	return math.Pow(1-rate, y)
+	return valuation.SurvivalToVest(rate, valuation.YearFrac(from, vest))
 }
 
 // ErrEvent is wrapped by every error about an event that does not fit its
@@ -453,7 +449,7 @@ func (t *trancheLedger) expected(d int) float64 {
 	if t.vestedN(d) || t.rate == 0 {
 		return 1
 	}
-	return math.Pow(1-t.rate, float64(t.vestN-max(t.startN, d+1))/365)
+	return valuation.SurvivalToVest(t.rate, float64(t.vestN-max(t.startN, d+1))/365)
 }
 
 // apply allocates one event's shares to tranches.

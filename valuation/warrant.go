@@ -156,16 +156,18 @@ func WarrantValue(t Terms, m Market, d Dilution, o LatticeOptions) (Result, erro
 	}
 	return Result{
 		Value:             w,
-		ErrorEstimate:     warrantError(d, last.ErrorEstimate),
+		ErrorEstimate:     d.CarryError(last.ErrorEstimate),
 		ExpectedTermYears: last.ExpectedTermYears,
 		Steps:             last.Steps,
 		Method:            MethodLattice,
 	}, nil
 }
 
-// warrantError carries the call's error estimate through the dilution (see
-// WarrantValue).
-func warrantError(d Dilution, callErr float64) float64 {
+// CarryError is the error in a diluted value that an error callErr in the
+// undiluted call leaves: N/(N+W)·callErr for a new issue; for a price that
+// reflects the warrants the fixed point w = f·C(S0 + (W/N)·w) passes it on as
+// f·callErr/(1 − f·(W/N)·∂C/∂S), at most callErr since the delta is at most 1.
+func (d Dilution) CarryError(callErr float64) float64 {
 	if d.PriceReflectsWarrants {
 		return callErr
 	}

@@ -26,6 +26,7 @@ type priceOptions struct {
 	VestYears         float64
 	Multiple          float64
 	ExitRate          float64
+	ForfeitureRate    float64 // pre-vesting, for the expected cost only
 	American          bool
 	European          bool
 	Steps             int // 0 = auto
@@ -96,6 +97,11 @@ or valuation professionals and the accounting rules that apply to you
   grantworth price --spot 12 --strike 12 --years 10 --vol 0.55 --rate 0.04 \
       --vest-years 4 --exercise-multiple 2.5 --exit-rate 0.08 --method mc
 
+  # For a grant design: also the expected cost per granted option if 10% of
+  # unvested holders leave a year (a planning figure, never the fair value)
+  grantworth price --spot 12 --strike 12 --years 10 --vol 0.55 --rate 0.04 \
+      --vest-years 4 --exercise-multiple 2.5 --exit-rate 0.08 --forfeiture-rate 0.1
+
   # Warrants Tarnwick issued to a lender: 400,000 on 25,000,000 shares, American
   grantworth price --spot 12 --strike 15 --years 7 --vol 0.55 --rate 0.04 \
       --american --shares-outstanding 25000000 --warrants 400000`,
@@ -120,6 +126,7 @@ or valuation professionals and the accounting rules that apply to you
 	f.Float64Var(&opts.VestYears, "vest-years", 0, "years to the vest date (0 = vested)")
 	f.Float64Var(&opts.Multiple, "exercise-multiple", 0, "exercise once the share reaches this multiple of the strike (0 = none)")
 	f.Float64Var(&opts.ExitRate, "exit-rate", 0, "annual share of vested holders who leave, in [0, 1)")
+	f.Float64Var(&opts.ForfeitureRate, "forfeiture-rate", 0, "annual share of unvested holders who leave, in [0, 1): adds the expected cost per granted award (never a fair value)")
 	f.BoolVar(&opts.American, "american", false, "also exercise whenever that is optimal (rational exercise)")
 	f.BoolVar(&opts.European, "european", false, "exercise at expiry only: ignores vesting, multiple and exits")
 	f.IntVar(&opts.Steps, "steps", 0, "raw N-step lattice (default: auto, converged)")
@@ -176,6 +183,8 @@ func (o *priceOptions) check(cmd *cobra.Command, method string) error {
 		return badInput("--exercise-multiple %v: 0 (none) or above 1", o.Multiple)
 	case o.ExitRate < 0 || o.ExitRate >= 1:
 		return badInput("--exit-rate %v: an annual share at or above 0 and below 1", o.ExitRate)
+	case o.ForfeitureRate < 0 || o.ForfeitureRate >= 1:
+		return badInput("--forfeiture-rate %v: an annual share at or above 0 and below 1", o.ForfeitureRate)
 	case f.Changed("steps") && (o.Steps < 1 || o.Steps > valuation.MaxLatticeSteps):
 		return badInput("--steps %d: between 1 and %d", o.Steps, valuation.MaxLatticeSteps)
 	case o.American && o.European:
@@ -247,8 +256,7 @@ func (o *priceOptions) dilute(value func(valuation.Market) (valuation.Result, er
 	if last, err = value(m); err != nil {
 		return valuation.Result{}, err
 	}
-	f := o.dilution().Factor()
-	last.Value, last.ErrorEstimate = w, f*last.ErrorEstimate
+	last.Value, last.ErrorEstimate = w, o.dilution().CarryError(last.ErrorEstimate)
 	return last, nil
 }
 
@@ -324,6 +332,11 @@ func printPriceText(w io.Writer, r *priceResult) {
 	}
 	fmt.Fprintf(tw, "%s\t%d\n", stepsName, r.Main.Steps)
 	tw.Flush()
+	if o.ForfeitureRate > 0 {
+		fmt.Fprintf(w, "\nExpected cost per granted %s, not a fair value: %.4f\n  (fair value × %.4f, the share of holders expected to stay %g years to vesting at %g a year)\n",
+			strings.SplitN(what, ",", 2)[0], valuation.ExpectedCost(r.Main.Value, o.ForfeitureRate, o.VestYears),
+			valuation.SurvivalToVest(o.ForfeitureRate, o.VestYears), o.VestYears, o.ForfeitureRate)
+	}
 	fmt.Fprintln(w, "\nBlack-Scholes-Merton comparison (exercise at expiry):")
 	tw = tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
 	fmt.Fprintf(tw, "  on the contractual term\t%.2f years\t%.4f\n", r.BSM.ExpectedTermYears, r.BSM.Value)
@@ -367,6 +380,12 @@ func printPriceJSON(w io.Writer, r *priceResult) error {
 		PriceReflectsWarrants bool    `json:"price_reflects_warrants"`
 		Factor                float64 `json:"factor"`
 	}
+	type expectedCost struct {
+		Value          float64 `json:"value"`
+		ForfeitureRate float64 `json:"forfeiture_rate"`
+		SurvivalToVest float64 `json:"survival_to_vest"`
+		Note           string  `json:"note"`
+	}
 	type inputs struct {
 		Spot             float64 `json:"spot"`
 		Strike           float64 `json:"strike"`
@@ -384,16 +403,17 @@ func printPriceJSON(w io.Writer, r *priceResult) error {
 		Seed             *uint64 `json:"seed,omitempty"`
 	}
 	out := struct {
-		Value             float64    `json:"value"`
-		ErrorEstimate     float64    `json:"error_estimate"`
-		ExpectedTermYears float64    `json:"expected_term_years"`
-		Steps             int        `json:"steps"`
-		Method            string     `json:"method"`
-		Mode              string     `json:"mode"`
-		BSM               comparison `json:"bsm"`
-		BSMSimplified     comparison `json:"bsm_simplified"`
-		Dilution          *dilution  `json:"dilution,omitempty"`
-		Inputs            inputs     `json:"inputs"`
+		Value             float64       `json:"value"`
+		ErrorEstimate     float64       `json:"error_estimate"`
+		ExpectedTermYears float64       `json:"expected_term_years"`
+		Steps             int           `json:"steps"`
+		Method            string        `json:"method"`
+		Mode              string        `json:"mode"`
+		BSM               comparison    `json:"bsm"`
+		BSMSimplified     comparison    `json:"bsm_simplified"`
+		Dilution          *dilution     `json:"dilution,omitempty"`
+		ExpectedCost      *expectedCost `json:"expected_cost,omitempty"`
+		Inputs            inputs        `json:"inputs"`
 	}{
 		Value: r.Main.Value, ErrorEstimate: r.Main.ErrorEstimate, ExpectedTermYears: r.Main.ExpectedTermYears,
 		Steps: r.Main.Steps, Method: string(r.Main.Method), Mode: r.Mode,
@@ -404,6 +424,10 @@ func printPriceJSON(w io.Writer, r *priceResult) error {
 	}
 	if o.Method == valuation.MethodMC {
 		out.Inputs.Paths, out.Inputs.Seed = o.Paths, &o.Seed
+	}
+	if o.ForfeitureRate > 0 {
+		out.ExpectedCost = &expectedCost{valuation.ExpectedCost(r.Main.Value, o.ForfeitureRate, o.VestYears), o.ForfeitureRate,
+			valuation.SurvivalToVest(o.ForfeitureRate, o.VestYears), "planning figure with pre-vesting forfeiture; not a fair value"}
 	}
 	if o.diluted() {
 		d := o.dilution()

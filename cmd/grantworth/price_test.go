@@ -64,6 +64,7 @@ func TestPriceBadFlags(t *testing.T) {
 		{priceArgs("--vest-years", "-1"), "--vest-years -1"},
 		{priceArgs("--exit-rate", "1"), "--exit-rate 1"},
 		{priceArgs("--exit-rate", "-0.1"), "--exit-rate -0.1"},
+		{priceArgs("--forfeiture-rate", "1"), "--forfeiture-rate 1"},
 		{priceArgs("--exercise-multiple", "1"), "--exercise-multiple 1"},
 		{priceArgs("--exercise-multiple", "0.5"), "--exercise-multiple 0.5"},
 		{priceArgs("--exercise-multiple", "-2"), "--exercise-multiple -2"},
@@ -172,5 +173,41 @@ func TestPriceOutput(t *testing.T) {
 		if !strings.Contains(out.String(), want) {
 			t.Errorf("report lacks %q:\n%s", want, out)
 		}
+	}
+}
+
+// The expected cost for grant design: the fair value times the share of
+// holders expected to reach vesting, (1 − 0.1)^4 = 0.6561 (IFRS 2 expected
+// forfeiture arithmetic, as in its implementation guidance's cliff example);
+// it is printed apart from, and never as, the fair value.
+func TestPriceExpectedCost(t *testing.T) {
+	argv := priceArgs("--vest-years", "4", "--forfeiture-rate", "0.1", "--json")
+	ios, out, errb := volTestIO()
+	if code := run(append([]string{"price"}, argv...), ios); code != 0 {
+		t.Fatalf("exit %d: %s", code, errb)
+	}
+	var got struct {
+		Value        float64 `json:"value"`
+		ExpectedCost struct {
+			Value          float64 `json:"value"`
+			SurvivalToVest float64 `json:"survival_to_vest"`
+		} `json:"expected_cost"`
+	}
+	if err := json.Unmarshal(out.Bytes(), &got); err != nil {
+		t.Fatal(err)
+	}
+	plain := priceRunJSON(t, priceArgs("--vest-years", "4")...)
+	if got.Value != plain.Value {
+		t.Errorf("the forfeiture rate changed the fair value: %v, want %v", got.Value, plain.Value)
+	}
+	if math.Abs(got.ExpectedCost.SurvivalToVest-0.6561) > 1e-12 || math.Abs(got.ExpectedCost.Value-0.6561*plain.Value) > 1e-12 {
+		t.Errorf("expected cost %+v, want 0.6561 × %v", got.ExpectedCost, plain.Value)
+	}
+	ios, out, _ = volTestIO()
+	if code := run(append([]string{"price"}, priceArgs("--vest-years", "4", "--forfeiture-rate", "0.1")...), ios); code != 0 {
+		t.Fatal(code)
+	}
+	if !strings.Contains(out.String(), "Expected cost per granted option, not a fair value") {
+		t.Errorf("report lacks the expected cost line:\n%s", out)
 	}
 }
