@@ -431,28 +431,22 @@ func writeSummary(b *Book, m *Model) error {
 			return err
 		}
 	}
-	t.Skip(1)
-	if err := t.Row(b.Cell(b.Style.Header, "By instrument"), b.Cell(b.Style.Header, ""),
-		b.Cell(b.Style.Header, "Grants"), b.Cell(b.Style.Header, "Tranches"), b.Cell(b.Style.Header, "Shares"),
-		b.Cell(b.Style.Header, "Fair value total"), b.Cell(b.Style.Header, "Fair value per share"),
-		b.Cell(b.Style.Header, "Simplified BSM total")); err != nil {
-		return err
-	}
-	for _, g := range m.ByInstrument {
-		if err := groupRow(b, t, g); err != nil {
+	for _, sec := range []struct {
+		title  string
+		groups []Group
+	}{{"By instrument", m.ByInstrument}, {"By grant month", m.ByGrantMonth}} {
+		t.Skip(1)
+		head := []any{b.Cell(b.Style.Header, sec.title), b.Cell(b.Style.Header, "")}
+		for _, h := range []string{"Grants", "Tranches", "Shares", "Fair value total", "Fair value per share", "Simplified BSM total"} {
+			head = append(head, b.Cell(b.Style.Header, h))
+		}
+		if err := t.Row(head...); err != nil {
 			return err
 		}
-	}
-	t.Skip(1)
-	if err := t.Row(b.Cell(b.Style.Header, "By grant month"), b.Cell(b.Style.Header, ""),
-		b.Cell(b.Style.Header, "Grants"), b.Cell(b.Style.Header, "Tranches"), b.Cell(b.Style.Header, "Shares"),
-		b.Cell(b.Style.Header, "Fair value total"), b.Cell(b.Style.Header, "Fair value per share"),
-		b.Cell(b.Style.Header, "Simplified BSM total")); err != nil {
-		return err
-	}
-	for _, g := range m.ByGrantMonth {
-		if err := groupRow(b, t, g); err != nil {
-			return err
+		for _, g := range sec.groups {
+			if err := groupRow(b, t, g); err != nil {
+				return err
+			}
 		}
 	}
 	t.Skip(1)
