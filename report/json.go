@@ -16,30 +16,7 @@ func WriteJSON(w io.Writer, m *Model) error {
 	if err := checkFinite(reflect.ValueOf(m), "model"); err != nil {
 		return err
 	}
-	c := *m
-	c.Grants = nonNil(c.Grants)
-	// The other renderers may be reading m at the same time: the grants
-	// are copied, not changed, when one lacks its list of tranches.
-	for i := range c.Grants {
-		if c.Grants[i].Tranches == nil {
-			c.Grants = append([]Grant(nil), c.Grants...)
-			for j := i; j < len(c.Grants); j++ {
-				c.Grants[j].Tranches = nonNil(c.Grants[j].Tranches)
-			}
-			break
-		}
-	}
-	c.Warnings = nonNil(c.Warnings)
-	c.ByInstrument = nonNil(c.ByInstrument)
-	c.ByGrantMonth = nonNil(c.ByGrantMonth)
-	c.Assumptions = nonNil(c.Assumptions)
-	c.Sensitivity = nonNil(c.Sensitivity)
-	c.CrossChecks = nonNil(c.CrossChecks)
-	if c.Expense != nil && c.Expense.Periods == nil {
-		e := *c.Expense
-		e.Periods = []ExpensePeriod{}
-		c.Expense = &e
-	}
+	c := withEmptyLists(m)
 	// The file for a large ledger is hundreds of megabytes: it is encoded
 	// in one pass straight to w (jsonenc.go), never held in memory whole.
 	// The bytes are those of encoding/json's Encoder with a two-space
@@ -101,4 +78,34 @@ func findNonFinite(v reflect.Value) ([]string, float64) {
 		}
 	}
 	return nil, 0
+}
+
+// withEmptyLists is a shallow copy of m whose nil lists are empty, so that
+// valuation.json shows [] rather than null. The other renderers may be
+// reading m at the same time: the grants are copied, not changed, when one
+// lacks its list of tranches.
+func withEmptyLists(m *Model) Model {
+	c := *m
+	c.Grants = nonNil(c.Grants)
+	for i := range c.Grants {
+		if c.Grants[i].Tranches == nil {
+			c.Grants = append([]Grant(nil), c.Grants...)
+			for j := i; j < len(c.Grants); j++ {
+				c.Grants[j].Tranches = nonNil(c.Grants[j].Tranches)
+			}
+			break
+		}
+	}
+	c.Warnings = nonNil(c.Warnings)
+	c.ByInstrument = nonNil(c.ByInstrument)
+	c.ByGrantMonth = nonNil(c.ByGrantMonth)
+	c.Assumptions = nonNil(c.Assumptions)
+	c.Sensitivity = nonNil(c.Sensitivity)
+	c.CrossChecks = nonNil(c.CrossChecks)
+	if c.Expense != nil && c.Expense.Periods == nil {
+		e := *c.Expense
+		e.Periods = []ExpensePeriod{}
+		c.Expense = &e
+	}
+	return c
 }

@@ -11,22 +11,7 @@ import (
 // reference the one-pass encoder must equal byte for byte.
 func referenceJSON(t *testing.T, m *Model) []byte {
 	t.Helper()
-	c := *m
-	c.Grants = nonNil(c.Grants)
-	for i := range c.Grants {
-		c.Grants[i].Tranches = nonNil(c.Grants[i].Tranches)
-	}
-	c.Warnings = nonNil(c.Warnings)
-	c.ByInstrument = nonNil(c.ByInstrument)
-	c.ByGrantMonth = nonNil(c.ByGrantMonth)
-	c.Assumptions = nonNil(c.Assumptions)
-	c.Sensitivity = nonNil(c.Sensitivity)
-	c.CrossChecks = nonNil(c.CrossChecks)
-	if c.Expense != nil && c.Expense.Periods == nil {
-		e := *c.Expense
-		e.Periods = []ExpensePeriod{}
-		c.Expense = &e
-	}
+	c := withEmptyLists(m)
 	var b bytes.Buffer
 	enc := json.NewEncoder(&b)
 	enc.SetEscapeHTML(false)
