@@ -309,7 +309,7 @@ func printSummary(w io.Writer, m *report.Model, dir string) {
 	for _, n := range outputNames {
 		fmt.Fprintf(w, "  wrote             %s\n", filepath.Join(dir, n))
 	}
-	fmt.Fprintln(w, "Estimates, not an audit opinion; defer to your auditors and the rules that apply (ASC 718, IFRS 2 or local rules).")
+	fmt.Fprintln(w, "Estimates, not an audit opinion: defer to licensed auditors or valuation professionals and the accounting rules that apply (ASC 718, IFRS 2 or local rules).")
 }
 
 // warningTexts returns the schedule's warnings as text, in the order found.
