@@ -219,32 +219,27 @@ func (a *grantAcc) result() GrantsInPeriod {
 // the share's fair value at period end. The policy's forfeiture estimate
 // gives the vested-and-expected-to-vest line.
 func Disclose(awards []AwardCost, policy ExpensePolicy, periodStart, periodEnd time.Time, sharePrice float64) (*Disclosure, error) {
-	pol, err := policy.normalized()
+	p, err := openPeriod(awards, policy, periodStart, periodEnd)
 	if err != nil {
 		return nil, err
 	}
-	periodStart, periodEnd = civilDay(periodStart), civilDay(periodEnd)
-	if periodEnd.Before(periodStart) {
-		return nil, fmt.Errorf("period end %s is before period start %s", periodEnd.Format(time.DateOnly), periodStart.Format(time.DateOnly))
-	}
+	return p.disclose(sharePrice)
+}
+
+// disclose is the period's Disclosure at the share price at its end.
+func (p *period) disclose(sharePrice float64) (*Disclosure, error) {
 	if !(sharePrice >= 0) || math.IsInf(sharePrice, 0) {
 		return nil, fmt.Errorf("share price at period end %v: want a finite non-negative number", sharePrice)
 	}
+	periodStart, periodEnd := p.start, p.end
 	open := shiftDays(periodStart, -1)
 	var opt, rsu, war rollAccs
 	var optOut, optEx, optExp, warOut, warEx, warExp outAcc
 	var optG, rsuG, warG grantAcc
 	d := &Disclosure{PeriodStart: periodStart, PeriodEnd: periodEnd, SharePrice: sharePrice}
-	for i := range awards {
-		aw := &awards[i]
+	for _, l := range p.ledgers {
+		aw := l.in
 		g := aw.Grant
-		if valuation.Days(g.GrantDate, periodEnd) < 0 {
-			continue
-		}
-		l, err := newAwardLedger(aw, pol, periodEnd)
-		if err != nil {
-			return nil, err
-		}
 		inPeriod := valuation.Days(periodStart, g.GrantDate) >= 0
 		switch g.Instrument {
 		case RSU:

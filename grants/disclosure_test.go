@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
+	"reflect"
 	"testing"
 	"time"
 )
@@ -168,5 +169,30 @@ func TestRollForwardIdentity(t *testing.T) {
 	bad := RollForward{Instrument: Option, Start: RollLine{Shares: 10}, Exercised: RollLine{Shares: 3}, End: RollLine{Shares: 8}}
 	if bad.Check() == nil {
 		t.Error("Check accepted 10 − 3 = 8")
+	}
+}
+
+// Attribute builds each ledger once for both reports; it must give exactly
+// what Expense and Disclose give on their own.
+func TestAttributeEqualsExpenseAndDisclose(t *testing.T) {
+	pol := ExpensePolicy{Attribution: Graded, Forfeitures: Estimate, PreVestingForfeitureRate: 0.1}
+	start, end := ymd("2030-10-01"), ymd("2030-12-31")
+	rep, disc, err := Attribute(noteAwards(), pol, start, end, 25)
+	if err != nil {
+		t.Fatal(err)
+	}
+	wantRep, err := Expense(noteAwards(), pol, start, end)
+	if err != nil {
+		t.Fatal(err)
+	}
+	wantDisc, err := Disclose(noteAwards(), pol, start, end, 25)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !reflect.DeepEqual(rep, wantRep) {
+		t.Errorf("Attribute's expense report differs from Expense's")
+	}
+	if !reflect.DeepEqual(disc, wantDisc) {
+		t.Errorf("Attribute's disclosures differ from Disclose's")
 	}
 }

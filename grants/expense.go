@@ -692,6 +692,38 @@ func civilDay(t time.Time) time.Time {
 // Grants dated after periodEnd are left out, and so are events after it.
 // Errors name the grant (and the Events row) that does not fit.
 func Expense(awards []AwardCost, policy ExpensePolicy, periodStart, periodEnd time.Time) (*ExpenseReport, error) {
+	p, err := openPeriod(awards, policy, periodStart, periodEnd)
+	if err != nil {
+		return nil, err
+	}
+	return p.expense(), nil
+}
+
+// Attribute is Expense and Disclose over the same awards, policy and
+// period, with each award's ledger built once for both.
+func Attribute(awards []AwardCost, policy ExpensePolicy, periodStart, periodEnd time.Time, sharePrice float64) (*ExpenseReport, *Disclosure, error) {
+	p, err := openPeriod(awards, policy, periodStart, periodEnd)
+	if err != nil {
+		return nil, nil, err
+	}
+	d, err := p.disclose(sharePrice)
+	if err != nil {
+		return nil, nil, err
+	}
+	return p.expense(), d, nil
+}
+
+// period is a checked policy and period with the ledger of every award
+// granted by its end, in award order.
+type period struct {
+	pol        ExpensePolicy
+	start, end time.Time
+	ledgers    []*awardLedger
+}
+
+// openPeriod checks the policy and the period and builds the ledgers;
+// the error joins one error for each award that does not fit.
+func openPeriod(awards []AwardCost, policy ExpensePolicy, periodStart, periodEnd time.Time) (*period, error) {
 	pol, err := policy.normalized()
 	if err != nil {
 		return nil, err
@@ -700,8 +732,7 @@ func Expense(awards []AwardCost, policy ExpensePolicy, periodStart, periodEnd ti
 	if periodEnd.Before(periodStart) {
 		return nil, fmt.Errorf("period end %s is before period start %s", periodEnd.Format(time.DateOnly), periodStart.Format(time.DateOnly))
 	}
-	rep := &ExpenseReport{PeriodStart: periodStart, PeriodEnd: periodEnd, Policy: pol, ServiceRule: ServiceRule}
-	var ledgers []*awardLedger
+	p := &period{pol: pol, start: periodStart, end: periodEnd}
 	var errs []error
 	for i := range awards {
 		if valuation.Days(awards[i].Grant.GrantDate, periodEnd) < 0 {
@@ -712,11 +743,18 @@ func Expense(awards []AwardCost, policy ExpensePolicy, periodStart, periodEnd ti
 			errs = append(errs, err)
 			continue
 		}
-		ledgers = append(ledgers, l)
+		p.ledgers = append(p.ledgers, l)
 	}
 	if len(errs) > 0 {
 		return nil, errors.Join(errs...)
 	}
+	return p, nil
+}
+
+// expense is the period's ExpenseReport.
+func (p *period) expense() *ExpenseReport {
+	pol, periodStart, periodEnd, ledgers := p.pol, p.start, p.end, p.ledgers
+	rep := &ExpenseReport{PeriodStart: periodStart, PeriodEnd: periodEnd, Policy: pol, ServiceRule: ServiceRule}
 	open := shiftDays(periodStart, -1)
 
 	// Period boundaries: context quarters, then the current period.
@@ -845,7 +883,7 @@ func Expense(awards []AwardCost, policy ExpensePolicy, periodStart, periodEnd ti
 	rep.Periods = bounds
 	rep.Journal = periodJournal(rep)
 	rep.PolicyNotes = policyNotes(pol, ledgers)
-	return rep, nil
+	return rep
 }
 
 // policyNotes explains the policy's standing under each standard.

@@ -209,13 +209,9 @@ func AddExpense(m *Model, s *grants.Schedule, sharePrice float64, revalue Revalu
 		}
 		awards = append(awards, a)
 	}
-	rep, err := grants.Expense(awards, pol, start, end)
+	rep, disc, err := grants.Attribute(awards, pol, start, end, sharePrice)
 	if err != nil {
-		return fmt.Errorf("expense: %w", err)
-	}
-	disc, err := grants.Disclose(awards, pol, start, end, sharePrice)
-	if err != nil {
-		return fmt.Errorf("disclosures: %w", err)
+		return fmt.Errorf("expense and disclosures: %w", err)
 	}
 	m.Expense = expenseModel(rep, disc)
 	m.Warnings = append(m.Warnings, rep.Warnings...)
