@@ -80,12 +80,10 @@ func SensitivityPNG(s Sensitivity, currency string, w, h vg.Length) ([]byte, err
 			base = append(base, pts[i])
 		}
 	}
-	l, sc, err := plotter.NewLinePoints(pts)
+	l, sc, err := dataLine(pts)
 	if err != nil {
 		return nil, err
 	}
-	l.Color, sc.Color = inkData, inkData
-	sc.Shape = draw.CircleGlyph{}
 	p.Add(l, sc)
 	if len(base) > 0 {
 		b, err := plotter.NewScatter(base)
@@ -143,12 +141,10 @@ func ConvergencePNG(c Convergence, currency string, w, h vg.Length) ([]byte, err
 		}
 	}
 	if len(pts) > 0 {
-		l, sc, err := plotter.NewLinePoints(pts)
+		l, sc, err := dataLine(pts)
 		if err != nil {
 			return nil, err
 		}
-		l.Color, sc.Color = inkData, inkData
-		sc.Shape = draw.CircleGlyph{}
 		p.Add(l, sc)
 		p.Legend.Add("raw N-step value", l, sc)
 	}
@@ -173,4 +169,15 @@ func BarPNG(title string, labels []string, values []float64, ylabel string, w, h
 	p.X.Tick.Label.XAlign, p.X.Tick.Label.YAlign = draw.XRight, draw.YCenter
 	p.Y.Tick.Marker = amountTicks{}
 	return pngOf(p, w, h)
+}
+
+// dataLine is a series drawn as a line through round points in the data ink.
+func dataLine(pts plotter.XYs) (*plotter.Line, *plotter.Scatter, error) {
+	l, sc, err := plotter.NewLinePoints(pts)
+	if err != nil {
+		return nil, nil, err
+	}
+	l.Color, sc.Color = inkData, inkData
+	sc.Shape = draw.CircleGlyph{}
+	return l, sc, nil
 }

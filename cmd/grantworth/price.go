@@ -201,27 +201,23 @@ func (o *priceOptions) check(cmd *cobra.Command, method string) error {
 	switch method {
 	case "lattice":
 		o.Method = valuation.MethodLattice
+		return nil
 	case "bsm":
 		o.Method = valuation.MethodBSM
-		if f.Changed("steps") {
-			return badInput("--steps %d: the lattice's; --method bsm is a closed form", o.Steps)
-		}
-		if o.American {
-			return badInput("--american: --method bsm values exercise at expiry only; use --method lattice")
-		}
 	case "mc":
 		o.Method = valuation.MethodMC
-		if f.Changed("steps") {
-			return badInput("--steps %d: the lattice's; --method mc takes --paths", o.Steps)
-		}
-		if o.American {
-			return badInput("--american: Monte Carlo does not value rational exercise; use --method lattice")
-		}
 		if o.Paths < 2 || o.Paths > 10_000_000 {
 			return badInput("--paths %d: between 2 and 10000000", o.Paths)
 		}
 	default:
 		return badInput("--method %q: want lattice, bsm or mc", method)
+	}
+	// Flags of the lattice alone.
+	switch {
+	case f.Changed("steps"):
+		return badInput("--steps %d: the lattice's; --method %s has no steps", o.Steps, method)
+	case o.American:
+		return badInput("--american: --method %s values no rational exercise; use --method lattice", method)
 	}
 	return nil
 }
