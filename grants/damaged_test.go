@@ -237,3 +237,14 @@ func TestReadTruncatedFile(t *testing.T) {
 		}
 	}
 }
+
+func TestCellName(t *testing.T) {
+	for _, c := range []struct {
+		col, row int
+		want     string
+	}{{1, 1, "A1"}, {26, 7, "Z7"}, {27, 10, "AA10"}, {52, 1, "AZ1"}, {53, 1, "BA1"}, {702, 3, "ZZ3"}, {703, 3, "AAA3"}, {16384, 1048576, "XFD1048576"}, {0, 1, ""}, {1, 0, ""}, {16385, 1, ""}} {
+		if got := cellName(c.col, c.row); got != c.want {
+			t.Errorf("cellName(%d, %d) = %q, want %q", c.col, c.row, got, c.want)
+		}
+	}
+}
