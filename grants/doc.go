@@ -1,10 +1,11 @@
 // Package grants owns everything spreadsheet-shaped in grantworth: the grant
 // schedule model, reading it from an .xlsx workbook or a folder of CSV files,
 // validation with cell references, the expansion of grants into vesting
-// tranches, the valuation inputs of each grant with the source of every
-// assumption, and (in expense.go and disclosure.go) expense attribution and
-// disclosure roll-forwards. It does no numerics of its own beyond counting
-// shares; valuation does those.
+// tranches, the one rule that gives events to tranches (Allocate), and the
+// valuation inputs of each grant with the source of every assumption. It
+// does no numerics of its own beyond counting shares; valuation does
+// those. Below it, package pricing values a whole schedule and package
+// accounting books it.
 //
 // # The workbook
 //
@@ -76,7 +77,9 @@
 //     Assumptions; a warning for a strike below the share price at grant, a
 //     grant after the valuation date, a vest_start over a year after grant.
 //   - Market: a share price at every measurement date (the row's share_price
-//     or a Share Prices row on or before it), with a warning when the latest
+//     or a Share Prices row on or before it), and one at the valuation date
+//     when an option or warrant is granted by then (PeriodEndPrice, for
+//     the disclosures' intrinsic values), with a warning when the latest
 //     valuation is more than StaleMonths old at the grant date (common
 //     practice); a Rates curve dated on or before every measurement date of
 //     an option or warrant; prices above 0 and one per date; tenors from 0
@@ -93,7 +96,7 @@
 // # Measurement
 //
 // Tranches expands a grant into vesting tranches (DESIGN §4.2) with its
-// forfeitures applied; Inputs gives a grant's valuation.Terms per tranche,
+// forfeitures applied by Allocate; Inputs gives a grant's valuation.Terms per tranche,
 // its valuation.Market at the measurement date (the grant date, or the
 // valuation date for a liability-classified warrant) and the source of each
 // assumption, ready for the memo.
