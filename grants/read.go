@@ -7,10 +7,10 @@ import (
 	"io/fs"
 	"os"
 	"path/filepath"
+	"strconv"
 	"strings"
 	"time"
-
-	"github.com/xuri/excelize/v2"
+	"unicode/utf8"
 )
 
 // Limits against files built to exhaust memory or time. Each is checked
@@ -20,12 +20,31 @@ import (
 const (
 	MaxFileSize          = 64 << 20  // bytes of an .xlsx file or of one CSV file
 	MaxUnzipSize         = 256 << 20 // bytes of the parts of an .xlsx file read, once unzipped
-	MaxRows              = 1_000_000 // rows of one sheet
+	MaxRows              = 1_000_000 // rows of one sheet, by row number
+	MaxGrants            = 200_000   // rows of the Grants sheet with anything in them
 	MaxColumns           = 256       // non-empty columns of one row
 	MaxCellChars         = 32767     // characters of one cell, a spreadsheet cell's own limit
 	MaxSharedStrings     = 2_000_000 // strings in a workbook's shared-strings table
 	MaxSharedStringBytes = 64 << 20  // bytes of text in that table
 )
+
+// Lengths of the text fields kept and printed, in characters. Longer text
+// is an error naming the cell: a grant id or a holder is a short label, and
+// unbounded text would fill the memo with pages.
+const (
+	MaxIDChars     = 64  // grant_id
+	MaxNameChars   = 200 // holder, company_name
+	MaxSourceChars = 500 // the source of an assumption
+	MaxHeaderChars = 100 // a header or a key
+)
+
+// textLimit gives the longest text allowed in a column read as text.
+var textLimit = map[string]int{"grant_id": MaxIDChars, "holder": MaxNameChars, "company_name": MaxNameChars}
+
+// tooLong reports whether v has more than limit characters.
+func tooLong(v string, limit int) bool {
+	return len(v) > limit && utf8.RuneCountInString(v) > limit
+}
 
 // maxCellBytes bounds the UTF-8 bytes of one cell's text (four bytes at most
 // per character).
@@ -48,7 +67,9 @@ type rowIter interface {
 	// emptyIsFormula reports whether the empty cell at col, row (1-based)
 	// holds a formula with no saved value.
 	emptyIsFormula(col, row int) bool
-	close() error
+	// close releases the sheet; with drain it first reads the rest of
+	// it, and returns any error found there.
+	close(drain bool) error
 }
 
 // ReadFile reads the schedule at path: an .xlsx workbook or a folder of CSV
@@ -70,6 +91,9 @@ func ReadFile(path string) (*Schedule, *Report, error) {
 		return s, rep, err
 	}
 	name := filepath.Base(path)
+	if !st.Mode().IsRegular() {
+		return nil, nil, &CellError{Sheet: name, Err: ErrFormat, Msg: "is " + fileKind(st.Mode().Type()) + ", not a workbook file or a folder of CSV files"}
+	}
 	if strings.EqualFold(filepath.Ext(path), ".csv") {
 		return nil, nil, &CellError{Sheet: name, Err: ErrFormat,
 			Msg: "is one CSV file; give the folder that holds grants.csv, company.csv and the other sheets"}
@@ -115,15 +139,8 @@ func ReadCSVDir(fsys fs.FS) (*Schedule, *Report, error) {
 	if err != nil {
 		return nil, nil, err
 	}
-	src := &csvSource{fsys: fsys, files: map[string]string{}}
-	for _, e := range ents {
-		if e.IsDir() || !strings.EqualFold(filepath.Ext(e.Name()), ".csv") {
-			continue
-		}
-		sheet := strings.TrimSuffix(e.Name(), filepath.Ext(e.Name()))
-		src.names = append(src.names, sheet)
-		src.files[sheet] = e.Name()
-	}
+	src := &csvSource{fsys: fsys}
+	src.names, src.files, src.types = csvSheets(ents)
 	if len(src.names) == 0 {
 		return nil, nil, &CellError{Sheet: ".", Err: ErrFormat, Msg: "holds no .csv files"}
 	}
@@ -183,7 +200,7 @@ func read(src source) (*Schedule, *Report, error) {
 		} else {
 			t.readTable()
 		}
-		err = it.close()
+		err = it.close(t.fatal == nil)
 		if t.fatal != nil {
 			return nil, nil, t.fatal
 		}
@@ -221,6 +238,7 @@ type tableReader struct {
 	it    rowIter
 	d1904 bool
 	fatal error // the error that stopped the whole read
+	count int   // rows returned by nextRow
 	// broken is set when the sheet could not be read to its end; the
 	// error has been reported, and nothing more is said of what is missing.
 	broken bool
@@ -276,21 +294,32 @@ func (t *tableReader) nextRow() (int, []string, bool) {
 			}
 		}
 		if !blank {
+			t.count++
+			if t.sh.Name == SheetGrants && t.count > MaxGrants+1 { // and the header
+				t.broken = true
+				t.fatal = &CellError{Sheet: t.sh.Name, Cell: cellName(1, n), Err: ErrTooLarge,
+					Msg: fmt.Sprintf("the sheet has more than %d grant rows; grantworth values at most %d grants in one run", MaxGrants, MaxGrants)}
+				return 0, nil, false
+			}
 			return n, cells, true
 		}
 	}
 	return 0, nil, false
 }
 
+// cellName is the A1-style name of a cell ("AB12"), or "" for a position
+// outside a sheet.
 func cellName(col, row int) string {
-	if col < 1 || row < 1 {
+	if col < 1 || row < 1 || col > maxSheetColumns || row > MaxRows+maxSheetRows {
 		return ""
 	}
-	name, err := excelize.CoordinatesToCellName(col, row)
-	if err != nil {
-		return ""
+	var b [16]byte
+	i := 3
+	for c := col; c > 0; c = (c - 1) / 26 {
+		i--
+		b[i] = byte('A' + (c-1)%26)
 	}
-	return name
+	return string(strconv.AppendInt(b[i:3], int64(row), 10))
 }
 
 func (t *tableReader) readTable() {
@@ -303,6 +332,10 @@ func (t *tableReader) readTable() {
 	}
 	cols := map[string]int{}
 	for i, h := range head {
+		if tooLong(h, MaxHeaderChars) {
+			t.rep.errf(Ref{Sheet: t.sh.Name, Cell: cellName(i+1, hrow)}, "", h, ErrTooLarge, "is longer than any column name (at most %d characters)", MaxHeaderChars)
+			continue
+		}
 		n := norm(h)
 		if n == "" {
 			continue
@@ -340,7 +373,7 @@ func (t *tableReader) readTable() {
 		if !ok {
 			return
 		}
-		c := &rowCtx{t: t, row: n, cells: cells, cols: cols, refs: map[string]Ref{}}
+		c := &rowCtx{t: t, row: n, cells: cells, cols: cols, refs: make(map[string]Ref, len(cells))}
 		switch t.sh.Name {
 		case SheetGrants:
 			t.grantRow(c)
@@ -409,6 +442,10 @@ func (c *rowCtx) text(key string) (string, bool) {
 		if c.t.it.emptyIsFormula(i+1, c.row) {
 			c.fail(key, "", ErrNoCachedValue)
 		}
+		return "", false
+	}
+	if limit, ok := textLimit[key]; ok && tooLong(v, limit) {
+		c.failf(key, v, ErrTooLarge, "is longer than the %d characters allowed for %s", limit, key)
 		return "", false
 	}
 	c.refs[key] = c.ref(key)
@@ -683,6 +720,10 @@ func (t *tableReader) readKeyValue() {
 			if len(cells) > 0 && norm(cells[0]) == "key" {
 				kc, vc, sc = -1, -1, -1
 				for i, h := range cells {
+					if tooLong(h, MaxHeaderChars) {
+						t.rep.errf(Ref{Sheet: t.sh.Name, Cell: cellName(i+1, n)}, "", h, ErrTooLarge, "is longer than any column name (at most %d characters)", MaxHeaderChars)
+						continue
+					}
 					switch norm(h) {
 					case "key":
 						kc = i
@@ -711,6 +752,10 @@ func (t *tableReader) readKeyValue() {
 			t.rep.errf(keyRef, "key", "", ErrRequired, "has a value but no key")
 			continue
 		}
+		if tooLong(key, MaxHeaderChars) {
+			t.rep.errf(keyRef, "key", key, ErrTooLarge, "is longer than any key (at most %d characters)", MaxHeaderChars)
+			continue
+		}
 		col := (*Column)(nil)
 		for i := range t.sh.Columns {
 			if norm(t.sh.Columns[i].Key) == norm(key) {
@@ -732,7 +777,9 @@ func (t *tableReader) readKeyValue() {
 		} else {
 			t.assumptionValue(c, col)
 			if sc >= 0 && sc < len(cells) {
-				if src := strings.TrimSpace(cells[sc]); src != "" {
+				if src := strings.TrimSpace(cells[sc]); tooLong(src, MaxSourceChars) {
+					t.rep.errf(Ref{Sheet: t.sh.Name, Cell: cellName(sc+1, n)}, "source", src, ErrTooLarge, "is longer than the %d characters allowed for the source of %s", MaxSourceChars, col.Key)
+				} else if src != "" {
 					t.s.Assumptions.Sources[col.Key] = src
 				}
 			}

@@ -470,9 +470,10 @@ func (x *xlsxRows) emptyIsFormula(col, row int) bool {
 }
 
 // close reads the rest of the part, so that damage after the last row
-// read is still found, and releases it.
-func (x *xlsxRows) close() error {
-	for x.err == nil && !x.done {
+// read is still found, and releases it. With drain false (the read is being
+// abandoned) it only releases it.
+func (x *xlsxRows) close(drain bool) error {
+	for drain && x.err == nil && !x.done {
 		if err := x.readRow(); err != nil {
 			x.err = err
 		}
@@ -550,7 +551,7 @@ func (x *xlsxRows) readRow() error {
 					return &CellError{Sheet: x.sheet, Err: ErrDamaged, Msg: fmt.Sprintf("has a row numbered %d, beyond a spreadsheet's last row %d; the workbook is damaged", n, maxSheetRows)}
 				}
 				x.row, inRow, col, ncells = n, true, 0, 0
-				x.cur, x.formula = nil, x.formula[:0]
+				x.cur, x.formula = make([]string, 0, len(x.cur)), x.formula[:0]
 			case "c":
 				if !inRow {
 					continue
