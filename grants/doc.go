@@ -27,9 +27,7 @@
 //   - Percentages: 0.45, a cell formatted 45% (which stores 0.45), or the
 //     text "45%".
 //   - A formula is read by the value the spreadsheet saved with it; a formula
-//     with no saved value is an error naming the cell. (To find those, a
-//     workbook that holds any formula has its sheets loaded whole rather
-//     than streamed; one without formulas is streamed row by row.)
+//     with no saved value is an error naming the cell.
 //
 // A CSV folder holds one UTF-8 file per sheet (grants.csv, company.csv, ...;
 // an optional byte-order mark is dropped; quoted fields may hold commas and
@@ -37,13 +35,23 @@
 // so problems carry the same Sheet!Cell references as in a workbook. A file
 // separated by semicolons or tabs is refused with a message saying so.
 //
+// The workbook is read by this package's own streaming reader of the zip
+// archive and its XML parts (xlsx.go, xmlscan.go), not by a spreadsheet
+// library: every part read is read to its end, so a wrong checksum or size
+// in the archive, XML that is cut short or does not close, or a cell that
+// refers to a string the workbook lacks is an error wrapping ErrDamaged and
+// naming the sheet, never a schedule with rows missing.
+//
 // # Limits
 //
-// Untrusted workbooks cannot exhaust memory: files are capped at MaxFileSize
-// bytes, a workbook at MaxUnzipSize unzipped (large worksheets stream
-// through a temporary file), each sheet at MaxRows rows and each row at
-// MaxColumns non-empty columns. Counts written inside a file are never used
-// to size anything.
+// Untrusted workbooks cannot exhaust memory or time: files are capped at
+// MaxFileSize bytes, a workbook at MaxUnzipSize unzipped, each sheet at
+// MaxRows rows, each row at MaxColumns non-empty columns, each cell at
+// MaxCellChars characters, the shared strings at MaxSharedStrings strings
+// and MaxSharedStringBytes bytes. Each limit is checked while streaming,
+// before memory is taken for what it bounds, and a file past one is an
+// error wrapping ErrTooLarge that names the sheet. Counts written inside a
+// file are never used to size anything.
 //
 // # Problems
 //
