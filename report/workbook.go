@@ -495,7 +495,7 @@ func (b *Book) valueCell(a Assumption) any {
 }
 
 func writeAssumptions(b *Book, m *Model) error {
-	cols := []Column{{"Grant", 14}, {"Input", 26}, {"Value", 16}, {"As given", 18}, {"Cell", 18}, {"Source", 60}}
+	cols := []Column{{"Grant", 14}, {"Input", 26}, {"Value", 16}, {"As given", 18}, {"Cell", 18}, {"In force from", 12}, {"Source", 60}}
 	t, err := b.NewTable(SheetAssumptions, cols, len(m.Assumptions))
 	if err != nil {
 		return err
@@ -505,7 +505,7 @@ func writeAssumptions(b *Book, m *Model) error {
 		if grant == "" {
 			grant = "(all)"
 		}
-		if err := t.Row(b.Text(grant), b.Text(a.Name), b.valueCell(a), b.Text(a.Text), b.Text(a.Ref), b.Text(a.Source)); err != nil {
+		if err := t.Row(b.Text(grant), b.Text(a.Name), b.valueCell(a), b.Text(a.Text), b.Text(a.Ref), b.DateCell(a.EffectiveDate), b.Text(a.Source)); err != nil {
 			return err
 		}
 	}

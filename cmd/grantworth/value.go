@@ -173,7 +173,7 @@ func runValue(o *valueOptions) error {
 	bar := newProgress(o.io, "valuing grants")
 	sensBar := newProgress(o.io, "sensitivity runs")
 	v, err := pricing.Value(s, ins, pricing.Options{
-		Lattice:     valuation.LatticeOptions{Steps: s.Assumptions.Steps},
+		Lattice:     valuation.LatticeOptions{Steps: s.InForce().Steps},
 		Progress:    bar.update,
 		Sensitivity: func(done, total int) { bar.finish(); sensBar.update(done, total) },
 	})
