@@ -154,6 +154,7 @@ func Build(s *grants.Schedule, v *grants.Valuation, run Run) (*Model, error) {
 		return nil, err
 	}
 	m.Warnings = append(m.Warnings, v.Warnings...)
+	m.Warnings = append(m.Warnings, MemoTextWarnings(s, run.Input.Path)...)
 	return m, nil
 }
 
