@@ -182,3 +182,72 @@ func (a *Assumptions) has(key string) bool {
 	_, ok := a.Refs[key]
 	return ok
 }
+
+// ValueInputs collects the inputs of every grant made on or before the
+// valuation date (a later grant is not outstanding at the period end and
+// is left out, with a warning in skipped), or every error found.
+func (s *Schedule) ValueInputs() (ins []Inputs, errs []error, skipped []string) {
+	for _, g := range s.Grants {
+		if valuation.Days(s.Company.ValuationDate, g.GrantDate) > 0 {
+			skipped = append(skipped, fmt.Sprintf("grant %s, dated %s after the valuation date %s, is left out of this valuation",
+				g.ID, isoDay(g.GrantDate), isoDay(s.Company.ValuationDate)))
+			continue
+		}
+		in, err := s.Inputs(g)
+		if err != nil {
+			errs = append(errs, err)
+			continue
+		}
+		ins = append(ins, in)
+	}
+	return ins, errs, skipped
+}
+
+// PeriodEndPrice is the share price in force at the valuation date (the
+// Share Prices row dated on or before it), with its cell: the disclosures
+// value options and warrants outstanding at the period end at it. When no
+// row is dated on or before the valuation date the error, a *CellError,
+// names the valuation date's cell.
+func (s *Schedule) PeriodEndPrice() (Source, error) {
+	src, err := s.periodEndPrice()
+	if err != nil {
+		return src, err
+	}
+	return src, nil
+}
+
+func (s *Schedule) periodEndPrice() (Source, *CellError) {
+	d := s.Company.ValuationDate
+	if p, ok := s.PriceAt(d); ok {
+		r := s.cell(SheetSharePrices, "price", p.Row, nil)
+		return Source{Value: p.Price, Ref: r, Text: fmt.Sprintf("%s (valuation of %s)", r, isoDay(p.Date))}, nil
+	}
+	r := s.cell(SheetCompany, "valuation_date", 0, s.Company.Refs)
+	return Source{}, &CellError{Sheet: r.Sheet, Cell: r.Cell, Column: "valuation_date", Value: isoDay(d), Err: ErrRequired,
+		Msg: "has no share price: no Share Prices row is dated on or before it, and the intrinsic values of the options and warrants outstanding at the period end need one"}
+}
+
+// NeedsPeriodEndPrice reports whether an option or warrant is granted by
+// the valuation date, so that the disclosures need PeriodEndPrice (an
+// RSU has no intrinsic value to show apart from its price).
+func (s *Schedule) NeedsPeriodEndPrice() bool {
+	for _, g := range s.Grants {
+		if g.Instrument != RSU && !g.GrantDate.IsZero() && !g.GrantDate.After(s.Company.ValuationDate) {
+			return true
+		}
+	}
+	return false
+}
+
+// Period is the reporting period of the schedule: its period start to its
+// valuation date, as calendar days. A period start the schedule does not
+// give is the reader's default, QuarterStart of the valuation date.
+func (s *Schedule) Period() (start, end time.Time) {
+	day := func(t time.Time) time.Time { return time.Date(t.Year(), t.Month(), t.Day(), 0, 0, 0, 0, time.UTC) }
+	end = day(s.Company.ValuationDate)
+	start = day(s.Company.PeriodStart)
+	if s.Company.PeriodStart.IsZero() {
+		start = QuarterStart(end)
+	}
+	return start, end
+}

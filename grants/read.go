@@ -1,7 +1,6 @@
 package grants
 
 import (
-	"bytes"
 	"errors"
 	"fmt"
 	"io"
@@ -14,15 +13,23 @@ import (
 	"github.com/xuri/excelize/v2"
 )
 
-// Limits against workbooks built to exhaust memory. Counts stated inside a
-// file are never trusted: rows and cells are counted as they are read.
+// Limits against files built to exhaust memory or time. Each is checked
+// while streaming, before anything is allocated for what it bounds; counts
+// stated inside a file are never trusted. A file past a limit is refused
+// with an error (ErrTooLarge) naming the sheet.
 const (
-	MaxFileSize  = 64 << 20  // bytes of an .xlsx file or of one CSV file
-	MaxUnzipSize = 512 << 20 // bytes of an .xlsx file once unzipped
-	maxUnzipXML  = 32 << 20  // larger worksheets stream through a temporary file
-	MaxRows      = 1_000_000 // rows of one sheet
-	MaxColumns   = 256       // non-empty columns of one row
+	MaxFileSize          = 64 << 20  // bytes of an .xlsx file or of one CSV file
+	MaxUnzipSize         = 256 << 20 // bytes of the parts of an .xlsx file read, once unzipped
+	MaxRows              = 1_000_000 // rows of one sheet
+	MaxColumns           = 256       // non-empty columns of one row
+	MaxCellChars         = 32767     // characters of one cell, a spreadsheet cell's own limit
+	MaxSharedStrings     = 2_000_000 // strings in a workbook's shared-strings table
+	MaxSharedStringBytes = 64 << 20  // bytes of text in that table
 )
+
+// maxCellBytes bounds the UTF-8 bytes of one cell's text (four bytes at most
+// per character).
+const maxCellBytes = 4 * MaxCellChars
 
 // source is a workbook or a folder of CSV files, seen as sheets of rows.
 type source interface {
@@ -32,7 +39,9 @@ type source interface {
 }
 
 // rowIter walks a sheet's rows. next advances one row (rows are numbered
-// from 1 with no gaps); cells returns the current row's raw cell texts.
+// from 1 as a spreadsheet shows them; blank rows may be left out); cells
+// returns the current row's raw cell texts, or the error that stopped the
+// reading. An error wrapping ErrDamaged or ErrTooLarge stops the whole read.
 type rowIter interface {
 	next() bool
 	cells() (row int, cells []string, err error)
@@ -81,36 +90,22 @@ func ReadFile(path string) (*Schedule, *Report, error) {
 	return s, rep, err
 }
 
-// ReadXLSX reads a schedule workbook of size bytes from r.
+// ReadXLSX reads a schedule workbook of size bytes from r. A workbook that
+// is damaged (a wrong checksum or size in the archive, XML that does not
+// close, a reference to a string it lacks) or past a limit is an error
+// naming the sheet: never a shorter schedule.
 func ReadXLSX(r io.ReaderAt, size int64) (s *Schedule, rep *Report, err error) {
-	defer func() {
-		// A workbook damaged in a way the spreadsheet library does not
-		// expect must still give an error, not a crash.
-		if p := recover(); p != nil {
-			s, rep, err = nil, nil, &CellError{Err: ErrFormat, Msg: fmt.Sprintf("is a damaged .xlsx workbook (%v)", p)}
-		}
-	}()
 	if size > MaxFileSize {
 		return nil, nil, &CellError{Err: ErrTooLarge, Msg: fmt.Sprintf("is %d bytes, more than the %d bytes allowed", size, MaxFileSize)}
 	}
 	if size == 0 {
 		return nil, nil, &CellError{Err: ErrFormat, Msg: "is empty, not an .xlsx workbook"}
 	}
-	f, err := excelize.OpenReader(io.NewSectionReader(r, 0, size), excelize.Options{
-		UnzipSizeLimit: MaxUnzipSize, UnzipXMLSizeLimit: maxUnzipXML,
-	})
+	b, err := openXLSX(r, size)
 	if err != nil {
-		msg := "is not an .xlsx workbook (" + err.Error() + ")"
-		if strings.Contains(err.Error(), "size limit") || strings.Contains(err.Error(), "exceeds") {
-			return nil, nil, &CellError{Err: ErrTooLarge, Msg: "unzips to more than the allowed size (" + err.Error() + ")"}
-		}
-		return nil, nil, &CellError{Err: ErrFormat, Msg: msg}
+		return nil, nil, err
 	}
-	defer f.Close()
-	src := &xlsxSource{f: f}
-	src.scanFormulas()
-	s, rep = read(src)
-	return s, rep, nil
+	return read(b)
 }
 
 // ReadCSVDir reads a schedule from a folder of CSV files, one per sheet
@@ -132,91 +127,12 @@ func ReadCSVDir(fsys fs.FS) (*Schedule, *Report, error) {
 	if len(src.names) == 0 {
 		return nil, nil, &CellError{Sheet: ".", Err: ErrFormat, Msg: "holds no .csv files"}
 	}
-	s, rep := read(src)
-	return s, rep, nil
+	return read(src)
 }
 
-// xlsxSource reads sheets of an excelize workbook by streaming rows.
-type xlsxSource struct {
-	f           *excelize.File
-	hasFormulas bool
-}
-
-func (x *xlsxSource) sheetNames() []string { return x.f.GetSheetList() }
-
-func (x *xlsxSource) date1904() bool {
-	p, err := x.f.GetWorkbookProps()
-	return err == nil && p.Date1904 != nil && *p.Date1904
-}
-
-// scanFormulas looks for any formula in the worksheets, so that empty cells
-// need no further look when there is none.
-func (x *xlsxSource) scanFormulas() {
-	seen := 0
-	x.f.Pkg.Range(func(k, v any) bool {
-		name, _ := k.(string)
-		if !strings.HasPrefix(name, "xl/worksheets/") || !strings.HasSuffix(name, ".xml") {
-			return true
-		}
-		seen++
-		b, _ := v.([]byte)
-		for _, pat := range [][]byte{[]byte("<f>"), []byte("<f "), []byte("<f/>"), []byte(":f>"), []byte(":f ")} {
-			if bytes.Contains(b, pat) {
-				x.hasFormulas = true
-				return false
-			}
-		}
-		return true
-	})
-	if seen < x.f.SheetCount {
-		x.hasFormulas = true // some worksheet streams from a temporary file
-	}
-}
-
-func (x *xlsxSource) rows(name string) (rowIter, error) {
-	r, err := x.f.Rows(name)
-	if err != nil {
-		return nil, err
-	}
-	return &xlsxRows{src: x, sheet: name, r: r}, nil
-}
-
-type xlsxRows struct {
-	src   *xlsxSource
-	sheet string
-	r     *excelize.Rows
-	n     int
-}
-
-func (x *xlsxRows) next() bool {
-	if !x.r.Next() {
-		return false
-	}
-	x.n++
-	return true
-}
-
-func (x *xlsxRows) cells() (int, []string, error) {
-	c, err := x.r.Columns(excelize.Options{RawCellValue: true})
-	return x.n, c, err
-}
-
-func (x *xlsxRows) emptyIsFormula(col, row int) bool {
-	if !x.src.hasFormulas {
-		return false
-	}
-	name, err := excelize.CoordinatesToCellName(col, row)
-	if err != nil {
-		return false
-	}
-	fx, err := x.src.f.GetCellFormula(x.sheet, name)
-	return err == nil && fx != ""
-}
-
-func (x *xlsxRows) close() error { return x.r.Close() }
-
-// read builds a Schedule from a source and validates it.
-func read(src source) (*Schedule, *Report) {
+// read builds a Schedule from a source and validates it. It stops at the
+// first error that makes the source unreadable (ErrDamaged, ErrTooLarge).
+func read(src source) (*Schedule, *Report, error) {
 	s := &Schedule{layout: map[string]map[string]int{}}
 	rep := &Report{skip: map[string]bool{}}
 	s.Company.Refs = map[string]Ref{}
@@ -255,6 +171,9 @@ func read(src source) (*Schedule, *Report) {
 		}
 		it, err := src.rows(name)
 		if err != nil {
+			if fatal(err) {
+				return nil, nil, sheetErr(err, sh.Name)
+			}
 			rep.errf(Ref{Sheet: sh.Name}, "", "", ErrFormat, "cannot be read: %v", err)
 			continue
 		}
@@ -264,14 +183,35 @@ func read(src source) (*Schedule, *Report) {
 		} else {
 			t.readTable()
 		}
-		if err := it.close(); err != nil {
+		err = it.close()
+		if t.fatal != nil {
+			return nil, nil, t.fatal
+		}
+		if err != nil {
+			if fatal(err) {
+				return nil, nil, sheetErr(err, sh.Name)
+			}
 			rep.errf(Ref{Sheet: sh.Name}, "", "", ErrFormat, "cannot be read: %v", err)
 		}
 	}
 	finishCompany(s, rep)
 	v := validate(s, rep.skip)
 	rep.Merge(v)
-	return s, rep
+	return s, rep, nil
+}
+
+// fatal reports whether err makes the whole source unreadable.
+func fatal(err error) bool {
+	return errors.Is(err, ErrDamaged) || errors.Is(err, ErrTooLarge)
+}
+
+// sheetErr names sheet in err when it names none.
+func sheetErr(err error, sheet string) error {
+	var ce *CellError
+	if errors.As(err, &ce) && ce.Sheet == "" {
+		ce.Sheet = sheet
+	}
+	return err
 }
 
 type tableReader struct {
@@ -280,6 +220,10 @@ type tableReader struct {
 	rep   *Report
 	it    rowIter
 	d1904 bool
+	fatal error // the error that stopped the whole read
+	// broken is set when the sheet could not be read to its end; the
+	// error has been reported, and nothing more is said of what is missing.
+	broken bool
 }
 
 // nextRow returns the next row with any non-blank cell.
@@ -287,6 +231,11 @@ func (t *tableReader) nextRow() (int, []string, bool) {
 	for t.it.next() {
 		n, cells, err := t.it.cells()
 		if err != nil {
+			t.broken = true
+			if fatal(err) {
+				t.fatal = sheetErr(err, t.sh.Name)
+				return 0, nil, false
+			}
 			var ce *CellError
 			if errors.As(err, &ce) {
 				if ce.Sheet == "" {
@@ -299,13 +248,15 @@ func (t *tableReader) nextRow() (int, []string, bool) {
 			return 0, nil, false
 		}
 		if n > MaxRows {
-			t.rep.errf(Ref{Sheet: t.sh.Name, Cell: cellName(1, n)}, "", "", ErrTooLarge, "sheet has more than %d rows", MaxRows)
+			t.broken = true
+			t.fatal = &CellError{Sheet: t.sh.Name, Cell: cellName(1, n), Err: ErrTooLarge, Msg: fmt.Sprintf("sheet has more than %d rows", MaxRows)}
 			return 0, nil, false
 		}
 		blank := true
 		for i, c := range cells {
 			if strings.TrimSpace(c) != "" {
 				if i >= MaxColumns {
+					t.broken = true
 					t.rep.errf(Ref{Sheet: t.sh.Name, Cell: cellName(i+1, n)}, "", "", ErrTooLarge, "row has cells beyond column %d", MaxColumns)
 					return 0, nil, false
 				}
@@ -345,7 +296,7 @@ func cellName(col, row int) string {
 func (t *tableReader) readTable() {
 	hrow, head, ok := t.nextRow()
 	if !ok {
-		if t.sh.Required {
+		if t.sh.Required && !t.broken {
 			t.rep.errf(Ref{Sheet: t.sh.Name, Cell: "A1"}, "", "", ErrMissingColumn, "sheet is empty; it needs a header row (%s)", headerList(t.sh))
 		}
 		return
@@ -795,7 +746,7 @@ func (t *tableReader) readKeyValue() {
 		}
 	}
 	for _, col := range t.sh.Columns {
-		if _, ok := seen[col.Key]; col.Required && !ok {
+		if _, ok := seen[col.Key]; col.Required && !ok && !t.broken {
 			t.rep.errf(Ref{Sheet: t.sh.Name, Cell: cellName(1, 1)}, col.Key, "", ErrRequired, "key is missing; add a row %s with its value", col.Key)
 		}
 	}

@@ -96,6 +96,11 @@ func (v *validator) company() {
 		v.rep.errf(v.s.cell(SheetCompany, "period_start", 0, co.Refs), "period_start", isoDay(co.PeriodStart), ErrRange,
 			"must be before valuation_date %s", isoDay(co.ValuationDate))
 	}
+	if v.s.NeedsPeriodEndPrice() {
+		if _, err := v.s.periodEndPrice(); err != nil {
+			v.rep.addErr(err)
+		}
+	}
 	if co.SharesOutstanding < 0 {
 		v.rep.errf(v.s.cell(SheetCompany, "shares_outstanding", 0, co.Refs), "shares_outstanding", num(co.SharesOutstanding), ErrRange, "must be more than zero")
 	}
@@ -424,65 +429,31 @@ func (v *validator) events() {
 			continue
 		}
 		g, _ := v.grant(id)
-		evs := byGrant[id]
-		sort.SliceStable(evs, func(i, j int) bool { return evs[i].Date.Before(evs[j].Date) })
-		ts := s.tranchesBeforeEvents(g)
-		live := make([]int64, len(ts)) // shares of each tranche not forfeited or cancelled
-		for i, t := range ts {
-			live[i] = t.Shares
-		}
-		var usedVested int64                         // vested shares exercised, expired or cancelled
-		takeUnvested := func(d time.Time, n int64) { // latest vest date first, as Tranches does
-			for i := len(ts) - 1; i >= 0; i-- {
-				if n <= 0 {
-					return
-				}
-				if ts[i].VestDate.After(d) {
-					k := min(n, live[i])
-					live[i] -= k
-					n -= k
-				}
-			}
-		}
-		for _, e := range evs {
-			var vested, unvested int64
-			for i, t := range ts {
-				if t.VestDate.After(e.Date) {
-					unvested += live[i]
-				} else {
-					vested += live[i]
-				}
-			}
-			vestedOut := vested - usedVested
+		gref := s.cell(SheetGrants, "shares", g.Row, g.Refs)
+		for _, tk := range Allocate(s.tranchesBeforeEvents(g), byGrant[id]).Events {
+			e := tk.Event
 			ref := s.cell(SheetEvents, "shares", e.Row, nil)
-			gref := s.cell(SheetGrants, "shares", g.Row, g.Refs)
+			n := strconv.FormatInt(e.Shares, 10)
 			switch e.Kind {
 			case Forfeited:
 				switch {
-				case e.Shares > unvested+vestedOut:
-					v.rep.errf(ref, "shares", strconv.FormatInt(e.Shares, 10), ErrRange,
-						"forfeits more than the %d shares outstanding of grant %s on %s (%s)", max(unvested+vestedOut, 0), id, isoDay(e.Date), gref)
-				case e.Shares > unvested:
-					v.rep.warnf(ref, "shares", strconv.FormatInt(e.Shares, 10), ErrRange,
-						"is more than the %d unvested shares of grant %s on %s; the rest are taken from vested shares (record those as expired)", unvested, id, isoDay(e.Date))
+				case tk.Short > 0:
+					v.rep.errf(ref, "shares", n, ErrRange,
+						"forfeits more than the %d shares outstanding of grant %s on %s (%s)", tk.Unvested+tk.Vested, id, isoDay(e.Date), gref)
+				case tk.FromVested > 0:
+					v.rep.warnf(ref, "shares", n, ErrRange,
+						"is more than the %d unvested shares of grant %s on %s; the rest are taken from vested shares (record those as expired)", tk.Unvested, id, isoDay(e.Date))
 				}
-				k := min(e.Shares, unvested)
-				takeUnvested(e.Date, k)
-				usedVested += e.Shares - k
 			case Exercised, Expired:
-				if e.Shares > vestedOut {
-					v.rep.errf(ref, "shares", strconv.FormatInt(e.Shares, 10), ErrRange,
-						"%s more than the %d vested shares outstanding of grant %s on %s (%s)", verb(e.Kind), max(vestedOut, 0), id, isoDay(e.Date), gref)
+				if tk.Short > 0 {
+					v.rep.errf(ref, "shares", n, ErrRange,
+						"%s more than the %d vested shares outstanding of grant %s on %s (%s)", verb(e.Kind), tk.Vested, id, isoDay(e.Date), gref)
 				}
-				usedVested += e.Shares
 			case Cancelled:
-				if e.Shares > unvested+vestedOut {
-					v.rep.errf(ref, "shares", strconv.FormatInt(e.Shares, 10), ErrRange,
-						"cancels more than the %d shares outstanding of grant %s on %s (%s)", max(unvested+vestedOut, 0), id, isoDay(e.Date), gref)
+				if tk.Short > 0 {
+					v.rep.errf(ref, "shares", n, ErrRange,
+						"cancels more than the %d shares outstanding of grant %s on %s (%s)", tk.Unvested+tk.Vested, id, isoDay(e.Date), gref)
 				}
-				k := min(e.Shares, unvested)
-				takeUnvested(e.Date, k)
-				usedVested += e.Shares - k
 			}
 		}
 	}
@@ -493,14 +464,6 @@ func verb(k EventKind) string {
 		return "exercises"
 	}
 	return "expires"
-}
-
-// tranchesBeforeEvents is the vesting of g with no events applied.
-func (s *Schedule) tranchesBeforeEvents(g Grant) []Tranche {
-	if rows := s.vestRows(g.ID); len(rows) > 0 {
-		return customTranches(g, rows)
-	}
-	return expand(g)
 }
 
 // MeasurementDate is the date a grant is measured at: the grant date, or

@@ -7,6 +7,8 @@ import (
 	"time"
 
 	"grantworth/grants"
+	"grantworth/grants/accounting"
+	"grantworth/grants/pricing"
 )
 
 // Summarize fills the sums of m from its tranches: each grant's total,
@@ -76,12 +78,12 @@ type Run struct {
 	Warnings []string
 }
 
-// Build lays the schedule s and its valuation v into a Model: every grant
-// with its inputs, their provenance and tranche results, the sums
-// (Summarize), the sensitivity cases, the convergence study, the Monte
-// Carlo check and the period's expense attribution (AddExpense, with the
-// revaluations v already holds). It values nothing.
-func Build(s *grants.Schedule, v *grants.Valuation, run Run) (*Model, error) {
+// Build lays the schedule s, its valuation v and the books b of its close
+// into a Model: every grant with its inputs, their provenance and tranche
+// results, the sums (Summarize), the sensitivity cases, the convergence
+// study, the Monte Carlo check and the period's expense attribution,
+// journal and disclosures. It values and books nothing.
+func Build(s *grants.Schedule, v *pricing.Valuation, b *accounting.Books, run Run) (*Model, error) {
 	m := &Model{Tool: run.Tool, Input: run.Input, Warnings: append(make([]string, 0, len(run.Warnings)), run.Warnings...)}
 	m.Company = Company{Name: s.Company.Name, Currency: s.Company.Currency, SharesOutstanding: s.Company.SharesOutstanding}
 	m.ValuationDate = DateOf(s.Company.ValuationDate)
@@ -146,19 +148,14 @@ func Build(s *grants.Schedule, v *grants.Valuation, run Run) (*Model, error) {
 	case v.MonteCarloRational:
 		m.Settings.MonteCarlo = "No Monte Carlo check: every lattice-valued award allows rational early exercise, which the simulation does not model."
 	}
-	var price float64
-	if pp, ok := s.PriceAt(s.Company.ValuationDate); ok {
-		price = pp.Price
-	}
-	if err := AddExpense(m, s, price, v.Revalued); err != nil {
-		return nil, err
-	}
+	m.Expense = expenseModel(b)
+	m.Warnings = append(m.Warnings, b.Warnings...)
 	m.Warnings = append(m.Warnings, v.Warnings...)
 	m.Warnings = append(m.Warnings, MemoTextWarnings(s, run.Input.Path)...)
 	return m, nil
 }
 
-func grantOf(gv *grants.GrantValue) Grant {
+func grantOf(gv *pricing.GrantValue) Grant {
 	in, g := gv.Inputs, gv.Inputs.Grant
 	rg := Grant{
 		ID: g.ID, Holder: g.Holder, Instrument: string(g.Instrument),
@@ -189,11 +186,8 @@ func grantOf(gv *grants.GrantValue) Grant {
 		tr := Tranche{Index: t.Index, VestDate: DateOf(t.VestDate), Shares: t.Shares,
 			YearsToExpiry: term.YearsToExpiry, YearsToVest: term.YearsToVest,
 			FairValuePerShare: r.Value, ErrorEstimate: r.ErrorEstimate, ExpectedTermYears: r.ExpectedTermYears, Steps: r.Steps,
-			BSMSimplifiedValue: b.Value, SimplifiedTerm: b.ExpectedTermYears}
-		if c := in.Market.Curve; c != nil {
-			tr.RiskFreeRate = c.Zero(term.YearsToExpiry)
-			tr.SimplifiedRate = c.Zero(b.ExpectedTermYears)
-		}
+			BSMSimplifiedValue: b.Value, SimplifiedTerm: b.ExpectedTermYears,
+			RiskFreeRate: gv.RiskFreeRate[k], SimplifiedRate: gv.SimplifiedRate[k]}
 		rg.Tranches = append(rg.Tranches, tr)
 	}
 	return rg
@@ -234,7 +228,7 @@ func companyAssumptions(s *grants.Schedule) []Assumption {
 
 // grantAssumptions are the inputs a grant was valued on, each with its
 // cell and source text.
-func grantAssumptions(gv *grants.GrantValue) []Assumption {
+func grantAssumptions(gv *pricing.GrantValue) []Assumption {
 	in, g := gv.Inputs, gv.Inputs.Grant
 	ref := func(k string) string { return g.Refs[k].String() }
 	day := func(t time.Time) string { return DateOf(t).String() }

@@ -19,6 +19,8 @@ import (
 	"github.com/spf13/cobra"
 
 	"grantworth/grants"
+	"grantworth/grants/accounting"
+	"grantworth/grants/pricing"
 	"grantworth/report"
 	"grantworth/valuation"
 )
@@ -169,7 +171,7 @@ func runValue(o *valueOptions) error {
 	defer out.close()
 	bar := newProgress(o.io, "valuing grants")
 	sensBar := newProgress(o.io, "sensitivity runs")
-	v, err := s.Value(ins, grants.ValueOptions{
+	v, err := pricing.Value(s, ins, pricing.Options{
 		Lattice:     valuation.LatticeOptions{Steps: s.Assumptions.Steps},
 		Progress:    bar.update,
 		Sensitivity: func(done, total int) { bar.finish(); sensBar.update(done, total) },
@@ -179,7 +181,14 @@ func runValue(o *valueOptions) error {
 	if err != nil {
 		return err
 	}
-	m, err := report.Build(s, v, report.Run{
+	books, err := accounting.Close(s, v)
+	if err != nil {
+		if ce := (*grants.CellError)(nil); errors.As(err, &ce) {
+			return asInput(err)
+		}
+		return err
+	}
+	m, err := report.Build(s, v, books, report.Run{
 		Tool:     report.Tool{Name: "grantworth", Version: version},
 		Input:    report.Input{Path: filepath.ToSlash(o.path), SHA256: sum},
 		Warnings: append(warningTexts(rep), skipped...),

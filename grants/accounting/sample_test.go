@@ -1,6 +1,7 @@
-package grants
+package accounting
 
 import (
+	"grantworth/grants"
 	"math"
 	"testing"
 )
@@ -8,23 +9,23 @@ import (
 // sampleAwards reads the demo company's schedule and gives every tranche a
 // fair value of 1 + index/10 a share (invented: the identities below hold
 // for any values).
-func sampleAwards(t *testing.T) (*Schedule, []AwardCost) {
+func sampleAwards(t *testing.T) (*grants.Schedule, []Award) {
 	t.Helper()
-	s, rep, err := ReadFile("../sample/tarnwick.xlsx")
+	s, rep, err := grants.ReadFile("../../sample/tarnwick.xlsx")
 	if err != nil {
 		t.Fatal(err)
 	}
 	if rep != nil && !rep.OK() {
 		t.Fatalf("sample has problems: %v", rep.Err())
 	}
-	var awards []AwardCost
+	var awards []Award
 	for _, g := range s.Grants {
 		ts := s.Tranches(g)
 		fv := make([]float64, len(ts))
 		for i := range fv {
 			fv[i] = 1 + float64(i)/10
 		}
-		a, err := s.AwardCost(g, fv)
+		a, err := AwardOf(s, g, fv)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -39,7 +40,7 @@ func sampleAwards(t *testing.T) (*Schedule, []AwardCost) {
 func TestSampleRollForwardIdentity(t *testing.T) {
 	s, awards := sampleAwards(t)
 	start, end := s.Period()
-	d, err := Disclose(awards, s.ExpensePolicy(), start, end, 3)
+	d, err := Disclose(awards, PolicyOf(s), start, end, 3)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -47,7 +48,7 @@ func TestSampleRollForwardIdentity(t *testing.T) {
 		t.Fatal("the sample has no options")
 	}
 	for q := quarterStart(ymd("2023-10-01")); q.Before(end); q = q.AddDate(0, 3, 0) {
-		d, err := Disclose(awards, s.ExpensePolicy(), q, quarterEnd(q), 3)
+		d, err := Disclose(awards, PolicyOf(s), q, quarterEnd(q), 3)
 		if err != nil {
 			t.Fatalf("quarter %s: %v", q.Format("2006-01-02"), err)
 		}
@@ -70,10 +71,10 @@ func TestSampleLifetimeExpense(t *testing.T) {
 			want += awards[i].Tranches[j].FairValue * float64(tr.Shares-tr.Forfeited)
 		}
 	}
-	for _, pol := range []ExpensePolicy{
-		s.ExpensePolicy(),
-		{Attribution: StraightLine, Forfeitures: AsOccur},
-		{Attribution: StraightLine, Forfeitures: Estimate, PreVestingForfeitureRate: 0.1},
+	for _, pol := range []Policy{
+		PolicyOf(s),
+		{Attribution: grants.StraightLine, Forfeitures: grants.AsOccur},
+		{Attribution: grants.StraightLine, Forfeitures: grants.Estimate, PreVestingForfeitureRate: 0.1},
 	} {
 		r, err := Expense(awards, pol, ymd("2040-01-01"), ymd("2040-03-31"))
 		if err != nil {

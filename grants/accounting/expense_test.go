@@ -1,8 +1,9 @@
-package grants
+package accounting
 
 import (
 	"errors"
 	"fmt"
+	"grantworth/grants"
 	"math"
 	"math/rand/v2"
 	"testing"
@@ -22,16 +23,16 @@ func ymd(s string) time.Time {
 }
 
 // award builds a grant dated grantDate with one tranche per vest date.
-func testAward(id string, inst Instrument, grantDate string, vests []string, shares []int64, fvs []float64) AwardCost {
-	a := AwardCost{Grant: Grant{ID: id, Instrument: inst, GrantDate: ymd(grantDate), VestStart: ymd(grantDate), ExpiryDate: ymd(grantDate).AddDate(10, 0, 0)}}
+func testAward(id string, inst grants.Instrument, grantDate string, vests []string, shares []int64, fvs []float64) Award {
+	a := Award{Grant: grants.Grant{ID: id, Instrument: inst, GrantDate: ymd(grantDate), VestStart: ymd(grantDate), ExpiryDate: ymd(grantDate).AddDate(10, 0, 0)}}
 	for i, v := range vests {
 		a.Grant.Shares += shares[i]
-		a.Tranches = append(a.Tranches, TrancheCost{Tranche: Tranche{GrantID: id, Index: i + 1, VestDate: ymd(v), Shares: shares[i]}, FairValue: fvs[i]})
+		a.Tranches = append(a.Tranches, TrancheCost{Tranche: grants.Tranche{GrantID: id, Index: i + 1, VestDate: ymd(v), Shares: shares[i]}, FairValue: fvs[i]})
 	}
 	return a
 }
 
-func mustExpense(t *testing.T, awards []AwardCost, pol ExpensePolicy, start, end string) *ExpenseReport {
+func mustExpense(t *testing.T, awards []Award, pol Policy, start, end string) *ExpenseReport {
 	t.Helper()
 	r, err := Expense(awards, pol, ymd(start), ymd(end))
 	if err != nil {
@@ -65,22 +66,22 @@ func nearly(t *testing.T, what string, got, want, tol float64) {
 func TestIFRS2CliffForfeitureEstimate(t *testing.T) {
 	const tolRounding = 200 // 0.1% of 200,000: whole employees leave, the estimate is smooth
 	leavers := map[string]int{"2029": 36, "2030": 33, "2031": 31}
-	var awards []AwardCost
+	var awards []Award
 	next := 0
 	for _, y := range []string{"2029", "2030", "2031"} {
 		for k := 0; k < leavers[y]; k++ {
-			a := testAward(fmt.Sprintf("E%03d", next), Option, "2029-01-01", []string{"2032-01-01"}, []int64{100}, []float64{15})
-			a.Events = []Event{{GrantID: a.Grant.ID, Date: ymd(y + "-12-31"), Kind: Forfeited, Shares: 100}}
+			a := testAward(fmt.Sprintf("E%03d", next), grants.Option, "2029-01-01", []string{"2032-01-01"}, []int64{100}, []float64{15})
+			a.Events = []grants.Event{{GrantID: a.Grant.ID, Date: ymd(y + "-12-31"), Kind: grants.Forfeited, Shares: 100}}
 			awards = append(awards, a)
 			next++
 		}
 	}
 	for ; next < 500; next++ {
-		awards = append(awards, testAward(fmt.Sprintf("E%03d", next), Option, "2029-01-01", []string{"2032-01-01"}, []int64{100}, []float64{15}))
+		awards = append(awards, testAward(fmt.Sprintf("E%03d", next), grants.Option, "2029-01-01", []string{"2032-01-01"}, []int64{100}, []float64{15}))
 	}
 	rate := 1 - math.Pow(0.8, 1.0/3)
-	for _, attr := range []Attribution{Graded, StraightLine} {
-		pol := ExpensePolicy{Attribution: attr, Forfeitures: Estimate, PreVestingForfeitureRate: rate}
+	for _, attr := range []grants.Attribution{grants.Graded, grants.StraightLine} {
+		pol := Policy{Attribution: attr, Forfeitures: grants.Estimate, PreVestingForfeitureRate: rate}
 		for _, y := range []string{"2029", "2030", "2031"} {
 			r := mustExpense(t, awards, pol, y+"-01-01", y+"-12-31")
 			nearly(t, fmt.Sprintf("%s %s expense", attr, y), r.Period, 200000, tolRounding)
@@ -96,8 +97,8 @@ func TestIFRS2CliffForfeitureEstimate(t *testing.T) {
 // fourTranche is a four-tranche annual award, 1,000 shares a tranche,
 // granted 2029-01-01, fair values 8, 9, 10, 11. Service days to the vest
 // dates: 365, 730, 1,095, 1,461 (2032 is a leap year).
-func fourTranche() AwardCost {
-	return testAward("A4", Option, "2029-01-01",
+func fourTranche() Award {
+	return testAward("A4", grants.Option, "2029-01-01",
 		[]string{"2030-01-01", "2031-01-01", "2032-01-01", "2033-01-01"},
 		[]int64{1000, 1000, 1000, 1000}, []float64{8, 9, 10, 11})
 }
@@ -105,8 +106,8 @@ func fourTranche() AwardCost {
 // Rule: graded attribution, each tranche straight-line over its own service
 // period (IFRS 2 IG; ASC 718-10-35-8), no forfeitures.
 func TestFourTrancheGraded(t *testing.T) {
-	pol := ExpensePolicy{Attribution: Graded, Forfeitures: AsOccur}
-	aw := []AwardCost{fourTranche()}
+	pol := Policy{Attribution: grants.Graded, Forfeitures: grants.AsOccur}
+	aw := []Award{fourTranche()}
 	cases := []struct {
 		start, end string
 		want       float64
@@ -142,8 +143,8 @@ func TestFourTrancheGraded(t *testing.T) {
 // Rule: straight-line attribution over the whole award's service period
 // (ASC 718-10-35-8), the floor not binding: total cost 38,000 over 1,461 days.
 func TestFourTrancheStraightLine(t *testing.T) {
-	pol := ExpensePolicy{Attribution: StraightLine, Forfeitures: AsOccur}
-	aw := []AwardCost{fourTranche()}
+	pol := Policy{Attribution: grants.StraightLine, Forfeitures: grants.AsOccur}
+	aw := []Award{fourTranche()}
 	for _, c := range []struct {
 		start, end string
 		days       float64
@@ -164,10 +165,10 @@ func TestFourTrancheStraightLine(t *testing.T) {
 // the cost of the tranches vested so far. Tranches of 2,000, 1,000, 500 and
 // 500 shares at 10, vesting 2030-01-01 .. 2033-01-01; total 40,000.
 func TestStraightLineFloorBites(t *testing.T) {
-	a := testAward("F", Option, "2029-01-01",
+	a := testAward("F", grants.Option, "2029-01-01",
 		[]string{"2030-01-01", "2031-01-01", "2032-01-01", "2033-01-01"},
 		[]int64{2000, 1000, 500, 500}, []float64{10, 10, 10, 10})
-	pol := ExpensePolicy{Attribution: StraightLine, Forfeitures: AsOccur}
+	pol := Policy{Attribution: grants.StraightLine, Forfeitures: grants.AsOccur}
 	cases := []struct {
 		start, end string
 		want       float64
@@ -187,11 +188,11 @@ func TestStraightLineFloorBites(t *testing.T) {
 		{"2032-12-31", "2032-12-31", 40000 - 40000.0*1460/1461},
 	}
 	for _, c := range cases {
-		r := mustExpense(t, []AwardCost{a}, pol, c.start, c.end)
+		r := mustExpense(t, []Award{a}, pol, c.start, c.end)
 		nearly(t, "floor "+c.start+".."+c.end, r.Period, c.want, tolMoney)
 	}
 	// Graded on the same award for contrast: the floor never binds graded.
-	r := mustExpense(t, []AwardCost{a}, ExpensePolicy{Attribution: Graded, Forfeitures: AsOccur}, "2029-01-01", "2029-12-31")
+	r := mustExpense(t, []Award{a}, Policy{Attribution: grants.Graded, Forfeitures: grants.AsOccur}, "2029-01-01", "2029-12-31")
 	nearly(t, "graded 2029", r.Period, 20000+10000.0*365/730+5000.0*365/1095+5000.0*365/1461, tolMoney)
 }
 
@@ -203,20 +204,20 @@ func TestStraightLineFloorBites(t *testing.T) {
 // nobody left, so by 2029-12-31 the count has risen to the actual 1,000 and
 // the cumulative cost is 10,000; vesting on 2030-01-01 adds nothing.
 func TestEstimateTrueUpAtVesting(t *testing.T) {
-	a := testAward("T", Option, "2029-01-01", []string{"2030-01-01"}, []int64{1000}, []float64{10})
-	pol := ExpensePolicy{Attribution: Graded, Forfeitures: Estimate, PreVestingForfeitureRate: 0.10}
-	r := mustExpense(t, []AwardCost{a}, pol, "2029-01-01", "2029-09-30")
+	a := testAward("T", grants.Option, "2029-01-01", []string{"2030-01-01"}, []int64{1000}, []float64{10})
+	pol := Policy{Attribution: grants.Graded, Forfeitures: grants.Estimate, PreVestingForfeitureRate: 0.10}
+	r := mustExpense(t, []Award{a}, pol, "2029-01-01", "2029-09-30")
 	nearly(t, "cumulative to 2029-09-30", r.Cumulative, 10000*math.Pow(0.9, 92.0/365)*273/365, tolMoney)
 	nearly(t, "unrecognised at 2029-09-30 (net of expected forfeitures)", r.Unrecognized, 10000*math.Pow(0.9, 92.0/365)*92/365, tolMoney)
-	r = mustExpense(t, []AwardCost{a}, pol, "2029-10-01", "2029-12-31")
+	r = mustExpense(t, []Award{a}, pol, "2029-10-01", "2029-12-31")
 	nearly(t, "Q4 2029", r.Period, 10000-10000*math.Pow(0.9, 92.0/365)*273/365, tolMoney)
 	nearly(t, "cumulative 2029", r.Cumulative, 10000, tolMoney)
 	nearly(t, "unrecognised 2029", r.Unrecognized, 0, tolMoney)
-	r = mustExpense(t, []AwardCost{a}, pol, "2030-01-01", "2030-03-31")
+	r = mustExpense(t, []Award{a}, pol, "2030-01-01", "2030-03-31")
 	nearly(t, "Q1 2030 at vesting", r.Period, 0, tolMoney)
 	// The forecast made at 2029-09-30 books the rest at the expected share
 	// (forfeitures at the rate): 10,000 × 0.9^(92/365) × 92/365 in Q4.
-	r = mustExpense(t, []AwardCost{a}, pol, "2029-07-01", "2029-09-30")
+	r = mustExpense(t, []Award{a}, pol, "2029-07-01", "2029-09-30")
 	nearly(t, "forecast Q4 2029", r.Forecast[0].Amount, 10000*math.Pow(0.9, 92.0/365)*92/365, tolMoney)
 }
 
@@ -226,16 +227,16 @@ func TestEstimateTrueUpAtVesting(t *testing.T) {
 // forfeited and their cost reversed; tranche 1 vested on 2030-01-01 stays.
 // Cumulative through 2030-03-31 is 455 service days.
 func TestTermination(t *testing.T) {
-	a := testAward("X", Option, "2029-01-01",
+	a := testAward("X", grants.Option, "2029-01-01",
 		[]string{"2030-01-01", "2031-01-01", "2032-01-01", "2033-01-01"},
 		[]int64{1000, 1000, 1000, 1000}, []float64{10, 10, 10, 10})
-	a.Events = []Event{{GrantID: "X", Date: ymd("2030-06-30"), Kind: Forfeited, Shares: 3000, Row: 2}}
+	a.Events = []grants.Event{{GrantID: "X", Date: ymd("2030-06-30"), Kind: grants.Forfeited, Shares: 3000, Row: 2}}
 
 	// As-occur: through 2030-03-31 10000 + 10000·455/730 + 10000·455/1095 + 10000·455/1461
 	// = 23,502.43; through 2030-06-30 only tranche 1's 10,000 remains.
-	asOccur := ExpensePolicy{Attribution: Graded, Forfeitures: AsOccur}
+	asOccur := Policy{Attribution: grants.Graded, Forfeitures: grants.AsOccur}
 	before := 10000 + 10000.0*455/730 + 10000.0*455/1095 + 10000.0*455/1461
-	r := mustExpense(t, []AwardCost{a}, asOccur, "2030-04-01", "2030-06-30")
+	r := mustExpense(t, []Award{a}, asOccur, "2030-04-01", "2030-06-30")
 	nearly(t, "as-occur Q2 2030", r.Period, 10000-before, tolMoney)
 	nearly(t, "as-occur cumulative", r.Cumulative, 10000, tolMoney)
 	nearly(t, "as-occur unrecognised", r.Unrecognized, 0, tolMoney)
@@ -243,20 +244,20 @@ func TestTermination(t *testing.T) {
 	// Estimate at 10%: through 2030-03-31 the unvested tranches count at
 	// 0.9^(service days still to come / 365): 730−455, 1095−455 and 1461−455
 	// days; tranche 1 is vested at its 10,000.
-	est := ExpensePolicy{Attribution: Graded, Forfeitures: Estimate, PreVestingForfeitureRate: 0.10}
+	est := Policy{Attribution: grants.Graded, Forfeitures: grants.Estimate, PreVestingForfeitureRate: 0.10}
 	beforeEst := 10000 + 10000*math.Pow(0.9, 275.0/365)*455/730 + 10000*math.Pow(0.9, 640.0/365)*455/1095 + 10000*math.Pow(0.9, 1006.0/365)*455/1461
-	r = mustExpense(t, []AwardCost{a}, est, "2030-04-01", "2030-06-30")
+	r = mustExpense(t, []Award{a}, est, "2030-04-01", "2030-06-30")
 	nearly(t, "estimate Q2 2030", r.Period, 10000-beforeEst, tolMoney)
 	nearly(t, "estimate cumulative", r.Cumulative, 10000, tolMoney)
 
 	// The day before, nothing is reversed yet.
-	r = mustExpense(t, []AwardCost{a}, asOccur, "2030-04-01", "2030-06-29")
+	r = mustExpense(t, []Award{a}, asOccur, "2030-04-01", "2030-06-29")
 	nearly(t, "as-occur through 06-29", r.Cumulative, 10000+10000.0*545/730+10000.0*545/1095+10000.0*545/1461, tolMoney)
 
 	// Straight-line: through 2030-03-31 max(40000·455/1461, 10000) = 12,457.22;
 	// after the termination the floor leaves exactly the vested 10,000.
-	sl := ExpensePolicy{Attribution: StraightLine, Forfeitures: AsOccur}
-	r = mustExpense(t, []AwardCost{a}, sl, "2030-04-01", "2030-06-30")
+	sl := Policy{Attribution: grants.StraightLine, Forfeitures: grants.AsOccur}
+	r = mustExpense(t, []Award{a}, sl, "2030-04-01", "2030-06-30")
 	nearly(t, "straight-line Q2 2030", r.Period, 10000-40000.0*455/1461, tolMoney)
 }
 
@@ -266,11 +267,11 @@ func TestTermination(t *testing.T) {
 // tranche 3 500; cumulative through 2030-06-30 (546 service days) is
 // 10000 + 10000·546/730 + 5000·546/1095 + 0.
 func TestPartialForfeitureLatestFirst(t *testing.T) {
-	a := testAward("P", Option, "2029-01-01",
+	a := testAward("P", grants.Option, "2029-01-01",
 		[]string{"2030-01-01", "2031-01-01", "2032-01-01", "2033-01-01"},
 		[]int64{1000, 1000, 1000, 1000}, []float64{10, 10, 10, 10})
-	a.Events = []Event{{GrantID: "P", Date: ymd("2030-06-30"), Kind: Forfeited, Shares: 1500}}
-	r := mustExpense(t, []AwardCost{a}, ExpensePolicy{Forfeitures: AsOccur}, "2030-04-01", "2030-06-30")
+	a.Events = []grants.Event{{GrantID: "P", Date: ymd("2030-06-30"), Kind: grants.Forfeited, Shares: 1500}}
+	r := mustExpense(t, []Award{a}, Policy{Forfeitures: grants.AsOccur}, "2030-04-01", "2030-06-30")
 	nearly(t, "cumulative", r.Cumulative, 10000+10000.0*546/730+5000.0*546/1095, tolMoney)
 	if got := r.Grants[0].Tranches[3].SharesCounted; got != 0 {
 		t.Errorf("tranche 4 counts %v shares, want 0", got)
@@ -282,20 +283,20 @@ func TestPartialForfeitureLatestFirst(t *testing.T) {
 // The four-tranche award at 10 a share, 3,000 unvested shares cancelled on
 // 2030-06-30: cumulative jumps to the full 40,000.
 func TestCancellationAccelerates(t *testing.T) {
-	a := testAward("C", Option, "2029-01-01",
+	a := testAward("C", grants.Option, "2029-01-01",
 		[]string{"2030-01-01", "2031-01-01", "2032-01-01", "2033-01-01"},
 		[]int64{1000, 1000, 1000, 1000}, []float64{10, 10, 10, 10})
-	a.Events = []Event{{GrantID: "C", Date: ymd("2030-06-30"), Kind: Cancelled, Shares: 3000}}
+	a.Events = []grants.Event{{GrantID: "C", Date: ymd("2030-06-30"), Kind: grants.Cancelled, Shares: 3000}}
 	before := 10000 + 10000.0*455/730 + 10000.0*455/1095 + 10000.0*455/1461
-	for _, pol := range []ExpensePolicy{
-		{Attribution: Graded, Forfeitures: AsOccur},
-		{Attribution: StraightLine, Forfeitures: AsOccur},
-		{Attribution: Graded, Forfeitures: Estimate, PreVestingForfeitureRate: 0.1},
+	for _, pol := range []Policy{
+		{Attribution: grants.Graded, Forfeitures: grants.AsOccur},
+		{Attribution: grants.StraightLine, Forfeitures: grants.AsOccur},
+		{Attribution: grants.Graded, Forfeitures: grants.Estimate, PreVestingForfeitureRate: 0.1},
 	} {
-		r := mustExpense(t, []AwardCost{a}, pol, "2030-04-01", "2030-06-30")
+		r := mustExpense(t, []Award{a}, pol, "2030-04-01", "2030-06-30")
 		nearly(t, fmt.Sprintf("%v cumulative", pol), r.Cumulative, 40000, tolMoney)
 		nearly(t, fmt.Sprintf("%v unrecognised", pol), r.Unrecognized, 0, tolMoney)
-		if pol.Attribution == Graded && pol.Forfeitures == AsOccur {
+		if pol.Attribution == grants.Graded && pol.Forfeitures == grants.AsOccur {
 			nearly(t, "as-occur Q2 2030", r.Period, 40000-before, tolMoney)
 		}
 		for _, f := range r.Forecast {
@@ -310,17 +311,17 @@ func TestCancellationAccelerates(t *testing.T) {
 // warrants granted 2029-01-01, one-year cliff, grant-date value 5; remeasured
 // 6 on 2029-03-31 and 4.50 on 2029-06-30.
 func TestLiabilityWarrantRemeasured(t *testing.T) {
-	a := testAward("W", Warrant, "2029-01-01", []string{"2030-01-01"}, []int64{1000}, []float64{5})
-	a.Grant.Classification = Liability
+	a := testAward("W", grants.Warrant, "2029-01-01", []string{"2030-01-01"}, []int64{1000}, []float64{5})
+	a.Grant.Classification = grants.Liability
 	a.Remeasurements = []Remeasurement{
 		{Date: ymd("2029-03-31"), FairValue: []float64{6}},
 		{Date: ymd("2029-06-30"), FairValue: []float64{4.5}},
 	}
-	pol := ExpensePolicy{Attribution: Graded, Forfeitures: AsOccur}
+	pol := Policy{Attribution: grants.Graded, Forfeitures: grants.AsOccur}
 
 	// Q1: compensation 5000·90/365 = 1,232.88; liability 6000·90/365 =
 	// 1,479.45; change in fair value 1000·90/365 = 246.58.
-	r := mustExpense(t, []AwardCost{a}, pol, "2029-01-01", "2029-03-31")
+	r := mustExpense(t, []Award{a}, pol, "2029-01-01", "2029-03-31")
 	nearly(t, "Q1 compensation", r.Period, 5000.0*90/365, tolMoney)
 	nearly(t, "Q1 fair-value change", r.FairValueChange, 1000.0*90/365, tolMoney)
 	nearly(t, "Q1 liability", r.Grants[0].LiabilityEnd, 6000.0*90/365, tolMoney)
@@ -328,7 +329,7 @@ func TestLiabilityWarrantRemeasured(t *testing.T) {
 	// Q2: compensation 5000·91/365 = 1,246.58; liability 4500·181/365 =
 	// 2,231.51; cumulative change (4500 − 5000)·181/365 = −247.95, so Q2's
 	// change is −247.95 − 246.58 = −494.52.
-	r = mustExpense(t, []AwardCost{a}, pol, "2029-04-01", "2029-06-30")
+	r = mustExpense(t, []Award{a}, pol, "2029-04-01", "2029-06-30")
 	nearly(t, "Q2 compensation", r.Period, 5000.0*91/365, tolMoney)
 	nearly(t, "Q2 fair-value change", r.FairValueChange, (-500.0*181-1000*90)/365, tolMoney)
 	g := r.Grants[0]
@@ -340,18 +341,22 @@ func TestLiabilityWarrantRemeasured(t *testing.T) {
 
 	// Journal: Dr compensation / Cr liability 1,246.58; the gain of 494.52
 	// is Dr liability / Cr change in fair value.
-	want := []JournalEntry{
-		{Lines: []JournalLine{{Account: AccountCompensation, Debit: 5000.0 * 91 / 365}, {Account: AccountLiability, Credit: 5000.0 * 91 / 365}}},
-		{Lines: []JournalLine{{Account: AccountLiability, Debit: (500.0*181 + 1000*90) / 365}, {Account: AccountFairValueDelta, Credit: (500.0*181 + 1000*90) / 365}}},
+	want := []Entry{
+		{Lines: []Line{{Role: RoleCompensation, Debit: 5000.0 * 91 / 365}, {Role: RoleLiability, Credit: 5000.0 * 91 / 365}}},
+		{Lines: []Line{{Role: RoleLiability, Debit: (500.0*181 + 1000*90) / 365}, {Role: RoleFairValueChange, Credit: (500.0*181 + 1000*90) / 365}}},
 	}
-	if len(r.Journal) != len(want) {
-		t.Fatalf("journal: got %+v, want %d entries", r.Journal, len(want))
+	journal := Journal(r, nil)
+	if len(journal) != len(want) {
+		t.Fatalf("journal: got %+v, want %d entries", journal, len(want))
 	}
 	for i := range want {
+		if b := journal[i].Balance(); b != 0 {
+			t.Errorf("journal %d: debits less credits %v, want 0", i, b)
+		}
 		for j, l := range want[i].Lines {
-			got := r.Journal[i].Lines[j]
-			if got.Account != l.Account {
-				t.Errorf("journal %d line %d: account %q, want %q", i, j, got.Account, l.Account)
+			got := journal[i].Lines[j]
+			if got.Role != l.Role || got.Account != DefaultAccounts[l.Role] {
+				t.Errorf("journal %d line %d: %s %q, want %s %q", i, j, got.Role, got.Account.Name, l.Role, DefaultAccounts[l.Role].Name)
 			}
 			nearly(t, "journal debit", got.Debit, l.Debit, tolMoney)
 			nearly(t, "journal credit", got.Credit, l.Credit, tolMoney)
@@ -361,8 +366,8 @@ func TestLiabilityWarrantRemeasured(t *testing.T) {
 	// Vested, then 400 exercised on 2030-03-31 at the 2030-03-31 value of
 	// 7: 2,800 is reclassified to equity; the liability left is 600 × 7.
 	a.Remeasurements = append(a.Remeasurements, Remeasurement{Date: ymd("2030-03-31"), FairValue: []float64{7}})
-	a.Events = []Event{{GrantID: "W", Date: ymd("2030-03-31"), Kind: Exercised, Shares: 400}}
-	r = mustExpense(t, []AwardCost{a}, pol, "2030-01-01", "2030-03-31")
+	a.Events = []grants.Event{{GrantID: "W", Date: ymd("2030-03-31"), Kind: grants.Exercised, Shares: 400}}
+	r = mustExpense(t, []Award{a}, pol, "2030-01-01", "2030-03-31")
 	g = r.Grants[0]
 	nearly(t, "reclassified", g.ReclassifiedEquity, 2800, tolMoney)
 	nearly(t, "liability after exercise", g.LiabilityEnd, 4200, tolMoney)
@@ -374,19 +379,19 @@ func TestLiabilityWarrantRemeasured(t *testing.T) {
 // (ServiceStart). A vest start after the grant date delays accrual; one
 // before it is caught up on the grant date.
 func TestServiceStart(t *testing.T) {
-	a := testAward("L", RSU, "2029-01-01", []string{"2030-04-01"}, []int64{365}, []float64{1})
+	a := testAward("L", grants.RSU, "2029-01-01", []string{"2030-04-01"}, []int64{365}, []float64{1})
 	a.Grant.VestStart = ymd("2029-04-01") // 365 service days to 2030-04-01
-	pol := ExpensePolicy{Forfeitures: AsOccur}
-	r := mustExpense(t, []AwardCost{a}, pol, "2029-01-01", "2029-03-31")
+	pol := Policy{Forfeitures: grants.AsOccur}
+	r := mustExpense(t, []Award{a}, pol, "2029-01-01", "2029-03-31")
 	nearly(t, "nothing before vest start", r.Period, 0, tolMoney)
-	r = mustExpense(t, []AwardCost{a}, pol, "2029-04-01", "2029-04-30")
+	r = mustExpense(t, []Award{a}, pol, "2029-04-01", "2029-04-30")
 	nearly(t, "30 days of 365", r.Period, 30, tolMoney)
 
 	// Vest start back-dated a year to 2028-01-01, four annual tranches:
 	// tranche 1 (vest 2029-01-01) is vested at grant and booked on the grant day.
-	b := testAward("B", Option, "2029-01-01", []string{"2029-01-01", "2030-01-01"}, []int64{100, 100}, []float64{2, 2})
+	b := testAward("B", grants.Option, "2029-01-01", []string{"2029-01-01", "2030-01-01"}, []int64{100, 100}, []float64{2, 2})
 	b.Grant.VestStart = ymd("2028-01-01")
-	r = mustExpense(t, []AwardCost{b}, pol, "2029-01-01", "2029-01-01")
+	r = mustExpense(t, []Award{b}, pol, "2029-01-01", "2029-01-01")
 	nearly(t, "catch-up on the grant day", r.Period, 200+200.0/365, tolMoney)
 }
 
@@ -395,19 +400,19 @@ func TestEventErrors(t *testing.T) {
 	base := fourTranche()
 	cases := []struct {
 		name string
-		ev   Event
+		ev   grants.Event
 	}{
-		{"exercise unvested", Event{Date: ymd("2029-06-30"), Kind: Exercised, Shares: 1, Row: 4}},
-		{"exercise more than vested", Event{Date: ymd("2030-06-30"), Kind: Exercised, Shares: 1001, Row: 5}},
-		{"forfeit more than outstanding", Event{Date: ymd("2030-06-30"), Kind: Forfeited, Shares: 4001, Row: 6}},
-		{"before grant", Event{Date: ymd("2028-12-31"), Kind: Forfeited, Shares: 1, Row: 7}},
-		{"zero shares", Event{Date: ymd("2029-12-31"), Kind: Cancelled, Shares: 0, Row: 8}},
-		{"unknown kind", Event{Date: ymd("2029-12-31"), Kind: "sold", Shares: 1, Row: 9}},
+		{"exercise unvested", grants.Event{Date: ymd("2029-06-30"), Kind: grants.Exercised, Shares: 1, Row: 4}},
+		{"exercise more than vested", grants.Event{Date: ymd("2030-06-30"), Kind: grants.Exercised, Shares: 1001, Row: 5}},
+		{"forfeit more than outstanding", grants.Event{Date: ymd("2030-06-30"), Kind: grants.Forfeited, Shares: 4001, Row: 6}},
+		{"before grant", grants.Event{Date: ymd("2028-12-31"), Kind: grants.Forfeited, Shares: 1, Row: 7}},
+		{"zero shares", grants.Event{Date: ymd("2029-12-31"), Kind: grants.Cancelled, Shares: 0, Row: 8}},
+		{"unknown kind", grants.Event{Date: ymd("2029-12-31"), Kind: "sold", Shares: 1, Row: 9}},
 	}
 	for _, c := range cases {
 		a := base
-		a.Events = []Event{c.ev}
-		_, err := Expense([]AwardCost{a}, ExpensePolicy{}, ymd("2030-10-01"), ymd("2030-12-31"))
+		a.Events = []grants.Event{c.ev}
+		_, err := Expense([]Award{a}, Policy{}, ymd("2030-10-01"), ymd("2030-12-31"))
 		var ee *EventError
 		if !errors.As(err, &ee) || !errors.Is(err, ErrEvent) || ee.Row != c.ev.Row {
 			t.Errorf("%s: got %v, want an EventError for row %d", c.name, err, c.ev.Row)
@@ -415,30 +420,30 @@ func TestEventErrors(t *testing.T) {
 	}
 	// Events after the period end are not applied yet.
 	a := base
-	a.Events = []Event{{Date: ymd("2031-06-30"), Kind: Exercised, Shares: 5000}}
-	if _, err := Expense([]AwardCost{a}, ExpensePolicy{}, ymd("2030-10-01"), ymd("2030-12-31")); err != nil {
+	a.Events = []grants.Event{{Date: ymd("2031-06-30"), Kind: grants.Exercised, Shares: 5000}}
+	if _, err := Expense([]Award{a}, Policy{}, ymd("2030-10-01"), ymd("2030-12-31")); err != nil {
 		t.Errorf("event after the period: %v", err)
 	}
-	if _, err := Expense([]AwardCost{base}, ExpensePolicy{Attribution: "front-loaded"}, ymd("2030-10-01"), ymd("2030-12-31")); err == nil {
+	if _, err := Expense([]Award{base}, Policy{Attribution: "front-loaded"}, ymd("2030-10-01"), ymd("2030-12-31")); err == nil {
 		t.Error("unknown attribution accepted")
 	}
-	if _, err := Expense([]AwardCost{base}, ExpensePolicy{PreVestingForfeitureRate: 1}, ymd("2030-10-01"), ymd("2030-12-31")); err == nil {
+	if _, err := Expense([]Award{base}, Policy{PreVestingForfeitureRate: 1}, ymd("2030-10-01"), ymd("2030-12-31")); err == nil {
 		t.Error("forfeiture rate 1 accepted")
 	}
 }
 
 // randomAward is a grant of 1-6 tranches at random vest dates with random
 // fair values, and at most one termination or cancellation and some exercises.
-func randomAward(rng *rand.Rand, id string) (a AwardCost, vestedCost float64) {
+func randomAward(rng *rand.Rand, id string) (a Award, vestedCost float64) {
 	grant := ymd("2027-01-01").AddDate(0, 0, rng.IntN(900))
 	n := 1 + rng.IntN(6)
-	a = AwardCost{Grant: Grant{ID: id, Instrument: []Instrument{Option, RSU, Warrant}[rng.IntN(3)], GrantDate: grant, VestStart: grant.AddDate(0, 0, rng.IntN(200)-100), ExpiryDate: grant.AddDate(10, 0, 0)}}
+	a = Award{Grant: grants.Grant{ID: id, Instrument: []grants.Instrument{grants.Option, grants.RSU, grants.Warrant}[rng.IntN(3)], GrantDate: grant, VestStart: grant.AddDate(0, 0, rng.IntN(200)-100), ExpiryDate: grant.AddDate(10, 0, 0)}}
 	v := grant
 	for i := 0; i < n; i++ {
 		v = v.AddDate(0, 0, rng.IntN(400))
 		sh := int64(1 + rng.IntN(5000))
 		a.Grant.Shares += sh
-		a.Tranches = append(a.Tranches, TrancheCost{Tranche: Tranche{GrantID: id, Index: i + 1, VestDate: v, Shares: sh}, FairValue: 20 * rng.Float64()})
+		a.Tranches = append(a.Tranches, TrancheCost{Tranche: grants.Tranche{GrantID: id, Index: i + 1, VestDate: v, Shares: sh}, FairValue: 20 * rng.Float64()})
 	}
 	end := ymd("2027-01-01").AddDate(0, 0, 2800)
 	switch rng.IntN(3) {
@@ -448,15 +453,15 @@ func randomAward(rng *rand.Rand, id string) (a AwardCost, vestedCost float64) {
 		}
 	case 1, 2: // a termination (or cancellation) of everything unvested on day e
 		e := grant.AddDate(0, 0, rng.IntN(int(end.Sub(grant).Hours()/24)))
-		kind := Forfeited
+		kind := grants.Forfeited
 		if rng.IntN(2) == 0 {
-			kind = Cancelled
+			kind = grants.Cancelled
 		}
 		var unvested, vested int64
 		for _, tc := range a.Tranches {
 			if tc.Tranche.VestDate.After(e) {
 				unvested += tc.Tranche.Shares
-				if kind == Cancelled {
+				if kind == grants.Cancelled {
 					vestedCost += tc.FairValue * float64(tc.Tranche.Shares)
 				}
 			} else {
@@ -466,10 +471,10 @@ func randomAward(rng *rand.Rand, id string) (a AwardCost, vestedCost float64) {
 		}
 		if vested > 0 {
 			x := int64(rng.IntN(int(vested)) + 1)
-			a.Events = append(a.Events, Event{GrantID: id, Date: e, Kind: Exercised, Shares: x})
+			a.Events = append(a.Events, grants.Event{GrantID: id, Date: e, Kind: grants.Exercised, Shares: x})
 		}
 		if unvested > 0 {
-			a.Events = append(a.Events, Event{GrantID: id, Date: e, Kind: kind, Shares: unvested})
+			a.Events = append(a.Events, grants.Event{GrantID: id, Date: e, Kind: kind, Shares: unvested})
 		}
 	}
 	return a, vestedCost
@@ -482,17 +487,17 @@ func randomAward(rng *rand.Rand, id string) (a AwardCost, vestedCost float64) {
 // the cumulative; forecast and what follows it add up to the unrecognised cost.
 func TestLifetimeExpenseEqualsVestedCost(t *testing.T) {
 	rng := rand.New(rand.NewPCG(6, 718))
-	pols := []ExpensePolicy{
-		{Attribution: Graded, Forfeitures: AsOccur},
-		{Attribution: StraightLine, Forfeitures: AsOccur},
-		{Attribution: Graded, Forfeitures: Estimate, PreVestingForfeitureRate: 0.15},
-		{Attribution: StraightLine, Forfeitures: Estimate, PreVestingForfeitureRate: 0.15},
+	pols := []Policy{
+		{Attribution: grants.Graded, Forfeitures: grants.AsOccur},
+		{Attribution: grants.StraightLine, Forfeitures: grants.AsOccur},
+		{Attribution: grants.Graded, Forfeitures: grants.Estimate, PreVestingForfeitureRate: 0.15},
+		{Attribution: grants.StraightLine, Forfeitures: grants.Estimate, PreVestingForfeitureRate: 0.15},
 	}
 	for k := 0; k < 200; k++ {
 		a, want := randomAward(rng, fmt.Sprintf("R%d", k))
 		tol := 1e-9 * math.Max(1, want)
 		for _, pol := range pols {
-			r, err := Expense([]AwardCost{a}, pol, ymd("2034-10-01"), ymd("2034-12-31"))
+			r, err := Expense([]Award{a}, pol, ymd("2034-10-01"), ymd("2034-12-31"))
 			if err != nil {
 				t.Fatalf("award %+v: %v", a, err)
 			}
@@ -507,7 +512,7 @@ func TestLifetimeExpenseEqualsVestedCost(t *testing.T) {
 				t.Errorf("%v award %s: periods add to %.6f, cumulative %.6f", pol, a.Grant.ID, sum, r.Cumulative)
 			}
 			// Mid-life: forecast + after = unrecognised.
-			mid, err := Expense([]AwardCost{a}, pol, ymd("2028-07-01"), ymd("2028-09-30"))
+			mid, err := Expense([]Award{a}, pol, ymd("2028-07-01"), ymd("2028-09-30"))
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -532,8 +537,8 @@ func TestCumulativeNonDecreasingWithoutEvents(t *testing.T) {
 	for k := 0; k < 50; k++ {
 		a, _ := randomAward(rng, "M")
 		a.Events = nil
-		for _, pol := range []ExpensePolicy{{Attribution: StraightLine, Forfeitures: Estimate, PreVestingForfeitureRate: 0.2}, {Attribution: Graded}} {
-			r := mustExpense(t, []AwardCost{a}, pol, "2034-10-01", "2034-12-31")
+		for _, pol := range []Policy{{Attribution: grants.StraightLine, Forfeitures: grants.Estimate, PreVestingForfeitureRate: 0.2}, {Attribution: grants.Graded}} {
+			r := mustExpense(t, []Award{a}, pol, "2034-10-01", "2034-12-31")
 			for _, p := range r.Periods {
 				if p.Amount < -1e-9 {
 					t.Errorf("%v: quarter %s amount %.6f < 0", pol, p.Start.Format(time.DateOnly), p.Amount)
@@ -546,7 +551,7 @@ func TestCumulativeNonDecreasingWithoutEvents(t *testing.T) {
 // The forecast covers 16 calendar quarters after the valuation date, the
 // first partial when the valuation date is not a quarter end.
 func TestForecastQuarters(t *testing.T) {
-	r := mustExpense(t, []AwardCost{fourTranche()}, ExpensePolicy{}, "2029-08-01", "2029-11-15")
+	r := mustExpense(t, []Award{fourTranche()}, Policy{}, "2029-08-01", "2029-11-15")
 	if len(r.Forecast) != ForecastQuarters {
 		t.Fatalf("forecast has %d quarters", len(r.Forecast))
 	}
@@ -559,5 +564,45 @@ func TestForecastQuarters(t *testing.T) {
 	// Context: Q1, Q2 2029, then July 2029 (the period starts 1 August), then the current period.
 	if len(r.Periods) != 4 || !r.Periods[2].End.Equal(ymd("2029-07-31")) || !r.Periods[3].Current {
 		t.Errorf("periods %+v", r.Periods)
+	}
+}
+
+// Rule: one award's cost over periods of one's choosing (Spread), as
+// expected at grant. Worked by hand: two tranches of 100 shares at 10,
+// granted 2029-01-01, vesting 2030-01-01 (365 days) and 2031-01-01 (730
+// days). Graded (each tranche over its own service; IFRS 2.IG11, from
+// memory; ASC 718-10-35-8): 2029 = 1,000 + 500, 2030 = 500. Straight-line over the
+// award (ASC 718-10-35-8): 1,000 a year, the floor of vested cost never
+// binding. Under an estimate of 10% a year, each tranche's cost is scaled
+// by 0.9 to the years of its whole service: 1,000 × 0.9 + 1,000 × 0.81.
+func TestSpread(t *testing.T) {
+	a := testAward("D", grants.Option, "2029-01-01", []string{"2030-01-01", "2031-01-01"}, []int64{100, 100}, []float64{10, 10})
+	ends := []time.Time{ymd("2029-12-31"), ymd("2030-12-31"), ymd("2031-12-31")}
+	cases := []struct {
+		name    string
+		pol     Policy
+		amounts []float64
+		cost    float64
+	}{
+		{"graded", Policy{Attribution: grants.Graded, Forfeitures: grants.AsOccur}, []float64{1500, 500, 0}, 2000},
+		{"straight-line", Policy{Attribution: grants.StraightLine, Forfeitures: grants.AsOccur}, []float64{1000, 1000, 0}, 2000},
+		{"graded estimate", Policy{Attribution: grants.Graded, Forfeitures: grants.Estimate, PreVestingForfeitureRate: 0.1},
+			[]float64{900 + 405, 405, 0}, 900 + 810},
+	}
+	for _, c := range cases {
+		got, cost, err := Spread(a, c.pol, ends)
+		if err != nil {
+			t.Fatalf("%s: %v", c.name, err)
+		}
+		var sum float64
+		for i := range got {
+			nearly(t, fmt.Sprintf("%s year %d", c.name, i+1), got[i], c.amounts[i], tolMoney)
+			sum += got[i]
+		}
+		nearly(t, c.name+" cost", cost, c.cost, tolMoney)
+		nearly(t, c.name+" years add up to the cost", sum, cost, tolMoney)
+	}
+	if _, _, err := Spread(a, Policy{}, []time.Time{ymd("2030-12-31"), ymd("2029-12-31")}); err == nil {
+		t.Error("Spread accepted period ends out of order")
 	}
 }

@@ -1,21 +1,11 @@
-package grants
-
-// Disclosure tables for the share-based payment note (ASC 718-10-50-2,
-// IFRS 2.44-52; from memory): roll-forwards of options, warrants and
-// nonvested RSUs with weighted averages, the outstanding, exercisable and
-// vested-and-expected-to-vest summary, and the period's grants.
-//
-// Counts are as of the end of a day, with the events of that day applied
-// and a tranche vested on and after its vest day (see the expense notes).
-// Options and warrants are rolled forward on the number outstanding; RSUs on
-// the number nonvested (granted, vested, forfeited), which is what their note
-// shows. Weighted averages are weighted by shares.
+package accounting
 
 import (
 	"fmt"
 	"math"
 	"time"
 
+	"grantworth/grants"
 	"grantworth/valuation"
 )
 
@@ -32,7 +22,7 @@ type RollLine struct {
 // Options and warrants leave Vested at zero; nonvested RSUs leave Exercised
 // and Expired at zero.
 type RollForward struct {
-	Instrument Instrument
+	Instrument grants.Instrument
 	Nonvested  bool // counts nonvested units (RSUs) rather than outstanding ones
 
 	Start     RollLine // outstanding (nonvested) at the end of the day before the period start
@@ -89,7 +79,7 @@ type GrantsInPeriod struct {
 type WarrantRow struct {
 	GrantID            string
 	Holder             string
-	Classification     Classification
+	Classification     grants.Classification
 	Shares             int64 // outstanding
 	Exercisable        int64
 	Strike             float64
@@ -149,7 +139,7 @@ type rollAccs struct {
 	start, granted, vested, exercised, forfeited, cancelled, expired, end rollAcc
 }
 
-func (r *rollAccs) result(inst Instrument, nonvested bool) RollForward {
+func (r *rollAccs) result(inst grants.Instrument, nonvested bool) RollForward {
 	return RollForward{Instrument: inst, Nonvested: nonvested,
 		Start: r.start.line(), Granted: r.granted.line(), Vested: r.vested.line(), Exercised: r.exercised.line(),
 		Forfeited: r.forfeited.line(), Cancelled: r.cancelled.line(), Expired: r.expired.line(), End: r.end.line()}
@@ -181,7 +171,7 @@ type grantAcc struct {
 	vol, rate, div, expect float64
 }
 
-func (a *grantAcc) add(aw *AwardCost) {
+func (a *grantAcc) add(aw *Award) {
 	var n int64
 	for _, tc := range aw.Tranches {
 		n += tc.Tranche.Shares
@@ -218,7 +208,7 @@ func (a *grantAcc) result() GrantsInPeriod {
 // days included) from the same awards and policy as Expense; sharePrice is
 // the share's fair value at period end. The policy's forfeiture estimate
 // gives the vested-and-expected-to-vest line.
-func Disclose(awards []AwardCost, policy ExpensePolicy, periodStart, periodEnd time.Time, sharePrice float64) (*Disclosure, error) {
+func Disclose(awards []Award, policy Policy, periodStart, periodEnd time.Time, sharePrice float64) (*Disclosure, error) {
 	p, err := openPeriod(awards, policy, periodStart, periodEnd)
 	if err != nil {
 		return nil, err
@@ -242,13 +232,13 @@ func (p *period) disclose(sharePrice float64) (*Disclosure, error) {
 		g := aw.Grant
 		inPeriod := valuation.Days(periodStart, g.GrantDate) >= 0
 		switch g.Instrument {
-		case RSU:
+		case grants.RSU:
 			if inPeriod {
 				rsuG.add(aw)
 			}
 			rollNonvested(l, &rsu, open, periodStart, periodEnd, inPeriod)
 			continue
-		case Warrant:
+		case grants.Warrant:
 			if inPeriod {
 				warG.add(aw)
 			}
@@ -265,9 +255,9 @@ func (p *period) disclose(sharePrice float64) (*Disclosure, error) {
 			summarise(l, &optOut, &optEx, &optExp, periodEnd, sharePrice)
 		}
 	}
-	d.Options = opt.result(Option, false)
-	d.RSUs = rsu.result(RSU, true)
-	d.Warrants = war.result(Warrant, false)
+	d.Options = opt.result(grants.Option, false)
+	d.RSUs = rsu.result(grants.RSU, true)
+	d.Warrants = war.result(grants.Warrant, false)
 	d.OptionsAtEnd = OutstandingSummary{Outstanding: optOut.line(), Exercisable: optEx.line(), VestedExpected: optExp.line()}
 	d.WarrantsAtEnd = OutstandingSummary{Outstanding: warOut.line(), Exercisable: warEx.line(), VestedExpected: warExp.line()}
 	d.OptionGrants, d.RSUGrants, d.WarrantGrants = optG.result(), rsuG.result(), warG.result()
@@ -291,13 +281,13 @@ func rollOutstanding(l *awardLedger, r *rollAccs, open, start, end time.Time, in
 			if dayOnOrBefore(m.date, end) {
 				atEnd -= m.shares
 				switch m.kind {
-				case Exercised:
+				case grants.Exercised:
 					r.exercised.add(m.shares, k, t.FairValue)
-				case Forfeited:
+				case grants.Forfeited:
 					r.forfeited.add(m.shares, k, t.FairValue)
-				case Cancelled:
+				case grants.Cancelled:
 					r.cancelled.add(m.shares, k, t.FairValue)
-				case Expired:
+				case grants.Expired:
 					r.expired.add(m.shares, k, t.FairValue)
 				}
 			}
@@ -340,9 +330,9 @@ func rollNonvested(l *awardLedger, r *rollAccs, open, start, end time.Time, inPe
 				continue
 			}
 			switch m.kind {
-			case Forfeited:
+			case grants.Forfeited:
 				r.forfeited.add(m.shares, 0, t.FairValue)
-			case Cancelled:
+			case grants.Cancelled:
 				r.cancelled.add(m.shares, 0, t.FairValue)
 			}
 		}
@@ -382,7 +372,7 @@ func warrantRow(l *awardLedger, end time.Time, price float64) (WarrantRow, bool)
 	g := l.in.Grant
 	row := WarrantRow{GrantID: g.ID, Holder: g.Holder, Classification: g.Classification, Strike: g.Strike, ExpiryDate: g.ExpiryDate}
 	if row.Classification == "" {
-		row.Classification = Equity
+		row.Classification = grants.Equity
 	}
 	if !g.ExpiryDate.IsZero() {
 		row.RemainingTermYears = math.Max(valuation.YearFrac(end, g.ExpiryDate), 0)

@@ -1,4 +1,4 @@
-package grants
+package pricing
 
 import (
 	"math"
@@ -8,12 +8,13 @@ import (
 	"testing"
 	"time"
 
+	"grantworth/grants"
 	"grantworth/valuation"
 )
 
 // The sample valued once for the tests of this file.
 var sampleValued = sync.OnceValues(func() (*Valuation, error) {
-	s, _, err := ReadFile(filepath.Join("..", "sample", "tarnwick.xlsx"))
+	s, _, err := grants.ReadFile(filepath.Join("..", "..", "sample", "tarnwick.xlsx"))
 	if err != nil {
 		return nil, err
 	}
@@ -21,7 +22,7 @@ var sampleValued = sync.OnceValues(func() (*Valuation, error) {
 	if len(errs) > 0 {
 		return nil, errs[0]
 	}
-	return s.Value(ins, ValueOptions{})
+	return Value(s, ins, Options{})
 })
 
 func valuedSample(t *testing.T) *Valuation {
@@ -50,7 +51,7 @@ func TestRemeasurementDates(t *testing.T) {
 	}
 	for _, c := range cases {
 		var got []string
-		for _, q := range RemeasurementDates(d(c.grant), d(c.end)) {
+		for _, q := range RemeasurementDates(day(c.grant), day(c.end)) {
 			got = append(got, q.Format(time.DateOnly))
 		}
 		if strings.Join(got, " ") != strings.Join(c.want, " ") {
@@ -95,27 +96,6 @@ func TestDedupJobs(t *testing.T) {
 	}
 }
 
-// A grant made after the valuation date is left out, with a warning that
-// names it; the others keep their order.
-func TestValueInputsLeavesOutLaterGrants(t *testing.T) {
-	s := smallSchedule()
-	late := s.Grants[0]
-	late.ID, late.GrantDate = "G-LATE", s.Company.ValuationDate.AddDate(0, 0, 1)
-	s.Grants = append(s.Grants, late)
-	ins, errs, skipped := s.ValueInputs()
-	if len(errs) > 0 {
-		t.Fatal(errs)
-	}
-	if len(ins) != len(s.Grants)-1 || len(skipped) != 1 || !strings.Contains(skipped[0], "grant G-LATE") {
-		t.Fatalf("%d inputs of %d grants, skipped %q", len(ins), len(s.Grants), skipped)
-	}
-	for i, in := range ins {
-		if in.Grant.ID != s.Grants[i].ID {
-			t.Errorf("input %d is grant %s, want %s", i, in.Grant.ID, s.Grants[i].ID)
-		}
-	}
-}
-
 // Value on the sample: a result per tranche, totals that add up, and the
 // extra runs move the way option values must.
 func TestValueSample(t *testing.T) {
@@ -131,7 +111,7 @@ func TestValueSample(t *testing.T) {
 				t.Errorf("grant %s tranche %d: value %g outside (0, spot %g]", g.ID, k+1, r.Value, gv.Inputs.Market.Spot)
 			}
 		}
-		if (g.Instrument == Warrant) != (gv.Dilution != nil) {
+		if (g.Instrument == grants.Warrant) != (gv.Dilution != nil) {
 			t.Errorf("grant %s (%s): dilution %+v", g.ID, g.Instrument, gv.Dilution)
 		}
 		sum += gv.FairValueTotal()
@@ -142,7 +122,7 @@ func TestValueSample(t *testing.T) {
 	if v.SensitivitySample != len(v.Grants) {
 		t.Errorf("sensitivity sample %d of %d grants; a small ledger is revalued whole", v.SensitivitySample, len(v.Grants))
 	}
-	// Option value rises with volatility (positive vega: common practice).
+	// grants.Option value rises with volatility (positive vega: common practice).
 	for _, c := range v.Sensitivity {
 		if c.Input != "volatility" {
 			continue
@@ -184,12 +164,12 @@ func TestValueSample(t *testing.T) {
 				mc.GrantID, mc.TrancheIndex, mc.Seed, mc.Result.Value, mc.Result.ErrorEstimate, mc.Lattice, mc.LatticeError, mc.Z, MonteCarloZLimit)
 		}
 	}
-	// Each liability warrant is revalued at its grant date and the past
-	// quarter ends, and Revalued gives those back.
+	// Each liability warrant is revalued at its grant date and at the
+	// past quarter ends.
 	n := 0
 	for _, gv := range v.Grants {
 		g := gv.Inputs.Grant
-		if g.Instrument != Warrant || g.Classification != Liability {
+		if g.Instrument != grants.Warrant || g.Classification != grants.Liability {
 			continue
 		}
 		n++
@@ -197,17 +177,14 @@ func TestValueSample(t *testing.T) {
 		if len(rs) == 0 || !rs[0].Date.Equal(g.GrantDate) {
 			t.Fatalf("grant %s revaluations %+v", g.ID, rs)
 		}
-		for _, r := range rs {
-			if r.Err != nil || len(r.Values) != len(gv.Inputs.Tranches) {
+		want := append([]time.Time{g.GrantDate}, RemeasurementDates(g.GrantDate, day("2026-09-30"))...)
+		if len(rs) != len(want) {
+			t.Errorf("grant %s: %d revaluations, want %d", g.ID, len(rs), len(want))
+		}
+		for j, r := range rs {
+			if r.Err != nil || len(r.Values) != len(gv.Inputs.Tranches) || !r.Date.Equal(want[j]) {
 				t.Errorf("grant %s at %s: %v, %d values", g.ID, r.Date.Format(time.DateOnly), r.Err, len(r.Values))
 			}
-			got, err := v.Revalued(g, r.Date)
-			if err != nil || len(got) != len(r.Values) {
-				t.Errorf("Revalued(%s, %s) = %v, %v", g.ID, r.Date.Format(time.DateOnly), got, err)
-			}
-		}
-		if _, err := v.Revalued(g, g.GrantDate.AddDate(0, 0, 1)); err == nil {
-			t.Errorf("Revalued(%s) at a date not revalued gave no error", g.ID)
 		}
 	}
 	if n == 0 {
@@ -239,7 +216,7 @@ func TestMonteCarloSampleOfSample(t *testing.T) {
 		t.Logf("grant %s tranche %d (%s): lattice %.6f ± %.6f, Monte Carlo %.6f ± %.6f (seed %d), z %+.2f",
 			c.GrantID, c.TrancheIndex, c.Instrument, c.Lattice, c.LatticeError, c.Result.Value, c.Result.ErrorEstimate, c.Seed, c.Z)
 		gv := &v.Grants[i]
-		if inst := gv.Inputs.Grant.Instrument; inst == RSU || !simulable(mcTerms(gv, c.TrancheIndex-1)) {
+		if inst := gv.Inputs.Grant.Instrument; inst == grants.RSU || !simulable(mcTerms(gv, c.TrancheIndex-1)) {
 			t.Errorf("grant %s tranche %d (%s) cannot be simulated", c.GrantID, c.TrancheIndex, inst)
 		}
 		if seeds[c.Seed] {
@@ -277,11 +254,11 @@ func TestMonteCarloSampleOfSample(t *testing.T) {
 // months, then size; RSUs and rational warrants never; at most
 // MonteCarloSample picks; ledger order.
 func TestMonteCarloSampleSpread(t *testing.T) {
-	mk := func(inst Instrument, month int, fv float64, rational bool) GrantValue {
+	mk := func(inst grants.Instrument, month int, fv float64, rational bool) GrantValue {
 		return GrantValue{
-			Inputs: Inputs{
-				Grant:    Grant{Instrument: inst, GrantDate: time.Date(2024, time.Month(month), 15, 0, 0, 0, 0, time.UTC)},
-				Tranches: []Tranche{{Index: 1, Shares: 100}, {Index: 2, Shares: 100}},
+			Inputs: grants.Inputs{
+				Grant:    grants.Grant{Instrument: inst, GrantDate: time.Date(2024, time.Month(month), 15, 0, 0, 0, 0, time.UTC)},
+				Tranches: []grants.Tranche{{Index: 1, Shares: 100}, {Index: 2, Shares: 100}},
 				Terms:    []valuation.Terms{{YearsToExpiry: 10, YearsToVest: 1, Rational: rational}, {YearsToExpiry: 10, YearsToVest: 2, Rational: rational}},
 			},
 			Results: []valuation.Result{{Value: fv}, {Value: fv * 1.1}},
@@ -289,11 +266,11 @@ func TestMonteCarloSampleSpread(t *testing.T) {
 	}
 	var gs []GrantValue
 	for i := 0; i < 12; i++ { // options: two per month over six months, growing in size
-		gs = append(gs, mk(Option, 1+i/2, float64(10+i), false))
+		gs = append(gs, mk(grants.Option, 1+i/2, float64(10+i), false))
 	}
-	euro := mk(Warrant, 1, 0.5, false) // European: simulable
+	euro := mk(grants.Warrant, 1, 0.5, false) // European: simulable
 	euro.Inputs.Terms[0].European, euro.Inputs.Terms[1].European = true, true
-	gs = append(gs, mk(RSU, 7, 1000, false), mk(Warrant, 1, 1, true), euro)
+	gs = append(gs, mk(grants.RSU, 7, 1000, false), mk(grants.Warrant, 1, 1, true), euro)
 	picks, rational := monteCarloSample(gs)
 	if !rational {
 		t.Error("the rational warrant was not reported")
@@ -324,4 +301,12 @@ func TestMonteCarloWarning(t *testing.T) {
 	if w := mcWarning(c); w != "" {
 		t.Errorf("warning %q for |z| %v within %v", w, c.Z, MonteCarloZLimit)
 	}
+}
+
+func day(s string) time.Time {
+	t, err := time.Parse(time.DateOnly, s)
+	if err != nil {
+		panic(err)
+	}
+	return t
 }

@@ -1,15 +1,20 @@
-package grants
+package accounting
 
-import "testing"
+import (
+	"testing"
+
+	"grantworth/grants"
+	"grantworth/grants/grantstest"
+)
 
 // The attribution ledger takes forfeited and cancelled shares from the same
 // tranches as Schedule.Tranches does, so the expense tables and the
 // valuation's tranche counts agree (our own rule, stated in both places).
 func TestLedgerMatchesScheduleTranches(t *testing.T) {
-	s := smallSchedule()
+	s := grantstest.Fernhollow()
 	s.Events = append(s.Events,
-		Event{GrantID: "G-003", Date: ymd("2026-07-15"), Kind: Cancelled, Shares: 400},
-		Event{GrantID: "G-001", Date: ymd("2026-08-01"), Kind: Forfeited, Shares: 100},
+		grants.Event{GrantID: "G-003", Date: ymd("2026-07-15"), Kind: grants.Cancelled, Shares: 400},
+		grants.Event{GrantID: "G-001", Date: ymd("2026-08-01"), Kind: grants.Forfeited, Shares: 100},
 	)
 	for _, g := range s.Grants {
 		ts := s.Tranches(g)
@@ -17,11 +22,11 @@ func TestLedgerMatchesScheduleTranches(t *testing.T) {
 		for i := range fv {
 			fv[i] = 1
 		}
-		a, err := s.AwardCost(g, fv)
+		a, err := AwardOf(s, g, fv)
 		if err != nil {
 			t.Fatal(err)
 		}
-		l, err := newAwardLedger(&a, ExpensePolicy{}, ymd("2099-12-31"))
+		l, err := newAwardLedger(&a, Policy{}, ymd("2099-12-31"))
 		if err != nil {
 			t.Fatalf("grant %s: %v", g.ID, err)
 		}
@@ -33,20 +38,11 @@ func TestLedgerMatchesScheduleTranches(t *testing.T) {
 			}
 		}
 	}
-	if _, err := s.AwardCost(s.Grants[0], nil); err == nil {
-		t.Error("AwardCost accepted no fair values")
+	if _, err := AwardOf(s, s.Grants[0], nil); err == nil {
+		t.Error("Award accepted no fair values")
 	}
 	start, end := s.Period()
 	if !start.Equal(ymd("2026-07-01")) || !end.Equal(ymd("2026-09-30")) {
 		t.Errorf("period %v..%v", start, end)
-	}
-}
-
-// The period defaults to the valuation date's calendar quarter (DESIGN §4.2).
-func TestSchedulePeriodDefault(t *testing.T) {
-	s := &Schedule{Company: Company{ValuationDate: ymd("2026-11-20")}}
-	start, end := s.Period()
-	if !start.Equal(ymd("2026-10-01")) || !end.Equal(ymd("2026-11-20")) {
-		t.Errorf("period %v..%v, want 2026-10-01..2026-11-20", start, end)
 	}
 }

@@ -1,4 +1,4 @@
-package grants
+package pricing
 
 import (
 	"fmt"
@@ -9,12 +9,9 @@ import (
 	"sync"
 	"time"
 
+	"grantworth/grants"
 	"grantworth/valuation"
 )
-
-// The valuing half of the value command: from a validated schedule's
-// inputs to every number the reports show. Value values; it neither
-// prints nor lays anything out (package report does that).
 
 // Sizes of the extra runs. The sensitivity runs revalue every grant when
 // the ledger is small, else an evenly spaced sample of SensitivitySample
@@ -38,8 +35,8 @@ const (
 // √2 apart, so that the oscillation between them shows.
 var ConvergenceSteps = []int{25, 35, 50, 71, 100, 141, 200, 283, 400, 566, 800, 1131, 1600, 2263, 3200, 4525}
 
-// ValueOptions are the choices of one valuation run.
-type ValueOptions struct {
+// Options are the choices of one valuation run.
+type Options struct {
 	// Lattice is passed to every lattice valuation of the base and
 	// sensitivity runs (Steps 0 is the automatic, converged mode).
 	Lattice valuation.LatticeOptions
@@ -51,7 +48,7 @@ type ValueOptions struct {
 
 // GrantValue is one grant's inputs and the value of each of its tranches.
 type GrantValue struct {
-	Inputs  Inputs
+	Inputs  grants.Inputs
 	Results []valuation.Result // per tranche, in Inputs.Tranches order
 	// BSM is the closed-form comparison per tranche: Black-Scholes-Merton
 	// on the simplified-method term for options, over the contractual term
@@ -63,6 +60,11 @@ type GrantValue struct {
 	// UndilutedValue is, for a diluted warrant, its first tranche on the
 	// automatic lattice without dilution (0 if that failed).
 	UndilutedValue float64
+	// RiskFreeRate is, per tranche, the continuous zero rate of the
+	// grant's curve at the tranche's years to expiry, and SimplifiedRate
+	// at the term of its closed-form comparison (BSM's ExpectedTermYears);
+	// both 0 without a curve.
+	RiskFreeRate, SimplifiedRate []float64
 }
 
 // FairValueTotal is the sum over the tranches of value times shares.
@@ -109,7 +111,7 @@ type ConvergencePoint struct {
 type MonteCarloCheck struct {
 	GrantID      string
 	TrancheIndex int
-	Instrument   Instrument
+	Instrument   grants.Instrument
 	Lattice      float64 // the automatic lattice value
 	LatticeError float64 // its error estimate
 	Result       valuation.Result
@@ -129,7 +131,7 @@ type Revaluation struct {
 
 // Valuation is everything Value found.
 type Valuation struct {
-	Options ValueOptions
+	Options Options
 	Grants  []GrantValue
 	// FairValueTotal sums the grants' totals in order.
 	FairValueTotal float64
@@ -153,17 +155,6 @@ type Valuation struct {
 	Warnings     []string
 }
 
-// Revalued returns the stored revaluation of grant g at date at, in the
-// shape of report.Revalue.
-func (v *Valuation) Revalued(g Grant, at time.Time) ([]float64, error) {
-	for _, r := range v.Revaluations[g.ID] {
-		if r.Date.Equal(at) {
-			return r.Values, r.Err
-		}
-	}
-	return nil, fmt.Errorf("grant %s was not revalued at %s", g.ID, at.Format(time.DateOnly))
-}
-
 // RemeasurementDates are the quarter ends from the one containing
 // grantDate up to before end, the most recent MaxRemeasurements of them.
 func RemeasurementDates(grantDate, end time.Time) []time.Time {
@@ -182,33 +173,6 @@ func quarterEndOf(d time.Time) time.Time {
 	return time.Date(d.Year(), time.Month(m), 1, 0, 0, 0, 0, time.UTC).AddDate(0, 3, -1)
 }
 
-// ValueInputs collects the inputs of every grant made on or before the
-// valuation date (a later grant is not outstanding at the period end and
-// is left out, with a warning in skipped), or every error found.
-func (s *Schedule) ValueInputs() (ins []Inputs, errs []error, skipped []string) {
-	for _, g := range s.Grants {
-		if valuation.Days(s.Company.ValuationDate, g.GrantDate) > 0 {
-			skipped = append(skipped, fmt.Sprintf("grant %s, dated %s after the valuation date %s, is left out of this valuation",
-				g.ID, dateText(g.GrantDate), dateText(s.Company.ValuationDate)))
-			continue
-		}
-		in, err := s.Inputs(g)
-		if err != nil {
-			errs = append(errs, err)
-			continue
-		}
-		ins = append(ins, in)
-	}
-	return ins, errs, skipped
-}
-
-func dateText(t time.Time) string {
-	if t.IsZero() {
-		return ""
-	}
-	return t.Format("2006-01-02")
-}
-
 // Value values the grants ins (from ValueInputs): options as lattice jobs
 // on all cores, warrants on the lattice with dilution, RSUs in closed
 // form, the closed-form comparison per tranche; then the sensitivity
@@ -216,7 +180,7 @@ func dateText(t time.Time) string {
 // Carlo check of a small sample of tranches, and the revaluations of liability-classified warrants that
 // expense attribution needs. The result depends only on the schedule and
 // opts, never on the number of cores.
-func (s *Schedule) Value(ins []Inputs, opts ValueOptions) (*Valuation, error) {
+func Value(s *grants.Schedule, ins []grants.Inputs, opts Options) (*Valuation, error) {
 	p := &pricer{s: s, opts: opts.Lattice}
 	v := &Valuation{Options: opts, Grants: make([]GrantValue, len(ins))}
 	for i := range ins {
@@ -236,7 +200,7 @@ func (s *Schedule) Value(ins []Inputs, opts ValueOptions) (*Valuation, error) {
 	}
 	if s.Company.SharesOutstanding <= 0 {
 		for _, gv := range v.Grants {
-			if gv.Inputs.Grant.Instrument == Warrant {
+			if gv.Inputs.Grant.Instrument == grants.Warrant {
 				v.Warnings = append(v.Warnings, "Company!shares_outstanding is not given, so warrants are valued without dilution")
 				break
 			}
@@ -255,7 +219,7 @@ func (s *Schedule) Value(ins []Inputs, opts ValueOptions) (*Valuation, error) {
 	_, end := s.Period()
 	for _, gv := range v.Grants {
 		g := gv.Inputs.Grant
-		if g.Instrument != Warrant || g.Classification != Liability {
+		if g.Instrument != grants.Warrant || g.Classification != grants.Liability {
 			continue
 		}
 		var rs []Revaluation
@@ -273,7 +237,7 @@ func (s *Schedule) Value(ins []Inputs, opts ValueOptions) (*Valuation, error) {
 
 // pricer holds a run's schedule and lattice settings.
 type pricer struct {
-	s    *Schedule
+	s    *grants.Schedule
 	opts valuation.LatticeOptions
 }
 
@@ -282,24 +246,39 @@ type pricer struct {
 // at the valuation date, when the share price already reflects the
 // warrants (Galai-Schneller); an equity-classified one at issue, a new
 // issue (the plain factor).
-func (p *pricer) dilution(g Grant) *valuation.Dilution {
+func (p *pricer) dilution(g grants.Grant) *valuation.Dilution {
 	n := p.s.Company.SharesOutstanding
 	if n <= 0 {
 		return nil
 	}
-	return &valuation.Dilution{SharesOutstanding: n, Warrants: float64(g.Shares), PriceReflectsWarrants: g.Classification == Liability}
+	return &valuation.Dilution{SharesOutstanding: n, Warrants: float64(g.Shares), PriceReflectsWarrants: g.Classification == grants.Liability}
+}
+
+// warrant values one warrant tranche on terms t in market m: on the
+// lattice with dilution when the company's shares outstanding are known,
+// else undiluted; exercised rationally unless European.
+func (p *pricer) warrant(g grants.Grant, t valuation.Terms, m valuation.Market) (valuation.Result, error) {
+	if d := p.dilution(g); d != nil {
+		return valuation.WarrantValue(t, m, *d, p.opts)
+	}
+	return valuation.Lattice(rational(t), m, p.opts)
+}
+
+// rational is warrant terms t exercised rationally after vesting unless
+// they are European (exercise at expiry only).
+func rational(t valuation.Terms) valuation.Terms {
+	t.Rational = t.Rational || !t.European
+	return t
 }
 
 // compare fills a valued grant's closed-form comparison, dilution and
 // undiluted value.
 func (p *pricer) compare(gv *GrantValue) error {
 	in, g := gv.Inputs, gv.Inputs.Grant
-	if g.Instrument == Warrant {
+	if g.Instrument == grants.Warrant {
 		gv.Dilution = p.dilution(g)
 		if gv.Dilution != nil && len(in.Terms) > 0 {
-			t := in.Terms[0]
-			t.Rational = t.Rational || !t.European
-			if r, err := valuation.Lattice(t, in.Market, valuation.LatticeOptions{}); err == nil {
+			if r, err := valuation.Lattice(rational(in.Terms[0]), in.Market, valuation.LatticeOptions{}); err == nil {
 				gv.UndilutedValue = r.Value
 			}
 		}
@@ -308,10 +287,10 @@ func (p *pricer) compare(gv *GrantValue) error {
 	for k, t := range in.Terms {
 		var err error
 		switch g.Instrument {
-		case RSU:
+		case grants.RSU:
 			gv.BSM[k] = valuation.RSUValue(in.Market, t.YearsToVest)
 			continue
-		case Warrant:
+		case grants.Warrant:
 			// The simplified method is for employee options: a warrant
 			// is compared with BSM over its term, before dilution.
 			if gv.BSM[k], err = valuation.BlackScholes(t, in.Market); err != nil {
@@ -321,6 +300,14 @@ func (p *pricer) compare(gv *GrantValue) error {
 		}
 		if gv.BSM[k], err = valuation.SimplifiedBSM(t, in.Market); err != nil {
 			return fmt.Errorf("grant %s tranche %d: simplified BSM: %w", g.ID, k+1, err)
+		}
+	}
+	gv.RiskFreeRate = make([]float64, len(in.Terms))
+	gv.SimplifiedRate = make([]float64, len(in.Terms))
+	if c := in.Market.Curve; c != nil {
+		for k, t := range in.Terms {
+			gv.RiskFreeRate[k] = c.Zero(t.YearsToExpiry)
+			gv.SimplifiedRate[k] = c.Zero(gv.BSM[k].ExpectedTermYears)
 		}
 	}
 	return nil
@@ -335,7 +322,7 @@ type shift struct {
 
 // shiftCase is the shifted copy of a grant's terms and market for one
 // case. curves caches the shifted copy of each curve.
-func shiftCase(in Inputs, sh shift, curves map[*valuation.Curve]*valuation.Curve) ([]valuation.Terms, valuation.Market, error) {
+func shiftCase(in grants.Inputs, sh shift, curves map[*valuation.Curve]*valuation.Curve) ([]valuation.Terms, valuation.Market, error) {
 	terms := append([]valuation.Terms(nil), in.Terms...)
 	m := in.Market
 	switch sh.name {
@@ -357,7 +344,7 @@ func shiftCase(in Inputs, sh shift, curves map[*valuation.Curve]*valuation.Curve
 		}
 		m.Curve = c
 	case "exercise_multiple":
-		if in.Grant.Instrument == Option {
+		if in.Grant.Instrument == grants.Option {
 			for i := range terms {
 				if terms[i].ExerciseMultiple > 0 {
 					terms[i].ExerciseMultiple = math.Max(1.05, terms[i].ExerciseMultiple+sh.d)
@@ -365,7 +352,7 @@ func shiftCase(in Inputs, sh shift, curves map[*valuation.Curve]*valuation.Curve
 			}
 		}
 	case "post_vesting_exit_rate":
-		if in.Grant.Instrument == Option {
+		if in.Grant.Instrument == grants.Option {
 			for i := range terms {
 				terms[i].ExitRate = math.Min(0.95, math.Max(0, terms[i].ExitRate+sh.d))
 			}
@@ -390,24 +377,17 @@ func (p *pricer) valueSet(gs []GrantValue, sh shift, progress func(done, total i
 		}
 		g := in.Grant
 		switch g.Instrument {
-		case RSU:
+		case grants.RSU:
 			rs := make([]valuation.Result, len(in.Terms))
 			for k, t := range in.Terms {
 				rs[k] = valuation.RSUValue(m, t.YearsToVest)
 			}
 			out[i] = rs
-		case Warrant:
+		case grants.Warrant:
 			rs := make([]valuation.Result, len(terms))
 			for k, t := range terms {
 				var err error
-				if d := p.dilution(g); d != nil {
-					rs[k], err = valuation.WarrantValue(t, m, *d, p.opts)
-				} else {
-					tt := t
-					tt.Rational = tt.Rational || !tt.European
-					rs[k], err = valuation.Lattice(tt, m, p.opts)
-				}
-				if err != nil {
+				if rs[k], err = p.warrant(g, t, m); err != nil {
 					return nil, fmt.Errorf("grant %s tranche %d: %w", g.ID, k+1, err)
 				}
 			}
@@ -572,7 +552,7 @@ func representative(gs []GrantValue) (*GrantValue, int) {
 	for pass := 0; pass < 2 && best == nil; pass++ {
 		for i := range gs {
 			gv := &gs[i]
-			if gv.Inputs.Grant.Instrument == RSU || (pass == 0 && gv.Inputs.Grant.Instrument != Option) {
+			if gv.Inputs.Grant.Instrument == grants.RSU || (pass == 0 && gv.Inputs.Grant.Instrument != grants.Option) {
 				continue
 			}
 			for k, t := range gv.Inputs.Tranches {
@@ -615,8 +595,8 @@ func (p *pricer) convergence(v *Valuation) error {
 // exercised rationally.
 func mcTerms(gv *GrantValue, k int) valuation.Terms {
 	t := gv.Inputs.Terms[k]
-	if gv.Inputs.Grant.Instrument == Warrant {
-		t.Rational = t.Rational || !t.European
+	if gv.Inputs.Grant.Instrument == grants.Warrant {
+		t = rational(t)
 	}
 	return t
 }
@@ -644,14 +624,14 @@ func monteCarloSample(gs []GrantValue) (picks []mcPick, rational bool) {
 	type cand struct {
 		mcPick
 		month int
-		inst  Instrument
+		inst  grants.Instrument
 		fv    float64
 	}
 	var cs []cand
 	for i := range gs {
 		gv := &gs[i]
 		g := gv.Inputs.Grant
-		if g.Instrument != Option && g.Instrument != Warrant {
+		if g.Instrument != grants.Option && g.Instrument != grants.Warrant {
 			continue
 		}
 		best, bv := -1, -1.0
@@ -668,7 +648,7 @@ func monteCarloSample(gs []GrantValue) (picks []mcPick, rational bool) {
 			cs = append(cs, cand{mcPick{i, best}, g.GrantDate.Year()*12 + int(g.GrantDate.Month()), g.Instrument, bv})
 		}
 	}
-	insts := map[Instrument]bool{}
+	insts := map[grants.Instrument]bool{}
 	months := map[int]bool{}
 	taken := make([]bool, len(cs))
 	for len(picks) < MonteCarloSample && len(picks) < len(cs) {
@@ -777,7 +757,7 @@ func mcWarning(c MonteCarloCheck) string {
 // revalue is a liability-classified warrant's value per tranche measured
 // at date at (its grant date, or a past quarter end): the schedule's
 // inputs as of that date, on the same lattice with the same dilution.
-func (p *pricer) revalue(g Grant, at time.Time) ([]float64, error) {
+func (p *pricer) revalue(g grants.Grant, at time.Time) ([]float64, error) {
 	s := *p.s
 	s.Company.ValuationDate = at
 	in, err := s.Inputs(g)
@@ -786,13 +766,7 @@ func (p *pricer) revalue(g Grant, at time.Time) ([]float64, error) {
 	}
 	out := make([]float64, len(in.Terms))
 	for k, t := range in.Terms {
-		var r valuation.Result
-		if d := p.dilution(g); d != nil {
-			r, err = valuation.WarrantValue(t, in.Market, *d, p.opts)
-		} else {
-			t.Rational = t.Rational || !t.European
-			r, err = valuation.Lattice(t, in.Market, p.opts)
-		}
+		r, err := p.warrant(g, t, in.Market)
 		if err != nil {
 			return nil, fmt.Errorf("tranche %d: %w", k+1, err)
 		}

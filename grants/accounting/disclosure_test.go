@@ -1,7 +1,8 @@
-package grants
+package accounting
 
 import (
 	"fmt"
+	"grantworth/grants"
 	"math"
 	"math/rand/v2"
 	"reflect"
@@ -11,44 +12,44 @@ import (
 
 // noteAwards is a hand-made ledger for the Q4 2030 note (period
 // 2030-10-01 .. 2030-12-31, share price 25 at period end).
-func noteAwards() []AwardCost {
-	g1 := testAward("G1", Option, "2029-01-01", []string{"2030-01-01", "2031-01-01", "2032-01-01", "2033-01-01"}, []int64{1000, 1000, 1000, 1000}, []float64{4, 4, 4, 4})
+func noteAwards() []Award {
+	g1 := testAward("G1", grants.Option, "2029-01-01", []string{"2030-01-01", "2031-01-01", "2032-01-01", "2033-01-01"}, []int64{1000, 1000, 1000, 1000}, []float64{4, 4, 4, 4})
 	g1.Grant.Strike = 10
 	g1.Grant.ExpiryDate = ymd("2039-01-01")
-	g1.Events = []Event{
-		{GrantID: "G1", Date: ymd("2030-05-01"), Kind: Exercised, Shares: 200}, // before the period
-		{GrantID: "G1", Date: ymd("2030-11-15"), Kind: Exercised, Shares: 500},
+	g1.Events = []grants.Event{
+		{GrantID: "G1", Date: ymd("2030-05-01"), Kind: grants.Exercised, Shares: 200}, // before the period
+		{GrantID: "G1", Date: ymd("2030-11-15"), Kind: grants.Exercised, Shares: 500},
 	}
-	g2 := testAward("G2", Option, "2029-06-01", []string{"2030-06-01", "2031-06-01"}, []int64{1000, 1000}, []float64{5, 5})
+	g2 := testAward("G2", grants.Option, "2029-06-01", []string{"2030-06-01", "2031-06-01"}, []int64{1000, 1000}, []float64{5, 5})
 	g2.Grant.Strike = 12
 	g2.Grant.ExpiryDate = ymd("2039-06-01")
-	g2.Events = []Event{
-		{GrantID: "G2", Date: ymd("2030-12-01"), Kind: Forfeited, Shares: 1000}, // termination: tranche 2
-		{GrantID: "G2", Date: ymd("2030-12-20"), Kind: Expired, Shares: 400},
+	g2.Events = []grants.Event{
+		{GrantID: "G2", Date: ymd("2030-12-01"), Kind: grants.Forfeited, Shares: 1000}, // termination: tranche 2
+		{GrantID: "G2", Date: ymd("2030-12-20"), Kind: grants.Expired, Shares: 400},
 	}
-	g3 := testAward("G3", Option, "2030-11-01", []string{"2031-11-01"}, []int64{1200}, []float64{8})
+	g3 := testAward("G3", grants.Option, "2030-11-01", []string{"2031-11-01"}, []int64{1200}, []float64{8})
 	g3.Grant.Strike = 20
 	g3.Grant.ExpiryDate = ymd("2040-11-01")
 	g3.Measured = &MeasuredAssumptions{Volatility: 0.5, RiskFreeRate: 0.04, DividendYield: 0, ExpectedTermYears: 6}
-	g4 := testAward("G4", Option, "2020-01-01", []string{"2021-01-01"}, []int64{300}, []float64{1.5})
+	g4 := testAward("G4", grants.Option, "2020-01-01", []string{"2021-01-01"}, []int64{300}, []float64{1.5})
 	g4.Grant.Strike = 5
 	g4.Grant.ExpiryDate = ymd("2030-10-31") // expires unexercised in the period
 
-	r1 := testAward("R1", RSU, "2030-01-01", []string{"2030-04-01", "2030-07-01", "2030-10-01", "2031-01-01"}, []int64{250, 250, 250, 250}, []float64{20, 21, 22, 23})
+	r1 := testAward("R1", grants.RSU, "2030-01-01", []string{"2030-04-01", "2030-07-01", "2030-10-01", "2031-01-01"}, []int64{250, 250, 250, 250}, []float64{20, 21, 22, 23})
 	r1.Grant.ExpiryDate = time.Time{} // RSUs do not expire
-	r1.Events = []Event{{GrantID: "R1", Date: ymd("2030-11-30"), Kind: Forfeited, Shares: 250}}
-	r2 := testAward("R2", RSU, "2030-12-15", []string{"2031-12-15"}, []int64{100}, []float64{24})
+	r1.Events = []grants.Event{{GrantID: "R1", Date: ymd("2030-11-30"), Kind: grants.Forfeited, Shares: 250}}
+	r2 := testAward("R2", grants.RSU, "2030-12-15", []string{"2031-12-15"}, []int64{100}, []float64{24})
 	r2.Grant.ExpiryDate = time.Time{}
 
-	w1 := testAward("W1", Warrant, "2028-01-01", []string{"2028-01-01"}, []int64{10000}, []float64{6})
+	w1 := testAward("W1", grants.Warrant, "2028-01-01", []string{"2028-01-01"}, []int64{10000}, []float64{6})
 	w1.Grant.Strike = 15
 	w1.Grant.ExpiryDate = ymd("2033-01-01")
-	w2 := testAward("W2", Warrant, "2030-02-01", []string{"2031-02-01"}, []int64{5000}, []float64{3})
+	w2 := testAward("W2", grants.Warrant, "2030-02-01", []string{"2031-02-01"}, []int64{5000}, []float64{3})
 	w2.Grant.Strike = 22
 	w2.Grant.ExpiryDate = ymd("2035-02-01")
-	w2.Grant.Classification = Liability
+	w2.Grant.Classification = grants.Liability
 	w2.Remeasurements = []Remeasurement{{Date: ymd("2030-12-31"), FairValue: []float64{4.5}}}
-	return []AwardCost{g1, g2, g3, g4, r1, r2, w1, w2}
+	return []Award{g1, g2, g3, g4, r1, r2, w1, w2}
 }
 
 func checkLine(t *testing.T, what string, got RollLine, shares int64, price, fv float64) {
@@ -64,7 +65,7 @@ func checkLine(t *testing.T, what string, got RollLine, shares int64, price, fv 
 // period-end summary and the nonvested RSU roll-forward (ASC 718-10-50-2,
 // from memory). Hand-worked from noteAwards.
 func TestDisclosureHandWorked(t *testing.T) {
-	pol := ExpensePolicy{Attribution: Graded, Forfeitures: Estimate, PreVestingForfeitureRate: 0.1}
+	pol := Policy{Attribution: grants.Graded, Forfeitures: grants.Estimate, PreVestingForfeitureRate: 0.1}
 	d, err := Disclose(noteAwards(), pol, ymd("2030-10-01"), ymd("2030-12-31"), 25)
 	if err != nil {
 		t.Fatal(err)
@@ -120,7 +121,7 @@ func TestDisclosureHandWorked(t *testing.T) {
 		t.Fatalf("warrants outstanding %+v", d.WarrantsOutstanding)
 	}
 	w1, w2 := d.WarrantsOutstanding[0], d.WarrantsOutstanding[1]
-	if w1.Exercisable != 10000 || w2.Exercisable != 0 || w2.Classification != Liability || w1.Classification != Equity {
+	if w1.Exercisable != 10000 || w2.Exercisable != 0 || w2.Classification != grants.Liability || w1.Classification != grants.Equity {
 		t.Errorf("warrant rows %+v", d.WarrantsOutstanding)
 	}
 	nearly(t, "W1 intrinsic", w1.IntrinsicValue, 100000, 1e-9)
@@ -134,8 +135,8 @@ func TestDisclosureHandWorked(t *testing.T) {
 func TestRollForwardIdentity(t *testing.T) {
 	rng := rand.New(rand.NewPCG(50, 2))
 	for k := 0; k < 100; k++ {
-		var awards []AwardCost
-		want := map[Instrument]int64{}
+		var awards []Award
+		want := map[grants.Instrument]int64{}
 		for j := 0; j < 8; j++ {
 			a, _ := randomAward(rng, fmt.Sprintf("P%d-%d", k, j))
 			a.Grant.Strike = 1 + 10*rng.Float64()
@@ -144,7 +145,7 @@ func TestRollForwardIdentity(t *testing.T) {
 		start := ymd("2027-01-01").AddDate(0, 0, rng.IntN(1500))
 		end := start.AddDate(0, 0, rng.IntN(200))
 		for _, a := range awards {
-			if a.Grant.GrantDate.After(end) || a.Grant.Instrument == RSU {
+			if a.Grant.GrantDate.After(end) || a.Grant.Instrument == grants.RSU {
 				continue
 			}
 			n := a.Grant.Shares
@@ -155,18 +156,18 @@ func TestRollForwardIdentity(t *testing.T) {
 			}
 			want[a.Grant.Instrument] += n
 		}
-		d, err := Disclose(awards, ExpensePolicy{PreVestingForfeitureRate: 0.1}, start, end, 7)
+		d, err := Disclose(awards, Policy{PreVestingForfeitureRate: 0.1}, start, end, 7)
 		if err != nil {
 			t.Fatalf("period %s..%s: %v", start, end, err)
 		}
-		if d.Options.End.Shares != want[Option] || d.Warrants.End.Shares != want[Warrant] {
-			t.Errorf("period %s..%s: options end %d want %d, warrants end %d want %d", start, end, d.Options.End.Shares, want[Option], d.Warrants.End.Shares, want[Warrant])
+		if d.Options.End.Shares != want[grants.Option] || d.Warrants.End.Shares != want[grants.Warrant] {
+			t.Errorf("period %s..%s: options end %d want %d, warrants end %d want %d", start, end, d.Options.End.Shares, want[grants.Option], d.Warrants.End.Shares, want[grants.Warrant])
 		}
-		if float64(d.OptionsAtEnd.Outstanding.Shares) != float64(want[Option]) {
-			t.Errorf("outstanding summary %v, roll-forward end %d", d.OptionsAtEnd.Outstanding.Shares, want[Option])
+		if float64(d.OptionsAtEnd.Outstanding.Shares) != float64(want[grants.Option]) {
+			t.Errorf("outstanding summary %v, roll-forward end %d", d.OptionsAtEnd.Outstanding.Shares, want[grants.Option])
 		}
 	}
-	bad := RollForward{Instrument: Option, Start: RollLine{Shares: 10}, Exercised: RollLine{Shares: 3}, End: RollLine{Shares: 8}}
+	bad := RollForward{Instrument: grants.Option, Start: RollLine{Shares: 10}, Exercised: RollLine{Shares: 3}, End: RollLine{Shares: 8}}
 	if bad.Check() == nil {
 		t.Error("Check accepted 10 − 3 = 8")
 	}
@@ -175,7 +176,7 @@ func TestRollForwardIdentity(t *testing.T) {
 // Attribute builds each ledger once for both reports; it must give exactly
 // what Expense and Disclose give on their own.
 func TestAttributeEqualsExpenseAndDisclose(t *testing.T) {
-	pol := ExpensePolicy{Attribution: Graded, Forfeitures: Estimate, PreVestingForfeitureRate: 0.1}
+	pol := Policy{Attribution: grants.Graded, Forfeitures: grants.Estimate, PreVestingForfeitureRate: 0.1}
 	start, end := ymd("2030-10-01"), ymd("2030-12-31")
 	rep, disc, err := Attribute(noteAwards(), pol, start, end, 25)
 	if err != nil {
