@@ -53,14 +53,14 @@ func (c *csvSource) rows(name string) (rowIter, error) {
 		return bad("is %s; grantworth reads only regular files (copy the file into the folder)", fileKind(st.Mode().Type()))
 	}
 	if st.Size() > MaxFileSize {
-		return nil, &CellError{Sheet: sheet, Err: ErrTooLarge, Msg: fmt.Sprintf("%s is %d bytes, more than the %d bytes allowed for one sheet", file, st.Size(), MaxFileSize)}
+		return nil, &CellError{Sheet: sheet, Err: ErrTooLarge, Msg: fmt.Sprintf("%s is %s, more than the %s allowed for one sheet", file, sizeText(st.Size()), sizeText(MaxFileSize))}
 	}
 	data, err := io.ReadAll(io.LimitReader(f, MaxFileSize+1))
 	if err != nil {
 		return nil, err
 	}
 	if len(data) > MaxFileSize {
-		return nil, &CellError{Sheet: sheet, Err: ErrTooLarge, Msg: fmt.Sprintf("%s is more than the %d bytes allowed for one sheet", file, MaxFileSize)}
+		return nil, &CellError{Sheet: sheet, Err: ErrTooLarge, Msg: fmt.Sprintf("%s is more than the %s allowed for one sheet", file, sizeText(MaxFileSize))}
 	}
 	switch {
 	case bytes.HasPrefix(data, []byte("\xff\xfe")) || bytes.HasPrefix(data, []byte("\xfe\xff")):
@@ -175,7 +175,7 @@ func hashFile(h io.Writer, path, name string, framed bool) error {
 		return &CellError{Sheet: filepath.Base(path), Err: ErrFormat, Msg: "is " + fileKind(st.Mode().Type()) + "; grantworth reads only regular files"}
 	}
 	if st.Size() > MaxFileSize {
-		return &CellError{Sheet: filepath.Base(path), Err: ErrTooLarge, Msg: fmt.Sprintf("is %d bytes, more than the %d bytes allowed", st.Size(), MaxFileSize)}
+		return &CellError{Sheet: filepath.Base(path), Err: ErrTooLarge, Msg: fmt.Sprintf("is %s, more than the %s allowed", sizeText(st.Size()), sizeText(MaxFileSize))}
 	}
 	if framed {
 		fmt.Fprintf(h, "%s\x00%d\x00", name, st.Size())

@@ -112,7 +112,7 @@ func TestReadCSVFolderFiles(t *testing.T) {
 	os.Remove(filepath.Join(dir, "grants.csv"))
 	os.Rename(filepath.Join(dir, "export.csv"), filepath.Join(dir, "grants.csv"))
 	_, _, err = ReadFile(dir)
-	if !errors.Is(err, ErrTooLarge) || !strings.HasPrefix(err.Error(), "Grants: grants.csv is 3221225472 bytes") {
+	if !errors.Is(err, ErrTooLarge) || !strings.HasPrefix(err.Error(), "Grants: grants.csv is 3,072 MiB, more than the 64 MiB allowed") {
 		t.Errorf("3 GB grants.csv: %v", err)
 	}
 	if _, err := HashInput(dir); !errors.Is(err, ErrTooLarge) {

@@ -145,7 +145,7 @@ func TestReadLimits(t *testing.T) {
 	}
 	fs := baseCSV()
 	fs["grants.csv"] = &fstest.MapFile{Data: append([]byte("grant_id,"), bytes.Repeat([]byte("x"), MaxFileSize)...)}
-	if _, _, err := ReadCSVDir(fs); !errors.Is(err, ErrTooLarge) || !strings.HasPrefix(err.Error(), "Grants: grants.csv is 67108873 bytes, more than") {
+	if _, _, err := ReadCSVDir(fs); !errors.Is(err, ErrTooLarge) || !strings.HasPrefix(err.Error(), "Grants: grants.csv is 67,108,873 bytes, more than the 64 MiB allowed") {
 		t.Errorf("oversized CSV: %v", err)
 	}
 	wide := "grant_id" + strings.Repeat(",", MaxColumns) + "x\n"
