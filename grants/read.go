@@ -707,7 +707,10 @@ func (t *tableReader) eventRow(c *rowCtx) {
 // readKeyValue reads Company or Assumptions: rows of key, value and
 // (Assumptions) source. A header row "key, value, source" is optional.
 func (t *tableReader) readKeyValue() {
-	kc, vc, sc := 0, 1, 2
+	kc, vc, sc, ec := 0, 1, 2, -1
+	if t.sh.Name == SheetAssumptions {
+		ec = 3
+	}
 	first := true
 	seen := map[string]Ref{}
 	for {
@@ -718,7 +721,7 @@ func (t *tableReader) readKeyValue() {
 		if first {
 			first = false
 			if len(cells) > 0 && norm(cells[0]) == "key" {
-				kc, vc, sc = -1, -1, -1
+				kc, vc, sc, ec = -1, -1, -1, -1
 				for i, h := range cells {
 					if tooLong(h, MaxHeaderChars) {
 						t.rep.errf(Ref{Sheet: t.sh.Name, Cell: cellName(i+1, n)}, "", h, ErrTooLarge, "is longer than any column name (at most %d characters)", MaxHeaderChars)
@@ -732,8 +735,14 @@ func (t *tableReader) readKeyValue() {
 					case "source":
 						sc = i
 					case "":
+					case "effectivedate":
+						if t.sh.Name == SheetAssumptions {
+							ec = i
+							break
+						}
+						t.rep.warnf(Ref{Sheet: t.sh.Name, Cell: cellName(i+1, n)}, "", h, ErrUnknown, "is not a column grantworth reads (%s); it is ignored", keyValueColumns(t.sh.Name))
 					default:
-						t.rep.warnf(Ref{Sheet: t.sh.Name, Cell: cellName(i+1, n)}, "", h, ErrUnknown, "is not a column grantworth reads (key, value, source); it is ignored")
+						t.rep.warnf(Ref{Sheet: t.sh.Name, Cell: cellName(i+1, n)}, "", h, ErrUnknown, "is not a column grantworth reads (%s); it is ignored", keyValueColumns(t.sh.Name))
 					}
 				}
 				if vc < 0 {
@@ -766,22 +775,30 @@ func (t *tableReader) readKeyValue() {
 			t.rep.warnf(keyRef, "key", key, ErrUnknown, "is not a key grantworth reads; it is ignored")
 			continue
 		}
+		c := &rowCtx{t: t, row: n, cells: cells, cols: map[string]int{col.Key: vc}, refs: map[string]Ref{}}
+		src := ""
+		if sc >= 0 && sc < len(cells) {
+			src = strings.TrimSpace(cells[sc])
+			if tooLong(src, MaxSourceChars) {
+				t.rep.errf(Ref{Sheet: t.sh.Name, Cell: cellName(sc+1, n)}, "source", src, ErrTooLarge, "is longer than the %d characters allowed for the source of %s", MaxSourceChars, col.Key)
+				src = ""
+			}
+		}
+		if ec >= 0 && ec < len(cells) && strings.TrimSpace(cells[ec]) != "" {
+			t.datedAssumption(c, col, ec, src, keyRef, seen)
+			continue
+		}
 		if prev, dup := seen[col.Key]; dup {
 			t.rep.errf(keyRef, "key", key, ErrDuplicate, "is given twice (also %s)", prev.Cell)
 			continue
 		}
 		seen[col.Key] = keyRef
-		c := &rowCtx{t: t, row: n, cells: cells, cols: map[string]int{col.Key: vc}, refs: map[string]Ref{}}
 		if t.sh.Name == SheetCompany {
 			t.companyValue(c, col)
 		} else {
-			t.assumptionValue(c, col)
-			if sc >= 0 && sc < len(cells) {
-				if src := strings.TrimSpace(cells[sc]); tooLong(src, MaxSourceChars) {
-					t.rep.errf(Ref{Sheet: t.sh.Name, Cell: cellName(sc+1, n)}, "source", src, ErrTooLarge, "is longer than the %d characters allowed for the source of %s", MaxSourceChars, col.Key)
-				} else if src != "" {
-					t.s.Assumptions.Sources[col.Key] = src
-				}
+			t.assumptionValue(c, col, &t.s.Assumptions)
+			if src != "" {
+				t.s.Assumptions.Sources[col.Key] = src
 			}
 		}
 		for k, r := range c.refs {
@@ -793,7 +810,7 @@ func (t *tableReader) readKeyValue() {
 		}
 	}
 	for _, col := range t.sh.Columns {
-		if _, ok := seen[col.Key]; col.Required && !ok && !t.broken {
+		if _, ok := seen[col.Key]; col.Required && !ok && !t.broken && !t.s.Assumptions.dated(col.Key) {
 			t.rep.errf(Ref{Sheet: t.sh.Name, Cell: cellName(1, 1)}, col.Key, "", ErrRequired, "key is missing; add a row %s with its value", col.Key)
 		}
 	}
@@ -836,8 +853,53 @@ func isCurrency(s string) bool {
 	return true
 }
 
-func (t *tableReader) assumptionValue(c *rowCtx, col *Column) {
-	a := &t.s.Assumptions
+// keyValueColumns lists the columns of a key-value sheet, for messages.
+func keyValueColumns(sheet string) string {
+	if sheet == SheetAssumptions {
+		return "key, value, source, effective_date"
+	}
+	return "key, value, source"
+}
+
+// datedAssumption reads a row of Assumptions with an effective_date (in
+// column ec) into Assumptions.Dated. seen holds the undated keys, and the
+// dated ones as key@date, with their cells.
+func (t *tableReader) datedAssumption(c *rowCtx, col *Column, ec int, src string, keyRef Ref, seen map[string]Ref) {
+	c.cols["effective_date"] = ec
+	eff, ok := c.date("effective_date", false)
+	if !ok {
+		return
+	}
+	k := col.Key + "@" + isoDay(eff)
+	if prev, dup := seen[k]; dup {
+		t.rep.errf(keyRef, "key", col.Key, ErrDuplicate, "is given twice with effective_date %s (also %s)", isoDay(eff), prev.Cell)
+		return
+	}
+	seen[k] = keyRef
+	var x Assumptions
+	if t.assumptionValue(c, col, &x); c.failed {
+		return
+	}
+	if _, given := c.refs[col.Key]; !given {
+		c.failf(col.Key, "", ErrRequired, "is required on a row with an effective_date")
+		return
+	}
+	r := x.row(col.Key)
+	r.Effective, r.Source, r.Ref, r.DateRef = eff, src, c.refs[col.Key], c.refs["effective_date"]
+	t.s.Assumptions.Dated = append(t.s.Assumptions.Dated, r)
+}
+
+// dated reports whether a row with an effective_date gives key.
+func (a *Assumptions) dated(key string) bool {
+	for _, r := range a.Dated {
+		if r.Key == key {
+			return true
+		}
+	}
+	return false
+}
+
+func (t *tableReader) assumptionValue(c *rowCtx, col *Column, a *Assumptions) {
 	switch col.Key {
 	case "volatility":
 		a.Volatility, _ = c.percent(col.Key, false)
