@@ -65,12 +65,8 @@ func (c *csvSource) rows(name string) (rowIter, error) {
 	switch {
 	case bytes.HasPrefix(data, []byte("\xff\xfe")) || bytes.HasPrefix(data, []byte("\xfe\xff")):
 		return bad("is UTF-16 (Unicode) text; save it as CSV UTF-8")
-	case bytes.IndexByte(data, 0) >= 0:
-		line := 1 + bytes.Count(data[:bytes.IndexByte(data, 0)], []byte("\n"))
-		if len(data) >= 2 && (data[0] == 0 || data[1] == 0) {
-			return bad("is UTF-16 text without a byte-order mark; save it as CSV UTF-8")
-		}
-		return bad("line %d holds a NUL byte: it is not a text file; save it as CSV UTF-8", line)
+	case looksUTF16(data):
+		return bad("is UTF-16 text without a byte-order mark; save it as CSV UTF-8")
 	}
 	data = bytes.TrimPrefix(data, []byte("\xef\xbb\xbf"))
 	if !utf8.Valid(data) {
@@ -83,6 +79,14 @@ func (c *csvSource) rows(name string) (rowIter, error) {
 	it.r = csv.NewReader(bytes.NewReader(data))
 	it.r.FieldsPerRecord = -1
 	return it, nil
+}
+
+// looksUTF16 reports whether text with no byte-order mark is UTF-16: a
+// quarter or more of its first bytes are NUL, as the high byte of every
+// Latin character is (a stray NUL in UTF-8 text is read as text).
+func looksUTF16(b []byte) bool {
+	b = b[:min(len(b), 1024)]
+	return len(b) >= 2 && bytes.Count(b, []byte{0}) >= len(b)/4
 }
 
 // fileKind says what a directory entry that is not a regular file is.
