@@ -10,10 +10,18 @@ import (
 
 // OutcomeOptions control SimulateOutcomes.
 type OutcomeOptions struct {
-	Paths        int    // number of share-price paths; 0 means 20,000
-	StepsPerYear int    // time grid; 0 means 24 (vest dates and expiries are added to it)
+	Paths        int    // number of share-price paths; 0 means DefaultOutcomePaths
+	StepsPerYear int    // time grid; 0 means DefaultOutcomeStepsPerYear (vest dates and expiries are added to it)
 	Seed         uint64 // seed of the PCG generator; the same seed gives the same numbers
 }
+
+// Defaults of OutcomeOptions. The share is sampled exactly at the grid
+// dates and the barrier and departures are exact between them, so the grid
+// only sets when a barrier hit is paid (mid-step): twice a month is ample.
+const (
+	DefaultOutcomePaths        = 20000
+	DefaultOutcomeStepsPerYear = 24
+)
 
 // Ending is how one tranche of an award ends on a path.
 type Ending int
@@ -42,8 +50,10 @@ type Outcomes struct {
 	// payoff (exercised, or an RSU delivered).
 	InTheMoney float64
 	Endings    [NumEndings]float64 // probability of each way of ending
-	// EndYears[i] is the probability of ending in year i after the
-	// measurement date, [i, i+1) years.
+	// EndYears[i] is the probability of ending in year i+1 after the
+	// measurement date: after i years and by i+1, with yearLeeway for the
+	// leap days in a run of anniversaries (ten calendar years are up to
+	// three days more than ten years of 365 days).
 	EndYears          []float64
 	ExpectedTermYears float64 // mean time to the end
 }
@@ -91,10 +101,10 @@ func SimulateOutcomes(tranches []Terms, weights []float64, m Market, o OutcomeOp
 	}
 	paths, spy := o.Paths, o.StepsPerYear
 	if paths == 0 {
-		paths = 20000
+		paths = DefaultOutcomePaths
 	}
 	if spy == 0 {
-		spy = 24
+		spy = DefaultOutcomeStepsPerYear
 	}
 	if paths < 2 || spy < 1 {
 		return nil, fmt.Errorf("outcomes: paths %d must be at least 2 and steps per year %d at least 1", paths, spy)
@@ -161,7 +171,7 @@ func SimulateOutcomes(tranches []Terms, weights []float64, m Market, o OutcomeOp
 	rng := rand.New(rand.NewPCG(o.Seed, 0x6f7574636f6d6573)) // stream constant: "outcomes"
 	x := make([]float64, n+1)
 	next := make([]int, n+1) // next[i]: the first step j ≥ i in which the path reaches H (n: none)
-	out := &Outcomes{Paths: paths, Sample: make([]float64, paths), EndYears: make([]float64, int(math.Ceil(horizon-1e-9))+1)}
+	out := &Outcomes{Paths: paths, Sample: make([]float64, paths), EndYears: make([]float64, endYear(horizon)+1)}
 	var sum, sum2, life float64
 	x[0] = math.Log(m.Spot)
 	for p := range paths {
@@ -234,7 +244,7 @@ func SimulateOutcomes(tranches []Terms, weights []float64, m Market, o OutcomeOp
 				out.InTheMoney += t.w
 			}
 			out.Endings[how] += t.w
-			out.EndYears[min(int(end), len(out.EndYears)-1)] += t.w
+			out.EndYears[endYear(end)] += t.w
 			life += t.w * end
 			pay += t.w * pv
 		}
@@ -256,6 +266,14 @@ func SimulateOutcomes(tranches []Terms, weights []float64, m Market, o OutcomeOp
 	sort.Float64s(out.Sample)
 	return out, nil
 }
+
+// yearLeeway is how far past a whole number of 365-day years an end may
+// fall and still count in that year: three leap days.
+const yearLeeway = 3.0 / 365
+
+// endYear is the index into Outcomes.EndYears of an end t years after the
+// measurement date.
+func endYear(t float64) int { return max(int(math.Ceil(t-yearLeeway))-1, 0) }
 
 // logSteps are the mean and standard deviation of the change in the log
 // share price over each step of the grid times under the risk-neutral

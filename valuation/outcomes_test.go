@@ -152,7 +152,10 @@ func TestOutcomesRSU(t *testing.T) {
 	if out.InTheMoney != 1 || out.Endings[EndExpiryExercised] != 1 {
 		t.Errorf("in the money %v, delivered %v; want 1", out.InTheMoney, out.Endings[EndExpiryExercised])
 	}
-	within(t, "end years", out.EndYears[1]+out.EndYears[2]+out.EndYears[3], 1, 1e-12)
+	// A tranche vesting on its anniversary ends in that year.
+	if len(out.EndYears) != 3 || out.EndYears[0] != 0.25 || out.EndYears[1] != 0.25 || out.EndYears[2] != 0.5 {
+		t.Errorf("end years %v, want [0.25 0.25 0.5]", out.EndYears)
+	}
 	within(t, "expected term", out.ExpectedTermYears, (1+2+2*3)/4.0, 1e-12)
 }
 

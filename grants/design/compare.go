@@ -2,7 +2,6 @@ package design
 
 import (
 	"fmt"
-	"math"
 	"runtime"
 	"sync"
 	"time"
@@ -27,13 +26,6 @@ type Options struct {
 	Progress func(done, total int)
 }
 
-// Percentiles of the payoff that a Result reports, in its Payoff field.
-var Percentiles = []float64{0.10, 0.50, 0.90}
-
-// VolatilityShifts are the moves of volatility, in percentage points, at
-// which a Result reports the fair value.
-var VolatilityShifts = []float64{-10, 10}
-
 // Comparison is every design of a designs workbook, valued at one grant
 // date in one market.
 type Comparison struct {
@@ -53,9 +45,8 @@ type Result struct {
 	Design grants.Design
 	Grant  grants.Grant  // the grant the design describes: strike, expiry, vesting
 	Inputs grants.Inputs // its tranches, terms, market and the source of each input
-	// Tranches are the fair value per share of each tranche, in
-	// Inputs.Tranches order.
-	Tranches []valuation.Result
+	// Tranches are the tranches' values, in Inputs.Tranches order.
+	Tranches []Tranche
 	Shares   int64
 
 	FairValuePerShare float64 // share-weighted over the tranches: the accounting number
@@ -87,19 +78,26 @@ type Result struct {
 
 	// Outcomes is the simulated distribution of what the award pays
 	// (risk-neutral, per share, in today's money; a warrant's after
-	// dilution). Payoff holds its Percentiles, per share.
+	// dilution): its Quantile gives the payoff percentiles.
 	Outcomes *valuation.Outcomes
-	Payoff   []float64
 	// OutcomeNote says where the simulation departs from the valuation
 	// model (rational exercise of a warrant with dividends); usually "".
 	OutcomeNote string
 
-	// Volatility is the total fair value with volatility moved by each of
-	// VolatilityShifts (and more: every point the valuation run made).
+	// Volatility is the total fair value with volatility moved by 5 and
+	// 10 points either way (and the base case), from the valuation run.
 	Volatility []grants.SensitivityPoint
 	// Check is the Monte Carlo cross-check of the design's largest
 	// tranche against the lattice; nil for an RSU.
 	Check *grants.MonteCarloCheck
+}
+
+// Tranche is one tranche of a design, valued.
+type Tranche struct {
+	valuation.Result         // fair value per share, error estimate, expected term
+	BSMSimplified    float64 // per share, after a warrant's dilution
+	SurvivalToVest   float64 // share of holders expected to be there at the vest date
+	ExpectedCost     float64 // per share: Value × SurvivalToVest
 }
 
 // Compare values every design of s (a designs workbook, ReadDesigns) at
@@ -167,7 +165,7 @@ func compareOne(s *grants.Schedule, d grants.Design, o Options, oo valuation.Out
 		return nil, err
 	}
 	gv := v.Grants[0]
-	*r = Result{Design: d, Grant: g, Inputs: in, Tranches: gv.Results, Shares: g.Shares, DilutionFactor: 1,
+	*r = Result{Design: d, Grant: g, Inputs: in, Tranches: make([]Tranche, len(in.Tranches)), Shares: g.Shares, DilutionFactor: 1,
 		ForfeitureRate: s.DesignForfeitureRate(d)}
 	if gv.Dilution != nil {
 		r.DilutionFactor = gv.Dilution.Factor()
@@ -175,15 +173,17 @@ func compareOne(s *grants.Schedule, d grants.Design, o Options, oo valuation.Out
 	cost := make([]float64, len(in.Tranches))
 	for k, t := range in.Tranches {
 		res, terms, w := gv.Results[k], in.Terms[k], float64(t.Shares)
-		r.FairValueTotal += w * res.Value
-		r.ErrorEstimate += w * res.ErrorEstimate
-		r.ExpectedTermYears += w * res.ExpectedTermYears
 		bsm, err := valuation.SimplifiedBSM(terms, in.Market)
 		if err != nil {
 			return nil, fmt.Errorf("tranche %d: simplified BSM: %w", t.Index, err)
 		}
-		r.BSMSimplified += w * bsm.Value * r.DilutionFactor
+		surv := valuation.SurvivalToVest(r.ForfeitureRate, terms.YearsToVest)
 		cost[k] = valuation.ExpectedCost(res.Value, r.ForfeitureRate, terms.YearsToVest)
+		r.Tranches[k] = Tranche{Result: res, BSMSimplified: bsm.Value * r.DilutionFactor, SurvivalToVest: surv, ExpectedCost: cost[k]}
+		r.FairValueTotal += w * res.Value
+		r.ErrorEstimate += w * res.ErrorEstimate
+		r.ExpectedTermYears += w * res.ExpectedTermYears
+		r.BSMSimplified += w * r.Tranches[k].BSMSimplified
 		r.ExpectedCostTotal += w * cost[k]
 		r.HorizonYears = max(r.HorizonYears, terms.YearsToExpiry)
 	}
@@ -249,20 +249,5 @@ func (r *Result) simulate(in grants.Inputs, o valuation.OutcomeOptions) error {
 		out.StdErr *= f
 	}
 	r.Outcomes = out
-	r.Payoff = make([]float64, len(Percentiles))
-	for i, p := range Percentiles {
-		r.Payoff[i] = out.Quantile(p)
-	}
 	return nil
-}
-
-// VolatilityAt is the total fair value with volatility moved by shift
-// percentage points, and whether the valuation run made that case.
-func (r *Result) VolatilityAt(shift float64) (float64, bool) {
-	for _, p := range r.Volatility {
-		if math.Abs(p.Shift-shift) < 1e-9 {
-			return p.FairValueTotal, true
-		}
-	}
-	return 0, false
 }

@@ -309,17 +309,20 @@ func TestBreakEven(t *testing.T) {
 	if math.Abs(r.BreakEven-want) > exactRel*want || math.Abs(T-valuation.YearFrac(day("2026-07-01"), day("2036-07-01"))) > 1e-12 {
 		t.Errorf("break-even %v, want %v (horizon %v)", r.BreakEven, want, T)
 	}
-	if got, ok := r.VolatilityAt(10); !ok || !(got > r.FairValueTotal) {
-		t.Errorf("volatility +10 points: %v %v against %v", got, ok, r.FairValueTotal)
+	// Value rises with volatility (a call's vega is positive).
+	if len(r.Volatility) != 5 || r.Volatility[0].Shift != -10 || r.Volatility[4].Shift != 10 {
+		t.Fatalf("volatility cases %+v", r.Volatility)
 	}
-	if got, ok := r.VolatilityAt(-10); !ok || !(got < r.FairValueTotal) {
-		t.Errorf("volatility -10 points: %v %v against %v", got, ok, r.FairValueTotal)
+	for i := 1; i < len(r.Volatility); i++ {
+		if !(r.Volatility[i].FairValueTotal > r.Volatility[i-1].FairValueTotal) {
+			t.Errorf("volatility cases not rising: %+v", r.Volatility)
+		}
 	}
 	if r.Check == nil || math.Abs(r.Check.Z) > zMax {
 		t.Errorf("Monte Carlo check %+v", r.Check)
 	}
-	if len(r.Payoff) != 3 || !(r.Payoff[0] <= r.Payoff[1] && r.Payoff[1] <= r.Payoff[2]) {
-		t.Errorf("payoff percentiles %v", r.Payoff)
+	if p10, p50, p90 := r.Outcomes.Quantile(0.1), r.Outcomes.Quantile(0.5), r.Outcomes.Quantile(0.9); !(p10 <= p50 && p50 < p90) {
+		t.Errorf("payoff percentiles %v %v %v", p10, p50, p90)
 	}
 }
 
