@@ -183,20 +183,20 @@ var DesignSheets = []Sheet{
 		Help: fmt.Sprintf("One row per grant design to compare side by side, at most %d. Empty cells take the Assumptions or the defaults shown.", MaxDesigns),
 		Columns: []Column{
 			{Key: "design", Kind: KindText, Required: true, Need: "required", Help: "A short, unique name for the design, shown at the head of its column, e.g. 4y monthly, 1y cliff."},
-			grantColumn("instrument", ""),
-			grantColumn("shares", ""),
-			grantColumn("strike", "options and warrants: this or strike_premium"),
+			grantColumn("instrument", "", ""),
+			grantColumn("shares", "", ""),
+			grantColumn("strike", "options and warrants: this or strike_premium", ""),
 			{Key: "strike_premium", Kind: KindPercent, Unit: "over the share price", Need: "options and warrants: this or strike",
 				Help: "The strike as a premium over the share price at grant_date: 0 is at the money, 25% or 0.25 a strike a quarter above it."},
-			grantColumn("term_years", "options and warrants"),
-			grantColumn("vest_months", ""),
-			grantColumn("cliff_months", ""),
-			grantColumn("vest_every_months", ""),
-			grantColumn("exercise_multiple", ""),
-			grantColumn("post_vesting_exit_rate", ""),
+			grantColumn("term_years", "options and warrants", "Contractual term from the grant date."),
+			grantColumn("vest_months", "", ""),
+			grantColumn("cliff_months", "", ""),
+			grantColumn("vest_every_months", "", ""),
+			grantColumn("exercise_multiple", "", ""),
+			grantColumn("post_vesting_exit_rate", "", "Overrides the post-vesting exit rate. A long exercise window after leaving means fewer leavers exercise or lose their options at once: a lower rate."),
 			{Key: "pre_vesting_forfeiture_rate", Kind: KindPercent, Unit: "annual", Need: "optional", Default: "Assumptions",
 				Help: "Overrides the share of unvested holders who leave each year: it enters the expected cost and the expense, never the fair value."},
-			grantColumn("volatility", ""),
+			grantColumn("volatility", "", ""),
 		}},
 	scheduleSheet(SheetSharePrices),
 	scheduleSheet(SheetRates),
@@ -212,13 +212,16 @@ func withColumns(sh Sheet, more ...Column) Sheet {
 	return sh
 }
 
-// grantColumn is the Grants sheet's column key, with need in place of its
-// own when need is not empty.
-func grantColumn(key, need string) Column {
+// grantColumn is the Grants sheet's column key, with need and help in
+// place of its own when they are not empty.
+func grantColumn(key, need, help string) Column {
 	sh := scheduleSheet(SheetGrants)
 	c := *sh.Column(key)
 	if need != "" {
 		c.Need = need
+	}
+	if help != "" {
+		c.Help = help
 	}
 	return c
 }

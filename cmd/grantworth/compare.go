@@ -167,7 +167,7 @@ const (
 // printComparison prints the comparison table with the designs as columns,
 // long labels and cells wrapped, then the files written and the caution.
 func printComparison(w io.Writer, m *report.CompareModel, dir string) {
-	fmt.Fprintf(w, "%s: %d grant designs on %s, share price %s (amounts in %s)\n\n", m.Company, len(m.Designs), m.GrantDate, money2(m.SharePrice), m.Currency)
+	fmt.Fprintf(w, "%s: %d grant %s on %s, share price %s (amounts in %s)\n\n", m.Company, len(m.Designs), checkPlural(len(m.Designs), "design"), m.GrantDate, money2(m.SharePrice), m.Currency)
 	head := []string{""}
 	for _, d := range m.Designs {
 		head = append(head, d.Design)

@@ -113,9 +113,6 @@ func Compare(s *grants.Schedule, o Options) (*Comparison, error) {
 		Company: s.Company.Name, Currency: s.Company.Currency, GrantDate: gd,
 		Policy: s.ExpensePolicy(), YearEnd: o.YearEnd, Designs: make([]Result, len(s.Designs)),
 	}
-	if p, ok := s.PriceAt(gd); ok {
-		c.SharePrice = grants.Source{Value: p.Price, Text: fmt.Sprintf("Share Prices row %d (valuation of %s)", p.Row, p.Date.Format(time.DateOnly))}
-	}
 	errs := make([]error, len(s.Designs))
 	warns := make([][]string, len(s.Designs))
 	sem := make(chan struct{}, max(1, runtime.GOMAXPROCS(0)))
@@ -142,6 +139,9 @@ func Compare(s *grants.Schedule, o Options) (*Comparison, error) {
 	for i, err := range errs {
 		if err != nil {
 			return nil, fmt.Errorf("design %s: %w", s.Designs[i].Name, err)
+		}
+		if i == 0 {
+			c.SharePrice = c.Designs[0].Inputs.SharePrice // every design's: one grant date
 		}
 		for _, w := range warns[i] {
 			c.Warnings = append(c.Warnings, fmt.Sprintf("design %s: %s", s.Designs[i].Name, w))
