@@ -121,12 +121,12 @@ func (s *Schedule) DesignGrant(d Design) (Grant, error) {
 }
 
 // DesignForfeitureRate is design d's pre-vesting forfeiture rate: its own,
-// else the Assumptions'.
+// else the Assumptions' in force at the grant date.
 func (s *Schedule) DesignForfeitureRate(d Design) float64 {
 	if d.PreVestingForfeitureRate != nil {
 		return *d.PreVestingForfeitureRate
 	}
-	return s.Assumptions.PreVestingForfeitureRate
+	return s.Assumptions.At(s.DesignDate()).PreVestingForfeitureRate
 }
 
 // months reads a whole number of months from 0 to 1200 in column key.
@@ -196,8 +196,8 @@ func (v *validator) designs() {
 	if len(s.Designs) == 0 {
 		return
 	}
-	a := &s.Assumptions
 	gd := s.DesignDate()
+	a := s.Assumptions.At(gd)
 	dref, dkey := s.designDateRef()
 	price, havePrice := s.PriceAt(gd)
 	names := map[string]int{}
@@ -282,7 +282,7 @@ func (v *validator) designs() {
 		}
 	}
 	if volMissing {
-		v.rep.errf(Ref{Sheet: SheetAssumptions}, "volatility", "", ErrRequired, "key is missing, and not every option and warrant design gives one")
+		v.rep.errf(Ref{Sheet: SheetAssumptions}, "volatility", "", ErrRequired, "has no row in force on the grant date %s, and not every option and warrant design gives one", isoDay(gd))
 	}
 	if gd.IsZero() {
 		return

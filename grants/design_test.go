@@ -99,7 +99,7 @@ func TestDesignProblems(t *testing.T) {
 		{"no curve at the grant date", "rates.csv", "curve_date,tenor_years,rate\n2027-01-01,5,4%\n",
 			[]string{`Company!B4 (grant_date): "2026-10-15" is the grant date of the designs, but no Rates curve is dated on or before it`}, ""},
 		{"no volatility", "assumptions.csv", "key,value\ndividend_yield,0\n",
-			[]string{`Assumptions (volatility): key is missing, and not every option and warrant design gives one`}, ""},
+			[]string{`Assumptions (volatility): has no row in force on the grant date 2026-10-15, and not every option and warrant design gives one`}, ""},
 		{"no designs", "designs.csv", "design,shares\n",
 			[]string{`Designs!A2 (design): the sheet has no design: add one row per design under the header`}, ""},
 		{"no Designs sheet", "designs.csv", "",

@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"strings"
+	"unicode/utf8"
 )
 
 // Sentinel errors wrapped by CellError, so callers and tests can use errors.Is.
@@ -24,6 +25,7 @@ var (
 	ErrMissingColumn = errors.New("column is missing")
 	ErrFormat        = errors.New("is not a grant schedule in a readable format")
 	ErrTooLarge      = errors.New("is too large")
+	ErrDamaged       = errors.New("is damaged")
 )
 
 // CellError is a problem with one cell (or, with Cell empty, one sheet) of
@@ -55,7 +57,7 @@ func (e *CellError) Error() string {
 	}
 	b.WriteString(": ")
 	if e.Value != "" {
-		fmt.Fprintf(&b, "%q ", e.Value)
+		writeQuoted(&b, e.Value)
 	}
 	if e.Msg != "" {
 		b.WriteString(e.Msg)
@@ -156,4 +158,22 @@ func (e reportError) Unwrap() []error {
 		out[i] = ce
 	}
 	return out
+}
+
+// maxQuoted is how many characters of a cell's text a message quotes; a
+// longer text is cut and its length given.
+const maxQuoted = 60
+
+func writeQuoted(b *strings.Builder, v string) {
+	n := utf8.RuneCountInString(v)
+	if n <= maxQuoted {
+		fmt.Fprintf(b, "%q ", v)
+		return
+	}
+	i := 0
+	for k := 0; k < maxQuoted; k++ {
+		_, size := utf8.DecodeRuneInString(v[i:])
+		i += size
+	}
+	fmt.Fprintf(b, "%q (%d characters) ", v[:i]+"…", n)
 }

@@ -146,14 +146,13 @@ func TestReadLimits(t *testing.T) {
 	}
 	fs := baseCSV()
 	fs["grants.csv"] = &fstest.MapFile{Data: append([]byte("grant_id,"), bytes.Repeat([]byte("x"), MaxFileSize)...)}
-	_, rep := readMap(t, fs)
-	if !strings.Contains(problems(rep), "Grants: grants.csv is more than") {
-		t.Errorf("oversized CSV:\n%s", problems(rep))
+	if _, _, err := ReadCSVDir(fs); !errors.Is(err, ErrTooLarge) || !strings.HasPrefix(err.Error(), "Grants: grants.csv is 67108873 bytes, more than") {
+		t.Errorf("oversized CSV: %v", err)
 	}
 	wide := "grant_id" + strings.Repeat(",", MaxColumns) + "x\n"
 	fs = baseCSV()
 	fs["grants.csv"] = &fstest.MapFile{Data: []byte(wide)}
-	_, rep = readMap(t, fs)
+	_, rep := readMap(t, fs)
 	if !strings.Contains(problems(rep), "row has cells beyond column 256") {
 		t.Errorf("wide row:\n%s", problems(rep))
 	}

@@ -33,7 +33,7 @@ var memoHooks []MemoHook
 // Memo is the PDF being written. Hooks use its methods so that their
 // sections look like the others.
 type Memo struct {
-	pdf      *gofpdf.Fpdf
+	pdf      pdfDoc // gofpdf, with every text through MemoText
 	m        *Model
 	tpl      *template.Template
 	sections map[string]int
@@ -119,8 +119,8 @@ func newMemo(m *Model) (*Memo, error) {
 
 // newPDF is an A4 document in the reports' fonts and margins, its
 // metadata dated date, so that the same input gives the same bytes.
-func newPDF(title, subject, author, producer string, date time.Time) *gofpdf.Fpdf {
-	pdf := gofpdf.New("P", "mm", "A4", "")
+func newPDF(title, subject, author, producer string, date time.Time) pdfDoc {
+	pdf := pdfDoc{gofpdf.New("P", "mm", "A4", "")}
 	pdf.SetCompression(true)
 	pdf.SetCatalogSort(true)
 	pdf.SetCreationDate(date)

@@ -94,13 +94,11 @@ IFRS 2 or local rules).`,
 }
 
 func runCompare(o *compareOptions) error {
-	if o.Out != "" && !o.Force {
-		have, err := existingOutputs(o.Out, compareOutputs)
-		if err != nil {
+	// Refuse early, before any work, when an output is in the way (and
+	// again under the folder's lock, below).
+	if o.Out != "" {
+		if err := checkExisting(o.Out, o.Out, compareOutputs, o.Force); err != nil {
 			return err
-		}
-		if len(have) > 0 {
-			return badInput("%s already exist%s; use --force to replace %s", joinList(have), plural1(len(have)), them(len(have)))
 		}
 	}
 	s, rep, err := grants.ReadDesigns(o.Path)
@@ -118,14 +116,27 @@ func runCompare(o *compareOptions) error {
 	if !rep.OK() {
 		return printProblems(o.IO.Err, rep, nil)
 	}
-	sum, err := hashInput(o.Path)
+	sum, err := grants.HashInput(o.Path)
 	if err != nil {
+		var ce *grants.CellError
+		if errors.As(err, &ce) {
+			return asInput(err) // the input changed since it was read
+		}
 		return err
 	}
+	var out *outputSet
+	if o.Out != "" {
+		// Lock and check the output folder before the work.
+		if out, err = openOutput(o.Out, compareOutputs, o.Force, o.IO); err != nil {
+			return err
+		}
+		defer out.close()
+	}
 	sim := valuation.OutcomeOptions{Paths: comparePaths, StepsPerYear: valuation.DefaultOutcomeStepsPerYear, Seed: compareSeed}
+	steps := s.Assumptions.At(s.DesignDate()).Steps
 	bar := newProgress(o.IO, "valuing designs")
 	c, err := design.Compare(s, design.Options{
-		Lattice:  valuation.LatticeOptions{Steps: s.Assumptions.Steps},
+		Lattice:  valuation.LatticeOptions{Steps: steps},
 		Outcomes: sim,
 		Progress: bar.update,
 	})
@@ -140,14 +151,13 @@ func runCompare(o *compareOptions) error {
 	m := report.BuildComparison(c, report.Run{
 		Tool:     report.Tool{Name: "grantworth", Version: version},
 		Input:    report.Input{Path: filepath.ToSlash(o.Path), SHA256: sum},
-		Warnings: warningTexts(rep),
-	}, s.Assumptions.Steps, sim)
-	if o.Out != "" {
-		files := []outFile{
+		Warnings: append(warningTexts(rep), report.MemoTextWarnings(s, o.Path)...),
+	}, steps, sim)
+	if out != nil {
+		if err := out.write([]outFile{
 			{compareOutputs[0], func(w io.Writer) error { return report.WriteComparePDF(w, m) }},
 			{compareOutputs[1], func(w io.Writer) error { return report.WriteCompareWorkbook(w, m) }},
-		}
-		if err := writeAll(o.Out, files, o.Force); err != nil {
+		}); err != nil {
 			return err
 		}
 	}

@@ -7,6 +7,8 @@ import (
 	"time"
 
 	"grantworth/grants"
+	"grantworth/grants/accounting"
+	"grantworth/grants/pricing"
 	"grantworth/valuation"
 )
 
@@ -32,8 +34,8 @@ type Comparison struct {
 	Company    string
 	Currency   string
 	GrantDate  time.Time
-	SharePrice grants.Source // at the grant date
-	Policy     grants.ExpensePolicy
+	SharePrice grants.Source     // at the grant date
+	Policy     accounting.Policy // in force at the grant date; the forfeiture rate is each design's
 	YearEnd    YearEnd
 	Designs    []Result
 	Warnings   []string
@@ -86,10 +88,10 @@ type Result struct {
 
 	// Volatility is the total fair value with volatility moved by 5 and
 	// 10 points either way (and the base case), from the valuation run.
-	Volatility []grants.SensitivityPoint
+	Volatility []pricing.SensitivityPoint
 	// Check is the Monte Carlo cross-check of the design's largest
 	// tranche against the lattice; nil for an RSU.
-	Check *grants.MonteCarloCheck
+	Check *pricing.MonteCarloCheck
 }
 
 // Tranche is one tranche of a design, valued.
@@ -102,7 +104,7 @@ type Tranche struct {
 
 // Compare values every design of s (a designs workbook, ReadDesigns) at
 // its grant date: each through the same valuation run as a schedule's
-// grants (grants.Schedule.Value), then its expected cost, its expense by
+// grants (pricing.Value), then its expected cost, its expense by
 // fiscal year (the schedule's attribution method, expenseByYear) and the
 // simulated distribution of its outcomes. Designs are valued on all cores;
 // the result does not depend on their number. An input the validation
@@ -111,7 +113,7 @@ func Compare(s *grants.Schedule, o Options) (*Comparison, error) {
 	gd := s.DesignDate()
 	c := &Comparison{
 		Company: s.Company.Name, Currency: s.Company.Currency, GrantDate: gd,
-		Policy: s.ExpensePolicy(), YearEnd: o.YearEnd, Designs: make([]Result, len(s.Designs)),
+		Policy: policyAt(s, gd), YearEnd: o.YearEnd, Designs: make([]Result, len(s.Designs)),
 	}
 	errs := make([]error, len(s.Designs))
 	warns := make([][]string, len(s.Designs))
@@ -160,7 +162,7 @@ func compareOne(s *grants.Schedule, d grants.Design, o Options, oo valuation.Out
 	if err != nil {
 		return nil, err
 	}
-	v, err := s.Value([]grants.Inputs{in}, grants.ValueOptions{Lattice: o.Lattice})
+	v, err := pricing.Value(s, []grants.Inputs{in}, pricing.Options{Lattice: o.Lattice})
 	if err != nil {
 		return nil, err
 	}
@@ -170,7 +172,7 @@ func compareOne(s *grants.Schedule, d grants.Design, o Options, oo valuation.Out
 	if gv.Dilution != nil {
 		r.DilutionFactor = gv.Dilution.Factor()
 	}
-	cost := make([]float64, len(in.Tranches))
+	values := make([]float64, len(in.Tranches))
 	for k, t := range in.Tranches {
 		res, terms, w := gv.Results[k], in.Terms[k], float64(t.Shares)
 		bsm, err := valuation.SimplifiedBSM(terms, in.Market)
@@ -178,13 +180,14 @@ func compareOne(s *grants.Schedule, d grants.Design, o Options, oo valuation.Out
 			return nil, fmt.Errorf("tranche %d: simplified BSM: %w", t.Index, err)
 		}
 		surv := valuation.SurvivalToVest(r.ForfeitureRate, terms.YearsToVest)
-		cost[k] = valuation.ExpectedCost(res.Value, r.ForfeitureRate, terms.YearsToVest)
-		r.Tranches[k] = Tranche{Result: res, BSMSimplified: bsm.Value * r.DilutionFactor, SurvivalToVest: surv, ExpectedCost: cost[k]}
+		cost := valuation.ExpectedCost(res.Value, r.ForfeitureRate, terms.YearsToVest)
+		r.Tranches[k] = Tranche{Result: res, BSMSimplified: bsm.Value * r.DilutionFactor, SurvivalToVest: surv, ExpectedCost: cost}
+		values[k] = res.Value
 		r.FairValueTotal += w * res.Value
 		r.ErrorEstimate += w * res.ErrorEstimate
 		r.ExpectedTermYears += w * res.ExpectedTermYears
 		r.BSMSimplified += w * r.Tranches[k].BSMSimplified
-		r.ExpectedCostTotal += w * cost[k]
+		r.ExpectedCostTotal += w * cost
 		r.HorizonYears = max(r.HorizonYears, terms.YearsToExpiry)
 	}
 	n := float64(g.Shares)
@@ -192,7 +195,7 @@ func compareOne(s *grants.Schedule, d grants.Design, o Options, oo valuation.Out
 	r.ErrorEstimate /= n
 	r.ExpectedTermYears /= n
 	r.BSMSimplified /= n
-	if r.ExpenseByYear, err = expenseByYear(s, g, cost, o.YearEnd); err != nil {
+	if r.ExpenseByYear, err = expenseByYear(s, g, values, r.ForfeitureRate, o.YearEnd); err != nil {
 		return nil, fmt.Errorf("expense: %w", err)
 	}
 	r.BreakEven = breakEven(r, in.Market.Curve.Discount(r.HorizonYears))

@@ -7,6 +7,7 @@ import (
 	"time"
 
 	"grantworth/grants"
+	"grantworth/grants/pricing"
 	"grantworth/valuation"
 )
 
@@ -175,7 +176,7 @@ func TestDesignMatchesScheduleGrant(t *testing.T) {
 	if len(errs) > 0 {
 		t.Fatal(errs)
 	}
-	v, err := s.Value(ins, grants.ValueOptions{})
+	v, err := pricing.Value(s, ins, pricing.Options{})
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -4,6 +4,7 @@ import (
 	"time"
 
 	"grantworth/grants"
+	"grantworth/grants/accounting"
 )
 
 // YearEnd is the last day of a fiscal year, as a month and a day. The zero
@@ -64,21 +65,19 @@ type YearAmount struct {
 	Amount float64
 }
 
-// expenseByYear attributes grant g's cost, cost[k] per share of its tranche
-// k (the expected cost, with the pre-vesting forfeitures already in it),
-// to the fiscal years from its grant to its last day of service, under the
-// schedule's attribution method (graded or straight-line). It is the only
-// use of the expense attribution in this package: the schedule's own
-// attribution (grants.Expense) over one award, one year at a time, with
-// forfeitures as they occur (none occur: the cost already expects them).
-// The years add up to the total cost.
-func expenseByYear(s *grants.Schedule, g grants.Grant, cost []float64, e YearEnd) ([]YearAmount, error) {
-	award, err := s.AwardCost(g, cost)
+// expenseByYear attributes grant g's cost (fairValue[k] per share of its
+// tranche k) to the fiscal years from its grant to its last day of service:
+// the schedule's attribution, accounting.Spread, under the attribution
+// method in force at the grant date and with forfeitures estimated at rate
+// from the grant date, so that the years add up to the expected cost. It is
+// the only use of the attribution in this package.
+func expenseByYear(s *grants.Schedule, g grants.Grant, fairValue []float64, rate float64, e YearEnd) ([]YearAmount, error) {
+	award, err := accounting.AwardOf(s, g, fairValue)
 	if err != nil {
 		return nil, err
 	}
-	pol := s.ExpensePolicy()
-	pol.Forfeitures, pol.PreVestingForfeitureRate = grants.AsOccur, 0
+	pol := policyAt(s, g.GrantDate)
+	pol.Forfeitures, pol.PreVestingForfeitureRate = grants.Estimate, rate
 	// Service ends the day before the last vest date (a tranche vesting
 	// on 1 January is fully accrued on 31 December).
 	last := g.GrantDate
@@ -87,13 +86,25 @@ func expenseByYear(s *grants.Schedule, g grants.Grant, cost []float64, e YearEnd
 			last = end
 		}
 	}
-	var out []YearAmount
-	for _, fy := range FiscalYears(g.GrantDate, last, e) {
-		rep, err := grants.Expense([]grants.AwardCost{award}, pol, fy.Start, fy.End)
-		if err != nil {
-			return nil, err
-		}
-		out = append(out, YearAmount{Year: fy.Year, Start: fy.Start, End: fy.End, Amount: rep.Period})
+	years := FiscalYears(g.GrantDate, last, e)
+	ends := make([]time.Time, len(years))
+	for i, y := range years {
+		ends[i] = y.End
+	}
+	amounts, _, err := accounting.Spread(award, pol, ends)
+	if err != nil {
+		return nil, err
+	}
+	out := make([]YearAmount, len(years))
+	for i, y := range years {
+		out[i] = YearAmount{Year: y.Year, Start: y.Start, End: y.End, Amount: amounts[i]}
 	}
 	return out, nil
+}
+
+// policyAt is the schedule's attribution and forfeiture policy in force on
+// day d.
+func policyAt(s *grants.Schedule, d time.Time) accounting.Policy {
+	a := s.Assumptions.At(d)
+	return accounting.Policy{Attribution: a.Attribution, Forfeitures: a.Forfeitures, PreVestingForfeitureRate: a.PreVestingForfeitureRate}
 }
