@@ -15,7 +15,7 @@
 //
 // Compare turns each design into the grant it describes
 // (grants.Schedule.DesignGrant) and values it through the same run as a
-// schedule's grants (grants.Schedule.Value), so a design identical to a
+// schedule's grants (pricing.Value), so a design identical to a
 // grant of a schedule gets the fair value that grant gets from the value
 // command, tranche for tranche. From that run come:
 //
@@ -29,11 +29,12 @@
 // Then, for the company: the expected cost, each tranche's fair value times
 // the share of holders still there at its vest date, (1 − f)^V with f the
 // pre-vesting forfeiture rate (valuation.ExpectedCost): a planning figure,
-// never the fair value. Its expense by fiscal year is that cost attributed
-// by the company's method (graded: each tranche over its own service;
-// straight-line: the award evenly, never behind the vested tranches) through
-// the schedule's attribution, one fiscal year at a time; the years add up to
-// the expected cost. Under a policy of accounting for forfeitures as they
+// never the fair value. Its expense by fiscal year is the fair value
+// attributed by the company's method (graded: each tranche over its own
+// service; straight-line: the award evenly, never behind the vested
+// tranches) through the schedule's attribution (accounting.Spread) over
+// the fiscal year ends, with forfeitures estimated at the design's rate from
+// the grant date; the years add up to the expected cost. Under a policy of accounting for forfeitures as they
 // occur a company books the full cost as service is rendered and reverses
 // it when a holder leaves: the expected total is the same, the timing
 // earlier.
