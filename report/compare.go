@@ -81,8 +81,9 @@ type DesignResult struct {
 	Payoff        []PayoffPercentile `json:"payoff_percentiles"`
 	SimulatedMean float64            `json:"simulated_value_per_share"`
 	SimulatedSE   float64            `json:"simulated_standard_error"`
-	Endings       []float64          `json:"endings"`     // probability of each of CompareModel.Endings
-	EndByYear     []float64          `json:"end_by_year"` // probability of ending in year i after grant
+	Endings       []float64          `json:"endings"`      // probability of each of CompareModel.Endings
+	EndByYear     []float64          `json:"end_by_year"`  // probability of ending in year i+1 after the grant
+	EndByMonth    []float64          `json:"end_by_month"` // the same by month
 	Note          string             `json:"note,omitempty"`
 
 	VolShifts     []VolatilityPoint `json:"volatility_sensitivity"`
@@ -192,7 +193,8 @@ func designResult(r *design.Result) DesignResult {
 		FairValuePerShare: r.FairValuePerShare, FairValueTotal: r.FairValueTotal, ErrorEstimate: r.ErrorEstimate,
 		ExpectedCostTotal: r.ExpectedCostTotal, ExpectedTermYears: r.ExpectedTermYears, BSMSimplifiedValue: r.BSMSimplified,
 		ProbabilityInTheMoney: r.Outcomes.InTheMoney, BreakEvenSharePrice: r.BreakEven,
-		SimulatedMean: r.Outcomes.Mean, SimulatedSE: r.Outcomes.StdErr, EndByYear: r.Outcomes.EndYears, Note: r.OutcomeNote,
+		SimulatedMean: r.Outcomes.Mean, SimulatedSE: r.Outcomes.StdErr, EndByYear: r.Outcomes.EndYears, EndByMonth: r.Outcomes.EndMonths,
+		Note: r.OutcomeNote,
 	}
 	if g.Instrument != grants.RSU && in.SharePrice.Value > 0 {
 		out.StrikePremium = g.Strike/in.SharePrice.Value - 1

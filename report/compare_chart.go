@@ -243,15 +243,15 @@ func PayoffRangePNG(m *CompareModel, w, h vg.Length) ([]byte, error) {
 }
 
 // EndTimingPNG charts, for each design, the share of the award that has
-// ended (exercised, delivered or lapsed) by each year after the grant.
+// ended (exercised, delivered or lapsed) by each month after the grant.
 func EndTimingPNG(m *CompareModel, w, h vg.Length) ([]byte, error) {
 	p := basePlot("", "years after the grant", "share of the award ended (%)")
 	for i, d := range m.Designs {
 		pts := plotter.XYs{{X: 0, Y: 0}}
 		cum := 0.0
-		for y, pr := range d.EndByYear {
+		for k, pr := range d.EndByMonth {
 			cum += pr
-			pts = append(pts, plotter.XY{X: float64(y + 1), Y: 100 * math.Min(cum, 1)}) // ended by year y+1
+			pts = append(pts, plotter.XY{X: float64(k+1) / 12, Y: 100 * math.Min(cum, 1)}) // ended by month k+1
 		}
 		l, err := designLine(i, pts)
 		if err != nil {
