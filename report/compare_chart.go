@@ -3,7 +3,6 @@ package report
 import (
 	"image/color"
 	"math"
-	"sort"
 	"strconv"
 	"strings"
 
@@ -59,24 +58,13 @@ func thousands(v float64) float64 { return v / 1000 }
 // bars side by side, a group per year.
 func ExpenseByYearPNG(m *CompareModel, w, h vg.Length) ([]byte, error) {
 	p := basePlot("", "fiscal year", "expected expense ("+m.Currency+" thousands)")
-	years := map[int]bool{}
-	for _, d := range m.Designs {
-		for _, y := range d.ExpenseByYear {
-			years[y.Year] = true
-		}
-	}
-	var ys []int
-	for y := range years {
-		ys = append(ys, y)
-	}
-	sort.Ints(ys)
 	n := len(m.Designs)
-	group := 0.8 * float64(w) / float64(max(len(ys), 1)) // points per year group
+	group := 0.8 * float64(w) / float64(max(len(m.Years), 1)) // points per year group
 	width := vg.Length(math.Min(group/float64(max(n, 1)), 16))
 	for i, d := range m.Designs {
-		vals := make(plotter.Values, len(ys))
-		for _, y := range d.ExpenseByYear {
-			vals[sort.SearchInts(ys, y.Year)] = thousands(y.Amount)
+		vals := make(plotter.Values, len(m.Years))
+		for k, y := range m.Years {
+			vals[k] = thousands(d.expenseIn(y.Year))
 		}
 		b, err := plotter.NewBarChart(vals, width)
 		if err != nil {
@@ -87,9 +75,9 @@ func ExpenseByYearPNG(m *CompareModel, w, h vg.Length) ([]byte, error) {
 		p.Add(b)
 		p.Legend.Add(d.Design, b)
 	}
-	labels := make([]string, len(ys))
-	for i, y := range ys {
-		labels[i] = strconv.Itoa(y)
+	labels := make([]string, len(m.Years))
+	for i, y := range m.Years {
+		labels[i] = strconv.Itoa(y.Year)
 	}
 	p.NominalX(labels...)
 	top := 0.0
