@@ -53,24 +53,20 @@ func (c *csvSource) rows(name string) (rowIter, error) {
 		return bad("is %s; grantworth reads only regular files (copy the file into the folder)", fileKind(st.Mode().Type()))
 	}
 	if st.Size() > MaxFileSize {
-		return nil, &CellError{Sheet: sheet, Err: ErrTooLarge, Msg: fmt.Sprintf("%s is %d bytes, more than the %d bytes allowed for one sheet", file, st.Size(), MaxFileSize)}
+		return nil, &CellError{Sheet: sheet, Err: ErrTooLarge, Msg: fmt.Sprintf("%s is %s, more than the %s allowed for one sheet", file, sizeText(st.Size()), sizeText(MaxFileSize))}
 	}
 	data, err := io.ReadAll(io.LimitReader(f, MaxFileSize+1))
 	if err != nil {
 		return nil, err
 	}
 	if len(data) > MaxFileSize {
-		return nil, &CellError{Sheet: sheet, Err: ErrTooLarge, Msg: fmt.Sprintf("%s is more than the %d bytes allowed for one sheet", file, MaxFileSize)}
+		return nil, &CellError{Sheet: sheet, Err: ErrTooLarge, Msg: fmt.Sprintf("%s is more than the %s allowed for one sheet", file, sizeText(MaxFileSize))}
 	}
 	switch {
 	case bytes.HasPrefix(data, []byte("\xff\xfe")) || bytes.HasPrefix(data, []byte("\xfe\xff")):
 		return bad("is UTF-16 (Unicode) text; save it as CSV UTF-8")
-	case bytes.IndexByte(data, 0) >= 0:
-		line := 1 + bytes.Count(data[:bytes.IndexByte(data, 0)], []byte("\n"))
-		if len(data) >= 2 && (data[0] == 0 || data[1] == 0) {
-			return bad("is UTF-16 text without a byte-order mark; save it as CSV UTF-8")
-		}
-		return bad("line %d holds a NUL byte: it is not a text file; save it as CSV UTF-8", line)
+	case looksUTF16(data):
+		return bad("is UTF-16 text without a byte-order mark; save it as CSV UTF-8")
 	}
 	data = bytes.TrimPrefix(data, []byte("\xef\xbb\xbf"))
 	if !utf8.Valid(data) {
@@ -83,6 +79,14 @@ func (c *csvSource) rows(name string) (rowIter, error) {
 	it.r = csv.NewReader(bytes.NewReader(data))
 	it.r.FieldsPerRecord = -1
 	return it, nil
+}
+
+// looksUTF16 reports whether text with no byte-order mark is UTF-16: a
+// quarter or more of its first bytes are NUL, as the high byte of every
+// Latin character is (a stray NUL in UTF-8 text is read as text).
+func looksUTF16(b []byte) bool {
+	b = b[:min(len(b), 1024)]
+	return len(b) >= 2 && bytes.Count(b, []byte{0}) >= len(b)/4
 }
 
 // fileKind says what a directory entry that is not a regular file is.
@@ -175,7 +179,7 @@ func hashFile(h io.Writer, path, name string, framed bool) error {
 		return &CellError{Sheet: filepath.Base(path), Err: ErrFormat, Msg: "is " + fileKind(st.Mode().Type()) + "; grantworth reads only regular files"}
 	}
 	if st.Size() > MaxFileSize {
-		return &CellError{Sheet: filepath.Base(path), Err: ErrTooLarge, Msg: fmt.Sprintf("is %d bytes, more than the %d bytes allowed", st.Size(), MaxFileSize)}
+		return &CellError{Sheet: filepath.Base(path), Err: ErrTooLarge, Msg: fmt.Sprintf("is %s, more than the %s allowed", sizeText(st.Size()), sizeText(MaxFileSize))}
 	}
 	if framed {
 		fmt.Fprintf(h, "%s\x00%d\x00", name, st.Size())

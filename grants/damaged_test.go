@@ -294,3 +294,16 @@ func writeHostile(t *testing.T, name string, files map[string][]byte) {
 
 // lastErr holds, by test name, the message a hostile case gave.
 var lastErr = map[string]string{}
+
+func TestCountAndSizeText(t *testing.T) {
+	for n, want := range map[int]string{0: "0", 999: "999", 1000: "1,000", 32767: "32,767", 1048576: "1,048,576", -1234: "-1,234"} {
+		if got := countText(n); got != want {
+			t.Errorf("countText(%d) = %q, want %q", n, got, want)
+		}
+	}
+	for n, want := range map[int64]string{64 << 20: "64 MiB", 3 << 30: "3,072 MiB", 67108873: "67,108,873 bytes", 10: "10 bytes"} {
+		if got := sizeText(n); got != want {
+			t.Errorf("sizeText(%d) = %q, want %q", n, got, want)
+		}
+	}
+}

@@ -103,7 +103,7 @@ func readFile(path string, layout []Sheet) (*Schedule, *Report, error) {
 			Msg: fmt.Sprintf("is one CSV file; give the folder that holds %s and the other sheets", csvFiles(layout))}
 	}
 	if st.Size() > MaxFileSize {
-		return nil, nil, &CellError{Sheet: name, Err: ErrTooLarge, Msg: fmt.Sprintf("is %d bytes, more than the %d bytes allowed", st.Size(), MaxFileSize)}
+		return nil, nil, &CellError{Sheet: name, Err: ErrTooLarge, Msg: fmt.Sprintf("is %s, more than the %s allowed", sizeText(st.Size()), sizeText(MaxFileSize))}
 	}
 	f, err := os.Open(path)
 	if err != nil {
@@ -128,7 +128,7 @@ func ReadXLSX(r io.ReaderAt, size int64) (*Schedule, *Report, error) {
 
 func readXLSX(r io.ReaderAt, size int64, layout []Sheet) (*Schedule, *Report, error) {
 	if size > MaxFileSize {
-		return nil, nil, &CellError{Err: ErrTooLarge, Msg: fmt.Sprintf("is %d bytes, more than the %d bytes allowed", size, MaxFileSize)}
+		return nil, nil, &CellError{Err: ErrTooLarge, Msg: fmt.Sprintf("is %s, more than the %s allowed", sizeText(size), sizeText(MaxFileSize))}
 	}
 	if size == 0 {
 		return nil, nil, &CellError{Err: ErrFormat, Msg: "is empty, not an .xlsx workbook"}
@@ -289,7 +289,7 @@ func (t *tableReader) nextRow() (int, []string, bool) {
 		}
 		if n > MaxRows {
 			t.broken = true
-			t.fatal = &CellError{Sheet: t.sh.Name, Cell: cellName(1, n), Err: ErrTooLarge, Msg: fmt.Sprintf("sheet has more than %d rows", MaxRows)}
+			t.fatal = &CellError{Sheet: t.sh.Name, Cell: cellName(1, n), Err: ErrTooLarge, Msg: fmt.Sprintf("the sheet has more than %s rows", countText(MaxRows))}
 			return 0, nil, false
 		}
 		blank := true
@@ -320,7 +320,7 @@ func (t *tableReader) nextRow() (int, []string, bool) {
 			if t.sh.Name == SheetGrants && t.count > MaxGrants+1 { // and the header
 				t.broken = true
 				t.fatal = &CellError{Sheet: t.sh.Name, Cell: cellName(1, n), Err: ErrTooLarge,
-					Msg: fmt.Sprintf("the sheet has more than %d grant rows; grantworth values at most %d grants in one run", MaxGrants, MaxGrants)}
+					Msg: fmt.Sprintf("the sheet has more than %s grant rows; grantworth values at most %s grants in one run", countText(MaxGrants), countText(MaxGrants))}
 				return 0, nil, false
 			}
 			return n, cells, true
