@@ -347,6 +347,16 @@ func TestMonteCarloVersusLattice(t *testing.T) {
 			Market{Spot: 4, VolAnnual: 0.80, DividendYield: 0, Curve: FlatCurve(0.045)}, 24, 40000},
 		{"negative rates, vesting 3", Terms{Strike: 20, YearsToExpiry: 6, YearsToVest: 3, ExerciseMultiple: 2, ExitRate: 0.1},
 			Market{Spot: 20, VolAnnual: 0.30, DividendYield: 0.0, Curve: FlatCurve(-0.005)}, 24, 40000},
+		// issue 11's region: the barrier a node or two from the spot, vested
+		// now or vesting a day, a week, a month away
+		{"barrier near the spot, vested", Terms{Strike: 100, YearsToExpiry: 10, ExerciseMultiple: 1.05, ExitRate: 0.08},
+			Market{Spot: 100, VolAnnual: 0.5, Curve: FlatCurve(0.04)}, 52, 40000},
+		{"barrier near the spot, a day", Terms{Strike: 100, YearsToExpiry: 10, YearsToVest: 1.0 / 365, ExerciseMultiple: 1.3, ExitRate: 0.2},
+			Market{Spot: 127, VolAnnual: 0.4, DividendYield: 0.02, Curve: curve}, 52, 40000},
+		{"barrier near the spot, a week", Terms{Strike: 100, YearsToExpiry: 7, YearsToVest: 7.0 / 365, ExerciseMultiple: 1.8, ExitRate: 0.3},
+			Market{Spot: 184, VolAnnual: 0.6, Curve: curve}, 52, 40000},
+		{"barrier near the spot, a month", Terms{Strike: 100, YearsToExpiry: 10, YearsToVest: 1.0 / 12, ExerciseMultiple: 1.02, ExitRate: 0.1},
+			Market{Spot: 100, VolAnnual: 0.3, Curve: FlatCurve(0.03)}, 52, 40000},
 	}
 	for i, c := range cases {
 		lat, err := Lattice(c.terms, c.mkt, LatticeOptions{})
@@ -354,12 +364,12 @@ func TestMonteCarloVersusLattice(t *testing.T) {
 			t.Fatalf("%s: lattice: %v", c.name, err)
 		}
 		r := mcCheck(t, c.name, c.terms, c.mkt, MCOptions{Paths: c.paths, StepsPerYear: c.spy, Seed: uint64(100 + i)}, lat.Value, lat.ErrorEstimate)
-		// Expected terms: the Monte Carlo term has a standard error of about
-		// (sd of the life ≤ 3 years)/√20,000 pairs ≈ 0.02 years (the pair
-		// shares its exit time), so 0.05 is under 3 of them.
-		if d := r.ExpectedTermYears - lat.ExpectedTermYears; math.Abs(d) > 0.05 {
-			t.Errorf("%s: expected term MC %.4f, lattice %.4f", c.name, r.ExpectedTermYears, lat.ExpectedTermYears)
+		// Expected terms: within 3 of the Monte Carlo term's standard error,
+		// the lattice's estimate counted as one.
+		se := math.Hypot(r.TermError, lat.TermError)
+		if d := r.ExpectedTermYears - lat.ExpectedTermYears; !(math.Abs(d) <= mcZMax*se) {
+			t.Errorf("%s: expected term MC %.4f ± %.4f, lattice %.4f ± %.4f, z = %.2f", c.name, r.ExpectedTermYears, r.TermError, lat.ExpectedTermYears, lat.TermError, d/se)
 		}
-		t.Logf("  lattice %.5f ± %.5f, term %.4f (MC term %.4f)", lat.Value, lat.ErrorEstimate, lat.ExpectedTermYears, r.ExpectedTermYears)
+		t.Logf("  lattice %.5f ± %.5f, term %.4f ± %.4f (MC term %.4f ± %.4f)", lat.Value, lat.ErrorEstimate, lat.ExpectedTermYears, lat.TermError, r.ExpectedTermYears, r.TermError)
 	}
 }
