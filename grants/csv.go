@@ -214,14 +214,24 @@ func hashFile(h io.Writer, path, name string, framed bool) error {
 }
 
 // isSheet reports whether name (a sheet or file name without extension)
-// stands for a sheet grantworth reads.
+// stands for a sheet grantworth reads, in a schedule or a designs workbook.
 func isSheet(name string) bool {
-	for _, sh := range Sheets {
-		if norm(sh.Name) == norm(name) {
-			return true
+	_, ok := canonicalSheet(name)
+	return ok
+}
+
+// canonicalSheet is the canonical name of the sheet of a schedule or a
+// designs workbook that name (a sheet or file name without extension)
+// stands for.
+func canonicalSheet(name string) (string, bool) {
+	for _, layout := range [][]Sheet{Sheets, DesignSheets} {
+		for _, sh := range layout {
+			if norm(sh.Name) == norm(name) {
+				return sh.Name, true
+			}
 		}
 	}
-	return false
+	return name, false
 }
 
 func firstInvalid(b []byte) int {
@@ -237,12 +247,8 @@ func firstInvalid(b []byte) int {
 
 // sheetOf is the canonical name of the sheet a file name stands for.
 func sheetOf(name string) string {
-	for _, sh := range Sheets {
-		if norm(sh.Name) == norm(name) {
-			return sh.Name
-		}
-	}
-	return name
+	s, _ := canonicalSheet(name)
+	return s
 }
 
 // csvRows numbers records the way a spreadsheet shows them: blank lines
