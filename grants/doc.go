@@ -1,10 +1,11 @@
 // Package grants owns everything spreadsheet-shaped in grantworth: the grant
 // schedule model, reading it from an .xlsx workbook or a folder of CSV files,
 // validation with cell references, the expansion of grants into vesting
-// tranches, the valuation inputs of each grant with the source of every
-// assumption, and (in expense.go and disclosure.go) expense attribution and
-// disclosure roll-forwards. It does no numerics of its own beyond counting
-// shares; valuation does those.
+// tranches, the one rule that gives events to tranches (Allocate), and the
+// valuation inputs of each grant with the source of every assumption. It
+// does no numerics of its own beyond counting shares; valuation does
+// those. Below it, package pricing values a whole schedule and package
+// accounting books it.
 //
 // # The workbook
 //
@@ -26,9 +27,7 @@
 //   - Percentages: 0.45, a cell formatted 45% (which stores 0.45), or the
 //     text "45%".
 //   - A formula is read by the value the spreadsheet saved with it; a formula
-//     with no saved value is an error naming the cell. (To find those, a
-//     workbook that holds any formula has its sheets loaded whole rather
-//     than streamed; one without formulas is streamed row by row.)
+//     with no saved value is an error naming the cell.
 //
 // A CSV folder holds one UTF-8 file per sheet (grants.csv, company.csv, ...;
 // an optional byte-order mark is dropped; quoted fields may hold commas and
@@ -36,13 +35,23 @@
 // so problems carry the same Sheet!Cell references as in a workbook. A file
 // separated by semicolons or tabs is refused with a message saying so.
 //
+// The workbook is read by this package's own streaming reader of the zip
+// archive and its XML parts (xlsx.go, xmlscan.go), not by a spreadsheet
+// library: every part read is read to its end, so a wrong checksum or size
+// in the archive, XML that is cut short or does not close, or a cell that
+// refers to a string the workbook lacks is an error wrapping ErrDamaged and
+// naming the sheet, never a schedule with rows missing.
+//
 // # Limits
 //
-// Untrusted workbooks cannot exhaust memory: files are capped at MaxFileSize
-// bytes, a workbook at MaxUnzipSize unzipped (large worksheets stream
-// through a temporary file), each sheet at MaxRows rows and each row at
-// MaxColumns non-empty columns. Counts written inside a file are never used
-// to size anything.
+// Untrusted workbooks cannot exhaust memory or time: files are capped at
+// MaxFileSize bytes, a workbook at MaxUnzipSize unzipped, each sheet at
+// MaxRows rows, each row at MaxColumns non-empty columns, each cell at
+// MaxCellChars characters, the shared strings at MaxSharedStrings strings
+// and MaxSharedStringBytes bytes. Each limit is checked while streaming,
+// before memory is taken for what it bounds, and a file past one is an
+// error wrapping ErrTooLarge that names the sheet. Counts written inside a
+// file are never used to size anything.
 //
 // # Problems
 //
@@ -68,7 +77,9 @@
 //     Assumptions; a warning for a strike below the share price at grant, a
 //     grant after the valuation date, a vest_start over a year after grant.
 //   - Market: a share price at every measurement date (the row's share_price
-//     or a Share Prices row on or before it), with a warning when the latest
+//     or a Share Prices row on or before it), and one at the valuation date
+//     when an option or warrant is granted by then (PeriodEndPrice, for
+//     the disclosures' intrinsic values), with a warning when the latest
 //     valuation is more than StaleMonths old at the grant date (common
 //     practice); a Rates curve dated on or before every measurement date of
 //     an option or warrant; prices above 0 and one per date; tenors from 0
@@ -85,7 +96,7 @@
 // # Measurement
 //
 // Tranches expands a grant into vesting tranches (DESIGN §4.2) with its
-// forfeitures applied; Inputs gives a grant's valuation.Terms per tranche,
+// forfeitures applied by Allocate; Inputs gives a grant's valuation.Terms per tranche,
 // its valuation.Market at the measurement date (the grant date, or the
 // valuation date for a liability-classified warrant) and the source of each
 // assumption, ready for the memo.

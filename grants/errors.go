@@ -3,7 +3,9 @@ package grants
 import (
 	"errors"
 	"fmt"
+	"strconv"
 	"strings"
+	"unicode/utf8"
 )
 
 // Sentinel errors wrapped by CellError, so callers and tests can use errors.Is.
@@ -24,6 +26,7 @@ var (
 	ErrMissingColumn = errors.New("column is missing")
 	ErrFormat        = errors.New("is not a grant schedule in a readable format")
 	ErrTooLarge      = errors.New("is too large")
+	ErrDamaged       = errors.New("is damaged")
 )
 
 // CellError is a problem with one cell (or, with Cell empty, one sheet) of
@@ -55,7 +58,7 @@ func (e *CellError) Error() string {
 	}
 	b.WriteString(": ")
 	if e.Value != "" {
-		fmt.Fprintf(&b, "%q ", e.Value)
+		writeQuoted(&b, e.Value)
 	}
 	if e.Msg != "" {
 		b.WriteString(e.Msg)
@@ -156,4 +159,45 @@ func (e reportError) Unwrap() []error {
 		out[i] = ce
 	}
 	return out
+}
+
+// maxQuoted is how many characters of a cell's text a message quotes; a
+// longer text is cut and its length given.
+const maxQuoted = 60
+
+func writeQuoted(b *strings.Builder, v string) {
+	n := utf8.RuneCountInString(v)
+	if n <= maxQuoted {
+		fmt.Fprintf(b, "%q ", v)
+		return
+	}
+	i := 0
+	for k := 0; k < maxQuoted; k++ {
+		_, size := utf8.DecodeRuneInString(v[i:])
+		i += size
+	}
+	fmt.Fprintf(b, "%q (%d characters) ", v[:i]+"…", n)
+}
+
+// countText writes n with thousands separators: 200,000.
+func countText(n int) string {
+	s := strconv.Itoa(n)
+	neg := strings.HasPrefix(s, "-")
+	s = strings.TrimPrefix(s, "-")
+	for i := len(s) - 3; i > 0; i -= 3 {
+		s = s[:i] + "," + s[i:]
+	}
+	if neg {
+		s = "-" + s
+	}
+	return s
+}
+
+// sizeText writes a size in bytes: whole MiB as such ("64 MiB"), anything
+// else in bytes with separators.
+func sizeText(n int64) string {
+	if n >= 1<<20 && n%(1<<20) == 0 {
+		return countText(int(n>>20)) + " MiB"
+	}
+	return countText(int(n)) + " bytes"
 }

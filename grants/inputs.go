@@ -12,6 +12,9 @@ type Source struct {
 	Value float64
 	Ref   Ref    // the cell it was read from; the zero Ref for a default
 	Text  string // for the memo, e.g. "Share Prices!B7 (valuation of 2025-03-31)"
+	// Since is the effective_date of the Assumptions row it came from;
+	// zero for an undated row and for every other source.
+	Since time.Time
 }
 
 // Inputs is everything the valuation needs for one grant, with provenance.
@@ -39,9 +42,10 @@ type Inputs struct {
 //
 // The share price is the grant row's share_price, else the Share Prices
 // row in force at the measurement date. Volatility and dividend yield are
-// the row's overrides, else the Assumptions. The exercise multiple and
-// post-vesting exit rate describe employees: options take the row's
-// overrides, else the Assumptions; warrants take only the row's (default
+// the row's overrides, else the Assumptions in force at the measurement
+// date (Assumptions.At). The exercise multiple and post-vesting exit rate
+// describe employees: options take the row's overrides, else the
+// Assumptions in force; warrants take only the row's (default
 // none); RSUs have neither. The curve is the latest Rates curve dated on or
 // before the measurement date. For an RSU, YearsToExpiry equals
 // YearsToVest and the strike is 0. American warrants get Rational, european
@@ -72,25 +76,9 @@ func (s *Schedule) Inputs(g Grant) (Inputs, error) {
 		return fail("share_price", "no share price is known at %s for grant %s", isoDay(md), g.ID)
 	}
 
-	a := &s.Assumptions
-	assumed := func(key string, v float64) Source {
-		r, ok := a.Refs[key]
-		if !ok && a.Refs == nil { // built in code: every value given
-			text := "Assumptions"
-			if src := a.Sources[key]; src != "" {
-				text = src
-			}
-			return Source{Value: v, Text: text}
-		}
-		if !ok {
-			return Source{Value: v, Text: "default"}
-		}
-		text := r.String()
-		if src := a.Sources[key]; src != "" {
-			text = src + " (" + r.String() + ")"
-		}
-		return Source{Value: v, Ref: r, Text: text}
-	}
+	view := s.Assumptions.At(md)
+	a := &view
+	assumed := func(key string, v float64) Source { return a.source(key, v) }
 	override := func(key string, p *float64, fallback Source) Source {
 		if p == nil {
 			return fallback
@@ -172,6 +160,38 @@ func (s *Schedule) Inputs(g Grant) (Inputs, error) {
 	return in, nil
 }
 
+// source is the Source of key, whose value in a (a view made by At) is v:
+// its cell and source text, and the date the row is in force from.
+func (a *Assumptions) source(key string, v float64) Source {
+	since := ""
+	if d, ok := a.Since[key]; ok {
+		since = "in force from " + isoDay(d)
+	}
+	r, ok := a.Refs[key]
+	if !ok && a.Refs == nil { // built in code: every value given
+		text := "Assumptions"
+		if src := a.Sources[key]; src != "" {
+			text = src
+		}
+		if since != "" {
+			text += " (" + since + ")"
+		}
+		return Source{Value: v, Text: text, Since: a.Since[key]}
+	}
+	if !ok {
+		return Source{Value: v, Text: "default"}
+	}
+	where := r.String()
+	if since != "" {
+		where += ", " + since
+	}
+	text := where
+	if src := a.Sources[key]; src != "" {
+		text = src + " (" + where + ")"
+	}
+	return Source{Value: v, Ref: r, Text: text, Since: a.Since[key]}
+}
+
 // has reports whether key was given on the Assumptions sheet (for
 // Assumptions built in code, with no Refs, whether volatility is set; every
 // other key has a usable zero default).
@@ -181,4 +201,73 @@ func (a *Assumptions) has(key string) bool {
 	}
 	_, ok := a.Refs[key]
 	return ok
+}
+
+// ValueInputs collects the inputs of every grant made on or before the
+// valuation date (a later grant is not outstanding at the period end and
+// is left out, with a warning in skipped), or every error found.
+func (s *Schedule) ValueInputs() (ins []Inputs, errs []error, skipped []string) {
+	for _, g := range s.Grants {
+		if valuation.Days(s.Company.ValuationDate, g.GrantDate) > 0 {
+			skipped = append(skipped, fmt.Sprintf("grant %s, dated %s after the valuation date %s, is left out of this valuation",
+				g.ID, isoDay(g.GrantDate), isoDay(s.Company.ValuationDate)))
+			continue
+		}
+		in, err := s.Inputs(g)
+		if err != nil {
+			errs = append(errs, err)
+			continue
+		}
+		ins = append(ins, in)
+	}
+	return ins, errs, skipped
+}
+
+// PeriodEndPrice is the share price in force at the valuation date (the
+// Share Prices row dated on or before it), with its cell: the disclosures
+// value options and warrants outstanding at the period end at it. When no
+// row is dated on or before the valuation date the error, a *CellError,
+// names the valuation date's cell.
+func (s *Schedule) PeriodEndPrice() (Source, error) {
+	src, err := s.periodEndPrice()
+	if err != nil {
+		return src, err
+	}
+	return src, nil
+}
+
+func (s *Schedule) periodEndPrice() (Source, *CellError) {
+	d := s.Company.ValuationDate
+	if p, ok := s.PriceAt(d); ok {
+		r := s.cell(SheetSharePrices, "price", p.Row, nil)
+		return Source{Value: p.Price, Ref: r, Text: fmt.Sprintf("%s (valuation of %s)", r, isoDay(p.Date))}, nil
+	}
+	r := s.cell(SheetCompany, "valuation_date", 0, s.Company.Refs)
+	return Source{}, &CellError{Sheet: r.Sheet, Cell: r.Cell, Column: "valuation_date", Value: isoDay(d), Err: ErrRequired,
+		Msg: "has no share price: no Share Prices row is dated on or before it, and the intrinsic values of the options and warrants outstanding at the period end need one"}
+}
+
+// NeedsPeriodEndPrice reports whether an option or warrant is granted by
+// the valuation date, so that the disclosures need PeriodEndPrice (an
+// RSU has no intrinsic value to show apart from its price).
+func (s *Schedule) NeedsPeriodEndPrice() bool {
+	for _, g := range s.Grants {
+		if g.Instrument != RSU && !g.GrantDate.IsZero() && !g.GrantDate.After(s.Company.ValuationDate) {
+			return true
+		}
+	}
+	return false
+}
+
+// Period is the reporting period of the schedule: its period start to its
+// valuation date, as calendar days. A period start the schedule does not
+// give is the reader's default, QuarterStart of the valuation date.
+func (s *Schedule) Period() (start, end time.Time) {
+	day := func(t time.Time) time.Time { return time.Date(t.Year(), t.Month(), t.Day(), 0, 0, 0, 0, time.UTC) }
+	end = day(s.Company.ValuationDate)
+	start = day(s.Company.PeriodStart)
+	if s.Company.PeriodStart.IsZero() {
+		start = QuarterStart(end)
+	}
+	return start, end
 }

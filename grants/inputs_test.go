@@ -100,3 +100,35 @@ func TestInputsMissingCurve(t *testing.T) {
 		t.Errorf("validate did not report it:\n%s", problems(&rep))
 	}
 }
+
+// A grant made after the valuation date is left out, with a warning that
+// names it; the others keep their order.
+func TestValueInputsLeavesOutLaterGrants(t *testing.T) {
+	s := smallSchedule()
+	late := s.Grants[0]
+	late.ID, late.GrantDate = "G-LATE", s.Company.ValuationDate.AddDate(0, 0, 1)
+	s.Grants = append(s.Grants, late)
+	ins, errs, skipped := s.ValueInputs()
+	if len(errs) > 0 {
+		t.Fatal(errs)
+	}
+	if len(ins) != len(s.Grants)-1 || len(skipped) != 1 || !strings.Contains(skipped[0], "grant G-LATE") {
+		t.Fatalf("%d inputs of %d grants, skipped %q", len(ins), len(s.Grants), skipped)
+	}
+	for i, in := range ins {
+		if in.Grant.ID != s.Grants[i].ID {
+			t.Errorf("input %d is grant %s, want %s", i, in.Grant.ID, s.Grants[i].ID)
+		}
+	}
+}
+
+// The period defaults to the three months that end on the valuation date
+// (DESIGN §4.2: "the first day of the quarter that ends on valuation_date"),
+// as the reader fills it in.
+func TestSchedulePeriodDefault(t *testing.T) {
+	s := &Schedule{Company: Company{ValuationDate: d("2026-11-20")}}
+	start, end := s.Period()
+	if !start.Equal(d("2026-08-21")) || !end.Equal(d("2026-11-20")) {
+		t.Errorf("period %v..%v, want 2026-08-21..2026-11-20", start, end)
+	}
+}

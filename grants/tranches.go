@@ -18,47 +18,37 @@ import (
 // m falls on vest_start plus m months, a missing day becoming the month's
 // last day. A grant with vest_months 0 is one tranche vested at grant.
 //
-// A forfeited (or cancelled) event takes its shares from the tranches that
-// vest after its date, the latest vest date first (the order the expense
-// attribution uses; a termination forfeits them all); a tranche vesting on
-// the event's date has vested. Shares beyond the unvested ones concern
-// vested shares, as do exercised and expired events, and change no tranche.
-// A grant with no shares has no tranches.
+// Forfeited and cancelled events take their shares by the rule of
+// Allocate: from the tranches that vest after the event's date, latest
+// vest date first (a termination forfeits them all); a tranche vesting on
+// the event's date has vested. Shares taken from vested tranches, and
+// exercised and expired events, change no tranche's Forfeited or
+// Cancelled. A grant with no shares has no tranches.
 func (s *Schedule) Tranches(g Grant) []Tranche {
-	var ts []Tranche
-	if rows := s.vestRows(g.ID); len(rows) > 0 {
-		ts = customTranches(g, rows)
-	} else {
-		ts = expand(g)
-	}
-	for _, e := range s.EventsOf(g.ID) {
-		if e.Kind != Forfeited && e.Kind != Cancelled {
+	ts := s.tranchesBeforeEvents(g)
+	for _, m := range Allocate(ts, s.EventsOf(g.ID)).Moves {
+		if m.Vested {
 			continue
 		}
-		left := e.Shares
-		for i := len(ts) - 1; i >= 0; i-- {
-			if left <= 0 {
-				break
-			}
-			t := &ts[i]
-			if !t.VestDate.After(e.Date) {
-				continue
-			}
-			take := min(left, t.Vesting())
-			if take <= 0 {
-				continue
-			}
-			left -= take
-			if e.Kind == Forfeited {
-				t.Forfeited += take
-				t.ForfeitDate = e.Date
-			} else {
-				t.Cancelled += take
-				t.CancelDate = e.Date
-			}
+		t := &ts[m.Tranche]
+		switch m.Kind {
+		case Forfeited:
+			t.Forfeited += m.Shares
+			t.ForfeitDate = m.Date
+		case Cancelled:
+			t.Cancelled += m.Shares
+			t.CancelDate = m.Date
 		}
 	}
 	return ts
+}
+
+// tranchesBeforeEvents is the vesting of g with no events applied.
+func (s *Schedule) tranchesBeforeEvents(g Grant) []Tranche {
+	if rows := s.vestRows(g.ID); len(rows) > 0 {
+		return customTranches(g, rows)
+	}
+	return expand(g)
 }
 
 // expand applies the column schedule of DESIGN §4.2.

@@ -44,6 +44,7 @@ func validate(s *Schedule, skip map[string]bool) Report {
 	v.grants()
 	v.vesting()
 	v.events()
+	v.designs()
 	return v.rep
 }
 
@@ -96,6 +97,11 @@ func (v *validator) company() {
 		v.rep.errf(v.s.cell(SheetCompany, "period_start", 0, co.Refs), "period_start", isoDay(co.PeriodStart), ErrRange,
 			"must be before valuation_date %s", isoDay(co.ValuationDate))
 	}
+	if v.s.NeedsPeriodEndPrice() {
+		if _, err := v.s.periodEndPrice(); err != nil {
+			v.rep.addErr(err)
+		}
+	}
 	if co.SharesOutstanding < 0 {
 		v.rep.errf(v.s.cell(SheetCompany, "shares_outstanding", 0, co.Refs), "shares_outstanding", num(co.SharesOutstanding), ErrRange, "must be more than zero")
 	}
@@ -118,6 +124,12 @@ func (v *validator) vol(sheet string, row int, refs map[string]Ref, x float64) {
 	}
 }
 
+func (v *validator) yield(sheet string, row int, refs map[string]Ref, x float64) {
+	if x < 0 || x >= 1 {
+		v.rep.errf(v.s.cell(sheet, "dividend_yield", row, refs), "dividend_yield", num(x), ErrRange, "must be at least 0 and below 1 (100%%)")
+	}
+}
+
 func (v *validator) multiple(sheet string, row int, refs map[string]Ref, x float64) {
 	if x != 0 && x <= 1 || x < 0 || x > 100 {
 		v.rep.errf(v.s.cell(sheet, "exercise_multiple", row, refs), "exercise_multiple", num(x), ErrRange, "must be 0 (no such rule) or above 1, up to 100 times the strike")
@@ -129,17 +141,38 @@ func (v *validator) assumptions() {
 	sh := SheetAssumptions
 	if a.has("volatility") {
 		v.vol(sh, 0, a.Refs, a.Volatility)
-	} else {
-		for _, g := range v.s.Grants {
-			if g.Volatility == nil && g.Instrument != RSU {
-				v.rep.errf(Ref{Sheet: sh}, "volatility", "", ErrRequired, "key is missing, and grant %s (%s) gives none", g.ID, v.s.cell(SheetGrants, "volatility", g.Row, g.Refs))
-				break
-			}
+	}
+	for _, g := range v.s.Grants {
+		if g.Volatility != nil || g.Instrument == RSU {
+			continue
+		}
+		md := v.s.MeasurementDate(g)
+		if at := a.At(md); at.has("volatility") {
+			continue
+		}
+		if !a.dated("volatility") {
+			v.rep.errf(Ref{Sheet: sh}, "volatility", "", ErrRequired, "key is missing, and grant %s (%s) gives none", g.ID, v.s.cell(SheetGrants, "volatility", g.Row, g.Refs))
+		} else {
+			v.rep.errf(Ref{Sheet: sh}, "volatility", "", ErrRequired, "has no row in force on %s, the measurement date of grant %s (%s gives none): add a row without effective_date or one dated on or before it", isoDay(md), g.ID, v.s.cell(SheetGrants, "volatility", g.Row, g.Refs))
+		}
+		break
+	}
+	for _, r := range a.Dated {
+		refs := map[string]Ref{r.Key: r.Ref}
+		switch r.Key {
+		case "volatility":
+			v.vol(sh, 0, refs, r.Value)
+		case "dividend_yield":
+			v.yield(sh, 0, refs, r.Value)
+		case "exercise_multiple":
+			v.multiple(sh, 0, refs, r.Value)
+		case "post_vesting_exit_rate":
+			v.rate(sh, r.Key, 0, refs, r.Value, "the annual share of vested holders who leave")
+		case "pre_vesting_forfeiture_rate":
+			v.rate(sh, r.Key, 0, refs, r.Value, "the annual share of unvested holders who leave")
 		}
 	}
-	if a.DividendYield < 0 || a.DividendYield >= 1 {
-		v.rep.errf(v.s.cell(sh, "dividend_yield", 0, a.Refs), "dividend_yield", num(a.DividendYield), ErrRange, "must be at least 0 and below 1 (100%%)")
-	}
+	v.yield(sh, 0, a.Refs, a.DividendYield)
 	v.multiple(sh, 0, a.Refs, a.ExerciseMultiple)
 	v.rate(sh, "post_vesting_exit_rate", 0, a.Refs, a.PostVestingExitRate, "the annual share of vested holders who leave")
 	v.rate(sh, "pre_vesting_forfeiture_rate", 0, a.Refs, a.PreVestingForfeitureRate, "the annual share of unvested holders who leave")
@@ -252,8 +285,8 @@ func (v *validator) grants() {
 		if g.Volatility != nil {
 			v.vol(SheetGrants, g.Row, g.Refs, *g.Volatility)
 		}
-		if g.DividendYield != nil && (*g.DividendYield < 0 || *g.DividendYield >= 1) {
-			v.rep.errf(ref("dividend_yield"), "dividend_yield", num(*g.DividendYield), ErrRange, "must be at least 0 and below 1 (100%%)")
+		if g.DividendYield != nil {
+			v.yield(SheetGrants, g.Row, g.Refs, *g.DividendYield)
 		}
 		if g.ExerciseMultiple != nil {
 			v.multiple(SheetGrants, g.Row, g.Refs, *g.ExerciseMultiple)
@@ -424,65 +457,31 @@ func (v *validator) events() {
 			continue
 		}
 		g, _ := v.grant(id)
-		evs := byGrant[id]
-		sort.SliceStable(evs, func(i, j int) bool { return evs[i].Date.Before(evs[j].Date) })
-		ts := s.tranchesBeforeEvents(g)
-		live := make([]int64, len(ts)) // shares of each tranche not forfeited or cancelled
-		for i, t := range ts {
-			live[i] = t.Shares
-		}
-		var usedVested int64                         // vested shares exercised, expired or cancelled
-		takeUnvested := func(d time.Time, n int64) { // latest vest date first, as Tranches does
-			for i := len(ts) - 1; i >= 0; i-- {
-				if n <= 0 {
-					return
-				}
-				if ts[i].VestDate.After(d) {
-					k := min(n, live[i])
-					live[i] -= k
-					n -= k
-				}
-			}
-		}
-		for _, e := range evs {
-			var vested, unvested int64
-			for i, t := range ts {
-				if t.VestDate.After(e.Date) {
-					unvested += live[i]
-				} else {
-					vested += live[i]
-				}
-			}
-			vestedOut := vested - usedVested
+		gref := s.cell(SheetGrants, "shares", g.Row, g.Refs)
+		for _, tk := range Allocate(s.tranchesBeforeEvents(g), byGrant[id]).Events {
+			e := tk.Event
 			ref := s.cell(SheetEvents, "shares", e.Row, nil)
-			gref := s.cell(SheetGrants, "shares", g.Row, g.Refs)
+			n := strconv.FormatInt(e.Shares, 10)
 			switch e.Kind {
 			case Forfeited:
 				switch {
-				case e.Shares > unvested+vestedOut:
-					v.rep.errf(ref, "shares", strconv.FormatInt(e.Shares, 10), ErrRange,
-						"forfeits more than the %d shares outstanding of grant %s on %s (%s)", max(unvested+vestedOut, 0), id, isoDay(e.Date), gref)
-				case e.Shares > unvested:
-					v.rep.warnf(ref, "shares", strconv.FormatInt(e.Shares, 10), ErrRange,
-						"is more than the %d unvested shares of grant %s on %s; the rest are taken from vested shares (record those as expired)", unvested, id, isoDay(e.Date))
+				case tk.Short > 0:
+					v.rep.errf(ref, "shares", n, ErrRange,
+						"forfeits more than the %d shares outstanding of grant %s on %s (%s)", tk.Unvested+tk.Vested, id, isoDay(e.Date), gref)
+				case tk.FromVested > 0:
+					v.rep.warnf(ref, "shares", n, ErrRange,
+						"is more than the %d unvested shares of grant %s on %s; the rest are taken from vested shares (record those as expired)", tk.Unvested, id, isoDay(e.Date))
 				}
-				k := min(e.Shares, unvested)
-				takeUnvested(e.Date, k)
-				usedVested += e.Shares - k
 			case Exercised, Expired:
-				if e.Shares > vestedOut {
-					v.rep.errf(ref, "shares", strconv.FormatInt(e.Shares, 10), ErrRange,
-						"%s more than the %d vested shares outstanding of grant %s on %s (%s)", verb(e.Kind), max(vestedOut, 0), id, isoDay(e.Date), gref)
+				if tk.Short > 0 {
+					v.rep.errf(ref, "shares", n, ErrRange,
+						"%s more than the %d vested shares outstanding of grant %s on %s (%s)", verb(e.Kind), tk.Vested, id, isoDay(e.Date), gref)
 				}
-				usedVested += e.Shares
 			case Cancelled:
-				if e.Shares > unvested+vestedOut {
-					v.rep.errf(ref, "shares", strconv.FormatInt(e.Shares, 10), ErrRange,
-						"cancels more than the %d shares outstanding of grant %s on %s (%s)", max(unvested+vestedOut, 0), id, isoDay(e.Date), gref)
+				if tk.Short > 0 {
+					v.rep.errf(ref, "shares", n, ErrRange,
+						"cancels more than the %d shares outstanding of grant %s on %s (%s)", tk.Unvested+tk.Vested, id, isoDay(e.Date), gref)
 				}
-				k := min(e.Shares, unvested)
-				takeUnvested(e.Date, k)
-				usedVested += e.Shares - k
 			}
 		}
 	}
@@ -493,14 +492,6 @@ func verb(k EventKind) string {
 		return "exercises"
 	}
 	return "expires"
-}
-
-// tranchesBeforeEvents is the vesting of g with no events applied.
-func (s *Schedule) tranchesBeforeEvents(g Grant) []Tranche {
-	if rows := s.vestRows(g.ID); len(rows) > 0 {
-		return customTranches(g, rows)
-	}
-	return expand(g)
 }
 
 // MeasurementDate is the date a grant is measured at: the grant date, or

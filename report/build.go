@@ -7,6 +7,8 @@ import (
 	"time"
 
 	"grantworth/grants"
+	"grantworth/grants/accounting"
+	"grantworth/grants/pricing"
 )
 
 // Summarize fills the sums of m from its tranches: each grant's total,
@@ -76,12 +78,12 @@ type Run struct {
 	Warnings []string
 }
 
-// Build lays the schedule s and its valuation v into a Model: every grant
-// with its inputs, their provenance and tranche results, the sums
-// (Summarize), the sensitivity cases, the convergence study, the Monte
-// Carlo check and the period's expense attribution (AddExpense, with the
-// revaluations v already holds). It values nothing.
-func Build(s *grants.Schedule, v *grants.Valuation, run Run) (*Model, error) {
+// Build lays the schedule s, its valuation v and the books b of its close
+// into a Model: every grant with its inputs, their provenance and tranche
+// results, the sums (Summarize), the sensitivity cases, the convergence
+// study, the Monte Carlo check and the period's expense attribution,
+// journal and disclosures. It values and books nothing.
+func Build(s *grants.Schedule, v *pricing.Valuation, b *accounting.Books, run Run) (*Model, error) {
 	m := &Model{Tool: run.Tool, Input: run.Input, Warnings: append(make([]string, 0, len(run.Warnings)), run.Warnings...)}
 	m.Company = Company{Name: s.Company.Name, Currency: s.Company.Currency, SharesOutstanding: s.Company.SharesOutstanding}
 	m.ValuationDate = DateOf(s.Company.ValuationDate)
@@ -90,8 +92,9 @@ func Build(s *grants.Schedule, v *grants.Valuation, run Run) (*Model, error) {
 	if n := v.Options.Lattice.Steps; n > 0 {
 		m.Settings.Steps = strconv.Itoa(n) + " (raw lattice)"
 	}
-	m.Settings.Attribution = string(s.Assumptions.Attribution)
-	m.Settings.Forfeitures = string(s.Assumptions.Forfeitures)
+	policy := s.InForce()
+	m.Settings.Attribution = string(policy.Attribution)
+	m.Settings.Forfeitures = string(policy.Forfeitures)
 	m.Caution = Caution
 	m.Assumptions = companyAssumptions(s)
 	for i := range v.Grants {
@@ -146,18 +149,14 @@ func Build(s *grants.Schedule, v *grants.Valuation, run Run) (*Model, error) {
 	case v.MonteCarloRational:
 		m.Settings.MonteCarlo = "No Monte Carlo check: every lattice-valued award allows rational early exercise, which the simulation does not model."
 	}
-	var price float64
-	if pp, ok := s.PriceAt(s.Company.ValuationDate); ok {
-		price = pp.Price
-	}
-	if err := AddExpense(m, s, price, v.Revalued); err != nil {
-		return nil, err
-	}
+	m.Expense = expenseModel(b)
+	m.Warnings = append(m.Warnings, b.Warnings...)
 	m.Warnings = append(m.Warnings, v.Warnings...)
+	m.Warnings = append(m.Warnings, MemoTextWarnings(s, run.Input.Path)...)
 	return m, nil
 }
 
-func grantOf(gv *grants.GrantValue) Grant {
+func grantOf(gv *pricing.GrantValue) Grant {
 	in, g := gv.Inputs, gv.Inputs.Grant
 	rg := Grant{
 		ID: g.ID, Holder: g.Holder, Instrument: string(g.Instrument),
@@ -188,11 +187,8 @@ func grantOf(gv *grants.GrantValue) Grant {
 		tr := Tranche{Index: t.Index, VestDate: DateOf(t.VestDate), Shares: t.Shares,
 			YearsToExpiry: term.YearsToExpiry, YearsToVest: term.YearsToVest,
 			FairValuePerShare: r.Value, ErrorEstimate: r.ErrorEstimate, ExpectedTermYears: r.ExpectedTermYears, Steps: r.Steps,
-			BSMSimplifiedValue: b.Value, SimplifiedTerm: b.ExpectedTermYears}
-		if c := in.Market.Curve; c != nil {
-			tr.RiskFreeRate = c.Zero(term.YearsToExpiry)
-			tr.SimplifiedRate = c.Zero(b.ExpectedTermYears)
-		}
+			BSMSimplifiedValue: b.Value, SimplifiedTerm: b.ExpectedTermYears,
+			RiskFreeRate: gv.RiskFreeRate[k], SimplifiedRate: gv.SimplifiedRate[k]}
 		rg.Tranches = append(rg.Tranches, tr)
 	}
 	return rg
@@ -228,17 +224,32 @@ func companyAssumptions(s *grants.Schedule) []Assumption {
 		Assumption{Name: "forfeitures", Kind: KindText, Text: string(a.Forfeitures), Ref: aref("forfeitures"), Source: src("forfeitures")},
 		Assumption{Name: "steps", Kind: KindText, Text: steps, Ref: aref("steps"), Source: src("steps")},
 	)
+	for _, r := range a.Dated {
+		row := Assumption{Name: r.Key, Kind: KindText, Text: r.Text, Ref: r.Ref.String(), Source: r.Source, EffectiveDate: DateOf(r.Effective)}
+		switch r.Key {
+		case "volatility", "dividend_yield", "post_vesting_exit_rate", "pre_vesting_forfeiture_rate":
+			row.Kind, row.Value, row.Text = KindPercent, r.Value, strconv.FormatFloat(r.Value, 'g', -1, 64)
+		case "exercise_multiple":
+			row.Kind, row.Value, row.Text = KindNumber, r.Value, strconv.FormatFloat(r.Value, 'g', -1, 64)
+		case "steps":
+			row.Text = "auto"
+			if r.Value > 0 {
+				row.Text = strconv.FormatFloat(r.Value, 'f', 0, 64)
+			}
+		}
+		out = append(out, row)
+	}
 	return out
 }
 
 // grantAssumptions are the inputs a grant was valued on, each with its
 // cell and source text.
-func grantAssumptions(gv *grants.GrantValue) []Assumption {
+func grantAssumptions(gv *pricing.GrantValue) []Assumption {
 	in, g := gv.Inputs, gv.Inputs.Grant
 	ref := func(k string) string { return g.Refs[k].String() }
 	day := func(t time.Time) string { return DateOf(t).String() }
 	src := func(key, kind string, s grants.Source) Assumption {
-		return Assumption{GrantID: g.ID, Name: key, Kind: kind, Value: s.Value, Text: strconv.FormatFloat(s.Value, 'g', -1, 64), Ref: s.Ref.String(), Source: s.Text}
+		return Assumption{GrantID: g.ID, Name: key, Kind: kind, Value: s.Value, Text: strconv.FormatFloat(s.Value, 'g', -1, 64), Ref: s.Ref.String(), Source: s.Text, EffectiveDate: DateOf(s.Since)}
 	}
 	out := []Assumption{
 		{GrantID: g.ID, Name: "instrument", Kind: KindText, Text: string(g.Instrument), Ref: ref("instrument"), Term: true},

@@ -6,6 +6,8 @@ import (
 	"testing"
 
 	"grantworth/grants"
+	"grantworth/grants/accounting"
+	"grantworth/grants/pricing"
 )
 
 // Build lays a valuation out without changing a number: the Model's
@@ -19,12 +21,16 @@ func TestBuildMapsTheValuation(t *testing.T) {
 	if len(errs) > 0 {
 		t.Fatal(errs)
 	}
-	v, err := s.Value(ins, grants.ValueOptions{})
+	v, err := pricing.Value(s, ins, pricing.Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	b, err := accounting.Close(s, v)
 	if err != nil {
 		t.Fatal(err)
 	}
 	run := Run{Tool: Tool{Name: "grantworth", Version: "test"}, Input: Input{Path: "sample/tarnwick.xlsx", SHA256: "00"}, Warnings: []string{"first warning"}}
-	m, err := Build(s, v, run)
+	m, err := Build(s, v, b, run)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -58,7 +64,7 @@ func TestBuildMapsTheValuation(t *testing.T) {
 	if !strings.HasPrefix(m.Settings.Sensitivities, "Each case revalues every grant") {
 		t.Errorf("settings.sensitivities = %q for a ledger revalued whole", m.Settings.Sensitivities)
 	}
-	if len(m.CrossChecks) != len(v.MonteCarlo) || !strings.Contains(m.Settings.MonteCarlo, count(grants.MonteCarloPaths)+" paths per tranche") {
+	if len(m.CrossChecks) != len(v.MonteCarlo) || !strings.Contains(m.Settings.MonteCarlo, count(pricing.MonteCarloPaths)+" paths per tranche") {
 		t.Errorf("cross checks %+v, settings %q, from %+v", m.CrossChecks, m.Settings.MonteCarlo, v.MonteCarlo)
 	}
 	for j, x := range m.CrossChecks {

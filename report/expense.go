@@ -1,11 +1,9 @@
 package report
 
 import (
-	"fmt"
 	"sort"
-	"time"
 
-	"grantworth/grants"
+	"grantworth/grants/accounting"
 )
 
 // ExpenseDetail is the expense attribution and the disclosure tables beyond
@@ -166,98 +164,7 @@ type WarrantRow struct {
 	IntrinsicValue     float64 `json:"intrinsic_value"`
 }
 
-// Revalue gives a liability-classified warrant's fair value per share of
-// each tranche (in Schedule.Tranches order) measured at date at, for the
-// grant-date measurement and the remeasurements. The value command passes
-// one built on its valuation; nil leaves a liability warrant measured at
-// the valuation date only.
-type Revalue func(g grants.Grant, at time.Time) ([]float64, error)
-
-// AddExpense runs expense attribution and the disclosure tables for the
-// schedule's period over the valued grants of m, and fills m.Expense. It is
-// a build step, like Summarize: the renderers only lay out what it writes.
-// sharePrice is the share's fair value at the valuation date (for intrinsic
-// values). For a liability-classified warrant the fair values in m are
-// those at the valuation date (its measurement date); revalue, when not
-// nil, gives those at the grant date and at past quarter ends so that the
-// change in fair value can be shown apart from compensation.
-func AddExpense(m *Model, s *grants.Schedule, sharePrice float64, revalue Revalue) error {
-	start, end := s.Period()
-	pol := s.ExpensePolicy()
-	var awards []grants.AwardCost
-	for _, mg := range m.Grants {
-		g, ok := s.Grant(mg.ID)
-		if !ok {
-			return fmt.Errorf("expense: grant %s is in the results but not in the schedule", mg.ID)
-		}
-		fv := make([]float64, len(mg.Tranches))
-		var shares, term float64
-		for i, t := range mg.Tranches {
-			fv[i] = t.FairValuePerShare
-			shares += float64(t.Shares)
-			term += float64(t.Shares) * t.ExpectedTermYears
-		}
-		a, err := s.AwardCost(g, fv)
-		if err != nil {
-			return fmt.Errorf("expense: %w", err)
-		}
-		if shares > 0 {
-			a.Measured = &grants.MeasuredAssumptions{Volatility: mg.Volatility, RiskFreeRate: mg.RiskFreeRate, DividendYield: mg.DividendYield, ExpectedTermYears: term / shares}
-		}
-		if g.Instrument == grants.Warrant && g.Classification == grants.Liability {
-			remeasure(&a, fv, end, revalue, m)
-		}
-		awards = append(awards, a)
-	}
-	rep, disc, err := grants.Attribute(awards, pol, start, end, sharePrice)
-	if err != nil {
-		return fmt.Errorf("expense and disclosures: %w", err)
-	}
-	m.Expense = expenseModel(rep, disc)
-	m.Warnings = append(m.Warnings, rep.Warnings...)
-	return nil
-}
-
-// remeasure makes a liability warrant's grant-date value its FairValue and
-// the valuation-date value fv (with past quarter ends, if revalue can give
-// them) its Remeasurements. When revalue is nil or fails (no share price or
-// curve at the grant date, say), the warrant is measured at the valuation
-// date only and a warning says so.
-func remeasure(a *grants.AwardCost, fv []float64, end time.Time, revalue Revalue, m *Model) {
-	g := a.Grant
-	only := func(why string) {
-		m.Warnings = append(m.Warnings, fmt.Sprintf("grant %s: liability-classified warrant measured at the valuation date only (%s); its compensation expense uses that value and no change in fair value is shown apart", g.ID, why))
-		for i := range a.Tranches {
-			a.Tranches[i].FairValue = fv[i]
-		}
-		a.Remeasurements = []grants.Remeasurement{{Date: end, FairValue: fv}}
-	}
-	if revalue == nil {
-		only("no revaluation was run")
-		return
-	}
-	at0, err := revalue(g, g.GrantDate)
-	if err != nil || len(at0) != len(fv) {
-		only(fmt.Sprintf("it could not be valued at its grant date: %v", err))
-		return
-	}
-	ends := grants.RemeasurementDates(g.GrantDate, end)
-	var rs []grants.Remeasurement
-	for _, q := range ends {
-		v, err := revalue(g, q)
-		if err != nil || len(v) != len(fv) {
-			only(fmt.Sprintf("it could not be valued at %s: %v", q.Format(time.DateOnly), err))
-			return
-		}
-		rs = append(rs, grants.Remeasurement{Date: q, FairValue: v})
-	}
-	for i := range a.Tranches {
-		a.Tranches[i].FairValue = at0[i]
-	}
-	a.Remeasurements = append(rs, grants.Remeasurement{Date: end, FairValue: fv})
-}
-
-func periodsOf(ps []grants.PeriodAmount) []ExpensePeriod {
+func periodsOf(ps []accounting.PeriodAmount) []ExpensePeriod {
 	out := make([]ExpensePeriod, 0, len(ps))
 	for _, p := range ps {
 		out = append(out, ExpensePeriod{Start: DateOf(p.Start), End: DateOf(p.End), Amount: p.Amount, FairValueChange: p.FairValueChange, Current: p.Current})
@@ -265,8 +172,10 @@ func periodsOf(ps []grants.PeriodAmount) []ExpensePeriod {
 	return out
 }
 
-// expenseModel lays the attribution and disclosures into the Model's types.
-func expenseModel(r *grants.ExpenseReport, d *grants.Disclosure) *Expense {
+// expenseModel lays the books' attribution, journal and disclosures into
+// the Model's types.
+func expenseModel(b *accounting.Books) *Expense {
+	r, d := b.Expense, b.Disclosure
 	det := &ExpenseDetail{
 		PeriodStart: DateOf(r.PeriodStart), PeriodEnd: DateOf(r.PeriodEnd),
 		Attribution: string(r.Policy.Attribution), Forfeitures: string(r.Policy.Forfeitures),
@@ -312,10 +221,10 @@ func expenseModel(r *grants.ExpenseReport, d *grants.Disclosure) *Expense {
 		det.ByGrantMonth = append(det.ByGrantMonth, *g)
 	}
 	sort.Slice(det.ByGrantMonth, func(i, j int) bool { return det.ByGrantMonth[i].Key < det.ByGrantMonth[j].Key })
-	for _, e := range r.Journal {
+	for _, e := range b.Journal {
 		je := JournalEntry{Description: e.Description}
 		for _, l := range e.Lines {
-			je.Lines = append(je.Lines, JournalLine{Account: l.Account, Debit: l.Debit, Credit: l.Credit})
+			je.Lines = append(je.Lines, JournalLine{Account: l.Account.Name, Debit: l.Debit, Credit: l.Credit})
 		}
 		det.Journal = append(det.Journal, je)
 	}
@@ -328,11 +237,11 @@ func expenseModel(r *grants.ExpenseReport, d *grants.Disclosure) *Expense {
 	}
 }
 
-func rollLine(label string, l grants.RollLine) RollLine {
+func rollLine(label string, l accounting.RollLine) RollLine {
 	return RollLine{Label: label, Shares: l.Shares, WeightedExercisePrice: l.WeightedExercisePrice, WeightedFairValue: l.WeightedFairValue}
 }
 
-func rollModel(r grants.RollForward) RollForward {
+func rollModel(r accounting.RollForward) RollForward {
 	out := RollForward{Instrument: string(r.Instrument), Basis: "outstanding", Balances: r.Check() == nil}
 	if r.Nonvested {
 		out.Basis = "nonvested"
@@ -350,20 +259,20 @@ func rollModel(r grants.RollForward) RollForward {
 	return out
 }
 
-func summaryModel(s grants.OutstandingSummary) []SummaryLine {
-	line := func(label string, l grants.OutstandingLine) SummaryLine {
+func summaryModel(s accounting.OutstandingSummary) []SummaryLine {
+	line := func(label string, l accounting.OutstandingLine) SummaryLine {
 		return SummaryLine{Label: label, Shares: l.Shares, WeightedExercisePrice: l.WeightedExercisePrice,
 			RemainingTermYears: l.WeightedRemainingTermYears, IntrinsicValue: l.AggregateIntrinsicValue}
 	}
 	return []SummaryLine{line("Outstanding", s.Outstanding), line("Exercisable (vested)", s.Exercisable), line("Vested and expected to vest", s.VestedExpected)}
 }
 
-func grantsModel(g grants.GrantsInPeriod) GrantsInPeriod {
+func grantsModel(g accounting.GrantsInPeriod) GrantsInPeriod {
 	return GrantsInPeriod{Grants: g.Grants, Shares: g.Shares, WeightedFairValue: g.WeightedFairValue, Measured: g.Measured,
 		Volatility: g.Volatility, RiskFreeRate: g.RiskFreeRate, DividendYield: g.DividendYield, ExpectedTermYears: g.ExpectedTermYears}
 }
 
-func disclosuresModel(d *grants.Disclosure) *Disclosures {
+func disclosuresModel(d *accounting.Disclosure) *Disclosures {
 	out := &Disclosures{
 		SharePrice: d.SharePrice,
 		Options:    rollModel(d.Options), OptionsAtEnd: summaryModel(d.OptionsAtEnd), OptionGrants: grantsModel(d.OptionGrants),

@@ -13,6 +13,9 @@ import (
 	"github.com/xuri/excelize/v2"
 
 	"grantworth/grants"
+	"grantworth/grants/accounting"
+	"grantworth/grants/pricing"
+	"grantworth/valuation"
 )
 
 func ymdT(s string) time.Time {
@@ -39,6 +42,7 @@ func expenseSchedule() *grants.Schedule {
 			{ID: "Q-4", Holder: "=SUM(A1)", Instrument: grants.Warrant, GrantDate: ymdT("2026-03-01"), Shares: 10000, Strike: 4,
 				ExpiryDate: ymdT("2031-03-01"), VestStart: ymdT("2026-03-01"), VestMonths: 12, VestEvery: 12, Classification: grants.Liability},
 		},
+		SharePrices: []grants.PricePoint{{Date: ymdT("2026-01-01"), Price: 6}},
 		Events: []grants.Event{
 			{GrantID: "Q-1", Date: ymdT("2026-11-30"), Kind: grants.Forfeited, Shares: 2000, Row: 2},
 			{GrantID: "Q-1", Date: ymdT("2026-12-10"), Kind: grants.Exercised, Shares: 600, Row: 3},
@@ -46,10 +50,47 @@ func expenseSchedule() *grants.Schedule {
 	}
 }
 
-// expenseModelFor values every tranche at an invented fair value and runs
-// AddExpense; the liability warrant is revalued at 1.10 at grant and 0.05
-// more each quarter end.
+// valuationFor values every tranche of s at an invented fair value,
+// 1 + index/4 a share, with an expected term of 5 years; revalue, when
+// not nil, gives the liability warrant's values at its grant date and
+// past quarter ends.
+func valuationFor(s *grants.Schedule, revalue func(g grants.Grant, at time.Time) ([]float64, error)) *pricing.Valuation {
+	v := &pricing.Valuation{Revaluations: map[string][]pricing.Revaluation{}}
+	_, end := s.Period()
+	for _, g := range s.Grants {
+		gv := pricing.GrantValue{Inputs: grants.Inputs{Grant: g, Tranches: s.Tranches(g),
+			Volatility: grants.Source{Value: 0.5}, RiskFreeRate: grants.Source{Value: 0.03}}}
+		for _, tr := range gv.Inputs.Tranches {
+			gv.Results = append(gv.Results, valuation.Result{Value: 1 + float64(tr.Index)/4, ExpectedTermYears: 5})
+		}
+		v.Grants = append(v.Grants, gv)
+		if g.Classification == grants.Liability && revalue != nil {
+			var rs []pricing.Revaluation
+			for _, at := range append([]time.Time{g.GrantDate}, pricing.RemeasurementDates(g.GrantDate, end)...) {
+				vals, err := revalue(g, at)
+				rs = append(rs, pricing.Revaluation{Date: at, Values: vals, Err: err})
+				if err != nil {
+					break
+				}
+			}
+			v.Revaluations[g.ID] = rs
+		}
+	}
+	return v
+}
+
+// expenseModelFor values every tranche at an invented fair value (see
+// valuationFor), the liability warrant at 1.10 at grant and 0.05 more
+// each quarter end, closes the books and lays them into a Model.
 func expenseModelFor(t *testing.T, s *grants.Schedule) *Model {
+	t.Helper()
+	return expenseModelWith(t, s, func(g grants.Grant, at time.Time) ([]float64, error) {
+		q := float64(int(at.Sub(g.GrantDate).Hours()/24) / 91)
+		return []float64{1.10 + 0.05*q}, nil
+	})
+}
+
+func expenseModelWith(t *testing.T, s *grants.Schedule, revalue func(g grants.Grant, at time.Time) ([]float64, error)) *Model {
 	t.Helper()
 	m := &Model{Tool: Tool{Name: "grantworth", Version: "test"}, ValuationDate: DateOf(s.Company.ValuationDate),
 		PeriodStart: DateOf(s.Company.PeriodStart), Company: Company{Name: s.Company.Name, Currency: s.Company.Currency}, Caution: Caution}
@@ -63,13 +104,12 @@ func expenseModelFor(t *testing.T, s *grants.Schedule) *Model {
 		m.Grants = append(m.Grants, mg)
 	}
 	Summarize(m)
-	revalue := func(g grants.Grant, at time.Time) ([]float64, error) {
-		q := float64(int(at.Sub(g.GrantDate).Hours()/24) / 91)
-		return []float64{1.10 + 0.05*q}, nil
-	}
-	if err := AddExpense(m, s, 6, revalue); err != nil {
+	b, err := accounting.Close(s, valuationFor(s, revalue))
+	if err != nil {
 		t.Fatal(err)
 	}
+	m.Expense = expenseModel(b)
+	m.Warnings = append(m.Warnings, b.Warnings...)
 	return m
 }
 
@@ -105,7 +145,7 @@ func TestExpenseOutputs(t *testing.T) {
 	if got := last["amount"].(float64); math.Abs(got-e.Amount) > 1e-9 {
 		t.Errorf("current period amount %v, detail %v", got, e.Amount)
 	}
-	if n := len(ex["forecast"].([]any)); n != grants.ForecastQuarters {
+	if n := len(ex["forecast"].([]any)); n != accounting.ForecastQuarters {
 		t.Errorf("forecast has %d quarters", n)
 	}
 	var unrec float64
@@ -188,7 +228,7 @@ func TestExpenseOutputs(t *testing.T) {
 		t.Error("Disclosures sheet has no option roll-forward end line")
 	}
 	frows, _ := f.GetRows(SheetForecast)
-	if len(frows) != 1+len(e.Periods)+grants.ForecastQuarters+1 {
+	if len(frows) != 1+len(e.Periods)+accounting.ForecastQuarters+1 {
 		t.Errorf("Expense forecast has %d rows", len(frows))
 	}
 
@@ -218,23 +258,15 @@ func TestExpenseJSONGolden(t *testing.T) {
 // at the valuation date only, and a warning says so.
 func TestExpenseNoRevalue(t *testing.T) {
 	s := expenseSchedule()
-	m := expenseModelFor(t, s)
-	m.Expense = nil
-	m.Warnings = nil
-	if err := AddExpense(m, s, 6, nil); err != nil {
-		t.Fatal(err)
-	}
+	m := expenseModelWith(t, s, nil)
 	if len(m.Warnings) == 0 || !strings.Contains(strings.Join(m.Warnings, "\n"), "Q-4") {
 		t.Errorf("warnings %v", m.Warnings)
 	}
 	if m.Expense.FairValueChange != 0 {
 		t.Errorf("fair value change %v without remeasurements", m.Expense.FairValueChange)
 	}
-	m.Expense, m.Warnings = nil, nil
 	failing := func(grants.Grant, time.Time) ([]float64, error) { return nil, errors.New("no curve on 2026-03-01") }
-	if err := AddExpense(m, s, 6, failing); err != nil {
-		t.Fatal(err)
-	}
+	m = expenseModelWith(t, s, failing)
 	if !strings.Contains(strings.Join(m.Warnings, "\n"), "no curve on 2026-03-01") || m.Expense.FairValueChange != 0 {
 		t.Errorf("failed revaluation: warnings %v, fair value change %v", m.Warnings, m.Expense.FairValueChange)
 	}

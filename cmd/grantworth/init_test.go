@@ -74,11 +74,14 @@ func TestInitTemplateFilledPassesCheck(t *testing.T) {
 	set("Company", "B2", "Pebblebrook Audio, Inc.")
 	set("Company", "B3", day("2026-09-30"))
 	set("Assumptions", "B2", 0.5)
+	set("Share Prices", "A2", day("2026-06-30"))
+	set("Share Prices", "B2", 1.25)
 	set("Rates", "A2", day("2026-06-30"))
 	set("Rates", "B2", 5)
 	set("Rates", "C2", 0.04)
 	// One grant row: id, instrument, grant date, shares, strike, term,
-	// four-year monthly vesting with a one-year cliff, its own share price.
+	// four-year monthly vesting with a one-year cliff, its own share price
+	// (the Share Prices row gives the period end's).
 	for col, v := range map[string]any{"A": "P-1", "C": "option", "D": day("2026-08-01"), "E": 4800, "F": 1.25, "H": 10, "J": 48, "K": 12, "L": 1, "M": 1.25} {
 		set("Grants", col+"2", v)
 	}

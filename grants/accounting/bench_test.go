@@ -1,0 +1,36 @@
+package accounting
+
+import (
+	"fmt"
+	"grantworth/grants"
+	"testing"
+)
+
+var sinkReport *ExpenseReport
+
+// BenchmarkExpenseLedger attributes a ledger of 10,000 four-year grants with
+// monthly vesting (48 tranches each), granted over five years, at one
+// quarter end: the size DESIGN §5 sets for the end-to-end run.
+func BenchmarkExpenseLedger(b *testing.B) {
+	var awards []Award
+	for i := 0; i < 10000; i++ {
+		g := ymd("2022-01-01").AddDate(0, 0, i%1800)
+		a := Award{Grant: grants.Grant{ID: fmt.Sprintf("B%05d", i), Instrument: grants.Option, GrantDate: g, VestStart: g, ExpiryDate: g.AddDate(10, 0, 0), Strike: 5}}
+		for k := 1; k <= 48; k++ {
+			a.Tranches = append(a.Tranches, TrancheCost{Tranche: grants.Tranche{GrantID: a.Grant.ID, Index: k, VestDate: g.AddDate(0, k, 0), Shares: 100}, FairValue: 3})
+		}
+		if i%7 == 0 {
+			a.Events = []grants.Event{{GrantID: a.Grant.ID, Date: g.AddDate(1, 6, 0), Kind: grants.Forfeited, Shares: 3000}}
+		}
+		awards = append(awards, a)
+	}
+	pol := Policy{Attribution: grants.Graded, Forfeitures: grants.Estimate, PreVestingForfeitureRate: 0.1}
+	b.ReportAllocs()
+	for b.Loop() {
+		r, err := Expense(awards, pol, ymd("2026-10-01"), ymd("2026-12-31"))
+		if err != nil {
+			b.Fatal(err)
+		}
+		sinkReport = r
+	}
+}

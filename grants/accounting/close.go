@@ -1,0 +1,124 @@
+package accounting
+
+import (
+	"fmt"
+	"time"
+
+	"grantworth/grants"
+	"grantworth/grants/pricing"
+)
+
+// Books are the accounting of one period close: the expense attribution,
+// the disclosure tables and the journal, from one set of ledgers.
+type Books struct {
+	Expense    *ExpenseReport
+	Disclosure *Disclosure
+	Journal    []Entry
+	// SharePrice is the share price at the period end, with its cell,
+	// for the disclosures' intrinsic values.
+	SharePrice grants.Source
+	// Warnings are the accounting's own, in the order found.
+	Warnings []string
+}
+
+// Close does the accounting of schedule s's period over the grants v
+// valued: the awards (AwardsOf), their attribution and the disclosure
+// tables (Attribute) and the journal. An error that is the schedule's
+// (no share price at the period end) is a *grants.CellError.
+func Close(s *grants.Schedule, v *pricing.Valuation) (*Books, error) {
+	b := &Books{}
+	src, err := s.PeriodEndPrice()
+	if err != nil && s.NeedsPeriodEndPrice() {
+		return nil, err
+	}
+	b.SharePrice = src
+	awards, warns, err := AwardsOf(s, v)
+	if err != nil {
+		return nil, err
+	}
+	b.Warnings = warns
+	start, end := s.Period()
+	rep, disc, err := Attribute(awards, PolicyOf(s), start, end, b.SharePrice.Value)
+	if err != nil {
+		return nil, fmt.Errorf("expense and disclosures: %w", err)
+	}
+	b.Expense, b.Disclosure = rep, disc
+	b.Warnings = append(b.Warnings, rep.Warnings...)
+	b.Journal = Journal(rep, nil)
+	return b, nil
+}
+
+// AwardsOf pairs every grant v valued with its fair values: per tranche,
+// the grant-date value of an equity-classified award; for a
+// liability-classified warrant its value at the grant date, with its
+// values at the past quarter ends and at the valuation date as
+// Remeasurements (the revaluations v holds). The weighted-average
+// assumptions each grant was measured with go along for the disclosures.
+// A liability warrant that could not be revalued is measured at the
+// valuation date only, with a warning.
+func AwardsOf(s *grants.Schedule, v *pricing.Valuation) ([]Award, []string, error) {
+	_, end := s.Period()
+	var awards []Award
+	var warns []string
+	for i := range v.Grants {
+		gv := &v.Grants[i]
+		g := gv.Inputs.Grant
+		fv := make([]float64, len(gv.Results))
+		var shares, term float64
+		for k, r := range gv.Results {
+			fv[k] = r.Value
+			n := float64(gv.Inputs.Tranches[k].Shares)
+			shares += n
+			term += n * r.ExpectedTermYears
+		}
+		a, err := AwardOf(s, g, fv)
+		if err != nil {
+			return nil, nil, fmt.Errorf("expense: %w", err)
+		}
+		if shares > 0 {
+			a.Measured = &MeasuredAssumptions{Volatility: gv.Inputs.Volatility.Value, RiskFreeRate: gv.Inputs.RiskFreeRate.Value,
+				DividendYield: gv.Inputs.DividendYield.Value, ExpectedTermYears: term / shares}
+		}
+		if g.Instrument == grants.Warrant && g.Classification == grants.Liability {
+			if w := remeasure(&a, fv, end, v.Revaluations[g.ID]); w != "" {
+				warns = append(warns, w)
+			}
+		}
+		awards = append(awards, a)
+	}
+	return awards, warns, nil
+}
+
+// remeasure makes a liability warrant's grant-date value its FairValue and
+// its revaluations at the past quarter ends, then fv at the valuation date
+// end, its Remeasurements. When the revaluations are missing or one
+// failed, the warrant is measured at the valuation date only and the
+// warning returned says so.
+func remeasure(a *Award, fv []float64, end time.Time, revs []pricing.Revaluation) string {
+	g := a.Grant
+	only := func(why string) string {
+		for i := range a.Tranches {
+			a.Tranches[i].FairValue = fv[i]
+		}
+		a.Remeasurements = []Remeasurement{{Date: end, FairValue: fv}}
+		return fmt.Sprintf("grant %s: liability-classified warrant measured at the valuation date only (%s); its compensation expense uses that value and no change in fair value is shown apart", g.ID, why)
+	}
+	if len(revs) == 0 {
+		return only("no revaluation was run")
+	}
+	if r := revs[0]; r.Err != nil || len(r.Values) != len(fv) {
+		return only(fmt.Sprintf("it could not be valued at its grant date: %v", r.Err))
+	}
+	var rs []Remeasurement
+	for _, r := range revs[1:] {
+		if r.Err != nil || len(r.Values) != len(fv) {
+			return only(fmt.Sprintf("it could not be valued at %s: %v", r.Date.Format(time.DateOnly), r.Err))
+		}
+		rs = append(rs, Remeasurement{Date: r.Date, FairValue: r.Values})
+	}
+	for i := range a.Tranches {
+		a.Tranches[i].FairValue = revs[0].Values[i]
+	}
+	a.Remeasurements = append(rs, Remeasurement{Date: end, FairValue: fv})
+	return ""
+}

@@ -1,0 +1,143 @@
+// Package accounting books what pricing measured: the compensation
+// expense of share-based awards under ASC 718 and IFRS 2, the tables of the
+// share-based payment note and the journal of the period. This comment is
+// the manual of the method; every rule in it has a case worked by hand in
+// the package's tests, with the paragraph of the standard named.
+//
+// # The close
+//
+// Close takes the schedule and its pricing.Valuation and returns the
+// Books of the period:
+//
+//  1. AwardsOf pairs each valued grant with its fair value per tranche (an
+//     Award): the grant-date value of an equity-classified award; for a
+//     liability-classified warrant its value at the grant date, with its
+//     revaluations at the past quarter ends and at the valuation date as
+//     Remeasurements. The grant's weighted-average assumptions go along
+//     for the disclosure of the period's grants.
+//  2. Attribute builds one ledger per award (its tranches with their
+//     events) and from the same ledgers the ExpenseReport of the period
+//     (Expense) and the Disclosure tables (Disclose).
+//  3. Journal writes the period's entries from the ExpenseReport.
+//
+// The schedule's period is grants.Schedule.Period (the Company sheet's
+// period_start to valuation_date); its policy is PolicyOf (the Assumptions
+// keys attribution, forfeitures and pre_vesting_forfeiture_rate). The
+// share price at the period end, for intrinsic values, is
+// grants.Schedule.PeriodEndPrice, with its cell; without one, a schedule
+// with options or warrants is an error, never a silent zero.
+//
+// Nothing here values anything (pricing did) or lays anything out (report
+// does); report reads Books and adds nothing up.
+//
+// To attribute one award over periods of one's own choosing (a grant
+// design before it is made, say) use Spread.
+//
+// # Days
+//
+// All dates are calendar days. A tranche's service runs from the start of
+// its service-start day to the start of its vest day, and the cost accrues
+// evenly per day of service (ACT, valuation.Days). "Cumulative through day d"
+// means through the end of day d, so a tranche that vests on 1 January 2030
+// after a year of service is fully accrued by 31 December 2029, and a period
+// [start, end] includes both of its days. A tranche is vested on and after its
+// vest day. An event dated e acts at the end of day e and only on tranches not
+// vested on e: a holder who leaves on 31 December does not keep a tranche that
+// vests on 1 January; one who leaves on 1 January does.
+//
+// # Service start
+//
+// The service period starts at the later of the grant date and the vest
+// start (ServiceStart). Not before the grant date, because the grant date is
+// the measurement date and the award does not exist before it; service that
+// a holder rendered before the grant (a vest start back-dated to the hire
+// date) is caught up at once on the grant date, by a tranche whose vest date
+// is already past or by a larger share of a longer tranche. We do not use a
+// service inception date before the grant date (ASC 718-10-55-108, from
+// memory), because that needs the award remeasured until it is granted. Not
+// before the vest start when that is later, because the holder earns nothing
+// for service before vesting begins.
+//
+// # Attribution
+//
+// Graded: each tranche straight-line over its own service period (IFRS 2
+// requires it; ASC 718 allows it). Straight-line: the whole award
+// straight-line from its service start to its last vest date, with the
+// cumulative cost never below the cost of the tranches vested so far
+// (ASC 718-10-35-8). For the by-tranche tables a straight-line award's
+// cumulative cost is allocated in full to its vested tranches and the rest to
+// the unvested ones in proportion to their cost.
+//
+// # Forfeitures
+//
+// Estimate: a tranche still unvested counts its shares not yet forfeited at
+// the expected share still there at its vest date, (1 − rate)^Y with Y the
+// years of service still to come (at the service start, the whole service
+// period). Leavers already recorded are not expected to leave again: a
+// termination removes the forfeited shares at once and the estimate for the
+// rest covers only the service ahead, so the count converges to the actual
+// shares by the vest date (factor 1 from then on). As-occur: every share counts until it is
+// forfeited. Either way a forfeiture reverses all the cost recognised on the
+// forfeited shares, on the day of the forfeiture.
+//
+// # Events
+//
+// Events are given to tranches by grants.Allocate, the one rule that
+// validation and Schedule.Tranches use too: forfeited shares come out of
+// the unvested tranches, latest vest date first (a termination forfeits
+// them all); shares beyond the unvested ones come out of vested shares,
+// latest first, and reverse nothing. Exercised and expired shares come out
+// of vested shares, earliest vest date first, and change counts but not
+// cost. Cancelled shares (a cancellation without a replacement award) are
+// taken the same way as forfeited ones; on unvested shares their remaining
+// unrecognised cost is recognised in full on the cancellation date
+// (ASC 718-20-35-9, IFRS 2.28(a); from memory). Options and warrants still
+// outstanding at the end of their expiry date expire then. An event that
+// does not fit its grant is an *EventError (errors.Is ErrEvent) naming its
+// Events row.
+//
+// # Liability-classified warrants
+//
+// Compensation expense accrues on the grant-date fair value, exactly as for
+// an equity award. The warrant liability is the latest remeasured fair value
+// (Remeasurement; the grant-date value until the first one) times the
+// outstanding shares times the share of service rendered; the difference
+// between the change in the liability and the compensation expense, after
+// exercised warrants are reclassified to equity at their latest fair value,
+// is the change in fair value, shown apart from compensation expense.
+// Expired, cancelled and forfeited warrants release their liability through
+// that line.
+//
+// # Disclosures
+//
+// Disclose builds the tables of the share-based payment note
+// (ASC 718-10-50-2, IFRS 2.44-52; from memory): roll-forwards of options,
+// warrants and nonvested RSUs with weighted averages, the outstanding,
+// exercisable and vested-and-expected-to-vest summary, and the period's
+// grants with their weighted-average assumptions. Counts are as of the end
+// of a day, with the events of that day applied and a tranche vested on
+// and after its vest day. Options and warrants are rolled forward on the
+// number outstanding; RSUs on the number nonvested (granted, vested,
+// forfeited), which is what their note shows. Weighted averages are
+// weighted by shares. Every roll-forward satisfies start + granted −
+// vested − exercised − forfeited − cancelled − expired = end (Check).
+//
+// # Journal
+//
+// The journal is data: Entries of Lines, each line a Role (compensation
+// expense, equity, warrant liability, change in fair value), the Account
+// the company maps to that role (DefaultAccounts otherwise), the grant it
+// books when it books one, and a debit or a credit. Every entry balances.
+// Journal gives the period's summary entries: compensation of
+// equity-classified awards against equity, compensation of
+// liability-classified warrants against the liability, the liability's
+// remeasurement apart from compensation, and exercised liability warrants
+// reclassified to equity; an entry of less than half a cent is left out.
+//
+// # Errors
+//
+// Bad data (a tranche out of vest-date order, a negative fair value, an
+// event that does not fit) is an error naming the grant; several awards'
+// errors are joined. Programmer misuse (a period ending before it starts)
+// is an error too, never a panic.
+package accounting

@@ -1,0 +1,418 @@
+package accounting
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"sort"
+	"time"
+
+	"grantworth/grants"
+	"grantworth/valuation"
+)
+
+// ErrEvent is wrapped by every error about an event that does not fit its
+// grant.
+var ErrEvent = errors.New("event does not fit the grant")
+
+// EventError is an event that cannot be applied to its grant.
+type EventError struct {
+	GrantID string
+	Row     int // Events sheet row, 0 if unknown
+	Date    time.Time
+	Msg     string
+}
+
+func (e *EventError) Error() string {
+	loc := "Events"
+	if e.Row > 0 {
+		loc = fmt.Sprintf("Events row %d", e.Row)
+	}
+	return fmt.Sprintf("%s: grant %s on %s: %s", loc, e.GrantID, e.Date.Format(time.DateOnly), e.Msg)
+}
+
+func (e *EventError) Unwrap() error { return ErrEvent }
+
+// move is an event applied to one tranche.
+type move struct {
+	date   time.Time
+	dayN   int // dayNum(date)
+	kind   grants.EventKind
+	shares int64
+	vested bool // the tranche was vested on the day of the move
+}
+
+type trancheLedger struct {
+	TrancheCost
+	start time.Time // service start
+	days  int       // service days
+	// day numbers (dn) of the service start and the vest date
+	startN, vestN int
+	rate          float64 // pre-vesting forfeiture rate; 0 under as-occur
+	moves         []move
+}
+
+type awardLedger struct {
+	in        *Award
+	liability bool
+	start     time.Time
+	last      time.Time // last vest date
+	days      int
+	tr        []trancheLedger
+	remeas    []Remeasurement // sorted by date
+	remeasN   []int           // their day numbers
+	// day numbers of the grant date and the service start
+	grantN, startN int
+
+	// scratch for atInto
+	bufValue, bufLia, bufComp []float64
+	bufCounts                 []trancheCounts
+}
+
+// onOrBefore reports a <= b by calendar day.
+func dayOnOrBefore(a, b time.Time) bool { return dayNum(a) <= dayNum(b) }
+
+// dn is the day number of t's calendar day (days since 1970-01-01), so
+// that the inner loops compare and subtract integers. dayNum(b) − dayNum(a) equals
+// valuation.Days(a, b).
+func dayNum(t time.Time) int {
+	return int(time.Date(t.Year(), t.Month(), t.Day(), 0, 0, 0, 0, time.UTC).Unix() / 86400)
+}
+
+func shiftDays(t time.Time, n int) time.Time { return t.AddDate(0, 0, n) }
+
+func (p Policy) normalized() (Policy, error) {
+	if p.Attribution == "" {
+		p.Attribution = grants.Graded
+	}
+	if p.Forfeitures == "" {
+		p.Forfeitures = grants.Estimate
+	}
+	if p.Attribution != grants.Graded && p.Attribution != grants.StraightLine {
+		return p, fmt.Errorf("attribution %q: want %q or %q", p.Attribution, grants.Graded, grants.StraightLine)
+	}
+	if p.Forfeitures != grants.Estimate && p.Forfeitures != grants.AsOccur {
+		return p, fmt.Errorf("forfeitures %q: want %q or %q", p.Forfeitures, grants.Estimate, grants.AsOccur)
+	}
+	if !(p.PreVestingForfeitureRate >= 0 && p.PreVestingForfeitureRate < 1) {
+		return p, fmt.Errorf("pre-vesting forfeiture rate %v: want a share in [0, 1)", p.PreVestingForfeitureRate)
+	}
+	return p, nil
+}
+
+// ledger applies an award's events up to asOf to its tranches.
+func newAwardLedger(a *Award, pol Policy, asOf time.Time) (*awardLedger, error) {
+	g := a.Grant
+	if len(a.Tranches) == 0 {
+		return nil, fmt.Errorf("grant %s: no tranches", g.ID)
+	}
+	l := &awardLedger{in: a, liability: g.Instrument == grants.Warrant && g.Classification == grants.Liability, start: ServiceStart(g)}
+	for i, tc := range a.Tranches {
+		if tc.Tranche.GrantID != "" && tc.Tranche.GrantID != g.ID {
+			return nil, fmt.Errorf("grant %s: tranche %d belongs to grant %s", g.ID, tc.Tranche.Index, tc.Tranche.GrantID)
+		}
+		if !(tc.FairValue >= 0) || math.IsInf(tc.FairValue, 0) {
+			return nil, fmt.Errorf("grant %s tranche %d: fair value per share %v is not a finite non-negative number", g.ID, tc.Tranche.Index, tc.FairValue)
+		}
+		if tc.Tranche.Shares < 0 {
+			return nil, fmt.Errorf("grant %s tranche %d: %d shares", g.ID, tc.Tranche.Index, tc.Tranche.Shares)
+		}
+		if i > 0 && tc.Tranche.VestDate.Before(a.Tranches[i-1].Tranche.VestDate) {
+			return nil, fmt.Errorf("grant %s: tranches not in vest-date order at tranche %d", g.ID, tc.Tranche.Index)
+		}
+		if !g.ExpiryDate.IsZero() && tc.Tranche.VestDate.After(g.ExpiryDate) {
+			return nil, fmt.Errorf("grant %s tranche %d: vests %s, after expiry %s", g.ID, tc.Tranche.Index, tc.Tranche.VestDate.Format(time.DateOnly), g.ExpiryDate.Format(time.DateOnly))
+		}
+		t := trancheLedger{TrancheCost: tc, start: l.start, startN: dayNum(l.start), vestN: dayNum(tc.Tranche.VestDate)}
+		t.days = t.vestN - t.startN
+		if pol.Forfeitures == grants.Estimate {
+			t.rate = pol.PreVestingForfeitureRate
+		}
+		l.tr = append(l.tr, t)
+	}
+	l.last = a.Tranches[len(a.Tranches)-1].Tranche.VestDate
+	l.days = valuation.Days(l.start, l.last)
+	l.grantN, l.startN = dayNum(g.GrantDate), dayNum(l.start)
+	if len(a.Remeasurements) > 0 && !l.liability {
+		return nil, fmt.Errorf("grant %s: remeasurements given but it is not a liability-classified warrant", g.ID)
+	}
+	for _, r := range a.Remeasurements {
+		if len(r.FairValue) != len(a.Tranches) {
+			return nil, fmt.Errorf("grant %s: remeasurement on %s has %d values for %d tranches", g.ID, r.Date.Format(time.DateOnly), len(r.FairValue), len(a.Tranches))
+		}
+		for i, v := range r.FairValue {
+			if !(v >= 0) || math.IsInf(v, 0) {
+				return nil, fmt.Errorf("grant %s tranche %d: remeasured fair value %v on %s", g.ID, a.Tranches[i].Tranche.Index, v, r.Date.Format(time.DateOnly))
+			}
+		}
+		l.remeas = append(l.remeas, r)
+	}
+	sort.SliceStable(l.remeas, func(i, j int) bool { return dayNum(l.remeas[i].Date) < dayNum(l.remeas[j].Date) })
+	for _, r := range l.remeas {
+		l.remeasN = append(l.remeasN, dayNum(r.Date))
+	}
+
+	evs := make([]grants.Event, 0, len(a.Events))
+	for _, e := range a.Events {
+		if e.GrantID != "" && e.GrantID != g.ID {
+			return nil, &EventError{GrantID: e.GrantID, Row: e.Row, Date: e.Date, Msg: fmt.Sprintf("listed under grant %s", g.ID)}
+		}
+		if dayOnOrBefore(e.Date, asOf) {
+			evs = append(evs, e)
+		}
+	}
+	sort.SliceStable(evs, func(i, j int) bool { return valuation.Days(evs[j].Date, evs[i].Date) < 0 })
+	if err := l.apply(evs); err != nil {
+		return nil, err
+	}
+	if !g.ExpiryDate.IsZero() && dayOnOrBefore(g.ExpiryDate, asOf) && g.Instrument != grants.RSU {
+		for i := range l.tr {
+			if n := l.tr[i].open(); n > 0 {
+				l.tr[i].moves = append(l.tr[i].moves, move{date: g.ExpiryDate, dayN: dayNum(g.ExpiryDate), kind: grants.Expired, shares: n, vested: true})
+			}
+		}
+	}
+	return l, nil
+}
+
+func (t *trancheLedger) open() int64 {
+	n := t.Tranche.Shares
+	for _, m := range t.moves {
+		n -= m.shares
+	}
+	return n
+}
+
+func (t *trancheLedger) vestedOn(d time.Time) bool { return t.vestN <= dayNum(d) }
+
+func (t *trancheLedger) vestedN(d int) bool { return t.vestN <= d }
+
+// expected is the expected share of the tranche's live shares at the end of
+// day d that are still there at its vest date (see ExpectedShare): the rate
+// over the service days still to come, from day d+1 (or the service start)
+// to the day before vesting; 1 once vested or with no forfeiture rate.
+func (t *trancheLedger) expected(d int) float64 {
+	if t.vestedN(d) || t.rate == 0 {
+		return 1
+	}
+	return valuation.SurvivalToVest(t.rate, float64(t.vestN-max(t.startN, d+1))/365)
+}
+
+// apply checks the events (in date order) against the grant and gives
+// each tranche its moves by grants.Allocate.
+func (l *awardLedger) apply(evs []grants.Event) error {
+	g := l.in.Grant
+	fail := func(e grants.Event, format string, args ...any) error {
+		return &EventError{GrantID: g.ID, Row: e.Row, Date: e.Date, Msg: fmt.Sprintf(format, args...)}
+	}
+	for _, e := range evs {
+		switch {
+		case e.Shares <= 0:
+			return fail(e, "%s %d shares: want a positive number", e.Kind, e.Shares)
+		case valuation.Days(g.GrantDate, e.Date) < 0:
+			return fail(e, "%s before the grant date %s", e.Kind, g.GrantDate.Format(time.DateOnly))
+		case !g.ExpiryDate.IsZero() && valuation.Days(g.ExpiryDate, e.Date) > 0:
+			return fail(e, "%s after the expiry date %s", e.Kind, g.ExpiryDate.Format(time.DateOnly))
+		}
+		switch e.Kind {
+		case grants.Forfeited, grants.Cancelled, grants.Exercised, grants.Expired:
+		default:
+			return fail(e, "unknown event %q", e.Kind)
+		}
+	}
+	ts := make([]grants.Tranche, len(l.tr))
+	for i := range l.tr {
+		ts[i] = l.tr[i].Tranche
+	}
+	al := grants.Allocate(ts, evs)
+	for _, tk := range al.Events {
+		if tk.Short == 0 {
+			continue
+		}
+		e := tk.Event
+		if e.Kind == grants.Forfeited || e.Kind == grants.Cancelled {
+			return fail(e, "%s %d shares but only %d are outstanding", e.Kind, e.Shares, tk.Unvested+tk.Vested)
+		}
+		return fail(e, "%s %d shares but only %d are vested and outstanding", e.Kind, e.Shares, tk.Vested)
+	}
+	for _, m := range al.Moves {
+		t := &l.tr[m.Tranche]
+		t.moves = append(t.moves, move{date: m.Date, dayN: dayNum(m.Date), kind: m.Kind, shares: m.Shares, vested: m.Vested})
+	}
+	return nil
+}
+
+// trancheCounts are a tranche's shares by what has happened to them through
+// the end of a day.
+type trancheCounts struct {
+	reversed    int64 // forfeited while unvested: cost reversed
+	accelerated int64 // cancelled while unvested: cost recognised at once
+	open        int64 // still outstanding
+	exercised   int64
+}
+
+func (t *trancheLedger) countsAt(d time.Time) trancheCounts { return t.countsN(dayNum(d)) }
+
+func (t *trancheLedger) countsN(d int) trancheCounts {
+	c := trancheCounts{open: t.Tranche.Shares}
+	for _, m := range t.moves {
+		if m.dayN > d {
+			continue
+		}
+		c.open -= m.shares
+		switch {
+		case m.kind == grants.Forfeited && !m.vested:
+			c.reversed += m.shares
+		case m.kind == grants.Cancelled && !m.vested:
+			c.accelerated += m.shares
+		case m.kind == grants.Exercised:
+			c.exercised += m.shares
+		}
+	}
+	return c
+}
+
+// live is the shares whose cost still accrues by the attribution rule.
+func (c trancheCounts) live(total int64) int64 { return total - c.reversed - c.accelerated }
+
+// fraction is the share of a service period of days days from day start
+// that is rendered through the end of day d.
+func serviceFraction(start, days, d int) float64 {
+	done := d + 1 - start
+	if done <= 0 {
+		return 0
+	}
+	if days <= 0 || done >= days {
+		return 1
+	}
+	return float64(done) / float64(days)
+}
+
+// attribute spreads value[i] (fair value × counted shares of tranche i) by
+// the policy through the end of day d, writing each tranche's cumulative
+// cost into out. Tranches vested on or before known count in full; the
+// others at their expected share.
+func (l *awardLedger) attribute(pol Policy, value []float64, d, known int, out []float64) {
+	if d < l.grantN {
+		for i := range out {
+			out[i] = 0
+		}
+		return
+	}
+	kd := min(d, known)
+	q := func(i int) float64 { return l.tr[i].expected(kd) }
+	if pol.Attribution == grants.Graded {
+		for i := range l.tr {
+			out[i] = value[i] * q(i) * serviceFraction(l.tr[i].startN, l.tr[i].days, d)
+		}
+		return
+	}
+	var total, floor, unvested float64
+	for i := range l.tr {
+		v := value[i] * q(i)
+		total += v
+		if l.tr[i].vestedN(d) {
+			floor += v
+		} else {
+			unvested += v
+		}
+	}
+	cum := math.Max(total*serviceFraction(l.startN, l.days, d), floor)
+	rest := cum - floor
+	for i := range l.tr {
+		v := value[i] * q(i)
+		switch {
+		case l.tr[i].vestedN(d):
+			out[i] = v
+		case unvested > 0:
+			out[i] = rest * v / unvested
+		default:
+			out[i] = 0
+		}
+	}
+}
+
+// fairValueAt is the latest liability fair value of tranche i on day d.
+func (l *awardLedger) fairValueAt(i int, d int) float64 {
+	fv := l.tr[i].FairValue
+	for k, r := range l.remeas {
+		if l.remeasN[k] <= d {
+			fv = r.FairValue[i]
+		}
+	}
+	return fv
+}
+
+// snapshot is an award's position through the end of a day.
+type snapshot struct {
+	comp      []float64 // cumulative compensation cost by tranche
+	liability float64   // warrant liability
+	settled   float64   // cumulative liability reclassified to equity
+}
+
+func (s snapshot) compTotal() float64 {
+	var t float64
+	for _, v := range s.comp {
+		t += v
+	}
+	return t
+}
+
+// fvChange is the cumulative change in fair value of a liability warrant.
+func (s snapshot) fvChange() float64 { return s.liability + s.settled - s.compTotal() }
+
+func (l *awardLedger) at(pol Policy, dt, knownt time.Time) snapshot {
+	return l.atInto(pol, dt, knownt, make([]float64, len(l.tr)))
+}
+
+// atInto is at, writing the cumulative cost by tranche into comp; the
+// other buffers are the ledger's own, reused from call to call.
+func (l *awardLedger) atInto(pol Policy, dt, knownt time.Time, comp []float64) snapshot {
+	d, known := dayNum(dt), dayNum(knownt)
+	n := len(l.tr)
+	s := snapshot{comp: comp}
+	if len(l.bufValue) < n {
+		l.bufValue, l.bufLia, l.bufCounts = make([]float64, n), make([]float64, n), make([]trancheCounts, n)
+	}
+	value, counts := l.bufValue[:n], l.bufCounts[:n]
+	for i := range l.tr {
+		counts[i] = l.tr[i].countsN(d)
+		value[i] = l.tr[i].FairValue * float64(counts[i].live(l.tr[i].Tranche.Shares))
+	}
+	l.attribute(pol, value, d, known, s.comp)
+	for i := range l.tr {
+		s.comp[i] += l.tr[i].FairValue * float64(counts[i].accelerated)
+	}
+	if !l.liability {
+		return s
+	}
+	for i := range l.tr {
+		value[i] = l.fairValueAt(i, d) * float64(counts[i].open)
+		for _, m := range l.tr[i].moves {
+			if m.kind == grants.Exercised && m.dayN <= d {
+				s.settled += l.fairValueAt(i, m.dayN) * float64(m.shares)
+			}
+		}
+	}
+	lia := l.bufLia[:n]
+	l.attribute(pol, value, d, known, lia)
+	for _, v := range lia {
+		s.liability += v
+	}
+	return s
+}
+
+// quarterStart is the first day of the calendar quarter holding d.
+func quarterStart(d time.Time) time.Time {
+	m := (int(d.Month())-1)/3*3 + 1
+	return time.Date(d.Year(), time.Month(m), 1, 0, 0, 0, 0, time.UTC)
+}
+
+// quarterEnd is the last day of the calendar quarter holding d.
+func quarterEnd(d time.Time) time.Time {
+	return shiftDays(quarterStart(d).AddDate(0, 3, 0), -1)
+}
+
+func civilDay(t time.Time) time.Time {
+	return time.Date(t.Year(), t.Month(), t.Day(), 0, 0, 0, 0, time.UTC)
+}

@@ -1,0 +1,49 @@
+// Package pricing is the schedule-wide valuation run: from a validated
+// schedule's inputs (grants.Schedule.ValueInputs) to the fair value of
+// every tranche and the checks around it. It sits between grants, which
+// owns the inputs and their cells, and the numerics of valuation, which
+// know nothing of schedules; accounting and report come after it and
+// never call back into it.
+//
+// # What Value does
+//
+// Value takes the inputs of every grant made by the valuation date and
+// returns a Valuation:
+//
+//   - Dispatch by instrument, decided here and nowhere else: options on the
+//     employee-option lattice as valuation.Jobs run on all cores
+//     (valuation.RunJobs), identical jobs (every number that enters the
+//     lattice equal bit for bit: a board's batch of grants) valued once;
+//     warrants on the lattice with dilution (valuation.WarrantValue:
+//     Galai-Schneller for a liability-classified warrant, whose price
+//     already reflects it; the plain N/(N+W) factor for a new issue),
+//     rational exercise unless European; RSUs in closed form
+//     (valuation.RSUValue).
+//   - The closed-form comparison of each tranche (GrantValue.BSM):
+//     Black-Scholes-Merton on the simplified-method term for options, over
+//     the contractual term before dilution for warrants, the RSU value
+//     itself for RSUs; with the zero rates of the tranche and of that term.
+//   - Sensitivity: total fair value with one input moved for every grant
+//     (volatility, exercise multiple, exit rate, the whole curve), on an
+//     evenly spaced sample of SensitivitySample grants when the ledger is
+//     larger, scaled to the total.
+//   - Convergence: the raw lattice at ConvergenceSteps beside the
+//     automatic value, on the option tranche of largest total value.
+//   - A Monte Carlo cross-check of up to MonteCarloSample tranches spread
+//     over instruments and grant months, each with its own seed, z against
+//     the lattice and a warning past MonteCarloZLimit.
+//   - Revaluations of each liability-classified warrant at its grant date
+//     and at the past quarter ends (RemeasurementDates), which the
+//     accounting needs to show the change in fair value apart from
+//     compensation.
+//
+// The result depends on the schedule and the options only, never on the
+// number of cores. Progress comes back through the callbacks of Options;
+// Value prints nothing.
+//
+// # Errors
+//
+// An input the lattice refuses is an error naming the grant and tranche.
+// A revaluation that fails is kept in the Valuation (Revaluation.Err) for
+// the accounting to explain; it does not stop the run.
+package pricing

@@ -1,0 +1,312 @@
+package pricing
+
+import (
+	"math"
+	"path/filepath"
+	"strings"
+	"sync"
+	"testing"
+	"time"
+
+	"grantworth/grants"
+	"grantworth/valuation"
+)
+
+// The sample valued once for the tests of this file.
+var sampleValued = sync.OnceValues(func() (*Valuation, error) {
+	s, _, err := grants.ReadFile(filepath.Join("..", "..", "sample", "tarnwick.xlsx"))
+	if err != nil {
+		return nil, err
+	}
+	ins, errs, _ := s.ValueInputs()
+	if len(errs) > 0 {
+		return nil, errs[0]
+	}
+	return Value(s, ins, Options{})
+})
+
+func valuedSample(t *testing.T) *Valuation {
+	t.Helper()
+	v, err := sampleValued()
+	if err != nil {
+		t.Fatal(err)
+	}
+	return v
+}
+
+// Calendar quarter ends (common practice) from the grant's quarter up to
+// before the period end, at most MaxRemeasurements of the latest.
+func TestRemeasurementDates(t *testing.T) {
+	cases := []struct {
+		grant, end string
+		want       []string
+	}{
+		{"2025-02-10", "2025-09-30", []string{"2025-03-31", "2025-06-30"}},
+		{"2025-03-31", "2025-09-30", []string{"2025-03-31", "2025-06-30"}},
+		{"2025-07-01", "2025-09-30", nil},
+		{"2025-11-15", "2025-12-31", nil},
+		{"2025-12-31", "2026-03-31", []string{"2025-12-31"}},
+		{"2019-01-01", "2025-09-30", []string{"2022-09-30", "2022-12-31", "2023-03-31", "2023-06-30", "2023-09-30", "2023-12-31",
+			"2024-03-31", "2024-06-30", "2024-09-30", "2024-12-31", "2025-03-31", "2025-06-30"}},
+	}
+	for _, c := range cases {
+		var got []string
+		for _, q := range RemeasurementDates(day(c.grant), day(c.end)) {
+			got = append(got, q.Format(time.DateOnly))
+		}
+		if strings.Join(got, " ") != strings.Join(c.want, " ") {
+			t.Errorf("RemeasurementDates(%s, %s) = %v, want %v", c.grant, c.end, got, c.want)
+		}
+	}
+}
+
+// Jobs equal bit for bit are valued once; any difference in a number that
+// enters the lattice keeps them apart.
+func TestDedupJobs(t *testing.T) {
+	c, err := valuation.NewCurve([]valuation.CurvePoint{{Tenor: 1, Rate: 0.04}, {Tenor: 10, Rate: 0.042}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	c2, err := valuation.NewCurve([]valuation.CurvePoint{{Tenor: 1, Rate: 0.04}, {Tenor: 10, Rate: 0.0421}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	base := valuation.Job{Terms: valuation.Terms{Strike: 2, YearsToExpiry: 10, ExerciseMultiple: 2.5, ExitRate: 0.08},
+		VestYears: []float64{1, 2, 3, 4}, Market: valuation.Market{Spot: 2, VolAnnual: 0.5, Curve: c}}
+	vol := base
+	vol.Market.VolAnnual = math.Nextafter(0.5, 1)
+	vest := base
+	vest.VestYears = []float64{1, 2, 3}
+	curve := base
+	curve.Market.Curve = c2
+	steps := base
+	steps.Options.Steps = 200
+	sameCurve := base
+	sameCurve.Market.Curve, _ = valuation.NewCurve([]valuation.CurvePoint{{Tenor: 1, Rate: 0.04}, {Tenor: 10, Rate: 0.042}})
+	jobs := []valuation.Job{base, vol, base, vest, curve, steps, sameCurve}
+	uniq, index := dedupJobs(jobs)
+	want := []int{0, 1, 0, 2, 3, 4, 0}
+	if len(uniq) != 5 {
+		t.Errorf("%d distinct jobs, want 5", len(uniq))
+	}
+	for i := range want {
+		if index[i] != want[i] {
+			t.Errorf("job %d → %d, want %d (index %v)", i, index[i], want[i], index)
+		}
+	}
+}
+
+// Value on the sample: a result per tranche, totals that add up, and the
+// extra runs move the way option values must.
+func TestValueSample(t *testing.T) {
+	v := valuedSample(t)
+	var sum float64
+	for _, gv := range v.Grants {
+		g := gv.Inputs.Grant
+		if len(gv.Results) != len(gv.Inputs.Tranches) || len(gv.BSM) != len(gv.Inputs.Tranches) {
+			t.Fatalf("grant %s: %d results, %d BSM for %d tranches", g.ID, len(gv.Results), len(gv.BSM), len(gv.Inputs.Tranches))
+		}
+		for k, r := range gv.Results {
+			if !(r.Value > 0) || r.Value > gv.Inputs.Market.Spot {
+				t.Errorf("grant %s tranche %d: value %g outside (0, spot %g]", g.ID, k+1, r.Value, gv.Inputs.Market.Spot)
+			}
+		}
+		if (g.Instrument == grants.Warrant) != (gv.Dilution != nil) {
+			t.Errorf("grant %s (%s): dilution %+v", g.ID, g.Instrument, gv.Dilution)
+		}
+		sum += gv.FairValueTotal()
+	}
+	if sum != v.FairValueTotal {
+		t.Errorf("FairValueTotal %v, sum of grants %v", v.FairValueTotal, sum)
+	}
+	if v.SensitivitySample != len(v.Grants) {
+		t.Errorf("sensitivity sample %d of %d grants; a small ledger is revalued whole", v.SensitivitySample, len(v.Grants))
+	}
+	// grants.Option value rises with volatility (positive vega: common practice).
+	for _, c := range v.Sensitivity {
+		if c.Input != "volatility" {
+			continue
+		}
+		for j := 1; j < len(c.Points); j++ {
+			if !(c.Points[j].FairValueTotal > c.Points[j-1].FairValueTotal) {
+				t.Errorf("volatility %s → %s: total %v → %v, want a rise", c.Points[j-1].Label, c.Points[j].Label, c.Points[j-1].FairValueTotal, c.Points[j].FairValueTotal)
+			}
+		}
+	}
+	// The raw lattice converges: its values over the four finest step
+	// counts spread less than over the four coarsest (an identity of a
+	// convergent sequence, no citation needed).
+	c := v.Convergence
+	if c == nil || len(c.Points) != len(ConvergenceSteps) {
+		t.Fatalf("convergence %+v", c)
+	}
+	spread := func(ps []ConvergencePoint) float64 {
+		lo, hi := math.Inf(1), math.Inf(-1)
+		for _, p := range ps {
+			lo, hi = math.Min(lo, p.Value), math.Max(hi, p.Value)
+		}
+		return hi - lo
+	}
+	if first, last := spread(c.Points[:4]), spread(c.Points[len(c.Points)-4:]); !(last < first) {
+		t.Errorf("convergence: spread of the finest four %v not below the coarsest four %v (%+v)", last, first, c.Points)
+	}
+	// Every sampled tranche's simulation agrees with the lattice: the
+	// simulation is an independent method for the same model, so z (the
+	// difference over the combined error) is about standard normal and
+	// |z| < MonteCarloZLimit (common practice for a Monte Carlo check; the
+	// weekly grid adds a small bias, well inside it).
+	if len(v.MonteCarlo) == 0 && !v.MonteCarloRational && v.MonteCarloErr == nil {
+		t.Error("no Monte Carlo check and no reason why")
+	}
+	for _, mc := range v.MonteCarlo {
+		if !(math.Abs(mc.Z) < MonteCarloZLimit) {
+			t.Errorf("Monte Carlo grant %s tranche %d (seed %d): %v ± %v, lattice %v ± %v, z %v, limit %v",
+				mc.GrantID, mc.TrancheIndex, mc.Seed, mc.Result.Value, mc.Result.ErrorEstimate, mc.Lattice, mc.LatticeError, mc.Z, MonteCarloZLimit)
+		}
+	}
+	// Each liability warrant is revalued at its grant date and at the
+	// past quarter ends.
+	n := 0
+	for _, gv := range v.Grants {
+		g := gv.Inputs.Grant
+		if g.Instrument != grants.Warrant || g.Classification != grants.Liability {
+			continue
+		}
+		n++
+		rs := v.Revaluations[g.ID]
+		if len(rs) == 0 || !rs[0].Date.Equal(g.GrantDate) {
+			t.Fatalf("grant %s revaluations %+v", g.ID, rs)
+		}
+		want := append([]time.Time{g.GrantDate}, RemeasurementDates(g.GrantDate, day("2026-09-30"))...)
+		if len(rs) != len(want) {
+			t.Errorf("grant %s: %d revaluations, want %d", g.ID, len(rs), len(want))
+		}
+		for j, r := range rs {
+			if r.Err != nil || len(r.Values) != len(gv.Inputs.Tranches) || !r.Date.Equal(want[j]) {
+				t.Errorf("grant %s at %s: %v, %d values", g.ID, r.Date.Format(time.DateOnly), r.Err, len(r.Values))
+			}
+		}
+	}
+	if n == 0 {
+		t.Error("the sample has no liability-classified warrant to revalue")
+	}
+}
+
+// The Monte Carlo sample of the sample company: up to MonteCarloSample
+// tranches of distinct option or warrant grants the simulation can value,
+// in ledger order, each seed its own, z consistent with its parts, no
+// warning raised; and a second run gives the same numbers bit for bit.
+func TestMonteCarloSampleOfSample(t *testing.T) {
+	v := valuedSample(t)
+	if n := len(v.MonteCarlo); n < 2 || n > MonteCarloSample {
+		t.Fatalf("%d Monte Carlo checks, want 2 to %d (err %v)", n, MonteCarloSample, v.MonteCarloErr)
+	}
+	index := map[string]int{}
+	for i, gv := range v.Grants {
+		index[gv.Inputs.Grant.ID] = i
+	}
+	seeds := map[uint64]bool{}
+	last := -1
+	for _, c := range v.MonteCarlo {
+		i, ok := index[c.GrantID]
+		if !ok || i <= last {
+			t.Errorf("check of grant %s (index %d) out of ledger order or repeated after index %d", c.GrantID, i, last)
+		}
+		last = i
+		t.Logf("grant %s tranche %d (%s): lattice %.6f ± %.6f, Monte Carlo %.6f ± %.6f (seed %d), z %+.2f",
+			c.GrantID, c.TrancheIndex, c.Instrument, c.Lattice, c.LatticeError, c.Result.Value, c.Result.ErrorEstimate, c.Seed, c.Z)
+		gv := &v.Grants[i]
+		if inst := gv.Inputs.Grant.Instrument; inst == grants.RSU || !simulable(mcTerms(gv, c.TrancheIndex-1)) {
+			t.Errorf("grant %s tranche %d (%s) cannot be simulated", c.GrantID, c.TrancheIndex, inst)
+		}
+		if seeds[c.Seed] {
+			t.Errorf("seed %d used twice", c.Seed)
+		}
+		seeds[c.Seed] = true
+		if c.Result.Steps != MonteCarloPaths || !(c.Result.ErrorEstimate > 0) {
+			t.Errorf("grant %s: %d paths, standard error %v", c.GrantID, c.Result.Steps, c.Result.ErrorEstimate)
+		}
+		if want := (c.Result.Value - c.Lattice) / math.Hypot(c.Result.ErrorEstimate, c.LatticeError); c.Z != want {
+			t.Errorf("grant %s: z %v, want %v", c.GrantID, c.Z, want)
+		}
+	}
+	for _, w := range v.Warnings {
+		if strings.Contains(w, "Monte Carlo") {
+			t.Errorf("unexpected warning %q", w)
+		}
+	}
+	again := &Valuation{Grants: v.Grants}
+	p := &pricer{}
+	if err := p.monteCarlo(again); err != nil {
+		t.Fatal(err)
+	}
+	if len(again.MonteCarlo) != len(v.MonteCarlo) {
+		t.Fatalf("rerun: %d checks, first run %d", len(again.MonteCarlo), len(v.MonteCarlo))
+	}
+	for j := range again.MonteCarlo {
+		if again.MonteCarlo[j] != v.MonteCarlo[j] {
+			t.Errorf("rerun check %d: %+v, first run %+v", j, again.MonteCarlo[j], v.MonteCarlo[j])
+		}
+	}
+}
+
+// The sample's picks spread: each instrument first, then new grant
+// months, then size; RSUs and rational warrants never; at most
+// MonteCarloSample picks; ledger order.
+func TestMonteCarloSampleSpread(t *testing.T) {
+	mk := func(inst grants.Instrument, month int, fv float64, rational bool) GrantValue {
+		return GrantValue{
+			Inputs: grants.Inputs{
+				Grant:    grants.Grant{Instrument: inst, GrantDate: time.Date(2024, time.Month(month), 15, 0, 0, 0, 0, time.UTC)},
+				Tranches: []grants.Tranche{{Index: 1, Shares: 100}, {Index: 2, Shares: 100}},
+				Terms:    []valuation.Terms{{YearsToExpiry: 10, YearsToVest: 1, Rational: rational}, {YearsToExpiry: 10, YearsToVest: 2, Rational: rational}},
+			},
+			Results: []valuation.Result{{Value: fv}, {Value: fv * 1.1}},
+		}
+	}
+	var gs []GrantValue
+	for i := 0; i < 12; i++ { // options: two per month over six months, growing in size
+		gs = append(gs, mk(grants.Option, 1+i/2, float64(10+i), false))
+	}
+	euro := mk(grants.Warrant, 1, 0.5, false) // European: simulable
+	euro.Inputs.Terms[0].European, euro.Inputs.Terms[1].European = true, true
+	gs = append(gs, mk(grants.RSU, 7, 1000, false), mk(grants.Warrant, 1, 1, true), euro)
+	picks, rational := monteCarloSample(gs)
+	if !rational {
+		t.Error("the rational warrant was not reported")
+	}
+	// Expected by hand from the rule: option month 6 (largest, i=11),
+	// warrant (i=14), then one option in each of months 5 to 2 (i=9, 7,
+	// 5, 3; month 1 is taken by the warrant), then the largest left
+	// (i=10, 8).
+	want := []mcPick{{3, 1}, {5, 1}, {7, 1}, {8, 1}, {9, 1}, {10, 1}, {11, 1}, {14, 1}}
+	if len(picks) != len(want) {
+		t.Fatalf("picks %v, want %v", picks, want)
+	}
+	for j := range want {
+		if picks[j] != want[j] {
+			t.Fatalf("picks %v, want %v", picks, want)
+		}
+	}
+}
+
+// A check beyond the limit warns, naming the grant and tranche; one
+// within it does not.
+func TestMonteCarloWarning(t *testing.T) {
+	c := MonteCarloCheck{GrantID: "G-9", TrancheIndex: 2, Lattice: 1, LatticeError: 0.001, Result: valuation.Result{Value: 1.1, ErrorEstimate: 0.01}, Z: 9.95}
+	if w := mcWarning(c); !strings.Contains(w, "grant G-9 tranche 2") || !strings.Contains(w, "z = 9.9") {
+		t.Errorf("warning %q for %+v", w, c)
+	}
+	c.Z = -3.9
+	if w := mcWarning(c); w != "" {
+		t.Errorf("warning %q for |z| %v within %v", w, c.Z, MonteCarloZLimit)
+	}
+}
+
+func day(s string) time.Time {
+	t, err := time.Parse(time.DateOnly, s)
+	if err != nil {
+		panic(err)
+	}
+	return t
+}
