@@ -844,11 +844,11 @@ func missedWarnings(ms []MissedTarget) []string {
 // missedWarning is the warning of a tranche short of the accuracy target.
 func missedWarning(m MissedTarget) string {
 	r := m.Result
-	w := fmt.Sprintf("grant %s tranche %d: the lattice gives %.4f ± %.4f per share (%.2g%%), short of its %g%% accuracy target at the finest ladder it allows",
+	w := fmt.Sprintf("grant %s tranche %d: the lattice gives %.6g ± %.2g per share (%.2g%%), short of its %g%% accuracy target at the finest ladder it allows",
 		m.GrantID, m.TrancheIndex, r.Value, r.ErrorEstimate, 100*r.ErrorEstimate/math.Abs(r.Value), 100*valuation.AutoTarget)
 	switch c := m.Check; {
 	case c != nil:
-		return w + fmt.Sprintf("; Monte Carlo gives %.4f ± %.4f for the same terms%s (lattice %.4f, seed %d)",
+		return w + fmt.Sprintf("; Monte Carlo gives %.6g ± %.2g for the same terms%s (lattice %.6g, seed %d)",
 			c.Result.Value, c.Result.ErrorEstimate, undiluted(c.Instrument), c.Lattice, c.Seed)
 	case m.Rational:
 		return w + "; Monte Carlo does not value rational exercise, so a reviewer should check this tranche another way"
