@@ -61,6 +61,7 @@ type Schedule struct {
 	SharePrices []PricePoint
 	Rates       []RatePoint
 	Events      []Event
+	Designs     []Design // the Designs sheet of a designs workbook (ReadDesigns)
 
 	// layout is, per sheet read, the 0-based column of each column key, so
 	// that problems with empty cells can name the cell.
@@ -74,6 +75,7 @@ type Company struct {
 	PeriodStart       time.Time // default: first day of the quarter ending on ValuationDate
 	Currency          string    // ISO 4217, default USD
 	SharesOutstanding float64
+	GrantDate         time.Time      // designs workbook: the grant date of every design; zero means ValuationDate
 	Refs              map[string]Ref // by key, e.g. "valuation_date"
 }
 

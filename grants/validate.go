@@ -44,6 +44,7 @@ func validate(s *Schedule, skip map[string]bool) Report {
 	v.grants()
 	v.vesting()
 	v.events()
+	v.designs()
 	return v.rep
 }
 

@@ -156,6 +156,7 @@ func Build(s *grants.Schedule, v *pricing.Valuation, b *accounting.Books, run Ru
 	}
 	m.Warnings = append(m.Warnings, b.Warnings...)
 	m.Warnings = append(m.Warnings, v.Warnings...)
+	m.Warnings = append(m.Warnings, MemoTextWarnings(s, run.Input.Path)...)
 	return m, nil
 }
 
