@@ -51,6 +51,13 @@ type Options struct {
 	// (done of total distinct option jobs); Sensitivity as the sensitivity
 	// cases finish.
 	Progress, Sensitivity func(done, total int)
+	// Locks are the measurements a prior close filed, by grant ID
+	// (accounting.Prior.Locks): an equity-classified grant keeps its
+	// tranche values, a liability-classified warrant its past
+	// revaluations. Correct names grants measured afresh instead, as the
+	// correction of an error.
+	Locks   map[string]Lock
+	Correct []string
 }
 
 // GrantValue is one grant's inputs and the value of each of its tranches.
@@ -67,6 +74,14 @@ type GrantValue struct {
 	// UndilutedValue is, for a diluted warrant, its first tranche on the
 	// automatic lattice without dilution (0 if that failed).
 	UndilutedValue float64
+	// Status says whether the values were measured now, kept from a
+	// prior close (Lock) or corrected; Lock is the prior close's
+	// measurement of a locked, corrected or remeasured grant.
+	Status Status
+	Lock   *Lock
+	// Drift is, for a locked grant that today's inputs would value
+	// differently, by how much and why; nil otherwise.
+	Drift *Drift
 	// RiskFreeRate is, per tranche, the continuous zero rate of the
 	// grant's curve at the tranche's years to expiry, and SimplifiedRate
 	// at the term of its closed-form comparison (BSM's ExpectedTermYears);
@@ -192,6 +207,25 @@ func RemeasurementDates(grantDate, end time.Time) []time.Time {
 	return ends
 }
 
+// revaluationDates are the dates a liability-classified warrant is
+// revalued at before end: its grant date and RemeasurementDates, and the
+// valuation date of the prior close it is locked to (a close measured it
+// then) when that is not a quarter end.
+func revaluationDates(gv *GrantValue, end time.Time) []time.Time {
+	g := gv.Inputs.Grant
+	dates := append([]time.Time{g.GrantDate}, RemeasurementDates(g.GrantDate, end)...)
+	if lk := gv.Lock; lk != nil && gv.Status == Remeasured && lk.Close.Before(end) && lk.Close.After(g.GrantDate) {
+		for _, d := range dates {
+			if valuation.Days(d, lk.Close) == 0 {
+				return dates
+			}
+		}
+		dates = append(dates, lk.Close)
+		sort.Slice(dates, func(i, j int) bool { return dates[i].Before(dates[j]) })
+	}
+	return dates
+}
+
 func quarterEndOf(d time.Time) time.Time {
 	m := (int(d.Month())-1)/3*3 + 1
 	return time.Date(d.Year(), time.Month(m), 1, 0, 0, 0, 0, time.UTC).AddDate(0, 3, -1)
@@ -220,7 +254,14 @@ func Value(s *grants.Schedule, ins []grants.Inputs, opts Options) (*Valuation, e
 		if err := p.compare(gv); err != nil {
 			return nil, err
 		}
-		v.FairValueTotal += gv.FairValueTotal()
+	}
+	warns, err := lock(v, opts)
+	if err != nil {
+		return nil, err
+	}
+	v.Warnings = append(v.Warnings, warns...)
+	for i := range v.Grants {
+		v.FairValueTotal += v.Grants[i].FairValueTotal()
 	}
 	if s.Company.SharesOutstanding <= 0 {
 		for _, gv := range v.Grants {
@@ -244,13 +285,20 @@ func Value(s *grants.Schedule, ins []grants.Inputs, opts Options) (*Valuation, e
 	}
 	v.Revaluations = map[string][]Revaluation{}
 	_, end := s.Period()
-	for _, gv := range v.Grants {
+	for i := range v.Grants {
+		gv := &v.Grants[i]
 		g := gv.Inputs.Grant
-		if g.Instrument != grants.Warrant || g.Classification != grants.Liability {
+		if !isLiability(g) {
 			continue
 		}
 		var rs []Revaluation
-		for _, at := range append([]time.Time{g.GrantDate}, RemeasurementDates(g.GrantDate, end)...) {
+		for _, at := range revaluationDates(gv, end) {
+			if gv.Status == Remeasured && gv.Lock != nil {
+				if r, ok := gv.Lock.revaluation(at); ok && len(r.Values) == len(gv.Inputs.Tranches) {
+					rs = append(rs, r)
+					continue
+				}
+			}
 			vals, err := p.revalue(g, at)
 			rs = append(rs, Revaluation{Date: at, Values: vals, Err: err})
 			if err != nil {

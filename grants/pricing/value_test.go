@@ -51,7 +51,7 @@ func TestRemeasurementDates(t *testing.T) {
 	}
 	for _, c := range cases {
 		var got []string
-		for _, q := range RemeasurementDates(day(c.grant), day(c.end)) {
+		for _, q := range RemeasurementDates(ymd(c.grant), ymd(c.end)) {
 			got = append(got, q.Format(time.DateOnly))
 		}
 		if strings.Join(got, " ") != strings.Join(c.want, " ") {
@@ -177,7 +177,7 @@ func TestValueSample(t *testing.T) {
 		if len(rs) == 0 || !rs[0].Date.Equal(g.GrantDate) {
 			t.Fatalf("grant %s revaluations %+v", g.ID, rs)
 		}
-		want := append([]time.Time{g.GrantDate}, RemeasurementDates(g.GrantDate, day("2026-09-30"))...)
+		want := append([]time.Time{g.GrantDate}, RemeasurementDates(g.GrantDate, ymd("2026-09-30"))...)
 		if len(rs) != len(want) {
 			t.Errorf("grant %s: %d revaluations, want %d", g.ID, len(rs), len(want))
 		}
@@ -367,7 +367,7 @@ func TestMissedTarget(t *testing.T) {
 	}
 }
 
-func day(s string) time.Time {
+func ymd(s string) time.Time {
 	t, err := time.Parse(time.DateOnly, s)
 	if err != nil {
 		panic(err)
