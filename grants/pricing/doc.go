@@ -32,6 +32,11 @@
 //   - A Monte Carlo cross-check of up to MonteCarloSample tranches spread
 //     over instruments and grant months, each with its own seed, z against
 //     the lattice and a warning past MonteCarloZLimit.
+//   - The tranches whose automatic lattice value misses valuation.AutoTarget
+//     (valuation.Result.MissedTarget), listed in Valuation.MissedTarget with
+//     a warning each (the first MissedTargetWarnings): the lattice's value
+//     and estimate, and the Monte Carlo value of the same terms beside it
+//     for the first MissedTargetSample the simulation can value.
 //   - Revaluations of each liability-classified warrant at its grant date
 //     and at the past quarter ends (RemeasurementDates), which the
 //     accounting needs to show the change in fair value apart from
