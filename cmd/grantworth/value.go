@@ -115,15 +115,7 @@ func runValue(o *valueOptions) error {
 	}
 	s, rep, err := grants.ReadFile(o.path)
 	if err != nil {
-		var ce *grants.CellError
-		switch {
-		case errors.As(err, &ce):
-			return asInput(err)
-		case errors.Is(err, fs.ErrNotExist):
-			return badInput("%s: no such file or folder", o.path)
-		default:
-			return err
-		}
+		return readError(o.path, err)
 	}
 	if !vdate.IsZero() {
 		applyValuationDate(s, vdate)
@@ -215,6 +207,20 @@ func runValue(o *valueOptions) error {
 	}
 	printSummary(o.io.Out, m, o.out)
 	return nil
+}
+
+// readError is the error of a schedule or designs workbook at path that
+// could not be read at all: a problem in the file (a *grants.CellError) or
+// a missing file is bad input (exit 2); anything else fails the run.
+func readError(path string, err error) error {
+	var ce *grants.CellError
+	switch {
+	case errors.As(err, &ce):
+		return asInput(err)
+	case errors.Is(err, fs.ErrNotExist):
+		return badInput("%s: no such file or folder", path)
+	}
+	return err
 }
 
 // applyValuationDate moves the period end to d; a period start the schedule
