@@ -238,6 +238,20 @@ func runValue(o *valueOptions) error {
 	return nil
 }
 
+// readError is the error of a schedule or designs workbook at path that
+// could not be read at all: a problem in the file (a *grants.CellError) or
+// a missing file is bad input (exit 2); anything else fails the run.
+func readError(path string, err error) error {
+	var ce *grants.CellError
+	switch {
+	case errors.As(err, &ce):
+		return asInput(err)
+	case errors.Is(err, fs.ErrNotExist):
+		return badInput("%s: no such file or folder", path)
+	}
+	return err
+}
+
 // openPrior reads the prior close o.prior and opens s's period after it
 // (accounting.Open). Refusals are input errors; the output folder may
 // not be the prior's, which must stay as it is.
@@ -283,20 +297,6 @@ func sameDir(a, b string) bool {
 	x, errX := filepath.Abs(a)
 	y, errY := filepath.Abs(b)
 	return errX == nil && errY == nil && x == y
-}
-
-// readError is the error of a schedule or designs workbook at path that
-// could not be read at all: a problem in the file (a *grants.CellError) or
-// a missing file is bad input (exit 2); anything else fails the run.
-func readError(path string, err error) error {
-	var ce *grants.CellError
-	switch {
-	case errors.As(err, &ce):
-		return asInput(err)
-	case errors.Is(err, fs.ErrNotExist):
-		return badInput("%s: no such file or folder", path)
-	}
-	return err
 }
 
 // applyValuationDate moves the period end to d; a period start the schedule
