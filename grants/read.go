@@ -234,6 +234,7 @@ func read(src source, layout []Sheet) (*Schedule, *Report, error) {
 		}
 	}
 	finishCompany(s, rep)
+	s.Reindex()
 	v := validate(s, rep.skip)
 	rep.Merge(v)
 	return s, rep, nil

@@ -97,7 +97,7 @@ func AwardsOf(s *grants.Schedule, v *pricing.Valuation) ([]Award, []string, erro
 			shares += n
 			term += n * r.ExpectedTermYears
 		}
-		a, err := AwardOf(s, g, fv)
+		a, err := awardOf(g, gv.Inputs.Tranches, s.EventsOf(g.ID), fv)
 		if err != nil {
 			return nil, nil, fmt.Errorf("expense: %w", err)
 		}

@@ -11,13 +11,19 @@ import (
 // itself), its events and fairValue, the fair value per share of each
 // tranche in the same order.
 func AwardOf(s *grants.Schedule, g grants.Grant, fairValue []float64) (Award, error) {
-	ts := s.Tranches(g)
+	return awardOf(g, s.Tranches(g), s.EventsOf(g.ID), fairValue)
+}
+
+// awardOf is AwardOf with g's tranches ts (Schedule.Tranches: the
+// forfeitures they carry are left out) and events given, so that a grant
+// valued already is not expanded again.
+func awardOf(g grants.Grant, ts []grants.Tranche, events []grants.Event, fairValue []float64) (Award, error) {
 	if len(fairValue) != len(ts) {
 		return Award{}, fmt.Errorf("grant %s: %d fair values for %d tranches", g.ID, len(fairValue), len(ts))
 	}
-	a := Award{Grant: g, Events: s.EventsOf(g.ID)}
+	a := Award{Grant: g, Events: events, Tranches: make([]TrancheCost, len(ts))}
 	for i, t := range ts {
-		a.Tranches = append(a.Tranches, TrancheCost{Tranche: grants.Tranche{GrantID: t.GrantID, Index: t.Index, VestDate: t.VestDate, Shares: t.Shares}, FairValue: fairValue[i]})
+		a.Tranches[i] = TrancheCost{Tranche: grants.Tranche{GrantID: t.GrantID, Index: t.Index, VestDate: t.VestDate, Shares: t.Shares}, FairValue: fairValue[i]}
 	}
 	return a, nil
 }
