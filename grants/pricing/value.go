@@ -649,7 +649,7 @@ func (p *pricer) convergence(v *Valuation) error {
 	in := gv.Inputs
 	t := mcTerms(gv, k)
 	mk := in.Market
-	auto, err := valuation.Lattice(t, mk, valuation.LatticeOptions{})
+	auto, err := p.autoResult(gv, k)
 	if err != nil {
 		return fmt.Errorf("convergence study, grant %s: %w", in.Grant.ID, err)
 	}
@@ -674,6 +674,17 @@ func mcTerms(gv *GrantValue, k int) valuation.Terms {
 		t = rational(t)
 	}
 	return t
+}
+
+// autoResult is the automatic lattice's result for tranche k of gv on
+// its mcTerms, as the convergence study and the Monte Carlo check show it:
+// the run's own value when the run measured it so (now, on the automatic
+// lattice, undiluted), else valued afresh.
+func (p *pricer) autoResult(gv *GrantValue, k int) (valuation.Result, error) {
+	if p.opts == (valuation.LatticeOptions{}) && gv.Status != Locked && gv.Dilution == nil && gv.Inputs.Grant.Instrument != grants.RSU {
+		return gv.Results[k], nil
+	}
+	return valuation.Lattice(mcTerms(gv, k), gv.Inputs.Market, valuation.LatticeOptions{})
 }
 
 // simulable reports whether valuation.MonteCarlo values terms t: it does
@@ -778,7 +789,7 @@ func (p *pricer) monteCarlo(v *Valuation) error {
 		go func() {
 			defer func() { <-sem; wg.Done() }()
 			o := &outs[j]
-			o.c, o.err, o.mcErr = check(&v.Grants[pk.i], pk.k, uint64(MonteCarloSeed+j))
+			o.c, o.err, o.mcErr = p.check(&v.Grants[pk.i], pk.k, uint64(MonteCarloSeed+j))
 		}()
 	}
 	wg.Wait()
@@ -804,10 +815,10 @@ func (p *pricer) monteCarlo(v *Valuation) error {
 // check simulates tranche k of gv with the given seed beside the automatic
 // lattice on the same terms (mcTerms). err is the lattice's failure (the
 // run fails), mcErr the simulation's refusal (the tranche is left out).
-func check(gv *GrantValue, k int, seed uint64) (c MonteCarloCheck, err, mcErr error) {
+func (p *pricer) check(gv *GrantValue, k int, seed uint64) (c MonteCarloCheck, err, mcErr error) {
 	in := gv.Inputs
 	t := mcTerms(gv, k)
-	auto, err := valuation.Lattice(t, in.Market, valuation.LatticeOptions{})
+	auto, err := p.autoResult(gv, k)
 	if err != nil {
 		return c, fmt.Errorf("Monte Carlo check, grant %s tranche %d: lattice: %w", in.Grant.ID, in.Tranches[k].Index, err), nil
 	}
@@ -858,7 +869,7 @@ func (p *pricer) missedTarget(v *Valuation) error {
 		sem <- struct{}{}
 		go func() {
 			defer func() { <-sem; wg.Done() }()
-			c, err, mcErr := check(gv, pk.k, seed)
+			c, err, mcErr := p.check(gv, pk.k, seed)
 			if err == nil && mcErr == nil {
 				v.MissedTarget[j].Check = &c
 			}
