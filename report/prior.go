@@ -301,7 +301,7 @@ func (r *priorReader) readExpense(dec *json.Decoder) error {
 // addGrant keeps what a later close needs of grant g's valuation.
 func (r *priorReader) addGrant(g *Grant) {
 	pg := accounting.PriorGrant{ID: g.ID, Instrument: grants.Instrument(g.Instrument), Liability: g.Instrument == Warrant && g.Classification == string(grants.Liability),
-		GrantDate: g.GrantDate.Time(), MeasurementDate: g.MeasurementDate.Time(), ExpiryDate: g.ExpiryDate.Time()}
+		GrantDate: g.GrantDate.Time(), MeasurementDate: g.MeasurementDate.Time(), ExpiryDate: g.ExpiryDate.Time(), ValuationKey: g.ValuationKey}
 	if len(g.Tranches) > 0 {
 		pg.Tranches = make([]accounting.PriorTranche, len(g.Tranches))
 	}

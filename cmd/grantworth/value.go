@@ -197,6 +197,10 @@ func runValue(o *valueOptions) error {
 		Sensitivity: func(done, total int) { bar.finish(); sensBar.update(done, total) },
 		Locks:       prior.Locks(),
 		Correct:     o.correct,
+		// A grant whose inputs are as the prior close filed them keeps
+		// its values without being valued, when the same grantworth
+		// made them.
+		Reuse: prior != nil && prior.ToolVersion == version,
 	})
 	bar.finish()
 	sensBar.finish()

@@ -59,6 +59,9 @@ type PriorGrant struct {
 	// post_vesting_exit_rate, risk_free_rate, strike), with their cells.
 	Inputs   map[string]grants.Source
 	Tranches []PriorTranche
+	// ValuationKey is the digest of every number its filed values were
+	// measured with (pricing.GrantValue.Key); "" if none was filed.
+	ValuationKey string
 
 	Cost, Cumulative, Unrecognized float64
 	// Liability-classified warrants: the liability at its valuation date
@@ -190,7 +193,7 @@ func (p *Prior) Locks() map[string]pricing.Lock {
 	}
 	out := make(map[string]pricing.Lock, len(p.Grants))
 	for _, pg := range p.Grants {
-		lk := pricing.Lock{Close: p.ValuationDate, Liability: pg.Liability, MeasurementDate: pg.MeasurementDate, ExpiryDate: pg.ExpiryDate, Inputs: pg.Inputs}
+		lk := pricing.Lock{Close: p.ValuationDate, Liability: pg.Liability, MeasurementDate: pg.MeasurementDate, ExpiryDate: pg.ExpiryDate, Inputs: pg.Inputs, Key: pg.ValuationKey}
 		if pg.Liability {
 			for _, r := range pg.Remeasurements {
 				lk.Revaluations = append(lk.Revaluations, pricing.Revaluation{Date: r.Date, Values: r.FairValue})
@@ -229,7 +232,7 @@ func Filed(s *grants.Schedule, v *pricing.Valuation, b *Books) *Prior {
 			continue
 		}
 		pg := PriorGrant{ID: g.ID, Instrument: g.Instrument, Liability: ge.Liability, GrantDate: g.GrantDate, ServiceStart: ge.ServiceStart,
-			MeasurementDate: in.MeasurementDate, ExpiryDate: g.ExpiryDate, Inputs: map[string]grants.Source{},
+			MeasurementDate: in.MeasurementDate, ExpiryDate: g.ExpiryDate, Inputs: map[string]grants.Source{}, ValuationKey: gv.Key,
 			Cost: ge.Cost, Cumulative: ge.Cumulative, Unrecognized: ge.Unrecognized,
 			LiabilityEnd: ge.LiabilityEnd, Reclassified: ge.ReclassifiedToDate, Outstanding: ge.Outstanding}
 		for _, e := range ge.Events {

@@ -1,6 +1,8 @@
 package pricing
 
 import (
+	"crypto/sha256"
+	"encoding/hex"
 	"fmt"
 	"math"
 	"runtime"
@@ -58,6 +60,13 @@ type Options struct {
 	// correction of an error.
 	Locks   map[string]Lock
 	Correct []string
+	// Reuse lets a locked grant whose valuation key today equals the one
+	// filed (Lock.Key: every number that enters its valuation is as it
+	// was) take its filed values without being valued again; such a
+	// grant is not checked for drift, which only another method could
+	// cause. Set it when the prior close was made by this version of
+	// grantworth.
+	Reuse bool
 }
 
 // GrantValue is one grant's inputs and the value of each of its tranches.
@@ -82,6 +91,14 @@ type GrantValue struct {
 	// Drift is, for a locked grant that today's inputs would value
 	// differently, by how much and why; nil otherwise.
 	Drift *Drift
+	// Key is the grant's valuation key: a digest of every number that
+	// enters its valuation (instrument, terms and vest times of every
+	// tranche, market and curve, dilution, lattice settings), of today's
+	// inputs, or for a locked grant of the filed ones. Reused is set when
+	// a locked grant took its filed values without being valued
+	// (Options.Reuse).
+	Key    string
+	Reused bool
 	// RiskFreeRate is, per tranche, the continuous zero rate of the
 	// grant's curve at the tranche's years to expiry, and SimplifiedRate
 	// at the term of its closed-form comparison (BSM's ExpectedTermYears);
@@ -241,8 +258,18 @@ func quarterEndOf(d time.Time) time.Time {
 func Value(s *grants.Schedule, ins []grants.Inputs, opts Options) (*Valuation, error) {
 	p := &pricer{s: s, opts: opts.Lattice}
 	v := &Valuation{Options: opts, Grants: make([]GrantValue, len(ins))}
+	correct := map[string]bool{}
+	for _, id := range opts.Correct {
+		correct[id] = true
+	}
 	for i := range ins {
-		v.Grants[i].Inputs = ins[i]
+		gv := &v.Grants[i]
+		gv.Inputs = ins[i]
+		gv.Key = p.key(gv)
+		if lk, ok := opts.Locks[gv.Inputs.Grant.ID]; ok && opts.Reuse && !correct[gv.Inputs.Grant.ID] &&
+			!lk.Liability && !isLiability(gv.Inputs.Grant) && lk.Key != "" && lk.Key == gv.Key {
+			gv.Reused = true
+		}
 	}
 	base, err := p.valueSet(v.Grants, shift{}, opts.Progress)
 	if err != nil {
@@ -251,6 +278,9 @@ func Value(s *grants.Schedule, ins []grants.Inputs, opts Options) (*Valuation, e
 	for i := range v.Grants {
 		gv := &v.Grants[i]
 		gv.Results = base[i]
+		if gv.Reused { // filled from the lock by lock()
+			gv.Results = make([]valuation.Result, len(gv.Inputs.Tranches))
+		}
 		if err := p.compare(gv); err != nil {
 			return nil, err
 		}
@@ -445,6 +475,9 @@ func (p *pricer) valueSet(gs []GrantValue, sh shift, progress func(done, total i
 	var jobs []valuation.Job
 	var jobOf []int
 	for i := range gs {
+		if gs[i].Reused && sh == (shift{}) {
+			continue // its filed values are kept
+		}
 		in := gs[i].Inputs
 		terms, m, err := shiftCase(in, sh, curves)
 		if err != nil {
@@ -511,6 +544,33 @@ func dedupJobs(jobs []valuation.Job) ([]valuation.Job, []int) {
 		index[i] = u
 	}
 	return uniq, index
+}
+
+// key is gv's valuation key (GrantValue.Key): a SHA-256 digest of its
+// instrument and every number that enters its valuation.
+func (p *pricer) key(gv *GrantValue) string {
+	in, g := &gv.Inputs, gv.Inputs.Grant
+	vest := make([]float64, len(in.Terms))
+	for k, t := range in.Terms {
+		vest[k] = t.YearsToVest
+	}
+	b := []byte(string(g.Instrument) + "|" + string(g.Classification) + "|" + string(g.ExerciseStyle) + "|")
+	if len(in.Terms) > 0 {
+		b = append(b, jobKey(valuation.Job{Terms: in.Terms[0], VestYears: vest, Market: in.Market, Options: p.opts})...)
+	} else {
+		b = append(b, jobKey(valuation.Job{Market: in.Market, Options: p.opts})...)
+	}
+	for _, t := range in.Terms { // a tranche's own terms (an RSU's expiry is its vest date)
+		b = strconv.AppendUint(b, math.Float64bits(t.YearsToExpiry), 16)
+		b = append(b, ',')
+	}
+	if g.Instrument == grants.Warrant {
+		if d := p.dilution(g); d != nil {
+			b = fmt.Appendf(b, "|%x,%x,%t", math.Float64bits(d.SharesOutstanding), math.Float64bits(d.Warrants), d.PriceReflectsWarrants)
+		}
+	}
+	sum := sha256.Sum256(b)
+	return hex.EncodeToString(sum[:16])
 }
 
 func jobKey(j valuation.Job) string {
