@@ -43,6 +43,9 @@ type Prior struct {
 	Periods       []PeriodAmount // as booked, its own period last
 	Unrecognized  float64        // at its valuation date, as filed
 	Grants        []PriorGrant   // in its ledger order
+
+	byID    map[string]int // grant's index: position by grant ID
+	indexed int            // len(Grants) when byID was made
 }
 
 // PriorGrant is one grant as a prior close filed it.
@@ -88,12 +91,20 @@ type PriorTranche struct {
 	Cumulative                   float64 // compensation recognised through the close's valuation date
 }
 
-// grant returns the prior close's grant id.
+// grant returns the prior close's grant id (the first of that id), by
+// an index made on the first call (again when the grants are appended
+// to): a close looks up every grant of a ledger that may have a hundred
+// thousand.
 func (p *Prior) grant(id string) (*PriorGrant, bool) {
-	for i := range p.Grants {
-		if p.Grants[i].ID == id {
-			return &p.Grants[i], true
+	if p.byID == nil || p.indexed != len(p.Grants) {
+		p.byID = make(map[string]int, len(p.Grants))
+		for i := len(p.Grants) - 1; i >= 0; i-- {
+			p.byID[p.Grants[i].ID] = i
 		}
+		p.indexed = len(p.Grants)
+	}
+	if i, ok := p.byID[id]; ok && p.Grants[i].ID == id {
+		return &p.Grants[i], true
 	}
 	return nil, false
 }
