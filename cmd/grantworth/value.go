@@ -131,7 +131,9 @@ func runValue(o *valueOptions) error {
 		}
 		vdate = t
 	}
-	stage("reading")
+	st := newStages(o.io)
+	defer st.interrupt() // a failed stage's line ends before its error
+	st.begin("reading")
 	s, rep, err := grants.ReadFile(o.path)
 	if err != nil {
 		return readError(o.path, err)
@@ -164,6 +166,7 @@ func runValue(o *valueOptions) error {
 	}
 	ins, inErrs, skipped := s.ValueInputs()
 	if !rep.OK() || len(inErrs) > 0 {
+		st.interrupt()
 		return printProblems(o.io.Err, rep, inErrs)
 	}
 	var prior *accounting.Prior
@@ -181,6 +184,15 @@ func runValue(o *valueOptions) error {
 		}
 		return err
 	}
+	tranches := 0
+	for _, in := range ins {
+		tranches += len(in.Tranches)
+	}
+	priorNote := ""
+	if prior != nil {
+		priorNote = ", and the prior close"
+	}
+	st.end("%s grants, %s tranches%s", groupCount(len(ins)), groupCount(tranches), priorNote)
 	// Lock and check the output folder before the long work: a second run,
 	// a read-only folder or an output in the way is refused now.
 	out, err := openOutput(o.out, outputNames, o.force, o.io)
@@ -188,7 +200,7 @@ func runValue(o *valueOptions) error {
 		return err
 	}
 	defer out.close()
-	stage("valuing")
+	st.mark("valuing")
 	bar := newProgress(o.io, "valuing grants")
 	sensBar := newProgress(o.io, "sensitivity runs")
 	v, err := pricing.Value(s, ins, pricing.Options{
@@ -210,7 +222,18 @@ func runValue(o *valueOptions) error {
 		}
 		return err
 	}
-	stage("accounting")
+	kept := 0
+	for i := range v.Grants {
+		if v.Grants[i].Reused {
+			kept++
+		}
+	}
+	keptNote := ""
+	if kept > 0 {
+		keptNote = fmt.Sprintf(" (%s as filed, not valued again)", groupCount(kept))
+	}
+	st.end("%s grants%s", groupCount(len(v.Grants)), keptNote)
+	st.begin("accounting")
 	books, err := accounting.Close(s, v, prior)
 	if err != nil {
 		if ce := (*grants.CellError)(nil); errors.As(err, &ce) {
@@ -218,7 +241,8 @@ func runValue(o *valueOptions) error {
 		}
 		return err
 	}
-	stage("writing")
+	st.end("%s grants booked, %s journal entries", groupCount(len(v.Grants)), groupCount(len(books.Journal)))
+	st.mark("writing")
 	m, err := report.Build(s, v, books, report.Run{
 		Tool:     report.Tool{Name: "grantworth", Version: version},
 		Input:    report.Input{Path: filepath.ToSlash(o.path), SHA256: sum},
@@ -243,6 +267,7 @@ func runValue(o *valueOptions) error {
 	if err := out.write(files); err != nil {
 		return err
 	}
+	st.end("%d files", len(files))
 	printSummary(o.io.Out, m, o.out)
 	return nil
 }
