@@ -292,15 +292,19 @@ func TestReadMoreWarnings(t *testing.T) {
 		`warning: Grants!E3 (strike): "3" is ignored: an RSU has no strike`,
 		`warning: Grants!H3 (vest_start): "2026-06-01" is more than a year after grant_date 2025-01-15`,
 		`warning: Grants!C4 (grant_date): "2026-11-02" is after the valuation date 2026-09-30`,
-		// 2026-02-01: 12 months of 48 vested (300 of 1200), 900 unvested; 800 is fine.
 		`warning: Events!B3 (date): "2026-12-01" is after the valuation date 2026-09-30`,
+		// 2026-02-01: 12 months of 48 vested (300 of 1200), 900 unvested;
+		// forfeiting 800 leaves 100 to vest after the holder left.
+		`warning: Events!D2 (shares): "800" forfeits 800 of the 900 shares of grant A-1 unvested on 2026-02-01: the other 100 still vest`,
 	} {
 		if !strings.Contains(got, w) {
 			t.Errorf("missing %q in\n%s", w, got)
 		}
 	}
-	if strings.Contains(got, "Events!D2") {
-		t.Errorf("800 of 900 unvested shares drew a problem:\n%s", got)
+	fs["events.csv"] = &fstest.MapFile{Data: []byte("grant_id,date,event,shares\nA-1,2026-02-01,forfeited,900\n")}
+	_, rep = readMap(t, fs)
+	if got := problems(rep); strings.Contains(got, "Events!D2") {
+		t.Errorf("a termination of all 900 unvested shares drew a problem:\n%s", got)
 	}
 	fs["events.csv"] = &fstest.MapFile{Data: []byte("grant_id,date,event,shares\nA-1,2026-02-01,forfeited,1000\n")}
 	_, rep = readMap(t, fs)

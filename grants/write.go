@@ -292,6 +292,12 @@ func sheetRows(s *Schedule, sh *Sheet) [][]any {
 				put(row, "classification", string(g.Classification))
 				put(row, "exercise_style", string(g.ExerciseStyle))
 			}
+			if g.Purpose != "" {
+				put(row, "purpose", string(g.Purpose))
+			}
+			if !g.HireDate.IsZero() {
+				put(row, "hire_date", g.HireDate)
+			}
 			rows = append(rows, row)
 		}
 	case SheetVesting:
@@ -355,6 +361,10 @@ func assumptionRows(s *Schedule) [][]any {
 	if a.Steps > 0 {
 		steps = int64(a.Steps)
 	}
+	framework := any(nil)
+	if a.Framework != "" {
+		framework = val("framework", string(a.Framework))
+	}
 	rows := [][]any{
 		{"volatility", val("volatility", a.Volatility)},
 		{"dividend_yield", val("dividend_yield", a.DividendYield)},
@@ -364,6 +374,7 @@ func assumptionRows(s *Schedule) [][]any {
 		{"attribution", val("attribution", string(a.Attribution))},
 		{"forfeitures", val("forfeitures", string(a.Forfeitures))},
 		{"steps", val("steps", steps)},
+		{"framework", framework},
 	}
 	for i := range rows {
 		if src := a.Sources[rows[i][0].(string)]; src != "" {

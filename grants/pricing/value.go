@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"runtime"
+	"slices"
 	"sort"
 	"strconv"
 	"sync"
@@ -61,10 +62,11 @@ type GrantValue struct {
 	// automatic lattice without dilution (0 if that failed).
 	UndilutedValue float64
 	// RiskFreeRate is, per tranche, the continuous zero rate of the
-	// grant's curve at the tranche's years to expiry, and SimplifiedRate
-	// at the term of its closed-form comparison (BSM's ExpectedTermYears);
-	// both 0 without a curve.
-	RiskFreeRate, SimplifiedRate []float64
+	// grant's curve at the tranche's years to expiry, SimplifiedRate at
+	// the term of its closed-form comparison (BSM's ExpectedTermYears) and
+	// ExpectedTermRate at its expected term (Results' ExpectedTermYears),
+	// the rate disclosed for the period's grants; all 0 without a curve.
+	RiskFreeRate, SimplifiedRate, ExpectedTermRate []float64
 }
 
 // FairValueTotal is the sum over the tranches of value times shares.
@@ -155,9 +157,14 @@ type Valuation struct {
 	Warnings     []string
 }
 
-// RemeasurementDates are the quarter ends from the one containing
-// grantDate up to before end, the most recent MaxRemeasurements of them.
-func RemeasurementDates(grantDate, end time.Time) []time.Time {
+// RemeasurementDates are the days before end on which a
+// liability-classified warrant granted on grantDate is revalued after its
+// grant date: the quarter ends from the one containing grantDate up to
+// before end, the most recent MaxRemeasurements of them, and the days in
+// (grantDate, end) of its exercises, given in exercised, on which it is
+// remeasured before the exercised warrants leave the liability (IFRS
+// 2.30; ASC 718-30-35-3; ASC 815-40-35). In date order, each day once.
+func RemeasurementDates(grantDate, end time.Time, exercised []time.Time) []time.Time {
 	var ends []time.Time
 	for q := quarterEndOf(grantDate); q.Before(end); q = quarterEndOf(q.AddDate(0, 0, 1)) {
 		ends = append(ends, q)
@@ -165,7 +172,13 @@ func RemeasurementDates(grantDate, end time.Time) []time.Time {
 	if len(ends) > MaxRemeasurements {
 		ends = ends[len(ends)-MaxRemeasurements:]
 	}
-	return ends
+	for _, d := range exercised {
+		if d.After(grantDate) && d.Before(end) {
+			ends = append(ends, d)
+		}
+	}
+	sort.Slice(ends, func(i, j int) bool { return ends[i].Before(ends[j]) })
+	return slices.CompactFunc(ends, func(a, b time.Time) bool { return a.Equal(b) })
 }
 
 func quarterEndOf(d time.Time) time.Time {
@@ -222,8 +235,14 @@ func Value(s *grants.Schedule, ins []grants.Inputs, opts Options) (*Valuation, e
 		if g.Instrument != grants.Warrant || g.Classification != grants.Liability {
 			continue
 		}
+		var exercised []time.Time
+		for _, e := range s.EventsOf(g.ID) {
+			if e.Kind == grants.Exercised && e.Date.Before(g.ExpiryDate) {
+				exercised = append(exercised, e.Date)
+			}
+		}
 		var rs []Revaluation
-		for _, at := range append([]time.Time{g.GrantDate}, RemeasurementDates(g.GrantDate, end)...) {
+		for _, at := range append([]time.Time{g.GrantDate}, RemeasurementDates(g.GrantDate, end, exercised)...) {
 			vals, err := p.revalue(g, at)
 			rs = append(rs, Revaluation{Date: at, Values: vals, Err: err})
 			if err != nil {
@@ -304,10 +323,12 @@ func (p *pricer) compare(gv *GrantValue) error {
 	}
 	gv.RiskFreeRate = make([]float64, len(in.Terms))
 	gv.SimplifiedRate = make([]float64, len(in.Terms))
+	gv.ExpectedTermRate = make([]float64, len(in.Terms))
 	if c := in.Market.Curve; c != nil {
 		for k, t := range in.Terms {
 			gv.RiskFreeRate[k] = c.Zero(t.YearsToExpiry)
 			gv.SimplifiedRate[k] = c.Zero(gv.BSM[k].ExpectedTermYears)
+			gv.ExpectedTermRate[k] = c.Zero(gv.Results[k].ExpectedTermYears)
 		}
 	}
 	return nil
