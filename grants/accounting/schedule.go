@@ -31,12 +31,13 @@ func AwardOf(s *grants.Schedule, g grants.Grant, fairValue []float64) (Award, er
 }
 
 // PolicyOf is the schedule's attribution and forfeiture policy and its
-// framework, from its Assumptions sheet.
+// framework: the Assumptions rows in force at its valuation date.
 func PolicyOf(s *grants.Schedule) Policy {
+	a := s.InForce()
 	return Policy{
-		Attribution:              s.Assumptions.Attribution,
-		Forfeitures:              s.Assumptions.Forfeitures,
-		PreVestingForfeitureRate: s.Assumptions.PreVestingForfeitureRate,
-		Framework:                s.Assumptions.Framework,
+		Attribution:              a.Attribution,
+		Forfeitures:              a.Forfeitures,
+		PreVestingForfeitureRate: a.PreVestingForfeitureRate,
+		Framework:                a.Framework,
 	}
 }
