@@ -320,3 +320,38 @@ func TestExpenseNoRevalue(t *testing.T) {
 		t.Errorf("failed revaluation: warnings %v, fair value change %v", m.Warnings, m.Expense.FinancingFairValueChange)
 	}
 }
+
+// Under IFRS 2 (framework ifrs2) the journal's equity is a share-based
+// payment reserve (IFRS 2.7), in the JSON, the Journal sheet and the memo.
+func TestExpenseIFRS2Names(t *testing.T) {
+	s := expenseSchedule()
+	s.Assumptions.Framework = grants.IFRS2
+	m := expenseModelFor(t, s)
+	e := m.Expense
+	if e.Framework != "ifrs2" || len(e.Journal) == 0 {
+		t.Fatalf("framework %q, journal %+v", e.Framework, e.Journal)
+	}
+	// The termination makes the period's equity-classified cost negative:
+	// the first entry debits the reserve and credits the expense.
+	if l := e.Journal[0].Lines[0]; l.Role != "equity" || l.Account != "Share-based payment reserve" || l.Debit <= 0 {
+		t.Errorf("equity line %+v", l)
+	}
+	var xb bytes.Buffer
+	if err := WriteWorkbook(&xb, m); err != nil {
+		t.Fatal(err)
+	}
+	f, err := excelize.OpenReader(&xb)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	if v, _ := f.GetCellValue(SheetJournal, "F2"); v != "Share-based payment reserve" {
+		t.Errorf("Journal!F2 = %q", v)
+	}
+	flat := strings.Join(strings.Fields(pdfText(t, renderMemo(t, m))), " ")
+	for _, want := range []string{"Standard: IFRS 2", "credit a share-based payment reserve in equity (IFRS 2)", "Share-based payment reserve"} {
+		if !strings.Contains(flat, want) {
+			t.Errorf("memo has no %q", want)
+		}
+	}
+}

@@ -207,3 +207,61 @@ func TestMeasuredRateAtExpectedTerm(t *testing.T) {
 		t.Errorf("Close without a period-end price: %v", err)
 	}
 }
+
+// The audit case of issue 10, end to end through pricing: the sample's
+// investor warrant TW-039 (liability-classified, issued in a financing),
+// 50,000 of its 400,000 exercised on 2026-08-14 after the share's fair
+// value rose to 3.90 on 2026-08-01 (an invented Share Prices row). Pricing
+// revalues it on the exercise day; the books reclassify the exercised
+// warrants at that day's fair value v(08-14), not at the 2026-06-30 value,
+// so the period's change in fair value is larger by 50,000 × (v(08-14) −
+// v(06-30)) than a reclassification at the last period end would give
+// (IFRS 2.30 and ASC 815-40-35: remeasure on settlement, then reclassify).
+func TestAuditCaseExerciseMidQuarter(t *testing.T) {
+	s, rep, err := grants.ReadFile("../../sample/tarnwick.xlsx")
+	if err != nil || !rep.OK() {
+		t.Fatalf("sample: %v %v", err, rep.Err())
+	}
+	s.SharePrices = append(s.SharePrices, grants.PricePoint{Date: ymd("2026-08-01"), Price: 3.90, Row: 99})
+	s.Events = append(s.Events, grants.Event{GrantID: "TW-039", Date: ymd("2026-08-14"), Kind: grants.Exercised, Shares: 50_000, Row: 99})
+	g, _ := s.Grant("TW-039")
+	in, err := s.Inputs(g)
+	if err != nil {
+		t.Fatal(err)
+	}
+	v, err := pricing.Value(s, []grants.Inputs{in}, pricing.Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	at := map[string]float64{}
+	for _, r := range v.Revaluations["TW-039"] {
+		if r.Err != nil {
+			t.Fatalf("revaluation on %s: %v", r.Date.Format(time.DateOnly), r.Err)
+		}
+		at[r.Date.Format(time.DateOnly)] = r.Values[0]
+	}
+	v0630 := at["2026-06-30"]
+	if v0814, ok := at["2026-08-14"]; !ok || !(v0814 > v0630) {
+		t.Fatalf("revaluations %v: want the exercise day, above the 2026-06-30 value after the price rose", at)
+	}
+	v0814 := at["2026-08-14"]
+	awards, warns, err := AwardsOf(s, v)
+	if err != nil || len(warns) > 0 {
+		t.Fatalf("awards: %v %v", err, warns)
+	}
+	start, end := s.Period()
+	r, err := Expense(awards, PolicyOf(s), start, end)
+	if err != nil {
+		t.Fatal(err)
+	}
+	w := r.Financing[0]
+	vEnd := v.Grants[0].Results[0].Value
+	nearly(t, "opening liability", w.LiabilityOpen, 400_000*v0630, tolMoney)
+	nearly(t, "reclassified at the exercise day's value", w.Reclassified, 50_000*v0814, tolMoney)
+	nearly(t, "closing liability", w.LiabilityEnd, 350_000*vEnd, tolMoney)
+	nearly(t, "change in fair value", w.FairValueChange, 350_000*vEnd+50_000*v0814-400_000*v0630, tolMoney)
+	t.Logf("v(06-30) %.4f, v(08-14) %.4f, v(09-30) %.4f: the remeasurement on the exercise day adds %.2f to the change", v0630, v0814, vEnd, 50_000*(v0814-v0630))
+	if r.Period != 0 || len(r.Grants) != 0 {
+		t.Errorf("the financing warrant booked compensation: %v", r)
+	}
+}
