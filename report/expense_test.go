@@ -336,15 +336,7 @@ func TestExpenseIFRS2Names(t *testing.T) {
 	if l := e.Journal[0].Lines[0]; l.Role != "equity" || l.Account != "Share-based payment reserve" || l.Debit <= 0 {
 		t.Errorf("equity line %+v", l)
 	}
-	var xb bytes.Buffer
-	if err := WriteWorkbook(&xb, m); err != nil {
-		t.Fatal(err)
-	}
-	f, err := excelize.OpenReader(&xb)
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer f.Close()
+	f := renderBook(t, m)
 	if v, _ := f.GetCellValue(SheetJournal, "F2"); v != "Share-based payment reserve" {
 		t.Errorf("Journal!F2 = %q", v)
 	}

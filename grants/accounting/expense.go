@@ -309,12 +309,7 @@ func (p *period) expense() *ExpenseReport {
 			fw := l.financingWarrant(s0, s1, periodStart, periodEnd)
 			rep.Financing = append(rep.Financing, fw)
 			rep.FairValueChange += fw.FairValueChange
-			var prevFV float64
-			for k := range bounds {
-				fv := l.atInto(pol, bounds[k].End, bounds[k].End, l.bufComp).fvChange()
-				bounds[k].FairValueChange += fv - prevFV
-				prevFV = fv
-			}
+			l.addPeriods(pol, bounds)
 			if l.liability && len(l.remeas) == 0 {
 				rep.Warnings = append(rep.Warnings, fmt.Sprintf("grant %s: liability-classified financing warrant with no remeasurement; its liability is carried at its fair value at issue", g.ID))
 			}
@@ -394,12 +389,7 @@ func (p *period) expense() *ExpenseReport {
 		rep.Cumulative += ge.Cumulative
 		rep.Unrecognized += ge.Unrecognized
 
-		var prevComp float64
-		for k := range bounds {
-			c := l.atInto(pol, bounds[k].End, bounds[k].End, l.bufComp).compTotal()
-			bounds[k].Amount += c - prevComp
-			prevComp = c
-		}
+		l.addPeriods(pol, bounds)
 		prevTotal := s1.compTotal()
 		for k := range rep.Forecast {
 			cur := l.atInto(pol, rep.Forecast[k].End, periodEnd, l.bufComp).compTotal()
@@ -483,6 +473,24 @@ func Spread(a Award, pol Policy, ends []time.Time) (amounts []float64, cost floa
 		far = asOf
 	}
 	return amounts, l.at(pol, far, known).compTotal(), nil
+}
+
+// addPeriods adds the award's compensation in each of the periods ps
+// (consecutive, the first from the start) to its Amount, and a financing
+// warrant's change in fair value to its FairValueChange.
+func (l *awardLedger) addPeriods(pol Policy, ps []PeriodAmount) {
+	var prevComp, prevFV float64
+	for k := range ps {
+		cur := l.atInto(pol, ps[k].End, ps[k].End, l.bufComp)
+		c := cur.compTotal()
+		ps[k].Amount += c - prevComp
+		prevComp = c
+		if l.financing {
+			fv := cur.fvChange()
+			ps[k].FairValueChange += fv - prevFV
+			prevFV = fv
+		}
+	}
 }
 
 // financingWarrant is a financing warrant's row for the period, from its
