@@ -26,7 +26,7 @@ func TestBuildMapsTheValuation(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	b, err := accounting.Close(s, v)
+	b, err := accounting.Close(s, v, nil)
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -3,6 +3,7 @@ package report
 import (
 	"sort"
 
+	"grantworth/grants"
 	"grantworth/grants/accounting"
 )
 
@@ -61,6 +62,16 @@ type FinancingWarrant struct {
 	FairValueChange  float64 `json:"fair_value_change"`
 	Reclassified     float64 `json:"reclassified_to_equity"`
 	LiabilityEnd     float64 `json:"liability_at_period_end"`
+	// ReclassifiedToDate is the liability reclassified on exercise
+	// through the period end, in all; CompensationReversed the
+	// compensation a prior close booked for the warrant, reversed in the
+	// period (a catch-up; negative).
+	ReclassifiedToDate   float64 `json:"reclassified_to_equity_cumulative"`
+	CompensationReversed float64 `json:"compensation_reversed"`
+	// What a later close reads: the events applied and a liability's fair
+	// values per tranche at issue and after it.
+	Events         []EventRecord   `json:"events"`
+	Remeasurements []Remeasurement `json:"remeasurements"`
 }
 
 // ExpenseGrant is one grant's attribution.
@@ -85,24 +96,50 @@ type ExpenseGrant struct {
 	LiabilityOpen      float64 `json:"liability_at_period_start"`
 	LiabilityEnd       float64 `json:"liability_at_period_end"`
 	ReclassifiedEquity float64 `json:"reclassified_to_equity"`
+	ReclassifiedToDate float64 `json:"reclassified_to_equity_cumulative"`
+
+	// What a later close reads: the options or warrants outstanding (RSUs
+	// nonvested) at the period end, the events applied, and a liability
+	// warrant's fair values after its grant date.
+	Outstanding    int64           `json:"outstanding_at_period_end"`
+	Events         []EventRecord   `json:"events"`
+	Remeasurements []Remeasurement `json:"remeasurements"`
 
 	Tranches []ExpenseTranche `json:"tranches"`
 }
 
+// EventRecord is an event applied to a grant.
+type EventRecord struct {
+	Date   Date   `json:"date"`
+	Event  string `json:"event"`
+	Shares int64  `json:"shares"`
+}
+
+// Remeasurement is a liability-classified warrant's fair value per share
+// of each tranche on a date.
+type Remeasurement struct {
+	Date              Date      `json:"date"`
+	FairValuePerShare []float64 `json:"fair_value_per_share"`
+}
+
 // ExpenseTranche is one tranche's attribution.
 type ExpenseTranche struct {
-	Index             int     `json:"index"`
-	VestDate          Date    `json:"vest_date"`
-	Shares            int64   `json:"shares"`
-	SharesCounted     float64 `json:"shares_counted"` // expected to vest under an estimate, net of forfeitures
-	FairValuePerShare float64 `json:"fair_value_per_share"`
-	ExpectedShare     float64 `json:"expected_share_at_vest"`
-	Cost              float64 `json:"cost"`
-	CumulativeOpen    float64 `json:"cumulative_at_period_start"`
-	Amount            float64 `json:"period_amount"`
-	Cumulative        float64 `json:"cumulative"`
-	Unrecognized      float64 `json:"unrecognized_cost"`
-	RemainingYears    float64 `json:"remaining_years"`
+	Index         int     `json:"index"`
+	VestDate      Date    `json:"vest_date"`
+	Shares        int64   `json:"shares"`
+	SharesCounted float64 `json:"shares_counted"` // expected to vest under an estimate, net of forfeitures
+	// FairValuePerShare is what the cost is measured on: the grant-date
+	// value, or a liability-classified award's latest remeasurement;
+	// GrantDateFairValuePerShare the grant-date value in either case.
+	FairValuePerShare          float64 `json:"fair_value_per_share"`
+	GrantDateFairValuePerShare float64 `json:"grant_date_fair_value_per_share"`
+	ExpectedShare              float64 `json:"expected_share_at_vest"`
+	Cost                       float64 `json:"cost"`
+	CumulativeOpen             float64 `json:"cumulative_at_period_start"`
+	Amount                     float64 `json:"period_amount"`
+	Cumulative                 float64 `json:"cumulative"`
+	Unrecognized               float64 `json:"unrecognized_cost"`
+	RemainingYears             float64 `json:"remaining_years"`
 }
 
 // ExpenseGroup sums the attribution of the grants of one grant month
@@ -136,7 +173,8 @@ type JournalLine struct {
 // Disclosures are the share-based payment note's tables for the period.
 // Warrants issued in financings are in FinancingWarrants only.
 type Disclosures struct {
-	SharePrice          float64        `json:"share_price"` // at period end, for intrinsic values
+	SharePrice          float64        `json:"share_price"`        // at period end, for intrinsic values
+	SharePriceSource    string         `json:"share_price_source"` // its cell, e.g. "Share Prices!B7 (valuation of 2026-09-30)"
 	Options             RollForward    `json:"options"`
 	OptionsAtEnd        []SummaryLine  `json:"options_at_period_end"`
 	OptionGrants        GrantsInPeriod `json:"option_grants"`
@@ -255,7 +293,9 @@ func expenseModel(b *accounting.Books) *Expense {
 		det.Financing = append(det.Financing, FinancingWarrant{GrantID: w.GrantID, Holder: w.Holder, Classification: string(w.Classification),
 			IssueDate: DateOf(w.IssueDate), Shares: w.Shares, FairValueAtIssue: w.FairValueAtIssue, ValueAtIssue: w.ValueAtIssue,
 			Outstanding: w.Outstanding, Exercised: w.Exercised, FairValue: w.FairValue, LiabilityOpen: w.LiabilityOpen,
-			Issued: w.Issued, FairValueChange: w.FairValueChange, Reclassified: w.Reclassified, LiabilityEnd: w.LiabilityEnd})
+			Issued: w.Issued, FairValueChange: w.FairValueChange, Reclassified: w.Reclassified, LiabilityEnd: w.LiabilityEnd,
+			ReclassifiedToDate: w.ReclassifiedToDate, CompensationReversed: w.CompensationReversed,
+			Events: eventRecords(w.Events), Remeasurements: remeasurementRecords(w.Remeasurements)})
 	}
 	months := map[string]*ExpenseGroup{}
 	for _, g := range r.Grants {
@@ -264,10 +304,12 @@ func expenseModel(b *accounting.Books) *Expense {
 			Cost: g.Cost, CumulativeOpen: g.CumulativeOpen, Amount: g.Period, Cumulative: g.Cumulative,
 			Unrecognized: g.Unrecognized, RemainingYears: g.RemainingYears,
 			LiabilityOpen: g.LiabilityOpen, LiabilityEnd: g.LiabilityEnd,
-			ReclassifiedEquity: g.ReclassifiedEquity, Tranches: []ExpenseTranche{}}
+			ReclassifiedEquity: g.ReclassifiedEquity, ReclassifiedToDate: g.ReclassifiedToDate,
+			Outstanding: g.Outstanding, Events: []EventRecord{}, Remeasurements: []Remeasurement{}, Tranches: []ExpenseTranche{}}
+		eg.Events, eg.Remeasurements = eventRecords(g.Events), remeasurementRecords(g.Remeasurements)
 		for _, t := range g.Tranches {
 			eg.Tranches = append(eg.Tranches, ExpenseTranche{Index: t.Index, VestDate: DateOf(t.VestDate), Shares: t.Shares,
-				SharesCounted: t.SharesCounted, FairValuePerShare: t.FairValue, ExpectedShare: t.ExpectedShare, Cost: t.Cost,
+				SharesCounted: t.SharesCounted, FairValuePerShare: t.FairValue, GrantDateFairValuePerShare: t.GrantDateFairValue, ExpectedShare: t.ExpectedShare, Cost: t.Cost,
 				CumulativeOpen: t.CumulativeOpen, Amount: t.Period, Cumulative: t.Cumulative, Unrecognized: t.Unrecognized,
 				RemainingYears: t.RemainingYears})
 		}
@@ -300,12 +342,29 @@ func expenseModel(b *accounting.Books) *Expense {
 		det.Journal = append(det.Journal, je)
 	}
 	det.Disclosures = disclosuresModel(d)
+	det.Disclosures.SharePriceSource = b.SharePrice.Text
 	return &Expense{
 		Periods:                       periodsOf(r.Periods),
 		UnrecognizedCost:              r.Unrecognized,
 		WeightedAverageRemainingYears: r.RemainingYears,
 		ExpenseDetail:                 det,
 	}
+}
+
+func eventRecords(es []grants.Event) []EventRecord {
+	out := []EventRecord{}
+	for _, e := range es {
+		out = append(out, EventRecord{Date: DateOf(e.Date), Event: string(e.Kind), Shares: e.Shares})
+	}
+	return out
+}
+
+func remeasurementRecords(rs []accounting.Remeasurement) []Remeasurement {
+	out := []Remeasurement{}
+	for _, r := range rs {
+		out = append(out, Remeasurement{Date: DateOf(r.Date), FairValuePerShare: r.FairValue})
+	}
+	return out
 }
 
 func rollLine(label string, l accounting.RollLine) RollLine {

@@ -52,8 +52,8 @@ func fixed(v float64, d int) string { return strconv.FormatFloat(v, 'f', d, 64) 
 // count is an integer with grouped digits.
 func count[T ~int | ~int64](n T) string { return groupDigits(float64(n), 0) }
 
-// plural is n and the word w, with an s unless n is 1 ("1 grant", "2 grants").
-func plural(n int, w string) string {
+// counted is n and the word w, with an s unless n is 1 ("1 grant", "2 grants").
+func counted(n int, w string) string {
 	if n == 1 {
 		return "1 " + w
 	}

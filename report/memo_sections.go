@@ -25,7 +25,7 @@ func (d *Memo) summary(m *Model) error {
 	}
 	if f := m.FinancingTotals; f.Grants > 0 {
 		rows = append(rows, []string{"Warrants issued in financings (not share-based payment)",
-			fmt.Sprintf("%s over %s shares, fair value %s", plural(f.Grants, "grant"), count(f.Shares), money(f.FairValueTotal, cur))})
+			fmt.Sprintf("%s over %s shares, fair value %s", counted(f.Grants, "grant"), count(f.Shares), money(f.FairValueTotal, cur))})
 	}
 	if e := detail(m); e != nil {
 		rows = append(rows,

@@ -521,7 +521,7 @@ func summarise(l *awardLedger, out, ex, exp *outAcc, ranges rangeAccs, end time.
 			ranges.add(g.Strike, int64(n), int64(n), term)
 		} else {
 			ranges.add(g.Strike, int64(n), 0, term)
-			exp.add(n*t.expected(dayNum(end)), g.Strike, term, price)
+			exp.add(n*t.expected(dayNum(end), l.rate), g.Strike, term, price)
 		}
 	}
 }

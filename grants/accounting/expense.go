@@ -66,25 +66,30 @@ type PeriodAmount struct {
 	Start           time.Time
 	End             time.Time
 	Amount          float64 // compensation expense
-	FairValueChange float64 // liability-classified warrants, apart from compensation
+	FairValueChange float64 // financing warrants' liability, apart from compensation (outside operating expense)
 	Current         bool    // the reporting period [period start, valuation date]
 }
 
 // TrancheExpense is one tranche's attribution.
 type TrancheExpense struct {
-	Index          int
-	VestDate       time.Time
-	ServiceStart   time.Time
-	Shares         int64   // as granted
-	SharesCounted  float64 // shares whose cost counts at period end (expected at vest under Estimate)
-	FairValue      float64 // per share, grant date
-	ExpectedShare  float64 // (1 − rate)^Y at period end, Y the service years still to come; 1 under as-occur
-	Cost           float64 // expected total compensation cost at period end
-	CumulativeOpen float64 // through the day before the period start
-	Period         float64
-	Cumulative     float64 // through period end
-	Unrecognized   float64
-	RemainingYears float64 // service days left after the period end / 365
+	Index         int
+	VestDate      time.Time
+	ServiceStart  time.Time
+	Shares        int64   // as granted
+	SharesCounted float64 // shares whose cost counts at period end (expected at vest under Estimate)
+	// FairValue is per share: the grant-date value, or for a
+	// liability-classified award its latest remeasurement, on which its
+	// cost is measured; GrantDateFairValue is its value at the grant date
+	// in either case.
+	FairValue          float64
+	GrantDateFairValue float64
+	ExpectedShare      float64 // (1 − rate)^Y at period end, Y the service years still to come; 1 under as-occur
+	Cost               float64 // expected total compensation cost at period end
+	CumulativeOpen     float64 // through the day before the period start
+	Period             float64
+	Cumulative         float64 // through period end
+	Unrecognized       float64
+	RemainingYears     float64 // service days left after the period end / 365
 }
 
 // GrantExpense is one grant's attribution.
@@ -103,12 +108,25 @@ type GrantExpense struct {
 	Unrecognized   float64
 	RemainingYears float64
 
-	// Liability-classified warrants only: the award's liability, which
+	// Liability-classified awards only: the award's liability, which
 	// rolls as LiabilityOpen + Period − ReclassifiedEquity = LiabilityEnd
 	// (every change in its fair value is compensation cost).
 	LiabilityOpen      float64 // at the end of the day before the period start
 	LiabilityEnd       float64 // at period end
 	ReclassifiedEquity float64 // liability moved to equity on exercise in the period, at the exercise day's fair value
+	// ReclassifiedToDate is the liability moved to equity on exercise
+	// through the period end, in all.
+	ReclassifiedToDate float64
+
+	// Outstanding is, at the period end, the options or warrants
+	// outstanding, or the RSUs nonvested.
+	Outstanding int64
+	// Events are the grant's events applied, through the period end, and
+	// Remeasurements a liability-classified warrant's fair values after
+	// its grant date (the past quarter ends and the period end): what a
+	// later close compares and keeps.
+	Events         []grants.Event
+	Remeasurements []Remeasurement
 
 	Tranches []TrancheExpense
 }
@@ -118,7 +136,7 @@ type GrantExpense struct {
 // equity-classified one is measured once, at issue (ASC 815-40, IAS 32);
 // a liability-classified one is measured at fair value at issue and
 // remeasured at every period end and on every exercise, the change shown
-// outside operating expense (ASC 815-40-35; IFRS 9 through IAS 32).
+// outside operating expense (ASC 815-40-35; IAS 32.11 and IFRS 9).
 type FinancingWarrant struct {
 	GrantID        string
 	Holder         string
@@ -140,11 +158,23 @@ type FinancingWarrant struct {
 
 	// Liability-classified only, the period's roll of the liability:
 	// LiabilityOpen + Issued + FairValueChange − Reclassified = LiabilityEnd.
-	LiabilityOpen   float64 // at the end of the day before the period start
-	Issued          float64 // recognised at issue, when issued in the period
-	FairValueChange float64 // remeasurement, outside operating expense
-	Reclassified    float64 // to equity on exercise, at the exercise day's fair value
-	LiabilityEnd    float64
+	LiabilityOpen      float64 // at the end of the day before the period start (as the prior close filed it, after one)
+	Issued             float64 // recognised at issue, when issued in the period
+	FairValueChange    float64 // remeasurement, outside operating expense
+	Reclassified       float64 // to equity on exercise, at the exercise day's fair value
+	LiabilityEnd       float64
+	ReclassifiedToDate float64 // to equity on exercise through the period end, in all
+
+	// CompensationReversed is, after a prior close that booked this
+	// warrant as compensation, that compensation reversed in the period
+	// (negative; in the period's expense as a catch-up).
+	CompensationReversed float64
+
+	// Events are the warrant's events through the period end, and
+	// Remeasurements a liability's fair values per tranche at issue and
+	// after it: what a later close keeps.
+	Events         []grants.Event
+	Remeasurements []Remeasurement
 }
 
 // ExpenseReport is the attribution for one reporting period.
@@ -176,9 +206,9 @@ type ExpenseReport struct {
 	AfterForecast float64
 
 	// Financing are the warrants issued in financings, apart from
-	// compensation: none of them is in Grants, Period, Cumulative,
-	// Unrecognized or the forecast. FairValueChange is the change in fair
-	// value of their liabilities in the period, outside operating expense.
+	// compensation: none of them is in Grants, Cumulative, Unrecognized or
+	// the forecast. FairValueChange is the change in fair value of their
+	// liabilities in the period, outside operating expense.
 	Financing       []FinancingWarrant
 	FairValueChange float64
 
@@ -231,11 +261,13 @@ func Attribute(awards []Award, policy Policy, periodStart, periodEnd time.Time, 
 }
 
 // period is a checked policy and period with the ledger of every award
-// granted by its end, in award order.
+// granted by its end, in award order, and the prior close it follows,
+// if any.
 type period struct {
 	pol        Policy
 	start, end time.Time
 	ledgers    []*awardLedger
+	prior      *Prior
 }
 
 // openPeriod checks the policy and the period and builds the ledgers;
@@ -274,9 +306,15 @@ func (p *period) expense() *ExpenseReport {
 	rep := &ExpenseReport{PeriodStart: periodStart, PeriodEnd: periodEnd, Policy: pol, ServiceRule: ServiceRule}
 	open := shiftDays(periodStart, -1)
 
-	// Period boundaries: context quarters, then the current period.
+	// Period boundaries: context quarters, then the current period. After
+	// a prior close the closed periods are as it booked them.
 	var bounds []PeriodAmount
-	if len(ledgers) > 0 {
+	if p.prior != nil {
+		for _, pa := range p.prior.Periods {
+			pa.Current = false
+			bounds = append(bounds, pa)
+		}
+	} else if len(ledgers) > 0 {
 		first := ledgers[0].in.Grant.GrantDate
 		for _, l := range ledgers {
 			if l.in.Grant.GrantDate.Before(first) {
@@ -304,18 +342,38 @@ func (p *period) expense() *ExpenseReport {
 		g := l.in.Grant
 		s0 := l.at(pol, open, open)
 		s1 := l.at(pol, periodEnd, periodEnd)
+		var pg *PriorGrant
+		if p.prior != nil {
+			pg, _ = p.prior.grant(g.ID)
+		}
 		l.bufComp = make([]float64, len(l.tr))
 		if l.financing {
-			fw := l.financingWarrant(s0, s1, periodStart, periodEnd)
+			fw := l.financingWarrant(s0, s1, p.prior != nil, pg, periodStart, periodEnd)
 			rep.Financing = append(rep.Financing, fw)
 			rep.FairValueChange += fw.FairValueChange
-			l.addPeriods(pol, bounds)
+			rep.Period += fw.CompensationReversed
+			l.addPeriods(pol, bounds, p.prior != nil, fw.CompensationReversed, fw.FairValueChange)
 			if l.liability && len(l.remeas) == 0 {
 				rep.Warnings = append(rep.Warnings, fmt.Sprintf("grant %s: liability-classified financing warrant with no remeasurement; its liability is carried at its fair value at issue", g.ID))
 			}
 			continue
 		}
 		ge := GrantExpense{GrantID: g.ID, Holder: g.Holder, Instrument: g.Instrument, Liability: l.liability, GrantDate: g.GrantDate, ServiceStart: l.start, ServiceEnd: l.last}
+		// The opening balances: as restated (s0), or as the prior close
+		// booked them (nothing for a grant it did not have).
+		bookedTranche := func(i int) float64 { return s0.comp[i] }
+		if p.prior != nil {
+			bookedTranche = func(i int) float64 {
+				if pg != nil {
+					for _, t := range pg.Tranches {
+						if dayNum(t.VestDate) == l.tr[i].vestN {
+							return t.Cumulative
+						}
+					}
+				}
+				return 0
+			}
+		}
 		// Every tranche is vested the day after the later of the last vest
 		// date and the period end, so the cost there is the expected total.
 		far := shiftDays(l.last, 1)
@@ -330,7 +388,7 @@ func (p *period) expense() *ExpenseReport {
 			if live > 0 {
 				lastLive = t.Tranche.VestDate
 			}
-			q := t.expected(dayNum(periodEnd))
+			q := t.expected(dayNum(periodEnd), l.rate)
 			fv := t.FairValue
 			if l.liability {
 				fv = l.fairValueAt(i, dayNum(periodEnd))
@@ -338,8 +396,8 @@ func (p *period) expense() *ExpenseReport {
 			te := TrancheExpense{
 				Index: t.Tranche.Index, VestDate: t.Tranche.VestDate, ServiceStart: t.start,
 				Shares: t.Tranche.Shares, SharesCounted: float64(live)*q + float64(c.accelerated),
-				FairValue: fv, ExpectedShare: q,
-				Cost: sInf.comp[i], CumulativeOpen: s0.comp[i], Cumulative: s1.comp[i],
+				FairValue: fv, GrantDateFairValue: t.FairValue, ExpectedShare: q,
+				Cost: sInf.comp[i], CumulativeOpen: bookedTranche(i), Cumulative: s1.comp[i],
 			}
 			te.Period = te.Cumulative - te.CumulativeOpen
 			te.Unrecognized = te.Cost - te.Cumulative
@@ -361,7 +419,15 @@ func (p *period) expense() *ExpenseReport {
 		if !lastLive.IsZero() {
 			ge.ServiceEnd = lastLive
 		}
+		if p.prior != nil {
+			ge.CumulativeOpen = 0
+			if pg != nil {
+				ge.CumulativeOpen = pg.Cumulative
+			}
+		}
 		ge.Period = ge.Cumulative - ge.CumulativeOpen
+		ge.Outstanding = l.outstanding(dayNum(periodEnd))
+		ge.Events = l.in.eventsThrough(periodEnd)
 		if ge.Unrecognized > 0 {
 			if pol.Attribution == grants.StraightLine {
 				if left := valuation.Days(shiftDays(periodEnd, 1), lastLive); left > 0 {
@@ -377,9 +443,18 @@ func (p *period) expense() *ExpenseReport {
 			}
 		}
 		if l.liability {
-			ge.LiabilityOpen = s0.liability
+			lOpen, settledOpen := s0.liability, s0.settled
+			if p.prior != nil {
+				lOpen, settledOpen = 0, 0
+				if pg != nil {
+					lOpen, settledOpen = pg.LiabilityEnd, pg.Reclassified
+				}
+			}
+			ge.LiabilityOpen = lOpen
 			ge.LiabilityEnd = s1.liability
-			ge.ReclassifiedEquity = s1.settled - s0.settled
+			ge.ReclassifiedEquity = s1.settled - settledOpen
+			ge.ReclassifiedToDate = s1.settled
+			ge.Remeasurements = l.remeas
 			if len(l.remeas) == 0 {
 				rep.Warnings = append(rep.Warnings, fmt.Sprintf("grant %s: liability-classified warrant with no remeasurement; its liability is carried at the grant-date fair value", g.ID))
 			}
@@ -388,8 +463,7 @@ func (p *period) expense() *ExpenseReport {
 		rep.Period += ge.Period
 		rep.Cumulative += ge.Cumulative
 		rep.Unrecognized += ge.Unrecognized
-
-		l.addPeriods(pol, bounds)
+		l.addPeriods(pol, bounds, p.prior != nil, ge.Period, 0)
 		prevTotal := s1.compTotal()
 		for k := range rep.Forecast {
 			cur := l.atInto(pol, rep.Forecast[k].End, periodEnd, l.bufComp).compTotal()
@@ -477,33 +551,51 @@ func Spread(a Award, pol Policy, ends []time.Time) (amounts []float64, cost floa
 
 // addPeriods adds the award's compensation in each of the periods ps
 // (consecutive, the first from the start) to its Amount, and a financing
-// warrant's change in fair value to its FairValueChange.
-func (l *awardLedger) addPeriods(pol Policy, ps []PeriodAmount) {
+// warrant's change in fair value to its FairValueChange. After a prior
+// close (booked) the closed periods stand as it booked them, and only the
+// current one takes the award's period figures, comp and fv.
+func (l *awardLedger) addPeriods(pol Policy, ps []PeriodAmount, booked bool, comp, fv float64) {
 	var prevComp, prevFV float64
 	for k := range ps {
+		if booked {
+			if ps[k].Current {
+				ps[k].Amount += comp
+				ps[k].FairValueChange += fv
+			}
+			continue
+		}
 		cur := l.atInto(pol, ps[k].End, ps[k].End, l.bufComp)
 		c := cur.compTotal()
 		ps[k].Amount += c - prevComp
 		prevComp = c
 		if l.financing {
-			fv := cur.fvChange()
-			ps[k].FairValueChange += fv - prevFV
-			prevFV = fv
+			f := cur.fvChange()
+			ps[k].FairValueChange += f - prevFV
+			prevFV = f
 		}
 	}
 }
 
 // financingWarrant is a financing warrant's row for the period, from its
-// positions s0 at the end of the day before the period and s1 at its end.
-func (l *awardLedger) financingWarrant(s0, s1 snapshot, start, end time.Time) FinancingWarrant {
+// positions s0 at the end of the day before the period and s1 at its end,
+// and after a prior close (booked) pg, what that close filed for it (nil
+// when it did not have the warrant). After a prior close the liability
+// opens as filed (nothing for a warrant the close did not have) and the
+// change in fair value closes the roll, so that a closed period is never
+// restated. A warrant the prior close booked as compensation has that
+// compensation reversed in the period.
+func (l *awardLedger) financingWarrant(s0, s1 snapshot, booked bool, pg *PriorGrant, start, end time.Time) FinancingWarrant {
 	g := l.in.Grant
-	fw := FinancingWarrant{GrantID: g.ID, Holder: g.Holder, Classification: g.Classification, IssueDate: g.GrantDate, Shares: g.Shares}
+	fw := FinancingWarrant{GrantID: g.ID, Holder: g.Holder, Classification: g.Classification, IssueDate: g.GrantDate, Shares: g.Shares,
+		Events: l.in.eventsThrough(end)}
 	if fw.Classification == "" {
 		fw.Classification = grants.Equity
 	}
 	var issued, atEnd float64
 	var shares int64
+	at0 := make([]float64, len(l.tr))
 	for i, t := range l.tr {
+		at0[i] = t.FairValue
 		shares += t.Tranche.Shares
 		issued += t.FairValue * float64(t.Tranche.Shares)
 		c := t.countsAt(end)
@@ -520,11 +612,23 @@ func (l *awardLedger) financingWarrant(s0, s1 snapshot, start, end time.Time) Fi
 		fw.FairValueAtIssue = issued / float64(shares)
 		fw.FairValue = atEnd / float64(shares)
 	}
-	if l.liability {
-		fw.LiabilityOpen, fw.LiabilityEnd = s0.liability, s1.liability
-		fw.Issued = s1.issued - s0.issued
-		fw.FairValueChange = s1.fvChange() - s0.fvChange()
-		fw.Reclassified = s1.settled - s0.settled
+	if pg != nil && !pg.Financing {
+		fw.CompensationReversed = -pg.Cumulative
 	}
+	if !l.liability {
+		return fw
+	}
+	settledOpen := s0.settled
+	fw.LiabilityOpen, fw.Issued = s0.liability, s1.issued-s0.issued
+	switch {
+	case booked && pg != nil:
+		fw.LiabilityOpen, settledOpen = pg.LiabilityEnd, pg.Reclassified
+	case booked:
+		fw.LiabilityOpen, fw.Issued, settledOpen = 0, s1.issued, 0
+	}
+	fw.Reclassified = s1.settled - settledOpen
+	fw.LiabilityEnd, fw.ReclassifiedToDate = s1.liability, s1.settled
+	fw.FairValueChange = fw.LiabilityEnd - fw.LiabilityOpen - fw.Issued + fw.Reclassified
+	fw.Remeasurements = append([]Remeasurement{{Date: g.GrantDate, FairValue: at0}}, l.remeas...)
 	return fw
 }

@@ -386,7 +386,7 @@ func TestLiabilityAwardRemeasuredToSettlement(t *testing.T) {
 
 	// Journal: Dr compensation / Cr award liability 900; Dr award
 	// liability / Cr additional paid-in capital 3,200.
-	checkJournal(t, Journal(r, nil), []Entry{
+	checkJournal(t, Journal(r, nil, nil), []Entry{
 		{Lines: []Line{{Role: RoleCompensation, Debit: 900}, {Role: RoleAwardLiability, Credit: 900}}},
 		{Lines: []Line{{Role: RoleAwardLiability, Debit: 3200}, {Role: RoleEquity, Credit: 3200}}},
 	}, grants.ASC718)

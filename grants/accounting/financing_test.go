@@ -2,6 +2,7 @@ package accounting
 
 import (
 	"errors"
+	"strings"
 	"testing"
 	"time"
 
@@ -61,7 +62,7 @@ func TestFinancingWarrantLiability(t *testing.T) {
 	nearly(t, "Q1 2025 change in fair value", w.FairValueChange, 60_000, tolMoney)
 	nearly(t, "Q1 2025 liability", w.LiabilityEnd, 380_000, tolMoney)
 	nearly(t, "Q1 2025 report change", r.FairValueChange, 60_000, tolMoney)
-	checkJournal(t, Journal(r, nil), []Entry{
+	checkJournal(t, Journal(r, nil, nil), []Entry{
 		{Lines: []Line{{Role: RoleFinancing, Debit: 320_000}, {Role: RoleLiability, Credit: 320_000}}},
 		{Lines: []Line{{Role: RoleFairValueChange, Debit: 60_000}, {Role: RoleLiability, Credit: 60_000}}},
 	}, grants.ASC718)
@@ -90,7 +91,7 @@ func TestFinancingWarrantLiability(t *testing.T) {
 		}
 	}
 	nearly(t, "changes since issue", sum, 735_000+137_500-320_000, tolMoney)
-	checkJournal(t, Journal(r, nil), []Entry{
+	checkJournal(t, Journal(r, nil, nil), []Entry{
 		{Lines: []Line{{Role: RoleFairValueChange, Debit: 112_500}, {Role: RoleLiability, Credit: 112_500}}},
 		{Lines: []Line{{Role: RoleLiability, Debit: 137_500}, {Role: RoleWarrantEquity, Credit: 137_500}}},
 	}, grants.ASC718)
@@ -129,8 +130,8 @@ func TestFinancingWarrantEquity(t *testing.T) {
 	a.Grant.Classification, a.Grant.Purpose = grants.Equity, grants.Financing
 	for _, p := range [][2]string{{"2024-04-01", "2024-06-30"}, {"2026-07-01", "2026-09-30"}} {
 		r := mustExpense(t, []Award{a}, Policy{}, p[0], p[1])
-		if r.Period != 0 || r.Cumulative != 0 || len(r.Grants) != 0 || r.FairValueChange != 0 || len(Journal(r, nil)) != 0 {
-			t.Errorf("%s: %v, journal %+v", p[0], r, Journal(r, nil))
+		if r.Period != 0 || r.Cumulative != 0 || len(r.Grants) != 0 || r.FairValueChange != 0 || len(Journal(r, nil, nil)) != 0 {
+			t.Errorf("%s: %v, journal %+v", p[0], r, Journal(r, nil, nil))
 		}
 		w := r.Financing[0]
 		nearly(t, p[0]+" value at issue", w.ValueAtIssue, 150_000, tolMoney)
@@ -166,15 +167,15 @@ func TestIFRS2Framework(t *testing.T) {
 	for _, fw := range []grants.Framework{grants.ASC718, grants.IFRS2} {
 		r := mustExpense(t, []Award{fourTranche()}, Policy{Framework: fw}, "2029-01-01", "2029-03-31")
 		nearly(t, string(fw)+" Q1 2029", r.Period, want, tolMoney)
-		checkJournal(t, Journal(r, nil), []Entry{{Lines: []Line{{Role: RoleCompensation, Debit: want}, {Role: RoleEquity, Credit: want}}}}, fw)
+		checkJournal(t, Journal(r, nil, nil), []Entry{{Lines: []Line{{Role: RoleCompensation, Debit: want}, {Role: RoleEquity, Credit: want}}}}, fw)
 	}
 	r := mustExpense(t, []Award{fourTranche()}, Policy{Framework: grants.IFRS2}, "2029-01-01", "2029-03-31")
-	j := Journal(r, nil)
+	j := Journal(r, nil, nil)
 	if got := j[0].Lines[1].Account.Name; got != "Share-based payment reserve" {
 		t.Errorf("IFRS 2 equity account %q", got)
 	}
 	// A company's own account wins over either default.
-	j = Journal(r, Accounts{RoleEquity: {Code: "3100", Name: "Other reserves"}})
+	j = Journal(r, nil, Accounts{RoleEquity: {Code: "3100", Name: "Other reserves"}})
 	if got := j[0].Lines[1].Account; got.Code != "3100" || got.Name != "Other reserves" {
 		t.Errorf("mapped account %+v", got)
 	}
@@ -203,7 +204,7 @@ func TestMeasuredRateAtExpectedTerm(t *testing.T) {
 	m := awards[0].Measured
 	nearly(t, "expected term", m.ExpectedTermYears, 5.5, 1e-12)
 	nearly(t, "rate at the expected term", m.RiskFreeRate, 0.0375, 1e-12)
-	if _, err := Close(s, v); !errors.Is(err, grants.ErrRequired) {
+	if _, err := Close(s, v, nil); !errors.Is(err, grants.ErrRequired) {
 		t.Errorf("Close without a period-end price: %v", err)
 	}
 }
@@ -263,5 +264,73 @@ func TestAuditCaseExerciseMidQuarter(t *testing.T) {
 	t.Logf("v(06-30) %.4f, v(08-14) %.4f, v(09-30) %.4f: the remeasurement on the exercise day adds %.2f to the change", v0630, v0814, vEnd, 50_000*(v0814-v0630))
 	if r.Period != 0 || len(r.Grants) != 0 {
 		t.Errorf("the financing warrant booked compensation: %v", r)
+	}
+}
+
+// lenderWarrant is an equity-classified warrant issued with a loan on
+// 2026-01-20: 30,000 warrants at a strike of 4, vested at issue.
+func lenderWarrant(p grants.Purpose) grants.Grant {
+	return grants.Grant{ID: "L-1", Holder: "LENDER", Instrument: grants.Warrant, GrantDate: ymd("2026-01-20"), Shares: 30_000, Strike: 4,
+		ExpiryDate: ymd("2033-01-20"), VestStart: ymd("2026-01-20"), VestEvery: 1, Classification: grants.Equity, ExerciseStyle: grants.American, Purpose: p}
+}
+
+// Rule: a close never restates a closed period; a warrant the prior close
+// booked as compensation whose purpose is financing now has that
+// compensation reversed in the open period, a catch-up with its cause,
+// booked against the financing's proceeds (the value goes with the
+// financing, ASC 470-20-25-2; ASC 250-10-45-17 books it in the open
+// period here, our rule). Worked by hand: the first close (Q2 2026) books
+// the warrant's whole value at issue as compensation (vested at issue);
+// the second (Q3 2026), with the purpose corrected, reverses exactly that
+// booked cumulative, and nothing else moves.
+func TestPurposeCorrectedAfterPriorClose(t *testing.T) {
+	s := chainSchedule("2026-06-30")
+	s.Grants = append(s.Grants, lenderWarrant(grants.Compensation))
+	v := valueAt(t, s, nil)
+	b := closeOf(t, s, v, nil)
+	prior := Filed(s, v, b)
+	var booked float64
+	for _, g := range b.Expense.Grants {
+		if g.GrantID == "L-1" {
+			booked = g.Cumulative
+		}
+	}
+	if booked <= 0 {
+		t.Fatalf("the first close booked %v for L-1", booked)
+	}
+
+	s = chainSchedule("2026-09-30")
+	s.Grants = append(s.Grants, lenderWarrant(grants.Financing))
+	v = valueAt(t, s, prior)
+	b = closeOf(t, s, v, prior)
+	var cu *CatchUp
+	for i, c := range b.Reconciliation.CatchUps {
+		if c.GrantID == "L-1" {
+			cu = &b.Reconciliation.CatchUps[i]
+		}
+	}
+	if cu == nil || cu.Cause != CausePurpose || !cu.Financing || cu.Amount != -booked || !strings.Contains(cu.Detail, "purpose") {
+		t.Fatalf("catch-ups %+v", b.Reconciliation.CatchUps)
+	}
+	if len(b.Expense.Financing) != 1 || b.Expense.Financing[0].CompensationReversed != -booked {
+		t.Errorf("financing %+v", b.Expense.Financing)
+	}
+	// Without the warrant, the period's expense is what it was; with it,
+	// lower by exactly the booked amount.
+	s2 := chainSchedule("2026-09-30")
+	base := closeOf(t, s2, valueAt(t, s2, nil), nil)
+	nearly(t, "period expense less the reversal", b.Expense.Period, base.Expense.Period-booked, tolMoney)
+	if err := b.Reconciliation.Check(); err != nil {
+		t.Error(err)
+	}
+	found := false
+	for _, e := range b.Journal {
+		if len(e.Lines) == 2 && e.Lines[0].Role == RoleFinancing && e.Lines[1].Role == RoleCompensation && e.Lines[0].GrantID == "L-1" {
+			found = true
+			nearly(t, "reversal entry", e.Lines[0].Debit, booked, tolMoney)
+		}
+	}
+	if !found {
+		t.Errorf("no entry Dr financing proceeds / Cr compensation for L-1: %+v", b.Journal)
 	}
 }

@@ -2,6 +2,7 @@ package accounting
 
 import (
 	"math"
+	"strings"
 	"time"
 
 	"grantworth/grants"
@@ -119,26 +120,33 @@ func (e Entry) Balance() float64 {
 // minEntry is the smallest amount booked: half a cent.
 const minEntry = 0.005
 
-// Journal is the period's summary entries for the attribution r, in the
-// account names accts (nil for the defaults of r's framework):
+// Journal is the period's entries for the attribution r and its
+// catch-ups, in the account names accts (nil for the defaults of r's
+// framework):
 //
-//  1. compensation of equity-classified awards against equity;
+//  1. compensation of equity-classified awards against equity, without
+//     their catch-ups;
 //  2. compensation of liability-classified awards (every change in their
-//     fair value included) against the award liability;
-//  3. exercised liability-classified awards, the liability at the
+//     fair value included) against the award liability, without their
+//     catch-ups;
+//  3. one entry per catch-up, naming its grant and cause, against equity,
+//     the award liability, or for compensation reversed on a warrant now
+//     known to be issued in a financing, the financing's proceeds (the
+//     compensation lines and these add up to the period's expense);
+//  4. exercised liability-classified awards, the liability at the
 //     exercise day's fair value reclassified to equity;
-//  4. financing warrants classified as liabilities issued in the period,
+//  5. financing warrants classified as liabilities issued in the period,
 //     at fair value, against the financing's proceeds;
-//  5. the change in fair value of the financing warrants' liability,
+//  6. the change in fair value of the financing warrants' liability,
 //     outside operating expense;
-//  6. exercised financing warrants, the liability at the exercise day's
+//  7. exercised financing warrants, the liability at the exercise day's
 //     fair value reclassified to equity.
 //
 // An amount that is negative swaps the entry's sides; entries with less
 // than half a cent to book are left out. Equity-classified financing
 // warrants are booked with their financing, at the proceeds allocated to
 // them, and have no entry here.
-func Journal(r *ExpenseReport, accts Accounts) []Entry {
+func Journal(r *ExpenseReport, catchUps []CatchUp, accts Accounts) []Entry {
 	fw := r.Policy.Framework
 	var equity, liaComp, liaReclass float64
 	for _, g := range r.Grants {
@@ -149,6 +157,15 @@ func Journal(r *ExpenseReport, accts Accounts) []Entry {
 			equity += g.Period
 		}
 	}
+	for _, c := range catchUps {
+		switch {
+		case c.Financing:
+		case c.Liability:
+			liaComp -= c.Amount
+		default:
+			equity -= c.Amount
+		}
+	}
 	var issued, change, finReclass float64
 	for _, w := range r.Financing {
 		issued += w.Issued
@@ -156,7 +173,7 @@ func Journal(r *ExpenseReport, accts Accounts) []Entry {
 		finReclass += w.Reclassified
 	}
 	var out []Entry
-	add := func(desc string, debit, credit Role, amount float64) {
+	add := func(desc string, debit, credit Role, grantID string, amount float64) {
 		if math.Abs(amount) < minEntry {
 			return
 		}
@@ -164,15 +181,25 @@ func Journal(r *ExpenseReport, accts Accounts) []Entry {
 			debit, credit, amount = credit, debit, -amount
 		}
 		out = append(out, Entry{Date: r.PeriodEnd, Description: desc, Lines: []Line{
-			{Role: debit, Account: accts.under(debit, fw), Debit: amount},
-			{Role: credit, Account: accts.under(credit, fw), Credit: amount},
+			{Role: debit, Account: accts.under(debit, fw), GrantID: grantID, Debit: amount},
+			{Role: credit, Account: accts.under(credit, fw), GrantID: grantID, Credit: amount},
 		}})
 	}
-	add("Share-based compensation for the period (equity-classified awards)", RoleCompensation, RoleEquity, equity)
-	add("Share-based compensation for the period (liability-classified awards, remeasured to fair value)", RoleCompensation, RoleAwardLiability, liaComp)
-	add("Liability-classified awards exercised: liability at the exercise-date fair value reclassified to equity", RoleAwardLiability, RoleEquity, liaReclass)
-	add("Financing warrants issued in the period, recognised as a liability at fair value", RoleFinancing, RoleLiability, issued)
-	add("Change in fair value of the financing warrants' liability (outside operating expense)", RoleFairValueChange, RoleLiability, change)
-	add("Financing warrants exercised: liability at the exercise-date fair value reclassified to equity", RoleLiability, RoleWarrantEquity, finReclass)
+	add("Share-based compensation for the period (equity-classified awards)", RoleCompensation, RoleEquity, "", equity)
+	add("Share-based compensation for the period (liability-classified awards, remeasured to fair value)", RoleCompensation, RoleAwardLiability, "", liaComp)
+	for _, c := range catchUps {
+		credit := RoleEquity
+		switch {
+		case c.Financing:
+			credit = RoleFinancing
+		case c.Liability:
+			credit = RoleAwardLiability
+		}
+		add("Catch-up for closed periods, grant "+c.GrantID+" ("+strings.ReplaceAll(string(c.Cause), "_", " ")+")", RoleCompensation, credit, c.GrantID, c.Amount)
+	}
+	add("Liability-classified awards exercised: liability at the exercise-date fair value reclassified to equity", RoleAwardLiability, RoleEquity, "", liaReclass)
+	add("Financing warrants issued in the period, recognised as a liability at fair value", RoleFinancing, RoleLiability, "", issued)
+	add("Change in fair value of the financing warrants' liability (outside operating expense)", RoleFairValueChange, RoleLiability, "", change)
+	add("Financing warrants exercised: liability at the exercise-date fair value reclassified to equity", RoleLiability, RoleWarrantEquity, "", finReclass)
 	return out
 }
