@@ -116,14 +116,14 @@ func checkLattice(t Terms, vestYears []float64, m Market, o LatticeOptions) erro
 		panic("valuation: Market.Curve is nil")
 	}
 	switch {
-	case !finite(m.Spot) || m.Spot <= 0:
-		return inputErr("spot %v must be a finite number above 0", m.Spot)
-	case !finite(t.Strike) || t.Strike < 0:
-		return inputErr("strike %v must be a finite number at or above 0", t.Strike)
+	case !Limits.SharePrice.In(m.Spot):
+		return limitErr(Limits.SharePrice, "spot", m.Spot)
+	case !Limits.Strike.In(t.Strike):
+		return limitErr(Limits.Strike, "strike", t.Strike)
 	case !finite(m.VolAnnual) || m.VolAnnual <= 0:
 		return inputErr("volatility %v must be a finite number above 0", m.VolAnnual)
-	case !finite(t.YearsToExpiry) || t.YearsToExpiry <= 0:
-		return inputErr("years to expiry %v must be a finite number above 0", t.YearsToExpiry)
+	case !Limits.YearsToExpiry.In(t.YearsToExpiry):
+		return limitErr(Limits.YearsToExpiry, "years to expiry", t.YearsToExpiry)
 	case !finite(m.DividendYield):
 		return inputErr("dividend yield %v is not a finite number", m.DividendYield)
 	case !finite(t.ExitRate) || t.ExitRate < 0 || t.ExitRate >= 1:
@@ -270,10 +270,7 @@ func (w *work) build(t Terms, m Market, n int, conv Convention, smooth bool) err
 	w.h = h
 	u, d := math.Exp(h), math.Exp(-h)
 	for i := 0; i < n; i++ {
-		t0, t1 := T*float64(i)/float64(n), T*float64(i+1)/float64(n)
-		f := m.Curve.Forward(t0, t1)
-		g := math.Exp((f - m.DividendYield) * dt)
-		p := (g - d) / (u - d)
+		p, f := stepProb(m, T, n, i, u, d)
 		if !(p > 0 && p < 1) {
 			return &probError{vol: m.VolAnnual, rate: f, q: m.DividendYield, steps: n, p: p, step: i}
 		}

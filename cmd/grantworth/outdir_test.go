@@ -22,7 +22,7 @@ import (
 // at once) without building it.
 const testMainEnv = "GRANTWORTH_TEST_MAIN"
 
-var killRuns = flag.Int("kills", 6, "runs killed at random moments by TestOutputKilledAtRandomMoments")
+var killRuns = flag.Int("kills", 4, "runs killed at random moments by TestOutputKilledAtRandomMoments")
 
 // gwProcess is grantworth as a child process. With worker set it is the
 // process that does the work (no supervising parent), so that kill -9
@@ -254,7 +254,7 @@ func TestOutputConcurrentRuns(t *testing.T) {
 	schedB := oneGrantSchedule(t, filepath.Join(base, "b"), "Second Co")
 	refA, _ := refRun(t, tmp, schedA, filepath.Join(base, "refA"))
 	refB, _ := refRun(t, tmp, schedB, filepath.Join(base, "refB"))
-	for i, force := range []bool{false, true, true} {
+	for i, force := range []bool{false, true} {
 		parent := filepath.Join(base, fmt.Sprintf("pair%d", i))
 		out := filepath.Join(parent, "out")
 		var cmds []*exec.Cmd
