@@ -61,6 +61,7 @@ type Schedule struct {
 	SharePrices []PricePoint
 	Rates       []RatePoint
 	Events      []Event
+	Designs     []Design // the Designs sheet of a designs workbook (ReadDesigns)
 
 	// layout is, per sheet read, the 0-based column of each column key, so
 	// that problems with empty cells can name the cell.
@@ -74,6 +75,7 @@ type Company struct {
 	PeriodStart       time.Time // default: first day of the quarter ending on ValuationDate
 	Currency          string    // ISO 4217, default USD
 	SharesOutstanding float64
+	GrantDate         time.Time      // designs workbook: the grant date of every design; zero means ValuationDate
 	Refs              map[string]Ref // by key, e.g. "valuation_date"
 }
 
@@ -94,7 +96,9 @@ const (
 )
 
 // Assumptions is the Assumptions sheet: company-wide defaults that a grant
-// row may override.
+// row may override. The fields hold the rows without an effective_date,
+// which apply from the beginning; Dated holds the rows with one. At gives
+// the values in force on a date.
 type Assumptions struct {
 	Volatility               float64
 	DividendYield            float64
@@ -106,6 +110,24 @@ type Assumptions struct {
 	Steps                    int               // 0 = auto
 	Sources                  map[string]string // by key: the text of the source column
 	Refs                     map[string]Ref    // by key: where the value came from
+	// Dated are the rows with an effective_date, in sheet order.
+	Dated []AssumptionRow
+	// Since is, in a view made by At, the effective_date of each key's
+	// row in force (absent for an undated row or a default).
+	Since map[string]time.Time
+}
+
+// AssumptionRow is a row of the Assumptions sheet with an effective_date:
+// the value of Key from Effective on. Value holds a number or percentage
+// (steps as a number, 0 for auto); Text holds attribution and forfeitures.
+type AssumptionRow struct {
+	Key       string
+	Effective time.Time
+	Value     float64
+	Text      string
+	Source    string
+	Ref       Ref // the value's cell
+	DateRef   Ref // the effective_date's cell
 }
 
 // Grant is one row of the Grants sheet, with defaults filled in

@@ -44,6 +44,7 @@ func validate(s *Schedule, skip map[string]bool) Report {
 	v.grants()
 	v.vesting()
 	v.events()
+	v.designs()
 	return v.rep
 }
 
@@ -124,6 +125,10 @@ func (v *validator) vol(sheet string, row int, refs map[string]Ref, x float64) {
 	}
 }
 
+func (v *validator) yield(sheet string, row int, refs map[string]Ref, x float64) {
+	v.limit(v.s.cell(sheet, "dividend_yield", row, refs), valuation.Limits.DividendYield, x, " (100%)")
+}
+
 func (v *validator) multiple(sheet string, row int, refs map[string]Ref, x float64) {
 	if l := valuation.Limits.ExerciseMultiple; !l.In(x) {
 		v.rep.errf(v.s.cell(sheet, "exercise_multiple", row, refs), "exercise_multiple", num(x), ErrRange, "must be 0 (no such rule) or above %g, up to %g times the strike", l.Min, l.Max)
@@ -143,15 +148,38 @@ func (v *validator) assumptions() {
 	sh := SheetAssumptions
 	if a.has("volatility") {
 		v.vol(sh, 0, a.Refs, a.Volatility)
-	} else {
-		for _, g := range v.s.Grants {
-			if g.Volatility == nil && g.Instrument != RSU {
-				v.rep.errf(Ref{Sheet: sh}, "volatility", "", ErrRequired, "key is missing, and grant %s (%s) gives none", g.ID, v.s.cell(SheetGrants, "volatility", g.Row, g.Refs))
-				break
-			}
+	}
+	for _, g := range v.s.Grants {
+		if g.Volatility != nil || g.Instrument == RSU {
+			continue
+		}
+		md := v.s.MeasurementDate(g)
+		if at := a.At(md); at.has("volatility") {
+			continue
+		}
+		if !a.dated("volatility") {
+			v.rep.errf(Ref{Sheet: sh}, "volatility", "", ErrRequired, "key is missing, and grant %s (%s) gives none", g.ID, v.s.cell(SheetGrants, "volatility", g.Row, g.Refs))
+		} else {
+			v.rep.errf(Ref{Sheet: sh}, "volatility", "", ErrRequired, "has no row in force on %s, the measurement date of grant %s (%s gives none): add a row without effective_date or one dated on or before it", isoDay(md), g.ID, v.s.cell(SheetGrants, "volatility", g.Row, g.Refs))
+		}
+		break
+	}
+	for _, r := range a.Dated {
+		refs := map[string]Ref{r.Key: r.Ref}
+		switch r.Key {
+		case "volatility":
+			v.vol(sh, 0, refs, r.Value)
+		case "dividend_yield":
+			v.yield(sh, 0, refs, r.Value)
+		case "exercise_multiple":
+			v.multiple(sh, 0, refs, r.Value)
+		case "post_vesting_exit_rate":
+			v.rate(sh, r.Key, 0, refs, r.Value, "the annual share of vested holders who leave")
+		case "pre_vesting_forfeiture_rate":
+			v.rate(sh, r.Key, 0, refs, r.Value, "the annual share of unvested holders who leave")
 		}
 	}
-	v.limit(v.s.cell(sh, "dividend_yield", 0, a.Refs), valuation.Limits.DividendYield, a.DividendYield, " (100%)")
+	v.yield(sh, 0, a.Refs, a.DividendYield)
 	v.multiple(sh, 0, a.Refs, a.ExerciseMultiple)
 	v.rate(sh, "post_vesting_exit_rate", 0, a.Refs, a.PostVestingExitRate, "the annual share of vested holders who leave")
 	v.rate(sh, "pre_vesting_forfeiture_rate", 0, a.Refs, a.PreVestingForfeitureRate, "the annual share of unvested holders who leave")
@@ -224,8 +252,8 @@ func (v *validator) grants() {
 		if g.Shares <= 0 {
 			v.rep.errf(ref("shares"), "shares", strconv.FormatInt(g.Shares, 10), ErrRange, "must be more than zero")
 		}
-		if g.Shares > int64(valuation.Limits.Shares.Max) {
-			v.rep.errf(ref("shares"), "shares", strconv.FormatInt(g.Shares, 10), ErrRange, "is more than %g shares", valuation.Limits.Shares.Max)
+		if g.Shares > 0 {
+			v.limit(ref("shares"), valuation.Limits.Shares, float64(g.Shares), " shares")
 		}
 		_, hasStrike := g.Refs["strike"]
 		if g.Refs == nil {
@@ -265,7 +293,7 @@ func (v *validator) grants() {
 			v.vol(SheetGrants, g.Row, g.Refs, *g.Volatility)
 		}
 		if g.DividendYield != nil {
-			v.limit(ref("dividend_yield"), valuation.Limits.DividendYield, *g.DividendYield, " (100%)")
+			v.yield(SheetGrants, g.Row, g.Refs, *g.DividendYield)
 		}
 		if g.ExerciseMultiple != nil {
 			v.multiple(SheetGrants, g.Row, g.Refs, *g.ExerciseMultiple)

@@ -25,6 +25,11 @@ const templateRows = 1000
 // date and percent formats. A nil or empty s gives the blank template.
 // Reading the result back gives s again.
 func WriteXLSX(w io.Writer, s *Schedule) error {
+	return writeXLSX(w, s, Sheets, "grantworth grant schedule")
+}
+
+// writeXLSX writes the sheets of layout with an About sheet headed title.
+func writeXLSX(w io.Writer, s *Schedule, layout []Sheet, title string) error {
 	if s == nil {
 		s = &Schedule{}
 	}
@@ -35,8 +40,8 @@ func WriteXLSX(w io.Writer, s *Schedule) error {
 		return err
 	}
 	first := true
-	for i := range Sheets {
-		sh := &Sheets[i]
+	for i := range layout {
+		sh := &layout[i]
 		if first {
 			if err := f.SetSheetName("Sheet1", sh.Name); err != nil {
 				return err
@@ -55,7 +60,7 @@ func WriteXLSX(w io.Writer, s *Schedule) error {
 			return fmt.Errorf("sheet %s: %w", sh.Name, err)
 		}
 	}
-	if err := writeAbout(f, st); err != nil {
+	if err := writeAbout(f, st, layout, title); err != nil {
 		return err
 	}
 	f.SetActiveSheet(0)
@@ -153,7 +158,7 @@ func writeTable(f *excelize.File, sh *Sheet, rows [][]any, st cellStyles) error 
 func writeKeyValue(f *excelize.File, sh *Sheet, rows [][]any, st cellStyles) error {
 	head := []any{"key", "value"}
 	if sh.Name == SheetAssumptions {
-		head = append(head, "source")
+		head = append(head, "source", "effective_date")
 	}
 	if err := f.SetSheetRow(sh.Name, "A1", &head); err != nil {
 		return err
@@ -165,6 +170,12 @@ func writeKeyValue(f *excelize.File, sh *Sheet, rows [][]any, st cellStyles) err
 	_ = f.SetColWidth(sh.Name, "A", "A", 30)
 	_ = f.SetColWidth(sh.Name, "B", "B", 18)
 	_ = f.SetColWidth(sh.Name, "C", "C", 60)
+	if sh.Name == SheetAssumptions {
+		_ = f.SetColWidth(sh.Name, "D", "D", 14)
+		if err := f.SetCellStyle(sh.Name, "D2", fmt.Sprintf("D%d", max(len(rows)+1, 40)), st.date); err != nil {
+			return err
+		}
+	}
 	for r, row := range rows {
 		n := r + 2
 		cell, _ := excelize.CoordinatesToCellName(1, n)
@@ -195,19 +206,19 @@ func writeKeyValue(f *excelize.File, sh *Sheet, rows [][]any, st cellStyles) err
 	return nil
 }
 
-func writeAbout(f *excelize.File, st cellStyles) error {
+func writeAbout(f *excelize.File, st cellStyles, layout []Sheet, title string) error {
 	const about = "About"
 	if _, err := f.NewSheet(about); err != nil {
 		return err
 	}
 	lines := [][]any{
-		{"grantworth grant schedule"},
+		{title},
 		{Caution},
 		{"Sheet and column names may be in any case, with or without spaces or underscores; columns may come in any order. Dates are date cells or ISO text (2026-09-30); other text dates are refused as ambiguous. Rates may be 0.45 or 45%. Numbers may use commas only as thousands separators (1,234,567.5)."},
 		{},
 		{"sheet", "column or key", "kind", "unit", "needed", "default", "meaning"},
 	}
-	for _, sh := range Sheets {
+	for _, sh := range layout {
 		lines = append(lines, []any{sh.Name, "", "", "", map[bool]string{true: "required sheet", false: "optional sheet"}[sh.Required], "", sh.Help})
 		for _, c := range sh.Columns {
 			kind := c.Kind.String()
@@ -215,6 +226,9 @@ func writeAbout(f *excelize.File, st cellStyles) error {
 				kind = "one of: " + joinComma(ch)
 			}
 			lines = append(lines, []any{"", c.Key, kind, c.Unit, c.Need, c.Default, c.Help})
+		}
+		for _, c := range sh.KeyColumns {
+			lines = append(lines, []any{"", c.Key + " (column)", c.Kind.String(), c.Unit, c.Need, c.Default, c.Help})
 		}
 	}
 	for i, l := range lines {
@@ -248,7 +262,7 @@ func joinComma(ss []string) string {
 func sheetRows(s *Schedule, sh *Sheet) [][]any {
 	switch sh.Name {
 	case SheetCompany:
-		return companyRows(s)
+		return companyRows(s, sh)
 	case SheetAssumptions:
 		return assumptionRows(s)
 	}
@@ -310,11 +324,15 @@ func sheetRows(s *Schedule, sh *Sheet) [][]any {
 		for _, e := range s.Events {
 			rows = append(rows, []any{e.GrantID, e.Date, string(e.Kind), e.Shares})
 		}
+	case SheetDesigns:
+		for _, d := range s.Designs {
+			rows = append(rows, designRowCells(d, n, put))
+		}
 	}
 	return rows
 }
 
-func companyRows(s *Schedule) [][]any {
+func companyRows(s *Schedule, sh *Sheet) [][]any {
 	co := s.Company
 	blank := co.Name == "" && co.ValuationDate.IsZero()
 	val := func(ok bool, v any) any {
@@ -323,13 +341,17 @@ func companyRows(s *Schedule) [][]any {
 		}
 		return v
 	}
-	return [][]any{
+	rows := [][]any{
 		{"company_name", val(co.Name != "", co.Name)},
 		{"valuation_date", val(!co.ValuationDate.IsZero(), co.ValuationDate)},
 		{"period_start", val(!co.PeriodStart.IsZero(), co.PeriodStart)},
 		{"currency", val(!blank && co.Currency != "", co.Currency)},
 		{"shares_outstanding", val(co.SharesOutstanding > 0, int64(co.SharesOutstanding))},
 	}
+	if sh.Column("grant_date") != nil {
+		rows = append(rows, []any{"grant_date", val(!co.GrantDate.IsZero(), co.GrantDate)})
+	}
+	return rows
 }
 
 func assumptionRows(s *Schedule) [][]any {
@@ -370,25 +392,44 @@ func assumptionRows(s *Schedule) [][]any {
 			rows[i] = append(rows[i], src)
 		}
 	}
+	for _, r := range a.Dated {
+		var v any = r.Value
+		switch r.Key {
+		case "attribution", "forfeitures":
+			v = r.Text
+		case "steps":
+			v = any("auto")
+			if r.Value > 0 {
+				v = int64(r.Value)
+			}
+		}
+		var src any
+		if r.Source != "" {
+			src = r.Source
+		}
+		rows = append(rows, []any{r.Key, v, src, r.Effective})
+	}
 	return rows
 }
 
 // WriteCSVDir writes s as a folder of CSV files (one per sheet of Sheets,
 // header first; dates ISO, rates as decimals) into dir, which must exist.
 // Existing files of those names are replaced; the caller checks first.
-func WriteCSVDir(dir string, s *Schedule) error {
+func WriteCSVDir(dir string, s *Schedule) error { return writeCSVDir(dir, s, Sheets) }
+
+func writeCSVDir(dir string, s *Schedule, layout []Sheet) error {
 	if s == nil {
 		s = &Schedule{}
 	}
-	for i := range Sheets {
-		sh := &Sheets[i]
+	for i := range layout {
+		sh := &layout[i]
 		var buf bytes.Buffer
 		w := csv.NewWriter(&buf)
 		var head []string
 		if sh.KeyValue {
 			head = []string{"key", "value"}
 			if sh.Name == SheetAssumptions {
-				head = append(head, "source")
+				head = append(head, "source", "effective_date")
 			}
 		} else {
 			for _, c := range sh.Columns {

@@ -7,6 +7,7 @@ import (
 	"io/fs"
 	"strings"
 	"text/template"
+	"time"
 
 	"github.com/jung-kurt/gofpdf"
 	"golang.org/x/image/font/gofont/gobold"
@@ -39,6 +40,7 @@ type Memo struct {
 	images   int
 	widths   map[int]bool // pixel widths of the images placed so far
 	sub      string       // a sub-heading not drawn yet: it goes with what follows
+	head     [2]string    // the running head's left and right text (pages after the first)
 }
 
 // Page geometry, in millimetres (A4).
@@ -102,27 +104,45 @@ func WriteMemo(w io.Writer, m *Model) error {
 }
 
 func newMemo(m *Model) (*Memo, error) {
+	author := m.Tool.Name + " " + m.Tool.Version
+	pdf := newPDF("Fair value memo: "+m.Company.Name, "Fair value of share-based awards as of "+m.ValuationDate.String(), author, m.Tool.Name, m.ValuationDate.Time())
+	d := &Memo{pdf: pdf, m: m, sections: map[string]int{}, widths: map[int]bool{},
+		head: [2]string{m.Company.Name + " · Fair value memo", "Valuation date " + m.ValuationDate.String()}}
+	pdf.SetHeaderFuncMode(d.header, false)
+	pdf.SetFooterFunc(d.footer)
+	var err error
+	if d.tpl, err = d.templates(templates.Memo, "memo"); err != nil {
+		return nil, err
+	}
+	return d, pdf.Error()
+}
+
+// newPDF is an A4 document in the reports' fonts and margins, its
+// metadata dated date, so that the same input gives the same bytes.
+func newPDF(title, subject, author, producer string, date time.Time) pdfDoc {
 	pdf := pdfDoc{gofpdf.New("P", "mm", "A4", "")}
 	pdf.SetCompression(true)
 	pdf.SetCatalogSort(true)
-	t := m.ValuationDate.Time()
-	pdf.SetCreationDate(t)
-	pdf.SetModificationDate(t)
-	pdf.SetTitle("Fair value memo: "+m.Company.Name, true)
-	pdf.SetSubject("Fair value of share-based awards as of "+m.ValuationDate.String(), true)
-	pdf.SetAuthor(m.Tool.Name+" "+m.Tool.Version, true)
-	pdf.SetCreator(m.Tool.Name+" "+m.Tool.Version, true)
-	pdf.SetProducer(m.Tool.Name, true)
+	pdf.SetCreationDate(date)
+	pdf.SetModificationDate(date)
+	pdf.SetTitle(title, true)
+	pdf.SetSubject(subject, true)
+	pdf.SetAuthor(author, true)
+	pdf.SetCreator(author, true)
+	pdf.SetProducer(producer, true)
 	pdf.AddUTF8FontFromBytes(fontSans, "", goregular.TTF)
 	pdf.AddUTF8FontFromBytes(fontSans, "B", gobold.TTF)
 	pdf.AddUTF8FontFromBytes(fontSans, "I", goitalic.TTF)
 	pdf.SetMargins(marginL, marginT, marginR)
 	pdf.SetAutoPageBreak(true, marginB)
 	pdf.AliasNbPages("{nb}")
-	d := &Memo{pdf: pdf, m: m, sections: map[string]int{}, widths: map[int]bool{}}
-	pdf.SetHeaderFuncMode(d.header, false)
-	pdf.SetFooterFunc(d.footer)
-	tpl := template.New("memo").Funcs(template.FuncMap{
+	return pdf
+}
+
+// templates parses the *.tmpl files of folder dir of fsys with the
+// memo's template functions.
+func (d *Memo) templates(fsys fs.FS, dir string) (*template.Template, error) {
+	tpl := template.New(dir).Funcs(template.FuncMap{
 		"money":     money,
 		"perShare":  perShare,
 		"pct":       pct,
@@ -149,14 +169,11 @@ func newMemo(m *Model) (*Memo, error) {
 			return count(ps[len(ps)-1].Steps)
 		},
 	})
-	sub, err := fs.Sub(templates.Memo, "memo")
+	sub, err := fs.Sub(fsys, dir)
 	if err != nil {
 		return nil, err
 	}
-	if d.tpl, err = tpl.ParseFS(sub, "*.tmpl"); err != nil {
-		return nil, err
-	}
-	return d, pdf.Error()
+	return tpl.ParseFS(sub, "*.tmpl")
 }
 
 func groupAny(n any) string {
@@ -179,8 +196,8 @@ func (d *Memo) header() {
 	p.SetFont(fontSans, "", 7.5)
 	p.SetTextColor(90, 90, 90)
 	p.SetXY(marginL, 10)
-	p.CellFormat(textW/2, 4, d.m.Company.Name+" · Fair value memo", "", 0, "L", false, 0, "")
-	p.CellFormat(textW/2, 4, "Valuation date "+d.m.ValuationDate.String(), "", 0, "R", false, 0, "")
+	p.CellFormat(textW/2, 4, d.head[0], "", 0, "L", false, 0, "")
+	p.CellFormat(textW/2, 4, d.head[1], "", 0, "R", false, 0, "")
 	p.SetDrawColor(180, 180, 180)
 	p.SetLineWidth(0.2)
 	p.Line(marginL, 15, pageW-marginR, 15)

@@ -495,7 +495,7 @@ func (b *Book) valueCell(a Assumption) any {
 }
 
 func writeAssumptions(b *Book, m *Model) error {
-	cols := []Column{{"Grant", 14}, {"Input", 26}, {"Value", 16}, {"As given", 18}, {"Cell", 18}, {"Source", 60}}
+	cols := []Column{{"Grant", 14}, {"Input", 26}, {"Value", 16}, {"As given", 18}, {"Cell", 18}, {"In force from", 12}, {"Source", 60}}
 	t, err := b.NewTable(SheetAssumptions, cols, len(m.Assumptions))
 	if err != nil {
 		return err
@@ -505,7 +505,7 @@ func writeAssumptions(b *Book, m *Model) error {
 		if grant == "" {
 			grant = "(all)"
 		}
-		if err := t.Row(b.Text(grant), b.Text(a.Name), b.valueCell(a), b.Text(a.Text), b.Text(a.Ref), b.Text(a.Source)); err != nil {
+		if err := t.Row(b.Text(grant), b.Text(a.Name), b.valueCell(a), b.Text(a.Text), b.Text(a.Ref), b.DateCell(a.EffectiveDate), b.Text(a.Source)); err != nil {
 			return err
 		}
 	}
@@ -736,14 +736,20 @@ func writeAbout(b *Book, m *Model) error {
 		{"Formulas", "Tranches columns V to X recompute the simplified-method Black-Scholes-Merton value from columns G, H, J, K, M, S and T with NORM.S.DIST; column U is the tool's own figure. Spreadsheet programs recalculate them when the file is opened."},
 		{"Caution", m.Caution},
 	}
-	t, err := b.NewTable(SheetAbout, []Column{{"Item", 26}, {"Value", 110}}, len(rows))
+	return writeItems(b, SheetAbout, rows)
+}
+
+// writeItems writes sheet as rows of an item and its value, a long text
+// value wrapped in a taller row.
+func writeItems(b *Book, sheet string, rows [][2]any) error {
+	t, err := b.NewTable(sheet, []Column{{"Item", 26}, {"Value", 110}}, len(rows))
 	if err != nil {
 		return err
 	}
 	for _, r := range rows {
 		v := r[1]
 		if s, ok := v.(string); ok && len(s) > 100 {
-			// About's value column is 110 characters wide.
+			// The value column is 110 characters wide.
 			if err := t.TallRow(15*float64(1+len(s)/100), b.Cell(b.Style.Wrap, r[0]), b.Cell(b.Style.Wrap, s)); err != nil {
 				return err
 			}

@@ -113,15 +113,8 @@ func MonteCarlo(t Terms, m Market, o MCOptions) (Result, error) {
 	if !european {
 		iV = int(math.Ceil(V*float64(spy) - 1e-9))
 	}
-	sigma, q := m.VolAnnual, m.DividendYield
-	drift := make([]float64, n)
-	sd := make([]float64, n)
-	for i := range n {
-		dt := times[i+1] - times[i]
-		f := m.Curve.Forward(times[i], times[i+1])
-		drift[i] = (f - q - sigma*sigma/2) * dt
-		sd[i] = sigma * math.Sqrt(dt)
-	}
+	q := m.DividendYield
+	drift, sd := logSteps(times, m)
 	discT := m.Curve.Discount(T)
 
 	K := t.Strike
@@ -141,8 +134,8 @@ func MonteCarlo(t Terms, m Market, o MCOptions) (Result, error) {
 		if b >= h {
 			return true
 		}
-		arg := 2 * (h - a) * (h - b) / v
-		return arg < 40 && rng.Float64() < math.Exp(-arg) // e^-40 ≈ 4e-18: below the uniform's resolution
+		p := bridgeCross(h, a, b, v)
+		return p > 0 && rng.Float64() < p
 	}
 	z := make([]float64, n)
 	// path returns the discounted payoff, the time the option ends and the

@@ -1,8 +1,6 @@
 package main
 
 import (
-	"crypto/sha256"
-	"encoding/hex"
 	"errors"
 	"fmt"
 	"io"
@@ -11,7 +9,6 @@ import (
 	"path/filepath"
 	"runtime/debug"
 	"runtime/pprof"
-	"sort"
 	"strings"
 	"sync"
 	"time"
@@ -163,8 +160,12 @@ func runValue(o *valueOptions) error {
 	if len(inErrs) > 0 {
 		return printProblems(o.io.Err, rep, inErrs)
 	}
-	sum, err := hashInput(o.path)
+	sum, err := grants.HashInput(o.path)
 	if err != nil {
+		var ce *grants.CellError
+		if errors.As(err, &ce) {
+			return asInput(err) // the input changed since it was read
+		}
 		return err
 	}
 	// Lock and check the output folder before the long work: a second run,
@@ -177,7 +178,7 @@ func runValue(o *valueOptions) error {
 	bar := newProgress(o.io, "valuing grants")
 	sensBar := newProgress(o.io, "sensitivity runs")
 	v, err := pricing.Value(s, ins, pricing.Options{
-		Lattice:     valuation.LatticeOptions{Steps: s.Assumptions.Steps},
+		Lattice:     valuation.LatticeOptions{Steps: s.InForce().Steps},
 		Progress:    bar.update,
 		Sensitivity: func(done, total int) { bar.finish(); sensBar.update(done, total) },
 	})
@@ -246,48 +247,6 @@ func printProblems(w io.Writer, rep *grants.Report, more []error) error {
 	n := rep.ErrorCount() + len(more)
 	fmt.Fprintf(w, "%d %s; nothing was written\n", n, checkPlural(n, "error"))
 	return silentExit{exitInput}
-}
-
-// hashInput is the SHA-256 of the schedule: of the file's bytes, or for a
-// folder of CSV files of each .csv file's name, a NUL byte, its length as
-// decimal digits, a NUL byte and its bytes, in name order.
-func hashInput(path string) (string, error) {
-	st, err := os.Stat(path)
-	if err != nil {
-		return "", err
-	}
-	h := sha256.New()
-	if !st.IsDir() {
-		f, err := os.Open(path)
-		if err != nil {
-			return "", err
-		}
-		defer f.Close()
-		if _, err := io.Copy(h, f); err != nil {
-			return "", err
-		}
-		return hex.EncodeToString(h.Sum(nil)), nil
-	}
-	ents, err := os.ReadDir(path)
-	if err != nil {
-		return "", err
-	}
-	var names []string
-	for _, e := range ents {
-		if !e.IsDir() && strings.EqualFold(filepath.Ext(e.Name()), ".csv") {
-			names = append(names, e.Name())
-		}
-	}
-	sort.Strings(names)
-	for _, n := range names {
-		b, err := os.ReadFile(filepath.Join(path, n))
-		if err != nil {
-			return "", err
-		}
-		fmt.Fprintf(h, "%s\x00%d\x00", n, len(b))
-		h.Write(b)
-	}
-	return hex.EncodeToString(h.Sum(nil)), nil
 }
 
 // outputs are the files of outputNames, each rendered from the Model

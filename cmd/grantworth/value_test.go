@@ -72,6 +72,9 @@ func TestMain(m *testing.M) {
 	if sampleRun.dir != "" {
 		os.RemoveAll(filepath.Dir(sampleRun.dir))
 	}
+	if compareRun.dir != "" {
+		os.RemoveAll(compareRun.dir)
+	}
 	os.Exit(code)
 }
 

@@ -1,7 +1,8 @@
 // Command gen writes grantworth's demo schedule: Tarnwick Labs, Inc., an
 // invented company, with about forty grants from late 2023 to its valuation
 // date of 2026-09-30, as sample/tarnwick.xlsx and as the CSV folder
-// sample/tarnwick-csv/. Everything is made up; the random
+// sample/tarnwick-csv/; and the grant designs it is weighing for its next
+// hire, as sample/designs.xlsx (see Designs). Everything is made up; the random
 // choices come from a fixed seed, so the files are the same on every run.
 //
 // Run it from the repository root:
@@ -210,5 +211,9 @@ func run(dir string) error {
 	if err := grants.WriteCSVDir(csvDir, s); err != nil {
 		return err
 	}
-	return nil
+	buf.Reset()
+	if err := grants.WriteDesignsXLSX(&buf, Designs()); err != nil {
+		return err
+	}
+	return os.WriteFile(filepath.Join(dir, "designs.xlsx"), buf.Bytes(), 0o644)
 }

@@ -34,7 +34,7 @@ func TestGeneratorReproducesSample(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if n != 8 { // tarnwick.xlsx and seven CSV files
+	if n != 9 { // tarnwick.xlsx, seven CSV files and designs.xlsx
 		t.Errorf("generator wrote %d files", n)
 	}
 }
