@@ -62,10 +62,9 @@ type autoPlan struct {
 
 func latticeAuto(t Terms, vestYears []float64, m Market, conv Convention) ([]Result, error) {
 	conv.StepsPerYear = false
-	nmin := minStepsForProb(t, m)
-	if nmin > MaxLatticeSteps {
-		return nil, inputErr("no step count up to %d keeps the up-probability in (0, 1): volatility %v is too low for the rates of the curve (forward up to %.4g) and dividend yield %v",
-			MaxLatticeSteps, m.VolAnnual, maxForward(t, m), m.DividendYield)
+	nmin, err := autoMinSteps(t, m)
+	if err != nil {
+		return nil, err
 	}
 	for {
 		rs, err := latticeAutoSteps(t, vestYears, m, conv, nmin)
@@ -79,11 +78,37 @@ func latticeAuto(t Terms, vestYears []float64, m Market, conv Convention) ([]Res
 	}
 }
 
-func latticeAutoSteps(t Terms, vestYears []float64, m Market, conv Convention, nmin int) ([]Result, error) {
+// autoMinSteps is the fewest steps that keep the up-probability in (0, 1)
+// as the curve's probe sees it, or an error if that is over the limit.
+func autoMinSteps(t Terms, m Market) (int, error) {
+	nmin := minStepsForProb(t, m)
+	if nmin > MaxLatticeSteps {
+		return 0, inputErr("no step count up to %d keeps the up-probability in (0, 1): volatility %v is too low for the rates of the curve (forward up to %.4g) and dividend yield %v",
+			MaxLatticeSteps, m.VolAnnual, maxForward(t, m), m.DividendYield)
+	}
+	return nmin, nil
+}
+
+// autoPlanFor is autoSteps, or an error when its finest level is over the
+// step limit or a level's extreme node prices pass floating point.
+func autoPlanFor(t Terms, m Market, nmin int) (autoPlan, error) {
 	plan := autoSteps(t, m, nmin)
 	if plan.steps[2] > MaxLatticeSteps {
-		return nil, inputErr("auto mode needs %d steps to keep the up-probability in (0, 1), above the limit of %d: volatility %v is too low for the rates of the curve (forward up to %.4g) and dividend yield %v",
+		return plan, inputErr("auto mode needs %d steps to keep the up-probability in (0, 1), above the limit of %d: volatility %v is too low for the rates of the curve (forward up to %.4g) and dividend yield %v",
 			plan.steps[2], MaxLatticeSteps, m.VolAnnual, maxForward(t, m), m.DividendYield)
+	}
+	for _, N := range plan.steps {
+		if err := checkSpan(t, m, N); err != nil {
+			return plan, err
+		}
+	}
+	return plan, nil
+}
+
+func latticeAutoSteps(t Terms, vestYears []float64, m Market, conv Convention, nmin int) ([]Result, error) {
+	plan, err := autoPlanFor(t, m, nmin)
+	if err != nil {
+		return nil, err
 	}
 	n := len(vestYears)
 	vals := make([][3]float64, n)
@@ -93,9 +118,6 @@ func latticeAutoSteps(t Terms, vestYears []float64, m Market, conv Convention, n
 	va, la := make([]float64, n), make([]float64, n)
 	vb, lb := make([]float64, n), make([]float64, n)
 	for lv, N := range plan.steps {
-		if err := checkSpan(t, m, N); err != nil {
-			return nil, err
-		}
 		w := getWork(N)
 		if err := w.build(t, m, N, conv, true); err != nil {
 			putWork(w)

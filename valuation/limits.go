@@ -120,7 +120,6 @@ func Feasible(t Terms, m Market, o LatticeOptions) error {
 		t = Terms{Strike: t.Strike, YearsToExpiry: t.YearsToExpiry}
 		o.Convention = Convention{StepsPerYear: o.Convention.StepsPerYear}
 	}
-	nmin := minStepsForProb(t, m)
 	if o.Steps > 0 {
 		n, err := rawSteps(t, o)
 		if err != nil {
@@ -135,26 +134,17 @@ func Feasible(t Terms, m Market, o LatticeOptions) error {
 		for i := 0; i < n; i++ {
 			if p, f := stepProb(m, t.YearsToExpiry, n, i, u, d); !(p > 0 && p < 1) {
 				return inputErr("%d steps over %.4g years give step %d an up-probability of %.4g, outside (0, 1), for volatility %v at the forward rate %.4g and dividend yield %v; use at least %d steps, or auto",
-					n, t.YearsToExpiry, i+1, p, m.VolAnnual, f, m.DividendYield, max(nmin, n+1))
+					n, t.YearsToExpiry, i+1, p, m.VolAnnual, f, m.DividendYield, max(minStepsForProb(t, m), n+1))
 			}
 		}
 		return nil
 	}
-	if nmin > MaxLatticeSteps {
-		return inputErr("no step count up to %d keeps the up-probability in (0, 1): volatility %v is too low for the rates of the curve (forward up to %.4g) and dividend yield %v",
-			MaxLatticeSteps, m.VolAnnual, maxForward(t, m), m.DividendYield)
+	nmin, err := autoMinSteps(t, m)
+	if err != nil {
+		return err
 	}
-	plan := autoSteps(t, m, nmin)
-	if plan.steps[2] > MaxLatticeSteps {
-		return inputErr("auto mode needs %d steps to keep the up-probability in (0, 1), above the limit of %d: volatility %v is too low for the rates of the curve (forward up to %.4g) and dividend yield %v",
-			plan.steps[2], MaxLatticeSteps, m.VolAnnual, maxForward(t, m), m.DividendYield)
-	}
-	for _, n := range plan.steps {
-		if err := checkSpan(t, m, n); err != nil {
-			return err
-		}
-	}
-	return nil
+	_, err = autoPlanFor(t, m, nmin)
+	return err
 }
 
 // stepProb is the risk-neutral up-probability of step i of an n-step tree

@@ -538,8 +538,8 @@ func (p *pricer) sensitivity(v *Valuation, progress func(done, total int)) error
 					return fmt.Errorf("sensitivity %s %+g: %w", c.key, d, err)
 				}
 				if len(kept) > 0 {
-					v.Warnings = append(v.Warnings, fmt.Sprintf("sensitivity case %s %s: %s kept %s base value%s, the lattice cannot value %s with the input moved",
-						c.label, c.labels[j], joinIDs(kept), theirIts(len(kept)), plural(len(kept)), themIt(len(kept))))
+					v.Warnings = append(v.Warnings, fmt.Sprintf("sensitivity case %s %s: the lattice cannot value %s with the input moved; the base value is used instead",
+						c.label, c.labels[j], joinIDs(kept)))
 				}
 				if sampleBase > 0 {
 					fv = base * total(rs) / sampleBase
@@ -564,33 +564,15 @@ func (p *pricer) sensitivity(v *Valuation, progress func(done, total int)) error
 	return nil
 }
 
-// joinIDs lists grant ids, the first few of many.
+// joinIDs names grants by id, the first few of many.
 func joinIDs(ids []string) string {
-	if len(ids) <= 5 {
-		return "grant " + strings.Join(ids, ", ")
+	switch {
+	case len(ids) == 1:
+		return "grant " + ids[0]
+	case len(ids) <= 5:
+		return "grants " + strings.Join(ids, ", ")
 	}
 	return fmt.Sprintf("grants %s and %d more", strings.Join(ids[:5], ", "), len(ids)-5)
-}
-
-func theirIts(n int) string {
-	if n == 1 {
-		return "its"
-	}
-	return "their"
-}
-
-func themIt(n int) string {
-	if n == 1 {
-		return "it"
-	}
-	return "them"
-}
-
-func plural(n int) string {
-	if n == 1 {
-		return ""
-	}
-	return "s"
 }
 
 // representative is the option tranche with the largest total fair value
