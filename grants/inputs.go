@@ -38,6 +38,28 @@ type Inputs struct {
 	RiskFreeRate Source
 }
 
+// Named is one valuation input of a grant by its key.
+type Named struct {
+	Key    string
+	Source *Source
+}
+
+// Named are the grant's valuation inputs by key, in the memo's order:
+// share_price, volatility (not for an RSU), dividend_yield, and for
+// options and warrants exercise_multiple, post_vesting_exit_rate and
+// risk_free_rate. The Sources are in's own.
+func (in *Inputs) Named() []Named {
+	out := []Named{{"share_price", &in.SharePrice}}
+	if in.Grant.Instrument != RSU {
+		out = append(out, Named{"volatility", &in.Volatility})
+	}
+	out = append(out, Named{"dividend_yield", &in.DividendYield})
+	if in.Grant.Instrument != RSU {
+		out = append(out, Named{"exercise_multiple", &in.ExerciseMultiple}, Named{"post_vesting_exit_rate", &in.ExitRate}, Named{"risk_free_rate", &in.RiskFreeRate})
+	}
+	return out
+}
+
 // Inputs gathers the valuation inputs of grant g: the measurement date,
 // one valuation.Terms per tranche, the Market at the measurement date and
 // the source of every assumption.
@@ -166,12 +188,12 @@ func (s *Schedule) Inputs(g Grant) (Inputs, error) {
 }
 
 // feasible reports, as a *CellError, a grant whose inputs the lattice
-// cannot value (valuation.Feasible: a volatility too high for the term, so
-// that the tree's extreme prices pass floating point, or too low for the
-// rates, so that its up-probability leaves (0, 1) within the step limit;
-// a raw step count too small or too large). The cell named is the steps
-// assumption when it sets a raw step count, else the grant's volatility.
-// Every tranche of a grant shares the terms that matter here.
+// cannot value (valuation.Feasible: an input outside valuation.Limits, a
+// strike too far above the share price, a volatility too high for the
+// term, a raw step count too small for the up-probability or too large
+// for the tree's extreme prices). The cell named is the input at fault:
+// the steps assumption when it sets a raw step count, else the grant's
+// volatility.
 func (s *Schedule) feasible(in Inputs) error {
 	g := in.Grant
 	if g.Instrument == RSU || len(in.Terms) == 0 {
@@ -188,7 +210,11 @@ func (s *Schedule) feasible(in Inputs) error {
 	}
 	a := s.InForce() // value runs every lattice with the steps in force at the valuation date
 	o := valuation.LatticeOptions{Steps: a.Steps}
-	err := valuation.Feasible(t, in.Market, o)
+	vest := make([]float64, len(in.Terms))
+	for k, tk := range in.Terms {
+		vest[k] = tk.YearsToVest
+	}
+	err := valuation.Feasible(t, vest, in.Market, o)
 	if err == nil {
 		return nil
 	}
@@ -197,7 +223,7 @@ func (s *Schedule) feasible(in Inputs) error {
 	switch l := valuation.Limits; {
 	case !l.SharePrice.In(in.Market.Spot):
 		ref, col, val = in.SharePrice.Ref, "share_price", num(in.Market.Spot)
-	case !l.Strike.In(t.Strike):
+	case !l.Strike.In(t.Strike) || !l.Moneyness.In(t.Strike/in.Market.Spot):
 		ref, col, val = s.cell(SheetGrants, "strike", g.Row, g.Refs), "strike", num(t.Strike)
 	case !l.YearsToExpiry.In(t.YearsToExpiry):
 		ref, col, val = s.cell(SheetGrants, "expiry_date", g.Row, g.Refs), "expiry_date", isoDay(g.ExpiryDate)
@@ -323,3 +349,7 @@ func (s *Schedule) Period() (start, end time.Time) {
 	}
 	return start, end
 }
+
+// Cell is the cell of column key on row of sheet, as problems name it
+// (the sheet's first column when key is not on it).
+func (s *Schedule) Cell(sheet, key string, row int) Ref { return s.cell(sheet, key, row, nil) }

@@ -334,7 +334,7 @@ func (t *tableReader) nextRow() (int, []string, bool) {
 // cellName is the A1-style name of a cell ("AB12"), or "" for a position
 // outside a sheet.
 func cellName(col, row int) string {
-	if col < 1 || row < 1 || col > maxSheetColumns || row > MaxRows+maxSheetRows {
+	if col < 1 || row < 1 || col > maxSheetColumns {
 		return ""
 	}
 	var b [16]byte

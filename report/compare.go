@@ -2,6 +2,7 @@ package report
 
 import (
 	"fmt"
+	"sort"
 	"strings"
 
 	"grantworth/grants"
@@ -27,6 +28,7 @@ type CompareModel struct {
 	FiscalYearEnd    string           `json:"fiscal_year_end"` // MM-DD
 	Steps            string           `json:"steps"`           // "auto" or a raw step count
 	Simulation       SimulationInfo   `json:"simulation"`
+	Years            []FiscalYear     `json:"fiscal_years"` // every year some design expenses, in order
 	Designs          []DesignResult   `json:"designs"`
 	Warnings         []string         `json:"warnings"`
 	Caution          string           `json:"caution"`
@@ -81,8 +83,9 @@ type DesignResult struct {
 	Payoff        []PayoffPercentile `json:"payoff_percentiles"`
 	SimulatedMean float64            `json:"simulated_value_per_share"`
 	SimulatedSE   float64            `json:"simulated_standard_error"`
-	Endings       []float64          `json:"endings"`     // probability of each of CompareModel.Endings
-	EndByYear     []float64          `json:"end_by_year"` // probability of ending in year i after grant
+	Endings       []float64          `json:"endings"`      // probability of each of CompareModel.Endings
+	EndByYear     []float64          `json:"end_by_year"`  // probability of ending in year i+1 after the grant
+	EndByMonth    []float64          `json:"end_by_month"` // the same by month
 	Note          string             `json:"note,omitempty"`
 
 	VolShifts     []VolatilityPoint `json:"volatility_sensitivity"`
@@ -114,6 +117,14 @@ type DesignCheck struct {
 	StdErr       float64 `json:"standard_error"`
 	Paths        int     `json:"paths"`
 	Z            float64 `json:"z"`
+}
+
+// FiscalYear is one fiscal year: its label (the calendar year in which it
+// ends), first and last day.
+type FiscalYear struct {
+	Year  int  `json:"year"`
+	Start Date `json:"start"`
+	End   Date `json:"end"`
 }
 
 // YearExpense is the expected expense of one fiscal year.
@@ -173,9 +184,18 @@ func BuildComparison(c *design.Comparison, run Run, steps int, sim valuation.Out
 	}
 	ye := design.FiscalYears(c.GrantDate, c.GrantDate, c.YearEnd)[0].End
 	m.FiscalYearEnd = ye.Format("01-02")
+	seen := map[int]bool{}
 	for i := range c.Designs {
-		m.Designs = append(m.Designs, designResult(&c.Designs[i]))
+		d := designResult(&c.Designs[i])
+		m.Designs = append(m.Designs, d)
+		for _, y := range d.ExpenseByYear {
+			if !seen[y.Year] {
+				seen[y.Year] = true
+				m.Years = append(m.Years, FiscalYear{Year: y.Year, Start: y.Start, End: y.End})
+			}
+		}
 	}
+	sort.Slice(m.Years, func(i, j int) bool { return m.Years[i].Year < m.Years[j].Year })
 	m.Notes = compareNotes(m, c)
 	return m
 }
@@ -192,7 +212,8 @@ func designResult(r *design.Result) DesignResult {
 		FairValuePerShare: r.FairValuePerShare, FairValueTotal: r.FairValueTotal, ErrorEstimate: r.ErrorEstimate,
 		ExpectedCostTotal: r.ExpectedCostTotal, ExpectedTermYears: r.ExpectedTermYears, BSMSimplifiedValue: r.BSMSimplified,
 		ProbabilityInTheMoney: r.Outcomes.InTheMoney, BreakEvenSharePrice: r.BreakEven,
-		SimulatedMean: r.Outcomes.Mean, SimulatedSE: r.Outcomes.StdErr, EndByYear: r.Outcomes.EndYears, Note: r.OutcomeNote,
+		SimulatedMean: r.Outcomes.Mean, SimulatedSE: r.Outcomes.StdErr, EndByYear: r.Outcomes.EndYears, EndByMonth: r.Outcomes.EndMonths,
+		Note: r.OutcomeNote,
 	}
 	if g.Instrument != grants.RSU && in.SharePrice.Value > 0 {
 		out.StrikePremium = g.Strike/in.SharePrice.Value - 1
@@ -273,6 +294,17 @@ func (d DesignResult) volatilityAt(shift float64) (float64, bool) {
 		}
 	}
 	return 0, false
+}
+
+// expenseIn is the design's expected expense in fiscal year y (0 outside
+// its years).
+func (d DesignResult) expenseIn(y int) float64 {
+	for _, e := range d.ExpenseByYear {
+		if e.Year == y {
+			return e.Amount
+		}
+	}
+	return 0
 }
 
 // payoffAt is the payoff percentile p, if reported.

@@ -3,7 +3,6 @@ package report
 import (
 	"image/color"
 	"math"
-	"sort"
 	"strconv"
 	"strings"
 
@@ -59,24 +58,13 @@ func thousands(v float64) float64 { return v / 1000 }
 // bars side by side, a group per year.
 func ExpenseByYearPNG(m *CompareModel, w, h vg.Length) ([]byte, error) {
 	p := basePlot("", "fiscal year", "expected expense ("+m.Currency+" thousands)")
-	years := map[int]bool{}
-	for _, d := range m.Designs {
-		for _, y := range d.ExpenseByYear {
-			years[y.Year] = true
-		}
-	}
-	var ys []int
-	for y := range years {
-		ys = append(ys, y)
-	}
-	sort.Ints(ys)
 	n := len(m.Designs)
-	group := 0.8 * float64(w) / float64(max(len(ys), 1)) // points per year group
+	group := 0.8 * float64(w) / float64(max(len(m.Years), 1)) // points per year group
 	width := vg.Length(math.Min(group/float64(max(n, 1)), 16))
 	for i, d := range m.Designs {
-		vals := make(plotter.Values, len(ys))
-		for _, y := range d.ExpenseByYear {
-			vals[sort.SearchInts(ys, y.Year)] = thousands(y.Amount)
+		vals := make(plotter.Values, len(m.Years))
+		for k, y := range m.Years {
+			vals[k] = thousands(d.expenseIn(y.Year))
 		}
 		b, err := plotter.NewBarChart(vals, width)
 		if err != nil {
@@ -87,9 +75,9 @@ func ExpenseByYearPNG(m *CompareModel, w, h vg.Length) ([]byte, error) {
 		p.Add(b)
 		p.Legend.Add(d.Design, b)
 	}
-	labels := make([]string, len(ys))
-	for i, y := range ys {
-		labels[i] = strconv.Itoa(y)
+	labels := make([]string, len(m.Years))
+	for i, y := range m.Years {
+		labels[i] = strconv.Itoa(y.Year)
 	}
 	p.NominalX(labels...)
 	top := 0.0
@@ -243,15 +231,15 @@ func PayoffRangePNG(m *CompareModel, w, h vg.Length) ([]byte, error) {
 }
 
 // EndTimingPNG charts, for each design, the share of the award that has
-// ended (exercised, delivered or lapsed) by each year after the grant.
+// ended (exercised, delivered or lapsed) by each month after the grant.
 func EndTimingPNG(m *CompareModel, w, h vg.Length) ([]byte, error) {
 	p := basePlot("", "years after the grant", "share of the award ended (%)")
 	for i, d := range m.Designs {
 		pts := plotter.XYs{{X: 0, Y: 0}}
 		cum := 0.0
-		for y, pr := range d.EndByYear {
+		for k, pr := range d.EndByMonth {
 			cum += pr
-			pts = append(pts, plotter.XY{X: float64(y + 1), Y: 100 * math.Min(cum, 1)}) // ended by year y+1
+			pts = append(pts, plotter.XY{X: float64(k+1) / 12, Y: 100 * math.Min(cum, 1)}) // ended by month k+1
 		}
 		l, err := designLine(i, pts)
 		if err != nil {

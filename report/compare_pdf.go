@@ -4,7 +4,6 @@ import (
 	"fmt"
 	"io"
 	"math"
-	"sort"
 	"strings"
 	"time"
 
@@ -81,16 +80,7 @@ func WriteComparePDF(w io.Writer, m *CompareModel) error {
 // caution.
 func (d *Memo) compareFront(m *CompareModel, data compareData) error {
 	p := d.pdf
-	p.AddPage()
-	p.SetFillColor(0x2F, 0x48, 0x58)
-	p.Rect(0, 0, pageW, 8, "F")
-	p.SetY(16)
-	p.SetFont(fontSans, "", 10.5)
-	p.SetTextColor(0x2F, 0x48, 0x58)
-	p.CellFormat(textW, 6, "Grant designs compared", "", 1, "L", false, 0, "")
-	p.SetFont(fontSans, "B", 20)
-	p.SetTextColor(0, 0, 0)
-	p.MultiCell(textW, 9, m.Company, "", "L", false)
+	d.titlePage(16, 0.85, "Grant designs compared", m.Company)
 	p.SetFont(fontSans, "", 10)
 	p.CellFormat(textW, 6, fmt.Sprintf("%d designs for a grant on %s · share price %s", len(m.Designs), data.When, money(m.SharePrice, m.Currency)), "", 1, "L", false, 0, "")
 	p.Ln(3)
@@ -99,22 +89,7 @@ func (d *Memo) compareFront(m *CompareModel, data compareData) error {
 	}
 	d.Table(compareCols(m), CompareTable(m))
 	d.Note(fmt.Sprintf("Amounts in %s. Totals are for the whole grant. Percentiles are of the award's payoff in today's money, risk-neutral. The workbook comparison.xlsx holds every tranche.", m.Currency))
-	// The caution, boxed, at the foot of the page (or the next, if the
-	// table ran long).
-	p.SetFont(fontSans, "", 8)
-	lines := p.SplitText(m.Caution, textW-10)
-	h := float64(len(lines))*3.9 + 11
-	if p.GetY()+h+4 > pageH-marginB {
-		p.AddPage()
-	}
-	y := pageH - marginB - h - 2
-	p.SetFillColor(0xF3, 0xEE, 0xE4)
-	p.Rect(marginL, y, textW, h, "F")
-	p.SetXY(marginL+5, y+3.5)
-	p.SetFont(fontSans, "B", 8)
-	p.CellFormat(textW-10, 3.9, "Caution", "", 2, "L", false, 0, "")
-	p.SetFont(fontSans, "", 8)
-	p.MultiCell(textW-10, 3.9, m.Caution, "", "L", false)
+	d.cautionBox(m.Caution, 8)
 	return nil
 }
 
@@ -235,30 +210,13 @@ func (d *Memo) compareExpense(m *CompareModel, _ compareData) error {
 	if err := d.Chart(func(w, h vg.Length) ([]byte, error) { return ExpenseByYearPNG(m, w, h) }, textW, 82); err != nil {
 		return err
 	}
-	years := map[int]bool{}
-	var ys []int
-	for _, dr := range m.Designs {
-		for _, y := range dr.ExpenseByYear {
-			if !years[y.Year] {
-				years[y.Year] = true
-				ys = append(ys, y.Year)
-			}
-		}
-	}
-	sort.Ints(ys)
 	cols := compareCols(m)
 	cols[0].Header = "Fiscal year (" + m.Currency + ")"
 	var rows [][]string
-	for _, y := range ys {
-		r := []string{fmt.Sprint(y)}
+	for _, y := range m.Years {
+		r := []string{fmt.Sprint(y.Year)}
 		for _, dr := range m.Designs {
-			amt := 0.0
-			for _, e := range dr.ExpenseByYear {
-				if e.Year == y {
-					amt = e.Amount
-				}
-			}
-			r = append(r, groupDigits(amt, 0))
+			r = append(r, groupDigits(dr.expenseIn(y.Year), 0))
 		}
 		rows = append(rows, r)
 	}

@@ -4,7 +4,6 @@ import (
 	"bytes"
 	"fmt"
 	"io"
-	"sort"
 
 	"github.com/xuri/excelize/v2"
 )
@@ -199,32 +198,15 @@ func ordinal(p float64) string {
 }
 
 func writeDesignExpense(b *Book, m *CompareModel) error {
-	years := map[int]YearExpense{}
-	for _, d := range m.Designs {
-		for _, y := range d.ExpenseByYear {
-			years[y.Year] = y
-		}
-	}
-	var ys []int
-	for y := range years {
-		ys = append(ys, y)
-	}
-	sort.Ints(ys)
 	cols := append([]Column{{"Fiscal year", 12}, {"From", 12}, {"To", 12}}, designCols(m, "")[1:]...)
-	t, err := b.NewTable(SheetYearly, cols, len(ys)+1)
+	t, err := b.NewTable(SheetYearly, cols, len(m.Years)+1)
 	if err != nil {
 		return err
 	}
-	for _, y := range ys {
-		r := []any{y, b.DateCell(years[y].Start), b.DateCell(years[y].End)}
+	for _, y := range m.Years {
+		r := []any{y.Year, b.DateCell(y.Start), b.DateCell(y.End)}
 		for _, d := range m.Designs {
-			amt := 0.0
-			for _, e := range d.ExpenseByYear {
-				if e.Year == y {
-					amt = e.Amount
-				}
-			}
-			r = append(r, b.Cell(b.Style.Money, amt))
+			r = append(r, b.Cell(b.Style.Money, d.expenseIn(y.Year)))
 		}
 		if err := t.Row(r...); err != nil {
 			return err

@@ -215,18 +215,48 @@ func (d *Memo) footer() {
 	p.SetTextColor(0, 0, 0)
 }
 
-func (d *Memo) cover() {
-	p, m := d.pdf, d.m
+// titlePage starts a document's first page: the band across its top, then
+// at y the kind of document over its title; scale 1 for a cover page,
+// less for a title above other matter.
+func (d *Memo) titlePage(y, scale float64, kind, title string) {
+	p := d.pdf
 	p.AddPage()
 	p.SetFillColor(0x2F, 0x48, 0x58)
 	p.Rect(0, 0, pageW, 8, "F")
-	p.SetY(62)
-	p.SetFont(fontSans, "", 12)
+	p.SetY(y)
+	p.SetFont(fontSans, "", 12*scale)
 	p.SetTextColor(0x2F, 0x48, 0x58)
-	p.CellFormat(textW, 7, "Fair value of share-based awards", "", 1, "L", false, 0, "")
-	p.SetFont(fontSans, "B", 24)
+	p.CellFormat(textW, 7*scale, kind, "", 1, "L", false, 0, "")
+	p.SetFont(fontSans, "B", 24*scale)
 	p.SetTextColor(0, 0, 0)
-	p.MultiCell(textW, 11, m.Company.Name, "", "L", false)
+	p.MultiCell(textW, 11*scale, title, "", "L", false)
+}
+
+// cautionBox draws the caution, boxed, at the foot of the current page in
+// text of size points, or at the foot of a new page when what is on this
+// one reaches too low.
+func (d *Memo) cautionBox(caution string, size float64) {
+	p := d.pdf
+	line := size * 0.494 // millimetres per line
+	p.SetFont(fontSans, "", size)
+	lines := p.SplitText(caution, textW-10)
+	h := float64(len(lines))*line + 12
+	if p.GetY()+h+6 > pageH-marginB {
+		p.AddPage()
+	}
+	y := pageH - marginB - h - 6
+	p.SetFillColor(0xF3, 0xEE, 0xE4)
+	p.Rect(marginL, y, textW, h, "F")
+	p.SetXY(marginL+5, y+4)
+	p.SetFont(fontSans, "B", size)
+	p.CellFormat(textW-10, line, "Caution", "", 2, "L", false, 0, "")
+	p.SetFont(fontSans, "", size)
+	p.MultiCell(textW-10, line, caution, "", "L", false)
+}
+
+func (d *Memo) cover() {
+	p, m := d.pdf, d.m
+	d.titlePage(62, 1, "Fair value of share-based awards", m.Company.Name)
 	p.Ln(2)
 	p.SetFont(fontSans, "", 12)
 	p.CellFormat(textW, 7, "Valuation memo as of "+m.ValuationDate.String(), "", 1, "L", false, 0, "")
@@ -254,18 +284,7 @@ func (d *Memo) cover() {
 	p.SetTextColor(0, 0, 0)
 	p.SetFont(fontSans, "", 8)
 	p.MultiCell(textW-38, 6, m.Input.SHA256, "", "L", false)
-	// The caution, boxed, at the foot of the cover.
-	p.SetFont(fontSans, "", 8.5)
-	lines := p.SplitText(m.Caution, textW-10)
-	h := float64(len(lines))*4.2 + 12
-	y := pageH - marginB - h - 6
-	p.SetFillColor(0xF3, 0xEE, 0xE4)
-	p.Rect(marginL, y, textW, h, "F")
-	p.SetXY(marginL+5, y+4)
-	p.SetFont(fontSans, "B", 8.5)
-	p.CellFormat(textW-10, 4.2, "Caution", "", 2, "L", false, 0, "")
-	p.SetFont(fontSans, "", 8.5)
-	p.MultiCell(textW-10, 4.2, m.Caution, "", "L", false)
+	d.cautionBox(m.Caution, 8.5) // at the foot of the cover
 }
 
 // Section starts numbered section n, on a new page if asked or if little

@@ -71,14 +71,16 @@ func bound(x float64) string {
 // S0·e^±maxLogSpan (about 10^±260), and totals multiply a value per share
 // by up to 10^12 shares and add up many grants.
 var Limits = struct {
-	SharePrice, Strike, Volatility, YearsToExpiry, DividendYield, ExitRate, ExerciseMultiple, Steps, Shares, Rate, Tenor Limit
+	SharePrice, Strike, Moneyness, Volatility, YearsToExpiry, DividendYield, ExitRate, ExerciseMultiple, Steps, Shares, Rate, Tenor Limit
 }{
 	SharePrice: Limit{Key: "share_price", Min: 1e-6, Max: 1e12,
 		Why: "a millionth of a currency unit to 10^12 a share: any share in any currency; node prices S0·e^±600 and totals over 10^12 shares stay far inside floating point"},
 	Strike: Limit{Key: "strike", Min: 0, Max: 1e12,
 		Why: "0 (a pre-funded warrant) to 10^12 a share, as for the share price"},
+	Moneyness: Limit{Key: "strike_to_share_price", Min: 0, Max: 1e4,
+		Why: "a strike of at most 10^4 times the share price: beyond that an award is worth nothing the lattice resolves (its value is lost in rounding against the strike), and the cause is nearly always a unit (a strike in cents, a price in thousands)"},
 	Volatility: Limit{Key: "volatility", Min: 0.01, Max: 5,
-		Why: "1% to 500% a year; below 1% the up-probability of a tree within the step limit leaves (0, 1) at ordinary rates, and the lattice also bounds volatility × √(years × steps) (Feasible)"},
+		Why: "1% to 500% a year: outside it the figure is almost surely mistyped (45 for 0.45); how high a volatility the lattice resolves also depends on the term and the steps (Feasible)"},
 	YearsToExpiry: Limit{Key: "years_to_expiry", Min: 0, MinOpen: true, Max: MaxTermDays / 365.0,
 		Why: "a term of up to 100 calendar years (36,525 days, ACT/365F), as term_years allows"},
 	DividendYield: Limit{Key: "dividend_yield", Min: 0, Max: 1, MaxOpen: true,
@@ -103,48 +105,45 @@ const MaxTermDays = 36525
 // AllLimits lists the rows of Limits, for documentation and tests.
 func AllLimits() []Limit {
 	l := Limits
-	return []Limit{l.SharePrice, l.Strike, l.Volatility, l.YearsToExpiry, l.DividendYield, l.ExitRate, l.ExerciseMultiple, l.Steps, l.Shares, l.Rate, l.Tenor}
+	return []Limit{l.SharePrice, l.Strike, l.Moneyness, l.Volatility, l.YearsToExpiry, l.DividendYield, l.ExitRate, l.ExerciseMultiple, l.Steps, l.Shares, l.Rate, l.Tenor}
 }
 
-// Feasible reports, without building a tree, whether Lattice values terms
-// t in market m with options o: the inputs within Limits (the volatility
-// only above 0, so that a sensitivity case may move it past the table's
-// bounds), and a step count that keeps every up-probability in (0, 1) and
-// the extreme node prices within floating point. The error wraps
-// ErrLatticeInput and names what to change. It costs a few curve look-ups.
-func Feasible(t Terms, m Market, o LatticeOptions) error {
-	if err := checkLattice(t, nil, m, o); err != nil {
+// Feasible reports, without solving, whether LatticeTranches values terms
+// t with tranches vesting at vestYears in market m with options o: the
+// inputs within Limits (the volatility only above 0, so that a sensitivity
+// case may move it past the table's bounds); for a raw tree, a step count
+// within the limit whose every up-probability lies in (0, 1) and whose
+// extreme node prices stay within floating point; in auto mode, the
+// checks auto mode makes before it solves (its spread of prices and the
+// size of its coarsest grids). The error wraps ErrLatticeInput and names
+// what to change. It costs about as much as building one tree's
+// probabilities, far less than solving it.
+func Feasible(t Terms, vestYears []float64, m Market, o LatticeOptions) error {
+	t, vestYears, o, err := latticeInputs(t, vestYears, m, o)
+	if err != nil || len(vestYears) == 0 {
 		return err
 	}
-	if t.European {
-		t = Terms{Strike: t.Strike, YearsToExpiry: t.YearsToExpiry}
-		o.Convention = Convention{StepsPerYear: o.Convention.StepsPerYear}
+	if o.Steps == 0 {
+		_, _, err := autoPreflight(t, vestYears, m, o.Convention)
+		return err
 	}
-	if o.Steps > 0 {
-		n, err := rawSteps(t, o)
-		if err != nil {
-			return err
-		}
-		if err := checkSpan(t, m, n); err != nil {
-			return err
-		}
-		// The up-probability of every step, as the tree computes it.
-		h := m.VolAnnual * math.Sqrt(t.YearsToExpiry/float64(n))
-		u, d := math.Exp(h), math.Exp(-h)
-		for i := 0; i < n; i++ {
-			if p, f := stepProb(m, t.YearsToExpiry, n, i, u, d); !(p > 0 && p < 1) {
-				return inputErr("%d steps over %.4g years give step %d an up-probability of %.4g, outside (0, 1), for volatility %v at the forward rate %.4g and dividend yield %v; use at least %d steps, or auto",
-					n, t.YearsToExpiry, i+1, p, m.VolAnnual, f, m.DividendYield, max(minStepsForProb(t, m), n+1))
-			}
-		}
-		return nil
-	}
-	nmin, err := autoMinSteps(t, m)
+	n, err := rawSteps(t, o)
 	if err != nil {
 		return err
 	}
-	_, err = autoPlanFor(t, m, nmin)
-	return err
+	if err := checkSpan(t, m, n); err != nil {
+		return err
+	}
+	// The up-probability of every step, as the tree computes it.
+	h := m.VolAnnual * math.Sqrt(t.YearsToExpiry/float64(n))
+	u, d := math.Exp(h), math.Exp(-h)
+	for i := 0; i < n; i++ {
+		if p, f := stepProb(m, t.YearsToExpiry, n, i, u, d); !(p > 0 && p < 1) {
+			return inputErr("%d steps over %.4g years give step %d an up-probability of %.4g, outside (0, 1), for volatility %v at the forward rate %.4g and dividend yield %v; use at least %d steps, or auto",
+				n, t.YearsToExpiry, i+1, p, m.VolAnnual, f, m.DividendYield, max(minStepsForProb(t, m), n+1))
+		}
+	}
+	return nil
 }
 
 // stepProb is the risk-neutral up-probability of step i of an n-step tree

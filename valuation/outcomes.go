@@ -54,7 +54,9 @@ type Outcomes struct {
 	// measurement date: after i years and by i+1, with yearLeeway for the
 	// leap days in a run of anniversaries (ten calendar years are up to
 	// three days more than ten years of 365 days).
-	EndYears          []float64
+	EndYears []float64
+	// EndMonths[i] is the same for month i+1, in twelfths of a year.
+	EndMonths         []float64
 	ExpectedTermYears float64 // mean time to the end
 }
 
@@ -171,7 +173,8 @@ func SimulateOutcomes(tranches []Terms, weights []float64, m Market, o OutcomeOp
 	rng := rand.New(rand.NewPCG(o.Seed, 0x6f7574636f6d6573)) // stream constant: "outcomes"
 	x := make([]float64, n+1)
 	next := make([]int, n+1) // next[i]: the first step j ≥ i in which the path reaches H (n: none)
-	out := &Outcomes{Paths: paths, Sample: make([]float64, paths), EndYears: make([]float64, endYear(horizon)+1)}
+	out := &Outcomes{Paths: paths, Sample: make([]float64, paths),
+		EndYears: make([]float64, endPeriod(horizon, 1)+1), EndMonths: make([]float64, endPeriod(horizon, 12)+1)}
 	var sum, sum2, life float64
 	x[0] = math.Log(m.Spot)
 	for p := range paths {
@@ -244,7 +247,8 @@ func SimulateOutcomes(tranches []Terms, weights []float64, m Market, o OutcomeOp
 				out.InTheMoney += t.w
 			}
 			out.Endings[how] += t.w
-			out.EndYears[endYear(end)] += t.w
+			out.EndYears[endPeriod(end, 1)] += t.w
+			out.EndMonths[endPeriod(end, 12)] += t.w
 			life += t.w * end
 			pay += t.w * pv
 		}
@@ -262,6 +266,9 @@ func SimulateOutcomes(tranches []Terms, weights []float64, m Market, o OutcomeOp
 	for i := range out.EndYears {
 		out.EndYears[i] /= N
 	}
+	for i := range out.EndMonths {
+		out.EndMonths[i] /= N
+	}
 	out.ExpectedTermYears = life / N
 	sort.Float64s(out.Sample)
 	return out, nil
@@ -271,9 +278,12 @@ func SimulateOutcomes(tranches []Terms, weights []float64, m Market, o OutcomeOp
 // fall and still count in that year: three leap days.
 const yearLeeway = 3.0 / 365
 
-// endYear is the index into Outcomes.EndYears of an end t years after the
-// measurement date.
-func endYear(t float64) int { return max(int(math.Ceil(t-yearLeeway))-1, 0) }
+// endPeriod is the index into Outcomes.EndYears (perYear 1) or EndMonths
+// (perYear 12) of an end t years after the measurement date.
+func endPeriod(t float64, perYear int) int {
+	n := float64(perYear)
+	return max(int(math.Ceil(n*(t-yearLeeway)))-1, 0)
+}
 
 // logSteps are the mean and standard deviation of the change in the log
 // share price over each step of the grid times under the risk-neutral

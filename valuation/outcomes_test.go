@@ -16,15 +16,18 @@ func simulate(t *testing.T, tr []Terms, w []float64, m Market, o OutcomeOptions)
 	if err != nil {
 		t.Fatal(err)
 	}
-	sumE, sumY := 0.0, 0.0
+	sumE, sumY, sumM := 0.0, 0.0, 0.0
 	for _, p := range out.Endings {
 		sumE += p
 	}
 	for _, p := range out.EndYears {
 		sumY += p
 	}
-	if math.Abs(sumE-1) > 1e-9 || math.Abs(sumY-1) > 1e-9 {
-		t.Errorf("endings add up to %v and end years to %v, want 1", sumE, sumY)
+	for _, p := range out.EndMonths {
+		sumM += p
+	}
+	if math.Abs(sumE-1) > 1e-9 || math.Abs(sumY-1) > 1e-9 || math.Abs(sumM-1) > 1e-9 {
+		t.Errorf("endings add up to %v, end years to %v and end months to %v, want 1", sumE, sumY, sumM)
 	}
 	for i := 1; i < len(out.Sample); i++ {
 		if out.Sample[i] < out.Sample[i-1] {
@@ -155,6 +158,9 @@ func TestOutcomesRSU(t *testing.T) {
 	// A tranche vesting on its anniversary ends in that year.
 	if len(out.EndYears) != 3 || out.EndYears[0] != 0.25 || out.EndYears[1] != 0.25 || out.EndYears[2] != 0.5 {
 		t.Errorf("end years %v, want [0.25 0.25 0.5]", out.EndYears)
+	}
+	if len(out.EndMonths) != 36 || out.EndMonths[11] != 0.25 || out.EndMonths[23] != 0.25 || out.EndMonths[35] != 0.5 {
+		t.Errorf("end months %v, want a quarter in months 12 and 24 and a half in month 36", out.EndMonths)
 	}
 	within(t, "expected term", out.ExpectedTermYears, (1+2+2*3)/4.0, 1e-12)
 }

@@ -4,7 +4,6 @@ import (
 	"errors"
 	"fmt"
 	"io"
-	"io/fs"
 	"path/filepath"
 	"strings"
 	"unicode/utf8"
@@ -103,15 +102,7 @@ func runCompare(o *compareOptions) error {
 	}
 	s, rep, err := grants.ReadDesigns(o.Path)
 	if err != nil {
-		var ce *grants.CellError
-		switch {
-		case errors.As(err, &ce):
-			return asInput(err)
-		case errors.Is(err, fs.ErrNotExist):
-			return badInput("%s: no such file or folder", o.Path)
-		default:
-			return err
-		}
+		return readError(o.Path, err)
 	}
 	if !rep.OK() {
 		return printProblems(o.IO.Err, rep, nil)

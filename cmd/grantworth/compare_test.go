@@ -207,18 +207,19 @@ func TestCompareSampleFiles(t *testing.T) {
 	}
 }
 
-// pdfText is the PDF's text by pdftotext, or "" (the test skips that part)
-// when poppler-utils is missing outside CI.
+// pdfText is the PDF's text by pdftotext (page breaks as form feeds), or ""
+// when poppler-utils is missing: CI installs it and must read the PDFs;
+// elsewhere a machine without it skips only the checks of their text.
 func pdfText(t *testing.T, pdf []byte) string {
 	t.Helper()
 	if _, err := exec.LookPath("pdftotext"); err != nil {
 		if os.Getenv("CI") != "" {
-			t.Fatal("pdftotext is needed under CI")
+			t.Fatal("pdftotext not found: install poppler-utils (the CI script does)")
 		}
-		t.Log("pdftotext not found: the PDF's text is not checked")
+		t.Log("pdftotext not found: apt-get install poppler-utils to check the PDFs' text")
 		return ""
 	}
-	path := filepath.Join(t.TempDir(), "c.pdf")
+	path := filepath.Join(t.TempDir(), "doc.pdf")
 	if err := os.WriteFile(path, pdf, 0o644); err != nil {
 		t.Fatal(err)
 	}

@@ -111,6 +111,21 @@ func limitEdges(t *testing.T, l valuation.Limit) (in, out []edge) {
 			outs = []float64{lo - 1, hi + 1}
 		}
 		col(l.Key, ins, outs)
+		switch l.Key {
+		case "share_price":
+			in[0].row["strike"] = "0.01" // within Moneyness of the lowest price
+		case "strike":
+			in[1].row["share_price"] = g(hi) // a strike of 10^12 on a share of 10^12
+		}
+		if l.Key == "volatility" {
+			// Auto mode resolves a spread σ√T of at most 10: the highest
+			// volatility on a three-year option.
+			in[1].row["expiry_date"], in[1].row["vest_months"] = "2028-01-10", "24"
+		}
+	case "strike_to_share_price":
+		// The share price is 1.6 (the Share Prices row at 2025-01-10).
+		in = append(in, edge{row: map[string]string{"strike": g(1.6 * l.Max)}})
+		out = append(out, edge{row: map[string]string{"strike": g(1.6 * l.Max * (1 + tiny))}, cell: grantCell("strike")})
 	case "exercise_multiple":
 		col(l.Key, []float64{0, l.Min * (1 + tiny), l.Max}, []float64{l.Min, l.Max * (1 + tiny), -0.5})
 	case "years_to_expiry":
@@ -237,7 +252,8 @@ func TestLimitRegressions(t *testing.T) {
 		edit func(map[string]string)
 		cell string // "" : valued
 	}{
-		{"volatility 5 on a ten-year option (a sensitivity case overflowed)", map[string]string{"volatility": "5"}, nil, ""},
+		{"volatility 5 on a ten-year option (a sensitivity case overflowed)", map[string]string{"volatility": "5"}, nil, grantCell("volatility")},
+		{"volatility 5 on a three-year option", map[string]string{"volatility": "5", "expiry_date": "2028-01-10", "vest_months": "24"}, nil, ""},
 		{"volatility 1e-12", map[string]string{"volatility": "1e-12"}, nil, grantCell("volatility")},
 		{"steps 100,000 against the lattice's 20,000", nil, func(f map[string]string) {
 			f["assumptions.csv"] = strings.Replace(f["assumptions.csv"], "steps,auto", "steps,100000", 1)
@@ -248,7 +264,8 @@ func TestLimitRegressions(t *testing.T) {
 		{"raw steps that put the tree's top node past floating point", map[string]string{"volatility": "3"}, func(f map[string]string) {
 			f["assumptions.csv"] = strings.Replace(f["assumptions.csv"], "steps,auto", "steps,5000", 1)
 		}, "Assumptions!B9 (steps)"},
-		{"volatility 0.01 at rates near 50% (no tree within the step limit)", map[string]string{"volatility": "0.01"}, oneCurve("0", "0.49", "30", "0.49"), grantCell("volatility")},
+		{"volatility 0.01 at rates near 50%", map[string]string{"volatility": "0.01"}, oneCurve("0", "0.49", "30", "0.49"), ""},
+		{"a strike 10^5 times the share price (auto mode's value was noise, up to 92 ± 150 for a worthless option)", map[string]string{"strike": "160000"}, nil, grantCell("strike")},
 	} {
 		rows := []map[string]string{c.row}
 		if c.row == nil {

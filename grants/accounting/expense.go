@@ -100,6 +100,19 @@ type GrantExpense struct {
 	LiabilityOpen      float64 // at the end of the day before the period start
 	LiabilityEnd       float64 // at period end
 	ReclassifiedEquity float64 // liability moved to equity on exercise in the period
+	// ReclassifiedToDate is the liability moved to equity on exercise
+	// through the period end, in all.
+	ReclassifiedToDate float64
+
+	// Outstanding is, at the period end, the options or warrants
+	// outstanding, or the RSUs nonvested.
+	Outstanding int64
+	// Events are the grant's events applied, through the period end, and
+	// Remeasurements a liability-classified warrant's fair values after
+	// its grant date (the past quarter ends and the period end): what a
+	// later close compares and keeps.
+	Events         []grants.Event
+	Remeasurements []Remeasurement
 
 	Tranches []TrancheExpense
 }
@@ -181,11 +194,13 @@ func Attribute(awards []Award, policy Policy, periodStart, periodEnd time.Time, 
 }
 
 // period is a checked policy and period with the ledger of every award
-// granted by its end, in award order.
+// granted by its end, in award order, and the prior close it follows,
+// if any.
 type period struct {
 	pol        Policy
 	start, end time.Time
 	ledgers    []*awardLedger
+	prior      *Prior
 }
 
 // openPeriod checks the policy and the period and builds the ledgers;
@@ -224,9 +239,15 @@ func (p *period) expense() *ExpenseReport {
 	rep := &ExpenseReport{PeriodStart: periodStart, PeriodEnd: periodEnd, Policy: pol, ServiceRule: ServiceRule}
 	open := shiftDays(periodStart, -1)
 
-	// Period boundaries: context quarters, then the current period.
+	// Period boundaries: context quarters, then the current period. After
+	// a prior close the closed periods are as it booked them.
 	var bounds []PeriodAmount
-	if len(ledgers) > 0 {
+	if p.prior != nil {
+		for _, pa := range p.prior.Periods {
+			pa.Current = false
+			bounds = append(bounds, pa)
+		}
+	} else if len(ledgers) > 0 {
 		first := ledgers[0].in.Grant.GrantDate
 		for _, l := range ledgers {
 			if l.in.Grant.GrantDate.Before(first) {
@@ -255,6 +276,23 @@ func (p *period) expense() *ExpenseReport {
 		ge := GrantExpense{GrantID: g.ID, Holder: g.Holder, Instrument: g.Instrument, Liability: l.liability, GrantDate: g.GrantDate, ServiceStart: l.start, ServiceEnd: l.last}
 		s0 := l.at(pol, open, open)
 		s1 := l.at(pol, periodEnd, periodEnd)
+		// The opening balances: as restated (s0), or as the prior close
+		// booked them (nothing for a grant it did not have).
+		bookedTranche := func(i int) float64 { return s0.comp[i] }
+		var pg *PriorGrant
+		if p.prior != nil {
+			pg, _ = p.prior.grant(g.ID)
+			bookedTranche = func(i int) float64 {
+				if pg != nil {
+					for _, t := range pg.Tranches {
+						if dayNum(t.VestDate) == l.tr[i].vestN {
+							return t.Cumulative
+						}
+					}
+				}
+				return 0
+			}
+		}
 		// Every tranche is vested the day after the later of the last vest
 		// date and the period end, so the cost there is the expected total.
 		far := shiftDays(l.last, 1)
@@ -269,12 +307,12 @@ func (p *period) expense() *ExpenseReport {
 			if live > 0 {
 				lastLive = t.Tranche.VestDate
 			}
-			q := t.expected(dayNum(periodEnd))
+			q := t.expected(dayNum(periodEnd), l.rate)
 			te := TrancheExpense{
 				Index: t.Tranche.Index, VestDate: t.Tranche.VestDate, ServiceStart: t.start,
 				Shares: t.Tranche.Shares, SharesCounted: float64(live)*q + float64(c.accelerated),
 				FairValue: t.FairValue, ExpectedShare: q,
-				Cost: sInf.comp[i], CumulativeOpen: s0.comp[i], Cumulative: s1.comp[i],
+				Cost: sInf.comp[i], CumulativeOpen: bookedTranche(i), Cumulative: s1.comp[i],
 			}
 			te.Period = te.Cumulative - te.CumulativeOpen
 			te.Unrecognized = te.Cost - te.Cumulative
@@ -293,7 +331,15 @@ func (p *period) expense() *ExpenseReport {
 				wYears += te.Unrecognized * te.RemainingYears
 			}
 		}
+		if p.prior != nil {
+			ge.CumulativeOpen = 0
+			if pg != nil {
+				ge.CumulativeOpen = pg.Cumulative
+			}
+		}
 		ge.Period = ge.Cumulative - ge.CumulativeOpen
+		ge.Outstanding = l.outstanding(dayNum(periodEnd))
+		ge.Events = l.in.eventsThrough(periodEnd)
 		if ge.Unrecognized > 0 {
 			if pol.Attribution == grants.StraightLine {
 				if left := valuation.Days(shiftDays(periodEnd, 1), lastLive); left > 0 {
@@ -309,10 +355,20 @@ func (p *period) expense() *ExpenseReport {
 			}
 		}
 		if l.liability {
-			ge.FairValueChange = s1.fvChange() - s0.fvChange()
-			ge.LiabilityOpen = s0.liability
+			lOpen, settledOpen, fvOpen := s0.liability, s0.settled, s0.fvChange()
+			if p.prior != nil {
+				lOpen, settledOpen, fvOpen = 0, 0, 0
+				if pg != nil {
+					lOpen, settledOpen = pg.LiabilityEnd, pg.Reclassified
+					fvOpen = pg.LiabilityEnd + pg.Reclassified - pg.Cumulative
+				}
+			}
+			ge.FairValueChange = s1.fvChange() - fvOpen
+			ge.LiabilityOpen = lOpen
 			ge.LiabilityEnd = s1.liability
-			ge.ReclassifiedEquity = s1.settled - s0.settled
+			ge.ReclassifiedEquity = s1.settled - settledOpen
+			ge.ReclassifiedToDate = s1.settled
+			ge.Remeasurements = l.remeas
 			if len(l.remeas) == 0 {
 				rep.Warnings = append(rep.Warnings, fmt.Sprintf("grant %s: liability-classified warrant with no remeasurement; its liability is carried at the grant-date fair value", g.ID))
 			}
@@ -326,6 +382,13 @@ func (p *period) expense() *ExpenseReport {
 		l.bufComp = make([]float64, len(l.tr))
 		var prevComp, prevFV float64
 		for k := range bounds {
+			if p.prior != nil { // the closed periods stand as booked
+				if bounds[k].Current {
+					bounds[k].Amount += ge.Period
+					bounds[k].FairValueChange += ge.FairValueChange
+				}
+				continue
+			}
 			cur := l.atInto(pol, bounds[k].End, bounds[k].End, l.bufComp)
 			c := cur.compTotal()
 			bounds[k].Amount += c - prevComp

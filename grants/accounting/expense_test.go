@@ -345,7 +345,7 @@ func TestLiabilityWarrantRemeasured(t *testing.T) {
 		{Lines: []Line{{Role: RoleCompensation, Debit: 5000.0 * 91 / 365}, {Role: RoleLiability, Credit: 5000.0 * 91 / 365}}},
 		{Lines: []Line{{Role: RoleLiability, Debit: (500.0*181 + 1000*90) / 365}, {Role: RoleFairValueChange, Credit: (500.0*181 + 1000*90) / 365}}},
 	}
-	journal := Journal(r, nil)
+	journal := Journal(r, nil, nil)
 	if len(journal) != len(want) {
 		t.Fatalf("journal: got %+v, want %d entries", journal, len(want))
 	}

@@ -2,6 +2,7 @@ package accounting
 
 import (
 	"math"
+	"strings"
 	"time"
 )
 
@@ -85,14 +86,16 @@ func transfer(date time.Time, desc string, accts Accounts, debit, credit Role, g
 // minEntry is the smallest amount booked: half a cent.
 const minEntry = 0.005
 
-// Journal is the period's summary entries for the attribution r, in the
-// account names accts (nil for DefaultAccounts): compensation of
-// equity-classified awards against equity, compensation of
-// liability-classified warrants against the liability, the liability's
-// remeasurement apart from compensation, and exercised liability warrants
-// reclassified to equity. Entries with less than half a cent to book are
-// left out.
-func Journal(r *ExpenseReport, accts Accounts) []Entry {
+// Journal is the period's entries for the attribution r and its
+// catch-ups, in the accounts accts (nil for DefaultAccounts): the
+// compensation of equity-classified awards against equity and of
+// liability-classified warrants against the liability, each without its
+// catch-ups; an entry per catch-up, naming its grant and cause; the
+// liability's remeasurement apart from compensation; and exercised
+// liability warrants reclassified to equity. The compensation lines add
+// up to the period's expense. Entries of less than half a cent are left
+// out.
+func Journal(r *ExpenseReport, catchUps []CatchUp, accts Accounts) []Entry {
 	var equity, liaComp, fv, reclass float64
 	for _, g := range r.Grants {
 		if g.Liability {
@@ -103,15 +106,29 @@ func Journal(r *ExpenseReport, accts Accounts) []Entry {
 			equity += g.Period
 		}
 	}
-	var out []Entry
-	add := func(desc string, debit, credit Role, amount float64) {
-		if math.Abs(amount) >= minEntry {
-			out = append(out, transfer(r.PeriodEnd, desc, accts, debit, credit, "", amount))
+	for _, c := range catchUps {
+		if c.Liability {
+			liaComp -= c.Amount
+		} else {
+			equity -= c.Amount
 		}
 	}
-	add("Share-based compensation for the period (equity-classified awards)", RoleCompensation, RoleEquity, equity)
-	add("Share-based compensation for the period (liability-classified warrants)", RoleCompensation, RoleLiability, liaComp)
-	add("Remeasurement of the warrant liability to fair value (apart from compensation)", RoleFairValueChange, RoleLiability, fv)
-	add("Exercised liability-classified warrants reclassified to equity", RoleLiability, RoleEquity, reclass)
+	var out []Entry
+	add := func(desc string, debit, credit Role, grantID string, amount float64) {
+		if math.Abs(amount) >= minEntry {
+			out = append(out, transfer(r.PeriodEnd, desc, accts, debit, credit, grantID, amount))
+		}
+	}
+	add("Share-based compensation for the period (equity-classified awards)", RoleCompensation, RoleEquity, "", equity)
+	add("Share-based compensation for the period (liability-classified warrants)", RoleCompensation, RoleLiability, "", liaComp)
+	for _, c := range catchUps {
+		credit := RoleEquity
+		if c.Liability {
+			credit = RoleLiability
+		}
+		add("Catch-up for closed periods, grant "+c.GrantID+" ("+strings.ReplaceAll(string(c.Cause), "_", " ")+")", RoleCompensation, credit, c.GrantID, c.Amount)
+	}
+	add("Remeasurement of the warrant liability to fair value (apart from compensation)", RoleFairValueChange, RoleLiability, "", fv)
+	add("Exercised liability-classified warrants reclassified to equity", RoleLiability, RoleEquity, "", reclass)
 	return out
 }

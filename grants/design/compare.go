@@ -49,7 +49,6 @@ type Result struct {
 	Inputs grants.Inputs // its tranches, terms, market and the source of each input
 	// Tranches are the tranches' values, in Inputs.Tranches order.
 	Tranches []Tranche
-	Shares   int64
 
 	FairValuePerShare float64 // share-weighted over the tranches: the accounting number
 	FairValueTotal    float64
@@ -167,7 +166,7 @@ func compareOne(s *grants.Schedule, d grants.Design, o Options, oo valuation.Out
 		return nil, err
 	}
 	gv := v.Grants[0]
-	*r = Result{Design: d, Grant: g, Inputs: in, Tranches: make([]Tranche, len(in.Tranches)), Shares: g.Shares, DilutionFactor: 1,
+	*r = Result{Design: d, Grant: g, Inputs: in, Tranches: make([]Tranche, len(in.Tranches)), DilutionFactor: 1,
 		ForfeitureRate: s.DesignForfeitureRate(d)}
 	if gv.Dilution != nil {
 		r.DilutionFactor = gv.Dilution.Factor()

@@ -7,17 +7,12 @@ import (
 	"time"
 
 	"grantworth/grants"
+	"grantworth/grants/grantstest"
 	"grantworth/grants/pricing"
 	"grantworth/valuation"
 )
 
-func day(s string) time.Time {
-	t, err := time.Parse(time.DateOnly, s)
-	if err != nil {
-		panic(err)
-	}
-	return t
-}
+var day = grantstest.Day
 
 func f(x float64) *float64 { return &x }
 
