@@ -678,7 +678,6 @@ const (
 // gridPool keeps the grids' memory between valuations.
 var gridPool = sync.Pool{New: func() any { return new(autoGrid) }}
 
-// latticeAuto is auto mode: see the package documentation.
 // autoPreflight is what auto mode checks before it solves anything, with
 // the model and grid geometry it checks: Feasible asks it too.
 func autoPreflight(t Terms, vestYears []float64, m Market, conv Convention) (autoModel, autoGeo, error) {
@@ -698,6 +697,7 @@ func autoPreflight(t Terms, vestYears []float64, m Market, conv Convention) (aut
 	return am, geo, nil
 }
 
+// latticeAuto is auto mode: see the package documentation.
 func latticeAuto(t Terms, vestYears []float64, m Market, conv Convention) ([]Result, error) {
 	am, geo, err := autoPreflight(t, vestYears, m, conv)
 	if err != nil {
