@@ -218,6 +218,10 @@ func (r *priorReader) read(dec *json.Decoder) error {
 				return nil
 			})
 		case "expense":
+			// The grant-date values it holds are read by its format.
+			if err := r.checkHead(); err != nil {
+				return err
+			}
 			err = r.readExpense(dec)
 		case "assumptions":
 			err = each(dec, func() error {
@@ -362,7 +366,10 @@ func (r *priorReader) book(eg *ExpenseGrant) {
 		// used; the remeasurements follow them.
 		at0 := make([]float64, len(eg.Tranches))
 		for k, b := range eg.Tranches {
-			at0[k] = b.FairValuePerShare
+			at0[k] = b.GrantDateFairValuePerShare
+			if *r.schemaVersion < 2 { // the grant-date value was the one shown
+				at0[k] = b.FairValuePerShare
+			}
 		}
 		pg.Remeasurements = append(pg.Remeasurements, accounting.Remeasurement{Date: pg.GrantDate, FairValue: at0})
 		for _, rm := range eg.Remeasurements {
@@ -406,11 +413,24 @@ func (r *priorReader) prior() (*accounting.Prior, string) {
 	p := &accounting.Prior{SchemaVersion: *r.schemaVersion, ToolVersion: r.tool.Version, Company: r.company.Name, Currency: r.company.Currency,
 		ValuationDate: r.valuationDate.Time(), PeriodStart: e.PeriodStart.Time(), Unrecognized: e.UnrecognizedCost,
 		Policy: accounting.Policy{Attribution: grants.Attribution(e.Attribution), Forfeitures: grants.ForfeiturePolicy(e.Forfeitures),
-			PreVestingForfeitureRate: e.PreVestingForfeitureRate}}
+			PreVestingForfeitureRate: e.PreVestingForfeitureRate, Framework: grants.Framework(e.Framework)},
+		LiabilityChangeApart: *r.schemaVersion < 2}
 	for _, pa := range e.Periods {
-		p.Periods = append(p.Periods, accounting.PeriodAmount{Start: pa.Start.Time(), End: pa.End.Time(), Amount: pa.Amount, FairValueChange: pa.FairValueChange})
+		p.Periods = append(p.Periods, accounting.PeriodAmount{Start: pa.Start.Time(), End: pa.End.Time(), Amount: pa.Amount, FairValueChange: pa.FinancingFairValueChange})
+	}
+	financing := make(map[string]*FinancingWarrant, len(e.Financing))
+	for i := range e.Financing {
+		financing[e.Financing[i].GrantID] = &e.Financing[i]
 	}
 	for i := range r.grants {
+		if fw, ok := financing[r.grants[i].ID]; ok {
+			pg, msg := priorFinancing(&r.grants[i], fw)
+			if msg != "" {
+				return nil, msg
+			}
+			r.grants[i] = pg
+			continue
+		}
 		switch {
 		case !r.booked[i]:
 			return nil, "grant " + r.grants[i].ID + " has no expense attribution"
@@ -420,6 +440,30 @@ func (r *priorReader) prior() (*accounting.Prior, string) {
 	}
 	p.Grants = r.grants
 	return p, ""
+}
+
+// priorFinancing is the PriorGrant of a warrant issued in a financing:
+// g as its grant was read (its attribution, if the file gives one, left
+// out) with its row fw of the expense's financing warrants, or what it
+// lacks.
+func priorFinancing(g *accounting.PriorGrant, fw *FinancingWarrant) (accounting.PriorGrant, string) {
+	pg := accounting.PriorGrant{ID: g.ID, Instrument: g.Instrument, Liability: g.Liability, Financing: true,
+		GrantDate: g.GrantDate, ServiceStart: g.GrantDate, MeasurementDate: g.MeasurementDate, ExpiryDate: g.ExpiryDate,
+		ValuationKey: g.ValuationKey, Inputs: g.Inputs, LiabilityEnd: fw.LiabilityEnd, Reclassified: fw.ReclassifiedToDate, Outstanding: fw.Outstanding}
+	for _, t := range g.Tranches {
+		t.Cumulative = 0
+		pg.Tranches = append(pg.Tranches, t)
+	}
+	for _, ev := range fw.Events {
+		pg.Events = append(pg.Events, grants.Event{GrantID: g.ID, Date: ev.Date.Time(), Kind: grants.EventKind(ev.Event), Shares: ev.Shares})
+	}
+	for _, r := range fw.Remeasurements {
+		if len(r.FairValuePerShare) != len(g.Tranches) {
+			return pg, fmt.Sprintf("financing warrant %s: a remeasurement on %s has %d values for %d tranches", g.ID, r.Date, len(r.FairValuePerShare), len(g.Tranches))
+		}
+		pg.Remeasurements = append(pg.Remeasurements, accounting.Remeasurement{Date: r.Date.Time(), FairValue: r.FairValuePerShare})
+	}
+	return pg, ""
 }
 
 // refOf parses "Sheet!Cell" back into a Ref ("default" and "" give the
