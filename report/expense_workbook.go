@@ -408,38 +408,53 @@ func writeJournal(b *Book, m *Model) error {
 	}
 	cols := []Column{{"Entry", 7}, {"Date", 12}, {"Description", 84}, {"Account role", 28}, {"Account code", 12}, {"Account", 40},
 		{"Debit", 16}, {"Credit", 16}, {"Currency", 9}, {"Grant", 12}}
-	n := 0
-	for _, j := range e.Journal {
-		n += len(j.Lines)
-	}
-	t, err := b.NewTable(SheetJournal, cols, max(n, 1))
-	if err != nil {
-		return err
-	}
-	if n == 0 {
+	if len(e.Journal) == 0 {
+		t, err := b.NewTable(SheetJournal, cols, 1)
+		if err != nil {
+			return err
+		}
 		if err := t.Row(nil, nil, "Nothing is to be booked for the period."); err != nil {
 			return err
 		}
+		return t.Close()
 	}
-	for i, j := range e.Journal {
-		for _, l := range j.Lines {
-			var dr, cr, grant any
-			if l.Debit != 0 {
-				dr = b.Cell(b.Style.Money, l.Debit)
-			}
-			if l.Credit != 0 {
-				cr = b.Cell(b.Style.Money, l.Credit)
-			}
-			if l.GrantID != "" {
-				grant = b.Text(l.GrantID)
-			}
-			if err := t.Row(b.Cell(b.Style.Int, i+1), b.DateCell(j.Date), b.Text(j.Description), l.Role, b.Text(l.AccountCode),
-				b.Text(l.Account), dr, cr, m.Company.Currency, grant); err != nil {
-				return err
+	// Whole entries to a sheet: a journal longer than a sheet (a catch-up
+	// for each of many grants) continues on Journal 2, ....
+	for from, part := 0, 0; from < len(e.Journal); part++ {
+		to, n := from, 0
+		for to < len(e.Journal) && (to == from || n+len(e.Journal[to].Lines) <= sheetRowLimit-1) {
+			n += len(e.Journal[to].Lines)
+			to++
+		}
+		t, err := b.partTable(SheetJournal, part, cols, n)
+		if err != nil {
+			return err
+		}
+		for i := from; i < to; i++ {
+			j := e.Journal[i]
+			for _, l := range j.Lines {
+				var dr, cr, grant any
+				if l.Debit != 0 {
+					dr = b.Cell(b.Style.Money, l.Debit)
+				}
+				if l.Credit != 0 {
+					cr = b.Cell(b.Style.Money, l.Credit)
+				}
+				if l.GrantID != "" {
+					grant = b.Text(l.GrantID)
+				}
+				if err := t.Row(b.Cell(b.Style.Int, i+1), b.DateCell(j.Date), b.Text(j.Description), l.Role, b.Text(l.AccountCode),
+					b.Text(l.Account), dr, cr, m.Company.Currency, grant); err != nil {
+					return err
+				}
 			}
 		}
+		if err := t.Close(); err != nil {
+			return err
+		}
+		from = to
 	}
-	return t.Close()
+	return nil
 }
 
 // expenseRowsPlain reports whether the fast rows can write x's Expense

@@ -82,6 +82,14 @@ func TestSheetsPastTheRowLimit(t *testing.T) {
 			m.Assumptions = append(m.Assumptions, Assumption{GrantID: g.ID, Name: k, Kind: KindNumber, Value: 1, Text: "1"})
 		}
 	}
+	// A catch-up entry for each grant (two lines each): the Journal
+	// continues too, an entry never split across sheets.
+	m.Expense.Journal = nil
+	for _, g := range m.Grants {
+		m.Expense.Journal = append(m.Expense.Journal, JournalEntry{Description: "Catch-up for closed periods, grant " + g.ID, Lines: []JournalLine{
+			{Role: "compensation", Account: "Share-based compensation expense", GrantID: g.ID, Debit: 1},
+			{Role: "equity", Account: "Additional paid-in capital", GrantID: g.ID, Credit: 1}}})
+	}
 	f := renderBook(t, m)
 	sheets := f.GetSheetList()
 	rowsOf := func(sh string) [][]string {
@@ -159,6 +167,16 @@ func TestSheetsPastTheRowLimit(t *testing.T) {
 	}
 	if k != len(data) {
 		t.Errorf("Expense tranches: %d rows, want %d", len(data), k)
+	}
+	_, data, parts = table(SheetJournal)
+	per := (limit - 1) / 2 // whole entries of two lines to a sheet
+	if want := (len(m.Expense.Journal) + per - 1) / per; len(data) != 2*len(m.Expense.Journal) || parts != want {
+		t.Errorf("Journal: %d rows on %d sheets, want %d on %d", len(data), parts, 2*len(m.Expense.Journal), want)
+	}
+	for k := 0; k+1 < len(data); k += 2 {
+		if data[k][0] != data[k+1][0] || data[k][9] != data[k+1][9] {
+			t.Errorf("Journal rows %d and %d: an entry split (%v, %v)", k, k+1, data[k], data[k+1])
+		}
 	}
 	if _, data, _ := table(SheetGrants); len(data) != len(m.Grants) {
 		t.Errorf("Grants: %d rows, want %d", len(data), len(m.Grants))

@@ -6,6 +6,13 @@
 //	go run ./bench/... -grants 10000 -kind adversarial -out /tmp/ledger.xlsx
 //	/usr/bin/time -v grantworth value /tmp/ledger.xlsx --out /tmp/ledger-out
 //
+// With -correct K the same ledger is written with grant K's strike raised
+// by a cent, as a corrected ledger for a rerun that follows the first
+// close (value --prior):
+//
+//	go run ./bench/... -grants 10000 -kind adversarial -correct 5000 -out /tmp/ledger2.xlsx
+//	grantworth value /tmp/ledger2.xlsx --out /tmp/ledger-out2 --prior /tmp/ledger-out
+//
 // Two kinds:
 //
 //   - realistic: what a listed company's plan looks like. Grants are made
@@ -44,6 +51,7 @@ func main() {
 	flag.IntVar(n, "n", 10000, "the same as -grants")
 	kind := flag.String("kind", "realistic", "realistic (grants share inputs, as in a real plan) or adversarial (no two grants alike)")
 	out := flag.String("out", "ledger.xlsx", "workbook to write")
+	correct := flag.Int("correct", 0, "raise the strike of grant number K (1 to -grants) by a cent: the ledger corrected")
 	flag.Parse()
 	if *n < 1 || *n > 200000 {
 		fail(fmt.Errorf("-grants %d: want 1 to 200,000 (the reader's limit)", *n))
@@ -56,6 +64,17 @@ func main() {
 		s = adversarial(*n)
 	default:
 		fail(fmt.Errorf("-kind %q: want realistic or adversarial", *kind))
+	}
+	if *correct != 0 {
+		if *correct < 1 || *correct > *n {
+			fail(fmt.Errorf("-correct %d: want a grant number from 1 to %d", *correct, *n))
+		}
+		g := &s.Grants[*correct-1]
+		if g.Instrument == grants.RSU {
+			g.Shares += 100 // an RSU has no strike: its share count is corrected
+		} else {
+			g.Strike += 0.01
+		}
 	}
 	var buf bytes.Buffer
 	if err := grants.WriteXLSX(&buf, s); err != nil {
