@@ -63,7 +63,7 @@ timed() {
 
 mb() { awk -v b="$(stat -c %s "$1")" 'BEGIN{printf "%.1f", b/1e6}'; }
 
-echo "| grants | kind | run | wall s | CPU s | peak RSS MB | tranches | valuation.xlsx MB | valuation.json MB | memo.pdf MB |"
+echo "| grants | kind | run | wall s | CPU s | peak RSS MiB | tranches | valuation.xlsx MB | valuation.json MB | memo.pdf MB |"
 echo "|---:|---|---|---:|---:|---:|---:|---:|---:|---:|"
 for kind in $KINDS; do
 	for n in $SIZES; do
