@@ -99,9 +99,12 @@ var Sheets = []Sheet{
 		Columns: []Column{
 			{Key: "company_name", Kind: KindText, Required: true, Need: "required", Help: "The company's name as it appears in the memo."},
 			{Key: "valuation_date", Kind: KindDate, Required: true, Need: "required", Help: "The period end: liability-classified warrants are remeasured on it and expense runs to it."},
-			{Key: "period_start", Kind: KindDate, Need: "optional", Default: "first day of the quarter ending on valuation_date", Help: "The first day of the reporting period."},
+			{Key: "period_start", Kind: KindDate, Need: "optional", Default: "first day of the quarter ending on valuation_date (the fiscal quarter, when valuation_date ends one)", Help: "The first day of the reporting period."},
 			{Key: "currency", Kind: KindText, Unit: "ISO 4217 code", Need: "optional", Default: "USD", Help: "Three-letter currency code of prices and strikes."},
 			{Key: "shares_outstanding", Kind: KindInt, Unit: "shares", Need: "warrants", Help: "Common shares outstanding, for the dilution of warrants."},
+			{Key: "fiscal_year_end", Kind: KindChoice, Choices: months, Unit: "month", Need: "optional", Default: "December (calendar years)", Help: "The month the fiscal year ends in: its name, its first three letters or its number 1 to 12. Quarters, the expense forecast, the expense by fiscal year and the default period_start follow it; a year ending in January runs from 1 February and is named by the calendar year it ends in (FY2027 ends in January 2027)."},
+			{Key: "fiscal_year_end_weekday", Kind: KindChoice, Choices: weekdays, Need: "optional", Default: "none: the year ends on the month's last day", Help: "For a 52/53-week year: the weekday it ends on, in or near the fiscal_year_end month. Its quarters are 13 weeks each, the fourth 14 in a 53-week year."},
+			{Key: "fiscal_year_end_rule", Kind: KindChoice, Choices: []string{"last", "nearest"}, Need: "with fiscal_year_end_weekday", Default: "last", Help: "last: the year ends on the last such weekday of the month; nearest: on the one nearest the month's last day, which may fall in the next month's first three days."},
 		}},
 	{Name: SheetAssumptions, File: "assumptions.csv", KeyValue: true, Required: true,
 		Help: "Company-wide valuation assumptions: key, value and an optional source that the memo quotes. A grant row may override some of them.",

@@ -241,13 +241,14 @@ func (s *Schedule) NeedsPeriodEndPrice() bool {
 
 // Period is the reporting period of the schedule: its period start to its
 // valuation date, as calendar days. A period start the schedule does not
-// give is the reader's default, QuarterStart of the valuation date.
+// give is the reader's default, Company.DefaultPeriodStart of the
+// valuation date.
 func (s *Schedule) Period() (start, end time.Time) {
 	day := func(t time.Time) time.Time { return time.Date(t.Year(), t.Month(), t.Day(), 0, 0, 0, 0, time.UTC) }
 	end = day(s.Company.ValuationDate)
 	start = day(s.Company.PeriodStart)
 	if s.Company.PeriodStart.IsZero() {
-		start = QuarterStart(end)
+		start = s.Company.DefaultPeriodStart(end)
 	}
 	return start, end
 }

@@ -71,10 +71,29 @@ type Schedule struct {
 type Company struct {
 	Name              string
 	ValuationDate     time.Time // the period end
-	PeriodStart       time.Time // default: first day of the quarter ending on ValuationDate
+	PeriodStart       time.Time // default: DefaultPeriodStart(ValuationDate)
 	Currency          string    // ISO 4217, default USD
 	SharesOutstanding float64
+	Fiscal            FiscalCalendar // fiscal_year_end and the 52/53-week keys
 	Refs              map[string]Ref // by key, e.g. "valuation_date"
+}
+
+// DefaultPeriodStart is the period start a schedule that gives none has
+// for a period ending on end: the first day of the quarter that ends on
+// end (DESIGN §4.2). When end is the last day of a fiscal quarter that is
+// the fiscal quarter; otherwise it is a quarter's length back: three
+// months (2026-11-20 gives 2026-08-21) or, in a 52/53-week calendar,
+// 13 weeks.
+func (c *Company) DefaultPeriodStart(end time.Time) time.Time {
+	end = time.Date(end.Year(), end.Month(), end.Day(), 0, 0, 0, 0, time.UTC)
+	q := c.Fiscal.Quarter(end)
+	switch {
+	case q.End.Equal(end):
+		return q.Start
+	case c.Fiscal.WeekBased:
+		return end.AddDate(0, 0, 1-weekDays)
+	}
+	return AddMonths(end.AddDate(0, 0, 1), -3)
 }
 
 // Attribution is how a graded award's cost is spread over service.

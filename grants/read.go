@@ -774,6 +774,26 @@ func (t *tableReader) companyValue(c *rowCtx, col *Column) {
 		if n, ok := c.integer(col.Key, false); ok {
 			co.SharesOutstanding = float64(n)
 		}
+	case "fiscal_year_end":
+		if v, ok := c.text(col.Key); ok {
+			if m, ok := parseMonth(v); ok {
+				co.Fiscal.YearEnd = m
+			} else {
+				c.failf(col.Key, v, ErrNotChoice, "is not a month: give its name (January), its first three letters (Jan) or its number 1 to 12")
+			}
+		}
+	case "fiscal_year_end_weekday":
+		if v, ok := c.text(col.Key); ok {
+			if w, ok := parseWeekday(v); ok {
+				co.Fiscal.WeekBased, co.Fiscal.Weekday = true, w
+			} else {
+				c.failf(col.Key, v, ErrNotChoice, "is not a weekday: give its name (Saturday) or its first three letters (Sat)")
+			}
+		}
+	case "fiscal_year_end_rule":
+		if v, ok := c.choice(col.Key, false); ok {
+			co.Fiscal.Nearest = v == "nearest"
+		}
 	}
 }
 
@@ -829,12 +849,6 @@ func finishCompany(s *Schedule, rep *Report) {
 		co.Currency = "USD"
 	}
 	if co.PeriodStart.IsZero() && !co.ValuationDate.IsZero() {
-		co.PeriodStart = QuarterStart(co.ValuationDate)
+		co.PeriodStart = co.DefaultPeriodStart(co.ValuationDate)
 	}
-}
-
-// QuarterStart is the first day of the three-month period that ends on
-// end: the day after end, three months back (2026-09-30 gives 2026-07-01).
-func QuarterStart(end time.Time) time.Time {
-	return AddMonths(end.AddDate(0, 0, 1), -3)
 }

@@ -101,6 +101,10 @@ func (v *validator) company() {
 			v.rep.addErr(err)
 		}
 	}
+	if _, rule := co.Refs["fiscal_year_end_rule"]; rule && !co.Fiscal.WeekBased {
+		v.rep.warnf(v.s.cell(SheetCompany, "fiscal_year_end_rule", 0, co.Refs), "fiscal_year_end_rule", "", ErrInconsistent,
+			"applies only to a 52/53-week year, with fiscal_year_end_weekday; it is ignored and the year ends on the month's last day")
+	}
 	if co.SharesOutstanding < 0 {
 		v.rep.errf(v.s.cell(SheetCompany, "shares_outstanding", 0, co.Refs), "shares_outstanding", num(co.SharesOutstanding), ErrRange, "must be more than zero")
 	}

@@ -329,6 +329,9 @@ func companyRows(s *Schedule) [][]any {
 		{"period_start", val(!co.PeriodStart.IsZero(), co.PeriodStart)},
 		{"currency", val(!blank && co.Currency != "", co.Currency)},
 		{"shares_outstanding", val(co.SharesOutstanding > 0, int64(co.SharesOutstanding))},
+		{"fiscal_year_end", val(co.Fiscal.YearEnd != 0, co.Fiscal.YearEnd.String())},
+		{"fiscal_year_end_weekday", val(co.Fiscal.WeekBased, weekdays[co.Fiscal.Weekday])},
+		{"fiscal_year_end_rule", val(co.Fiscal.WeekBased, map[bool]string{true: "nearest", false: "last"}[co.Fiscal.Nearest])},
 	}
 }
 

@@ -22,9 +22,17 @@ type ExpenseDetail struct {
 	FairValueChange float64 `json:"fair_value_change"` // liability warrants, apart from compensation
 	Cumulative      float64 `json:"cumulative"`        // through the period end
 
+	// FiscalCalendar says in words how the company's fiscal years and
+	// quarters run; Periods, Forecast and ByFiscalYear follow it.
+	FiscalCalendar string `json:"fiscal_calendar"`
+
 	ByGrant      []ExpenseGrant  `json:"by_grant"`
 	ByGrantMonth []ExpenseGroup  `json:"by_grant_month"`
-	Forecast     []ExpensePeriod `json:"forecast"` // the next 16 calendar quarters
+	Forecast     []ExpensePeriod `json:"forecast"` // the next 16 fiscal quarters
+	// ByFiscalYear is the expense of each fiscal year from the earliest
+	// grant's to the last service: recognised through the period end and
+	// expected after it.
+	ByFiscalYear []ExpenseYear `json:"by_fiscal_year"`
 	// AfterForecast is the unrecognised cost expected after the forecast.
 	AfterForecast float64        `json:"after_forecast"`
 	Journal       []JournalEntry `json:"journal"`
@@ -83,6 +91,16 @@ type ExpenseGroup struct {
 	Cumulative      float64 `json:"cumulative"`
 	Unrecognized    float64 `json:"unrecognized_cost"`
 	FairValueChange float64 `json:"fair_value_change"`
+}
+
+// ExpenseYear is the compensation expense of one fiscal year.
+type ExpenseYear struct {
+	Year       string  `json:"fiscal_year"` // "2026" in calendar years, else "FY2027"
+	Start      Date    `json:"start"`
+	End        Date    `json:"end"`
+	Recognized float64 `json:"recognized"` // through the period end
+	Expected   float64 `json:"expected"`   // after the period end
+	Total      float64 `json:"total"`
 }
 
 // JournalEntry is one summary entry for the period.
@@ -167,7 +185,7 @@ type WarrantRow struct {
 func periodsOf(ps []accounting.PeriodAmount) []ExpensePeriod {
 	out := make([]ExpensePeriod, 0, len(ps))
 	for _, p := range ps {
-		out = append(out, ExpensePeriod{Start: DateOf(p.Start), End: DateOf(p.End), Amount: p.Amount, FairValueChange: p.FairValueChange, Current: p.Current})
+		out = append(out, ExpensePeriod{Start: DateOf(p.Start), End: DateOf(p.End), Amount: p.Amount, FairValueChange: p.FairValueChange, Current: p.Current, Label: p.Label})
 	}
 	return out
 }
@@ -184,6 +202,12 @@ func expenseModel(b *accounting.Books) *Expense {
 		Forecast: periodsOf(r.Forecast), AfterForecast: r.AfterForecast,
 		PolicyNotes: append([]string{}, r.PolicyNotes...),
 		ByGrant:     []ExpenseGrant{}, Journal: []JournalEntry{},
+		FiscalCalendar: r.Policy.Calendar.String(),
+		ByFiscalYear:   make([]ExpenseYear, 0, len(r.ByFiscalYear)),
+	}
+	for _, y := range r.ByFiscalYear {
+		det.ByFiscalYear = append(det.ByFiscalYear, ExpenseYear{Year: y.Year.Name, Start: DateOf(y.Year.Start), End: DateOf(y.Year.End),
+			Recognized: y.Recognized, Expected: y.Expected, Total: y.Recognized + y.Expected})
 	}
 	months := map[string]*ExpenseGroup{}
 	for _, g := range r.Grants {

@@ -27,11 +27,6 @@ type expenseData struct {
 // the expense chart shows before the forecast.
 const chartQuarters = 8
 
-func quarterLabel(p ExpensePeriod) string {
-	t := p.End.Time()
-	return fmt.Sprintf("%d Q%d", t.Year(), (int(t.Month())+2)/3)
-}
-
 func (d *Memo) expense(m *Model) error {
 	e := detail(m)
 	if e == nil {
@@ -102,7 +97,7 @@ func (d *Memo) expense(m *Model) error {
 	var labels []string
 	var values []float64
 	for _, p := range periods {
-		label := quarterLabel(p)
+		label := p.Label
 		if p.Current {
 			label += " (this period)"
 		}
@@ -110,7 +105,7 @@ func (d *Memo) expense(m *Model) error {
 		values = append(values, p.Amount)
 	}
 	for _, p := range e.Forecast {
-		labels = append(labels, quarterLabel(p)+" e")
+		labels = append(labels, p.Label+" e")
 		values = append(values, p.Amount)
 	}
 	if err := d.Chart(func(w, h vg.Length) ([]byte, error) {
@@ -123,12 +118,25 @@ func (d *Memo) expense(m *Model) error {
 	rows := make([][]string, 0, len(e.Forecast)+1)
 	var sum float64
 	for _, p := range e.Forecast {
-		rows = append(rows, []string{quarterLabel(p), p.Start.String() + " to " + p.End.String(), groupDigits(p.Amount, 2)})
+		rows = append(rows, []string{p.Label, p.Start.String() + " to " + p.End.String(), groupDigits(p.Amount, 2)})
 		sum += p.Amount
 	}
 	rows = append(rows, []string{"Later", "", groupDigits(e.AfterForecast, 2)})
 	rows = append(rows, []string{"\x00Total", "", groupDigits(sum+e.AfterForecast, 2)})
 	d.Table([]Col{{"Quarter", 40, false}, {"Days", 70, false}, {"Expected expense (" + cur + ")", 60, true}}, rows)
+
+	if len(e.ByFiscalYear) > 0 {
+		d.Sub("Expense by fiscal year")
+		d.Para("Fiscal years are " + e.FiscalCalendar + ". Recognised is what the periods to " + e.PeriodEnd.String() +
+			" booked; expected is what the awards outstanding at that date will add, on the same assumptions as the forecast.")
+		rows = rows[:0]
+		for _, y := range e.ByFiscalYear {
+			rows = append(rows, []string{y.Year, y.Start.String() + " to " + y.End.String(), groupDigits(y.Recognized, 2), groupDigits(y.Expected, 2), groupDigits(y.Total, 2)})
+		}
+		// The years add up to the cumulative expense and the unrecognised cost.
+		rows = append(rows, []string{"\x00Total", "", groupDigits(e.Cumulative, 2), groupDigits(m.Expense.UnrecognizedCost, 2), groupDigits(e.Cumulative+m.Expense.UnrecognizedCost, 2)})
+		d.Table([]Col{{"Fiscal year", 22, false}, {"Days", 46, false}, {"Recognized (" + cur + ")", 34, true}, {"Expected (" + cur + ")", 34, true}, {"Total (" + cur + ")", 34, true}}, rows)
+	}
 	return nil
 }
 

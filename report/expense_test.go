@@ -66,7 +66,7 @@ func valuationFor(s *grants.Schedule, revalue func(g grants.Grant, at time.Time)
 		v.Grants = append(v.Grants, gv)
 		if g.Classification == grants.Liability && revalue != nil {
 			var rs []pricing.Revaluation
-			for _, at := range append([]time.Time{g.GrantDate}, pricing.RemeasurementDates(g.GrantDate, end)...) {
+			for _, at := range append([]time.Time{g.GrantDate}, pricing.RemeasurementDates(grants.FiscalCalendar{}, g.GrantDate, end)...) {
 				vals, err := revalue(g, at)
 				rs = append(rs, pricing.Revaluation{Date: at, Values: vals, Err: err})
 				if err != nil {

@@ -6,6 +6,7 @@ package report
 const (
 	SheetExpense     = "Expense"
 	SheetForecast    = "Expense forecast"
+	SheetByYear      = "Expense by fiscal year"
 	SheetDisclosures = "Disclosures"
 )
 
@@ -13,6 +14,7 @@ func init() {
 	sheetHooks = append(sheetHooks,
 		SheetHook{SheetExpense, writeExpense},
 		SheetHook{SheetForecast, writeForecast},
+		SheetHook{SheetByYear, writeByYear},
 		SheetHook{SheetDisclosures, writeDisclosures})
 }
 
@@ -106,7 +108,7 @@ func writeForecast(b *Book, m *Model) error {
 	if e == nil {
 		return notRun(b, SheetForecast)
 	}
-	cols := []Column{{"Kind", 12}, {"Start", 12}, {"End", 12}, {"Compensation expense", 20}, {"Fair value change (liability)", 20}}
+	cols := []Column{{"Kind", 12}, {"Quarter", 12}, {"Start", 12}, {"End", 12}, {"Compensation expense", 20}, {"Fair value change (liability)", 20}}
 	t, err := b.NewTable(SheetForecast, cols, len(m.Expense.Periods)+len(e.Forecast)+1)
 	if err != nil {
 		return err
@@ -116,17 +118,41 @@ func writeForecast(b *Book, m *Model) error {
 		if p.Current {
 			kind = "this period"
 		}
-		if err := t.Row(kind, b.DateCell(p.Start), b.DateCell(p.End), b.Cell(b.Style.Money, p.Amount), b.Cell(b.Style.Money, p.FairValueChange)); err != nil {
+		if err := t.Row(kind, p.Label, b.DateCell(p.Start), b.DateCell(p.End), b.Cell(b.Style.Money, p.Amount), b.Cell(b.Style.Money, p.FairValueChange)); err != nil {
 			return err
 		}
 	}
 	for _, p := range e.Forecast {
-		if err := t.Row("expected", b.DateCell(p.Start), b.DateCell(p.End), b.Cell(b.Style.Money, p.Amount), nil); err != nil {
+		if err := t.Row("expected", p.Label, b.DateCell(p.Start), b.DateCell(p.End), b.Cell(b.Style.Money, p.Amount), nil); err != nil {
 			return err
 		}
 	}
-	if err := t.Row("after", nil, nil, b.Cell(b.Style.Money, e.AfterForecast), nil); err != nil {
+	if err := t.Row("after", nil, nil, nil, b.Cell(b.Style.Money, e.AfterForecast), nil); err != nil {
 		return err
+	}
+	return t.Close()
+}
+
+// writeByYear is the expense of each fiscal year, recognised and expected.
+func writeByYear(b *Book, m *Model) error {
+	e := detail(m)
+	if e == nil {
+		return notRun(b, SheetByYear)
+	}
+	cols := []Column{{"Fiscal year", 12}, {"Start", 12}, {"End", 12}, {"Recognized", 18}, {"Expected", 18}, {"Total", 18}, {"Calendar", 60}}
+	t, err := b.NewTable(SheetByYear, cols, len(e.ByFiscalYear))
+	if err != nil {
+		return err
+	}
+	money := func(v float64) any { return b.Cell(b.Style.Money, v) }
+	for i, y := range e.ByFiscalYear {
+		var cal any
+		if i == 0 {
+			cal = e.FiscalCalendar
+		}
+		if err := t.Row(y.Year, b.DateCell(y.Start), b.DateCell(y.End), money(y.Recognized), money(y.Expected), money(y.Total), cal); err != nil {
+			return err
+		}
 	}
 	return t.Close()
 }

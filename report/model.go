@@ -292,9 +292,11 @@ type ExpensePeriod struct {
 	End    Date    `json:"end"`
 	Amount float64 `json:"amount"`
 	// Added by expense.go: the change in fair value of liability warrants,
-	// apart from Amount, and whether this is the reporting period.
+	// apart from Amount, whether this is the reporting period, and the
+	// fiscal quarter holding End ("2026 Q3", "FY2027 Q1").
 	FairValueChange float64 `json:"fair_value_change"`
 	Current         bool    `json:"current"`
+	Label           string  `json:"label"`
 }
 
 // Caution is the notice every output carries (DESIGN §5).

@@ -215,11 +215,11 @@ func runValue(o *valueOptions) error {
 }
 
 // applyValuationDate moves the period end to d; a period start the schedule
-// defaulted (or one after d) becomes the first day of d's quarter.
+// defaulted (or one after d) becomes the first day of d's fiscal quarter.
 func applyValuationDate(s *grants.Schedule, d time.Time) {
 	s.Company.ValuationDate = d
 	if _, given := s.Company.Refs["period_start"]; !given || s.Company.PeriodStart.After(d) {
-		s.Company.PeriodStart = grants.QuarterStart(d)
+		s.Company.PeriodStart = s.Company.DefaultPeriodStart(d)
 	}
 }
 

@@ -44,22 +44,36 @@ type Award struct {
 	Measured       *MeasuredAssumptions // optional; used by Disclose
 }
 
-// Policy is the company's attribution and forfeiture policy. The zero
-// Attribution is Graded and the zero Forfeitures is Estimate (both allowed
-// under ASC 718 and IFRS 2).
+// Policy is the company's attribution and forfeiture policy, and the
+// fiscal calendar its periods are reported in. The zero Attribution is
+// Graded and the zero Forfeitures is Estimate (both allowed under ASC 718
+// and IFRS 2); the zero Calendar is calendar years.
 type Policy struct {
 	Attribution              grants.Attribution
 	Forfeitures              grants.ForfeiturePolicy
 	PreVestingForfeitureRate float64 // annual share of unvested holders who leave, in [0, 1)
+	Calendar                 grants.FiscalCalendar
 }
 
 // PeriodAmount is the expense of one period.
 type PeriodAmount struct {
 	Start           time.Time
 	End             time.Time
+	Label           string  // the fiscal quarter holding End, e.g. "2026 Q3" or "FY2027 Q1"
 	Amount          float64 // compensation expense
 	FairValueChange float64 // liability-classified warrants, apart from compensation
 	Current         bool    // the reporting period [period start, valuation date]
+}
+
+// YearAmount is the compensation expense of one fiscal year: what was
+// recognised in it through the period end (each period as booked at its
+// end, like Periods) and what is expected in it after the period end (as
+// expected at the period end, like Forecast). The years of a report add up
+// to its cumulative expense and its unrecognised cost.
+type YearAmount struct {
+	Year       grants.FiscalPeriod
+	Recognized float64
+	Expected   float64
 }
 
 // TrancheExpense is one tranche's attribution.
@@ -123,15 +137,19 @@ type ExpenseReport struct {
 	// (common practice).
 	RemainingYears float64
 
-	// Periods are the calendar quarters from the one holding the earliest
+	// Periods are the fiscal quarters from the one holding the earliest
 	// grant date up to the period start (context), then the current period.
 	Periods []PeriodAmount
 	// Forecast is the expected compensation expense in each of the next 16
-	// calendar quarters after PeriodEnd (the first may be partial), assuming
+	// fiscal quarters after PeriodEnd (the first may be partial), assuming
 	// no further events and, under Estimate, forfeitures at the estimated
 	// rate. AfterForecast is what remains after them.
 	Forecast      []PeriodAmount
 	AfterForecast float64
+	// ByFiscalYear covers the fiscal years from the one holding the
+	// earliest grant date to the one in which the last service is rendered
+	// (at least the one holding PeriodEnd), from Policy.Calendar.Years.
+	ByFiscalYear []YearAmount
 
 	Warnings []string
 	// PolicyNotes say where the chosen policy differs between ASC 718 and
@@ -139,7 +157,7 @@ type ExpenseReport struct {
 	PolicyNotes []string
 }
 
-// ForecastQuarters is how many calendar quarters the forecast covers.
+// ForecastQuarters is how many fiscal quarters the forecast covers.
 const ForecastQuarters = 16
 
 // ServiceRule says in words which service-start rule attribution applies.
@@ -224,30 +242,59 @@ func (p *period) expense() *ExpenseReport {
 	rep := &ExpenseReport{PeriodStart: periodStart, PeriodEnd: periodEnd, Policy: pol, ServiceRule: ServiceRule}
 	open := shiftDays(periodStart, -1)
 
+	cal := pol.Calendar
 	// Period boundaries: context quarters, then the current period.
 	var bounds []PeriodAmount
-	if len(ledgers) > 0 {
-		first := ledgers[0].in.Grant.GrantDate
-		for _, l := range ledgers {
-			if l.in.Grant.GrantDate.Before(first) {
-				first = l.in.Grant.GrantDate
-			}
+	first, lastDay := periodEnd, periodEnd
+	for _, l := range ledgers {
+		if g := l.in.Grant.GrantDate; g.Before(first) {
+			first = g
 		}
-		for q := quarterStart(first); q.Before(periodStart); q = q.AddDate(0, 3, 0) {
-			end := quarterEnd(q)
+		if d := shiftDays(l.last, -1); d.After(lastDay) {
+			lastDay = d
+		}
+	}
+	if len(ledgers) > 0 {
+		for _, q := range cal.Quarters(first, open) {
+			end := q.End
 			if !end.Before(periodStart) {
 				end = open
 			}
-			bounds = append(bounds, PeriodAmount{Start: q, End: end})
+			bounds = append(bounds, PeriodAmount{Start: q.Start, End: end, Label: q.Name})
 		}
 	}
-	bounds = append(bounds, PeriodAmount{Start: periodStart, End: periodEnd, Current: true})
+	bounds = append(bounds, PeriodAmount{Start: periodStart, End: periodEnd, Current: true, Label: cal.Quarter(periodEnd).Name})
 	fstart := shiftDays(periodEnd, 1)
 	for k := 0; k < ForecastQuarters; k++ {
-		end := quarterEnd(fstart)
-		rep.Forecast = append(rep.Forecast, PeriodAmount{Start: fstart, End: end})
-		fstart = shiftDays(end, 1)
+		q := cal.Quarter(fstart)
+		rep.Forecast = append(rep.Forecast, PeriodAmount{Start: fstart, End: q.End, Label: q.Name})
+		fstart = shiftDays(q.End, 1)
 	}
+	for _, y := range cal.Years(first, lastDay) {
+		rep.ByFiscalYear = append(rep.ByFiscalYear, YearAmount{Year: y})
+	}
+	// The days each ledger is evaluated on: as booked on the day (past)
+	// and as expected at the period end (future).
+	past, future := newDaySet(), newDaySet()
+	for _, b := range bounds {
+		past.add(b.End)
+	}
+	for _, f := range rep.Forecast {
+		future.add(f.End)
+	}
+	for _, y := range rep.ByFiscalYear {
+		if !y.Year.Start.After(periodEnd) {
+			past.add(shiftDays(y.Year.Start, -1))
+			past.add(minDay(y.Year.End, periodEnd))
+		}
+		if y.Year.End.After(periodEnd) {
+			future.add(y.Year.End)
+			if d := shiftDays(y.Year.Start, -1); d.After(periodEnd) {
+				future.add(d)
+			}
+		}
+	}
+	pastVals, pastFV, futureVals := make([]float64, len(past.days)), make([]float64, len(past.days)), make([]float64, len(future.days))
 
 	var wYears float64
 	for _, l := range ledgers {
@@ -324,25 +371,43 @@ func (p *period) expense() *ExpenseReport {
 		rep.Unrecognized += ge.Unrecognized
 
 		l.bufComp = make([]float64, len(l.tr))
-		var prevComp, prevFV float64
-		for k := range bounds {
-			cur := l.atInto(pol, bounds[k].End, bounds[k].End, l.bufComp)
-			c := cur.compTotal()
-			bounds[k].Amount += c - prevComp
+		for k, d := range past.days {
+			cur := l.atInto(pol, d, d, l.bufComp)
+			pastVals[k], pastFV[k] = cur.compTotal(), 0
 			if l.liability {
-				fv := cur.fvChange()
-				bounds[k].FairValueChange += fv - prevFV
-				prevFV = fv
+				pastFV[k] = cur.fvChange()
 			}
-			prevComp = c
+		}
+		for k, d := range future.days {
+			futureVals[k] = l.atInto(pol, d, periodEnd, l.bufComp).compTotal()
+		}
+		var prev, prevFV float64
+		for k := range bounds {
+			i := past.index(bounds[k].End)
+			bounds[k].Amount += pastVals[i] - prev
+			bounds[k].FairValueChange += pastFV[i] - prevFV
+			prev, prevFV = pastVals[i], pastFV[i]
 		}
 		prevTotal := s1.compTotal()
 		for k := range rep.Forecast {
-			cur := l.atInto(pol, rep.Forecast[k].End, periodEnd, l.bufComp).compTotal()
+			cur := futureVals[future.index(rep.Forecast[k].End)]
 			rep.Forecast[k].Amount += cur - prevTotal
 			prevTotal = cur
 		}
 		rep.AfterForecast += sInf.compTotal() - prevTotal
+		for k := range rep.ByFiscalYear {
+			y := &rep.ByFiscalYear[k]
+			if !y.Year.Start.After(periodEnd) {
+				y.Recognized += pastVals[past.index(minDay(y.Year.End, periodEnd))] - pastVals[past.index(shiftDays(y.Year.Start, -1))]
+			}
+			if y.Year.End.After(periodEnd) {
+				from := s1.compTotal()
+				if d := shiftDays(y.Year.Start, -1); d.After(periodEnd) {
+					from = futureVals[future.index(d)]
+				}
+				y.Expected += futureVals[future.index(y.Year.End)] - from
+			}
+		}
 	}
 	if rep.Unrecognized > 0 {
 		rep.RemainingYears = wYears / rep.Unrecognized
@@ -425,4 +490,42 @@ func Spread(a Award, pol Policy, ends []time.Time) (amounts []float64, cost floa
 		far = asOf
 	}
 	return amounts, l.at(pol, far, known).compTotal(), nil
+}
+
+// daySet is a set of calendar days in the order added, each with its index.
+type daySet struct {
+	days []time.Time
+	idx  map[int]int // by dayNum
+}
+
+func newDaySet() *daySet { return &daySet{idx: map[int]int{}} }
+
+func (s *daySet) add(d time.Time) {
+	if _, ok := s.idx[dayNum(d)]; !ok {
+		s.idx[dayNum(d)] = len(s.days)
+		s.days = append(s.days, civilDay(d))
+	}
+}
+
+// index is the index of day d, which must have been added.
+func (s *daySet) index(d time.Time) int {
+	i, ok := s.idx[dayNum(d)]
+	if !ok {
+		panic("accounting: day " + d.Format(time.DateOnly) + " not in the set")
+	}
+	return i
+}
+
+func minDay(a, b time.Time) time.Time {
+	if b.Before(a) {
+		return b
+	}
+	return a
+}
+
+func maxDay(a, b time.Time) time.Time {
+	if b.After(a) {
+		return b
+	}
+	return a
 }

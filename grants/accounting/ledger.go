@@ -402,17 +402,6 @@ func (l *awardLedger) atInto(pol Policy, dt, knownt time.Time, comp []float64) s
 	return s
 }
 
-// quarterStart is the first day of the calendar quarter holding d.
-func quarterStart(d time.Time) time.Time {
-	m := (int(d.Month())-1)/3*3 + 1
-	return time.Date(d.Year(), time.Month(m), 1, 0, 0, 0, 0, time.UTC)
-}
-
-// quarterEnd is the last day of the calendar quarter holding d.
-func quarterEnd(d time.Time) time.Time {
-	return shiftDays(quarterStart(d).AddDate(0, 3, 0), -1)
-}
-
 func civilDay(t time.Time) time.Time {
 	return time.Date(t.Year(), t.Month(), t.Day(), 0, 0, 0, 0, time.UTC)
 }

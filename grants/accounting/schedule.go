@@ -23,11 +23,12 @@ func AwardOf(s *grants.Schedule, g grants.Grant, fairValue []float64) (Award, er
 }
 
 // PolicyOf is the schedule's attribution and forfeiture policy from its
-// Assumptions sheet.
+// Assumptions sheet, with the fiscal calendar of its Company sheet.
 func PolicyOf(s *grants.Schedule) Policy {
 	return Policy{
 		Attribution:              s.Assumptions.Attribution,
 		Forfeitures:              s.Assumptions.Forfeitures,
 		PreVestingForfeitureRate: s.Assumptions.PreVestingForfeitureRate,
+		Calendar:                 s.Company.Fiscal,
 	}
 }

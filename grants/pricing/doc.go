@@ -33,7 +33,7 @@
 //     over instruments and grant months, each with its own seed, z against
 //     the lattice and a warning past MonteCarloZLimit.
 //   - Revaluations of each liability-classified warrant at its grant date
-//     and at the past quarter ends (RemeasurementDates), which the
+//     and at the past fiscal quarter ends (RemeasurementDates), which the
 //     accounting needs to show the change in fair value apart from
 //     compensation.
 //

@@ -155,22 +155,20 @@ type Valuation struct {
 	Warnings     []string
 }
 
-// RemeasurementDates are the quarter ends from the one containing
-// grantDate up to before end, the most recent MaxRemeasurements of them.
-func RemeasurementDates(grantDate, end time.Time) []time.Time {
+// RemeasurementDates are the fiscal quarter ends of calendar cal from the
+// one of the quarter containing grantDate up to before end, the most recent
+// MaxRemeasurements of them.
+func RemeasurementDates(cal grants.FiscalCalendar, grantDate, end time.Time) []time.Time {
 	var ends []time.Time
-	for q := quarterEndOf(grantDate); q.Before(end); q = quarterEndOf(q.AddDate(0, 0, 1)) {
-		ends = append(ends, q)
+	for _, q := range cal.Quarters(grantDate, end) {
+		if q.End.Before(end) {
+			ends = append(ends, q.End)
+		}
 	}
 	if len(ends) > MaxRemeasurements {
 		ends = ends[len(ends)-MaxRemeasurements:]
 	}
 	return ends
-}
-
-func quarterEndOf(d time.Time) time.Time {
-	m := (int(d.Month())-1)/3*3 + 1
-	return time.Date(d.Year(), time.Month(m), 1, 0, 0, 0, 0, time.UTC).AddDate(0, 3, -1)
 }
 
 // Value values the grants ins (from ValueInputs): options as lattice jobs
@@ -223,7 +221,7 @@ func Value(s *grants.Schedule, ins []grants.Inputs, opts Options) (*Valuation, e
 			continue
 		}
 		var rs []Revaluation
-		for _, at := range append([]time.Time{g.GrantDate}, RemeasurementDates(g.GrantDate, end)...) {
+		for _, at := range append([]time.Time{g.GrantDate}, RemeasurementDates(s.Company.Fiscal, g.GrantDate, end)...) {
 			vals, err := p.revalue(g, at)
 			rs = append(rs, Revaluation{Date: at, Values: vals, Err: err})
 			if err != nil {

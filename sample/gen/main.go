@@ -52,7 +52,7 @@ func Schedule() *grants.Schedule {
 	rng := rand.New(rand.NewPCG(seed, 1))
 	s := &grants.Schedule{
 		Company: grants.Company{Name: "Tarnwick Labs, Inc.", ValuationDate: day("2026-09-30"), PeriodStart: day("2026-07-01"),
-			Currency: "USD", SharesOutstanding: 24_500_000},
+			Currency: "USD", SharesOutstanding: 24_500_000, Fiscal: grants.FiscalCalendar{YearEnd: time.December}},
 		Assumptions: grants.Assumptions{
 			Volatility: 0.52, DividendYield: 0, ExerciseMultiple: 2.2, PostVestingExitRate: 0.12, PreVestingForfeitureRate: 0.10,
 			Attribution: grants.Graded, Forfeitures: grants.Estimate,
