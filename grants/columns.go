@@ -78,6 +78,7 @@ const (
 	SheetAssumptions = "Assumptions"
 	SheetGrants      = "Grants"
 	SheetVesting     = "Vesting"
+	SheetTransfers   = "Transfers"
 	SheetSharePrices = "Share Prices"
 	SheetRates       = "Rates"
 	SheetEvents      = "Events"
@@ -140,6 +141,7 @@ var Sheets = []Sheet{
 			{Key: "post_vesting_exit_rate", Kind: KindPercent, Unit: "annual", Need: "optional", Default: "Assumptions", Help: "Overrides the post-vesting exit rate."},
 			{Key: "classification", Kind: KindChoice, Choices: classifications, Need: "warrants, optional", Default: "equity", Help: "Equity warrants are measured at grant; liability warrants are remeasured at every valuation date."},
 			{Key: "exercise_style", Kind: KindChoice, Choices: exerciseStyles, Need: "warrants, optional", Default: "american", Help: "American warrants may be exercised at any time once vested; european only at expiry."},
+			{Key: "cost_center", Kind: KindText, Need: "optional", Default: "unassigned", Help: "The cost centre (function or department) whose expense the grant is, e.g. R&D or 4100; a move to another is a Transfers row. Expense is split by cost centre in the memo, the workbook, valuation.json and journal.csv; a grant with none is in the unassigned line, with a warning."},
 		}},
 	{Name: SheetVesting, File: "vesting.csv",
 		Help: "Optional custom vesting: for each grant named here these rows replace the schedule of the Grants columns. The shares of a grant must add up to its grant.",
@@ -169,6 +171,13 @@ var Sheets = []Sheet{
 			{Key: "date", Kind: KindDate, Required: true, Need: "required", Help: "The date of the event."},
 			{Key: "event", Kind: KindChoice, Choices: eventKinds, Required: true, Need: "required", Help: "exercised, forfeited (unvested shares lost on leaving), expired (vested shares lapsed) or cancelled."},
 			{Key: "shares", Kind: KindInt, Unit: "shares", Required: true, Need: "required", Help: "Shares affected."},
+		}},
+	{Name: SheetTransfers, File: "transfers.csv",
+		Help: "Optional: the cost centre history of holders who move. From its date on (that day included) a grant's service is rendered in the row's cost centre; before its first row, in the Grants cost_center. The expense of each day of service lands in the cost centre it was rendered in.",
+		Columns: []Column{
+			{Key: "grant_id", Kind: KindText, Required: true, Need: "required", Help: "A grant_id of the Grants sheet."},
+			{Key: "date", Kind: KindDate, Required: true, Need: "required", Help: "The first day of service in the new cost centre."},
+			{Key: "cost_center", Kind: KindText, Required: true, Need: "required", Help: "The cost centre from that date on."},
 		}},
 }
 

@@ -58,6 +58,7 @@ type Schedule struct {
 	Assumptions Assumptions
 	Grants      []Grant
 	Vesting     []VestRow // custom vesting rows; they replace the column schedule of the grants they name
+	Transfers   []Transfer
 	SharePrices []PricePoint
 	Rates       []RatePoint
 	Events      []Event
@@ -152,6 +153,8 @@ type Grant struct {
 	Classification Classification // warrants; default equity
 	ExerciseStyle  ExerciseStyle  // warrants; default american
 
+	CostCenter string // "" when none is given: the expense is Unassigned
+
 	Row  int            // 1-based row on the Grants sheet
 	Refs map[string]Ref // by column key, e.g. "strike"
 }
@@ -162,6 +165,19 @@ type VestRow struct {
 	VestDate time.Time
 	Shares   int64
 	Row      int
+}
+
+// Unassigned is the cost centre of expense whose grant names none. The
+// name is reserved: a schedule may not use it for a cost centre.
+const Unassigned = "unassigned"
+
+// Transfer is one row of Transfers: grant GrantID's service is rendered in
+// CostCenter from Date on.
+type Transfer struct {
+	GrantID    string
+	Date       time.Time
+	CostCenter string
+	Row        int
 }
 
 // PricePoint is one row of Share Prices: the share's fair value from Date on.

@@ -346,6 +346,8 @@ func (t *tableReader) readTable() {
 			t.grantRow(c)
 		case SheetVesting:
 			t.vestRow(c)
+		case SheetTransfers:
+			t.transferRow(c)
 		case SheetSharePrices:
 			t.priceRow(c)
 		case SheetRates:
@@ -584,6 +586,7 @@ func (t *tableReader) grantRow(c *rowCtx) {
 			}
 		}
 	}
+	g.CostCenter, _ = c.text("cost_center")
 	g.Refs = c.refs
 	if c.failed || !idOK {
 		if idOK {
@@ -626,6 +629,20 @@ func (t *tableReader) vestRow(c *rowCtx) {
 		return
 	}
 	t.s.Vesting = append(t.s.Vesting, v)
+}
+
+func (t *tableReader) transferRow(c *rowCtx) {
+	tr := Transfer{Row: c.row}
+	tr.GrantID, _ = c.required("grant_id")
+	tr.Date, _ = c.date("date", true)
+	tr.CostCenter, _ = c.required("cost_center")
+	if c.failed {
+		if tr.GrantID != "" {
+			t.rep.skip[tr.GrantID] = true
+		}
+		return
+	}
+	t.s.Transfers = append(t.s.Transfers, tr)
 }
 
 func (t *tableReader) priceRow(c *rowCtx) {

@@ -182,7 +182,7 @@ func TestTemplate(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	want := []string{"Company", "Assumptions", "Grants", "Vesting", "Share Prices", "Rates", "Events", "About"}
+	want := []string{"Company", "Assumptions", "Grants", "Vesting", "Share Prices", "Rates", "Events", "Transfers", "About"}
 	if got := f.GetSheetList(); strings.Join(got, "|") != strings.Join(want, "|") {
 		t.Errorf("sheets %v, want %v", got, want)
 	}

@@ -43,6 +43,7 @@ func validate(s *Schedule, skip map[string]bool) Report {
 	v.rates()
 	v.grants()
 	v.vesting()
+	v.transfers()
 	v.events()
 	return v.rep
 }
@@ -273,6 +274,7 @@ func (v *validator) grants() {
 		if g.SharePrice != nil && *g.SharePrice <= 0 {
 			v.rep.errf(ref("share_price"), "share_price", num(*g.SharePrice), ErrRange, "must be more than zero")
 		}
+		v.costCenter(ref("cost_center"), g.CostCenter)
 		if g.Instrument == Warrant && s.Company.SharesOutstanding <= 0 {
 			v.rep.errf(s.cell(SheetCompany, "shares_outstanding", 0, s.Company.Refs), "shares_outstanding", "", ErrRequired,
 				"is needed for the dilution of warrant %s (%s)", g.ID, ref("grant_id").Cell)
@@ -391,6 +393,42 @@ func (v *validator) vesting() {
 			v.rep.errf(s.cell(SheetVesting, "shares", first, nil), "shares", "", ErrInconsistent,
 				"the Vesting rows %d–%d of grant %s add up to %d shares, but the grant has %d (%s)",
 				first, last, id, su.shares, g.Shares, s.cell(SheetGrants, "shares", g.Row, g.Refs))
+		}
+	}
+}
+
+// costCenter refuses the reserved name Unassigned.
+func (v *validator) costCenter(ref Ref, name string) {
+	if strings.EqualFold(strings.TrimSpace(name), Unassigned) {
+		v.rep.errf(ref, "cost_center", name, ErrRange, "is the name grantworth gives expense with no cost centre; leave the cell empty for that, or name the cost centre")
+	}
+}
+
+func (v *validator) transfers() {
+	s := v.s
+	seen := map[string]int{} // grant and date → row
+	for _, tr := range s.Transfers {
+		ref := func(k string) Ref { return s.cell(SheetTransfers, k, tr.Row, nil) }
+		g, ok := v.grant(tr.GrantID)
+		if !ok {
+			if !v.skip[tr.GrantID] {
+				v.rep.errf(ref("grant_id"), "grant_id", tr.GrantID, ErrUnknown, "is not a grant_id of the Grants sheet")
+			}
+			continue
+		}
+		v.costCenter(ref("cost_center"), tr.CostCenter)
+		key := tr.GrantID + "\x00" + isoDay(tr.Date)
+		if r, dup := seen[key]; dup {
+			v.rep.errf(ref("date"), "date", isoDay(tr.Date), ErrDuplicate, "is also the date of row %d (%s) for grant %s; keep one cost centre per day", r, s.cell(SheetTransfers, "date", r, nil).Cell, tr.GrantID)
+			continue
+		}
+		seen[key] = tr.Row
+		switch {
+		case !g.GrantDate.IsZero() && !tr.Date.After(g.GrantDate):
+			v.rep.warnf(ref("date"), "date", isoDay(tr.Date), ErrRange, "is on or before the grant date %s of grant %s: the grant's service is in %s from its start, whatever its cost_center (%s)",
+				isoDay(g.GrantDate), g.ID, tr.CostCenter, s.cell(SheetGrants, "cost_center", g.Row, g.Refs).Cell)
+		case !s.Company.ValuationDate.IsZero() && tr.Date.After(s.Company.ValuationDate):
+			v.rep.warnf(ref("date"), "date", isoDay(tr.Date), ErrRange, "is after the valuation date %s: it is left out of this close, like an event after it", isoDay(s.Company.ValuationDate))
 		}
 	}
 }

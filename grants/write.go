@@ -292,7 +292,14 @@ func sheetRows(s *Schedule, sh *Sheet) [][]any {
 				put(row, "classification", string(g.Classification))
 				put(row, "exercise_style", string(g.ExerciseStyle))
 			}
+			if g.CostCenter != "" {
+				put(row, "cost_center", g.CostCenter)
+			}
 			rows = append(rows, row)
+		}
+	case SheetTransfers:
+		for _, t := range s.Transfers {
+			rows = append(rows, []any{t.GrantID, t.Date, t.CostCenter})
 		}
 	case SheetVesting:
 		for _, v := range s.Vesting {

@@ -33,6 +33,9 @@ type ExpenseDetail struct {
 	// grant's to the last service: recognised through the period end and
 	// expected after it.
 	ByFiscalYear []ExpenseYear `json:"by_fiscal_year"`
+	// ByCostCenter splits the compensation expense by cost centre (name
+	// order, "unassigned" last); the centres add up to the totals.
+	ByCostCenter []ExpenseCostCenter `json:"by_cost_center"`
 	// AfterForecast is the unrecognised cost expected after the forecast.
 	AfterForecast float64        `json:"after_forecast"`
 	Journal       []JournalEntry `json:"journal"`
@@ -62,7 +65,34 @@ type ExpenseGrant struct {
 	LiabilityEnd       float64 `json:"liability_at_period_end"`
 	ReclassifiedEquity float64 `json:"reclassified_to_equity"`
 
+	// CostCenter is the grant's at the period end; ByCostCenter its parts
+	// in every cost centre its service was rendered in.
+	CostCenter   string           `json:"cost_center"`
+	ByCostCenter []CostCenterPart `json:"by_cost_center"`
+
 	Tranches []ExpenseTranche `json:"tranches"`
+}
+
+// CostCenterPart is the part of one grant's expense in one cost centre.
+type CostCenterPart struct {
+	CostCenter   string  `json:"cost_center"`
+	GrantID      string  `json:"-"` // for the workbook's rows under each centre
+	Amount       float64 `json:"period_amount"`
+	Cumulative   float64 `json:"cumulative"`
+	Unrecognized float64 `json:"unrecognized_cost"`
+}
+
+// ExpenseCostCenter is one cost centre's compensation expense.
+type ExpenseCostCenter struct {
+	CostCenter    string    `json:"cost_center"`
+	Grants        int       `json:"grants"`
+	Amount        float64   `json:"period_amount"`
+	Cumulative    float64   `json:"cumulative"`
+	Unrecognized  float64   `json:"unrecognized_cost"`
+	Forecast      []float64 `json:"forecast"` // by quarter of ExpenseDetail.Forecast
+	AfterForecast float64   `json:"after_forecast"`
+	// Parts are the grants' parts in this centre, in grant order.
+	Parts []CostCenterPart `json:"-"`
 }
 
 // ExpenseTranche is one tranche's attribution.
@@ -205,6 +235,13 @@ func expenseModel(b *accounting.Books) *Expense {
 		FiscalCalendar: r.Policy.Calendar.String(),
 		ByFiscalYear:   make([]ExpenseYear, 0, len(r.ByFiscalYear)),
 	}
+	det.ByCostCenter = make([]ExpenseCostCenter, 0, len(r.ByCostCenter))
+	centre := map[string]int{}
+	for _, c := range r.ByCostCenter {
+		centre[c.CostCenter] = len(det.ByCostCenter)
+		det.ByCostCenter = append(det.ByCostCenter, ExpenseCostCenter{CostCenter: c.CostCenter, Grants: c.Grants, Amount: c.Period,
+			Cumulative: c.Cumulative, Unrecognized: c.Unrecognized, Forecast: append([]float64{}, c.Forecast...), AfterForecast: c.AfterForecast})
+	}
 	for _, y := range r.ByFiscalYear {
 		det.ByFiscalYear = append(det.ByFiscalYear, ExpenseYear{Year: y.Year.Name, Start: DateOf(y.Year.Start), End: DateOf(y.Year.End),
 			Recognized: y.Recognized, Expected: y.Expected, Total: y.Recognized + y.Expected})
@@ -216,7 +253,11 @@ func expenseModel(b *accounting.Books) *Expense {
 			Cost: g.Cost, CumulativeOpen: g.CumulativeOpen, Amount: g.Period, Cumulative: g.Cumulative,
 			Unrecognized: g.Unrecognized, RemainingYears: g.RemainingYears,
 			FairValueChange: g.FairValueChange, LiabilityOpen: g.LiabilityOpen, LiabilityEnd: g.LiabilityEnd,
-			ReclassifiedEquity: g.ReclassifiedEquity, Tranches: []ExpenseTranche{}}
+			ReclassifiedEquity: g.ReclassifiedEquity, Tranches: []ExpenseTranche{},
+			CostCenter: g.CostCenter, ByCostCenter: make([]CostCenterPart, 0, len(g.ByCostCenter))}
+		for _, p := range g.ByCostCenter {
+			eg.ByCostCenter = append(eg.ByCostCenter, CostCenterPart{CostCenter: p.CostCenter, GrantID: g.GrantID, Amount: p.Period, Cumulative: p.Cumulative, Unrecognized: p.Unrecognized})
+		}
 		for _, t := range g.Tranches {
 			eg.Tranches = append(eg.Tranches, ExpenseTranche{Index: t.Index, VestDate: DateOf(t.VestDate), Shares: t.Shares,
 				SharesCounted: t.SharesCounted, FairValuePerShare: t.FairValue, ExpectedShare: t.ExpectedShare, Cost: t.Cost,
@@ -224,6 +265,10 @@ func expenseModel(b *accounting.Books) *Expense {
 				RemainingYears: t.RemainingYears})
 		}
 		det.ByGrant = append(det.ByGrant, eg)
+		for _, p := range eg.ByCostCenter {
+			c := &det.ByCostCenter[centre[p.CostCenter]]
+			c.Parts = append(c.Parts, p)
+		}
 	}
 	for i := range det.ByGrant {
 		g := &det.ByGrant[i]

@@ -46,6 +46,8 @@ func (d *Memo) expense(m *Model) error {
 		{"Weighted-average remaining recognition period", fixed(m.Expense.WeightedAverageRemainingYears, 2) + " years"},
 	})
 
+	d.costCenters(m, e)
+
 	if len(e.ByGrant) <= maxGrantRows {
 		d.Sub("By grant")
 		cols := []Col{{"Grant", 18, false}, {"Instrument", 20, false}, {"Service", 30, false}, {"Total cost", 22, true},
@@ -258,4 +260,31 @@ func (d *Memo) disclosures(m *Model) error {
 		d.Note("Each roll-forward balances: start + granted − vested − exercised − forfeited − cancelled − expired = end. The same tables are on the Disclosures sheet of valuation.xlsx.")
 	}
 	return nil
+}
+
+// costCenters is the expense split by cost centre, with the next four
+// forecast quarters.
+func (d *Memo) costCenters(m *Model, e *ExpenseDetail) {
+	d.Sub("By cost centre")
+	d.Para("Each day of service is expensed in the cost centre it was rendered in (the Grants column cost_center and the Transfers sheet); a later change of estimate or a reversal is shared among the cost centres in proportion to the days of service each had. The cost centres add up to the totals.")
+	nq := min(4, len(e.Forecast))
+	cols := []Col{{"Cost centre", 26, false}, {"This period", 22, true}, {"Cumulative", 22, true}, {"Unrecognized", 22, true}}
+	w := 78.0 / float64(max(nq, 1))
+	for _, q := range e.Forecast[:nq] {
+		cols = append(cols, Col{q.Label + " e", w, true})
+	}
+	rows := make([][]string, 0, len(e.ByCostCenter)+1)
+	for _, c := range e.ByCostCenter {
+		row := []string{c.CostCenter, groupDigits(c.Amount, 2), groupDigits(c.Cumulative, 2), groupDigits(c.Unrecognized, 2)}
+		for _, v := range c.Forecast[:nq] {
+			row = append(row, groupDigits(v, 2))
+		}
+		rows = append(rows, row)
+	}
+	total := []string{"\x00Total", groupDigits(e.Amount, 2), groupDigits(e.Cumulative, 2), groupDigits(m.Expense.UnrecognizedCost, 2)}
+	for _, q := range e.Forecast[:nq] {
+		total = append(total, groupDigits(q.Amount, 2))
+	}
+	d.Table(cols, append(rows, total))
+	d.Note("e = expected. Every forecast quarter by cost centre, and each grant's part in each cost centre, are on the Expense by cost centre sheet of valuation.xlsx.")
 }

@@ -34,15 +34,16 @@ func expenseSchedule() *grants.Schedule {
 		Assumptions: grants.Assumptions{Attribution: grants.Graded, Forfeitures: grants.Estimate, PreVestingForfeitureRate: 0.05},
 		Grants: []grants.Grant{
 			{ID: "Q-1", Holder: "E7", Instrument: grants.Option, GrantDate: ymdT("2025-01-15"), Shares: 4000, Strike: 3,
-				ExpiryDate: ymdT("2035-01-15"), VestStart: ymdT("2025-01-15"), VestMonths: 48, CliffMonths: 12, VestEvery: 12},
+				ExpiryDate: ymdT("2035-01-15"), VestStart: ymdT("2025-01-15"), VestMonths: 48, CliffMonths: 12, VestEvery: 12, CostCenter: "R&D"},
 			{ID: "Q-2", Holder: "E9", Instrument: grants.Option, GrantDate: ymdT("2026-11-02"), Shares: 1200, Strike: 5,
-				ExpiryDate: ymdT("2036-11-02"), VestStart: ymdT("2026-11-02"), VestMonths: 36, CliffMonths: 12, VestEvery: 12},
+				ExpiryDate: ymdT("2036-11-02"), VestStart: ymdT("2026-11-02"), VestMonths: 36, CliffMonths: 12, VestEvery: 12, CostCenter: "S&M"},
 			{ID: "Q-3", Holder: "E2", Instrument: grants.RSU, GrantDate: ymdT("2026-02-01"), Shares: 900,
 				VestStart: ymdT("2026-02-01"), VestMonths: 36, VestEvery: 12},
 			{ID: "Q-4", Holder: "=SUM(A1)", Instrument: grants.Warrant, GrantDate: ymdT("2026-03-01"), Shares: 10000, Strike: 4,
 				ExpiryDate: ymdT("2031-03-01"), VestStart: ymdT("2026-03-01"), VestMonths: 12, VestEvery: 12, Classification: grants.Liability},
 		},
 		SharePrices: []grants.PricePoint{{Date: ymdT("2026-01-01"), Price: 6}},
+		Transfers:   []grants.Transfer{{GrantID: "Q-1", Date: ymdT("2026-11-16"), CostCenter: "S&M", Row: 2}},
 		Events: []grants.Event{
 			{GrantID: "Q-1", Date: ymdT("2026-11-30"), Kind: grants.Forfeited, Shares: 2000, Row: 2},
 			{GrantID: "Q-1", Date: ymdT("2026-12-10"), Kind: grants.Exercised, Shares: 600, Row: 3},
@@ -193,8 +194,23 @@ func TestExpenseOutputs(t *testing.T) {
 	if total[0] != "total" {
 		t.Fatalf("last Expense row %v", total)
 	}
-	if got, _ := strconv.ParseFloat(total[13], 64); math.Abs(got-e.Amount) > 1e-6 {
+	if got, _ := strconv.ParseFloat(total[14], 64); math.Abs(got-e.Amount) > 1e-6 {
 		t.Errorf("Expense sheet period total %v, JSON %v", got, e.Amount)
+	}
+	// The cost centres add up to the totals, in the JSON and on their sheet.
+	var ccSum float64
+	for _, c := range e.ByCostCenter {
+		ccSum += c.Amount
+	}
+	if len(e.ByCostCenter) != 3 || math.Abs(ccSum-e.Amount) > 1e-9 {
+		t.Errorf("cost centres %+v add to %v, period %v", e.ByCostCenter, ccSum, e.Amount)
+	}
+	crows, err := f.GetRows(SheetCostCenters, excelize.Options{RawCellValue: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if last := crows[len(crows)-1]; last[0] != "total" || !closeText(last[4], e.Amount) {
+		t.Errorf("cost centre sheet total row %v, period %v", last, e.Amount)
 	}
 	for _, r := range rows[1:] {
 		if r[1] == "Q-4" {
@@ -270,4 +286,10 @@ func TestExpenseNoRevalue(t *testing.T) {
 	if !strings.Contains(strings.Join(m.Warnings, "\n"), "no curve on 2026-03-01") || m.Expense.FairValueChange != 0 {
 		t.Errorf("failed revaluation: warnings %v, fair value change %v", m.Warnings, m.Expense.FairValueChange)
 	}
+}
+
+// closeText reports whether the cell text is the number v to 1e-6.
+func closeText(text string, v float64) bool {
+	f, err := strconv.ParseFloat(text, 64)
+	return err == nil && math.Abs(f-v) <= 1e-6
 }

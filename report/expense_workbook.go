@@ -7,12 +7,14 @@ const (
 	SheetExpense     = "Expense"
 	SheetForecast    = "Expense forecast"
 	SheetByYear      = "Expense by fiscal year"
+	SheetCostCenters = "Expense by cost centre"
 	SheetDisclosures = "Disclosures"
 )
 
 func init() {
 	sheetHooks = append(sheetHooks,
 		SheetHook{SheetExpense, writeExpense},
+		SheetHook{SheetCostCenters, writeCostCenters},
 		SheetHook{SheetForecast, writeForecast},
 		SheetHook{SheetByYear, writeByYear},
 		SheetHook{SheetDisclosures, writeDisclosures})
@@ -44,7 +46,7 @@ func writeExpense(b *Book, m *Model) error {
 	if e == nil {
 		return notRun(b, SheetExpense)
 	}
-	cols := []Column{{"Level", 9}, {"Grant", 14}, {"Holder", 12}, {"Instrument", 11}, {"Tranche", 8},
+	cols := []Column{{"Level", 9}, {"Grant", 14}, {"Holder", 12}, {"Cost centre", 14}, {"Instrument", 11}, {"Tranche", 8},
 		{"Service start", 12}, {"Vest date / service end", 14}, {"Shares", 11}, {"Shares counted", 13},
 		{"Expected share at vest", 12}, {"Fair value per share", 14}, {"Total cost", 16},
 		{"Cumulative at period start", 16}, {"Period expense", 16}, {"Cumulative at period end", 16},
@@ -72,14 +74,14 @@ func writeExpense(b *Book, m *Model) error {
 		if g.Liability {
 			fvChange, liability = money(g.FairValueChange), money(g.LiabilityEnd)
 		}
-		if err := t.Row("grant", b.Text(g.GrantID), b.Text(g.Holder), g.Instrument, nil,
+		if err := t.Row("grant", b.Text(g.GrantID), b.Text(g.Holder), b.Text(g.CostCenter), g.Instrument, nil,
 			b.DateCell(g.ServiceStart), b.DateCell(g.ServiceEnd), b.Cell(b.Style.Int, gs), b.Cell(b.Style.Number, counted),
 			nil, nil, money(g.Cost), money(g.CumulativeOpen), money(g.Amount), money(g.Cumulative),
 			money(g.Unrecognized), b.Cell(b.Style.Years, g.RemainingYears), fvChange, liability); err != nil {
 			return err
 		}
 		for _, tr := range g.Tranches {
-			if err := t.Row("tranche", b.Text(g.GrantID), b.Text(g.Holder), g.Instrument, tr.Index,
+			if err := t.Row("tranche", b.Text(g.GrantID), b.Text(g.Holder), nil, g.Instrument, tr.Index,
 				b.DateCell(g.ServiceStart), b.DateCell(tr.VestDate), b.Cell(b.Style.Int, tr.Shares), b.Cell(b.Style.Number, tr.SharesCounted),
 				b.Cell(b.Style.Percent, tr.ExpectedShare), b.Cell(b.Style.MoneyPerShare, tr.FairValuePerShare),
 				money(tr.Cost), money(tr.CumulativeOpen), money(tr.Amount), money(tr.Cumulative),
@@ -93,7 +95,7 @@ func writeExpense(b *Book, m *Model) error {
 		cost += g.Cost
 		open += g.CumulativeOpen
 	}
-	if err := t.Row(b.Cell(b.Style.Bold, "total"), nil, nil, nil, nil, nil, nil, b.Cell(b.Style.Int, shares), nil, nil, nil,
+	if err := t.Row(b.Cell(b.Style.Bold, "total"), nil, nil, nil, nil, nil, nil, nil, b.Cell(b.Style.Int, shares), nil, nil, nil,
 		money(cost), money(open), money(e.Amount), money(e.Cumulative), money(m.Expense.UnrecognizedCost),
 		b.Cell(b.Style.Years, m.Expense.WeightedAverageRemainingYears), money(e.FairValueChange), nil); err != nil {
 		return err
@@ -235,6 +237,52 @@ func writeDisclosures(b *Book, m *Model) error {
 		if err := t.Row(r...); err != nil {
 			return err
 		}
+	}
+	return t.Close()
+}
+
+// writeCostCenters is one row per cost centre (level "cost centre") with
+// its forecast quarters, followed by the grants' parts in it (level
+// "grant"), then the total.
+func writeCostCenters(b *Book, m *Model) error {
+	e := detail(m)
+	if e == nil {
+		return notRun(b, SheetCostCenters)
+	}
+	cols := []Column{{"Level", 12}, {"Cost centre", 18}, {"Grant", 14}, {"Grants", 8}, {"Period expense", 16}, {"Cumulative at period end", 16}, {"Unrecognized cost", 16}}
+	for _, q := range e.Forecast {
+		cols = append(cols, Column{q.Label + " expected", 14})
+	}
+	cols = append(cols, Column{"Later", 14})
+	rows := 1 + len(e.ByCostCenter)
+	for _, c := range e.ByCostCenter {
+		rows += len(c.Parts)
+	}
+	t, err := b.NewTable(SheetCostCenters, cols, rows)
+	if err != nil {
+		return err
+	}
+	money := func(v float64) any { return b.Cell(b.Style.Money, v) }
+	for _, c := range e.ByCostCenter {
+		row := []any{"cost centre", b.Text(c.CostCenter), nil, c.Grants, money(c.Amount), money(c.Cumulative), money(c.Unrecognized)}
+		for _, v := range c.Forecast {
+			row = append(row, money(v))
+		}
+		if err := t.Row(append(row, money(c.AfterForecast))...); err != nil {
+			return err
+		}
+		for _, p := range c.Parts {
+			if err := t.Row("grant", b.Text(c.CostCenter), b.Text(p.GrantID), nil, money(p.Amount), money(p.Cumulative), money(p.Unrecognized)); err != nil {
+				return err
+			}
+		}
+	}
+	row := []any{b.Cell(b.Style.Bold, "total"), nil, nil, nil, money(e.Amount), money(e.Cumulative), money(m.Expense.UnrecognizedCost)}
+	for _, q := range e.Forecast {
+		row = append(row, money(q.Amount))
+	}
+	if err := t.Row(append(row, money(e.AfterForecast))...); err != nil {
+		return err
 	}
 	return t.Close()
 }

@@ -38,8 +38,9 @@ type MeasuredAssumptions struct {
 // Award is everything attribution needs about one grant.
 type Award struct {
 	Grant          grants.Grant
-	Tranches       []TrancheCost  // in vest-date order
-	Events         []grants.Event // this grant's events, in any order
+	Tranches       []TrancheCost     // in vest-date order
+	Events         []grants.Event    // this grant's events, in any order
+	Transfers      []grants.Transfer // this grant's cost centre history, in any order
 	Remeasurements []Remeasurement
 	Measured       *MeasuredAssumptions // optional; used by Disclose
 }
@@ -115,6 +116,13 @@ type GrantExpense struct {
 	LiabilityEnd       float64 // at period end
 	ReclassifiedEquity float64 // liability moved to equity on exercise in the period
 
+	// CostCenter is the grant's cost centre at the period end (Unassigned
+	// when it names none); ByCostCenter splits its Period, Cumulative and
+	// Unrecognized among the cost centres its service was rendered in
+	// (one part when it never moved). The parts add up to the grant's.
+	CostCenter   string
+	ByCostCenter []CostCenterAmount
+
 	Tranches []TrancheExpense
 }
 
@@ -146,6 +154,10 @@ type ExpenseReport struct {
 	// rate. AfterForecast is what remains after them.
 	Forecast      []PeriodAmount
 	AfterForecast float64
+	// ByCostCenter splits Period, Cumulative, Unrecognized, the Forecast
+	// and AfterForecast by cost centre, in name order with Unassigned
+	// last; the centres add up to the totals.
+	ByCostCenter []CostCenterExpense
 	// ByFiscalYear covers the fiscal years from the one holding the
 	// earliest grant date to the one in which the last service is rendered
 	// (at least the one holding PeriodEnd), from Policy.Calendar.Years.
@@ -295,6 +307,8 @@ func (p *period) expense() *ExpenseReport {
 		}
 	}
 	pastVals, pastFV, futureVals := make([]float64, len(past.days)), make([]float64, len(past.days)), make([]float64, len(future.days))
+	forecast := make([]float64, len(rep.Forecast)) // one ledger's
+	centres := newCentreBook(len(rep.Forecast))
 
 	var wYears float64
 	for _, l := range ledgers {
@@ -364,7 +378,7 @@ func (p *period) expense() *ExpenseReport {
 				rep.Warnings = append(rep.Warnings, fmt.Sprintf("grant %s: liability-classified warrant with no remeasurement; its liability is carried at the grant-date fair value", g.ID))
 			}
 		}
-		rep.Grants = append(rep.Grants, ge)
+		ge.CostCenter = l.centres[l.centreOn(dayNum(periodEnd))]
 		rep.Period += ge.Period
 		rep.FairValueChange += ge.FairValueChange
 		rep.Cumulative += ge.Cumulative
@@ -391,10 +405,16 @@ func (p *period) expense() *ExpenseReport {
 		prevTotal := s1.compTotal()
 		for k := range rep.Forecast {
 			cur := futureVals[future.index(rep.Forecast[k].End)]
-			rep.Forecast[k].Amount += cur - prevTotal
+			forecast[k] = cur - prevTotal
+			rep.Forecast[k].Amount += forecast[k]
 			prevTotal = cur
 		}
-		rep.AfterForecast += sInf.compTotal() - prevTotal
+		after := sInf.compTotal() - prevTotal
+		rep.AfterForecast += after
+		parts := l.costCenters(pol, ge, s0, s1, sInf, open, periodEnd, far, rep.Forecast, forecast, after)
+		ge.ByCostCenter = parts.amounts
+		centres.add(g.ID, parts)
+		rep.Grants = append(rep.Grants, ge)
 		for k := range rep.ByFiscalYear {
 			y := &rep.ByFiscalYear[k]
 			if !y.Year.Start.After(periodEnd) {
@@ -413,6 +433,10 @@ func (p *period) expense() *ExpenseReport {
 		rep.RemainingYears = wYears / rep.Unrecognized
 	}
 	rep.Periods = bounds
+	rep.ByCostCenter = centres.list()
+	if w := centres.unassignedWarning(); w != "" {
+		rep.Warnings = append(rep.Warnings, w)
+	}
 	rep.PolicyNotes = policyNotes(pol, ledgers)
 	return rep
 }

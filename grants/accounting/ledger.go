@@ -63,6 +63,9 @@ type awardLedger struct {
 	remeasN   []int           // their day numbers
 	// day numbers of the grant date and the service start
 	grantN, startN int
+	// the cost centres the grant's service is rendered in, and when
+	centres []string
+	spans   []centreSpan
 
 	// scratch for atInto
 	bufValue, bufLia, bufComp []float64
@@ -161,6 +164,7 @@ func newAwardLedger(a *Award, pol Policy, asOf time.Time) (*awardLedger, error) 
 			evs = append(evs, e)
 		}
 	}
+	l.setCostCenters(a, asOf)
 	sort.SliceStable(evs, func(i, j int) bool { return valuation.Days(evs[j].Date, evs[i].Date) < 0 })
 	if err := l.apply(evs); err != nil {
 		return nil, err

@@ -8,14 +8,14 @@ import (
 
 // AwardOf pairs grant g of s with its tranches as granted
 // (Schedule.Tranches, before forfeitures: attribution applies the events
-// itself), its events and fairValue, the fair value per share of each
-// tranche in the same order.
+// itself), its events, its transfers between cost centres and fairValue,
+// the fair value per share of each tranche in the same order.
 func AwardOf(s *grants.Schedule, g grants.Grant, fairValue []float64) (Award, error) {
 	ts := s.Tranches(g)
 	if len(fairValue) != len(ts) {
 		return Award{}, fmt.Errorf("grant %s: %d fair values for %d tranches", g.ID, len(fairValue), len(ts))
 	}
-	a := Award{Grant: g, Events: s.EventsOf(g.ID)}
+	a := Award{Grant: g, Events: s.EventsOf(g.ID), Transfers: s.TransfersOf(g.ID)}
 	for i, t := range ts {
 		a.Tranches = append(a.Tranches, TrancheCost{Tranche: grants.Tranche{GrantID: t.GrantID, Index: t.Index, VestDate: t.VestDate, Shares: t.Shares}, FairValue: fairValue[i]})
 	}

@@ -18,6 +18,8 @@
 //   - RSUs vesting yearly over three years;
 //   - terminations (forfeited unvested shares, then expired vested ones)
 //     and exercises on the Events sheet;
+//   - a cost centre on every grant (R&D, S&M, G&A, COGS) and two
+//     transfers between cost centres;
 //   - six valuations of the common stock on Share Prices;
 //   - a rate curve at every quarter end, zero rates until 2026-03-31 and
 //     government par yields (par-semiannual) from 2026-06-30 on.
@@ -36,6 +38,11 @@ import (
 )
 
 const seed = 20260930
+
+// costCenters are given to the option grants in turn: research and
+// development, sales and marketing, general and administrative, cost of
+// revenue.
+var costCenters = []string{"R&D", "R&D", "S&M", "G&A", "R&D", "COGS", "S&M"}
 
 func day(s string) time.Time {
 	t, err := time.Parse(time.DateOnly, s)
@@ -115,6 +122,7 @@ func Schedule() *grants.Schedule {
 		} else {
 			optionHolders = append(optionHolders, g.Holder)
 		}
+		g.CostCenter = costCenters[m%len(costCenters)]
 		if m == 20 { // an executive's grant with its own strike price premium and a lower exit rate
 			g.Strike = math.Round(priceAt(gd)*1.25*100) / 100
 			g.PostVestingExitRate = f(0.05)
@@ -123,7 +131,8 @@ func Schedule() *grants.Schedule {
 	}
 	// A grant vesting on milestones, on the Vesting sheet (30/30/40).
 	ms := grants.Grant{ID: id(), Holder: "E900", Instrument: grants.Option, GrantDate: day("2024-08-19"), Shares: 50_000,
-		Strike: priceAt(day("2024-08-19")), ExpiryDate: day("2034-08-19"), VestStart: day("2024-08-19"), VestMonths: 36, CliffMonths: 12, VestEvery: 12}
+		Strike: priceAt(day("2024-08-19")), ExpiryDate: day("2034-08-19"), VestStart: day("2024-08-19"), VestMonths: 36, CliffMonths: 12, VestEvery: 12,
+		CostCenter: "R&D"}
 	opts = append(opts, ms)
 	s.Vesting = []grants.VestRow{
 		{GrantID: ms.ID, VestDate: day("2025-03-31"), Shares: 15_000},
@@ -135,16 +144,23 @@ func Schedule() *grants.Schedule {
 	// Warrants, vested at issue, seven-year term.
 	s.Grants = append(s.Grants,
 		grants.Grant{ID: id(), Holder: "LENDER-1", Instrument: grants.Warrant, GrantDate: day("2024-05-20"), Shares: 250_000, Strike: 1.20,
-			ExpiryDate: day("2031-05-20"), VestStart: day("2024-05-20"), VestEvery: 1, Classification: grants.Equity, ExerciseStyle: grants.American},
+			ExpiryDate: day("2031-05-20"), VestStart: day("2024-05-20"), VestEvery: 1, Classification: grants.Equity, ExerciseStyle: grants.American,
+			CostCenter: "G&A"},
 		grants.Grant{ID: id(), Holder: "INVESTOR-2", Instrument: grants.Warrant, GrantDate: day("2025-02-10"), Shares: 400_000, Strike: 2.00,
 			ExpiryDate: day("2032-02-10"), VestStart: day("2025-02-10"), VestEvery: 1, Classification: grants.Liability, ExerciseStyle: grants.American,
-			Volatility: f(0.50)},
+			Volatility: f(0.50), CostCenter: "G&A"},
 	)
 	// RSUs: three years, a third each anniversary.
 	for i, gd := range []string{"2024-02-15", "2024-11-12", "2025-05-06", "2025-11-18", "2026-04-21"} {
 		t := day(gd)
 		s.Grants = append(s.Grants, grants.Grant{ID: id(), Holder: fmt.Sprintf("D%02d", i+1), Instrument: grants.RSU, GrantDate: t,
-			Shares: int64(500 * (6 + rng.IntN(20))), VestStart: t, VestMonths: 36, VestEvery: 12})
+			Shares: int64(500 * (6 + rng.IntN(20))), VestStart: t, VestMonths: 36, VestEvery: 12, CostCenter: "G&A"})
+	}
+	// Two holders changed function: one from R&D to S&M a year ago, one
+	// from cost of revenue to R&D in the period.
+	s.Transfers = []grants.Transfer{
+		{GrantID: opts[4].ID, Date: day("2025-10-01"), CostCenter: "S&M"},
+		{GrantID: opts[12].ID, Date: day("2026-08-17"), CostCenter: "R&D"},
 	}
 
 	// Events: two holders left (unvested forfeited on leaving, vested shares
