@@ -60,6 +60,9 @@ type Sheet struct {
 	Required bool
 	Help     string
 	Columns  []Column
+	// KeyColumns are, on a key-value sheet, the optional columns beside
+	// key and value.
+	KeyColumns []Column
 }
 
 // Column returns the column with key k, or nil.
@@ -108,7 +111,7 @@ var Sheets = []Sheet{
 			{Key: "fiscal_year_end_rule", Kind: KindChoice, Choices: []string{"last", "nearest"}, Need: "with fiscal_year_end_weekday", Default: "last", Help: "last: the year ends on the last such weekday of the month; nearest: on the one nearest the month's last day, which may fall in the next month's first three days."},
 		}},
 	{Name: SheetAssumptions, File: "assumptions.csv", KeyValue: true, Required: true,
-		Help: "Company-wide valuation assumptions: key, value and an optional source that the memo quotes. A grant row may override some of them.",
+		Help: "Company-wide valuation assumptions: key, value, an optional source that the memo quotes and an optional effective_date from which the row applies (a row without one applies from the beginning). A grant takes, key by key, the row in force at its measurement date (the latest effective_date on or before it); attribution, forfeitures, pre_vesting_forfeiture_rate and steps are those in force at valuation_date. A grant row may override some of them.",
 		Columns: []Column{
 			{Key: "volatility", Kind: KindPercent, Unit: "annual", Need: "required unless every grant row gives one", Help: "Expected volatility of the share price, e.g. 45% or 0.45."},
 			{Key: "dividend_yield", Kind: KindPercent, Unit: "annual, continuous", Need: "optional", Default: "0", Help: "Expected dividend yield."},
@@ -118,6 +121,10 @@ var Sheets = []Sheet{
 			{Key: "attribution", Kind: KindChoice, Choices: []string{string(Graded), string(StraightLine)}, Need: "optional", Default: "graded", Help: "How a graded award's cost is spread over service: per tranche (graded) or evenly over the whole award (straight-line)."},
 			{Key: "forfeitures", Kind: KindChoice, Choices: []string{string(Estimate), string(AsOccur)}, Need: "optional", Default: "estimate", Help: "Estimate forfeitures in advance, or account for them as they occur."},
 			{Key: "steps", Kind: KindSteps, Need: "optional", Default: "auto", Help: "Lattice steps: auto (converged, with an error estimate) or a fixed number."},
+		},
+		KeyColumns: []Column{
+			{Key: "source", Kind: KindText, Need: "optional", Help: "Where the value comes from (a study, a policy memo); the memo and the workbook quote it beside the cell."},
+			{Key: "effective_date", Kind: KindDate, Need: "optional", Default: "from the beginning", Help: "The row applies from this date on, so that a new estimate leaves grants measured before it alone. A key may have several rows with different dates; two rows of one key with the same date are an error."},
 		}},
 	{Name: SheetGrants, File: "grants.csv", Required: true,
 		Help: "One row per grant. Empty cells take the defaults shown.",
@@ -151,7 +158,7 @@ var Sheets = []Sheet{
 			{Key: "shares", Kind: KindInt, Unit: "shares", Required: true, Need: "required", Help: "Shares vesting on that date."},
 		}},
 	{Name: SheetSharePrices, File: "share_prices.csv",
-		Help: "The fair value of one share from each date on (a step function), usually one row per valuation of the common stock.",
+		Help: "The fair value of one share from each date on (a step function), usually one row per valuation of the common stock. With options or warrants, a row dated on or before valuation_date gives the period-end price of the disclosures.",
 		Columns: []Column{
 			{Key: "date", Kind: KindDate, Required: true, Need: "required", Help: "The date from which the price holds."},
 			{Key: "price", Kind: KindNumber, Unit: "currency per share", Required: true, Need: "required", Help: "Fair value per share."},
@@ -218,6 +225,16 @@ func ColumnsMarkdown() string {
 				need += "; default " + c.Default
 			}
 			fmt.Fprintf(&b, "| `%s` | %s | %s | %s | %s |\n", c.Key, kind, c.Unit, need, c.Help)
+		}
+		if len(sh.KeyColumns) > 0 {
+			b.WriteString("\nColumns beside key and value:\n\n| column | kind | needed | meaning |\n|---|---|---|---|\n")
+			for _, c := range sh.KeyColumns {
+				need := c.Need
+				if c.Default != "" {
+					need += "; default " + c.Default
+				}
+				fmt.Fprintf(&b, "| `%s` | %s | %s | %s |\n", c.Key, c.Kind.String(), need, c.Help)
+			}
 		}
 		b.WriteString("\n")
 	}

@@ -2,11 +2,16 @@ package grants
 
 import (
 	"bytes"
+	"crypto/sha256"
 	"encoding/csv"
+	"encoding/hex"
 	"errors"
 	"fmt"
 	"io"
 	"io/fs"
+	"os"
+	"path/filepath"
+	"sort"
 	"strings"
 	"unicode/utf8"
 )
@@ -15,7 +20,8 @@ import (
 type csvSource struct {
 	fsys  fs.FS
 	names []string
-	files map[string]string // sheet name → file name
+	files map[string]string      // sheet name → file name
+	types map[string]fs.FileMode // sheet name → type bits from the listing
 }
 
 func (c *csvSource) sheetNames() []string { return c.names }
@@ -23,29 +29,177 @@ func (c *csvSource) date1904() bool       { return false }
 
 func (c *csvSource) rows(name string) (rowIter, error) {
 	file := c.files[name]
+	it := &csvRows{file: file}
+	sheet := sheetOf(name)
+	bad := func(format string, args ...any) (rowIter, error) {
+		it.err = &CellError{Sheet: sheet, Err: ErrFormat, Msg: file + " " + fmt.Sprintf(format, args...)}
+		return it, nil
+	}
+	if t := c.types[name]; !t.IsRegular() {
+		return bad("is %s; grantworth reads only regular files (copy the file into the folder)", fileKind(t))
+	}
 	f, err := c.fsys.Open(file)
 	if err != nil {
 		return nil, err
 	}
 	defer f.Close()
+	// The entry may have changed since the folder was listed: look at what
+	// was opened.
+	st, err := f.Stat()
+	if err != nil {
+		return nil, err
+	}
+	if !st.Mode().IsRegular() {
+		return bad("is %s; grantworth reads only regular files (copy the file into the folder)", fileKind(st.Mode().Type()))
+	}
+	if st.Size() > MaxFileSize {
+		return nil, &CellError{Sheet: sheet, Err: ErrTooLarge, Msg: fmt.Sprintf("%s is %s, more than the %s allowed for one sheet", file, sizeText(st.Size()), sizeText(MaxFileSize))}
+	}
 	data, err := io.ReadAll(io.LimitReader(f, MaxFileSize+1))
 	if err != nil {
 		return nil, err
 	}
-	it := &csvRows{file: file}
 	if len(data) > MaxFileSize {
-		it.err = &CellError{Sheet: sheetOf(name), Err: ErrTooLarge, Msg: fmt.Sprintf("%s is more than %d bytes", file, MaxFileSize)}
-		return it, nil
+		return nil, &CellError{Sheet: sheet, Err: ErrTooLarge, Msg: fmt.Sprintf("%s is more than the %s allowed for one sheet", file, sizeText(MaxFileSize))}
+	}
+	switch {
+	case bytes.HasPrefix(data, []byte("\xff\xfe")) || bytes.HasPrefix(data, []byte("\xfe\xff")):
+		return bad("is UTF-16 (Unicode) text; save it as CSV UTF-8")
+	case looksUTF16(data):
+		return bad("is UTF-16 text without a byte-order mark; save it as CSV UTF-8")
 	}
 	data = bytes.TrimPrefix(data, []byte("\xef\xbb\xbf"))
 	if !utf8.Valid(data) {
 		line := 1 + bytes.Count(data[:firstInvalid(data)], []byte("\n"))
-		it.err = &CellError{Sheet: sheetOf(name), Err: ErrFormat, Msg: fmt.Sprintf("%s line %d is not UTF-8 text; save the file as CSV UTF-8", file, line)}
-		return it, nil
+		return bad("line %d is not UTF-8 text; save the file as CSV UTF-8", line)
+	}
+	if bytes.IndexByte(data, '\r') >= 0 && bytes.IndexByte(data, '\n') < 0 {
+		return bad("ends its lines with a carriage return alone (as old Mac programs did); save it as CSV with Windows or Unix line endings")
 	}
 	it.r = csv.NewReader(bytes.NewReader(data))
 	it.r.FieldsPerRecord = -1
 	return it, nil
+}
+
+// looksUTF16 reports whether text with no byte-order mark is UTF-16: a
+// quarter or more of its first bytes are NUL, as the high byte of every
+// Latin character is (a stray NUL in UTF-8 text is read as text).
+func looksUTF16(b []byte) bool {
+	b = b[:min(len(b), 1024)]
+	return len(b) >= 2 && bytes.Count(b, []byte{0}) >= len(b)/4
+}
+
+// fileKind says what a directory entry that is not a regular file is.
+func fileKind(t fs.FileMode) string {
+	switch {
+	case t&fs.ModeSymlink != 0:
+		return "a symbolic link"
+	case t.IsDir():
+		return "a folder"
+	case t&fs.ModeDevice != 0:
+		return "a device"
+	case t&fs.ModeNamedPipe != 0:
+		return "a named pipe"
+	case t&fs.ModeSocket != 0:
+		return "a socket"
+	}
+	return "not a regular file"
+}
+
+// csvSheets lists the .csv files of a folder listing that stand for a
+// sheet grantworth reads (matched like sheet names), by sheet name.
+func csvSheets(ents []fs.DirEntry) (names []string, files map[string]string, types map[string]fs.FileMode) {
+	files, types = map[string]string{}, map[string]fs.FileMode{}
+	for _, e := range ents {
+		if e.IsDir() || !strings.EqualFold(filepath.Ext(e.Name()), ".csv") {
+			continue
+		}
+		sheet := strings.TrimSuffix(e.Name(), filepath.Ext(e.Name()))
+		names = append(names, sheet)
+		files[sheet] = e.Name()
+		types[sheet] = e.Type()
+	}
+	return names, files, types
+}
+
+// HashInput is the SHA-256 (hex) of the schedule at path: of the file's
+// bytes, or for a folder of CSV files of each file that stands for a sheet
+// grantworth reads, in name order: its name, a NUL byte, its length in
+// decimal digits, a NUL byte and its bytes. Files are streamed; a file that
+// is not a regular one or is past MaxFileSize is an error, as when reading;
+// other files of the folder are not opened.
+func HashInput(path string) (string, error) {
+	st, err := os.Stat(path)
+	if err != nil {
+		return "", err
+	}
+	h := sha256.New()
+	if !st.IsDir() {
+		if err := hashFile(h, path, "", false); err != nil {
+			return "", err
+		}
+		return hex.EncodeToString(h.Sum(nil)), nil
+	}
+	ents, err := os.ReadDir(path)
+	if err != nil {
+		return "", err
+	}
+	_, files, types := csvSheets(ents)
+	var names []string
+	for sheet, file := range files {
+		if isSheet(sheet) {
+			if !types[sheet].IsRegular() {
+				return "", &CellError{Sheet: sheetOf(sheet), Err: ErrFormat, Msg: file + " is " + fileKind(types[sheet]) + "; grantworth reads only regular files"}
+			}
+			names = append(names, file)
+		}
+	}
+	sort.Strings(names)
+	for _, n := range names {
+		if err := hashFile(h, filepath.Join(path, n), n, true); err != nil {
+			return "", err
+		}
+	}
+	return hex.EncodeToString(h.Sum(nil)), nil
+}
+
+// hashFile streams the regular file at path into h, framed by its name and
+// length when framed.
+func hashFile(h io.Writer, path, name string, framed bool) error {
+	f, err := os.Open(path)
+	if err != nil {
+		return err
+	}
+	defer f.Close()
+	st, err := f.Stat()
+	if err != nil {
+		return err
+	}
+	if !st.Mode().IsRegular() {
+		return &CellError{Sheet: filepath.Base(path), Err: ErrFormat, Msg: "is " + fileKind(st.Mode().Type()) + "; grantworth reads only regular files"}
+	}
+	if st.Size() > MaxFileSize {
+		return &CellError{Sheet: filepath.Base(path), Err: ErrTooLarge, Msg: fmt.Sprintf("is %s, more than the %s allowed", sizeText(st.Size()), sizeText(MaxFileSize))}
+	}
+	if framed {
+		fmt.Fprintf(h, "%s\x00%d\x00", name, st.Size())
+	}
+	n, err := io.Copy(h, io.LimitReader(f, st.Size()+1))
+	if err == nil && n != st.Size() {
+		err = fmt.Errorf("%s changed while it was read", path)
+	}
+	return err
+}
+
+// isSheet reports whether name (a sheet or file name without extension)
+// stands for a sheet grantworth reads.
+func isSheet(name string) bool {
+	for _, sh := range Sheets {
+		if norm(sh.Name) == norm(name) {
+			return true
+		}
+	}
+	return false
 }
 
 func firstInvalid(b []byte) int {
@@ -147,4 +301,4 @@ func (c *csvRows) cells() (int, []string, error) {
 }
 
 func (c *csvRows) emptyIsFormula(col, row int) bool { return false }
-func (c *csvRows) close() error                     { return nil }
+func (c *csvRows) close(bool) error                 { return nil }

@@ -4,6 +4,7 @@ import (
 	"archive/zip"
 	"bytes"
 	"errors"
+	"flag"
 	"hash/crc32"
 	"io"
 	"os"
@@ -184,6 +185,7 @@ func TestReadDamagedWorkbook(t *testing.T) {
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
 			b := damagedSample(t, c.fn)
+			defer writeHostile(t, "damaged-"+c.name, map[string][]byte{"schedule.xlsx": b})
 			s, rep, err := ReadXLSX(bytes.NewReader(b), int64(len(b)))
 			if err == nil {
 				n := 0
@@ -201,7 +203,7 @@ func TestReadDamagedWorkbook(t *testing.T) {
 			if !strings.HasPrefix(err.Error(), c.want) {
 				t.Errorf("error %q does not start with %q", err, c.want)
 			}
-			t.Log(err)
+			lastErr[t.Name()] = err.Error()
 		})
 	}
 }
@@ -234,6 +236,74 @@ func TestReadTruncatedFile(t *testing.T) {
 		_, _, err := ReadXLSX(bytes.NewReader(b[:n]), int64(n))
 		if !errors.Is(err, ErrFormat) {
 			t.Errorf("cut at %d of %d: %v", n, len(b), err)
+		}
+	}
+}
+
+func TestCellName(t *testing.T) {
+	for _, c := range []struct {
+		col, row int
+		want     string
+	}{{1, 1, "A1"}, {26, 7, "Z7"}, {27, 10, "AA10"}, {52, 1, "AZ1"}, {53, 1, "BA1"}, {702, 3, "ZZ3"}, {703, 3, "AAA3"}, {16384, 1048576, "XFD1048576"}, {0, 1, ""}, {1, 0, ""}, {16385, 1, ""}} {
+		if got := cellName(c.col, c.row); got != c.want {
+			t.Errorf("cellName(%d, %d) = %q, want %q", c.col, c.row, got, c.want)
+		}
+	}
+}
+
+var hostileUpdate = flag.Bool("hostile.update", false, "rewrite the cases of testdata/hostile made by these tests")
+
+// hostileRoot is the corpus of hostile inputs that cmd/grantworth's test
+// runs through value in a child process.
+var hostileRoot = filepath.Join("..", "testdata", "hostile")
+
+// writeHostile records a case of the corpus under -hostile.update: its
+// files, and in want.txt the start of the message that value must print
+// (up to any parenthesis after the cell). A test that failed writes nothing.
+func writeHostile(t *testing.T, name string, files map[string][]byte) {
+	t.Helper()
+	if !*hostileUpdate || t.Failed() {
+		return
+	}
+	msg := t.Name() // replaced by the logged error below
+	if e, ok := lastErr[t.Name()]; ok {
+		msg = e
+	}
+	dir := filepath.Join(hostileRoot, strings.ReplaceAll(name, " ", "-"))
+	if err := os.RemoveAll(dir); err != nil {
+		t.Fatal(err)
+	}
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		t.Fatal(err)
+	}
+	for n, b := range files {
+		if err := os.WriteFile(filepath.Join(dir, n), b, 0o644); err != nil {
+			t.Fatal(err)
+		}
+	}
+	if i := strings.Index(msg, ": "); i > 0 {
+		if j := strings.IndexAny(msg[i+2:], "(\n"); j > 0 {
+			msg = msg[:i+2+j]
+		}
+	}
+	msg = strings.TrimSpace(msg)
+	if err := os.WriteFile(filepath.Join(dir, "want.txt"), []byte(msg+"\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+}
+
+// lastErr holds, by test name, the message a hostile case gave.
+var lastErr = map[string]string{}
+
+func TestCountAndSizeText(t *testing.T) {
+	for n, want := range map[int]string{0: "0", 999: "999", 1000: "1,000", 32767: "32,767", 1048576: "1,048,576", -1234: "-1,234"} {
+		if got := countText(n); got != want {
+			t.Errorf("countText(%d) = %q, want %q", n, got, want)
+		}
+	}
+	for n, want := range map[int64]string{64 << 20: "64 MiB", 3 << 30: "3,072 MiB", 67108873: "67,108,873 bytes", 10: "10 bytes"} {
+		if got := sizeText(n); got != want {
+			t.Errorf("sizeText(%d) = %q, want %q", n, got, want)
 		}
 	}
 }

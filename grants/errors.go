@@ -3,6 +3,7 @@ package grants
 import (
 	"errors"
 	"fmt"
+	"strconv"
 	"strings"
 	"unicode/utf8"
 )
@@ -176,4 +177,27 @@ func writeQuoted(b *strings.Builder, v string) {
 		i += size
 	}
 	fmt.Fprintf(b, "%q (%d characters) ", v[:i]+"…", n)
+}
+
+// countText writes n with thousands separators: 200,000.
+func countText(n int) string {
+	s := strconv.Itoa(n)
+	neg := strings.HasPrefix(s, "-")
+	s = strings.TrimPrefix(s, "-")
+	for i := len(s) - 3; i > 0; i -= 3 {
+		s = s[:i] + "," + s[i:]
+	}
+	if neg {
+		s = "-" + s
+	}
+	return s
+}
+
+// sizeText writes a size in bytes: whole MiB as such ("64 MiB"), anything
+// else in bytes with separators.
+func sizeText(n int64) string {
+	if n >= 1<<20 && n%(1<<20) == 0 {
+		return countText(int(n>>20)) + " MiB"
+	}
+	return countText(int(n)) + " bytes"
 }

@@ -12,6 +12,9 @@ type Source struct {
 	Value float64
 	Ref   Ref    // the cell it was read from; the zero Ref for a default
 	Text  string // for the memo, e.g. "Share Prices!B7 (valuation of 2025-03-31)"
+	// Since is the effective_date of the Assumptions row it came from;
+	// zero for an undated row and for every other source.
+	Since time.Time
 }
 
 // Inputs is everything the valuation needs for one grant, with provenance.
@@ -39,9 +42,10 @@ type Inputs struct {
 //
 // The share price is the grant row's share_price, else the Share Prices
 // row in force at the measurement date. Volatility and dividend yield are
-// the row's overrides, else the Assumptions. The exercise multiple and
-// post-vesting exit rate describe employees: options take the row's
-// overrides, else the Assumptions; warrants take only the row's (default
+// the row's overrides, else the Assumptions in force at the measurement
+// date (Assumptions.At). The exercise multiple and post-vesting exit rate
+// describe employees: options take the row's overrides, else the
+// Assumptions in force; warrants take only the row's (default
 // none); RSUs have neither. The curve is the latest Rates curve dated on or
 // before the measurement date. For an RSU, YearsToExpiry equals
 // YearsToVest and the strike is 0. American warrants get Rational, european
@@ -72,25 +76,9 @@ func (s *Schedule) Inputs(g Grant) (Inputs, error) {
 		return fail("share_price", "no share price is known at %s for grant %s", isoDay(md), g.ID)
 	}
 
-	a := &s.Assumptions
-	assumed := func(key string, v float64) Source {
-		r, ok := a.Refs[key]
-		if !ok && a.Refs == nil { // built in code: every value given
-			text := "Assumptions"
-			if src := a.Sources[key]; src != "" {
-				text = src
-			}
-			return Source{Value: v, Text: text}
-		}
-		if !ok {
-			return Source{Value: v, Text: "default"}
-		}
-		text := r.String()
-		if src := a.Sources[key]; src != "" {
-			text = src + " (" + r.String() + ")"
-		}
-		return Source{Value: v, Ref: r, Text: text}
-	}
+	view := s.Assumptions.At(md)
+	a := &view
+	assumed := func(key string, v float64) Source { return a.source(key, v) }
 	override := func(key string, p *float64, fallback Source) Source {
 		if p == nil {
 			return fallback
@@ -170,6 +158,38 @@ func (s *Schedule) Inputs(g Grant) (Inputs, error) {
 		return fail("grant_date", "no Rates curve is dated on or before %s, the measurement date of grant %s", isoDay(md), g.ID)
 	}
 	return in, nil
+}
+
+// source is the Source of key, whose value in a (a view made by At) is v:
+// its cell and source text, and the date the row is in force from.
+func (a *Assumptions) source(key string, v float64) Source {
+	since := ""
+	if d, ok := a.Since[key]; ok {
+		since = "in force from " + isoDay(d)
+	}
+	r, ok := a.Refs[key]
+	if !ok && a.Refs == nil { // built in code: every value given
+		text := "Assumptions"
+		if src := a.Sources[key]; src != "" {
+			text = src
+		}
+		if since != "" {
+			text += " (" + since + ")"
+		}
+		return Source{Value: v, Text: text, Since: a.Since[key]}
+	}
+	if !ok {
+		return Source{Value: v, Text: "default"}
+	}
+	where := r.String()
+	if since != "" {
+		where += ", " + since
+	}
+	text := where
+	if src := a.Sources[key]; src != "" {
+		text = src + " (" + where + ")"
+	}
+	return Source{Value: v, Ref: r, Text: text, Since: a.Since[key]}
 }
 
 // has reports whether key was given on the Assumptions sheet (for

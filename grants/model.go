@@ -114,7 +114,9 @@ const (
 )
 
 // Assumptions is the Assumptions sheet: company-wide defaults that a grant
-// row may override.
+// row may override. The fields hold the rows without an effective_date,
+// which apply from the beginning; Dated holds the rows with one. At gives
+// the values in force on a date.
 type Assumptions struct {
 	Volatility               float64
 	DividendYield            float64
@@ -126,6 +128,24 @@ type Assumptions struct {
 	Steps                    int               // 0 = auto
 	Sources                  map[string]string // by key: the text of the source column
 	Refs                     map[string]Ref    // by key: where the value came from
+	// Dated are the rows with an effective_date, in sheet order.
+	Dated []AssumptionRow
+	// Since is, in a view made by At, the effective_date of each key's
+	// row in force (absent for an undated row or a default).
+	Since map[string]time.Time
+}
+
+// AssumptionRow is a row of the Assumptions sheet with an effective_date:
+// the value of Key from Effective on. Value holds a number or percentage
+// (steps as a number, 0 for auto); Text holds attribution and forfeitures.
+type AssumptionRow struct {
+	Key       string
+	Effective time.Time
+	Value     float64
+	Text      string
+	Source    string
+	Ref       Ref // the value's cell
+	DateRef   Ref // the effective_date's cell
 }
 
 // Grant is one row of the Grants sheet, with defaults filled in

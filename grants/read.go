@@ -7,10 +7,10 @@ import (
 	"io/fs"
 	"os"
 	"path/filepath"
+	"strconv"
 	"strings"
 	"time"
-
-	"github.com/xuri/excelize/v2"
+	"unicode/utf8"
 )
 
 // Limits against files built to exhaust memory or time. Each is checked
@@ -20,12 +20,31 @@ import (
 const (
 	MaxFileSize          = 64 << 20  // bytes of an .xlsx file or of one CSV file
 	MaxUnzipSize         = 256 << 20 // bytes of the parts of an .xlsx file read, once unzipped
-	MaxRows              = 1_000_000 // rows of one sheet
+	MaxRows              = 1_000_000 // rows of one sheet, by row number
+	MaxGrants            = 200_000   // rows of the Grants sheet with anything in them
 	MaxColumns           = 256       // non-empty columns of one row
 	MaxCellChars         = 32767     // characters of one cell, a spreadsheet cell's own limit
 	MaxSharedStrings     = 2_000_000 // strings in a workbook's shared-strings table
 	MaxSharedStringBytes = 64 << 20  // bytes of text in that table
 )
+
+// Lengths of the text fields kept and printed, in characters. Longer text
+// is an error naming the cell: a grant id or a holder is a short label, and
+// unbounded text would fill the memo with pages.
+const (
+	MaxIDChars     = 64  // grant_id
+	MaxNameChars   = 200 // holder, company_name
+	MaxSourceChars = 500 // the source of an assumption
+	MaxHeaderChars = 100 // a header or a key
+)
+
+// textLimit gives the longest text allowed in a column read as text.
+var textLimit = map[string]int{"grant_id": MaxIDChars, "holder": MaxNameChars, "company_name": MaxNameChars}
+
+// tooLong reports whether v has more than limit characters.
+func tooLong(v string, limit int) bool {
+	return len(v) > limit && utf8.RuneCountInString(v) > limit
+}
 
 // maxCellBytes bounds the UTF-8 bytes of one cell's text (four bytes at most
 // per character).
@@ -48,7 +67,9 @@ type rowIter interface {
 	// emptyIsFormula reports whether the empty cell at col, row (1-based)
 	// holds a formula with no saved value.
 	emptyIsFormula(col, row int) bool
-	close() error
+	// close releases the sheet; with drain it first reads the rest of
+	// it, and returns any error found there.
+	close(drain bool) error
 }
 
 // ReadFile reads the schedule at path: an .xlsx workbook or a folder of CSV
@@ -70,12 +91,15 @@ func ReadFile(path string) (*Schedule, *Report, error) {
 		return s, rep, err
 	}
 	name := filepath.Base(path)
+	if !st.Mode().IsRegular() {
+		return nil, nil, &CellError{Sheet: name, Err: ErrFormat, Msg: "is " + fileKind(st.Mode().Type()) + ", not a workbook file or a folder of CSV files"}
+	}
 	if strings.EqualFold(filepath.Ext(path), ".csv") {
 		return nil, nil, &CellError{Sheet: name, Err: ErrFormat,
 			Msg: "is one CSV file; give the folder that holds grants.csv, company.csv and the other sheets"}
 	}
 	if st.Size() > MaxFileSize {
-		return nil, nil, &CellError{Sheet: name, Err: ErrTooLarge, Msg: fmt.Sprintf("is %d bytes, more than the %d bytes allowed", st.Size(), MaxFileSize)}
+		return nil, nil, &CellError{Sheet: name, Err: ErrTooLarge, Msg: fmt.Sprintf("is %s, more than the %s allowed", sizeText(st.Size()), sizeText(MaxFileSize))}
 	}
 	f, err := os.Open(path)
 	if err != nil {
@@ -96,7 +120,7 @@ func ReadFile(path string) (*Schedule, *Report, error) {
 // naming the sheet: never a shorter schedule.
 func ReadXLSX(r io.ReaderAt, size int64) (s *Schedule, rep *Report, err error) {
 	if size > MaxFileSize {
-		return nil, nil, &CellError{Err: ErrTooLarge, Msg: fmt.Sprintf("is %d bytes, more than the %d bytes allowed", size, MaxFileSize)}
+		return nil, nil, &CellError{Err: ErrTooLarge, Msg: fmt.Sprintf("is %s, more than the %s allowed", sizeText(size), sizeText(MaxFileSize))}
 	}
 	if size == 0 {
 		return nil, nil, &CellError{Err: ErrFormat, Msg: "is empty, not an .xlsx workbook"}
@@ -115,15 +139,8 @@ func ReadCSVDir(fsys fs.FS) (*Schedule, *Report, error) {
 	if err != nil {
 		return nil, nil, err
 	}
-	src := &csvSource{fsys: fsys, files: map[string]string{}}
-	for _, e := range ents {
-		if e.IsDir() || !strings.EqualFold(filepath.Ext(e.Name()), ".csv") {
-			continue
-		}
-		sheet := strings.TrimSuffix(e.Name(), filepath.Ext(e.Name()))
-		src.names = append(src.names, sheet)
-		src.files[sheet] = e.Name()
-	}
+	src := &csvSource{fsys: fsys}
+	src.names, src.files, src.types = csvSheets(ents)
 	if len(src.names) == 0 {
 		return nil, nil, &CellError{Sheet: ".", Err: ErrFormat, Msg: "holds no .csv files"}
 	}
@@ -183,7 +200,7 @@ func read(src source) (*Schedule, *Report, error) {
 		} else {
 			t.readTable()
 		}
-		err = it.close()
+		err = it.close(t.fatal == nil)
 		if t.fatal != nil {
 			return nil, nil, t.fatal
 		}
@@ -221,6 +238,7 @@ type tableReader struct {
 	it    rowIter
 	d1904 bool
 	fatal error // the error that stopped the whole read
+	count int   // rows returned by nextRow
 	// broken is set when the sheet could not be read to its end; the
 	// error has been reported, and nothing more is said of what is missing.
 	broken bool
@@ -249,7 +267,7 @@ func (t *tableReader) nextRow() (int, []string, bool) {
 		}
 		if n > MaxRows {
 			t.broken = true
-			t.fatal = &CellError{Sheet: t.sh.Name, Cell: cellName(1, n), Err: ErrTooLarge, Msg: fmt.Sprintf("sheet has more than %d rows", MaxRows)}
+			t.fatal = &CellError{Sheet: t.sh.Name, Cell: cellName(1, n), Err: ErrTooLarge, Msg: fmt.Sprintf("the sheet has more than %s rows", countText(MaxRows))}
 			return 0, nil, false
 		}
 		blank := true
@@ -276,21 +294,32 @@ func (t *tableReader) nextRow() (int, []string, bool) {
 			}
 		}
 		if !blank {
+			t.count++
+			if t.sh.Name == SheetGrants && t.count > MaxGrants+1 { // and the header
+				t.broken = true
+				t.fatal = &CellError{Sheet: t.sh.Name, Cell: cellName(1, n), Err: ErrTooLarge,
+					Msg: fmt.Sprintf("the sheet has more than %s grant rows; grantworth values at most %s grants in one run", countText(MaxGrants), countText(MaxGrants))}
+				return 0, nil, false
+			}
 			return n, cells, true
 		}
 	}
 	return 0, nil, false
 }
 
+// cellName is the A1-style name of a cell ("AB12"), or "" for a position
+// outside a sheet.
 func cellName(col, row int) string {
-	if col < 1 || row < 1 {
+	if col < 1 || row < 1 || col > maxSheetColumns || row > MaxRows+maxSheetRows {
 		return ""
 	}
-	name, err := excelize.CoordinatesToCellName(col, row)
-	if err != nil {
-		return ""
+	var b [16]byte
+	i := 3
+	for c := col; c > 0; c = (c - 1) / 26 {
+		i--
+		b[i] = byte('A' + (c-1)%26)
 	}
-	return name
+	return string(strconv.AppendInt(b[i:3], int64(row), 10))
 }
 
 func (t *tableReader) readTable() {
@@ -303,6 +332,10 @@ func (t *tableReader) readTable() {
 	}
 	cols := map[string]int{}
 	for i, h := range head {
+		if tooLong(h, MaxHeaderChars) {
+			t.rep.errf(Ref{Sheet: t.sh.Name, Cell: cellName(i+1, hrow)}, "", h, ErrTooLarge, "is longer than any column name (at most %d characters)", MaxHeaderChars)
+			continue
+		}
 		n := norm(h)
 		if n == "" {
 			continue
@@ -340,7 +373,7 @@ func (t *tableReader) readTable() {
 		if !ok {
 			return
 		}
-		c := &rowCtx{t: t, row: n, cells: cells, cols: cols, refs: map[string]Ref{}}
+		c := &rowCtx{t: t, row: n, cells: cells, cols: cols, refs: make(map[string]Ref, len(cells))}
 		switch t.sh.Name {
 		case SheetGrants:
 			t.grantRow(c)
@@ -411,6 +444,10 @@ func (c *rowCtx) text(key string) (string, bool) {
 		if c.t.it.emptyIsFormula(i+1, c.row) {
 			c.fail(key, "", ErrNoCachedValue)
 		}
+		return "", false
+	}
+	if limit, ok := textLimit[key]; ok && tooLong(v, limit) {
+		c.failf(key, v, ErrTooLarge, "is longer than the %d characters allowed for %s", limit, key)
 		return "", false
 	}
 	c.refs[key] = c.ref(key)
@@ -687,7 +724,10 @@ func (t *tableReader) eventRow(c *rowCtx) {
 // readKeyValue reads Company or Assumptions: rows of key, value and
 // (Assumptions) source. A header row "key, value, source" is optional.
 func (t *tableReader) readKeyValue() {
-	kc, vc, sc := 0, 1, 2
+	kc, vc, sc, ec := 0, 1, 2, -1
+	if t.sh.Name == SheetAssumptions {
+		ec = 3
+	}
 	first := true
 	seen := map[string]Ref{}
 	for {
@@ -698,8 +738,12 @@ func (t *tableReader) readKeyValue() {
 		if first {
 			first = false
 			if len(cells) > 0 && norm(cells[0]) == "key" {
-				kc, vc, sc = -1, -1, -1
+				kc, vc, sc, ec = -1, -1, -1, -1
 				for i, h := range cells {
+					if tooLong(h, MaxHeaderChars) {
+						t.rep.errf(Ref{Sheet: t.sh.Name, Cell: cellName(i+1, n)}, "", h, ErrTooLarge, "is longer than any column name (at most %d characters)", MaxHeaderChars)
+						continue
+					}
 					switch norm(h) {
 					case "key":
 						kc = i
@@ -708,8 +752,14 @@ func (t *tableReader) readKeyValue() {
 					case "source":
 						sc = i
 					case "":
+					case "effectivedate":
+						if t.sh.Name == SheetAssumptions {
+							ec = i
+							break
+						}
+						t.rep.warnf(Ref{Sheet: t.sh.Name, Cell: cellName(i+1, n)}, "", h, ErrUnknown, "is not a column grantworth reads (%s); it is ignored", keyValueColumns(t.sh.Name))
 					default:
-						t.rep.warnf(Ref{Sheet: t.sh.Name, Cell: cellName(i+1, n)}, "", h, ErrUnknown, "is not a column grantworth reads (key, value, source); it is ignored")
+						t.rep.warnf(Ref{Sheet: t.sh.Name, Cell: cellName(i+1, n)}, "", h, ErrUnknown, "is not a column grantworth reads (%s); it is ignored", keyValueColumns(t.sh.Name))
 					}
 				}
 				if vc < 0 {
@@ -728,6 +778,10 @@ func (t *tableReader) readKeyValue() {
 			t.rep.errf(keyRef, "key", "", ErrRequired, "has a value but no key")
 			continue
 		}
+		if tooLong(key, MaxHeaderChars) {
+			t.rep.errf(keyRef, "key", key, ErrTooLarge, "is longer than any key (at most %d characters)", MaxHeaderChars)
+			continue
+		}
 		col := (*Column)(nil)
 		for i := range t.sh.Columns {
 			if norm(t.sh.Columns[i].Key) == norm(key) {
@@ -738,20 +792,30 @@ func (t *tableReader) readKeyValue() {
 			t.rep.warnf(keyRef, "key", key, ErrUnknown, "is not a key grantworth reads; it is ignored")
 			continue
 		}
+		c := &rowCtx{t: t, row: n, cells: cells, cols: map[string]int{col.Key: vc}, refs: map[string]Ref{}}
+		src := ""
+		if sc >= 0 && sc < len(cells) {
+			src = strings.TrimSpace(cells[sc])
+			if tooLong(src, MaxSourceChars) {
+				t.rep.errf(Ref{Sheet: t.sh.Name, Cell: cellName(sc+1, n)}, "source", src, ErrTooLarge, "is longer than the %d characters allowed for the source of %s", MaxSourceChars, col.Key)
+				src = ""
+			}
+		}
+		if ec >= 0 && ec < len(cells) && strings.TrimSpace(cells[ec]) != "" {
+			t.datedAssumption(c, col, ec, src, keyRef, seen)
+			continue
+		}
 		if prev, dup := seen[col.Key]; dup {
 			t.rep.errf(keyRef, "key", key, ErrDuplicate, "is given twice (also %s)", prev.Cell)
 			continue
 		}
 		seen[col.Key] = keyRef
-		c := &rowCtx{t: t, row: n, cells: cells, cols: map[string]int{col.Key: vc}, refs: map[string]Ref{}}
 		if t.sh.Name == SheetCompany {
 			t.companyValue(c, col)
 		} else {
-			t.assumptionValue(c, col)
-			if sc >= 0 && sc < len(cells) {
-				if src := strings.TrimSpace(cells[sc]); src != "" {
-					t.s.Assumptions.Sources[col.Key] = src
-				}
+			t.assumptionValue(c, col, &t.s.Assumptions)
+			if src != "" {
+				t.s.Assumptions.Sources[col.Key] = src
 			}
 		}
 		for k, r := range c.refs {
@@ -763,7 +827,7 @@ func (t *tableReader) readKeyValue() {
 		}
 	}
 	for _, col := range t.sh.Columns {
-		if _, ok := seen[col.Key]; col.Required && !ok && !t.broken {
+		if _, ok := seen[col.Key]; col.Required && !ok && !t.broken && !t.s.Assumptions.dated(col.Key) {
 			t.rep.errf(Ref{Sheet: t.sh.Name, Cell: cellName(1, 1)}, col.Key, "", ErrRequired, "key is missing; add a row %s with its value", col.Key)
 		}
 	}
@@ -826,8 +890,53 @@ func isCurrency(s string) bool {
 	return true
 }
 
-func (t *tableReader) assumptionValue(c *rowCtx, col *Column) {
-	a := &t.s.Assumptions
+// keyValueColumns lists the columns of a key-value sheet, for messages.
+func keyValueColumns(sheet string) string {
+	if sheet == SheetAssumptions {
+		return "key, value, source, effective_date"
+	}
+	return "key, value, source"
+}
+
+// datedAssumption reads a row of Assumptions with an effective_date (in
+// column ec) into Assumptions.Dated. seen holds the undated keys, and the
+// dated ones as key@date, with their cells.
+func (t *tableReader) datedAssumption(c *rowCtx, col *Column, ec int, src string, keyRef Ref, seen map[string]Ref) {
+	c.cols["effective_date"] = ec
+	eff, ok := c.date("effective_date", false)
+	if !ok {
+		return
+	}
+	k := col.Key + "@" + isoDay(eff)
+	if prev, dup := seen[k]; dup {
+		t.rep.errf(keyRef, "key", col.Key, ErrDuplicate, "is given twice with effective_date %s (also %s)", isoDay(eff), prev.Cell)
+		return
+	}
+	seen[k] = keyRef
+	var x Assumptions
+	if t.assumptionValue(c, col, &x); c.failed {
+		return
+	}
+	if _, given := c.refs[col.Key]; !given {
+		c.failf(col.Key, "", ErrRequired, "is required on a row with an effective_date")
+		return
+	}
+	r := x.row(col.Key)
+	r.Effective, r.Source, r.Ref, r.DateRef = eff, src, c.refs[col.Key], c.refs["effective_date"]
+	t.s.Assumptions.Dated = append(t.s.Assumptions.Dated, r)
+}
+
+// dated reports whether a row with an effective_date gives key.
+func (a *Assumptions) dated(key string) bool {
+	for _, r := range a.Dated {
+		if r.Key == key {
+			return true
+		}
+	}
+	return false
+}
+
+func (t *tableReader) assumptionValue(c *rowCtx, col *Column, a *Assumptions) {
 	switch col.Key {
 	case "volatility":
 		a.Volatility, _ = c.percent(col.Key, false)

@@ -4,7 +4,6 @@ import (
 	"bytes"
 	"errors"
 	"math/rand/v2"
-	"os"
 	"strings"
 	"testing"
 	"testing/fstest"
@@ -146,7 +145,7 @@ func TestReadLimits(t *testing.T) {
 	}
 	fs := baseCSV()
 	fs["grants.csv"] = &fstest.MapFile{Data: append([]byte("grant_id,"), bytes.Repeat([]byte("x"), MaxFileSize)...)}
-	if _, _, err := ReadCSVDir(fs); !errors.Is(err, ErrTooLarge) || !strings.HasPrefix(err.Error(), "Grants: grants.csv is more than") {
+	if _, _, err := ReadCSVDir(fs); !errors.Is(err, ErrTooLarge) || !strings.HasPrefix(err.Error(), "Grants: grants.csv is 67,108,873 bytes, more than the 64 MiB allowed") {
 		t.Errorf("oversized CSV: %v", err)
 	}
 	wide := "grant_id" + strings.Repeat(",", MaxColumns) + "x\n"
@@ -242,32 +241,16 @@ func FuzzReadCSV(f *testing.F) {
 	})
 }
 
+// FuzzReadXLSX fuzzes whole files: the archive layer (damaged entries,
+// sizes, checksums) and what lies behind it. The seeds are the smallest
+// workbook and the damaged workbooks of testdata/hostile; FuzzWorkbookParts
+// and FuzzSheetXML reach the XML readers faster.
 func FuzzReadXLSX(f *testing.F) {
-	var buf bytes.Buffer
-	if err := WriteXLSX(&buf, smallSchedule()); err != nil {
-		f.Fatal(err)
-	}
-	f.Add(buf.Bytes())
-	if b, err := os.ReadFile("testdata/malformed/xlsx-formula-without-value/schedule.xlsx"); err == nil {
-		f.Add(b)
-	}
+	f.Add(tinyBook([]byte(tinyWorkbook), []byte(tinySST), []byte(tinySheet)))
 	f.Add([]byte("PK\x03\x04"))
 	f.Add([]byte{})
-	f.Fuzz(func(t *testing.T, data []byte) {
-		_, rep, err := ReadXLSX(bytes.NewReader(data), int64(len(data)))
-		if err != nil {
-			var ce *CellError
-			if !errors.As(err, &ce) {
-				t.Fatalf("error %v is not a *CellError", err)
-			}
-			return
-		}
-		for _, e := range rep.Errors {
-			if e.Sheet == "" {
-				t.Fatalf("problem without a sheet: %#v", e)
-			}
-		}
-	})
+	hostileSeeds(f)
+	f.Fuzz(checkReadXLSX)
 }
 
 func TestReadMoreWarnings(t *testing.T) {

@@ -128,6 +128,12 @@ func (v *validator) vol(sheet string, row int, refs map[string]Ref, x float64) {
 	}
 }
 
+func (v *validator) yield(sheet string, row int, refs map[string]Ref, x float64) {
+	if x < 0 || x >= 1 {
+		v.rep.errf(v.s.cell(sheet, "dividend_yield", row, refs), "dividend_yield", num(x), ErrRange, "must be at least 0 and below 1 (100%%)")
+	}
+}
+
 func (v *validator) multiple(sheet string, row int, refs map[string]Ref, x float64) {
 	if x != 0 && x <= 1 || x < 0 || x > 100 {
 		v.rep.errf(v.s.cell(sheet, "exercise_multiple", row, refs), "exercise_multiple", num(x), ErrRange, "must be 0 (no such rule) or above 1, up to 100 times the strike")
@@ -139,17 +145,38 @@ func (v *validator) assumptions() {
 	sh := SheetAssumptions
 	if a.has("volatility") {
 		v.vol(sh, 0, a.Refs, a.Volatility)
-	} else {
-		for _, g := range v.s.Grants {
-			if g.Volatility == nil && g.Instrument != RSU {
-				v.rep.errf(Ref{Sheet: sh}, "volatility", "", ErrRequired, "key is missing, and grant %s (%s) gives none", g.ID, v.s.cell(SheetGrants, "volatility", g.Row, g.Refs))
-				break
-			}
+	}
+	for _, g := range v.s.Grants {
+		if g.Volatility != nil || g.Instrument == RSU {
+			continue
+		}
+		md := v.s.MeasurementDate(g)
+		if at := a.At(md); at.has("volatility") {
+			continue
+		}
+		if !a.dated("volatility") {
+			v.rep.errf(Ref{Sheet: sh}, "volatility", "", ErrRequired, "key is missing, and grant %s (%s) gives none", g.ID, v.s.cell(SheetGrants, "volatility", g.Row, g.Refs))
+		} else {
+			v.rep.errf(Ref{Sheet: sh}, "volatility", "", ErrRequired, "has no row in force on %s, the measurement date of grant %s (%s gives none): add a row without effective_date or one dated on or before it", isoDay(md), g.ID, v.s.cell(SheetGrants, "volatility", g.Row, g.Refs))
+		}
+		break
+	}
+	for _, r := range a.Dated {
+		refs := map[string]Ref{r.Key: r.Ref}
+		switch r.Key {
+		case "volatility":
+			v.vol(sh, 0, refs, r.Value)
+		case "dividend_yield":
+			v.yield(sh, 0, refs, r.Value)
+		case "exercise_multiple":
+			v.multiple(sh, 0, refs, r.Value)
+		case "post_vesting_exit_rate":
+			v.rate(sh, r.Key, 0, refs, r.Value, "the annual share of vested holders who leave")
+		case "pre_vesting_forfeiture_rate":
+			v.rate(sh, r.Key, 0, refs, r.Value, "the annual share of unvested holders who leave")
 		}
 	}
-	if a.DividendYield < 0 || a.DividendYield >= 1 {
-		v.rep.errf(v.s.cell(sh, "dividend_yield", 0, a.Refs), "dividend_yield", num(a.DividendYield), ErrRange, "must be at least 0 and below 1 (100%%)")
-	}
+	v.yield(sh, 0, a.Refs, a.DividendYield)
 	v.multiple(sh, 0, a.Refs, a.ExerciseMultiple)
 	v.rate(sh, "post_vesting_exit_rate", 0, a.Refs, a.PostVestingExitRate, "the annual share of vested holders who leave")
 	v.rate(sh, "pre_vesting_forfeiture_rate", 0, a.Refs, a.PreVestingForfeitureRate, "the annual share of unvested holders who leave")
@@ -262,8 +289,8 @@ func (v *validator) grants() {
 		if g.Volatility != nil {
 			v.vol(SheetGrants, g.Row, g.Refs, *g.Volatility)
 		}
-		if g.DividendYield != nil && (*g.DividendYield < 0 || *g.DividendYield >= 1) {
-			v.rep.errf(ref("dividend_yield"), "dividend_yield", num(*g.DividendYield), ErrRange, "must be at least 0 and below 1 (100%%)")
+		if g.DividendYield != nil {
+			v.yield(SheetGrants, g.Row, g.Refs, *g.DividendYield)
 		}
 		if g.ExerciseMultiple != nil {
 			v.multiple(SheetGrants, g.Row, g.Refs, *g.ExerciseMultiple)

@@ -153,7 +153,7 @@ func writeTable(f *excelize.File, sh *Sheet, rows [][]any, st cellStyles) error 
 func writeKeyValue(f *excelize.File, sh *Sheet, rows [][]any, st cellStyles) error {
 	head := []any{"key", "value"}
 	if sh.Name == SheetAssumptions {
-		head = append(head, "source")
+		head = append(head, "source", "effective_date")
 	}
 	if err := f.SetSheetRow(sh.Name, "A1", &head); err != nil {
 		return err
@@ -165,6 +165,12 @@ func writeKeyValue(f *excelize.File, sh *Sheet, rows [][]any, st cellStyles) err
 	_ = f.SetColWidth(sh.Name, "A", "A", 30)
 	_ = f.SetColWidth(sh.Name, "B", "B", 18)
 	_ = f.SetColWidth(sh.Name, "C", "C", 60)
+	if sh.Name == SheetAssumptions {
+		_ = f.SetColWidth(sh.Name, "D", "D", 14)
+		if err := f.SetCellStyle(sh.Name, "D2", fmt.Sprintf("D%d", max(len(rows)+1, 40)), st.date); err != nil {
+			return err
+		}
+	}
 	for r, row := range rows {
 		n := r + 2
 		cell, _ := excelize.CoordinatesToCellName(1, n)
@@ -215,6 +221,9 @@ func writeAbout(f *excelize.File, st cellStyles) error {
 				kind = "one of: " + joinComma(ch)
 			}
 			lines = append(lines, []any{"", c.Key, kind, c.Unit, c.Need, c.Default, c.Help})
+		}
+		for _, c := range sh.KeyColumns {
+			lines = append(lines, []any{"", c.Key + " (column)", c.Kind.String(), c.Unit, c.Need, c.Default, c.Help})
 		}
 	}
 	for i, l := range lines {
@@ -380,6 +389,23 @@ func assumptionRows(s *Schedule) [][]any {
 			rows[i] = append(rows[i], src)
 		}
 	}
+	for _, r := range a.Dated {
+		var v any = r.Value
+		switch r.Key {
+		case "attribution", "forfeitures":
+			v = r.Text
+		case "steps":
+			v = any("auto")
+			if r.Value > 0 {
+				v = int64(r.Value)
+			}
+		}
+		var src any
+		if r.Source != "" {
+			src = r.Source
+		}
+		rows = append(rows, []any{r.Key, v, src, r.Effective})
+	}
 	return rows
 }
 
@@ -398,7 +424,7 @@ func WriteCSVDir(dir string, s *Schedule) error {
 		if sh.KeyValue {
 			head = []string{"key", "value"}
 			if sh.Name == SheetAssumptions {
-				head = append(head, "source")
+				head = append(head, "source", "effective_date")
 			}
 		} else {
 			for _, c := range sh.Columns {

@@ -184,7 +184,7 @@ func checkZipEntries(r io.ReaderAt, size int64) error {
 		return nil // the zip reader gives the error
 	}
 	if n := binary.LittleEndian.Uint16(buf[i+10:]); int(n) > maxZipEntries {
-		return bookError(ErrTooLarge, "is an archive of %d or more parts; a workbook has a few dozen (at most %d are read)", n, maxZipEntries)
+		return bookError(ErrTooLarge, "is an archive of %s or more parts; a workbook has a few dozen (at most %s are read)", countText(int(n)), countText(maxZipEntries))
 	}
 	return nil
 }
@@ -204,7 +204,7 @@ func (c *countingReader) Read(p []byte) (int, error) {
 	n, err := c.r.Read(p)
 	c.b.unzipped += int64(n)
 	if c.b.unzipped > MaxUnzipSize {
-		return n, bookError(ErrTooLarge, "unzips to more than %d bytes (at %s); a grant schedule is far smaller", MaxUnzipSize, c.part)
+		return n, bookError(ErrTooLarge, "unzips to more than %s (at %s); a grant schedule is far smaller", sizeText(MaxUnzipSize), c.part)
 	}
 	return n, err
 }
@@ -217,7 +217,7 @@ func (b *xlsxBook) open(name string) (io.ReadCloser, error) {
 		return nil, bookError(ErrDamaged, "is a damaged workbook (%s is missing)", name)
 	}
 	if rest := MaxUnzipSize - b.unzipped; f.UncompressedSize64 > uint64(rest) {
-		return nil, bookError(ErrTooLarge, "unzips to more than %d bytes (%s alone is %d bytes); a grant schedule is far smaller", MaxUnzipSize, name, f.UncompressedSize64)
+		return nil, bookError(ErrTooLarge, "unzips to more than %s (%s alone is %s); a grant schedule is far smaller", sizeText(MaxUnzipSize), name, sizeText(int64(min(f.UncompressedSize64, 1<<62))))
 	}
 	rc, err := f.Open()
 	if err != nil {
@@ -262,7 +262,7 @@ func (b *xlsxBook) partErr(part string, err error) error {
 		return ce
 	}
 	if errors.Is(err, errTextTooLong) {
-		return bookError(ErrTooLarge, "holds a run of text longer than %d characters in %s, more than a spreadsheet cell holds", MaxCellChars, part)
+		return bookError(ErrTooLarge, "holds a run of text longer than %s characters in %s, more than a spreadsheet cell holds", countText(MaxCellChars), part)
 	}
 	return damaged(part, err)
 }
@@ -316,7 +316,7 @@ func (b *xlsxBook) readSharedStrings(name string) error {
 			switch string(local(s.name)) {
 			case "si":
 				if len(sst.ends) >= MaxSharedStrings {
-					return bookError(ErrTooLarge, "has more than %d shared strings; a grant schedule has far fewer", MaxSharedStrings)
+					return bookError(ErrTooLarge, "has more than %s shared strings; a grant schedule has far fewer", countText(MaxSharedStrings))
 				}
 				inSI, start = true, len(sst.text)
 			case "rPh":
@@ -327,10 +327,10 @@ func (b *xlsxBook) readSharedStrings(name string) error {
 		case tokText:
 			if inT {
 				if len(sst.text)-start+len(s.text) > maxCellBytes {
-					return bookError(ErrTooLarge, "holds a shared string longer than %d characters, more than a spreadsheet cell holds", MaxCellChars)
+					return bookError(ErrTooLarge, "holds a shared string longer than %s characters, more than a spreadsheet cell holds", countText(MaxCellChars))
 				}
 				if len(sst.text)+len(s.text) > MaxSharedStringBytes {
-					return bookError(ErrTooLarge, "has more than %d bytes of shared strings; a grant schedule has far fewer", MaxSharedStringBytes)
+					return bookError(ErrTooLarge, "has more than %s of shared strings; a grant schedule has far fewer", sizeText(MaxSharedStringBytes))
 				}
 				sst.text = append(sst.text, s.text...)
 			}
@@ -345,7 +345,7 @@ func (b *xlsxBook) readSharedStrings(name string) error {
 						return damaged(name, fmt.Errorf("shared string %d is not UTF-8 text", len(sst.ends)))
 					}
 					if utf8.RuneCount(sst.text[start:]) > MaxCellChars {
-						return bookError(ErrTooLarge, "holds a shared string longer than %d characters, more than a spreadsheet cell holds", MaxCellChars)
+						return bookError(ErrTooLarge, "holds a shared string longer than %s characters, more than a spreadsheet cell holds", countText(MaxCellChars))
 					}
 					sst.ends = append(sst.ends, uint32(len(sst.text)))
 				}
@@ -470,9 +470,10 @@ func (x *xlsxRows) emptyIsFormula(col, row int) bool {
 }
 
 // close reads the rest of the part, so that damage after the last row
-// read is still found, and releases it.
-func (x *xlsxRows) close() error {
-	for x.err == nil && !x.done {
+// read is still found, and releases it. With drain false (the read is being
+// abandoned) it only releases it.
+func (x *xlsxRows) close(drain bool) error {
+	for drain && x.err == nil && !x.done {
 		if err := x.readRow(); err != nil {
 			x.err = err
 		}
@@ -494,7 +495,7 @@ func (x *xlsxRows) fail(cell string, err error) error {
 	}
 	if errors.Is(err, errTextTooLong) {
 		return &CellError{Sheet: x.sheet, Cell: cell, Err: ErrTooLarge,
-			Msg: fmt.Sprintf("holds more than %d characters, more than a spreadsheet cell holds", MaxCellChars)}
+			Msg: fmt.Sprintf("holds more than %s characters, more than a spreadsheet cell holds", countText(MaxCellChars))}
 	}
 	var xe *errXML
 	if !errors.As(err, &xe) {
@@ -547,10 +548,10 @@ func (x *xlsxRows) readRow() error {
 					n = r
 				}
 				if n > maxSheetRows {
-					return &CellError{Sheet: x.sheet, Err: ErrDamaged, Msg: fmt.Sprintf("has a row numbered %d, beyond a spreadsheet's last row %d; the workbook is damaged", n, maxSheetRows)}
+					return &CellError{Sheet: x.sheet, Err: ErrDamaged, Msg: fmt.Sprintf("has a row numbered %s, beyond a spreadsheet's last row %s; the workbook is damaged", countText(n), countText(maxSheetRows))}
 				}
 				x.row, inRow, col, ncells = n, true, 0, 0
-				x.cur, x.formula = nil, x.formula[:0]
+				x.cur, x.formula = make([]string, 0, len(x.cur)), x.formula[:0]
 			case "c":
 				if !inRow {
 					continue
@@ -558,7 +559,7 @@ func (x *xlsxRows) readRow() error {
 				ncells++
 				if ncells > maxSheetColumns {
 					return &CellError{Sheet: x.sheet, Cell: cellName(1, x.row), Err: ErrTooLarge,
-						Msg: fmt.Sprintf("row %d has more than %d cells, more than a spreadsheet row holds", x.row, maxSheetColumns)}
+						Msg: fmt.Sprintf("row %d has more than %s cells, more than a spreadsheet row holds", x.row, countText(maxSheetColumns))}
 				}
 				c := col + 1
 				if v, ok := x.s.attr("r"); ok {

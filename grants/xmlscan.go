@@ -177,32 +177,38 @@ func (s *xmlScanner) next() (tokKind, error) {
 			s.fill()
 		}
 		rest := s.buf[s.r:s.w]
-		switch {
-		case bytes.HasPrefix(rest, []byte("<?")):
+		if len(rest) < 2 {
+			return 0, s.readErr()
+		}
+		switch rest[1] {
+		case '/':
+			return s.readEnd()
+		case '?':
 			if err := s.skipPast("?>"); err != nil {
 				return 0, err
 			}
-		case bytes.HasPrefix(rest, []byte("<!--")):
-			if err := s.skipPast("-->"); err != nil {
-				return 0, err
+		case '!':
+			switch {
+			case bytes.HasPrefix(rest, []byte("<!--")):
+				if err := s.skipPast("-->"); err != nil {
+					return 0, err
+				}
+			case bytes.HasPrefix(rest, []byte("<![CDATA[")):
+				if len(s.stack) == 0 {
+					return 0, s.fail("text outside the root element")
+				}
+				s.r += len("<![CDATA[")
+				if err := s.readCDATA(); err != nil {
+					return 0, err
+				}
+				if !utf8.Valid(s.text) {
+					return 0, s.fail("text that is not UTF-8")
+				}
+				s.kind = tokText
+				return tokText, nil
+			default:
+				return 0, s.fail("a document type declaration, which a workbook never has")
 			}
-		case bytes.HasPrefix(rest, []byte("<![CDATA[")):
-			if len(s.stack) == 0 {
-				return 0, s.fail("text outside the root element")
-			}
-			s.r += len("<![CDATA[")
-			if err := s.readCDATA(); err != nil {
-				return 0, err
-			}
-			if !utf8.Valid(s.text) {
-				return 0, s.fail("text that is not UTF-8")
-			}
-			s.kind = tokText
-			return tokText, nil
-		case bytes.HasPrefix(rest, []byte("<!")):
-			return 0, s.fail("a document type declaration, which a workbook never has")
-		case bytes.HasPrefix(rest, []byte("</")):
-			return s.readEnd()
 		default:
 			return s.readStart()
 		}
@@ -405,7 +411,10 @@ func (s *xmlScanner) readEnd() (tokKind, error) {
 	if err != nil {
 		return 0, err
 	}
-	name := bytes.TrimRight(t[2:len(t)-1], " \t\r\n")
+	name := t[2 : len(t)-1]
+	for len(name) > 0 && isSpace(name[len(name)-1]) {
+		name = name[:len(name)-1]
+	}
 	if len(s.stack) == 0 {
 		return 0, s.fail("an end tag </%s> with no element open", truncBytes(name))
 	}

@@ -92,8 +92,9 @@ func Build(s *grants.Schedule, v *pricing.Valuation, b *accounting.Books, run Ru
 	if n := v.Options.Lattice.Steps; n > 0 {
 		m.Settings.Steps = strconv.Itoa(n) + " (raw lattice)"
 	}
-	m.Settings.Attribution = string(s.Assumptions.Attribution)
-	m.Settings.Forfeitures = string(s.Assumptions.Forfeitures)
+	policy := s.InForce()
+	m.Settings.Attribution = string(policy.Attribution)
+	m.Settings.Forfeitures = string(policy.Forfeitures)
 	m.Caution = Caution
 	m.Assumptions = companyAssumptions(s)
 	for i := range v.Grants {
@@ -151,6 +152,7 @@ func Build(s *grants.Schedule, v *pricing.Valuation, b *accounting.Books, run Ru
 	m.Expense = expenseModel(b)
 	m.Warnings = append(m.Warnings, b.Warnings...)
 	m.Warnings = append(m.Warnings, v.Warnings...)
+	m.Warnings = append(m.Warnings, MemoTextWarnings(s, run.Input.Path)...)
 	return m, nil
 }
 
@@ -222,6 +224,21 @@ func companyAssumptions(s *grants.Schedule) []Assumption {
 		Assumption{Name: "forfeitures", Kind: KindText, Text: string(a.Forfeitures), Ref: aref("forfeitures"), Source: src("forfeitures")},
 		Assumption{Name: "steps", Kind: KindText, Text: steps, Ref: aref("steps"), Source: src("steps")},
 	)
+	for _, r := range a.Dated {
+		row := Assumption{Name: r.Key, Kind: KindText, Text: r.Text, Ref: r.Ref.String(), Source: r.Source, EffectiveDate: DateOf(r.Effective)}
+		switch r.Key {
+		case "volatility", "dividend_yield", "post_vesting_exit_rate", "pre_vesting_forfeiture_rate":
+			row.Kind, row.Value, row.Text = KindPercent, r.Value, strconv.FormatFloat(r.Value, 'g', -1, 64)
+		case "exercise_multiple":
+			row.Kind, row.Value, row.Text = KindNumber, r.Value, strconv.FormatFloat(r.Value, 'g', -1, 64)
+		case "steps":
+			row.Text = "auto"
+			if r.Value > 0 {
+				row.Text = strconv.FormatFloat(r.Value, 'f', 0, 64)
+			}
+		}
+		out = append(out, row)
+	}
 	return out
 }
 
@@ -232,7 +249,7 @@ func grantAssumptions(gv *pricing.GrantValue) []Assumption {
 	ref := func(k string) string { return g.Refs[k].String() }
 	day := func(t time.Time) string { return DateOf(t).String() }
 	src := func(key, kind string, s grants.Source) Assumption {
-		return Assumption{GrantID: g.ID, Name: key, Kind: kind, Value: s.Value, Text: strconv.FormatFloat(s.Value, 'g', -1, 64), Ref: s.Ref.String(), Source: s.Text}
+		return Assumption{GrantID: g.ID, Name: key, Kind: kind, Value: s.Value, Text: strconv.FormatFloat(s.Value, 'g', -1, 64), Ref: s.Ref.String(), Source: s.Text, EffectiveDate: DateOf(s.Since)}
 	}
 	out := []Assumption{
 		{GrantID: g.ID, Name: "instrument", Kind: KindText, Text: string(g.Instrument), Ref: ref("instrument"), Term: true},

@@ -72,7 +72,8 @@ func fixture() *Model {
 			Assumption{GrantID: g.ID, Name: "volatility", Kind: KindPercent, Value: g.Volatility, Text: "55%", Ref: "Assumptions!B2", Source: "+peer median, 5y weekly returns"},
 			Assumption{GrantID: g.ID, Name: "grant_date", Kind: KindDate, Text: g.GrantDate.String(), Ref: "Grants!D2"})
 	}
-	m.Assumptions = append(m.Assumptions, Assumption{Name: "attribution", Kind: KindText, Text: "graded", Ref: "Assumptions!B7", Source: "@policy memo FIN-12"})
+	m.Assumptions = append(m.Assumptions, Assumption{Name: "attribution", Kind: KindText, Text: "graded", Ref: "Assumptions!B7", Source: "@policy memo FIN-12"},
+		Assumption{Name: "volatility", Kind: KindPercent, Value: 0.6, Text: "0.6", Ref: "Assumptions!B10", Source: "peer study of 2026-06-20", EffectiveDate: day("2026-07-01")})
 	Summarize(m)
 	base := m.Totals.FairValueTotal
 	for _, s := range []struct{ in, label, unit string }{

@@ -32,7 +32,7 @@ var memoHooks []MemoHook
 // Memo is the PDF being written. Hooks use its methods so that their
 // sections look like the others.
 type Memo struct {
-	pdf      *gofpdf.Fpdf
+	pdf      pdfDoc // gofpdf, with every text through MemoText
 	m        *Model
 	tpl      *template.Template
 	sections map[string]int
@@ -102,7 +102,7 @@ func WriteMemo(w io.Writer, m *Model) error {
 }
 
 func newMemo(m *Model) (*Memo, error) {
-	pdf := gofpdf.New("P", "mm", "A4", "")
+	pdf := pdfDoc{gofpdf.New("P", "mm", "A4", "")}
 	pdf.SetCompression(true)
 	pdf.SetCatalogSort(true)
 	t := m.ValuationDate.Time()

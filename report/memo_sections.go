@@ -75,7 +75,11 @@ func (d *Memo) assumptions(m *Model) error {
 		d.Sub("Company-wide")
 		rows := make([][]string, len(company))
 		for i, a := range company {
-			rows[i] = []string{a.Name, assumptionText(a, m.Company.Currency), a.Ref, a.Source}
+			src := a.Source
+			if !a.EffectiveDate.IsZero() {
+				src = strings.TrimSpace(src + " (in force from " + a.EffectiveDate.String() + ")")
+			}
+			rows[i] = []string{a.Name, assumptionText(a, m.Company.Currency), a.Ref, src}
 		}
 		d.Table(cols, rows)
 	}

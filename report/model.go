@@ -222,6 +222,10 @@ type Assumption struct {
 	Text    string  `json:"text"`  // for date and text kinds, and as given otherwise
 	Ref     string  `json:"ref"`   // Sheet!Cell, or "default"
 	Source  string  `json:"source"`
+	// EffectiveDate is the effective_date of the Assumptions row: the
+	// row applies from it on. Zero (null) for an undated row and for
+	// inputs from elsewhere.
+	EffectiveDate Date `json:"effective_date"`
 	// Term marks a contractual term of the grant (dates, shares, strike,
 	// vesting) rather than a valuation assumption; the memo shows terms in
 	// its results and lists only assumptions.

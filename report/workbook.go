@@ -75,9 +75,23 @@ type Table struct {
 // the Tranches sheet also carries a live Black-Scholes-Merton formula beside
 // the tool's simplified-method value so that it can be recomputed in the
 // workbook. Text from the input is written as text cells with a text
-// format, never as a formula.
-func WriteWorkbook(w io.Writer, m *Model) error {
-	f := excelize.NewFile()
+// format, never as a formula. Temporary files go to the system's temporary
+// folder; see WriteWorkbookWith.
+func WriteWorkbook(w io.Writer, m *Model) error { return WriteWorkbookWith(w, m, WorkbookOptions{}) }
+
+// WorkbookOptions say how the workbook is made, not what it shows.
+type WorkbookOptions struct {
+	// TempDir holds the temporary files (the archive before its entries
+	// are put in order, excelize's streamed sheets; together about the
+	// size of the workbook and its largest sheet); "" is the system's
+	// temporary folder. A caller that writes into a staging folder puts
+	// them there, so that a killed run leaves nothing elsewhere.
+	TempDir string
+}
+
+// WriteWorkbookWith is WriteWorkbook with options.
+func WriteWorkbookWith(w io.Writer, m *Model, o WorkbookOptions) error {
+	f := excelize.NewFile(excelize.Options{TmpDir: o.TempDir})
 	defer f.Close()
 	// excelize's archive goes to a temporary file, not memory (its Write
 	// would build the whole archive in a bytes.Buffer first): for a large
@@ -86,7 +100,7 @@ func WriteWorkbook(w io.Writer, m *Model) error {
 	// hundreds of megabytes of XML, and the default level spends most of
 	// the time writing them for a file a few per cent smaller; large sheets
 	// are compressed on all cores (deflate.go).
-	tmp, err := os.CreateTemp("", "grantworth-xlsx-*")
+	tmp, err := os.CreateTemp(o.TempDir, "grantworth-xlsx-*")
 	if err != nil {
 		return err
 	}
@@ -481,7 +495,7 @@ func (b *Book) valueCell(a Assumption) any {
 }
 
 func writeAssumptions(b *Book, m *Model) error {
-	cols := []Column{{"Grant", 14}, {"Input", 26}, {"Value", 16}, {"As given", 18}, {"Cell", 18}, {"Source", 60}}
+	cols := []Column{{"Grant", 14}, {"Input", 26}, {"Value", 16}, {"As given", 18}, {"Cell", 18}, {"In force from", 12}, {"Source", 60}}
 	t, err := b.NewTable(SheetAssumptions, cols, len(m.Assumptions))
 	if err != nil {
 		return err
@@ -491,7 +505,7 @@ func writeAssumptions(b *Book, m *Model) error {
 		if grant == "" {
 			grant = "(all)"
 		}
-		if err := t.Row(b.Text(grant), b.Text(a.Name), b.valueCell(a), b.Text(a.Text), b.Text(a.Ref), b.Text(a.Source)); err != nil {
+		if err := t.Row(b.Text(grant), b.Text(a.Name), b.valueCell(a), b.Text(a.Text), b.Text(a.Ref), b.DateCell(a.EffectiveDate), b.Text(a.Source)); err != nil {
 			return err
 		}
 	}

@@ -172,8 +172,8 @@ func TestWorkbookInputTextIsText(t *testing.T) {
 	}
 	rows, _ := f.GetRows(SheetAssumptions)
 	for i, r := range rows {
-		if len(r) > 5 && (strings.HasPrefix(r[5], "+") || strings.HasPrefix(r[5], "@")) {
-			checks = append(checks, struct{ sheet, cell, want string }{SheetAssumptions, fmt.Sprintf("F%d", i+1), r[5]})
+		if len(r) > 6 && (strings.HasPrefix(r[6], "+") || strings.HasPrefix(r[6], "@")) {
+			checks = append(checks, struct{ sheet, cell, want string }{SheetAssumptions, fmt.Sprintf("G%d", i+1), r[6]})
 		}
 	}
 	if len(checks) < 5 {

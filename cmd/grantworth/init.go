@@ -1,9 +1,9 @@
 package main
 
 import (
-	"bytes"
 	"errors"
 	"fmt"
+	"io"
 	"io/fs"
 	"os"
 	"path/filepath"
@@ -79,49 +79,9 @@ func runInit(o *initOptions) error {
 	} else if err != nil && !errors.Is(err, fs.ErrNotExist) {
 		return err
 	}
-	var buf bytes.Buffer
-	if err := grants.WriteXLSX(&buf, nil); err != nil {
-		return err
-	}
-	if err := initWriteAtomic(path, buf.Bytes()); err != nil {
+	if err := writeFileAtomic(path, func(w io.Writer) error { return grants.WriteXLSX(w, nil) }); err != nil {
 		return err
 	}
 	fmt.Fprintln(o.io.Out, path)
-	return nil
-}
-
-// initWriteAtomic writes data to a temporary file beside path, syncs it and
-// renames it over path, so that path is never left half written.
-func initWriteAtomic(path string, data []byte) (err error) {
-	dir := filepath.Dir(path)
-	f, err := os.CreateTemp(dir, "."+filepath.Base(path)+".tmp*")
-	if err != nil {
-		return err
-	}
-	defer func() {
-		if err != nil {
-			f.Close()
-			os.Remove(f.Name())
-		}
-	}()
-	if _, err = f.Write(data); err != nil {
-		return err
-	}
-	if err = f.Sync(); err != nil {
-		return err
-	}
-	if err = f.Close(); err != nil {
-		return err
-	}
-	if err = os.Chmod(f.Name(), 0o644); err != nil {
-		return err
-	}
-	if err = os.Rename(f.Name(), path); err != nil {
-		return err
-	}
-	if d, err := os.Open(dir); err == nil {
-		d.Sync()
-		d.Close()
-	}
 	return nil
 }

@@ -17,7 +17,11 @@ type progressBar struct {
 }
 
 func newProgress(ios *IO, label string) *progressBar {
-	return &progressBar{w: ios.Err, on: ios.ErrIsTerminal, label: label, last: -1}
+	w := ios.progress
+	if w == nil {
+		w = ios.Err
+	}
+	return &progressBar{w: w, on: ios.ErrIsTerminal, label: label, last: -1}
 }
 
 const barWidth = 30

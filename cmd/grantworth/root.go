@@ -5,7 +5,7 @@ import (
 	"fmt"
 	"io"
 	"os"
-	"strings"
+	"runtime/debug"
 
 	"github.com/spf13/cobra"
 	"golang.org/x/term"
@@ -22,6 +22,8 @@ type IO struct {
 	Err           io.Writer // errors, warnings and progress
 	ErrIsTerminal bool      // show progress bars on Err
 	OutIsTerminal bool
+
+	progress io.Writer // the raw Err for progress bars (Err escapes control characters); nil: Err
 }
 
 func systemIO() *IO {
@@ -61,6 +63,17 @@ func asInput(err error) error {
 	return inputError{err}
 }
 
+// crashError is a panic caught and turned into an error: exit 1, printed
+// with its stack for a bug report.
+type crashError struct {
+	value any
+	stack []byte
+}
+
+func (e *crashError) Error() string {
+	return fmt.Sprintf("internal error: %v\n%s\nPlease report this with the message above.", e.value, e.stack)
+}
+
 // silentExit exits with a code after the command has already printed what
 // the user needs (for example every problem found by check).
 type silentExit struct{ code int }
@@ -98,10 +111,40 @@ IFRS 2 or local rules).`,
 	return root
 }
 
-// run executes argv and maps the outcome to an exit code. Errors are printed
-// here and only here.
-func run(args []string, ios *IO) int {
+// run executes argv and maps the outcome to an exit code by the error's
+// type: an inputError, or an error cobra returns before the command runs
+// (an unknown command or flag, a wrong number of arguments), is bad input
+// (2); a silentExit carries its code; anything else, a panic included, is
+// a runtime failure (1). Errors are printed here and only here, and all
+// output goes through a safeWriter.
+func run(args []string, ios *IO) (code int) {
+	safe := *ios
+	safe.Out, safe.Err = newSafeWriter(ios.Out), newSafeWriter(ios.Err)
+	if safe.progress == nil {
+		safe.progress = ios.Err
+	}
+	ios = &safe
+	defer func() {
+		if r := recover(); r != nil {
+			fmt.Fprintf(ios.Err, "grantworth: %v\n", &crashError{value: r, stack: debug.Stack()})
+			code = exitFailure
+		}
+	}()
 	root := newRootCmd(ios)
+	started := false // the command's own code ran
+	var mark func(*cobra.Command)
+	mark = func(c *cobra.Command) {
+		if f := c.RunE; f != nil {
+			c.RunE = func(cmd *cobra.Command, args []string) error {
+				started = true
+				return f(cmd, args)
+			}
+		}
+		for _, sub := range c.Commands() {
+			mark(sub)
+		}
+	}
+	mark(root)
 	root.SetArgs(args)
 	err := root.Execute()
 	var se silentExit
@@ -111,23 +154,11 @@ func run(args []string, ios *IO) int {
 		return exitOK
 	case errors.As(err, &se):
 		return se.code
-	case errors.As(err, &ie), isUsageError(err):
+	case errors.As(err, &ie), !started:
 		fmt.Fprintf(ios.Err, "grantworth: %v\n", err)
 		return exitInput
 	default:
 		fmt.Fprintf(ios.Err, "grantworth: %v\n", err)
 		return exitFailure
 	}
-}
-
-// isUsageError reports cobra's own argument errors (unknown command, wrong
-// number of arguments), which cobra returns as plain errors.
-func isUsageError(err error) bool {
-	msg := err.Error()
-	for _, p := range []string{"unknown command", "unknown flag", "unknown shorthand", "accepts ", "requires at least", "requires at most", "invalid argument", "flag needs an argument"} {
-		if strings.Contains(msg, p) {
-			return true
-		}
-	}
-	return false
 }

@@ -1,8 +1,6 @@
 package main
 
 import (
-	"crypto/sha256"
-	"encoding/hex"
 	"errors"
 	"fmt"
 	"io"
@@ -11,7 +9,6 @@ import (
 	"path/filepath"
 	"runtime/debug"
 	"runtime/pprof"
-	"sort"
 	"strings"
 	"sync"
 	"time"
@@ -103,15 +100,10 @@ func runValue(o *valueOptions) error {
 		}
 		defer pprof.StopCPUProfile()
 	}
-	// Refuse early, before any work, when an output is in the way.
-	if !o.force {
-		have, err := existingOutputs(o.out, outputNames)
-		if err != nil {
-			return err
-		}
-		if len(have) > 0 {
-			return badInput("%s already exist%s; use --force to replace %s", joinList(have), plural1(len(have)), them(len(have)))
-		}
+	// Refuse early, before any work, when an output is in the way (and
+	// again under the folder's lock, below).
+	if err := checkExisting(o.out, o.out, outputNames, o.force); err != nil {
+		return err
 	}
 	var vdate time.Time
 	if o.valuationDate != "" {
@@ -163,14 +155,25 @@ func runValue(o *valueOptions) error {
 	if !rep.OK() || len(inErrs) > 0 {
 		return printProblems(o.io.Err, rep, inErrs)
 	}
-	sum, err := hashInput(o.path)
+	sum, err := grants.HashInput(o.path)
+	if err != nil {
+		var ce *grants.CellError
+		if errors.As(err, &ce) {
+			return asInput(err) // the input changed since it was read
+		}
+		return err
+	}
+	// Lock and check the output folder before the long work: a second run,
+	// a read-only folder or an output in the way is refused now.
+	out, err := openOutput(o.out, outputNames, o.force, o.io)
 	if err != nil {
 		return err
 	}
+	defer out.close()
 	bar := newProgress(o.io, "valuing grants")
 	sensBar := newProgress(o.io, "sensitivity runs")
 	v, err := pricing.Value(s, ins, pricing.Options{
-		Lattice:     valuation.LatticeOptions{Steps: s.Assumptions.Steps},
+		Lattice:     valuation.LatticeOptions{Steps: s.InForce().Steps},
 		Progress:    bar.update,
 		Sensitivity: func(done, total int) { bar.finish(); sensBar.update(done, total) },
 	})
@@ -194,7 +197,7 @@ func runValue(o *valueOptions) error {
 	if err != nil {
 		return err
 	}
-	files := outputs(m)
+	files := outputs(m, out.tempDir())
 	if o.io.ErrIsTerminal {
 		var mu sync.Mutex // the files are written at the same time
 		for i := range files {
@@ -207,7 +210,7 @@ func runValue(o *valueOptions) error {
 			}
 		}
 	}
-	if err := writeAll(o.out, files, o.force); err != nil {
+	if err := out.write(files); err != nil {
 		return err
 	}
 	printSummary(o.io.Out, m, o.out)
@@ -241,56 +244,16 @@ func printProblems(w io.Writer, rep *grants.Report, more []error) error {
 	return silentExit{exitInput}
 }
 
-// hashInput is the SHA-256 of the schedule: of the file's bytes, or for a
-// folder of CSV files of each .csv file's name, a NUL byte, its length as
-// decimal digits, a NUL byte and its bytes, in name order.
-func hashInput(path string) (string, error) {
-	st, err := os.Stat(path)
-	if err != nil {
-		return "", err
-	}
-	h := sha256.New()
-	if !st.IsDir() {
-		f, err := os.Open(path)
-		if err != nil {
-			return "", err
-		}
-		defer f.Close()
-		if _, err := io.Copy(h, f); err != nil {
-			return "", err
-		}
-		return hex.EncodeToString(h.Sum(nil)), nil
-	}
-	ents, err := os.ReadDir(path)
-	if err != nil {
-		return "", err
-	}
-	var names []string
-	for _, e := range ents {
-		if !e.IsDir() && strings.EqualFold(filepath.Ext(e.Name()), ".csv") {
-			names = append(names, e.Name())
-		}
-	}
-	sort.Strings(names)
-	for _, n := range names {
-		b, err := os.ReadFile(filepath.Join(path, n))
-		if err != nil {
-			return "", err
-		}
-		fmt.Fprintf(h, "%s\x00%d\x00", n, len(b))
-		h.Write(b)
-	}
-	return hex.EncodeToString(h.Sum(nil)), nil
-}
-
-// outputs are the three files, each rendered from the Model straight into
-// its temporary file by writeAll, so that a large ledger's files are never
-// all in memory at once and nothing is renamed into place unless all three
-// were made.
-func outputs(m *report.Model) []outFile {
+// outputs are the files of outputNames, each rendered from the Model
+// straight into the staging folder, so that a large ledger's files are
+// never all in memory at once and nothing is visible unless all were made.
+// Temporary files go into tmp.
+func outputs(m *report.Model, tmp string) []outFile {
 	return []outFile{
 		{"memo.pdf", func(w io.Writer) error { return report.WriteMemo(w, m) }},
-		{"valuation.xlsx", func(w io.Writer) error { return report.WriteWorkbook(w, m) }},
+		{"valuation.xlsx", func(w io.Writer) error {
+			return report.WriteWorkbookWith(w, m, report.WorkbookOptions{TempDir: tmp})
+		}},
 		{"valuation.json", func(w io.Writer) error { return report.WriteJSON(w, m) }},
 	}
 }

@@ -57,6 +57,17 @@ func valueSample(t *testing.T) (dir string, pdf, xlsx, js []byte) {
 }
 
 func TestMain(m *testing.M) {
+	switch os.Getenv(testMainEnv) {
+	case "":
+	case "crash":
+		go panic("a crash for TestSupervisorExitCodes") // the runtime exits 2
+		select {}
+	case "exit":
+		os.Exit(childCode(exitInput))
+	default:
+		main() // a test started this binary as grantworth
+		return
+	}
 	code := m.Run()
 	if sampleRun.dir != "" {
 		os.RemoveAll(filepath.Dir(sampleRun.dir))
@@ -348,7 +359,7 @@ func TestWriteAllFailureLeavesNothing(t *testing.T) {
 		return func(w io.Writer) error { _, err := io.WriteString(w, s); return err }
 	}
 	files := []outFile{{"memo.pdf", text("a")}, {"valuation.xlsx", text("b")}, {"valuation.json", text("c")}}
-	if err := writeAll(out, files, true); err == nil {
+	if err := writeOutputs(out, files, true, &IO{Err: io.Discard}); err == nil {
 		t.Fatal("writeAll over a folder named valuation.json succeeded")
 	}
 	ents, _ := os.ReadDir(out)
@@ -359,7 +370,7 @@ func TestWriteAllFailureLeavesNothing(t *testing.T) {
 	if len(names) != 1 || names[0] != "valuation.json" {
 		t.Errorf("after the failure the folder holds %v, want only the folder that was there", names)
 	}
-	if err := writeAll(block, files, false); err == nil {
+	if err := writeOutputs(block, files, false, &IO{Err: io.Discard}); err == nil {
 		t.Error("writeAll into a file succeeded")
 	}
 	// A renderer that fails after writing part of its file.
@@ -368,7 +379,7 @@ func TestWriteAllFailureLeavesNothing(t *testing.T) {
 		io.WriteString(w, "half a workbook")
 		return errors.New("renderer failed")
 	}}, {"valuation.json", text("c")}}
-	if err := writeAll(out2, broken, false); err == nil || !strings.Contains(err.Error(), "renderer failed") {
+	if err := writeOutputs(out2, broken, false, &IO{Err: io.Discard}); err == nil || !strings.Contains(err.Error(), "renderer failed") {
 		t.Fatalf("writeAll with a failing renderer: %v", err)
 	}
 	if ents, _ := os.ReadDir(out2); len(ents) != 0 {

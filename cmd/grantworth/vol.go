@@ -1,7 +1,6 @@
 package main
 
 import (
-	"bytes"
 	"encoding/csv"
 	"encoding/json"
 	"fmt"
@@ -398,33 +397,8 @@ func writeVolChart(opts *volOptions, rep *volReport) error {
 	if err != nil {
 		return err
 	}
-	var buf bytes.Buffer
-	if _, err := wt.WriteTo(&buf); err != nil {
+	return writeFileAtomic(opts.Chart, func(w io.Writer) error {
+		_, err := wt.WriteTo(w)
 		return err
-	}
-	dir := filepath.Dir(opts.Chart)
-	tmp, err := os.CreateTemp(dir, ".vol-chart-*.png")
-	if err != nil {
-		return err
-	}
-	defer os.Remove(tmp.Name()) // no-op after the rename
-	if _, err := tmp.Write(buf.Bytes()); err != nil {
-		tmp.Close()
-		return err
-	}
-	if err := tmp.Sync(); err != nil {
-		tmp.Close()
-		return err
-	}
-	if err := tmp.Close(); err != nil {
-		return err
-	}
-	if err := os.Rename(tmp.Name(), opts.Chart); err != nil {
-		return err
-	}
-	if d, err := os.Open(dir); err == nil {
-		d.Sync()
-		d.Close()
-	}
-	return nil
+	})
 }

@@ -22,13 +22,15 @@ func AwardOf(s *grants.Schedule, g grants.Grant, fairValue []float64) (Award, er
 	return a, nil
 }
 
-// PolicyOf is the schedule's attribution and forfeiture policy from its
-// Assumptions sheet, with the fiscal calendar of its Company sheet.
+// PolicyOf is the schedule's attribution and forfeiture policy: the
+// Assumptions rows in force at its valuation date, with the fiscal
+// calendar of its Company sheet.
 func PolicyOf(s *grants.Schedule) Policy {
+	a := s.InForce()
 	return Policy{
-		Attribution:              s.Assumptions.Attribution,
-		Forfeitures:              s.Assumptions.Forfeitures,
-		PreVestingForfeitureRate: s.Assumptions.PreVestingForfeitureRate,
+		Attribution:              a.Attribution,
+		Forfeitures:              a.Forfeitures,
+		PreVestingForfeitureRate: a.PreVestingForfeitureRate,
 		Calendar:                 s.Company.Fiscal,
 	}
 }
