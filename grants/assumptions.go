@@ -74,6 +74,10 @@ func (a *Assumptions) set(r AssumptionRow) {
 		a.Forfeitures = ForfeiturePolicy(r.Text)
 	case "steps":
 		a.Steps = int(r.Value)
+	case "framework":
+		a.Framework = Framework(r.Text)
+	case "tax_rate":
+		a.TaxRate = r.Value
 	}
 }
 
@@ -97,6 +101,10 @@ func (a *Assumptions) row(key string) AssumptionRow {
 		r.Text = string(a.Forfeitures)
 	case "steps":
 		r.Value = float64(a.Steps)
+	case "framework":
+		r.Text = string(a.Framework)
+	case "tax_rate":
+		r.Value = a.TaxRate
 	}
 	return r
 }

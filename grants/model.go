@@ -59,6 +59,7 @@ type Schedule struct {
 	Grants      []Grant
 	Vesting     []VestRow // custom vesting rows; they replace the column schedule of the grants they name
 	Transfers   []Transfer
+	Accounts    []AccountRow
 	SharePrices []PricePoint
 	Rates       []RatePoint
 	Events      []Event
@@ -113,6 +114,14 @@ const (
 	AsOccur  ForfeiturePolicy = "as-occur"
 )
 
+// Framework is the accounting standard a schedule is booked under.
+type Framework string
+
+const (
+	ASC718 Framework = "asc718" // US GAAP: ASC 718, with ASC 740 for income taxes
+	IFRS2  Framework = "ifrs2"  // IFRS 2, with IAS 12 for income taxes
+)
+
 // Assumptions is the Assumptions sheet: company-wide defaults that a grant
 // row may override. The fields hold the rows without an effective_date,
 // which apply from the beginning; Dated holds the rows with one. At gives
@@ -126,6 +135,8 @@ type Assumptions struct {
 	Attribution              Attribution
 	Forfeitures              ForfeiturePolicy
 	Steps                    int               // 0 = auto
+	Framework                Framework         // "" is ASC718
+	TaxRate                  float64           // statutory income tax rate; 0: no tax effect is booked
 	Sources                  map[string]string // by key: the text of the source column
 	Refs                     map[string]Ref    // by key: where the value came from
 	// Dated are the rows with an effective_date, in sheet order.
@@ -174,6 +185,9 @@ type Grant struct {
 	ExerciseStyle  ExerciseStyle  // warrants; default american
 
 	CostCenter string // "" when none is given: the expense is Unassigned
+	// TaxDeductible says whether the award gives the company a tax
+	// deduction (nil: by instrument, see Deductible).
+	TaxDeductible *bool
 
 	Row  int            // 1-based row on the Grants sheet
 	Refs map[string]Ref // by column key, e.g. "strike"
@@ -218,11 +232,63 @@ type RatePoint struct {
 
 // Event is one row of Events.
 type Event struct {
-	GrantID string
-	Date    time.Time
-	Kind    EventKind
-	Shares  int64
-	Row     int
+	GrantID    string
+	Date       time.Time
+	Kind       EventKind
+	Shares     int64
+	SharePrice *float64 // the share's fair value on Date, when the row gives it
+	Row        int
+}
+
+// Deductible reports whether grant g gives the company a tax deduction:
+// its tax_deductible cell, else yes for options and RSUs (non-qualified
+// options and RSUs are deductible in the United States; an incentive stock
+// option is not, and must say no) and no for warrants (issued to lenders
+// and investors, which give no compensation deduction).
+func (g Grant) Deductible() bool {
+	if g.TaxDeductible != nil {
+		return *g.TaxDeductible
+	}
+	return g.Instrument != Warrant
+}
+
+// AccountRole is what an account does in the journal (the Accounts
+// sheet's role column, accounting.Role) and the name of its account when
+// the company gives none, under ASC 718 and under IFRS 2.
+type AccountRole struct {
+	Role     string
+	Name     string
+	IFRSName string
+}
+
+// AccountRoles are the journal's roles, in the order the template lists
+// them.
+var AccountRoles = []AccountRole{
+	{"compensation_expense", "Share-based compensation expense", "Share-based payment expense"},
+	{"equity", "Additional paid-in capital", "Share-based payment reserve"},
+	{"warrant_liability", "Warrant liability", "Warrant liability"},
+	{"fair_value_change", "Change in fair value of warrant liability", "Change in fair value of warrant liability"},
+	{"deferred_tax_asset", "Deferred tax asset", "Deferred tax asset"},
+	{"deferred_tax_benefit", "Deferred income tax benefit", "Deferred tax income"},
+}
+
+func accountRoleNames() []string {
+	out := make([]string, len(AccountRoles))
+	for i, r := range AccountRoles {
+		out[i] = r.Role
+	}
+	return out
+}
+
+// AccountRow is one row of Accounts: the account a role books to, for
+// every cost centre or (CostCenter given, compensation_expense only) for
+// one.
+type AccountRow struct {
+	Role       string
+	CostCenter string
+	Code       string
+	Name       string
+	Row        int
 }
 
 // Tranche is the part of a grant that vests on one date.

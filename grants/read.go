@@ -381,6 +381,8 @@ func (t *tableReader) readTable() {
 			t.vestRow(c)
 		case SheetTransfers:
 			t.transferRow(c)
+		case SheetAccounts:
+			t.accountRow(c)
 		case SheetSharePrices:
 			t.priceRow(c)
 		case SheetRates:
@@ -624,6 +626,10 @@ func (t *tableReader) grantRow(c *rowCtx) {
 		}
 	}
 	g.CostCenter, _ = c.text("cost_center")
+	if v, ok := c.choice("tax_deductible", false); ok {
+		b := v == "yes"
+		g.TaxDeductible = &b
+	}
 	g.Refs = c.refs
 	if c.failed || !idOK {
 		if idOK {
@@ -682,6 +688,20 @@ func (t *tableReader) transferRow(c *rowCtx) {
 	t.s.Transfers = append(t.s.Transfers, tr)
 }
 
+func (t *tableReader) accountRow(c *rowCtx) {
+	a := AccountRow{Row: c.row}
+	a.Role, _ = c.choice("role", true)
+	a.CostCenter, _ = c.text("cost_center")
+	a.Code, _ = c.text("account_code")
+	a.Name, _ = c.text("account_name")
+	if !c.failed && a.Code == "" && a.Name == "" {
+		c.failf("account_code", "", ErrRequired, "is empty, and so is account_name: give the role %s an account code, a name or both", a.Role)
+	}
+	if !c.failed {
+		t.s.Accounts = append(t.s.Accounts, a)
+	}
+}
+
 func (t *tableReader) priceRow(c *rowCtx) {
 	p := PricePoint{Row: c.row}
 	p.Date, _ = c.date("date", true)
@@ -712,6 +732,7 @@ func (t *tableReader) eventRow(c *rowCtx) {
 		e.Kind = EventKind(k)
 	}
 	e.Shares, _ = c.integer("shares", true)
+	e.SharePrice = c.ptr("share_price", false)
 	if c.failed {
 		if e.GrantID != "" {
 			t.rep.skip[e.GrantID] = true
@@ -956,6 +977,12 @@ func (t *tableReader) assumptionValue(c *rowCtx, col *Column, a *Assumptions) {
 		if v, ok := c.choice(col.Key, false); ok {
 			a.Forfeitures = ForfeiturePolicy(v)
 		}
+	case "framework":
+		if v, ok := c.choice(col.Key, false); ok {
+			a.Framework = Framework(v)
+		}
+	case "tax_rate":
+		a.TaxRate, _ = c.percent(col.Key, false)
 	case "steps":
 		if v, ok := c.text(col.Key); ok && !strings.EqualFold(v, "auto") {
 			n, err := ParseInt(v)

@@ -44,6 +44,7 @@ func validate(s *Schedule, skip map[string]bool) Report {
 	v.grants()
 	v.vesting()
 	v.transfers()
+	v.accounts()
 	v.events()
 	return v.rep
 }
@@ -180,6 +181,7 @@ func (v *validator) assumptions() {
 	v.multiple(sh, 0, a.Refs, a.ExerciseMultiple)
 	v.rate(sh, "post_vesting_exit_rate", 0, a.Refs, a.PostVestingExitRate, "the annual share of vested holders who leave")
 	v.rate(sh, "pre_vesting_forfeiture_rate", 0, a.Refs, a.PreVestingForfeitureRate, "the annual share of unvested holders who leave")
+	v.rate(sh, "tax_rate", 0, a.Refs, a.TaxRate, "the statutory income tax rate")
 }
 
 func (v *validator) prices() {
@@ -460,6 +462,37 @@ func (v *validator) transfers() {
 	}
 }
 
+func (v *validator) accounts() {
+	s := v.s
+	used := map[string]bool{}
+	for _, g := range s.Grants {
+		used[g.CostCenter] = true
+	}
+	for _, t := range s.Transfers {
+		used[t.CostCenter] = true
+	}
+	seen := map[string]int{} // role and cost centre → row
+	for _, a := range s.Accounts {
+		ref := func(k string) Ref { return s.cell(SheetAccounts, k, a.Row, nil) }
+		key := a.Role + "\x00" + a.CostCenter
+		if r, dup := seen[key]; dup {
+			what := "role " + a.Role
+			if a.CostCenter != "" {
+				what += " and cost centre " + a.CostCenter
+			}
+			v.rep.errf(ref("role"), "role", a.Role, ErrDuplicate, "is given twice: row %d (%s) maps the same %s", r, s.cell(SheetAccounts, "role", r, nil).Cell, what)
+			continue
+		}
+		seen[key] = a.Row
+		switch {
+		case a.CostCenter != "" && a.Role != "compensation_expense":
+			v.rep.warnf(ref("cost_center"), "cost_center", a.CostCenter, ErrInconsistent, "applies to compensation_expense only; the %s row is used for every cost centre", a.Role)
+		case a.CostCenter != "" && !used[a.CostCenter]:
+			v.rep.warnf(ref("cost_center"), "cost_center", a.CostCenter, ErrUnknown, "is not the cost_center of any grant or transfer; the row is not used")
+		}
+	}
+}
+
 func (v *validator) events() {
 	s := v.s
 	byGrant := map[string][]Event{}
@@ -484,6 +517,9 @@ func (v *validator) events() {
 		if !g.ExpiryDate.IsZero() && e.Date.After(g.ExpiryDate) {
 			v.rep.errf(ref("date"), "date", isoDay(e.Date), ErrRange, "is after the expiry date %s of grant %s (%s)", isoDay(g.ExpiryDate), g.ID, s.cell(SheetGrants, "expiry_date", g.Row, g.Refs).Cell)
 			continue
+		}
+		if e.SharePrice != nil && !(*e.SharePrice > 0) {
+			v.rep.errf(ref("share_price"), "share_price", num(*e.SharePrice), ErrRange, "must be more than zero")
 		}
 		if vd := s.Company.ValuationDate; !vd.IsZero() && e.Date.After(vd) {
 			v.rep.warnf(ref("date"), "date", isoDay(e.Date), ErrRange, "is after the valuation date %s", isoDay(vd))

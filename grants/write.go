@@ -304,11 +304,23 @@ func sheetRows(s *Schedule, sh *Sheet) [][]any {
 			if g.CostCenter != "" {
 				put(row, "cost_center", g.CostCenter)
 			}
+			if g.TaxDeductible != nil {
+				put(row, "tax_deductible", map[bool]string{true: "yes", false: "no"}[*g.TaxDeductible])
+			}
 			rows = append(rows, row)
 		}
 	case SheetTransfers:
 		for _, t := range s.Transfers {
 			rows = append(rows, []any{t.GrantID, t.Date, t.CostCenter})
+		}
+	case SheetAccounts:
+		for _, a := range s.Accounts {
+			rows = append(rows, []any{a.Role, nilIfEmpty(a.CostCenter), nilIfEmpty(a.Code), nilIfEmpty(a.Name)})
+		}
+		if len(s.Accounts) == 0 && len(s.Grants) == 0 { // the blank template: every role with its default name
+			for _, r := range AccountRoles {
+				rows = append(rows, []any{r.Role, nil, nil, r.Name})
+			}
 		}
 	case SheetVesting:
 		for _, v := range s.Vesting {
@@ -324,10 +336,21 @@ func sheetRows(s *Schedule, sh *Sheet) [][]any {
 		}
 	case SheetEvents:
 		for _, e := range s.Events {
-			rows = append(rows, []any{e.GrantID, e.Date, string(e.Kind), e.Shares})
+			var px any
+			if e.SharePrice != nil {
+				px = *e.SharePrice
+			}
+			rows = append(rows, []any{e.GrantID, e.Date, string(e.Kind), e.Shares, px})
 		}
 	}
 	return rows
+}
+
+func nilIfEmpty(s string) any {
+	if s == "" {
+		return nil
+	}
+	return s
 }
 
 func companyRows(s *Schedule) [][]any {
@@ -383,6 +406,8 @@ func assumptionRows(s *Schedule) [][]any {
 		{"attribution", val("attribution", string(a.Attribution))},
 		{"forfeitures", val("forfeitures", string(a.Forfeitures))},
 		{"steps", val("steps", steps)},
+		{"framework", val("framework", nilIfEmpty(string(a.Framework)))},
+		{"tax_rate", val("tax_rate", a.TaxRate)},
 	}
 	for i := range rows {
 		if src := a.Sources[rows[i][0].(string)]; src != "" {

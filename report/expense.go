@@ -37,10 +37,13 @@ type ExpenseDetail struct {
 	// order, "unassigned" last); the centres add up to the totals.
 	ByCostCenter []ExpenseCostCenter `json:"by_cost_center"`
 	// AfterForecast is the unrecognised cost expected after the forecast.
-	AfterForecast float64        `json:"after_forecast"`
-	Journal       []JournalEntry `json:"journal"`
-	PolicyNotes   []string       `json:"policy_notes"`
-	Disclosures   *Disclosures   `json:"disclosures"`
+	AfterForecast float64 `json:"after_forecast"`
+	// Journal is journal.csv's entries; its amounts have JournalDecimals
+	// decimals (the currency's minor unit).
+	Journal         []JournalEntry `json:"journal"`
+	JournalDecimals int            `json:"journal_decimals"`
+	PolicyNotes     []string       `json:"policy_notes"`
+	Disclosures     *Disclosures   `json:"disclosures"`
 }
 
 // ExpenseGrant is one grant's attribution.
@@ -133,17 +136,24 @@ type ExpenseYear struct {
 	Total      float64 `json:"total"`
 }
 
-// JournalEntry is one summary entry for the period.
+// JournalEntry is one entry of the period's journal, as journal.csv has it.
 type JournalEntry struct {
+	Number      int           `json:"entry"`
+	Date        Date          `json:"date"`
 	Description string        `json:"description"`
 	Lines       []JournalLine `json:"lines"`
 }
 
-// JournalLine is one debit or credit.
+// JournalLine is one debit or credit, rounded to the currency's minor
+// unit; exactly one of Debit and Credit is non-zero.
 type JournalLine struct {
-	Account string  `json:"account"`
-	Debit   float64 `json:"debit"`
-	Credit  float64 `json:"credit"`
+	Role        string  `json:"role"`
+	AccountCode string  `json:"account_code"`
+	Account     string  `json:"account"`
+	CostCenter  string  `json:"cost_center"`
+	GrantID     string  `json:"grant_id"`
+	Debit       float64 `json:"debit"`
+	Credit      float64 `json:"credit"`
 }
 
 // Disclosures are the share-based payment note's tables for the period.
@@ -290,10 +300,12 @@ func expenseModel(b *accounting.Books) *Expense {
 		det.ByGrantMonth = append(det.ByGrantMonth, *g)
 	}
 	sort.Slice(det.ByGrantMonth, func(i, j int) bool { return det.ByGrantMonth[i].Key < det.ByGrantMonth[j].Key })
-	for _, e := range b.Journal {
-		je := JournalEntry{Description: e.Description}
+	det.JournalDecimals = b.Chart.Decimals
+	for i, e := range b.Journal {
+		je := JournalEntry{Number: i + 1, Date: DateOf(e.Date), Description: e.Description}
 		for _, l := range e.Lines {
-			je.Lines = append(je.Lines, JournalLine{Account: l.Account.Name, Debit: l.Debit, Credit: l.Credit})
+			je.Lines = append(je.Lines, JournalLine{Role: string(l.Role), AccountCode: l.Account.Code, Account: l.Account.Name,
+				CostCenter: l.CostCenter, GrantID: l.GrantID, Debit: l.Debit, Credit: l.Credit})
 		}
 		det.Journal = append(det.Journal, je)
 	}

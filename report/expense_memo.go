@@ -13,7 +13,7 @@ import (
 func init() {
 	memoHooks = append(memoHooks,
 		MemoHook{"expense", "Compensation expense for the period", (*Memo).expense},
-		MemoHook{"journal", "Journal summary", (*Memo).journal},
+		MemoHook{"journal", "Journal entries", (*Memo).journal},
 		MemoHook{"disclosures", "Share-based payment disclosures", (*Memo).disclosures})
 }
 
@@ -152,21 +152,22 @@ func (d *Memo) journal(m *Model) error {
 		d.Para("Nothing is to be booked for the period.")
 		return nil
 	}
-	d.Para(fmt.Sprintf("Summary entries for the period %s to %s, in %s. Equity-classified awards credit additional paid-in capital; liability-classified warrants credit the warrant liability, with the change in its fair value booked apart from compensation. Exercise proceeds are not shown.",
-		e.PeriodStart, e.PeriodEnd, m.Company.Currency))
+	d.Para(fmt.Sprintf("The entries of journal.csv for the period %s to %s, in %s, dated %s: compensation expense by cost centre, against additional paid-in capital (or, under IFRS 2, the share-based payment reserve) for equity-classified awards and against the warrant liability for liability-classified warrants; the change in the liability's fair value apart from compensation; and the deferred tax. Accounts are those of the Accounts sheet; a role it does not map keeps its default name and no code. Amounts are rounded to the currency's minor unit so that each entry balances and the expense lines add up to the period's expense. Exercise proceeds are not shown.",
+		e.PeriodStart, e.PeriodEnd, m.Company.Currency, e.PeriodEnd))
 	var rows [][]string
-	for i, j := range e.Journal {
-		rows = append(rows, []string{"\x00" + fmt.Sprintf("%d. %s", i+1, j.Description), "", ""})
+	for _, j := range e.Journal {
+		rows = append(rows, []string{"\x00" + fmt.Sprintf("%d. %s", j.Number, j.Description), "", "", "", ""})
 		for _, l := range j.Lines {
 			acct := "Dr " + l.Account
-			dr, cr := groupDigits(l.Debit, 2), ""
+			dr, cr := groupDigits(l.Debit, e.JournalDecimals), ""
 			if l.Credit != 0 {
-				acct, dr, cr = "    Cr "+l.Account, "", groupDigits(l.Credit, 2)
+				acct, dr, cr = "    Cr "+l.Account, "", groupDigits(l.Credit, e.JournalDecimals)
 			}
-			rows = append(rows, []string{acct, dr, cr})
+			rows = append(rows, []string{acct, l.AccountCode, l.CostCenter, dr, cr})
 		}
 	}
-	d.Table([]Col{{"Entry and account", 110, false}, {"Debit", 30, true}, {"Credit", 30, true}}, rows)
+	d.Table([]Col{{"Entry and account", 86, false}, {"Code", 14, false}, {"Cost centre", 20, false}, {"Debit", 25, true}, {"Credit", 25, true}}, rows)
+	d.Note("The same lines are on the Journal sheet of valuation.xlsx and in journal.csv, one row per line, ready to import.")
 	return nil
 }
 

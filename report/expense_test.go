@@ -251,9 +251,9 @@ func TestExpenseOutputs(t *testing.T) {
 	// Memo: the three sections with their figures.
 	text := pdfText(t, renderMemo(t, m))
 	flat := strings.Join(strings.Fields(text), " ")
-	for _, want := range []string{"Compensation expense for the period", "Journal summary", "Share-based payment disclosures",
+	for _, want := range []string{"Compensation expense for the period", "Journal entries", "Share-based payment disclosures",
 		"Expense by quarter", "Outstanding at end", "Nonvested at start", "Vested and expected to vest",
-		money(e.Amount, "EUR"), "Additional paid-in capital", "Warrant liability"} {
+		money(e.Amount, "EUR"), "Additional paid-in capital", "Warrant liability", "By cost centre", "Expense by fiscal year"} {
 		if !strings.Contains(flat, want) {
 			t.Errorf("memo has no %q", want)
 		}

@@ -8,6 +8,7 @@ const (
 	SheetForecast    = "Expense forecast"
 	SheetByYear      = "Expense by fiscal year"
 	SheetCostCenters = "Expense by cost centre"
+	SheetJournal     = "Journal"
 	SheetDisclosures = "Disclosures"
 )
 
@@ -17,6 +18,7 @@ func init() {
 		SheetHook{SheetCostCenters, writeCostCenters},
 		SheetHook{SheetForecast, writeForecast},
 		SheetHook{SheetByYear, writeByYear},
+		SheetHook{SheetJournal, writeJournal},
 		SheetHook{SheetDisclosures, writeDisclosures})
 }
 
@@ -169,7 +171,7 @@ func writeDisclosures(b *Book, m *Model) error {
 	d := e.Disclosures
 	cols := []Column{{"Table", 30}, {"Line", 34}, {"Shares", 13}, {"Weighted-average exercise price", 16},
 		{"Weighted-average grant-date fair value", 16}, {"Weighted-average remaining term (years)", 14},
-		{"Aggregate intrinsic value", 18}, {"Debit", 16}, {"Credit", 16}}
+		{"Aggregate intrinsic value", 18}}
 	type row []any
 	var rows []row
 	roll := func(name string, r RollForward) {
@@ -178,17 +180,17 @@ func writeDisclosures(b *Book, m *Model) error {
 			if r.Basis == "outstanding" {
 				px = b.Cell(b.Style.MoneyPerShare, l.WeightedExercisePrice)
 			}
-			rows = append(rows, row{name, l.Label, b.Cell(b.Style.Int, l.Shares), px, b.Cell(b.Style.MoneyPerShare, l.WeightedFairValue), nil, nil, nil, nil})
+			rows = append(rows, row{name, l.Label, b.Cell(b.Style.Int, l.Shares), px, b.Cell(b.Style.MoneyPerShare, l.WeightedFairValue), nil, nil})
 		}
 	}
 	summary := func(name string, ls []SummaryLine) {
 		for _, l := range ls {
 			rows = append(rows, row{name, l.Label, b.Cell(b.Style.Number, l.Shares), b.Cell(b.Style.MoneyPerShare, l.WeightedExercisePrice), nil,
-				b.Cell(b.Style.Years, l.RemainingTermYears), b.Cell(b.Style.Money, l.IntrinsicValue), nil, nil})
+				b.Cell(b.Style.Years, l.RemainingTermYears), b.Cell(b.Style.Money, l.IntrinsicValue)})
 		}
 	}
 	granted := func(name string, g GrantsInPeriod, assumptions bool) {
-		rows = append(rows, row{name, "Grants in the period", b.Cell(b.Style.Int, g.Shares), nil, b.Cell(b.Style.MoneyPerShare, g.WeightedFairValue), nil, nil, nil, nil})
+		rows = append(rows, row{name, "Grants in the period", b.Cell(b.Style.Int, g.Shares), nil, b.Cell(b.Style.MoneyPerShare, g.WeightedFairValue), nil, nil})
 		if !assumptions || g.Measured == 0 {
 			return
 		}
@@ -200,9 +202,9 @@ func writeDisclosures(b *Book, m *Model) error {
 			{"Weighted-average risk-free rate", b.Cell(b.Style.Percent, g.RiskFreeRate)},
 			{"Weighted-average dividend yield", b.Cell(b.Style.Percent, g.DividendYield)},
 		} {
-			rows = append(rows, row{name, a.label, nil, nil, a.v, nil, nil, nil, nil})
+			rows = append(rows, row{name, a.label, nil, nil, a.v, nil, nil})
 		}
-		rows = append(rows, row{name, "Weighted-average expected term", nil, nil, nil, b.Cell(b.Style.Years, g.ExpectedTermYears), nil, nil, nil})
+		rows = append(rows, row{name, "Weighted-average expected term", nil, nil, nil, b.Cell(b.Style.Years, g.ExpectedTermYears), nil})
 	}
 	roll("Option roll-forward", d.Options)
 	summary("Options at period end", d.OptionsAtEnd)
@@ -214,21 +216,9 @@ func writeDisclosures(b *Book, m *Model) error {
 	for _, w := range d.WarrantsOutstanding {
 		rows = append(rows, row{"Warrants outstanding", b.Text(w.GrantID + " (" + w.Classification + ")"), b.Cell(b.Style.Int, w.Shares),
 			b.Cell(b.Style.MoneyPerShare, w.Strike), b.Cell(b.Style.MoneyPerShare, w.FairValuePerShare),
-			b.Cell(b.Style.Years, w.RemainingTermYears), b.Cell(b.Style.Money, w.IntrinsicValue), nil, nil})
+			b.Cell(b.Style.Years, w.RemainingTermYears), b.Cell(b.Style.Money, w.IntrinsicValue)})
 	}
-	for _, j := range e.Journal {
-		for _, l := range j.Lines {
-			var dr, cr any
-			if l.Debit != 0 {
-				dr = b.Cell(b.Style.Money, l.Debit)
-			}
-			if l.Credit != 0 {
-				cr = b.Cell(b.Style.Money, l.Credit)
-			}
-			rows = append(rows, row{"Journal: " + j.Description, l.Account, nil, nil, nil, nil, nil, dr, cr})
-		}
-	}
-	rows = append(rows, row{"Share price at period end", "used for the intrinsic values (in the exercise price column)", nil, b.Cell(b.Style.MoneyPerShare, d.SharePrice), nil, nil, nil, nil, nil})
+	rows = append(rows, row{"Share price at period end", "used for the intrinsic values (in the exercise price column)", nil, b.Cell(b.Style.MoneyPerShare, d.SharePrice), nil, nil, nil})
 	t, err := b.NewTable(SheetDisclosures, cols, len(rows))
 	if err != nil {
 		return err
@@ -283,6 +273,41 @@ func writeCostCenters(b *Book, m *Model) error {
 	}
 	if err := t.Row(append(row, money(e.AfterForecast))...); err != nil {
 		return err
+	}
+	return t.Close()
+}
+
+// writeJournal is journal.csv as a sheet: one row per line of every entry,
+// with the role and grant beside the file's columns.
+func writeJournal(b *Book, m *Model) error {
+	e := detail(m)
+	if e == nil {
+		return notRun(b, SheetJournal)
+	}
+	cols := []Column{{"Entry", 7}, {"Date", 12}, {"Account code", 12}, {"Account", 54}, {"Cost centre", 14}, {"Debit", 18}, {"Credit", 18},
+		{"Currency", 9}, {"Description", 60}, {"Role", 22}, {"Grant", 14}}
+	n := 0
+	for _, j := range e.Journal {
+		n += len(j.Lines)
+	}
+	t, err := b.NewTable(SheetJournal, cols, n)
+	if err != nil {
+		return err
+	}
+	for _, j := range e.Journal {
+		for _, l := range j.Lines {
+			var dr, cr any
+			if l.Debit != 0 {
+				dr = b.Cell(b.Style.Money, l.Debit)
+			}
+			if l.Credit != 0 {
+				cr = b.Cell(b.Style.Money, l.Credit)
+			}
+			if err := t.Row(j.Number, b.DateCell(j.Date), b.Text(l.AccountCode), b.Text(l.Account), b.Text(l.CostCenter), dr, cr,
+				m.Company.Currency, b.Text(j.Description), l.Role, b.Text(l.GrantID)); err != nil {
+				return err
+			}
+		}
 	}
 	return t.Close()
 }

@@ -14,6 +14,7 @@ type Books struct {
 	Expense    *ExpenseReport
 	Disclosure *Disclosure
 	Journal    []Entry
+	Chart      Chart // the accounts and rounding the journal is in
 	// SharePrice is the share price at the period end, with its cell,
 	// for the disclosures' intrinsic values.
 	SharePrice grants.Source
@@ -44,7 +45,8 @@ func Close(s *grants.Schedule, v *pricing.Valuation) (*Books, error) {
 	}
 	b.Expense, b.Disclosure = rep, disc
 	b.Warnings = append(b.Warnings, rep.Warnings...)
-	b.Journal = Journal(rep, nil)
+	b.Chart = ChartOf(s)
+	b.Journal = Journal(rep, b.Chart)
 	return b, nil
 }
 

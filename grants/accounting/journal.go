@@ -2,20 +2,25 @@ package accounting
 
 import (
 	"math"
+	"sort"
 	"time"
+
+	"grantworth/grants"
 )
 
 // Role is what an account does in the journal, whatever the company calls
-// it. The journal is written in roles; the account name (and, later, code)
-// of each role is the company's to choose (Accounts).
+// it. The journal is written in roles; the account code and name of each
+// role are the company's to choose (the Accounts sheet, Chart).
 type Role string
 
-// The roles the journal books to.
+// The roles the journal books to (the values of grants.AccountRoles).
 const (
-	RoleCompensation    Role = "compensation_expense"
-	RoleEquity          Role = "equity" // additional paid-in capital
-	RoleLiability       Role = "warrant_liability"
-	RoleFairValueChange Role = "fair_value_change" // of the warrant liability, apart from compensation
+	RoleCompensation     Role = "compensation_expense"
+	RoleEquity           Role = "equity" // additional paid-in capital; under IFRS the share-based payment reserve
+	RoleLiability        Role = "warrant_liability"
+	RoleFairValueChange  Role = "fair_value_change" // of the warrant liability, apart from compensation
+	RoleDeferredTaxAsset Role = "deferred_tax_asset"
+	RoleDeferredTax      Role = "deferred_tax_benefit" // the deferred tax line of the income statement
 )
 
 // Account is a ledger account: its code in the company's chart of
@@ -24,34 +29,85 @@ type Account struct {
 	Code, Name string
 }
 
-// Accounts gives the account of each role.
-type Accounts map[Role]Account
-
-// DefaultAccounts are the accounts used for the roles a company does not
-// map.
-var DefaultAccounts = Accounts{
-	RoleCompensation:    {Name: "Compensation expense"},
-	RoleEquity:          {Name: "Additional paid-in capital"},
-	RoleLiability:       {Name: "Warrant liability"},
-	RoleFairValueChange: {Name: "Change in fair value of warrant liability"},
+// ChartKey is a role, and a cost centre for an account that serves one
+// (compensation expense only; empty for every centre).
+type ChartKey struct {
+	Role       Role
+	CostCenter string
 }
 
-// Of is the account of role r: the company's, else the default.
-func (a Accounts) Of(r Role) Account {
-	if acct, ok := a[r]; ok && acct.Name != "" {
-		return acct
+// Chart is the company's chart of accounts as the journal uses it: the
+// account of each role it maps (per cost centre, for compensation
+// expense), the framework whose wording names the accounts it does not,
+// and the decimals of its currency, to which every amount is rounded.
+type Chart struct {
+	Accounts  map[ChartKey]Account
+	Framework grants.Framework
+	Decimals  int
+}
+
+// ChartOf is the chart of schedule s: its Accounts sheet, the framework in
+// force at the valuation date and its currency's minor unit
+// (grants.MinorUnits).
+func ChartOf(s *grants.Schedule) Chart {
+	c := Chart{Accounts: map[ChartKey]Account{}, Framework: s.InForce().Framework, Decimals: grants.MinorUnits(s.Company.Currency)}
+	for _, a := range s.Accounts {
+		k := ChartKey{Role: Role(a.Role)}
+		if k.Role == RoleCompensation {
+			k.CostCenter = a.CostCenter
+		}
+		c.Accounts[k] = Account{Code: a.Code, Name: a.Name}
 	}
-	return DefaultAccounts[r]
+	return c
 }
+
+// DefaultAccount is the account of role r when the company maps none: no
+// code, and the role's name in the wording of framework f
+// (grants.AccountRoles).
+func DefaultAccount(r Role, f grants.Framework) Account {
+	for _, ar := range grants.AccountRoles {
+		if ar.Role == string(r) {
+			if f == grants.IFRS2 {
+				return Account{Name: ar.IFRSName}
+			}
+			return Account{Name: ar.Name}
+		}
+	}
+	return Account{Name: string(r)}
+}
+
+// Of is the account of role r for cost centre costCenter: the company's
+// account for the role and that centre, else for the role, else the
+// default; a mapped account with no name takes the default name.
+func (c Chart) Of(r Role, costCenter string) Account {
+	a, ok := c.Accounts[ChartKey{r, costCenter}]
+	if !ok || costCenter == "" {
+		a, ok = c.Accounts[ChartKey{Role: r}]
+	}
+	def := DefaultAccount(r, c.Framework)
+	if !ok {
+		return def
+	}
+	if a.Name == "" {
+		a.Name = def.Name
+	}
+	return a
+}
+
+// scale is 10 to the chart's decimals: the minor units of one currency unit.
+func (c Chart) scale() float64 { return math.Pow10(c.Decimals) }
 
 // Line is one debit or credit of an entry. Exactly one of Debit and Credit
-// is non-zero. GrantID is empty on a summary line that books many grants.
+// is non-zero, a whole number of the currency's minor units. CostCenter is
+// set on compensation expense lines; GrantID on the lines of an entry for
+// one grant.
 type Line struct {
-	Role    Role
-	Account Account
-	GrantID string
-	Debit   float64
-	Credit  float64
+	Role       Role
+	Account    Account
+	CostCenter string
+	GrantID    string
+	Debit      float64
+	Credit     float64
 }
 
 // Entry is one journal entry, dated at the period end; its lines balance.
@@ -70,48 +126,154 @@ func (e Entry) Balance() float64 {
 	return b
 }
 
-// transfer is a two-line entry debiting debit and crediting credit with
-// amount; a negative amount swaps the sides.
-func transfer(date time.Time, desc string, accts Accounts, debit, credit Role, grantID string, amount float64) Entry {
-	if amount < 0 {
-		debit, credit, amount = credit, debit, -amount
-	}
-	return Entry{Date: date, Description: desc, Lines: []Line{
-		{Role: debit, Account: accts.Of(debit), GrantID: grantID, Debit: amount},
-		{Role: credit, Account: accts.Of(credit), GrantID: grantID, Credit: amount},
-	}}
+// journal builds entries in whole minor units.
+type journal struct {
+	chart Chart
+	date  time.Time
+	out   []Entry
 }
 
-// minEntry is the smallest amount booked: half a cent.
-const minEntry = 0.005
+// line is a line of units minor units on the debit side of role (on the
+// credit side when negative).
+func (j *journal) line(role Role, costCenter, grantID string, units int64) Line {
+	l := Line{Role: role, Account: j.chart.Of(role, costCenter), CostCenter: costCenter, GrantID: grantID}
+	amount := float64(abs64(units)) / j.chart.scale()
+	if units >= 0 {
+		l.Debit = amount
+	} else {
+		l.Credit = amount
+	}
+	return l
+}
 
-// Journal is the period's summary entries for the attribution r, in the
-// account names accts (nil for DefaultAccounts): compensation of
-// equity-classified awards against equity, compensation of
-// liability-classified warrants against the liability, the liability's
-// remeasurement apart from compensation, and exercised liability warrants
-// reclassified to equity. Entries with less than half a cent to book are
+// entry adds an entry of the given lines, debits first, dropping lines of
+// no units; an entry left with no lines is not added.
+func (j *journal) entry(desc string, lines []Line) {
+	var kept []Line
+	for _, l := range lines {
+		if l.Debit != 0 {
+			kept = append(kept, l)
+		}
+	}
+	for _, l := range lines {
+		if l.Credit != 0 {
+			kept = append(kept, l)
+		}
+	}
+	if len(kept) > 0 {
+		j.out = append(j.out, Entry{Date: j.date, Description: desc, Lines: kept})
+	}
+}
+
+// transfer adds a two-line entry debiting debit and crediting credit with
+// amount rounded to minor units; a negative amount swaps the sides.
+func (j *journal) transfer(desc string, debit, credit Role, grantID string, amount float64) {
+	u := int64(math.Round(amount * j.chart.scale()))
+	j.entry(desc, []Line{j.line(debit, "", grantID, u), j.line(credit, "", grantID, -u)})
+}
+
+func abs64(x int64) int64 {
+	if x < 0 {
+		return -x
+	}
+	return x
+}
+
+// Journal is the period's entries for the attribution r in the accounts of
+// chart: the compensation of equity-classified awards against equity and
+// of liability-classified warrants against the liability, with a
+// compensation expense line per cost centre; the liability's
+// remeasurement apart from compensation; and exercised liability warrants
+// reclassified to equity. Amounts are rounded to the currency's minor
+// unit; the compensation lines are rounded together (largest remainder,
+// apportion) so that they add up to the period's expense rounded, and
+// every entry balances in minor units. Entries that round to nothing are
 // left out.
-func Journal(r *ExpenseReport, accts Accounts) []Entry {
-	var equity, liaComp, fv, reclass float64
+func Journal(r *ExpenseReport, chart Chart) []Entry {
+	j := &journal{chart: chart, date: r.PeriodEnd}
+	// The compensation cells: equity-classified (0) or liability (1), by
+	// cost centre.
+	type cell struct {
+		liability bool
+		centre    string
+	}
+	amounts := map[cell]float64{}
+	var fv, reclass float64
 	for _, g := range r.Grants {
+		for _, p := range g.ByCostCenter {
+			amounts[cell{g.Liability, p.CostCenter}] += p.Period
+		}
 		if g.Liability {
-			liaComp += g.Period
 			fv += g.FairValueChange
 			reclass += g.ReclassifiedEquity
-		} else {
-			equity += g.Period
 		}
 	}
-	var out []Entry
-	add := func(desc string, debit, credit Role, amount float64) {
-		if math.Abs(amount) >= minEntry {
-			out = append(out, transfer(r.PeriodEnd, desc, accts, debit, credit, "", amount))
-		}
+	cells := make([]cell, 0, len(amounts))
+	for c := range amounts {
+		cells = append(cells, c)
 	}
-	add("Share-based compensation for the period (equity-classified awards)", RoleCompensation, RoleEquity, equity)
-	add("Share-based compensation for the period (liability-classified warrants)", RoleCompensation, RoleLiability, liaComp)
-	add("Remeasurement of the warrant liability to fair value (apart from compensation)", RoleFairValueChange, RoleLiability, fv)
-	add("Exercised liability-classified warrants reclassified to equity", RoleLiability, RoleEquity, reclass)
+	sort.Slice(cells, func(a, b int) bool {
+		if cells[a].liability != cells[b].liability {
+			return !cells[a].liability
+		}
+		return costCenterLess(cells[a].centre, cells[b].centre)
+	})
+	xs := make([]float64, len(cells))
+	for i, c := range cells {
+		xs[i] = amounts[c]
+	}
+	units := apportion(xs, int64(math.Round(r.Period*chart.scale())), chart.scale())
+	for _, liability := range []bool{false, true} {
+		desc, credit := "Share-based compensation for the period (equity-classified awards)", RoleEquity
+		if liability {
+			desc, credit = "Share-based compensation for the period (liability-classified warrants)", RoleLiability
+		}
+		var lines []Line
+		var total int64
+		for i, c := range cells {
+			if c.liability == liability {
+				lines = append(lines, j.line(RoleCompensation, c.centre, "", units[i]))
+				total += units[i]
+			}
+		}
+		j.entry(desc, append(lines, j.line(credit, "", "", -total)))
+	}
+	j.transfer("Remeasurement of the warrant liability to fair value (apart from compensation)", RoleFairValueChange, RoleLiability, "", fv)
+	j.transfer("Exercised liability-classified warrants reclassified to equity", RoleLiability, RoleEquity, "", reclass)
+	return j.out
+}
+
+// apportion rounds xs, amounts in currency units, to whole minor units
+// (scale to a unit) that add up to target: each is rounded down, and the
+// units still missing go one each to the largest remainders, the earlier
+// of equal ones first (the largest remainder method, common practice for
+// rounding parts to a rounded total). With target the rounded sum of xs
+// no part moves by a unit or more from its own amount.
+func apportion(xs []float64, target int64, scale float64) []int64 {
+	n := len(xs)
+	out := make([]int64, n)
+	if n == 0 {
+		return out
+	}
+	rem := make([]float64, n)
+	var got int64
+	for i, x := range xs {
+		f := math.Floor(x * scale)
+		out[i], rem[i] = int64(f), x*scale-f
+		got += out[i]
+	}
+	order := make([]int, n)
+	for i := range order {
+		order[i] = i
+	}
+	sort.SliceStable(order, func(a, b int) bool { return rem[order[a]] > rem[order[b]] })
+	for k := 0; got < target; k++ {
+		out[order[k%n]]++
+		got++
+	}
+	for k := n - 1; got > target; k-- {
+		out[order[(k%n+n)%n]]--
+		got--
+	}
 	return out
 }

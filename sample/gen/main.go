@@ -20,6 +20,8 @@
 //     and exercises on the Events sheet;
 //   - a cost centre on every grant (R&D, S&M, G&A, COGS) and two
 //     transfers between cost centres;
+//   - general-ledger accounts for journal.csv, one expense account per
+//     cost centre;
 //   - six valuations of the common stock on Share Prices;
 //   - a rate curve at every quarter end, zero rates until 2026-03-31 and
 //     government par yields (par-semiannual) from 2026-06-30 on.
@@ -155,6 +157,20 @@ func Schedule() *grants.Schedule {
 		t := day(gd)
 		s.Grants = append(s.Grants, grants.Grant{ID: id(), Holder: fmt.Sprintf("D%02d", i+1), Instrument: grants.RSU, GrantDate: t,
 			Shares: int64(500 * (6 + rng.IntN(20))), VestStart: t, VestMonths: 36, VestEvery: 12, CostCenter: "G&A"})
+	}
+	// The general-ledger accounts of journal.csv: an expense account per
+	// function, and the balance-sheet and tax accounts.
+	s.Accounts = []grants.AccountRow{
+		{Role: "compensation_expense", Code: "6400", Name: "Share-based compensation"},
+		{Role: "compensation_expense", CostCenter: "R&D", Code: "6410", Name: "Share-based compensation - research and development"},
+		{Role: "compensation_expense", CostCenter: "S&M", Code: "6420", Name: "Share-based compensation - sales and marketing"},
+		{Role: "compensation_expense", CostCenter: "G&A", Code: "6430", Name: "Share-based compensation - general and administrative"},
+		{Role: "compensation_expense", CostCenter: "COGS", Code: "5410", Name: "Share-based compensation - cost of revenue"},
+		{Role: "equity", Code: "3100", Name: "Additional paid-in capital"},
+		{Role: "warrant_liability", Code: "2450", Name: "Warrant liability"},
+		{Role: "fair_value_change", Code: "7150", Name: "Change in fair value of warrant liability"},
+		{Role: "deferred_tax_asset", Code: "1850", Name: "Deferred tax assets"},
+		{Role: "deferred_tax_benefit", Code: "8100", Name: "Deferred income tax benefit"},
 	}
 	// Two holders changed function: one from R&D to S&M a year ago, one
 	// from cost of revenue to R&D in the period.
