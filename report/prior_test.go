@@ -27,14 +27,7 @@ func closeAt(t *testing.T, s *grants.Schedule, end string, prior *accounting.Pri
 			t.Fatal(err)
 		}
 	}
-	ins, errs, _ := s.ValueInputs()
-	if len(errs) > 0 {
-		t.Fatal(errs)
-	}
-	v, err := pricing.Value(s, ins, pricing.Options{Locks: prior.Locks()})
-	if err != nil {
-		t.Fatal(err)
-	}
+	v := grantstest.Value(t, s, prior.Locks())
 	b, err := accounting.Close(s, v, prior)
 	if err != nil {
 		t.Fatal(err)

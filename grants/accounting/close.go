@@ -25,7 +25,7 @@ type Books struct {
 
 // Close does the accounting of schedule s's period over the grants v
 // valued: the awards (AwardsOf), their attribution and the disclosure
-// tables (Attribute) and the journal. With prior, the close that came
+// tables from one set of ledgers (as Attribute) and the journal. With prior, the close that came
 // before (opened by Open, and whose values v kept), the opening balances
 // are what prior booked, the closed periods stand as it booked them, and
 // the Reconciliation walks from it to this close with its catch-ups. An

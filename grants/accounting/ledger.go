@@ -187,10 +187,11 @@ func (t *trancheLedger) vestedOn(d time.Time) bool { return t.vestN <= dayNum(d)
 
 func (t *trancheLedger) vestedN(d int) bool { return t.vestN <= d }
 
-// expected is the expected share of the tranche's live shares at the end of
-// day d that are still there at its vest date (see ExpectedShare): the rate
-// over the service days still to come, from day d+1 (or the service start)
-// to the day before vesting; 1 once vested or with no forfeiture rate.
+// expected is the expected share of the tranche's live shares at the end
+// of day d that are still there at its vest date (see the package notes
+// on forfeitures): rate over the service days still to come, from day d+1
+// (or the service start) to the day before vesting; 1 once vested or with
+// no forfeiture rate.
 func (t *trancheLedger) expected(d int, rate float64) float64 {
 	if t.vestedN(d) || rate == 0 {
 		return 1
