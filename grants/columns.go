@@ -86,6 +86,7 @@ const (
 	SheetSharePrices = "Share Prices"
 	SheetRates       = "Rates"
 	SheetEvents      = "Events"
+	SheetDesigns     = "Designs"
 )
 
 var (
@@ -201,12 +202,106 @@ var Sheets = []Sheet{
 		}},
 }
 
-// SheetSpec returns the layout of the sheet with canonical name name; it
-// panics for an unknown name (a programming error).
+// DesignSheets is the layout of the grant designs workbook that compare
+// reads (and init --designs writes): the schedule's Company sheet with one
+// more key, grant_date; its Assumptions, Share Prices and Rates sheets as
+// they are; and Designs, one row per design to compare. Columns that mean
+// what they mean on the Grants sheet are the Grants sheet's own.
+var DesignSheets = []Sheet{
+	withColumns(scheduleSheet(SheetCompany), Column{Key: "grant_date", Kind: KindDate, Need: "optional", Default: "valuation_date",
+		Help: "The date the designs would be granted: every design is measured at it, with the share price and rate curve in force on it."}),
+	scheduleSheet(SheetAssumptions),
+	{Name: SheetDesigns, File: "designs.csv", Required: true,
+		Help: fmt.Sprintf("One row per grant design to compare side by side, at most %d. Empty cells take the Assumptions or the defaults shown.", MaxDesigns),
+		Columns: []Column{
+			{Key: "design", Kind: KindText, Required: true, Need: "required", Help: "A short, unique name for the design, shown at the head of its column, e.g. 4y monthly, 1y cliff."},
+			grantColumn("instrument", "", ""),
+			grantColumn("shares", "", ""),
+			grantColumn("strike", "options and warrants: this or strike_premium", ""),
+			{Key: "strike_premium", Kind: KindPercent, Unit: "over the share price", Need: "options and warrants: this or strike",
+				Help: "The strike as a premium over the share price at grant_date: 0 is at the money, 25% or 0.25 a strike a quarter above it."},
+			grantColumn("term_years", "options and warrants", "Contractual term from the grant date."),
+			grantColumn("vest_months", "", ""),
+			grantColumn("cliff_months", "", ""),
+			grantColumn("vest_every_months", "", ""),
+			grantColumn("exercise_multiple", "", ""),
+			grantColumn("post_vesting_exit_rate", "", "Overrides the post-vesting exit rate. A long exercise window after leaving means fewer leavers exercise or lose their options at once: a lower rate."),
+			{Key: "pre_vesting_forfeiture_rate", Kind: KindPercent, Unit: "annual", Need: "optional", Default: "Assumptions",
+				Help: "Overrides the share of unvested holders who leave each year: it enters the expected cost and the expense, never the fair value."},
+			grantColumn("volatility", "", ""),
+		}},
+	scheduleSheet(SheetSharePrices),
+	scheduleSheet(SheetRates),
+}
+
+// MaxDesigns is how many designs one comparison takes: more would not fit
+// side by side on a page or a screen.
+const MaxDesigns = 10
+
+// withColumns is sh with more columns after its own.
+func withColumns(sh Sheet, more ...Column) Sheet {
+	sh.Columns = append(append([]Column(nil), sh.Columns...), more...)
+	return sh
+}
+
+// grantColumn is the Grants sheet's column key, with need and help in
+// place of its own when they are not empty.
+func grantColumn(key, need, help string) Column {
+	sh := scheduleSheet(SheetGrants)
+	c := *sh.Column(key)
+	if need != "" {
+		c.Need = need
+	}
+	if help != "" {
+		c.Help = help
+	}
+	return c
+}
+
+// DesignColumnsMarkdown renders, for the README, what the designs workbook
+// holds beyond the schedule's sheets: the Designs sheet and the Company's
+// grant_date key.
+func DesignColumnsMarkdown() string {
+	var extra []Sheet
+	for _, sh := range DesignSheets {
+		if sh.Name == SheetDesigns {
+			extra = append(extra, sh)
+			continue
+		}
+		own := scheduleSheet(sh.Name)
+		var cols []Column
+		for _, c := range sh.Columns {
+			if own.Column(c.Key) == nil {
+				cols = append(cols, c)
+			}
+		}
+		if len(cols) > 0 {
+			sh.Columns = cols
+			extra = append(extra, sh)
+		}
+	}
+	return layoutMarkdown(extra)
+}
+
+// scheduleSheet is the sheet of the schedule's layout named name.
+func scheduleSheet(name string) Sheet {
+	for _, sh := range Sheets {
+		if sh.Name == name {
+			return sh
+		}
+	}
+	panic("grants: no schedule sheet " + name)
+}
+
+// SheetSpec returns the layout of the sheet with canonical name name (the
+// schedule's, else the designs workbook's); it panics for an unknown name
+// (a programming error).
 func SheetSpec(name string) *Sheet {
-	for i := range Sheets {
-		if Sheets[i].Name == name {
-			return &Sheets[i]
+	for _, layout := range [][]Sheet{Sheets, DesignSheets} {
+		for i := range layout {
+			if layout[i].Name == name {
+				return &layout[i]
+			}
 		}
 	}
 	panic("grants: no sheet " + name)
@@ -214,9 +309,11 @@ func SheetSpec(name string) *Sheet {
 
 // ColumnsMarkdown renders the sheets and their columns as Markdown, for the
 // README.
-func ColumnsMarkdown() string {
+func ColumnsMarkdown() string { return layoutMarkdown(Sheets) }
+
+func layoutMarkdown(layout []Sheet) string {
 	var b strings.Builder
-	for _, sh := range Sheets {
+	for _, sh := range layout {
 		need := "optional sheet"
 		if sh.Required {
 			need = "required sheet"

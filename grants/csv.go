@@ -1,6 +1,7 @@
 package grants
 
 import (
+	"bufio"
 	"bytes"
 	"crypto/sha256"
 	"encoding/csv"
@@ -42,43 +43,64 @@ func (c *csvSource) rows(name string) (rowIter, error) {
 	if err != nil {
 		return nil, err
 	}
-	defer f.Close()
 	// The entry may have changed since the folder was listed: look at what
 	// was opened.
 	st, err := f.Stat()
-	if err != nil {
-		return nil, err
-	}
-	if !st.Mode().IsRegular() {
+	if err == nil && !st.Mode().IsRegular() {
+		f.Close()
 		return bad("is %s; grantworth reads only regular files (copy the file into the folder)", fileKind(st.Mode().Type()))
 	}
-	if st.Size() > MaxFileSize {
-		return nil, &CellError{Sheet: sheet, Err: ErrTooLarge, Msg: fmt.Sprintf("%s is %s, more than the %s allowed for one sheet", file, sizeText(st.Size()), sizeText(MaxFileSize))}
+	if err == nil && st.Size() > MaxFileSize {
+		err = &CellError{Sheet: sheet, Err: ErrTooLarge, Msg: fmt.Sprintf("%s is %s, more than the %s allowed for one sheet", file, sizeText(st.Size()), sizeText(MaxFileSize))}
 	}
-	data, err := io.ReadAll(io.LimitReader(f, MaxFileSize+1))
 	if err != nil {
+		f.Close()
 		return nil, err
 	}
-	if len(data) > MaxFileSize {
-		return nil, &CellError{Sheet: sheet, Err: ErrTooLarge, Msg: fmt.Sprintf("%s is more than the %s allowed for one sheet", file, sizeText(MaxFileSize))}
-	}
+	// The file is streamed, never held whole: a guard between the file
+	// and the CSV reader bounds what one record can take.
+	it.f = f
+	it.guard = &recordGuard{r: io.LimitReader(f, st.Size())}
+	br := bufio.NewReaderSize(it.guard, 64<<10)
+	head, _ := br.Peek(64 << 10)
 	switch {
-	case bytes.HasPrefix(data, []byte("\xff\xfe")) || bytes.HasPrefix(data, []byte("\xfe\xff")):
+	case bytes.HasPrefix(head, []byte("\xff\xfe")) || bytes.HasPrefix(head, []byte("\xfe\xff")):
 		return bad("is UTF-16 (Unicode) text; save it as CSV UTF-8")
-	case looksUTF16(data):
+	case looksUTF16(head):
 		return bad("is UTF-16 text without a byte-order mark; save it as CSV UTF-8")
-	}
-	data = bytes.TrimPrefix(data, []byte("\xef\xbb\xbf"))
-	if !utf8.Valid(data) {
-		line := 1 + bytes.Count(data[:firstInvalid(data)], []byte("\n"))
-		return bad("line %d is not UTF-8 text; save the file as CSV UTF-8", line)
-	}
-	if bytes.IndexByte(data, '\r') >= 0 && bytes.IndexByte(data, '\n') < 0 {
+	case bytes.IndexByte(head, '\r') >= 0 && bytes.IndexByte(head, '\n') < 0:
 		return bad("ends its lines with a carriage return alone (as old Mac programs did); save it as CSV with Windows or Unix line endings")
 	}
-	it.r = csv.NewReader(bytes.NewReader(data))
+	if bytes.HasPrefix(head, []byte("\xef\xbb\xbf")) {
+		br.Discard(3)
+	}
+	it.r = csv.NewReader(br)
 	it.r.FieldsPerRecord = -1
 	return it, nil
+}
+
+// maxRecordBytes bounds one CSV record (a row, with any line breaks inside
+// its quoted fields): 256 columns of ordinary text need far less.
+const maxRecordBytes = 4 << 20
+
+// errRecordTooLong stops the CSV reader inside a record past
+// maxRecordBytes.
+var errRecordTooLong = errors.New("record too long")
+
+// recordGuard counts the bytes read since the last record began.
+type recordGuard struct {
+	r    io.Reader
+	n    int64 // bytes read
+	mark int64 // n where the current record began (give or take a buffer)
+}
+
+func (g *recordGuard) Read(p []byte) (int, error) {
+	if g.n-g.mark > maxRecordBytes+128<<10 {
+		return 0, errRecordTooLong
+	}
+	n, err := g.r.Read(p)
+	g.n += int64(n)
+	return n, err
 }
 
 // looksUTF16 reports whether text with no byte-order mark is UTF-16: a
@@ -192,14 +214,24 @@ func hashFile(h io.Writer, path, name string, framed bool) error {
 }
 
 // isSheet reports whether name (a sheet or file name without extension)
-// stands for a sheet grantworth reads.
+// stands for a sheet grantworth reads, in a schedule or a designs workbook.
 func isSheet(name string) bool {
-	for _, sh := range Sheets {
-		if norm(sh.Name) == norm(name) {
-			return true
+	_, ok := canonicalSheet(name)
+	return ok
+}
+
+// canonicalSheet is the canonical name of the sheet of a schedule or a
+// designs workbook that name (a sheet or file name without extension)
+// stands for.
+func canonicalSheet(name string) (string, bool) {
+	for _, layout := range [][]Sheet{Sheets, DesignSheets} {
+		for _, sh := range layout {
+			if norm(sh.Name) == norm(name) {
+				return sh.Name, true
+			}
 		}
 	}
-	return false
+	return name, false
 }
 
 func firstInvalid(b []byte) int {
@@ -215,18 +247,16 @@ func firstInvalid(b []byte) int {
 
 // sheetOf is the canonical name of the sheet a file name stands for.
 func sheetOf(name string) string {
-	for _, sh := range Sheets {
-		if norm(sh.Name) == norm(name) {
-			return sh.Name
-		}
-	}
-	return name
+	s, _ := canonicalSheet(name)
+	return s
 }
 
 // csvRows numbers records the way a spreadsheet shows them: blank lines
 // count as rows; a quoted field spanning lines stays in one row.
 type csvRows struct {
 	file    string
+	f       fs.File
+	guard   *recordGuard
 	r       *csv.Reader
 	err     error // returned by the next call of cells
 	row     int
@@ -262,7 +292,9 @@ func (c *csvRows) next() bool {
 	}
 	if err != nil {
 		var pe *csv.ParseError
-		if errors.As(err, &pe) {
+		if errors.Is(err, errRecordTooLong) {
+			err = &CellError{Err: ErrTooLarge, Msg: fmt.Sprintf("%s line %d starts a row longer than %s", c.file, c.endLine+1, sizeText(maxRecordBytes))}
+		} else if errors.As(err, &pe) {
 			err = &CellError{Err: ErrFormat, Msg: fmt.Sprintf("%s line %d, column %d: %v", c.file, pe.Line, pe.Column, pe.Err)}
 		}
 		c.err = err
@@ -270,8 +302,18 @@ func (c *csvRows) next() bool {
 		c.row++
 		return true
 	}
+	c.guard.mark = c.guard.n
 	line, _ := c.r.FieldPos(0)
 	last, _ := c.r.FieldPos(len(rec) - 1)
+	for i, f := range rec {
+		if !utf8.ValidString(f) {
+			l, _ := c.r.FieldPos(i)
+			c.err = &CellError{Err: ErrFormat, Msg: fmt.Sprintf("%s line %d is not UTF-8 text; save the file as CSV UTF-8", c.file, l+strings.Count(f[:firstInvalid([]byte(f))], "\n"))}
+			c.done = true
+			c.row++
+			return true
+		}
+	}
 	gap := line - c.endLine - 1
 	c.endLine = last + strings.Count(rec[len(rec)-1], "\n")
 	if c.row == 0 && len(rec) == 1 {
@@ -297,8 +339,21 @@ func (c *csvRows) cells() (int, []string, error) {
 	if c.err != nil {
 		return c.row, nil, c.err
 	}
+	for i, v := range c.cur {
+		if tooLong(v, MaxCellChars) {
+			c.err = &CellError{Cell: cellName(i+1, c.row), Err: ErrTooLarge,
+				Msg: fmt.Sprintf("holds more than %s characters, more than a spreadsheet cell holds", countText(MaxCellChars))}
+			c.done = true
+			return c.row, nil, c.err
+		}
+	}
 	return c.row, c.cur, nil
 }
 
 func (c *csvRows) emptyIsFormula(col, row int) bool { return false }
-func (c *csvRows) close(bool) error                 { return nil }
+func (c *csvRows) close(bool) error {
+	if c.f != nil {
+		return c.f.Close()
+	}
+	return nil
+}

@@ -33,7 +33,10 @@
 // an optional byte-order mark is dropped; quoted fields may hold commas and
 // line breaks). Its rows are numbered as a spreadsheet would show the file,
 // so problems carry the same Sheet!Cell references as in a workbook. A file
-// separated by semicolons or tabs is refused with a message saying so.
+// separated by semicolons or tabs, UTF-16 text, or lines ended by a carriage
+// return alone is refused with a message saying so. Only the files that
+// stand for a sheet are opened, and each must be a regular file (not a
+// symbolic link, a device or a pipe); HashInput hashes the same files.
 //
 // The workbook is read by this package's own streaming reader of the zip
 // archive and its XML parts (xlsx.go, xmlscan.go), not by a spreadsheet
@@ -45,13 +48,17 @@
 // # Limits
 //
 // Untrusted workbooks cannot exhaust memory or time: files are capped at
-// MaxFileSize bytes, a workbook at MaxUnzipSize unzipped, each sheet at
-// MaxRows rows, each row at MaxColumns non-empty columns, each cell at
-// MaxCellChars characters, the shared strings at MaxSharedStrings strings
-// and MaxSharedStringBytes bytes. Each limit is checked while streaming,
-// before memory is taken for what it bounds, and a file past one is an
-// error wrapping ErrTooLarge that names the sheet. Counts written inside a
-// file are never used to size anything.
+// MaxFileSize bytes, a workbook at MaxUnzipSize unzipped, the Grants sheet
+// at MaxGrants rows and every sheet at row MaxRows, each row at MaxColumns
+// non-empty columns (and a spreadsheet's 16,384 cells; a CSV record at
+// 4 MiB), each cell at MaxCellChars characters, the shared strings at
+// MaxSharedStrings strings and MaxSharedStringBytes bytes, XML nesting at
+// 64 elements. Each limit is checked while streaming, before memory is
+// taken for what it bounds, and a file past one is an error wrapping
+// ErrTooLarge that names the sheet (the file, for the shared strings).
+// Counts written inside a file are never used to size anything. Text
+// fields have their own, shorter limits (MaxIDChars, MaxNameChars,
+// MaxSourceChars, MaxHeaderChars): longer text is an error naming the cell.
 //
 // # Problems
 //

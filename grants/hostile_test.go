@@ -151,14 +151,14 @@ func TestReadTextLimits(t *testing.T) {
 	}{
 		{"grant id", "grants.csv", "grant_id,grant_date,shares,strike,term_years\n" + long(10000) + ",2025-01-15,100,1.50,10\n",
 			`Grants!A2 (grant_id): "` + long(60) + `…" (10000 characters) is longer than the 64 characters allowed for grant_id`},
-		{"holder", "grants.csv", "grant_id,holder,grant_date,shares,strike,term_years\nA-1," + long(1_000_000) + ",2025-01-15,100,1.50,10\n",
-			`Grants!B2 (holder): "` + long(60) + `…" (1000000 characters) is longer than the 200 characters allowed for holder`},
+		{"holder", "grants.csv", "grant_id,holder,grant_date,shares,strike,term_years\nA-1," + long(1000) + ",2025-01-15,100,1.50,10\n",
+			`Grants!B2 (holder): "` + long(60) + `…" (1000 characters) is longer than the 200 characters allowed for holder`},
 		{"company name", "company.csv", "key,value\ncompany_name," + long(201) + "\nvaluation_date,2026-09-30\n",
 			`Company!B2 (company_name): "` + long(60) + `…" (201 characters) is longer than the 200 characters allowed for company_name`},
 		{"source", "assumptions.csv", "key,value,source\nvolatility,45%," + long(501) + "\n",
 			`Assumptions!C2 (source): "` + long(60) + `…" (501 characters) is longer than the 500 characters allowed for the source of volatility`},
-		{"header", "grants.csv", "grant_id,grant_date,shares,strike,term_years," + long(60_000) + "\nA-1,2025-01-15,100,1.50,10,x\n",
-			`Grants!F1: "` + long(60) + `…" (60000 characters) is longer than any column name (at most 100 characters)`},
+		{"header", "grants.csv", "grant_id,grant_date,shares,strike,term_years," + long(1000) + "\nA-1,2025-01-15,100,1.50,10,x\n",
+			`Grants!F1: "` + long(60) + `…" (1000 characters) is longer than any column name (at most 100 characters)`},
 		{"key", "company.csv", "key,value\ncompany_name,Pebblebrook Audio\nvaluation_date,2026-09-30\n" + long(101) + ",1\n",
 			`Company!A4 (key): "` + long(60) + `…" (101 characters) is longer than any key (at most 100 characters)`},
 	} {
@@ -179,8 +179,29 @@ func TestReadTextLimits(t *testing.T) {
 			}
 		})
 	}
-	// Text at the limits is read.
+	// Past a spreadsheet cell's 32,767 characters, any cell stops the read:
+	// a holder of a million characters made a memo of 111,063 pages, a 60 MB
+	// header a warning of 63 MB.
+	for _, data := range []string{
+		"grant_id,holder,grant_date,shares,strike,term_years\nA-1," + long(1_000_000) + ",2025-01-15,100,1.50,10\n",
+		"grant_id,grant_date,shares,strike,term_years,notes\nA-1,2025-01-15,100,1.50,10,\"" + long(32768) + "\"\n",
+	} {
+		fs := baseCSV()
+		fs["grants.csv"] = &fstest.MapFile{Data: []byte(data)}
+		_, _, err := ReadCSVDir(fs)
+		if !errors.Is(err, ErrTooLarge) || !strings.HasSuffix(err.Error(), "2: holds more than 32,767 characters, more than a spreadsheet cell holds") {
+			t.Errorf("a cell past 32,767 characters: %v", err)
+		}
+	}
+	// A row of 5 MiB is refused before it is read whole.
 	fs := baseCSV()
+	fs["grants.csv"] = &fstest.MapFile{Data: []byte("grant_id,grant_date,shares,notes\nA-1,2025-01-15,100," + strings.Repeat("\"x\",", 5<<20/4) + "\n")}
+	if _, _, err := ReadCSVDir(fs); !errors.Is(err, ErrTooLarge) || err.Error() != "Grants: grants.csv line 2 starts a row longer than 4 MiB" {
+		t.Errorf("a 5 MiB row: %v", err)
+	}
+
+	// Text at the limits is read.
+	fs = baseCSV()
 	fs["grants.csv"] = &fstest.MapFile{Data: []byte("grant_id,holder,grant_date,shares,strike,term_years\n" + long(64) + "," + strings.Repeat("é", 200) + ",2025-01-15,100,1.50,10\n")}
 	s, rep := readMap(t, fs)
 	if !rep.OK() || len(s.Grants) != 1 {

@@ -36,6 +36,28 @@ type Inputs struct {
 	RiskFreeRate Source
 }
 
+// Named is one valuation input of a grant by its key.
+type Named struct {
+	Key    string
+	Source *Source
+}
+
+// Named are the grant's valuation inputs by key, in the memo's order:
+// share_price, volatility (not for an RSU), dividend_yield, and for
+// options and warrants exercise_multiple, post_vesting_exit_rate and
+// risk_free_rate. The Sources are in's own.
+func (in *Inputs) Named() []Named {
+	out := []Named{{"share_price", &in.SharePrice}}
+	if in.Grant.Instrument != RSU {
+		out = append(out, Named{"volatility", &in.Volatility})
+	}
+	out = append(out, Named{"dividend_yield", &in.DividendYield})
+	if in.Grant.Instrument != RSU {
+		out = append(out, Named{"exercise_multiple", &in.ExerciseMultiple}, Named{"post_vesting_exit_rate", &in.ExitRate}, Named{"risk_free_rate", &in.RiskFreeRate})
+	}
+	return out
+}
+
 // Inputs gathers the valuation inputs of grant g: the measurement date,
 // one valuation.Terms per tranche, the Market at the measurement date and
 // the source of every assumption.
@@ -272,3 +294,7 @@ func (s *Schedule) Period() (start, end time.Time) {
 	}
 	return start, end
 }
+
+// Cell is the cell of column key on row of sheet, as problems name it
+// (the sheet's first column when key is not on it).
+func (s *Schedule) Cell(sheet, key string, row int) Ref { return s.cell(sheet, key, row, nil) }

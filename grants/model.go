@@ -63,6 +63,7 @@ type Schedule struct {
 	SharePrices []PricePoint
 	Rates       []RatePoint
 	Events      []Event
+	Designs     []Design // the Designs sheet of a designs workbook (ReadDesigns)
 
 	// layout is, per sheet read, the 0-based column of each column key, so
 	// that problems with empty cells can name the cell.
@@ -77,6 +78,7 @@ type Company struct {
 	Currency          string    // ISO 4217, default USD
 	SharesOutstanding float64
 	Fiscal            FiscalCalendar // fiscal_year_end and the 52/53-week keys
+	GrantDate         time.Time      // designs workbook: the grant date of every design; zero means ValuationDate
 	Refs              map[string]Ref // by key, e.g. "valuation_date"
 }
 
@@ -86,7 +88,7 @@ type Company struct {
 // the fiscal quarter; otherwise it is a quarter's length back: three
 // months (2026-11-20 gives 2026-08-21) or, in a 52/53-week calendar,
 // 13 weeks.
-func (c *Company) DefaultPeriodStart(end time.Time) time.Time {
+func (c Company) DefaultPeriodStart(end time.Time) time.Time {
 	end = time.Date(end.Year(), end.Month(), end.Day(), 0, 0, 0, 0, time.UTC)
 	q := c.Fiscal.Quarter(end)
 	switch {

@@ -77,13 +77,17 @@ type rowIter interface {
 // not a workbook, too large); every problem in the schedule itself, with
 // its sheet and cell, is in the Report, and the Schedule holds the rows
 // that could be read.
-func ReadFile(path string) (*Schedule, *Report, error) {
+func ReadFile(path string) (*Schedule, *Report, error) { return readFile(path, Sheets) }
+
+// readFile is ReadFile for the workbook of the given layout (Sheets or
+// DesignSheets).
+func readFile(path string, layout []Sheet) (*Schedule, *Report, error) {
 	st, err := os.Stat(path)
 	if err != nil {
 		return nil, nil, err
 	}
 	if st.IsDir() {
-		s, rep, err := ReadCSVDir(os.DirFS(path))
+		s, rep, err := readCSVDir(os.DirFS(path), layout)
 		var ce *CellError
 		if errors.As(err, &ce) && ce.Sheet == "." {
 			ce.Sheet = filepath.Base(path)
@@ -96,7 +100,7 @@ func ReadFile(path string) (*Schedule, *Report, error) {
 	}
 	if strings.EqualFold(filepath.Ext(path), ".csv") {
 		return nil, nil, &CellError{Sheet: name, Err: ErrFormat,
-			Msg: "is one CSV file; give the folder that holds grants.csv, company.csv and the other sheets"}
+			Msg: fmt.Sprintf("is one CSV file; give the folder that holds %s and the other sheets", csvFiles(layout))}
 	}
 	if st.Size() > MaxFileSize {
 		return nil, nil, &CellError{Sheet: name, Err: ErrTooLarge, Msg: fmt.Sprintf("is %s, more than the %s allowed", sizeText(st.Size()), sizeText(MaxFileSize))}
@@ -106,7 +110,7 @@ func ReadFile(path string) (*Schedule, *Report, error) {
 		return nil, nil, err
 	}
 	defer f.Close()
-	s, rep, err := ReadXLSX(f, st.Size())
+	s, rep, err := readXLSX(f, st.Size(), layout)
 	var ce *CellError
 	if errors.As(err, &ce) && ce.Sheet == "" {
 		ce.Sheet = name
@@ -118,7 +122,11 @@ func ReadFile(path string) (*Schedule, *Report, error) {
 // is damaged (a wrong checksum or size in the archive, XML that does not
 // close, a reference to a string it lacks) or past a limit is an error
 // naming the sheet: never a shorter schedule.
-func ReadXLSX(r io.ReaderAt, size int64) (s *Schedule, rep *Report, err error) {
+func ReadXLSX(r io.ReaderAt, size int64) (*Schedule, *Report, error) {
+	return readXLSX(r, size, Sheets)
+}
+
+func readXLSX(r io.ReaderAt, size int64, layout []Sheet) (*Schedule, *Report, error) {
 	if size > MaxFileSize {
 		return nil, nil, &CellError{Err: ErrTooLarge, Msg: fmt.Sprintf("is %s, more than the %s allowed", sizeText(size), sizeText(MaxFileSize))}
 	}
@@ -129,12 +137,14 @@ func ReadXLSX(r io.ReaderAt, size int64) (s *Schedule, rep *Report, err error) {
 	if err != nil {
 		return nil, nil, err
 	}
-	return read(b)
+	return read(b, layout)
 }
 
 // ReadCSVDir reads a schedule from a folder of CSV files, one per sheet
 // (grants.csv, company.csv, ...; names matched like sheet names).
-func ReadCSVDir(fsys fs.FS) (*Schedule, *Report, error) {
+func ReadCSVDir(fsys fs.FS) (*Schedule, *Report, error) { return readCSVDir(fsys, Sheets) }
+
+func readCSVDir(fsys fs.FS, layout []Sheet) (*Schedule, *Report, error) {
 	ents, err := fs.ReadDir(fsys, ".")
 	if err != nil {
 		return nil, nil, err
@@ -144,12 +154,24 @@ func ReadCSVDir(fsys fs.FS) (*Schedule, *Report, error) {
 	if len(src.names) == 0 {
 		return nil, nil, &CellError{Sheet: ".", Err: ErrFormat, Msg: "holds no .csv files"}
 	}
-	return read(src)
+	return read(src, layout)
 }
 
-// read builds a Schedule from a source and validates it. It stops at the
-// first error that makes the source unreadable (ErrDamaged, ErrTooLarge).
-func read(src source) (*Schedule, *Report, error) {
+// csvFiles names the CSV files of the layout's first table sheet and its
+// company sheet: grants.csv, company.csv for a schedule.
+func csvFiles(layout []Sheet) string {
+	for _, sh := range layout {
+		if sh.Required && !sh.KeyValue {
+			return sh.File + ", company.csv"
+		}
+	}
+	return "company.csv"
+}
+
+// read builds a Schedule from a source laid out as layout (Sheets or
+// DesignSheets) and validates it. It stops at the first error that makes
+// the source unreadable (ErrDamaged, ErrTooLarge).
+func read(src source, layout []Sheet) (*Schedule, *Report, error) {
 	s := &Schedule{layout: map[string]map[string]int{}}
 	rep := &Report{skip: map[string]bool{}}
 	s.Company.Refs = map[string]Ref{}
@@ -162,7 +184,7 @@ func read(src source) (*Schedule, *Report, error) {
 	for _, name := range src.sheetNames() {
 		n := norm(name)
 		matched := false
-		for _, sh := range Sheets {
+		for _, sh := range layout {
 			if norm(sh.Name) == n {
 				if prev, dup := found[sh.Name]; dup {
 					rep.errf(Ref{Sheet: name}, "", "", ErrDuplicate, "sheet matches %s, like sheet %q", sh.Name, prev)
@@ -177,8 +199,8 @@ func read(src source) (*Schedule, *Report, error) {
 		}
 	}
 	d1904 := src.date1904()
-	for i := range Sheets {
-		sh := &Sheets[i]
+	for i := range layout {
+		sh := &layout[i]
 		name, ok := found[sh.Name]
 		if !ok {
 			if sh.Required {
@@ -310,7 +332,7 @@ func (t *tableReader) nextRow() (int, []string, bool) {
 // cellName is the A1-style name of a cell ("AB12"), or "" for a position
 // outside a sheet.
 func cellName(col, row int) string {
-	if col < 1 || row < 1 || col > maxSheetColumns || row > MaxRows+maxSheetRows {
+	if col < 1 || row < 1 || col > maxSheetColumns {
 		return ""
 	}
 	var b [16]byte
@@ -389,6 +411,8 @@ func (t *tableReader) readTable() {
 			t.rateRow(c)
 		case SheetEvents:
 			t.eventRow(c)
+		case SheetDesigns:
+			t.designRow(c)
 		}
 	}
 }
@@ -590,19 +614,12 @@ func (t *tableReader) grantRow(c *rowCtx) {
 	if v, ok := c.date("vest_start", false); ok {
 		g.VestStart = v
 	}
-	vm, _ := c.integer("vest_months", false)
-	cm, _ := c.integer("cliff_months", false)
+	g.VestMonths = c.months("vest_months")
+	g.CliffMonths = c.months("cliff_months")
 	g.VestEvery = 1
 	if ve, ok := c.integer("vest_every_months", false); ok {
 		g.VestEvery = int(ve)
 	}
-	if vm < 0 || vm > 1200 {
-		c.failf("vest_months", c.cellText("vest_months"), ErrRange, "must be from 0 to 1200 months")
-	}
-	if cm < 0 || cm > 1200 {
-		c.failf("cliff_months", c.cellText("cliff_months"), ErrRange, "must be from 0 to 1200 months")
-	}
-	g.VestMonths, g.CliffMonths = int(vm), int(cm)
 	g.SharePrice = c.ptr("share_price", false)
 	g.Volatility = c.ptr("volatility", true)
 	g.DividendYield = c.ptr("dividend_yield", true)
@@ -896,6 +913,8 @@ func (t *tableReader) companyValue(c *rowCtx, col *Column) {
 		if v, ok := c.choice(col.Key, false); ok {
 			co.Fiscal.Nearest = v == "nearest"
 		}
+	case "grant_date":
+		co.GrantDate, _ = c.date(col.Key, false)
 	}
 }
 

@@ -9,11 +9,18 @@ import (
 
 var updateREADME = flag.Bool("update", false, "rewrite the column list in ../README.md")
 
-// The README's column list is generated from the one column table, so the
+// The README's column lists are generated from the one column table, so the
 // documentation cannot drift from what the reader accepts.
 func TestREADMEColumnList(t *testing.T) {
+	readmeBlock(t, "<!-- columns:begin", "<!-- columns:end -->", ColumnsMarkdown())
+	readmeBlock(t, "<!-- design-columns:begin", "<!-- design-columns:end -->", DesignColumnsMarkdown())
+}
+
+// readmeBlock checks (or with -update rewrites) the README's lines between
+// the begin and end markers against md.
+func readmeBlock(t *testing.T, begin, end, md string) {
+	t.Helper()
 	const path = "../README.md"
-	const begin, end = "<!-- columns:begin", "<!-- columns:end -->"
 	raw, err := os.ReadFile(path)
 	if err != nil {
 		t.Fatal(err)
@@ -25,7 +32,7 @@ func TestREADMEColumnList(t *testing.T) {
 		t.Fatalf("%s has no %q ... %q block", path, begin, end)
 	}
 	i += strings.Index(s[i:], "\n") + 1 // keep the marker line
-	want := "\n" + ColumnsMarkdown()
+	want := "\n" + md
 	if !strings.HasSuffix(want, "\n\n") {
 		want = strings.TrimRight(want, "\n") + "\n\n"
 	}
@@ -38,5 +45,5 @@ func TestREADMEColumnList(t *testing.T) {
 		}
 		return
 	}
-	t.Errorf("the column list in %s is out of date: run go test ./grants -run TestREADMEColumnList -update", path)
+	t.Errorf("the column list %s in %s is out of date: run go test ./grants -run TestREADMEColumnList -update", begin, path)
 }

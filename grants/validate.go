@@ -46,6 +46,7 @@ func validate(s *Schedule, skip map[string]bool) Report {
 	v.transfers()
 	v.accounts()
 	v.events()
+	v.designs()
 	return v.rep
 }
 

@@ -25,6 +25,11 @@ const templateRows = 1000
 // date and percent formats. A nil or empty s gives the blank template.
 // Reading the result back gives s again.
 func WriteXLSX(w io.Writer, s *Schedule) error {
+	return writeXLSX(w, s, Sheets, "grantworth grant schedule")
+}
+
+// writeXLSX writes the sheets of layout with an About sheet headed title.
+func writeXLSX(w io.Writer, s *Schedule, layout []Sheet, title string) error {
 	if s == nil {
 		s = &Schedule{}
 	}
@@ -35,8 +40,8 @@ func WriteXLSX(w io.Writer, s *Schedule) error {
 		return err
 	}
 	first := true
-	for i := range Sheets {
-		sh := &Sheets[i]
+	for i := range layout {
+		sh := &layout[i]
 		if first {
 			if err := f.SetSheetName("Sheet1", sh.Name); err != nil {
 				return err
@@ -55,7 +60,7 @@ func WriteXLSX(w io.Writer, s *Schedule) error {
 			return fmt.Errorf("sheet %s: %w", sh.Name, err)
 		}
 	}
-	if err := writeAbout(f, st); err != nil {
+	if err := writeAbout(f, st, layout, title); err != nil {
 		return err
 	}
 	f.SetActiveSheet(0)
@@ -201,19 +206,19 @@ func writeKeyValue(f *excelize.File, sh *Sheet, rows [][]any, st cellStyles) err
 	return nil
 }
 
-func writeAbout(f *excelize.File, st cellStyles) error {
+func writeAbout(f *excelize.File, st cellStyles, layout []Sheet, title string) error {
 	const about = "About"
 	if _, err := f.NewSheet(about); err != nil {
 		return err
 	}
 	lines := [][]any{
-		{"grantworth grant schedule"},
+		{title},
 		{Caution},
 		{"Sheet and column names may be in any case, with or without spaces or underscores; columns may come in any order. Dates are date cells or ISO text (2026-09-30); other text dates are refused as ambiguous. Rates may be 0.45 or 45%. Numbers may use commas only as thousands separators (1,234,567.5)."},
 		{},
 		{"sheet", "column or key", "kind", "unit", "needed", "default", "meaning"},
 	}
-	for _, sh := range Sheets {
+	for _, sh := range layout {
 		lines = append(lines, []any{sh.Name, "", "", "", map[bool]string{true: "required sheet", false: "optional sheet"}[sh.Required], "", sh.Help})
 		for _, c := range sh.Columns {
 			kind := c.Kind.String()
@@ -257,7 +262,7 @@ func joinComma(ss []string) string {
 func sheetRows(s *Schedule, sh *Sheet) [][]any {
 	switch sh.Name {
 	case SheetCompany:
-		return companyRows(s)
+		return companyRows(s, sh)
 	case SheetAssumptions:
 		return assumptionRows(s)
 	}
@@ -342,6 +347,10 @@ func sheetRows(s *Schedule, sh *Sheet) [][]any {
 			}
 			rows = append(rows, []any{e.GrantID, e.Date, string(e.Kind), e.Shares, px})
 		}
+	case SheetDesigns:
+		for _, d := range s.Designs {
+			rows = append(rows, designRowCells(d, n, put))
+		}
 	}
 	return rows
 }
@@ -353,7 +362,7 @@ func nilIfEmpty(s string) any {
 	return s
 }
 
-func companyRows(s *Schedule) [][]any {
+func companyRows(s *Schedule, sh *Sheet) [][]any {
 	co := s.Company
 	blank := co.Name == "" && co.ValuationDate.IsZero()
 	val := func(ok bool, v any) any {
@@ -362,7 +371,7 @@ func companyRows(s *Schedule) [][]any {
 		}
 		return v
 	}
-	return [][]any{
+	rows := [][]any{
 		{"company_name", val(co.Name != "", co.Name)},
 		{"valuation_date", val(!co.ValuationDate.IsZero(), co.ValuationDate)},
 		{"period_start", val(!co.PeriodStart.IsZero(), co.PeriodStart)},
@@ -372,6 +381,10 @@ func companyRows(s *Schedule) [][]any {
 		{"fiscal_year_end_weekday", val(co.Fiscal.WeekBased, weekdays[co.Fiscal.Weekday])},
 		{"fiscal_year_end_rule", val(co.Fiscal.WeekBased, map[bool]string{true: "nearest", false: "last"}[co.Fiscal.Nearest])},
 	}
+	if sh.Column("grant_date") != nil {
+		rows = append(rows, []any{"grant_date", val(!co.GrantDate.IsZero(), co.GrantDate)})
+	}
+	return rows
 }
 
 func assumptionRows(s *Schedule) [][]any {
@@ -437,12 +450,14 @@ func assumptionRows(s *Schedule) [][]any {
 // WriteCSVDir writes s as a folder of CSV files (one per sheet of Sheets,
 // header first; dates ISO, rates as decimals) into dir, which must exist.
 // Existing files of those names are replaced; the caller checks first.
-func WriteCSVDir(dir string, s *Schedule) error {
+func WriteCSVDir(dir string, s *Schedule) error { return writeCSVDir(dir, s, Sheets) }
+
+func writeCSVDir(dir string, s *Schedule, layout []Sheet) error {
 	if s == nil {
 		s = &Schedule{}
 	}
-	for i := range Sheets {
-		sh := &Sheets[i]
+	for i := range layout {
+		sh := &layout[i]
 		var buf bytes.Buffer
 		w := csv.NewWriter(&buf)
 		var head []string

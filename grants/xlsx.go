@@ -216,7 +216,7 @@ func (b *xlsxBook) open(name string) (io.ReadCloser, error) {
 	if f == nil {
 		return nil, bookError(ErrDamaged, "is a damaged workbook (%s is missing)", name)
 	}
-	if rest := MaxUnzipSize - b.unzipped; f.UncompressedSize64 > uint64(rest) {
+	if rest := MaxUnzipSize - b.unzipped; rest < 0 || f.UncompressedSize64 > uint64(rest) {
 		return nil, bookError(ErrTooLarge, "unzips to more than %s (%s alone is %s); a grant schedule is far smaller", sizeText(MaxUnzipSize), name, sizeText(int64(min(f.UncompressedSize64, 1<<62))))
 	}
 	rc, err := f.Open()

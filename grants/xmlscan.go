@@ -30,7 +30,6 @@ type xmlScanner struct {
 	rootEnd bool     // the root element has closed
 
 	// The current token.
-	kind      tokKind
 	name      []byte // qualified name of a start or end tag
 	attrs     []xmlAttr
 	text      []byte // decoded character data
@@ -131,7 +130,6 @@ func (s *xmlScanner) peek() (byte, bool) {
 func (s *xmlScanner) next() (tokKind, error) {
 	if s.selfClose {
 		s.selfClose = false
-		s.kind = tokEnd
 		s.stack = s.stack[:len(s.stack)-1]
 		if len(s.stack) == 0 {
 			s.rootEnd = true
@@ -153,7 +151,6 @@ func (s *xmlScanner) next() (tokKind, error) {
 			if len(s.stack) > 0 || !s.rootEnd {
 				return 0, s.readErr()
 			}
-			s.kind = tokEOF
 			return tokEOF, nil
 		}
 		if c != '<' {
@@ -169,7 +166,6 @@ func (s *xmlScanner) next() (tokKind, error) {
 				}
 				continue
 			}
-			s.kind = tokText
 			return tokText, nil
 		}
 		// A markup construct: make sure its first bytes are in the buffer.
@@ -204,7 +200,6 @@ func (s *xmlScanner) next() (tokKind, error) {
 				if !utf8.Valid(s.text) {
 					return 0, s.fail("text that is not UTF-8")
 				}
-				s.kind = tokText
 				return tokText, nil
 			default:
 				return 0, s.fail("a document type declaration, which a workbook never has")
@@ -427,7 +422,6 @@ func (s *xmlScanner) readEnd() (tokKind, error) {
 	if len(s.stack) == 0 {
 		s.rootEnd = true
 	}
-	s.kind = tokEnd
 	return tokEnd, nil
 }
 
@@ -520,7 +514,6 @@ func (s *xmlScanner) readStart() (tokKind, error) {
 	for _, sp := range spans[:na] {
 		s.attrs = append(s.attrs, xmlAttr{name: body[sp.n0:sp.n1], value: s.attrBuf[sp.v0:sp.v1]})
 	}
-	s.kind = tokStart
 	return tokStart, nil
 }
 
@@ -566,6 +559,3 @@ func (s *xmlScanner) attr(n string) ([]byte, bool) {
 	}
 	return nil, false
 }
-
-// depth is the number of open elements.
-func (s *xmlScanner) depth() int { return len(s.stack) }

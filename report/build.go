@@ -84,7 +84,7 @@ type Run struct {
 // study, the Monte Carlo check and the period's expense attribution,
 // journal and disclosures. It values and books nothing.
 func Build(s *grants.Schedule, v *pricing.Valuation, b *accounting.Books, run Run) (*Model, error) {
-	m := &Model{Tool: run.Tool, Input: run.Input, Warnings: append(make([]string, 0, len(run.Warnings)), run.Warnings...)}
+	m := &Model{SchemaVersion: SchemaVersion, Tool: run.Tool, Input: run.Input, Warnings: append(make([]string, 0, len(run.Warnings)), run.Warnings...)}
 	m.Company = Company{Name: s.Company.Name, Currency: s.Company.Currency, SharesOutstanding: s.Company.SharesOutstanding}
 	m.ValuationDate = DateOf(s.Company.ValuationDate)
 	m.PeriodStart = DateOf(s.Company.PeriodStart)
@@ -150,6 +150,10 @@ func Build(s *grants.Schedule, v *pricing.Valuation, b *accounting.Books, run Ru
 		m.Settings.MonteCarlo = "No Monte Carlo check: every lattice-valued award allows rational early exercise, which the simulation does not model."
 	}
 	m.Expense = expenseModel(b)
+	if r := b.Reconciliation; r != nil {
+		m.Prior = priorModel(r.Prior)
+		m.Reconciliation = reconciliationModel(r, v)
+	}
 	m.Warnings = append(m.Warnings, b.Warnings...)
 	m.Warnings = append(m.Warnings, v.Warnings...)
 	m.Warnings = append(m.Warnings, MemoTextWarnings(s, run.Input.Path)...)
@@ -164,7 +168,7 @@ func grantOf(gv *pricing.GrantValue) Grant {
 		ExpiryDate: DateOf(g.ExpiryDate), Shares: g.Shares, Strike: g.Strike,
 		SharePrice: in.SharePrice.Value, Volatility: in.Volatility.Value, RiskFreeRate: in.RiskFreeRate.Value,
 		DividendYield: in.DividendYield.Value, ExerciseMultiple: in.ExerciseMultiple.Value,
-		PostVestingExitRate: in.ExitRate.Value, Method: "lattice",
+		PostVestingExitRate: in.ExitRate.Value, Method: "lattice", ValueStatus: string(gv.Status),
 	}
 	switch g.Instrument {
 	case grants.RSU:
@@ -265,19 +269,15 @@ func grantAssumptions(gv *pricing.GrantValue) []Assumption {
 	out = append(out, Assumption{GrantID: g.ID, Name: "vesting", Kind: KindText,
 		Text: fmt.Sprintf("%d tranches from %s", len(in.Tranches), day(g.VestStart)), Ref: firstRef(g.Refs, "vest_months", "vest_start"),
 		Source: fmt.Sprintf("%d months, cliff %d, every %d", g.VestMonths, g.CliffMonths, g.VestEvery), Term: true})
-	out = append(out, src("share_price", KindMoney, in.SharePrice))
-	if g.Instrument != grants.RSU {
-		out = append(out, src("volatility", KindPercent, in.Volatility))
-	}
-	out = append(out, src("dividend_yield", KindPercent, in.DividendYield))
-	if g.Instrument != grants.RSU {
-		out = append(out,
-			src("exercise_multiple", KindNumber, in.ExerciseMultiple),
-			src("post_vesting_exit_rate", KindPercent, in.ExitRate),
-			src("risk_free_rate", KindPercent, in.RiskFreeRate))
+	for _, n := range in.Named() {
+		out = append(out, src(n.Key, inputKinds[n.Key], *n.Source))
 	}
 	return out
 }
+
+// inputKinds is the kind of each valuation input of grants.Inputs.Named.
+var inputKinds = map[string]string{"share_price": KindMoney, "volatility": KindPercent, "dividend_yield": KindPercent,
+	"exercise_multiple": KindNumber, "post_vesting_exit_rate": KindPercent, "risk_free_rate": KindPercent}
 
 func measurementNote(g grants.Grant) string {
 	if g.Instrument == grants.Warrant && g.Classification == grants.Liability {

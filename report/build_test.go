@@ -7,6 +7,7 @@ import (
 
 	"grantworth/grants"
 	"grantworth/grants/accounting"
+	"grantworth/grants/grantstest"
 	"grantworth/grants/pricing"
 )
 
@@ -17,15 +18,8 @@ func TestBuildMapsTheValuation(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	ins, errs, _ := s.ValueInputs()
-	if len(errs) > 0 {
-		t.Fatal(errs)
-	}
-	v, err := pricing.Value(s, ins, pricing.Options{})
-	if err != nil {
-		t.Fatal(err)
-	}
-	b, err := accounting.Close(s, v)
+	v := grantstest.Value(t, s, nil)
+	b, err := accounting.Close(s, v, nil)
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -67,6 +67,14 @@ type ExpenseGrant struct {
 	LiabilityOpen      float64 `json:"liability_at_period_start"`
 	LiabilityEnd       float64 `json:"liability_at_period_end"`
 	ReclassifiedEquity float64 `json:"reclassified_to_equity"`
+	ReclassifiedToDate float64 `json:"reclassified_to_equity_cumulative"`
+
+	// What a later close reads: the options or warrants outstanding (RSUs
+	// nonvested) at the period end, the events applied, and a liability
+	// warrant's fair values after its grant date.
+	Outstanding    int64           `json:"outstanding_at_period_end"`
+	Events         []EventRecord   `json:"events"`
+	Remeasurements []Remeasurement `json:"remeasurements"`
 
 	// CostCenter is the grant's at the period end; ByCostCenter its parts
 	// in every cost centre its service was rendered in.
@@ -96,6 +104,20 @@ type ExpenseCostCenter struct {
 	AfterForecast float64   `json:"after_forecast"`
 	// Parts are the grants' parts in this centre, in grant order.
 	Parts []CostCenterPart `json:"-"`
+}
+
+// EventRecord is an event applied to a grant.
+type EventRecord struct {
+	Date   Date   `json:"date"`
+	Event  string `json:"event"`
+	Shares int64  `json:"shares"`
+}
+
+// Remeasurement is a liability-classified warrant's fair value per share
+// of each tranche on a date.
+type Remeasurement struct {
+	Date              Date      `json:"date"`
+	FairValuePerShare []float64 `json:"fair_value_per_share"`
 }
 
 // ExpenseTranche is one tranche's attribution.
@@ -158,7 +180,8 @@ type JournalLine struct {
 
 // Disclosures are the share-based payment note's tables for the period.
 type Disclosures struct {
-	SharePrice          float64        `json:"share_price"` // at period end, for intrinsic values
+	SharePrice          float64        `json:"share_price"`        // at period end, for intrinsic values
+	SharePriceSource    string         `json:"share_price_source"` // its cell, e.g. "Share Prices!B7 (valuation of 2026-09-30)"
 	Options             RollForward    `json:"options"`
 	OptionsAtEnd        []SummaryLine  `json:"options_at_period_end"`
 	OptionGrants        GrantsInPeriod `json:"option_grants"`
@@ -263,10 +286,17 @@ func expenseModel(b *accounting.Books) *Expense {
 			Cost: g.Cost, CumulativeOpen: g.CumulativeOpen, Amount: g.Period, Cumulative: g.Cumulative,
 			Unrecognized: g.Unrecognized, RemainingYears: g.RemainingYears,
 			FairValueChange: g.FairValueChange, LiabilityOpen: g.LiabilityOpen, LiabilityEnd: g.LiabilityEnd,
-			ReclassifiedEquity: g.ReclassifiedEquity, Tranches: []ExpenseTranche{},
+			ReclassifiedEquity: g.ReclassifiedEquity, ReclassifiedToDate: g.ReclassifiedToDate,
+			Outstanding: g.Outstanding, Events: []EventRecord{}, Remeasurements: []Remeasurement{}, Tranches: []ExpenseTranche{},
 			CostCenter: g.CostCenter, ByCostCenter: make([]CostCenterPart, 0, len(g.ByCostCenter))}
 		for _, p := range g.ByCostCenter {
 			eg.ByCostCenter = append(eg.ByCostCenter, CostCenterPart{CostCenter: p.CostCenter, GrantID: g.GrantID, Amount: p.Period, Cumulative: p.Cumulative, Unrecognized: p.Unrecognized})
+		}
+		for _, e := range g.Events {
+			eg.Events = append(eg.Events, EventRecord{Date: DateOf(e.Date), Event: string(e.Kind), Shares: e.Shares})
+		}
+		for _, r := range g.Remeasurements {
+			eg.Remeasurements = append(eg.Remeasurements, Remeasurement{Date: DateOf(r.Date), FairValuePerShare: r.FairValue})
 		}
 		for _, t := range g.Tranches {
 			eg.Tranches = append(eg.Tranches, ExpenseTranche{Index: t.Index, VestDate: DateOf(t.VestDate), Shares: t.Shares,
@@ -310,6 +340,7 @@ func expenseModel(b *accounting.Books) *Expense {
 		det.Journal = append(det.Journal, je)
 	}
 	det.Disclosures = disclosuresModel(d)
+	det.Disclosures.SharePriceSource = b.SharePrice.Text
 	return &Expense{
 		Periods:                       periodsOf(r.Periods),
 		UnrecognizedCost:              r.Unrecognized,

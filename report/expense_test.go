@@ -105,7 +105,7 @@ func expenseModelWith(t *testing.T, s *grants.Schedule, revalue func(g grants.Gr
 		m.Grants = append(m.Grants, mg)
 	}
 	Summarize(m)
-	b, err := accounting.Close(s, valuationFor(s, revalue))
+	b, err := accounting.Close(s, valuationFor(s, revalue), nil)
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -7,6 +7,7 @@ import (
 	"io/fs"
 	"strings"
 	"text/template"
+	"time"
 
 	"github.com/jung-kurt/gofpdf"
 	"golang.org/x/image/font/gofont/gobold"
@@ -39,6 +40,7 @@ type Memo struct {
 	images   int
 	widths   map[int]bool // pixel widths of the images placed so far
 	sub      string       // a sub-heading not drawn yet: it goes with what follows
+	head     [2]string    // the running head's left and right text (pages after the first)
 }
 
 // Page geometry, in millimetres (A4).
@@ -102,27 +104,45 @@ func WriteMemo(w io.Writer, m *Model) error {
 }
 
 func newMemo(m *Model) (*Memo, error) {
+	author := m.Tool.Name + " " + m.Tool.Version
+	pdf := newPDF("Fair value memo: "+m.Company.Name, "Fair value of share-based awards as of "+m.ValuationDate.String(), author, m.Tool.Name, m.ValuationDate.Time())
+	d := &Memo{pdf: pdf, m: m, sections: map[string]int{}, widths: map[int]bool{},
+		head: [2]string{m.Company.Name + " · Fair value memo", "Valuation date " + m.ValuationDate.String()}}
+	pdf.SetHeaderFuncMode(d.header, false)
+	pdf.SetFooterFunc(d.footer)
+	var err error
+	if d.tpl, err = d.templates(templates.Memo, "memo"); err != nil {
+		return nil, err
+	}
+	return d, pdf.Error()
+}
+
+// newPDF is an A4 document in the reports' fonts and margins, its
+// metadata dated date, so that the same input gives the same bytes.
+func newPDF(title, subject, author, producer string, date time.Time) pdfDoc {
 	pdf := pdfDoc{gofpdf.New("P", "mm", "A4", "")}
 	pdf.SetCompression(true)
 	pdf.SetCatalogSort(true)
-	t := m.ValuationDate.Time()
-	pdf.SetCreationDate(t)
-	pdf.SetModificationDate(t)
-	pdf.SetTitle("Fair value memo: "+m.Company.Name, true)
-	pdf.SetSubject("Fair value of share-based awards as of "+m.ValuationDate.String(), true)
-	pdf.SetAuthor(m.Tool.Name+" "+m.Tool.Version, true)
-	pdf.SetCreator(m.Tool.Name+" "+m.Tool.Version, true)
-	pdf.SetProducer(m.Tool.Name, true)
+	pdf.SetCreationDate(date)
+	pdf.SetModificationDate(date)
+	pdf.SetTitle(title, true)
+	pdf.SetSubject(subject, true)
+	pdf.SetAuthor(author, true)
+	pdf.SetCreator(author, true)
+	pdf.SetProducer(producer, true)
 	pdf.AddUTF8FontFromBytes(fontSans, "", goregular.TTF)
 	pdf.AddUTF8FontFromBytes(fontSans, "B", gobold.TTF)
 	pdf.AddUTF8FontFromBytes(fontSans, "I", goitalic.TTF)
 	pdf.SetMargins(marginL, marginT, marginR)
 	pdf.SetAutoPageBreak(true, marginB)
 	pdf.AliasNbPages("{nb}")
-	d := &Memo{pdf: pdf, m: m, sections: map[string]int{}, widths: map[int]bool{}}
-	pdf.SetHeaderFuncMode(d.header, false)
-	pdf.SetFooterFunc(d.footer)
-	tpl := template.New("memo").Funcs(template.FuncMap{
+	return pdf
+}
+
+// templates parses the *.tmpl files of folder dir of fsys with the
+// memo's template functions.
+func (d *Memo) templates(fsys fs.FS, dir string) (*template.Template, error) {
+	tpl := template.New(dir).Funcs(template.FuncMap{
 		"money":     money,
 		"perShare":  perShare,
 		"pct":       pct,
@@ -149,14 +169,11 @@ func newMemo(m *Model) (*Memo, error) {
 			return count(ps[len(ps)-1].Steps)
 		},
 	})
-	sub, err := fs.Sub(templates.Memo, "memo")
+	sub, err := fs.Sub(fsys, dir)
 	if err != nil {
 		return nil, err
 	}
-	if d.tpl, err = tpl.ParseFS(sub, "*.tmpl"); err != nil {
-		return nil, err
-	}
-	return d, pdf.Error()
+	return tpl.ParseFS(sub, "*.tmpl")
 }
 
 func groupAny(n any) string {
@@ -179,8 +196,8 @@ func (d *Memo) header() {
 	p.SetFont(fontSans, "", 7.5)
 	p.SetTextColor(90, 90, 90)
 	p.SetXY(marginL, 10)
-	p.CellFormat(textW/2, 4, d.m.Company.Name+" · Fair value memo", "", 0, "L", false, 0, "")
-	p.CellFormat(textW/2, 4, "Valuation date "+d.m.ValuationDate.String(), "", 0, "R", false, 0, "")
+	p.CellFormat(textW/2, 4, d.head[0], "", 0, "L", false, 0, "")
+	p.CellFormat(textW/2, 4, d.head[1], "", 0, "R", false, 0, "")
 	p.SetDrawColor(180, 180, 180)
 	p.SetLineWidth(0.2)
 	p.Line(marginL, 15, pageW-marginR, 15)
@@ -198,18 +215,48 @@ func (d *Memo) footer() {
 	p.SetTextColor(0, 0, 0)
 }
 
-func (d *Memo) cover() {
-	p, m := d.pdf, d.m
+// titlePage starts a document's first page: the band across its top, then
+// at y the kind of document over its title; scale 1 for a cover page,
+// less for a title above other matter.
+func (d *Memo) titlePage(y, scale float64, kind, title string) {
+	p := d.pdf
 	p.AddPage()
 	p.SetFillColor(0x2F, 0x48, 0x58)
 	p.Rect(0, 0, pageW, 8, "F")
-	p.SetY(62)
-	p.SetFont(fontSans, "", 12)
+	p.SetY(y)
+	p.SetFont(fontSans, "", 12*scale)
 	p.SetTextColor(0x2F, 0x48, 0x58)
-	p.CellFormat(textW, 7, "Fair value of share-based awards", "", 1, "L", false, 0, "")
-	p.SetFont(fontSans, "B", 24)
+	p.CellFormat(textW, 7*scale, kind, "", 1, "L", false, 0, "")
+	p.SetFont(fontSans, "B", 24*scale)
 	p.SetTextColor(0, 0, 0)
-	p.MultiCell(textW, 11, m.Company.Name, "", "L", false)
+	p.MultiCell(textW, 11*scale, title, "", "L", false)
+}
+
+// cautionBox draws the caution, boxed, at the foot of the current page in
+// text of size points, or at the foot of a new page when what is on this
+// one reaches too low.
+func (d *Memo) cautionBox(caution string, size float64) {
+	p := d.pdf
+	line := size * 0.494 // millimetres per line
+	p.SetFont(fontSans, "", size)
+	lines := p.SplitText(caution, textW-10)
+	h := float64(len(lines))*line + 12
+	if p.GetY()+h+6 > pageH-marginB {
+		p.AddPage()
+	}
+	y := pageH - marginB - h - 6
+	p.SetFillColor(0xF3, 0xEE, 0xE4)
+	p.Rect(marginL, y, textW, h, "F")
+	p.SetXY(marginL+5, y+4)
+	p.SetFont(fontSans, "B", size)
+	p.CellFormat(textW-10, line, "Caution", "", 2, "L", false, 0, "")
+	p.SetFont(fontSans, "", size)
+	p.MultiCell(textW-10, line, caution, "", "L", false)
+}
+
+func (d *Memo) cover() {
+	p, m := d.pdf, d.m
+	d.titlePage(62, 1, "Fair value of share-based awards", m.Company.Name)
 	p.Ln(2)
 	p.SetFont(fontSans, "", 12)
 	p.CellFormat(textW, 7, "Valuation memo as of "+m.ValuationDate.String(), "", 1, "L", false, 0, "")
@@ -237,18 +284,7 @@ func (d *Memo) cover() {
 	p.SetTextColor(0, 0, 0)
 	p.SetFont(fontSans, "", 8)
 	p.MultiCell(textW-38, 6, m.Input.SHA256, "", "L", false)
-	// The caution, boxed, at the foot of the cover.
-	p.SetFont(fontSans, "", 8.5)
-	lines := p.SplitText(m.Caution, textW-10)
-	h := float64(len(lines))*4.2 + 12
-	y := pageH - marginB - h - 6
-	p.SetFillColor(0xF3, 0xEE, 0xE4)
-	p.Rect(marginL, y, textW, h, "F")
-	p.SetXY(marginL+5, y+4)
-	p.SetFont(fontSans, "B", 8.5)
-	p.CellFormat(textW-10, 4.2, "Caution", "", 2, "L", false, 0, "")
-	p.SetFont(fontSans, "", 8.5)
-	p.MultiCell(textW-10, 4.2, m.Caution, "", "L", false)
+	d.cautionBox(m.Caution, 8.5) // at the foot of the cover
 }
 
 // Section starts numbered section n, on a new page if asked or if little

@@ -241,6 +241,9 @@ func MemoTextWarnings(s *grants.Schedule, inputPath string) []string {
 		add("grant_id", g.Refs["grant_id"], g.ID)
 		add("holder", g.Refs["holder"], g.Holder)
 	}
+	for _, d := range s.Designs {
+		add("design", d.Refs["design"], d.Name)
+	}
 	add("input path", grants.Ref{}, inputPath)
 	var out []string
 	for _, k := range order {

@@ -64,6 +64,9 @@ func (d *Date) UnmarshalJSON(b []byte) error {
 // renderer values, sums or looks anything up that is not in the Model, so
 // the memo, the workbook and the JSON cannot disagree.
 type Model struct {
+	// SchemaVersion is the version of valuation.json's layout
+	// (SchemaVersion); a later close refuses a file of a newer one.
+	SchemaVersion int           `json:"schema_version"`
 	Tool          Tool          `json:"tool"`
 	Input         Input         `json:"input"`
 	ValuationDate Date          `json:"valuation_date"`
@@ -80,7 +83,24 @@ type Model struct {
 	Sensitivity   []Sensitivity `json:"sensitivity"`
 	Convergence   *Convergence  `json:"convergence"`
 	CrossChecks   []CrossCheck  `json:"cross_checks"`
-	Caution       string        `json:"caution"`
+	// Prior is the close this one follows (--prior), and Reconciliation
+	// the walk from it; both nil for a first close.
+	Prior          *PriorClose     `json:"prior"`
+	Reconciliation *Reconciliation `json:"reconciliation"`
+	Caution        string          `json:"caution"`
+}
+
+// SchemaVersion is the layout of valuation.json this grantworth writes,
+// and the newest it reads as a prior close. Raise it when a field a later
+// close reads changes meaning or goes; adding fields does not need it.
+const SchemaVersion = 1
+
+// PriorClose identifies the close this one follows.
+type PriorClose struct {
+	Path          string `json:"path"`
+	SHA256        string `json:"sha256"`
+	ValuationDate Date   `json:"valuation_date"`
+	ToolVersion   string `json:"tool_version"`
 }
 
 // Tool names the program that made the outputs.
@@ -139,6 +159,10 @@ type Grant struct {
 	FairValueTotal      float64 `json:"fair_value_total"`
 	BSMSimplifiedTotal  float64 `json:"bsm_simplified_total"`
 	Method              string  `json:"method"` // lattice, bsm, rsu, ...
+	// ValueStatus says where the values come from: measured in this
+	// close, locked (kept from the prior close), corrected (measured again
+	// at the grant date), or remeasured (a liability-classified warrant).
+	ValueStatus string `json:"value_status"`
 
 	// Warrants only.
 	Classification string    `json:"classification,omitempty"`

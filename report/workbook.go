@@ -736,14 +736,20 @@ func writeAbout(b *Book, m *Model) error {
 		{"Formulas", "Tranches columns V to X recompute the simplified-method Black-Scholes-Merton value from columns G, H, J, K, M, S and T with NORM.S.DIST; column U is the tool's own figure. Spreadsheet programs recalculate them when the file is opened."},
 		{"Caution", m.Caution},
 	}
-	t, err := b.NewTable(SheetAbout, []Column{{"Item", 26}, {"Value", 110}}, len(rows))
+	return writeItems(b, SheetAbout, rows)
+}
+
+// writeItems writes sheet as rows of an item and its value, a long text
+// value wrapped in a taller row.
+func writeItems(b *Book, sheet string, rows [][2]any) error {
+	t, err := b.NewTable(sheet, []Column{{"Item", 26}, {"Value", 110}}, len(rows))
 	if err != nil {
 		return err
 	}
 	for _, r := range rows {
 		v := r[1]
 		if s, ok := v.(string); ok && len(s) > 100 {
-			// About's value column is 110 characters wide.
+			// The value column is 110 characters wide.
 			if err := t.TallRow(15*float64(1+len(s)/100), b.Cell(b.Style.Wrap, r[0]), b.Cell(b.Style.Wrap, s)); err != nil {
 				return err
 			}

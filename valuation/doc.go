@@ -44,19 +44,69 @@
 // date then values every tranche of a grant as its discounted expectation
 // at its vest layer. 48 monthly tranches cost about as much as one.
 //
-// With Steps = N the value is that raw tree, node for node. With Steps = 0
-// (auto) it is converged: step counts that put a node level on the
-// exercise-multiple barrier (Boyle and Lau 1994) with a first-order
-// correction of the residual gap, or interpolation between the barrier
-// levels either side (Derman, Kani, Ergener and Bardhan 1995) when the
-// barrier is too near the spot for that; the last step by Black-Scholes-
-// Merton (Broadie and Detemple 1996) and the exit payoff averaged over the
-// strike's cell (Heston and Zhou 2000); the vest date interpolated between
-// layers; then Richardson extrapolation over three step counts near 300,
-// 600 and 1200. ErrorEstimate is |V(N3) − R23| + 2·|R23 − R12|. Against an
-// independent Crank-Nicolson solution of the same model the auto value was
-// within 1.6e-4 relative (median 3e-6) over 320 random cases, with the
-// estimate covering the error in 99.7% of them.
+// With Steps = N the value is that raw tree, node for node: a textbook
+// Cox-Ross-Rubinstein tree.
+//
+// # Auto mode
+//
+// With Steps = 0 (auto) the value is converged and carries an error
+// estimate. Auto mode values the model's continuous-time limit (the
+// conventions taken to their limit: a per-step exit of e·Δt is an intensity
+// e) on a lattice built for it rather than on the CRR tree, whose node
+// levels fall anywhere against the barrier, the vest date and the spot:
+//
+//   - A trinomial lattice in log price whose nodes are fixed in space and
+//     anchored so that one lies exactly on the barrier ln(M·K) at every step
+//     count (Ritchken 1995, "On pricing barrier options", Journal of
+//     Derivatives 3(2)); above it the value is S − K. Each node branches to
+//     the node nearest its drift and that node's neighbours, with the
+//     first two moments of the step matched (Hull and White 1990, "Valuing
+//     derivative securities using the explicit finite difference method",
+//     Journal of Financial and Quantitative Analysis 25(1)), and
+//     σ²Δt/h² = 1/3, which also cancels the leading third and fourth
+//     cumulants of the step (Δt the step, h the node spacing).
+//   - A time layer on every vest date, whatever the step count: the steps
+//     between two vest dates (or the last one and expiry) are equal.
+//   - Before the vest date nothing happens but the share moving, so the log
+//     price at the vest date is exactly normal, mean ln S0 − ln P(0, V) −
+//     qV − σ²V/2 and variance σ²V, for any curve; a tranche is worth
+//     P(0, V)·E[W(S_V)] of the vested value W on the vest layer, integrated
+//     against that normal density: S − K in closed form above the barrier,
+//     below it the trapezoid rule with the Euler-Maclaurin end terms at the
+//     barrier (the density's derivatives exact), or, for a density narrower
+//     than 1.5 node spacings (vesting days away), exact integration of W's
+//     cubic interpolant cell by cell. A vest date days away costs no more
+//     than one years away, and the spot needs no node.
+//   - The exit payoff's kink at the strike puts a jump of −2λK/σ² in W's
+//     third derivative there; the two nodes either side of it get the
+//     stencil's known error for such a jump removed (in the manner of the
+//     immersed interface method, LeVeque and Li 1994, SIAM Journal on
+//     Numerical Analysis 31(4)), and interpolation and integration take the
+//     jump out and add it back in closed form. The expiry payoff is
+//     averaged over each node's cell (Pooley, Vetzal and Forsyth 2003,
+//     "Convergence remedies for non-smooth payoffs in option pricing",
+//     Journal of Computational Finance 6(4)).
+//   - The ladder: level 0 has 64 steps over the term (more if needed to keep
+//     nodes within 0.4 of log price apart), plus the vest dates' layers;
+//     each level doubles every interval's steps and divides h by √2.
+//     Three levels always; more, up to nine, while a tranche's error
+//     estimate exceeds AutoTarget (0.05%) of its value and the work stays
+//     within 40 million node-steps and MaxLatticeSteps steps and nodes.
+//   - The value is Richardson's R = 2V_L − V_{L−1} of the two finest levels
+//     V (the error is c·h² + o(h²)); its estimate is |R_L − R_{L−1}| +
+//     0.2·|V_L − V_{L−1}|. Under rational exercise the free boundary falls
+//     anywhere between nodes and the error need not be smooth: unless the
+//     levels' changes halve regularly, the value is the finest level and
+//     its estimate the sum of its last two changes.
+//   - If the limits stop the ladder with an estimate above the target,
+//     Result.MissedTarget says so; the estimate stays honest.
+//
+// Against an independent Crank-Nicolson solution of the same model and
+// exact-event Monte Carlo, auto mode was within 0.05% on every case tried,
+// and its estimate covered the error in at least 95% of cases in each
+// region; the issue 11 note gives the figures. A typical ten-year grant
+// (three levels of 64, 128 and 256 steps over the term, a few dozen to a
+// hundred nodes) costs a fraction of a millisecond, all tranches included.
 //
 // RunJobs values many grants on all cores, with results in job order that
 // do not depend on the number of workers.

@@ -15,10 +15,12 @@ import "math"
 // without discounting, with a source of 1 and the exit intensity as its
 // only decay, and L = 0 wherever the option is exercised. Rannacher
 // start-up (four implicit half steps) at expiry and at the vest date damps
-// the kinks; the spot's value is interpolated (cubic) from the grid, which
-// is anchored on the barrier. It shares nothing with the tree: no binomial
-// probabilities, no node levels, a different discretisation in both time and
-// space, so agreement of the two checks both.
+// the kinks, and at least nt/2 steps go before the vest date however near
+// it is; the spot's value is interpolated (cubic) from the grid, which is
+// anchored on the barrier. It shares no code with the lattice and differs
+// from it in time (Crank-Nicolson against explicit trinomial steps), in
+// space (a finer grid, no kink corrections) and before vesting (time steps
+// against the exact normal), so agreement of the two checks both.
 //
 // nx is about the number of space steps per unit of log price, nt the
 // time steps per year. It returns the value and the expected life in years.
@@ -73,7 +75,13 @@ func fdEmployeeLife(tm Terms, mk Market, nx, nt int) (value, life float64) {
 	}
 	// time grid: vest date on a grid line
 	n2 := max(1, int(math.Ceil((T-V)*float64(nt))))
+	// At least nt/2 steps before the vest date, however near: the vested
+	// value's kink at the barrier diffuses over only σ√V before it, and a
+	// step or two there (all of them Rannacher half steps) is far off.
 	n1 := int(math.Ceil(V * float64(nt)))
+	if V > 0 {
+		n1 = max(n1, (nt+1)/2)
+	}
 	times := []float64{} // calendar times, descending from T
 	for k := 0; k <= n2; k++ {
 		times = append(times, T-(T-V)*float64(k)/float64(n2))

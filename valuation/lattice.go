@@ -175,14 +175,14 @@ func latticeRaw(t Terms, vestYears []float64, m Market, o LatticeOptions) ([]Res
 	}
 	w := getWork(n)
 	defer putWork(w)
-	if err := w.build(t, m, n, o.Convention, false); err != nil {
+	if err := w.build(t, m, n, o.Convention); err != nil {
 		return nil, fmt.Errorf("%w; use at least %d steps over the term, or auto", err, minStepsForProb(t, m))
 	}
 	steps := make([]int, len(vestYears))
 	for i, v := range vestYears {
 		steps[i] = vestStep(v, t.YearsToExpiry, n)
 	}
-	vals, lives := w.solve(steps, noBarrierOverride)
+	vals, lives := w.solve(steps)
 	out := make([]Result, len(vestYears))
 	for i := range out {
 		out[i] = Result{Value: vals[i], ExpectedTermYears: lives[i], Steps: n, Method: MethodLattice}
@@ -190,39 +190,30 @@ func latticeRaw(t Terms, vestYears []float64, m Market, o LatticeOptions) ([]Res
 	return out, nil
 }
 
-// noBarrierOverride lets the tree place the exercise barrier itself: the
-// lowest node level whose price is at or above M·K.
-const noBarrierOverride = math.MinInt
-
 // work is the reusable memory of one tree. Nothing in the backward or forward
 // pass allocates once a work is built for a step count it has seen.
 type work struct {
-	n      int
-	dt     float64
-	t      Terms
-	conv   Convention
-	a      float64 // exit probability per step
-	p      []float64
-	disc   []float64
-	lnS0   float64
-	h      float64   // ln u
-	price  []float64 // price[k+n] = S0·u^k, k = −n..n
-	exh    [2][]float64
-	w, l   []float64
-	pi     []float64
-	row    []float64 // flat store of the forward rows at the requested layers
-	bsm    []float64 // smoothed one-step continuation at layer n−1
-	layer  []int
-	uniq   []int
-	off    []int
-	dotV   []float64
-	dotL   []float64
-	dotB   []float64
-	vals   []float64
-	lives  []float64
-	smooth bool
-	sign   float64 // payoff sign(S−K): +1 call, −1 put (tests only)
-	kBar   int     // exercise region: node levels k >= kBar (math.MaxInt: none)
+	n     int
+	dt    float64
+	t     Terms
+	conv  Convention
+	a     float64 // exit probability per step
+	p     []float64
+	disc  []float64
+	price []float64 // price[k+n] = S0·u^k, k = −n..n
+	exh   [2][]float64
+	w, l  []float64
+	pi    []float64
+	row   []float64 // flat store of the forward rows at the requested layers
+	layer []int
+	uniq  []int
+	off   []int
+	dotV  []float64
+	dotL  []float64
+	vals  []float64
+	lives []float64
+	sign  float64 // payoff sign(S−K): +1 call, −1 put (tests only)
+	kBar  int     // exercise region: node levels k >= kBar (math.MaxInt: none)
 }
 
 var workPool = sync.Pool{New: func() any { return new(work) }}
@@ -252,14 +243,13 @@ func (w *work) resize(n int) {
 	w.w = grow(w.w, n+2)
 	w.l = grow(w.l, n+2)
 	w.pi = grow(w.pi, n+2)
-	w.bsm = grow(w.bsm, n+1)
 }
 
 // build sets up the n-step tree: step length, up factor, per-step forward
 // rates, discount factors and up-probabilities, node prices. It returns an
 // error when an up-probability falls outside (0, 1).
-func (w *work) build(t Terms, m Market, n int, conv Convention, smooth bool) error {
-	w.t, w.conv, w.smooth = t, conv, smooth
+func (w *work) build(t Terms, m Market, n int, conv Convention) error {
+	w.t, w.conv = t, conv
 	if w.sign == 0 {
 		w.sign = 1
 	}
@@ -267,7 +257,6 @@ func (w *work) build(t Terms, m Market, n int, conv Convention, smooth bool) err
 	dt := T / float64(n)
 	w.dt = dt
 	h := m.VolAnnual * math.Sqrt(dt)
-	w.h = h
 	u, d := math.Exp(h), math.Exp(-h)
 	for i := 0; i < n; i++ {
 		t0, t1 := T*float64(i)/float64(n), T*float64(i+1)/float64(n)
@@ -288,23 +277,14 @@ func (w *work) build(t Terms, m Market, n int, conv Convention, smooth bool) err
 	default:
 		w.a = -math.Expm1(math.Log1p(-t.ExitRate) * dt)
 	}
-	w.lnS0 = math.Log(m.Spot)
 	K := t.Strike
 	for k := -n; k <= n; k++ {
 		s := m.Spot * math.Exp(float64(k)*h)
 		w.price[k+n] = s
 	}
 	// exh[par][m] = (S−K)⁺ at level k with k+n = 2m+par.
-	lnK := math.Log(K)
 	for idx := 0; idx <= 2*n; idx++ {
-		e := w.sign * (w.price[idx] - K)
-		if e < 0 {
-			e = 0
-		}
-		if x := w.lnS0 + float64(idx-n)*h; smooth && K > 0 && math.Abs(x-lnK) < h {
-			e = cellAverageCall(x, h, K)
-		}
-		w.exh[idx&1][idx>>1] = e
+		w.exh[idx&1][idx>>1] = math.Max(w.sign*(w.price[idx]-K), 0)
 	}
 	w.kBar = math.MaxInt
 	if t.ExerciseMultiple > 0 {
@@ -353,23 +333,13 @@ func minStepsForProb(t Terms, m Market) int {
 // solve runs the forward pass of risk-neutral probabilities up to the last
 // layer it needs and the backward pass of the vested value function and the
 // expected remaining life down to the first, and returns the value and
-// expected term of a tranche vesting at each step in steps. kBar overrides
-// the tree's exercise level unless it is noBarrierOverride.
-func (w *work) solve(steps []int, kBar int) (vals, lives []float64) {
+// expected term of a tranche vesting at each step in steps.
+func (w *work) solve(steps []int) (vals, lives []float64) {
 	n := w.n
-	if kBar != noBarrierOverride {
-		w.kBar = kBar
-	}
-	// The layer at which each tranche is read: its first vested layer, or,
-	// when that is expiry and the last step is smoothed, layer n−1 read from
-	// the smoothed one-step values.
+	// The layer at which each tranche is read: its first vested layer.
 	w.layer = w.layer[:0]
 	for _, v := range steps {
-		L := w.firstVested(v)
-		if w.smooth && L == n {
-			L = n - 1
-		}
-		w.layer = append(w.layer, L)
+		w.layer = append(w.layer, w.firstVested(v))
 	}
 	uniq := append(w.uniq[:0], w.layer...)
 	sort.Ints(uniq)
@@ -413,24 +383,18 @@ func (w *work) solve(steps []int, kBar int) (vals, lives []float64) {
 	// Backward pass, taking the dot products at the requested layers.
 	w.dotV = grow(w.dotV, len(uniq))
 	w.dotL = grow(w.dotL, len(uniq))
-	w.dotB = grow(w.dotB, len(uniq))
 	w.backward(uniq[0], func(i int, wv, lv []float64) {
 		u := sort.SearchInts(uniq, i)
 		if u == len(uniq) || uniq[u] != i {
 			return
 		}
 		r := w.row[w.off[u] : w.off[u]+i+1]
-		var sv, sl, sb float64
+		var sv, sl float64
 		for j, pj := range r {
 			sv += pj * wv[j]
 			sl += pj * lv[j]
 		}
-		if w.smooth && i == n-1 {
-			for j, pj := range r {
-				sb += pj * w.bsm[j]
-			}
-		}
-		w.dotV[u], w.dotL[u], w.dotB[u] = sv, sl, sb
+		w.dotV[u], w.dotL[u] = sv, sl
 	})
 	w.vals = grow(w.vals, len(steps))
 	w.lives = grow(w.lives, len(steps))
@@ -446,11 +410,6 @@ func (w *work) solve(steps []int, kBar int) (vals, lives []float64) {
 				life += surv * w.a * float64(i) * w.dt
 				surv *= 1 - w.a
 			}
-		}
-		if L < unvested { // smoothed expiry: the tranche vests at expiry
-			w.vals[idx] = D * surv * w.dotB[u]
-			w.lives[idx] = life + surv*w.t.YearsToExpiry
-			continue
 		}
 		w.vals[idx] = D * surv * w.dotV[u]
 		w.lives[idx] = life + surv*(float64(L)*w.dt+w.dotL[u])
@@ -502,9 +461,7 @@ func (w *work) backward(lo int, at func(i int, wv, lv []float64)) {
 			jb = max(0, min(i+1, ceilHalf(w.kBar+i)))
 		}
 		ww, ll := wv[:i+2], lv[:i+2]
-		if w.smooth && i == n-1 {
-			w.smoothLast(jb)
-		} else if !rational {
+		if !rational {
 			rollVested(ex[:jb], ww[:jb+1], ll[:jb+1], a, pd, qd, dl, pl, ql)
 		} else {
 			for j := 0; j < jb; j++ {
@@ -535,53 +492,6 @@ func ceilHalf(x int) int {
 	return -((-x) / 2)
 }
 
-// smoothLast fills layer n−1 below the exercise region with the smoothed
-// continuation of Broadie and Detemple (1996): the Black-Scholes-Merton value
-// of the last step in place of the one-step binomial average.
-func (w *work) smoothLast(jb int) {
-	n := w.n
-	i := n - 1
-	K := w.t.Strike
-	a, b := w.a, 1-w.a
-	base := n - i
-	for j := 0; j <= i; j++ {
-		s := w.price[base+2*j]
-		w.bsm[j] = w.oneStep(s)
-	}
-	for j := 0; j < jb; j++ {
-		s := w.price[base+2*j]
-		c := a*math.Max(s-K, 0) + b*w.bsm[j]
-		if w.t.Rational && s-K > c {
-			w.w[j], w.l[j] = s-K, 0
-			continue
-		}
-		w.w[j] = c
-		w.l[j] = b * w.dt
-	}
-}
-
-// oneStep is the European call over the last step by Black-Scholes-Merton with
-// that step's forward rate.
-func (w *work) oneStep(s float64) float64 {
-	i := w.n - 1
-	K := w.t.Strike
-	df := w.disc[i]
-	// Forward price of the share over the step from the tree's own drift:
-	// p·u + (1−p)·d = e^((f−q)Δt).
-	u, d := math.Exp(w.h), math.Exp(-w.h)
-	g := w.p[i]*u + (1-w.p[i])*d
-	fwd := s * g
-	if K <= 0 {
-		return df * fwd
-	}
-	sd := w.h // σ√Δt
-	d1 := (math.Log(fwd/K) + 0.5*sd*sd) / sd
-	d2 := d1 - sd
-	return df * (fwd*normCDFLattice(d1) - K*normCDFLattice(d2))
-}
-
-func normCDFLattice(x float64) float64 { return 0.5 * math.Erfc(-x/math.Sqrt2) }
-
 // americanPutRaw is the raw n-step CRR value of an American put, used by the
 // tests to check the tree against published put values.
 func americanPutRaw(t Terms, m Market, n int) (float64, error) {
@@ -589,28 +499,11 @@ func americanPutRaw(t Terms, m Market, n int) (float64, error) {
 	defer putWork(w)
 	w.sign = -1
 	t.ExerciseMultiple, t.ExitRate, t.Rational, t.YearsToVest = 0, 0, true, 0
-	if err := w.build(t, m, n, Convention{}, false); err != nil {
+	if err := w.build(t, m, n, Convention{}); err != nil {
 		return 0, err
 	}
-	v, _ := w.solve([]int{0}, noBarrierOverride)
+	v, _ := w.solve([]int{0})
 	return v[0], nil
-}
-
-// cellAverageCall is the exit payoff (S−K)⁺ averaged over the node's cell
-// [x−h, x+h] in log price where the cell holds the strike's kink, and the
-// plain payoff elsewhere. Averaging the payoff near its kink gives the tree
-// a smooth error in 1/N (Heston and Zhou 2000, "On the rate of convergence
-// of discrete-time contingent claims", Mathematical Finance 10(1)), which the
-// Richardson step needs.
-func cellAverageCall(x, h, K float64) float64 {
-	lk := math.Log(K)
-	switch {
-	case x+h <= lk:
-		return 0
-	case x-h >= lk:
-		return math.Exp(x) - K
-	}
-	return (math.Exp(x+h) - K - K*(x+h-lk)) / (2 * h)
 }
 
 // rollVested is the inner loop of the backward pass below the exercise

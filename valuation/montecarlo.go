@@ -41,10 +41,10 @@ func checkEmployee(t Terms, m Market) error {
 //     multiple), monitored continuously: between grid dates with log prices
 //     a, b below ln H the path crossed with the Brownian-bridge probability
 //     exp(−2(ln H − a)(ln H − b)/(σ²Δt)) (e.g. Glasserman, Monte Carlo
-//     Methods in Financial Engineering, §6.4); the payoff H − K is
-//     discounted from the middle of the step, so the only discretisation
-//     error is the timing of that discount, of order f·Δt/2 on the barrier
-//     payoff;
+//     Methods in Financial Engineering, §6.4), and the moment it first
+//     reached H is drawn from the bridge's first-passage law (bridgeHit);
+//     the payoff H − K is discounted from that moment, so the barrier
+//     carries no discretisation error;
 //   - the holder leaves at an exponential time after vesting with intensity
 //     λ = −ln(1 − e) (e the annual exit share), exercising if S > K at that
 //     moment; S there is drawn from the Brownian bridge between the grid
@@ -63,9 +63,9 @@ func checkEmployee(t Terms, m Market) error {
 // martingale stopped at a stopping time, so its mean is S0 (optional
 // stopping); the value is the pair means' average corrected by the
 // regression on that control, and ErrorEstimate its standard error (see
-// controlled). On a barrier hit τ is taken mid-step, as for the payoff. ExpectedTermYears is
-// the risk-neutral mean of the time the option ends (exercise, exit or
-// expiry). Steps is the number of paths. The generator is math/rand/v2's
+// controlled). ExpectedTermYears is the risk-neutral mean of the time the
+// option ends (exercise, exit or expiry) and TermError its standard error
+// (from the pair means). Steps is the number of paths. The generator is math/rand/v2's
 // PCG seeded with o.Seed, so results are reproducible.
 func MonteCarlo(t Terms, m Market, o MCOptions) (Result, error) {
 	if err := checkEmployee(t, m); err != nil {
@@ -113,15 +113,8 @@ func MonteCarlo(t Terms, m Market, o MCOptions) (Result, error) {
 	if !european {
 		iV = int(math.Ceil(V*float64(spy) - 1e-9))
 	}
-	sigma, q := m.VolAnnual, m.DividendYield
-	drift := make([]float64, n)
-	sd := make([]float64, n)
-	for i := range n {
-		dt := times[i+1] - times[i]
-		f := m.Curve.Forward(times[i], times[i+1])
-		drift[i] = (f - q - sigma*sigma/2) * dt
-		sd[i] = sigma * math.Sqrt(dt)
-	}
+	q := m.DividendYield
+	drift, sd := logSteps(times, m)
 	discT := m.Curve.Discount(T)
 
 	K := t.Strike
@@ -141,8 +134,8 @@ func MonteCarlo(t Terms, m Market, o MCOptions) (Result, error) {
 		if b >= h {
 			return true
 		}
-		arg := 2 * (h - a) * (h - b) / v
-		return arg < 40 && rng.Float64() < math.Exp(-arg) // e^-40 ≈ 4e-18: below the uniform's resolution
+		p := bridgeCross(h, a, b, v)
+		return p > 0 && rng.Float64() < p
 	}
 	z := make([]float64, n)
 	// path returns the discounted payoff, the time the option ends and the
@@ -162,15 +155,15 @@ func MonteCarlo(t Terms, m Market, o MCOptions) (Result, error) {
 			if tau < t1 {
 				w := (tau - t0) / (t1 - t0)
 				xt := x + w*(xn-x) + s*sd[i]*math.Sqrt(w*(1-w))*zb
-				if barrier && crossed(x, xt, sd[i]*sd[i]*w) {
-					mid := (t0 + tau) / 2
-					return (H - K) * m.Curve.Discount(mid), mid, control(h, mid)
+				if v := sd[i] * sd[i] * w; barrier && crossed(x, xt, v) {
+					at := t0 + (tau-t0)*bridgeHit(rng, x, xt, h, v)
+					return (H - K) * m.Curve.Discount(at), at, control(h, at)
 				}
 				return math.Max(math.Exp(xt)-K, 0) * m.Curve.Discount(tau), tau, control(xt, tau)
 			}
-			if barrier && crossed(x, xn, sd[i]*sd[i]) {
-				mid := (t0 + t1) / 2
-				return (H - K) * m.Curve.Discount(mid), mid, control(h, mid)
+			if v := sd[i] * sd[i]; barrier && crossed(x, xn, v) {
+				at := t0 + (t1-t0)*bridgeHit(rng, x, xn, h, v)
+				return (H - K) * m.Curve.Discount(at), at, control(h, at)
 			}
 			x = xn
 		}
@@ -180,7 +173,7 @@ func MonteCarlo(t Terms, m Market, o MCOptions) (Result, error) {
 	pairs := paths / 2
 	ys := make([]float64, pairs) // pair means of the discounted payoff
 	cs := make([]float64, pairs) // pair means of the control
-	lifeSum := 0.0
+	var lifeSum, lifeSq float64  // of the pair means of the life
 	for k := range pairs {
 		for i := range z {
 			z[i] = rng.NormFloat64()
@@ -193,16 +186,56 @@ func MonteCarlo(t Terms, m Market, o MCOptions) (Result, error) {
 		p1, l1, c1 := path(1, tau, zb)
 		p2, l2, c2 := path(-1, tau, -zb)
 		ys[k], cs[k] = (p1+p2)/2, (c1+c2)/2
-		lifeSum += (l1 + l2) / 2
+		l := (l1 + l2) / 2
+		lifeSum += l
+		lifeSq += l * l
 	}
 	mean, se := controlled(ys, cs, m.Spot)
+	np := float64(pairs)
+	life := lifeSum / np
+	lifeSE := math.Sqrt(math.Max(lifeSq/np-life*life, 0) / (np - 1))
 	return Result{
 		Value:             mean,
 		ErrorEstimate:     se,
-		ExpectedTermYears: lifeSum / float64(pairs),
+		ExpectedTermYears: life,
+		TermError:         lifeSE,
 		Steps:             paths,
 		Method:            MethodMC,
 	}, nil
+}
+
+// bridgeHit is the time, as a share of the step, at which a Brownian bridge
+// from log price a (below h) to b over a step of variance v first reaches h,
+// given that it does. With u = h − a and w = |h − b|, the hitting time t of
+// a step of length Δ has density proportional to
+// t^(−3/2)·e^(−u²/(2vt/Δ))·(Δ−t)^(−1/2)·e^(−w²/(2v(Δ−t)/Δ)) (the first
+// passage density of Brownian motion to h, then its transition from h to
+// b), so z = t/(Δ−t) is inverse Gaussian with mean u/w and shape u²/v, or
+// Lévy (z = (u²/v)/N²) when b = h. Derived here from the reflection
+// principle; the inverse Gaussian is drawn by Michael, Schucany and Haas
+// (1976, "Generating random variates using transformations with multiple
+// roots", The American Statistician 30(2)).
+func bridgeHit(rng *rand.Rand, a, b, h, v float64) float64 {
+	u, w := h-a, math.Abs(h-b)
+	shape := u * u / v
+	var z float64
+	if w == 0 {
+		n := rng.NormFloat64()
+		z = shape / (n * n)
+	} else {
+		mu := u / w
+		y := rng.NormFloat64()
+		y *= y
+		x := mu + mu*mu*y/(2*shape) - mu/(2*shape)*math.Sqrt(4*mu*shape*y+mu*mu*y*y)
+		z = x
+		if rng.Float64() > mu/(mu+x) {
+			z = mu * mu / x
+		}
+	}
+	if math.IsInf(z, 1) {
+		return 1
+	}
+	return z / (1 + z)
 }
 
 // controlled is the control-variate estimate of the mean of ys given

@@ -33,6 +33,18 @@ type Result struct {
 	Value             float64 // per share
 	ErrorEstimate     float64 // absolute, per share; 0 when exact (closed form)
 	ExpectedTermYears float64 // risk-neutral expected life of the award from the measurement date
+	TermError         float64 // absolute error estimate (lattice) or standard error (Monte Carlo) of ExpectedTermYears, in years; 0 when exact or not estimated
 	Steps             int     // lattice steps over the term (largest used in auto mode); paths for MC
 	Method            Method
+	// MissedTarget is set by auto mode when the finest ladder its limits
+	// allow still leaves ErrorEstimate above AutoTarget of the value: the
+	// value is the best the lattice reached and ErrorEstimate says how far
+	// off it may be. Callers should warn and cross-check (Monte Carlo).
+	MissedTarget bool
 }
+
+// AutoTarget is the relative accuracy auto mode aims for (DESIGN §5: within
+// 0.05% of a converged reference). It refines its ladder until the error
+// estimate of every tranche is within AutoTarget of its value, or its limits
+// are reached (Result.MissedTarget).
+const AutoTarget = 5e-4

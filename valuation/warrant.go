@@ -125,8 +125,9 @@ func EuropeanWarrant(t Terms, m Market, d Dilution) (Result, error) {
 // N/(N+W) for a new issue. When the share price reflects the warrants, the
 // fixed point w = f·C(S0 + (W/N)·w) passes an error ε in C on as
 // f·ε/(1 − f·(W/N)·∂C/∂S), at most ε since the delta is at most 1, so the
-// estimate is ε itself. It is 0 for European terms; ExpectedTermYears, Steps and Method are the
-// lattice's at the share value the call was finally evaluated at.
+// estimate is ε itself. It is 0 for European terms; ExpectedTermYears,
+// TermError, Steps, Method and MissedTarget are the lattice's at the share
+// value the call was finally evaluated at.
 func WarrantValue(t Terms, m Market, d Dilution, o LatticeOptions) (Result, error) {
 	if t.European {
 		return EuropeanWarrant(t, m, d)
@@ -158,8 +159,10 @@ func WarrantValue(t Terms, m Market, d Dilution, o LatticeOptions) (Result, erro
 		Value:             w,
 		ErrorEstimate:     d.CarryError(last.ErrorEstimate),
 		ExpectedTermYears: last.ExpectedTermYears,
+		TermError:         last.TermError,
 		Steps:             last.Steps,
 		Method:            MethodLattice,
+		MissedTarget:      last.MissedTarget,
 	}, nil
 }
 

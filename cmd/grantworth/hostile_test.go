@@ -133,7 +133,7 @@ func hostileCases(t *testing.T) []hostileCase {
 	}
 
 	// CSV folders: a sheet that links to a device, a sheet that is a 3 GB
-	// sparse file, a holder of a million characters.
+	// sparse file, a holder of a million characters, a cell of 64 MB.
 	sample := filepath.Join("..", "..", "sample", "tarnwick-csv")
 	folder := func(name string) string {
 		dir := filepath.Join(tmp, name)
@@ -161,9 +161,14 @@ func hostileCases(t *testing.T) []hostileCase {
 			row[i] = strings.Repeat("H", 1_000_000)
 			lines[1] = strings.Join(row, ",")
 			os.WriteFile(filepath.Join(dir, "grants.csv"), []byte(strings.Join(lines, "\n")), 0o644)
-			cs = append(cs, hostileCase{"csv-holder-1m", dir, fmt.Sprintf("Grants!%c2 (holder):", 'A'+i)})
+			cs = append(cs, hostileCase{"csv-holder-1m", dir, fmt.Sprintf("Grants!%c2: holds more than 32,767 characters", 'A'+i)})
 		}
 	}
+	// One cell of 64 MB, just within the file size limit.
+	dir = folder("csv-grants-cell-64mb")
+	big := []byte(lines[0] + "\n\"" + strings.Repeat("A", 64<<20-len(lines[0])-10) + "\"\n")
+	os.WriteFile(filepath.Join(dir, "grants.csv"), big, 0o644)
+	cs = append(cs, hostileCase{"csv-grants-cell-64mb", dir, "Grants: grants.csv line 2 starts a row longer than 4 MiB"})
 	return cs
 }
 

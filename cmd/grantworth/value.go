@@ -32,6 +32,8 @@ type valueOptions struct {
 	path          string
 	out           string
 	valuationDate string
+	prior         string
+	correct       []string
 	force         bool
 	cpuProfile    string
 }
@@ -57,6 +59,14 @@ output folder:
                   ledger, by cost centre, in the accounts of the Accounts
                   sheet (DESIGN §4.4)
 
+With --prior, the close follows an earlier one (its output folder or its
+valuation.json, only read): the grant-date fair values it filed stay locked
+(a warning says when today's inputs would give another value), its booked
+expense is the opening balance, changes to closed periods are booked now as
+catch-ups with their causes, and the memo, workbook and JSON reconcile this
+close to it. --correct GRANT measures a locked grant again, as the
+correction of an error, booking the difference as a catch-up.
+
 Any error in the schedule is printed with its cell and nothing is written
 (exit 2). An existing output is never replaced without --force; the outputs
 are written all together or not at all. The same schedule gives the same
@@ -66,7 +76,9 @@ The figures are estimates, not an audit opinion: defer to licensed auditors or
 valuation professionals and the accounting rules that apply to you (ASC 718,
 IFRS 2 or local rules).`,
 		Example: `  grantworth value sample/tarnwick.xlsx --out out
-  grantworth value ledger.xlsx --out q3 --valuation-date 2026-09-30 --force`,
+  grantworth value ledger.xlsx --out q3 --valuation-date 2026-09-30 --force
+  grantworth value ledger.xlsx --out q4 --valuation-date 2026-12-31 --prior q3
+  grantworth value ledger.xlsx --out q4 --prior q3/valuation.json --correct TW-014`,
 		Args: cobra.ExactArgs(1),
 		RunE: func(_ *cobra.Command, args []string) error {
 			opts.path = args[0]
@@ -75,6 +87,8 @@ IFRS 2 or local rules).`,
 	}
 	cmd.Flags().StringVar(&opts.out, "out", "out", "folder to write the four files into (created if missing)")
 	cmd.Flags().StringVar(&opts.valuationDate, "valuation-date", "", "period end YYYY-MM-DD, instead of the schedule's Company valuation_date")
+	cmd.Flags().StringVar(&opts.prior, "prior", "", "the prior close to follow: its output folder or its valuation.json")
+	cmd.Flags().StringSliceVar(&opts.correct, "correct", nil, "grant IDs whose locked grant-date value is measured again, as the correction of an error (needs --prior; repeat or separate with commas)")
 	cmd.Flags().BoolVar(&opts.force, "force", false, "replace existing output files")
 	// For developers: a CPU profile of the run, for go tool pprof.
 	cmd.Flags().StringVar(&opts.cpuProfile, "cpuprofile", "", "write a CPU profile to this file")
@@ -108,6 +122,9 @@ func runValue(o *valueOptions) error {
 	if err := checkExisting(o.out, o.out, outputNames, o.force); err != nil {
 		return err
 	}
+	if len(o.correct) > 0 && o.prior == "" {
+		return badInput("--correct needs --prior: only a value filed by a prior close can be corrected")
+	}
 	var vdate time.Time
 	if o.valuationDate != "" {
 		t, err := time.Parse("2006-01-02", o.valuationDate)
@@ -118,15 +135,7 @@ func runValue(o *valueOptions) error {
 	}
 	s, rep, err := grants.ReadFile(o.path)
 	if err != nil {
-		var ce *grants.CellError
-		switch {
-		case errors.As(err, &ce):
-			return asInput(err)
-		case errors.Is(err, fs.ErrNotExist):
-			return badInput("%s: no such file or folder", o.path)
-		default:
-			return err
-		}
+		return readError(o.path, err)
 	}
 	if !vdate.IsZero() {
 		applyValuationDate(s, vdate)
@@ -158,6 +167,13 @@ func runValue(o *valueOptions) error {
 	if !rep.OK() || len(inErrs) > 0 {
 		return printProblems(o.io.Err, rep, inErrs)
 	}
+	var prior *accounting.Prior
+	var priorWarnings []string
+	if o.prior != "" {
+		if prior, priorWarnings, err = openPrior(o, s); err != nil {
+			return err
+		}
+	}
 	sum, err := grants.HashInput(o.path)
 	if err != nil {
 		var ce *grants.CellError
@@ -179,13 +195,18 @@ func runValue(o *valueOptions) error {
 		Lattice:     valuation.LatticeOptions{Steps: s.InForce().Steps},
 		Progress:    bar.update,
 		Sensitivity: func(done, total int) { bar.finish(); sensBar.update(done, total) },
+		Locks:       prior.Locks(),
+		Correct:     o.correct,
 	})
 	bar.finish()
 	sensBar.finish()
 	if err != nil {
+		if errors.Is(err, pricing.ErrLock) {
+			return asInput(err)
+		}
 		return err
 	}
-	books, err := accounting.Close(s, v)
+	books, err := accounting.Close(s, v, prior)
 	if err != nil {
 		if ce := (*grants.CellError)(nil); errors.As(err, &ce) {
 			return asInput(err)
@@ -195,7 +216,7 @@ func runValue(o *valueOptions) error {
 	m, err := report.Build(s, v, books, report.Run{
 		Tool:     report.Tool{Name: "grantworth", Version: version},
 		Input:    report.Input{Path: filepath.ToSlash(o.path), SHA256: sum},
-		Warnings: append(warningTexts(rep), skipped...),
+		Warnings: append(append(warningTexts(rep), priorWarnings...), skipped...),
 	})
 	if err != nil {
 		return err
@@ -218,6 +239,67 @@ func runValue(o *valueOptions) error {
 	}
 	printSummary(o.io.Out, m, o.out)
 	return nil
+}
+
+// readError is the error of a schedule or designs workbook at path that
+// could not be read at all: a problem in the file (a *grants.CellError) or
+// a missing file is bad input (exit 2); anything else fails the run.
+func readError(path string, err error) error {
+	var ce *grants.CellError
+	switch {
+	case errors.As(err, &ce):
+		return asInput(err)
+	case errors.Is(err, fs.ErrNotExist):
+		return badInput("%s: no such file or folder", path)
+	}
+	return err
+}
+
+// openPrior reads the prior close o.prior and opens s's period after it
+// (accounting.Open). Refusals are input errors; the output folder may
+// not be the prior's, which must stay as it is.
+func openPrior(o *valueOptions, s *grants.Schedule) (*accounting.Prior, []string, error) {
+	prior, err := report.ReadPrior(o.prior)
+	if err != nil {
+		if errors.Is(err, accounting.ErrPrior) {
+			return nil, nil, asInput(err)
+		}
+		return nil, nil, err
+	}
+	dir := o.prior
+	if st, err := os.Stat(dir); err == nil && !st.IsDir() {
+		dir = filepath.Dir(dir)
+	}
+	if sameDir(dir, o.out) {
+		return nil, nil, badInput("--out %s is the prior close's folder: write this close elsewhere, so that the prior stays as it was filed", o.out)
+	}
+	warns, err := accounting.Open(s, prior)
+	if err != nil {
+		return nil, nil, asInput(err)
+	}
+	locks := prior.Locks()
+	for _, id := range o.correct {
+		if _, ok := s.Grant(id); !ok {
+			return nil, nil, badInput("--correct %s: no such grant on the Grants sheet", id)
+		}
+		if _, ok := locks[id]; !ok {
+			return nil, nil, badInput("--correct %s: the prior close of %s filed no value for it to correct", id, prior.ValuationDate.Format(time.DateOnly))
+		}
+	}
+	return prior, warns, nil
+}
+
+// sameDir reports whether a and b name the same folder (b need not
+// exist).
+func sameDir(a, b string) bool {
+	sa, errA := os.Stat(a)
+	sb, errB := os.Stat(b)
+	if errA == nil && errB == nil {
+		return os.SameFile(sa, sb)
+	}
+	x, errX := filepath.Abs(a)
+	y, errY := filepath.Abs(b)
+	return errX == nil && errY == nil && x == y
 }
 
 // applyValuationDate moves the period end to d; a period start the schedule

@@ -9,12 +9,14 @@ import (
 )
 
 // Books are the accounting of one period close: the expense attribution,
-// the disclosure tables and the journal, from one set of ledgers.
+// the disclosure tables and the journal, from one set of ledgers, and
+// after a prior close the reconciliation to it.
 type Books struct {
-	Expense    *ExpenseReport
-	Disclosure *Disclosure
-	Journal    []Entry
-	Chart      Chart // the accounts and rounding the journal is in
+	Expense        *ExpenseReport
+	Disclosure     *Disclosure
+	Journal        []Entry
+	Chart          Chart           // the accounts and rounding the journal is in
+	Reconciliation *Reconciliation // nil without a prior close
 	// SharePrice is the share price at the period end, with its cell,
 	// for the disclosures' intrinsic values.
 	SharePrice grants.Source
@@ -24,9 +26,13 @@ type Books struct {
 
 // Close does the accounting of schedule s's period over the grants v
 // valued: the awards (AwardsOf), their attribution and the disclosure
-// tables (Attribute) and the journal. An error that is the schedule's
-// (no share price at the period end) is a *grants.CellError.
-func Close(s *grants.Schedule, v *pricing.Valuation) (*Books, error) {
+// tables from one set of ledgers (as Attribute) and the journal. With prior, the close that came
+// before (opened by Open, and whose values v kept), the opening balances
+// are what prior booked, the closed periods stand as it booked them, and
+// the Reconciliation walks from it to this close with its catch-ups. An
+// error that is the schedule's (no share price at the period end) is a
+// *grants.CellError.
+func Close(s *grants.Schedule, v *pricing.Valuation, prior *Prior) (*Books, error) {
 	b := &Books{}
 	src, err := s.PeriodEndPrice()
 	if err != nil && s.NeedsPeriodEndPrice() {
@@ -39,14 +45,34 @@ func Close(s *grants.Schedule, v *pricing.Valuation) (*Books, error) {
 	}
 	b.Warnings = warns
 	start, end := s.Period()
-	rep, disc, err := Attribute(awards, PolicyOf(s), start, end, b.SharePrice.Value)
+	if prior != nil && !start.Equal(civilDay(prior.ValuationDate).AddDate(0, 0, 1)) {
+		return nil, fmt.Errorf("the period starts on %s, not the day after the prior close of %s: open it with Open", day(start), day(prior.ValuationDate))
+	}
+	p, err := openPeriod(awards, PolicyOf(s), start, end)
 	if err != nil {
 		return nil, fmt.Errorf("expense and disclosures: %w", err)
 	}
+	p.prior = prior
+	disc, err := p.disclose(b.SharePrice.Value)
+	if err != nil {
+		return nil, fmt.Errorf("disclosures: %w", err)
+	}
+	rep := p.expense()
 	b.Expense, b.Disclosure = rep, disc
 	b.Warnings = append(b.Warnings, rep.Warnings...)
+	var catchUps []CatchUp
+	if prior != nil {
+		sts := make([]grantStates, len(p.ledgers))
+		for i, l := range p.ledgers {
+			sts[i] = p.states(l, prior)
+		}
+		if b.Reconciliation, err = p.reconcile(prior, sts, rep, disc, s, v); err != nil {
+			return nil, fmt.Errorf("reconciliation to the prior close: %w", err)
+		}
+		catchUps = b.Reconciliation.CatchUps
+	}
 	b.Chart = ChartOf(s)
-	b.Journal = Journal(rep, b.Chart)
+	b.Journal = Journal(rep, catchUps, b.Chart)
 	return b, nil
 }
 

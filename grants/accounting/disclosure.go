@@ -362,7 +362,7 @@ func summarise(l *awardLedger, out, ex, exp *outAcc, end time.Time, price float6
 			ex.add(n, g.Strike, term, price)
 			exp.add(n, g.Strike, term, price)
 		} else {
-			exp.add(n*t.expected(dayNum(end)), g.Strike, term, price)
+			exp.add(n*t.expected(dayNum(end), l.rate), g.Strike, term, price)
 		}
 	}
 }

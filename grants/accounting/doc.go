@@ -6,8 +6,8 @@
 //
 // # The close
 //
-// Close takes the schedule and its pricing.Valuation and returns the
-// Books of the period:
+// Close takes the schedule, its pricing.Valuation and the prior close (nil
+// for a first one) and returns the Books of the period:
 //
 //  1. AwardsOf pairs each valued grant with its fair value per tranche (an
 //     Award): the grant-date value of an equity-classified award; for a
@@ -18,7 +18,9 @@
 //  2. Attribute builds one ledger per award (its tranches with their
 //     events) and from the same ledgers the ExpenseReport of the period
 //     (Expense) and the Disclosure tables (Disclose).
-//  3. Journal writes the period's entries from the ExpenseReport.
+//  3. After a prior close, the Reconciliation to it (below).
+//  4. Journal writes the period's entries from the ExpenseReport and the
+//     catch-ups.
 //
 // The schedule's period is grants.Schedule.Period (the Company sheet's
 // period_start to valuation_date); its policy is PolicyOf (the Assumptions
@@ -122,17 +124,89 @@
 // weighted by shares. Every roll-forward satisfies start + granted −
 // vested − exercised − forfeited − cancelled − expired = end (Check).
 //
+// # Quarter after quarter: the prior close
+//
+// A finance team closes every quarter, and what it booked stays booked.
+// With the Prior of the last close (read from its valuation.json by
+// report.ReadPrior; Filed is what a close files for the next one):
+//
+//   - Open refuses a prior of another company or currency, one whose
+//     valuation date is not before this one, a change of attribution or
+//     forfeiture policy (a change of accounting policy is not booked
+//     here), and a schedule that lacks a grant the prior filed; it opens
+//     the period the day after the prior's valuation date.
+//   - Locks hands pricing the grant-date values the prior filed, which it
+//     keeps for every equity-classified award it measured (ASC
+//     718-10-30-6, IFRS 2.16), and a liability-classified warrant's past
+//     values; a grant named to be corrected is measured again instead.
+//   - Close takes the cumulative cost the prior booked per grant and
+//     tranche as the opening balance, and the closed periods as it booked
+//     them. The period's expense is the cumulative cost now less that
+//     balance. Whatever changes history is a catch-up of the open period
+//     (CatchUp, with its Cause): an event dated in a closed period but
+//     first recorded now, a grant recorded late, an event removed, changed
+//     vesting or service dates, a corrected fair value, a change in the
+//     forfeiture rate (a change in estimate: ASC 250-10-45-17, ASC
+//     718-10-35-3). A closed period is never restated.
+//
+// The Reconciliation walks from the prior close to this one. Each award
+// is looked at in a few views that differ in one thing at a time (its
+// cost once vested, and its cost recognised, in each):
+//
+//	A′  restated at the prior close with everything known now, at the
+//	    prior's forfeiture rate (for a grant of the period: at its grant,
+//	    before any event)
+//	A   the same at today's rate
+//	B1  A with the period's forfeitures
+//	B2  A with all of the period's events
+//	C   B2 knowing the leavers through this period's end
+//	D   this close
+//
+// The unrecognised cost walks: at the prior close (as filed), plus the
+// grants of the period (their cost at grant, A), less the period's
+// expense, plus forfeitures and cancellations (B2 − A: the expected cost
+// forfeitures release, and the estimate a cancellation settles in full),
+// plus changes in the forfeiture estimate ((A − A′) + (C − B2)), plus the
+// cost of catch-ups (A′ less the cost filed), to the unrecognised cost
+// now. The period's expense walks: service in the period (D − C),
+// forfeitures (B1 − A), cancellations (B2 − B1), the changed rate on cost
+// already recognised (A − A′) and the catch-ups (A′ less the cost
+// booked). The warrant liability walks from its filed balance through
+// compensation, the change in fair value and the reclassifications on
+// exercise; the awards outstanding of each instrument from the counts
+// filed, through the catch-ups (the restated count at the prior close
+// less the filed one) and the disclosures' roll-forward, to the count now.
+// Every amount is rounded to the cent and every walk adds up exactly
+// (Walk.Check): the opening and closing balances and the period's
+// expense are rounded as printed elsewhere, and the other movements share
+// the rounding by the largest remainder, none more than a cent from its
+// exact figure.
+//
+// Closing quarter after quarter with an unchanged schedule gives, to the
+// last bit, the figures of one close at the end (the expense report, the
+// disclosures, the journal); the tests check it.
+//
 // # Journal
 //
 // The journal is data: Entries of Lines, each line a Role (compensation
 // expense, equity, warrant liability, change in fair value), the Account
 // the company maps to that role (DefaultAccounts otherwise), the grant it
 // books when it books one, and a debit or a credit. Every entry balances.
-// Journal gives the period's summary entries: compensation of
-// equity-classified awards against equity, compensation of
-// liability-classified warrants against the liability, the liability's
-// remeasurement apart from compensation, and exercised liability warrants
-// reclassified to equity; an entry of less than half a cent is left out.
+// Journal gives the period's entries: compensation of equity-classified
+// awards against equity and of liability-classified warrants against the
+// liability (each without its catch-ups), one entry per catch-up naming
+// its grant and cause, the liability's remeasurement apart from
+// compensation, and exercised liability warrants reclassified to equity;
+// an entry of less than half a cent is left out.
+//
+// # Extending
+//
+// Later rules add to these shapes rather than reshape them: a new account
+// is a Role (with its default Account); a new kind of history change is a
+// Cause; a new movement of a walk is a WalkLine (its views, like those
+// above, telescoping from the opening to the closing balance); per-grant
+// entries set Line.GrantID. Spread attributes one award over periods of
+// one's choosing for those who need no schedule.
 //
 // # Errors
 //

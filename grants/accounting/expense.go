@@ -115,6 +115,19 @@ type GrantExpense struct {
 	LiabilityOpen      float64 // at the end of the day before the period start
 	LiabilityEnd       float64 // at period end
 	ReclassifiedEquity float64 // liability moved to equity on exercise in the period
+	// ReclassifiedToDate is the liability moved to equity on exercise
+	// through the period end, in all.
+	ReclassifiedToDate float64
+
+	// Outstanding is, at the period end, the options or warrants
+	// outstanding, or the RSUs nonvested.
+	Outstanding int64
+	// Events are the grant's events applied, through the period end, and
+	// Remeasurements a liability-classified warrant's fair values after
+	// its grant date (the past quarter ends and the period end): what a
+	// later close compares and keeps.
+	Events         []grants.Event
+	Remeasurements []Remeasurement
 
 	// CostCenter is the grant's cost centre at the period end (Unassigned
 	// when it names none); ByCostCenter splits its Period, Cumulative and
@@ -211,11 +224,13 @@ func Attribute(awards []Award, policy Policy, periodStart, periodEnd time.Time, 
 }
 
 // period is a checked policy and period with the ledger of every award
-// granted by its end, in award order.
+// granted by its end, in award order, and the prior close it follows,
+// if any.
 type period struct {
 	pol        Policy
 	start, end time.Time
 	ledgers    []*awardLedger
+	prior      *Prior
 }
 
 // openPeriod checks the policy and the period and builds the ledgers;
@@ -255,7 +270,8 @@ func (p *period) expense() *ExpenseReport {
 	open := shiftDays(periodStart, -1)
 
 	cal := pol.Calendar
-	// Period boundaries: context quarters, then the current period.
+	// Period boundaries: context quarters, then the current period. After
+	// a prior close the closed periods are as it booked them.
 	var bounds []PeriodAmount
 	first, lastDay := periodEnd, periodEnd
 	for _, l := range ledgers {
@@ -266,7 +282,17 @@ func (p *period) expense() *ExpenseReport {
 			lastDay = d
 		}
 	}
-	if len(ledgers) > 0 {
+	switch {
+	case p.prior != nil:
+		for _, pa := range p.prior.Periods {
+			pa.Current = false
+			if pa.Label == "" {
+				pa.Label = cal.Quarter(pa.End).Name
+			}
+			bounds = append(bounds, pa)
+			first = minDay(first, pa.Start)
+		}
+	case len(ledgers) > 0:
 		for _, q := range cal.Quarters(first, open) {
 			end := q.End
 			if !end.Before(periodStart) {
@@ -285,20 +311,14 @@ func (p *period) expense() *ExpenseReport {
 	for _, y := range cal.Years(first, lastDay) {
 		rep.ByFiscalYear = append(rep.ByFiscalYear, YearAmount{Year: y})
 	}
-	// The days each ledger is evaluated on: as booked on the day (past)
-	// and as expected at the period end (future).
-	past, future := newDaySet(), newDaySet()
-	for _, b := range bounds {
-		past.add(b.End)
-	}
+	// The days each ledger is evaluated on after the period end, as
+	// expected at the period end: the forecast's quarter ends and the
+	// fiscal year ends.
+	future := newDaySet()
 	for _, f := range rep.Forecast {
 		future.add(f.End)
 	}
 	for _, y := range rep.ByFiscalYear {
-		if !y.Year.Start.After(periodEnd) {
-			past.add(shiftDays(y.Year.Start, -1))
-			past.add(minDay(y.Year.End, periodEnd))
-		}
 		if y.Year.End.After(periodEnd) {
 			future.add(y.Year.End)
 			if d := shiftDays(y.Year.Start, -1); d.After(periodEnd) {
@@ -306,7 +326,7 @@ func (p *period) expense() *ExpenseReport {
 			}
 		}
 	}
-	pastVals, pastFV, futureVals := make([]float64, len(past.days)), make([]float64, len(past.days)), make([]float64, len(future.days))
+	futureVals := make([]float64, len(future.days))
 	forecast := make([]float64, len(rep.Forecast)) // one ledger's
 	centres := newCentreBook(len(rep.Forecast))
 
@@ -316,6 +336,23 @@ func (p *period) expense() *ExpenseReport {
 		ge := GrantExpense{GrantID: g.ID, Holder: g.Holder, Instrument: g.Instrument, Liability: l.liability, GrantDate: g.GrantDate, ServiceStart: l.start, ServiceEnd: l.last}
 		s0 := l.at(pol, open, open)
 		s1 := l.at(pol, periodEnd, periodEnd)
+		// The opening balances: as restated (s0), or as the prior close
+		// booked them (nothing for a grant it did not have).
+		bookedTranche := func(i int) float64 { return s0.comp[i] }
+		var pg *PriorGrant
+		if p.prior != nil {
+			pg, _ = p.prior.grant(g.ID)
+			bookedTranche = func(i int) float64 {
+				if pg != nil {
+					for _, t := range pg.Tranches {
+						if dayNum(t.VestDate) == l.tr[i].vestN {
+							return t.Cumulative
+						}
+					}
+				}
+				return 0
+			}
+		}
 		// Every tranche is vested the day after the later of the last vest
 		// date and the period end, so the cost there is the expected total.
 		far := shiftDays(l.last, 1)
@@ -330,12 +367,12 @@ func (p *period) expense() *ExpenseReport {
 			if live > 0 {
 				lastLive = t.Tranche.VestDate
 			}
-			q := t.expected(dayNum(periodEnd))
+			q := t.expected(dayNum(periodEnd), l.rate)
 			te := TrancheExpense{
 				Index: t.Tranche.Index, VestDate: t.Tranche.VestDate, ServiceStart: t.start,
 				Shares: t.Tranche.Shares, SharesCounted: float64(live)*q + float64(c.accelerated),
 				FairValue: t.FairValue, ExpectedShare: q,
-				Cost: sInf.comp[i], CumulativeOpen: s0.comp[i], Cumulative: s1.comp[i],
+				Cost: sInf.comp[i], CumulativeOpen: bookedTranche(i), Cumulative: s1.comp[i],
 			}
 			te.Period = te.Cumulative - te.CumulativeOpen
 			te.Unrecognized = te.Cost - te.Cumulative
@@ -354,7 +391,15 @@ func (p *period) expense() *ExpenseReport {
 				wYears += te.Unrecognized * te.RemainingYears
 			}
 		}
+		if p.prior != nil {
+			ge.CumulativeOpen = 0
+			if pg != nil {
+				ge.CumulativeOpen = pg.Cumulative
+			}
+		}
 		ge.Period = ge.Cumulative - ge.CumulativeOpen
+		ge.Outstanding = l.outstanding(dayNum(periodEnd))
+		ge.Events = l.in.eventsThrough(periodEnd)
 		if ge.Unrecognized > 0 {
 			if pol.Attribution == grants.StraightLine {
 				if left := valuation.Days(shiftDays(periodEnd, 1), lastLive); left > 0 {
@@ -370,10 +415,20 @@ func (p *period) expense() *ExpenseReport {
 			}
 		}
 		if l.liability {
-			ge.FairValueChange = s1.fvChange() - s0.fvChange()
-			ge.LiabilityOpen = s0.liability
+			lOpen, settledOpen, fvOpen := s0.liability, s0.settled, s0.fvChange()
+			if p.prior != nil {
+				lOpen, settledOpen, fvOpen = 0, 0, 0
+				if pg != nil {
+					lOpen, settledOpen = pg.LiabilityEnd, pg.Reclassified
+					fvOpen = pg.LiabilityEnd + pg.Reclassified - pg.Cumulative
+				}
+			}
+			ge.FairValueChange = s1.fvChange() - fvOpen
+			ge.LiabilityOpen = lOpen
 			ge.LiabilityEnd = s1.liability
-			ge.ReclassifiedEquity = s1.settled - s0.settled
+			ge.ReclassifiedEquity = s1.settled - settledOpen
+			ge.ReclassifiedToDate = s1.settled
+			ge.Remeasurements = l.remeas
 			if len(l.remeas) == 0 {
 				rep.Warnings = append(rep.Warnings, fmt.Sprintf("grant %s: liability-classified warrant with no remeasurement; its liability is carried at the grant-date fair value", g.ID))
 			}
@@ -385,22 +440,27 @@ func (p *period) expense() *ExpenseReport {
 		rep.Unrecognized += ge.Unrecognized
 
 		l.bufComp = make([]float64, len(l.tr))
-		for k, d := range past.days {
-			cur := l.atInto(pol, d, d, l.bufComp)
-			pastVals[k], pastFV[k] = cur.compTotal(), 0
-			if l.liability {
-				pastFV[k] = cur.fvChange()
+		var prevComp, prevFV float64
+		for k := range bounds {
+			if p.prior != nil { // the closed periods stand as booked
+				if bounds[k].Current {
+					bounds[k].Amount += ge.Period
+					bounds[k].FairValueChange += ge.FairValueChange
+				}
+				continue
 			}
+			cur := l.atInto(pol, bounds[k].End, bounds[k].End, l.bufComp)
+			c := cur.compTotal()
+			bounds[k].Amount += c - prevComp
+			if l.liability {
+				fv := cur.fvChange()
+				bounds[k].FairValueChange += fv - prevFV
+				prevFV = fv
+			}
+			prevComp = c
 		}
 		for k, d := range future.days {
 			futureVals[k] = l.atInto(pol, d, periodEnd, l.bufComp).compTotal()
-		}
-		var prev, prevFV float64
-		for k := range bounds {
-			i := past.index(bounds[k].End)
-			bounds[k].Amount += pastVals[i] - prev
-			bounds[k].FairValueChange += pastFV[i] - prevFV
-			prev, prevFV = pastVals[i], pastFV[i]
 		}
 		prevTotal := s1.compTotal()
 		for k := range rep.Forecast {
@@ -417,9 +477,6 @@ func (p *period) expense() *ExpenseReport {
 		rep.Grants = append(rep.Grants, ge)
 		for k := range rep.ByFiscalYear {
 			y := &rep.ByFiscalYear[k]
-			if !y.Year.Start.After(periodEnd) {
-				y.Recognized += pastVals[past.index(minDay(y.Year.End, periodEnd))] - pastVals[past.index(shiftDays(y.Year.Start, -1))]
-			}
 			if y.Year.End.After(periodEnd) {
 				from := s1.compTotal()
 				if d := shiftDays(y.Year.Start, -1); d.After(periodEnd) {
@@ -433,6 +490,14 @@ func (p *period) expense() *ExpenseReport {
 		rep.RemainingYears = wYears / rep.Unrecognized
 	}
 	rep.Periods = bounds
+	// A period's expense is recognised in the fiscal year holding its end.
+	for _, b := range bounds {
+		for k := range rep.ByFiscalYear {
+			if y := &rep.ByFiscalYear[k]; !b.End.Before(y.Year.Start) && !b.End.After(y.Year.End) {
+				y.Recognized += b.Amount
+			}
+		}
+	}
 	rep.ByCostCenter = centres.list()
 	if w := centres.unassignedWarning(); w != "" {
 		rep.Warnings = append(rep.Warnings, w)

@@ -3,6 +3,7 @@ package accounting
 import (
 	"math"
 	"sort"
+	"strings"
 	"time"
 
 	"grantworth/grants"
@@ -172,6 +173,9 @@ func (j *journal) transfer(desc string, debit, credit Role, grantID string, amou
 	j.entry(desc, []Line{j.line(debit, "", grantID, u), j.line(credit, "", grantID, -u)})
 }
 
+// minEntry is the smallest catch-up found: half a cent.
+const minEntry = 0.005
+
 func abs64(x int64) int64 {
 	if x < 0 {
 		return -x
@@ -179,42 +183,75 @@ func abs64(x int64) int64 {
 	return x
 }
 
-// Journal is the period's entries for the attribution r in the accounts of
-// chart: the compensation of equity-classified awards against equity and
-// of liability-classified warrants against the liability, with a
-// compensation expense line per cost centre; the liability's
-// remeasurement apart from compensation; and exercised liability warrants
-// reclassified to equity. Amounts are rounded to the currency's minor
-// unit; the compensation lines are rounded together (largest remainder,
-// apportion) so that they add up to the period's expense rounded, and
-// every entry balances in minor units. Entries that round to nothing are
-// left out.
-func Journal(r *ExpenseReport, chart Chart) []Entry {
+// Journal is the period's entries for the attribution r and its
+// catch-ups, in the accounts of chart: the compensation of
+// equity-classified awards against equity and of liability-classified
+// warrants against the liability, each without its catch-ups; an entry
+// per catch-up, naming its grant and cause; the liability's remeasurement
+// apart from compensation; and exercised liability warrants reclassified
+// to equity. Every compensation expense line is for one cost centre: the
+// summary entries have a line per centre from the grants' parts
+// (GrantExpense.ByCostCenter), and a catch-up is booked in its grant's
+// cost centre at the period end, which holds the difference between the
+// opening balance the prior close booked and the one restated now (see
+// the package notes on cost centres). Amounts are rounded to the
+// currency's minor unit; the compensation lines are rounded together
+// (largest remainder, apportion) so that they add up to the period's
+// expense rounded, and every entry balances in minor units. Entries that
+// round to nothing are left out.
+func Journal(r *ExpenseReport, catchUps []CatchUp, chart Chart) []Entry {
 	j := &journal{chart: chart, date: r.PeriodEnd}
-	// The compensation cells: equity-classified (0) or liability (1), by
-	// cost centre.
+	// Compensation entries: the two summaries, then one per catch-up; and
+	// their expense lines by cost centre.
+	type compEntry struct {
+		desc    string
+		credit  Role
+		grantID string
+	}
+	entries := []compEntry{
+		{"Share-based compensation for the period (equity-classified awards)", RoleEquity, ""},
+		{"Share-based compensation for the period (liability-classified warrants)", RoleLiability, ""},
+	}
 	type cell struct {
-		liability bool
-		centre    string
+		entry  int
+		centre string
 	}
 	amounts := map[cell]float64{}
+	grantOf := map[string]*GrantExpense{}
 	var fv, reclass float64
-	for _, g := range r.Grants {
-		for _, p := range g.ByCostCenter {
-			amounts[cell{g.Liability, p.CostCenter}] += p.Period
-		}
+	for i := range r.Grants {
+		g := &r.Grants[i]
+		grantOf[g.GrantID] = g
+		e := 0
 		if g.Liability {
+			e = 1
 			fv += g.FairValueChange
 			reclass += g.ReclassifiedEquity
 		}
+		for _, p := range g.ByCostCenter {
+			amounts[cell{e, p.CostCenter}] += p.Period
+		}
+	}
+	for _, c := range catchUps {
+		summary, credit := 0, RoleEquity
+		if c.Liability {
+			summary, credit = 1, RoleLiability
+		}
+		entries = append(entries, compEntry{"Catch-up for closed periods, grant " + c.GrantID + " (" + strings.ReplaceAll(string(c.Cause), "_", " ") + ")", credit, c.GrantID})
+		centre := grants.Unassigned
+		if g := grantOf[c.GrantID]; g != nil && g.CostCenter != "" {
+			centre = g.CostCenter
+		}
+		amounts[cell{len(entries) - 1, centre}] += c.Amount
+		amounts[cell{summary, centre}] -= c.Amount
 	}
 	cells := make([]cell, 0, len(amounts))
 	for c := range amounts {
 		cells = append(cells, c)
 	}
 	sort.Slice(cells, func(a, b int) bool {
-		if cells[a].liability != cells[b].liability {
-			return !cells[a].liability
+		if cells[a].entry != cells[b].entry {
+			return cells[a].entry < cells[b].entry
 		}
 		return costCenterLess(cells[a].centre, cells[b].centre)
 	})
@@ -223,20 +260,19 @@ func Journal(r *ExpenseReport, chart Chart) []Entry {
 		xs[i] = amounts[c]
 	}
 	units := apportion(xs, int64(math.Round(r.Period*chart.scale())), chart.scale())
-	for _, liability := range []bool{false, true} {
-		desc, credit := "Share-based compensation for the period (equity-classified awards)", RoleEquity
-		if liability {
-			desc, credit = "Share-based compensation for the period (liability-classified warrants)", RoleLiability
-		}
+	comp := func(e int) {
 		var lines []Line
 		var total int64
 		for i, c := range cells {
-			if c.liability == liability {
-				lines = append(lines, j.line(RoleCompensation, c.centre, "", units[i]))
+			if c.entry == e {
+				lines = append(lines, j.line(RoleCompensation, c.centre, entries[e].grantID, units[i]))
 				total += units[i]
 			}
 		}
-		j.entry(desc, append(lines, j.line(credit, "", "", -total)))
+		j.entry(entries[e].desc, append(lines, j.line(entries[e].credit, "", entries[e].grantID, -total)))
+	}
+	for e := range entries {
+		comp(e)
 	}
 	j.transfer("Remeasurement of the warrant liability to fair value (apart from compensation)", RoleFairValueChange, RoleLiability, "", fv)
 	j.transfer("Exercised liability-classified warrants reclassified to equity", RoleLiability, RoleEquity, "", reclass)

@@ -48,13 +48,13 @@ type trancheLedger struct {
 	days  int       // service days
 	// day numbers (dn) of the service start and the vest date
 	startN, vestN int
-	rate          float64 // pre-vesting forfeiture rate; 0 under as-occur
 	moves         []move
 }
 
 type awardLedger struct {
 	in        *Award
 	liability bool
+	rate      float64 // pre-vesting forfeiture rate; 0 under as-occur
 	start     time.Time
 	last      time.Time // last vest date
 	days      int
@@ -110,6 +110,9 @@ func newAwardLedger(a *Award, pol Policy, asOf time.Time) (*awardLedger, error) 
 		return nil, fmt.Errorf("grant %s: no tranches", g.ID)
 	}
 	l := &awardLedger{in: a, liability: g.Instrument == grants.Warrant && g.Classification == grants.Liability, start: ServiceStart(g)}
+	if pol.Forfeitures == grants.Estimate {
+		l.rate = pol.PreVestingForfeitureRate
+	}
 	for i, tc := range a.Tranches {
 		if tc.Tranche.GrantID != "" && tc.Tranche.GrantID != g.ID {
 			return nil, fmt.Errorf("grant %s: tranche %d belongs to grant %s", g.ID, tc.Tranche.Index, tc.Tranche.GrantID)
@@ -128,9 +131,6 @@ func newAwardLedger(a *Award, pol Policy, asOf time.Time) (*awardLedger, error) 
 		}
 		t := trancheLedger{TrancheCost: tc, start: l.start, startN: dayNum(l.start), vestN: dayNum(tc.Tranche.VestDate)}
 		t.days = t.vestN - t.startN
-		if pol.Forfeitures == grants.Estimate {
-			t.rate = pol.PreVestingForfeitureRate
-		}
 		l.tr = append(l.tr, t)
 	}
 	l.last = a.Tranches[len(a.Tranches)-1].Tranche.VestDate
@@ -191,15 +191,16 @@ func (t *trancheLedger) vestedOn(d time.Time) bool { return t.vestN <= dayNum(d)
 
 func (t *trancheLedger) vestedN(d int) bool { return t.vestN <= d }
 
-// expected is the expected share of the tranche's live shares at the end of
-// day d that are still there at its vest date (see ExpectedShare): the rate
-// over the service days still to come, from day d+1 (or the service start)
-// to the day before vesting; 1 once vested or with no forfeiture rate.
-func (t *trancheLedger) expected(d int) float64 {
-	if t.vestedN(d) || t.rate == 0 {
+// expected is the expected share of the tranche's live shares at the end
+// of day d that are still there at its vest date (see the package notes
+// on forfeitures): rate over the service days still to come, from day d+1
+// (or the service start) to the day before vesting; 1 once vested or with
+// no forfeiture rate.
+func (t *trancheLedger) expected(d int, rate float64) float64 {
+	if t.vestedN(d) || rate == 0 {
 		return 1
 	}
-	return valuation.SurvivalToVest(t.rate, float64(t.vestN-max(t.startN, d+1))/365)
+	return valuation.SurvivalToVest(rate, float64(t.vestN-max(t.startN, d+1))/365)
 }
 
 // apply checks the events (in date order) against the grant and gives
@@ -257,10 +258,14 @@ type trancheCounts struct {
 
 func (t *trancheLedger) countsAt(d time.Time) trancheCounts { return t.countsN(dayNum(d)) }
 
-func (t *trancheLedger) countsN(d int) trancheCounts {
+func (t *trancheLedger) countsN(d int) trancheCounts { return t.countsWhere(d, nil) }
+
+// countsWhere counts the moves keep accepts, or with keep nil those on
+// or before day d.
+func (t *trancheLedger) countsWhere(d int, keep func(move) bool) trancheCounts {
 	c := trancheCounts{open: t.Tranche.Shares}
 	for _, m := range t.moves {
-		if m.dayN > d {
+		if keep == nil && m.dayN > d || keep != nil && !keep(m) {
 			continue
 		}
 		c.open -= m.shares
@@ -296,7 +301,7 @@ func serviceFraction(start, days, d int) float64 {
 // the policy through the end of day d, writing each tranche's cumulative
 // cost into out. Tranches vested on or before known count in full; the
 // others at their expected share.
-func (l *awardLedger) attribute(pol Policy, value []float64, d, known int, out []float64) {
+func (l *awardLedger) attribute(pol Policy, value []float64, d, known int, rate float64, out []float64) {
 	if d < l.grantN {
 		for i := range out {
 			out[i] = 0
@@ -304,7 +309,7 @@ func (l *awardLedger) attribute(pol Policy, value []float64, d, known int, out [
 		return
 	}
 	kd := min(d, known)
-	q := func(i int) float64 { return l.tr[i].expected(kd) }
+	q := func(i int) float64 { return l.tr[i].expected(kd, rate) }
 	if pol.Attribution == grants.Graded {
 		for i := range l.tr {
 			out[i] = value[i] * q(i) * serviceFraction(l.tr[i].startN, l.tr[i].days, d)
@@ -372,7 +377,24 @@ func (l *awardLedger) at(pol Policy, dt, knownt time.Time) snapshot {
 // atInto is at, writing the cumulative cost by tranche into comp; the
 // other buffers are the ledger's own, reused from call to call.
 func (l *awardLedger) atInto(pol Policy, dt, knownt time.Time, comp []float64) snapshot {
-	d, known := dayNum(dt), dayNum(knownt)
+	return l.atView(pol, view{d: dayNum(dt), known: dayNum(knownt), rate: l.rate}, comp)
+}
+
+// view is a way of looking at an award: attribution through the end of
+// day d, with the leavers known through day known, at the forfeiture
+// rate rate, counting the moves keep accepts (nil: those on or before
+// day d). The reconciliation to a prior close looks at an award in
+// several views that differ in one of these at a time.
+type view struct {
+	d, known int
+	rate     float64
+	keep     func(move) bool
+}
+
+// atView is the award's position in view v, the cumulative cost by
+// tranche written into comp.
+func (l *awardLedger) atView(pol Policy, v view, comp []float64) snapshot {
+	d, known := v.d, v.known
 	n := len(l.tr)
 	s := snapshot{comp: comp}
 	if len(l.bufValue) < n {
@@ -380,10 +402,10 @@ func (l *awardLedger) atInto(pol Policy, dt, knownt time.Time, comp []float64) s
 	}
 	value, counts := l.bufValue[:n], l.bufCounts[:n]
 	for i := range l.tr {
-		counts[i] = l.tr[i].countsN(d)
+		counts[i] = l.tr[i].countsWhere(d, v.keep)
 		value[i] = l.tr[i].FairValue * float64(counts[i].live(l.tr[i].Tranche.Shares))
 	}
-	l.attribute(pol, value, d, known, s.comp)
+	l.attribute(pol, value, d, known, v.rate, s.comp)
 	for i := range l.tr {
 		s.comp[i] += l.tr[i].FairValue * float64(counts[i].accelerated)
 	}
@@ -393,19 +415,61 @@ func (l *awardLedger) atInto(pol Policy, dt, knownt time.Time, comp []float64) s
 	for i := range l.tr {
 		value[i] = l.fairValueAt(i, d) * float64(counts[i].open)
 		for _, m := range l.tr[i].moves {
-			if m.kind == grants.Exercised && m.dayN <= d {
+			if m.kind == grants.Exercised && m.dayN <= d && (v.keep == nil || v.keep(m)) {
 				s.settled += l.fairValueAt(i, m.dayN) * float64(m.shares)
 			}
 		}
 	}
 	lia := l.bufLia[:n]
-	l.attribute(pol, value, d, known, lia)
-	for _, v := range lia {
-		s.liability += v
+	l.attribute(pol, value, d, known, v.rate, lia)
+	for _, x := range lia {
+		s.liability += x
 	}
 	return s
 }
 
+// costs is the award's expected total compensation cost and its
+// cumulative cost through day v.d, both in view v: the total is the
+// cost once every tranche has vested, with the same moves and the same
+// knowledge of leavers.
+func (l *awardLedger) costs(pol Policy, v view) (cost, cum float64) {
+	comp := make([]float64, len(l.tr))
+	cum = l.atView(pol, v, comp).compTotal()
+	if v.keep == nil {
+		d := v.d
+		v.keep = func(m move) bool { return m.dayN <= d }
+	}
+	v.d = max(dayNum(l.last)+1, v.d)
+	return l.atView(pol, v, comp).compTotal(), cum
+}
+
 func civilDay(t time.Time) time.Time {
 	return time.Date(t.Year(), t.Month(), t.Day(), 0, 0, 0, 0, time.UTC)
+}
+
+// outstanding is, at the end of day d, the award's options or warrants
+// outstanding, or its RSUs nonvested.
+func (l *awardLedger) outstanding(d int) int64 {
+	var n int64
+	for i := range l.tr {
+		t := &l.tr[i]
+		if l.in.Grant.Instrument == grants.RSU && t.vestedN(d) {
+			continue
+		}
+		n += t.countsN(d).open
+	}
+	return n
+}
+
+// eventsThrough are the award's events dated on or before end, in date
+// order.
+func (a *Award) eventsThrough(end time.Time) []grants.Event {
+	var out []grants.Event
+	for _, e := range a.Events {
+		if dayOnOrBefore(e.Date, end) {
+			out = append(out, e)
+		}
+	}
+	sort.SliceStable(out, func(i, j int) bool { return dayNum(out[i].Date) < dayNum(out[j].Date) })
+	return out
 }

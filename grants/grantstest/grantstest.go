@@ -1,13 +1,16 @@
-// Package grantstest holds invented schedules for the tests of the
-// packages that use grants (pricing, accounting, report, the command).
+// Package grantstest holds invented schedules, and a helper that values
+// them, for the tests of the packages above pricing (accounting, report,
+// the command).
 // They are demo data, not references: a test that checks a number against
 // one of them works the number out by hand or checks an identity.
 package grantstest
 
 import (
+	"testing"
 	"time"
 
 	"grantworth/grants"
+	"grantworth/grants/pricing"
 )
 
 // Day parses an ISO date; it panics on a bad one (test data only).
@@ -49,4 +52,19 @@ func Fernhollow() *grants.Schedule {
 		},
 		Events: []grants.Event{{GrantID: "G-001", Date: d("2026-04-15"), Kind: grants.Forfeited, Shares: 2100}, {GrantID: "G-001", Date: d("2026-05-01"), Kind: grants.Exercised, Shares: 1000}},
 	}
+}
+
+// Value values s on the lattice as the value command does, keeping the
+// locks of a prior close (nil for none); a problem fails tb.
+func Value(tb testing.TB, s *grants.Schedule, locks map[string]pricing.Lock) *pricing.Valuation {
+	tb.Helper()
+	ins, errs, _ := s.ValueInputs()
+	if len(errs) > 0 {
+		tb.Fatal(errs)
+	}
+	v, err := pricing.Value(s, ins, pricing.Options{Locks: locks})
+	if err != nil {
+		tb.Fatal(err)
+	}
+	return v
 }

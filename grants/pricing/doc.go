@@ -32,10 +32,33 @@
 //   - A Monte Carlo cross-check of up to MonteCarloSample tranches spread
 //     over instruments and grant months, each with its own seed, z against
 //     the lattice and a warning past MonteCarloZLimit.
+//   - The tranches whose automatic lattice value misses valuation.AutoTarget
+//     (valuation.Result.MissedTarget), listed in Valuation.MissedTarget with
+//     a warning each (the first MissedTargetWarnings): the lattice's value
+//     and estimate, and the Monte Carlo value of the same terms beside it
+//     for the first MissedTargetSample the simulation can value.
 //   - Revaluations of each liability-classified warrant at its grant date
 //     and at the past fiscal quarter ends (RemeasurementDates), which the
 //     accounting needs to show the change in fair value apart from
 //     compensation.
+//
+// # After a prior close
+//
+// Options.Locks are the measurements a prior close filed
+// (accounting.Prior.Locks). An equity-classified grant's grant-date fair
+// value is measured once (ASC 718-10-30-6, IFRS 2.16): a locked grant
+// keeps, tranche by tranche (matched by vest date), the values, error
+// estimates, expected terms, comparisons and zero rates filed, and the
+// inputs they were measured with (Status Locked). Today's measurement is
+// still made, so that a grant whose values today's inputs would move by
+// more than their error estimates is noted (GrantValue.Drift, with the
+// inputs that differ and their cells) and warned of. A liability-classified
+// warrant is remeasured at the valuation date (Status Remeasured) and
+// keeps its filed values at its grant date and past quarter ends. A grant
+// named in Options.Correct is measured again (Status Corrected): the
+// correction of an error, which the accounting books as a catch-up. A
+// locked grant whose tranches changed, or whose classification changed,
+// must be corrected: the error wraps ErrLock.
 //
 // The result depends on the schedule and the options only, never on the
 // number of cores. Progress comes back through the callbacks of Options;

@@ -26,6 +26,13 @@ const (
 	MonteCarloPaths  = 40_000
 	MonteCarloSeed   = 1
 	MonteCarloZLimit = 4.0
+	// A tranche whose automatic lattice value misses valuation.AutoTarget
+	// raises a warning (the first MissedTargetWarnings of them one each,
+	// then one for the rest), and the first MissedTargetSample of them
+	// that the simulation can value get its value beside the lattice's,
+	// the i-th (from 0) with seed MonteCarloSeed+MonteCarloSample+i.
+	MissedTargetWarnings = 10
+	MissedTargetSample   = 8
 	// MaxRemeasurements bounds the past quarter ends at which a
 	// liability-classified warrant is revalued (the most recent are kept).
 	MaxRemeasurements = 12
@@ -44,6 +51,13 @@ type Options struct {
 	// (done of total distinct option jobs); Sensitivity as the sensitivity
 	// cases finish.
 	Progress, Sensitivity func(done, total int)
+	// Locks are the measurements a prior close filed, by grant ID
+	// (accounting.Prior.Locks): an equity-classified grant keeps its
+	// tranche values, a liability-classified warrant its past
+	// revaluations. Correct names grants measured afresh instead, as the
+	// correction of an error.
+	Locks   map[string]Lock
+	Correct []string
 }
 
 // GrantValue is one grant's inputs and the value of each of its tranches.
@@ -60,6 +74,14 @@ type GrantValue struct {
 	// UndilutedValue is, for a diluted warrant, its first tranche on the
 	// automatic lattice without dilution (0 if that failed).
 	UndilutedValue float64
+	// Status says whether the values were measured now, kept from a
+	// prior close (Lock) or corrected; Lock is the prior close's
+	// measurement of a locked, corrected or remeasured grant.
+	Status Status
+	Lock   *Lock
+	// Drift is, for a locked grant that today's inputs would value
+	// differently, by how much and why; nil otherwise.
+	Drift *Drift
 	// RiskFreeRate is, per tranche, the continuous zero rate of the
 	// grant's curve at the tranche's years to expiry, and SimplifiedRate
 	// at the term of its closed-form comparison (BSM's ExpectedTermYears);
@@ -121,6 +143,19 @@ type MonteCarloCheck struct {
 	Z float64
 }
 
+// MissedTarget is a tranche whose automatic lattice value missed
+// valuation.AutoTarget: its result as valued (diluted for a warrant), and,
+// for the first MissedTargetSample that the simulation can value, the Monte
+// Carlo check of the same terms (undiluted for a warrant, as in the
+// cross-check); Check is nil otherwise.
+type MissedTarget struct {
+	GrantID      string
+	TrancheIndex int
+	Result       valuation.Result
+	Check        *MonteCarloCheck
+	Rational     bool // the terms allow rational exercise, which the simulation does not value
+}
+
 // Revaluation is a liability-classified warrant's value per tranche
 // measured at Date, or the error that stopped it.
 type Revaluation struct {
@@ -148,6 +183,10 @@ type Valuation struct {
 	MonteCarlo         []MonteCarloCheck
 	MonteCarloRational bool
 	MonteCarloErr      error
+	// MissedTarget are the tranches, in ledger order, whose automatic
+	// lattice value the lattice could not bring within
+	// valuation.AutoTarget (each also raised a warning).
+	MissedTarget []MissedTarget
 	// Revaluations are, per liability-classified warrant's grant ID, its
 	// values at the grant date and then at RemeasurementDates, up to the
 	// first that failed.
@@ -169,6 +208,25 @@ func RemeasurementDates(cal grants.FiscalCalendar, grantDate, end time.Time) []t
 		ends = ends[len(ends)-MaxRemeasurements:]
 	}
 	return ends
+}
+
+// revaluationDates are the dates a liability-classified warrant is
+// revalued at before end: its grant date and the RemeasurementDates of
+// calendar cal, and the valuation date of the prior close it is locked to
+// (a close measured it then) when that is not a quarter end.
+func revaluationDates(cal grants.FiscalCalendar, gv *GrantValue, end time.Time) []time.Time {
+	g := gv.Inputs.Grant
+	dates := append([]time.Time{g.GrantDate}, RemeasurementDates(cal, g.GrantDate, end)...)
+	if lk := gv.Lock; lk != nil && gv.Status == Remeasured && lk.Close.Before(end) && lk.Close.After(g.GrantDate) {
+		for _, d := range dates {
+			if valuation.Days(d, lk.Close) == 0 {
+				return dates
+			}
+		}
+		dates = append(dates, lk.Close)
+		sort.Slice(dates, func(i, j int) bool { return dates[i].Before(dates[j]) })
+	}
+	return dates
 }
 
 // Value values the grants ins (from ValueInputs): options as lattice jobs
@@ -194,7 +252,14 @@ func Value(s *grants.Schedule, ins []grants.Inputs, opts Options) (*Valuation, e
 		if err := p.compare(gv); err != nil {
 			return nil, err
 		}
-		v.FairValueTotal += gv.FairValueTotal()
+	}
+	warns, err := lock(v, opts)
+	if err != nil {
+		return nil, err
+	}
+	v.Warnings = append(v.Warnings, warns...)
+	for i := range v.Grants {
+		v.FairValueTotal += v.Grants[i].FairValueTotal()
 	}
 	if s.Company.SharesOutstanding <= 0 {
 		for _, gv := range v.Grants {
@@ -213,15 +278,25 @@ func Value(s *grants.Schedule, ins []grants.Inputs, opts Options) (*Valuation, e
 	if err := p.monteCarlo(v); err != nil {
 		return nil, err
 	}
+	if err := p.missedTarget(v); err != nil {
+		return nil, err
+	}
 	v.Revaluations = map[string][]Revaluation{}
 	_, end := s.Period()
-	for _, gv := range v.Grants {
+	for i := range v.Grants {
+		gv := &v.Grants[i]
 		g := gv.Inputs.Grant
-		if g.Instrument != grants.Warrant || g.Classification != grants.Liability {
+		if !isLiability(g) {
 			continue
 		}
 		var rs []Revaluation
-		for _, at := range append([]time.Time{g.GrantDate}, RemeasurementDates(s.Company.Fiscal, g.GrantDate, end)...) {
+		for _, at := range revaluationDates(s.Company.Fiscal, gv, end) {
+			if gv.Status == Remeasured && gv.Lock != nil {
+				if r, ok := gv.Lock.revaluation(at); ok && len(r.Values) == len(gv.Inputs.Tranches) {
+					rs = append(rs, r)
+					continue
+				}
+			}
 			vals, err := p.revalue(g, at)
 			rs = append(rs, Revaluation{Date: at, Values: vals, Err: err})
 			if err != nil {
@@ -700,26 +775,8 @@ func (p *pricer) monteCarlo(v *Valuation) error {
 		sem <- struct{}{}
 		go func() {
 			defer func() { <-sem; wg.Done() }()
-			gv := &v.Grants[pk.i]
-			in := gv.Inputs
-			t := mcTerms(gv, pk.k)
 			o := &outs[j]
-			auto, err := valuation.Lattice(t, in.Market, valuation.LatticeOptions{})
-			if err != nil {
-				o.err = fmt.Errorf("Monte Carlo check, grant %s tranche %d: lattice: %w", in.Grant.ID, in.Tranches[pk.k].Index, err)
-				return
-			}
-			seed := uint64(MonteCarloSeed + j)
-			mc, err := valuation.MonteCarlo(t, in.Market, valuation.MCOptions{Paths: MonteCarloPaths, Seed: seed})
-			if err != nil {
-				o.mcErr = fmt.Errorf("grant %s tranche %d: %w", in.Grant.ID, in.Tranches[pk.k].Index, err)
-				return
-			}
-			o.c = MonteCarloCheck{GrantID: in.Grant.ID, TrancheIndex: in.Tranches[pk.k].Index, Instrument: in.Grant.Instrument,
-				Lattice: auto.Value, LatticeError: auto.ErrorEstimate, Result: mc, Seed: seed}
-			if d := math.Hypot(mc.ErrorEstimate, auto.ErrorEstimate); d > 0 {
-				o.c.Z = (mc.Value - auto.Value) / d
-			}
+			o.c, o.err, o.mcErr = check(&v.Grants[pk.i], pk.k, uint64(MonteCarloSeed+j))
 		}()
 	}
 	wg.Wait()
@@ -740,6 +797,118 @@ func (p *pricer) monteCarlo(v *Valuation) error {
 		}
 	}
 	return nil
+}
+
+// check simulates tranche k of gv with the given seed beside the automatic
+// lattice on the same terms (mcTerms). err is the lattice's failure (the
+// run fails), mcErr the simulation's refusal (the tranche is left out).
+func check(gv *GrantValue, k int, seed uint64) (c MonteCarloCheck, err, mcErr error) {
+	in := gv.Inputs
+	t := mcTerms(gv, k)
+	auto, err := valuation.Lattice(t, in.Market, valuation.LatticeOptions{})
+	if err != nil {
+		return c, fmt.Errorf("Monte Carlo check, grant %s tranche %d: lattice: %w", in.Grant.ID, in.Tranches[k].Index, err), nil
+	}
+	mc, err := valuation.MonteCarlo(t, in.Market, valuation.MCOptions{Paths: MonteCarloPaths, Seed: seed})
+	if err != nil {
+		return c, nil, fmt.Errorf("grant %s tranche %d: %w", in.Grant.ID, in.Tranches[k].Index, err)
+	}
+	c = MonteCarloCheck{GrantID: in.Grant.ID, TrancheIndex: in.Tranches[k].Index, Instrument: in.Grant.Instrument,
+		Lattice: auto.Value, LatticeError: auto.ErrorEstimate, Result: mc, Seed: seed}
+	if d := math.Hypot(mc.ErrorEstimate, auto.ErrorEstimate); d > 0 {
+		c.Z = (mc.Value - auto.Value) / d
+	}
+	return c, nil, nil
+}
+
+// missedTarget lists the option and warrant tranches whose automatic
+// lattice value missed valuation.AutoTarget, simulates the first
+// MissedTargetSample of them that the simulation can value (on all cores,
+// each its own seed), and warns of each.
+func (p *pricer) missedTarget(v *Valuation) error {
+	var picks []mcPick
+	for i := range v.Grants {
+		gv := &v.Grants[i]
+		if g := gv.Inputs.Grant; g.Instrument != grants.Option && g.Instrument != grants.Warrant {
+			continue
+		}
+		for k, r := range gv.Results {
+			if r.MissedTarget {
+				picks = append(picks, mcPick{i, k})
+			}
+		}
+	}
+	v.MissedTarget = make([]MissedTarget, len(picks))
+	var wg sync.WaitGroup
+	sem := make(chan struct{}, max(1, runtime.GOMAXPROCS(0)))
+	errs := make([]error, len(picks))
+	sim := 0
+	for j, pk := range picks {
+		gv := &v.Grants[pk.i]
+		rational := !simulable(mcTerms(gv, pk.k))
+		v.MissedTarget[j] = MissedTarget{GrantID: gv.Inputs.Grant.ID, TrancheIndex: gv.Inputs.Tranches[pk.k].Index, Result: gv.Results[pk.k], Rational: rational}
+		if sim == MissedTargetSample || rational {
+			continue
+		}
+		seed := uint64(MonteCarloSeed + MonteCarloSample + sim)
+		sim++
+		wg.Add(1)
+		sem <- struct{}{}
+		go func() {
+			defer func() { <-sem; wg.Done() }()
+			c, err, mcErr := check(gv, pk.k, seed)
+			if err == nil && mcErr == nil {
+				v.MissedTarget[j].Check = &c
+			}
+			errs[j] = err
+		}()
+	}
+	wg.Wait()
+	for _, err := range errs {
+		if err != nil {
+			return err
+		}
+	}
+	v.Warnings = append(v.Warnings, missedWarnings(v.MissedTarget)...)
+	return nil
+}
+
+// missedWarnings are the warnings of the tranches short of the accuracy
+// target: one each for the first MissedTargetWarnings, one for the rest.
+func missedWarnings(ms []MissedTarget) []string {
+	var ws []string
+	for j, m := range ms {
+		if j == MissedTargetWarnings {
+			return append(ws, fmt.Sprintf("%d more tranches are valued short of the lattice's %g%% accuracy target (the first %d are named above)",
+				len(ms)-j, 100*valuation.AutoTarget, MissedTargetWarnings))
+		}
+		ws = append(ws, missedWarning(m))
+	}
+	return ws
+}
+
+// missedWarning is the warning of a tranche short of the accuracy target.
+func missedWarning(m MissedTarget) string {
+	r := m.Result
+	w := fmt.Sprintf("grant %s tranche %d: the lattice gives %.6g ± %.2g per share (%.2g%%), short of its %g%% accuracy target at the finest ladder it allows",
+		m.GrantID, m.TrancheIndex, r.Value, r.ErrorEstimate, 100*r.ErrorEstimate/math.Abs(r.Value), 100*valuation.AutoTarget)
+	switch c := m.Check; {
+	case c != nil:
+		return w + fmt.Sprintf("; Monte Carlo gives %.6g ± %.2g for the same terms%s (lattice %.6g, seed %d)",
+			c.Result.Value, c.Result.ErrorEstimate, undiluted(c.Instrument), c.Lattice, c.Seed)
+	case m.Rational:
+		return w + "; Monte Carlo does not value rational exercise, so a reviewer should check this tranche another way"
+	default:
+		return w + fmt.Sprintf("; it is beyond the first %d such tranches simulated, so a reviewer should check it another way", MissedTargetSample)
+	}
+}
+
+// undiluted says that a warrant's check is of the undiluted call.
+func undiluted(inst grants.Instrument) string {
+	if inst == grants.Warrant {
+		return " undiluted"
+	}
+	return ""
 }
 
 // mcWarning is the warning a check raises when |z| exceeds

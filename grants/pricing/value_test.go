@@ -51,7 +51,7 @@ func TestRemeasurementDates(t *testing.T) {
 	}
 	for _, c := range cases {
 		var got []string
-		for _, q := range RemeasurementDates(grants.FiscalCalendar{}, day(c.grant), day(c.end)) {
+		for _, q := range RemeasurementDates(grants.FiscalCalendar{}, ymd(c.grant), ymd(c.end)) {
 			got = append(got, q.Format(time.DateOnly))
 		}
 		if strings.Join(got, " ") != strings.Join(c.want, " ") {
@@ -61,7 +61,7 @@ func TestRemeasurementDates(t *testing.T) {
 	// A year ending in January: its quarter ends are 30 April, 31 July,
 	// 31 October and 31 January.
 	var got []string
-	for _, q := range RemeasurementDates(grants.FiscalCalendar{YearEnd: time.January}, day("2025-02-10"), day("2025-10-31")) {
+	for _, q := range RemeasurementDates(grants.FiscalCalendar{YearEnd: time.January}, ymd("2025-02-10"), ymd("2025-10-31")) {
 		got = append(got, q.Format(time.DateOnly))
 	}
 	if strings.Join(got, " ") != "2025-04-30 2025-07-31" {
@@ -186,7 +186,7 @@ func TestValueSample(t *testing.T) {
 		if len(rs) == 0 || !rs[0].Date.Equal(g.GrantDate) {
 			t.Fatalf("grant %s revaluations %+v", g.ID, rs)
 		}
-		want := append([]time.Time{g.GrantDate}, RemeasurementDates(grants.FiscalCalendar{}, g.GrantDate, day("2026-09-30"))...)
+		want := append([]time.Time{g.GrantDate}, RemeasurementDates(grants.FiscalCalendar{}, g.GrantDate, ymd("2026-09-30"))...)
 		if len(rs) != len(want) {
 			t.Errorf("grant %s: %d revaluations, want %d", g.ID, len(rs), len(want))
 		}
@@ -312,7 +312,71 @@ func TestMonteCarloWarning(t *testing.T) {
 	}
 }
 
-func day(s string) time.Time {
+// Tranches whose automatic lattice value misses valuation.AutoTarget are
+// listed in ledger order and warned of: an option's with the Monte Carlo
+// value of the same terms beside it, a rational warrant's saying the
+// simulation cannot value it; past MissedTargetWarnings one warning counts
+// the rest. The sample itself has none.
+func TestMissedTarget(t *testing.T) {
+	v := valuedSample(t)
+	if len(v.MissedTarget) != 0 {
+		t.Errorf("sample: %d tranches missed the target: %+v", len(v.MissedTarget), v.MissedTarget)
+	}
+	for _, w := range v.Warnings {
+		if strings.Contains(w, "accuracy target") {
+			t.Errorf("sample: unexpected warning %q", w)
+		}
+	}
+	gs := append([]GrantValue(nil), v.Grants...)
+	opt, war := -1, -1
+	for i, gv := range gs {
+		switch g := gv.Inputs.Grant; {
+		case opt < 0 && g.Instrument == grants.Option:
+			opt = i
+		case war < 0 && g.Instrument == grants.Warrant && !simulable(mcTerms(&gs[i], 0)):
+			war = i
+		}
+	}
+	if opt < 0 || war < 0 {
+		t.Fatalf("the sample has no option (%d) or no rational warrant (%d)", opt, war)
+	}
+	for _, i := range []int{opt, war} {
+		gs[i].Results = append([]valuation.Result(nil), gs[i].Results...)
+		gs[i].Results[0].MissedTarget = true
+	}
+	got := &Valuation{Grants: gs}
+	if err := (&pricer{}).missedTarget(got); err != nil {
+		t.Fatal(err)
+	}
+	if len(got.MissedTarget) != 2 || len(got.Warnings) != 2 {
+		t.Fatalf("%d listed, %d warnings, want 2 and 2: %+v %q", len(got.MissedTarget), len(got.Warnings), got.MissedTarget, got.Warnings)
+	}
+	o, w := got.MissedTarget[0], got.MissedTarget[1] // ledger order
+	if war < opt {
+		o, w = w, o
+	}
+	if o.GrantID != gs[opt].Inputs.Grant.ID || o.Check == nil || o.Rational || o.Check.Result.Steps != MonteCarloPaths || o.Check.Seed != MonteCarloSeed+MonteCarloSample {
+		t.Errorf("option: %+v, check %+v", o, o.Check)
+	}
+	if w.GrantID != gs[war].Inputs.Grant.ID || w.Check != nil || !w.Rational {
+		t.Errorf("rational warrant: %+v", w)
+	}
+	if ws := got.Warnings; !strings.HasPrefix(ws[0], "grant "+got.MissedTarget[0].GrantID+" tranche 1: the lattice gives") ||
+		!strings.Contains(missedWarning(o), "Monte Carlo gives") || !strings.Contains(missedWarning(w), "does not value rational exercise") {
+		t.Errorf("warnings %q", ws)
+	}
+	// Many: one warning each up to the limit, then one for the rest.
+	many := make([]MissedTarget, MissedTargetWarnings+3)
+	for j := range many {
+		many[j] = w
+	}
+	ws := missedWarnings(many)
+	if len(ws) != MissedTargetWarnings+1 || !strings.HasPrefix(ws[MissedTargetWarnings], "3 more tranches") {
+		t.Errorf("%d warnings, last %q", len(ws), ws[len(ws)-1])
+	}
+}
+
+func ymd(s string) time.Time {
 	t, err := time.Parse(time.DateOnly, s)
 	if err != nil {
 		panic(err)

@@ -1,7 +1,8 @@
 // Command gen writes grantworth's demo schedule: Tarnwick Labs, Inc., an
 // invented company, with about forty grants from late 2023 to its valuation
 // date of 2026-09-30, as sample/tarnwick.xlsx and as the CSV folder
-// sample/tarnwick-csv/. Everything is made up; the random
+// sample/tarnwick-csv/; and the grant designs it is weighing for its next
+// hire, as sample/designs.xlsx (see Designs). Everything is made up; the random
 // choices come from a fixed seed, so the files are the same on every run.
 //
 // Run it from the repository root:
@@ -25,6 +26,17 @@
 //   - six valuations of the common stock on Share Prices;
 //   - a rate curve at every quarter end, zero rates until 2026-03-31 and
 //     government par yields (par-semiannual) from 2026-06-30 on.
+//
+// It also writes sample/quarters/: the same schedule as the finance team
+// held it at four quarter ends, 2025-12-31 to 2026-09-30, one CSV folder
+// each, for closing quarter after quarter with value --prior. Each holds
+// what was known at its date (grants, events, share prices and curves
+// dated on or before it). The last adds two things that happen in real
+// closes: the Q3 peer study's volatility of 60%, as an Assumptions row in
+// force from 2026-07-01, and the departure of holder E011 (grant TW-012)
+// on 2026-05-14, in a quarter already closed, which HR reported only in
+// August (its unvested shares forfeited then, the vested ones expiring 90
+// days later).
 package main
 
 import (
@@ -219,6 +231,74 @@ func Schedule() *grants.Schedule {
 	return s
 }
 
+// QuarterEnds are the closes of sample/quarters.
+var QuarterEnds = []string{"2025-12-31", "2026-03-31", "2026-06-30", "2026-09-30"}
+
+// AsKnownAt is s as it was known at the quarter end d: its grants,
+// events, share prices and curves dated on or before d, valued at d.
+func AsKnownAt(s *grants.Schedule, d time.Time) *grants.Schedule {
+	q := *s
+	q.Company.ValuationDate, q.Company.PeriodStart = d, s.Company.DefaultPeriodStart(d)
+	q.Grants, q.Vesting, q.Events, q.SharePrices, q.Rates, q.Transfers = nil, nil, nil, nil, nil, nil
+	kept := map[string]bool{}
+	for _, g := range s.Grants {
+		if !g.GrantDate.After(d) {
+			q.Grants = append(q.Grants, g)
+			kept[g.ID] = true
+		}
+	}
+	for _, v := range s.Vesting {
+		if kept[v.GrantID] {
+			q.Vesting = append(q.Vesting, v)
+		}
+	}
+	for _, e := range s.Events {
+		if !e.Date.After(d) {
+			q.Events = append(q.Events, e)
+		}
+	}
+	for _, t := range s.Transfers {
+		if kept[t.GrantID] && !t.Date.After(d) {
+			q.Transfers = append(q.Transfers, t)
+		}
+	}
+	for _, p := range s.SharePrices {
+		if !p.Date.After(d) {
+			q.SharePrices = append(q.SharePrices, p)
+		}
+	}
+	for _, r := range s.Rates {
+		if !r.CurveDate.After(d) {
+			q.Rates = append(q.Rates, r)
+		}
+	}
+	return &q
+}
+
+// Quarters are the schedules of sample/quarters, by quarter end.
+func Quarters() map[string]*grants.Schedule {
+	out := map[string]*grants.Schedule{}
+	for _, end := range QuarterEnds {
+		q := AsKnownAt(Schedule(), day(end))
+		q.Assumptions.Sources["volatility"] = "median of 5 peers' daily log-return volatility over 6 years to 2025-09-30 (grantworth vol, guideline peers)"
+		out[end] = q
+	}
+	q3 := out["2026-09-30"]
+	q3.Assumptions.Dated = []grants.AssumptionRow{{Key: "volatility", Effective: day("2026-07-01"), Value: 0.60,
+		Source: "Q3 2026 peer study: median of 5 peers' daily log-return volatility over 6.3 years to 2026-06-30"}}
+	for _, g := range q3.Grants {
+		if g.ID != "TW-012" {
+			continue
+		}
+		left := day("2026-05-14")
+		vested := grants.VestedAt(q3.Tranches(g), left)
+		q3.Events = append(q3.Events,
+			grants.Event{GrantID: g.ID, Date: left, Kind: grants.Forfeited, Shares: g.Shares - vested},
+			grants.Event{GrantID: g.ID, Date: left.AddDate(0, 0, 90), Kind: grants.Expired, Shares: vested})
+	}
+	return out
+}
+
 func main() {
 	if err := run("sample"); err != nil {
 		fmt.Fprintln(os.Stderr, "gen:", err)
@@ -242,5 +322,18 @@ func run(dir string) error {
 	if err := grants.WriteCSVDir(csvDir, s); err != nil {
 		return err
 	}
-	return nil
+	for end, q := range Quarters() {
+		d := filepath.Join(dir, "quarters", end)
+		if err := os.MkdirAll(d, 0o755); err != nil {
+			return err
+		}
+		if err := grants.WriteCSVDir(d, q); err != nil {
+			return err
+		}
+	}
+	buf.Reset()
+	if err := grants.WriteDesignsXLSX(&buf, Designs()); err != nil {
+		return err
+	}
+	return os.WriteFile(filepath.Join(dir, "designs.xlsx"), buf.Bytes(), 0o644)
 }

@@ -1,0 +1,414 @@
+package accounting
+
+import (
+	"fmt"
+	"math"
+	"strings"
+	"time"
+
+	"grantworth/grants"
+	"grantworth/grants/pricing"
+)
+
+// Cause is why a catch-up is booked: what changed the history of closed
+// periods.
+type Cause string
+
+// The causes of catch-ups, in the order one is chosen as a grant's main
+// cause when it has several.
+const (
+	CauseCorrection     Cause = "fair_value_corrected"        // the grant-date value was measured again (a correction of an error)
+	CauseLateGrant      Cause = "late_grant"                  // a grant dated in a closed period, first recorded now
+	CauseLateEvent      Cause = "late_event"                  // an event dated in a closed period, first recorded now
+	CauseEventRemoved   Cause = "event_removed"               // an event the prior close applied is no longer recorded
+	CauseVesting        Cause = "vesting_changed"             // the grant's tranches changed
+	CauseTerms          Cause = "terms_changed"               // the service period changed (grant date, vest start)
+	CauseRestated       Cause = "restated"                    // none of the above found, yet the history differs
+	CauseEstimateChange Cause = "forfeiture_estimate_changed" // the pre-vesting forfeiture rate changed (a change in estimate)
+)
+
+// CatchUp is compensation booked in the open period for a closed one
+// (ASC 250-10-45-17 for a change in estimate, ASC 718-10-35-3 for a
+// forfeiture estimate; a closed period is never restated). Amount is
+// what it adds to the period's expense (negative for a reversal).
+type CatchUp struct {
+	GrantID   string
+	Cause     Cause
+	Detail    string // every cause found, in words, with cells
+	Amount    float64
+	Liability bool // booked against the warrant liability rather than equity
+}
+
+// Reconciliation walks from the prior close to this one: the
+// unrecognised compensation cost, the period's expense, the warrant
+// liability and the awards outstanding; and lists the catch-ups.
+type Reconciliation struct {
+	Prior        *Prior
+	Unrecognized Walk
+	Expense      Walk
+	Liability    *Walk // nil without a liability-classified warrant
+	Outstanding  []CountWalk
+	CatchUps     []CatchUp
+	// Locked, Corrected and Measured count the grants whose grant-date
+	// values were kept from the prior close, measured again as a
+	// correction, and measured for the first time.
+	Locked, Corrected, Measured int
+}
+
+// Check verifies every walk of the reconciliation.
+func (r *Reconciliation) Check() error {
+	for _, w := range []Walk{r.Unrecognized, r.Expense} {
+		if err := w.Check(); err != nil {
+			return err
+		}
+	}
+	if r.Liability != nil {
+		if err := r.Liability.Check(); err != nil {
+			return err
+		}
+	}
+	for _, c := range r.Outstanding {
+		if err := c.Check(); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+// grantStates are one award's cost and cumulative cost in the views the
+// reconciliation walks through (see the package notes).
+type grantStates struct {
+	old                                  bool // granted on or before the prior close
+	costA0, costA, costB1, costB2, costC float64
+	cumA0, cumA, cumB1, cumB2            float64
+	bookedCost, bookedCum                float64
+	liabilityOpen, settledOpen, fvOpen   float64
+	prior                                *PriorGrant
+	ledger                               *awardLedger
+}
+
+// states looks at ledger l in the views of the reconciliation to the
+// prior close pr: A′ restated at the prior close at its forfeiture rate,
+// A at today's, B1 with the period's forfeitures, B2 with all the period's
+// events, C knowing the leavers through the period end.
+func (p *period) states(l *awardLedger, pr *Prior) grantStates {
+	P, N := dayNum(pr.ValuationDate), dayNum(p.end)
+	st := grantStates{ledger: l, old: l.grantN <= P}
+	b := P
+	if !st.old {
+		b = l.grantN - 1
+	}
+	upTo := func(x int) func(move) bool { return func(m move) bool { return m.dayN <= x } }
+	prev, _ := pr.Policy.normalized()
+	ratePrior := 0.0
+	if p.pol.Forfeitures == grants.Estimate {
+		ratePrior = prev.PreVestingForfeitureRate
+	}
+	st.costA, st.cumA = l.costs(p.pol, view{d: b, known: b, rate: l.rate, keep: upTo(b)})
+	st.costA0, st.cumA0 = st.costA, st.cumA
+	if st.old {
+		st.costA0, st.cumA0 = l.costs(p.pol, view{d: b, known: b, rate: ratePrior, keep: upTo(b)})
+	}
+	forfeits := func(m move) bool { return m.dayN <= b || m.dayN <= N && m.kind == grants.Forfeited }
+	st.costB1, st.cumB1 = l.costs(p.pol, view{d: b, known: b, rate: l.rate, keep: forfeits})
+	st.costB2, st.cumB2 = l.costs(p.pol, view{d: b, known: b, rate: l.rate, keep: upTo(N)})
+	st.costC, _ = l.costs(p.pol, view{d: b, known: N, rate: l.rate, keep: upTo(N)})
+	if pg, ok := pr.grant(l.in.Grant.ID); ok {
+		st.prior = pg
+		st.bookedCost, st.bookedCum = pg.Cost, pg.Cumulative
+		st.liabilityOpen, st.settledOpen = pg.LiabilityEnd, pg.Reclassified
+		st.fvOpen = pg.LiabilityEnd + pg.Reclassified - pg.Cumulative
+	}
+	return st
+}
+
+// reconcile walks from the prior close to rep and d, the period's
+// attribution and disclosures; sts are the states of p's ledgers in
+// order; s and v give the cells and corrections that catch-ups name.
+func (p *period) reconcile(pr *Prior, sts []grantStates, rep *ExpenseReport, d *Disclosure, s *grants.Schedule, v *pricing.Valuation) (*Reconciliation, error) {
+	r := &Reconciliation{Prior: pr}
+	var K, Q, Nw, F float64       // cost moves
+	var Kc, Qc, S, Fc, Cc float64 // cumulative moves
+	var hasLiability bool
+	var lOpen, lComp, lFV, lReclass, lEnd float64
+	for i, st := range sts {
+		ge := &rep.Grants[i]
+		l := st.ledger
+		if st.old {
+			K += st.costA0 - st.bookedCost
+			Q += st.costA - st.costA0
+			Kc += st.cumA0 - st.bookedCum
+			Qc += st.cumA - st.cumA0
+		} else {
+			Nw += st.costA
+		}
+		F += st.costB2 - st.costA
+		Q += st.costC - st.costB2
+		Fc += st.cumB1 - st.cumA
+		Cc += st.cumB2 - st.cumB1
+		S += ge.Cumulative - st.cumB2
+		if l.liability || st.prior != nil && st.prior.Liability {
+			hasLiability = true
+			lOpen += st.liabilityOpen
+			lComp += ge.Period
+			lFV += ge.FairValueChange
+			lReclass -= ge.ReclassifiedEquity
+			lEnd += ge.LiabilityEnd
+		}
+		if st.old {
+			r.CatchUps = append(r.CatchUps, catchUps(st, l, pr, s, v)...)
+		}
+	}
+	asOf := func(t time.Time) string { return t.Format(time.DateOnly) }
+	var err error
+	r.Unrecognized, err = newWalk(&WalkLine{Key: "opening", Label: "Unrecognized cost at the prior close of " + asOf(pr.ValuationDate), Exact: pr.Unrecognized},
+		[]WalkLine{
+			{Key: "new_grants", Label: "Grants of the period, expected cost at grant", Exact: Nw},
+			{Key: "expense", Label: "Compensation expense of the period", Exact: -rep.Period},
+			{Key: "forfeitures_and_cancellations", Label: "Forfeitures (expected cost released) and cancellations (estimate settled in full)", Exact: F},
+			{Key: "forfeiture_estimate", Label: "Changes in the forfeiture estimate", Exact: Q},
+			{Key: "catch_ups", Label: "Catch-ups for closed periods (cost)", Exact: K},
+		}, map[string]bool{"expense": true},
+		WalkLine{Key: "closing", Label: "Unrecognized cost at this close, " + asOf(p.end), Exact: rep.Unrecognized})
+	if err != nil {
+		return nil, err
+	}
+	r.Expense, err = newWalk(nil,
+		[]WalkLine{
+			{Key: "service", Label: "Service rendered in the period", Exact: S},
+			{Key: "forfeitures", Label: "Forfeitures in the period (cost reversed)", Exact: Fc},
+			{Key: "cancellations", Label: "Cancellations in the period (unrecognized cost recognized at once)", Exact: Cc},
+			{Key: "forfeiture_estimate", Label: "Change in the forfeiture rate, on cost recognized before the period", Exact: Qc},
+			{Key: "catch_ups", Label: "Catch-ups for closed periods", Exact: Kc},
+		}, nil,
+		WalkLine{Key: "closing", Label: "Compensation expense of the period", Exact: rep.Period})
+	if err != nil {
+		return nil, err
+	}
+	if hasLiability {
+		w, err := newWalk(&WalkLine{Key: "opening", Label: "Warrant liability at the prior close of " + asOf(pr.ValuationDate), Exact: lOpen},
+			[]WalkLine{
+				{Key: "compensation", Label: "Compensation expense (liability-classified warrants)", Exact: lComp},
+				{Key: "fair_value_change", Label: "Change in fair value (apart from compensation)", Exact: lFV},
+				{Key: "reclassified", Label: "Exercised warrants reclassified to equity", Exact: lReclass},
+			}, nil,
+			WalkLine{Key: "closing", Label: "Warrant liability at this close, " + asOf(p.end), Exact: lEnd})
+		if err != nil {
+			return nil, err
+		}
+		r.Liability = &w
+	}
+	r.Outstanding = countWalks(pr, sts, d)
+	for _, gv := range v.Grants {
+		switch gv.Status {
+		case pricing.Locked:
+			r.Locked++
+		case pricing.Corrected:
+			r.Corrected++
+		case pricing.Measured:
+			r.Measured++
+		}
+	}
+	return r, r.Check()
+}
+
+// countWalks rolls the number of awards of each instrument from the
+// counts the prior close filed, through the restatement of closed
+// periods, to the roll-forwards of the disclosures.
+func countWalks(pr *Prior, sts []grantStates, d *Disclosure) []CountWalk {
+	opening := map[grants.Instrument]int64{}
+	for _, st := range sts {
+		if st.prior != nil {
+			opening[st.ledger.in.Grant.Instrument] += st.prior.Outstanding
+		}
+	}
+	var out []CountWalk
+	for _, rf := range []RollForward{d.Options, d.Warrants, d.RSUs} {
+		open := opening[rf.Instrument]
+		if open == 0 && rf.Start.Shares == 0 && rf.Granted.Shares == 0 && rf.End.Shares == 0 {
+			continue
+		}
+		what := "outstanding"
+		if rf.Nonvested {
+			what = "nonvested"
+		}
+		lines := []CountLine{
+			{"opening", fmt.Sprintf("%s at the prior close of %s", capital(what), pr.ValuationDate.Format(time.DateOnly)), open},
+			{"catch_ups", "Catch-ups for closed periods (events or grants recorded late)", rf.Start.Shares - open},
+			{"granted", "Granted", rf.Granted.Shares},
+		}
+		if rf.Nonvested {
+			lines = append(lines, CountLine{"vested", "Vested", -rf.Vested.Shares})
+		} else {
+			lines = append(lines, CountLine{"exercised", "Exercised", -rf.Exercised.Shares})
+		}
+		lines = append(lines, CountLine{"forfeited", "Forfeited", -rf.Forfeited.Shares}, CountLine{"cancelled", "Cancelled", -rf.Cancelled.Shares})
+		if !rf.Nonvested {
+			lines = append(lines, CountLine{"expired", "Expired", -rf.Expired.Shares})
+		}
+		lines = append(lines, CountLine{"closing", capital(what) + " at this close", rf.End.Shares})
+		out = append(out, CountWalk{Instrument: rf.Instrument, Nonvested: rf.Nonvested, Lines: lines})
+	}
+	return out
+}
+
+func capital(s string) string { return strings.ToUpper(s[:1]) + s[1:] }
+
+// catchUps are the catch-ups of one grant granted by the prior close:
+// the compensation its restated history adds for the closed periods,
+// with every cause found, and apart the effect of a changed forfeiture
+// rate on the cost it had recognised.
+func catchUps(st grantStates, l *awardLedger, pr *Prior, s *grants.Schedule, v *pricing.Valuation) []CatchUp {
+	g := l.in.Grant
+	var out []CatchUp
+	causes, details := diagnose(st, l, pr, s, v)
+	if amt := st.cumA0 - st.bookedCum; math.Abs(amt) >= minEntry || len(causes) > 0 {
+		if len(causes) == 0 {
+			causes = []Cause{CauseRestated}
+			details = []string{"the cost recomputed now for the closed periods differs from what the prior close booked (another grantworth version, or an input it does not compare)"}
+		}
+		out = append(out, CatchUp{GrantID: g.ID, Cause: causes[0], Detail: strings.Join(details, "; "), Amount: amt, Liability: l.liability})
+	}
+	if amt := st.cumA - st.cumA0; math.Abs(amt) >= minEntry {
+		a := s.InForce()
+		prev, _ := pr.Policy.normalized()
+		out = append(out, CatchUp{GrantID: g.ID, Cause: CauseEstimateChange, Amount: amt, Liability: l.liability,
+			Detail: fmt.Sprintf("the pre-vesting forfeiture rate is %g now (%s), %g at the prior close: the cost recognised to it is trued up", a.PreVestingForfeitureRate, a.Refs["pre_vesting_forfeiture_rate"], prev.PreVestingForfeitureRate)})
+	}
+	return out
+}
+
+// diagnose finds why a grant's history differs from what the prior close
+// filed, the causes in the order of the Cause constants.
+func diagnose(st grantStates, l *awardLedger, pr *Prior, s *grants.Schedule, v *pricing.Valuation) ([]Cause, []string) {
+	g := l.in.Grant
+	found := map[Cause][]string{}
+	add := func(c Cause, format string, args ...any) { found[c] = append(found[c], fmt.Sprintf(format, args...)) }
+	P := dayNum(pr.ValuationDate)
+	for _, gv := range v.Grants {
+		if gv.Inputs.Grant.ID == g.ID && gv.Status == pricing.Corrected {
+			add(CauseCorrection, "the grant-date fair value is measured again as a correction: %.4f a share then, %.4f now (weighted by shares)", lockedAverage(gv, l), valuedAverage(l))
+		}
+	}
+	pg := st.prior
+	if pg == nil {
+		add(CauseLateGrant, "granted on %s, in a closed period, and first valued now", g.GrantDate.Format(time.DateOnly))
+	} else {
+		key := func(e grants.Event) string {
+			return fmt.Sprintf("%d|%s|%d", dayNum(e.Date), e.Kind, e.Shares)
+		}
+		filed := map[string]int{}
+		for _, e := range pg.Events {
+			filed[key(e)]++
+		}
+		for _, e := range l.in.Events {
+			if dayNum(e.Date) > P {
+				continue
+			}
+			if filed[key(e)] > 0 {
+				filed[key(e)]--
+				continue
+			}
+			add(CauseLateEvent, "%s %s shares on %s (%s) is first recorded now", e.Kind, groupInt(e.Shares), e.Date.Format(time.DateOnly), s.Cell(grants.SheetEvents, "date", e.Row))
+		}
+		for _, e := range pg.Events {
+			if filed[key(e)] > 0 {
+				filed[key(e)]--
+				add(CauseEventRemoved, "%s %s shares on %s, applied by the prior close, is no longer recorded", e.Kind, groupInt(e.Shares), e.Date.Format(time.DateOnly))
+			}
+		}
+		if !sameTranches(pg.Tranches, l.tr) {
+			add(CauseVesting, "the vesting changed: %d tranches of %s shares then, %d of %s now", len(pg.Tranches), groupInt(trancheShares(pg.Tranches)), len(l.tr), groupInt(g.Shares))
+		}
+		if !pg.ServiceStart.IsZero() && dayNum(pg.ServiceStart) != l.startN {
+			add(CauseTerms, "the service period starts on %s now, %s then", l.start.Format(time.DateOnly), pg.ServiceStart.Format(time.DateOnly))
+		}
+	}
+	var causes []Cause
+	var details []string
+	for _, c := range []Cause{CauseCorrection, CauseLateGrant, CauseLateEvent, CauseEventRemoved, CauseVesting, CauseTerms} {
+		if ds, ok := found[c]; ok {
+			causes = append(causes, c)
+			details = append(details, ds...)
+		}
+	}
+	return causes, details
+}
+
+func sameTranches(filed []PriorTranche, now []trancheLedger) bool {
+	if len(filed) != len(now) {
+		return false
+	}
+	for i, t := range filed {
+		if dayNum(t.VestDate) != now[i].vestN || t.Shares != now[i].Tranche.Shares {
+			return false
+		}
+	}
+	return true
+}
+
+func trancheShares(ts []PriorTranche) int64 {
+	var n int64
+	for _, t := range ts {
+		n += t.Shares
+	}
+	return n
+}
+
+// lockedAverage and valuedAverage are a corrected grant's filed and new
+// grant-date fair values per share, weighted by shares (for a
+// liability-classified warrant, its values at the grant date).
+func lockedAverage(gv pricing.GrantValue, l *awardLedger) float64 {
+	if gv.Lock == nil {
+		return 0
+	}
+	var n, x float64
+	for _, t := range l.tr {
+		for _, lt := range gv.Lock.Tranches {
+			if dayNum(lt.VestDate) == t.vestN {
+				n += float64(t.Tranche.Shares)
+				x += float64(t.Tranche.Shares) * lt.Result.Value
+			}
+		}
+	}
+	if rs := gv.Lock.Revaluations; len(rs) > 0 && dayNum(rs[0].Date) == l.grantN && len(rs[0].Values) == len(l.tr) {
+		for i, t := range l.tr {
+			n += float64(t.Tranche.Shares)
+			x += float64(t.Tranche.Shares) * rs[0].Values[i]
+		}
+	}
+	if n == 0 {
+		return 0
+	}
+	return x / n
+}
+
+func valuedAverage(l *awardLedger) float64 {
+	var n, x float64
+	for _, t := range l.tr {
+		n += float64(t.Tranche.Shares)
+		x += float64(t.Tranche.Shares) * t.FairValue
+	}
+	if n == 0 {
+		return 0
+	}
+	return x / n
+}
+
+// groupInt writes n with thousands separators.
+func groupInt(n int64) string {
+	s := fmt.Sprint(n)
+	neg := strings.HasPrefix(s, "-")
+	s = strings.TrimPrefix(s, "-")
+	var b strings.Builder
+	for i, r := range s {
+		if i > 0 && (len(s)-i)%3 == 0 {
+			b.WriteByte(',')
+		}
+		b.WriteRune(r)
+	}
+	if neg {
+		return "-" + b.String()
+	}
+	return b.String()
+}

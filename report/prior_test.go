@@ -1,0 +1,117 @@
+package report
+
+import (
+	"bytes"
+	"errors"
+	"os"
+	"path/filepath"
+	"reflect"
+	"strings"
+	"testing"
+
+	"grantworth/grants"
+	"grantworth/grants/accounting"
+	"grantworth/grants/grantstest"
+	"grantworth/grants/pricing"
+)
+
+// closeAt values and books the invented company of grantstest at the
+// quarter ending on end, after prior (nil for a first close), and writes
+// its valuation.json into a temporary folder, which it returns.
+func closeAt(t *testing.T, s *grants.Schedule, end string, prior *accounting.Prior) (*pricing.Valuation, *accounting.Books, string) {
+	t.Helper()
+	s.Company.ValuationDate = grantstest.Day(end)
+	s.Company.PeriodStart = grants.Company{}.DefaultPeriodStart(s.Company.ValuationDate)
+	if prior != nil {
+		if _, err := accounting.Open(s, prior); err != nil {
+			t.Fatal(err)
+		}
+	}
+	v := grantstest.Value(t, s, prior.Locks())
+	b, err := accounting.Close(s, v, prior)
+	if err != nil {
+		t.Fatal(err)
+	}
+	m, err := Build(s, v, b, Run{Tool: Tool{Name: "grantworth", Version: "test"}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	dir := t.TempDir()
+	var buf bytes.Buffer
+	if err := WriteJSON(&buf, m); err != nil {
+		t.Fatal(err)
+	}
+	if err := os.WriteFile(filepath.Join(dir, "valuation.json"), buf.Bytes(), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	return v, b, dir
+}
+
+// valuation.json carries everything a later close needs: what ReadPrior
+// reads back from it is what the close filed (accounting.Filed), field
+// for field, after a first close and after a close that followed one.
+func TestPriorRoundTrip(t *testing.T) {
+	s := grantstest.Fernhollow()
+	v, b, dir := closeAt(t, s, "2026-06-30", nil)
+	var prior *accounting.Prior
+	for i, end := range []string{"2026-06-30", "2026-09-30"} {
+		if i > 0 {
+			v, b, dir = closeAt(t, s, end, prior)
+		}
+		got, err := ReadPrior(dir)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if got.Path != dir || len(got.SHA256) != 64 || got.SchemaVersion != SchemaVersion || got.ToolVersion != "test" {
+			t.Errorf("close of %s: path %q, sha256 %q, schema %d, tool %q", end, got.Path, got.SHA256, got.SchemaVersion, got.ToolVersion)
+		}
+		got.Path, got.SHA256, got.SchemaVersion, got.ToolVersion = "", "", 0, ""
+		want := accounting.Filed(s, v, b)
+		if !reflect.DeepEqual(got, want) {
+			for k := range want.Grants {
+				if k < len(got.Grants) && !reflect.DeepEqual(got.Grants[k], want.Grants[k]) {
+					t.Errorf("close of %s, grant %s:\nread  %+v\nfiled %+v", end, want.Grants[k].ID, got.Grants[k], want.Grants[k])
+				}
+			}
+			got.Grants, want.Grants = nil, nil
+			t.Fatalf("close of %s:\nread  %+v\nfiled %+v", end, got, want)
+		}
+		prior = got
+		prior.Path = dir
+	}
+}
+
+// A prior that is not a valuation.json grantworth wrote, or one of a
+// newer format, is refused, saying what is wrong (errors.Is ErrPrior).
+func TestReadPriorRefusals(t *testing.T) {
+	_, _, good := closeAt(t, grantstest.Fernhollow(), "2026-06-30", nil)
+	data, err := os.ReadFile(filepath.Join(good, "valuation.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	write := func(body string) string {
+		p := filepath.Join(t.TempDir(), "valuation.json")
+		if err := os.WriteFile(p, []byte(body), 0o644); err != nil {
+			t.Fatal(err)
+		}
+		return p
+	}
+	cases := []struct{ name, path, want string }{
+		{"missing", filepath.Join(t.TempDir(), "nowhere"), "no such file or folder"},
+		{"empty folder", t.TempDir(), "the folder has no valuation.json"},
+		{"not JSON", write("memo, not json"), "is not a valuation.json grantworth wrote"},
+		{"another tool", write(`{"tool": {"name": "sheetcalc", "version": "9"}, "schema_version": 1}`), `its tool is "sheetcalc"`},
+		{"no schema", write(`{"tool": {"name": "grantworth", "version": "0.0.9"}}`), "has no schema_version"},
+		{"newer", write(strings.Replace(string(data), `"schema_version": 1`, `"schema_version": 7`, 1)), "format version 7"},
+		{"no expense", write(`{"schema_version": 1, "tool": {"name": "grantworth"}, "valuation_date": "2026-06-30", "company": {"name": "X"}}`), "no expense attribution"},
+	}
+	for _, c := range cases {
+		_, err := ReadPrior(c.path)
+		if err == nil || !errors.Is(err, accounting.ErrPrior) || !strings.Contains(err.Error(), c.want) {
+			t.Errorf("%s: %v, want an ErrPrior saying %q", c.name, err, c.want)
+		}
+	}
+	if _, err := ReadPrior(filepath.Join(good, "valuation.json")); err != nil {
+		t.Errorf("the file itself: %v", err)
+	}
+}
