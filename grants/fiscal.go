@@ -135,6 +135,9 @@ func (c FiscalCalendar) name(y, q int) string {
 // close and of a grant design both use it.
 func (c FiscalCalendar) Years(first, last time.Time) []FiscalPeriod {
 	var out []FiscalPeriod
+	if last.Before(first) {
+		return nil
+	}
 	for fy := c.Year(first); !fy.Start.After(last); fy = c.Year(fy.End.AddDate(0, 0, 1)) {
 		out = append(out, fy)
 	}
@@ -145,6 +148,9 @@ func (c FiscalCalendar) Years(first, last time.Time) []FiscalPeriod {
 // holding last (none when last is before first).
 func (c FiscalCalendar) Quarters(first, last time.Time) []FiscalPeriod {
 	var out []FiscalPeriod
+	if last.Before(first) {
+		return nil
+	}
 	for q := c.Quarter(first); !q.Start.After(last); q = c.Quarter(q.End.AddDate(0, 0, 1)) {
 		out = append(out, q)
 	}

@@ -178,3 +178,34 @@ func TestReadFiscalKeys(t *testing.T) {
 		}
 	}
 }
+
+// Years buckets a span into fiscal years, the first holding first and the
+// last holding last (the cases worked by hand for the comparison of grant
+// designs, whose expense by year uses it).
+func TestFiscalYearsSpan(t *testing.T) {
+	for _, c := range []struct {
+		first, last string
+		cal         FiscalCalendar
+		want        string
+	}{
+		{"2026-07-01", "2030-07-01", FiscalCalendar{}, "2026:2026-01-01..2026-12-31 2027 2028 2029 2030:2030-01-01..2030-12-31"},
+		{"2026-07-01", "2026-07-01", FiscalCalendar{}, "2026:2026-01-01..2026-12-31"},
+		{"2026-07-01", "2028-06-30", FiscalCalendar{YearEnd: time.June}, "2027:2026-07-01..2027-06-30 2028:2027-07-01..2028-06-30"},
+		{"2026-06-30", "2026-07-01", FiscalCalendar{YearEnd: time.June}, "2026:2025-07-01..2026-06-30 2027:2026-07-01..2027-06-30"},
+		{"2027-03-01", "2028-03-01", FiscalCalendar{YearEnd: time.February}, "2028:2027-03-01..2028-02-29 2029:2028-03-01..2029-02-28"},
+		{"2026-07-01", "2026-06-30", FiscalCalendar{}, ""},
+	} {
+		var parts []string
+		ys := c.cal.Years(day(c.first), day(c.last))
+		for i, y := range ys {
+			s := ""
+			if i == 0 || i == len(ys)-1 {
+				s = ":" + y.Start.Format(time.DateOnly) + ".." + y.End.Format(time.DateOnly)
+			}
+			parts = append(parts, time.Date(y.Year, 1, 1, 0, 0, 0, 0, time.UTC).Format("2006")+s)
+		}
+		if got := strings.Join(parts, " "); got != c.want {
+			t.Errorf("%s..%s %v: %s, want %s", c.first, c.last, c.cal, got, c.want)
+		}
+	}
+}
