@@ -260,13 +260,23 @@ func (s *Schedule) PeriodEndPrice() (Source, error) {
 
 func (s *Schedule) periodEndPrice() (Source, *CellError) {
 	d := s.Company.ValuationDate
-	if p, ok := s.PriceAt(d); ok {
-		r := s.cell(SheetSharePrices, "price", p.Row, nil)
-		return Source{Value: p.Price, Ref: r, Text: fmt.Sprintf("%s (valuation of %s)", r, isoDay(p.Date))}, nil
+	if src, ok := s.SharePriceOn(d); ok {
+		return src, nil
 	}
 	r := s.cell(SheetCompany, "valuation_date", 0, s.Company.Refs)
 	return Source{}, &CellError{Sheet: r.Sheet, Cell: r.Cell, Column: "valuation_date", Value: isoDay(d), Err: ErrRequired,
 		Msg: "has no share price: no Share Prices row is dated on or before it, and the intrinsic values of the options and warrants outstanding at the period end need one"}
+}
+
+// SharePriceOn is the share price in force on day d (PriceAt) with its
+// cell, or false when no Share Prices row is dated on or before d.
+func (s *Schedule) SharePriceOn(d time.Time) (Source, bool) {
+	p, ok := s.PriceAt(d)
+	if !ok {
+		return Source{}, false
+	}
+	r := s.cell(SheetSharePrices, "price", p.Row, nil)
+	return Source{Value: p.Price, Ref: r, Text: fmt.Sprintf("%s (valuation of %s)", r, isoDay(p.Date))}, true
 }
 
 // NeedsPeriodEndPrice reports whether an option or warrant is granted by

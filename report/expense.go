@@ -42,8 +42,10 @@ type ExpenseDetail struct {
 	// decimals (the currency's minor unit).
 	Journal         []JournalEntry `json:"journal"`
 	JournalDecimals int            `json:"journal_decimals"`
-	PolicyNotes     []string       `json:"policy_notes"`
-	Disclosures     *Disclosures   `json:"disclosures"`
+	// Tax is the income tax effect; nil without a tax rate.
+	Tax         *Tax         `json:"tax"`
+	PolicyNotes []string     `json:"policy_notes"`
+	Disclosures *Disclosures `json:"disclosures"`
 }
 
 // ExpenseGrant is one grant's attribution.
@@ -331,6 +333,7 @@ func expenseModel(b *accounting.Books) *Expense {
 	}
 	sort.Slice(det.ByGrantMonth, func(i, j int) bool { return det.ByGrantMonth[i].Key < det.ByGrantMonth[j].Key })
 	det.JournalDecimals = b.Chart.Decimals
+	det.Tax = taxModel(b.Tax)
 	for i, e := range b.Journal {
 		je := JournalEntry{Number: i + 1, Date: DateOf(e.Date), Description: e.Description}
 		for _, l := range e.Lines {

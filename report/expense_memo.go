@@ -14,6 +14,7 @@ func init() {
 	memoHooks = append(memoHooks,
 		MemoHook{"expense", "Compensation expense for the period", (*Memo).expense},
 		MemoHook{"journal", "Journal entries", (*Memo).journal},
+		MemoHook{"tax", "Income tax effects", (*Memo).tax},
 		MemoHook{"disclosures", "Share-based payment disclosures", (*Memo).disclosures})
 }
 

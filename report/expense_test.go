@@ -31,7 +31,7 @@ func ymdT(s string) time.Time {
 func expenseSchedule() *grants.Schedule {
 	return &grants.Schedule{
 		Company:     grants.Company{Name: "Quillmere Instruments GmbH", ValuationDate: ymdT("2026-12-31"), PeriodStart: ymdT("2026-10-01"), Currency: "EUR"},
-		Assumptions: grants.Assumptions{Attribution: grants.Graded, Forfeitures: grants.Estimate, PreVestingForfeitureRate: 0.05},
+		Assumptions: grants.Assumptions{Attribution: grants.Graded, Forfeitures: grants.Estimate, PreVestingForfeitureRate: 0.05, TaxRate: 0.3},
 		Grants: []grants.Grant{
 			{ID: "Q-1", Holder: "E7", Instrument: grants.Option, GrantDate: ymdT("2025-01-15"), Shares: 4000, Strike: 3,
 				ExpiryDate: ymdT("2035-01-15"), VestStart: ymdT("2025-01-15"), VestMonths: 48, CliffMonths: 12, VestEvery: 12, CostCenter: "R&D"},
@@ -251,7 +251,7 @@ func TestExpenseOutputs(t *testing.T) {
 	// Memo: the three sections with their figures.
 	text := pdfText(t, renderMemo(t, m))
 	flat := strings.Join(strings.Fields(text), " ")
-	for _, want := range []string{"Compensation expense for the period", "Journal entries", "Share-based payment disclosures",
+	for _, want := range []string{"Compensation expense for the period", "Journal entries", "Income tax effects", "Deferred tax asset at the period end", "Share-based payment disclosures",
 		"Expense by quarter", "Outstanding at end", "Nonvested at start", "Vested and expected to vest",
 		money(e.Amount, "EUR"), "Additional paid-in capital", "Warrant liability", "By cost centre", "Expense by fiscal year"} {
 		if !strings.Contains(flat, want) {

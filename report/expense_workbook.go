@@ -19,6 +19,7 @@ func init() {
 		SheetHook{SheetForecast, writeForecast},
 		SheetHook{SheetByYear, writeByYear},
 		SheetHook{SheetJournal, writeJournal},
+		SheetHook{SheetTax, writeTax},
 		SheetHook{SheetDisclosures, writeDisclosures})
 }
 

@@ -16,6 +16,7 @@ type Books struct {
 	Disclosure     *Disclosure
 	Journal        []Entry
 	Chart          Chart           // the accounts and rounding the journal is in
+	Tax            *TaxReport      // nil when the schedule gives no tax rate
 	Reconciliation *Reconciliation // nil without a prior close
 	// SharePrice is the share price at the period end, with its cell,
 	// for the disclosures' intrinsic values.
@@ -71,8 +72,12 @@ func Close(s *grants.Schedule, v *pricing.Valuation, prior *Prior) (*Books, erro
 		}
 		catchUps = b.Reconciliation.CatchUps
 	}
+	b.Tax = p.tax(TaxInputsOf(s), b.SharePrice.Value)
+	if b.Tax != nil {
+		b.Warnings = append(b.Warnings, b.Tax.Warnings...)
+	}
 	b.Chart = ChartOf(s)
-	b.Journal = Journal(rep, catchUps, b.Chart)
+	b.Journal = Journal(rep, catchUps, b.Tax, b.Chart)
 	return b, nil
 }
 

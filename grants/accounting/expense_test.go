@@ -345,7 +345,7 @@ func TestLiabilityWarrantRemeasured(t *testing.T) {
 		{Lines: []Line{{Role: RoleCompensation, Debit: 1246.58}, {Role: RoleLiability, Credit: 1246.58}}},
 		{Lines: []Line{{Role: RoleLiability, Debit: 494.52}, {Role: RoleFairValueChange, Credit: 494.52}}},
 	}
-	journal := Journal(r, nil, Chart{Decimals: 2})
+	journal := Journal(r, nil, nil, Chart{Decimals: 2})
 	if len(journal) != len(want) {
 		t.Fatalf("journal: got %+v, want %d entries", journal, len(want))
 	}

@@ -183,23 +183,25 @@ func abs64(x int64) int64 {
 	return x
 }
 
-// Journal is the period's entries for the attribution r and its
-// catch-ups, in the accounts of chart: the compensation of
+// Journal is the period's entries for the attribution r, its catch-ups
+// and its tax effect, in the accounts of chart: the compensation of
 // equity-classified awards against equity and of liability-classified
 // warrants against the liability, each without its catch-ups; an entry
 // per catch-up, naming its grant and cause; the liability's remeasurement
-// apart from compensation; and exercised liability warrants reclassified
-// to equity. Every compensation expense line is for one cost centre: the
-// summary entries have a line per centre from the grants' parts
-// (GrantExpense.ByCostCenter), and a catch-up is booked in its grant's
-// cost centre at the period end, which holds the difference between the
-// opening balance the prior close booked and the one restated now (see
-// the package notes on cost centres). Amounts are rounded to the
+// apart from compensation; exercised liability warrants reclassified to
+// equity; and, with tax, the change in the deferred tax asset against the
+// deferred tax benefit (and, under IFRS 2, equity for the part beyond the
+// cumulative expense). Every compensation expense line is for one cost
+// centre: the summary entries have a line per centre from the grants'
+// parts (GrantExpense.ByCostCenter), and a catch-up is booked in its
+// grant's cost centre at the period end, which holds the difference
+// between the opening balance the prior close booked and the one restated
+// now (see the package notes on cost centres). Amounts are rounded to the
 // currency's minor unit; the compensation lines are rounded together
 // (largest remainder, apportion) so that they add up to the period's
 // expense rounded, and every entry balances in minor units. Entries that
 // round to nothing are left out.
-func Journal(r *ExpenseReport, catchUps []CatchUp, chart Chart) []Entry {
+func Journal(r *ExpenseReport, catchUps []CatchUp, tax *TaxReport, chart Chart) []Entry {
 	j := &journal{chart: chart, date: r.PeriodEnd}
 	// Compensation entries: the two summaries, then one per catch-up; and
 	// their expense lines by cost centre.
@@ -276,6 +278,15 @@ func Journal(r *ExpenseReport, catchUps []CatchUp, chart Chart) []Entry {
 	}
 	j.transfer("Remeasurement of the warrant liability to fair value (apart from compensation)", RoleFairValueChange, RoleLiability, "", fv)
 	j.transfer("Exercised liability-classified warrants reclassified to equity", RoleLiability, RoleEquity, "", reclass)
+	if tax != nil {
+		asset := int64(math.Round((tax.AssetEnd - tax.AssetOpen) * chart.scale()))
+		equity := int64(math.Round(tax.ToEquity * chart.scale()))
+		desc := "Deferred tax on share-based compensation (ASC 718-740)"
+		if tax.Framework == grants.IFRS2 {
+			desc = "Deferred tax on share-based payment (IAS 12.68A-C: beyond the cumulative expense, in equity)"
+		}
+		j.entry(desc, []Line{j.line(RoleDeferredTaxAsset, "", "", asset), j.line(RoleDeferredTax, "", "", equity-asset), j.line(RoleEquity, "", "", -equity)})
+	}
 	return j.out
 }
 

@@ -110,7 +110,7 @@ func TestJournalBalancesAndAddsUp(t *testing.T) {
 		}
 		r := mustExpense(t, awards, Policy{Forfeitures: grants.Estimate, PreVestingForfeitureRate: 0.1}, "2028-04-01", "2028-06-30")
 		var comp int64
-		for i, e := range Journal(r, nil, Chart{Decimals: 2}) {
+		for i, e := range Journal(r, nil, nil, Chart{Decimals: 2}) {
 			var dr, cr int64
 			for _, l := range e.Lines {
 				if (l.Debit == 0) == (l.Credit == 0) || l.Debit < 0 || l.Credit < 0 {

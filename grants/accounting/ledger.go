@@ -39,7 +39,9 @@ type move struct {
 	dayN   int // dayNum(date)
 	kind   grants.EventKind
 	shares int64
-	vested bool // the tranche was vested on the day of the move
+	vested bool     // the tranche was vested on the day of the move
+	event  int      // the event's index in the grant's events applied; -1 for an expiry at the end of the term
+	price  *float64 // the event's share price, when its row gives one
 }
 
 type trancheLedger struct {
@@ -172,7 +174,7 @@ func newAwardLedger(a *Award, pol Policy, asOf time.Time) (*awardLedger, error) 
 	if !g.ExpiryDate.IsZero() && dayOnOrBefore(g.ExpiryDate, asOf) && g.Instrument != grants.RSU {
 		for i := range l.tr {
 			if n := l.tr[i].open(); n > 0 {
-				l.tr[i].moves = append(l.tr[i].moves, move{date: g.ExpiryDate, dayN: dayNum(g.ExpiryDate), kind: grants.Expired, shares: n, vested: true})
+				l.tr[i].moves = append(l.tr[i].moves, move{date: g.ExpiryDate, dayN: dayNum(g.ExpiryDate), kind: grants.Expired, shares: n, vested: true, event: -1})
 			}
 		}
 	}
@@ -242,7 +244,7 @@ func (l *awardLedger) apply(evs []grants.Event) error {
 	}
 	for _, m := range al.Moves {
 		t := &l.tr[m.Tranche]
-		t.moves = append(t.moves, move{date: m.Date, dayN: dayNum(m.Date), kind: m.Kind, shares: m.Shares, vested: m.Vested})
+		t.moves = append(t.moves, move{date: m.Date, dayN: dayNum(m.Date), kind: m.Kind, shares: m.Shares, vested: m.Vested, event: m.Event, price: evs[m.Event].SharePrice})
 	}
 	return nil
 }

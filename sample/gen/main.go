@@ -23,6 +23,8 @@
 //     transfers between cost centres;
 //   - general-ledger accounts for journal.csv, one expense account per
 //     cost centre;
+//   - a 25% tax rate under ASC 718, with a quarter of the options
+//     incentive stock options that give no deduction;
 //   - six valuations of the common stock on Share Prices;
 //   - a rate curve at every quarter end, zero rates until 2026-03-31 and
 //     government par yields (par-semiannual) from 2026-06-30 on.
@@ -68,6 +70,8 @@ func day(s string) time.Time {
 
 func f(x float64) *float64 { return &x }
 
+var no = false
+
 // Schedule builds the Tarnwick Labs schedule.
 func Schedule() *grants.Schedule {
 	rng := rand.New(rand.NewPCG(seed, 1))
@@ -76,7 +80,7 @@ func Schedule() *grants.Schedule {
 			Currency: "USD", SharesOutstanding: 24_500_000, Fiscal: grants.FiscalCalendar{YearEnd: time.December}},
 		Assumptions: grants.Assumptions{
 			Volatility: 0.52, DividendYield: 0, ExerciseMultiple: 2.2, PostVestingExitRate: 0.12, PreVestingForfeitureRate: 0.10,
-			Attribution: grants.Graded, Forfeitures: grants.Estimate,
+			Attribution: grants.Graded, Forfeitures: grants.Estimate, Framework: grants.ASC718, TaxRate: 0.25,
 			Sources: map[string]string{
 				"volatility":                  "median of 5 peers' daily log-return volatility over 6.1 years to 2026-09-30 (grantworth vol sample/peers/*.csv, guideline peers)",
 				"dividend_yield":              "no dividends paid or planned (board resolution of 2023-11-14)",
@@ -84,6 +88,7 @@ func Schedule() *grants.Schedule {
 				"post_vesting_exit_rate":      "Tarnwick HR: 12% a year of vested holders left, 2021-2026",
 				"pre_vesting_forfeiture_rate": "Tarnwick HR: 10% a year of unvested holders left, 2021-2026",
 				"attribution":                 "accounting policy memo of 2023-10-02",
+				"tax_rate":                    "US federal 21% and state taxes net of the federal benefit, blended (tax provision memo of 2026-01-15)",
 			},
 		},
 	}
@@ -137,6 +142,9 @@ func Schedule() *grants.Schedule {
 			optionHolders = append(optionHolders, g.Holder)
 		}
 		g.CostCenter = costCenters[m%len(costCenters)]
+		if m%4 == 2 { // an incentive stock option: no deduction for the company
+			g.TaxDeductible = &no
+		}
 		if m == 20 { // an executive's grant with its own strike price premium and a lower exit rate
 			g.Strike = math.Round(priceAt(gd)*1.25*100) / 100
 			g.PostVestingExitRate = f(0.05)
