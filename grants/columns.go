@@ -93,6 +93,8 @@ var (
 	instruments     = []string{string(Option), string(Warrant), string(RSU)}
 	classifications = []string{string(Equity), string(Liability)}
 	exerciseStyles  = []string{string(American), string(European)}
+	purposes        = []string{string(Compensation), string(Financing)}
+	frameworks      = []string{string(ASC718), string(IFRS2)}
 	eventKinds      = []string{string(Exercised), string(Forfeited), string(Expired), string(Cancelled)}
 	compoundings    = []string{"continuous", "annual", "semiannual", "par-semiannual"}
 )
@@ -123,7 +125,7 @@ var Sheets = []Sheet{
 			{Key: "attribution", Kind: KindChoice, Choices: []string{string(Graded), string(StraightLine)}, Need: "optional", Default: "graded", Help: "How a graded award's cost is spread over service: per tranche (graded) or evenly over the whole award (straight-line)."},
 			{Key: "forfeitures", Kind: KindChoice, Choices: []string{string(Estimate), string(AsOccur)}, Need: "optional", Default: "estimate", Help: "Estimate forfeitures in advance, or account for them as they occur."},
 			{Key: "steps", Kind: KindSteps, Need: "optional", Default: "auto", Help: "Lattice steps: auto (converged, with an error estimate) or a fixed number."},
-			{Key: "framework", Kind: KindChoice, Choices: []string{string(ASC718), string(IFRS2)}, Need: "optional", Default: "asc718", Help: "The accounting standard: asc718 (US GAAP, with ASC 740 for the tax effect) or ifrs2 (IFRS 2, with IAS 12). It sets the deferred tax rule and the default name of the equity account."},
+			{Key: "framework", Kind: KindChoice, Choices: frameworks, Need: "optional", Default: "asc718", Help: "The accounting standard the books follow: asc718 (US GAAP, with ASC 740 for the tax effect) or ifrs2 (with IAS 12). Under ifrs2 attribution must be graded and forfeitures estimated, the journal credits a share-based payment reserve, and the deferred tax follows the intrinsic value."},
 			{Key: "tax_rate", Kind: KindPercent, Unit: "annual", Need: "optional", Default: "none (no tax effect)", Help: "The statutory income tax rate at which the deferred tax asset of deductible awards is measured, e.g. 25% or 0.25; dated rows give enacted changes."},
 		},
 		KeyColumns: []Column{
@@ -152,6 +154,8 @@ var Sheets = []Sheet{
 			{Key: "post_vesting_exit_rate", Kind: KindPercent, Unit: "annual", Need: "optional", Default: "Assumptions", Help: "Overrides the post-vesting exit rate."},
 			{Key: "classification", Kind: KindChoice, Choices: classifications, Need: "warrants, optional", Default: "equity", Help: "Equity warrants are measured at grant; liability warrants are remeasured at every valuation date."},
 			{Key: "exercise_style", Kind: KindChoice, Choices: exerciseStyles, Need: "warrants, optional", Default: "american", Help: "American warrants may be exercised at any time once vested; european only at expiry."},
+			{Key: "purpose", Kind: KindChoice, Choices: purposes, Need: "warrants: required; options and RSUs: optional", Default: "compensation (options and RSUs)", Help: "What the award pays for: compensation (share-based payment for services, expensed over service) or financing (a warrant issued to a lender or an investor: not compensation; measured at issue, and remeasured every period if a liability)."},
+			{Key: "hire_date", Kind: KindDate, Need: "optional", Default: "grant_date", Help: "For a holder hired after the grant date, the day service begins: cost is recognised from it. Leave empty when the holder was employed at grant."},
 			{Key: "tax_deductible", Kind: KindChoice, Choices: []string{"yes", "no"}, Need: "optional", Default: "yes for options and RSUs, no for warrants", Help: "Whether the award gives the company a tax deduction: no for US incentive stock options, yes for non-qualified options and RSUs. Deductible awards carry a deferred tax asset when Assumptions gives tax_rate."},
 			{Key: "cost_center", Kind: KindText, Need: "optional", Default: "unassigned", Help: "The cost centre (function or department) whose expense the grant is, e.g. R&D or 4100; a move to another is a Transfers row. Expense is split by cost centre in the memo, the workbook, valuation.json and journal.csv; a grant with none is in the unassigned line, with a warning."},
 		}},
@@ -195,7 +199,7 @@ var Sheets = []Sheet{
 	{Name: SheetAccounts, File: "accounts.csv",
 		Help: "Optional: the general-ledger account each role of journal.csv books to (role, account code and name). A role not listed keeps its default name and no code. A compensation_expense row with a cost_center applies to that cost centre only.",
 		Columns: []Column{
-			{Key: "role", Kind: KindChoice, Choices: accountRoleNames(), Required: true, Need: "required", Help: "compensation_expense, equity (additional paid-in capital, or under IFRS the share-based payment reserve), warrant_liability, fair_value_change (of the warrant liability), deferred_tax_asset or deferred_tax_benefit (the deferred tax line of the income statement)."},
+			{Key: "role", Kind: KindChoice, Choices: accountRoleNames(), Required: true, Need: "required", Help: "compensation_expense; equity (additional paid-in capital, or under IFRS the share-based payment reserve); share_based_payment_liability (liability-classified awards); warrant_liability, fair_value_change, warrant_equity and financing_proceeds (warrants issued in financings); deferred_tax_asset; deferred_tax_benefit (the deferred tax line of the income statement)."},
 			{Key: "cost_center", Kind: KindText, Need: "optional", Default: "every cost centre", Help: "For compensation_expense only: the cost centre this account serves, for a chart of accounts with an expense account per function."},
 			{Key: "account_code", Kind: KindText, Need: "this or account_name", Help: "The account's code in your chart of accounts, as your ledger imports it."},
 			{Key: "account_name", Kind: KindText, Need: "this or account_code", Default: "the role's default name", Help: "The account's name."},

@@ -19,6 +19,24 @@ const (
 	Liability Classification = "liability" // remeasured at every valuation date
 )
 
+// Purpose is what an award pays for: services (share-based payment) or
+// a financing (a warrant issued to a lender or an investor, which is not
+// compensation).
+type Purpose string
+
+const (
+	Compensation Purpose = "compensation" // share-based payment for services: expensed over service
+	Financing    Purpose = "financing"    // issued in a debt or equity financing: not compensation
+)
+
+// Framework is the accounting standard the books follow.
+type Framework string
+
+const (
+	ASC718 Framework = "asc718" // US GAAP, ASC 718 (the default)
+	IFRS2  Framework = "ifrs2"  // IFRS 2
+)
+
 // ExerciseStyle is when a vested warrant may be exercised.
 type ExerciseStyle string
 
@@ -116,14 +134,6 @@ const (
 	AsOccur  ForfeiturePolicy = "as-occur"
 )
 
-// Framework is the accounting standard a schedule is booked under.
-type Framework string
-
-const (
-	ASC718 Framework = "asc718" // US GAAP: ASC 718, with ASC 740 for income taxes
-	IFRS2  Framework = "ifrs2"  // IFRS 2, with IAS 12 for income taxes
-)
-
 // Assumptions is the Assumptions sheet: company-wide defaults that a grant
 // row may override. The fields hold the rows without an effective_date,
 // which apply from the beginning; Dated holds the rows with one. At gives
@@ -185,6 +195,12 @@ type Grant struct {
 
 	Classification Classification // warrants; default equity
 	ExerciseStyle  ExerciseStyle  // warrants; default american
+	// Purpose is compensation or financing: options and RSUs default to
+	// compensation; a warrant read from a sheet must say which.
+	Purpose Purpose
+	// HireDate is, for a holder hired after the grant date, the day
+	// service begins; zero when the holder was employed at grant.
+	HireDate time.Time
 
 	CostCenter string // "" when none is given: the expense is Unassigned
 	// TaxDeductible says whether the award gives the company a tax
@@ -194,6 +210,14 @@ type Grant struct {
 	Row  int            // 1-based row on the Grants sheet
 	Refs map[string]Ref // by column key, e.g. "strike"
 }
+
+// IsFinancing reports whether g was issued in a financing: a warrant
+// that is not share-based payment.
+func (g Grant) IsFinancing() bool { return g.Purpose == Financing }
+
+// IsLiability reports whether g is a liability-classified warrant,
+// remeasured at fair value every period and at settlement.
+func (g Grant) IsLiability() bool { return g.Instrument == Warrant && g.Classification == Liability }
 
 // VestRow is one row of the Vesting sheet.
 type VestRow struct {
@@ -266,10 +290,13 @@ type AccountRole struct {
 // AccountRoles are the journal's roles, in the order the template lists
 // them.
 var AccountRoles = []AccountRole{
-	{"compensation_expense", "Share-based compensation expense", "Share-based payment expense"},
+	{"compensation_expense", "Compensation expense", "Share-based payment expense"},
 	{"equity", "Additional paid-in capital", "Share-based payment reserve"},
+	{"share_based_payment_liability", "Share-based compensation liability", "Share-based payment liability"},
 	{"warrant_liability", "Warrant liability", "Warrant liability"},
 	{"fair_value_change", "Change in fair value of warrant liability", "Change in fair value of warrant liability"},
+	{"warrant_equity", "Additional paid-in capital", "Share premium"},
+	{"financing_proceeds", "Financing proceeds allocated to warrants", "Financing proceeds allocated to warrants"},
 	{"deferred_tax_asset", "Deferred tax asset", "Deferred tax asset"},
 	{"deferred_tax_benefit", "Deferred income tax benefit", "Deferred tax income"},
 }

@@ -642,6 +642,12 @@ func (t *tableReader) grantRow(c *rowCtx) {
 			}
 		}
 	}
+	if v, ok := c.choice("purpose", false); ok {
+		g.Purpose = Purpose(v)
+	} else if g.Instrument != Warrant {
+		g.Purpose = Compensation
+	}
+	g.HireDate, _ = c.date("hire_date", false)
 	g.CostCenter, _ = c.text("cost_center")
 	if v, ok := c.choice("tax_deductible", false); ok {
 		b := v == "yes"

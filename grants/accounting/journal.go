@@ -11,17 +11,38 @@ import (
 
 // Role is what an account does in the journal, whatever the company calls
 // it. The journal is written in roles; the account code and name of each
-// role are the company's to choose (the Accounts sheet, Chart).
+// role are the company's to choose (the Accounts sheet, Chart), and its
+// default name is in grants.AccountRoles.
 type Role string
 
 // The roles the journal books to (the values of grants.AccountRoles).
 const (
-	RoleCompensation     Role = "compensation_expense"
-	RoleEquity           Role = "equity" // additional paid-in capital; under IFRS the share-based payment reserve
-	RoleLiability        Role = "warrant_liability"
-	RoleFairValueChange  Role = "fair_value_change" // of the warrant liability, apart from compensation
+	RoleCompensation Role = "compensation_expense"
+	// RoleEquity is the equity credited for share-based payment:
+	// additional paid-in capital under ASC 718, a share-based payment
+	// reserve under IFRS 2.
+	RoleEquity Role = "equity"
+	// RoleAwardLiability is the liability of liability-classified awards
+	// to employees and other providers of services.
+	RoleAwardLiability Role = "share_based_payment_liability"
+	// RoleLiability is the liability of warrants issued in financings.
+	RoleLiability Role = "warrant_liability"
+	// RoleFairValueChange is the change in fair value of the financing
+	// warrants' liability, outside operating expense.
+	RoleFairValueChange Role = "fair_value_change"
+	// RoleWarrantEquity is the equity a financing warrant's liability is
+	// reclassified to when the warrant is exercised.
+	RoleWarrantEquity Role = "warrant_equity"
+	// RoleFinancing is where the proceeds of a financing allocated to a
+	// liability-classified warrant at issue are debited: a debt discount
+	// for a warrant issued with a loan, the share proceeds for one issued
+	// with shares.
+	RoleFinancing Role = "financing_proceeds"
+	// RoleDeferredTaxAsset is the deferred tax asset of deductible awards.
 	RoleDeferredTaxAsset Role = "deferred_tax_asset"
-	RoleDeferredTax      Role = "deferred_tax_benefit" // the deferred tax line of the income statement
+	// RoleDeferredTax is the deferred tax line of the income statement (a
+	// benefit when credited).
+	RoleDeferredTax Role = "deferred_tax_benefit"
 )
 
 // Account is a ledger account: its code in the company's chart of
@@ -39,19 +60,18 @@ type ChartKey struct {
 
 // Chart is the company's chart of accounts as the journal uses it: the
 // account of each role it maps (per cost centre, for compensation
-// expense), the framework whose wording names the accounts it does not,
-// and the decimals of its currency, to which every amount is rounded.
+// expense), and the decimals of its currency, to which every amount is
+// rounded. A role it does not map has its default account under the
+// framework (DefaultAccount).
 type Chart struct {
-	Accounts  map[ChartKey]Account
-	Framework grants.Framework
-	Decimals  int
+	Accounts map[ChartKey]Account
+	Decimals int
 }
 
-// ChartOf is the chart of schedule s: its Accounts sheet, the framework in
-// force at the valuation date and its currency's minor unit
-// (grants.MinorUnits).
+// ChartOf is the chart of schedule s: its Accounts sheet and its
+// currency's minor unit (grants.MinorUnits).
 func ChartOf(s *grants.Schedule) Chart {
-	c := Chart{Accounts: map[ChartKey]Account{}, Framework: s.InForce().Framework, Decimals: grants.MinorUnits(s.Company.Currency)}
+	c := Chart{Accounts: map[ChartKey]Account{}, Decimals: grants.MinorUnits(s.Company.Currency)}
 	for _, a := range s.Accounts {
 		k := ChartKey{Role: Role(a.Role)}
 		if k.Role == RoleCompensation {
@@ -62,13 +82,14 @@ func ChartOf(s *grants.Schedule) Chart {
 	return c
 }
 
-// DefaultAccount is the account of role r when the company maps none: no
-// code, and the role's name in the wording of framework f
-// (grants.AccountRoles).
-func DefaultAccount(r Role, f grants.Framework) Account {
+// DefaultAccount is the account of role r under framework fw when the
+// company maps none: no code, and the role's name in the framework's
+// wording (grants.AccountRoles; IFRS 2 calls the equity of equity-settled
+// awards a share-based payment reserve, not additional paid-in capital).
+func DefaultAccount(r Role, fw grants.Framework) Account {
 	for _, ar := range grants.AccountRoles {
 		if ar.Role == string(r) {
-			if f == grants.IFRS2 {
+			if fw == grants.IFRS2 {
 				return Account{Name: ar.IFRSName}
 			}
 			return Account{Name: ar.Name}
@@ -77,15 +98,16 @@ func DefaultAccount(r Role, f grants.Framework) Account {
 	return Account{Name: string(r)}
 }
 
-// Of is the account of role r for cost centre costCenter: the company's
-// account for the role and that centre, else for the role, else the
-// default; a mapped account with no name takes the default name.
-func (c Chart) Of(r Role, costCenter string) Account {
+// Of is the account of role r for cost centre costCenter under framework
+// fw: the company's account for the role and that centre, else for the
+// role, else the default; a mapped account with no name takes the
+// default name.
+func (c Chart) Of(r Role, costCenter string, fw grants.Framework) Account {
 	a, ok := c.Accounts[ChartKey{r, costCenter}]
 	if !ok || costCenter == "" {
 		a, ok = c.Accounts[ChartKey{Role: r}]
 	}
-	def := DefaultAccount(r, c.Framework)
+	def := DefaultAccount(r, fw)
 	if !ok {
 		return def
 	}
@@ -127,9 +149,13 @@ func (e Entry) Balance() float64 {
 	return b
 }
 
+// minEntry is the smallest catch-up found: half a cent.
+const minEntry = 0.005
+
 // journal builds entries in whole minor units.
 type journal struct {
 	chart Chart
+	fw    grants.Framework
 	date  time.Time
 	out   []Entry
 }
@@ -137,7 +163,7 @@ type journal struct {
 // line is a line of units minor units on the debit side of role (on the
 // credit side when negative).
 func (j *journal) line(role Role, costCenter, grantID string, units int64) Line {
-	l := Line{Role: role, Account: j.chart.Of(role, costCenter), CostCenter: costCenter, GrantID: grantID}
+	l := Line{Role: role, Account: j.chart.Of(role, costCenter, j.fw), CostCenter: costCenter, GrantID: grantID}
 	amount := float64(abs64(units)) / j.chart.scale()
 	if units >= 0 {
 		l.Debit = amount
@@ -168,13 +194,10 @@ func (j *journal) entry(desc string, lines []Line) {
 
 // transfer adds a two-line entry debiting debit and crediting credit with
 // amount rounded to minor units; a negative amount swaps the sides.
-func (j *journal) transfer(desc string, debit, credit Role, grantID string, amount float64) {
+func (j *journal) transfer(desc string, debit, credit Role, amount float64) {
 	u := int64(math.Round(amount * j.chart.scale()))
-	j.entry(desc, []Line{j.line(debit, "", grantID, u), j.line(credit, "", grantID, -u)})
+	j.entry(desc, []Line{j.line(debit, "", "", u), j.line(credit, "", "", -u)})
 }
-
-// minEntry is the smallest catch-up found: half a cent.
-const minEntry = 0.005
 
 func abs64(x int64) int64 {
 	if x < 0 {
@@ -184,27 +207,45 @@ func abs64(x int64) int64 {
 }
 
 // Journal is the period's entries for the attribution r, its catch-ups
-// and its tax effect, in the accounts of chart: the compensation of
-// equity-classified awards against equity and of liability-classified
-// warrants against the liability, each without its catch-ups; an entry
-// per catch-up, naming its grant and cause; the liability's remeasurement
-// apart from compensation; exercised liability warrants reclassified to
-// equity; and, with tax, the change in the deferred tax asset against the
-// deferred tax benefit (and, under IFRS 2, equity for the part beyond the
-// cumulative expense). Every compensation expense line is for one cost
-// centre: the summary entries have a line per centre from the grants'
-// parts (GrantExpense.ByCostCenter), and a catch-up is booked in its
-// grant's cost centre at the period end, which holds the difference
-// between the opening balance the prior close booked and the one restated
-// now (see the package notes on cost centres). Amounts are rounded to the
-// currency's minor unit; the compensation lines are rounded together
-// (largest remainder, apportion) so that they add up to the period's
-// expense rounded, and every entry balances in minor units. Entries that
-// round to nothing are left out.
+// and its tax effect (nil for none), in the accounts of chart and the
+// default names of r's framework:
+//
+//  1. compensation of equity-classified awards against equity, without
+//     their catch-ups;
+//  2. compensation of liability-classified awards (every change in their
+//     fair value included) against the award liability, without their
+//     catch-ups;
+//  3. one entry per catch-up, naming its grant and cause, against equity,
+//     the award liability, or for compensation reversed on a warrant now
+//     known to be issued in a financing, the financing's proceeds;
+//  4. exercised liability-classified awards, the liability at the
+//     exercise day's fair value reclassified to equity;
+//  5. financing warrants classified as liabilities issued in the period,
+//     at fair value, against the financing's proceeds;
+//  6. the change in fair value of the financing warrants' liability,
+//     outside operating expense;
+//  7. exercised financing warrants, the liability at the exercise day's
+//     fair value reclassified to equity;
+//  8. with tax, the change in the deferred tax asset against the deferred
+//     tax benefit (and, under IFRS 2, equity for the part beyond the
+//     cumulative expense).
+//
+// Every compensation expense line is for one cost centre: the summary
+// entries have a line per centre from the grants' parts
+// (GrantExpense.ByCostCenter), and a catch-up is booked in its grant's
+// cost centre at the period end, which holds the difference between the
+// opening balance the prior close booked and the one restated now (see
+// the package notes on cost centres). Amounts are rounded to the
+// currency's minor unit; the compensation lines (entries 1 to 3) are
+// rounded together (largest remainder, apportion) so that they add up to
+// the period's expense rounded, and every entry balances in minor units.
+// Entries that round to nothing are left out. Equity-classified financing
+// warrants are booked with their financing, at the proceeds allocated to
+// them, and have no entry here.
 func Journal(r *ExpenseReport, catchUps []CatchUp, tax *TaxReport, chart Chart) []Entry {
-	j := &journal{chart: chart, date: r.PeriodEnd}
-	// Compensation entries: the two summaries, then one per catch-up; and
-	// their expense lines by cost centre.
+	j := &journal{chart: chart, fw: r.Policy.Framework, date: r.PeriodEnd}
+	// The compensation entries: the two summaries, then one per catch-up;
+	// and their expense amounts by cost centre.
 	type compEntry struct {
 		desc    string
 		credit  Role
@@ -212,40 +253,50 @@ func Journal(r *ExpenseReport, catchUps []CatchUp, tax *TaxReport, chart Chart) 
 	}
 	entries := []compEntry{
 		{"Share-based compensation for the period (equity-classified awards)", RoleEquity, ""},
-		{"Share-based compensation for the period (liability-classified warrants)", RoleLiability, ""},
+		{"Share-based compensation for the period (liability-classified awards, remeasured to fair value)", RoleAwardLiability, ""},
 	}
 	type cell struct {
 		entry  int
 		centre string
 	}
 	amounts := map[cell]float64{}
-	grantOf := map[string]*GrantExpense{}
-	var fv, reclass float64
-	for i := range r.Grants {
-		g := &r.Grants[i]
-		grantOf[g.GrantID] = g
+	centreOf := map[string]string{}
+	var liaReclass float64
+	for _, g := range r.Grants {
+		centreOf[g.GrantID] = g.CostCenter
 		e := 0
 		if g.Liability {
 			e = 1
-			fv += g.FairValueChange
-			reclass += g.ReclassifiedEquity
+			liaReclass += g.ReclassifiedEquity
 		}
 		for _, p := range g.ByCostCenter {
 			amounts[cell{e, p.CostCenter}] += p.Period
 		}
 	}
+	var issued, change, finReclass float64
+	for _, w := range r.Financing {
+		centreOf[w.GrantID] = w.CostCenter
+		issued += w.Issued
+		change += w.FairValueChange
+		finReclass += w.Reclassified
+	}
 	for _, c := range catchUps {
 		summary, credit := 0, RoleEquity
-		if c.Liability {
-			summary, credit = 1, RoleLiability
+		switch {
+		case c.Financing: // not in a summary: its amount is the warrant's reversed compensation
+			summary, credit = -1, RoleFinancing
+		case c.Liability:
+			summary, credit = 1, RoleAwardLiability
 		}
 		entries = append(entries, compEntry{"Catch-up for closed periods, grant " + c.GrantID + " (" + strings.ReplaceAll(string(c.Cause), "_", " ") + ")", credit, c.GrantID})
-		centre := grants.Unassigned
-		if g := grantOf[c.GrantID]; g != nil && g.CostCenter != "" {
-			centre = g.CostCenter
+		centre := centreOf[c.GrantID]
+		if centre == "" {
+			centre = grants.Unassigned
 		}
 		amounts[cell{len(entries) - 1, centre}] += c.Amount
-		amounts[cell{summary, centre}] -= c.Amount
+		if summary >= 0 {
+			amounts[cell{summary, centre}] -= c.Amount
+		}
 	}
 	cells := make([]cell, 0, len(amounts))
 	for c := range amounts {
@@ -262,27 +313,26 @@ func Journal(r *ExpenseReport, catchUps []CatchUp, tax *TaxReport, chart Chart) 
 		xs[i] = amounts[c]
 	}
 	units := apportion(xs, int64(math.Round(r.Period*chart.scale())), chart.scale())
-	comp := func(e int) {
+	for e, ce := range entries {
 		var lines []Line
 		var total int64
 		for i, c := range cells {
 			if c.entry == e {
-				lines = append(lines, j.line(RoleCompensation, c.centre, entries[e].grantID, units[i]))
+				lines = append(lines, j.line(RoleCompensation, c.centre, ce.grantID, units[i]))
 				total += units[i]
 			}
 		}
-		j.entry(entries[e].desc, append(lines, j.line(entries[e].credit, "", entries[e].grantID, -total)))
+		j.entry(ce.desc, append(lines, j.line(ce.credit, "", ce.grantID, -total)))
 	}
-	for e := range entries {
-		comp(e)
-	}
-	j.transfer("Remeasurement of the warrant liability to fair value (apart from compensation)", RoleFairValueChange, RoleLiability, "", fv)
-	j.transfer("Exercised liability-classified warrants reclassified to equity", RoleLiability, RoleEquity, "", reclass)
+	j.transfer("Liability-classified awards exercised: liability at the exercise-date fair value reclassified to equity", RoleAwardLiability, RoleEquity, liaReclass)
+	j.transfer("Financing warrants issued in the period, recognised as a liability at fair value", RoleFinancing, RoleLiability, issued)
+	j.transfer("Change in fair value of the financing warrants' liability (outside operating expense)", RoleFairValueChange, RoleLiability, change)
+	j.transfer("Financing warrants exercised: liability at the exercise-date fair value reclassified to equity", RoleLiability, RoleWarrantEquity, finReclass)
 	if tax != nil {
 		asset := int64(math.Round((tax.AssetEnd - tax.AssetOpen) * chart.scale()))
 		equity := int64(math.Round(tax.ToEquity * chart.scale()))
 		desc := "Deferred tax on share-based compensation (ASC 718-740)"
-		if tax.Framework == grants.IFRS2 {
+		if j.fw == grants.IFRS2 {
 			desc = "Deferred tax on share-based payment (IAS 12.68A-C: beyond the cumulative expense, in equity)"
 		}
 		j.entry(desc, []Line{j.line(RoleDeferredTaxAsset, "", "", asset), j.line(RoleDeferredTax, "", "", equity-asset), j.line(RoleEquity, "", "", -equity)})

@@ -38,16 +38,17 @@ func TestApportionByHand(t *testing.T) {
 
 // The chart: a company account for the role and cost centre, else for the
 // role, else the default named in the framework's wording (IFRS 2 calls
-// the equity account the share-based payment reserve).
+// the equity account the share-based payment reserve), and amounts in the
+// currency's minor unit (none for the yen).
 func TestChartOf(t *testing.T) {
-	s := &grants.Schedule{Company: grants.Company{Currency: "JPY"}, Assumptions: grants.Assumptions{Framework: grants.IFRS2},
+	s := &grants.Schedule{Company: grants.Company{Currency: "JPY"},
 		Accounts: []grants.AccountRow{
 			{Role: "compensation_expense", Code: "6400", Name: "Stock compensation"},
 			{Role: "compensation_expense", CostCenter: "R&D", Code: "6410"},
 			{Role: "deferred_tax_asset", Code: "1800"},
 		}}
 	c := ChartOf(s)
-	if c.Decimals != 0 || c.Framework != grants.IFRS2 {
+	if c.Decimals != 0 {
 		t.Errorf("chart %+v", c)
 	}
 	for _, k := range []struct {
@@ -61,7 +62,7 @@ func TestChartOf(t *testing.T) {
 		{RoleEquity, "", Account{"", "Share-based payment reserve"}},
 		{RoleDeferredTaxAsset, "R&D", Account{"1800", "Deferred tax asset"}},
 	} {
-		if got := c.Of(k.role, k.centre); got != k.want {
+		if got := c.Of(k.role, k.centre, grants.IFRS2); got != k.want {
 			t.Errorf("Of(%s, %q) = %+v, want %+v", k.role, k.centre, got, k.want)
 		}
 	}
@@ -73,7 +74,7 @@ func TestChartOf(t *testing.T) {
 	for _, r := range grants.AccountRoles {
 		roles[r.Role] = true
 	}
-	for _, r := range []Role{RoleCompensation, RoleEquity, RoleLiability, RoleFairValueChange, RoleDeferredTaxAsset, RoleDeferredTax} {
+	for _, r := range []Role{RoleCompensation, RoleEquity, RoleAwardLiability, RoleLiability, RoleFairValueChange, RoleWarrantEquity, RoleFinancing, RoleDeferredTaxAsset, RoleDeferredTax} {
 		if !roles[string(r)] {
 			t.Errorf("role %s is not in grants.AccountRoles", r)
 		}

@@ -9,24 +9,22 @@ import (
 	"grantworth/grants"
 )
 
-// TaxInputs are what the tax effect needs beyond the awards: the framework
-// whose rule applies, the statutory rate and the share price in force on
-// a day.
+// TaxInputs are what the tax effect needs beyond the awards and the
+// policy (whose framework says which rule applies): the statutory rate and
+// the share price in force on a day.
 type TaxInputs struct {
-	Framework grants.Framework
-	Rate      func(d time.Time) float64
+	Rate func(d time.Time) float64
 	// Price is the share's fair value on day d and where it came from, or
 	// false when none is known.
 	Price func(d time.Time) (float64, string, bool)
 }
 
-// TaxInputsOf are the tax inputs of schedule s: the framework in force at
-// its valuation date, its Assumptions tax_rate in force on each day (dated
-// rows give enacted changes) and its Share Prices.
+// TaxInputsOf are the tax inputs of schedule s: its Assumptions tax_rate
+// in force on each day (dated rows give enacted changes) and its Share
+// Prices.
 func TaxInputsOf(s *grants.Schedule) TaxInputs {
 	return TaxInputs{
-		Framework: s.InForce().Framework,
-		Rate:      func(d time.Time) float64 { return s.Assumptions.At(d).TaxRate },
+		Rate: func(d time.Time) float64 { return s.Assumptions.At(d).TaxRate },
 		Price: func(d time.Time) (float64, string, bool) {
 			src, ok := s.SharePriceOn(d)
 			return src.Value, src.Text, ok
@@ -98,18 +96,18 @@ type Settlement struct {
 // dates.
 func (p *period) tax(in TaxInputs, priceEnd float64) *TaxReport {
 	open := shiftDays(p.start, -1)
-	t := &TaxReport{Framework: in.Framework, RateOpen: in.Rate(open), RateEnd: in.Rate(p.end), PriceEnd: priceEnd}
+	t := &TaxReport{Framework: p.pol.Framework, RateOpen: in.Rate(open), RateEnd: in.Rate(p.end), PriceEnd: priceEnd}
 	if t.RateOpen == 0 && t.RateEnd == 0 {
 		return nil
 	}
-	ifrs := in.Framework == grants.IFRS2
+	ifrs := p.pol.Framework == grants.IFRS2
 	if ifrs {
 		px, _, ok := in.Price(open)
 		t.PriceOpen = px
 		if !ok {
 			t.PriceOpen = priceEnd
 			for _, l := range p.ledgers {
-				if l.in.Grant.Deductible() && dayNum(l.in.Grant.GrantDate) <= dayNum(open) {
+				if !l.financing && l.in.Grant.Deductible() && dayNum(l.in.Grant.GrantDate) <= dayNum(open) {
 					t.Warnings = append(t.Warnings, fmt.Sprintf("no share price is known on %s, the day before the period start: the opening deferred tax asset (IAS 12.68B) uses the period-end price %g", open.Format(time.DateOnly), priceEnd))
 					break
 				}
@@ -119,6 +117,9 @@ func (p *period) tax(in TaxInputs, priceEnd float64) *TaxReport {
 	openN, endN := dayNum(open), dayNum(p.end)
 	for _, l := range p.ledgers {
 		g := l.in.Grant
+		if l.financing {
+			continue // not compensation: no compensation deduction
+		}
 		if !g.Deductible() {
 			t.NotDeductible++
 			continue
@@ -157,9 +158,11 @@ func (l *awardLedger) taxBasis(pol Policy, ifrs bool, d int, price float64) (bas
 	s := l.atView(pol, view{d: d, known: d, rate: l.rate}, comp)
 	g := l.in.Grant
 	value := make([]float64, n)
+	counts := make([]trancheCounts, n)
 	for i := range l.tr {
 		t := &l.tr[i]
 		c := t.countsN(d)
+		counts[i] = c
 		delivered := g.Instrument == grants.RSU && t.vestedN(d)
 		if !delivered {
 			// The cost of the shares still outstanding: the cumulative cost
@@ -180,7 +183,7 @@ func (l *awardLedger) taxBasis(pol Policy, ifrs bool, d int, price float64) (bas
 		return cost, cost
 	}
 	est := make([]float64, n)
-	l.attribute(pol, value, d, d, l.rate, est)
+	l.attribute(pol, value, d, d, l.serviceEndN(counts), l.rate, est)
 	for _, v := range est {
 		basis += v
 	}
@@ -191,19 +194,20 @@ func (l *awardLedger) taxBasis(pol Policy, ifrs bool, d int, price float64) (bas
 // day to, by day and kind.
 func (l *awardLedger) settlements(in TaxInputs, ifrs bool, from, to int) []Settlement {
 	g := l.in.Grant
+	// Exercises with their own share price are kept apart, by price.
 	type key struct {
-		day  int
-		kind string
-		ev   int
+		day   int
+		kind  string
+		price float64
 	}
 	acc := map[key]*Settlement{}
 	var keys []key
-	add := func(k key, date time.Time, shares int64, cost float64, price *float64) {
+	add := func(k key, date time.Time, shares int64, cost float64) {
 		st := acc[k]
 		if st == nil {
 			st = &Settlement{GrantID: g.ID, Date: date, Kind: k.kind}
-			if price != nil {
-				st.SharePrice, st.PriceSource, st.Computed = *price, "its Events row", true
+			if k.price > 0 {
+				st.SharePrice, st.PriceSource, st.Computed = k.price, "its Events row", true
 			}
 			acc[k] = st
 			keys = append(keys, k)
@@ -219,14 +223,18 @@ func (l *awardLedger) settlements(in TaxInputs, ifrs bool, from, to int) []Settl
 			}
 			switch {
 			case m.kind == grants.Exercised:
-				add(key{m.dayN, string(m.kind), m.event}, m.date, m.shares, t.FairValue*float64(m.shares), m.price)
+				k := key{day: m.dayN, kind: string(m.kind)}
+				if m.rowPrice {
+					k.price = m.price
+				}
+				add(k, m.date, m.shares, t.FairValue*float64(m.shares))
 			case m.vested || m.kind == grants.Cancelled: // lapsed, or cancelled: cost recognised, no deduction
-				add(key{m.dayN, string(m.kind), m.event}, m.date, m.shares, t.FairValue*float64(m.shares), nil)
+				add(key{day: m.dayN, kind: string(m.kind)}, m.date, m.shares, t.FairValue*float64(m.shares))
 			}
 		}
 		if g.Instrument == grants.RSU && t.vestN >= from && t.vestN <= to {
 			if n := t.countsN(t.vestN).open; n > 0 {
-				add(key{t.vestN, "vested", -1}, t.Tranche.VestDate, n, t.FairValue*float64(n), nil)
+				add(key{day: t.vestN, kind: "vested"}, t.Tranche.VestDate, n, t.FairValue*float64(n))
 			}
 		}
 	}
