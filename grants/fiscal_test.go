@@ -209,3 +209,26 @@ func TestFiscalYearsSpan(t *testing.T) {
 		}
 	}
 }
+
+// FuzzParseMonth: any text is a month 1 to 12 whose name reads back to it,
+// or refused; the same for weekdays. go test ./grants -fuzz FuzzParseMonth
+func FuzzParseMonth(f *testing.F) {
+	for _, s := range []string{"January", "jan", "12", "0", "Sept.", " Sat ", "saturday", "13", "-1", "1e1"} {
+		f.Add(s)
+	}
+	f.Fuzz(func(t *testing.T, s string) {
+		if m, ok := parseMonth(s); ok {
+			if m < time.January || m > time.December {
+				t.Fatalf("parseMonth(%q) = %d", s, m)
+			}
+			if back, ok := parseMonth(m.String()); !ok || back != m {
+				t.Fatalf("parseMonth(%q) = %v, which reads back as %v", s, m, back)
+			}
+		}
+		if w, ok := parseWeekday(s); ok {
+			if back, ok := parseWeekday(w.String()); !ok || back != w {
+				t.Fatalf("parseWeekday(%q) = %v, which reads back as %v", s, w, back)
+			}
+		}
+	})
+}

@@ -32,14 +32,15 @@ const (
 // is an error naming the cell: a grant id or a holder is a short label, and
 // unbounded text would fill the memo with pages.
 const (
-	MaxIDChars     = 64  // grant_id
-	MaxNameChars   = 200 // holder, company_name
+	MaxIDChars     = 64  // grant_id, cost_center, account_code
+	MaxNameChars   = 200 // holder, company_name, account_name
 	MaxSourceChars = 500 // the source of an assumption
 	MaxHeaderChars = 100 // a header or a key
 )
 
 // textLimit gives the longest text allowed in a column read as text.
-var textLimit = map[string]int{"grant_id": MaxIDChars, "holder": MaxNameChars, "company_name": MaxNameChars}
+var textLimit = map[string]int{"grant_id": MaxIDChars, "holder": MaxNameChars, "company_name": MaxNameChars,
+	"cost_center": MaxIDChars, "account_code": MaxIDChars, "account_name": MaxNameChars}
 
 // tooLong reports whether v has more than limit characters.
 func tooLong(v string, limit int) bool {

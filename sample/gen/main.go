@@ -190,8 +190,11 @@ func Schedule() *grants.Schedule {
 		{Role: "compensation_expense", CostCenter: "G&A", Code: "6430", Name: "Share-based compensation - general and administrative"},
 		{Role: "compensation_expense", CostCenter: "COGS", Code: "5410", Name: "Share-based compensation - cost of revenue"},
 		{Role: "equity", Code: "3100", Name: "Additional paid-in capital"},
+		{Role: "share_based_payment_liability", Code: "2460", Name: "Share-based compensation liability"},
 		{Role: "warrant_liability", Code: "2450", Name: "Warrant liability"},
 		{Role: "fair_value_change", Code: "7150", Name: "Change in fair value of warrant liability"},
+		{Role: "warrant_equity", Code: "3100", Name: "Additional paid-in capital"},
+		{Role: "financing_proceeds", Code: "2210", Name: "Debt discount - warrants"},
 		{Role: "deferred_tax_asset", Code: "1850", Name: "Deferred tax assets"},
 		{Role: "deferred_tax_benefit", Code: "8100", Name: "Deferred income tax benefit"},
 	}
