@@ -133,26 +133,23 @@ func (c FiscalCalendar) name(y, q int) string {
 // holding last (none when last is before first). This is the one place
 // that buckets dates into fiscal years: the expense by fiscal year of a
 // close and of a grant design both use it.
-func (c FiscalCalendar) Years(first, last time.Time) []FiscalPeriod {
-	var out []FiscalPeriod
-	if last.Before(first) {
-		return nil
-	}
-	for fy := c.Year(first); !fy.Start.After(last); fy = c.Year(fy.End.AddDate(0, 0, 1)) {
-		out = append(out, fy)
-	}
-	return out
-}
+func (c FiscalCalendar) Years(first, last time.Time) []FiscalPeriod { return span(first, last, c.Year) }
 
 // Quarters are the fiscal quarters from the one holding first to the one
 // holding last (none when last is before first).
 func (c FiscalCalendar) Quarters(first, last time.Time) []FiscalPeriod {
+	return span(first, last, c.Quarter)
+}
+
+// span lists the periods of holding (Year or Quarter) from the one holding
+// first to the one holding last.
+func span(first, last time.Time, holding func(time.Time) FiscalPeriod) []FiscalPeriod {
 	var out []FiscalPeriod
 	if last.Before(first) {
 		return nil
 	}
-	for q := c.Quarter(first); !q.Start.After(last); q = c.Quarter(q.End.AddDate(0, 0, 1)) {
-		out = append(out, q)
+	for p := holding(first); !p.Start.After(last); p = holding(p.End.AddDate(0, 0, 1)) {
+		out = append(out, p)
 	}
 	return out
 }

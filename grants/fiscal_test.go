@@ -6,14 +6,6 @@ import (
 	"time"
 )
 
-func day(s string) time.Time {
-	t, err := time.Parse(time.DateOnly, s)
-	if err != nil {
-		panic(err)
-	}
-	return t
-}
-
 // The fiscal quarters and years worked out by hand from a calendar (the
 // weekdays checked with Python's datetime).
 func TestFiscalCalendarByHand(t *testing.T) {
@@ -57,7 +49,7 @@ func TestFiscalCalendarByHand(t *testing.T) {
 		{nearDec, "2027-01-01", 2026, "2026-01-04", "2027-01-02", 4, "2026-10-04", "2027-01-02", "FY2026 Q4", "FY2026"},
 	}
 	for _, c := range cases {
-		y, q := c.cal.Year(day(c.d)), c.cal.Quarter(day(c.d))
+		y, q := c.cal.Year(d(c.d)), c.cal.Quarter(d(c.d))
 		got := []string{
 			y.Start.Format(time.DateOnly), y.End.Format(time.DateOnly), q.Start.Format(time.DateOnly), q.End.Format(time.DateOnly), q.Name, y.Name}
 		want := []string{c.yStart, c.yEnd, c.qStart, c.qEnd, c.name, c.year_}
@@ -79,7 +71,7 @@ func TestFiscalCalendarTiles(t *testing.T) {
 		}
 	}
 	for _, c := range cals {
-		years := c.Years(day("2020-01-01"), day("2030-12-31"))
+		years := c.Years(d("2020-01-01"), d("2030-12-31"))
 		for i, y := range years {
 			if i > 0 && !y.Start.Equal(years[i-1].End.AddDate(0, 0, 1)) {
 				t.Fatalf("%v: year %s does not follow %s", c, y.Name, years[i-1].Name)
@@ -144,7 +136,7 @@ func TestDefaultPeriodStartFiscal(t *testing.T) {
 	}
 	for _, c := range cases {
 		co := Company{Fiscal: c.cal}
-		if got := co.DefaultPeriodStart(day(c.end)).Format(time.DateOnly); got != c.want {
+		if got := co.DefaultPeriodStart(d(c.end)).Format(time.DateOnly); got != c.want {
 			t.Errorf("%v, period ending %s: starts %s, want %s", c.cal, c.end, got, c.want)
 		}
 	}
@@ -196,7 +188,7 @@ func TestFiscalYearsSpan(t *testing.T) {
 		{"2026-07-01", "2026-06-30", FiscalCalendar{}, ""},
 	} {
 		var parts []string
-		ys := c.cal.Years(day(c.first), day(c.last))
+		ys := c.cal.Years(d(c.first), d(c.last))
 		for i, y := range ys {
 			s := ""
 			if i == 0 || i == len(ys)-1 {

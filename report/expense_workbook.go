@@ -27,11 +27,16 @@ func init() {
 
 // notRun writes a one-line sheet when expense attribution did not run.
 func notRun(b *Book, name string) error {
+	return noteSheet(b, name, "Expense attribution did not run for this valuation.")
+}
+
+// noteSheet writes a sheet of one note.
+func noteSheet(b *Book, name, note string) error {
 	t, err := b.NewTable(name, []Column{{"Note", 80}}, 1)
 	if err != nil {
 		return err
 	}
-	if err := t.Row("Expense attribution did not run for this valuation."); err != nil {
+	if err := t.Row(note); err != nil {
 		return err
 	}
 	return t.Close()

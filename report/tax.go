@@ -161,15 +161,11 @@ func (d *Memo) tax(m *Model) error {
 // (kind "deduction"), then the total.
 func writeTax(b *Book, m *Model) error {
 	e := detail(m)
-	if e == nil || e.Tax == nil {
-		t, err := b.NewTable(SheetTax, []Column{{"Note", 80}}, 1)
-		if err != nil {
-			return err
-		}
-		if err := t.Row("No tax_rate is given on the Assumptions sheet: no tax effect is worked out."); err != nil {
-			return err
-		}
-		return t.Close()
+	if e == nil {
+		return notRun(b, SheetTax)
+	}
+	if e.Tax == nil {
+		return noteSheet(b, SheetTax, "No tax_rate is given on the Assumptions sheet: no tax effect is worked out.")
 	}
 	x := e.Tax
 	cols := []Column{{"Kind", 11}, {"Grant", 14}, {"Date", 12}, {"Event", 11}, {"Shares", 11}, {"Share price", 12},
