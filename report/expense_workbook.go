@@ -333,6 +333,11 @@ func writeJournal(b *Book, m *Model) error {
 	if err != nil {
 		return err
 	}
+	if n == 0 {
+		if err := t.Row(nil, nil, nil, "Nothing is to be booked for the period."); err != nil {
+			return err
+		}
+	}
 	for _, j := range e.Journal {
 		for _, l := range j.Lines {
 			var dr, cr any
