@@ -1,9 +1,12 @@
 package grants
 
 import (
+	"bytes"
 	"strings"
 	"testing"
 	"testing/fstest"
+
+	"github.com/xuri/excelize/v2"
 )
 
 // The cost_center column and the Transfers sheet: read with their cells,
@@ -85,6 +88,44 @@ func TestReadAccountsAndTax(t *testing.T) {
 	} {
 		if !strings.Contains(got, w) {
 			t.Errorf("missing %q in\n%s", w, got)
+		}
+	}
+}
+
+// A written Accounts sheet shows each role and account name whole: its
+// columns are as wide as their longest text, so that a role such as
+// share_based_payment_liability is not cut short by the cost centre
+// beside it.
+func TestWrittenAccountsColumnsFit(t *testing.T) {
+	s := smallSchedule()
+	s.Accounts = []AccountRow{{Role: "share_based_payment_liability", Code: "2460", Name: "Share-based compensation liability"},
+		{Role: "compensation_expense", CostCenter: "R&D", Code: "6410", Name: "Share-based compensation - research and development"}}
+	var buf bytes.Buffer
+	if err := WriteXLSX(&buf, s); err != nil {
+		t.Fatal(err)
+	}
+	f, err := excelize.OpenReader(&buf)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	rows, err := f.GetRows(SheetAccounts)
+	if err != nil || len(rows) < 2 {
+		t.Fatalf("Accounts rows %v, %v", rows, err)
+	}
+	for c, col := range []string{"A", "B", "C", "D"} {
+		longest := 0
+		for _, r := range rows {
+			if c < len(r) {
+				longest = max(longest, len(r[c]))
+			}
+		}
+		w, err := f.GetColWidth(SheetAccounts, col)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if w < float64(longest) {
+			t.Errorf("Accounts column %s (%s) is %g wide, its longest text %d characters", col, rows[0][c], w, longest)
 		}
 	}
 }

@@ -9,6 +9,7 @@ import (
 	"path/filepath"
 	"strconv"
 	"time"
+	"unicode/utf8"
 
 	"github.com/xuri/excelize/v2"
 )
@@ -134,8 +135,7 @@ func writeTable(f *excelize.File, sh *Sheet, rows [][]any, st cellStyles) error 
 				return err
 			}
 		}
-		w := float64(max(len(c.Key)+2, 12))
-		if err := f.SetColWidth(sh.Name, col, col, w); err != nil {
+		if err := f.SetColWidth(sh.Name, col, col, colWidth(c.Key, rows, i)); err != nil {
 			return err
 		}
 	}
@@ -153,6 +153,21 @@ func writeTable(f *excelize.File, sh *Sheet, rows [][]any, st cellStyles) error 
 		}
 	}
 	return nil
+}
+
+// colWidth fits column i to its header and to the longest text written
+// in it (up to 60 characters), so that a long role or account name is not
+// cut short by the cell beside it.
+func colWidth(key string, rows [][]any, i int) float64 {
+	w := max(len(key), 10)
+	for _, row := range rows {
+		if i < len(row) {
+			if t, ok := row[i].(string); ok {
+				w = max(w, min(utf8.RuneCountInString(t), 58))
+			}
+		}
+	}
+	return float64(w + 2)
 }
 
 func writeKeyValue(f *excelize.File, sh *Sheet, rows [][]any, st cellStyles) error {

@@ -1,5 +1,11 @@
 package report
 
+import (
+	"strings"
+
+	"github.com/xuri/excelize/v2"
+)
+
 // Workbook sheets of the expense attribution and the disclosure tables.
 
 // Sheet names added by this file, after Convergence.
@@ -323,8 +329,20 @@ func writeJournal(b *Book, m *Model) error {
 	if e == nil {
 		return notRun(b, SheetJournal)
 	}
-	cols := []Column{{"Entry", 7}, {"Date", 12}, {"Account code", 12}, {"Account", 54}, {"Cost centre", 14}, {"Debit", 18}, {"Credit", 18},
-		{"Currency", 9}, {"Description", 60}, {"Role", 22}, {"Grant", 14}}
+	cols := []Column{{"Entry", 7}, {"Date", 13}, {"Account code", 13}, {"Account", 54}, {"Cost centre", 14}, {"Debit", 16}, {"Credit", 16},
+		{"Currency", 10}, {"Description", 84}, {"Role", 22}, {"Grant", 14}}
+	// Debits and credits as journal.csv has them: in the currency's minor
+	// unit, the currency in its own column rather than in each amount (a
+	// space's width after each, "_)", keeps it apart from the next column).
+	format := "#,##0"
+	if e.JournalDecimals > 0 {
+		format += "." + strings.Repeat("0", e.JournalDecimals)
+	}
+	format += "_)"
+	amount, err := b.f.NewStyle(&excelize.Style{CustomNumFmt: &format})
+	if err != nil {
+		return err
+	}
 	n := 0
 	for _, j := range e.Journal {
 		n += len(j.Lines)
@@ -342,13 +360,13 @@ func writeJournal(b *Book, m *Model) error {
 		for _, l := range j.Lines {
 			var dr, cr any
 			if l.Debit != 0 {
-				dr = b.Cell(b.Style.Money, l.Debit)
+				dr = b.Cell(amount, l.Debit)
 			}
 			if l.Credit != 0 {
-				cr = b.Cell(b.Style.Money, l.Credit)
+				cr = b.Cell(amount, l.Credit)
 			}
 			if err := t.Row(j.Number, b.DateCell(j.Date), b.Text(l.AccountCode), b.Text(l.Account), b.Text(l.CostCenter), dr, cr,
-				m.Company.Currency, b.Text(j.Description), l.Role, b.Text(l.GrantID)); err != nil {
+				b.Text(m.Company.Currency), b.Text(j.Description), l.Role, b.Text(l.GrantID)); err != nil {
 				return err
 			}
 		}

@@ -26,7 +26,7 @@ func writeCostCenters(b *Book, m *Model) error {
 	}
 	money := func(v float64) any { return b.Cell(b.Style.Money, v) }
 	for _, c := range e.ByCostCenter {
-		row := []any{"cost centre", b.Text(c.CostCenter), nil, c.Grants, money(c.Amount), money(c.Cumulative), money(c.Unrecognized)}
+		row := []any{b.Cell(b.Style.Bold, "cost centre"), b.Text(c.CostCenter), nil, c.Grants, money(c.Amount), money(c.Cumulative), money(c.Unrecognized)}
 		for _, v := range c.Forecast {
 			row = append(row, money(v))
 		}
