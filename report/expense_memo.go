@@ -162,7 +162,7 @@ func (d *Memo) journal(m *Model) error {
 		e.PeriodStart, e.PeriodEnd, m.Company.Currency, e.PeriodEnd, equity))
 	var rows [][]string
 	for _, j := range e.Journal {
-		rows = append(rows, []string{"\x00" + fmt.Sprintf("%d. %s", j.Number, j.Description), "", "", "", ""})
+		rows = append(rows, []string{"\x00" + fmt.Sprintf("%d. %s", j.Number, j.Description)})
 		for _, l := range j.Lines {
 			acct := "Dr " + l.Account
 			dr, cr := groupDigits(l.Debit, e.JournalDecimals), ""
