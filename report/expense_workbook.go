@@ -1,17 +1,22 @@
 package report
 
-// Workbook sheets of the expense attribution and the disclosure tables.
-
 import (
 	"fmt"
 	"io"
 	"strconv"
+	"strings"
+
+	"github.com/xuri/excelize/v2"
 )
+
+// Workbook sheets of the expense attribution and the disclosure tables.
 
 // Sheet names added by this file, after Convergence.
 const (
 	SheetExpense     = "Expense"
+	SheetCostCenters = "Expense by cost centre"
 	SheetForecast    = "Expense forecast"
+	SheetByYear      = "Expense by fiscal year"
 	SheetFinancing   = "Financing warrants"
 	SheetDisclosures = "Disclosures"
 	SheetJournal     = "Journal"
@@ -20,19 +25,27 @@ const (
 func init() {
 	sheetHooks = append(sheetHooks,
 		SheetHook{SheetExpense, writeExpense},
+		SheetHook{SheetCostCenters, writeCostCenters},
 		SheetHook{SheetForecast, writeForecast},
+		SheetHook{SheetByYear, writeByYear},
 		SheetHook{SheetFinancing, writeFinancing},
 		SheetHook{SheetDisclosures, writeDisclosures},
-		SheetHook{SheetJournal, writeJournal})
+		SheetHook{SheetJournal, writeJournal},
+		SheetHook{SheetTax, writeTax})
 }
 
 // notRun writes a one-line sheet when expense attribution did not run.
 func notRun(b *Book, name string) error {
+	return noteSheet(b, name, "Expense attribution did not run for this valuation.")
+}
+
+// noteSheet writes a sheet of one note.
+func noteSheet(b *Book, name, note string) error {
 	t, err := b.NewTable(name, []Column{{"Note", 80}}, 1)
 	if err != nil {
 		return err
 	}
-	if err := t.Row("Expense attribution did not run for this valuation."); err != nil {
+	if err := t.Row(note); err != nil {
 		return err
 	}
 	return t.Close()
@@ -51,7 +64,7 @@ const SheetExpenseTranches = "Expense tranches"
 
 // expenseColumns are the columns of the Expense sheet and of its
 // continuation.
-var expenseColumns = []Column{{"Level", 9}, {"Grant", 14}, {"Holder", 12}, {"Instrument", 11}, {"Tranche", 8},
+var expenseColumns = []Column{{"Level", 9}, {"Grant", 14}, {"Holder", 12}, {"Cost centre", 14}, {"Instrument", 11}, {"Tranche", 8},
 	{"Service start", 12}, {"Vest date / service end", 14}, {"Shares", 11}, {"Shares counted", 13},
 	{"Expected share at vest", 12}, {"Fair value per share", 14}, {"Total cost", 16},
 	{"Cumulative at period start", 16}, {"Period expense", 16}, {"Cumulative at period end", 16},
@@ -165,7 +178,7 @@ func (x *expenseSheet) slow(t *Table, from, to int, total, withTranches bool) er
 			if g.Liability {
 				liability = money(g.LiabilityEnd)
 			}
-			if err := t.Row("grant", b.Text(g.GrantID), b.Text(g.Holder), g.Instrument, nil,
+			if err := t.Row("grant", b.Text(g.GrantID), b.Text(g.Holder), b.Text(g.CostCenter), g.Instrument, nil,
 				b.DateCell(g.ServiceStart), b.DateCell(g.ServiceEnd), b.Cell(b.Style.Int, gs), b.Cell(b.Style.Number, counted),
 				nil, nil, money(g.Cost), money(g.CumulativeOpen), money(g.Amount), money(g.Cumulative),
 				money(g.Unrecognized), b.Cell(b.Style.Years, g.RemainingYears), liability); err != nil {
@@ -176,7 +189,7 @@ func (x *expenseSheet) slow(t *Table, from, to int, total, withTranches bool) er
 			continue
 		}
 		for _, tr := range g.Tranches {
-			if err := t.Row("tranche", b.Text(g.GrantID), b.Text(g.Holder), g.Instrument, tr.Index,
+			if err := t.Row("tranche", b.Text(g.GrantID), b.Text(g.Holder), nil, g.Instrument, tr.Index,
 				b.DateCell(g.ServiceStart), b.DateCell(tr.VestDate), b.Cell(b.Style.Int, tr.Shares), b.Cell(b.Style.Number, tr.SharesCounted),
 				b.Cell(b.Style.Percent, tr.ExpectedShare), b.Cell(b.Style.MoneyPerShare, tr.FairValuePerShare),
 				money(tr.Cost), money(tr.CumulativeOpen), money(tr.Amount), money(tr.Cumulative),
@@ -187,7 +200,7 @@ func (x *expenseSheet) slow(t *Table, from, to int, total, withTranches bool) er
 	}
 	if total {
 		shares, cost, open := x.totals()
-		if err := t.Row(b.Cell(b.Style.Bold, "total"), nil, nil, nil, nil, nil, nil, b.Cell(b.Style.Int, shares), nil, nil, nil,
+		if err := t.Row(b.Cell(b.Style.Bold, "total"), nil, nil, nil, nil, nil, nil, nil, b.Cell(b.Style.Int, shares), nil, nil, nil,
 			money(cost), money(open), money(e.Amount), money(e.Cumulative), money(x.m.Expense.UnrecognizedCost),
 			b.Cell(b.Style.Years, x.m.Expense.WeightedAverageRemainingYears), nil); err != nil {
 			return err
@@ -203,7 +216,7 @@ func writeForecast(b *Book, m *Model) error {
 	if e == nil {
 		return notRun(b, SheetForecast)
 	}
-	cols := []Column{{"Kind", 12}, {"Start", 12}, {"End", 12}, {"Compensation expense", 20}, {"Financing warrants: change in fair value (outside operating expense)", 26}}
+	cols := []Column{{"Kind", 12}, {"Quarter", 12}, {"Start", 12}, {"End", 12}, {"Compensation expense", 20}, {"Financing warrants: change in fair value (outside operating expense)", 26}}
 	t, err := b.NewTable(SheetForecast, cols, len(m.Expense.Periods)+len(e.Forecast)+1)
 	if err != nil {
 		return err
@@ -213,16 +226,16 @@ func writeForecast(b *Book, m *Model) error {
 		if p.Current {
 			kind = "this period"
 		}
-		if err := t.Row(kind, b.DateCell(p.Start), b.DateCell(p.End), b.Cell(b.Style.Money, p.Amount), b.Cell(b.Style.Money, p.FinancingFairValueChange)); err != nil {
+		if err := t.Row(kind, p.Label, b.DateCell(p.Start), b.DateCell(p.End), b.Cell(b.Style.Money, p.Amount), b.Cell(b.Style.Money, p.FinancingFairValueChange)); err != nil {
 			return err
 		}
 	}
 	for _, p := range e.Forecast {
-		if err := t.Row("expected", b.DateCell(p.Start), b.DateCell(p.End), b.Cell(b.Style.Money, p.Amount), nil); err != nil {
+		if err := t.Row("expected", p.Label, b.DateCell(p.Start), b.DateCell(p.End), b.Cell(b.Style.Money, p.Amount), nil); err != nil {
 			return err
 		}
 	}
-	if err := t.Row("after", nil, nil, b.Cell(b.Style.Money, e.AfterForecast), nil); err != nil {
+	if err := t.Row("after", nil, nil, nil, b.Cell(b.Style.Money, e.AfterForecast), nil); err != nil {
 		return err
 	}
 	return t.Close()
@@ -400,20 +413,33 @@ func writeDisclosures(b *Book, m *Model) error {
 	return writeBlocks(b, SheetDisclosures, []float64{44, 30, 18, 20, 20, 22, 20, 22}, blocks)
 }
 
-// writeJournal is one row per line of the period's entries.
+// writeJournal is journal.csv as a sheet: one row per line of every entry,
+// with the role and grant beside the file's columns.
 func writeJournal(b *Book, m *Model) error {
 	e := detail(m)
 	if e == nil {
 		return notRun(b, SheetJournal)
 	}
-	cols := []Column{{"Entry", 7}, {"Date", 12}, {"Description", 84}, {"Account role", 28}, {"Account code", 12}, {"Account", 40},
-		{"Debit", 16}, {"Credit", 16}, {"Currency", 9}, {"Grant", 12}}
+	cols := []Column{{"Entry", 7}, {"Date", 13}, {"Account code", 13}, {"Account", 54}, {"Cost centre", 14}, {"Debit", 16}, {"Credit", 16},
+		{"Currency", 10}, {"Description", 84}, {"Role", 22}, {"Grant", 14}}
+	// Debits and credits as journal.csv has them: in the currency's minor
+	// unit, the currency in its own column rather than in each amount (a
+	// space's width after each, "_)", keeps it apart from the next column).
+	format := "#,##0"
+	if e.JournalDecimals > 0 {
+		format += "." + strings.Repeat("0", e.JournalDecimals)
+	}
+	format += "_)"
+	amount, err := b.f.NewStyle(&excelize.Style{CustomNumFmt: &format})
+	if err != nil {
+		return err
+	}
 	if len(e.Journal) == 0 {
-		t, err := b.NewTable(SheetJournal, cols, 1)
+		t, err := b.NewTable(SheetJournal, cols, 0)
 		if err != nil {
 			return err
 		}
-		if err := t.Row(nil, nil, "Nothing is to be booked for the period."); err != nil {
+		if err := t.Row(nil, nil, nil, "Nothing is to be booked for the period."); err != nil {
 			return err
 		}
 		return t.Close()
@@ -430,21 +456,17 @@ func writeJournal(b *Book, m *Model) error {
 		if err != nil {
 			return err
 		}
-		for i := from; i < to; i++ {
-			j := e.Journal[i]
+		for _, j := range e.Journal[from:to] {
 			for _, l := range j.Lines {
-				var dr, cr, grant any
+				var dr, cr any
 				if l.Debit != 0 {
-					dr = b.Cell(b.Style.Money, l.Debit)
+					dr = b.Cell(amount, l.Debit)
 				}
 				if l.Credit != 0 {
-					cr = b.Cell(b.Style.Money, l.Credit)
+					cr = b.Cell(amount, l.Credit)
 				}
-				if l.GrantID != "" {
-					grant = b.Text(l.GrantID)
-				}
-				if err := t.Row(b.Cell(b.Style.Int, i+1), b.DateCell(j.Date), b.Text(j.Description), l.Role, b.Text(l.AccountCode),
-					b.Text(l.Account), dr, cr, m.Company.Currency, grant); err != nil {
+				if err := t.Row(j.Number, b.DateCell(j.Date), b.Text(l.AccountCode), b.Text(l.Account), b.Text(l.CostCenter), dr, cr,
+					b.Text(m.Company.Currency), b.Text(j.Description), l.Role, b.Text(l.GrantID)); err != nil {
 					return err
 				}
 			}
@@ -463,7 +485,7 @@ func expenseRowsPlain(x *Expense) bool {
 	e := x.ExpenseDetail
 	for i := range e.ByGrant {
 		g := &e.ByGrant[i]
-		if !plainText(g.GrantID) || !plainText(g.Holder) || !plainText(g.Instrument) || !plainDate(g.ServiceStart) || !plainDate(g.ServiceEnd) {
+		if !plainText(g.GrantID) || !plainText(g.Holder) || !plainText(g.CostCenter) || !plainText(g.Instrument) || !plainDate(g.ServiceStart) || !plainDate(g.ServiceEnd) {
 			return false
 		}
 		for _, v := range []float64{g.Cost, g.CumulativeOpen, g.Amount, g.Cumulative, g.Unrecognized, g.RemainingYears, g.LiabilityEnd} {
@@ -518,19 +540,20 @@ func (x *expenseSheet) fast(from, to int, total, withTranches bool) fastRows {
 				w.text(1, 0, "grant")
 				w.text(2, s.Input, g.GrantID)
 				w.text(3, s.Input, g.Holder)
-				w.text(4, 0, g.Instrument)
-				w.date(6, s.Date, g.ServiceStart)
-				w.date(7, s.Date, g.ServiceEnd)
-				w.int(8, s.Int, gs)
-				w.float(9, s.Number, counted)
-				w.float(12, s.Money, g.Cost)
-				w.float(13, s.Money, g.CumulativeOpen)
-				w.float(14, s.Money, g.Amount)
-				w.float(15, s.Money, g.Cumulative)
-				w.float(16, s.Money, g.Unrecognized)
-				w.float(17, s.Years, g.RemainingYears)
+				w.text(4, s.Input, g.CostCenter)
+				w.text(5, 0, g.Instrument)
+				w.date(7, s.Date, g.ServiceStart)
+				w.date(8, s.Date, g.ServiceEnd)
+				w.int(9, s.Int, gs)
+				w.float(10, s.Number, counted)
+				w.float(13, s.Money, g.Cost)
+				w.float(14, s.Money, g.CumulativeOpen)
+				w.float(15, s.Money, g.Amount)
+				w.float(16, s.Money, g.Cumulative)
+				w.float(17, s.Money, g.Unrecognized)
+				w.float(18, s.Years, g.RemainingYears)
 				if g.Liability {
-					w.float(18, s.Money, g.LiabilityEnd)
+					w.float(19, s.Money, g.LiabilityEnd)
 				}
 				if err := end(); err != nil {
 					return err
@@ -545,20 +568,20 @@ func (x *expenseSheet) fast(from, to int, total, withTranches bool) fastRows {
 				w.text(1, 0, "tranche")
 				w.text(2, s.Input, g.GrantID)
 				w.text(3, s.Input, g.Holder)
-				w.text(4, 0, g.Instrument)
-				w.int(5, 0, int64(tr.Index))
-				w.date(6, s.Date, g.ServiceStart)
-				w.date(7, s.Date, tr.VestDate)
-				w.int(8, s.Int, tr.Shares)
-				w.float(9, s.Number, tr.SharesCounted)
-				w.float(10, s.Percent, tr.ExpectedShare)
-				w.float(11, s.MoneyPerShare, tr.FairValuePerShare)
-				w.float(12, s.Money, tr.Cost)
-				w.float(13, s.Money, tr.CumulativeOpen)
-				w.float(14, s.Money, tr.Amount)
-				w.float(15, s.Money, tr.Cumulative)
-				w.float(16, s.Money, tr.Unrecognized)
-				w.float(17, s.Years, tr.RemainingYears)
+				w.text(5, 0, g.Instrument)
+				w.int(6, 0, int64(tr.Index))
+				w.date(7, s.Date, g.ServiceStart)
+				w.date(8, s.Date, tr.VestDate)
+				w.int(9, s.Int, tr.Shares)
+				w.float(10, s.Number, tr.SharesCounted)
+				w.float(11, s.Percent, tr.ExpectedShare)
+				w.float(12, s.MoneyPerShare, tr.FairValuePerShare)
+				w.float(13, s.Money, tr.Cost)
+				w.float(14, s.Money, tr.CumulativeOpen)
+				w.float(15, s.Money, tr.Amount)
+				w.float(16, s.Money, tr.Cumulative)
+				w.float(17, s.Money, tr.Unrecognized)
+				w.float(18, s.Years, tr.RemainingYears)
 				if err := end(); err != nil {
 					return err
 				}
@@ -568,13 +591,13 @@ func (x *expenseSheet) fast(from, to int, total, withTranches bool) fastRows {
 			shares, cost, open := x.totals()
 			start()
 			w.text(1, s.Bold, "total")
-			w.int(8, s.Int, shares)
-			w.float(12, s.Money, cost)
-			w.float(13, s.Money, open)
-			w.float(14, s.Money, e.Amount)
-			w.float(15, s.Money, e.Cumulative)
-			w.float(16, s.Money, x.m.Expense.UnrecognizedCost)
-			w.float(17, s.Years, x.m.Expense.WeightedAverageRemainingYears)
+			w.int(9, s.Int, shares)
+			w.float(13, s.Money, cost)
+			w.float(14, s.Money, open)
+			w.float(15, s.Money, e.Amount)
+			w.float(16, s.Money, e.Cumulative)
+			w.float(17, s.Money, x.m.Expense.UnrecognizedCost)
+			w.float(18, s.Years, x.m.Expense.WeightedAverageRemainingYears)
 			if err := end(); err != nil {
 				return err
 			}

@@ -416,7 +416,7 @@ func (r *priorReader) prior() (*accounting.Prior, string) {
 			PreVestingForfeitureRate: e.PreVestingForfeitureRate, Framework: grants.Framework(e.Framework)},
 		LiabilityChangeApart: *r.schemaVersion < 2}
 	for _, pa := range e.Periods {
-		p.Periods = append(p.Periods, accounting.PeriodAmount{Start: pa.Start.Time(), End: pa.End.Time(), Amount: pa.Amount, FairValueChange: pa.FinancingFairValueChange})
+		p.Periods = append(p.Periods, accounting.PeriodAmount{Start: pa.Start.Time(), End: pa.End.Time(), Label: pa.Label, Amount: pa.Amount, FairValueChange: pa.FinancingFairValueChange})
 	}
 	financing := make(map[string]*FinancingWarrant, len(e.Financing))
 	for i := range e.Financing {

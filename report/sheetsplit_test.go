@@ -18,8 +18,8 @@ func lowerRowLimit(t *testing.T, n int) {
 	t.Cleanup(func() { sheetRowLimit = MaxSheetRows })
 }
 
-// plainExpenseModel is the expense test model with holders the fast rows
-// write.
+// plainExpenseModel is the expense test model with holders and cost
+// centres the fast rows write.
 func plainExpenseModel(t *testing.T) *Model {
 	m := expenseModelFor(t, expenseSchedule())
 	for i := range m.Grants {
@@ -27,6 +27,7 @@ func plainExpenseModel(t *testing.T) *Model {
 	}
 	for i := range m.Expense.ByGrant {
 		m.Expense.ByGrant[i].Holder = "H" + strconv.Itoa(i)
+		m.Expense.ByGrant[i].CostCenter = "CC" + strconv.Itoa(i%2) // a cost centre of each grant row
 	}
 	if !trancheRowsPlain(m) || !expenseRowsPlain(m.Expense) {
 		t.Fatal("the test model does not take the fast rows")
@@ -85,8 +86,8 @@ func TestSheetsPastTheRowLimit(t *testing.T) {
 	// A catch-up entry for each grant (two lines each): the Journal
 	// continues too, an entry never split across sheets.
 	m.Expense.Journal = nil
-	for _, g := range m.Grants {
-		m.Expense.Journal = append(m.Expense.Journal, JournalEntry{Description: "Catch-up for closed periods, grant " + g.ID, Lines: []JournalLine{
+	for k, g := range m.Grants {
+		m.Expense.Journal = append(m.Expense.Journal, JournalEntry{Number: k + 1, Description: "Catch-up for closed periods, grant " + g.ID, Lines: []JournalLine{
 			{Role: "compensation", Account: "Share-based compensation expense", GrantID: g.ID, Debit: 1},
 			{Role: "equity", Account: "Additional paid-in capital", GrantID: g.ID, Credit: 1}}})
 	}
@@ -159,7 +160,7 @@ func TestSheetsPastTheRowLimit(t *testing.T) {
 	k = 0
 	for _, g := range m.Expense.ByGrant {
 		for _, tr := range g.Tranches {
-			if k >= len(data) || data[k][0] != "tranche" || data[k][1] != g.GrantID || data[k][4] != strconv.Itoa(tr.Index) {
+			if k >= len(data) || data[k][0] != "tranche" || data[k][1] != g.GrantID || data[k][5] != strconv.Itoa(tr.Index) {
 				t.Fatalf("Expense tranches row %d: %v, want %s tranche %d", k, data[min(k, len(data)-1)], g.GrantID, tr.Index)
 			}
 			k++
@@ -174,7 +175,7 @@ func TestSheetsPastTheRowLimit(t *testing.T) {
 		t.Errorf("Journal: %d rows on %d sheets, want %d on %d", len(data), parts, 2*len(m.Expense.Journal), want)
 	}
 	for k := 0; k+1 < len(data); k += 2 {
-		if data[k][0] != data[k+1][0] || data[k][9] != data[k+1][9] {
+		if data[k][0] != data[k+1][0] || data[k][10] != data[k+1][10] || data[k][10] == "" {
 			t.Errorf("Journal rows %d and %d: an entry split (%v, %v)", k, k+1, data[k], data[k+1])
 		}
 	}
