@@ -96,8 +96,9 @@ var (
 )
 
 // Sheets is the layout of the input workbook (DESIGN §4.2), in the order the
-// template writes them.
-var Sheets = []Sheet{
+// template writes them; the sheets of vesting conditions (conditions.go)
+// come last.
+var Sheets = append([]Sheet{
 	{Name: SheetCompany, File: "company.csv", KeyValue: true, Required: true,
 		Help: "The company and the reporting period: one key and its value per row.",
 		Columns: []Column{
@@ -145,6 +146,7 @@ var Sheets = []Sheet{
 			{Key: "post_vesting_exit_rate", Kind: KindPercent, Unit: "annual", Need: "optional", Default: "Assumptions", Help: "Overrides the post-vesting exit rate."},
 			{Key: "classification", Kind: KindChoice, Choices: classifications, Need: "warrants, optional", Default: "equity", Help: "Equity warrants are measured at grant; liability warrants are remeasured at every valuation date."},
 			{Key: "exercise_style", Kind: KindChoice, Choices: exerciseStyles, Need: "warrants, optional", Default: "american", Help: "American warrants may be exercised at any time once vested; european only at expiry."},
+			{Key: "condition", Kind: KindText, Need: "optional", Default: "none (service only)", Help: "A condition_id of the Conditions sheet: the award vests only if that performance or market condition is met too."},
 		}},
 	{Name: SheetVesting, File: "vesting.csv",
 		Help: "Optional custom vesting: for each grant named here these rows replace the schedule of the Grants columns. The shares of a grant must add up to its grant.",
@@ -175,7 +177,7 @@ var Sheets = []Sheet{
 			{Key: "event", Kind: KindChoice, Choices: eventKinds, Required: true, Need: "required", Help: "exercised, forfeited (unvested shares lost on leaving), expired (vested shares lapsed) or cancelled."},
 			{Key: "shares", Kind: KindInt, Unit: "shares", Required: true, Need: "required", Help: "Shares affected."},
 		}},
-}
+}, conditionSheets...)
 
 // DesignSheets is the layout of the grant designs workbook that compare
 // reads (and init --designs writes): the schedule's Company sheet with one

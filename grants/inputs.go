@@ -34,6 +34,10 @@ type Inputs struct {
 	// RiskFreeRate is the continuous zero rate at the grant's years to
 	// expiry (for an RSU, to its last vest date); Text describes the curve.
 	RiskFreeRate Source
+
+	// Condition is the grant's vesting condition beyond service with what
+	// valuing it needs (condition_inputs.go); nil for service only.
+	Condition *ConditionInputs
 }
 
 // Named is one valuation input of a grant by its key.
@@ -178,6 +182,11 @@ func (s *Schedule) Inputs(g Grant) (Inputs, error) {
 		in.RiskFreeRate = Source{Text: fmt.Sprintf("no Rates curve on or before %s; an RSU's value needs none", isoDay(md))}
 	} else {
 		return fail("grant_date", "no Rates curve is dated on or before %s, the measurement date of grant %s", isoDay(md), g.ID)
+	}
+	if g.Condition != "" {
+		if err := s.conditionInputs(&in); err != nil {
+			return Inputs{}, err
+		}
 	}
 	return in, nil
 }

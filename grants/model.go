@@ -63,6 +63,13 @@ type Schedule struct {
 	Events      []Event
 	Designs     []Design // the Designs sheet of a designs workbook (ReadDesigns)
 
+	// Vesting conditions (conditions.go): the Conditions, Assessments,
+	// Payout Curve and Peers sheets, row by row.
+	Conditions  []Condition
+	Assessments []Assessment
+	PayoutCurve []PayoutRow
+	Peers       []Peer
+
 	// layout is, per sheet read, the 0-based column of each column key, so
 	// that problems with empty cells can name the cell.
 	layout map[string]map[string]int
@@ -154,6 +161,7 @@ type Grant struct {
 
 	Classification Classification // warrants; default equity
 	ExerciseStyle  ExerciseStyle  // warrants; default american
+	Condition      string         // a condition_id of the Conditions sheet; "" for service only
 
 	Row  int            // 1-based row on the Grants sheet
 	Refs map[string]Ref // by column key, e.g. "strike"

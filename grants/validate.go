@@ -45,6 +45,7 @@ func validate(s *Schedule, skip map[string]bool) Report {
 	v.vesting()
 	v.events()
 	v.designs()
+	v.conditions()
 	return v.rep
 }
 

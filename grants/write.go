@@ -306,6 +306,9 @@ func sheetRows(s *Schedule, sh *Sheet) [][]any {
 				put(row, "classification", string(g.Classification))
 				put(row, "exercise_style", string(g.ExerciseStyle))
 			}
+			if g.Condition != "" {
+				put(row, "condition", g.Condition)
+			}
 			rows = append(rows, row)
 		}
 	case SheetVesting:
@@ -328,6 +331,8 @@ func sheetRows(s *Schedule, sh *Sheet) [][]any {
 		for _, d := range s.Designs {
 			rows = append(rows, designRowCells(d, n, put))
 		}
+	case SheetConditions, SheetAssessments, SheetPayoutCurve, SheetPeers:
+		rows = conditionRows(s, sh.Name, n, put)
 	}
 	return rows
 }
