@@ -91,22 +91,27 @@ func HurdleSim(a HurdleAward, m Market, o SimOptions) (*HurdleSimResult, error) 
 // hurdlePaths is the fixed part of a hurdle simulation: the grid, the
 // drifts and the award.
 type hurdlePaths struct {
-	a        HurdleAward
-	m        Market
-	times    []float64
-	drift    []float64 // of ln S over each step
-	sd       []float64 // σ√Δt of each step
-	monitor  []bool    // grid date k+1 is a close the daily hurdle watches
-	iD       int       // grid index of the deadline
-	iV       []int     // grid index of each vest date
-	disc     []float64 // P(0, t_k)
-	x0, xB   float64   // ln S0, ln H
-	xM       float64   // ln(M·K), +Inf without a multiple
-	K        float64
-	lambda   float64
-	deadline float64
-	days     int // hitting-time bins (days) up to the deadline
-	employee bool
+	a       HurdleAward
+	m       Market
+	times   []float64
+	drift   []float64 // of ln S over each step
+	sd      []float64 // σ√Δt of each step
+	monitor []bool    // grid date k+1 is a close the daily hurdle watches
+	// anchor[i] marks the grid dates the path is needed at once the
+	// hurdle is met (every one but a daily close that is nothing else):
+	// between them the bridge is exact, so the walk takes one step.
+	anchor           []bool
+	cumDrift, cumVar []float64 // of ln S from 0 to each grid date
+	iD               int       // grid index of the deadline
+	iV               []int     // grid index of each vest date
+	disc             []float64 // P(0, t_k)
+	x0, xB           float64   // ln S0, ln H
+	xM               float64   // ln(M·K), +Inf without a multiple
+	K                float64
+	lambda           float64
+	deadline         float64
+	days             int // hitting-time bins (days) up to the deadline
+	employee         bool
 }
 
 func newHurdlePaths(a HurdleAward, m Market, o SimOptions) *hurdlePaths {
@@ -162,17 +167,26 @@ func newHurdlePaths(a HurdleAward, m Market, o SimOptions) *hurdlePaths {
 	})
 	hs.times = []float64{0}
 	hs.monitor = nil
+	hs.anchor = []bool{true}
 	for _, mk := range ms {
 		if last := len(hs.times) - 1; mk.t <= hs.times[last]+1e-12 {
 			if mk.mon && last > 0 {
 				hs.monitor[last-1] = true
 			}
+			hs.anchor[last] = hs.anchor[last] || !mk.mon
 			continue
 		}
 		hs.times = append(hs.times, mk.t)
 		hs.monitor = append(hs.monitor, mk.mon)
+		hs.anchor = append(hs.anchor, !mk.mon)
 	}
 	hs.drift, hs.sd = logSteps(hs.times, m)
+	hs.cumDrift = make([]float64, len(hs.times))
+	hs.cumVar = make([]float64, len(hs.times))
+	for k := range hs.drift {
+		hs.cumDrift[k+1] = hs.cumDrift[k] + hs.drift[k]
+		hs.cumVar[k+1] = hs.cumVar[k] + hs.sd[k]*hs.sd[k]
+	}
 	hs.disc = make([]float64, len(hs.times))
 	for k, tk := range hs.times {
 		hs.disc[k] = m.Curve.Discount(tk)
@@ -301,15 +315,15 @@ func (hs *hurdlePaths) path(rng *rand.Rand, st *hurdleState, s float64, buf []fl
 		filled = k + 1
 		switch {
 		case daily && hs.monitor[k]:
-			level := xn
+			met := xn >= hs.xB
 			if nb > 0 {
 				p := math.Exp(xn)
 				sum += p - buf[pos]
 				buf[pos] = p
 				pos = (pos + 1) % nb
-				level = math.Log(sum / float64(nb))
+				met = sum >= hs.a.Hurdle.Price*float64(nb)
 			}
-			if level >= hs.xB {
+			if met {
 				tau, hit = hs.times[k+1], true
 			}
 		case !daily:
@@ -325,8 +339,12 @@ func (hs *hurdlePaths) path(rng *rand.Rand, st *hurdleState, s float64, buf []fl
 	if !hit {
 		return hs.deadline, false
 	}
-	for k := filled; k < len(hs.drift); k++ {
-		st.x[k+1] = st.x[k] + hs.drift[k] + s*hs.sd[k]*st.normal(rng, k)
+	// On from the hit, only to the grid dates the tranches need.
+	for a, j := filled, filled+1; j < len(st.x); j++ {
+		if hs.anchor[j] {
+			st.x[j] = st.x[a] + hs.cumDrift[j] - hs.cumDrift[a] + s*math.Sqrt(hs.cumVar[j]-hs.cumVar[a])*st.normal(rng, j-1)
+			a = j
+		}
 	}
 	return tau, true
 }
@@ -382,27 +400,33 @@ func (hs *hurdlePaths) tranche(rng *rand.Rand, st *hurdleState, s float64, i int
 	if hs.lambda > 0 {
 		exit = start + st.exp/hs.lambda
 	}
+	// Segment by segment to the next grid date the path was drawn at
+	// (after the hit the walk skips daily closes that are nothing else):
+	// (a, xa) to (b, xb), of Brownian variance v.
 	a, xa := start, xs
-	for ; k < len(hs.drift); k++ {
-		b, xb := hs.times[k+1], st.x[k+1]
-		if !within && b <= a {
-			continue
+	for k < len(hs.drift) {
+		j := k + 1
+		for !within && j < len(hs.anchor)-1 && !hs.anchor[j] {
+			j++
+		}
+		b, xb := hs.times[j], st.x[j]
+		v := hs.cumVar[j] - hs.cumVar[k]
+		if within {
+			v = hs.sd[k] * hs.sd[k] * (b - a) / (hs.times[k+1] - hs.times[k])
 		}
 		within = false
 		if exit < b {
 			w := (exit - a) / (b - a)
-			sd := hs.sd[k] * math.Sqrt((b-a)/(hs.times[k+1]-hs.times[k]))
-			xe := xa + w*(xb-xa) + sd*math.Sqrt(w*(1-w))*rng.NormFloat64()
-			if at, ok := hs.cross(rng, a, xa, exit, xe, sd*sd*w); ok {
+			xe := xa + w*(xb-xa) + math.Sqrt(v*w*(1-w))*rng.NormFloat64()
+			if at, ok := hs.cross(rng, a, xa, exit, xe, v*w); ok {
 				return (math.Exp(hs.xM) - hs.K) * hs.m.Curve.Discount(at), control(hs.xM, at), at, start
 			}
 			return math.Max(math.Exp(xe)-hs.K, 0) * hs.m.Curve.Discount(exit), control(xe, exit), exit, start
 		}
-		v := hs.sd[k] * hs.sd[k] * (b - a) / (hs.times[k+1] - hs.times[k])
 		if at, ok := hs.cross(rng, a, xa, b, xb, v); ok {
 			return (math.Exp(hs.xM) - hs.K) * hs.m.Curve.Discount(at), control(hs.xM, at), at, start
 		}
-		a, xa = b, xb
+		a, xa, k = b, xb, j
 	}
 	return math.Max(math.Exp(xa)-hs.K, 0) * hs.m.Curve.Discount(T), control(xa, T), T, start
 }
