@@ -42,6 +42,9 @@ type Award struct {
 	Events         []grants.Event // this grant's events, in any order
 	Remeasurements []Remeasurement
 	Measured       *MeasuredAssumptions // optional; used by Disclose
+	// Condition is how a vesting condition beyond service changes the
+	// attribution (ConditionOf); nil for service only.
+	Condition *Conditioned
 }
 
 // Policy is the company's attribution and forfeiture policy. The zero
@@ -115,6 +118,10 @@ type GrantExpense struct {
 	Remeasurements []Remeasurement
 
 	Tranches []TrancheExpense
+	// Condition is how a vesting condition beyond service changed the
+	// attribution (nil for service only): the outcomes assessed, the
+	// requisite service ends, the day a hurdle was met.
+	Condition *Conditioned
 }
 
 // ExpenseReport is the attribution for one reporting period.
@@ -273,7 +280,7 @@ func (p *period) expense() *ExpenseReport {
 	var wYears float64
 	for _, l := range ledgers {
 		g := l.in.Grant
-		ge := GrantExpense{GrantID: g.ID, Holder: g.Holder, Instrument: g.Instrument, Liability: l.liability, GrantDate: g.GrantDate, ServiceStart: l.start, ServiceEnd: l.last}
+		ge := GrantExpense{GrantID: g.ID, Holder: g.Holder, Instrument: g.Instrument, Liability: l.liability, GrantDate: g.GrantDate, ServiceStart: l.start, ServiceEnd: l.last, Condition: l.in.Condition}
 		s0 := l.at(pol, open, open)
 		s1 := l.at(pol, periodEnd, periodEnd)
 		// The opening balances: as restated (s0), or as the prior close
@@ -319,7 +326,7 @@ func (p *period) expense() *ExpenseReport {
 			if te.Unrecognized < 1e-9*math.Max(1, te.Cost) {
 				te.Unrecognized = 0
 			}
-			if left := valuation.Days(shiftDays(periodEnd, 1), t.Tranche.VestDate); left > 0 && te.Unrecognized > 0 {
+			if left := valuation.Days(shiftDays(periodEnd, 1), t.serviceEnd(dayNum(periodEnd))); left > 0 && te.Unrecognized > 0 {
 				te.RemainingYears = float64(left) / 365
 			}
 			ge.Tranches = append(ge.Tranches, te)

@@ -48,7 +48,11 @@ type trancheLedger struct {
 	days  int       // service days
 	// day numbers (dn) of the service start and the vest date
 	startN, vestN int
-	moves         []move
+	// endN is the last day of the requisite service (the vest date unless
+	// a market condition sets a later one); from day metN on (a hurdle
+	// met; MaxInt until then) it is metEndN (conditions.go).
+	endN, metN, metEndN int
+	moves               []move
 }
 
 type awardLedger struct {
@@ -63,6 +67,9 @@ type awardLedger struct {
 	remeasN   []int           // their day numbers
 	// day numbers of the grant date and the service start
 	grantN, startN int
+	// asOfN is the last day whose events (and a condition's assessments)
+	// are known.
+	asOfN int
 
 	// scratch for atInto
 	bufValue, bufLia, bufComp []float64
@@ -106,7 +113,7 @@ func newAwardLedger(a *Award, pol Policy, asOf time.Time) (*awardLedger, error) 
 	if len(a.Tranches) == 0 {
 		return nil, fmt.Errorf("grant %s: no tranches", g.ID)
 	}
-	l := &awardLedger{in: a, liability: g.Instrument == grants.Warrant && g.Classification == grants.Liability, start: ServiceStart(g)}
+	l := &awardLedger{in: a, liability: g.Instrument == grants.Warrant && g.Classification == grants.Liability, start: ServiceStart(g), asOfN: dayNum(asOf)}
 	if pol.Forfeitures == grants.Estimate {
 		l.rate = pol.PreVestingForfeitureRate
 	}
@@ -126,13 +133,15 @@ func newAwardLedger(a *Award, pol Policy, asOf time.Time) (*awardLedger, error) 
 		if !g.ExpiryDate.IsZero() && tc.Tranche.VestDate.After(g.ExpiryDate) {
 			return nil, fmt.Errorf("grant %s tranche %d: vests %s, after expiry %s", g.ID, tc.Tranche.Index, tc.Tranche.VestDate.Format(time.DateOnly), g.ExpiryDate.Format(time.DateOnly))
 		}
-		t := trancheLedger{TrancheCost: tc, start: l.start, startN: dayNum(l.start), vestN: dayNum(tc.Tranche.VestDate)}
+		t := trancheLedger{TrancheCost: tc, start: l.start, startN: dayNum(l.start), vestN: dayNum(tc.Tranche.VestDate), metN: math.MaxInt}
 		t.days = t.vestN - t.startN
+		t.endN = t.vestN
 		l.tr = append(l.tr, t)
 	}
 	l.last = a.Tranches[len(a.Tranches)-1].Tranche.VestDate
 	l.days = valuation.Days(l.start, l.last)
 	l.grantN, l.startN = dayNum(g.GrantDate), dayNum(l.start)
+	l.applyCondition()
 	if len(a.Remeasurements) > 0 && !l.liability {
 		return nil, fmt.Errorf("grant %s: remeasurements given but it is not a liability-classified warrant", g.ID)
 	}
@@ -192,10 +201,11 @@ func (t *trancheLedger) vestedN(d int) bool { return t.vestN <= d }
 // over the service days still to come, from day d+1 (or the service start)
 // to the day before vesting; 1 once vested or with no forfeiture rate.
 func (t *trancheLedger) expected(d int, rate float64) float64 {
-	if t.vestedN(d) || rate == 0 {
+	end := t.endAt(d)
+	if end <= d || rate == 0 {
 		return 1
 	}
-	return valuation.SurvivalToVest(rate, float64(t.vestN-max(t.startN, d+1))/365)
+	return valuation.SurvivalToVest(rate, float64(end-max(t.startN, d+1))/365)
 }
 
 // apply checks the events (in date order) against the grant and gives
@@ -304,10 +314,11 @@ func (l *awardLedger) attribute(pol Policy, value []float64, d, known int, rate 
 		return
 	}
 	kd := min(d, known)
-	q := func(i int) float64 { return l.tr[i].expected(kd, rate) }
+	o := l.outcome(d) // a performance condition's probable outcome
+	q := func(i int) float64 { return l.tr[i].expected(kd, rate) * o }
 	if pol.Attribution == grants.Graded {
 		for i := range l.tr {
-			out[i] = value[i] * q(i) * serviceFraction(l.tr[i].startN, l.tr[i].days, d)
+			out[i] = value[i] * q(i) * serviceFraction(l.tr[i].startN, l.tr[i].daysAt(d), d)
 		}
 		return
 	}
@@ -315,18 +326,18 @@ func (l *awardLedger) attribute(pol Policy, value []float64, d, known int, rate 
 	for i := range l.tr {
 		v := value[i] * q(i)
 		total += v
-		if l.tr[i].vestedN(d) {
+		if l.tr[i].endAt(d) <= d { // vested, the requisite service done
 			floor += v
 		} else {
 			unvested += v
 		}
 	}
-	cum := math.Max(total*serviceFraction(l.startN, l.days, d), floor)
+	cum := math.Max(total*serviceFraction(l.startN, l.daysAt(d), d), floor)
 	rest := cum - floor
 	for i := range l.tr {
 		v := value[i] * q(i)
 		switch {
-		case l.tr[i].vestedN(d):
+		case l.tr[i].endAt(d) <= d:
 			out[i] = v
 		case unvested > 0:
 			out[i] = rest * v / unvested
