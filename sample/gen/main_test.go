@@ -34,7 +34,7 @@ func TestGeneratorReproducesSample(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if n != 9+4*7 { // tarnwick.xlsx, seven CSV files, designs.xlsx, and seven CSV files for each of the four quarters
+	if n != 14+4*11 { // tarnwick.xlsx, eleven CSV files, designs.xlsx, prices/tarnwick.csv, and eleven CSV files for each of the four quarters
 		t.Errorf("generator wrote %d files", n)
 	}
 }
