@@ -11,6 +11,8 @@ import (
 	"strings"
 	"time"
 	"unicode/utf8"
+
+	"grantworth/valuation"
 )
 
 // Limits against files built to exhaust memory or time. Each is checked
@@ -658,6 +660,12 @@ func (t *tableReader) grantRow(c *rowCtx) {
 			}
 		}
 	}
+	if v, ok := c.choice("purpose", false); ok {
+		g.Purpose = Purpose(v)
+	} else if g.Instrument != Warrant {
+		g.Purpose = Compensation
+	}
+	g.HireDate, _ = c.date("hire_date", false)
 	g.Condition, _ = c.text("condition")
 	g.Refs = c.refs
 	if c.failed || !idOK {
@@ -959,11 +967,15 @@ func (t *tableReader) assumptionValue(c *rowCtx, col *Column, a *Assumptions) {
 		if v, ok := c.choice(col.Key, false); ok {
 			a.Forfeitures = ForfeiturePolicy(v)
 		}
+	case "framework":
+		if v, ok := c.choice(col.Key, false); ok {
+			a.Framework = Framework(v)
+		}
 	case "steps":
 		if v, ok := c.text(col.Key); ok && !strings.EqualFold(v, "auto") {
 			n, err := ParseInt(v)
-			if err != nil || n < 1 || n > 100000 {
-				c.failf(col.Key, v, ErrRange, "must be auto or a whole number of steps from 1 to 100000")
+			if l := valuation.Limits.Steps; err != nil || n == 0 || !l.In(float64(n)) {
+				c.failf(col.Key, v, ErrRange, "must be auto or a whole number of steps from %g to %g", l.Min, l.Max)
 			} else {
 				a.Steps = int(n)
 			}

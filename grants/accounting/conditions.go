@@ -125,7 +125,6 @@ func (l *awardLedger) applyCondition() {
 		}
 	}
 	l.last = last
-	l.days = dayNum(l.last) - l.startN
 }
 
 // endAt is the last day of the tranche's requisite service as known at the
@@ -140,19 +139,6 @@ func (t *trancheLedger) endAt(d int) int {
 
 // daysAt are the tranche's service days as known at the end of day d.
 func (t *trancheLedger) daysAt(d int) int { return t.endAt(d) - t.startN }
-
-// daysAt are the award's service days as known at the end of day d, to
-// its latest tranche's end.
-func (l *awardLedger) daysAt(d int) int {
-	if l.in.Condition == nil {
-		return l.days
-	}
-	end := 0
-	for i := range l.tr {
-		end = max(end, l.tr[i].endAt(d))
-	}
-	return end - l.startN
-}
 
 // serviceEnd is the tranche's requisite service end as a date, as known at
 // the end of day d.

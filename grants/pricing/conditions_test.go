@@ -1,4 +1,4 @@
-package pricing
+package pricing_test
 
 import (
 	"math"
@@ -6,24 +6,25 @@ import (
 
 	"grantworth/grants"
 	"grantworth/grants/grantstest"
+	"grantworth/grants/pricing"
 	"grantworth/valuation"
 )
 
 // valueConditioned values grantstest.Conditioned with loose simulation
 // targets (the test's own speed; the figures checked are identities and
 // agreements within the stated errors).
-func valueConditioned(t *testing.T) (*grants.Schedule, *Valuation, map[string]*GrantValue) {
+func valueConditioned(t *testing.T) (*grants.Schedule, *pricing.Valuation, map[string]*pricing.GrantValue) {
 	t.Helper()
 	s := grantstest.Conditioned()
 	ins, errs, _ := s.ValueInputs()
 	if len(errs) > 0 {
 		t.Fatal(errs)
 	}
-	v, err := Value(s, ins, Options{SimTarget: 4})
+	v, err := pricing.Value(s, ins, pricing.Options{SimTarget: 4})
 	if err != nil {
 		t.Fatal(err)
 	}
-	by := map[string]*GrantValue{}
+	by := map[string]*pricing.GrantValue{}
 	for i := range v.Grants {
 		by[v.Grants[i].Inputs.Grant.ID] = &v.Grants[i]
 	}
@@ -54,7 +55,7 @@ func TestValueConditions(t *testing.T) {
 		t.Fatalf("H-001 condition valuation: %+v", c)
 	}
 	for k, r := range h.Results {
-		if r != c.Lattice[k] || !(r.Value > 0 && r.Value < c.Plain[k].Value) || math.Abs(c.Z[k]) > MonteCarloZLimit {
+		if r != c.Lattice[k] || !(r.Value > 0 && r.Value < c.Plain[k].Value) || math.Abs(c.Z[k]) > pricing.MonteCarloZLimit {
 			t.Errorf("H-001 tranche %d: %+v, plain %v, z %.2f", k, r, c.Plain[k].Value, c.Z[k])
 		}
 		if vest := h.Inputs.Terms[k].YearsToVest; c.Sim.DerivedServiceYears[k] < vest-1.0/365 {

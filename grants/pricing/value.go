@@ -4,8 +4,10 @@ import (
 	"fmt"
 	"math"
 	"runtime"
+	"slices"
 	"sort"
 	"strconv"
+	"strings"
 	"sync"
 	"time"
 
@@ -87,10 +89,11 @@ type GrantValue struct {
 	// differently, by how much and why; nil otherwise.
 	Drift *Drift
 	// RiskFreeRate is, per tranche, the continuous zero rate of the
-	// grant's curve at the tranche's years to expiry, and SimplifiedRate
-	// at the term of its closed-form comparison (BSM's ExpectedTermYears);
-	// both 0 without a curve.
-	RiskFreeRate, SimplifiedRate []float64
+	// grant's curve at the tranche's years to expiry, SimplifiedRate at
+	// the term of its closed-form comparison (BSM's ExpectedTermYears) and
+	// ExpectedTermRate at its expected term (Results' ExpectedTermYears),
+	// the rate disclosed for the period's grants; all 0 without a curve.
+	RiskFreeRate, SimplifiedRate, ExpectedTermRate []float64
 	// Condition is how a market condition was valued (conditions.go);
 	// nil without one.
 	Condition *ConditionValue
@@ -201,9 +204,14 @@ type Valuation struct {
 	Warnings     []string
 }
 
-// RemeasurementDates are the quarter ends from the one containing
-// grantDate up to before end, the most recent MaxRemeasurements of them.
-func RemeasurementDates(grantDate, end time.Time) []time.Time {
+// RemeasurementDates are the days before end on which a
+// liability-classified warrant granted on grantDate is revalued after its
+// grant date: the quarter ends from the one containing grantDate up to
+// before end, the most recent MaxRemeasurements of them, and the days in
+// (grantDate, end) of its exercises, given in exercised, on which it is
+// remeasured before the exercised warrants leave the liability (IFRS
+// 2.30; ASC 718-30-35-3; ASC 815-40-35). In date order, each day once.
+func RemeasurementDates(grantDate, end time.Time, exercised []time.Time) []time.Time {
 	var ends []time.Time
 	for q := quarterEndOf(grantDate); q.Before(end); q = quarterEndOf(q.AddDate(0, 0, 1)) {
 		ends = append(ends, q)
@@ -211,16 +219,22 @@ func RemeasurementDates(grantDate, end time.Time) []time.Time {
 	if len(ends) > MaxRemeasurements {
 		ends = ends[len(ends)-MaxRemeasurements:]
 	}
-	return ends
+	for _, d := range exercised {
+		if d.After(grantDate) && d.Before(end) {
+			ends = append(ends, d)
+		}
+	}
+	sort.Slice(ends, func(i, j int) bool { return ends[i].Before(ends[j]) })
+	return slices.CompactFunc(ends, func(a, b time.Time) bool { return a.Equal(b) })
 }
 
 // revaluationDates are the dates a liability-classified warrant is
-// revalued at before end: its grant date and RemeasurementDates, and the
-// valuation date of the prior close it is locked to (a close measured it
-// then) when that is not a quarter end.
-func revaluationDates(gv *GrantValue, end time.Time) []time.Time {
+// revalued at before end: its grant date and RemeasurementDates (with the
+// days of its exercises), and the valuation date of the prior close it is
+// locked to (a close measured it then) when that is not a quarter end.
+func revaluationDates(gv *GrantValue, end time.Time, exercised []time.Time) []time.Time {
 	g := gv.Inputs.Grant
-	dates := append([]time.Time{g.GrantDate}, RemeasurementDates(g.GrantDate, end)...)
+	dates := append([]time.Time{g.GrantDate}, RemeasurementDates(g.GrantDate, end, exercised)...)
 	if lk := gv.Lock; lk != nil && gv.Status == Remeasured && lk.Close.Before(end) && lk.Close.After(g.GrantDate) {
 		for _, d := range dates {
 			if valuation.Days(d, lk.Close) == 0 {
@@ -251,7 +265,7 @@ func Value(s *grants.Schedule, ins []grants.Inputs, opts Options) (*Valuation, e
 	for i := range ins {
 		v.Grants[i].Inputs = ins[i]
 	}
-	base, err := p.valueSet(v.Grants, shift{}, opts.Progress)
+	base, _, err := p.valueSet(v.Grants, shift{}, opts.Progress)
 	if err != nil {
 		return nil, err
 	}
@@ -301,8 +315,14 @@ func Value(s *grants.Schedule, ins []grants.Inputs, opts Options) (*Valuation, e
 		if !isLiability(g) {
 			continue
 		}
+		var exercised []time.Time
+		for _, e := range s.EventsOf(g.ID) {
+			if e.Kind == grants.Exercised && e.Date.Before(g.ExpiryDate) {
+				exercised = append(exercised, e.Date)
+			}
+		}
 		var rs []Revaluation
-		for _, at := range revaluationDates(gv, end) {
+		for _, at := range revaluationDates(gv, end, exercised) {
 			if gv.Status == Remeasured && gv.Lock != nil {
 				if r, ok := gv.Lock.revaluation(at); ok && len(r.Values) == len(gv.Inputs.Tranches) {
 					rs = append(rs, r)
@@ -393,10 +413,12 @@ func (p *pricer) compare(gv *GrantValue) error {
 	}
 	gv.RiskFreeRate = make([]float64, len(in.Terms))
 	gv.SimplifiedRate = make([]float64, len(in.Terms))
+	gv.ExpectedTermRate = make([]float64, len(in.Terms))
 	if c := in.Market.Curve; c != nil {
 		for k, t := range in.Terms {
 			gv.RiskFreeRate[k] = c.Zero(t.YearsToExpiry)
 			gv.SimplifiedRate[k] = c.Zero(gv.BSM[k].ExpectedTermYears)
+			gv.ExpectedTermRate[k] = c.Zero(gv.Results[k].ExpectedTermYears)
 		}
 	}
 	return nil
@@ -416,7 +438,8 @@ func shiftCase(in grants.Inputs, sh shift, curves map[*valuation.Curve]*valuatio
 	m := in.Market
 	switch sh.name {
 	case "volatility":
-		m.VolAnnual = math.Max(0.01, m.VolAnnual+sh.d)
+		vl := valuation.Limits.Volatility
+		m.VolAnnual = math.Min(vl.Max, math.Max(vl.Min, m.VolAnnual+sh.d))
 	case "risk_free_rate":
 		c, ok := curves[m.Curve]
 		if !ok {
@@ -436,7 +459,7 @@ func shiftCase(in grants.Inputs, sh shift, curves map[*valuation.Curve]*valuatio
 		if in.Grant.Instrument == grants.Option {
 			for i := range terms {
 				if terms[i].ExerciseMultiple > 0 {
-					terms[i].ExerciseMultiple = math.Max(1.05, terms[i].ExerciseMultiple+sh.d)
+					terms[i].ExerciseMultiple = math.Min(valuation.Limits.ExerciseMultiple.Max, math.Max(1.05, terms[i].ExerciseMultiple+sh.d))
 				}
 			}
 		}
@@ -452,9 +475,12 @@ func shiftCase(in grants.Inputs, sh shift, curves map[*valuation.Curve]*valuatio
 
 // valueSet values the grants gs under one case: options on the lattice,
 // all cores; warrants on the lattice with dilution; RSUs in closed form.
-// It returns the tranche results per grant.
-func (p *pricer) valueSet(gs []GrantValue, sh shift, progress func(done, total int)) ([][]valuation.Result, error) {
-	out := make([][]valuation.Result, len(gs))
+// It returns the tranche results per grant. In a shifted case a grant the
+// lattice cannot value with the input moved (valuation.Feasible: its
+// volatility moved past what the tree can represent over its term, say)
+// keeps its base values, and is named in kept.
+func (p *pricer) valueSet(gs []GrantValue, sh shift, progress func(done, total int)) (out [][]valuation.Result, kept []string, err error) {
+	out = make([][]valuation.Result, len(gs))
 	curves := map[*valuation.Curve]*valuation.Curve{}
 	var jobs []valuation.Job
 	var jobOf []int
@@ -462,16 +488,31 @@ func (p *pricer) valueSet(gs []GrantValue, sh shift, progress func(done, total i
 		in := gs[i].Inputs
 		terms, m, err := shiftCase(in, sh, curves)
 		if err != nil {
-			return nil, err
+			return nil, nil, err
 		}
 		g := in.Grant
 		if in.Condition.Market() {
 			rs, err := p.marketValue(in, terms, m, sh)
 			if err != nil {
-				return nil, err
+				return nil, nil, err
 			}
 			out[i] = rs
 			continue
+		}
+		if sh.name != "" && g.Instrument != grants.RSU && len(terms) > 0 {
+			t := terms[0]
+			if g.Instrument == grants.Warrant {
+				t = rational(t)
+			}
+			vest := make([]float64, len(terms))
+			for k, tk := range terms {
+				vest[k] = tk.YearsToVest
+			}
+			if err := valuation.Feasible(t, vest, m, p.opts); err != nil {
+				out[i] = gs[i].Results
+				kept = append(kept, g.ID)
+				continue
+			}
 		}
 		switch g.Instrument {
 		case grants.RSU:
@@ -485,7 +526,7 @@ func (p *pricer) valueSet(gs []GrantValue, sh shift, progress func(done, total i
 			for k, t := range terms {
 				var err error
 				if rs[k], err = p.warrant(g, t, m); err != nil {
-					return nil, fmt.Errorf("grant %s tranche %d: %w", g.ID, k+1, err)
+					return nil, nil, fmt.Errorf("grant %s tranche %d: %w", g.ID, k+1, err)
 				}
 			}
 			out[i] = rs
@@ -508,11 +549,11 @@ func (p *pricer) valueSet(gs []GrantValue, sh shift, progress func(done, total i
 	for j := range jobs {
 		r := res[index[j]]
 		if r.Err != nil {
-			return nil, fmt.Errorf("grant %s: %w", gs[jobOf[j]].Inputs.Grant.ID, r.Err)
+			return nil, nil, fmt.Errorf("grant %s: %w", gs[jobOf[j]].Inputs.Grant.ID, r.Err)
 		}
 		out[jobOf[j]] = r.Tranches
 	}
-	return out, nil
+	return out, kept, nil
 }
 
 // dedupJobs returns the distinct jobs and, for each job, the index of its
@@ -614,9 +655,13 @@ func (p *pricer) sensitivity(v *Valuation, progress func(done, total int)) error
 		for j, d := range c.shifts {
 			fv := base
 			if d != 0 {
-				rs, err := p.valueSet(sample, shift{c.key, d}, nil)
+				rs, kept, err := p.valueSet(sample, shift{c.key, d}, nil)
 				if err != nil {
 					return fmt.Errorf("sensitivity %s %+g: %w", c.key, d, err)
+				}
+				if len(kept) > 0 {
+					v.Warnings = append(v.Warnings, fmt.Sprintf("sensitivity case %s %s: the lattice cannot value %s with the input moved; the base value is used instead",
+						c.label, c.labels[j], joinIDs(kept)))
 				}
 				if sampleBase > 0 {
 					fv = base * total(rs) / sampleBase
@@ -639,6 +684,17 @@ func (p *pricer) sensitivity(v *Valuation, progress func(done, total int)) error
 		v.Sensitivity = append(v.Sensitivity, sens)
 	}
 	return nil
+}
+
+// joinIDs names grants by id, the first few of many.
+func joinIDs(ids []string) string {
+	switch {
+	case len(ids) == 1:
+		return "grant " + ids[0]
+	case len(ids) <= 5:
+		return "grants " + strings.Join(ids, ", ")
+	}
+	return fmt.Sprintf("grants %s and %d more", strings.Join(ids[:5], ", "), len(ids)-5)
 }
 
 // representative is the option tranche with the largest total fair value
@@ -677,7 +733,11 @@ func (p *pricer) convergence(v *Valuation) error {
 	}
 	c := &Convergence{GrantID: in.Grant.ID, TrancheIndex: in.Tranches[k].Index, Auto: auto}
 	for _, n := range ConvergenceSteps {
-		r, err := valuation.Lattice(t, mk, valuation.LatticeOptions{Steps: n})
+		o := valuation.LatticeOptions{Steps: n}
+		if valuation.Feasible(t, []float64{t.YearsToVest}, mk, o) != nil {
+			continue // too few steps for the up-probability, or too many for floating point
+		}
+		r, err := valuation.Lattice(t, mk, o)
 		if err != nil {
 			return fmt.Errorf("convergence study, grant %s, %d steps: %w", in.Grant.ID, n, err)
 		}
