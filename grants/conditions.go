@@ -1,6 +1,7 @@
 package grants
 
 import (
+	"cmp"
 	"errors"
 	"fmt"
 	"io"
@@ -185,44 +186,32 @@ func (s *Schedule) Outcome(c *Condition, d time.Time) (share float64, a *Assessm
 	return c.TargetPayout, a
 }
 
-// AssessmentsOf are condition c's assessments in date order.
+// AssessmentsOf are condition id's assessments in date order.
 func (s *Schedule) AssessmentsOf(id string) []Assessment {
-	var out []Assessment
-	for _, a := range s.Assessments {
-		if a.ConditionID == id {
-			out = append(out, a)
-		}
-	}
+	out := rowsOf(s.Assessments, id, func(a Assessment) string { return a.ConditionID })
 	slices.SortStableFunc(out, func(a, b Assessment) int { return a.Date.Compare(b.Date) })
 	return out
 }
 
 // PayoutOf is condition id's payout curve, in percentile order.
 func (s *Schedule) PayoutOf(id string) []PayoutRow {
-	var out []PayoutRow
-	for _, p := range s.PayoutCurve {
-		if p.ConditionID == id {
-			out = append(out, p)
-		}
-	}
-	slices.SortStableFunc(out, func(a, b PayoutRow) int {
-		switch {
-		case a.Percentile < b.Percentile:
-			return -1
-		case a.Percentile > b.Percentile:
-			return 1
-		}
-		return 0
-	})
+	out := rowsOf(s.PayoutCurve, id, func(p PayoutRow) string { return p.ConditionID })
+	slices.SortStableFunc(out, func(a, b PayoutRow) int { return cmp.Compare(a.Percentile, b.Percentile) })
 	return out
 }
 
 // PeersOf are condition id's peers, in sheet order.
 func (s *Schedule) PeersOf(id string) []Peer {
-	var out []Peer
-	for _, p := range s.Peers {
-		if p.ConditionID == id {
-			out = append(out, p)
+	return rowsOf(s.Peers, id, func(p Peer) string { return p.ConditionID })
+}
+
+// rowsOf are the rows of a condition sheet that name condition id, in
+// sheet order.
+func rowsOf[T any](rows []T, id string, of func(T) string) []T {
+	var out []T
+	for _, r := range rows {
+		if of(r) == id {
+			out = append(out, r)
 		}
 	}
 	return out

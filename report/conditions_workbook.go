@@ -7,6 +7,8 @@ import (
 	"fmt"
 	"strings"
 
+	"github.com/xuri/excelize/v2"
+
 	"grantworth/grants"
 )
 
@@ -78,10 +80,17 @@ func writeConditions(b *Book, m *Model) error {
 	if err != nil {
 		return err
 	}
+	// The rows are tall (the rule wraps): every cell wraps at the top, the
+	// schedule's text in the text format as Book.Text writes it.
+	input, err := b.f.NewStyle(&excelize.Style{NumFmt: 49, Alignment: &excelize.Alignment{WrapText: true, Vertical: "top"}})
+	if err != nil {
+		return err
+	}
+	in := func(x string) any { return b.Cell(input, x) }
+	wrap := func(x string) any { return b.Cell(b.Style.Wrap, x) }
 	for _, c := range m.Conditions {
-		rule := b.Cell(b.Style.Wrap, c.Rule)
-		if err := t.TallRow(15*float64(1+len(c.Rule)/110), b.Text(c.ID), c.Kind, b.Text(c.Description), c.Ref,
-			b.Text(strings.Join(c.Grants, ", ")), b.Cell(b.Style.Wrap, conditionTerms(c)), rule); err != nil {
+		if err := t.TallRow(15*float64(1+len(c.Rule)/110), in(c.ID), wrap(c.Kind), in(c.Description), wrap(c.Ref),
+			in(strings.Join(c.Grants, ", ")), wrap(conditionTerms(c)), wrap(c.Rule)); err != nil {
 			return err
 		}
 	}
@@ -96,9 +105,9 @@ func writeConditionValues(b *Book, m *Model) error {
 		}
 	}
 	t, err := b.NewTable(SheetConditionValues, []Column{{"Grant", 12}, {"Condition", 12}, {"Kind", 13}, {"Method", 13}, {"Tranche", 8},
-		{"Vest date", 12}, {"Service end", 12}, {"Fair value per share", 14}, {"Error estimate or standard error", 14},
-		{"Simulation check", 14}, {"Its standard error", 12}, {"z", 8}, {"Value without the hurdle", 14}, {"Derived service years", 12},
-		{"Hurdle met by deadline (probability)", 14}, {"Median years to meet", 12}, {"Expected payout", 12}, {"Paths", 11}, {"Seed", 8}}, rows)
+		{"Vest date", 12}, {"Service end", 12}, {"Fair value per share", 14}, {"± error or s.e.", 14},
+		{"Simulation check", 14}, {"± its s.e.", 12}, {"z", 8}, {"Without the hurdle", 14}, {"Derived service years", 14},
+		{"Hurdle met (probability)", 14}, {"Median years to meet", 14}, {"Expected payout", 12}, {"Paths", 11}, {"Seed", 10}}, rows)
 	if err != nil {
 		return err
 	}
@@ -175,7 +184,7 @@ func writeTSRPeers(b *Book, m *Model) error {
 	}
 	cols := []Column{{"Grant", 12}, {"Company", 16}, {"Price file", 28}, {"Cell", 12}, {"Price column", 13}, {"Volatility", 11},
 		{"Daily returns", 10}, {"First price used", 12}, {"Last price used", 12}, {"Period start price date", 12}, {"Price then", 11},
-		{"Price at measurement", 11}, {"TSR to date", 11}}
+		{"Price at measurement", 13}, {"TSR to date", 11}}
 	for i := range n {
 		cols = append(cols, Column{fmt.Sprintf("Correlation with %d", i+1), 11})
 	}
