@@ -113,12 +113,12 @@ func TestConditionProblems(t *testing.T) {
 		want      string
 		isWarning bool
 	}{
-		{"unknown condition", "grants.csv", ",RTSR\n", ",NOPE\n", `Grants!V9 (condition): "NOPE" is not a condition_id of the Conditions sheet`, false},
+		{"unknown condition", "grants.csv", ",RTSR\n", ",NOPE\n", `Grants!X9 (condition): "NOPE" is not a condition_id of the Conditions sheet`, false},
 		{"hurdle without price", "conditions.csv", "HURDLE7,price-hurdle,,,,,,7,", "HURDLE7,price-hurdle,,,,,,,", "Conditions!H3 (hurdle_price): is required for a price-hurdle condition (HURDLE7)", false},
 		{"average watched continuously", "conditions.csv", "9,20,daily", "9,20,continuous", `Conditions!J4 (hurdle_monitoring): "continuous" an average of 20 closing prices is watched daily`, false},
 		{"market condition assessed", "assessments.csv", "REV27,2025-07-01", "RTSR,2025-07-01", `Assessments!A3 (condition_id): "RTSR" is a relative-tsr condition: a market condition is not assessed`, false},
 		{"payout for a performance condition", "payout_curve.csv", "RTSR,0.25", "REV27,0.25", `Payout Curve!A2 (condition_id): "REV27" is a performance condition, not relative-tsr`, false},
-		{"TSR on an option", "grants.csv", ",HURDLE7\n", ",RTSR\n", `Grants!V7 (condition): "RTSR" is a relative TSR condition, which applies to units (instrument rsu), not option H-001`, false},
+		{"TSR on an option", "grants.csv", ",HURDLE7\n", ",RTSR\n", `Grants!X7 (condition): "RTSR" is a relative TSR condition, which applies to units (instrument rsu), not option H-001`, false},
 		{"missing peer file", "peers.csv", "prices/peer-b.csv", "prices/peer-x.csv", `Peers!C3 (file): "prices/peer-x.csv" cannot be read: no such file or directory`, false},
 		{"no peers", "peers.csv", "RTSR,Peer", "OTHER,Peer", "Conditions!A5 (condition_id): \"RTSR\" has no Peers rows", false},
 		{"TSR end before start", "conditions.csv", "2026-01-01,2028-12-31", "2026-01-01,2025-12-31", `Conditions!N5 (performance_end): "2025-12-31" must be after performance_start 2026-01-01`, false},

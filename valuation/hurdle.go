@@ -382,7 +382,7 @@ func hurdleAuto(a HurdleAward, m Market, H float64) ([]Result, error) {
 	}
 	for lv := 0; lv < autoMaxLevels; lv++ {
 		s, wk := levelWork(lv)
-		if lv >= autoMinLevels && (!missed(out, est) || work+wk > autoMaxWork || s > MaxLatticeSteps) {
+		if lv >= autoMinLevels && (!am.missed(out, est) || work+wk > autoMaxWork || s > MaxLatticeSteps) {
 			break
 		}
 		v, l := make([]float64, n), make([]float64, n)
@@ -397,7 +397,7 @@ func hurdleAuto(a HurdleAward, m Market, H float64) ([]Result, error) {
 	for i := range out {
 		out[i].Steps = steps
 		out[i].Method = MethodLattice
-		out[i].MissedTarget = out[i].ErrorEstimate > AutoTarget*math.Abs(out[i].Value)
+		out[i].MissedTarget = out[i].ErrorEstimate > am.target(out[i].Value)
 	}
 	return out, nil
 }

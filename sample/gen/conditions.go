@@ -41,11 +41,11 @@ func addConditions(s *grants.Schedule) {
 	psu, hur, tsr := day("2025-03-03"), day("2026-02-16"), day("2026-04-01")
 	s.Grants = append(s.Grants,
 		grants.Grant{ID: "TW-101", Holder: "E901", Instrument: grants.RSU, GrantDate: psu, Shares: 40_000,
-			VestStart: psu, VestMonths: 24, CliffMonths: 24, VestEvery: 12, Condition: "REV-FY26"},
+			VestStart: psu, VestMonths: 24, CliffMonths: 24, VestEvery: 12, Condition: "REV-FY26", CostCenter: "S&M"},
 		grants.Grant{ID: "TW-102", Holder: "E902", Instrument: grants.Option, GrantDate: hur, Shares: 120_000, Strike: price(hur),
-			ExpiryDate: grants.AddMonths(hur, 120), VestStart: hur, VestMonths: 48, CliffMonths: 12, VestEvery: 12, Condition: "CLOSE-6"},
+			ExpiryDate: grants.AddMonths(hur, 120), VestStart: hur, VestMonths: 48, CliffMonths: 12, VestEvery: 12, Condition: "CLOSE-6", CostCenter: "R&D"},
 		grants.Grant{ID: "TW-103", Holder: "E001", Instrument: grants.RSU, GrantDate: tsr, Shares: 60_000,
-			VestStart: day("2026-01-01"), VestMonths: 36, CliffMonths: 36, VestEvery: 12, Condition: "RTSR-26"},
+			VestStart: day("2026-01-01"), VestMonths: 36, CliffMonths: 36, VestEvery: 12, Condition: "RTSR-26", CostCenter: "G&A"},
 	)
 	capped := 1.0
 	s.Conditions = []grants.Condition{

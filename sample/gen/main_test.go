@@ -5,6 +5,8 @@ import (
 	"os"
 	"path/filepath"
 	"testing"
+
+	"grantworth/grants"
 )
 
 // The committed sample files are what the generator writes.
@@ -34,7 +36,10 @@ func TestGeneratorReproducesSample(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if n != 14+4*11 { // tarnwick.xlsx, eleven CSV files, designs.xlsx, prices/tarnwick.csv, and eleven CSV files for each of the four quarters
-		t.Errorf("generator wrote %d files", n)
+	// tarnwick.xlsx and a CSV file per sheet, designs.xlsx,
+	// prices/tarnwick.csv (the company's closes for its relative TSR
+	// award), and a CSV file per sheet for each of the four quarters.
+	if want := 1 + len(grants.Sheets) + 1 + 1 + 4*len(grants.Sheets); n != want {
+		t.Errorf("generator wrote %d files, want %d", n, want)
 	}
 }
