@@ -282,7 +282,11 @@ func (v *validator) designs() {
 		}
 	}
 	if volMissing {
-		v.rep.errf(Ref{Sheet: SheetAssumptions}, "volatility", "", ErrRequired, "has no row in force on the grant date %s, and not every option and warrant design gives one", isoDay(gd))
+		if ref, ok := a.blank["volatility"]; ok {
+			v.rep.errf(ref, "volatility", "", ErrRequired, "is empty, and not every option and warrant design gives one: fill in the annual volatility, 0.45 or 45%%")
+		} else {
+			v.rep.errf(Ref{Sheet: SheetAssumptions}, "volatility", "", ErrRequired, "has no row in force on the grant date %s, and not every option and warrant design gives one", isoDay(gd))
+		}
 	}
 	if gd.IsZero() {
 		return

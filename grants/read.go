@@ -246,9 +246,25 @@ func read(src source, layout []Sheet) (*Schedule, *Report, error) {
 		}
 	}
 	finishCompany(s, rep)
+	noGrants(s, rep)
 	v := validate(s, rep.skip)
 	rep.Merge(v)
 	return s, rep, nil
+}
+
+// noGrants reports a schedule whose Grants sheet was read but holds no
+// grant: there is nothing to value, and
+// a memo of zeros must not pass for a close. A row or header that failed
+// has its own error already.
+func noGrants(s *Schedule, rep *Report) {
+	if _, read := s.layout[SheetGrants]; read && len(s.Grants) == 0 {
+		for _, e := range rep.Errors {
+			if e.Sheet == SheetGrants {
+				return
+			}
+		}
+		rep.errf(Ref{Sheet: SheetGrants, Cell: "A2"}, "grant_id", "", ErrRequired, "the sheet has no grant: add one row per grant under the header")
+	}
 }
 
 // fatal reports whether err makes the whole source unreadable.
@@ -836,6 +852,12 @@ func (t *tableReader) readKeyValue() {
 			t.companyValue(c, col)
 		} else {
 			t.assumptionValue(c, col, &t.s.Assumptions)
+			if _, given := c.refs[col.Key]; !given && !c.failed {
+				if t.s.Assumptions.blank == nil {
+					t.s.Assumptions.blank = map[string]Ref{}
+				}
+				t.s.Assumptions.blank[col.Key] = c.ref(col.Key)
+			}
 			if src != "" {
 				t.s.Assumptions.Sources[col.Key] = src
 			}
