@@ -56,6 +56,9 @@ type validator struct {
 	skip map[string]bool // grant ids whose Vesting and Events rows are not checked: the grant's row has an error
 	byID map[string]int  // grant index by id
 	rep  Report
+	// the share valuations and rate curves more than a quarter old at
+	// some grant's measurement date (marketAt), warned of after the grants
+	oldPrices, oldCurves agedInputs
 }
 
 func (v *validator) grant(id string) (Grant, bool) {
@@ -391,6 +394,8 @@ func (v *validator) grants() {
 			}
 		}
 	}
+	v.oldPrices.warn(v, "the share valuation in force", "check that the share's fair value has not moved since, or add a Share Prices row nearer the date")
+	v.oldCurves.warn(v, "the rate curve in force", "add a Rates curve dated nearer the measurement date")
 }
 
 func article(i Instrument) string {
@@ -429,6 +434,11 @@ func (v *validator) marketAt(g Grant, ref func(string) Ref) {
 		}
 		v.rep.warnf(r, key, isoDay(md), ErrRange,
 			"is more than %d months after the latest share valuation, %s (%s): the valuation may be stale", StaleMonths, isoDay(p.Date), s.cell(SheetSharePrices, "date", p.Row, nil))
+	} else if ok && g.SharePrice == nil && olderThanQuarter(p.Date, md) {
+		v.oldPrices.note(s.cell(SheetSharePrices, "date", p.Row, nil), "date", p.Date, md, g.ID)
+	}
+	if c, ok := s.curveAt(md); ok && g.Instrument != RSU && olderThanQuarter(c.date, md) {
+		v.oldCurves.note(s.cell(SheetRates, "curve_date", c.points[0].Row, nil), "curve_date", c.date, md, g.ID)
 	}
 	if g.Instrument == Warrant && g.Classification == Liability && !g.ExpiryDate.IsZero() && !md.Before(g.ExpiryDate) {
 		v.rep.errf(ref("expiry_date"), "expiry_date", isoDay(g.ExpiryDate), ErrRange,

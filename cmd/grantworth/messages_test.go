@@ -61,7 +61,7 @@ func TestCheckTradeHeaders(t *testing.T) {
 		replaceHeader(t, f, "grants.csv", "grant_date", "Grant Date")
 	})
 	code, out, errs := runArgs(t, "check", dir)
-	if code != 0 || !strings.HasSuffix(out, "0 errors, 0 warnings\n") {
+	if code != 0 || !strings.HasSuffix(out, "0 errors, 5 warnings\n") { // the sample's 5 warnings of share valuations more than a quarter old
 		t.Errorf("check with the trade's headers: exit %d\n%s%s", code, out, errs)
 	}
 	dir = sampleCopy(t, func(f map[string]string) {
@@ -151,7 +151,7 @@ func TestPercentWithoutSign(t *testing.T) {
 			t.Errorf("no line\n  %s\nin\n%s", want, out)
 		}
 	}
-	if code != exitInput || !strings.HasSuffix(out, "4 errors, 0 warnings\n") {
+	if code != exitInput || !strings.HasSuffix(out, "4 errors, 5 warnings\n") {
 		t.Errorf("check: exit %d\n%s", code, out)
 	}
 }
@@ -165,7 +165,7 @@ func TestBadVestingReportedOnce(t *testing.T) {
 		f["grants.csv"] = strings.Replace(f["grants.csv"], "TW-006,E006,option,2024-03-12,35000,0.85,2034-03-12,,2024-03-12,48,12,1,", "TW-006,E006,option,2024-03-12,35000,0.85,2034-03-12,,2024-03-12,48,12,7,", 1)
 	})
 	code, out, _ := runArgs(t, "check", dir)
-	if code != exitInput || !strings.HasPrefix(out, "Grants!L7 (vest_every_months): \"7\" must be 1, 3 or 12\n") || !strings.HasSuffix(out, "1 error, 0 warnings\n") {
+	if code != exitInput || !strings.HasPrefix(out, "Grants!L7 (vest_every_months): \"7\" must be 1, 3 or 12\n") || !strings.HasSuffix(out, "1 error, 5 warnings\n") || strings.Contains(out, "Events!") {
 		t.Errorf("check: exit %d\n%s", code, out)
 	}
 }
@@ -231,5 +231,33 @@ func TestUniqueWarnings(t *testing.T) {
 	got := uniqueWarnings([]string{"a", "b", "a", "c", "b"})
 	if strings.Join(got, ",") != "a,b,c" {
 		t.Errorf("uniqueWarnings: %q", got)
+	}
+}
+
+// A share valuation or a rate curve more than a quarter old at a grant's
+// measurement date is warned of once, at its own cell, naming the grants
+// measured with it and how old it is for each. The sample's share
+// valuations, made twice a year, draw five such warnings.
+func TestOldInputsWarned(t *testing.T) {
+	dir := sampleCopy(t, func(f map[string]string) {
+		var keep []string
+		for _, l := range strings.Split(f["rates.csv"], "\n") {
+			if !strings.HasPrefix(l, "2025-12-31,") && !strings.HasPrefix(l, "2026-03-31,") && !strings.HasPrefix(l, "2026-06-30,") {
+				keep = append(keep, l)
+			}
+		}
+		f["rates.csv"] = strings.Join(keep, "\n")
+	})
+	code, out, _ := runArgs(t, "check", dir)
+	for _, want := range []string{
+		`Rates!A66 (curve_date): warning: "2025-09-30" is the rate curve in force, more than 3 months old at the measurement dates of 9 grants, TW-028 (3 months 13 days), TW-029 (4 months 14 days), TW-030 (5 months 8 days), TW-031 (6 months 8 days), TW-032 (7 months 3 days) and 4 more: add a Rates curve dated nearer the measurement date` + "\n",
+		`Share Prices!A2 (date): warning: "2023-09-30" is the share valuation in force, more than 3 months old at the measurement dates of 4 grants, TW-004 (3 months 11 days), TW-005 (4 months 5 days), TW-006 (5 months 12 days), TW-040 (4 months 16 days): check that the share's fair value has not moved since, or add a Share Prices row nearer the date` + "\n",
+	} {
+		if !strings.Contains(out, want) {
+			t.Errorf("no line\n  %s\nin\n%s", want, out)
+		}
+	}
+	if code != 0 || !strings.HasSuffix(out, "0 errors, 6 warnings\n") {
+		t.Errorf("check: exit %d\n%s", code, out)
 	}
 }

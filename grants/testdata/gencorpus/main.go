@@ -55,6 +55,7 @@ PB-2,2026-01-15,600
 2024-01-01,1.40
 2025-01-01,2.00
 2026-06-30,2.80
+2025-05-31,2.30
 `,
 	"rates.csv": `curve_date,tenor_years,rate,compounding
 2024-01-01,1,0.045,continuous
@@ -62,6 +63,8 @@ PB-2,2026-01-15,600
 2026-06-30,0.5,0.041,par-semiannual
 2026-06-30,2,0.039,par-semiannual
 2026-06-30,10,0.040,par-semiannual
+2025-01-01,1,0.044,continuous
+2025-01-01,10,0.041,continuous
 `,
 	"events.csv": `grant_id,date,event,shares
 PB-1,2026-03-15,forfeited,2400
