@@ -163,8 +163,10 @@ func (o *priceOptions) check(cmd *cobra.Command, method string) error {
 			return badInput("--%s %v: not a finite number", c.flag, c.v)
 		}
 	}
-	lim := valuation.Limits                                                    // the one table of ranges, shared with check and value
-	given := func(name string) string { return f.Lookup(name).Value.String() } // as typed: 45%
+	// The one table of ranges, shared with check and value; each value is
+	// quoted as typed (45%).
+	lim := valuation.Limits
+	given := func(name string) string { return f.Lookup(name).Value.String() }
 	hint := func(name string, in func(float64) bool) string { return percentHint(f.Lookup(name), in) }
 	anyRate := func(x float64) bool { return math.Abs(x) <= 1 }
 	switch {
