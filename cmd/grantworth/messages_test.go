@@ -104,6 +104,7 @@ func TestEmptySchedule(t *testing.T) {
 		for _, n := range []string{"grants.csv", "vesting.csv", "events.csv"} {
 			keepHeader(f, n)
 		}
+		f["transfers.csv"], f["accounts.csv"] = "", "" // optional sheets, of grants
 	})
 	const want = "Grants!A2 (grant_id): the sheet has no grant: add one row per grant under the header\n"
 	code, out, _ := runArgs(t, "check", dir)
@@ -170,14 +171,15 @@ func TestBadVestingReportedOnce(t *testing.T) {
 	}
 }
 
-// keepGrants cuts the sample to the grants named (and their events), for a
-// quick run of value.
+// keepGrants cuts the sample to the grants named (and their events and
+// transfers; the Accounts sheet is left out), for a quick run of value.
 func keepGrants(f map[string]string, ids ...string) {
 	keep := map[string]bool{}
 	for _, id := range ids {
 		keep[id] = true
 	}
-	for _, n := range []string{"grants.csv", "vesting.csv", "events.csv"} {
+	f["accounts.csv"] = "" // its cost centres would be unused
+	for _, n := range []string{"grants.csv", "vesting.csv", "events.csv", "transfers.csv"} {
 		lines := strings.Split(strings.TrimSuffix(f[n], "\n"), "\n")
 		out := lines[:1]
 		for _, l := range lines[1:] {
