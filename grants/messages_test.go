@@ -146,3 +146,25 @@ func TestDidYouMean(t *testing.T) {
 		t.Errorf("no line\n  %s\nin:\n%s", want, got)
 	}
 }
+
+// The designs' grant date gets the same quarter-age warnings as a grant's
+// measurement date: a share valuation and a curve of 2026-03-31 are 6
+// months 15 days old on 2026-10-15.
+func TestDesignsOldInputs(t *testing.T) {
+	fs := designsCSV()
+	fs["share_prices.csv"] = &fstest.MapFile{Data: []byte("date,price\n2026-03-31,2.00\n")}
+	fs["rates.csv"] = &fstest.MapFile{Data: []byte("curve_date,tenor_years,rate\n2026-03-31,5,4%\n")}
+	_, rep := readDesignsMap(t, fs)
+	got := problems(rep)
+	for _, want := range []string{
+		`warning: Share Prices!A2 (date): "2026-03-31" is the share valuation in force, 6 months 15 days old at the grant date 2026-10-15 of the designs (more than 3 months): check that the share's fair value has not moved since, or add a Share Prices row nearer the date`,
+		`warning: Rates!A2 (curve_date): "2026-03-31" is the rate curve in force, 6 months 15 days old at the grant date 2026-10-15 of the designs (more than 3 months): add a Rates curve dated nearer it`,
+	} {
+		if !strings.Contains(got, want) {
+			t.Errorf("no line\n  %s\nin:\n%s", want, got)
+		}
+	}
+	if !rep.OK() || len(rep.Warnings) != 2 {
+		t.Errorf("problems:\n%s", got)
+	}
+}

@@ -445,17 +445,16 @@ func (v *validator) marketAt(g Grant, ref func(string) Ref) {
 	} else if ok && g.SharePrice == nil && olderThanQuarter(p.Date, md) {
 		v.oldPrices.note(s.cell(SheetSharePrices, "date", p.Row, nil), "date", p.Date, md, g.ID)
 	}
-	if c, ok := s.curveAt(md); ok && g.Instrument != RSU && olderThanQuarter(c.date, md) {
-		v.oldCurves.note(s.cell(SheetRates, "curve_date", c.points[0].Row, nil), "curve_date", c.date, md, g.ID)
-	}
 	if g.Instrument == Warrant && g.Classification == Liability && !g.ExpiryDate.IsZero() && !md.Before(g.ExpiryDate) {
 		v.rep.errf(ref("expiry_date"), "expiry_date", isoDay(g.ExpiryDate), ErrRange,
 			"is on or before the valuation date %s: liability-classified warrant %s is remeasured at the valuation date but has expired; leave it out of the schedule of outstanding awards", isoDay(md), g.ID)
 	}
 	if g.Instrument != RSU {
-		if _, ok := s.curveAt(md); !ok {
+		if c, ok := s.curveAt(md); !ok {
 			v.rep.errf(ref("grant_date"), "grant_date", "", ErrRequired,
 				"no Rates curve is dated on or before the measurement date %s of grant %s", isoDay(md), g.ID)
+		} else if olderThanQuarter(c.date, md) {
+			v.oldCurves.note(s.cell(SheetRates, "curve_date", c.points[0].Row, nil), "curve_date", c.date, md, g.ID)
 		}
 	}
 }
