@@ -88,8 +88,8 @@ func (ix *index) curveOn(d time.Time) (*indexedCurve, bool) {
 	return &ix.curves[i-1], true
 }
 
-// rowsOf are the rows of rows at positions at.
-func rowsOf[T any](rows []T, at []int32) []T {
+// rowsAt are the rows of rows at positions at.
+func rowsAt[T any](rows []T, at []int32) []T {
 	if len(at) == 0 {
 		return nil
 	}

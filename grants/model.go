@@ -83,6 +83,13 @@ type Schedule struct {
 	Events      []Event
 	Designs     []Design // the Designs sheet of a designs workbook (ReadDesigns)
 
+	// Vesting conditions (conditions.go): the Conditions, Assessments,
+	// Payout Curve and Peers sheets, row by row.
+	Conditions  []Condition
+	Assessments []Assessment
+	PayoutCurve []PayoutRow
+	Peers       []Peer
+
 	// layout is, per sheet read, the 0-based column of each column key, so
 	// that problems with empty cells can name the cell.
 	layout map[string]map[string]int
@@ -158,6 +165,9 @@ type Assumptions struct {
 	// Since is, in a view made by At, the effective_date of each key's
 	// row in force (absent for an undated row or a default).
 	Since map[string]time.Time
+	// blank holds the value cell of each key whose row has an empty value,
+	// so that a message can name the cell to fill in.
+	blank map[string]Ref
 }
 
 // AssumptionRow is a row of the Assumptions sheet with an effective_date:
@@ -203,6 +213,9 @@ type Grant struct {
 	// HireDate is, for a holder hired after the grant date, the day
 	// service begins; zero when the holder was employed at grant.
 	HireDate time.Time
+	// Condition is a condition_id of the Conditions sheet; "" for service
+	// only.
+	Condition string
 
 	CostCenter string // "" when none is given: the expense is Unassigned
 	// TaxDeductible says whether the award gives the company a tax

@@ -42,7 +42,9 @@ const (
 
 // textLimit gives the longest text allowed in a column read as text.
 var textLimit = map[string]int{"grant_id": MaxIDChars, "holder": MaxNameChars, "company_name": MaxNameChars,
-	"cost_center": MaxIDChars, "account_code": MaxIDChars, "account_name": MaxNameChars}
+	"cost_center": MaxIDChars, "account_code": MaxIDChars, "account_name": MaxNameChars,
+	"condition": MaxIDChars, "condition_id": MaxIDChars, "peer": MaxNameChars, "description": MaxSourceChars, "note": MaxSourceChars,
+	"own_prices": MaxSourceChars, "file": MaxSourceChars}
 
 // tooLong reports whether v has more than limit characters.
 func tooLong(v string, limit int) bool {
@@ -80,7 +82,17 @@ type rowIter interface {
 // not a workbook, too large); every problem in the schedule itself, with
 // its sheet and cell, is in the Report, and the Schedule holds the rows
 // that could be read.
-func ReadFile(path string) (*Schedule, *Report, error) { return readFile(path, Sheets) }
+//
+// The price files that relative TSR conditions name are read too, their
+// paths relative to the workbook's folder (or the CSV folder); their
+// problems are in the Report, at the cell that names them.
+func ReadFile(path string) (*Schedule, *Report, error) {
+	s, rep, err := readFile(path, Sheets)
+	if err == nil {
+		rep.Merge(s.loadPrices(scheduleDir(path)))
+	}
+	return s, rep, err
+}
 
 // readFile is ReadFile for the workbook of the given layout (Sheets or
 // DesignSheets).
@@ -184,6 +196,7 @@ func read(src source, layout []Sheet) (*Schedule, *Report, error) {
 	s.Assumptions.Forfeitures = Estimate
 
 	found := map[string]string{} // canonical → actual name
+	var unknown []string
 	for _, name := range src.sheetNames() {
 		n := norm(name)
 		matched := false
@@ -198,8 +211,17 @@ func read(src source, layout []Sheet) (*Schedule, *Report, error) {
 			}
 		}
 		if !matched && n != "about" {
-			rep.warnf(Ref{Sheet: name}, "", "", ErrUnknown, "sheet is not one grantworth reads; it is ignored")
+			unknown = append(unknown, name)
 		}
+	}
+	var missing []Column // the layout's sheets not found, for a hint
+	for _, sh := range layout {
+		if _, ok := found[sh.Name]; !ok {
+			missing = append(missing, Column{Key: sh.Name})
+		}
+	}
+	for _, name := range unknown {
+		rep.warnf(Ref{Sheet: name}, "", "", ErrUnknown, "sheet is not one grantworth reads; it is ignored%s", didYouMean(name, missing, nil))
 	}
 	d1904 := src.date1904()
 	for i := range layout {
@@ -238,9 +260,25 @@ func read(src source, layout []Sheet) (*Schedule, *Report, error) {
 	}
 	finishCompany(s, rep)
 	s.Reindex()
+	noGrants(s, rep)
 	v := validate(s, rep.skip)
 	rep.Merge(v)
 	return s, rep, nil
+}
+
+// noGrants reports a schedule whose Grants sheet was read but holds no
+// grant: there is nothing to value, and
+// a memo of zeros must not pass for a close. A row or header that failed
+// has its own error already.
+func noGrants(s *Schedule, rep *Report) {
+	if _, read := s.layout[SheetGrants]; read && len(s.Grants) == 0 {
+		for _, e := range rep.Errors {
+			if e.Sheet == SheetGrants {
+				return
+			}
+		}
+		rep.errf(Ref{Sheet: SheetGrants, Cell: "A2"}, "grant_id", "", ErrRequired, "the sheet has no grant: add one row per grant under the header")
+	}
 }
 
 // fatal reports whether err makes the whole source unreadable.
@@ -357,6 +395,7 @@ func (t *tableReader) readTable() {
 		return
 	}
 	cols := map[string]int{}
+	var unknown []int // columns of headers that name no column
 	for i, h := range head {
 		if tooLong(h, MaxHeaderChars) {
 			t.rep.errf(Ref{Sheet: t.sh.Name, Cell: cellName(i+1, hrow)}, "", h, ErrTooLarge, "is longer than any column name (at most %d characters)", MaxHeaderChars)
@@ -368,13 +407,13 @@ func (t *tableReader) readTable() {
 		}
 		var col *Column
 		for j := range t.sh.Columns {
-			if norm(t.sh.Columns[j].Key) == n {
+			if t.sh.Columns[j].matches(n) {
 				col = &t.sh.Columns[j]
 			}
 		}
 		ref := Ref{Sheet: t.sh.Name, Cell: cellName(i+1, hrow)}
 		if col == nil {
-			t.rep.warnf(ref, "", h, ErrUnknown, "is not a column grantworth reads; it is ignored")
+			unknown = append(unknown, i)
 			continue
 		}
 		if j, dup := cols[col.Key]; dup {
@@ -382,6 +421,9 @@ func (t *tableReader) readTable() {
 			continue
 		}
 		cols[col.Key] = i
+	}
+	for _, i := range unknown { // hinted at the columns still missing
+		t.rep.warnf(Ref{Sheet: t.sh.Name, Cell: cellName(i+1, hrow)}, "", head[i], ErrUnknown, "is not a column grantworth reads; it is ignored%s", didYouMean(head[i], t.sh.Columns, cols))
 	}
 	t.s.layout[t.sh.Name] = cols
 	missing := false
@@ -417,6 +459,14 @@ func (t *tableReader) readTable() {
 			t.eventRow(c)
 		case SheetDesigns:
 			t.designRow(c)
+		case SheetConditions:
+			t.conditionRow(c)
+		case SheetAssessments:
+			t.assessmentRow(c)
+		case SheetPayoutCurve:
+			t.payoutRow(c)
+		case SheetPeers:
+			t.peerRow(c)
 		}
 	}
 }
@@ -657,6 +707,7 @@ func (t *tableReader) grantRow(c *rowCtx) {
 		b := v == "yes"
 		g.TaxDeductible = &b
 	}
+	g.Condition, _ = c.text("condition")
 	g.Refs = c.refs
 	if c.failed || !idOK {
 		if idOK {
@@ -832,12 +883,12 @@ func (t *tableReader) readKeyValue() {
 		}
 		col := (*Column)(nil)
 		for i := range t.sh.Columns {
-			if norm(t.sh.Columns[i].Key) == norm(key) {
+			if t.sh.Columns[i].matches(norm(key)) {
 				col = &t.sh.Columns[i]
 			}
 		}
 		if col == nil {
-			t.rep.warnf(keyRef, "key", key, ErrUnknown, "is not a key grantworth reads; it is ignored")
+			t.rep.warnf(keyRef, "key", key, ErrUnknown, "is not a key grantworth reads; it is ignored%s", didYouMean(key, t.sh.Columns, nil))
 			continue
 		}
 		c := &rowCtx{t: t, row: n, cells: cells, cols: map[string]int{col.Key: vc}, refs: map[string]Ref{}}
@@ -862,6 +913,12 @@ func (t *tableReader) readKeyValue() {
 			t.companyValue(c, col)
 		} else {
 			t.assumptionValue(c, col, &t.s.Assumptions)
+			if _, given := c.refs[col.Key]; !given && !c.failed {
+				if t.s.Assumptions.blank == nil {
+					t.s.Assumptions.blank = map[string]Ref{}
+				}
+				t.s.Assumptions.blank[col.Key] = c.ref(col.Key)
+			}
 			if src != "" {
 				t.s.Assumptions.Sources[col.Key] = src
 			}

@@ -111,7 +111,7 @@ func customTranches(g Grant, rows []VestRow) []Tranche {
 
 func (s *Schedule) vestRows(id string) []VestRow {
 	if ix := s.fresh(); ix != nil {
-		return rowsOf(s.Vesting, ix.vestOf[id])
+		return rowsAt(s.Vesting, ix.vestOf[id])
 	}
 	var out []VestRow
 	for _, v := range s.Vesting {
@@ -127,7 +127,7 @@ func (s *Schedule) vestRows(id string) []VestRow {
 func (s *Schedule) EventsOf(id string) []Event {
 	var out []Event
 	if ix := s.fresh(); ix != nil {
-		out = rowsOf(s.Events, ix.eventsOf[id])
+		out = rowsAt(s.Events, ix.eventsOf[id])
 	} else {
 		for _, e := range s.Events {
 			if e.GrantID == id {
