@@ -95,6 +95,7 @@ var (
 	frameworks      = []string{string(ASC718), string(IFRS2)}
 	eventKinds      = []string{string(Exercised), string(Forfeited), string(Expired), string(Cancelled)}
 	compoundings    = []string{"continuous", "annual", "semiannual", "par-semiannual"}
+	paperSizes      = []string{"a4", "letter"}
 )
 
 // Sheets is the layout of the input workbook (DESIGN §4.2), in the order the
@@ -108,6 +109,9 @@ var Sheets = []Sheet{
 			{Key: "period_start", Kind: KindDate, Need: "optional", Default: "first day of the quarter ending on valuation_date", Help: "The first day of the reporting period."},
 			{Key: "currency", Kind: KindText, Unit: "ISO 4217 code", Need: "optional", Default: "USD", Help: "Three-letter currency code of prices and strikes."},
 			{Key: "shares_outstanding", Kind: KindInt, Unit: "shares", Need: "warrants", Help: "Common shares outstanding, for the dilution of warrants."},
+			{Key: "preparer", Kind: KindText, Need: "optional", Help: "The firm that prepares the memo, for a consultant's client pack: on the memo's cover and at the top of every page."},
+			{Key: "client", Kind: KindText, Need: "optional", Default: "company_name", Help: "Whom the memo is prepared for, when not the company itself: on the cover and at the top of every page."},
+			{Key: "paper_size", Kind: KindChoice, Choices: paperSizes, Need: "optional", Default: "letter if currency is USD, else a4", Help: "The memo's paper: a4 or letter."},
 		}},
 	{Name: SheetAssumptions, File: "assumptions.csv", KeyValue: true, Required: true,
 		Help: "Company-wide valuation assumptions: key, value, an optional source that the memo quotes and an optional effective_date from which the row applies (a row without one applies from the beginning). A grant takes, key by key, the row in force at its measurement date (the latest effective_date on or before it); attribution, forfeitures, pre_vesting_forfeiture_rate and steps are those in force at valuation_date. A grant row may override some of them.",

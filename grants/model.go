@@ -94,6 +94,9 @@ type Company struct {
 	Currency          string    // ISO 4217, default USD
 	SharesOutstanding float64
 	GrantDate         time.Time      // designs workbook: the grant date of every design; zero means ValuationDate
+	Client            string         // optional: whom a consultant prepares the memo for
+	Preparer          string         // optional: the firm that prepares the memo
+	PaperSize         string         // optional: "a4" or "letter"; "" chooses by currency
 	Refs              map[string]Ref // by key, e.g. "valuation_date"
 }
 

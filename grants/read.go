@@ -41,7 +41,8 @@ const (
 )
 
 // textLimit gives the longest text allowed in a column read as text.
-var textLimit = map[string]int{"grant_id": MaxIDChars, "holder": MaxNameChars, "company_name": MaxNameChars}
+var textLimit = map[string]int{"grant_id": MaxIDChars, "holder": MaxNameChars, "company_name": MaxNameChars,
+	"preparer": MaxNameChars, "client": MaxNameChars}
 
 // tooLong reports whether v has more than limit characters.
 func tooLong(v string, limit int) bool {
@@ -865,6 +866,12 @@ func (t *tableReader) companyValue(c *rowCtx, col *Column) {
 		}
 	case "grant_date":
 		co.GrantDate, _ = c.date(col.Key, false)
+	case "preparer":
+		co.Preparer, _ = c.text(col.Key)
+	case "client":
+		co.Client, _ = c.text(col.Key)
+	case "paper_size":
+		co.PaperSize, _ = c.choice(col.Key, false)
 	}
 }
 

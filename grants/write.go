@@ -357,6 +357,13 @@ func companyRows(s *Schedule, sh *Sheet) [][]any {
 	if sh.Column("grant_date") != nil {
 		rows = append(rows, []any{"grant_date", val(!co.GrantDate.IsZero(), co.GrantDate)})
 	}
+	// The memo's optional keys, written when set (the About sheet
+	// describes them either way).
+	for _, kv := range [][2]string{{"preparer", co.Preparer}, {"client", co.Client}, {"paper_size", co.PaperSize}} {
+		if kv[1] != "" && sh.Column(kv[0]) != nil {
+			rows = append(rows, []any{kv[0], kv[1]})
+		}
+	}
 	return rows
 }
 

@@ -100,22 +100,19 @@ func (d *Memo) expense(m *Model) error {
 	if len(periods) > chartQuarters {
 		periods = periods[len(periods)-chartQuarters:]
 	}
-	var labels []string
-	var values []float64
+	bars := make([]PeriodBar, 0, len(periods)+len(e.Forecast))
 	for _, p := range periods {
-		label := quarterLabel(p)
+		kind := PeriodPast
 		if p.Current {
-			label += " (this period)"
+			kind = PeriodCurrent
 		}
-		labels = append(labels, label)
-		values = append(values, p.Amount)
+		bars = append(bars, PeriodBar{quarterLabel(p), p.Amount, kind})
 	}
 	for _, p := range e.Forecast {
-		labels = append(labels, quarterLabel(p)+" e")
-		values = append(values, p.Amount)
+		bars = append(bars, PeriodBar{quarterLabel(p), p.Amount, PeriodExpected})
 	}
 	if err := d.Chart(func(w, h vg.Length) ([]byte, error) {
-		return BarPNG("Compensation expense by quarter (e = expected)", labels, values, cur, w, h)
+		return PeriodBarsPNG("Compensation expense by quarter", bars, cur, w, h)
 	}, textW, 80); err != nil {
 		return err
 	}
@@ -151,7 +148,7 @@ func (d *Memo) journal(m *Model) error {
 		e.PeriodStart, e.PeriodEnd, m.Company.Currency, equity))
 	var rows [][]string
 	for i, j := range e.Journal {
-		rows = append(rows, []string{"\x00" + fmt.Sprintf("%d. %s", i+1, j.Description), "", ""})
+		rows = append(rows, []string{rowHeading + fmt.Sprintf("%d. %s", i+1, j.Description), "", ""})
 		for _, l := range j.Lines {
 			acct := "Dr " + l.Account
 			dr, cr := groupDigits(l.Debit, 2), ""
