@@ -471,7 +471,8 @@ const cellPad = 2.0
 // runs past the page continues on the next one with its header
 // repeated. A row whose first cell starts with rowBold is drawn bold
 // (totals); one that starts with rowHeading is a bold heading that never
-// stays alone at the foot of a page.
+// stays alone at the foot of a page. A bold row of one cell heads a group
+// and runs across the whole table.
 func (d *Memo) Table(cols []Col, rows [][]string) {
 	p := d.pdf
 	cols = d.fitColumns(cols, rows)
@@ -501,6 +502,7 @@ func (d *Memo) Table(cols []Col, rows [][]string) {
 	type laid struct {
 		style   string
 		heading bool
+		cells   []Col // cols, or one across the table
 		lines   [][]string
 		h       float64
 	}
@@ -518,9 +520,13 @@ func (d *Memo) Table(cols []Col, rows [][]string) {
 			l.style, l.heading = "B", true
 		}
 		p.SetFont(fontSans, l.style, tableSize)
-		l.lines = make([][]string, len(cols))
+		l.cells = cols
+		if l.style == "B" && len(r) == 1 {
+			l.cells = []Col{{Width: width}}
+		}
+		l.lines = make([][]string, len(l.cells))
 		n := 1
-		for j, c := range cols {
+		for j, c := range l.cells {
 			s := ""
 			if j < len(r) {
 				s = trimMarker(r[j])
@@ -557,7 +563,7 @@ func (d *Memo) Table(cols []Col, rows [][]string) {
 			p.SetLineWidth(0.3)
 			p.Line(x, y, x+width, y)
 		}
-		for j, c := range cols {
+		for j, c := range l.cells {
 			d.cellLines(x, y+0.6, c, l.lines[j])
 			x += c.Width
 		}
@@ -614,6 +620,9 @@ func fitColumns(cols []Col, rows [][]string, limit, pad float64, measure func(s 
 	}
 	for _, r := range rows {
 		bold := len(r) > 0 && (strings.HasPrefix(r[0], rowBold) || strings.HasPrefix(r[0], rowHeading))
+		if bold && len(r) == 1 {
+			continue // a group's heading runs across the table
+		}
 		for j := 0; j < n && j < len(r); j++ {
 			s := trimMarker(r[j])
 			for _, w := range strings.Fields(s) {
