@@ -619,7 +619,11 @@ func writeSummary(b *Book, m *Model) error {
 		for _, h := range groupHead {
 			head = append(head, b.Cell(b.Style.Header, h))
 		}
-		if err := t.Row(head...); err != nil {
+		widths := make([]float64, len(cols))
+		for i, c := range cols {
+			widths[i] = c.Width
+		}
+		if err := t.TallRow(headerHeight(append([]string{sec.title, ""}, groupHead...), widths), head...); err != nil {
 			return err
 		}
 		for _, g := range sec.groups {
@@ -897,10 +901,15 @@ func writeConvergence(b *Book, m *Model) error {
 		t.Skip(1)
 		hs := []string{"Cross-check grant", "Tranche", "Method", b.Cur("Lattice value"), b.Cur("Other method"), "Standard error", "Paths", "Lattice error", "z"}
 		head := make([]any, len(hs))
+		widths := make([]float64, len(hs))
 		for i, h := range hs {
 			head[i] = b.Cell(s.Header, h)
+			widths[i] = 14
+			if i < len(cols) {
+				widths[i] = cols[i].Width
+			}
 		}
-		if err := t.Row(head...); err != nil {
+		if err := t.TallRow(headerHeight(hs, widths), head...); err != nil {
 			return err
 		}
 		for _, x := range m.CrossChecks {
