@@ -50,6 +50,7 @@ func validate(s *Schedule, skip map[string]bool) Report {
 	v.accounts()
 	v.events()
 	v.designs()
+	v.conditions()
 	return v.rep
 }
 
