@@ -39,6 +39,9 @@ type Lock struct {
 	// grant date, the past quarter ends and the prior close's valuation
 	// date.
 	Revaluations []Revaluation
+	// Key is the valuation key (GrantValue.Key) of the values filed; ""
+	// from a close that filed none.
+	Key string
 }
 
 // LockedTranche is one tranche's measurement as filed.
@@ -106,6 +109,7 @@ func lock(v *Valuation, opts Options) ([]string, error) {
 		if err := keep(gv, &lk); err != nil {
 			return nil, err
 		}
+		gv.Key = lk.Key
 	}
 	return driftWarnings(v.Grants), nil
 }
@@ -215,7 +219,7 @@ func keep(gv *GrantValue, lk *Lock) error {
 		t := lk.Tranches[j]
 		today := gv.Results[k]
 		tol := math.Max(today.ErrorEstimate, t.Result.ErrorEstimate) + 1e-12*math.Abs(t.Result.Value)
-		if math.Abs(today.Value-t.Result.Value) > tol {
+		if !gv.Reused && math.Abs(today.Value-t.Result.Value) > tol {
 			differs = true
 		}
 		n := float64(tr.Shares)
