@@ -174,7 +174,9 @@ var Sheets = []Sheet{
 			{Key: "date", Kind: KindDate, Required: true, Need: "required", Help: "The date of the event."},
 			{Key: "event", Kind: KindChoice, Choices: eventKinds, Required: true, Need: "required", Help: "exercised, forfeited (unvested shares lost on leaving), expired (vested shares lapsed) or cancelled."},
 			{Key: "shares", Kind: KindInt, Unit: "shares", Required: true, Need: "required", Help: "Shares affected."},
+			{Key: "replacement_grant_id", Kind: KindText, Need: "cancelled events, optional", Help: "For a cancellation with a concurrent replacement award: the grant_id of the replacement, granted on the cancellation date. The exchange is booked as a modification (ASC 718-20-35-8; IFRS 2.28(c)): the cancelled shares' grant-date cost is kept and only a replacement worth more than them on that date adds cost."},
 		}},
+	modificationsSheet,
 }
 
 // DesignSheets is the layout of the grant designs workbook that compare

@@ -61,7 +61,9 @@ type Schedule struct {
 	SharePrices []PricePoint
 	Rates       []RatePoint
 	Events      []Event
-	Designs     []Design // the Designs sheet of a designs workbook (ReadDesigns)
+	// Modifications are the rows of the Modifications sheet (modify.go).
+	Modifications []Modification
+	Designs       []Design // the Designs sheet of a designs workbook (ReadDesigns)
 
 	// layout is, per sheet read, the 0-based column of each column key, so
 	// that problems with empty cells can name the cell.
@@ -190,6 +192,9 @@ type Event struct {
 	Kind    EventKind
 	Shares  int64
 	Row     int
+	// ReplacementGrantID names, for a cancellation with a concurrent
+	// replacement award, the grant that replaces the shares (modify.go).
+	ReplacementGrantID string
 }
 
 // Tranche is the part of a grant that vests on one date.

@@ -39,7 +39,8 @@ const (
 )
 
 // textLimit gives the longest text allowed in a column read as text.
-var textLimit = map[string]int{"grant_id": MaxIDChars, "holder": MaxNameChars, "company_name": MaxNameChars}
+var textLimit = map[string]int{"grant_id": MaxIDChars, "holder": MaxNameChars, "company_name": MaxNameChars,
+	"replacement_grant_id": MaxIDChars, "note": MaxSourceChars}
 
 // tooLong reports whether v has more than limit characters.
 func tooLong(v string, limit int) bool {
@@ -407,6 +408,8 @@ func (t *tableReader) readTable() {
 			t.rateRow(c)
 		case SheetEvents:
 			t.eventRow(c)
+		case SheetModifications:
+			t.modificationRow(c)
 		case SheetDesigns:
 			t.designRow(c)
 		}
@@ -708,10 +711,13 @@ func (t *tableReader) eventRow(c *rowCtx) {
 	e := Event{Row: c.row}
 	e.GrantID, _ = c.required("grant_id")
 	e.Date, _ = c.date("date", true)
-	if k, ok := c.choice("event", true); ok {
+	if k := norm(c.cellText("event")); strings.HasPrefix(k, "modif") || strings.HasPrefix(k, "repric") {
+		c.failf("event", c.cellText("event"), ErrNotChoice, "is not an event: record a change of terms (a repricing, a new expiry, accelerated vesting) as a row of the Modifications sheet")
+	} else if k, ok := c.choice("event", true); ok {
 		e.Kind = EventKind(k)
 	}
 	e.Shares, _ = c.integer("shares", true)
+	e.ReplacementGrantID, _ = c.text("replacement_grant_id")
 	if c.failed {
 		if e.GrantID != "" {
 			t.rep.skip[e.GrantID] = true

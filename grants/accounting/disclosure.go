@@ -269,8 +269,8 @@ func dayOnOrAfter(a, b time.Time) bool { return valuation.Days(b, a) >= 0 }
 // rollOutstanding adds an option or warrant grant to a roll-forward of the
 // number outstanding.
 func rollOutstanding(l *awardLedger, r *rollAccs, open, start, end time.Time, inPeriod bool) {
-	k := l.in.Grant.Strike
-	for _, t := range l.tr {
+	for i, t := range l.tr {
+		k := func(d time.Time) float64 { return l.strikeOn(i, d) } // the strike in force on d
 		atOpen, atEnd := t.Tranche.Shares, t.Tranche.Shares
 		for _, m := range t.moves {
 			if dayOnOrBefore(m.date, open) {
@@ -282,22 +282,22 @@ func rollOutstanding(l *awardLedger, r *rollAccs, open, start, end time.Time, in
 				atEnd -= m.shares
 				switch m.kind {
 				case grants.Exercised:
-					r.exercised.add(m.shares, k, t.FairValue)
+					r.exercised.add(m.shares, k(m.date), t.FairValue)
 				case grants.Forfeited:
-					r.forfeited.add(m.shares, k, t.FairValue)
+					r.forfeited.add(m.shares, k(m.date), t.FairValue)
 				case grants.Cancelled:
-					r.cancelled.add(m.shares, k, t.FairValue)
+					r.cancelled.add(m.shares, k(m.date), t.FairValue)
 				case grants.Expired:
-					r.expired.add(m.shares, k, t.FairValue)
+					r.expired.add(m.shares, k(m.date), t.FairValue)
 				}
 			}
 		}
 		if inPeriod {
-			r.granted.add(t.Tranche.Shares, k, t.FairValue)
+			r.granted.add(t.Tranche.Shares, k(l.in.Grant.GrantDate), t.FairValue)
 		} else {
-			r.start.add(atOpen, k, t.FairValue)
+			r.start.add(atOpen, k(open), t.FairValue)
 		}
-		r.end.add(atEnd, k, t.FairValue)
+		r.end.add(atEnd, k(end), t.FairValue)
 	}
 }
 
@@ -347,22 +347,22 @@ func rollNonvested(l *awardLedger, r *rollAccs, open, start, end time.Time, inPe
 
 // summarise adds an option or warrant grant's period-end position.
 func summarise(l *awardLedger, out, ex, exp *outAcc, end time.Time, price float64) {
-	g := l.in.Grant
 	term := 0.0
-	if !g.ExpiryDate.IsZero() {
-		term = math.Max(valuation.YearFrac(end, g.ExpiryDate), 0)
+	if !l.expiry.IsZero() {
+		term = math.Max(valuation.YearFrac(end, l.expiry), 0)
 	}
-	for _, t := range l.tr {
+	for i, t := range l.tr {
 		n := float64(t.countsAt(end).open)
 		if n == 0 {
 			continue
 		}
-		out.add(n, g.Strike, term, price)
+		k := l.strikeOn(i, end)
+		out.add(n, k, term, price)
 		if t.vestedOn(end) {
-			ex.add(n, g.Strike, term, price)
-			exp.add(n, g.Strike, term, price)
+			ex.add(n, k, term, price)
+			exp.add(n, k, term, price)
 		} else {
-			exp.add(n*t.expected(dayNum(end), l.rate), g.Strike, term, price)
+			exp.add(n*t.expected(dayNum(end), l.rate), k, term, price)
 		}
 	}
 }
@@ -370,12 +370,12 @@ func summarise(l *awardLedger, out, ex, exp *outAcc, end time.Time, price float6
 // warrantRow is a warrant grant's row, if any of it is outstanding.
 func warrantRow(l *awardLedger, end time.Time, price float64) (WarrantRow, bool) {
 	g := l.in.Grant
-	row := WarrantRow{GrantID: g.ID, Holder: g.Holder, Classification: g.Classification, Strike: g.Strike, ExpiryDate: g.ExpiryDate}
+	row := WarrantRow{GrantID: g.ID, Holder: g.Holder, Classification: g.Classification, Strike: l.strikeOn(0, end), ExpiryDate: l.expiry}
 	if row.Classification == "" {
 		row.Classification = grants.Equity
 	}
-	if !g.ExpiryDate.IsZero() {
-		row.RemainingTermYears = math.Max(valuation.YearFrac(end, g.ExpiryDate), 0)
+	if !l.expiry.IsZero() {
+		row.RemainingTermYears = math.Max(valuation.YearFrac(end, l.expiry), 0)
 	}
 	var fv float64
 	for i, t := range l.tr {
@@ -394,6 +394,6 @@ func warrantRow(l *awardLedger, end time.Time, price float64) (WarrantRow, bool)
 		return row, false
 	}
 	row.FairValue = fv / float64(row.Shares)
-	row.IntrinsicValue = float64(row.Shares) * math.Max(price-g.Strike, 0)
+	row.IntrinsicValue = float64(row.Shares) * math.Max(price-row.Strike, 0)
 	return row, true
 }

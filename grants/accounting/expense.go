@@ -42,6 +42,11 @@ type Award struct {
 	Events         []grants.Event // this grant's events, in any order
 	Remeasurements []Remeasurement
 	Measured       *MeasuredAssumptions // optional; used by Disclose
+	// Modified are the changes of its terms dated by the period end, with
+	// their values, and Replaces, for a replacement award, the
+	// cancellation it replaces (modify.go).
+	Modified *Modified
+	Replaces *Replaces
 }
 
 // Policy is the company's attribution and forfeiture policy. The zero
@@ -150,6 +155,10 @@ type ExpenseReport struct {
 	// PolicyNotes say where the chosen policy differs between ASC 718 and
 	// IFRS 2, and what attribution does not model.
 	PolicyNotes []string
+	// Modifications are the changes of awards' terms dated by the period
+	// end, and the cancellations with a replacement, with what each did to
+	// the cost (modify.go).
+	Modifications []ModificationExpense
 }
 
 // ForecastQuarters is how many calendar quarters the forecast covers.
@@ -230,6 +239,7 @@ func openPeriod(awards []Award, policy Policy, periodStart, periodEnd time.Time)
 	if len(errs) > 0 {
 		return nil, errors.Join(errs...)
 	}
+	p.linkReplacements()
 	return p, nil
 }
 
@@ -283,9 +293,9 @@ func (p *period) expense() *ExpenseReport {
 		if p.prior != nil {
 			pg, _ = p.prior.grant(g.ID)
 			bookedTranche = func(i int) float64 {
-				if pg != nil {
+				if pg != nil && (i == 0 || l.tr[i-1].of != l.tr[i].of) { // a tranche's first part carries it
 					for _, t := range pg.Tranches {
-						if dayNum(t.VestDate) == l.tr[i].vestN {
+						if dayNum(t.VestDate) == l.tr[i].origN {
 							return t.Cumulative
 						}
 					}
@@ -331,6 +341,7 @@ func (p *period) expense() *ExpenseReport {
 				wYears += te.Unrecognized * te.RemainingYears
 			}
 		}
+		ge.Tranches = l.byTranche(ge.Tranches)
 		if p.prior != nil {
 			ge.CumulativeOpen = 0
 			if pg != nil {
@@ -412,6 +423,7 @@ func (p *period) expense() *ExpenseReport {
 	}
 	rep.Periods = bounds
 	rep.PolicyNotes = policyNotes(pol, ledgers)
+	rep.Modifications = p.modificationExpense()
 	return rep
 }
 
@@ -436,8 +448,7 @@ func policyNotes(pol Policy, ledgers []*awardLedger) []string {
 	if warrants {
 		notes = append(notes, "Warrants are attributed like awards for goods or services. A warrant issued in a financing (to a lender or an investor) is not share-based compensation: its issue-date value belongs with the financing (a debt discount or an issue cost; ASC 470, ASC 815, IAS 32), and only its remeasurement, for a liability, belongs in profit or loss.")
 	}
-	notes = append(notes, "A cancellation is treated as without a replacement award; modifications and replacement awards are not modelled.")
-	return notes
+	return append(notes, modificationNotes(ledgers)...)
 }
 
 // String is a one-line summary, for logs and test failures.

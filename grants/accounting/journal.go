@@ -90,7 +90,8 @@ const minEntry = 0.005
 // catch-ups, in the accounts accts (nil for DefaultAccounts): the
 // compensation of equity-classified awards against equity and of
 // liability-classified warrants against the liability, each without its
-// catch-ups; an entry per catch-up, naming its grant and cause; the
+// catch-ups and the modifications' cost; an entry per catch-up, naming its
+// grant and cause; an entry per modification (r.Modifications); the
 // liability's remeasurement apart from compensation; and exercised
 // liability warrants reclassified to equity. The compensation lines add
 // up to the period's expense. Entries of less than half a cent are left
@@ -113,6 +114,9 @@ func Journal(r *ExpenseReport, catchUps []CatchUp, accts Accounts) []Entry {
 			equity -= c.Amount
 		}
 	}
+	for _, m := range r.Modifications {
+		equity -= m.Period
+	}
 	var out []Entry
 	add := func(desc string, debit, credit Role, grantID string, amount float64) {
 		if math.Abs(amount) >= minEntry {
@@ -127,6 +131,9 @@ func Journal(r *ExpenseReport, catchUps []CatchUp, accts Accounts) []Entry {
 			credit = RoleLiability
 		}
 		add("Catch-up for closed periods, grant "+c.GrantID+" ("+strings.ReplaceAll(string(c.Cause), "_", " ")+")", RoleCompensation, credit, c.GrantID, c.Amount)
+	}
+	for _, m := range r.Modifications {
+		add(m.JournalText(), RoleCompensation, RoleEquity, m.GrantID, m.Period)
 	}
 	add("Remeasurement of the warrant liability to fair value (apart from compensation)", RoleFairValueChange, RoleLiability, "", fv)
 	add("Exercised liability-classified warrants reclassified to equity", RoleLiability, RoleEquity, "", reclass)
