@@ -227,7 +227,9 @@ func fakeModifications(t *testing.T, s *grants.Schedule, v *pricing.Valuation, b
 	}
 }
 
-func flat(x float64) func(string, int, int) float64 { return func(string, int, int) float64 { return x } }
+func flat(x float64) func(string, int, int) float64 {
+	return func(string, int, int) float64 { return x }
+}
 
 // TestRepricingUnvestedByHand: oneOption's 1,200 shares (fair value 10 at
 // grant on 2025-01-01, all vesting 2027-01-01, 730 days) are repriced on
