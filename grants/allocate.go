@@ -1,6 +1,7 @@
 package grants
 
 import (
+	"math/bits"
 	"sort"
 	"time"
 
@@ -45,12 +46,14 @@ type Allocation struct {
 //
 // Events apply in date order, events of the same day in the order given.
 // A forfeited or cancelled event takes its shares from the tranches not
-// vested on its date, latest vest date first (a termination forfeits them
-// all), then from vested outstanding shares, latest first. An exercised
-// or expired event takes vested outstanding shares, earliest vest date
-// first. Shares an event names beyond what it may take are left as
-// Short: the event takes what there is. Events of any other kind take
-// nothing.
+// vested on its date, from each in proportion to its outstanding shares
+// (ProRata: a termination, naming them all, takes them all; a pooled row
+// of several holders of whom some leave takes the same share of every
+// unvested tranche), then from vested outstanding shares, latest vest
+// date first. An exercised or expired event takes vested outstanding
+// shares, earliest vest date first. Shares an event names beyond what it
+// may take are left as Short: the event takes what there is. Events of
+// any other kind take nothing.
 func Allocate(ts []Tranche, evs []Event) Allocation {
 	order := make([]int, len(evs))
 	for i := range order {
@@ -74,8 +77,10 @@ func Allocate(ts []Tranche, evs []Event) Allocation {
 			}
 		}
 		left := max(e.Shares, 0)
-		take := func(i int) {
-			n := min(open[i], left)
+		// take moves up to n shares of tranche i, within what it holds and
+		// what the event has left to take.
+		take := func(i int, n int64) {
+			n = min(n, open[i], left)
 			if n <= 0 {
 				return
 			}
@@ -91,18 +96,24 @@ func Allocate(ts []Tranche, evs []Event) Allocation {
 		}
 		switch e.Kind {
 		case Forfeited, Cancelled:
-			for i := len(ts) - 1; i >= 0 && left > 0; i-- {
-				if !vested(i) {
-					take(i)
+			var idx []int
+			var pool []int64
+			for i := range ts {
+				if !vested(i) && open[i] > 0 {
+					idx = append(idx, i)
+					pool = append(pool, open[i])
 				}
 			}
+			for j, n := range ProRata(min(left, tk.Unvested), pool) {
+				take(idx[j], n)
+			}
 			for i := len(ts) - 1; i >= 0 && left > 0; i-- {
-				take(i)
+				take(i, left)
 			}
 		case Exercised, Expired:
 			for i := 0; i < len(ts) && left > 0; i++ {
 				if vested(i) {
-					take(i)
+					take(i, left)
 				}
 			}
 		default:
@@ -112,4 +123,47 @@ func Allocate(ts []Tranche, evs []Event) Allocation {
 		out.Events = append(out.Events, tk)
 	}
 	return out
+}
+
+// ProRata divides n whole shares among pools in proportion to their
+// sizes (0 ≤ n ≤ the sum of pools): each pool gets the floor of its exact
+// share n·pool/total, and the shares left over by the floors go one each
+// to the pools with the largest fractions left, the later pool first on
+// a tie (largest remainders; with tranches in vest-date order, a tie goes
+// to the tranche that vests later). No pool gets more than it holds, and
+// the parts add up to n exactly.
+func ProRata(n int64, pools []int64) []int64 {
+	out := make([]int64, len(pools))
+	var total int64
+	for _, p := range pools {
+		total += p
+	}
+	if n <= 0 || total <= 0 {
+		return out
+	}
+	n = min(n, total)
+	rem := make([]int64, len(pools)) // n·pool mod total, the fraction's numerator
+	var given int64
+	for i, p := range pools {
+		q, r := mulDivMod(n, p, total)
+		out[i], rem[i] = q, r
+		given += q
+	}
+	order := make([]int, len(pools))
+	for i := range order {
+		order[i] = len(pools) - 1 - i
+	}
+	sort.SliceStable(order, func(a, b int) bool { return rem[order[a]] > rem[order[b]] })
+	for _, i := range order[:n-given] {
+		out[i]++
+	}
+	return out
+}
+
+// mulDivMod is the quotient and remainder of a·b/c for 0 ≤ a, b ≤ c and
+// c > 0, exact for every c below 2^62.
+func mulDivMod(a, b, c int64) (q, r int64) {
+	hi, lo := bits.Mul64(uint64(a), uint64(b))
+	uq, ur := bits.Div64(hi, lo, uint64(c))
+	return int64(uq), int64(ur)
 }

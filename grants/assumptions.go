@@ -72,6 +72,8 @@ func (a *Assumptions) set(r AssumptionRow) {
 		a.Attribution = Attribution(r.Text)
 	case "forfeitures":
 		a.Forfeitures = ForfeiturePolicy(r.Text)
+	case "framework":
+		a.Framework = Framework(r.Text)
 	case "steps":
 		a.Steps = int(r.Value)
 	}
@@ -95,6 +97,8 @@ func (a *Assumptions) row(key string) AssumptionRow {
 		r.Text = string(a.Attribution)
 	case "forfeitures":
 		r.Text = string(a.Forfeitures)
+	case "framework":
+		r.Text = string(a.Framework)
 	case "steps":
 		r.Value = float64(a.Steps)
 	}
@@ -102,7 +106,8 @@ func (a *Assumptions) row(key string) AssumptionRow {
 }
 
 // InForce is the assumptions in force at the valuation date: the policy
-// of the close (attribution, forfeitures and the forfeiture estimate) and
+// of the close (attribution, forfeitures, the forfeiture estimate and the
+// framework) and
 // the lattice's steps. A grant's valuation inputs are those in force at
 // its measurement date (Inputs).
 func (s *Schedule) InForce() Assumptions {

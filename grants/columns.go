@@ -91,6 +91,8 @@ var (
 	instruments     = []string{string(Option), string(Warrant), string(RSU)}
 	classifications = []string{string(Equity), string(Liability)}
 	exerciseStyles  = []string{string(American), string(European)}
+	purposes        = []string{string(Compensation), string(Financing)}
+	frameworks      = []string{string(ASC718), string(IFRS2)}
 	eventKinds      = []string{string(Exercised), string(Forfeited), string(Expired), string(Cancelled)}
 	compoundings    = []string{"continuous", "annual", "semiannual", "par-semiannual"}
 )
@@ -118,6 +120,7 @@ var Sheets = []Sheet{
 			{Key: "attribution", Kind: KindChoice, Choices: []string{string(Graded), string(StraightLine)}, Need: "optional", Default: "graded", Help: "How a graded award's cost is spread over service: per tranche (graded) or evenly over the whole award (straight-line)."},
 			{Key: "forfeitures", Kind: KindChoice, Choices: []string{string(Estimate), string(AsOccur)}, Need: "optional", Default: "estimate", Help: "Estimate forfeitures in advance, or account for them as they occur."},
 			{Key: "steps", Kind: KindSteps, Need: "optional", Default: "auto", Help: "Lattice steps: auto (converged, with an error estimate) or a fixed number."},
+			{Key: "framework", Kind: KindChoice, Choices: frameworks, Need: "optional", Default: "asc718", Help: "The accounting standard the books follow: asc718 (US GAAP) or ifrs2. Under ifrs2 attribution must be graded and forfeitures estimated, and the journal credits a share-based payment reserve."},
 		},
 		KeyColumns: []Column{
 			{Key: "source", Kind: KindText, Need: "optional", Help: "Where the value comes from (a study, a policy memo); the memo and the workbook quote it beside the cell."},
@@ -145,6 +148,8 @@ var Sheets = []Sheet{
 			{Key: "post_vesting_exit_rate", Kind: KindPercent, Unit: "annual", Need: "optional", Default: "Assumptions", Help: "Overrides the post-vesting exit rate."},
 			{Key: "classification", Kind: KindChoice, Choices: classifications, Need: "warrants, optional", Default: "equity", Help: "Equity warrants are measured at grant; liability warrants are remeasured at every valuation date."},
 			{Key: "exercise_style", Kind: KindChoice, Choices: exerciseStyles, Need: "warrants, optional", Default: "american", Help: "American warrants may be exercised at any time once vested; european only at expiry."},
+			{Key: "purpose", Kind: KindChoice, Choices: purposes, Need: "warrants: required; options and RSUs: optional", Default: "compensation (options and RSUs)", Help: "What the award pays for: compensation (share-based payment for services, expensed over service) or financing (a warrant issued to a lender or an investor: not compensation; measured at issue, and remeasured every period if a liability)."},
+			{Key: "hire_date", Kind: KindDate, Need: "optional", Default: "grant_date", Help: "For a holder hired after the grant date, the day service begins: cost is recognised from it. Leave empty when the holder was employed at grant."},
 		}},
 	{Name: SheetVesting, File: "vesting.csv",
 		Help: "Optional custom vesting: for each grant named here these rows replace the schedule of the Grants columns. The shares of a grant must add up to its grant.",

@@ -75,14 +75,19 @@
 //     when there are warrants.
 //   - Assumptions: volatility given (unless every option and warrant row
 //     gives one) and above 0, a warning outside 5%–200%; dividend yield,
-//     exit and forfeiture rates in [0, 1); exercise multiple 0 or 1 to 100.
+//     exit and forfeiture rates in [0, 1); exercise multiple 0 or 1 to 100;
+//     under framework ifrs2, attribution graded and forfeitures estimate
+//     (IFRS 2 allows no other), each refusal naming its cell.
 //   - Grants: unique grant_id (both rows named); shares above 0; a strike
 //     for options and warrants, never negative (an RSU's is ignored with a
 //     warning); an expiry (expiry_date or term_years) after grant_date;
 //     cliff_months not above vest_months; vest_every_months 1, 3 or 12;
 //     vesting that ends after expiry; the same override bounds as the
-//     Assumptions; a warning for a strike below the share price at grant, a
-//     grant after the valuation date, a vest_start over a year after grant.
+//     Assumptions; a warrant's purpose given (compensation or financing),
+//     and financing for warrants only; a hire_date before the expiry; a
+//     warning for a strike below the share price at grant, a grant after
+//     the valuation date, a vest_start over a year after grant, a
+//     hire_date after the last vest date.
 //   - Market: a share price at every measurement date (the row's share_price
 //     or a Share Prices row on or before it), and one at the valuation date
 //     when an option or warrant is granted by then (PeriodEndPrice, for
@@ -98,12 +103,15 @@
 //     warning after the valuation date); shares never above what is
 //     outstanding when they happen: forfeited and cancelled against all
 //     outstanding shares (a warning when a forfeiture exceeds the unvested
-//     ones), exercised and expired against vested outstanding shares.
+//     ones, and when it forfeits only part of them, so that the rest vest
+//     after the holder left), exercised and expired against vested
+//     outstanding shares.
 //
 // # Measurement
 //
 // Tranches expands a grant into vesting tranches (DESIGN §4.2) with its
-// forfeitures applied by Allocate; Inputs gives a grant's valuation.Terms per tranche,
+// forfeitures applied by Allocate (from the unvested tranches in
+// proportion, ProRata); Inputs gives a grant's valuation.Terms per tranche,
 // its valuation.Market at the measurement date (the grant date, or the
 // valuation date for a liability-classified warrant) and the source of each
 // assumption, ready for the memo.

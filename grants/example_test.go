@@ -34,5 +34,5 @@ func ExampleSchedule_Inputs() {
 	// S0 0.85 from Share Prices!B2 (valuation of 2023-09-30)
 	// K 0.85, T 10.0082 years, V 1.0027 years (first tranche)
 	// sigma 0.52 from median of 5 peers' daily log-return volatility over 6.1 years to 2026-09-30 (grantworth vol sample/peers/*.csv, guideline peers) (Assumptions!B2)
-	// r(T) 0.04779 from Rates curve of 2023-09-30, 8 points, continuous zero rates
+	// r(T) 0.04779 from Rates curve of 2023-09-30, 8 points, continuous zero rates; at 10.01 years, flat beyond the 10-year rate (Rates!C9)
 }

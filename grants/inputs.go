@@ -2,6 +2,8 @@ package grants
 
 import (
 	"fmt"
+	"sort"
+	"strconv"
 	"time"
 
 	"grantworth/valuation"
@@ -32,7 +34,9 @@ type Inputs struct {
 	ExerciseMultiple Source
 	ExitRate         Source
 	// RiskFreeRate is the continuous zero rate at the grant's years to
-	// expiry (for an RSU, to its last vest date); Text describes the curve.
+	// expiry (for an RSU, to its last vest date); Ref is the Rates cells it
+	// was interpolated (or bootstrapped) from, and Text describes the curve
+	// and how.
 	RiskFreeRate Source
 }
 
@@ -171,8 +175,8 @@ func (s *Schedule) Inputs(g Grant) (Inputs, error) {
 			return Inputs{}, &CellError{Sheet: r.Sheet, Cell: r.Cell, Column: "curve_date", Value: isoDay(c.date), Err: ErrRange, Msg: "curve cannot be built: " + err.Error()}
 		}
 		in.Market.Curve, in.CurveDate = cv, c.date
-		r := s.cell(SheetRates, "rate", c.points[0].Row, nil)
-		in.RiskFreeRate = Source{Value: cv.Zero(horizon), Ref: r, Text: text}
+		r, how := s.citeRate(c, horizon)
+		in.RiskFreeRate = Source{Value: cv.Zero(horizon), Ref: r, Text: text + "; " + how}
 	} else if g.Instrument == RSU {
 		in.Market.Curve = valuation.FlatCurve(0)
 		in.RiskFreeRate = Source{Text: fmt.Sprintf("no Rates curve on or before %s; an RSU's value needs none", isoDay(md))}
@@ -180,6 +184,57 @@ func (s *Schedule) Inputs(g Grant) (Inputs, error) {
 		return fail("grant_date", "no Rates curve is dated on or before %s, the measurement date of grant %s", isoDay(md), g.ID)
 	}
 	return in, nil
+}
+
+// citeRate is where the zero rate of curve c at h years comes from: the
+// Rates cells it is interpolated between (linear in tenor, flat outside
+// the quoted tenors), or for par yields every cell up to the tenor at or
+// above h that the bootstrap used, with the how in words. Cells that are
+// adjacent rows are written as a range ("C8:C9"), others listed ("C2,C9").
+func (s *Schedule) citeRate(c curve, h float64) (Ref, string) {
+	pts := append([]RatePoint(nil), c.points...)
+	sort.SliceStable(pts, func(i, j int) bool { return pts[i].TenorYears < pts[j].TenorYears })
+	cell := func(p RatePoint) string { return s.cell(SheetRates, "rate", p.Row, nil).Cell }
+	cite := func(ps []RatePoint) Ref {
+		r := Ref{Sheet: SheetRates, Cell: cell(ps[0])}
+		if len(ps) == 1 {
+			return r
+		}
+		adjacent := true
+		for i := 1; i < len(ps); i++ {
+			adjacent = adjacent && ps[i].Row == ps[i-1].Row+1
+		}
+		if adjacent {
+			r.Cell += ":" + cell(ps[len(ps)-1])
+			return r
+		}
+		for _, p := range ps[1:] {
+			r.Cell += "," + cell(p)
+		}
+		return r
+	}
+	years := func(t float64) string { return strconv.FormatFloat(t, 'f', -1, 64) + "-year" }
+	hi := sort.Search(len(pts), func(i int) bool { return pts[i].TenorYears >= h })
+	at := fmt.Sprintf("at %.2f years", h)
+	if len(pts) > 0 && pts[0].Compounding == "par-semiannual" {
+		last := min(hi, len(pts)-1)
+		r := cite(pts[:last+1])
+		return r, fmt.Sprintf("%s, bootstrapped from the par yields up to %s (%s)", at, years(pts[last].TenorYears), r)
+	}
+	switch {
+	case hi == len(pts):
+		r := cite(pts[len(pts)-1:])
+		return r, fmt.Sprintf("%s, flat beyond the %s rate (%s)", at, years(pts[len(pts)-1].TenorYears), r)
+	case pts[hi].TenorYears == h || hi == 0:
+		r := cite(pts[hi : hi+1])
+		if pts[hi].TenorYears == h {
+			return r, fmt.Sprintf("%s, the %s rate (%s)", at, years(h), r)
+		}
+		return r, fmt.Sprintf("%s, flat below the %s rate (%s)", at, years(pts[0].TenorYears), r)
+	}
+	lo, up := pts[hi-1], pts[hi]
+	r := cite([]RatePoint{lo, up})
+	return r, fmt.Sprintf("%s, interpolated between the %s and %s rates (%s)", at, years(lo.TenorYears), years(up.TenorYears), r)
 }
 
 // source is the Source of key, whose value in a (a view made by At) is v:
@@ -279,6 +334,43 @@ func (s *Schedule) NeedsPeriodEndPrice() bool {
 		}
 	}
 	return false
+}
+
+// MoveValuationDate makes d the period end in place of the Company
+// sheet's valuation_date (a valuation date given on the command line),
+// keeping the reporting period as long as the schedule's own: a schedule
+// whose period_start to valuation_date spans n whole months (a quarter,
+// say) reports the n months ending on d; a period_start the schedule did
+// not give stays the default, QuarterStart of d; a period of any other
+// length becomes the three months ending on d. When the period start so
+// moves away from a period_start the schedule gave, the returned warning
+// says which period is reported and why; otherwise it is "".
+func (s *Schedule) MoveValuationDate(d time.Time) string {
+	co := &s.Company
+	oldEnd, oldStart := co.ValuationDate, co.PeriodStart
+	co.ValuationDate = d
+	_, given := co.Refs["period_start"]
+	if !given || oldStart.IsZero() || oldEnd.IsZero() {
+		co.PeriodStart = QuarterStart(d)
+		return ""
+	}
+	if d.Equal(oldEnd) {
+		return ""
+	}
+	months, why := 3, "the schedule's period is not a whole number of months, so a quarter is reported"
+	for n := 1; n <= 12; n++ {
+		if AddMonths(oldEnd.AddDate(0, 0, 1), -n).Equal(oldStart) {
+			months, why = n, fmt.Sprintf("as long as the schedule's own period, %s to %s", isoDay(oldStart), isoDay(oldEnd))
+			break
+		}
+	}
+	co.PeriodStart = AddMonths(d.AddDate(0, 0, 1), -months)
+	if co.PeriodStart.Equal(oldStart) {
+		return ""
+	}
+	return fmt.Sprintf("the valuation date %s replaces %s (%s): the period reported is %s to %s, %d %s, %s; %s's period_start %s is not used",
+		isoDay(d), isoDay(oldEnd), s.cell(SheetCompany, "valuation_date", 0, co.Refs), isoDay(co.PeriodStart), isoDay(d),
+		months, plural(months, "month"), why, s.cell(SheetCompany, "period_start", 0, co.Refs), isoDay(oldStart))
 }
 
 // Period is the reporting period of the schedule: its period start to its

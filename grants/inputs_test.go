@@ -1,7 +1,9 @@
 package grants
 
 import (
+	"maps"
 	"math"
+	"path/filepath"
 	"strings"
 	"testing"
 
@@ -130,5 +132,95 @@ func TestSchedulePeriodDefault(t *testing.T) {
 	start, end := s.Period()
 	if !start.Equal(d("2026-08-21")) || !end.Equal(d("2026-11-20")) {
 		t.Errorf("period %v..%v, want 2026-08-21..2026-11-20", start, end)
+	}
+}
+
+// A valuation date given in place of the schedule's keeps the reporting
+// period as long as the schedule's own (common practice: a quarter-end
+// close reports the quarter), and says so when the period start moves away
+// from the one the schedule gave. The sample's period is 2026-07-01 to
+// 2026-09-30 (Company!B4, Company!B3): for 2026-12-31 it reports
+// 2026-10-01 to 2026-12-31, three months, never the six from 2026-07-01.
+func TestMoveValuationDate(t *testing.T) {
+	s, _, err := ReadFile(filepath.Join("..", "sample", "tarnwick.xlsx"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	read := *s
+	cases := []struct {
+		name         string
+		start, end   string // the schedule's period; "" start = not given
+		to           string
+		want, remark string
+	}{
+		{"sample, next quarter", "2026-07-01", "2026-09-30", "2026-12-31", "2026-10-01",
+			"the period reported is 2026-10-01 to 2026-12-31, 3 months, as long as the schedule's own period, 2026-07-01 to 2026-09-30; Company!B4's period_start 2026-07-01 is not used"},
+		{"same date", "2026-07-01", "2026-09-30", "2026-09-30", "2026-07-01", ""},
+		{"fiscal quarter ending in January", "2026-08-01", "2026-10-31", "2027-01-31", "2026-11-01", "3 months, as long as the schedule's own period"},
+		{"a month", "2026-09-01", "2026-09-30", "2026-11-30", "2026-11-01", "1 month, as long as"},
+		{"not whole months", "2026-07-01", "2026-09-15", "2026-12-31", "2026-10-01", "not a whole number of months, so a quarter is reported"},
+		{"period start not given", "", "2026-09-30", "2026-12-31", "2026-10-01", ""},
+	}
+	for _, c := range cases {
+		s := read
+		s.Company.Refs = maps.Clone(read.Company.Refs)
+		s.Company.ValuationDate = d(c.end)
+		if c.start == "" {
+			delete(s.Company.Refs, "period_start")
+			s.Company.PeriodStart = QuarterStart(d(c.end))
+		} else {
+			s.Company.PeriodStart = d(c.start)
+		}
+		w := s.MoveValuationDate(d(c.to))
+		start, end := s.Period()
+		if !start.Equal(d(c.want)) || !end.Equal(d(c.to)) {
+			t.Errorf("%s: period %s..%s, want %s..%s", c.name, isoDay(start), isoDay(end), c.want, c.to)
+		}
+		if c.remark == "" && w != "" || !strings.Contains(w, c.remark) {
+			t.Errorf("%s: warning %q, want %q", c.name, w, c.remark)
+		}
+	}
+}
+
+// The risk-free rate cites the Rates cells it comes from (linear
+// interpolation in tenor, flat outside, DESIGN §4.2): a 2024-06-30 grant
+// of 3 years on a curve of 1, 2, 5 and 10 years reads 1/3 of the way from
+// the 2-year rate (Rates!C3) to the 5-year one (Rates!C4), never the
+// 1-year cell a grant's single reference used to name; on par yields it
+// cites every yield the bootstrap used up to the tenor above.
+func TestRiskFreeRateCitesItsCells(t *testing.T) {
+	s := smallSchedule()
+	s.Rates = []RatePoint{
+		{CurveDate: d("2024-06-30"), TenorYears: 1, Rate: 0.012, Compounding: "continuous", Row: 2},
+		{CurveDate: d("2024-06-30"), TenorYears: 2, Rate: 0.018, Compounding: "continuous", Row: 3},
+		{CurveDate: d("2024-06-30"), TenorYears: 5, Rate: 0.024, Compounding: "continuous", Row: 4},
+		{CurveDate: d("2024-06-30"), TenorYears: 10, Rate: 0.03, Compounding: "continuous", Row: 5},
+	}
+	s.layout = map[string]map[string]int{SheetRates: {"curve_date": 0, "tenor_years": 1, "rate": 2}}
+	g := Grant{ID: "HR-001", Instrument: Option, GrantDate: d("2024-06-30"), Shares: 100, Strike: 1, ExpiryDate: d("2027-06-30"), VestStart: d("2024-06-30")}
+	in, err := s.Inputs(g)
+	if err != nil {
+		t.Fatal(err)
+	}
+	// 2024-06-30 to 2027-06-30 is 1,095 days: 3 years ACT/365F exactly.
+	if in.RiskFreeRate.Ref.String() != "Rates!C3:C4" || math.Abs(in.RiskFreeRate.Value-(0.018+0.006/3)) > 1e-12 ||
+		!strings.Contains(in.RiskFreeRate.Text, "interpolated between the 2-year and 5-year rates (Rates!C3:C4)") {
+		t.Errorf("rate %v from %s: %s", in.RiskFreeRate.Value, in.RiskFreeRate.Ref, in.RiskFreeRate.Text)
+	}
+	s.Rates[1].Row, s.Rates[0].Row = 2, 3 // the 2-year row above the 1-year one: the cells are listed
+	if in, _ := s.Inputs(g); in.RiskFreeRate.Ref.String() != "Rates!C2,C4" {
+		t.Errorf("non-adjacent cells cited as %s", in.RiskFreeRate.Ref)
+	}
+	s.Rates[0].Row, s.Rates[1].Row = 2, 3
+	for i := range s.Rates {
+		s.Rates[i].Compounding = "par-semiannual"
+	}
+	g.ExpiryDate = d("2028-06-30") // 4 years: the bootstrap uses the 1-, 2- and 5-year yields
+	in, err = s.Inputs(g)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if in.RiskFreeRate.Ref.String() != "Rates!C2:C4" || !strings.Contains(in.RiskFreeRate.Text, "bootstrapped from the par yields up to 5-year") {
+		t.Errorf("par: %s: %s", in.RiskFreeRate.Ref, in.RiskFreeRate.Text)
 	}
 }

@@ -19,6 +19,24 @@ const (
 	Liability Classification = "liability" // remeasured at every valuation date
 )
 
+// Purpose is what an award pays for: services (share-based payment) or
+// a financing (a warrant issued to a lender or an investor, which is not
+// compensation).
+type Purpose string
+
+const (
+	Compensation Purpose = "compensation" // share-based payment for services: expensed over service
+	Financing    Purpose = "financing"    // issued in a debt or equity financing: not compensation
+)
+
+// Framework is the accounting standard the books follow.
+type Framework string
+
+const (
+	ASC718 Framework = "asc718" // US GAAP, ASC 718 (the default)
+	IFRS2  Framework = "ifrs2"  // IFRS 2
+)
+
 // ExerciseStyle is when a vested warrant may be exercised.
 type ExerciseStyle string
 
@@ -110,6 +128,7 @@ type Assumptions struct {
 	Attribution              Attribution
 	Forfeitures              ForfeiturePolicy
 	Steps                    int               // 0 = auto
+	Framework                Framework         // "" is ASC718
 	Sources                  map[string]string // by key: the text of the source column
 	Refs                     map[string]Ref    // by key: where the value came from
 	// Dated are the rows with an effective_date, in sheet order.
@@ -156,10 +175,24 @@ type Grant struct {
 
 	Classification Classification // warrants; default equity
 	ExerciseStyle  ExerciseStyle  // warrants; default american
+	// Purpose is compensation or financing: options and RSUs default to
+	// compensation; a warrant read from a sheet must say which.
+	Purpose Purpose
+	// HireDate is, for a holder hired after the grant date, the day
+	// service begins; zero when the holder was employed at grant.
+	HireDate time.Time
 
 	Row  int            // 1-based row on the Grants sheet
 	Refs map[string]Ref // by column key, e.g. "strike"
 }
+
+// IsFinancing reports whether g was issued in a financing: a warrant
+// that is not share-based payment.
+func (g Grant) IsFinancing() bool { return g.Purpose == Financing }
+
+// IsLiability reports whether g is a liability-classified warrant,
+// remeasured at fair value every period and at settlement.
+func (g Grant) IsLiability() bool { return g.Instrument == Warrant && g.Classification == Liability }
 
 // VestRow is one row of the Vesting sheet.
 type VestRow struct {

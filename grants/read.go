@@ -641,6 +641,12 @@ func (t *tableReader) grantRow(c *rowCtx) {
 			}
 		}
 	}
+	if v, ok := c.choice("purpose", false); ok {
+		g.Purpose = Purpose(v)
+	} else if g.Instrument != Warrant {
+		g.Purpose = Compensation
+	}
+	g.HireDate, _ = c.date("hire_date", false)
 	g.Refs = c.refs
 	if c.failed || !idOK {
 		if idOK {
@@ -943,6 +949,10 @@ func (t *tableReader) assumptionValue(c *rowCtx, col *Column, a *Assumptions) {
 	case "forfeitures":
 		if v, ok := c.choice(col.Key, false); ok {
 			a.Forfeitures = ForfeiturePolicy(v)
+		}
+	case "framework":
+		if v, ok := c.choice(col.Key, false); ok {
+			a.Framework = Framework(v)
 		}
 	case "steps":
 		if v, ok := c.text(col.Key); ok && !strings.EqualFold(v, "auto") {

@@ -275,15 +275,19 @@ func TestReadMoreWarnings(t *testing.T) {
 		`warning: Grants!E3 (strike): "3" is ignored: an RSU has no strike`,
 		`warning: Grants!H3 (vest_start): "2026-06-01" is more than a year after grant_date 2025-01-15`,
 		`warning: Grants!C4 (grant_date): "2026-11-02" is after the valuation date 2026-09-30`,
-		// 2026-02-01: 12 months of 48 vested (300 of 1200), 900 unvested; 800 is fine.
 		`warning: Events!B3 (date): "2026-12-01" is after the valuation date 2026-09-30`,
+		// 2026-02-01: 12 months of 48 vested (300 of 1200), 900 unvested;
+		// forfeiting 800 leaves 100 to vest after the holder left.
+		`warning: Events!D2 (shares): "800" forfeits 800 of the 900 shares of grant A-1 unvested on 2026-02-01: the other 100 still vest`,
 	} {
 		if !strings.Contains(got, w) {
 			t.Errorf("missing %q in\n%s", w, got)
 		}
 	}
-	if strings.Contains(got, "Events!D2") {
-		t.Errorf("800 of 900 unvested shares drew a problem:\n%s", got)
+	fs["events.csv"] = &fstest.MapFile{Data: []byte("grant_id,date,event,shares\nA-1,2026-02-01,forfeited,900\n")}
+	_, rep = readMap(t, fs)
+	if got := problems(rep); strings.Contains(got, "Events!D2") {
+		t.Errorf("a termination of all 900 unvested shares drew a problem:\n%s", got)
 	}
 	fs["events.csv"] = &fstest.MapFile{Data: []byte("grant_id,date,event,shares\nA-1,2026-02-01,forfeited,1000\n")}
 	_, rep = readMap(t, fs)
@@ -315,5 +319,38 @@ func TestReadXLSXMutations(t *testing.T) {
 		if err == nil && (s == nil || rep == nil) {
 			t.Errorf("mutation %d: no schedule and no error", i)
 		}
+	}
+}
+
+// The purpose of each award, a holder's hire date and the framework are
+// read with their defaults: options and RSUs are compensation unless they
+// say otherwise, a warrant says which (DESIGN §4.2); the framework is
+// ASC 718 unless given.
+func TestReadPurposeHireDateFramework(t *testing.T) {
+	fs := baseCSV()
+	fs["company.csv"] = &fstest.MapFile{Data: []byte("key,value\ncompany_name,Pebblebrook Audio\nvaluation_date,2026-09-30\nshares_outstanding,5000000\n")}
+	fs["assumptions.csv"] = &fstest.MapFile{Data: []byte("key,value,source\nvolatility,45%,peers\nframework,IFRS2,group policy\n")}
+	fs["grants.csv"] = &fstest.MapFile{Data: []byte("grant_id,instrument,grant_date,shares,strike,term_years,vest_months,purpose,Hire Date\n" +
+		"A-1,option,2025-01-15,1200,2.00,10,48,,2025-03-01\n" +
+		"W-1,warrant,2025-01-15,5000,2.50,7,0,Financing,\n" +
+		"W-2,warrant,2025-01-15,500,2.50,7,12,compensation,\n")}
+	s, rep := readMap(t, fs)
+	if !rep.OK() {
+		t.Fatalf("problems:\n%s", problems(rep))
+	}
+	want := map[string]Purpose{"A-1": Compensation, "W-1": Financing, "W-2": Compensation}
+	for _, g := range s.Grants {
+		if g.Purpose != want[g.ID] {
+			t.Errorf("%s: purpose %q, want %q", g.ID, g.Purpose, want[g.ID])
+		}
+	}
+	if g, _ := s.Grant("A-1"); !g.HireDate.Equal(d("2025-03-01")) || g.Refs["hire_date"].String() != "Grants!I2" {
+		t.Errorf("hire date %v at %s", g.HireDate, g.Refs["hire_date"])
+	}
+	if g, _ := s.Grant("W-1"); !g.IsFinancing() || g.IsLiability() {
+		t.Errorf("W-1 %+v", g)
+	}
+	if a := s.InForce(); a.Framework != IFRS2 || a.Refs["framework"].String() != "Assumptions!B3" {
+		t.Errorf("framework %q at %s", a.Framework, a.Refs["framework"])
 	}
 }

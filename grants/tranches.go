@@ -19,9 +19,9 @@ import (
 // last day. A grant with vest_months 0 is one tranche vested at grant.
 //
 // Forfeited and cancelled events take their shares by the rule of
-// Allocate: from the tranches that vest after the event's date, latest
-// vest date first (a termination forfeits them all); a tranche vesting on
-// the event's date has vested. Shares taken from vested tranches, and
+// Allocate: from the tranches that vest after the event's date, in
+// proportion to their shares (a termination forfeits them all); a tranche
+// vesting on the event's date has vested. Shares taken from vested tranches, and
 // exercised and expired events, change no tranche's Forfeited or
 // Cancelled. A grant with no shares has no tranches.
 func (s *Schedule) Tranches(g Grant) []Tranche {

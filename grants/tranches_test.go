@@ -58,26 +58,19 @@ func TestTranchesForfeit(t *testing.T) {
 	g, _ := s.Grant("G-001")
 	ts := s.Tranches(g)
 	// Left on 2026-04-15: vested by then: 1200 at the cliff (2025-01-31) +
-	// 100 a month to 2026-03-31 (14 months) = 2600; unvested 2200, of which
-	// the event forfeits 2100, latest first.
+	// 100 a month to 2026-03-31 (14 months) = 2600; the termination
+	// forfeits the 2200 unvested, every tranche that vests after it.
 	var forfeited, vesting int64
 	for _, tr := range ts {
-		if !tr.VestDate.After(d("2026-04-15")) && tr.Forfeited != 0 {
-			t.Errorf("tranche %d vesting %s before the event is forfeited", tr.Index, tr.VestDate.Format(time.DateOnly))
+		vestedBefore := !tr.VestDate.After(d("2026-04-15"))
+		if vestedBefore && tr.Forfeited != 0 || !vestedBefore && (tr.Forfeited != tr.Shares || tr.ForfeitDate != d("2026-04-15")) {
+			t.Errorf("tranche %d vesting %s: %+v", tr.Index, tr.VestDate.Format(time.DateOnly), tr)
 		}
 		forfeited += tr.Forfeited
 		vesting += tr.Vesting()
 	}
-	if forfeited != 2100 || vesting != 4800-2100 {
-		t.Errorf("forfeited %d, vesting %d; want 2100 and 2700", forfeited, vesting)
-	}
-	// Latest first: the 21 last monthly tranches of 100 go; the one after
-	// the event (2026-04-30) stays.
-	if last := ts[len(ts)-1]; last.Forfeited != 100 || last.ForfeitDate != d("2026-04-15") {
-		t.Errorf("last tranche %+v; the latest tranches go first", last)
-	}
-	if next := ts[15]; !next.VestDate.Equal(d("2026-04-30")) || next.Forfeited != 0 {
-		t.Errorf("tranche 16 %+v should vest on 2026-04-30 untouched", next)
+	if forfeited != 2200 || vesting != 4800-2200 {
+		t.Errorf("forfeited %d, vesting %d; want 2200 and 2600", forfeited, vesting)
 	}
 }
 

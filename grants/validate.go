@@ -177,6 +177,17 @@ func (v *validator) assumptions() {
 	v.multiple(sh, 0, a.Refs, a.ExerciseMultiple)
 	v.rate(sh, "post_vesting_exit_rate", 0, a.Refs, a.PostVestingExitRate, "the annual share of vested holders who leave")
 	v.rate(sh, "pre_vesting_forfeiture_rate", 0, a.Refs, a.PreVestingForfeitureRate, "the annual share of unvested holders who leave")
+	// The policy of the close is the one in force at the valuation date.
+	if p := v.s.InForce(); p.Framework == IFRS2 {
+		if p.Attribution == StraightLine {
+			v.rep.errf(v.s.cell(sh, "attribution", 0, p.Refs), "attribution", string(p.Attribution), ErrInconsistent,
+				"is not allowed under IFRS 2 (framework ifrs2): each tranche of a graded award is a separate award, so attribution must be graded (IFRS 2.IG11)")
+		}
+		if p.Forfeitures == AsOccur {
+			v.rep.errf(v.s.cell(sh, "forfeitures", 0, p.Refs), "forfeitures", string(p.Forfeitures), ErrInconsistent,
+				"is not allowed under IFRS 2 (framework ifrs2): the expense must rest on the best estimate of the awards expected to vest (IFRS 2.20), so forfeitures must be estimate")
+		}
+	}
 }
 
 func (v *validator) prices() {
@@ -278,6 +289,22 @@ func (v *validator) grants() {
 		}
 		if !g.VestStart.IsZero() && !g.GrantDate.IsZero() && g.VestStart.After(g.GrantDate.AddDate(1, 0, 0)) {
 			v.rep.warnf(ref("vest_start"), "vest_start", isoDay(g.VestStart), ErrRange, "is more than a year after grant_date %s", isoDay(g.GrantDate))
+		}
+		switch {
+		case g.Instrument == Warrant && g.Purpose == "":
+			v.rep.errf(ref("purpose"), "purpose", "", ErrRequired,
+				"warrant %s must say what it pays for: compensation (share-based payment for services) or financing (issued to a lender or an investor, not compensation)", g.ID)
+		case g.Instrument != Warrant && g.Purpose == Financing:
+			v.rep.errf(ref("purpose"), "purpose", string(g.Purpose), ErrInconsistent,
+				"applies to warrants only: enter an instrument issued to a lender or an investor as a warrant (%s %s)", article(g.Instrument), g.ID)
+		}
+		if !g.HireDate.IsZero() && !g.GrantDate.IsZero() && g.HireDate.After(g.GrantDate) {
+			if !g.ExpiryDate.IsZero() && !g.HireDate.Before(g.ExpiryDate) {
+				v.rep.errf(ref("hire_date"), "hire_date", isoDay(g.HireDate), ErrRange, "is on or after the expiry %s of %s %s", isoDay(g.ExpiryDate), article(g.Instrument), g.ID)
+			} else if ts := s.tranchesBeforeEvents(g); len(ts) > 0 && g.HireDate.After(ts[len(ts)-1].VestDate) {
+				v.rep.warnf(ref("hire_date"), "hire_date", isoDay(g.HireDate), ErrRange,
+					"is after the last vest date %s of grant %s: no service is left to earn, so its whole cost is recognised on the hire date", isoDay(ts[len(ts)-1].VestDate), g.ID)
+			}
 		}
 		if co := s.Company.ValuationDate; !co.IsZero() && g.GrantDate.After(co) {
 			v.rep.warnf(ref("grant_date"), "grant_date", isoDay(g.GrantDate), ErrRange, "is after the valuation date %s; the grant is outside the period", isoDay(co))
@@ -472,6 +499,10 @@ func (v *validator) events() {
 				case tk.FromVested > 0:
 					v.rep.warnf(ref, "shares", n, ErrRange,
 						"is more than the %d unvested shares of grant %s on %s; the rest are taken from vested shares (record those as expired)", tk.Unvested, id, isoDay(e.Date))
+				case tk.FromUnvested < tk.Unvested:
+					v.rep.warnf(ref, "shares", n, ErrRange,
+						"forfeits %d of the %d shares of grant %s unvested on %s: the other %d still vest after that date, as though their holders stayed. If the holder left, forfeit all %d; a pooled row of several holders may forfeit part, taken from each unvested tranche in proportion",
+						tk.FromUnvested, tk.Unvested, id, isoDay(e.Date), tk.Unvested-tk.FromUnvested, tk.Unvested)
 				}
 			case Exercised, Expired:
 				if tk.Short > 0 {

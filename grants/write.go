@@ -306,6 +306,12 @@ func sheetRows(s *Schedule, sh *Sheet) [][]any {
 				put(row, "classification", string(g.Classification))
 				put(row, "exercise_style", string(g.ExerciseStyle))
 			}
+			if g.Purpose != "" {
+				put(row, "purpose", string(g.Purpose))
+			}
+			if !g.HireDate.IsZero() {
+				put(row, "hire_date", g.HireDate)
+			}
 			rows = append(rows, row)
 		}
 	case SheetVesting:
@@ -387,6 +393,10 @@ func assumptionRows(s *Schedule) [][]any {
 	if a.Steps > 0 {
 		steps = int64(a.Steps)
 	}
+	framework := any(nil)
+	if a.Framework != "" {
+		framework = val("framework", string(a.Framework))
+	}
 	rows := [][]any{
 		{"volatility", val("volatility", a.Volatility)},
 		{"dividend_yield", val("dividend_yield", a.DividendYield)},
@@ -396,6 +406,7 @@ func assumptionRows(s *Schedule) [][]any {
 		{"attribution", val("attribution", string(a.Attribution))},
 		{"forfeitures", val("forfeitures", string(a.Forfeitures))},
 		{"steps", val("steps", steps)},
+		{"framework", framework},
 	}
 	for i := range rows {
 		if src := a.Sources[rows[i][0].(string)]; src != "" {
@@ -405,7 +416,7 @@ func assumptionRows(s *Schedule) [][]any {
 	for _, r := range a.Dated {
 		var v any = r.Value
 		switch r.Key {
-		case "attribution", "forfeitures":
+		case "attribution", "forfeitures", "framework":
 			v = r.Text
 		case "steps":
 			v = any("auto")

@@ -11,18 +11,28 @@ import (
 	"grantworth/grants/pricing"
 )
 
+// FinancingKey is the by-instrument group of the warrants issued in
+// financings.
+const FinancingKey = "warrant (financing)"
+
+// Financing is the purpose of a warrant issued in a financing.
+const Financing = "financing"
+
 // Summarize fills the sums of m from its tranches: each grant's total,
-// share-weighted value per share and simplified-method total, m.Totals, and
-// the subtotals by instrument and by grant month. The builder calls it once
-// after the tranches are valued; the renderers only read what it wrote.
+// share-weighted value per share and simplified-method total, m.Totals of
+// the share-based awards and m.FinancingTotals of the financing warrants,
+// and the subtotals by instrument (the financing warrants a group of their
+// own) and by grant month (share-based awards only). The builder calls it
+// once after the tranches are valued; the renderers only read what it
+// wrote.
 func Summarize(m *Model) {
-	m.Totals = Totals{Grants: len(m.Grants)}
+	m.Totals, m.FinancingTotals = Totals{}, Totals{}
 	inst := map[string]*Group{}
 	month := map[string]*Group{}
 	add := func(set map[string]*Group, key string, g *Grant) {
 		s := set[key]
 		if s == nil {
-			s = &Group{Key: key}
+			s = &Group{Key: key, Financing: g.Purpose == Financing}
 			set[key] = s
 		}
 		s.Grants++
@@ -46,12 +56,19 @@ func Summarize(m *Model) {
 		if shares > 0 {
 			g.FairValuePerShare = g.FairValueTotal / float64(shares)
 		}
-		m.Totals.Tranches += len(g.Tranches)
-		m.Totals.Shares += g.Shares
-		m.Totals.FairValueTotal += g.FairValueTotal
-		m.Totals.BSMSimplifiedTotal += g.BSMSimplifiedTotal
-		add(inst, g.Instrument, g)
-		add(month, g.GrantDate.Time().Format("2006-01"), g)
+		tot := &m.Totals
+		if g.Purpose == Financing {
+			tot = &m.FinancingTotals
+			add(inst, FinancingKey, g)
+		} else {
+			add(inst, g.Instrument, g)
+			add(month, g.GrantDate.Time().Format("2006-01"), g)
+		}
+		tot.Grants++
+		tot.Tranches += len(g.Tranches)
+		tot.Shares += g.Shares
+		tot.FairValueTotal += g.FairValueTotal
+		tot.BSMSimplifiedTotal += g.BSMSimplifiedTotal
 	}
 	m.ByInstrument = sortedGroups(inst)
 	m.ByGrantMonth = sortedGroups(month)
@@ -95,6 +112,10 @@ func Build(s *grants.Schedule, v *pricing.Valuation, b *accounting.Books, run Ru
 	policy := s.InForce()
 	m.Settings.Attribution = string(policy.Attribution)
 	m.Settings.Forfeitures = string(policy.Forfeitures)
+	m.Settings.Framework = string(grants.ASC718)
+	if policy.Framework != "" {
+		m.Settings.Framework = string(policy.Framework)
+	}
 	m.Caution = Caution
 	m.Assumptions = companyAssumptions(s)
 	for i := range v.Grants {
@@ -163,12 +184,18 @@ func Build(s *grants.Schedule, v *pricing.Valuation, b *accounting.Books, run Ru
 func grantOf(gv *pricing.GrantValue) Grant {
 	in, g := gv.Inputs, gv.Inputs.Grant
 	rg := Grant{
-		ID: g.ID, Holder: g.Holder, Instrument: string(g.Instrument),
+		ID: g.ID, Holder: g.Holder, Instrument: string(g.Instrument), Purpose: string(g.Purpose),
 		GrantDate: DateOf(g.GrantDate), MeasurementDate: DateOf(in.MeasurementDate),
 		ExpiryDate: DateOf(g.ExpiryDate), Shares: g.Shares, Strike: g.Strike,
 		SharePrice: in.SharePrice.Value, Volatility: in.Volatility.Value, RiskFreeRate: in.RiskFreeRate.Value,
 		DividendYield: in.DividendYield.Value, ExerciseMultiple: in.ExerciseMultiple.Value,
 		PostVestingExitRate: in.ExitRate.Value, Method: "lattice", ValueStatus: string(gv.Status),
+	}
+	if rg.Purpose == "" {
+		rg.Purpose = string(grants.Compensation)
+	}
+	if g.HireDate.After(g.GrantDate) {
+		rg.HireDate = DateOf(g.HireDate)
 	}
 	switch g.Instrument {
 	case grants.RSU:
@@ -218,6 +245,10 @@ func companyAssumptions(s *grants.Schedule) []Assumption {
 	if a.Steps > 0 {
 		steps = strconv.Itoa(a.Steps)
 	}
+	framework := string(a.Framework)
+	if framework == "" {
+		framework = string(grants.ASC718)
+	}
 	out = append(out,
 		num("volatility", KindPercent, a.Volatility),
 		num("dividend_yield", KindPercent, a.DividendYield),
@@ -227,6 +258,7 @@ func companyAssumptions(s *grants.Schedule) []Assumption {
 		Assumption{Name: "attribution", Kind: KindText, Text: string(a.Attribution), Ref: aref("attribution"), Source: src("attribution")},
 		Assumption{Name: "forfeitures", Kind: KindText, Text: string(a.Forfeitures), Ref: aref("forfeitures"), Source: src("forfeitures")},
 		Assumption{Name: "steps", Kind: KindText, Text: steps, Ref: aref("steps"), Source: src("steps")},
+		Assumption{Name: "framework", Kind: KindText, Text: framework, Ref: aref("framework"), Source: src("framework")},
 	)
 	for _, r := range a.Dated {
 		row := Assumption{Name: r.Key, Kind: KindText, Text: r.Text, Ref: r.Ref.String(), Source: r.Source, EffectiveDate: DateOf(r.Effective)}
@@ -257,6 +289,7 @@ func grantAssumptions(gv *pricing.GrantValue) []Assumption {
 	}
 	out := []Assumption{
 		{GrantID: g.ID, Name: "instrument", Kind: KindText, Text: string(g.Instrument), Ref: ref("instrument"), Term: true},
+		{GrantID: g.ID, Name: "purpose", Kind: KindText, Text: purposeOf(g), Ref: ref("purpose"), Source: purposeNote(g), Term: true},
 		{GrantID: g.ID, Name: "grant_date", Kind: KindDate, Text: day(g.GrantDate), Ref: ref("grant_date"), Term: true},
 		{GrantID: g.ID, Name: "measurement_date", Kind: KindDate, Text: day(in.MeasurementDate), Source: measurementNote(g), Term: true},
 		{GrantID: g.ID, Name: "shares", Kind: KindNumber, Value: float64(g.Shares), Text: strconv.FormatInt(g.Shares, 10), Ref: ref("shares"), Term: true},
@@ -266,6 +299,10 @@ func grantAssumptions(gv *pricing.GrantValue) []Assumption {
 			Assumption{GrantID: g.ID, Name: "strike", Kind: KindMoney, Value: g.Strike, Text: strconv.FormatFloat(g.Strike, 'g', -1, 64), Ref: ref("strike"), Term: true},
 			Assumption{GrantID: g.ID, Name: "expiry_date", Kind: KindDate, Text: day(g.ExpiryDate), Ref: firstRef(g.Refs, "expiry_date", "term_years"), Term: true})
 	}
+	if g.HireDate.After(g.GrantDate) {
+		out = append(out, Assumption{GrantID: g.ID, Name: "hire_date", Kind: KindDate, Text: day(g.HireDate), Ref: ref("hire_date"),
+			Source: "service, and the cost, start on the hire date", Term: true})
+	}
 	out = append(out, Assumption{GrantID: g.ID, Name: "vesting", Kind: KindText,
 		Text: fmt.Sprintf("%d tranches from %s", len(in.Tranches), day(g.VestStart)), Ref: firstRef(g.Refs, "vest_months", "vest_start"),
 		Source: fmt.Sprintf("%d months, cliff %d, every %d", g.VestMonths, g.CliffMonths, g.VestEvery), Term: true})
@@ -273,6 +310,20 @@ func grantAssumptions(gv *pricing.GrantValue) []Assumption {
 		out = append(out, src(n.Key, inputKinds[n.Key], *n.Source))
 	}
 	return out
+}
+
+func purposeOf(g grants.Grant) string {
+	if g.Purpose == "" {
+		return string(grants.Compensation)
+	}
+	return string(g.Purpose)
+}
+
+func purposeNote(g grants.Grant) string {
+	if g.IsFinancing() {
+		return "issued in a financing: not share-based payment, kept apart from compensation"
+	}
+	return "share-based payment for services"
 }
 
 // inputKinds is the kind of each valuation input of grants.Inputs.Named.

@@ -4,14 +4,23 @@
 //
 // # One model, three renderers
 //
-// Build lays a schedule and its valuation (grants.Schedule.Value) into one
-// Model with the run's settings (tool version, input path and its SHA-256:
-// injected, never read from a clock); it sums (Summarize) and attributes
-// expense (AddExpense) but values nothing. The Model goes to WriteJSON,
-// WriteWorkbook and WriteMemo. The
-// renderers value nothing and look nothing up outside the Model, so the
-// three files cannot disagree. Each writes to an io.Writer; the command
-// owns the files.
+// Build lays a schedule, its valuation (pricing.Value) and the books of
+// its close (accounting.Close) into one Model with the run's settings
+// (tool version, input path and its SHA-256: injected, never read from a
+// clock); it sums (Summarize) but values and books nothing. The Model goes
+// to WriteJSON, WriteWorkbook and WriteMemo. The renderers value nothing
+// and look nothing up outside the Model, so the three files cannot
+// disagree. Each writes to an io.Writer; the command owns the files.
+//
+// # Quarter after quarter
+//
+// valuation.json carries schema_version (SchemaVersion) and all a later
+// close needs: the grant-date values, the cumulative cost per grant and
+// tranche, the events applied, a liability warrant's remeasurements, the
+// counts and the liability at the valuation date. ReadPrior reads it back
+// into an accounting.Prior, refusing a file grantworth did not write or
+// wrote in a newer format. The reconciliation to the prior close is its
+// own memo section, workbook sheet and JSON object (reconcile.go).
 //
 // # Determinism
 //

@@ -3,6 +3,7 @@ package report
 import (
 	"sort"
 
+	"grantworth/grants"
 	"grantworth/grants/accounting"
 )
 
@@ -16,20 +17,61 @@ type ExpenseDetail struct {
 	Attribution              string  `json:"attribution"`
 	Forfeitures              string  `json:"forfeitures"`
 	PreVestingForfeitureRate float64 `json:"pre_vesting_forfeiture_rate"`
+	Framework                string  `json:"framework"` // asc718 | ifrs2
 	ServiceRule              string  `json:"service_rule"`
 
-	Amount          float64 `json:"period_amount"`     // compensation expense in the current period
-	FairValueChange float64 `json:"fair_value_change"` // liability warrants, apart from compensation
-	Cumulative      float64 `json:"cumulative"`        // through the period end
+	// Amount and Cumulative are compensation only: no warrant issued in a
+	// financing is in them (DESIGN §4.3).
+	Amount     float64 `json:"period_amount"` // compensation expense in the current period
+	Cumulative float64 `json:"cumulative"`    // through the period end
+	// FinancingFairValueChange is the period's change in fair value of
+	// the financing warrants' liability, outside operating expense.
+	FinancingFairValueChange float64 `json:"financing_fair_value_change"`
 
 	ByGrant      []ExpenseGrant  `json:"by_grant"`
 	ByGrantMonth []ExpenseGroup  `json:"by_grant_month"`
 	Forecast     []ExpensePeriod `json:"forecast"` // the next 16 calendar quarters
 	// AfterForecast is the unrecognised cost expected after the forecast.
-	AfterForecast float64        `json:"after_forecast"`
-	Journal       []JournalEntry `json:"journal"`
-	PolicyNotes   []string       `json:"policy_notes"`
-	Disclosures   *Disclosures   `json:"disclosures"`
+	AfterForecast float64 `json:"after_forecast"`
+	// Financing are the warrants issued in financings, apart from
+	// compensation.
+	Financing   []FinancingWarrant `json:"financing_warrants"`
+	Journal     []JournalEntry     `json:"journal"`
+	PolicyNotes []string           `json:"policy_notes"`
+	Disclosures *Disclosures       `json:"disclosures"`
+}
+
+// FinancingWarrant is a warrant issued in a financing: measured once at
+// issue if equity-classified; if a liability, remeasured with its change
+// outside operating expense, and its liability rolled forward:
+// liability_at_period_start + issued + fair_value_change −
+// reclassified_to_equity = liability_at_period_end.
+type FinancingWarrant struct {
+	GrantID          string  `json:"grant_id"`
+	Holder           string  `json:"holder"`
+	Classification   string  `json:"classification"`
+	IssueDate        Date    `json:"issue_date"`
+	Shares           int64   `json:"warrants_issued"`
+	FairValueAtIssue float64 `json:"fair_value_per_warrant_at_issue"`
+	ValueAtIssue     float64 `json:"value_at_issue"`
+	Outstanding      int64   `json:"outstanding"`
+	Exercised        int64   `json:"exercised_in_period"`
+	FairValue        float64 `json:"fair_value_per_warrant_at_period_end"`
+	LiabilityOpen    float64 `json:"liability_at_period_start"`
+	Issued           float64 `json:"issued"`
+	FairValueChange  float64 `json:"fair_value_change"`
+	Reclassified     float64 `json:"reclassified_to_equity"`
+	LiabilityEnd     float64 `json:"liability_at_period_end"`
+	// ReclassifiedToDate is the liability reclassified on exercise
+	// through the period end, in all; CompensationReversed the
+	// compensation a prior close booked for the warrant, reversed in the
+	// period (a catch-up; negative).
+	ReclassifiedToDate   float64 `json:"reclassified_to_equity_cumulative"`
+	CompensationReversed float64 `json:"compensation_reversed"`
+	// What a later close reads: the events applied and a liability's fair
+	// values per tranche at issue and after it.
+	Events         []EventRecord   `json:"events"`
+	Remeasurements []Remeasurement `json:"remeasurements"`
 }
 
 // ExpenseGrant is one grant's attribution.
@@ -48,8 +90,9 @@ type ExpenseGrant struct {
 	Unrecognized   float64 `json:"unrecognized_cost"`
 	RemainingYears float64 `json:"remaining_years"`
 
-	// Liability-classified warrants only.
-	FairValueChange    float64 `json:"fair_value_change"`
+	// Liability-classified awards only: their liability, which rolls as
+	// liability_at_period_start + period_amount − reclassified_to_equity =
+	// liability_at_period_end (every change in fair value is compensation).
 	LiabilityOpen      float64 `json:"liability_at_period_start"`
 	LiabilityEnd       float64 `json:"liability_at_period_end"`
 	ReclassifiedEquity float64 `json:"reclassified_to_equity"`
@@ -81,58 +124,96 @@ type Remeasurement struct {
 
 // ExpenseTranche is one tranche's attribution.
 type ExpenseTranche struct {
-	Index             int     `json:"index"`
-	VestDate          Date    `json:"vest_date"`
-	Shares            int64   `json:"shares"`
-	SharesCounted     float64 `json:"shares_counted"` // expected to vest under an estimate, net of forfeitures
-	FairValuePerShare float64 `json:"fair_value_per_share"`
-	ExpectedShare     float64 `json:"expected_share_at_vest"`
-	Cost              float64 `json:"cost"`
-	CumulativeOpen    float64 `json:"cumulative_at_period_start"`
-	Amount            float64 `json:"period_amount"`
-	Cumulative        float64 `json:"cumulative"`
-	Unrecognized      float64 `json:"unrecognized_cost"`
-	RemainingYears    float64 `json:"remaining_years"`
+	Index         int     `json:"index"`
+	VestDate      Date    `json:"vest_date"`
+	Shares        int64   `json:"shares"`
+	SharesCounted float64 `json:"shares_counted"` // expected to vest under an estimate, net of forfeitures
+	// FairValuePerShare is what the cost is measured on: the grant-date
+	// value, or a liability-classified award's latest remeasurement;
+	// GrantDateFairValuePerShare the grant-date value in either case.
+	FairValuePerShare          float64 `json:"fair_value_per_share"`
+	GrantDateFairValuePerShare float64 `json:"grant_date_fair_value_per_share"`
+	ExpectedShare              float64 `json:"expected_share_at_vest"`
+	Cost                       float64 `json:"cost"`
+	CumulativeOpen             float64 `json:"cumulative_at_period_start"`
+	Amount                     float64 `json:"period_amount"`
+	Cumulative                 float64 `json:"cumulative"`
+	Unrecognized               float64 `json:"unrecognized_cost"`
+	RemainingYears             float64 `json:"remaining_years"`
 }
 
 // ExpenseGroup sums the attribution of the grants of one grant month
 // (Key "2024-03"), for long ledgers.
 type ExpenseGroup struct {
-	Key             string  `json:"key"`
-	Grants          int     `json:"grants"`
-	Cost            float64 `json:"cost"`
-	Amount          float64 `json:"period_amount"`
-	Cumulative      float64 `json:"cumulative"`
-	Unrecognized    float64 `json:"unrecognized_cost"`
-	FairValueChange float64 `json:"fair_value_change"`
+	Key          string  `json:"key"`
+	Grants       int     `json:"grants"`
+	Cost         float64 `json:"cost"`
+	Amount       float64 `json:"period_amount"`
+	Cumulative   float64 `json:"cumulative"`
+	Unrecognized float64 `json:"unrecognized_cost"`
 }
 
 // JournalEntry is one summary entry for the period.
 type JournalEntry struct {
+	Date        Date          `json:"date"`
 	Description string        `json:"description"`
 	Lines       []JournalLine `json:"lines"`
 }
 
-// JournalLine is one debit or credit.
+// JournalLine is one debit or credit: the role the account plays (see
+// accounting.Role), the account's code (empty unless mapped) and name.
 type JournalLine struct {
-	Account string  `json:"account"`
-	Debit   float64 `json:"debit"`
-	Credit  float64 `json:"credit"`
+	Role        string  `json:"role"`
+	AccountCode string  `json:"account_code"`
+	Account     string  `json:"account"`
+	Debit       float64 `json:"debit"`
+	Credit      float64 `json:"credit"`
 }
 
 // Disclosures are the share-based payment note's tables for the period.
+// Warrants issued in financings are in FinancingWarrants only.
 type Disclosures struct {
 	SharePrice          float64        `json:"share_price"`        // at period end, for intrinsic values
 	SharePriceSource    string         `json:"share_price_source"` // its cell, e.g. "Share Prices!B7 (valuation of 2026-09-30)"
 	Options             RollForward    `json:"options"`
 	OptionsAtEnd        []SummaryLine  `json:"options_at_period_end"`
 	OptionGrants        GrantsInPeriod `json:"option_grants"`
+	OptionActivity      Activity       `json:"option_activity"`
+	OptionRanges        []PriceRange   `json:"option_exercise_price_ranges"`
 	RSUs                RollForward    `json:"rsus"`
 	RSUGrants           GrantsInPeriod `json:"rsu_grants"`
+	RSUActivity         Activity       `json:"rsu_activity"`
 	Warrants            RollForward    `json:"warrants"`
 	WarrantsAtEnd       []SummaryLine  `json:"warrants_at_period_end"`
 	WarrantGrants       GrantsInPeriod `json:"warrant_grants"`
+	WarrantActivity     Activity       `json:"warrant_activity"`
+	WarrantRanges       []PriceRange   `json:"warrant_exercise_price_ranges"`
 	WarrantsOutstanding []WarrantRow   `json:"warrants_outstanding"`
+	FinancingWarrants   RollForward    `json:"financing_warrants"`
+}
+
+// Activity is what one instrument's exercises and vestings in the period
+// amounted to (ASC 718-10-50-2; IFRS 2.45(c)).
+type Activity struct {
+	Exercised                    int64   `json:"exercised"`
+	IntrinsicValueExercised      float64 `json:"intrinsic_value_exercised"`
+	CashReceived                 float64 `json:"cash_received_from_exercises"`
+	WeightedSharePriceAtExercise float64 `json:"weighted_average_share_price_at_exercise"`
+	Unpriced                     int64   `json:"exercised_without_share_price"`
+	Vested                       int64   `json:"vested"`
+	FairValueVested              float64 `json:"fair_value_vested"`
+}
+
+// PriceRange is the options or warrants outstanding at the period end
+// whose exercise prices lie in [Low, High] (IFRS 2.45(d)).
+type PriceRange struct {
+	Low                        float64 `json:"exercise_price_low"`
+	High                       float64 `json:"exercise_price_high"`
+	Outstanding                int64   `json:"outstanding"`
+	WeightedExercisePrice      float64 `json:"weighted_average_exercise_price"`
+	WeightedRemainingTermYears float64 `json:"weighted_average_remaining_life_years"`
+	Exercisable                int64   `json:"exercisable"`
+	ExercisableWeightedPrice   float64 `json:"exercisable_weighted_average_exercise_price"`
 }
 
 // RollForward is a roll-forward table: its lines from the opening count
@@ -190,7 +271,7 @@ type WarrantRow struct {
 func periodsOf(ps []accounting.PeriodAmount) []ExpensePeriod {
 	out := make([]ExpensePeriod, 0, len(ps))
 	for _, p := range ps {
-		out = append(out, ExpensePeriod{Start: DateOf(p.Start), End: DateOf(p.End), Amount: p.Amount, FairValueChange: p.FairValueChange, Current: p.Current})
+		out = append(out, ExpensePeriod{Start: DateOf(p.Start), End: DateOf(p.End), Amount: p.Amount, FinancingFairValueChange: p.FairValueChange, Current: p.Current})
 	}
 	return out
 }
@@ -202,11 +283,19 @@ func expenseModel(b *accounting.Books) *Expense {
 	det := &ExpenseDetail{
 		PeriodStart: DateOf(r.PeriodStart), PeriodEnd: DateOf(r.PeriodEnd),
 		Attribution: string(r.Policy.Attribution), Forfeitures: string(r.Policy.Forfeitures),
-		PreVestingForfeitureRate: r.Policy.PreVestingForfeitureRate, ServiceRule: r.ServiceRule,
-		Amount: r.Period, FairValueChange: r.FairValueChange, Cumulative: r.Cumulative,
+		PreVestingForfeitureRate: r.Policy.PreVestingForfeitureRate, Framework: string(r.Policy.Framework), ServiceRule: r.ServiceRule,
+		Amount: r.Period, Cumulative: r.Cumulative, FinancingFairValueChange: r.FairValueChange,
 		Forecast: periodsOf(r.Forecast), AfterForecast: r.AfterForecast,
 		PolicyNotes: append([]string{}, r.PolicyNotes...),
-		ByGrant:     []ExpenseGrant{}, Journal: []JournalEntry{},
+		ByGrant:     []ExpenseGrant{}, Journal: []JournalEntry{}, Financing: []FinancingWarrant{},
+	}
+	for _, w := range r.Financing {
+		det.Financing = append(det.Financing, FinancingWarrant{GrantID: w.GrantID, Holder: w.Holder, Classification: string(w.Classification),
+			IssueDate: DateOf(w.IssueDate), Shares: w.Shares, FairValueAtIssue: w.FairValueAtIssue, ValueAtIssue: w.ValueAtIssue,
+			Outstanding: w.Outstanding, Exercised: w.Exercised, FairValue: w.FairValue, LiabilityOpen: w.LiabilityOpen,
+			Issued: w.Issued, FairValueChange: w.FairValueChange, Reclassified: w.Reclassified, LiabilityEnd: w.LiabilityEnd,
+			ReclassifiedToDate: w.ReclassifiedToDate, CompensationReversed: w.CompensationReversed,
+			Events: eventRecords(w.Events), Remeasurements: remeasurementRecords(w.Remeasurements)})
 	}
 	months := map[string]*ExpenseGroup{}
 	for _, g := range r.Grants {
@@ -214,18 +303,13 @@ func expenseModel(b *accounting.Books) *Expense {
 			GrantDate: DateOf(g.GrantDate), ServiceStart: DateOf(g.ServiceStart), ServiceEnd: DateOf(g.ServiceEnd),
 			Cost: g.Cost, CumulativeOpen: g.CumulativeOpen, Amount: g.Period, Cumulative: g.Cumulative,
 			Unrecognized: g.Unrecognized, RemainingYears: g.RemainingYears,
-			FairValueChange: g.FairValueChange, LiabilityOpen: g.LiabilityOpen, LiabilityEnd: g.LiabilityEnd,
+			LiabilityOpen: g.LiabilityOpen, LiabilityEnd: g.LiabilityEnd,
 			ReclassifiedEquity: g.ReclassifiedEquity, ReclassifiedToDate: g.ReclassifiedToDate,
 			Outstanding: g.Outstanding, Events: []EventRecord{}, Remeasurements: []Remeasurement{}, Tranches: []ExpenseTranche{}}
-		for _, e := range g.Events {
-			eg.Events = append(eg.Events, EventRecord{Date: DateOf(e.Date), Event: string(e.Kind), Shares: e.Shares})
-		}
-		for _, r := range g.Remeasurements {
-			eg.Remeasurements = append(eg.Remeasurements, Remeasurement{Date: DateOf(r.Date), FairValuePerShare: r.FairValue})
-		}
+		eg.Events, eg.Remeasurements = eventRecords(g.Events), remeasurementRecords(g.Remeasurements)
 		for _, t := range g.Tranches {
 			eg.Tranches = append(eg.Tranches, ExpenseTranche{Index: t.Index, VestDate: DateOf(t.VestDate), Shares: t.Shares,
-				SharesCounted: t.SharesCounted, FairValuePerShare: t.FairValue, ExpectedShare: t.ExpectedShare, Cost: t.Cost,
+				SharesCounted: t.SharesCounted, FairValuePerShare: t.FairValue, GrantDateFairValuePerShare: t.GrantDateFairValue, ExpectedShare: t.ExpectedShare, Cost: t.Cost,
 				CumulativeOpen: t.CumulativeOpen, Amount: t.Period, Cumulative: t.Cumulative, Unrecognized: t.Unrecognized,
 				RemainingYears: t.RemainingYears})
 		}
@@ -244,7 +328,6 @@ func expenseModel(b *accounting.Books) *Expense {
 		grp.Amount += g.Amount
 		grp.Cumulative += g.Cumulative
 		grp.Unrecognized += g.Unrecognized
-		grp.FairValueChange += g.FairValueChange
 	}
 	det.ByGrantMonth = make([]ExpenseGroup, 0, len(months))
 	for _, g := range months {
@@ -252,9 +335,9 @@ func expenseModel(b *accounting.Books) *Expense {
 	}
 	sort.Slice(det.ByGrantMonth, func(i, j int) bool { return det.ByGrantMonth[i].Key < det.ByGrantMonth[j].Key })
 	for _, e := range b.Journal {
-		je := JournalEntry{Description: e.Description}
+		je := JournalEntry{Date: DateOf(e.Date), Description: e.Description}
 		for _, l := range e.Lines {
-			je.Lines = append(je.Lines, JournalLine{Account: l.Account.Name, Debit: l.Debit, Credit: l.Credit})
+			je.Lines = append(je.Lines, JournalLine{Role: string(l.Role), AccountCode: l.Account.Code, Account: l.Account.Name, Debit: l.Debit, Credit: l.Credit})
 		}
 		det.Journal = append(det.Journal, je)
 	}
@@ -266,6 +349,22 @@ func expenseModel(b *accounting.Books) *Expense {
 		WeightedAverageRemainingYears: r.RemainingYears,
 		ExpenseDetail:                 det,
 	}
+}
+
+func eventRecords(es []grants.Event) []EventRecord {
+	out := []EventRecord{}
+	for _, e := range es {
+		out = append(out, EventRecord{Date: DateOf(e.Date), Event: string(e.Kind), Shares: e.Shares})
+	}
+	return out
+}
+
+func remeasurementRecords(rs []accounting.Remeasurement) []Remeasurement {
+	out := []Remeasurement{}
+	for _, r := range rs {
+		out = append(out, Remeasurement{Date: DateOf(r.Date), FairValuePerShare: r.FairValue})
+	}
+	return out
 }
 
 func rollLine(label string, l accounting.RollLine) RollLine {
@@ -303,14 +402,31 @@ func grantsModel(g accounting.GrantsInPeriod) GrantsInPeriod {
 		Volatility: g.Volatility, RiskFreeRate: g.RiskFreeRate, DividendYield: g.DividendYield, ExpectedTermYears: g.ExpectedTermYears}
 }
 
+func activityModel(a accounting.Activity) Activity {
+	return Activity{Exercised: a.Exercised, IntrinsicValueExercised: a.IntrinsicValueExercised, CashReceived: a.CashReceived,
+		WeightedSharePriceAtExercise: a.WeightedSharePriceAtExercise, Unpriced: a.Unpriced, Vested: a.Vested, FairValueVested: a.FairValueVested}
+}
+
+func rangesModel(rs []accounting.PriceRange) []PriceRange {
+	out := make([]PriceRange, 0, len(rs))
+	for _, r := range rs {
+		out = append(out, PriceRange{Low: r.Low, High: r.High, Outstanding: r.Outstanding, WeightedExercisePrice: r.WeightedExercisePrice,
+			WeightedRemainingTermYears: r.WeightedRemainingTermYears, Exercisable: r.Exercisable, ExercisableWeightedPrice: r.ExercisableWeightedPrice})
+	}
+	return out
+}
+
 func disclosuresModel(d *accounting.Disclosure) *Disclosures {
 	out := &Disclosures{
 		SharePrice: d.SharePrice,
 		Options:    rollModel(d.Options), OptionsAtEnd: summaryModel(d.OptionsAtEnd), OptionGrants: grantsModel(d.OptionGrants),
-		RSUs: rollModel(d.RSUs), RSUGrants: grantsModel(d.RSUGrants),
+		OptionActivity: activityModel(d.OptionActivity), OptionRanges: rangesModel(d.OptionRanges),
+		RSUs: rollModel(d.RSUs), RSUGrants: grantsModel(d.RSUGrants), RSUActivity: activityModel(d.RSUActivity),
 		Warrants: rollModel(d.Warrants), WarrantsAtEnd: summaryModel(d.WarrantsAtEnd), WarrantGrants: grantsModel(d.WarrantGrants),
-		WarrantsOutstanding: []WarrantRow{},
+		WarrantActivity: activityModel(d.WarrantActivity), WarrantRanges: rangesModel(d.WarrantRanges),
+		WarrantsOutstanding: []WarrantRow{}, FinancingWarrants: rollModel(d.FinancingWarrants),
 	}
+	out.FinancingWarrants.Instrument = FinancingKey
 	for _, w := range d.WarrantsOutstanding {
 		out.WarrantsOutstanding = append(out.WarrantsOutstanding, WarrantRow{GrantID: w.GrantID, Holder: w.Holder,
 			Classification: string(w.Classification), Shares: w.Shares, Exercisable: w.Exercisable, Strike: w.Strike,

@@ -13,6 +13,7 @@ import (
 func init() {
 	memoHooks = append(memoHooks,
 		MemoHook{"expense", "Compensation expense for the period", (*Memo).expense},
+		MemoHook{"financing", "Warrants issued in financings", (*Memo).financing},
 		MemoHook{"journal", "Journal summary", (*Memo).journal},
 		MemoHook{"disclosures", "Share-based payment disclosures", (*Memo).disclosures})
 }
@@ -45,7 +46,6 @@ func (d *Memo) expense(m *Model) error {
 	d.Sub("Key figures")
 	d.Table([]Col{{"Item", 100, false}, {"Amount", 70, true}}, [][]string{
 		{"Compensation expense for the period", money(e.Amount, cur)},
-		{"Change in fair value of warrant liabilities (apart from compensation)", money(e.FairValueChange, cur)},
 		{"Cumulative compensation expense to the period end", money(e.Cumulative, cur)},
 		{"Unrecognized compensation cost at the period end", money(m.Expense.UnrecognizedCost, cur)},
 		{"Weighted-average remaining recognition period", fixed(m.Expense.WeightedAverageRemainingYears, 2) + " years"},
@@ -84,13 +84,14 @@ func (d *Memo) expense(m *Model) error {
 	for _, g := range e.ByGrant {
 		if g.Liability {
 			liab = append(liab, []string{g.GrantID, groupDigits(g.LiabilityOpen, 2), groupDigits(g.Amount, 2),
-				groupDigits(g.FairValueChange, 2), groupDigits(g.ReclassifiedEquity, 2), groupDigits(g.LiabilityEnd, 2)})
+				groupDigits(g.ReclassifiedEquity, 2), groupDigits(g.LiabilityEnd, 2)})
 		}
 	}
 	if len(liab) > 0 {
-		d.Sub("Warrant liabilities")
-		d.Table([]Col{{"Grant", 30, false}, {"Opening liability", 28, true}, {"Compensation", 28, true},
-			{"Change in fair value", 28, true}, {"To equity on exercise", 28, true}, {"Closing liability", 28, true}}, liab)
+		d.Sub("Liability-classified awards")
+		d.Para("Remeasured to fair value at every period end and on each exercise day; every change in fair value is compensation cost (ASC 718-30-35-3; IFRS 2.30-33). Opening liability + compensation − reclassified to equity on exercise = closing liability.")
+		d.Table([]Col{{"Grant", 34, false}, {"Opening liability", 34, true}, {"Compensation", 34, true},
+			{"To equity on exercise", 34, true}, {"Closing liability", 34, true}}, liab)
 	}
 	d.Note("Every grant and tranche, with its share counts and expected share at vest, is on the Expense sheet of valuation.xlsx.")
 
@@ -142,8 +143,12 @@ func (d *Memo) journal(m *Model) error {
 		d.Para("Nothing is to be booked for the period.")
 		return nil
 	}
-	d.Para(fmt.Sprintf("Summary entries for the period %s to %s, in %s. Equity-classified awards credit additional paid-in capital; liability-classified warrants credit the warrant liability, with the change in its fair value booked apart from compensation. Exercise proceeds are not shown.",
-		e.PeriodStart, e.PeriodEnd, m.Company.Currency))
+	equity := "additional paid-in capital"
+	if e.Framework == "ifrs2" {
+		equity = "a share-based payment reserve in equity (IFRS 2)"
+	}
+	d.Para(fmt.Sprintf("Summary entries for the period %s to %s, in %s. Equity-classified awards credit %s; liability-classified awards credit their liability, remeasured to fair value, and every change in it is compensation. Warrants issued in financings have entries of their own, outside compensation: a liability-classified one's change in fair value is booked outside operating expense. Exercise proceeds are not shown. The workbook's Journal sheet lists every line with its account role.",
+		e.PeriodStart, e.PeriodEnd, m.Company.Currency, equity))
 	var rows [][]string
 	for i, j := range e.Journal {
 		rows = append(rows, []string{"\x00" + fmt.Sprintf("%d. %s", i+1, j.Description), "", ""})
@@ -160,13 +165,15 @@ func (d *Memo) journal(m *Model) error {
 	return nil
 }
 
-func (d *Memo) rollTable(r RollForward, price bool) {
+// rollTable is a roll-forward, its last column the weighted average of
+// the fair value that fvLabel names.
+func (d *Memo) rollTable(r RollForward, price bool, fvLabel string) {
 	cur := d.Currency()
 	cols := []Col{{"", 70, false}, {"Shares", 30, true}}
 	if price {
 		cols = append(cols, Col{"Weighted-average exercise price (" + cur + ")", 35, true})
 	}
-	cols = append(cols, Col{"Weighted-average grant-date fair value (" + cur + ")", 35, true})
+	cols = append(cols, Col{fvLabel + " (" + cur + ")", 35, true})
 	var rows [][]string
 	for i, l := range r.Lines {
 		label := l.Label
@@ -206,9 +213,12 @@ func (d *Memo) disclosures(m *Model) error {
 	if err := d.Text("disclosures", expenseData{m, e}); err != nil {
 		return err
 	}
+	const grantFV = "Weighted-average grant-date fair value"
+	compWarrants := rollHasShares(x.Warrants)
 	d.Sub("Options")
-	d.rollTable(x.Options, true)
+	d.rollTable(x.Options, true, grantFV)
 	d.summaryTable(x.OptionsAtEnd)
+	d.rangeTable("Options", x.OptionRanges)
 	g := x.OptionGrants
 	if g.Grants == 0 {
 		d.Para("No options were granted in the period.")
@@ -226,9 +236,21 @@ func (d *Memo) disclosures(m *Model) error {
 		d.Para(text)
 	}
 	d.Sub("Restricted stock units (nonvested)")
-	d.rollTable(x.RSUs, false)
-	d.Sub("Warrants")
-	d.rollTable(x.Warrants, true)
+	d.rollTable(x.RSUs, false, grantFV)
+	d.Sub("Exercises and vesting in the period")
+	d.activityTable(x, compWarrants)
+	d.Sub("Warrants granted for services")
+	if !compWarrants {
+		d.Para("No warrant was granted for services.")
+	} else {
+		d.rollTable(x.Warrants, true, grantFV)
+		d.summaryTable(x.WarrantsAtEnd)
+		d.rangeTable("Warrants", x.WarrantRanges)
+	}
+	if len(e.Financing) > 0 {
+		d.Para(fmt.Sprintf("The %s warrants issued in financings are not share-based payment and are in none of these tables; section %d shows them.",
+			count(len(e.Financing)), d.sections["financing"]))
+	}
 	if len(x.WarrantsOutstanding) > 0 {
 		var rows [][]string
 		for _, w := range x.WarrantsOutstanding {
@@ -239,7 +261,7 @@ func (d *Memo) disclosures(m *Model) error {
 			{"Strike", 18, true}, {"Expiry", 22, false}, {"Fair value per share", 22, true}, {"Intrinsic value", 24, true}}, rows)
 	}
 	var broken []string
-	for _, r := range []RollForward{x.Options, x.RSUs, x.Warrants} {
+	for _, r := range []RollForward{x.Options, x.RSUs, x.Warrants, x.FinancingWarrants} {
 		if !r.Balances {
 			broken = append(broken, r.Instrument)
 		}
@@ -250,4 +272,150 @@ func (d *Memo) disclosures(m *Model) error {
 		d.Note("Each roll-forward balances: start + granted − vested − exercised − forfeited − cancelled − expired = end. The same tables are on the Disclosures sheet of valuation.xlsx.")
 	}
 	return nil
+}
+
+// financing is the section on warrants issued in financings: not
+// share-based payment, kept apart from every compensation figure.
+func (d *Memo) financing(m *Model) error {
+	e := detail(m)
+	if e == nil {
+		d.Para("Expense attribution did not run for this valuation.")
+		return nil
+	}
+	if len(e.Financing) == 0 {
+		d.Para("The schedule has no warrant issued in a financing.")
+		return nil
+	}
+	if err := d.Text("financing", expenseData{m, e}); err != nil {
+		return err
+	}
+	cur := m.Company.Currency
+	var eq, li [][]string
+	var eqTotal float64
+	var open, issued, change, reclass, closing float64
+	for _, w := range e.Financing {
+		if w.Classification == "liability" {
+			li = append(li, []string{w.GrantID, perShare(w.FairValue), groupDigits(w.LiabilityOpen, 2), groupDigits(w.Issued, 2),
+				groupDigits(w.FairValueChange, 2), groupDigits(w.Reclassified, 2), groupDigits(w.LiabilityEnd, 2)})
+			open, issued, change, reclass, closing = open+w.LiabilityOpen, issued+w.Issued, change+w.FairValueChange, reclass+w.Reclassified, closing+w.LiabilityEnd
+			continue
+		}
+		eq = append(eq, []string{w.GrantID, w.Holder, w.IssueDate.String(), count(w.Shares), perShare(w.FairValueAtIssue),
+			groupDigits(w.ValueAtIssue, 2), count(w.Outstanding)})
+		eqTotal += w.ValueAtIssue
+	}
+	if len(eq) > 0 {
+		d.Sub("Classified in equity: measured once, at issue")
+		if len(eq) > 1 {
+			eq = append(eq, []string{"\x00Total", "", "", "", "", groupDigits(eqTotal, 2), ""})
+		}
+		d.Table([]Col{{"Grant", 22, false}, {"Holder", 26, false}, {"Issued", 22, false}, {"Warrants", 22, true},
+			{"Fair value per warrant at issue", 26, true}, {"Value at issue (" + cur + ")", 30, true}, {"Outstanding at the period end", 22, true}}, eq)
+	}
+	if len(li) > 0 {
+		d.Sub("Classified as liabilities: remeasured to fair value")
+		if len(li) > 1 {
+			li = append(li, []string{"\x00Total", "", groupDigits(open, 2), groupDigits(issued, 2), groupDigits(change, 2), groupDigits(reclass, 2), groupDigits(closing, 2)})
+		}
+		d.Table([]Col{{"Grant", 22, false}, {"Fair value per warrant at the period end", 26, true}, {"Opening liability", 24, true},
+			{"Recognised at issue", 22, true}, {"Change in fair value", 24, true}, {"To equity on exercise", 24, true}, {"Closing liability", 24, true}}, li)
+		d.Para(fmt.Sprintf("Change in fair value of the warrant liability for the period, outside operating expense: %s (a positive change is a loss). Opening liability + recognised at issue + change in fair value − reclassified to equity on exercise = closing liability.",
+			money(e.FinancingFairValueChange, cur)))
+	}
+	if x := e.Disclosures; x != nil {
+		d.Sub("Financing warrants outstanding")
+		d.rollTable(x.FinancingWarrants, true, "Weighted-average fair value at issue")
+	}
+	return nil
+}
+
+// activityTable is the exercises and vesting of the period by instrument
+// (ASC 718-10-50-2; IFRS 2.45(c)).
+func (d *Memo) activityTable(x *Disclosures, warrants bool) {
+	cur := d.Currency()
+	type col struct {
+		name string
+		a    Activity
+		rsu  bool
+	}
+	cs := []col{{"Options", x.OptionActivity, false}}
+	if warrants {
+		cs = append(cs, col{"Warrants", x.WarrantActivity, false})
+	}
+	cs = append(cs, col{"RSUs", x.RSUActivity, true})
+	line := func(label string, f func(c col) string) []string {
+		row := []string{label}
+		for _, c := range cs {
+			row = append(row, f(c))
+		}
+		return row
+	}
+	dash := func(c col, s string) string {
+		if c.rsu {
+			return "–"
+		}
+		return s
+	}
+	rows := [][]string{
+		line("Exercised (shares)", func(c col) string { return dash(c, count(c.a.Exercised)) }),
+		line("Total intrinsic value of exercises ("+cur+")", func(c col) string { return dash(c, groupDigits(c.a.IntrinsicValueExercised, 2)) }),
+		line("Cash received from exercises ("+cur+")", func(c col) string { return dash(c, groupDigits(c.a.CashReceived, 2)) }),
+		line("Weighted-average share price at exercise ("+cur+")", func(c col) string {
+			if c.a.Exercised == c.a.Unpriced {
+				return "–"
+			}
+			return dash(c, perShare(c.a.WeightedSharePriceAtExercise))
+		}),
+		line("Vested (shares)", func(c col) string { return count(c.a.Vested) }),
+		line("Total fair value of awards vested ("+cur+")", func(c col) string { return groupDigits(c.a.FairValueVested, 2) }),
+	}
+	cols := []Col{{"In the period", 80, false}}
+	for _, c := range cs {
+		cols = append(cols, Col{c.name, 90 / float64(len(cs)), true})
+	}
+	d.Table(cols, rows)
+	var unpriced []string
+	for _, c := range cs {
+		if c.a.Unpriced > 0 {
+			unpriced = append(unpriced, fmt.Sprintf("%s %s", count(c.a.Unpriced), strings.ToLower(c.name)))
+		}
+	}
+	if len(unpriced) > 0 {
+		d.Note("No share price is known on the date of the exercise of " + strings.Join(unpriced, " and ") + ": those are left out of the intrinsic value and the share price at exercise.")
+	}
+}
+
+// rangeTable is the options or warrants outstanding at the period end by
+// range of exercise prices (IFRS 2.45(d)).
+func (d *Memo) rangeTable(what string, rs []PriceRange) {
+	if len(rs) == 0 {
+		return
+	}
+	cur := d.Currency()
+	rows := make([][]string, 0, len(rs))
+	for _, r := range rs {
+		rng := perShare(r.Low)
+		if r.High != r.Low {
+			rng += " – " + perShare(r.High)
+		}
+		exPx := "–"
+		if r.Exercisable > 0 {
+			exPx = perShare(r.ExercisableWeightedPrice)
+		}
+		rows = append(rows, []string{rng, count(r.Outstanding), perShare(r.WeightedExercisePrice), fixed(r.WeightedRemainingTermYears, 2),
+			count(r.Exercisable), exPx})
+	}
+	d.Table([]Col{{what + " at the period end by range of exercise prices (" + cur + ")", 40, false}, {"Outstanding", 22, true},
+		{"Weighted-average exercise price", 30, true}, {"Weighted-average remaining contractual life (years)", 28, true},
+		{"Exercisable", 20, true}, {"Weighted-average exercise price, exercisable", 30, true}}, rows)
+}
+
+// rollHasShares reports whether any line of r has shares.
+func rollHasShares(r RollForward) bool {
+	for _, l := range r.Lines {
+		if l.Shares != 0 {
+			return true
+		}
+	}
+	return false
 }

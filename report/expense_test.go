@@ -27,7 +27,8 @@ func ymdT(s string) time.Time {
 }
 
 // expenseSchedule is an invented company (demo data, not a reference): an
-// option grant with a termination, an RSU grant, and a liability warrant.
+// option grant with a termination, an RSU grant, a liability warrant
+// granted for services, and a liability warrant issued with a loan.
 func expenseSchedule() *grants.Schedule {
 	return &grants.Schedule{
 		Company:     grants.Company{Name: "Quillmere Instruments GmbH", ValuationDate: ymdT("2026-12-31"), PeriodStart: ymdT("2026-10-01"), Currency: "EUR"},
@@ -40,7 +41,11 @@ func expenseSchedule() *grants.Schedule {
 			{ID: "Q-3", Holder: "E2", Instrument: grants.RSU, GrantDate: ymdT("2026-02-01"), Shares: 900,
 				VestStart: ymdT("2026-02-01"), VestMonths: 36, VestEvery: 12},
 			{ID: "Q-4", Holder: "=SUM(A1)", Instrument: grants.Warrant, GrantDate: ymdT("2026-03-01"), Shares: 10000, Strike: 4,
-				ExpiryDate: ymdT("2031-03-01"), VestStart: ymdT("2026-03-01"), VestMonths: 12, VestEvery: 12, Classification: grants.Liability},
+				ExpiryDate: ymdT("2031-03-01"), VestStart: ymdT("2026-03-01"), VestMonths: 12, VestEvery: 12, Classification: grants.Liability,
+				Purpose: grants.Compensation},
+			{ID: "Q-5", Holder: "LENDER", Instrument: grants.Warrant, GrantDate: ymdT("2026-06-15"), Shares: 5000, Strike: 5,
+				ExpiryDate: ymdT("2033-06-15"), VestStart: ymdT("2026-06-15"), VestEvery: 1, Classification: grants.Liability,
+				Purpose: grants.Financing},
 		},
 		SharePrices: []grants.PricePoint{{Date: ymdT("2026-01-01"), Price: 6}},
 		Events: []grants.Event{
@@ -66,7 +71,7 @@ func valuationFor(s *grants.Schedule, revalue func(g grants.Grant, at time.Time)
 		v.Grants = append(v.Grants, gv)
 		if g.Classification == grants.Liability && revalue != nil {
 			var rs []pricing.Revaluation
-			for _, at := range append([]time.Time{g.GrantDate}, pricing.RemeasurementDates(g.GrantDate, end)...) {
+			for _, at := range append([]time.Time{g.GrantDate}, pricing.RemeasurementDates(g.GrantDate, end, nil)...) {
 				vals, err := revalue(g, at)
 				rs = append(rs, pricing.Revaluation{Date: at, Values: vals, Err: err})
 				if err != nil {
@@ -95,7 +100,7 @@ func expenseModelWith(t *testing.T, s *grants.Schedule, revalue func(g grants.Gr
 	m := &Model{Tool: Tool{Name: "grantworth", Version: "test"}, ValuationDate: DateOf(s.Company.ValuationDate),
 		PeriodStart: DateOf(s.Company.PeriodStart), Company: Company{Name: s.Company.Name, Currency: s.Company.Currency}, Caution: Caution}
 	for _, g := range s.Grants {
-		mg := Grant{ID: g.ID, Holder: g.Holder, Instrument: string(g.Instrument), GrantDate: DateOf(g.GrantDate), Shares: g.Shares,
+		mg := Grant{ID: g.ID, Holder: g.Holder, Instrument: string(g.Instrument), Purpose: string(g.Purpose), GrantDate: DateOf(g.GrantDate), Shares: g.Shares,
 			Strike: g.Strike, Volatility: 0.5, RiskFreeRate: 0.03, Classification: string(g.Classification)}
 		for _, tr := range s.Tranches(g) {
 			mg.Tranches = append(mg.Tranches, Tranche{Index: tr.Index, VestDate: DateOf(tr.VestDate), Shares: tr.Shares,
@@ -155,20 +160,39 @@ func TestExpenseOutputs(t *testing.T) {
 	if math.Abs(unrec-e.UnrecognizedCost) > 1e-6 {
 		t.Errorf("by-grant unrecognised %v, total %v", unrec, e.UnrecognizedCost)
 	}
-	// The liability warrant shows a change in fair value, and its liability rolls.
+	// The compensatory liability warrant's remeasurement is compensation
+	// (ASC 718-30-35-3), and its liability rolls: open + compensation −
+	// reclassified = end.
 	var w *ExpenseGrant
 	for i := range e.ByGrant {
 		if e.ByGrant[i].Liability {
 			w = &e.ByGrant[i]
 		}
 	}
-	if w == nil || w.FairValueChange == 0 {
+	if w == nil || w.LiabilityEnd == 0 {
 		t.Fatalf("liability warrant: %+v", w)
 	}
-	if d := w.LiabilityEnd - w.LiabilityOpen - (w.Amount + w.FairValueChange - w.ReclassifiedEquity); math.Abs(d) > 1e-6 {
+	if d := w.LiabilityEnd - w.LiabilityOpen - (w.Amount - w.ReclassifiedEquity); math.Abs(d) > 1e-6 {
 		t.Errorf("liability roll off by %v", d)
 	}
-	for _, r := range []RollForward{e.Disclosures.Options, e.Disclosures.RSUs, e.Disclosures.Warrants} {
+	// The financing warrant is in no compensation figure: its change in
+	// fair value is apart, and its liability rolls.
+	if len(e.Financing) != 1 || e.Financing[0].GrantID != "Q-5" || e.FinancingFairValueChange == 0 {
+		t.Fatalf("financing %+v, change %v", e.Financing, e.FinancingFairValueChange)
+	}
+	fw := e.Financing[0]
+	if d := fw.LiabilityOpen + fw.Issued + fw.FairValueChange - fw.Reclassified - fw.LiabilityEnd; math.Abs(d) > 1e-6 {
+		t.Errorf("financing liability roll off by %v: %+v", d, fw)
+	}
+	for _, g := range e.ByGrant {
+		if g.GrantID == "Q-5" {
+			t.Errorf("financing warrant among the compensation grants: %+v", g)
+		}
+	}
+	if m.Totals.Grants != 4 || m.FinancingTotals.Grants != 1 {
+		t.Errorf("totals %+v, financing %+v", m.Totals, m.FinancingTotals)
+	}
+	for _, r := range []RollForward{e.Disclosures.Options, e.Disclosures.RSUs, e.Disclosures.Warrants, e.Disclosures.FinancingWarrants} {
 		if !r.Balances {
 			t.Errorf("%s roll-forward does not balance: %+v", r.Instrument, r.Lines)
 		}
@@ -217,7 +241,7 @@ func TestExpenseOutputs(t *testing.T) {
 	}
 	found := false
 	for _, r := range drows {
-		if len(r) > 2 && r[0] == "Option roll-forward" && r[1] == "Outstanding at end" {
+		if len(r) > 2 && r[0] == "Options" && r[1] == "Outstanding at end" {
 			found = true
 			if want := strconv.FormatInt(e.Disclosures.Options.Lines[len(e.Disclosures.Options.Lines)-1].Shares, 10); strings.ReplaceAll(r[2], ",", "") != want {
 				t.Errorf("Disclosures outstanding at end %q, want %s", r[2], want)
@@ -231,13 +255,38 @@ func TestExpenseOutputs(t *testing.T) {
 	if len(frows) != 1+len(e.Periods)+accounting.ForecastQuarters+1 {
 		t.Errorf("Expense forecast has %d rows", len(frows))
 	}
+	// Journal: a row per line of the JSON's entries, debits equal to credits.
+	jrows, _ := f.GetRows(SheetJournal, excelize.Options{RawCellValue: true})
+	var lines int
+	for _, j := range e.Journal {
+		lines += len(j.Lines)
+	}
+	var dr, cr float64
+	for _, r := range jrows[1:] {
+		if len(r) > 6 {
+			v, _ := strconv.ParseFloat(r[6], 64)
+			dr += v
+		}
+		if len(r) > 7 {
+			v, _ := strconv.ParseFloat(r[7], 64)
+			cr += v
+		}
+	}
+	if len(jrows) != 1+lines || lines == 0 || math.Abs(dr-cr) > 1e-6 {
+		t.Errorf("Journal sheet: %d rows for %d lines, debits %v, credits %v", len(jrows), lines, dr, cr)
+	}
+	finRows, _ := f.GetRows(SheetFinancing)
+	if len(finRows) != 2 || finRows[1][0] != "Q-5" {
+		t.Errorf("Financing warrants sheet %v", finRows)
+	}
 
 	// Memo: the three sections with their figures.
 	text := pdfText(t, renderMemo(t, m))
 	flat := strings.Join(strings.Fields(text), " ")
 	for _, want := range []string{"Compensation expense for the period", "Journal summary", "Share-based payment disclosures",
 		"Expense by quarter", "Outstanding at end", "Nonvested at start", "Vested and expected to vest",
-		money(e.Amount, "EUR"), "Additional paid-in capital", "Warrant liability"} {
+		money(e.Amount, "EUR"), "Additional paid-in capital", "Share-based compensation liability", "Warrants issued in financings",
+		"Change in fair value of warrant liability", "Total intrinsic value of exercises", "range of exercise prices"} {
 		if !strings.Contains(flat, want) {
 			t.Errorf("memo has no %q", want)
 		}
@@ -262,12 +311,39 @@ func TestExpenseNoRevalue(t *testing.T) {
 	if len(m.Warnings) == 0 || !strings.Contains(strings.Join(m.Warnings, "\n"), "Q-4") {
 		t.Errorf("warnings %v", m.Warnings)
 	}
-	if m.Expense.FairValueChange != 0 {
-		t.Errorf("fair value change %v without remeasurements", m.Expense.FairValueChange)
+	if m.Expense.FinancingFairValueChange != 0 {
+		t.Errorf("fair value change %v without remeasurements", m.Expense.FinancingFairValueChange)
 	}
 	failing := func(grants.Grant, time.Time) ([]float64, error) { return nil, errors.New("no curve on 2026-03-01") }
 	m = expenseModelWith(t, s, failing)
-	if !strings.Contains(strings.Join(m.Warnings, "\n"), "no curve on 2026-03-01") || m.Expense.FairValueChange != 0 {
-		t.Errorf("failed revaluation: warnings %v, fair value change %v", m.Warnings, m.Expense.FairValueChange)
+	if !strings.Contains(strings.Join(m.Warnings, "\n"), "no curve on 2026-03-01") || m.Expense.FinancingFairValueChange != 0 {
+		t.Errorf("failed revaluation: warnings %v, fair value change %v", m.Warnings, m.Expense.FinancingFairValueChange)
+	}
+}
+
+// Under IFRS 2 (framework ifrs2) the journal's equity is a share-based
+// payment reserve (IFRS 2.7), in the JSON, the Journal sheet and the memo.
+func TestExpenseIFRS2Names(t *testing.T) {
+	s := expenseSchedule()
+	s.Assumptions.Framework = grants.IFRS2
+	m := expenseModelFor(t, s)
+	e := m.Expense
+	if e.Framework != "ifrs2" || len(e.Journal) == 0 {
+		t.Fatalf("framework %q, journal %+v", e.Framework, e.Journal)
+	}
+	// The termination makes the period's equity-classified cost negative:
+	// the first entry debits the reserve and credits the expense.
+	if l := e.Journal[0].Lines[0]; l.Role != "equity" || l.Account != "Share-based payment reserve" || l.Debit <= 0 {
+		t.Errorf("equity line %+v", l)
+	}
+	f := renderBook(t, m)
+	if v, _ := f.GetCellValue(SheetJournal, "F2"); v != "Share-based payment reserve" {
+		t.Errorf("Journal!F2 = %q", v)
+	}
+	flat := strings.Join(strings.Fields(pdfText(t, renderMemo(t, m))), " ")
+	for _, want := range []string{"Standard: IFRS 2", "credit a share-based payment reserve in equity (IFRS 2)", "Share-based payment reserve"} {
+		if !strings.Contains(flat, want) {
+			t.Errorf("memo has no %q", want)
+		}
 	}
 }

@@ -6,14 +6,18 @@ package report
 const (
 	SheetExpense     = "Expense"
 	SheetForecast    = "Expense forecast"
+	SheetFinancing   = "Financing warrants"
 	SheetDisclosures = "Disclosures"
+	SheetJournal     = "Journal"
 )
 
 func init() {
 	sheetHooks = append(sheetHooks,
 		SheetHook{SheetExpense, writeExpense},
 		SheetHook{SheetForecast, writeForecast},
-		SheetHook{SheetDisclosures, writeDisclosures})
+		SheetHook{SheetFinancing, writeFinancing},
+		SheetHook{SheetDisclosures, writeDisclosures},
+		SheetHook{SheetJournal, writeJournal})
 }
 
 // notRun writes a one-line sheet when expense attribution did not run.
@@ -46,8 +50,7 @@ func writeExpense(b *Book, m *Model) error {
 		{"Service start", 12}, {"Vest date / service end", 14}, {"Shares", 11}, {"Shares counted", 13},
 		{"Expected share at vest", 12}, {"Fair value per share", 14}, {"Total cost", 16},
 		{"Cumulative at period start", 16}, {"Period expense", 16}, {"Cumulative at period end", 16},
-		{"Unrecognized cost", 16}, {"Remaining years", 11}, {"Fair value change (liability)", 16},
-		{"Liability at period end", 16}}
+		{"Unrecognized cost", 16}, {"Remaining years", 11}, {"Liability at period end (liability-classified)", 18}}
 	rows := 1
 	for _, g := range e.ByGrant {
 		rows += 1 + len(g.Tranches)
@@ -66,14 +69,14 @@ func writeExpense(b *Book, m *Model) error {
 			counted += tr.SharesCounted
 		}
 		shares += gs
-		var fvChange, liability any
+		var liability any
 		if g.Liability {
-			fvChange, liability = money(g.FairValueChange), money(g.LiabilityEnd)
+			liability = money(g.LiabilityEnd)
 		}
 		if err := t.Row("grant", b.Text(g.GrantID), b.Text(g.Holder), g.Instrument, nil,
 			b.DateCell(g.ServiceStart), b.DateCell(g.ServiceEnd), b.Cell(b.Style.Int, gs), b.Cell(b.Style.Number, counted),
 			nil, nil, money(g.Cost), money(g.CumulativeOpen), money(g.Amount), money(g.Cumulative),
-			money(g.Unrecognized), b.Cell(b.Style.Years, g.RemainingYears), fvChange, liability); err != nil {
+			money(g.Unrecognized), b.Cell(b.Style.Years, g.RemainingYears), liability); err != nil {
 			return err
 		}
 		for _, tr := range g.Tranches {
@@ -81,7 +84,7 @@ func writeExpense(b *Book, m *Model) error {
 				b.DateCell(g.ServiceStart), b.DateCell(tr.VestDate), b.Cell(b.Style.Int, tr.Shares), b.Cell(b.Style.Number, tr.SharesCounted),
 				b.Cell(b.Style.Percent, tr.ExpectedShare), b.Cell(b.Style.MoneyPerShare, tr.FairValuePerShare),
 				money(tr.Cost), money(tr.CumulativeOpen), money(tr.Amount), money(tr.Cumulative),
-				money(tr.Unrecognized), b.Cell(b.Style.Years, tr.RemainingYears), nil, nil); err != nil {
+				money(tr.Unrecognized), b.Cell(b.Style.Years, tr.RemainingYears), nil); err != nil {
 				return err
 			}
 		}
@@ -93,7 +96,7 @@ func writeExpense(b *Book, m *Model) error {
 	}
 	if err := t.Row(b.Cell(b.Style.Bold, "total"), nil, nil, nil, nil, nil, nil, b.Cell(b.Style.Int, shares), nil, nil, nil,
 		money(cost), money(open), money(e.Amount), money(e.Cumulative), money(m.Expense.UnrecognizedCost),
-		b.Cell(b.Style.Years, m.Expense.WeightedAverageRemainingYears), money(e.FairValueChange), nil); err != nil {
+		b.Cell(b.Style.Years, m.Expense.WeightedAverageRemainingYears), nil); err != nil {
 		return err
 	}
 	return t.Close()
@@ -106,7 +109,7 @@ func writeForecast(b *Book, m *Model) error {
 	if e == nil {
 		return notRun(b, SheetForecast)
 	}
-	cols := []Column{{"Kind", 12}, {"Start", 12}, {"End", 12}, {"Compensation expense", 20}, {"Fair value change (liability)", 20}}
+	cols := []Column{{"Kind", 12}, {"Start", 12}, {"End", 12}, {"Compensation expense", 20}, {"Financing warrants: change in fair value (outside operating expense)", 26}}
 	t, err := b.NewTable(SheetForecast, cols, len(m.Expense.Periods)+len(e.Forecast)+1)
 	if err != nil {
 		return err
@@ -116,7 +119,7 @@ func writeForecast(b *Book, m *Model) error {
 		if p.Current {
 			kind = "this period"
 		}
-		if err := t.Row(kind, b.DateCell(p.Start), b.DateCell(p.End), b.Cell(b.Style.Money, p.Amount), b.Cell(b.Style.Money, p.FairValueChange)); err != nil {
+		if err := t.Row(kind, b.DateCell(p.Start), b.DateCell(p.End), b.Cell(b.Style.Money, p.Amount), b.Cell(b.Style.Money, p.FinancingFairValueChange)); err != nil {
 			return err
 		}
 	}
@@ -131,64 +134,200 @@ func writeForecast(b *Book, m *Model) error {
 	return t.Close()
 }
 
-// writeDisclosures stacks the note's tables in one long table, a row per
-// line, so that every figure can be filtered by table; then the journal.
+// writeFinancing is one row per warrant issued in a financing: its value
+// at issue and, for a liability, the period's roll of the liability.
+func writeFinancing(b *Book, m *Model) error {
+	e := detail(m)
+	if e == nil {
+		return notRun(b, SheetFinancing)
+	}
+	cols := []Column{{"Grant", 14}, {"Holder", 14}, {"Classification", 14}, {"Issue date", 12}, {"Warrants issued", 14},
+		{"Fair value per warrant at issue", 20}, {"Value at issue", 18}, {"Outstanding at period end", 16}, {"Exercised in period", 14},
+		{"Fair value per warrant at period end", 22}, {"Liability at period start", 18}, {"Recognised at issue in period", 18},
+		{"Change in fair value (outside operating expense)", 26}, {"Reclassified to equity on exercise", 20}, {"Liability at period end", 18}}
+	t, err := b.NewTable(SheetFinancing, cols, max(len(e.Financing), 1))
+	if err != nil {
+		return err
+	}
+	if len(e.Financing) == 0 {
+		if err := t.Row("No warrant issued in a financing."); err != nil {
+			return err
+		}
+		return t.Close()
+	}
+	s := b.Style
+	for _, w := range e.Financing {
+		row := []any{b.Text(w.GrantID), b.Text(w.Holder), w.Classification, b.DateCell(w.IssueDate), b.Cell(s.Int, w.Shares),
+			b.Cell(s.MoneyPerShare, w.FairValueAtIssue), b.Cell(s.Money, w.ValueAtIssue), b.Cell(s.Int, w.Outstanding),
+			b.Cell(s.Int, w.Exercised), b.Cell(s.MoneyPerShare, w.FairValue)}
+		if w.Classification == "liability" {
+			row = append(row, b.Cell(s.Money, w.LiabilityOpen), b.Cell(s.Money, w.Issued), b.Cell(s.Money, w.FairValueChange),
+				b.Cell(s.Money, w.Reclassified), b.Cell(s.Money, w.LiabilityEnd))
+		}
+		if err := t.Row(row...); err != nil {
+			return err
+		}
+	}
+	return t.Close()
+}
+
+// block is one table of a stacked sheet: its own header row naming
+// every column, then rows.
+type block struct {
+	head []string
+	rows [][]any
+}
+
+// writeBlocks writes blocks one under another on one sheet, each with a
+// header row of its own, a blank row between them; the sheet's frozen
+// first row, with the filter, is the first block's header.
+func writeBlocks(b *Book, name string, widths []float64, blocks []block) error {
+	cols := make([]Column, len(widths))
+	for i, w := range widths {
+		cols[i].Width = w
+	}
+	first := blocks[0]
+	for i := range cols {
+		if i < len(first.head) {
+			cols[i].Header = first.head[i]
+		}
+	}
+	t, err := b.NewTable(name, cols, len(first.rows))
+	if err != nil {
+		return err
+	}
+	for k, bl := range blocks {
+		if k > 0 {
+			t.Skip(1)
+			head := make([]any, len(bl.head))
+			for i, h := range bl.head {
+				head[i] = b.Cell(b.Style.Header, h)
+			}
+			if err := t.TallRow(45, head...); err != nil {
+				return err
+			}
+		}
+		for _, r := range bl.rows {
+			if err := t.Row(r...); err != nil {
+				return err
+			}
+		}
+	}
+	return t.Close()
+}
+
+// writeDisclosures writes the note's tables one under another, each with
+// a header row that names every value in it.
 func writeDisclosures(b *Book, m *Model) error {
 	e := detail(m)
 	if e == nil || e.Disclosures == nil {
 		return notRun(b, SheetDisclosures)
 	}
 	d := e.Disclosures
-	cols := []Column{{"Table", 30}, {"Line", 34}, {"Shares", 13}, {"Weighted-average exercise price", 16},
-		{"Weighted-average grant-date fair value", 16}, {"Weighted-average remaining term (years)", 14},
-		{"Aggregate intrinsic value", 18}, {"Debit", 16}, {"Credit", 16}}
-	type row []any
-	var rows []row
-	roll := func(name string, r RollForward) {
-		for _, l := range r.Lines {
+	s := b.Style
+	money := func(v float64) any { return b.Cell(s.Money, v) }
+	per := func(v float64) any { return b.Cell(s.MoneyPerShare, v) }
+
+	roll := block{head: []string{"Roll-forward", "Line", "Shares", "Weighted-average exercise price", "Weighted-average fair value (at grant; financing: at issue)"}}
+	for _, r := range []struct {
+		name string
+		r    RollForward
+	}{{"Options", d.Options}, {"Nonvested RSUs", d.RSUs}, {"Warrants granted for services", d.Warrants}, {"Financing warrants (not share-based payment)", d.FinancingWarrants}} {
+		for _, l := range r.r.Lines {
 			var px any
-			if r.Basis == "outstanding" {
-				px = b.Cell(b.Style.MoneyPerShare, l.WeightedExercisePrice)
+			if r.r.Basis == "outstanding" {
+				px = per(l.WeightedExercisePrice)
 			}
-			rows = append(rows, row{name, l.Label, b.Cell(b.Style.Int, l.Shares), px, b.Cell(b.Style.MoneyPerShare, l.WeightedFairValue), nil, nil, nil, nil})
+			roll.rows = append(roll.rows, []any{r.name, l.Label, b.Cell(s.Int, l.Shares), px, per(l.WeightedFairValue)})
 		}
 	}
-	summary := func(name string, ls []SummaryLine) {
-		for _, l := range ls {
-			rows = append(rows, row{name, l.Label, b.Cell(b.Style.Number, l.Shares), b.Cell(b.Style.MoneyPerShare, l.WeightedExercisePrice), nil,
-				b.Cell(b.Style.Years, l.RemainingTermYears), b.Cell(b.Style.Money, l.IntrinsicValue), nil, nil})
+	end := block{head: []string{"At the period end", "Line", "Shares", "Weighted-average exercise price", "Weighted-average remaining contractual term (years)", "Aggregate intrinsic value"}}
+	for _, x := range []struct {
+		name string
+		ls   []SummaryLine
+	}{{"Options", d.OptionsAtEnd}, {"Warrants granted for services", d.WarrantsAtEnd}} {
+		for _, l := range x.ls {
+			end.rows = append(end.rows, []any{x.name, l.Label, b.Cell(s.Number, l.Shares), per(l.WeightedExercisePrice),
+				b.Cell(s.Years, l.RemainingTermYears), money(l.IntrinsicValue)})
 		}
 	}
-	granted := func(name string, g GrantsInPeriod, assumptions bool) {
-		rows = append(rows, row{name, "Grants in the period", b.Cell(b.Style.Int, g.Shares), nil, b.Cell(b.Style.MoneyPerShare, g.WeightedFairValue), nil, nil, nil, nil})
-		if !assumptions || g.Measured == 0 {
-			return
+	granted := block{head: []string{"Granted in the period", "Grants", "Shares", "Weighted-average grant-date fair value", "Weighted-average volatility",
+		"Weighted-average risk-free rate (at the expected term)", "Weighted-average dividend yield", "Weighted-average expected term (years)"}}
+	for _, x := range []struct {
+		name        string
+		g           GrantsInPeriod
+		assumptions bool
+	}{{"Options", d.OptionGrants, true}, {"RSUs", d.RSUGrants, false}, {"Warrants granted for services", d.WarrantGrants, true}} {
+		row := []any{x.name, b.Cell(s.Int, x.g.Grants), b.Cell(s.Int, x.g.Shares), per(x.g.WeightedFairValue)}
+		if x.assumptions && x.g.Measured > 0 {
+			row = append(row, b.Cell(s.Percent, x.g.Volatility), b.Cell(s.Percent, x.g.RiskFreeRate), b.Cell(s.Percent, x.g.DividendYield),
+				b.Cell(s.Years, x.g.ExpectedTermYears))
 		}
-		for _, a := range []struct {
-			label string
-			v     any
-		}{
-			{"Weighted-average volatility", b.Cell(b.Style.Percent, g.Volatility)},
-			{"Weighted-average risk-free rate", b.Cell(b.Style.Percent, g.RiskFreeRate)},
-			{"Weighted-average dividend yield", b.Cell(b.Style.Percent, g.DividendYield)},
-		} {
-			rows = append(rows, row{name, a.label, nil, nil, a.v, nil, nil, nil, nil})
+		granted.rows = append(granted.rows, row)
+	}
+	activity := block{head: []string{"Exercises and vesting in the period", "Exercised (shares)", "Total intrinsic value of exercises",
+		"Cash received from exercises", "Weighted-average share price at exercise", "Exercised with no share price known (shares)",
+		"Vested (shares)", "Total fair value of awards vested"}}
+	for _, x := range []struct {
+		name string
+		a    Activity
+	}{{"Options", d.OptionActivity}, {"Warrants granted for services", d.WarrantActivity}, {"RSUs", d.RSUActivity}} {
+		activity.rows = append(activity.rows, []any{x.name, b.Cell(s.Int, x.a.Exercised), money(x.a.IntrinsicValueExercised),
+			money(x.a.CashReceived), per(x.a.WeightedSharePriceAtExercise), b.Cell(s.Int, x.a.Unpriced),
+			b.Cell(s.Int, x.a.Vested), money(x.a.FairValueVested)})
+	}
+	ranges := block{head: []string{"Outstanding at the period end by range of exercise prices", "Lowest exercise price", "Highest exercise price",
+		"Outstanding", "Weighted-average exercise price", "Weighted-average remaining contractual life (years)", "Exercisable",
+		"Weighted-average exercise price, exercisable"}}
+	for _, x := range []struct {
+		name string
+		rs   []PriceRange
+	}{{"Options", d.OptionRanges}, {"Warrants granted for services", d.WarrantRanges}} {
+		for _, r := range x.rs {
+			ranges.rows = append(ranges.rows, []any{x.name, per(r.Low), per(r.High), b.Cell(s.Int, r.Outstanding), per(r.WeightedExercisePrice),
+				b.Cell(s.Years, r.WeightedRemainingTermYears), b.Cell(s.Int, r.Exercisable), per(r.ExercisableWeightedPrice)})
 		}
-		rows = append(rows, row{name, "Weighted-average expected term", nil, nil, nil, b.Cell(b.Style.Years, g.ExpectedTermYears), nil, nil, nil})
 	}
-	roll("Option roll-forward", d.Options)
-	summary("Options at period end", d.OptionsAtEnd)
-	granted("Options granted", d.OptionGrants, true)
-	roll("Nonvested RSU roll-forward", d.RSUs)
-	granted("RSUs granted", d.RSUGrants, false)
-	roll("Warrant roll-forward", d.Warrants)
-	summary("Warrants at period end", d.WarrantsAtEnd)
-	for _, w := range d.WarrantsOutstanding {
-		rows = append(rows, row{"Warrants outstanding", b.Text(w.GrantID + " (" + w.Classification + ")"), b.Cell(b.Style.Int, w.Shares),
-			b.Cell(b.Style.MoneyPerShare, w.Strike), b.Cell(b.Style.MoneyPerShare, w.FairValuePerShare),
-			b.Cell(b.Style.Years, w.RemainingTermYears), b.Cell(b.Style.Money, w.IntrinsicValue), nil, nil})
+	blocks := []block{roll, end, granted, activity}
+	if len(ranges.rows) > 0 {
+		blocks = append(blocks, ranges)
 	}
+	if len(d.WarrantsOutstanding) > 0 {
+		w := block{head: []string{"Warrants granted for services, outstanding", "Classification", "Outstanding", "Exercisable", "Strike",
+			"Remaining contractual term (years)", "Fair value per warrant", "Intrinsic value"}}
+		for _, r := range d.WarrantsOutstanding {
+			w.rows = append(w.rows, []any{b.Text(r.GrantID), r.Classification, b.Cell(s.Int, r.Shares), b.Cell(s.Int, r.Exercisable),
+				per(r.Strike), b.Cell(s.Years, r.RemainingTermYears), per(r.FairValuePerShare), money(r.IntrinsicValue)})
+		}
+		blocks = append(blocks, w)
+	}
+	blocks = append(blocks, block{head: []string{"Share price at the period end", "Used for the intrinsic values"},
+		rows: [][]any{{"Share price", per(d.SharePrice)}}})
+	return writeBlocks(b, SheetDisclosures, []float64{44, 30, 18, 20, 20, 22, 20, 22}, blocks)
+}
+
+// writeJournal is one row per line of the period's entries.
+func writeJournal(b *Book, m *Model) error {
+	e := detail(m)
+	if e == nil {
+		return notRun(b, SheetJournal)
+	}
+	cols := []Column{{"Entry", 7}, {"Date", 12}, {"Description", 84}, {"Account role", 28}, {"Account code", 12}, {"Account", 40},
+		{"Debit", 16}, {"Credit", 16}, {"Currency", 9}}
+	n := 0
 	for _, j := range e.Journal {
+		n += len(j.Lines)
+	}
+	t, err := b.NewTable(SheetJournal, cols, max(n, 1))
+	if err != nil {
+		return err
+	}
+	if n == 0 {
+		if err := t.Row(nil, nil, "Nothing is to be booked for the period."); err != nil {
+			return err
+		}
+	}
+	for i, j := range e.Journal {
 		for _, l := range j.Lines {
 			var dr, cr any
 			if l.Debit != 0 {
@@ -197,17 +336,10 @@ func writeDisclosures(b *Book, m *Model) error {
 			if l.Credit != 0 {
 				cr = b.Cell(b.Style.Money, l.Credit)
 			}
-			rows = append(rows, row{"Journal: " + j.Description, l.Account, nil, nil, nil, nil, nil, dr, cr})
-		}
-	}
-	rows = append(rows, row{"Share price at period end", "used for the intrinsic values (in the exercise price column)", nil, b.Cell(b.Style.MoneyPerShare, d.SharePrice), nil, nil, nil, nil, nil})
-	t, err := b.NewTable(SheetDisclosures, cols, len(rows))
-	if err != nil {
-		return err
-	}
-	for _, r := range rows {
-		if err := t.Row(r...); err != nil {
-			return err
+			if err := t.Row(b.Cell(b.Style.Int, i+1), b.DateCell(j.Date), b.Text(j.Description), l.Role, b.Text(l.AccountCode),
+				b.Text(l.Account), dr, cr, m.Company.Currency); err != nil {
+				return err
+			}
 		}
 	}
 	return t.Close()

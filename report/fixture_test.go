@@ -24,7 +24,7 @@ func fixture() *Model {
 		ValuationDate: day("2026-09-30"),
 		PeriodStart:   day("2026-07-01"),
 		Company:       Company{Name: "Larkspur Robotics Ltd", Currency: "EUR", SharesOutstanding: 12_500_000},
-		Settings: Settings{Steps: "auto", Attribution: "graded", Forfeitures: "estimate",
+		Settings: Settings{Steps: "auto", Attribution: "graded", Forfeitures: "estimate", Framework: "asc718",
 			MonteCarlo: "40,000 paths per tranche, seeds 1 to 2, on grants G-001 and G-002", Sensitivities: "all grants revalued for each case"},
 		Warnings: []string{
 			"Grants!C9 (holder): unknown column \"notes\" ignored",
@@ -32,7 +32,7 @@ func fixture() *Model {
 		},
 		Caution: Caution,
 	}
-	opt := Grant{ID: "G-001", Holder: "=HYPERLINK(\"x\")", Instrument: Option, GrantDate: day("2025-03-14"),
+	opt := Grant{ID: "G-001", Holder: "=HYPERLINK(\"x\")", Instrument: Option, Purpose: "compensation", GrantDate: day("2025-03-14"),
 		MeasurementDate: day("2025-03-14"), ExpiryDate: day("2035-03-14"), Shares: 4800, Strike: 2.50, SharePrice: 2.50,
 		Volatility: 0.55, RiskFreeRate: 0.0391, DividendYield: 0, ExerciseMultiple: 2.5, PostVestingExitRate: 0.08, Method: "lattice"}
 	for i := 1; i <= 4; i++ {
@@ -42,13 +42,13 @@ func fixture() *Model {
 			FairValuePerShare: 1.30 + 0.02*v, ErrorEstimate: 0.0004, ExpectedTermYears: 4.1 + 0.5*v, Steps: 2400,
 			BSMSimplifiedValue: 1.40 + 0.03*v, SimplifiedTerm: (v + 10) / 2, SimplifiedRate: 0.0385 + 0.0003*v})
 	}
-	opt2 := Grant{ID: "G-002", Holder: "Ø-7 Søren", Instrument: Option, GrantDate: day("2026-08-01"),
+	opt2 := Grant{ID: "G-002", Holder: "Ø-7 Søren", Instrument: Option, Purpose: "compensation", GrantDate: day("2026-08-01"),
 		MeasurementDate: day("2026-08-01"), ExpiryDate: day("2036-08-01"), Shares: 1000, Strike: 3.10, SharePrice: 3.10,
 		Volatility: 0.5, RiskFreeRate: 0.0402, DividendYield: 0.01, ExerciseMultiple: 0, PostVestingExitRate: 0.1, Method: "lattice",
 		Tranches: []Tranche{{Index: 1, VestDate: day("2027-08-01"), Shares: 1000, YearsToExpiry: 10, YearsToVest: 1,
 			RiskFreeRate: 0.0402, FairValuePerShare: 1.6012, ErrorEstimate: 0.0003, ExpectedTermYears: 5.2, Steps: 2400,
 			BSMSimplifiedValue: 1.55, SimplifiedTerm: 5.5, SimplifiedRate: 0.0398}}}
-	war := Grant{ID: "W-001", Holder: "Harbour Lending", Instrument: Warrant, GrantDate: day("2024-11-20"),
+	war := Grant{ID: "W-001", Holder: "Harbour Lending", Instrument: Warrant, Purpose: Financing, GrantDate: day("2024-11-20"),
 		MeasurementDate: day("2026-09-30"), ExpiryDate: day("2031-11-20"), Shares: 250000, Strike: 4.00, SharePrice: 3.20,
 		Volatility: 0.45, RiskFreeRate: 0.0379, ExerciseMultiple: 0, PostVestingExitRate: 0, Method: "warrant",
 		Classification: "liability", ExerciseStyle: "american",
@@ -56,7 +56,7 @@ func fixture() *Model {
 		Tranches: []Tranche{{Index: 1, VestDate: day("2024-11-20"), Shares: 250000, YearsToExpiry: 5.14, YearsToVest: 0,
 			RiskFreeRate: 0.0379, FairValuePerShare: 1.3843, ErrorEstimate: 0.0002, ExpectedTermYears: 5.14, Steps: 1300,
 			BSMSimplifiedValue: 1.41, SimplifiedTerm: 2.57, SimplifiedRate: 0.0371}}}
-	rsu := Grant{ID: "R-001", Holder: "E-0042", Instrument: RSU, GrantDate: day("2026-01-05"),
+	rsu := Grant{ID: "R-001", Holder: "E-0042", Instrument: RSU, Purpose: "compensation", GrantDate: day("2026-01-05"),
 		MeasurementDate: day("2026-01-05"), Shares: 600, SharePrice: 2.90, Volatility: 0.55, RiskFreeRate: 0.04,
 		DividendYield: 0.01, Method: "rsu"}
 	for i := 1; i <= 3; i++ {

@@ -51,3 +51,11 @@ func fixed(v float64, d int) string { return strconv.FormatFloat(v, 'f', d, 64) 
 
 // count is an integer with grouped digits.
 func count[T ~int | ~int64](n T) string { return groupDigits(float64(n), 0) }
+
+// counted is n and the word w, with an s unless n is 1 ("1 grant", "2 grants").
+func counted(n int, w string) string {
+	if n == 1 {
+		return "1 " + w
+	}
+	return count(n) + " " + w + "s"
+}

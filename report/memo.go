@@ -155,7 +155,8 @@ func (d *Memo) templates(fsys fs.FS, dir string) (*template.Template, error) {
 			}
 			return a/b - 1
 		},
-		"sec": func(key string) string { return fmt.Sprint(d.sections[key]) },
+		"sec":     func(key string) string { return fmt.Sprint(d.sections[key]) },
+		"counted": counted,
 		"first": func(ps []ConvergencePoint) string {
 			if len(ps) == 0 {
 				return "–"
@@ -265,12 +266,14 @@ func (d *Memo) cover() {
 	}
 	p.Ln(14)
 	rows := [][2]string{
-		{"Grants", count(m.Totals.Grants)},
-		{"Vesting tranches", count(m.Totals.Tranches)},
+		{"Share-based awards", count(m.Totals.Grants) + " grants, " + count(m.Totals.Tranches) + " vesting tranches"},
 		{"Total fair value", money(m.Totals.FairValueTotal, m.Company.Currency)},
-		{"Prepared with", m.Tool.Name + " " + m.Tool.Version},
-		{"Input", m.Input.Path},
 	}
+	if f := m.FinancingTotals; f.Grants > 0 {
+		rows = append(rows, [2]string{"Financing warrants", fmt.Sprintf("%s, fair value %s (not share-based payment; kept apart)",
+			counted(f.Grants, "grant"), money(f.FairValueTotal, m.Company.Currency))})
+	}
+	rows = append(rows, [2]string{"Prepared with", m.Tool.Name + " " + m.Tool.Version}, [2]string{"Input", m.Input.Path})
 	for _, r := range rows {
 		p.SetFont(fontSans, "", 9.5)
 		p.SetTextColor(90, 90, 90)
@@ -551,10 +554,13 @@ func (d *Memo) Currency() string { return d.m.Company.Currency }
 type memoData struct {
 	*Model
 	Warrants []Grant
+	// All are the totals of every instrument valued: the share-based
+	// awards and the financing warrants.
+	All Totals
 }
 
 func (d *Memo) data() memoData {
-	md := memoData{Model: d.m}
+	md := memoData{Model: d.m, All: d.m.Totals.Plus(d.m.FinancingTotals)}
 	for _, g := range d.m.Grants {
 		if g.Instrument == Warrant {
 			md.Warrants = append(md.Warrants, g)

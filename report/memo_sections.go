@@ -18,41 +18,70 @@ func (d *Memo) summary(m *Model) error {
 	rows := [][]string{
 		{"Company", m.Company.Name},
 		{"Valuation date", m.ValuationDate.String()},
-		{"Grants / vesting tranches", count(m.Totals.Grants) + " / " + count(m.Totals.Tranches)},
+		{"Share-based awards: grants / vesting tranches", count(m.Totals.Grants) + " / " + count(m.Totals.Tranches)},
 		{"Shares under award", count(m.Totals.Shares)},
-		{"Total fair value", money(m.Totals.FairValueTotal, cur)},
+		{"Total fair value of share-based awards", money(m.Totals.FairValueTotal, cur)},
 		{"Simplified-method Black-Scholes-Merton", money(m.Totals.BSMSimplifiedTotal, cur)},
 	}
-	if m.Expense != nil {
+	if f := m.FinancingTotals; f.Grants > 0 {
+		rows = append(rows, []string{"Warrants issued in financings (not share-based payment)",
+			fmt.Sprintf("%s over %s shares, fair value %s", counted(f.Grants, "grant"), count(f.Shares), money(f.FairValueTotal, cur))})
+	}
+	if e := detail(m); e != nil {
 		rows = append(rows,
+			[]string{"Compensation expense for the period", money(e.Amount, cur)},
 			[]string{"Unrecognized compensation cost", money(m.Expense.UnrecognizedCost, cur)},
 			[]string{"Weighted-average remaining recognition period", fixed(m.Expense.WeightedAverageRemainingYears, 2) + " years"})
+		if len(e.Financing) > 0 {
+			rows = append(rows, []string{"Change in fair value of warrant liability (financing; outside operating expense)", money(e.FinancingFairValueChange, cur)})
+		}
 	}
 	if len(m.CrossChecks) > 0 {
 		rows = append(rows, []string{"Monte Carlo check", crossCheckSummary(m.CrossChecks)})
 	}
 	rows = append(rows, []string{"Warnings", count(len(m.Warnings))})
-	d.Table([]Col{{"Item", 70, false}, {"Value", 100, false}}, rows)
+	d.Table([]Col{{"Item", 80, false}, {"Value", 90, false}}, rows)
 	d.Sub("By instrument")
-	d.groupTable("Instrument", m.ByInstrument, m.Totals)
+	d.groupTable("Instrument", m.ByInstrument, m.Totals, m.FinancingTotals)
 	return nil
 }
 
-func (d *Memo) groupTable(first string, gs []Group, tot Totals) {
+// groupTable lists the share-based groups with their total, then the
+// financing warrants' groups and the total of everything valued when there
+// are any (fin, their totals).
+func (d *Memo) groupTable(first string, gs []Group, tot, fin Totals) {
 	cur := d.Currency()
-	cols := []Col{{first, 30, false}, {"Grants", 18, true}, {"Tranches", 18, true}, {"Shares", 24, true},
-		{"Fair value per share", 24, true}, {"Fair value total (" + cur + ")", 32, true}, {"Simplified BSM (" + cur + ")", 24, true}}
-	rows := make([][]string, 0, len(gs)+1)
+	cols := []Col{{first, 42, false}, {"Grants", 14, true}, {"Tranches", 16, true}, {"Shares", 22, true},
+		{"Fair value per share", 22, true}, {"Fair value total (" + cur + ")", 30, true}, {"Simplified BSM (" + cur + ")", 24, true}}
+	rows := make([][]string, 0, len(gs)+3)
+	row := func(g Group) []string {
+		return []string{g.Key, count(g.Grants), count(g.Tranches), count(g.Shares),
+			perShare(g.FairValuePerShare), groupDigits(g.FairValueTotal, 2), groupDigits(g.BSMSimplifiedTotal, 2)}
+	}
+	total := func(label string, t Totals) []string {
+		g := Group{Key: "\x00" + label, Grants: t.Grants, Tranches: t.Tranches, Shares: t.Shares, FairValueTotal: t.FairValueTotal, BSMSimplifiedTotal: t.BSMSimplifiedTotal}
+		if t.Shares > 0 {
+			g.FairValuePerShare = t.FairValueTotal / float64(t.Shares)
+		}
+		return row(g)
+	}
 	for _, g := range gs {
-		rows = append(rows, []string{g.Key, count(g.Grants), count(g.Tranches), count(g.Shares),
-			perShare(g.FairValuePerShare), groupDigits(g.FairValueTotal, 2), groupDigits(g.BSMSimplifiedTotal, 2)})
+		if !g.Financing {
+			rows = append(rows, row(g))
+		}
 	}
-	var per float64
-	if tot.Shares > 0 {
-		per = tot.FairValueTotal / float64(tot.Shares)
+	if fin.Grants == 0 {
+		rows = append(rows, total("Total", tot))
+		d.Table(cols, rows)
+		return
 	}
-	rows = append(rows, []string{"\x00Total", count(tot.Grants), count(tot.Tranches), count(tot.Shares),
-		perShare(per), groupDigits(tot.FairValueTotal, 2), groupDigits(tot.BSMSimplifiedTotal, 2)})
+	rows = append(rows, total("Total share-based awards", tot))
+	for _, g := range gs {
+		if g.Financing {
+			rows = append(rows, row(g))
+		}
+	}
+	rows = append(rows, total("Everything valued", tot.Plus(fin)))
 	d.Table(cols, rows)
 }
 
@@ -173,29 +202,48 @@ func (d *Memo) results(m *Model) error {
 		return err
 	}
 	d.Sub("By instrument")
-	d.groupTable("Instrument", m.ByInstrument, m.Totals)
+	d.groupTable("Instrument", m.ByInstrument, m.Totals, m.FinancingTotals)
 	if len(m.Grants) > maxGrantRows {
 		d.Sub("By grant month")
-		d.Note(fmt.Sprintf("The schedule has %s grants, so they are grouped here by the month of grant; the workbook's Grants and Tranches sheets show each one.", count(len(m.Grants))))
-		d.groupTable("Grant month", m.ByGrantMonth, m.Totals)
+		d.Note(fmt.Sprintf("The schedule has %s grants, so the share-based awards are grouped here by the month of grant; the workbook's Grants and Tranches sheets show each one.", count(len(m.Grants))))
+		d.groupTable("Grant month", m.ByGrantMonth, m.Totals, Totals{})
 		return nil
 	}
 	d.Sub("By grant")
 	cur := m.Company.Currency
-	cols := []Col{{"Grant", 16, false}, {"Holder", 18, false}, {"Instrument", 18, false}, {"Grant date", 18, false},
-		{"Shares", 18, true}, {"Strike", 13, true}, {"Share price", 13, true}, {"Tranches", 16, true},
-		{"Fair value per share", 16, true}, {"Fair value total (" + cur + ")", 24, true}}
+	cols := []Col{{"Grant", 16, false}, {"Holder", 18, false}, {"Instrument", 21, false}, {"Grant date", 19, false},
+		{"Shares", 16, true}, {"Strike", 13, true}, {"Share price", 13, true}, {"Tranches", 16, true},
+		{"Fair value per share", 16, true}, {"Fair value total (" + cur + ")", 22, true}}
 	rows := make([][]string, 0, len(m.Grants)+1)
-	for _, g := range m.Grants {
+	grantRow := func(g Grant) []string {
 		strike := perShare(g.Strike)
 		if g.Instrument == RSU {
 			strike = "–"
 		}
-		rows = append(rows, []string{g.ID, g.Holder, g.Instrument, g.GrantDate.String(), count(g.Shares), strike,
-			perShare(g.SharePrice), count(len(g.Tranches)), perShare(g.FairValuePerShare), groupDigits(g.FairValueTotal, 2)})
+		return []string{g.ID, g.Holder, g.Instrument, g.GrantDate.String(), count(g.Shares), strike,
+			perShare(g.SharePrice), count(len(g.Tranches)), perShare(g.FairValuePerShare), groupDigits(g.FairValueTotal, 2)}
 	}
-	rows = append(rows, []string{"\x00Total", "", "", "", count(m.Totals.Shares), "", "", count(m.Totals.Tranches), "",
-		groupDigits(m.Totals.FairValueTotal, 2)})
+	totalRow := func(of string, t Totals) []string {
+		return []string{"\x00Total", "", of, "", count(t.Shares), "", "", count(t.Tranches), "", groupDigits(t.FairValueTotal, 2)}
+	}
+	for _, g := range m.Grants {
+		if g.Purpose != Financing {
+			rows = append(rows, grantRow(g))
+		}
+	}
+	if m.FinancingTotals.Grants == 0 {
+		rows = append(rows, totalRow("", m.Totals))
+	} else {
+		rows = append(rows, totalRow("share-based", m.Totals))
+		for _, g := range m.Grants {
+			if g.Purpose == Financing {
+				r := grantRow(g)
+				r[2] = "warrant (financing)"
+				rows = append(rows, r)
+			}
+		}
+		rows = append(rows, totalRow("all valued", m.Totals.Plus(m.FinancingTotals)))
+	}
 	d.Table(cols, rows)
 	return nil
 }
@@ -209,8 +257,8 @@ func (d *Memo) warrants(m *Model) error {
 		return nil
 	}
 	cur := m.Company.Currency
-	cols := []Col{{"Warrant", 18, false}, {"Holder", 26, false}, {"Classification", 22, false}, {"Exercise", 17, false},
-		{"Warrants", 18, true}, {"Strike", 15, true}, {"Dilution", 34, false}, {"Per warrant", 20, true}}
+	cols := []Col{{"Warrant", 15, false}, {"Holder", 19, false}, {"Purpose", 19, false}, {"Classification", 23, false}, {"Exercise", 15, false},
+		{"Warrants", 17, true}, {"Strike", 13, true}, {"Dilution", 31, false}, {"Per warrant", 18, true}}
 	rows := make([][]string, 0, len(data.Warrants))
 	var total float64
 	for i, g := range data.Warrants {
@@ -222,7 +270,7 @@ func (d *Memo) warrants(m *Model) error {
 		if g.Dilution != nil {
 			dil = fmt.Sprintf("%s, %s new on %s", g.Dilution.Method, count(int64(g.Dilution.Warrants)), count(int64(g.Dilution.SharesOutstanding)))
 		}
-		rows = append(rows, []string{g.ID, g.Holder, g.Classification, g.ExerciseStyle, count(g.Shares), perShare(g.Strike), dil,
+		rows = append(rows, []string{g.ID, g.Holder, g.Purpose, g.Classification, g.ExerciseStyle, count(g.Shares), perShare(g.Strike), dil,
 			perShare(g.FairValuePerShare)})
 		total += g.FairValueTotal
 	}
@@ -318,8 +366,17 @@ func (d *Memo) comparison(m *Model) error {
 				diff(g.FairValueTotal, g.BSMSimplifiedTotal)})
 		}
 	}
-	rows = append(rows, []string{"\x00Total", "", groupDigits(m.Totals.FairValueTotal, 2), groupDigits(m.Totals.BSMSimplifiedTotal, 2),
-		diff(m.Totals.FairValueTotal, m.Totals.BSMSimplifiedTotal)})
+	all := m.Totals.Plus(m.FinancingTotals)
+	label := "Total"
+	if len(m.Grants) > maxGrantRows && m.FinancingTotals.Grants > 0 {
+		rows = append(rows, []string{"Financing warrants", Warrant, groupDigits(m.FinancingTotals.FairValueTotal, 2),
+			groupDigits(m.FinancingTotals.BSMSimplifiedTotal, 2), diff(m.FinancingTotals.FairValueTotal, m.FinancingTotals.BSMSimplifiedTotal)})
+	}
+	if m.FinancingTotals.Grants > 0 {
+		label = "Total, everything valued"
+	}
+	rows = append(rows, []string{"\x00" + label, "", groupDigits(all.FairValueTotal, 2), groupDigits(all.BSMSimplifiedTotal, 2),
+		diff(all.FairValueTotal, all.BSMSimplifiedTotal)})
 	d.Table([]Col{{first, 30, false}, {"Instrument", 24, false}, {"Lattice (" + cur + ")", 40, true},
 		{"Simplified BSM (" + cur + ")", 40, true}, {"Lattice against BSM", 36, true}}, rows)
 	if len(m.CrossChecks) > 0 {

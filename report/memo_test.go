@@ -84,7 +84,7 @@ func TestMemoLargeLedgerGrouped(t *testing.T) {
 	m := bigModel(2000)
 	text := pdfText(t, renderMemo(t, m))
 	flat := strings.Join(strings.Fields(text), " ")
-	for _, want := range []string{"By grant month", "so they are grouped here by the month of grant", "Grant month"} {
+	for _, want := range []string{"By grant month", "so the share-based awards are grouped here by the month of grant", "Grant month"} {
 		if !strings.Contains(flat, want) {
 			t.Errorf("memo of 2,000 grants lacks %q", want)
 		}

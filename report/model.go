@@ -66,23 +66,27 @@ func (d *Date) UnmarshalJSON(b []byte) error {
 type Model struct {
 	// SchemaVersion is the version of valuation.json's layout
 	// (SchemaVersion); a later close refuses a file of a newer one.
-	SchemaVersion int           `json:"schema_version"`
-	Tool          Tool          `json:"tool"`
-	Input         Input         `json:"input"`
-	ValuationDate Date          `json:"valuation_date"`
-	PeriodStart   Date          `json:"period_start"`
-	Company       Company       `json:"company"`
-	Settings      Settings      `json:"settings"`
-	Grants        []Grant       `json:"grants"`
-	Totals        Totals        `json:"totals"`
-	Expense       *Expense      `json:"expense"` // nil until expense attribution has run
-	Warnings      []string      `json:"warnings"`
-	ByInstrument  []Group       `json:"by_instrument"`
-	ByGrantMonth  []Group       `json:"by_grant_month"`
-	Assumptions   []Assumption  `json:"assumptions"`
-	Sensitivity   []Sensitivity `json:"sensitivity"`
-	Convergence   *Convergence  `json:"convergence"`
-	CrossChecks   []CrossCheck  `json:"cross_checks"`
+	SchemaVersion int      `json:"schema_version"`
+	Tool          Tool     `json:"tool"`
+	Input         Input    `json:"input"`
+	ValuationDate Date     `json:"valuation_date"`
+	PeriodStart   Date     `json:"period_start"`
+	Company       Company  `json:"company"`
+	Settings      Settings `json:"settings"`
+	Grants        []Grant  `json:"grants"`
+	// Totals are the share-based awards' (every grant whose purpose is
+	// compensation); FinancingTotals the warrants issued in financings,
+	// which are not share-based payment and are kept apart everywhere.
+	Totals          Totals        `json:"totals"`
+	FinancingTotals Totals        `json:"financing_totals"`
+	Expense         *Expense      `json:"expense"` // nil until expense attribution has run
+	Warnings        []string      `json:"warnings"`
+	ByInstrument    []Group       `json:"by_instrument"`
+	ByGrantMonth    []Group       `json:"by_grant_month"`
+	Assumptions     []Assumption  `json:"assumptions"`
+	Sensitivity     []Sensitivity `json:"sensitivity"`
+	Convergence     *Convergence  `json:"convergence"`
+	CrossChecks     []CrossCheck  `json:"cross_checks"`
 	// Prior is the close this one follows (--prior), and Reconciliation
 	// the walk from it; both nil for a first close.
 	Prior          *PriorClose     `json:"prior"`
@@ -93,7 +97,12 @@ type Model struct {
 // SchemaVersion is the layout of valuation.json this grantworth writes,
 // and the newest it reads as a prior close. Raise it when a field a later
 // close reads changes meaning or goes; adding fields does not need it.
-const SchemaVersion = 1
+//
+// Version 2: warrants issued in financings leave expense.by_grant for
+// expense.financing_warrants; a liability-classified award's change in
+// fair value is compensation, and its tranches' fair_value_per_share is
+// its latest remeasurement (grant_date_fair_value_per_share beside it).
+const SchemaVersion = 2
 
 // PriorClose identifies the close this one follows.
 type PriorClose struct {
@@ -127,6 +136,7 @@ type Settings struct {
 	Steps         string `json:"steps"`         // "auto" or a step count
 	Attribution   string `json:"attribution"`   // graded | straight-line
 	Forfeitures   string `json:"forfeitures"`   // estimate | as-occur
+	Framework     string `json:"framework"`     // asc718 | ifrs2
 	MonteCarlo    string `json:"monte_carlo"`   // what the cross-check ran, in words
 	Sensitivities string `json:"sensitivities"` // how the sensitivity runs were made, in words
 }
@@ -144,7 +154,9 @@ type Grant struct {
 	ID                  string  `json:"grant_id"`
 	Holder              string  `json:"holder"`
 	Instrument          string  `json:"instrument"`
+	Purpose             string  `json:"purpose"` // compensation | financing
 	GrantDate           Date    `json:"grant_date"`
+	HireDate            Date    `json:"hire_date"` // null unless the holder was hired after the grant date
 	MeasurementDate     Date    `json:"measurement_date"`
 	ExpiryDate          Date    `json:"expiry_date"`
 	Shares              int64   `json:"shares"`
@@ -206,7 +218,7 @@ type Tranche struct {
 	FairValueTotal float64 `json:"fair_value_total"`
 }
 
-// Totals are the sums over all grants.
+// Totals are sums over a set of grants.
 type Totals struct {
 	Grants             int     `json:"grants"`
 	Tranches           int     `json:"tranches"`
@@ -215,9 +227,19 @@ type Totals struct {
 	BSMSimplifiedTotal float64 `json:"bsm_simplified_total"`
 }
 
+// Plus is t and u added together.
+func (t Totals) Plus(u Totals) Totals {
+	return Totals{Grants: t.Grants + u.Grants, Tranches: t.Tranches + u.Tranches, Shares: t.Shares + u.Shares,
+		FairValueTotal: t.FairValueTotal + u.FairValueTotal, BSMSimplifiedTotal: t.BSMSimplifiedTotal + u.BSMSimplifiedTotal}
+}
+
 // Group is a subtotal: by instrument, or by grant month (Key "2024-03").
+// The warrants issued in financings are one group of their own by
+// instrument (Key "warrant (financing)", Financing set) and in no group by
+// grant month.
 type Group struct {
 	Key                string  `json:"key"`
+	Financing          bool    `json:"financing"`
 	Grants             int     `json:"grants"`
 	Tranches           int     `json:"tranches"`
 	Shares             int64   `json:"shares"`
@@ -319,10 +341,11 @@ type ExpensePeriod struct {
 	Start  Date    `json:"start"`
 	End    Date    `json:"end"`
 	Amount float64 `json:"amount"`
-	// Added by expense.go: the change in fair value of liability warrants,
-	// apart from Amount, and whether this is the reporting period.
-	FairValueChange float64 `json:"fair_value_change"`
-	Current         bool    `json:"current"`
+	// Added by expense.go: the change in fair value of the financing
+	// warrants' liability, apart from Amount (outside operating expense),
+	// and whether this is the reporting period.
+	FinancingFairValueChange float64 `json:"fair_value_change"`
+	Current                  bool    `json:"current"`
 }
 
 // Caution is the notice every output carries (DESIGN §5).

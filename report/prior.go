@@ -95,13 +95,18 @@ func priorOf(m *Model) (*accounting.Prior, string) {
 	p := &accounting.Prior{SchemaVersion: m.SchemaVersion, ToolVersion: m.Tool.Version, Company: m.Company.Name, Currency: m.Company.Currency,
 		ValuationDate: m.ValuationDate.Time(), PeriodStart: e.PeriodStart.Time(), Unrecognized: e.UnrecognizedCost,
 		Policy: accounting.Policy{Attribution: grants.Attribution(e.Attribution), Forfeitures: grants.ForfeiturePolicy(e.Forfeitures),
-			PreVestingForfeitureRate: e.PreVestingForfeitureRate}}
+			PreVestingForfeitureRate: e.PreVestingForfeitureRate, Framework: grants.Framework(e.Framework)},
+		LiabilityChangeApart: m.SchemaVersion < 2}
 	for _, pa := range e.Periods {
-		p.Periods = append(p.Periods, accounting.PeriodAmount{Start: pa.Start.Time(), End: pa.End.Time(), Amount: pa.Amount, FairValueChange: pa.FairValueChange})
+		p.Periods = append(p.Periods, accounting.PeriodAmount{Start: pa.Start.Time(), End: pa.End.Time(), Amount: pa.Amount, FairValueChange: pa.FinancingFairValueChange})
 	}
 	booked := make(map[string]*ExpenseGrant, len(e.ByGrant))
 	for i := range e.ByGrant {
 		booked[e.ByGrant[i].GrantID] = &e.ByGrant[i]
+	}
+	financing := make(map[string]*FinancingWarrant, len(e.Financing))
+	for i := range e.Financing {
+		financing[e.Financing[i].GrantID] = &e.Financing[i]
 	}
 	inputs := map[string]map[string]grants.Source{}
 	for _, a := range m.Assumptions {
@@ -114,6 +119,14 @@ func priorOf(m *Model) (*accounting.Prior, string) {
 		inputs[a.GrantID][a.Name] = grants.Source{Value: a.Value, Ref: refOf(a.Ref), Text: a.Source, Since: a.EffectiveDate.Time()}
 	}
 	for _, g := range m.Grants {
+		if fw, ok := financing[g.ID]; ok {
+			pg, msg := priorFinancing(g, fw, inputs[g.ID])
+			if msg != "" {
+				return nil, msg
+			}
+			p.Grants = append(p.Grants, pg)
+			continue
+		}
 		eg, ok := booked[g.ID]
 		if !ok {
 			return nil, "grant " + g.ID + " has no expense attribution"
@@ -143,7 +156,10 @@ func priorOf(m *Model) (*accounting.Prior, string) {
 			// used; the remeasurements follow them.
 			at0 := make([]float64, len(eg.Tranches))
 			for k, b := range eg.Tranches {
-				at0[k] = b.FairValuePerShare
+				at0[k] = b.GrantDateFairValuePerShare
+				if m.SchemaVersion < 2 { // the grant-date value was the one shown
+					at0[k] = b.FairValuePerShare
+				}
 			}
 			pg.Remeasurements = append(pg.Remeasurements, accounting.Remeasurement{Date: g.GrantDate.Time(), FairValue: at0})
 			for _, r := range eg.Remeasurements {
@@ -156,6 +172,31 @@ func priorOf(m *Model) (*accounting.Prior, string) {
 		p.Grants = append(p.Grants, pg)
 	}
 	return p, ""
+}
+
+// priorFinancing is the PriorGrant of a warrant issued in a financing,
+// g with its row fw of the expense's financing warrants, or what it
+// lacks.
+func priorFinancing(g Grant, fw *FinancingWarrant, inputs map[string]grants.Source) (accounting.PriorGrant, string) {
+	pg := accounting.PriorGrant{ID: g.ID, Instrument: grants.Instrument(g.Instrument), Liability: g.Classification == string(grants.Liability),
+		Financing: true, GrantDate: g.GrantDate.Time(), ServiceStart: g.GrantDate.Time(), MeasurementDate: g.MeasurementDate.Time(),
+		ExpiryDate: g.ExpiryDate.Time(), Inputs: inputs, LiabilityEnd: fw.LiabilityEnd, Reclassified: fw.ReclassifiedToDate, Outstanding: fw.Outstanding}
+	for _, t := range g.Tranches {
+		pg.Tranches = append(pg.Tranches, accounting.PriorTranche{Index: t.Index, VestDate: t.VestDate.Time(), Shares: t.Shares,
+			Result:       valuation.Result{Value: t.FairValuePerShare, ErrorEstimate: t.ErrorEstimate, ExpectedTermYears: t.ExpectedTermYears, Steps: t.Steps},
+			BSM:          valuation.Result{Value: t.BSMSimplifiedValue, ExpectedTermYears: t.SimplifiedTerm},
+			RiskFreeRate: t.RiskFreeRate, SimplifiedRate: t.SimplifiedRate})
+	}
+	for _, ev := range fw.Events {
+		pg.Events = append(pg.Events, grants.Event{GrantID: g.ID, Date: ev.Date.Time(), Kind: grants.EventKind(ev.Event), Shares: ev.Shares})
+	}
+	for _, r := range fw.Remeasurements {
+		if len(r.FairValuePerShare) != len(g.Tranches) {
+			return pg, fmt.Sprintf("financing warrant %s: a remeasurement on %s has %d values for %d tranches", g.ID, r.Date, len(r.FairValuePerShare), len(g.Tranches))
+		}
+		pg.Remeasurements = append(pg.Remeasurements, accounting.Remeasurement{Date: r.Date.Time(), FairValue: r.FairValuePerShare})
+	}
+	return pg, ""
 }
 
 // refOf parses "Sheet!Cell" back into a Ref ("default" and "" give the

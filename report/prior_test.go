@@ -3,6 +3,8 @@ package report
 import (
 	"bytes"
 	"errors"
+	"fmt"
+	"math"
 	"os"
 	"path/filepath"
 	"reflect"
@@ -27,14 +29,7 @@ func closeAt(t *testing.T, s *grants.Schedule, end string, prior *accounting.Pri
 			t.Fatal(err)
 		}
 	}
-	ins, errs, _ := s.ValueInputs()
-	if len(errs) > 0 {
-		t.Fatal(errs)
-	}
-	v, err := pricing.Value(s, ins, pricing.Options{Locks: prior.Locks()})
-	if err != nil {
-		t.Fatal(err)
-	}
+	v := grantstest.Value(t, s, prior.Locks())
 	b, err := accounting.Close(s, v, prior)
 	if err != nil {
 		t.Fatal(err)
@@ -56,14 +51,34 @@ func closeAt(t *testing.T, s *grants.Schedule, end string, prior *accounting.Pri
 
 // valuation.json carries everything a later close needs: what ReadPrior
 // reads back from it is what the close filed (accounting.Filed), field
-// for field, after a first close and after a close that followed one.
+// for field, after a first close and after a close that followed one;
+// warrants issued in financings (one a liability exercised in part in the
+// second quarter) included.
 func TestPriorRoundTrip(t *testing.T) {
 	s := grantstest.Fernhollow()
+	d := grantstest.Day
+	s.Grants = append(s.Grants,
+		grants.Grant{ID: "F-1", Holder: "INVESTOR", Instrument: grants.Warrant, GrantDate: d("2025-09-01"), Shares: 50_000, Strike: 3.5,
+			ExpiryDate: d("2032-09-01"), VestStart: d("2025-09-01"), VestEvery: 1, Classification: grants.Liability, ExerciseStyle: grants.American, Purpose: grants.Financing},
+		grants.Grant{ID: "F-2", Holder: "LENDER", Instrument: grants.Warrant, GrantDate: d("2025-10-15"), Shares: 20_000, Strike: 4,
+			ExpiryDate: d("2032-10-15"), VestStart: d("2025-10-15"), VestEvery: 1, Classification: grants.Equity, ExerciseStyle: grants.American, Purpose: grants.Financing})
+	s.Events = append(s.Events, grants.Event{GrantID: "F-1", Date: d("2026-08-20"), Kind: grants.Exercised, Shares: 5_000})
 	v, b, dir := closeAt(t, s, "2026-06-30", nil)
 	var prior *accounting.Prior
 	for i, end := range []string{"2026-06-30", "2026-09-30"} {
 		if i > 0 {
 			v, b, dir = closeAt(t, s, end, prior)
+			// The financing liability opens as the prior filed it and rolls.
+			for _, fw := range b.Expense.Financing {
+				if fw.GrantID != "F-1" {
+					continue
+				}
+				pg := prior.Grants[len(prior.Grants)-2]
+				if pg.ID != "F-1" || !pg.Financing || fw.LiabilityOpen != pg.LiabilityEnd || fw.Reclassified <= 0 ||
+					math.Abs(fw.LiabilityOpen+fw.Issued+fw.FairValueChange-fw.Reclassified-fw.LiabilityEnd) > 1e-6 {
+					t.Errorf("F-1 after the prior close: %+v, filed %+v", fw, pg)
+				}
+			}
 		}
 		got, err := ReadPrior(dir)
 		if err != nil {
@@ -109,7 +124,7 @@ func TestReadPriorRefusals(t *testing.T) {
 		{"not JSON", write("memo, not json"), "is not a valuation.json grantworth wrote"},
 		{"another tool", write(`{"tool": {"name": "sheetcalc", "version": "9"}, "schema_version": 1}`), `its tool is "sheetcalc"`},
 		{"no schema", write(`{"tool": {"name": "grantworth", "version": "0.0.9"}}`), "has no schema_version"},
-		{"newer", write(strings.Replace(string(data), `"schema_version": 1`, `"schema_version": 7`, 1)), "format version 7"},
+		{"newer", write(strings.Replace(string(data), fmt.Sprintf(`"schema_version": %d`, SchemaVersion), `"schema_version": 7`, 1)), "format version 7"},
 		{"no expense", write(`{"schema_version": 1, "tool": {"name": "grantworth"}, "valuation_date": "2026-06-30", "company": {"name": "X"}}`), "no expense attribution"},
 	}
 	for _, c := range cases {

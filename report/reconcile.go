@@ -28,8 +28,11 @@ type Reconciliation struct {
 	Corrected int `json:"grants_corrected"`
 	Measured  int `json:"grants_measured"`
 
-	UnrecognizedCost  Walk        `json:"unrecognized_cost"`
-	Expense           Walk        `json:"expense"`
+	UnrecognizedCost Walk `json:"unrecognized_cost"`
+	Expense          Walk `json:"expense"`
+	// WarrantLiability walks the liability of liability-classified awards
+	// (warrants granted for services); the financing warrants' liability
+	// rolls in expense.financing_warrants.
 	WarrantLiability  *Walk       `json:"warrant_liability"`
 	AwardsOutstanding []CountWalk `json:"awards_outstanding"`
 	CatchUps          []CatchUp   `json:"catch_ups"`
@@ -86,7 +89,7 @@ type CatchUp struct {
 	Cause         string  `json:"cause"`
 	Detail        string  `json:"detail"`
 	Amount        float64 `json:"amount"`
-	BookedAgainst string  `json:"booked_against"` // equity or warrant liability
+	BookedAgainst string  `json:"booked_against"` // equity, share-based payment liability, or financing proceeds
 }
 
 func walkModel(w accounting.Walk) Walk {
@@ -127,8 +130,11 @@ func reconciliationModel(r *accounting.Reconciliation, v *pricing.Valuation) *Re
 	}
 	for _, c := range r.CatchUps {
 		against := "equity"
-		if c.Liability {
-			against = "warrant liability"
+		switch {
+		case c.Financing:
+			against = "financing proceeds"
+		case c.Liability:
+			against = "share-based payment liability"
 		}
 		out.CatchUps = append(out.CatchUps, CatchUp{GrantID: c.GrantID, Cause: string(c.Cause), Detail: c.Detail, Amount: c.Amount, BookedAgainst: against})
 	}
@@ -167,7 +173,7 @@ func (d *Memo) reconciliation(m *Model) error {
 	d.Sub("Compensation expense of the period")
 	d.walkTable(r.Expense, cur)
 	if r.WarrantLiability != nil {
-		d.Sub("Warrant liability")
+		d.Sub("Liability of liability-classified awards")
 		d.walkTable(*r.WarrantLiability, cur)
 	}
 	if len(r.AwardsOutstanding) > 0 {
@@ -321,7 +327,7 @@ func writeReconciliation(b *Book, m *Model) error {
 		return err
 	}
 	if r.WarrantLiability != nil {
-		if err := walk("Warrant liability", *r.WarrantLiability); err != nil {
+		if err := walk("Liability of liability-classified awards", *r.WarrantLiability); err != nil {
 			return err
 		}
 	}

@@ -422,20 +422,29 @@ func writeSummary(b *Book, m *Model) error {
 		{"Currency", b.Text(m.Company.Currency)},
 		{"Valuation date", b.DateCell(m.ValuationDate)},
 		{"Period start", b.DateCell(m.PeriodStart)},
-		{"Grants", b.Cell(b.Style.Int, m.Totals.Grants)},
-		{"Tranches", b.Cell(b.Style.Int, m.Totals.Tranches)},
+		{"Share-based awards: grants", b.Cell(b.Style.Int, m.Totals.Grants)},
+		{"Share-based awards: tranches", b.Cell(b.Style.Int, m.Totals.Tranches)},
 		{"Shares under award", b.Cell(b.Style.Int, m.Totals.Shares)},
-		{"Total fair value", b.Cell(b.Style.Money, m.Totals.FairValueTotal)},
+		{"Total fair value of share-based awards", b.Cell(b.Style.Money, m.Totals.FairValueTotal)},
 		{"Simplified-method BSM total", b.Cell(b.Style.Money, m.Totals.BSMSimplifiedTotal)},
 		{"Lattice less simplified BSM", b.Cell(b.Style.Money, m.Totals.FairValueTotal-m.Totals.BSMSimplifiedTotal)},
 	}
-	if m.Expense != nil {
+	if f := m.FinancingTotals; f.Grants > 0 {
 		rows = append(rows,
+			kv{"Financing warrants (not share-based payment): grants", b.Cell(b.Style.Int, f.Grants)},
+			kv{"Financing warrants: fair value", b.Cell(b.Style.Money, f.FairValueTotal)})
+	}
+	if e := detail(m); e != nil {
+		rows = append(rows,
+			kv{"Compensation expense for the period", b.Cell(b.Style.Money, e.Amount)},
 			kv{"Unrecognized compensation cost", b.Cell(b.Style.Money, m.Expense.UnrecognizedCost)},
 			kv{"Weighted-average remaining years", b.Cell(b.Style.Years, m.Expense.WeightedAverageRemainingYears)})
+		if len(e.Financing) > 0 {
+			rows = append(rows, kv{"Change in fair value of warrant liability (financing)", b.Cell(b.Style.Money, e.FinancingFairValueChange)})
+		}
 	}
 	rows = append(rows, kv{"Warnings", b.Cell(b.Style.Int, len(m.Warnings))})
-	cols := []Column{{"Item", 34}, {"Value", 26}, {"Grants", 10}, {"Tranches", 10}, {"Shares", 14}, {"Fair value total", 22}, {"Fair value per share", 20}, {"Simplified BSM total", 22}}
+	cols := []Column{{"Item", 46}, {"Value", 26}, {"Grants", 10}, {"Tranches", 10}, {"Shares", 14}, {"Fair value total", 22}, {"Fair value per share", 20}, {"Simplified BSM total", 22}}
 	t, err := b.NewTable(SheetSummary, cols, len(rows))
 	if err != nil {
 		return err
@@ -517,7 +526,7 @@ func writeGrants(b *Book, m *Model) error {
 		{"Expiry date", 12}, {"Shares", 12}, {"Strike", 14}, {"Share price", 14}, {"Volatility", 11},
 		{"Risk-free rate", 11}, {"Dividend yield", 11}, {"Exercise multiple", 10}, {"Exit rate", 10},
 		{"Tranches", 9}, {"Fair value per share", 16}, {"Fair value total", 20}, {"Simplified BSM total", 20},
-		{"Lattice less BSM", 18}, {"Method", 10}, {"Classification", 13}}
+		{"Lattice less BSM", 18}, {"Method", 10}, {"Classification", 13}, {"Purpose", 13}, {"Hire date", 12}}
 	t, err := b.NewTable(SheetGrants, cols, len(m.Grants))
 	if err != nil {
 		return err
@@ -535,7 +544,7 @@ func writeGrants(b *Book, m *Model) error {
 			b.Cell(s.Percent, g.PostVestingExitRate), b.Cell(s.Int, len(g.Tranches)),
 			b.Cell(s.MoneyPerShare, g.FairValuePerShare), b.Cell(s.Money, g.FairValueTotal),
 			b.Cell(s.Money, g.BSMSimplifiedTotal), b.Cell(s.Money, g.FairValueTotal-g.BSMSimplifiedTotal),
-			b.Text(g.Method), class); err != nil {
+			b.Text(g.Method), class, g.Purpose, b.DateCell(g.HireDate)); err != nil {
 			return err
 		}
 	}

@@ -57,7 +57,7 @@ func TestWorkbookGolden(t *testing.T) {
 
 func TestWorkbookSheetsAndHeaders(t *testing.T) {
 	f := renderBook(t, fixture())
-	want := []string{SheetSummary, SheetAssumptions, SheetGrants, SheetTranches, SheetSensitivity, SheetConvergence, SheetExpense, SheetForecast, SheetDisclosures, SheetReconciliation, SheetWarnings, SheetAbout}
+	want := []string{SheetSummary, SheetAssumptions, SheetGrants, SheetTranches, SheetSensitivity, SheetConvergence, SheetExpense, SheetForecast, SheetFinancing, SheetDisclosures, SheetJournal, SheetReconciliation, SheetWarnings, SheetAbout}
 	got := f.GetSheetList()
 	if strings.Join(got, ",") != strings.Join(want, ",") {
 		t.Fatalf("sheets = %v, want %v", got, want)
@@ -111,7 +111,7 @@ func TestWorkbookMatchesModel(t *testing.T) {
 			row++
 		}
 	}
-	if l, _ := f.GetCellValue(SheetSummary, "A9"); l != "Total fair value" {
+	if l, _ := f.GetCellValue(SheetSummary, "A9"); l != "Total fair value of share-based awards" {
 		t.Fatalf("Summary!A9 = %q, want the total fair value label", l)
 	}
 	v, _ := f.GetCellValue(SheetSummary, "B9", excelize.Options{RawCellValue: true})

@@ -101,12 +101,16 @@
 //   - If the limits stop the ladder with an estimate above the target,
 //     Result.MissedTarget says so; the estimate stays honest.
 //
-// Against an independent Crank-Nicolson solution of the same model and
-// exact-event Monte Carlo, auto mode was within 0.05% on every case tried,
-// and its estimate covered the error in at least 95% of cases in each
-// region; the issue 11 note gives the figures. A typical ten-year grant
-// (three levels of 64, 128 and 256 steps over the term, a few dozen to a
-// hundred nodes) costs a fraction of a millisecond, all tranches included.
+// Against an independent Crank-Nicolson solution of the same model
+// (fdref_test.go), over 80 random employee options and 160 with the barrier
+// within two node spacings of the spot, vesting now, a day, a week or a
+// month away: relative error median 1.1e-5, largest 3.2e-4; the estimate
+// covered the error in 78 of the 80 random cases and in 40, 39, 40 and 40
+// of the 40 barrier cases of each vesting; Monte Carlo agreed within three
+// combined standard errors in all 40 barrier cases tried. A ten-year grant
+// of 48 monthly tranches costs about 2.5 million instructions (three
+// levels of about 90, 180 and 350 steps and 30 to 60 nodes), a tenth of
+// the CRR ladder's.
 //
 // RunJobs values many grants on all cores, with results in job order that
 // do not depend on the number of workers.

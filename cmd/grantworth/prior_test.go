@@ -11,6 +11,8 @@ import (
 	"strings"
 	"sync"
 	"testing"
+
+	"grantworth/report"
 )
 
 // quarters are the closes of sample/quarters, in order.
@@ -277,7 +279,8 @@ func TestValuePriorRefusals(t *testing.T) {
 	}
 	newer := filepath.Join(t.TempDir(), "valuation.json")
 	b, _ := os.ReadFile(filepath.Join(q2, "valuation.json"))
-	if err := os.WriteFile(newer, []byte(strings.Replace(string(b), `"schema_version": 1`, `"schema_version": 2`, 1)), 0o644); err != nil {
+	next := report.SchemaVersion + 1
+	if err := os.WriteFile(newer, []byte(strings.Replace(string(b), fmt.Sprintf(`"schema_version": %d`, report.SchemaVersion), fmt.Sprintf(`"schema_version": %d`, next), 1)), 0o644); err != nil {
 		t.Fatal(err)
 	}
 	notOurs := filepath.Join(t.TempDir(), "valuation.json")
@@ -294,7 +297,7 @@ func TestValuePriorRefusals(t *testing.T) {
 		{"not before", []string{"value", q1schedule, "--prior", q2}, "not before this valuation date 2026-03-31"},
 		{"same date", []string{"value", q3schedule, "--valuation-date", "2026-06-30", "--prior", q2}, "not before this valuation date"},
 		{"not ours", []string{"value", q3schedule, "--prior", notOurs}, `is not a valuation.json grantworth wrote (its tool is "")`},
-		{"newer format", []string{"value", q3schedule, "--prior", newer}, "format version 2"},
+		{"newer format", []string{"value", q3schedule, "--prior", newer}, fmt.Sprintf("format version %d", next)},
 		{"prior's folder", []string{"value", q3schedule, "--prior", q2, "--out", q2, "--force"}, "is the prior close's folder"},
 		{"correct without prior", []string{"value", q3schedule, "--correct", "TW-001"}, "--correct needs --prior"},
 		{"correct unknown", []string{"value", q3schedule, "--prior", q2, "--correct", "TW-999"}, "--correct TW-999: no such grant"},

@@ -134,8 +134,18 @@ func runValue(o *valueOptions) error {
 	if err != nil {
 		return readError(o.path, err)
 	}
+	var moved []string
 	if !vdate.IsZero() {
-		applyValuationDate(s, vdate)
+		// After a prior close the period starts the day after it (Open,
+		// which says so when the Company sheet's period_start differs);
+		// otherwise it stays as long as the schedule's own.
+		sheetStart := s.Company.PeriodStart
+		if w := s.MoveValuationDate(vdate); o.prior == "" && w != "" {
+			moved = append(moved, w)
+		}
+		if o.prior != "" && !sheetStart.After(vdate) {
+			s.Company.PeriodStart = sheetStart
+		}
 		// The date moves measurement dates and curves: check again, and
 		// keep the problems not already found.
 		again := grants.Validate(s)
@@ -213,7 +223,7 @@ func runValue(o *valueOptions) error {
 	m, err := report.Build(s, v, books, report.Run{
 		Tool:     report.Tool{Name: "grantworth", Version: version},
 		Input:    report.Input{Path: filepath.ToSlash(o.path), SHA256: sum},
-		Warnings: append(append(warningTexts(rep), priorWarnings...), skipped...),
+		Warnings: append(append(append(moved, warningTexts(rep)...), priorWarnings...), skipped...),
 	})
 	if err != nil {
 		return err
@@ -299,15 +309,6 @@ func sameDir(a, b string) bool {
 	return errX == nil && errY == nil && x == y
 }
 
-// applyValuationDate moves the period end to d; a period start the schedule
-// defaulted (or one after d) becomes the first day of d's quarter.
-func applyValuationDate(s *grants.Schedule, d time.Time) {
-	s.Company.ValuationDate = d
-	if _, given := s.Company.Refs["period_start"]; !given || s.Company.PeriodStart.After(d) {
-		s.Company.PeriodStart = grants.QuarterStart(d)
-	}
-}
-
 func printProblems(w io.Writer, rep *grants.Report, more []error) error {
 	for _, e := range rep.Errors {
 		fmt.Fprintln(w, e.Error())
@@ -343,17 +344,25 @@ func outputs(m *report.Model, tmp string) []outFile {
 func printSummary(w io.Writer, m *report.Model, dir string) {
 	cur := m.Company.Currency
 	fmt.Fprintf(w, "%s, valuation date %s\n", m.Company.Name, m.ValuationDate)
-	fmt.Fprintf(w, "  grants            %d\n", m.Totals.Grants)
+	fmt.Fprintf(w, "  grants            %d share-based awards\n", m.Totals.Grants)
 	for _, g := range m.ByInstrument {
-		fmt.Fprintf(w, "    %-15s %d (%s %s)\n", g.Key, g.Grants, cur, money2(g.FairValueTotal))
+		if !g.Financing {
+			fmt.Fprintf(w, "    %-15s %d (%s %s)\n", g.Key, g.Grants, cur, money2(g.FairValueTotal))
+		}
 	}
 	fmt.Fprintf(w, "  tranches          %d\n", m.Totals.Tranches)
 	fmt.Fprintf(w, "  shares            %d\n", m.Totals.Shares)
 	fmt.Fprintf(w, "  total fair value  %s %s\n", cur, money2(m.Totals.FairValueTotal))
+	if f := m.FinancingTotals; f.Grants > 0 {
+		fmt.Fprintf(w, "  financing         %d warrant grants (%s %s), not share-based payment\n", f.Grants, cur, money2(f.FairValueTotal))
+	}
 	if m.Expense != nil {
 		for _, p := range m.Expense.Periods {
 			if p.Current {
 				fmt.Fprintf(w, "  period expense    %s %s (%s to %s)\n", cur, money2(p.Amount), p.Start, p.End)
+				if m.FinancingTotals.Grants > 0 {
+					fmt.Fprintf(w, "  warrant liability %s %s change in fair value (financing, outside operating expense)\n", cur, money2(p.FinancingFairValueChange))
+				}
 			}
 		}
 	}

@@ -126,8 +126,10 @@ func TestValueSampleSummary(t *testing.T) {
 	if sampleRun.stderr != "" {
 		t.Errorf("stderr is not a terminal, so nothing should be drawn there; got %q", sampleRun.stderr)
 	}
-	// The sums in the JSON add up (they are what the memo and workbook show).
-	var total float64
+	// The sums in the JSON add up (they are what the memo and workbook
+	// show): Totals over the share-based awards, FinancingTotals over the
+	// warrants issued in financings.
+	var total, finTotal float64
 	n := 0
 	for _, g := range m.Grants {
 		var gt float64
@@ -136,15 +138,37 @@ func TestValueSampleSummary(t *testing.T) {
 				t.Errorf("grant %s tranche %d: total %v is not shares × value", g.ID, tr.Index, tr.FairValueTotal)
 			}
 			gt += tr.FairValueTotal
-			n++
 		}
 		if math.Abs(gt-g.FairValueTotal) > 1e-6 {
 			t.Errorf("grant %s: total %v, tranches add to %v", g.ID, g.FairValueTotal, gt)
 		}
+		if g.Purpose == "financing" {
+			finTotal += gt
+			continue
+		}
+		n += len(g.Tranches)
 		total += gt
 	}
-	if n != m.Totals.Tranches || math.Abs(total-m.Totals.FairValueTotal) > 1e-6 {
-		t.Errorf("totals %d tranches %v, want %d and %v", m.Totals.Tranches, m.Totals.FairValueTotal, n, total)
+	if n != m.Totals.Tranches || math.Abs(total-m.Totals.FairValueTotal) > 1e-6 || math.Abs(finTotal-m.FinancingTotals.FairValueTotal) > 1e-6 {
+		t.Errorf("totals %d tranches %v, financing %v; want %d, %v and %v", m.Totals.Tranches, m.Totals.FairValueTotal,
+			m.FinancingTotals.FairValueTotal, n, total, finTotal)
+	}
+	// DESIGN §4.3: the financing warrants are never inside the
+	// compensation expense; the sample's lender and investor warrants are
+	// apart, and the cumulative is the compensation grants' alone.
+	e := m.Expense
+	var cum float64
+	for _, g := range e.ByGrant {
+		if g.GrantID == "TW-038" || g.GrantID == "TW-039" {
+			t.Errorf("financing warrant %s in expense.by_grant", g.GrantID)
+		}
+		cum += g.Cumulative
+	}
+	if math.Abs(cum-e.Cumulative) > 1e-6 || len(e.Financing) != 2 || e.Financing[0].GrantID != "TW-038" || e.Financing[1].GrantID != "TW-039" {
+		t.Errorf("cumulative %v, by grant %v; financing %+v", e.Cumulative, cum, e.Financing)
+	}
+	if !strings.Contains(out, "financing         2 warrant grants") {
+		t.Errorf("summary does not show the financing warrants apart:\n%s", out)
 	}
 	if m.Expense == nil || len(m.Expense.Periods) == 0 {
 		t.Error("valuation.json has no expense periods")
@@ -419,6 +443,10 @@ func TestValueValuationDate(t *testing.T) {
 	}
 	if m.ValuationDate.String() != "2026-06-30" || m.PeriodStart.String() != "2026-04-01" {
 		t.Errorf("valuation date %s, period start %s; want 2026-06-30 and 2026-04-01", m.ValuationDate, m.PeriodStart)
+	}
+	// The period stays a quarter, and a warning says which period and why.
+	if !strings.Contains(strings.Join(m.Warnings, "\n"), "the period reported is 2026-04-01 to 2026-06-30, 3 months") {
+		t.Errorf("no warning names the period reported: %q", m.Warnings)
 	}
 	left := 0
 	for _, w := range m.Warnings {

@@ -34,3 +34,51 @@ func BenchmarkExpenseLedger(b *testing.B) {
 		sinkReport = r
 	}
 }
+
+var sinkBooks *Books
+
+// BenchmarkClosePrior books a ledger of 2,000 four-year grants with
+// monthly vesting (48 tranches each) at a quarter end, as a first close
+// and after a prior close (the reconciliation's views of every award
+// included), to show what following a prior costs.
+func BenchmarkClosePrior(b *testing.B) {
+	s := oneOption("2026-06-30", Policy{Attribution: grants.Graded, Forfeitures: grants.Estimate, PreVestingForfeitureRate: 0.1})
+	g0 := s.Grants[0]
+	s.Grants = nil
+	for i := 0; i < 2000; i++ {
+		g := g0
+		g.ID = fmt.Sprintf("B%05d", i)
+		g.GrantDate = ymd("2022-01-01").AddDate(0, 0, i%1500)
+		g.VestStart, g.ExpiryDate, g.VestMonths, g.CliffMonths = g.GrantDate, g.GrantDate.AddDate(10, 0, 0), 48, 12
+		s.Grants = append(s.Grants, g)
+		if i%7 == 0 {
+			s.Events = append(s.Events, grants.Event{GrantID: g.ID, Date: g.GrantDate.AddDate(1, 6, 0), Kind: grants.Forfeited, Shares: 600})
+		}
+	}
+	fv := func(grants.Grant, int) float64 { return 3 }
+	v := fakeValuation(s, fv, nil)
+	first, err := Close(s, v, nil)
+	if err != nil {
+		b.Fatal(err)
+	}
+	prior := Filed(s, v, first)
+	next := *s
+	next.Company.ValuationDate, next.Company.PeriodStart = ymd("2026-09-30"), ymd("2026-07-01")
+	vn := fakeValuation(&next, fv, prior)
+	b.Run("first", func(b *testing.B) {
+		b.ReportAllocs()
+		for b.Loop() {
+			if sinkBooks, err = Close(&next, vn, nil); err != nil {
+				b.Fatal(err)
+			}
+		}
+	})
+	b.Run("prior", func(b *testing.B) {
+		b.ReportAllocs()
+		for b.Loop() {
+			if sinkBooks, err = Close(&next, vn, prior); err != nil {
+				b.Fatal(err)
+			}
+		}
+	})
+}

@@ -25,7 +25,7 @@ type Books struct {
 
 // Close does the accounting of schedule s's period over the grants v
 // valued: the awards (AwardsOf), their attribution and the disclosure
-// tables (Attribute) and the journal. With prior, the close that came
+// tables from one set of ledgers (as Attribute) and the journal. With prior, the close that came
 // before (opened by Open, and whose values v kept), the opening balances
 // are what prior booked, the closed periods stand as it booked them, and
 // the Reconciliation walks from it to this close with its catch-ups. An
@@ -61,9 +61,11 @@ func Close(s *grants.Schedule, v *pricing.Valuation, prior *Prior) (*Books, erro
 	b.Warnings = append(b.Warnings, rep.Warnings...)
 	var catchUps []CatchUp
 	if prior != nil {
-		sts := make([]grantStates, len(p.ledgers))
-		for i, l := range p.ledgers {
-			sts[i] = p.states(l, prior)
+		var sts []grantStates // of the compensation ledgers, as rep.Grants
+		for _, l := range p.ledgers {
+			if !l.financing {
+				sts = append(sts, p.states(l, prior))
+			}
 		}
 		if b.Reconciliation, err = p.reconcile(prior, sts, rep, disc, s, v); err != nil {
 			return nil, fmt.Errorf("reconciliation to the prior close: %w", err)
@@ -78,8 +80,11 @@ func Close(s *grants.Schedule, v *pricing.Valuation, prior *Prior) (*Books, erro
 // the grant-date value of an equity-classified award; for a
 // liability-classified warrant its value at the grant date, with its
 // values at the past quarter ends and at the valuation date as
-// Remeasurements (the revaluations v holds). The weighted-average
-// assumptions each grant was measured with go along for the disclosures.
+// Remeasurements (the revaluations v holds: past quarter ends and
+// exercise days). The weighted-average assumptions each grant was measured
+// with go along for the disclosures, the risk-free rate being each
+// tranche's zero rate at its expected term (pricing's ExpectedTermRate)
+// weighted by its shares, as the expected term is.
 // A liability warrant that could not be revalued is measured at the
 // valuation date only, with a warning.
 func AwardsOf(s *grants.Schedule, v *pricing.Valuation) ([]Award, []string, error) {
@@ -90,22 +95,27 @@ func AwardsOf(s *grants.Schedule, v *pricing.Valuation) ([]Award, []string, erro
 		gv := &v.Grants[i]
 		g := gv.Inputs.Grant
 		fv := make([]float64, len(gv.Results))
-		var shares, term float64
+		var shares, term, rate float64
 		for k, r := range gv.Results {
 			fv[k] = r.Value
 			n := float64(gv.Inputs.Tranches[k].Shares)
 			shares += n
 			term += n * r.ExpectedTermYears
+			if k < len(gv.ExpectedTermRate) {
+				rate += n * gv.ExpectedTermRate[k]
+			} else {
+				rate += n * gv.Inputs.RiskFreeRate.Value
+			}
 		}
 		a, err := AwardOf(s, g, fv)
 		if err != nil {
 			return nil, nil, fmt.Errorf("expense: %w", err)
 		}
 		if shares > 0 {
-			a.Measured = &MeasuredAssumptions{Volatility: gv.Inputs.Volatility.Value, RiskFreeRate: gv.Inputs.RiskFreeRate.Value,
+			a.Measured = &MeasuredAssumptions{Volatility: gv.Inputs.Volatility.Value, RiskFreeRate: rate / shares,
 				DividendYield: gv.Inputs.DividendYield.Value, ExpectedTermYears: term / shares}
 		}
-		if g.Instrument == grants.Warrant && g.Classification == grants.Liability {
+		if g.IsLiability() {
 			if w := remeasure(&a, fv, end, v.Revaluations[g.ID]); w != "" {
 				warns = append(warns, w)
 			}

@@ -3,6 +3,7 @@ package accounting
 import (
 	"fmt"
 	"math"
+	"sort"
 	"time"
 
 	"grantworth/grants"
@@ -89,7 +90,48 @@ type WarrantRow struct {
 	IntrinsicValue     float64
 }
 
-// Disclosure is the note's tables for one period.
+// Activity is what one instrument's exercises and vestings in the period
+// amounted to: the total intrinsic value of the options exercised, the
+// cash received from exercises and the total fair value of the awards
+// vested (ASC 718-10-50-2, from memory), and the
+// weighted-average share price at the dates of exercise (IFRS 2.45(c)).
+type Activity struct {
+	Exercised                    int64   // shares exercised in the period
+	IntrinsicValueExercised      float64 // Σ shares × (share price on the exercise date − strike)⁺
+	CashReceived                 float64 // Σ shares × strike
+	WeightedSharePriceAtExercise float64 // share-weighted share price on the exercise dates
+	// Unpriced are the exercised shares with no share price known on
+	// their date: they count in CashReceived but not in the two above.
+	Unpriced int64
+	Vested   int64 // shares that vested in the period
+	// FairValueVested is Σ shares vested × fair value per share: the
+	// grant-date value, or for a liability-classified award its latest
+	// fair value on the vest date.
+	FairValueVested float64
+}
+
+// PriceRange is the options (or warrants) outstanding at the period end
+// whose exercise prices lie in [Low, High], for IFRS 2.45(d): the range
+// of exercise prices and the weighted-average remaining contractual life.
+// A range starts at the lowest exercise price not yet in one and holds
+// every exercise price up to RangeWidth times it (ours).
+type PriceRange struct {
+	Low, High                  float64
+	Outstanding                int64
+	WeightedExercisePrice      float64
+	WeightedRemainingTermYears float64 // contractual, from the period end
+	Exercisable                int64
+	ExercisableWeightedPrice   float64
+}
+
+// RangeWidth is the largest ratio of the highest to the lowest exercise
+// price within one PriceRange.
+const RangeWidth = 1.5
+
+// Disclosure is the note's tables for one period. Warrants issued in a
+// financing are not share-based payment: they are in none of the
+// share-based tables (Warrants, WarrantsAtEnd, WarrantGrants,
+// WarrantsOutstanding, WarrantActivity) but in FinancingWarrants alone.
 type Disclosure struct {
 	PeriodStart time.Time
 	PeriodEnd   time.Time
@@ -98,17 +140,25 @@ type Disclosure struct {
 	Options             RollForward
 	OptionsAtEnd        OutstandingSummary
 	OptionGrants        GrantsInPeriod
+	OptionActivity      Activity
+	OptionRanges        []PriceRange
 	RSUs                RollForward // nonvested
 	RSUGrants           GrantsInPeriod
+	RSUActivity         Activity // vested only
 	Warrants            RollForward
 	WarrantsAtEnd       OutstandingSummary
 	WarrantGrants       GrantsInPeriod
+	WarrantActivity     Activity
+	WarrantRanges       []PriceRange
 	WarrantsOutstanding []WarrantRow
+	// FinancingWarrants is the roll-forward of the warrants issued in
+	// financings, on the number outstanding.
+	FinancingWarrants RollForward
 }
 
 // Check verifies every roll-forward identity.
 func (d *Disclosure) Check() error {
-	for _, r := range []RollForward{d.Options, d.RSUs, d.Warrants} {
+	for _, r := range []RollForward{d.Options, d.RSUs, d.Warrants, d.FinancingWarrants} {
 		if err := r.Check(); err != nil {
 			return err
 		}
@@ -223,27 +273,32 @@ func (p *period) disclose(sharePrice float64) (*Disclosure, error) {
 	}
 	periodStart, periodEnd := p.start, p.end
 	open := shiftDays(periodStart, -1)
-	var opt, rsu, war rollAccs
+	var opt, rsu, war, fin rollAccs
 	var optOut, optEx, optExp, warOut, warEx, warExp outAcc
 	var optG, rsuG, warG grantAcc
+	var optAct, rsuAct, warAct Activity
+	optRanges, warRanges := rangeAccs{}, rangeAccs{}
 	d := &Disclosure{PeriodStart: periodStart, PeriodEnd: periodEnd, SharePrice: sharePrice}
 	for _, l := range p.ledgers {
 		aw := l.in
 		g := aw.Grant
 		inPeriod := valuation.Days(periodStart, g.GrantDate) >= 0
-		switch g.Instrument {
-		case grants.RSU:
+		switch {
+		case l.financing:
+			rollOutstanding(l, &fin, nil, open, periodStart, periodEnd, inPeriod)
+		case g.Instrument == grants.RSU:
 			if inPeriod {
 				rsuG.add(aw)
 			}
 			rollNonvested(l, &rsu, open, periodStart, periodEnd, inPeriod)
-			continue
-		case grants.Warrant:
+			vested(l, &rsuAct, periodStart, periodEnd)
+		case g.Instrument == grants.Warrant:
 			if inPeriod {
 				warG.add(aw)
 			}
-			rollOutstanding(l, &war, open, periodStart, periodEnd, inPeriod)
-			summarise(l, &warOut, &warEx, &warExp, periodEnd, sharePrice)
+			rollOutstanding(l, &war, &warAct, open, periodStart, periodEnd, inPeriod)
+			vested(l, &warAct, periodStart, periodEnd)
+			summarise(l, &warOut, &warEx, &warExp, warRanges, periodEnd, sharePrice)
 			if row, ok := warrantRow(l, periodEnd, sharePrice); ok {
 				d.WarrantsOutstanding = append(d.WarrantsOutstanding, row)
 			}
@@ -251,26 +306,117 @@ func (p *period) disclose(sharePrice float64) (*Disclosure, error) {
 			if inPeriod {
 				optG.add(aw)
 			}
-			rollOutstanding(l, &opt, open, periodStart, periodEnd, inPeriod)
-			summarise(l, &optOut, &optEx, &optExp, periodEnd, sharePrice)
+			rollOutstanding(l, &opt, &optAct, open, periodStart, periodEnd, inPeriod)
+			vested(l, &optAct, periodStart, periodEnd)
+			summarise(l, &optOut, &optEx, &optExp, optRanges, periodEnd, sharePrice)
 		}
 	}
 	d.Options = opt.result(grants.Option, false)
 	d.RSUs = rsu.result(grants.RSU, true)
 	d.Warrants = war.result(grants.Warrant, false)
+	d.FinancingWarrants = fin.result(grants.Warrant, false)
 	d.OptionsAtEnd = OutstandingSummary{Outstanding: optOut.line(), Exercisable: optEx.line(), VestedExpected: optExp.line()}
 	d.WarrantsAtEnd = OutstandingSummary{Outstanding: warOut.line(), Exercisable: warEx.line(), VestedExpected: warExp.line()}
 	d.OptionGrants, d.RSUGrants, d.WarrantGrants = optG.result(), rsuG.result(), warG.result()
+	d.OptionActivity, d.RSUActivity, d.WarrantActivity = optAct.weighted(), rsuAct, warAct.weighted()
+	d.OptionRanges, d.WarrantRanges = optRanges.ranges(), warRanges.ranges()
 	return d, d.Check()
+}
+
+// weighted turns the sum of shares × price at exercise into its average.
+func (a Activity) weighted() Activity {
+	if n := a.Exercised - a.Unpriced; n > 0 {
+		a.WeightedSharePriceAtExercise /= float64(n)
+	} else {
+		a.WeightedSharePriceAtExercise = 0
+	}
+	return a
+}
+
+// vested adds to a the shares of l's tranches that vest in [start, end],
+// net of those forfeited or cancelled before vesting, at their fair value
+// (a tranche vesting before its grant date vests on the grant date).
+func vested(l *awardLedger, a *Activity, start, end time.Time) {
+	g := l.in.Grant
+	for i, t := range l.tr {
+		ev := t.Tranche.VestDate
+		if ev.Before(g.GrantDate) {
+			ev = g.GrantDate
+		}
+		if !dayOnOrAfter(ev, start) || !dayOnOrBefore(ev, end) {
+			continue
+		}
+		c := t.countsAt(ev)
+		n := c.live(t.Tranche.Shares)
+		fv := t.FairValue
+		if l.liability {
+			fv = l.fairValueAt(i, dayNum(ev))
+		}
+		a.Vested += n
+		a.FairValueVested += float64(n) * fv
+	}
+}
+
+// rangeAccs gathers outstanding options or warrants by exercise price.
+type rangeAccs map[float64]*rangeAcc
+
+type rangeAcc struct {
+	out, ex   int64
+	term, exK float64 // Σ shares × remaining term; Σ exercisable × strike
+}
+
+func (r rangeAccs) add(strike float64, out, ex int64, term float64) {
+	a := r[strike]
+	if a == nil {
+		a = &rangeAcc{}
+		r[strike] = a
+	}
+	a.out += out
+	a.ex += ex
+	a.term += float64(out) * term
+	a.exK += float64(ex) * strike
+}
+
+// ranges bands the exercise prices (see PriceRange), lowest first.
+func (r rangeAccs) ranges() []PriceRange {
+	strikes := make([]float64, 0, len(r))
+	for k, a := range r {
+		if a.out > 0 {
+			strikes = append(strikes, k)
+		}
+	}
+	sort.Float64s(strikes)
+	var out []PriceRange
+	for i := 0; i < len(strikes); {
+		pr := PriceRange{Low: strikes[i]}
+		var px, term, exK float64
+		for ; i < len(strikes) && strikes[i] <= RangeWidth*pr.Low; i++ {
+			a := r[strikes[i]]
+			pr.High = strikes[i]
+			pr.Outstanding += a.out
+			pr.Exercisable += a.ex
+			px += float64(a.out) * strikes[i]
+			term += a.term
+			exK += a.exK
+		}
+		pr.WeightedExercisePrice = px / float64(pr.Outstanding)
+		pr.WeightedRemainingTermYears = term / float64(pr.Outstanding)
+		if pr.Exercisable > 0 {
+			pr.ExercisableWeightedPrice = exK / float64(pr.Exercisable)
+		}
+		out = append(out, pr)
+	}
+	return out
 }
 
 func dayOnOrAfter(a, b time.Time) bool { return valuation.Days(b, a) >= 0 }
 
 // rollOutstanding adds an option or warrant grant to a roll-forward of the
-// number outstanding.
-func rollOutstanding(l *awardLedger, r *rollAccs, open, start, end time.Time, inPeriod bool) {
+// number outstanding, and its exercises in the period to act (when not
+// nil).
+func rollOutstanding(l *awardLedger, r *rollAccs, act *Activity, open, start, end time.Time, inPeriod bool) {
 	for i, t := range l.tr {
-		k := func(d time.Time) float64 { return l.strikeOn(i, d) } // the strike in force on d
+		strike := func(d time.Time) float64 { return l.strikeOn(i, d) } // in force on d
 		atOpen, atEnd := t.Tranche.Shares, t.Tranche.Shares
 		for _, m := range t.moves {
 			if dayOnOrBefore(m.date, open) {
@@ -280,24 +426,35 @@ func rollOutstanding(l *awardLedger, r *rollAccs, open, start, end time.Time, in
 			}
 			if dayOnOrBefore(m.date, end) {
 				atEnd -= m.shares
+				k := strike(m.date)
 				switch m.kind {
 				case grants.Exercised:
-					r.exercised.add(m.shares, k(m.date), t.FairValue)
+					r.exercised.add(m.shares, k, t.FairValue)
+					if act != nil {
+						act.Exercised += m.shares
+						act.CashReceived += float64(m.shares) * k
+						if m.price > 0 {
+							act.IntrinsicValueExercised += float64(m.shares) * math.Max(m.price-k, 0)
+							act.WeightedSharePriceAtExercise += float64(m.shares) * m.price
+						} else {
+							act.Unpriced += m.shares
+						}
+					}
 				case grants.Forfeited:
-					r.forfeited.add(m.shares, k(m.date), t.FairValue)
+					r.forfeited.add(m.shares, k, t.FairValue)
 				case grants.Cancelled:
-					r.cancelled.add(m.shares, k(m.date), t.FairValue)
+					r.cancelled.add(m.shares, k, t.FairValue)
 				case grants.Expired:
-					r.expired.add(m.shares, k(m.date), t.FairValue)
+					r.expired.add(m.shares, k, t.FairValue)
 				}
 			}
 		}
 		if inPeriod {
-			r.granted.add(t.Tranche.Shares, k(l.in.Grant.GrantDate), t.FairValue)
+			r.granted.add(t.Tranche.Shares, strike(l.in.Grant.GrantDate), t.FairValue)
 		} else {
-			r.start.add(atOpen, k(open), t.FairValue)
+			r.start.add(atOpen, strike(open), t.FairValue)
 		}
-		r.end.add(atEnd, k(end), t.FairValue)
+		r.end.add(atEnd, strike(end), t.FairValue)
 	}
 }
 
@@ -345,8 +502,9 @@ func rollNonvested(l *awardLedger, r *rollAccs, open, start, end time.Time, inPe
 	}
 }
 
-// summarise adds an option or warrant grant's period-end position.
-func summarise(l *awardLedger, out, ex, exp *outAcc, end time.Time, price float64) {
+// summarise adds an option or warrant grant's period-end position, and
+// its outstanding and exercisable shares to the exercise-price ranges.
+func summarise(l *awardLedger, out, ex, exp *outAcc, ranges rangeAccs, end time.Time, price float64) {
 	term := 0.0
 	if !l.expiry.IsZero() {
 		term = math.Max(valuation.YearFrac(end, l.expiry), 0)
@@ -361,7 +519,9 @@ func summarise(l *awardLedger, out, ex, exp *outAcc, end time.Time, price float6
 		if t.vestedOn(end) {
 			ex.add(n, k, term, price)
 			exp.add(n, k, term, price)
+			ranges.add(k, int64(n), int64(n), term)
 		} else {
+			ranges.add(k, int64(n), 0, term)
 			exp.add(n*t.expected(dayNum(end), l.rate), k, term, price)
 		}
 	}

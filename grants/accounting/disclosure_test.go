@@ -197,3 +197,83 @@ func TestAttributeEqualsExpenseAndDisclose(t *testing.T) {
 		t.Errorf("Attribute's disclosures differ from Disclose's")
 	}
 }
+
+// Rule: the figures ASC 718-10-50-2 (from memory) and IFRS 2.45(c)-(d)
+// ask for beyond the roll-forwards, worked by hand for Q4 2030
+// (2030-10-01 .. 2030-12-31):
+//
+//   - Option A, 2,000 at strike 10 granted 2029-11-01, tranches of 1,000
+//     vesting 2030-11-01 (fair value 4) and 2031-11-01 (5), expiring
+//     2039-11-01; 300 exercised on 2030-12-15 when the share was worth 21,
+//     100 on 2030-12-20 with no share price known.
+//   - Option B, 1,000 at 14, vested 2030-06-01, expiring 2036-12-31.
+//   - Option C, 500 at 16 vesting 2031-06-30, expiring 2040-06-30.
+//   - Option D, 400 at 30, vested 2029-12-31, expiring 2035-12-31.
+//
+// Exercised 400: intrinsic value 300 × (21 − 10) = 3,300 (the unpriced 100
+// left out and counted apart), cash received 400 × 10 = 4,000,
+// weighted-average share price at exercise 21 (IFRS 2.45(c)). Vested in
+// the quarter: A's first tranche, 1,000 × 4 = 4,000 of fair value. Ranges
+// of exercise prices (IFRS 2.45(d)), each up to 1.5 times its lowest:
+// 10–14 (A's 1,600 and B's 1,000), 16 (C's 500), 30 (D's 400). In the first,
+// the weighted exercise price is (16,000 + 14,000)/2,600, the exercisable
+// 600 + 1,000 at (6,000 + 14,000)/1,600 = 12.50, and the remaining life
+// weighs A's 3,227 days (2030-12-31 to 2039-11-01) and B's 2,192.
+func TestDisclosureActivityAndRanges(t *testing.T) {
+	mk := func(id, grant string, vests []string, shares []int64, fvs []float64, strike float64, expiry string) Award {
+		a := testAward(id, grants.Option, grant, vests, shares, fvs)
+		a.Grant.Strike, a.Grant.ExpiryDate = strike, ymd(expiry)
+		return a
+	}
+	a := mk("A", "2029-11-01", []string{"2030-11-01", "2031-11-01"}, []int64{1000, 1000}, []float64{4, 5}, 10, "2039-11-01")
+	a.Events = []grants.Event{
+		{GrantID: "A", Date: ymd("2030-12-15"), Kind: grants.Exercised, Shares: 300},
+		{GrantID: "A", Date: ymd("2030-12-20"), Kind: grants.Exercised, Shares: 100},
+	}
+	a.EventPrices = []float64{21, 0}
+	b := mk("B", "2029-06-01", []string{"2030-06-01"}, []int64{1000}, []float64{6}, 14, "2036-12-31")
+	c := mk("C", "2030-06-30", []string{"2031-06-30"}, []int64{500}, []float64{7}, 16, "2040-06-30")
+	d := mk("D", "2028-12-31", []string{"2029-12-31"}, []int64{400}, []float64{2}, 30, "2035-12-31")
+	disc, err := Disclose([]Award{a, b, c, d}, Policy{Forfeitures: grants.AsOccur}, ymd("2030-10-01"), ymd("2030-12-31"), 25)
+	if err != nil {
+		t.Fatal(err)
+	}
+	act := disc.OptionActivity
+	if act.Exercised != 400 || act.Unpriced != 100 || act.Vested != 1000 {
+		t.Errorf("activity %+v", act)
+	}
+	nearly(t, "intrinsic value exercised", act.IntrinsicValueExercised, 3300, tolMoney)
+	nearly(t, "cash received", act.CashReceived, 4000, tolMoney)
+	nearly(t, "share price at exercise", act.WeightedSharePriceAtExercise, 21, 1e-12)
+	nearly(t, "fair value vested", act.FairValueVested, 4000, tolMoney)
+
+	rs := disc.OptionRanges
+	if len(rs) != 3 {
+		t.Fatalf("ranges %+v", rs)
+	}
+	r := rs[0]
+	if r.Low != 10 || r.High != 14 || r.Outstanding != 2600 || r.Exercisable != 1600 {
+		t.Errorf("first range %+v", r)
+	}
+	nearly(t, "range price", r.WeightedExercisePrice, 30000.0/2600, 1e-12)
+	nearly(t, "range exercisable price", r.ExercisableWeightedPrice, 12.5, 1e-12)
+	nearly(t, "range life", r.WeightedRemainingTermYears, (1600*3227.0+1000*2192)/2600/365, 1e-12)
+	if rs[1].Low != 16 || rs[1].High != 16 || rs[1].Outstanding != 500 || rs[1].Exercisable != 0 || rs[2].Low != 30 || rs[2].Outstanding != 400 {
+		t.Errorf("ranges %+v", rs)
+	}
+	var n int64
+	for _, r := range rs {
+		n += r.Outstanding
+	}
+	if float64(n) != disc.OptionsAtEnd.Outstanding.Shares {
+		t.Errorf("ranges hold %d, outstanding %v", n, disc.OptionsAtEnd.Outstanding.Shares)
+	}
+	// RSUs: the nonvested roll-forward's vested line is the activity's.
+	nd, err := Disclose(noteAwards(), Policy{}, ymd("2030-10-01"), ymd("2030-12-31"), 25)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if nd.RSUActivity.Vested != nd.RSUs.Vested.Shares || math.Abs(nd.RSUActivity.FairValueVested-float64(nd.RSUs.Vested.Shares)*nd.RSUs.Vested.WeightedFairValue) > tolMoney {
+		t.Errorf("RSU activity %+v, roll-forward vested %+v", nd.RSUActivity, nd.RSUs.Vested)
+	}
+}

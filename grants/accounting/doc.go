@@ -1,8 +1,9 @@
 // Package accounting books what pricing measured: the compensation
-// expense of share-based awards under ASC 718 and IFRS 2, the tables of the
-// share-based payment note and the journal of the period. This comment is
-// the manual of the method; every rule in it has a case worked by hand in
-// the package's tests, with the paragraph of the standard named.
+// expense of share-based awards under ASC 718 and IFRS 2, the warrants
+// issued in financings apart from it, the tables of the share-based
+// payment note and the journal of the period. This comment is the manual
+// of the method; every rule in it has a case worked by hand in the
+// package's tests, with the paragraph of the standard named.
 //
 // # The close
 //
@@ -12,9 +13,13 @@
 //  1. AwardsOf pairs each valued grant with its fair value per tranche (an
 //     Award): the grant-date value of an equity-classified award; for a
 //     liability-classified warrant its value at the grant date, with its
-//     revaluations at the past quarter ends and at the valuation date as
-//     Remeasurements. The grant's weighted-average assumptions go along
-//     for the disclosure of the period's grants.
+//     revaluations at the past quarter ends, on the days of its exercises
+//     and at the valuation date as Remeasurements. Each event goes with the
+//     share price in force on its date. The grant's weighted-average
+//     assumptions go along for the disclosure of the period's grants:
+//     volatility, dividend yield, the expected term, and the risk-free rate
+//     at each tranche's expected term (not at its contractual term), each
+//     weighted by the tranches' shares.
 //  2. Attribute builds one ledger per award (its tranches with their
 //     events) and from the same ledgers the ExpenseReport of the period
 //     (Expense) and the Disclosure tables (Disclose).
@@ -24,8 +29,8 @@
 //
 // The schedule's period is grants.Schedule.Period (the Company sheet's
 // period_start to valuation_date); its policy is PolicyOf (the Assumptions
-// keys attribution, forfeitures and pre_vesting_forfeiture_rate). The
-// share price at the period end, for intrinsic values, is
+// keys attribution, forfeitures, pre_vesting_forfeiture_rate and
+// framework). The share price at the period end, for intrinsic values, is
 // grants.Schedule.PeriodEndPrice, with its cell; without one, a schedule
 // with options or warrants is an error, never a silent zero.
 //
@@ -49,23 +54,28 @@
 //
 // # Service start
 //
-// The service period starts at the later of the grant date and the vest
-// start (ServiceStart). Not before the grant date, because the grant date is
-// the measurement date and the award does not exist before it; service that
-// a holder rendered before the grant (a vest start back-dated to the hire
-// date) is caught up at once on the grant date, by a tranche whose vest date
-// is already past or by a larger share of a longer tranche. We do not use a
-// service inception date before the grant date (ASC 718-10-55-108, from
-// memory), because that needs the award remeasured until it is granted. Not
-// before the vest start when that is later, because the holder earns nothing
-// for service before vesting begins.
+// The service period starts on the grant date, or on the holder's hire
+// date (the Grants column hire_date) when that is later: a holder hired
+// after the grant serves from the day employment begins (ServiceStart;
+// ASC 718-10-35-2 and IFRS 2.15, from memory). A vest start after the
+// grant date does not delay it: a holder already employed renders service
+// from the grant date on, and the vesting schedule only says when the
+// shares are earned. Not before the grant date, because the grant date is
+// the measurement date and the award does not exist before it; service
+// that a holder rendered before the grant (a vest start back-dated to the
+// hire date) is caught up at once on the grant date, by a tranche whose
+// vest date is already past or by a larger share of a longer tranche. We
+// do not use a service inception date before the grant date (ASC
+// 718-10-55-108, from memory), because that needs the award remeasured
+// until it is granted.
 //
 // # Attribution
 //
 // Graded: each tranche straight-line over its own service period (IFRS 2
 // requires it; ASC 718 allows it). Straight-line: the whole award
-// straight-line from its service start to its last vest date, with the
-// cumulative cost never below the cost of the tranches vested so far
+// straight-line from its service start to the last vest date of a tranche
+// that still has shares (after a termination, the last vested one), with
+// the cumulative cost never below the cost of the tranches vested so far
 // (ASC 718-10-35-8). For the by-tranche tables a straight-line award's
 // cumulative cost is allocated in full to its vested tranches and the rest to
 // the unvested ones in proportion to their cost.
@@ -78,37 +88,68 @@
 // period). Leavers already recorded are not expected to leave again: a
 // termination removes the forfeited shares at once and the estimate for the
 // rest covers only the service ahead, so the count converges to the actual
-// shares by the vest date (factor 1 from then on). As-occur: every share counts until it is
-// forfeited. Either way a forfeiture reverses all the cost recognised on the
-// forfeited shares, on the day of the forfeiture.
+// shares by the vest date (factor 1 from then on). As-occur: every share
+// counts until it is forfeited. Either way a forfeiture reverses all the
+// cost recognised on the forfeited shares, on the day of the forfeiture.
 //
 // # Events
 //
 // Events are given to tranches by grants.Allocate, the one rule that
 // validation and Schedule.Tranches use too: forfeited shares come out of
-// the unvested tranches, latest vest date first (a termination forfeits
-// them all); shares beyond the unvested ones come out of vested shares,
-// latest first, and reverse nothing. Exercised and expired shares come out
+// the unvested tranches in proportion to the shares each still holds (a
+// termination forfeits them all; a pooled row of several holders, some of
+// whom leave, loses the same share of every unvested tranche, in whole
+// shares by the largest remainders, grants.ProRata); shares beyond the
+// unvested ones come out of vested shares, latest first, and reverse
+// nothing. A forfeiture that leaves shares unvested is a warning of
+// validation naming its cell: for one holder who left, those shares would
+// vest after the holder was gone. Exercised and expired shares come out
 // of vested shares, earliest vest date first, and change counts but not
-// cost. Cancelled shares (a cancellation without a replacement award) are
-// taken the same way as forfeited ones; on unvested shares their remaining
-// unrecognised cost is recognised in full on the cancellation date
-// (ASC 718-20-35-9, IFRS 2.28(a); from memory). Options and warrants still
-// outstanding at the end of their expiry date expire then. An event that
-// does not fit its grant is an *EventError (errors.Is ErrEvent) naming its
-// Events row.
+// the cost of an equity-classified award. Cancelled shares (a
+// cancellation without a replacement award) are taken the same way as
+// forfeited ones; on unvested shares of an equity-classified award their
+// remaining unrecognised cost is recognised in full on the cancellation
+// date (ASC 718-20-35-9, IFRS 2.28(a); from memory). Options and warrants
+// still outstanding at the end of their expiry date expire then. An event
+// that does not fit its grant is an *EventError (errors.Is ErrEvent)
+// naming its Events row.
 //
-// # Liability-classified warrants
+// # Liability-classified awards
 //
-// Compensation expense accrues on the grant-date fair value, exactly as for
-// an equity award. The warrant liability is the latest remeasured fair value
-// (Remeasurement; the grant-date value until the first one) times the
-// outstanding shares times the share of service rendered; the difference
-// between the change in the liability and the compensation expense, after
-// exercised warrants are reclassified to equity at their latest fair value,
-// is the change in fair value, shown apart from compensation expense.
-// Expired, cancelled and forfeited warrants release their liability through
-// that line.
+// A liability-classified warrant granted for services is measured at fair
+// value at every period end and on the day of each exercise (its
+// Remeasurements), and every change in that fair value is compensation
+// cost (ASC 718-30-35-3; IFRS 2.30-33). Its liability is the latest fair
+// value (the grant-date value until the first remeasurement) times the
+// outstanding shares counted (at the expected share under Estimate) times
+// the share of service rendered, attributed like any award; its cumulative
+// cost is that liability plus what its exercises moved to equity, each at
+// the fair value of its exercise day, remeasured then and not taken from
+// the last period end. Its expected total and unrecognised cost are at the
+// current fair value. Forfeited, cancelled and expired shares leave the
+// liability and the cost recognised on them is reversed: a liability
+// award costs what it is settled for.
+//
+// # Financing warrants
+//
+// A warrant whose purpose is financing (issued to a lender with a loan, or
+// to an investor with shares) is not share-based payment (ASC 718-10-15-3
+// and IFRS 2.2, from memory): it has no compensation cost and is in none
+// of the compensation figures, roll-forwards or journal lines;
+// ExpenseReport.Financing and Disclosure.FinancingWarrants hold it apart.
+// An equity-classified one is measured once, at issue, and its value at
+// issue goes with the financing: with debt, the proceeds are allocated to
+// it on relative fair values (ASC 470-20-25-2), the fair value at issue
+// being the input; it is equity under ASC 815-40 and IAS 32.16 (from
+// memory), never remeasured, and has no entry of the period. A
+// liability-classified one is recognised at its fair value at issue, in
+// full (there is no service to attribute over), remeasured at every period
+// end and on the day of each exercise, and the change is the change in
+// fair value of the warrant liability, outside operating expense (ASC
+// 815-40-35; a derivative liability at fair value through profit or loss
+// under IAS 32.11 and IFRS 9; from memory). Its liability rolls as opening
+// + issued + change in fair value − reclassified on exercise = closing,
+// the exercised warrants leaving at the exercise day's fair value.
 //
 // # Disclosures
 //
@@ -123,6 +164,18 @@
 // forfeited), which is what their note shows. Weighted averages are
 // weighted by shares. Every roll-forward satisfies start + granted −
 // vested − exercised − forfeited − cancelled − expired = end (Check).
+//
+// Beside the roll-forwards, each instrument's Activity in the period: the
+// total intrinsic value of the options exercised (shares × the share price
+// in force on the exercise date less the strike, never below zero), the
+// cash received from exercises (shares × strike) and the total fair value
+// of the awards vested (ASC 718-10-50-2, from memory), and the
+// weighted-average share price at the dates of exercise (IFRS 2.45(c)); an
+// exercise on a day with no share price known is counted apart (Unpriced).
+// The options outstanding at the end are grouped in ranges of exercise
+// prices, each from its lowest price up to RangeWidth (1.5, ours) times
+// it, with their weighted-average exercise price and remaining contractual
+// life (IFRS 2.45(d)). Financing warrants have a roll-forward of their own.
 //
 // # Quarter after quarter: the prior close
 //
@@ -147,7 +200,11 @@
 //     first recorded now, a grant recorded late, an event removed, changed
 //     vesting or service dates, a corrected fair value, a change in the
 //     forfeiture rate (a change in estimate: ASC 250-10-45-17, ASC
-//     718-10-35-3). A closed period is never restated.
+//     718-10-35-3), and a warrant the prior close booked as compensation
+//     whose purpose is financing now (its compensation reversed). A
+//     closed period is never restated.
+//   - A financing warrant's liability opens as the prior close filed it;
+//     its change in fair value in the period closes its roll.
 //
 // The Reconciliation walks from the prior close to this one. Each award
 // is looked at in a few views that differ in one thing at a time (its
@@ -167,13 +224,16 @@
 // expense, plus forfeitures and cancellations (B2 − A: the expected cost
 // forfeitures release, and the estimate a cancellation settles in full),
 // plus changes in the forfeiture estimate ((A − A′) + (C − B2)), plus the
-// cost of catch-ups (A′ less the cost filed), to the unrecognised cost
-// now. The period's expense walks: service in the period (D − C),
+// cost of catch-ups (A′ less the cost filed), plus the remeasurement of
+// liability-classified awards (D − C: their cost at today's fair value
+// against the prior close's), to the unrecognised cost now. The period's
+// expense walks: service in the period (D − C, with the remeasurement of
+// liability-classified awards),
 // forfeitures (B1 − A), cancellations (B2 − B1), the changed rate on cost
 // already recognised (A − A′) and the catch-ups (A′ less the cost
-// booked). The warrant liability walks from its filed balance through
-// compensation, the change in fair value and the reclassifications on
-// exercise; the awards outstanding of each instrument from the counts
+// booked). The liability of liability-classified awards walks from its
+// filed balance through compensation and the reclassifications on
+// exercise (the financing warrants' liability has its own roll); the awards outstanding of each instrument from the counts
 // filed, through the catch-ups (the restated count at the prior close
 // less the filed one) and the disclosures' roll-forward, to the count now.
 // Every amount is rounded to the cent and every walk adds up exactly
@@ -188,16 +248,33 @@
 //
 // # Journal
 //
-// The journal is data: Entries of Lines, each line a Role (compensation
-// expense, equity, warrant liability, change in fair value), the Account
-// the company maps to that role (DefaultAccounts otherwise), the grant it
-// books when it books one, and a debit or a credit. Every entry balances.
-// Journal gives the period's entries: compensation of equity-classified
-// awards against equity and of liability-classified warrants against the
-// liability (each without its catch-ups), one entry per catch-up naming
-// its grant and cause, the liability's remeasurement apart from
-// compensation, and exercised liability warrants reclassified to equity;
-// an entry of less than half a cent is left out.
+// The journal is data: Entries of Lines, each line a Role (what the
+// account does: compensation expense, equity, the share-based payment
+// liability, the financing warrants' liability, its change in fair value,
+// the equity exercised financing warrants become, the financing's
+// proceeds), the Account the company maps to that role (DefaultAccount
+// otherwise, whose names follow the framework), the grant it books when it
+// books one, and a debit or a credit. Every entry balances. Journal gives
+// the period's summary entries: compensation of equity-classified awards
+// against equity; compensation of liability-classified awards against
+// their liability; those exercised, reclassified to equity; financing
+// warrants recognised as liabilities at issue; the change in fair value of
+// that liability; the financing warrants exercised, reclassified to
+// equity; one entry per catch-up naming its grant and cause (the
+// compensation lines leave the catch-ups out). An entry of less than half
+// a cent is left out.
+//
+// # Framework
+//
+// Policy.Framework is the standard the books follow: ASC 718 (the default)
+// or IFRS 2. Under IFRS 2 graded attribution is required, each tranche
+// being a separate award (IFRS 2.IG11, from memory), and forfeitures must
+// be estimated (IFRS 2.20); the other choices are an error here and a
+// validation error naming the Assumptions cell. The journal's default
+// names follow the framework: under IFRS 2 the credit for equity-settled
+// awards goes to a share-based payment reserve in equity (IFRS 2.7), not
+// additional paid-in capital, and the expense is share-based payment
+// expense.
 //
 // # Extending
 //
@@ -212,6 +289,7 @@
 //
 // Bad data (a tranche out of vest-date order, a negative fair value, an
 // event that does not fit) is an error naming the grant; several awards'
-// errors are joined. Programmer misuse (a period ending before it starts)
-// is an error too, never a panic.
+// errors are joined. A policy the framework forbids is an error.
+// Programmer misuse (a period ending before it starts) is an error too,
+// never a panic.
 package accounting

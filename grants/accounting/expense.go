@@ -30,16 +30,20 @@ type Remeasurement struct {
 // for the disclosure of the period's weighted-average assumptions.
 type MeasuredAssumptions struct {
 	Volatility        float64
-	RiskFreeRate      float64
+	RiskFreeRate      float64 // the zero rate at the expected term, weighted over the tranches by shares
 	DividendYield     float64
-	ExpectedTermYears float64
+	ExpectedTermYears float64 // weighted over the tranches by shares
 }
 
 // Award is everything attribution needs about one grant.
 type Award struct {
-	Grant          grants.Grant
-	Tranches       []TrancheCost  // in vest-date order
-	Events         []grants.Event // this grant's events, in any order
+	Grant    grants.Grant
+	Tranches []TrancheCost  // in vest-date order
+	Events   []grants.Event // this grant's events, in any order
+	// EventPrices are the share price in force on each event's date, in
+	// Events order (0 or missing when unknown), for the intrinsic value of
+	// exercises in the disclosures.
+	EventPrices    []float64
 	Remeasurements []Remeasurement
 	Measured       *MeasuredAssumptions // optional; used by Disclose
 	// Modified are the changes of its terms dated by the period end, with
@@ -49,13 +53,17 @@ type Award struct {
 	Replaces *Replaces
 }
 
-// Policy is the company's attribution and forfeiture policy. The zero
-// Attribution is Graded and the zero Forfeitures is Estimate (both allowed
-// under ASC 718 and IFRS 2).
+// Policy is the company's attribution and forfeiture policy and the
+// standard it follows. The zero Attribution is Graded and the zero
+// Forfeitures is Estimate (both allowed under ASC 718 and IFRS 2).
 type Policy struct {
 	Attribution              grants.Attribution
 	Forfeitures              grants.ForfeiturePolicy
 	PreVestingForfeitureRate float64 // annual share of unvested holders who leave, in [0, 1)
+	// Framework is the standard followed; the zero Framework is ASC 718.
+	// IFRS 2 requires graded attribution and estimated forfeitures, and
+	// names the journal's equity account differently.
+	Framework grants.Framework
 }
 
 // PeriodAmount is the expense of one period.
@@ -63,25 +71,30 @@ type PeriodAmount struct {
 	Start           time.Time
 	End             time.Time
 	Amount          float64 // compensation expense
-	FairValueChange float64 // liability-classified warrants, apart from compensation
+	FairValueChange float64 // financing warrants' liability, apart from compensation (outside operating expense)
 	Current         bool    // the reporting period [period start, valuation date]
 }
 
 // TrancheExpense is one tranche's attribution.
 type TrancheExpense struct {
-	Index          int
-	VestDate       time.Time
-	ServiceStart   time.Time
-	Shares         int64   // as granted
-	SharesCounted  float64 // shares whose cost counts at period end (expected at vest under Estimate)
-	FairValue      float64 // per share, grant date
-	ExpectedShare  float64 // (1 − rate)^Y at period end, Y the service years still to come; 1 under as-occur
-	Cost           float64 // expected total compensation cost at period end
-	CumulativeOpen float64 // through the day before the period start
-	Period         float64
-	Cumulative     float64 // through period end
-	Unrecognized   float64
-	RemainingYears float64 // service days left after the period end / 365
+	Index         int
+	VestDate      time.Time
+	ServiceStart  time.Time
+	Shares        int64   // as granted
+	SharesCounted float64 // shares whose cost counts at period end (expected at vest under Estimate)
+	// FairValue is per share: the grant-date value, or for a
+	// liability-classified award its latest remeasurement, on which its
+	// cost is measured; GrantDateFairValue is its value at the grant date
+	// in either case.
+	FairValue          float64
+	GrantDateFairValue float64
+	ExpectedShare      float64 // (1 − rate)^Y at period end, Y the service years still to come; 1 under as-occur
+	Cost               float64 // expected total compensation cost at period end
+	CumulativeOpen     float64 // through the day before the period start
+	Period             float64
+	Cumulative         float64 // through period end
+	Unrecognized       float64
+	RemainingYears     float64 // service days left after the period end / 365
 }
 
 // GrantExpense is one grant's attribution.
@@ -100,11 +113,12 @@ type GrantExpense struct {
 	Unrecognized   float64
 	RemainingYears float64
 
-	// Liability-classified warrants only.
-	FairValueChange    float64 // in the period
+	// Liability-classified awards only: the award's liability, which
+	// rolls as LiabilityOpen + Period − ReclassifiedEquity = LiabilityEnd
+	// (every change in its fair value is compensation cost).
 	LiabilityOpen      float64 // at the end of the day before the period start
 	LiabilityEnd       float64 // at period end
-	ReclassifiedEquity float64 // liability moved to equity on exercise in the period
+	ReclassifiedEquity float64 // liability moved to equity on exercise in the period, at the exercise day's fair value
 	// ReclassifiedToDate is the liability moved to equity on exercise
 	// through the period end, in all.
 	ReclassifiedToDate float64
@@ -122,6 +136,52 @@ type GrantExpense struct {
 	Tranches []TrancheExpense
 }
 
+// FinancingWarrant is a warrant issued in a financing (to a lender or an
+// investor): not share-based payment, so it has no compensation cost. An
+// equity-classified one is measured once, at issue (ASC 815-40, IAS 32);
+// a liability-classified one is measured at fair value at issue and
+// remeasured at every period end and on every exercise, the change shown
+// outside operating expense (ASC 815-40-35; IAS 32.11 and IFRS 9).
+type FinancingWarrant struct {
+	GrantID        string
+	Holder         string
+	Classification grants.Classification
+	IssueDate      time.Time
+	Shares         int64 // issued
+	// FairValueAtIssue is per warrant (weighted over the tranches);
+	// ValueAtIssue the total, fair value at issue times the warrants
+	// issued: the amount a liability is recognised at, and the input to
+	// the allocation of the financing's proceeds to an equity-classified
+	// one (relative fair values, ASC 470-20-25-2).
+	FairValueAtIssue float64
+	ValueAtIssue     float64
+	Outstanding      int64 // at period end
+	Exercised        int64 // in the period
+	// FairValue is per warrant at the period end: the latest remeasurement
+	// of a liability, the value at issue of an equity-classified one.
+	FairValue float64
+
+	// Liability-classified only, the period's roll of the liability:
+	// LiabilityOpen + Issued + FairValueChange − Reclassified = LiabilityEnd.
+	LiabilityOpen      float64 // at the end of the day before the period start (as the prior close filed it, after one)
+	Issued             float64 // recognised at issue, when issued in the period
+	FairValueChange    float64 // remeasurement, outside operating expense
+	Reclassified       float64 // to equity on exercise, at the exercise day's fair value
+	LiabilityEnd       float64
+	ReclassifiedToDate float64 // to equity on exercise through the period end, in all
+
+	// CompensationReversed is, after a prior close that booked this
+	// warrant as compensation, that compensation reversed in the period
+	// (negative; in the period's expense as a catch-up).
+	CompensationReversed float64
+
+	// Events are the warrant's events through the period end, and
+	// Remeasurements a liability's fair values per tranche at issue and
+	// after it: what a later close keeps.
+	Events         []grants.Event
+	Remeasurements []Remeasurement
+}
+
 // ExpenseReport is the attribution for one reporting period.
 type ExpenseReport struct {
 	PeriodStart time.Time
@@ -131,10 +191,9 @@ type ExpenseReport struct {
 
 	Grants []GrantExpense
 
-	Period          float64 // compensation expense in [PeriodStart, PeriodEnd]
-	FairValueChange float64 // liability warrants, apart from Period
-	Cumulative      float64 // through PeriodEnd
-	Unrecognized    float64 // at PeriodEnd
+	Period       float64 // compensation expense in [PeriodStart, PeriodEnd]
+	Cumulative   float64 // through PeriodEnd
+	Unrecognized float64 // at PeriodEnd
 	// RemainingYears is the weighted-average remaining recognition period:
 	// each tranche's (graded) or award's (straight-line) service days left
 	// after the period end, over 365, weighted by its unrecognised cost
@@ -151,6 +210,13 @@ type ExpenseReport struct {
 	Forecast      []PeriodAmount
 	AfterForecast float64
 
+	// Financing are the warrants issued in financings, apart from
+	// compensation: none of them is in Grants, Cumulative, Unrecognized or
+	// the forecast. FairValueChange is the change in fair value of their
+	// liabilities in the period, outside operating expense.
+	Financing       []FinancingWarrant
+	FairValueChange float64
+
 	Warnings []string
 	// PolicyNotes say where the chosen policy differs between ASC 718 and
 	// IFRS 2, and what attribution does not model.
@@ -165,13 +231,14 @@ type ExpenseReport struct {
 const ForecastQuarters = 16
 
 // ServiceRule says in words which service-start rule attribution applies.
-const ServiceRule = "Service starts at the later of the grant date and the vest start: not before the grant date, which is the measurement date (service already rendered is caught up on the grant date), and not before vesting begins, since earlier service earns nothing."
+const ServiceRule = "Service starts on the grant date, when the holder is already employed, or on the hire date the schedule gives for a holder hired after the grant; never before the grant date, the measurement date (service rendered before it is caught up on the grant date). A vest start after the grant date does not delay it: the holder serves from the grant date on."
 
-// ServiceStart is the first day of a grant's service period: the later of
-// its grant date and its vest start (see the package notes on expense).
+// ServiceStart is the first day of a grant's service period: its grant
+// date, or its hire date when that is later (see the package notes on
+// service start).
 func ServiceStart(g grants.Grant) time.Time {
-	if g.VestStart.After(g.GrantDate) {
-		return g.VestStart
+	if g.HireDate.After(g.GrantDate) {
+		return g.HireDate
 	}
 	return g.GrantDate
 }
@@ -283,15 +350,29 @@ func (p *period) expense() *ExpenseReport {
 	var wYears float64
 	for _, l := range ledgers {
 		g := l.in.Grant
-		ge := GrantExpense{GrantID: g.ID, Holder: g.Holder, Instrument: g.Instrument, Liability: l.liability, GrantDate: g.GrantDate, ServiceStart: l.start, ServiceEnd: l.last}
 		s0 := l.at(pol, open, open)
 		s1 := l.at(pol, periodEnd, periodEnd)
-		// The opening balances: as restated (s0), or as the prior close
-		// booked them (nothing for a grant it did not have).
-		bookedTranche := func(i int) float64 { return s0.comp[i] }
 		var pg *PriorGrant
 		if p.prior != nil {
 			pg, _ = p.prior.grant(g.ID)
+		}
+		l.bufComp = make([]float64, len(l.tr))
+		if l.financing {
+			fw := l.financingWarrant(s0, s1, p.prior != nil, pg, periodStart, periodEnd)
+			rep.Financing = append(rep.Financing, fw)
+			rep.FairValueChange += fw.FairValueChange
+			rep.Period += fw.CompensationReversed
+			l.addPeriods(pol, bounds, p.prior != nil, fw.CompensationReversed, fw.FairValueChange)
+			if l.liability && len(l.remeas) == 0 {
+				rep.Warnings = append(rep.Warnings, fmt.Sprintf("grant %s: liability-classified financing warrant with no remeasurement; its liability is carried at its fair value at issue", g.ID))
+			}
+			continue
+		}
+		ge := GrantExpense{GrantID: g.ID, Holder: g.Holder, Instrument: g.Instrument, Liability: l.liability, GrantDate: g.GrantDate, ServiceStart: l.start, ServiceEnd: l.last}
+		// The opening balances: as restated (s0), or as the prior close
+		// booked them (nothing for a grant it did not have).
+		bookedTranche := func(i int) float64 { return s0.comp[i] }
+		if p.prior != nil {
 			bookedTranche = func(i int) float64 {
 				if pg != nil && (i == 0 || l.tr[i-1].of != l.tr[i].of) { // a tranche's first part carries it
 					for _, t := range pg.Tranches {
@@ -318,10 +399,14 @@ func (p *period) expense() *ExpenseReport {
 				lastLive = t.Tranche.VestDate
 			}
 			q := t.expected(dayNum(periodEnd), l.rate)
+			fv := t.FairValue
+			if l.liability {
+				fv = l.fairValueAt(i, dayNum(periodEnd))
+			}
 			te := TrancheExpense{
 				Index: t.Tranche.Index, VestDate: t.Tranche.VestDate, ServiceStart: t.start,
 				Shares: t.Tranche.Shares, SharesCounted: float64(live)*q + float64(c.accelerated),
-				FairValue: t.FairValue, ExpectedShare: q,
+				FairValue: fv, GrantDateFairValue: t.FairValue, ExpectedShare: q,
 				Cost: sInf.comp[i], CumulativeOpen: bookedTranche(i), Cumulative: s1.comp[i],
 			}
 			te.Period = te.Cumulative - te.CumulativeOpen
@@ -342,6 +427,9 @@ func (p *period) expense() *ExpenseReport {
 			}
 		}
 		ge.Tranches = l.byTranche(ge.Tranches)
+		if !lastLive.IsZero() {
+			ge.ServiceEnd = lastLive
+		}
 		if p.prior != nil {
 			ge.CumulativeOpen = 0
 			if pg != nil {
@@ -366,15 +454,13 @@ func (p *period) expense() *ExpenseReport {
 			}
 		}
 		if l.liability {
-			lOpen, settledOpen, fvOpen := s0.liability, s0.settled, s0.fvChange()
+			lOpen, settledOpen := s0.liability, s0.settled
 			if p.prior != nil {
-				lOpen, settledOpen, fvOpen = 0, 0, 0
+				lOpen, settledOpen = 0, 0
 				if pg != nil {
 					lOpen, settledOpen = pg.LiabilityEnd, pg.Reclassified
-					fvOpen = pg.LiabilityEnd + pg.Reclassified - pg.Cumulative
 				}
 			}
-			ge.FairValueChange = s1.fvChange() - fvOpen
 			ge.LiabilityOpen = lOpen
 			ge.LiabilityEnd = s1.liability
 			ge.ReclassifiedEquity = s1.settled - settledOpen
@@ -386,30 +472,9 @@ func (p *period) expense() *ExpenseReport {
 		}
 		rep.Grants = append(rep.Grants, ge)
 		rep.Period += ge.Period
-		rep.FairValueChange += ge.FairValueChange
 		rep.Cumulative += ge.Cumulative
 		rep.Unrecognized += ge.Unrecognized
-
-		l.bufComp = make([]float64, len(l.tr))
-		var prevComp, prevFV float64
-		for k := range bounds {
-			if p.prior != nil { // the closed periods stand as booked
-				if bounds[k].Current {
-					bounds[k].Amount += ge.Period
-					bounds[k].FairValueChange += ge.FairValueChange
-				}
-				continue
-			}
-			cur := l.atInto(pol, bounds[k].End, bounds[k].End, l.bufComp)
-			c := cur.compTotal()
-			bounds[k].Amount += c - prevComp
-			if l.liability {
-				fv := cur.fvChange()
-				bounds[k].FairValueChange += fv - prevFV
-				prevFV = fv
-			}
-			prevComp = c
-		}
+		l.addPeriods(pol, bounds, p.prior != nil, ge.Period, 0)
 		prevTotal := s1.compTotal()
 		for k := range rep.Forecast {
 			cur := l.atInto(pol, rep.Forecast[k].End, periodEnd, l.bufComp).compTotal()
@@ -429,13 +494,10 @@ func (p *period) expense() *ExpenseReport {
 
 // policyNotes explains the policy's standing under each standard.
 func policyNotes(pol Policy, ledgers []*awardLedger) []string {
-	graded, warrants := false, false
+	graded := false
 	for _, l := range ledgers {
 		if len(l.tr) > 1 {
 			graded = true
-		}
-		if l.in.Grant.Instrument == grants.Warrant {
-			warrants = true
 		}
 	}
 	var notes []string
@@ -445,18 +507,15 @@ func policyNotes(pol Policy, ledgers []*awardLedger) []string {
 	if pol.Forfeitures == grants.AsOccur {
 		notes = append(notes, "Accounting for forfeitures as they occur is an election under ASC 718 (718-10-35-3); IFRS 2 requires an estimate of the awards expected to vest.")
 	}
-	if warrants {
-		notes = append(notes, "Warrants are attributed like awards for goods or services. A warrant issued in a financing (to a lender or an investor) is not share-based compensation: its issue-date value belongs with the financing (a debt discount or an issue cost; ASC 470, ASC 815, IAS 32), and only its remeasurement, for a liability, belongs in profit or loss.")
-	}
 	return append(notes, modificationNotes(ledgers)...)
 }
 
 // String is a one-line summary, for logs and test failures.
 func (r *ExpenseReport) String() string {
 	var b strings.Builder
-	fmt.Fprintf(&b, "expense %s..%s %s/%s: period %.2f, fv change %.2f, cumulative %.2f, unrecognised %.2f over %.2f years",
+	fmt.Fprintf(&b, "expense %s..%s %s/%s: period %.2f, cumulative %.2f, unrecognised %.2f over %.2f years; financing warrants' fv change %.2f",
 		r.PeriodStart.Format(time.DateOnly), r.PeriodEnd.Format(time.DateOnly), r.Policy.Attribution, r.Policy.Forfeitures,
-		r.Period, r.FairValueChange, r.Cumulative, r.Unrecognized, r.RemainingYears)
+		r.Period, r.Cumulative, r.Unrecognized, r.RemainingYears, r.FairValueChange)
 	return b.String()
 }
 
@@ -499,4 +558,88 @@ func Spread(a Award, pol Policy, ends []time.Time) (amounts []float64, cost floa
 		far = asOf
 	}
 	return amounts, l.at(pol, far, known).compTotal(), nil
+}
+
+// addPeriods adds the award's compensation in each of the periods ps
+// (consecutive, the first from the start) to its Amount, and a financing
+// warrant's change in fair value to its FairValueChange. After a prior
+// close (booked) the closed periods stand as it booked them, and only the
+// current one takes the award's period figures, comp and fv.
+func (l *awardLedger) addPeriods(pol Policy, ps []PeriodAmount, booked bool, comp, fv float64) {
+	var prevComp, prevFV float64
+	for k := range ps {
+		if booked {
+			if ps[k].Current {
+				ps[k].Amount += comp
+				ps[k].FairValueChange += fv
+			}
+			continue
+		}
+		cur := l.atInto(pol, ps[k].End, ps[k].End, l.bufComp)
+		c := cur.compTotal()
+		ps[k].Amount += c - prevComp
+		prevComp = c
+		if l.financing {
+			f := cur.fvChange()
+			ps[k].FairValueChange += f - prevFV
+			prevFV = f
+		}
+	}
+}
+
+// financingWarrant is a financing warrant's row for the period, from its
+// positions s0 at the end of the day before the period and s1 at its end,
+// and after a prior close (booked) pg, what that close filed for it (nil
+// when it did not have the warrant). After a prior close the liability
+// opens as filed (nothing for a warrant the close did not have) and the
+// change in fair value closes the roll, so that a closed period is never
+// restated. A warrant the prior close booked as compensation has that
+// compensation reversed in the period.
+func (l *awardLedger) financingWarrant(s0, s1 snapshot, booked bool, pg *PriorGrant, start, end time.Time) FinancingWarrant {
+	g := l.in.Grant
+	fw := FinancingWarrant{GrantID: g.ID, Holder: g.Holder, Classification: g.Classification, IssueDate: g.GrantDate, Shares: g.Shares,
+		Events: l.in.eventsThrough(end)}
+	if fw.Classification == "" {
+		fw.Classification = grants.Equity
+	}
+	var issued, atEnd float64
+	var shares int64
+	at0 := make([]float64, len(l.tr))
+	for i, t := range l.tr {
+		at0[i] = t.FairValue
+		shares += t.Tranche.Shares
+		issued += t.FairValue * float64(t.Tranche.Shares)
+		c := t.countsAt(end)
+		fw.Outstanding += c.open
+		fw.Exercised += c.exercised - t.countsAt(shiftDays(start, -1)).exercised
+		v := t.FairValue
+		if l.liability {
+			v = l.fairValueAt(i, dayNum(end))
+		}
+		atEnd += v * float64(t.Tranche.Shares)
+	}
+	fw.ValueAtIssue = issued
+	if shares > 0 {
+		fw.FairValueAtIssue = issued / float64(shares)
+		fw.FairValue = atEnd / float64(shares)
+	}
+	if pg != nil && !pg.Financing {
+		fw.CompensationReversed = -pg.Cumulative
+	}
+	if !l.liability {
+		return fw
+	}
+	settledOpen := s0.settled
+	fw.LiabilityOpen, fw.Issued = s0.liability, s1.issued-s0.issued
+	switch {
+	case booked && pg != nil:
+		fw.LiabilityOpen, settledOpen = pg.LiabilityEnd, pg.Reclassified
+	case booked:
+		fw.LiabilityOpen, fw.Issued, settledOpen = 0, s1.issued, 0
+	}
+	fw.Reclassified = s1.settled - settledOpen
+	fw.LiabilityEnd, fw.ReclassifiedToDate = s1.liability, s1.settled
+	fw.FairValueChange = fw.LiabilityEnd - fw.LiabilityOpen - fw.Issued + fw.Reclassified
+	fw.Remeasurements = append([]Remeasurement{{Date: g.GrantDate, FairValue: at0}}, l.remeas...)
+	return fw
 }

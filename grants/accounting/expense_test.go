@@ -240,6 +240,10 @@ func TestTermination(t *testing.T) {
 	nearly(t, "as-occur Q2 2030", r.Period, 10000-before, tolMoney)
 	nearly(t, "as-occur cumulative", r.Cumulative, 10000, tolMoney)
 	nearly(t, "as-occur unrecognised", r.Unrecognized, 0, tolMoney)
+	// The service ends at the last vest date that still has shares.
+	if !r.Grants[0].ServiceEnd.Equal(ymd("2030-01-01")) {
+		t.Errorf("service end after the termination %v, want 2030-01-01", r.Grants[0].ServiceEnd)
+	}
 
 	// Estimate at 10%: through 2030-03-31 the unvested tranches count at
 	// 0.9^(service days still to come / 365): 730−455, 1095−455 and 1461−455
@@ -261,20 +265,39 @@ func TestTermination(t *testing.T) {
 	nearly(t, "straight-line Q2 2030", r.Period, 10000-40000.0*455/1461, tolMoney)
 }
 
-// Rule (ours, matching Schedule.Tranches): a partial forfeiture comes out of
-// the unvested tranches that vest latest. The four-tranche award at 10,
-// 1,500 forfeited on 2030-06-30 as-occur: tranche 4 loses all 1,000 and
-// tranche 3 500; cumulative through 2030-06-30 (546 service days) is
-// 10000 + 10000·546/730 + 5000·546/1095 + 0.
-func TestPartialForfeitureLatestFirst(t *testing.T) {
-	a := testAward("P", grants.Option, "2029-01-01",
+// Rule (DESIGN §3; ours, the one rule of grants.Allocate): a partial
+// forfeiture of a pooled row comes out of every unvested tranche in
+// proportion, and reverses the cost recognised on the shares it takes
+// (ASC 718-10-35-3; IFRS 2.19-20). A pooled row of 10,000 RSUs granted
+// 2029-01-01 at 10 a unit, four yearly tranches of 2,500 vesting
+// 2030-01-01 .. 2033-01-01 (365, 730, 1,095 and 1,461 service days);
+// 1,000 forfeited on 2029-06-30, as-occur: 250 from each tranche, which
+// keeps 2,250. Through 2029-03-31 (90 days) the cost is
+// 25,000 × 90 × (1/365 + 1/730 + 1/1095 + 1/1461); through 2029-06-30
+// (181 days) 22,500 × 181 × (the same sum). Taking the 1,000 from the last
+// tranche alone would have left 2,500, 2,500, 2,500 and 1,500.
+// Straight-line over the whole award: 90,000 × 181/1,461 through
+// 2029-06-30, the service still ending 2033-01-01, since every tranche
+// keeps shares.
+func TestPartialForfeitureProRata(t *testing.T) {
+	a := testAward("POOL", grants.RSU, "2029-01-01",
 		[]string{"2030-01-01", "2031-01-01", "2032-01-01", "2033-01-01"},
-		[]int64{1000, 1000, 1000, 1000}, []float64{10, 10, 10, 10})
-	a.Events = []grants.Event{{GrantID: "P", Date: ymd("2030-06-30"), Kind: grants.Forfeited, Shares: 1500}}
-	r := mustExpense(t, []Award{a}, Policy{Forfeitures: grants.AsOccur}, "2030-04-01", "2030-06-30")
-	nearly(t, "cumulative", r.Cumulative, 10000+10000.0*546/730+5000.0*546/1095, tolMoney)
-	if got := r.Grants[0].Tranches[3].SharesCounted; got != 0 {
-		t.Errorf("tranche 4 counts %v shares, want 0", got)
+		[]int64{2500, 2500, 2500, 2500}, []float64{10, 10, 10, 10})
+	a.Events = []grants.Event{{GrantID: "POOL", Date: ymd("2029-06-30"), Kind: grants.Forfeited, Shares: 1000, Row: 3}}
+	sum := 1.0/365 + 1.0/730 + 1.0/1095 + 1.0/1461
+	r := mustExpense(t, []Award{a}, Policy{Forfeitures: grants.AsOccur}, "2029-04-01", "2029-06-30")
+	nearly(t, "cumulative through 2029-06-30", r.Cumulative, 22500*181*sum, tolMoney)
+	nearly(t, "Q2 2029", r.Period, 22500*181*sum-25000*90*sum, tolMoney)
+	for i, te := range r.Grants[0].Tranches {
+		if te.SharesCounted != 2250 {
+			t.Errorf("tranche %d counts %v shares, want 2,250", i+1, te.SharesCounted)
+		}
+	}
+	nearly(t, "expected total cost", r.Grants[0].Cost, 90000, tolMoney)
+	sl := mustExpense(t, []Award{a}, Policy{Attribution: grants.StraightLine, Forfeitures: grants.AsOccur}, "2029-04-01", "2029-06-30")
+	nearly(t, "straight-line cumulative", sl.Cumulative, 90000*181.0/1461, tolMoney)
+	if !sl.Grants[0].ServiceEnd.Equal(ymd("2033-01-01")) {
+		t.Errorf("straight-line service ends %v, want 2033-01-01", sl.Grants[0].ServiceEnd)
 	}
 }
 
@@ -305,90 +328,125 @@ func TestCancellationAccelerates(t *testing.T) {
 	}
 }
 
-// Rule: a liability-classified warrant is remeasured at each valuation date
-// and the change in fair value is shown apart from compensation (ASC 718-30,
-// from memory; our presentation choice, see the package notes). 1,000
-// warrants granted 2029-01-01, one-year cliff, grant-date value 5; remeasured
-// 6 on 2029-03-31 and 4.50 on 2029-06-30.
-func TestLiabilityWarrantRemeasured(t *testing.T) {
+// Rule: a liability-classified award to a provider of services is
+// remeasured at every period end and on the day it is exercised, and every
+// change in its fair value is compensation cost (ASC 718-30-35-3; IFRS
+// 2.30-33); its unrecognised cost is measured at the current fair value.
+// 1,000 warrants granted 2029-01-01 for services, vesting 2030-01-01 (365
+// service days), worth 5 at grant, remeasured 6 on 2029-03-31, 4.50 on
+// 2029-06-30, 6.50 on 2029-12-31, 8 on 2030-02-14 (the exercise of 400)
+// and 7 on 2030-03-31.
+//
+//   - Q1 2029: liability = cost = 6 × 1,000 × 90/365 = 1,479.45.
+//   - Q2 2029: liability 4.50 × 1,000 × 181/365 = 2,231.51, so the
+//     quarter's cost is 2,231.51 − 1,479.45 = 752.05; the expected total
+//     is 4,500 at the current fair value, 4,500 × 184/365 unrecognised.
+//   - Q1 2030: the liability opens at 6.50 × 1,000 = 6,500; 400 exercised
+//     at the exercise day's 8 move 3,200 to equity; it closes at
+//     600 × 7 = 4,200; the cost is 4,200 + 3,200 − 6,500 = 900. Had the
+//     warrants been reclassified at the last period-end value of 6.50, the
+//     cost would have been 300: the remeasurement on the exercise day is
+//     the 400 × (8 − 6.50) = 600 between them.
+func TestLiabilityAwardRemeasuredToSettlement(t *testing.T) {
 	a := testAward("W", grants.Warrant, "2029-01-01", []string{"2030-01-01"}, []int64{1000}, []float64{5})
-	a.Grant.Classification = grants.Liability
+	a.Grant.Classification, a.Grant.Purpose = grants.Liability, grants.Compensation
 	a.Remeasurements = []Remeasurement{
 		{Date: ymd("2029-03-31"), FairValue: []float64{6}},
 		{Date: ymd("2029-06-30"), FairValue: []float64{4.5}},
 	}
 	pol := Policy{Attribution: grants.Graded, Forfeitures: grants.AsOccur}
-
-	// Q1: compensation 5000·90/365 = 1,232.88; liability 6000·90/365 =
-	// 1,479.45; change in fair value 1000·90/365 = 246.58.
 	r := mustExpense(t, []Award{a}, pol, "2029-01-01", "2029-03-31")
-	nearly(t, "Q1 compensation", r.Period, 5000.0*90/365, tolMoney)
-	nearly(t, "Q1 fair-value change", r.FairValueChange, 1000.0*90/365, tolMoney)
+	nearly(t, "Q1 compensation", r.Period, 6000.0*90/365, tolMoney)
 	nearly(t, "Q1 liability", r.Grants[0].LiabilityEnd, 6000.0*90/365, tolMoney)
+	nearly(t, "no fair-value change apart from compensation", r.FairValueChange, 0, 0)
 
-	// Q2: compensation 5000·91/365 = 1,246.58; liability 4500·181/365 =
-	// 2,231.51; cumulative change (4500 − 5000)·181/365 = −247.95, so Q2's
-	// change is −247.95 − 246.58 = −494.52.
 	r = mustExpense(t, []Award{a}, pol, "2029-04-01", "2029-06-30")
-	nearly(t, "Q2 compensation", r.Period, 5000.0*91/365, tolMoney)
-	nearly(t, "Q2 fair-value change", r.FairValueChange, (-500.0*181-1000*90)/365, tolMoney)
 	g := r.Grants[0]
-	nearly(t, "Q2 liability roll", g.LiabilityEnd-g.LiabilityOpen, g.Period+g.FairValueChange-g.ReclassifiedEquity, tolMoney)
+	nearly(t, "Q2 compensation", r.Period, 4500.0*181/365-6000.0*90/365, tolMoney)
+	nearly(t, "Q2 expected total at current fair value", g.Cost, 4500, tolMoney)
+	nearly(t, "Q2 unrecognised at current fair value", r.Unrecognized, 4500.0*184/365, tolMoney)
+	nearly(t, "Q2 tranche fair value shown", g.Tranches[0].FairValue, 4.5, 0)
+	nearly(t, "Q2 liability roll", g.LiabilityEnd-g.LiabilityOpen, g.Period-g.ReclassifiedEquity, tolMoney)
 	if len(r.Periods) != 2 || r.Periods[0].Current || !r.Periods[1].Current {
 		t.Fatalf("periods: want Q1 context then Q2 current, got %+v", r.Periods)
 	}
-	nearly(t, "context Q1 fair-value change", r.Periods[0].FairValueChange, 1000.0*90/365, tolMoney)
+	nearly(t, "context Q1 compensation", r.Periods[0].Amount, 6000.0*90/365, tolMoney)
 
-	// Journal: Dr compensation / Cr liability 1,246.58; the gain of 494.52
-	// is Dr liability / Cr change in fair value.
-	want := []Entry{
-		{Lines: []Line{{Role: RoleCompensation, Debit: 5000.0 * 91 / 365}, {Role: RoleLiability, Credit: 5000.0 * 91 / 365}}},
-		{Lines: []Line{{Role: RoleLiability, Debit: (500.0*181 + 1000*90) / 365}, {Role: RoleFairValueChange, Credit: (500.0*181 + 1000*90) / 365}}},
-	}
-	journal := Journal(r, nil, nil)
-	if len(journal) != len(want) {
-		t.Fatalf("journal: got %+v, want %d entries", journal, len(want))
-	}
-	for i := range want {
-		if b := journal[i].Balance(); b != 0 {
-			t.Errorf("journal %d: debits less credits %v, want 0", i, b)
-		}
-		for j, l := range want[i].Lines {
-			got := journal[i].Lines[j]
-			if got.Role != l.Role || got.Account != DefaultAccounts[l.Role] {
-				t.Errorf("journal %d line %d: %s %q, want %s %q", i, j, got.Role, got.Account.Name, l.Role, DefaultAccounts[l.Role].Name)
-			}
-			nearly(t, "journal debit", got.Debit, l.Debit, tolMoney)
-			nearly(t, "journal credit", got.Credit, l.Credit, tolMoney)
-		}
-	}
-
-	// Vested, then 400 exercised on 2030-03-31 at the 2030-03-31 value of
-	// 7: 2,800 is reclassified to equity; the liability left is 600 × 7.
-	a.Remeasurements = append(a.Remeasurements, Remeasurement{Date: ymd("2030-03-31"), FairValue: []float64{7}})
-	a.Events = []grants.Event{{GrantID: "W", Date: ymd("2030-03-31"), Kind: grants.Exercised, Shares: 400}}
+	a.Remeasurements = append(a.Remeasurements,
+		Remeasurement{Date: ymd("2029-12-31"), FairValue: []float64{6.5}},
+		Remeasurement{Date: ymd("2030-02-14"), FairValue: []float64{8}},
+		Remeasurement{Date: ymd("2030-03-31"), FairValue: []float64{7}})
+	a.Events = []grants.Event{{GrantID: "W", Date: ymd("2030-02-14"), Kind: grants.Exercised, Shares: 400}}
 	r = mustExpense(t, []Award{a}, pol, "2030-01-01", "2030-03-31")
 	g = r.Grants[0]
-	nearly(t, "reclassified", g.ReclassifiedEquity, 2800, tolMoney)
-	nearly(t, "liability after exercise", g.LiabilityEnd, 4200, tolMoney)
-	nearly(t, "liability roll after exercise", g.LiabilityEnd-g.LiabilityOpen, g.Period+g.FairValueChange-g.ReclassifiedEquity, tolMoney)
-	nearly(t, "Q1 2030 compensation", r.Period, 0, tolMoney)
+	nearly(t, "Q1 2030 opening liability", g.LiabilityOpen, 6500, tolMoney)
+	nearly(t, "reclassified at the exercise day's value", g.ReclassifiedEquity, 3200, tolMoney)
+	nearly(t, "closing liability", g.LiabilityEnd, 4200, tolMoney)
+	nearly(t, "Q1 2030 compensation", r.Period, 900, tolMoney)
+
+	// Journal: Dr compensation / Cr award liability 900; Dr award
+	// liability / Cr additional paid-in capital 3,200.
+	checkJournal(t, Journal(r, nil, nil), []Entry{
+		{Lines: []Line{{Role: RoleCompensation, Debit: 900}, {Role: RoleAwardLiability, Credit: 900}}},
+		{Lines: []Line{{Role: RoleAwardLiability, Debit: 3200}, {Role: RoleEquity, Credit: 3200}}},
+	}, grants.ASC718)
 }
 
-// Rule: the service period starts at the later of grant date and vest start
-// (ServiceStart). A vest start after the grant date delays accrual; one
-// before it is caught up on the grant date.
+// checkJournal compares entries with want by role and amount, the
+// accounts by the framework's default names, and checks that each balances.
+func checkJournal(t *testing.T, got, want []Entry, fw grants.Framework) {
+	t.Helper()
+	if len(got) != len(want) {
+		t.Fatalf("journal: got %+v, want %d entries", got, len(want))
+	}
+	for i := range want {
+		if b := got[i].Balance(); b != 0 {
+			t.Errorf("journal %d: debits less credits %v, want 0", i, b)
+		}
+		if len(got[i].Lines) != len(want[i].Lines) {
+			t.Fatalf("journal %d: %+v", i, got[i])
+		}
+		for j, l := range want[i].Lines {
+			g := got[i].Lines[j]
+			if g.Role != l.Role || g.Account != DefaultAccount(l.Role, fw) {
+				t.Errorf("journal %d line %d: %s %q, want %s %q", i, j, g.Role, g.Account.Name, l.Role, DefaultAccount(l.Role, fw).Name)
+			}
+			nearly(t, fmt.Sprintf("journal %d line %d debit", i, j), g.Debit, l.Debit, tolMoney)
+			nearly(t, fmt.Sprintf("journal %d line %d credit", i, j), g.Credit, l.Credit, tolMoney)
+		}
+	}
+}
+
+// Rule: service starts on the grant date, or on a later hire date the
+// schedule gives; a vest start after the grant date does not delay it
+// (ASC 718-10-35-2 and IFRS 2.15, from memory: cost follows the service
+// the holder renders, from the grant date for a holder already employed).
+// 455 RSUs at 1 granted 2029-01-01, vesting 2030-04-01 (455 days on).
+//   - Vest start 2029-04-01: service still from 2029-01-01, so Q1 2029
+//     (90 days) books 455 × 90/455 = 90.
+//   - Hire date 2029-04-01: nothing in Q1; 365 service days to vesting, so
+//     April books 455 × 30/365.
+//   - A tranche vested before the grant date (vest start back-dated a
+//     year) is caught up on the grant day.
 func TestServiceStart(t *testing.T) {
-	a := testAward("L", grants.RSU, "2029-01-01", []string{"2030-04-01"}, []int64{365}, []float64{1})
-	a.Grant.VestStart = ymd("2029-04-01") // 365 service days to 2030-04-01
+	a := testAward("L", grants.RSU, "2029-01-01", []string{"2030-04-01"}, []int64{455}, []float64{1})
+	a.Grant.VestStart = ymd("2029-04-01")
 	pol := Policy{Forfeitures: grants.AsOccur}
 	r := mustExpense(t, []Award{a}, pol, "2029-01-01", "2029-03-31")
-	nearly(t, "nothing before vest start", r.Period, 0, tolMoney)
-	r = mustExpense(t, []Award{a}, pol, "2029-04-01", "2029-04-30")
-	nearly(t, "30 days of 365", r.Period, 30, tolMoney)
+	nearly(t, "a later vest start does not delay service", r.Period, 90, tolMoney)
+	if !r.Grants[0].ServiceStart.Equal(ymd("2029-01-01")) {
+		t.Errorf("service start %v, want the grant date", r.Grants[0].ServiceStart)
+	}
 
-	// Vest start back-dated a year to 2028-01-01, four annual tranches:
-	// tranche 1 (vest 2029-01-01) is vested at grant and booked on the grant day.
+	a.Grant.HireDate = ymd("2029-04-01")
+	r = mustExpense(t, []Award{a}, pol, "2029-01-01", "2029-03-31")
+	nearly(t, "nothing before the hire date", r.Period, 0, tolMoney)
+	r = mustExpense(t, []Award{a}, pol, "2029-04-01", "2029-04-30")
+	nearly(t, "30 days of 365 from the hire date", r.Period, 455*30.0/365, tolMoney)
+	a.Grant.HireDate = ymd("2028-06-01") // hired before the grant: the grant date rules
+	r = mustExpense(t, []Award{a}, pol, "2029-01-01", "2029-03-31")
+	nearly(t, "a hire date before the grant changes nothing", r.Period, 90, tolMoney)
+
 	b := testAward("B", grants.Option, "2029-01-01", []string{"2029-01-01", "2030-01-01"}, []int64{100, 100}, []float64{2, 2})
 	b.Grant.VestStart = ymd("2028-01-01")
 	r = mustExpense(t, []Award{b}, pol, "2029-01-01", "2029-01-01")

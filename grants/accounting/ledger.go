@@ -39,7 +39,8 @@ type move struct {
 	dayN   int // dayNum(date)
 	kind   grants.EventKind
 	shares int64
-	vested bool // the tranche was vested on the day of the move
+	vested bool    // the tranche was vested on the day of the move
+	price  float64 // share price on the day of the move; 0 if unknown
 	// replaced marks a cancellation with a replacement award, the change
 	// by (modify.go).
 	replaced bool
@@ -64,15 +65,16 @@ type trancheLedger struct {
 }
 
 type awardLedger struct {
-	in        *Award
-	liability bool
-	rate      float64 // pre-vesting forfeiture rate; 0 under as-occur
-	start     time.Time
-	last      time.Time // last vest date
-	days      int
-	tr        []trancheLedger
-	remeas    []Remeasurement // sorted by date
-	remeasN   []int           // their day numbers
+	in *Award
+	// liability: a liability-classified warrant, remeasured to fair value;
+	// financing: issued in a financing, not compensation.
+	liability, financing bool
+	rate                 float64 // pre-vesting forfeiture rate; 0 under as-occur
+	start                time.Time
+	last                 time.Time // last vest date
+	tr                   []trancheLedger
+	remeas               []Remeasurement // sorted by date
+	remeasN              []int           // their day numbers
 	// day numbers of the grant date and the service start
 	grantN, startN int
 	// expiry is the award's expiry after the changes dated by the ledger's
@@ -112,6 +114,17 @@ func (p Policy) normalized() (Policy, error) {
 	if p.Forfeitures != grants.Estimate && p.Forfeitures != grants.AsOccur {
 		return p, fmt.Errorf("forfeitures %q: want %q or %q", p.Forfeitures, grants.Estimate, grants.AsOccur)
 	}
+	if p.Framework == "" {
+		p.Framework = grants.ASC718
+	}
+	switch {
+	case p.Framework != grants.ASC718 && p.Framework != grants.IFRS2:
+		return p, fmt.Errorf("framework %q: want %q or %q", p.Framework, grants.ASC718, grants.IFRS2)
+	case p.Framework == grants.IFRS2 && p.Attribution != grants.Graded:
+		return p, fmt.Errorf("attribution %q: IFRS 2 treats each tranche as a separate award, so attribution must be %q (IFRS 2.IG11)", p.Attribution, grants.Graded)
+	case p.Framework == grants.IFRS2 && p.Forfeitures != grants.Estimate:
+		return p, fmt.Errorf("forfeitures %q: IFRS 2 recognises the awards expected to vest, so forfeitures must be %q (IFRS 2.20)", p.Forfeitures, grants.Estimate)
+	}
 	if !(p.PreVestingForfeitureRate >= 0 && p.PreVestingForfeitureRate < 1) {
 		return p, fmt.Errorf("pre-vesting forfeiture rate %v: want a share in [0, 1)", p.PreVestingForfeitureRate)
 	}
@@ -124,7 +137,7 @@ func newAwardLedger(a *Award, pol Policy, asOf time.Time) (*awardLedger, error) 
 	if len(a.Tranches) == 0 {
 		return nil, fmt.Errorf("grant %s: no tranches", g.ID)
 	}
-	l := &awardLedger{in: a, liability: g.Instrument == grants.Warrant && g.Classification == grants.Liability, start: ServiceStart(g)}
+	l := &awardLedger{in: a, liability: g.IsLiability(), financing: g.IsFinancing(), start: ServiceStart(g)}
 	if pol.Forfeitures == grants.Estimate {
 		l.rate = pol.PreVestingForfeitureRate
 	}
@@ -150,7 +163,6 @@ func newAwardLedger(a *Award, pol Policy, asOf time.Time) (*awardLedger, error) 
 		l.tr = append(l.tr, t)
 	}
 	l.last = a.Tranches[len(a.Tranches)-1].Tranche.VestDate
-	l.days = valuation.Days(l.start, l.last)
 	l.grantN, l.startN = dayNum(g.GrantDate), dayNum(l.start)
 	l.expiry = g.ExpiryDate
 	if a.Modified != nil {
@@ -180,13 +192,17 @@ func newAwardLedger(a *Award, pol Policy, asOf time.Time) (*awardLedger, error) 
 		l.remeasN = append(l.remeasN, dayNum(r.Date))
 	}
 
-	evs := make([]grants.Event, 0, len(a.Events))
-	for _, e := range a.Events {
+	var evs []pricedEvent
+	for k, e := range a.Events {
 		if e.GrantID != "" && e.GrantID != g.ID {
 			return nil, &EventError{GrantID: e.GrantID, Row: e.Row, Date: e.Date, Msg: fmt.Sprintf("listed under grant %s", g.ID)}
 		}
 		if dayOnOrBefore(e.Date, asOf) {
-			evs = append(evs, e)
+			pe := pricedEvent{Event: e}
+			if k < len(a.EventPrices) {
+				pe.price = a.EventPrices[k]
+			}
+			evs = append(evs, pe)
 		}
 	}
 	sort.SliceStable(evs, func(i, j int) bool { return valuation.Days(evs[j].Date, evs[i].Date) < 0 })
@@ -218,10 +234,11 @@ func (t *trancheLedger) vestedOn(d time.Time) bool { return t.vestN <= dayNum(d)
 
 func (t *trancheLedger) vestedN(d int) bool { return t.vestN <= d }
 
-// expected is the expected share of the tranche's live shares at the end of
-// day d that are still there at its vest date (see ExpectedShare): the rate
-// over the service days still to come, from day d+1 (or the service start)
-// to the day before vesting; 1 once vested or with no forfeiture rate.
+// expected is the expected share of the tranche's live shares at the end
+// of day d that are still there at its vest date (see the package notes
+// on forfeitures): rate over the service days still to come, from day d+1
+// (or the service start) to the day before vesting; 1 once vested or with
+// no forfeiture rate.
 func (t *trancheLedger) expected(d int, rate float64) float64 {
 	if t.vestedN(d) || rate == 0 {
 		return 1
@@ -229,9 +246,19 @@ func (t *trancheLedger) expected(d int, rate float64) float64 {
 	return valuation.SurvivalToVest(rate, float64(t.vestN-max(t.startN, d+1))/365)
 }
 
+// pricedEvent is an event with the share price on its date.
+type pricedEvent struct {
+	grants.Event
+	price float64
+}
+
 // apply checks the events (in date order) against the grant and gives
 // each tranche its moves by grants.Allocate.
-func (l *awardLedger) apply(evs []grants.Event) error {
+func (l *awardLedger) apply(pevs []pricedEvent) error {
+	evs := make([]grants.Event, len(pevs))
+	for i, e := range pevs {
+		evs[i] = e.Event
+	}
 	g := l.in.Grant
 	fail := func(e grants.Event, format string, args ...any) error {
 		return &EventError{GrantID: g.ID, Row: e.Row, Date: e.Date, Msg: fmt.Sprintf(format, args...)}
@@ -268,8 +295,8 @@ func (l *awardLedger) apply(evs []grants.Event) error {
 	}
 	for _, m := range al.Moves {
 		t := &l.tr[m.Tranche]
-		mv := move{date: m.Date, dayN: dayNum(m.Date), kind: m.Kind, shares: m.Shares, vested: m.Vested}
-		if e := evs[m.Event]; e.Kind == grants.Cancelled && e.ReplacementGrantID != "" {
+		mv := move{date: m.Date, dayN: dayNum(m.Date), kind: m.Kind, shares: m.Shares, vested: m.Vested, price: pevs[m.Event].price}
+		if e := pevs[m.Event].Event; e.Kind == grants.Cancelled && e.ReplacementGrantID != "" {
 			mv.replaced, mv.by = true, changeKey{grant: g.ID, day: mv.dayN, replaced: true}
 		}
 		t.moves = append(t.moves, mv)
@@ -330,8 +357,10 @@ func serviceFraction(start, days, d int) float64 {
 // attribute spreads value[i] (fair value × counted shares of tranche i) by
 // the policy through the end of day d, writing each tranche's cumulative
 // cost into out. Tranches vested on or before known count in full; the
-// others at their expected share.
-func (l *awardLedger) attribute(pol Policy, value []float64, d, known int, rate float64, out []float64) {
+// others at their expected share, at the forfeiture rate rate.
+// Straight-line attribution runs from the service start to the day
+// numbered endN.
+func (l *awardLedger) attribute(pol Policy, value []float64, d, known, endN int, rate float64, out []float64) {
 	if d < l.grantN {
 		for i := range out {
 			out[i] = 0
@@ -356,7 +385,7 @@ func (l *awardLedger) attribute(pol Policy, value []float64, d, known int, rate 
 			unvested += v
 		}
 	}
-	cum := math.Max(total*serviceFraction(l.startN, l.days, d), floor)
+	cum := math.Max(total*serviceFraction(l.startN, endN-l.startN, d), floor)
 	rest := cum - floor
 	for i := range l.tr {
 		v := value[i] * q(i)
@@ -384,9 +413,10 @@ func (l *awardLedger) fairValueAt(i int, d int) float64 {
 
 // snapshot is an award's position through the end of a day.
 type snapshot struct {
-	comp      []float64 // cumulative compensation cost by tranche
+	comp      []float64 // cumulative compensation cost by tranche (none for a financing warrant)
 	liability float64   // warrant liability
-	settled   float64   // cumulative liability reclassified to equity
+	settled   float64   // cumulative liability reclassified to equity on exercise
+	issued    float64   // a financing warrant's liability recognised at issue
 }
 
 func (s snapshot) compTotal() float64 {
@@ -397,8 +427,9 @@ func (s snapshot) compTotal() float64 {
 	return t
 }
 
-// fvChange is the cumulative change in fair value of a liability warrant.
-func (s snapshot) fvChange() float64 { return s.liability + s.settled - s.compTotal() }
+// fvChange is the cumulative change in fair value of a financing
+// warrant's liability since its issue.
+func (s snapshot) fvChange() float64 { return s.liability + s.settled - s.issued }
 
 func (l *awardLedger) at(pol Policy, dt, knownt time.Time) snapshot {
 	return l.atInto(pol, dt, knownt, make([]float64, len(l.tr)))
@@ -428,6 +459,14 @@ type view struct {
 
 // atView is the award's position in view v, the cumulative cost by
 // tranche written into comp.
+//
+// An equity-classified award's cost is its grant-date fair value times the
+// shares counted, attributed over service. A liability-classified one's
+// is its liability (the latest fair value times the outstanding shares
+// counted, attributed over service) plus what was reclassified to equity
+// on exercise at the fair value of the exercise day. A financing warrant
+// has no cost: its liability, if it is one, is the latest fair value times
+// the outstanding warrants, in full from the issue date.
 func (l *awardLedger) atView(pol Policy, v view, comp []float64) snapshot {
 	if l.layered {
 		return l.atLayered(pol, v, comp)
@@ -441,29 +480,72 @@ func (l *awardLedger) atView(pol Policy, v view, comp []float64) snapshot {
 	value, counts := l.bufValue[:n], l.bufCounts[:n]
 	for i := range l.tr {
 		counts[i] = l.tr[i].countsWhere(d, v.keep)
-		value[i] = l.tr[i].FairValue * float64(counts[i].live(l.tr[i].Tranche.Shares))
 	}
-	l.attribute(pol, value, d, known, v.rate, s.comp)
-	for i := range l.tr {
-		s.comp[i] += l.tr[i].FairValue * float64(counts[i].accelerated)
+	if l.financing {
+		for i := range comp {
+			comp[i] = 0
+		}
+		if !l.liability || d < l.grantN {
+			return s
+		}
+		for i, t := range l.tr {
+			s.issued += t.FairValue * float64(t.Tranche.Shares)
+			s.liability += l.fairValueAt(i, d) * float64(counts[i].open)
+			s.settled += l.settledN(i, v)
+		}
+		return s
 	}
+	endN := l.serviceEndN(counts)
 	if !l.liability {
+		for i := range l.tr {
+			value[i] = l.tr[i].FairValue * float64(counts[i].live(l.tr[i].Tranche.Shares))
+		}
+		l.attribute(pol, value, d, known, endN, v.rate, s.comp)
+		for i := range l.tr {
+			s.comp[i] += l.tr[i].FairValue * float64(counts[i].accelerated)
+		}
 		return s
 	}
 	for i := range l.tr {
 		value[i] = l.fairValueAt(i, d) * float64(counts[i].open)
-		for _, m := range l.tr[i].moves {
-			if m.kind == grants.Exercised && m.dayN <= d && (v.keep == nil || v.keep(m)) {
-				s.settled += l.fairValueAt(i, m.dayN) * float64(m.shares)
-			}
-		}
 	}
 	lia := l.bufLia[:n]
-	l.attribute(pol, value, d, known, v.rate, lia)
-	for _, x := range lia {
-		s.liability += x
+	l.attribute(pol, value, d, known, endN, v.rate, lia)
+	for i := range l.tr {
+		settled := l.settledN(i, v)
+		s.comp[i] = lia[i] + settled
+		s.liability += lia[i]
+		s.settled += settled
 	}
 	return s
+}
+
+// settledN is what tranche i's exercises counted in view v (those keep
+// accepts, or with keep nil those on or before day d) reclassified from
+// the liability to equity: each at the fair value of its exercise day,
+// remeasured then (IFRS 2.30; ASC 718-30-35-3 and ASC 815-40-35). The
+// exercised shares leave the liability in the same view (countsWhere).
+func (l *awardLedger) settledN(i int, v view) float64 {
+	var x float64
+	for _, m := range l.tr[i].moves {
+		if m.kind == grants.Exercised && (v.keep == nil && m.dayN <= v.d || v.keep != nil && v.keep(m)) {
+			x += l.fairValueAt(i, m.dayN) * float64(m.shares)
+		}
+	}
+	return x
+}
+
+// serviceEndN is the day number of the last vest date of a tranche with
+// shares whose cost still counts (not forfeited or cancelled before
+// vesting): where straight-line attribution ends. With none, the last
+// vest date.
+func (l *awardLedger) serviceEndN(counts []trancheCounts) int {
+	for i := len(l.tr) - 1; i >= 0; i-- {
+		if counts[i].live(l.tr[i].Tranche.Shares) > 0 {
+			return l.tr[i].vestN
+		}
+	}
+	return l.tr[len(l.tr)-1].vestN
 }
 
 // costs is the award's expected total compensation cost and its

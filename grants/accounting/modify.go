@@ -202,7 +202,6 @@ func (l *awardLedger) cut(asOf time.Time) {
 		tr = append(tr, t)
 	}
 	l.tr = tr
-	l.days = valuation.Days(l.start, l.last)
 }
 
 // layer builds each part's layers from the grant-date value and the
@@ -391,10 +390,12 @@ func (l *awardLedger) atLayered(pol Policy, v view, comp []float64) snapshot {
 			}
 			live, acc := t.counts(ly, d, v)
 			comp[i] += ly.value * float64(acc)
-			if _, ok := groups[ly.key]; !ok {
+			if _, ok := entries[ly.key]; !ok {
 				order = append(order, ly.key)
 			}
-			groups[ly.key] = append(groups[ly.key], ly)
+			if live > 0 { // straight-line ends at the last vest day with shares still counted
+				groups[ly.key] = append(groups[ly.key], ly)
+			}
 			entries[ly.key] = append(entries[ly.key], entry{i, ly.value * float64(live) * ly.expected(kd, v.rate, v), d >= ly.target(d, v)})
 		}
 	}
@@ -408,7 +409,11 @@ func (l *awardLedger) atLayered(pol Policy, v view, comp []float64) snapshot {
 				unvested += e.vq
 			}
 		}
-		cum := math.Max(total*groupFrac(groups[k], d, v), floor)
+		f := 0.0
+		if len(groups[k]) > 0 {
+			f = groupFrac(groups[k], d, v)
+		}
+		cum := math.Max(total*f, floor)
 		rest := cum - floor
 		for _, e := range entries[k] {
 			switch {

@@ -43,13 +43,21 @@ type Prior struct {
 	Periods       []PeriodAmount // as booked, its own period last
 	Unrecognized  float64        // at its valuation date, as filed
 	Grants        []PriorGrant   // in its ledger order
+	// LiabilityChangeApart is set for a close that showed a
+	// liability-classified award's change in fair value apart from
+	// compensation (grantworth's format 1): its booked cost cannot be
+	// carried on by the rule of ASC 718-30-35-3.
+	LiabilityChangeApart bool
 }
 
 // PriorGrant is one grant as a prior close filed it.
 type PriorGrant struct {
-	ID              string
-	Instrument      grants.Instrument
-	Liability       bool // a liability-classified warrant
+	ID         string
+	Instrument grants.Instrument
+	Liability  bool // a liability-classified warrant
+	// Financing is a warrant the close kept apart as issued in a
+	// financing: no compensation, only its liability and measurements.
+	Financing       bool
 	GrantDate       time.Time
 	ServiceStart    time.Time
 	MeasurementDate time.Time
@@ -127,6 +135,14 @@ func Open(s *grants.Schedule, p *Prior) (warnings []string, err error) {
 	if pol.Forfeitures != prev.Forfeitures {
 		return nil, refuse("forfeitures is %s now (%s) but was %s at the prior close of %s: a change of accounting policy is not booked by grantworth; keep the policy, or start a new chain without --prior",
 			pol.Forfeitures, a.Refs["forfeitures"], prev.Forfeitures, day(p.ValuationDate))
+	}
+	if p.LiabilityChangeApart {
+		for _, pg := range p.Grants {
+			if g, ok := s.Grant(pg.ID); ok && pg.Liability && !g.IsFinancing() {
+				return nil, refuse("the prior close %s (format version %d) showed the change in fair value of liability-classified warrant %s apart from compensation; it is compensation now (ASC 718-30-35-3): value the quarter of %s again with this grantworth and give its output",
+					p.Path, p.SchemaVersion, pg.ID, day(p.ValuationDate))
+			}
+		}
 	}
 	valued := map[string]bool{}
 	for _, g := range s.Grants {
@@ -225,9 +241,17 @@ func Filed(s *grants.Schedule, v *pricing.Valuation, b *Books) *Prior {
 	for i := range rep.Grants {
 		booked[rep.Grants[i].GrantID] = &rep.Grants[i]
 	}
+	financing := make(map[string]*FinancingWarrant, len(rep.Financing))
+	for i := range rep.Financing {
+		financing[rep.Financing[i].GrantID] = &rep.Financing[i]
+	}
 	for i := range v.Grants {
 		gv := &v.Grants[i]
 		in, g := &gv.Inputs, gv.Inputs.Grant
+		if fw, ok := financing[g.ID]; ok {
+			p.Grants = append(p.Grants, filedFinancing(gv, fw))
+			continue
+		}
 		ge, ok := booked[g.ID]
 		if !ok {
 			continue
@@ -239,22 +263,11 @@ func Filed(s *grants.Schedule, v *pricing.Valuation, b *Books) *Prior {
 		for _, e := range ge.Events {
 			pg.Events = append(pg.Events, grants.Event{GrantID: g.ID, Date: e.Date, Kind: e.Kind, Shares: e.Shares})
 		}
-		for _, n := range in.Named() {
-			pg.Inputs[n.Key] = *n.Source
-		}
-		if g.Instrument != grants.RSU {
-			pg.Inputs["strike"] = grants.Source{Value: g.Strike, Ref: g.Refs["strike"]}
-		}
-		for k, t := range in.Tranches {
-			pg.Tranches = append(pg.Tranches, PriorTranche{Index: t.Index, VestDate: t.VestDate, Shares: t.Shares,
-				Result:       valuation.Result{Value: gv.Results[k].Value, ErrorEstimate: gv.Results[k].ErrorEstimate, ExpectedTermYears: gv.Results[k].ExpectedTermYears, Steps: gv.Results[k].Steps},
-				BSM:          valuation.Result{Value: gv.BSM[k].Value, ExpectedTermYears: gv.BSM[k].ExpectedTermYears},
-				RiskFreeRate: gv.RiskFreeRate[k], SimplifiedRate: gv.SimplifiedRate[k], Cumulative: ge.Tranches[k].Cumulative})
-		}
+		filedMeasurements(&pg, gv, func(k int) float64 { return ge.Tranches[k].Cumulative })
 		if pg.Liability {
 			at0 := make([]float64, len(ge.Tranches))
 			for k, t := range ge.Tranches {
-				at0[k] = t.FairValue
+				at0[k] = t.GrantDateFairValue
 			}
 			pg.Remeasurements = append([]Remeasurement{{Date: g.GrantDate, FairValue: at0}}, ge.Remeasurements...)
 		}
@@ -262,4 +275,37 @@ func Filed(s *grants.Schedule, v *pricing.Valuation, b *Books) *Prior {
 		p.Grants = append(p.Grants, pg)
 	}
 	return p
+}
+
+// filedMeasurements gives pg the inputs and tranche values of gv, each
+// tranche with the cumulative cost cum gives it.
+func filedMeasurements(pg *PriorGrant, gv *pricing.GrantValue, cum func(k int) float64) {
+	in, g := &gv.Inputs, gv.Inputs.Grant
+	for _, n := range in.Named() {
+		pg.Inputs[n.Key] = *n.Source
+	}
+	if g.Instrument != grants.RSU {
+		pg.Inputs["strike"] = grants.Source{Value: g.Strike, Ref: g.Refs["strike"]}
+	}
+	for k, t := range in.Tranches {
+		pg.Tranches = append(pg.Tranches, PriorTranche{Index: t.Index, VestDate: t.VestDate, Shares: t.Shares,
+			Result:       valuation.Result{Value: gv.Results[k].Value, ErrorEstimate: gv.Results[k].ErrorEstimate, ExpectedTermYears: gv.Results[k].ExpectedTermYears, Steps: gv.Results[k].Steps},
+			BSM:          valuation.Result{Value: gv.BSM[k].Value, ExpectedTermYears: gv.BSM[k].ExpectedTermYears},
+			RiskFreeRate: gv.RiskFreeRate[k], SimplifiedRate: gv.SimplifiedRate[k], Cumulative: cum(k)})
+	}
+}
+
+// filedFinancing is what a close files for a warrant issued in a
+// financing: no cost, its measurements, and for a liability its balance,
+// its reclassifications and its fair values from issue on.
+func filedFinancing(gv *pricing.GrantValue, fw *FinancingWarrant) PriorGrant {
+	g := gv.Inputs.Grant
+	pg := PriorGrant{ID: g.ID, Instrument: g.Instrument, Liability: g.IsLiability(), Financing: true, GrantDate: g.GrantDate,
+		ServiceStart: g.GrantDate, MeasurementDate: gv.Inputs.MeasurementDate, ExpiryDate: g.ExpiryDate, Inputs: map[string]grants.Source{},
+		LiabilityEnd: fw.LiabilityEnd, Reclassified: fw.ReclassifiedToDate, Outstanding: fw.Outstanding, Remeasurements: fw.Remeasurements}
+	for _, e := range fw.Events {
+		pg.Events = append(pg.Events, grants.Event{GrantID: g.ID, Date: e.Date, Kind: e.Kind, Shares: e.Shares})
+	}
+	filedMeasurements(&pg, gv, func(int) float64 { return 0 })
+	return pg
 }

@@ -247,20 +247,6 @@ func chainSchedule(end string) *grants.Schedule {
 	return s
 }
 
-// valueAt values s on the lattice, keeping prior's locks.
-func valueAt(t *testing.T, s *grants.Schedule, prior *Prior) *pricing.Valuation {
-	t.Helper()
-	ins, errs, _ := s.ValueInputs()
-	if len(errs) > 0 {
-		t.Fatal(errs)
-	}
-	v, err := pricing.Value(s, ins, pricing.Options{Locks: prior.Locks()})
-	if err != nil {
-		t.Fatal(err)
-	}
-	return v
-}
-
 // Closing quarter after quarter, each close following the last, gives the
 // same figures as one close at the end over the same schedule, to the last
 // bit: the expense report, the disclosures and the journal (our own rule:
@@ -271,7 +257,7 @@ func TestChainEqualsOneRun(t *testing.T) {
 	var b *Books
 	for _, end := range []string{"2026-03-31", "2026-06-30", "2026-09-30"} {
 		s := chainSchedule(end)
-		v := valueAt(t, s, prior)
+		v := grantstest.Value(t, s, prior.Locks())
 		b = closeOf(t, s, v, prior)
 		if r := b.Reconciliation; r != nil {
 			if err := r.Check(); err != nil || len(r.CatchUps) != 0 {
@@ -281,7 +267,7 @@ func TestChainEqualsOneRun(t *testing.T) {
 		prior = Filed(s, v, b)
 	}
 	s := chainSchedule("2026-09-30")
-	one := closeOf(t, s, valueAt(t, s, nil), nil)
+	one := closeOf(t, s, grantstest.Value(t, s, nil), nil)
 	if !reflect.DeepEqual(b.Expense, one.Expense) {
 		t.Errorf("expense after the chain:\n%s\none close:\n%s", b.Expense, one.Expense)
 		for i := range one.Expense.Grants {
@@ -306,7 +292,7 @@ func TestChainEqualsOneRun(t *testing.T) {
 func TestLockedValuesSurviveChangedAssumption(t *testing.T) {
 	t.Parallel()
 	s := chainSchedule("2026-06-30")
-	v := valueAt(t, s, nil)
+	v := grantstest.Value(t, s, nil)
 	prior := Filed(s, v, closeOf(t, s, v, nil))
 	filed := map[string][]float64{}
 	for _, gv := range v.Grants {
@@ -317,7 +303,7 @@ func TestLockedValuesSurviveChangedAssumption(t *testing.T) {
 
 	s = chainSchedule("2026-09-30")
 	s.Assumptions.Volatility = 0.65
-	v = valueAt(t, s, prior)
+	v = grantstest.Value(t, s, prior.Locks())
 	b := closeOf(t, s, v, prior)
 	for _, gv := range v.Grants {
 		id := gv.Inputs.Grant.ID
@@ -340,7 +326,7 @@ func TestLockedValuesSurviveChangedAssumption(t *testing.T) {
 	}
 	s = chainSchedule("2026-09-30")
 	s.Assumptions.Dated = []grants.AssumptionRow{{Key: "volatility", Effective: ymd("2026-07-01"), Value: 0.65}}
-	v = valueAt(t, s, prior)
+	v = grantstest.Value(t, s, prior.Locks())
 	for _, w := range v.Warnings {
 		if strings.Contains(w, "keeps the grant-date fair value") {
 			t.Errorf("a dated change gave the warning %q", w)

@@ -18,6 +18,7 @@ type Cause string
 // cause when it has several.
 const (
 	CauseCorrection     Cause = "fair_value_corrected"        // the grant-date value was measured again (a correction of an error)
+	CausePurpose        Cause = "purpose_changed"             // booked as compensation, issued in a financing now (or the reverse)
 	CauseLateGrant      Cause = "late_grant"                  // a grant dated in a closed period, first recorded now
 	CauseLateEvent      Cause = "late_event"                  // an event dated in a closed period, first recorded now
 	CauseEventRemoved   Cause = "event_removed"               // an event the prior close applied is no longer recorded
@@ -36,17 +37,23 @@ type CatchUp struct {
 	Cause     Cause
 	Detail    string // every cause found, in words, with cells
 	Amount    float64
-	Liability bool // booked against the warrant liability rather than equity
+	Liability bool // booked against the award liability rather than equity
+	// Financing is compensation reversed on a warrant the prior close
+	// booked as compensation whose purpose is financing now: booked
+	// against the financing's proceeds.
+	Financing bool
 }
 
 // Reconciliation walks from the prior close to this one: the
-// unrecognised compensation cost, the period's expense, the warrant
-// liability and the awards outstanding; and lists the catch-ups.
+// unrecognised compensation cost, the period's expense, the liability of
+// liability-classified awards and the awards outstanding; and lists the
+// catch-ups. The warrants issued in financings have their own roll
+// (FinancingWarrant).
 type Reconciliation struct {
 	Prior        *Prior
 	Unrecognized Walk
 	Expense      Walk
-	Liability    *Walk // nil without a liability-classified warrant
+	Liability    *Walk // nil without a liability-classified award
 	Outstanding  []CountWalk
 	CatchUps     []CatchUp
 	// Locked, Corrected and Measured count the grants whose grant-date
@@ -128,14 +135,16 @@ func (p *period) states(l *awardLedger, pr *Prior) grantStates {
 }
 
 // reconcile walks from the prior close to rep and d, the period's
-// attribution and disclosures; sts are the states of p's ledgers in
-// order; s and v give the cells and corrections that catch-ups name.
+// attribution and disclosures; sts are the states of p's compensation
+// ledgers in order (those of rep.Grants); s and v give the cells and
+// corrections that catch-ups name. A financing warrant the prior close
+// booked as compensation has that compensation reversed, a catch-up.
 func (p *period) reconcile(pr *Prior, sts []grantStates, rep *ExpenseReport, d *Disclosure, s *grants.Schedule, v *pricing.Valuation) (*Reconciliation, error) {
 	r := &Reconciliation{Prior: pr}
-	var K, Q, Nw, F, Mod float64        // cost moves
+	var K, Q, Nw, F, R, Mod float64     // cost moves
 	var Kc, Qc, S, Fc, Cc, Smod float64 // cumulative moves
 	var hasLiability bool
-	var lOpen, lComp, lFV, lReclass, lEnd float64
+	var lOpen, lComp, lReclass, lEnd float64
 	for i, st := range sts {
 		ge := &rep.Grants[i]
 		l := st.ledger
@@ -150,6 +159,7 @@ func (p *period) reconcile(pr *Prior, sts []grantStates, rep *ExpenseReport, d *
 		F += st.costB2 - st.costA
 		Mod += st.costM - st.costB2
 		Q += st.costC - st.costM
+		R += ge.Cost - st.costC // a liability-classified award remeasured in the period
 		Fc += st.cumB1 - st.cumA
 		Cc += st.cumB2 - st.cumB1
 		S += st.cumD0 - st.cumB2
@@ -158,13 +168,23 @@ func (p *period) reconcile(pr *Prior, sts []grantStates, rep *ExpenseReport, d *
 			hasLiability = true
 			lOpen += st.liabilityOpen
 			lComp += ge.Period
-			lFV += ge.FairValueChange
 			lReclass -= ge.ReclassifiedEquity
 			lEnd += ge.LiabilityEnd
 		}
 		if st.old {
 			r.CatchUps = append(r.CatchUps, catchUps(st, l, pr, s, v)...)
 		}
+	}
+	for _, fw := range rep.Financing {
+		pg, ok := pr.grant(fw.GrantID)
+		if !ok || pg.Financing {
+			continue
+		}
+		K -= pg.Cost
+		Kc += fw.CompensationReversed
+		g, _ := s.Grant(fw.GrantID)
+		r.CatchUps = append(r.CatchUps, CatchUp{GrantID: fw.GrantID, Cause: CausePurpose, Amount: fw.CompensationReversed, Financing: true,
+			Detail: fmt.Sprintf("its purpose is financing now (%s), compensation at the prior close: issued in a financing, it is not share-based payment, so the compensation of %.2f the prior close booked for it is reversed; its value goes with the financing", purposeCell(s, g), pg.Cumulative)})
 	}
 	asOf := func(t time.Time) string { return t.Format(time.DateOnly) }
 	var err error
@@ -176,6 +196,7 @@ func (p *period) reconcile(pr *Prior, sts []grantStates, rep *ExpenseReport, d *
 			{Key: "modifications", Label: "Modifications of the period (incremental fair value, and Type III and replacement effects)", Exact: Mod},
 			{Key: "forfeiture_estimate", Label: "Changes in the forfeiture estimate", Exact: Q},
 			{Key: "catch_ups", Label: "Catch-ups for closed periods (cost)", Exact: K},
+			{Key: "remeasurement", Label: "Remeasurement of liability-classified awards to fair value", Exact: R},
 		}, map[string]bool{"expense": true},
 		WalkLine{Key: "closing", Label: "Unrecognized cost at this close, " + asOf(p.end), Exact: rep.Unrecognized})
 	if err != nil {
@@ -183,7 +204,7 @@ func (p *period) reconcile(pr *Prior, sts []grantStates, rep *ExpenseReport, d *
 	}
 	r.Expense, err = newWalk(nil,
 		[]WalkLine{
-			{Key: "service", Label: "Service rendered in the period", Exact: S},
+			{Key: "service", Label: "Service rendered in the period (with the remeasurement of liability-classified awards)", Exact: S},
 			{Key: "forfeitures", Label: "Forfeitures in the period (cost reversed)", Exact: Fc},
 			{Key: "cancellations", Label: "Cancellations in the period (unrecognized cost recognized at once)", Exact: Cc},
 			{Key: "modifications", Label: "Modifications of the period (cost recognized because of them)", Exact: Smod},
@@ -195,13 +216,12 @@ func (p *period) reconcile(pr *Prior, sts []grantStates, rep *ExpenseReport, d *
 		return nil, err
 	}
 	if hasLiability {
-		w, err := newWalk(&WalkLine{Key: "opening", Label: "Warrant liability at the prior close of " + asOf(pr.ValuationDate), Exact: lOpen},
+		w, err := newWalk(&WalkLine{Key: "opening", Label: "Liability of liability-classified awards at the prior close of " + asOf(pr.ValuationDate), Exact: lOpen},
 			[]WalkLine{
-				{Key: "compensation", Label: "Compensation expense (liability-classified warrants)", Exact: lComp},
-				{Key: "fair_value_change", Label: "Change in fair value (apart from compensation)", Exact: lFV},
-				{Key: "reclassified", Label: "Exercised warrants reclassified to equity", Exact: lReclass},
+				{Key: "compensation", Label: "Compensation expense (liability-classified awards, remeasured to fair value)", Exact: lComp},
+				{Key: "reclassified", Label: "Exercised awards reclassified to equity", Exact: lReclass},
 			}, nil,
-			WalkLine{Key: "closing", Label: "Warrant liability at this close, " + asOf(p.end), Exact: lEnd})
+			WalkLine{Key: "closing", Label: "Liability of liability-classified awards at this close, " + asOf(p.end), Exact: lEnd})
 		if err != nil {
 			return nil, err
 		}
@@ -300,6 +320,9 @@ func diagnose(st grantStates, l *awardLedger, pr *Prior, s *grants.Schedule, v *
 		}
 	}
 	pg := st.prior
+	if pg != nil && pg.Financing {
+		add(CausePurpose, "its purpose is compensation now (%s), financing at the prior close: its cost is recognised from its grant date", purposeCell(s, g))
+	}
 	if pg == nil {
 		add(CauseLateGrant, "granted on %s, in a closed period, and first valued now", g.GrantDate.Format(time.DateOnly))
 	} else {
@@ -336,7 +359,7 @@ func diagnose(st grantStates, l *awardLedger, pr *Prior, s *grants.Schedule, v *
 	}
 	var causes []Cause
 	var details []string
-	for _, c := range []Cause{CauseCorrection, CauseLateGrant, CauseLateEvent, CauseEventRemoved, CauseLateModification, CauseModificationRemoved, CauseVesting, CauseTerms} {
+	for _, c := range []Cause{CauseCorrection, CausePurpose, CauseLateGrant, CauseLateEvent, CauseEventRemoved, CauseLateModification, CauseModificationRemoved, CauseVesting, CauseTerms} {
 		if ds, ok := found[c]; ok {
 			causes = append(causes, c)
 			details = append(details, ds...)
@@ -421,4 +444,16 @@ func groupInt(n int64) string {
 		return "-" + b.String()
 	}
 	return b.String()
+}
+
+// purposeCell is where grant g's purpose was read: its cell, or for a
+// schedule built in code the sheet.
+func purposeCell(s *grants.Schedule, g grants.Grant) string {
+	if r, ok := g.Refs["purpose"]; ok {
+		return r.String()
+	}
+	if g.Row > 0 {
+		return s.Cell(grants.SheetGrants, "purpose", g.Row).String()
+	}
+	return "the Grants sheet"
 }

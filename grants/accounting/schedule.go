@@ -8,7 +8,8 @@ import (
 
 // AwardOf pairs grant g of s with its tranches as granted
 // (Schedule.Tranches, before forfeitures: attribution applies the events
-// itself), its events and fairValue, the fair value per share of each
+// itself), its events with the share price in force on each event's date
+// (Schedule.PriceAt) and fairValue, the fair value per share of each
 // tranche in the same order.
 func AwardOf(s *grants.Schedule, g grants.Grant, fairValue []float64) (Award, error) {
 	ts := s.Tranches(g)
@@ -16,19 +17,27 @@ func AwardOf(s *grants.Schedule, g grants.Grant, fairValue []float64) (Award, er
 		return Award{}, fmt.Errorf("grant %s: %d fair values for %d tranches", g.ID, len(fairValue), len(ts))
 	}
 	a := Award{Grant: g, Events: s.EventsOf(g.ID)}
+	for _, e := range a.Events {
+		var px float64
+		if p, ok := s.PriceAt(e.Date); ok {
+			px = p.Price
+		}
+		a.EventPrices = append(a.EventPrices, px)
+	}
 	for i, t := range ts {
 		a.Tranches = append(a.Tranches, TrancheCost{Tranche: grants.Tranche{GrantID: t.GrantID, Index: t.Index, VestDate: t.VestDate, Shares: t.Shares}, FairValue: fairValue[i]})
 	}
 	return a, nil
 }
 
-// PolicyOf is the schedule's attribution and forfeiture policy: the
-// Assumptions rows in force at its valuation date.
+// PolicyOf is the schedule's attribution and forfeiture policy and its
+// framework: the Assumptions rows in force at its valuation date.
 func PolicyOf(s *grants.Schedule) Policy {
 	a := s.InForce()
 	return Policy{
 		Attribution:              a.Attribution,
 		Forfeitures:              a.Forfeitures,
 		PreVestingForfeitureRate: a.PreVestingForfeitureRate,
+		Framework:                a.Framework,
 	}
 }

@@ -37,10 +37,15 @@
 //     a warning each (the first MissedTargetWarnings): the lattice's value
 //     and estimate, and the Monte Carlo value of the same terms beside it
 //     for the first MissedTargetSample the simulation can value.
-//   - Revaluations of each liability-classified warrant at its grant date
-//     and at the past quarter ends (RemeasurementDates), which the
-//     accounting needs to show the change in fair value apart from
-//     compensation.
+//   - Revaluations of each liability-classified warrant at its grant date,
+//     at the past quarter ends and on the days of its exercises before
+//     its expiry (RemeasurementDates): the accounting remeasures the
+//     liability to them, and reclassifies exercised warrants to equity at
+//     the exercise day's value, not the last period end's.
+//   - Per tranche, the zero rates at its years to expiry, at the term of
+//     its closed-form comparison and at its expected term
+//     (ExpectedTermRate), the last being the rate disclosed for the
+//     period's grants.
 //
 // # After a prior close
 //

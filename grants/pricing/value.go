@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"runtime"
+	"slices"
 	"sort"
 	"strconv"
 	"sync"
@@ -83,10 +84,11 @@ type GrantValue struct {
 	// differently, by how much and why; nil otherwise.
 	Drift *Drift
 	// RiskFreeRate is, per tranche, the continuous zero rate of the
-	// grant's curve at the tranche's years to expiry, and SimplifiedRate
-	// at the term of its closed-form comparison (BSM's ExpectedTermYears);
-	// both 0 without a curve.
-	RiskFreeRate, SimplifiedRate []float64
+	// grant's curve at the tranche's years to expiry, SimplifiedRate at
+	// the term of its closed-form comparison (BSM's ExpectedTermYears) and
+	// ExpectedTermRate at its expected term (Results' ExpectedTermYears),
+	// the rate disclosed for the period's grants; all 0 without a curve.
+	RiskFreeRate, SimplifiedRate, ExpectedTermRate []float64
 }
 
 // FairValueTotal is the sum over the tranches of value times shares.
@@ -198,9 +200,14 @@ type Valuation struct {
 	Warnings      []string
 }
 
-// RemeasurementDates are the quarter ends from the one containing
-// grantDate up to before end, the most recent MaxRemeasurements of them.
-func RemeasurementDates(grantDate, end time.Time) []time.Time {
+// RemeasurementDates are the days before end on which a
+// liability-classified warrant granted on grantDate is revalued after its
+// grant date: the quarter ends from the one containing grantDate up to
+// before end, the most recent MaxRemeasurements of them, and the days in
+// (grantDate, end) of its exercises, given in exercised, on which it is
+// remeasured before the exercised warrants leave the liability (IFRS
+// 2.30; ASC 718-30-35-3; ASC 815-40-35). In date order, each day once.
+func RemeasurementDates(grantDate, end time.Time, exercised []time.Time) []time.Time {
 	var ends []time.Time
 	for q := quarterEndOf(grantDate); q.Before(end); q = quarterEndOf(q.AddDate(0, 0, 1)) {
 		ends = append(ends, q)
@@ -208,16 +215,22 @@ func RemeasurementDates(grantDate, end time.Time) []time.Time {
 	if len(ends) > MaxRemeasurements {
 		ends = ends[len(ends)-MaxRemeasurements:]
 	}
-	return ends
+	for _, d := range exercised {
+		if d.After(grantDate) && d.Before(end) {
+			ends = append(ends, d)
+		}
+	}
+	sort.Slice(ends, func(i, j int) bool { return ends[i].Before(ends[j]) })
+	return slices.CompactFunc(ends, func(a, b time.Time) bool { return a.Equal(b) })
 }
 
 // revaluationDates are the dates a liability-classified warrant is
-// revalued at before end: its grant date and RemeasurementDates, and the
-// valuation date of the prior close it is locked to (a close measured it
-// then) when that is not a quarter end.
-func revaluationDates(gv *GrantValue, end time.Time) []time.Time {
+// revalued at before end: its grant date and RemeasurementDates (with the
+// days of its exercises), and the valuation date of the prior close it is
+// locked to (a close measured it then) when that is not a quarter end.
+func revaluationDates(gv *GrantValue, end time.Time, exercised []time.Time) []time.Time {
 	g := gv.Inputs.Grant
-	dates := append([]time.Time{g.GrantDate}, RemeasurementDates(g.GrantDate, end)...)
+	dates := append([]time.Time{g.GrantDate}, RemeasurementDates(g.GrantDate, end, exercised)...)
 	if lk := gv.Lock; lk != nil && gv.Status == Remeasured && lk.Close.Before(end) && lk.Close.After(g.GrantDate) {
 		for _, d := range dates {
 			if valuation.Days(d, lk.Close) == 0 {
@@ -298,8 +311,14 @@ func Value(s *grants.Schedule, ins []grants.Inputs, opts Options) (*Valuation, e
 		if !isLiability(g) {
 			continue
 		}
+		var exercised []time.Time
+		for _, e := range s.EventsOf(g.ID) {
+			if e.Kind == grants.Exercised && e.Date.Before(g.ExpiryDate) {
+				exercised = append(exercised, e.Date)
+			}
+		}
 		var rs []Revaluation
-		for _, at := range revaluationDates(gv, end) {
+		for _, at := range revaluationDates(gv, end, exercised) {
 			if gv.Status == Remeasured && gv.Lock != nil {
 				if r, ok := gv.Lock.revaluation(at); ok && len(r.Values) == len(gv.Inputs.Tranches) {
 					rs = append(rs, r)
@@ -386,10 +405,12 @@ func (p *pricer) compare(gv *GrantValue) error {
 	}
 	gv.RiskFreeRate = make([]float64, len(in.Terms))
 	gv.SimplifiedRate = make([]float64, len(in.Terms))
+	gv.ExpectedTermRate = make([]float64, len(in.Terms))
 	if c := in.Market.Curve; c != nil {
 		for k, t := range in.Terms {
 			gv.RiskFreeRate[k] = c.Zero(t.YearsToExpiry)
 			gv.SimplifiedRate[k] = c.Zero(gv.BSM[k].ExpectedTermYears)
+			gv.ExpectedTermRate[k] = c.Zero(gv.Results[k].ExpectedTermYears)
 		}
 	}
 	return nil

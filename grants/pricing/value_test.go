@@ -35,23 +35,34 @@ func valuedSample(t *testing.T) *Valuation {
 }
 
 // Calendar quarter ends (common practice) from the grant's quarter up to
-// before the period end, at most MaxRemeasurements of the latest.
+// before the period end, at most MaxRemeasurements of the latest, and the
+// days of exercises after the grant and before the period end, on which
+// the liability is remeasured before it is reclassified (IFRS 2.30;
+// ASC 815-40-35): each day once, in order.
 func TestRemeasurementDates(t *testing.T) {
 	cases := []struct {
 		grant, end string
 		want       []string
+		exercised  []string
 	}{
-		{"2025-02-10", "2025-09-30", []string{"2025-03-31", "2025-06-30"}},
-		{"2025-03-31", "2025-09-30", []string{"2025-03-31", "2025-06-30"}},
-		{"2025-07-01", "2025-09-30", nil},
-		{"2025-11-15", "2025-12-31", nil},
-		{"2025-12-31", "2026-03-31", []string{"2025-12-31"}},
+		{"2025-02-10", "2026-09-30", []string{"2025-03-31", "2025-06-30", "2025-09-30", "2025-12-31", "2026-03-31", "2026-06-30", "2026-08-14"},
+			[]string{"2026-08-14", "2026-08-14", "2026-09-30", "2025-02-10"}},
+		{"2025-02-10", "2025-09-30", []string{"2025-03-31", "2025-05-02", "2025-06-30"}, []string{"2025-06-30", "2025-05-02"}},
+		{"2025-02-10", "2025-09-30", []string{"2025-03-31", "2025-06-30"}, nil},
+		{"2025-03-31", "2025-09-30", []string{"2025-03-31", "2025-06-30"}, nil},
+		{"2025-07-01", "2025-09-30", nil, nil},
+		{"2025-11-15", "2025-12-31", nil, nil},
+		{"2025-12-31", "2026-03-31", []string{"2025-12-31"}, nil},
 		{"2019-01-01", "2025-09-30", []string{"2022-09-30", "2022-12-31", "2023-03-31", "2023-06-30", "2023-09-30", "2023-12-31",
-			"2024-03-31", "2024-06-30", "2024-09-30", "2024-12-31", "2025-03-31", "2025-06-30"}},
+			"2024-03-31", "2024-06-30", "2024-09-30", "2024-12-31", "2025-03-31", "2025-06-30"}, nil},
 	}
 	for _, c := range cases {
 		var got []string
-		for _, q := range RemeasurementDates(ymd(c.grant), ymd(c.end)) {
+		var ex []time.Time
+		for _, e := range c.exercised {
+			ex = append(ex, ymd(e))
+		}
+		for _, q := range RemeasurementDates(ymd(c.grant), ymd(c.end), ex) {
 			got = append(got, q.Format(time.DateOnly))
 		}
 		if strings.Join(got, " ") != strings.Join(c.want, " ") {
@@ -177,7 +188,7 @@ func TestValueSample(t *testing.T) {
 		if len(rs) == 0 || !rs[0].Date.Equal(g.GrantDate) {
 			t.Fatalf("grant %s revaluations %+v", g.ID, rs)
 		}
-		want := append([]time.Time{g.GrantDate}, RemeasurementDates(g.GrantDate, ymd("2026-09-30"))...)
+		want := append([]time.Time{g.GrantDate}, RemeasurementDates(g.GrantDate, ymd("2026-09-30"), nil)...)
 		if len(rs) != len(want) {
 			t.Errorf("grant %s: %d revaluations, want %d", g.ID, len(rs), len(want))
 		}

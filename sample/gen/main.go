@@ -14,8 +14,10 @@
 //     schedule, some quarterly and some vesting yearly, and refresh grants to
 //     earlier holders (four years monthly, no cliff);
 //   - one option with a custom schedule on the Vesting sheet;
-//   - two warrants: an equity-classified one issued with a loan and a
-//     liability-classified one (remeasured at the valuation date);
+//   - two warrants issued in financings (purpose financing, so not
+//     compensation): an equity-classified one issued with a loan and a
+//     liability-classified one issued with a share sale (remeasured at the
+//     valuation date);
 //   - RSUs vesting yearly over three years;
 //   - terminations (forfeited unvested shares, then expired vested ones)
 //     and exercises on the Events sheet;
@@ -67,7 +69,7 @@ func Schedule() *grants.Schedule {
 			Currency: "USD", SharesOutstanding: 24_500_000},
 		Assumptions: grants.Assumptions{
 			Volatility: 0.52, DividendYield: 0, ExerciseMultiple: 2.2, PostVestingExitRate: 0.12, PreVestingForfeitureRate: 0.10,
-			Attribution: grants.Graded, Forfeitures: grants.Estimate,
+			Attribution: grants.Graded, Forfeitures: grants.Estimate, Framework: grants.ASC718,
 			Sources: map[string]string{
 				"volatility":                  "median of 5 peers' daily log-return volatility over 6.1 years to 2026-09-30 (grantworth vol sample/peers/*.csv, guideline peers)",
 				"dividend_yield":              "no dividends paid or planned (board resolution of 2023-11-14)",
@@ -75,6 +77,7 @@ func Schedule() *grants.Schedule {
 				"post_vesting_exit_rate":      "Tarnwick HR: 12% a year of vested holders left, 2021-2026",
 				"pre_vesting_forfeiture_rate": "Tarnwick HR: 10% a year of unvested holders left, 2021-2026",
 				"attribution":                 "accounting policy memo of 2023-10-02",
+				"framework":                   "US GAAP financial statements (accounting policy memo of 2023-10-02)",
 			},
 		},
 	}
@@ -144,13 +147,14 @@ func Schedule() *grants.Schedule {
 	}
 	s.Grants = append(s.Grants, opts...)
 
-	// Warrants, vested at issue, seven-year term.
+	// Warrants issued in financings, vested at issue, seven-year term.
 	s.Grants = append(s.Grants,
 		grants.Grant{ID: id(), Holder: "LENDER-1", Instrument: grants.Warrant, GrantDate: day("2024-05-20"), Shares: 250_000, Strike: 1.20,
-			ExpiryDate: day("2031-05-20"), VestStart: day("2024-05-20"), VestEvery: 1, Classification: grants.Equity, ExerciseStyle: grants.American},
+			ExpiryDate: day("2031-05-20"), VestStart: day("2024-05-20"), VestEvery: 1, Classification: grants.Equity, ExerciseStyle: grants.American,
+			Purpose: grants.Financing},
 		grants.Grant{ID: id(), Holder: "INVESTOR-2", Instrument: grants.Warrant, GrantDate: day("2025-02-10"), Shares: 400_000, Strike: 2.00,
 			ExpiryDate: day("2032-02-10"), VestStart: day("2025-02-10"), VestEvery: 1, Classification: grants.Liability, ExerciseStyle: grants.American,
-			Volatility: f(0.50)},
+			Purpose: grants.Financing, Volatility: f(0.50)},
 	)
 	// RSUs: three years, a third each anniversary.
 	for i, gd := range []string{"2024-02-15", "2024-11-12", "2025-05-06", "2025-11-18", "2026-04-21"} {

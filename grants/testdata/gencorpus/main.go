@@ -41,11 +41,11 @@ exercise_multiple,2.5,
 post_vesting_exit_rate,0.1,
 pre_vesting_forfeiture_rate,0.08,
 `,
-	"grants.csv": `grant_id,instrument,grant_date,shares,strike,expiry_date,vest_months,cliff_months,vest_every_months,classification
-PB-1,option,2024-03-01,4800,1.50,2034-03-01,48,12,1,
-PB-2,option,2025-01-15,1200,2.00,2035-01-15,36,0,3,
-PB-3,rsu,2025-06-01,900,,,36,0,12,
-PB-4,warrant,2025-02-01,10000,2.50,2030-02-01,0,0,1,liability
+	"grants.csv": `grant_id,instrument,grant_date,shares,strike,expiry_date,vest_months,cliff_months,vest_every_months,classification,purpose
+PB-1,option,2024-03-01,4800,1.50,2034-03-01,48,12,1,,
+PB-2,option,2025-01-15,1200,2.00,2035-01-15,36,0,3,,
+PB-3,rsu,2025-06-01,900,,,36,0,12,,
+PB-4,warrant,2025-02-01,10000,2.50,2030-02-01,0,0,1,liability,financing
 `,
 	"vesting.csv": `grant_id,vest_date,shares
 PB-2,2025-07-15,600
@@ -127,8 +127,8 @@ var cases = []corpusCase{
 	{name: "csv-bom", edits: []edit{{"grants.csv", "", "\ufeff" + strings.Replace(base["grants.csv"], "4800,1.50", "4800,-3", 1)}},
 		want: []string{`Grants!E2 (strike): "-3" must be zero or more`}},
 	{name: "csv-quoted-newline", edits: []edit{{"grants.csv", "", strings.NewReplacer(
-		"classification\n", "classification,notes\n",
-		"2034-03-01,48,12,1,\n", "2034-03-01,48,12,1,,\"approved by the board,\nsee minutes\"\n",
+		"purpose\n", "purpose,notes\n",
+		"2034-03-01,48,12,1,,\n", "2034-03-01,48,12,1,,,\"approved by the board,\nsee minutes\"\n",
 		"2025-01-15,1200,", "2025-01-15,x12,").Replace(base["grants.csv"])}},
 		want: []string{`Grants!D3 (shares): "x12" is not a number`}},
 	{name: "csv-blank-lines", edits: []edit{{"grants.csv", "PB-2,option", "\n\nPB-2,option"}, {"grants.csv", "PB-3,rsu,2025-06-01", "PB-3,rsu,2025-6-1"}},
@@ -183,8 +183,8 @@ var cases = []corpusCase{
 		want: []string{`Rates!B3 (tenor_years): "1" appears twice in the curve of 2024-01-01 (also B2)`}},
 	{name: "missing-valuation-date", edits: []edit{{"company.csv", "valuation_date,2026-09-30\n", ""}},
 		want: []string{"Company!A1 (valuation_date): key is missing"}},
-	{name: "duplicate-column", edits: []edit{{"grants.csv", "classification\n", "classification,Shares\n"}},
-		want: []string{`Grants!K1 (shares): "Shares" is the same column as D1`}},
+	{name: "duplicate-column", edits: []edit{{"grants.csv", "purpose\n", "purpose,Shares\n"}},
+		want: []string{`Grants!L1 (shares): "Shares" is the same column as D1`}},
 	{name: "negative-term", edits: []edit{
 		{"grants.csv", "grant_id,instrument,grant_date,shares,strike,expiry_date,", "grant_id,instrument,grant_date,shares,strike,term_years,"},
 		{"grants.csv", "2.00,2035-01-15", "2.00,-5"}},
@@ -227,6 +227,19 @@ var cases = []corpusCase{
 		want: []string{`Vesting!C3 (shares): "0" must be more than zero`}},
 	{name: "ambiguous-vest-date", edits: []edit{{"vesting.csv", "PB-2,2025-07-15", "PB-2,15.07.2025"}},
 		want: []string{`Vesting!B2 (vest_date): "15.07.2025" ` + isoMsg}},
+	{name: "warrant-without-purpose", edits: []edit{{"grants.csv", "liability,financing", "liability,"}},
+		want: []string{`Grants!K5 (purpose): warrant PB-4 must say what it pays for: compensation (share-based payment for services) or financing`}},
+	{name: "financing-option", edits: []edit{{"grants.csv", "2034-03-01,48,12,1,,", "2034-03-01,48,12,1,,financing"}},
+		want: []string{`Grants!K2 (purpose): "financing" applies to warrants only: enter an instrument issued to a lender or an investor as a warrant (option PB-1)`}},
+	{name: "ifrs2-straight-line", edits: []edit{{"assumptions.csv", "pre_vesting_forfeiture_rate,0.08,\n", "pre_vesting_forfeiture_rate,0.08,\nattribution,straight-line,\nframework,ifrs2,\n"}},
+		want: []string{`Assumptions!B7 (attribution): "straight-line" is not allowed under IFRS 2 (framework ifrs2)`}},
+	{name: "ifrs2-as-occur", edits: []edit{{"assumptions.csv", "pre_vesting_forfeiture_rate,0.08,\n", "pre_vesting_forfeiture_rate,0.08,\nforfeitures,as-occur,\nframework,ifrs2,\n"}},
+		want: []string{`Assumptions!B7 (forfeitures): "as-occur" is not allowed under IFRS 2 (framework ifrs2)`}},
+	{name: "unknown-framework", edits: []edit{{"assumptions.csv", "pre_vesting_forfeiture_rate,0.08,\n", "pre_vesting_forfeiture_rate,0.08,\nframework,ias19,\n"}},
+		want: []string{`Assumptions!B7 (framework): "ias19" is not one of asc718, ifrs2`}},
+	{name: "hire-date-after-expiry", edits: []edit{{"grants.csv", "classification,purpose\n", "classification,purpose,hire_date\n"},
+		{"grants.csv", "0,3,,\n", "0,3,,,2035-02-01\n"}},
+		want: []string{`Grants!L3 (hire_date): "2035-02-01" is on or after the expiry 2035-01-15 of option PB-2`}},
 	{name: "decimal-comma-price", edits: []edit{{"share_prices.csv", "2025-01-01,2.00", "2025-01-01,\"2,00\""}},
 		want: []string{`Share Prices!B3 (price): "2,00" is not a number`}},
 }
