@@ -7,6 +7,7 @@ import (
 	"time"
 
 	"grantworth/grants"
+	"grantworth/grants/grantstest"
 	"grantworth/grants/pricing"
 	"grantworth/valuation"
 )
@@ -286,7 +287,7 @@ func lenderWarrant(p grants.Purpose) grants.Grant {
 func TestPurposeCorrectedAfterPriorClose(t *testing.T) {
 	s := chainSchedule("2026-06-30")
 	s.Grants = append(s.Grants, lenderWarrant(grants.Compensation))
-	v := valueAt(t, s, nil)
+	v := grantstest.Value(t, s, nil)
 	b := closeOf(t, s, v, nil)
 	prior := Filed(s, v, b)
 	var booked float64
@@ -301,7 +302,7 @@ func TestPurposeCorrectedAfterPriorClose(t *testing.T) {
 
 	s = chainSchedule("2026-09-30")
 	s.Grants = append(s.Grants, lenderWarrant(grants.Financing))
-	v = valueAt(t, s, prior)
+	v = grantstest.Value(t, s, prior.Locks())
 	b = closeOf(t, s, v, prior)
 	var cu *CatchUp
 	for i, c := range b.Reconciliation.CatchUps {
@@ -318,7 +319,7 @@ func TestPurposeCorrectedAfterPriorClose(t *testing.T) {
 	// Without the warrant, the period's expense is what it was; with it,
 	// lower by exactly the booked amount.
 	s2 := chainSchedule("2026-09-30")
-	base := closeOf(t, s2, valueAt(t, s2, nil), nil)
+	base := closeOf(t, s2, grantstest.Value(t, s2, nil), nil)
 	nearly(t, "period expense less the reversal", b.Expense.Period, base.Expense.Period-booked, tolMoney)
 	if err := b.Reconciliation.Check(); err != nil {
 		t.Error(err)
