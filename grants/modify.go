@@ -296,13 +296,32 @@ func (s *Schedule) SplitOf(g Grant) (*Split, error) {
 	ts := s.tranchesBeforeEvents(g)
 	fail := func(st step, key string, err error, format string, args ...any) error {
 		sheet, row, refs := SheetModifications, 0, map[string]Ref(nil)
-		if st.mod != nil {
-			row, refs = st.mod.Row, st.mod.Refs
+		value := ""
+		if m := st.mod; m != nil {
+			row, refs = m.Row, m.Refs
+			switch key {
+			case "date":
+				value = isoDay(m.Date)
+			case "shares":
+				value = strconv.FormatInt(m.Shares, 10)
+			case "new_vest_months", "new_cliff_months":
+				if p := map[string]*int{"new_vest_months": m.NewVestMonths, "new_cliff_months": m.NewCliffMonths}[key]; p != nil {
+					value = strconv.Itoa(*p)
+				}
+			case "new_expiry_date":
+				value = isoDay(m.NewExpiryDate)
+			}
 		} else {
 			sheet, row = SheetEvents, st.can.Row
+			switch key {
+			case "date":
+				value = isoDay(st.can.Date)
+			case "shares":
+				value = strconv.FormatInt(st.can.Shares, 10)
+			}
 		}
 		r := s.cell(sheet, key, row, refs)
-		return &CellError{Sheet: r.Sheet, Cell: r.Cell, Column: key, Err: err, Msg: fmt.Sprintf(format, args...)}
+		return &CellError{Sheet: r.Sheet, Cell: r.Cell, Column: key, Value: value, Err: err, Msg: fmt.Sprintf(format, args...)}
 	}
 
 	// The vesting as a function of rank, before the first step and after
@@ -698,7 +717,7 @@ func (v *validator) modifications() {
 			seen[key] = m.Row
 		}
 		if !m.changesSomething() {
-			v.rep.errf(ref("grant_id"), "grant_id", m.GrantID, ErrRequired, "the row changes nothing: give at least one of new_strike, new_expiry_date, new_vest_months, new_cliff_months, new_post_vesting_exit_rate, new_exercise_multiple")
+			v.rep.errf(ref("new_strike"), "new_strike", "", ErrRequired, "the row changes nothing: give at least one of new_strike, new_expiry_date, new_vest_months, new_cliff_months, new_post_vesting_exit_rate, new_exercise_multiple")
 		}
 		if g.Instrument == Warrant && g.Classification == Liability {
 			v.rep.errf(ref("grant_id"), "grant_id", m.GrantID, ErrInconsistent, "is a liability-classified warrant, remeasured at fair value every period: a change of its terms is not booked as a modification by grantworth; give its new terms to the valuation that remeasures it")

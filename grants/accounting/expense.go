@@ -507,7 +507,7 @@ func policyNotes(pol Policy, ledgers []*awardLedger) []string {
 	if pol.Forfeitures == grants.AsOccur {
 		notes = append(notes, "Accounting for forfeitures as they occur is an election under ASC 718 (718-10-35-3); IFRS 2 requires an estimate of the awards expected to vest.")
 	}
-	return append(notes, modificationNotes(ledgers)...)
+	return append(notes, modificationNotes(pol.Framework, ledgers)...)
 }
 
 // String is a one-line summary, for logs and test failures.

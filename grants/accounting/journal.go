@@ -132,9 +132,9 @@ const minEntry = 0.005
 //  3. one entry per catch-up, naming its grant and cause, against equity,
 //     the award liability, or for compensation reversed on a warrant now
 //     known to be issued in a financing, the financing's proceeds (the
-//     compensation lines and these add up to the period's expense);
-//  3a. one entry per modification of an award's terms, or cancellation
-//     with a replacement award, for what it added to the period's expense
+//     compensation lines and these add up to the period's expense), and
+//     one entry per modification of an award's terms or cancellation with
+//     a replacement award, for what it added to the period's expense
 //     (r.Modifications; modify.go), against equity;
 //  4. exercised liability-classified awards, the liability at the
 //     exercise day's fair value reclassified to equity;

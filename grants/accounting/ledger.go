@@ -80,8 +80,11 @@ type awardLedger struct {
 	// expiry is the award's expiry after the changes dated by the ledger's
 	// date; layered is set when a change touched it, and replaced for a
 	// replacement award (modify.go).
+	// typeIII is set under ASC 718, which books an improbable-to-probable
+	// change at its date's fair value.
 	expiry   time.Time
 	layered  bool
+	typeIII  bool
 	replaced *replacedBy
 
 	// scratch for atInto
@@ -164,7 +167,7 @@ func newAwardLedger(a *Award, pol Policy, asOf time.Time) (*awardLedger, error) 
 	}
 	l.last = a.Tranches[len(a.Tranches)-1].Tranche.VestDate
 	l.grantN, l.startN = dayNum(g.GrantDate), dayNum(l.start)
-	l.expiry = g.ExpiryDate
+	l.expiry, l.typeIII = g.ExpiryDate, pol.Framework != grants.IFRS2
 	if a.Modified != nil {
 		for _, ch := range a.Modified.Changes {
 			if dayOnOrBefore(ch.Date, asOf) && !ch.After.ExpiryDate.IsZero() {
@@ -451,10 +454,9 @@ type view struct {
 	rate     float64
 	keep     func(move) bool
 	// Changes of the award's terms (modify.go) dated on or after from are
-	// left out (0: none), and so is the change skip; ended layers of the
-	// change unended count on.
-	from          int
-	skip, unended changeKey
+	// left out (0: none), and so is the change skip.
+	from int
+	skip changeKey
 }
 
 // atView is the award's position in view v, the cumulative cost by

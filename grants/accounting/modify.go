@@ -167,12 +167,26 @@ func (t *trancheLedger) counts(ly *layer, d int, v view) (live, accel int64) {
 	return live, accel
 }
 
-// on reports whether the layer counts on day d in view v.
-func (ly *layer) on(d int, v view) bool {
+// on reports whether layer ly of part t counts on day d in view v. A
+// layer a Type III change ends stops on the change's day when the view
+// holds that change, or the holder's departure that day (a forfeiture of
+// the award on the day): without the change the departure would have
+// forfeited those shares.
+func (t *trancheLedger) on(l *awardLedger, ly *layer, d int, v view) bool {
 	if v.leaves(ly.key) || d < ly.startN {
 		return false
 	}
-	return ly.endN == 0 || d < ly.endN || v.leaves(ly.endBy) || ly.endBy == v.unended
+	if ly.endN == 0 || d < ly.endN || !v.leaves(ly.endBy) {
+		return ly.endN == 0 || d < ly.endN
+	}
+	for i := range l.tr {
+		for _, m := range l.tr[i].moves {
+			if m.kind == grants.Forfeited && m.dayN == ly.endN && (v.keep == nil && m.dayN <= d || v.keep != nil && v.keep(m)) {
+				return false
+			}
+		}
+	}
+	return true
 }
 
 // cut splits the ledger's tranches into the parts of a.Modified and dates
@@ -247,11 +261,15 @@ func (l *awardLedger) layer(asOf time.Time) {
 			if liveM <= 0 {
 				continue
 			}
-			if cp.Improbable > 0 {
+			improbable := cp.Improbable
+			if !l.typeIII {
+				improbable = 0 // IFRS 2 has no such category (B43)
+			}
+			if improbable > 0 {
 				// Type III: the shares were not expected to vest under
 				// the terms before, so the cost earned on them ends today
 				// and their fair value on the date replaces it.
-				r3 := float64(cp.Improbable) / float64(liveM)
+				r3 := float64(improbable) / float64(liveM)
 				for li, nl := 0, len(t.layers); li < nl; li++ {
 					ly := &t.layers[li]
 					if ly.endN != 0 {
@@ -266,7 +284,7 @@ func (l *awardLedger) layer(asOf time.Time) {
 				}
 				t.layers = append(t.layers, layer{kind: layerImprobable, key: key, startN: M, value: ch.ValuesAfter[j] * r3, to: []retarget{{from: M, vest: va}}})
 			}
-			if rest := cp.Shares - cp.Improbable; rest > 0 {
+			if rest := cp.Shares - improbable; rest > 0 {
 				if inc := ch.ValuesAfter[j] - ch.ValuesBefore[j]; inc > 0 {
 					t.layers = append(t.layers, layer{kind: layerIncrement, key: key, startN: M, value: inc * float64(rest) / float64(liveM), to: []retarget{{from: M, vest: va}}})
 				}
@@ -297,7 +315,7 @@ func (l *awardLedger) replace(c *awardLedger, k int) {
 		}
 		for li := range t.layers {
 			ly := &t.layers[li]
-			if !ly.on(M-1, view{}) {
+			if !t.on(c, ly, M-1, view{}) {
 				continue
 			}
 			x := ly.value * float64(cp.Shares)
@@ -361,7 +379,7 @@ func (l *awardLedger) atLayered(pol Policy, v view, comp []float64) snapshot {
 			t := &l.tr[i]
 			for li := range t.layers {
 				ly := &t.layers[li]
-				if !ly.on(d, v) {
+				if !t.on(l, ly, d, v) {
 					continue
 				}
 				live, acc := t.counts(ly, d, v)
@@ -385,7 +403,7 @@ func (l *awardLedger) atLayered(pol Policy, v view, comp []float64) snapshot {
 		t := &l.tr[i]
 		for li := range t.layers {
 			ly := &t.layers[li]
-			if !ly.on(d, v) {
+			if !t.on(l, ly, d, v) {
 				continue
 			}
 			live, acc := t.counts(ly, d, v)
@@ -544,16 +562,19 @@ func (p *period) modificationExpense() []ModificationExpense {
 				mp := ModifiedPart{Tranche: l.tr[j].Tranche.Index, Shares: cp.Shares, Improbable: cp.Improbable, Vested: dayNum(cp.VestBefore) <= M,
 					VestBefore: cp.VestBefore, VestAfter: cp.VestAfter, Before: ch.ValuesBefore[j]}
 				me.Before += mp.Before * float64(cp.Shares)
+				if !l.typeIII {
+					mp.Improbable = 0
+				}
 				if ch.ValuesAfter != nil {
 					mp.After = ch.ValuesAfter[j]
 					me.After += mp.After * float64(cp.Shares)
-					if cp.Improbable > 0 {
+					if mp.Improbable > 0 {
 						mp.Increment = mp.After
 						me.Improbable = true
 					} else if inc := mp.After - mp.Before; inc > 0 {
 						mp.Increment = inc
 					}
-					me.Increment += mp.Increment * float64(cp.Shares-cp.Improbable)
+					me.Increment += mp.Increment * float64(cp.Shares-mp.Improbable)
 				}
 				me.Parts = append(me.Parts, mp)
 			}
@@ -567,9 +588,7 @@ func (p *period) modificationExpense() []ModificationExpense {
 				}
 			}
 			if me.Improbable {
-				comp := make([]float64, len(l.tr))
-				kept := l.atView(p.pol, view{d: M, known: M, rate: l.rate, unended: key}, comp).compTotal()
-				me.Reversed = kept - l.atView(p.pol, view{d: M, known: M, rate: l.rate}, comp).compTotal()
+				me.Reversed = l.endedCost(M-1, key)
 			}
 			for _, x := range ledgers {
 				far := max(dayNum(x.last)+1, end)
@@ -710,7 +729,7 @@ func (l *awardLedger) byTranche(ts []TrancheExpense) []TrancheExpense {
 
 // modificationNotes say how changes of terms are booked, and where the
 // standards differ on the ones the ledgers hold.
-func modificationNotes(ledgers []*awardLedger) []string {
+func modificationNotes(fw grants.Framework, ledgers []*awardLedger) []string {
 	notes := []string{"A cancellation without a replacement award recognises the cancelled shares' remaining cost at once (ASC 718-20-35-9, IFRS 2.28(a)). A change of an award's terms, and a cancellation with a concurrent replacement award, is booked as a modification (ASC 718-20-35-3 and 35-8; IFRS 2.27, 2.28(c) and B42-B44): the grant-date cost stays, and an increase in fair value on the modification date is added, at once for vested shares and over the remaining service for unvested ones."}
 	for _, l := range ledgers {
 		if l.in.Modified == nil {
@@ -718,7 +737,11 @@ func modificationNotes(ledgers []*awardLedger) []string {
 		}
 		for _, ch := range l.in.Modified.Changes {
 			for _, p := range ch.Parts {
-				if p.Improbable > 0 {
+				switch {
+				case p.Improbable == 0:
+				case fw == grants.IFRS2:
+					return append(notes, "A change that vests shares not expected to vest under the terms before (the holder leaving on the modification date) is booked as IFRS 2 requires (B43): the grant-date cost of the shares that now vest is recognised, brought forward to their new vest date, and the increase in fair value on the date added. (ASC 718 would book it as improbable to probable, Type III: the grant-date cost reversed and the fair value on the date recognised instead, ASC 718-20-55-116.)")
+				default:
 					return append(notes, "A change that vests shares not expected to vest under the terms before (the holder leaving on the modification date) is booked as improbable to probable (ASC 718-20-55-116, Type III): the grant-date cost of those shares is reversed and their fair value on the modification date recognised instead. IFRS 2 has no such category: it would keep the grant-date cost of shares that now vest and add only the increase in fair value (B43).")
 				}
 			}
@@ -831,4 +854,24 @@ func (l *awardLedger) strikeOn(i int, d time.Time) float64 {
 		}
 	}
 	return k
+}
+
+// endedCost is the grant-date cost earned through day d on the shares
+// that Type III change key vests, which it reverses: the layers it ends,
+// each as earned over its own service (graded).
+func (l *awardLedger) endedCost(d int, key changeKey) float64 {
+	var x float64
+	v := view{d: d, known: d, rate: l.rate}
+	for i := range l.tr {
+		t := &l.tr[i]
+		for li := range t.layers {
+			ly := &t.layers[li]
+			if ly.endBy != key || !t.on(l, ly, d, v) {
+				continue
+			}
+			live, acc := t.counts(ly, d, v)
+			x += ly.value*float64(live)*ly.expected(d, v.rate, v)*ly.frac(d, v) + ly.value*float64(acc)
+		}
+	}
+	return x
 }

@@ -2,8 +2,10 @@ package accounting
 
 import (
 	"encoding/json"
+	"errors"
 	"math"
 	"os"
+	"strings"
 	"testing"
 
 	"grantworth/grants"
@@ -278,5 +280,346 @@ func TestRepricingUnvestedByHand(t *testing.T) {
 	r = closeOf(t, s, v, nil).Expense
 	if want := 12_000 * 90.0 / 730; math.Abs(r.Period-want) > tolCent || r.Modifications[0].Cost != 0 {
 		t.Errorf("a lower value after: expense %.2f (want %.2f), cost added %.2f (want 0)", r.Period, want, r.Modifications[0].Cost)
+	}
+}
+
+// TestIFRS2RepricingExample reproduces the repricing example of the
+// IFRS 2 implementation guidance (IG Example 7; figures from memory), as
+// far as its stated inputs allow. 500 employees get 100 options each at
+// the start of year 1, vesting after three years of service, fair value 15
+// each at grant. By the end of year 1 the share price has fallen and the
+// options are repriced: worth 5 each just before, 8 just after (the
+// example gives both values; so does this test), so the increment of 3 is
+// earned over the two years left (IFRS 2 B43(a)). Departures: 40 in year
+// 1, 35 in year 2, 28 in year 3; the expected total departures were 110
+// at the end of year 1 and 105 at the end of year 2.
+//
+//	year 1: 390 × 100 × 15 × 1/3                                 = 195,000
+//	year 2: 395 × 100 × (15 × 2/3 + 3 × 1/2) − 195,000           = 259,250
+//	year 3: 397 × 100 × (15 + 3) − 454,250                       = 260,350
+//
+// Here the 50,000 options are one grant, vesting on 2024-01-01 after 1,095
+// days (no leap day, so a year is a third); the repricing is dated
+// 2022-01-01, so that the day count earns none of the increment in year 1,
+// as the example does; each departure is a forfeiture mid-year. The
+// expected departures are an annual rate (the schedule's
+// pre_vesting_forfeiture_rate): at the end of year 1, 46,000 options live
+// with two years to go and 39,000 expected, so (1 − r)² = 39/46; at the end
+// of year 2, 42,500 live with one year to go and 39,500 expected, so
+// 1 − r = 395/425. Each year is closed after the last (value --prior):
+// the change of rate is a catch-up of the year's expense, which is the
+// year's figure in total.
+func TestIFRS2RepricingExample(t *testing.T) {
+	d := grantstest.Day
+	k := 6.0
+	sched := func(end string, rate float64) *grants.Schedule {
+		s := &grants.Schedule{
+			Company: grants.Company{Name: "Oakmere Textiles plc", ValuationDate: d(end), Currency: "GBP"},
+			Assumptions: grants.Assumptions{Volatility: 0.4, Attribution: grants.Graded, Forfeitures: grants.Estimate, Framework: grants.IFRS2,
+				PreVestingForfeitureRate: rate},
+			Grants: []grants.Grant{{ID: "IG7", Instrument: grants.Option, GrantDate: d("2021-01-01"), VestStart: d("2021-01-01"),
+				Shares: 50_000, Strike: 20, ExpiryDate: d("2031-01-01"), VestMonths: 36, CliffMonths: 36, VestEvery: 1}},
+			SharePrices: []grants.PricePoint{{Date: d("2020-12-31"), Price: 20}},
+			Events: []grants.Event{
+				{GrantID: "IG7", Date: d("2021-06-30"), Kind: grants.Forfeited, Shares: 4_000},
+				{GrantID: "IG7", Date: d("2022-06-30"), Kind: grants.Forfeited, Shares: 3_500},
+				{GrantID: "IG7", Date: d("2023-06-30"), Kind: grants.Forfeited, Shares: 2_800},
+			},
+			Modifications: []grants.Modification{{GrantID: "IG7", Date: d("2022-01-01"), NewStrike: &k}},
+		}
+		var evs []grants.Event
+		for _, e := range s.Events {
+			if !e.Date.After(s.Company.ValuationDate) {
+				evs = append(evs, e)
+			}
+		}
+		s.Events = evs
+		s.Company.PeriodStart = grants.QuarterStart(s.Company.ValuationDate)
+		return s
+	}
+	r1 := 1 - math.Sqrt(39.0/46)
+	r2 := 1 - 395.0/425
+	var prior *Prior
+	for _, y := range []struct {
+		end        string
+		rate       float64
+		cumulative float64
+		expense    float64
+	}{
+		{"2021-12-31", r1, 195_000, 0},
+		{"2022-12-31", r2, 454_250, 259_250},
+		{"2023-12-31", r2, 714_600, 260_350},
+	} {
+		s := sched(y.end, y.rate)
+		v := fakeValuation(s, func(grants.Grant, int) float64 { return 15 }, prior)
+		fakeModifications(t, s, v, flat(5), flat(8))
+		b := closeOf(t, s, v, prior)
+		r := b.Expense
+		if math.Abs(r.Cumulative-y.cumulative) > tolCent {
+			t.Errorf("%s: cumulative %.2f, want %.2f", y.end, r.Cumulative, y.cumulative)
+		}
+		if prior != nil {
+			if math.Abs(r.Period-y.expense) > tolCent {
+				t.Errorf("%s: the year's expense %.2f, want %.2f", y.end, r.Period, y.expense)
+			}
+			if err := b.Reconciliation.Check(); err != nil {
+				t.Errorf("%s: %v", y.end, err)
+			}
+		}
+		prior = Filed(s, v, b)
+	}
+}
+
+// TestReplacementOfLowerValue: oneOption's 1,200 shares (grant-date value
+// 10, vesting 2027-01-01) are cancelled on 2026-01-01 and replaced by a
+// grant of 1,000 shares vesting on the same day, worth 2 each on the
+// date, when the cancelled shares are worth 4 each (values given). The
+// replacement, 2,000, is worth less than what it replaces, 4,800, so no
+// incremental cost is booked, and the grant-date cost of 12,000 stays
+// (ASC 718-20-35-8; IFRS 2.28(c)): it is taken over by the replacement and
+// earned over the service left, which here ends on the same day, so the
+// expense is the one the original would have had:
+//
+//	quarter to 2026-03-31: 12,000 × 90/730 = 1,479.45
+//
+// and none of it is recognised at once, as a cancellation without a
+// replacement would (ASC 718-20-35-9). One worth 6 a share (6,000) adds
+// 6,000 − 4,800 = 1,200 over its year of service: 1,200 × 90/365 = 295.89
+// in the quarter.
+func TestReplacementOfLowerValue(t *testing.T) {
+	d := grantstest.Day
+	for _, c := range []struct {
+		name      string
+		worth     float64 // the replacement's value per share on the date
+		increment float64
+	}{{"lower", 2, 0}, {"higher", 6, 1_200}} {
+		s := oneOption("2026-03-31", Policy{Forfeitures: grants.AsOccur})
+		s.Grants = append(s.Grants, grants.Grant{ID: "L-2", Instrument: grants.Option, GrantDate: d("2026-01-01"), VestStart: d("2026-01-01"),
+			Shares: 1_000, Strike: 3, ExpiryDate: d("2036-01-01"), VestMonths: 12, CliffMonths: 12, VestEvery: 1})
+		s.Events = []grants.Event{{GrantID: "L-1", Date: d("2026-01-01"), Kind: grants.Cancelled, Shares: 1_200, ReplacementGrantID: "L-2"}}
+		v := fakeValuation(s, func(g grants.Grant, _ int) float64 {
+			if g.ID == "L-2" {
+				return c.worth
+			}
+			return 10
+		}, nil)
+		fakeModifications(t, s, v, flat(4), nil)
+		r := closeOf(t, s, v, nil).Expense
+		want := 12_000*90.0/730 + c.increment*90.0/365
+		if math.Abs(r.Period-want) > tolCent {
+			t.Errorf("%s: expense %.2f, want %.2f", c.name, r.Period, want)
+		}
+		var cost float64
+		for _, g := range r.Grants {
+			cost += g.Cost
+		}
+		if math.Abs(cost-(12_000+c.increment)) > tolCent {
+			t.Errorf("%s: total cost %.2f, want %.2f (the grant-date cost kept)", c.name, cost, 12_000+c.increment)
+		}
+		me := r.Modifications[0]
+		if me.Replacement != "L-2" || math.Abs(me.Increment-c.increment) > tolCent || math.Abs(me.Before-4_800) > tolCent ||
+			math.Abs(me.After-1_000*c.worth) > tolCent || math.Abs(me.Carried-12_000) > tolCent || math.Abs(me.Earned-6_000) > tolCent {
+			t.Errorf("%s: %+v", c.name, me)
+		}
+		if math.Abs(me.Cost-c.increment) > tolCent {
+			t.Errorf("%s: the exchange adds %.2f to the cost, want %.2f", c.name, me.Cost, c.increment)
+		}
+	}
+}
+
+// typeIII is an invented grant of 1,200 options (fair value 2 at grant on
+// 2025-01-01) vesting all at once after a year (2026-01-01). Its holder
+// leaves on 2025-11-01, after ten months, and the board waives the cliff
+// that day: under the monthly vesting without it, 1,000 shares vest on the
+// day, and the other 200 (due on 2025-12-01 and 2026-01-01) are forfeited.
+// Worth 1.20 a share just before and 1.50 just after (values given).
+func typeIII(fw grants.Framework) (*grants.Schedule, *pricing.Valuation) {
+	d := grantstest.Day
+	pol := Policy{Forfeitures: grants.AsOccur}
+	if fw == grants.IFRS2 {
+		pol.Forfeitures = grants.Estimate
+	}
+	s := oneOption("2025-12-31", pol)
+	s.Assumptions.Framework = fw
+	s.Grants[0].VestMonths, s.Grants[0].CliffMonths = 12, 12
+	s.Events = []grants.Event{{GrantID: "L-1", Date: d("2025-11-01"), Kind: grants.Forfeited, Shares: 200}}
+	s.Modifications = []grants.Modification{{GrantID: "L-1", Date: d("2025-11-01"), NewCliffMonths: ip(0), Note: "good leaver"}}
+	return s, fakeValuation(s, func(grants.Grant, int) float64 { return 2 }, nil)
+}
+
+// TestTypeIIIByHand: the cliff waiver for the leaver vests 1,000 shares
+// that were not expected to vest (the holder leaves that day): under ASC
+// 718 an improbable-to-probable change (ASC 718-20-55-116, Type III). The
+// grant-date cost earned on them is reversed and their fair value on the
+// date recognised at once instead, the modification-date value, not the
+// original (as forfeitures occur):
+//
+//	opening, 2025-09-30:  1,200 × 2 × 273/365            = 1,795.07
+//	reversed on the date: 1,000 × 2 × 304/365 (to 10-31) = 1,665.75
+//	recognised:           1,000 × 1.50                   = 1,500.00
+//	cumulative at 2025-12-31                              = 1,500.00
+//	the quarter's expense: 1,500 − 1,795.07              =  −295.07
+//
+// Under IFRS 2, which has no such category (B43), the 1,000 shares keep
+// their grant-date cost, brought forward to the day they now vest, and
+// the increase of 0.30 a share is added: 1,000 × (2 + 0.30) = 2,300.
+func TestTypeIIIByHand(t *testing.T) {
+	s, v := typeIII(grants.ASC718)
+	fakeModifications(t, s, v, flat(1.2), flat(1.5))
+	r := closeOf(t, s, v, nil).Expense
+	me := r.Modifications[0]
+	for _, c := range []struct {
+		name      string
+		got, want float64
+	}{
+		{"cumulative", r.Cumulative, 1_500},
+		{"expense", r.Period, 1_500 - 1_200*2*273.0/365},
+		{"reversed", me.Reversed, 1_000 * 2 * 304.0 / 365},
+		{"cost of the change", me.Cost, 1_500},
+		{"unrecognised", r.Unrecognized, 0},
+	} {
+		if math.Abs(c.got-c.want) > tolCent {
+			t.Errorf("%s: %.4f, want %.4f", c.name, c.got, c.want)
+		}
+	}
+	if !me.Improbable || len(me.Parts) != 3 || me.Parts[0].Improbable != 1_000 || me.Parts[0].Increment != 1.5 {
+		t.Errorf("%+v", me)
+	}
+
+	s, v = typeIII(grants.IFRS2)
+	fakeModifications(t, s, v, flat(1.2), flat(1.5))
+	r = closeOf(t, s, v, nil).Expense
+	if want := 1_000 * (2 + 0.3); math.Abs(r.Cumulative-want) > tolCent || r.Modifications[0].Improbable {
+		t.Errorf("IFRS 2: cumulative %.2f, want %.2f; %+v", r.Cumulative, want, r.Modifications[0])
+	}
+}
+
+// TestAccelerationByHand: the same cliff waiver for a holder who stays
+// (probable to probable, ASC 718-20-35-3 Type I; IFRS 2 B43(c)). The
+// grant-date cost is not reversed: the 1,000 shares now vesting on
+// 2025-11-01 have what was left of their cost recognised that day, and
+// the two tranches of 100 (2025-12-01, 2026-01-01) have theirs spread from
+// the date to their new vest dates. With the same value before and after
+// nothing is added, and the cost stays 2,400:
+//
+//	1,000 × 2                                              = 2,000.00
+//	100 × 2 (vested 2025-12-01)                            =   200.00
+//	100 × 2 × (304/365 + (1 − 304/365) × 61/61) to 12-31   =   200.00
+//	cumulative at 2025-12-31                               = 2,400.00
+//
+// (the last tranche vests 2026-01-01, so by the end of 2025-12-31 it is
+// fully earned, as the package notes on days say).
+func TestAccelerationByHand(t *testing.T) {
+	s, v := typeIII(grants.ASC718)
+	s.Events = nil
+	fakeModifications(t, s, v, flat(1.2), flat(1.2))
+	r := closeOf(t, s, v, nil).Expense
+	if math.Abs(r.Cumulative-2_400) > tolCent || r.Grants[0].Cost != 2_400 || r.Modifications[0].Improbable {
+		t.Errorf("cumulative %.2f, cost %.2f, want 2,400 each; %+v", r.Cumulative, r.Grants[0].Cost, r.Modifications[0])
+	}
+	// At the end of 2025-11-30 the 100 shares vesting 2025-12-01 are
+	// fully earned, and those vesting 2026-01-01 have earned
+	// 304/365 + (61/365)·(30/61) of their cost.
+	s.Company.ValuationDate = grantstest.Day("2025-11-30")
+	r = closeOf(t, s, v, nil).Expense
+	want := 2_200 + 200*(304.0/365+(61.0/365)*(30.0/61))
+	if math.Abs(r.Cumulative-want) > tolCent {
+		t.Errorf("at 2025-11-30: cumulative %.2f, want %.2f", r.Cumulative, want)
+	}
+}
+
+// TestModificationAcrossCloses: ashgrove's repricing of 2026-08-14,
+// closed quarter after quarter (value --prior).
+//
+//   - Booked in the quarter to 2026-09-30, its values are filed; the next
+//     close keeps them like grant-date values (ASC 718-10-30-6 and
+//     718-20-35-3: the modification is measured once, on its date), even
+//     when the Share Prices row of that day is changed afterwards.
+//   - A change of the modification's terms after it was filed must be
+//     corrected (the error wraps pricing.ErrLock).
+//   - Recorded only after the quarter it is dated in was closed, it is a
+//     catch-up of the open quarter with its cause (late_modification):
+//     the whole increment, as the option is vested.
+func TestModificationAcrossCloses(t *testing.T) {
+	d := grantstest.Day
+	at := func(end string, withMod bool) *grants.Schedule {
+		s := ashgrove()
+		s.Company.ValuationDate, s.Company.PeriodStart = d(end), grants.QuarterStart(d(end))
+		if !withMod {
+			s.Modifications = nil
+		}
+		return s
+	}
+	q3s := at("2026-09-30", true)
+	v3, b3 := valueAndClose(t, q3s, nil)
+	inc := b3.Expense.Modifications[0].Increment
+	prior := Filed(q3s, v3, b3)
+	if len(prior.Grants[0].Modifications) != 1 {
+		t.Fatalf("filed %d modifications", len(prior.Grants[0].Modifications))
+	}
+
+	q4s := at("2026-12-31", true)
+	q4s.SharePrices[1].Price = 4.2 // the valuation of 2026-08-14, revised
+	v4, b4 := valueAndClose(t, q4s, prior)
+	if mv := v4.Modifications[0]; mv.Status != pricing.Locked || mv.AfterValues[0] != v3.Modifications[0].AfterValues[0] {
+		t.Errorf("the next close's modification is %s at %v, want locked at %v", mv.Status, mv.AfterValues[0].Value, v3.Modifications[0].AfterValues[0].Value)
+	}
+	if b4.Expense.Period != 0 || len(b4.Reconciliation.CatchUps) != 0 {
+		t.Errorf("Q4: expense %.2f, catch-ups %+v; want none", b4.Expense.Period, b4.Reconciliation.CatchUps)
+	}
+
+	k := 3.5
+	q4s = at("2026-12-31", true)
+	q4s.Modifications[0].NewStrike = &k
+	if _, err := Open(q4s, prior); err != nil {
+		t.Fatal(err)
+	}
+	ins, _, _ := q4s.ValueInputs()
+	if _, err := pricing.Value(q4s, ins, pricing.Options{Locks: prior.Locks()}); !errors.Is(err, pricing.ErrLock) {
+		t.Errorf("a changed repricing: %v, want an error wrapping ErrLock", err)
+	}
+
+	// Recorded late.
+	q3s = at("2026-09-30", false)
+	v3, b3 = valueAndClose(t, q3s, nil)
+	prior = Filed(q3s, v3, b3)
+	_, b4 = valueAndClose(t, at("2026-12-31", true), prior)
+	cu := b4.Reconciliation.CatchUps
+	if len(cu) != 1 || cu[0].Cause != CauseLateModification || math.Abs(cu[0].Amount-inc) > tolCent || !strings.Contains(cu[0].Detail, "modification of 2026-08-14") {
+		t.Errorf("catch-ups %+v, want one late_modification of %.2f", cu, inc)
+	}
+	if math.Abs(b4.Expense.Period-inc) > tolCent {
+		t.Errorf("Q4 expense %.2f, want the catch-up %.2f", b4.Expense.Period, inc)
+	}
+}
+
+// TestReconciliationModificationsLine: the walk from the prior close shows
+// the period's modifications on a line of their own: the unrecognised
+// cost gains the increment (cost line), the expense the part of it
+// recognised in the period. oneOption, closed at 2025-12-31 and then at
+// 2026-03-31 with a repricing on 2026-01-01 worth 2 a share more
+// (TestRepricingUnvestedByHand): 2,400 added, 591.78 recognised.
+func TestReconciliationModificationsLine(t *testing.T) {
+	pol := Policy{Forfeitures: grants.AsOccur}
+	q4 := oneOption("2025-12-31", pol)
+	v := fakeValuation(q4, ten, nil)
+	prior := Filed(q4, v, closeOf(t, q4, v, nil))
+	s := oneOption("2026-03-31", pol)
+	k := 2.0
+	s.Modifications = []grants.Modification{{GrantID: "L-1", Date: grantstest.Day("2026-01-01"), NewStrike: &k}}
+	v = fakeValuation(s, ten, prior)
+	fakeModifications(t, s, v, flat(3), flat(5))
+	r := closeOf(t, s, v, prior).Reconciliation
+	if err := r.Check(); err != nil {
+		t.Fatal(err)
+	}
+	if got := line(t, r.Unrecognized, "modifications"); math.Abs(got-2_400) > tolCent {
+		t.Errorf("unrecognised cost walk: modifications %.2f, want 2,400", got)
+	}
+	if got := line(t, r.Expense, "modifications"); math.Abs(got-2_400*90.0/365) > tolCent {
+		t.Errorf("expense walk: modifications %.2f, want %.2f", got, 2_400*90.0/365)
+	}
+	if got := line(t, r.Expense, "service"); math.Abs(got-12_000*90.0/730) > tolCent {
+		t.Errorf("expense walk: service %.2f, want %.2f", got, 12_000*90.0/730)
 	}
 }

@@ -34,7 +34,7 @@ func TestGeneratorReproducesSample(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if n != 9+4*7 { // tarnwick.xlsx, seven CSV files, designs.xlsx, and seven CSV files for each of the four quarters
+	if n != 10+4*8 { // tarnwick.xlsx, eight CSV files, designs.xlsx, and eight CSV files for each of the four quarters
 		t.Errorf("generator wrote %d files", n)
 	}
 }
