@@ -91,7 +91,10 @@ type Model struct {
 	// the walk from it; both nil for a first close.
 	Prior          *PriorClose     `json:"prior"`
 	Reconciliation *Reconciliation `json:"reconciliation"`
-	Caution        string          `json:"caution"`
+	// Modifications are the changes of awards' terms, and cancellations
+	// with a replacement award, dated by the valuation date (modify.go).
+	Modifications []Modification `json:"modifications"`
+	Caution       string         `json:"caution"`
 }
 
 // SchemaVersion is the layout of valuation.json this grantworth writes,

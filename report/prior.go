@@ -171,7 +171,7 @@ func priorOf(m *Model) (*accounting.Prior, string) {
 		}
 		p.Grants = append(p.Grants, pg)
 	}
-	return p, ""
+	return p, filedModifications(m, p)
 }
 
 // priorFinancing is the PriorGrant of a warrant issued in a financing,
