@@ -5,7 +5,6 @@ import (
 	"math/bits"
 	"sort"
 	"strconv"
-	"strings"
 	"time"
 
 	"grantworth/valuation"
@@ -43,44 +42,6 @@ func (m *Modification) ChangesVesting() bool {
 // changesSomething reports whether m names any new term.
 func (m *Modification) changesSomething() bool {
 	return m.NewStrike != nil || !m.NewExpiryDate.IsZero() || m.ChangesVesting() || m.NewExitRate != nil || m.NewExerciseMultiple != nil
-}
-
-// What says in words what m changes, for the memo: "strike 3.05 → 2.10;
-// expiry 2035-07-14 → 2036-07-14".
-func (m *Modification) What(before, after Terms) string {
-	var parts []string
-	money := func(x float64) string { return strconv.FormatFloat(x, 'f', -1, 64) }
-	rate := func(p *float64) string {
-		if p == nil {
-			return "as assumed"
-		}
-		return strconv.FormatFloat(100**p, 'f', -1, 64) + "%"
-	}
-	mult := func(p *float64) string {
-		if p == nil {
-			return "as assumed"
-		}
-		if *p == 0 {
-			return "none"
-		}
-		return strconv.FormatFloat(*p, 'f', -1, 64) + "×"
-	}
-	if m.NewStrike != nil {
-		parts = append(parts, "strike "+money(before.Strike)+" → "+money(after.Strike))
-	}
-	if !m.NewExpiryDate.IsZero() {
-		parts = append(parts, "expiry "+isoDay(before.ExpiryDate)+" → "+isoDay(after.ExpiryDate))
-	}
-	if m.ChangesVesting() {
-		parts = append(parts, fmt.Sprintf("vesting %d months (cliff %d) → %d months (cliff %d)", before.VestMonths, before.CliffMonths, after.VestMonths, after.CliffMonths))
-	}
-	if m.NewExitRate != nil {
-		parts = append(parts, "post-vesting exit rate "+rate(before.ExitRate)+" → "+rate(after.ExitRate))
-	}
-	if m.NewExerciseMultiple != nil {
-		parts = append(parts, "exercise multiple "+mult(before.ExerciseMultiple)+" → "+mult(after.ExerciseMultiple))
-	}
-	return strings.Join(parts, "; ")
 }
 
 // Terms are the terms of a grant that a modification may change, as they
@@ -150,9 +111,10 @@ type ChangedPart struct {
 	// vested on the date stays as it vested.
 	VestBefore, VestAfter time.Time
 	// Outstanding are its shares outstanding at the start of the date
-	// (before that day's events), and Shares those the change touches: the
-	// shares modified, or cancelled and replaced.
-	Outstanding, Shares int64
+	// (before that day's events), Shares those the change touches (the
+	// shares modified, or cancelled and replaced), and Left those still
+	// outstanding at the end of the day.
+	Outstanding, Shares, Left int64
 	// Improbable are the shares of Shares that were not expected to vest
 	// under the terms before and vest because of the change: unvested
 	// under the terms before, vested on the date under those after, and
@@ -431,9 +393,15 @@ func (s *Schedule) SplitOf(g Grant) (*Split, error) {
 		}
 		if st.can != nil {
 			al := Allocate(parts, through)
+			for j := range ch.Parts {
+				ch.Parts[j].Left = open[j]
+			}
 			for _, mv := range al.Moves {
 				if through[mv.Event] == *st.can {
 					ch.Parts[mv.Tranche].Shares += mv.Shares
+				}
+				if !mv.Date.Before(at) {
+					ch.Parts[mv.Tranche].Left -= mv.Shares
 				}
 			}
 			sp.Changes = append(sp.Changes, ch)
@@ -457,13 +425,19 @@ func (s *Schedule) SplitOf(g Grant) (*Split, error) {
 				leaves = true
 			}
 		}
+		left := append([]int64(nil), open...) // outstanding at the end of the day
+		for _, mv := range Allocate(parts, through).Moves {
+			if !mv.Date.Before(at) {
+				left[mv.Tranche] -= mv.Shares
+			}
+		}
 		for j := range ch.Parts {
 			p := &ch.Parts[j]
-			p.Shares = touched[j]
+			p.Shares, p.Left = touched[j], left[j]
 			if leaves && p.VestBefore.After(at) && !p.VestAfter.After(at) {
 				p.Improbable = p.Shares
 			}
-			if g.Instrument != RSU && p.Shares > 0 && p.VestAfter.After(ch.After.ExpiryDate) {
+			if g.Instrument != RSU && left[j] > 0 && p.VestAfter.After(ch.After.ExpiryDate) {
 				key := "new_expiry_date"
 				if m.NewExpiryDate.IsZero() {
 					key = changedVestingKey(m)
@@ -946,7 +920,10 @@ func (s *Schedule) InputsAt(g Grant, at time.Time, t Terms, sp *Split, vest []ti
 		if g.Instrument == RSU {
 			x.Strike, x.YearsToExpiry = 0, x.YearsToVest
 		} else if x.YearsToVest > x.YearsToExpiry {
-			return Inputs{}, fmt.Errorf("grant %s: part %d vests on %s, after the expiry %s", g.ID, j+1, isoDay(vest[j]), isoDay(t.ExpiryDate))
+			// Shares that would vest only after the expiry: forfeited that
+			// day (SplitOf refuses any left outstanding), they are valued
+			// as vesting at expiry.
+			x.YearsToVest = x.YearsToExpiry
 		}
 		in.Terms[j] = x
 	}

@@ -93,6 +93,7 @@ type ModifiedPart struct {
 	Shares           int64     `json:"shares"`
 	ImprobableShares int64     `json:"improbable_shares"`
 	Vested           bool      `json:"vested_before"`
+	Left             int64     `json:"outstanding_at_end_of_day"`
 	VestDateBefore   Date      `json:"vest_date_before"`
 	VestDateAfter    Date      `json:"vest_date_after"`
 	Before           PartValue `json:"before"`
@@ -154,7 +155,7 @@ func modificationsModel(s *grants.Schedule, v *pricing.Valuation, b *accounting.
 			m.Ref = s.Cell(grants.SheetEvents, "date", ch.Cancellation.Row).String()
 		} else {
 			m.TermsAfter = modifiedTerms(ch.After, mv.After)
-			m.Changes = ch.Modification.What(ch.Before, ch.After)
+			m.Changes = changesText(ch.Modification, m.TermsBefore, m.TermsAfter)
 			m.Note = ch.Modification.Note
 			m.Ref = s.Cell(grants.SheetModifications, "date", ch.Modification.Row).String()
 		}
@@ -176,7 +177,7 @@ func modificationsModel(s *grants.Schedule, v *pricing.Valuation, b *accounting.
 			if cp.Shares == 0 {
 				continue
 			}
-			mp := ModifiedPart{TrancheIndex: mv.Split.Parts[j].Index, Shares: cp.Shares, ImprobableShares: cp.Improbable, Vested: cp.Vested(ch.Date),
+			mp := ModifiedPart{TrancheIndex: mv.Split.Parts[j].Index, Shares: cp.Shares, Left: cp.Left, ImprobableShares: cp.Improbable, Vested: cp.Vested(ch.Date),
 				VestDateBefore: DateOf(cp.VestBefore), VestDateAfter: DateOf(cp.VestAfter), Before: partValue(mv.BeforeValues[j])}
 			if mv.AfterValues != nil {
 				mp.After = partValue(mv.AfterValues[j])
@@ -192,6 +193,32 @@ func modificationsModel(s *grants.Schedule, v *pricing.Valuation, b *accounting.
 		out = append(out, m)
 	}
 	return out
+}
+
+// changesText says what modification m changes, from b to a, in words:
+// "strike 3.05 → 2.10; expiry 2035-07-14 → 2036-07-14".
+func changesText(m *grants.Modification, b, a ModifiedTerms) string {
+	var parts []string
+	num := func(x float64) string { return strconv.FormatFloat(x, 'f', -1, 64) }
+	if m.NewStrike != nil {
+		parts = append(parts, "strike "+num(b.Strike)+" → "+num(a.Strike))
+	}
+	if !m.NewExpiryDate.IsZero() {
+		parts = append(parts, "expiry "+b.ExpiryDate.String()+" → "+a.ExpiryDate.String())
+	}
+	if m.NewVestMonths != nil {
+		parts = append(parts, fmt.Sprintf("vesting %d → %d months", b.VestMonths, a.VestMonths))
+	}
+	if m.NewCliffMonths != nil {
+		parts = append(parts, fmt.Sprintf("cliff %d → %d months", b.CliffMonths, a.CliffMonths))
+	}
+	if m.NewExitRate != nil {
+		parts = append(parts, "post-vesting exit rate "+pct(b.PostVestingExitRate)+" → "+pct(a.PostVestingExitRate))
+	}
+	if m.NewExerciseMultiple != nil {
+		parts = append(parts, "exercise multiple "+num(b.ExerciseMultiple)+" → "+num(a.ExerciseMultiple))
+	}
+	return strings.Join(parts, "; ")
 }
 
 func touched(ch *grants.Change) int64 {
@@ -266,8 +293,101 @@ func accountingLabel(x Modification) string {
 	return "probable to probable"
 }
 
-// maxPartRows is how many parts of one modification the memo lists.
-const maxPartRows = 24
+// maxPartRows is how many parts of one modification the memo lists one
+// by one; more are grouped by how their added cost is earned.
+const maxPartRows = 8
+
+// partsTable lists the parts of modification x, or with more than
+// maxPartRows of them, groups them: vested before the change, vesting on
+// its date because of it, still to vest, forfeited that day. Per-share
+// figures of a group are weighted by shares.
+func (d *Memo) partsTable(x Modification) {
+	cols := []Col{{"Tranche", 16, false}, {"Shares", 16, true}, {"Vested", 14, false}, {"Vest date", 34, false}, {"Before", 16, true},
+		{"After", 16, true}, {"Added", 16, true}, {"Earned", 42, false}}
+	after := func(v float64) string {
+		if x.Kind == "replacement" {
+			return "–"
+		}
+		return perShare(v)
+	}
+	earned := func(p ModifiedPart) string {
+		e := strings.TrimPrefix(p.Attribution, "over the service from ")
+		if strings.HasPrefix(e, "at once") {
+			return "at once"
+		}
+		return e
+	}
+	var rows [][]string
+	if len(x.Parts) <= maxPartRows {
+		for _, p := range x.Parts {
+			vest := p.VestDateBefore.String()
+			if p.VestDateAfter != p.VestDateBefore {
+				vest += " → " + p.VestDateAfter.String()
+			}
+			rows = append(rows, []string{strconv.Itoa(p.TrancheIndex), count(p.Shares), yesNo(p.Vested), vest, perShare(p.Before.FairValuePerShare),
+				after(p.After.FairValuePerShare), perShare(p.Increment), earned(p)})
+		}
+		d.Table(cols, rows)
+		d.Note("Per share: the fair value on the date before and after the change, and the cost it adds (the increase, or for shares vesting only because of the change their whole value on the date). Earned: at once for shares vested on the date, else over the service from the date to the vest date.")
+		return
+	}
+	type group struct {
+		label               string
+		first, last         int
+		shares              int64
+		before, after, incr float64
+		from, to            Date
+		how                 string
+	}
+	groups := map[string]*group{}
+	var order []string
+	for _, p := range x.Parts {
+		label, how := "vested before", "at once"
+		switch {
+		case p.Vested:
+		case p.Left == 0 && p.VestDateAfter.Time().After(x.Date.Time()):
+			label, how = "forfeited on the date", "none"
+		case p.ImprobableShares > 0:
+			label = "vest on the date (Type III)"
+		case !p.VestDateAfter.Time().After(x.Date.Time()):
+			label = "vest on the date"
+		default:
+			label, how = "to vest", "over their service"
+		}
+		g := groups[label]
+		if g == nil {
+			g = &group{label: label, first: p.TrancheIndex, from: p.VestDateAfter, how: how}
+			groups[label] = g
+			order = append(order, label)
+		}
+		n := float64(p.Shares)
+		g.last, g.to = p.TrancheIndex, p.VestDateAfter
+		g.shares += p.Shares
+		g.before += n * p.Before.FairValuePerShare
+		g.after += n * p.After.FairValuePerShare
+		g.incr += n * p.Increment
+	}
+	for _, k := range order {
+		g := groups[k]
+		n := float64(g.shares)
+		tr := strconv.Itoa(g.first)
+		if g.last != g.first {
+			tr += "–" + strconv.Itoa(g.last)
+		}
+		vest := g.from.String()
+		if g.to != g.from {
+			vest += " to " + g.to.String()
+		}
+		how := g.how
+		if how == "over their service" {
+			how = "from " + x.Date.String() + " to each vest date"
+		}
+		rows = append(rows, []string{tr, count(g.shares), g.label, vest, perShare(g.before / n), after(g.after / n), perShare(g.incr / n), how})
+	}
+	d.Table([]Col{{"Tranches", 16, false}, {"Shares", 16, true}, {"", 30, false}, {"Vest dates", 38, false}, {"Before", 14, true},
+		{"After", 14, true}, {"Added", 14, true}, {"Earned", 28, false}}, rows)
+	d.Note(fmt.Sprintf("The %d parts grouped; per-share figures weighted by shares: the fair value on the date before and after the change, and the cost it adds (the increase, or for shares vesting only because of the change their whole value on the date). Every part is on the Modifications sheet of valuation.xlsx.", len(x.Parts)))
+}
 
 func (d *Memo) modification(x Modification, cur string) {
 	title := fmt.Sprintf("Grant %s, %s: %s", x.GrantID, x.Date, x.Changes)
@@ -303,30 +423,8 @@ func (d *Memo) modification(x Modification, cur string) {
 			{"Post-vesting exit rate", pct(b.PostVestingExitRate), pct(a.PostVestingExitRate)},
 		})
 	}
-	var rows [][]string
-	for _, p := range x.Parts[:min(len(x.Parts), maxPartRows)] {
-		vest := p.VestDateBefore.String()
-		if p.VestDateAfter != p.VestDateBefore {
-			vest += " → " + p.VestDateAfter.String()
-		}
-		after := perShare(p.After.FairValuePerShare)
-		if x.Kind == "replacement" {
-			after = "–"
-		}
-		earned := strings.TrimPrefix(p.Attribution, "over the service from ")
-		if strings.HasPrefix(earned, "at once") {
-			earned = "at once"
-		}
-		rows = append(rows, []string{strconv.Itoa(p.TrancheIndex), count(p.Shares), yesNo(p.Vested), vest, perShare(p.Before.FairValuePerShare), after,
-			perShare(p.Increment), earned})
-	}
-	d.Table([]Col{{"Tranche", 16, false}, {"Shares", 16, true}, {"Vested", 14, false}, {"Vest date", 34, false}, {"Before", 16, true},
-		{"After", 16, true}, {"Added", 16, true}, {"Earned", 42, false}}, rows)
-	d.Note("Per share: the fair value on the date before and after the change, and the cost it adds (the increase, or for shares vesting only because of the change their whole value on the date). Earned: at once for shares vested on the date, else over the service from the date to the vest date.")
-	if len(x.Parts) > maxPartRows {
-		d.Note(fmt.Sprintf("The first %d of %d parts are shown; every one is on the Modifications sheet of valuation.xlsx.", maxPartRows, len(x.Parts)))
-	}
-	d.Para(fmt.Sprintf("Effect on the cost: %s in all, %s in this period, %s to the period end, %s still to recognize.",
+	d.partsTable(x)
+	d.Para(fmt.Sprintf("Effect on the cost (the cost with the change less the cost without it, forfeitures as the policy expects them): %s in all, %s in this period, %s to the period end, %s still to recognize.",
 		money(x.Cost, cur), money(x.Amount, cur), money(x.Cumulative, cur), money(x.Unrecognized, cur)))
 }
 

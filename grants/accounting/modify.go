@@ -518,6 +518,7 @@ type ModificationExpense struct {
 type ModifiedPart struct {
 	Tranche               int // the tranche's Index
 	Shares                int64
+	Left                  int64 // still outstanding at the end of the day
 	Improbable            int64
 	Vested                bool // before the change, on its date
 	VestBefore, VestAfter time.Time
@@ -527,6 +528,9 @@ type ModifiedPart struct {
 
 // Attribution says in words how the part's added cost is earned.
 func (p ModifiedPart) Attribution(on time.Time) string {
+	if p.Left == 0 && p.VestAfter.After(on) {
+		return "none: forfeited on " + day(on)
+	}
 	if !p.VestAfter.After(on) {
 		return "at once, on " + day(on)
 	}
@@ -559,7 +563,7 @@ func (p *period) modificationExpense() []ModificationExpense {
 				if cp.Shares == 0 {
 					continue
 				}
-				mp := ModifiedPart{Tranche: l.tr[j].Tranche.Index, Shares: cp.Shares, Improbable: cp.Improbable, Vested: dayNum(cp.VestBefore) <= M,
+				mp := ModifiedPart{Tranche: l.tr[j].Tranche.Index, Shares: cp.Shares, Left: cp.Left, Improbable: cp.Improbable, Vested: dayNum(cp.VestBefore) <= M,
 					VestBefore: cp.VestBefore, VestAfter: cp.VestAfter, Before: ch.ValuesBefore[j]}
 				me.Before += mp.Before * float64(cp.Shares)
 				if !l.typeIII {
