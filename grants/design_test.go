@@ -84,7 +84,7 @@ func TestDesignProblems(t *testing.T) {
 			[]string{`Designs!A2 (term_years): is required for option A`}, ""},
 		{"ranges", "designs.csv", "design,shares,strike_premium,term_years,volatility,exercise_multiple,post_vesting_exit_rate,pre_vesting_forfeiture_rate\nA,100,-150%,200,0,1,100%,-1%\n",
 			[]string{`Designs!C2 (strike_premium): "-1.5" must be above -100% and at most 1000% of the share price`, `Designs!D2 (term_years): "200" must be more than 0 and at most 100 years`,
-				`Designs!E2 (volatility): "0" must be more than 0`, `Designs!F2 (exercise_multiple): "1" must be 0 (no such rule) or above 1`,
+				`Designs!E2 (volatility): "0" must be from 0.01 to 5`, `Designs!F2 (exercise_multiple): "1" must be 0 (no such rule) or above 1`,
 				`Designs!G2 (post_vesting_exit_rate): "1" must be at least 0 and below 1`, `Designs!H2 (pre_vesting_forfeiture_rate): "-0.01" must be at least 0 and below 1`}, ""},
 		{"a bad cell", "designs.csv", "design,shares,strike,term_years,instrument\nA,many,2,10,bond\n",
 			[]string{`Designs!E2 (instrument): "bond" is not one of option, warrant, rsu`, `Designs!B2 (shares): "many" is not a number`}, ""},

@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"sort"
 	"strconv"
+	"strings"
 	"time"
 
 	"grantworth/valuation"
@@ -183,7 +184,61 @@ func (s *Schedule) Inputs(g Grant) (Inputs, error) {
 	} else {
 		return fail("grant_date", "no Rates curve is dated on or before %s, the measurement date of grant %s", isoDay(md), g.ID)
 	}
+	if err := s.feasible(in); err != nil {
+		return Inputs{}, err
+	}
 	return in, nil
+}
+
+// feasible reports, as a *CellError, a grant whose inputs the lattice
+// cannot value (valuation.Feasible: an input outside valuation.Limits, a
+// strike too far above the share price, a volatility too high for the
+// term, a raw step count too small for the up-probability or too large
+// for the tree's extreme prices). The cell named is the input at fault:
+// the steps assumption when it sets a raw step count, else the grant's
+// volatility.
+func (s *Schedule) feasible(in Inputs) error {
+	g := in.Grant
+	if g.Instrument == RSU || len(in.Terms) == 0 {
+		return nil
+	}
+	t := in.Terms[0]
+	if g.Instrument == Warrant && !t.European {
+		t.Rational = true // as warrants are valued
+	}
+	if !g.GrantDate.IsZero() && in.MeasurementDate.After(g.GrantDate) {
+		// A liability warrant is also remeasured at past quarter ends,
+		// back to its grant date: check the longest term.
+		t.YearsToExpiry = max(t.YearsToExpiry, valuation.YearFrac(g.GrantDate, g.ExpiryDate))
+	}
+	a := s.InForce() // value runs every lattice with the steps in force at the valuation date
+	o := valuation.LatticeOptions{Steps: a.Steps}
+	vest := make([]float64, len(in.Terms))
+	for k, tk := range in.Terms {
+		vest[k] = tk.YearsToVest
+	}
+	err := valuation.Feasible(t, vest, in.Market, o)
+	if err == nil {
+		return nil
+	}
+	num := func(x float64) string { return strconv.FormatFloat(x, 'g', -1, 64) }
+	ref, col, val := in.Volatility.Ref, "volatility", num(in.Volatility.Value)
+	switch l := valuation.Limits; {
+	case !l.SharePrice.In(in.Market.Spot):
+		ref, col, val = in.SharePrice.Ref, "share_price", num(in.Market.Spot)
+	case !l.Strike.In(t.Strike) || !l.Moneyness.In(t.Strike/in.Market.Spot):
+		ref, col, val = s.cell(SheetGrants, "strike", g.Row, g.Refs), "strike", num(t.Strike)
+	case !l.YearsToExpiry.In(t.YearsToExpiry):
+		ref, col, val = s.cell(SheetGrants, "expiry_date", g.Row, g.Refs), "expiry_date", isoDay(g.ExpiryDate)
+	case o.Steps > 0:
+		ref, col, val = a.Refs["steps"], "steps", strconv.Itoa(o.Steps)
+	}
+	if ref.Sheet == "" {
+		ref = s.cell(SheetGrants, "grant_id", g.Row, g.Refs)
+	}
+	msg := strings.TrimPrefix(err.Error(), valuation.ErrLatticeInput.Error()+": ")
+	return &CellError{Sheet: ref.Sheet, Cell: ref.Cell, Column: col, Value: val, Err: ErrRange,
+		Msg: fmt.Sprintf("cannot be valued on the lattice for grant %s (%s): %s", g.ID, s.cell(SheetGrants, "grant_id", g.Row, g.Refs).Cell, msg)}
 }
 
 // citeRate is where the zero rate of curve c at h years comes from: the

@@ -11,6 +11,8 @@ import (
 	"strings"
 	"time"
 	"unicode/utf8"
+
+	"grantworth/valuation"
 )
 
 // Limits against files built to exhaust memory or time. Each is checked
@@ -957,8 +959,8 @@ func (t *tableReader) assumptionValue(c *rowCtx, col *Column, a *Assumptions) {
 	case "steps":
 		if v, ok := c.text(col.Key); ok && !strings.EqualFold(v, "auto") {
 			n, err := ParseInt(v)
-			if err != nil || n < 1 || n > 100000 {
-				c.failf(col.Key, v, ErrRange, "must be auto or a whole number of steps from 1 to 100000")
+			if l := valuation.Limits.Steps; err != nil || n == 0 || !l.In(float64(n)) {
+				c.failf(col.Key, v, ErrRange, "must be auto or a whole number of steps from %g to %g", l.Min, l.Max)
 			} else {
 				a.Steps = int(n)
 			}

@@ -24,12 +24,12 @@ func Validate(s *Schedule) Report {
 // old is stale).
 const StaleMonths = 12
 
-// Bounds outside which a volatility draws a warning, and the largest one
-// accepted at all (the price command's limit too).
+// Bounds outside which a volatility draws a warning; the bounds of what is
+// accepted at all are valuation.Limits.Volatility (the price command's
+// too).
 const (
 	VolLow  = 0.05
 	VolHigh = 2.00
-	VolMax  = 5.00
 )
 
 func validate(s *Schedule, skip map[string]bool) Report {
@@ -110,7 +110,7 @@ func (v *validator) company() {
 
 func (v *validator) rate(sheet, key string, row int, refs map[string]Ref, x float64, what string) {
 	ref := v.s.cell(sheet, key, row, refs)
-	if x < 0 || x >= 1 {
+	if !valuation.Limits.ExitRate.In(x) { // the range of every annual leaving rate
 		v.rep.errf(ref, key, num(x), ErrRange, "must be at least 0 and below 1 (100%%): %s", what)
 	}
 }
@@ -118,22 +118,29 @@ func (v *validator) rate(sheet, key string, row int, refs map[string]Ref, x floa
 func (v *validator) vol(sheet string, row int, refs map[string]Ref, x float64) {
 	ref := v.s.cell(sheet, "volatility", row, refs)
 	switch {
-	case x <= 0 || x > VolMax:
-		v.rep.errf(ref, "volatility", num(x), ErrRange, "must be more than 0 and at most %g (%g%%), as a decimal, 0.45, or a percentage, 45%%", VolMax, VolMax*100)
+	case !valuation.Limits.Volatility.In(x):
+		l := valuation.Limits.Volatility
+		v.rep.errf(ref, "volatility", num(x), ErrRange, "must be from %g to %g (%g%% to %g%%), as a decimal, 0.45, or a percentage, 45%%", l.Min, l.Max, l.Min*100, l.Max*100)
 	case x < VolLow || x > VolHigh:
 		v.rep.warnf(ref, "volatility", num(x), ErrRange, "is outside %g%%–%g%%; check that it is an annual decimal (0.45 = 45%%)", VolLow*100, VolHigh*100)
 	}
 }
 
 func (v *validator) yield(sheet string, row int, refs map[string]Ref, x float64) {
-	if x < 0 || x >= 1 {
-		v.rep.errf(v.s.cell(sheet, "dividend_yield", row, refs), "dividend_yield", num(x), ErrRange, "must be at least 0 and below 1 (100%%)")
-	}
+	v.limit(v.s.cell(sheet, "dividend_yield", row, refs), valuation.Limits.DividendYield, x, " (100%)")
 }
 
 func (v *validator) multiple(sheet string, row int, refs map[string]Ref, x float64) {
-	if x != 0 && x <= 1 || x < 0 || x > 100 {
-		v.rep.errf(v.s.cell(sheet, "exercise_multiple", row, refs), "exercise_multiple", num(x), ErrRange, "must be 0 (no such rule) or above 1, up to 100 times the strike")
+	if l := valuation.Limits.ExerciseMultiple; !l.In(x) {
+		v.rep.errf(v.s.cell(sheet, "exercise_multiple", row, refs), "exercise_multiple", num(x), ErrRange, "must be 0 (no such rule) or above %g, up to %g times the strike", l.Min, l.Max)
+	}
+}
+
+// limit reports x outside the valuation's range l (valuation.Limits) at
+// ref, as "must be " and the range, then more.
+func (v *validator) limit(ref Ref, l valuation.Limit, x float64, more string) {
+	if !l.In(x) {
+		v.rep.errf(ref, l.Key, num(x), ErrRange, "must be %s%s", l.Range(), more)
 	}
 }
 
@@ -193,8 +200,8 @@ func (v *validator) assumptions() {
 func (v *validator) prices() {
 	seen := map[time.Time]int{}
 	for _, p := range v.s.SharePrices {
-		if p.Price <= 0 {
-			v.rep.errf(v.s.cell(SheetSharePrices, "price", p.Row, nil), "price", num(p.Price), ErrRange, "must be more than zero")
+		if l := valuation.Limits.SharePrice; !l.In(p.Price) {
+			v.rep.errf(v.s.cell(SheetSharePrices, "price", p.Row, nil), "price", num(p.Price), ErrRange, "must be %s", l.Range())
 		}
 		if r, dup := seen[p.Date]; dup {
 			v.rep.errf(v.s.cell(SheetSharePrices, "date", p.Row, nil), "date", isoDay(p.Date), ErrDuplicate,
@@ -211,15 +218,13 @@ func (v *validator) rates() {
 		par, other := 0, 0
 		for _, p := range c.points {
 			ref := v.s.cell(SheetRates, "tenor_years", p.Row, nil)
-			if p.TenorYears < 0 || p.TenorYears > 100 {
-				v.rep.errf(ref, "tenor_years", num(p.TenorYears), ErrRange, "must be from 0 to 100 years")
-			}
+			v.limit(ref, valuation.Limits.Tenor, p.TenorYears, " years")
 			if r, dup := tenors[p.TenorYears]; dup {
 				v.rep.errf(ref, "tenor_years", num(p.TenorYears), ErrDuplicate, "appears twice in the curve of %s (also %s)", isoDay(c.date), v.s.cell(SheetRates, "tenor_years", r, nil).Cell)
 			} else {
 				tenors[p.TenorYears] = p.Row
 			}
-			if p.Rate <= -0.2 || p.Rate >= 0.5 {
+			if !valuation.Limits.Rate.In(p.Rate) {
 				v.rep.errf(v.s.cell(SheetRates, "rate", p.Row, nil), "rate", num(p.Rate), ErrRange,
 					"is not a plausible rate; write 4.5%% or 0.045, not 4.5")
 			}
@@ -259,8 +264,8 @@ func (v *validator) grants() {
 		if g.Shares <= 0 {
 			v.rep.errf(ref("shares"), "shares", strconv.FormatInt(g.Shares, 10), ErrRange, "must be more than zero")
 		}
-		if g.Shares > 1e12 {
-			v.rep.errf(ref("shares"), "shares", strconv.FormatInt(g.Shares, 10), ErrRange, "is more than 10^12 shares")
+		if g.Shares > 0 {
+			v.limit(ref("shares"), valuation.Limits.Shares, float64(g.Shares), " shares")
 		}
 		_, hasStrike := g.Refs["strike"]
 		if g.Refs == nil {
@@ -269,8 +274,8 @@ func (v *validator) grants() {
 		switch {
 		case g.Instrument != RSU && !hasStrike:
 			v.rep.errf(ref("strike"), "strike", "", ErrRequired, "is required for %s %s", article(g.Instrument), g.ID)
-		case g.Strike < 0:
-			v.rep.errf(ref("strike"), "strike", num(g.Strike), ErrRange, "must be zero or more")
+		case !valuation.Limits.Strike.In(g.Strike):
+			v.rep.errf(ref("strike"), "strike", num(g.Strike), ErrRange, "must be %s", valuation.Limits.Strike.Range())
 		case g.Instrument == RSU && hasStrike && g.Strike != 0:
 			v.rep.warnf(ref("strike"), "strike", num(g.Strike), ErrInconsistent, "is ignored: an RSU has no strike")
 		}
@@ -279,6 +284,8 @@ func (v *validator) grants() {
 				v.rep.errf(ref("expiry_date"), "expiry_date", "", ErrRequired, "%s %s needs expiry_date or term_years", article(g.Instrument), g.ID)
 			} else if !g.ExpiryDate.After(g.GrantDate) {
 				v.rep.errf(ref("expiry_date"), "expiry_date", isoDay(g.ExpiryDate), ErrRange, "must be after grant_date %s (%s)", isoDay(g.GrantDate), ref("grant_date").Cell)
+			} else if !g.GrantDate.IsZero() && !valuation.Limits.YearsToExpiry.In(valuation.YearFrac(g.GrantDate, g.ExpiryDate)) {
+				v.rep.errf(ref("expiry_date"), "expiry_date", isoDay(g.ExpiryDate), ErrRange, "is more than 100 years (%d days) after grant_date %s (%s)", valuation.MaxTermDays, isoDay(g.GrantDate), ref("grant_date").Cell)
 			}
 		}
 		if g.CliffMonths > g.VestMonths {
@@ -322,8 +329,8 @@ func (v *validator) grants() {
 		if g.PostVestingExitRate != nil {
 			v.rate(SheetGrants, "post_vesting_exit_rate", g.Row, g.Refs, *g.PostVestingExitRate, "the annual share of vested holders who leave")
 		}
-		if g.SharePrice != nil && *g.SharePrice <= 0 {
-			v.rep.errf(ref("share_price"), "share_price", num(*g.SharePrice), ErrRange, "must be more than zero")
+		if g.SharePrice != nil {
+			v.limit(ref("share_price"), valuation.Limits.SharePrice, *g.SharePrice, "")
 		}
 		if g.Instrument == Warrant && s.Company.SharesOutstanding <= 0 {
 			v.rep.errf(s.cell(SheetCompany, "shares_outstanding", 0, s.Company.Refs), "shares_outstanding", "", ErrRequired,

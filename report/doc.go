@@ -12,12 +12,25 @@
 // and look nothing up outside the Model, so the three files cannot
 // disagree. Each writes to an io.Writer; the command owns the files.
 //
+// # Compensation and financing apart
+//
+// Totals and every compensation figure cover the share-based awards only;
+// warrants issued in financings (Grant.Purpose financing) are summed in
+// FinancingTotals, grouped apart by instrument ("warrant (financing)"),
+// and shown in their own memo section, workbook sheet (Financing
+// warrants) and expense.financing_warrants, never inside
+// expense.period_amount or expense.cumulative (DESIGN §4.3). The journal's
+// lines, each with its account role, have a sheet of their own (Journal);
+// the Disclosures sheet stacks the note's tables, each under a header row
+// that names every value in it.
+//
 // # Quarter after quarter
 //
 // valuation.json carries schema_version (SchemaVersion) and all a later
 // close needs: the grant-date values, the cumulative cost per grant and
 // tranche, the events applied, a liability warrant's remeasurements, the
-// counts and the liability at the valuation date. ReadPrior reads it back
+// counts and the liability at the valuation date, and the financing
+// warrants' liabilities and measurements. ReadPrior reads it back
 // into an accounting.Prior, refusing a file grantworth did not write or
 // wrote in a newer format. The reconciliation to the prior close is its
 // own memo section, workbook sheet and JSON object (reconcile.go).

@@ -166,6 +166,7 @@ type JournalLine struct {
 	Role        string  `json:"role"`
 	AccountCode string  `json:"account_code"`
 	Account     string  `json:"account"`
+	GrantID     string  `json:"grant_id"` // the grant a line books, when it books one (a catch-up)
 	Debit       float64 `json:"debit"`
 	Credit      float64 `json:"credit"`
 }
@@ -337,7 +338,7 @@ func expenseModel(b *accounting.Books) *Expense {
 	for _, e := range b.Journal {
 		je := JournalEntry{Date: DateOf(e.Date), Description: e.Description}
 		for _, l := range e.Lines {
-			je.Lines = append(je.Lines, JournalLine{Role: string(l.Role), AccountCode: l.Account.Code, Account: l.Account.Name, Debit: l.Debit, Credit: l.Credit})
+			je.Lines = append(je.Lines, JournalLine{Role: string(l.Role), AccountCode: l.Account.Code, Account: l.Account.Name, GrantID: l.GrantID, Debit: l.Debit, Credit: l.Credit})
 		}
 		det.Journal = append(det.Journal, je)
 	}

@@ -147,7 +147,7 @@ func (d *Memo) journal(m *Model) error {
 	if e.Framework == "ifrs2" {
 		equity = "a share-based payment reserve in equity (IFRS 2)"
 	}
-	d.Para(fmt.Sprintf("Summary entries for the period %s to %s, in %s. Equity-classified awards credit %s; liability-classified awards credit their liability, remeasured to fair value, and every change in it is compensation. Warrants issued in financings have entries of their own, outside compensation: a liability-classified one's change in fair value is booked outside operating expense. Exercise proceeds are not shown. The workbook's Journal sheet lists every line with its account role.",
+	d.Para(fmt.Sprintf("Summary entries for the period %s to %s, in %s. Equity-classified awards credit %s; liability-classified awards credit their liability, remeasured to fair value, and every change in it is compensation. Warrants issued in financings have entries of their own, outside compensation: a liability-classified one's change in fair value is booked outside operating expense. A catch-up for a closed period is an entry of its own, naming its grant and cause. Exercise proceeds are not shown. The workbook's Journal sheet lists every line with its account role.",
 		e.PeriodStart, e.PeriodEnd, m.Company.Currency, equity))
 	var rows [][]string
 	for i, j := range e.Journal {

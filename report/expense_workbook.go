@@ -313,7 +313,7 @@ func writeJournal(b *Book, m *Model) error {
 		return notRun(b, SheetJournal)
 	}
 	cols := []Column{{"Entry", 7}, {"Date", 12}, {"Description", 84}, {"Account role", 28}, {"Account code", 12}, {"Account", 40},
-		{"Debit", 16}, {"Credit", 16}, {"Currency", 9}}
+		{"Debit", 16}, {"Credit", 16}, {"Currency", 9}, {"Grant", 12}}
 	n := 0
 	for _, j := range e.Journal {
 		n += len(j.Lines)
@@ -329,15 +329,18 @@ func writeJournal(b *Book, m *Model) error {
 	}
 	for i, j := range e.Journal {
 		for _, l := range j.Lines {
-			var dr, cr any
+			var dr, cr, grant any
 			if l.Debit != 0 {
 				dr = b.Cell(b.Style.Money, l.Debit)
 			}
 			if l.Credit != 0 {
 				cr = b.Cell(b.Style.Money, l.Credit)
 			}
+			if l.GrantID != "" {
+				grant = b.Text(l.GrantID)
+			}
 			if err := t.Row(b.Cell(b.Style.Int, i+1), b.DateCell(j.Date), b.Text(j.Description), l.Role, b.Text(l.AccountCode),
-				b.Text(l.Account), dr, cr, m.Company.Currency); err != nil {
+				b.Text(l.Account), dr, cr, m.Company.Currency, grant); err != nil {
 				return err
 			}
 		}

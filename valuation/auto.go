@@ -678,14 +678,31 @@ const (
 // gridPool keeps the grids' memory between valuations.
 var gridPool = sync.Pool{New: func() any { return new(autoGrid) }}
 
-// latticeAuto is auto mode: see the package documentation.
-func latticeAuto(t Terms, vestYears []float64, m Market, conv Convention) ([]Result, error) {
+// autoPreflight is what auto mode checks before it solves anything, with
+// the model and grid geometry it checks: Feasible asks it too.
+func autoPreflight(t Terms, vestYears []float64, m Market, conv Convention) (autoModel, autoGeo, error) {
 	if s := m.VolAnnual * math.Sqrt(t.YearsToExpiry); s > autoMaxSigma {
-		return nil, inputErr("volatility %v over %v years spreads the share price over e^±%.0f in one standard deviation, beyond what the lattice resolves; check the volatility (a decimal: 0.45, not 45)",
+		return autoModel{}, autoGeo{}, inputErr("volatility %v over %v years spreads the share price over e^±%.0f in one standard deviation, beyond what the lattice resolves; check the volatility (a decimal: 0.45, not 45)",
 			m.VolAnnual, t.YearsToExpiry, s)
 	}
 	am := newAutoModel(t, m, conv)
 	geo := am.geometry(vestYears)
+	if len(geo.knots) == 0 {
+		return am, geo, nil
+	}
+	if nodes, steps := geo.nodes(autoMinLevels-1), geo.steps(autoMinLevels-1); nodes > MaxLatticeSteps || steps > MaxLatticeSteps {
+		return am, geo, inputErr("auto mode needs %d price levels and %d steps (limit %d each): volatility %v is too low for the drift of rates %.4g and dividend yield %v over %v years, or the tranches vest too often",
+			nodes, steps, MaxLatticeSteps, m.VolAnnual, am.curve.Zero(t.YearsToExpiry), m.DividendYield, t.YearsToExpiry)
+	}
+	return am, geo, nil
+}
+
+// latticeAuto is auto mode: see the package documentation.
+func latticeAuto(t Terms, vestYears []float64, m Market, conv Convention) ([]Result, error) {
+	am, geo, err := autoPreflight(t, vestYears, m, conv)
+	if err != nil {
+		return nil, err
+	}
 	n := len(vestYears)
 	out := make([]Result, n)
 	for i, v := range vestYears {
@@ -697,10 +714,6 @@ func latticeAuto(t Terms, vestYears []float64, m Market, conv Convention) ([]Res
 	}
 	if len(geo.knots) == 0 {
 		return out, nil
-	}
-	if nodes, steps := geo.nodes(autoMinLevels-1), geo.steps(autoMinLevels-1); nodes > MaxLatticeSteps || steps > MaxLatticeSteps {
-		return nil, inputErr("auto mode needs %d price levels and %d steps (limit %d each): volatility %v is too low for the drift of rates %.4g and dividend yield %v over %v years, or the tranches vest too often",
-			nodes, steps, MaxLatticeSteps, m.VolAnnual, am.curve.Zero(t.YearsToExpiry), m.DividendYield, t.YearsToExpiry)
 	}
 	var vals, lives [][]float64
 	g := gridPool.Get().(*autoGrid)

@@ -55,24 +55,11 @@ func Lattice(t Terms, m Market, o LatticeOptions) (Result, error) {
 // forward pass of state prices up to the last vest date, so many tranches
 // cost little more than one. Results are in input order.
 func LatticeTranches(t Terms, vestYears []float64, m Market, o LatticeOptions) ([]Result, error) {
-	if err := checkLattice(t, vestYears, m, o); err != nil {
+	t, vestYears, o, err := latticeInputs(t, vestYears, m, o)
+	if err != nil || len(vestYears) == 0 {
 		return nil, err
 	}
-	if len(vestYears) == 0 {
-		return nil, nil
-	}
-	if t.European {
-		// A plain European call: vesting, the multiple and exits play no part.
-		t = Terms{Strike: t.Strike, YearsToExpiry: t.YearsToExpiry}
-		o.Convention = Convention{StepsPerYear: o.Convention.StepsPerYear}
-		vy := make([]float64, len(vestYears))
-		for i := range vy {
-			vy[i] = t.YearsToExpiry
-		}
-		vestYears = vy
-	}
 	var rs []Result
-	var err error
 	if o.Steps > 0 {
 		rs, err = latticeRaw(t, vestYears, m, o)
 	} else {
@@ -81,12 +68,40 @@ func LatticeTranches(t Terms, vestYears []float64, m Market, o LatticeOptions) (
 	if err != nil {
 		return nil, err
 	}
-	for _, r := range rs {
+	for i, r := range rs {
 		if !finite(r.Value) || !finite(r.ExpectedTermYears) || !finite(r.ErrorEstimate) {
 			return nil, inputErr("the lattice gave no finite value for volatility %v, years to expiry %v, spot %v and strike %v", m.VolAnnual, t.YearsToExpiry, m.Spot, t.Strike)
 		}
+		if r.Value < 0 && o.Steps == 0 {
+			// An award is worth at least nothing (its holder may let it
+			// lapse): a value of auto mode below 0 is rounding against the
+			// strike or an extrapolation's overshoot. It is shown as 0,
+			// with an error estimate that covers the difference. (A raw
+			// tree is left as the textbook computes it.)
+			rs[i].ErrorEstimate = max(r.ErrorEstimate, -r.Value)
+			rs[i].Value = 0
+		}
 	}
 	return rs, nil
+}
+
+// latticeInputs checks the inputs of a lattice valuation and gives a
+// European award its plain terms: vesting, the multiple and exits play no
+// part, and every tranche is read at expiry.
+func latticeInputs(t Terms, vestYears []float64, m Market, o LatticeOptions) (Terms, []float64, LatticeOptions, error) {
+	if err := checkLattice(t, vestYears, m, o); err != nil {
+		return t, nil, o, err
+	}
+	if t.European {
+		t = Terms{Strike: t.Strike, YearsToExpiry: t.YearsToExpiry}
+		o.Convention = Convention{StepsPerYear: o.Convention.StepsPerYear}
+		vy := make([]float64, len(vestYears))
+		for i := range vy {
+			vy[i] = t.YearsToExpiry
+		}
+		vestYears = vy
+	}
+	return t, vestYears, o, nil
 }
 
 // maxLogSpan bounds σ√(T·N), the log-price distance from the spot to the
@@ -116,14 +131,16 @@ func checkLattice(t Terms, vestYears []float64, m Market, o LatticeOptions) erro
 		panic("valuation: Market.Curve is nil")
 	}
 	switch {
-	case !finite(m.Spot) || m.Spot <= 0:
-		return inputErr("spot %v must be a finite number above 0", m.Spot)
-	case !finite(t.Strike) || t.Strike < 0:
-		return inputErr("strike %v must be a finite number at or above 0", t.Strike)
+	case !Limits.SharePrice.In(m.Spot):
+		return limitErr(Limits.SharePrice, "spot", m.Spot)
+	case !Limits.Strike.In(t.Strike):
+		return limitErr(Limits.Strike, "strike", t.Strike)
+	case !Limits.Moneyness.In(t.Strike / m.Spot):
+		return inputErr("strike %v is more than %s times the spot %v: the award is worth nothing the lattice resolves; check the units", t.Strike, bound(Limits.Moneyness.Max), m.Spot)
 	case !finite(m.VolAnnual) || m.VolAnnual <= 0:
 		return inputErr("volatility %v must be a finite number above 0", m.VolAnnual)
-	case !finite(t.YearsToExpiry) || t.YearsToExpiry <= 0:
-		return inputErr("years to expiry %v must be a finite number above 0", t.YearsToExpiry)
+	case !Limits.YearsToExpiry.In(t.YearsToExpiry):
+		return limitErr(Limits.YearsToExpiry, "years to expiry", t.YearsToExpiry)
 	case !finite(m.DividendYield):
 		return inputErr("dividend yield %v is not a finite number", m.DividendYield)
 	case !finite(t.ExitRate) || t.ExitRate < 0 || t.ExitRate >= 1:
@@ -259,10 +276,7 @@ func (w *work) build(t Terms, m Market, n int, conv Convention) error {
 	h := m.VolAnnual * math.Sqrt(dt)
 	u, d := math.Exp(h), math.Exp(-h)
 	for i := 0; i < n; i++ {
-		t0, t1 := T*float64(i)/float64(n), T*float64(i+1)/float64(n)
-		f := m.Curve.Forward(t0, t1)
-		g := math.Exp((f - m.DividendYield) * dt)
-		p := (g - d) / (u - d)
+		p, f := stepProb(m, T, n, i, u, d)
 		if !(p > 0 && p < 1) {
 			return &probError{vol: m.VolAnnual, rate: f, q: m.DividendYield, steps: n, p: p, step: i}
 		}

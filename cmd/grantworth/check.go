@@ -99,6 +99,20 @@ func runCheck(o *checkOptions) error {
 			res.Warnings = append(res.Warnings, checkProblemOf(w))
 		}
 		res.ErrorsDropped = rep.Dropped
+		if rep.OK() {
+			// What value does next with the schedule, so that what check
+			// accepts value values: each grant's valuation inputs, and
+			// whether the lattice can value them (valuation.Feasible).
+			_, inErrs, _ := s.ValueInputs()
+			for _, e := range inErrs {
+				var ce *grants.CellError
+				if errors.As(e, &ce) {
+					res.Errors = append(res.Errors, checkProblemOf(ce))
+				} else {
+					res.Errors = append(res.Errors, checkProblem{Message: e.Error()})
+				}
+			}
+		}
 		res.Summary = checkSummarize(s)
 	}
 	res.OK = len(res.Errors) == 0 && res.ErrorsDropped == 0

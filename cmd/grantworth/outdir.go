@@ -335,8 +335,9 @@ func (o *outputSet) recoverStage(s string) error {
 		if err := syncDir(o.dir); err != nil {
 			return err
 		}
+		fmt.Fprintf(o.ios.Err, "grantworth: finished moving the files of an interrupted run into %s\n", o.shown)
 	}
-	return removeAll(s)
+	return os.RemoveAll(s)
 }
 
 // checkExisting refuses outputs already in the folder unless force, and
@@ -447,7 +448,7 @@ func (o *outputSet) writeManifest() error {
 // or, when the folder cannot be swapped, one rename per file after a
 // commit mark.
 func (o *outputSet) commit() error {
-	if err := removeAll(o.tempDir()); err != nil {
+	if err := os.RemoveAll(o.tempDir()); err != nil {
 		return err
 	}
 	o.mu.Lock()
@@ -514,7 +515,7 @@ func (o *outputSet) commitSwap() (bool, error) {
 			}
 		}
 	}
-	removeAll(o.stage)
+	os.RemoveAll(o.stage)
 	return true, nil
 }
 
@@ -571,7 +572,7 @@ func (o *outputSet) commitMove() error {
 	if err := syncDir(o.dir); err != nil {
 		return err
 	}
-	return removeAll(o.stage)
+	return os.RemoveAll(o.stage)
 }
 
 // writeStaged writes one file of the run, synced. A panic in the renderer
@@ -710,9 +711,6 @@ func exists(p string) bool {
 	_, err := os.Lstat(p)
 	return err == nil
 }
-
-// removeAll removes a folder of the run and what it holds.
-func removeAll(p string) error { return os.RemoveAll(p) }
 
 // removeAllRetry removes a staging folder that renderers may still be
 // writing into (on an interrupt): a file made between the listing and the

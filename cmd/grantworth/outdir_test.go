@@ -22,7 +22,7 @@ import (
 // at once) without building it.
 const testMainEnv = "GRANTWORTH_TEST_MAIN"
 
-var killRuns = flag.Int("kills", 6, "runs killed at random moments by TestOutputKilledAtRandomMoments")
+var killRuns = flag.Int("kills", 4, "runs killed at random moments by TestOutputKilledAtRandomMoments")
 
 // gwProcess is grantworth as a child process. With worker set it is the
 // process that does the work (no supervising parent), so that kill -9
@@ -148,6 +148,33 @@ func refRun(t *testing.T, tmp, sched, out string) (fileSet, time.Duration) {
 	return readSet(t, out), time.Since(start)
 }
 
+// procFixture is the setting of a test that starts grantworth processes:
+// a folder, the children's TMPDIR inside it (it must stay empty), and a
+// one-grant schedule per company name, each valued once to completion for
+// its reference outputs.
+type procFixture struct {
+	base, tmp string
+	scheds    []string
+	refs      []fileSet
+	dur       time.Duration // how long the last reference run took
+}
+
+func newProcFixture(t *testing.T, companies ...string) *procFixture {
+	t.Helper()
+	if testing.Short() {
+		t.Skip("starts grantworth processes")
+	}
+	f := &procFixture{base: t.TempDir()}
+	f.tmp = filepath.Join(f.base, "tmp")
+	must(t, os.Mkdir(f.tmp, 0o755))
+	for i, c := range companies {
+		s := oneGrantSchedule(t, filepath.Join(f.base, fmt.Sprintf("sched%d", i)), c)
+		ref, dur := refRun(t, f.tmp, s, filepath.Join(f.base, fmt.Sprintf("ref%d", i)))
+		f.scheds, f.refs, f.dur = append(f.scheds, s), append(f.refs, ref), dur
+	}
+	return f
+}
+
 // A run killed with SIGKILL at a random moment leaves the output folder
 // with the old set of files or the new one, never a mix, and nothing a
 // rerun trips on: the rerun succeeds and leaves no staging folder, lock
@@ -156,16 +183,9 @@ func refRun(t *testing.T, tmp, sched, out string) (fileSet, time.Duration) {
 // (swapped whole), and a folder that also holds a file of the user's
 // (the files moved in one by one after a commit mark).
 func TestOutputKilledAtRandomMoments(t *testing.T) {
-	if testing.Short() {
-		t.Skip("starts about 20 processes")
-	}
-	base := t.TempDir()
-	tmp := filepath.Join(base, "tmp") // the children's TMPDIR
-	must(t, os.Mkdir(tmp, 0o755))
-	schedA := oneGrantSchedule(t, filepath.Join(base, "a"), "Old Run Co")
-	schedB := oneGrantSchedule(t, filepath.Join(base, "b"), "New Run Co")
-	refA, _ := refRun(t, tmp, schedA, filepath.Join(base, "refA"))
-	refB, dur := refRun(t, tmp, schedB, filepath.Join(base, "refB"))
+	f := newProcFixture(t, "Old Run Co", "New Run Co")
+	base, tmp, schedB, dur := f.base, f.tmp, f.scheds[1], f.dur
+	refA, refB := f.refs[0], f.refs[1]
 	if refA.equal(refB) || len(refB) != len(outputNames) {
 		t.Fatalf("reference runs: %v and %v", refA.names(), refB.names())
 	}
@@ -244,17 +264,10 @@ func dirNames(dir string) []string {
 // --force, of two different schedules, the folder ends with one run's
 // whole set. Neither leaves anything behind.
 func TestOutputConcurrentRuns(t *testing.T) {
-	if testing.Short() {
-		t.Skip("starts processes")
-	}
-	base := t.TempDir()
-	tmp := filepath.Join(base, "tmp")
-	must(t, os.Mkdir(tmp, 0o755))
-	schedA := oneGrantSchedule(t, filepath.Join(base, "a"), "First Co")
-	schedB := oneGrantSchedule(t, filepath.Join(base, "b"), "Second Co")
-	refA, _ := refRun(t, tmp, schedA, filepath.Join(base, "refA"))
-	refB, _ := refRun(t, tmp, schedB, filepath.Join(base, "refB"))
-	for i, force := range []bool{false, true, true} {
+	f := newProcFixture(t, "First Co", "Second Co")
+	base, tmp := f.base, f.tmp
+	schedA, schedB, refA, refB := f.scheds[0], f.scheds[1], f.refs[0], f.refs[1]
+	for i, force := range []bool{false, true} {
 		parent := filepath.Join(base, fmt.Sprintf("pair%d", i))
 		out := filepath.Join(parent, "out")
 		var cmds []*exec.Cmd
@@ -342,10 +355,7 @@ func TestOutputReadOnlyFolder(t *testing.T) {
 	must(t, os.Mkdir(out, 0o755))
 	if os.Geteuid() == 0 {
 		// Root writes through permissions: use a read-only file system.
-		if err := syscall.Mount("tmpfs", out, "tmpfs", syscall.MS_RDONLY, "size=64k"); err != nil {
-			t.Skipf("running as root and cannot mount a read-only file system: %v", err)
-		}
-		defer syscall.Unmount(out, 0)
+		defer mountReadOnly(t, out)()
 	} else {
 		must(t, os.Chmod(out, 0o555))
 		defer os.Chmod(out, 0o755)
@@ -382,14 +392,8 @@ func TestOutputFailedRunLeavesNoFolder(t *testing.T) {
 // and end the process by the signal; the supervising parent ends by it
 // too.
 func TestOutputInterrupted(t *testing.T) {
-	if testing.Short() {
-		t.Skip("starts processes")
-	}
-	base := t.TempDir()
-	tmp := filepath.Join(base, "tmp")
-	must(t, os.Mkdir(tmp, 0o755))
-	sched := oneGrantSchedule(t, filepath.Join(base, "s"), "Interrupted Co")
-	_, dur := refRun(t, tmp, sched, filepath.Join(base, "ref"))
+	f := newProcFixture(t, "Interrupted Co")
+	base, tmp, sched, dur := f.base, f.tmp, f.scheds[0], f.dur
 	for i, sig := range []syscall.Signal{syscall.SIGINT, syscall.SIGTERM} {
 		parent := filepath.Join(base, fmt.Sprintf("run%d", i))
 		out := filepath.Join(parent, "out")

@@ -162,31 +162,32 @@ func (o *priceOptions) check(cmd *cobra.Command, method string) error {
 			return badInput("--%s %v: not a finite number", c.flag, c.v)
 		}
 	}
+	lim := valuation.Limits // the one table of ranges, shared with check and value
 	switch {
-	case o.Spot <= 0:
-		return badInput("--spot %v: the share value must be above 0", o.Spot)
-	case o.Strike < 0:
-		return badInput("--strike %v: the strike must be 0 (a pre-funded warrant) or more", o.Strike)
-	case o.Years <= 0 || o.Years > 100:
-		return badInput("--years %v: the term must be above 0 (and at most 100) years", o.Years)
-	case o.Vol <= 0 || o.Vol > 5:
-		return badInput("--vol %v: volatility must be above 0 (a decimal: 0.45, not 45)", o.Vol)
+	case !lim.SharePrice.In(o.Spot):
+		return badInput("--spot %v: the share value must be %s", o.Spot, lim.SharePrice.Range())
+	case !lim.Strike.In(o.Strike):
+		return badInput("--strike %v: the strike must be %s (0: a pre-funded warrant)", o.Strike, lim.Strike.Range())
+	case !lim.YearsToExpiry.In(o.Years):
+		return badInput("--years %v: the term must be above 0 and at most 100 years (%d days)", o.Years, valuation.MaxTermDays)
+	case !valuation.Limits.Volatility.In(o.Vol):
+		return badInput("--vol %v: volatility must be %s (a decimal: 0.45, not 45)", o.Vol, valuation.Limits.Volatility.Range())
 	case math.Abs(o.Rate) > 1:
 		return badInput("--rate %v: a decimal rate between -1 and 1 (0.04, not 4)", o.Rate)
-	case o.DividendYield < 0 || o.DividendYield > 1:
-		return badInput("--dividend-yield %v: a decimal yield between 0 and 1", o.DividendYield)
+	case !lim.DividendYield.In(o.DividendYield):
+		return badInput("--dividend-yield %v: a decimal yield %s", o.DividendYield, lim.DividendYield.Range())
 	case o.VestYears < 0:
 		return badInput("--vest-years %v: must be at or above 0", o.VestYears)
 	case o.VestYears > o.Years:
 		return badInput("--vest-years %v: vesting comes after expiry (--years %v)", o.VestYears, o.Years)
-	case o.Multiple < 0 || (o.Multiple > 0 && o.Multiple <= 1):
-		return badInput("--exercise-multiple %v: 0 (none) or above 1", o.Multiple)
-	case o.ExitRate < 0 || o.ExitRate >= 1:
-		return badInput("--exit-rate %v: an annual share at or above 0 and below 1", o.ExitRate)
+	case !lim.ExerciseMultiple.In(o.Multiple):
+		return badInput("--exercise-multiple %v: %s (0: none)", o.Multiple, lim.ExerciseMultiple.Range())
+	case !lim.ExitRate.In(o.ExitRate):
+		return badInput("--exit-rate %v: an annual share %s", o.ExitRate, lim.ExitRate.Range())
 	case o.ForfeitureRate < 0 || o.ForfeitureRate >= 1:
 		return badInput("--forfeiture-rate %v: an annual share at or above 0 and below 1", o.ForfeitureRate)
-	case f.Changed("steps") && (o.Steps < 1 || o.Steps > valuation.MaxLatticeSteps):
-		return badInput("--steps %d: between 1 and %d", o.Steps, valuation.MaxLatticeSteps)
+	case f.Changed("steps") && (o.Steps == 0 || !lim.Steps.In(float64(o.Steps))):
+		return badInput("--steps %d: from %g to %g", o.Steps, lim.Steps.Min, lim.Steps.Max)
 	case o.American && o.European:
 		return badInput("--american and --european cannot be used together")
 	case f.Changed("shares-outstanding") != f.Changed("warrants"):

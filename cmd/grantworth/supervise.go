@@ -14,7 +14,12 @@ import (
 // anything else, a crash or a kill, becomes 1 with a message. The child
 // inherits the terminal, standard streams and environment; the parent
 // passes SIGINT, SIGTERM and SIGHUP on, so that the child can clear its
-// staging folder, and then ends by the same signal.
+// staging folder, and then ends by the same signal. Memory running out is
+// the kernel killing the child (SIGKILL: exit 1 with a message) or the
+// child's runtime failing to allocate (exit 2 from the child: 1). An
+// address-space limit (ulimit -v) applies to the parent too, and a Go
+// runtime needs address space to start threads: under a tight one the
+// parent itself can fail with the runtime's exit 2.
 
 // supervisedEnv marks the child process.
 const supervisedEnv = "GRANTWORTH_SUPERVISED"

@@ -32,10 +32,30 @@ func TestSupervisorExitCodes(t *testing.T) {
 	if code, _ := superviseCmd(c); code != exitInput || errb.Len() != 0 {
 		t.Errorf("bad input: exit %d, stderr %q; want 2 and nothing added", code, errb.String())
 	}
+	// A real out-of-memory crash of the child under an address-space limit
+	// set on it alone (util-linux prlimit), the parent unaffected: the
+	// runtime's "fatal error: out of memory", or a thread it cannot make,
+	// both exit 2.
+	if prl, err := exec.LookPath("prlimit"); err == nil {
+		errb.Reset()
+		c = exec.Command(prl, "--as=800000000", os.Args[0], "value", sampleXLSX, "--out", t.TempDir()+"/out")
+		c.Env = append(os.Environ(), testMainEnv+"=1", supervisedEnv+"=1")
+		c.Stderr = &errb
+		if code, _ := superviseCmd(c); code != exitFailure || !strings.Contains(errb.String(), "the run crashed (exit status 2: out of memory") {
+			t.Errorf("out of memory: exit %d, stderr ends %q; want 1 and a message", code, tail(errb.String(), 300))
+		}
+	}
 	errb.Reset()
 	c = exec.Command("sh", "-c", "kill -KILL $$")
 	c.Stderr = &errb
 	if code, _ := superviseCmd(c); code != exitFailure || !strings.Contains(errb.String(), "ended by signal 9 (killed)") {
 		t.Errorf("killed: exit %d, stderr %q; want 1 and a message", code, errb.String())
 	}
+}
+
+func tail(s string, n int) string {
+	if len(s) > n {
+		return s[len(s)-n:]
+	}
+	return s
 }

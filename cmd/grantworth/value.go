@@ -170,8 +170,13 @@ func runValue(o *valueOptions) error {
 		fresh.Dropped = again.Dropped
 		rep.Merge(fresh)
 	}
+	if !rep.OK() {
+		return printProblems(o.io.Err, rep, nil)
+	}
+	// As check does: the valuation inputs of each grant, and whether the
+	// lattice can value them.
 	ins, inErrs, skipped := s.ValueInputs()
-	if !rep.OK() || len(inErrs) > 0 {
+	if len(inErrs) > 0 {
 		return printProblems(o.io.Err, rep, inErrs)
 	}
 	var prior *accounting.Prior

@@ -7,6 +7,7 @@ import (
 	"slices"
 	"sort"
 	"strconv"
+	"strings"
 	"sync"
 	"time"
 
@@ -261,7 +262,7 @@ func Value(s *grants.Schedule, ins []grants.Inputs, opts Options) (*Valuation, e
 	for i := range ins {
 		v.Grants[i].Inputs = ins[i]
 	}
-	base, err := p.valueSet(v.Grants, shift{}, opts.Progress)
+	base, _, err := p.valueSet(v.Grants, shift{}, opts.Progress)
 	if err != nil {
 		return nil, err
 	}
@@ -430,7 +431,8 @@ func shiftCase(in grants.Inputs, sh shift, curves map[*valuation.Curve]*valuatio
 	m := in.Market
 	switch sh.name {
 	case "volatility":
-		m.VolAnnual = math.Max(0.01, m.VolAnnual+sh.d)
+		vl := valuation.Limits.Volatility
+		m.VolAnnual = math.Min(vl.Max, math.Max(vl.Min, m.VolAnnual+sh.d))
 	case "risk_free_rate":
 		c, ok := curves[m.Curve]
 		if !ok {
@@ -450,7 +452,7 @@ func shiftCase(in grants.Inputs, sh shift, curves map[*valuation.Curve]*valuatio
 		if in.Grant.Instrument == grants.Option {
 			for i := range terms {
 				if terms[i].ExerciseMultiple > 0 {
-					terms[i].ExerciseMultiple = math.Max(1.05, terms[i].ExerciseMultiple+sh.d)
+					terms[i].ExerciseMultiple = math.Min(valuation.Limits.ExerciseMultiple.Max, math.Max(1.05, terms[i].ExerciseMultiple+sh.d))
 				}
 			}
 		}
@@ -466,9 +468,12 @@ func shiftCase(in grants.Inputs, sh shift, curves map[*valuation.Curve]*valuatio
 
 // valueSet values the grants gs under one case: options on the lattice,
 // all cores; warrants on the lattice with dilution; RSUs in closed form.
-// It returns the tranche results per grant.
-func (p *pricer) valueSet(gs []GrantValue, sh shift, progress func(done, total int)) ([][]valuation.Result, error) {
-	out := make([][]valuation.Result, len(gs))
+// It returns the tranche results per grant. In a shifted case a grant the
+// lattice cannot value with the input moved (valuation.Feasible: its
+// volatility moved past what the tree can represent over its term, say)
+// keeps its base values, and is named in kept.
+func (p *pricer) valueSet(gs []GrantValue, sh shift, progress func(done, total int)) (out [][]valuation.Result, kept []string, err error) {
+	out = make([][]valuation.Result, len(gs))
 	curves := map[*valuation.Curve]*valuation.Curve{}
 	var jobs []valuation.Job
 	var jobOf []int
@@ -476,9 +481,24 @@ func (p *pricer) valueSet(gs []GrantValue, sh shift, progress func(done, total i
 		in := gs[i].Inputs
 		terms, m, err := shiftCase(in, sh, curves)
 		if err != nil {
-			return nil, err
+			return nil, nil, err
 		}
 		g := in.Grant
+		if sh.name != "" && g.Instrument != grants.RSU && len(terms) > 0 {
+			t := terms[0]
+			if g.Instrument == grants.Warrant {
+				t = rational(t)
+			}
+			vest := make([]float64, len(terms))
+			for k, tk := range terms {
+				vest[k] = tk.YearsToVest
+			}
+			if err := valuation.Feasible(t, vest, m, p.opts); err != nil {
+				out[i] = gs[i].Results
+				kept = append(kept, g.ID)
+				continue
+			}
+		}
 		switch g.Instrument {
 		case grants.RSU:
 			rs := make([]valuation.Result, len(in.Terms))
@@ -491,7 +511,7 @@ func (p *pricer) valueSet(gs []GrantValue, sh shift, progress func(done, total i
 			for k, t := range terms {
 				var err error
 				if rs[k], err = p.warrant(g, t, m); err != nil {
-					return nil, fmt.Errorf("grant %s tranche %d: %w", g.ID, k+1, err)
+					return nil, nil, fmt.Errorf("grant %s tranche %d: %w", g.ID, k+1, err)
 				}
 			}
 			out[i] = rs
@@ -514,11 +534,11 @@ func (p *pricer) valueSet(gs []GrantValue, sh shift, progress func(done, total i
 	for j := range jobs {
 		r := res[index[j]]
 		if r.Err != nil {
-			return nil, fmt.Errorf("grant %s: %w", gs[jobOf[j]].Inputs.Grant.ID, r.Err)
+			return nil, nil, fmt.Errorf("grant %s: %w", gs[jobOf[j]].Inputs.Grant.ID, r.Err)
 		}
 		out[jobOf[j]] = r.Tranches
 	}
-	return out, nil
+	return out, kept, nil
 }
 
 // dedupJobs returns the distinct jobs and, for each job, the index of its
@@ -620,9 +640,13 @@ func (p *pricer) sensitivity(v *Valuation, progress func(done, total int)) error
 		for j, d := range c.shifts {
 			fv := base
 			if d != 0 {
-				rs, err := p.valueSet(sample, shift{c.key, d}, nil)
+				rs, kept, err := p.valueSet(sample, shift{c.key, d}, nil)
 				if err != nil {
 					return fmt.Errorf("sensitivity %s %+g: %w", c.key, d, err)
+				}
+				if len(kept) > 0 {
+					v.Warnings = append(v.Warnings, fmt.Sprintf("sensitivity case %s %s: the lattice cannot value %s with the input moved; the base value is used instead",
+						c.label, c.labels[j], joinIDs(kept)))
 				}
 				if sampleBase > 0 {
 					fv = base * total(rs) / sampleBase
@@ -645,6 +669,17 @@ func (p *pricer) sensitivity(v *Valuation, progress func(done, total int)) error
 		v.Sensitivity = append(v.Sensitivity, sens)
 	}
 	return nil
+}
+
+// joinIDs names grants by id, the first few of many.
+func joinIDs(ids []string) string {
+	switch {
+	case len(ids) == 1:
+		return "grant " + ids[0]
+	case len(ids) <= 5:
+		return "grants " + strings.Join(ids, ", ")
+	}
+	return fmt.Sprintf("grants %s and %d more", strings.Join(ids[:5], ", "), len(ids)-5)
 }
 
 // representative is the option tranche with the largest total fair value
@@ -683,7 +718,11 @@ func (p *pricer) convergence(v *Valuation) error {
 	}
 	c := &Convergence{GrantID: in.Grant.ID, TrancheIndex: in.Tranches[k].Index, Auto: auto}
 	for _, n := range ConvergenceSteps {
-		r, err := valuation.Lattice(t, mk, valuation.LatticeOptions{Steps: n})
+		o := valuation.LatticeOptions{Steps: n}
+		if valuation.Feasible(t, []float64{t.YearsToVest}, mk, o) != nil {
+			continue // too few steps for the up-probability, or too many for floating point
+		}
+		r, err := valuation.Lattice(t, mk, o)
 		if err != nil {
 			return fmt.Errorf("convergence study, grant %s, %d steps: %w", in.Grant.ID, n, err)
 		}

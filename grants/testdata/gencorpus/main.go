@@ -125,7 +125,7 @@ var cases = []corpusCase{
 	{name: "csv-tabs", edits: []edit{{"rates.csv", "", strings.ReplaceAll(base["rates.csv"], ",", "\t")}},
 		want: []string{"Rates: rates.csv line 1: the fields seem separated by tabs"}},
 	{name: "csv-bom", edits: []edit{{"grants.csv", "", "\ufeff" + strings.Replace(base["grants.csv"], "4800,1.50", "4800,-3", 1)}},
-		want: []string{`Grants!E2 (strike): "-3" must be zero or more`}},
+		want: []string{`Grants!E2 (strike): "-3" must be from 0 to 10^12`}},
 	{name: "csv-quoted-newline", edits: []edit{{"grants.csv", "", strings.NewReplacer(
 		"purpose\n", "purpose,notes\n",
 		"2034-03-01,48,12,1,,\n", "2034-03-01,48,12,1,,,\"approved by the board,\nsee minutes\"\n",
@@ -212,7 +212,7 @@ var cases = []corpusCase{
 	{name: "exercise-multiple-of-one", edits: []edit{{"assumptions.csv", "exercise_multiple,2.5", "exercise_multiple,1"}},
 		want: []string{`Assumptions!B4 (exercise_multiple): "1" must be 0 (no such rule) or above 1, up to 100 times the strike`}},
 	{name: "volatility-too-high", edits: []edit{{"assumptions.csv", "volatility,0.5,", "volatility,9,"}},
-		want: []string{`Assumptions!B2 (volatility): "9" must be more than 0 and at most 5 (500%), as a decimal`}},
+		want: []string{`Assumptions!B2 (volatility): "9" must be from 0.01 to 5 (1% to 500%), as a decimal`}},
 	{name: "period-start-after-valuation-date", edits: []edit{{"company.csv", "currency,USD\n", "currency,USD\nperiod_start,2026-10-01\n"}},
 		want: []string{`Company!B5 (period_start): "2026-10-01" must be before valuation_date 2026-09-30`}},
 	{name: "par-tenor-not-half-years", edits: []edit{{"rates.csv", "2026-06-30,2,", "2026-06-30,2.3,"}},
