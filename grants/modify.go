@@ -101,7 +101,13 @@ type Change struct {
 	// Partial is set when a modification names fewer shares than are
 	// outstanding.
 	Partial bool
-	Parts   []ChangedPart // every part of the grant, in Split.Parts order
+	// Leaves is set when the holder leaves on the date (a forfeited event
+	// that day): under the terms before, the leaver's vested options are
+	// exercised at once if in the money, else lapse, as the lattice's exit
+	// does; the terms after (a new expiry, an exit rate) say how long the
+	// leaver may hold them.
+	Leaves bool
+	Parts  []ChangedPart // every part of the grant, in Split.Parts order
 }
 
 // ChangedPart is one part of a grant at a Change.
@@ -425,6 +431,7 @@ func (s *Schedule) SplitOf(g Grant) (*Split, error) {
 				leaves = true
 			}
 		}
+		ch.Leaves = leaves
 		left := append([]int64(nil), open...) // outstanding at the end of the day
 		for _, mv := range Allocate(parts, through).Moves {
 			if !mv.Date.Before(at) {
@@ -797,6 +804,7 @@ func (v *validator) modifications() {
 		}
 		for _, ch := range chs {
 			v.departureHint(g, ch)
+			v.leaverWindowHint(g, ch)
 		}
 	}
 	for _, m := range s.Modifications {
@@ -841,6 +849,29 @@ func (v *validator) departureHint(g Grant, ch Change) {
 	}
 }
 
+// leaverWindowHint warns when an option's holder leaves on the date of a
+// change that sets no new expiry: the award after the change is then
+// valued as if its holder stayed to the contractual expiry, while a
+// leaver's options last only the exercise window after leaving.
+func (v *validator) leaverWindowHint(g Grant, ch Change) {
+	m := ch.Modification
+	if m == nil || !ch.Leaves || g.Instrument == RSU || !m.NewExpiryDate.IsZero() {
+		return
+	}
+	var kept int64
+	for _, p := range ch.Parts {
+		if p.Shares > 0 && !p.VestAfter.After(ch.Date) {
+			kept += p.Shares
+		}
+	}
+	if kept == 0 {
+		return
+	}
+	v.rep.warnf(v.s.cell(SheetModifications, "new_expiry_date", m.Row, m.Refs), "new_expiry_date", "", ErrInconsistent,
+		"the holder of grant %s leaves on %s (a forfeited event that day) and keeps %d vested shares, but the change sets no new expiry: the award after it is valued as if the holder stayed to %s; put the last day of exercise after leaving here (and, if the leaver holds to it, a post-vesting exit rate of 0)",
+		g.ID, isoDay(ch.Date), kept, isoDay(ch.After.ExpiryDate))
+}
+
 // SheetModifications is the canonical name of the Modifications sheet.
 const SheetModifications = "Modifications"
 
@@ -852,7 +883,7 @@ var modificationsSheet = Sheet{Name: SheetModifications, File: "modifications.cs
 		{Key: "grant_id", Kind: KindText, Required: true, Need: "required", Help: "A grant_id of the Grants sheet."},
 		{Key: "date", Kind: KindDate, Required: true, Need: "required", Help: "The modification date: the award is valued on it before and after the change, and the change applies from the start of the day (before that day's events). When the holder leaves that day (a forfeited event on the date), shares that vest only because of the change were not expected to vest and are accounted at their fair value on the date (ASC 718-20-55-116, improbable to probable)."},
 		{Key: "new_strike", Kind: KindNumber, Unit: "currency per share", Need: "optional", Default: "unchanged", Help: "The new exercise price: a repricing."},
-		{Key: "new_expiry_date", Kind: KindDate, Need: "optional", Default: "unchanged", Help: "The new last day of exercise, e.g. a longer exercise window."},
+		{Key: "new_expiry_date", Kind: KindDate, Need: "optional", Default: "unchanged", Help: "The new last day of exercise, e.g. a longer exercise window. For a holder leaving on the date, the last day the leaver may exercise: without the change the leaver's vested options are valued as exercised at once if in the money, else lapsed (the lattice's exit)."},
 		{Key: "new_vest_months", Kind: KindInt, Unit: "months", Need: "optional", Default: "unchanged", Help: "A new vesting period, counted from vest_start as on the Grants sheet; 0 vests everything still unvested on the modification date. Vested tranches stay as they vested; each unvested tranche vests whole on the first date the new vesting has vested all the shares up to it (not before the modification date)."},
 		{Key: "new_cliff_months", Kind: KindInt, Unit: "months", Need: "optional", Default: "unchanged", Help: "A new cliff, e.g. 0 to waive it for a holder leaving before the first anniversary."},
 		{Key: "new_post_vesting_exit_rate", Kind: KindPercent, Unit: "annual", Need: "options, optional", Default: "unchanged", Help: "The exit rate of vested holders under the new terms: a longer post-termination exercise window means fewer leavers exercise or lose their options at once."},

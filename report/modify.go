@@ -36,8 +36,12 @@ type Modification struct {
 	Accounting         string `json:"accounting"`
 	ReplacementGrantID string `json:"replacement_grant_id"`
 	Changes            string `json:"changes"` // in words
-	Note               string `json:"note"`
-	Ref                string `json:"ref"` // the row: Modifications!A5 or Events!A7
+	// HolderLeaves is set when the holder leaves on the date (a forfeited
+	// event that day): vested options are valued before the change as
+	// exercised at once or lapsed (their intrinsic value).
+	HolderLeaves bool   `json:"holder_leaves"`
+	Note         string `json:"note"`
+	Ref          string `json:"ref"` // the row: Modifications!A5 or Events!A7
 	// Terms identify the change for a later close, which keeps its values
 	// (value_status locked) unless they changed.
 	Terms       string        `json:"terms"`
@@ -156,6 +160,7 @@ func modificationsModel(s *grants.Schedule, v *pricing.Valuation, b *accounting.
 		} else {
 			m.TermsAfter = modifiedTerms(ch.After, mv.After)
 			m.Changes = changesText(ch.Modification, m.TermsBefore, m.TermsAfter)
+			m.HolderLeaves = ch.Leaves
 			m.Note = ch.Modification.Note
 			m.Ref = s.Cell(grants.SheetModifications, "date", ch.Modification.Row).String()
 		}
@@ -412,6 +417,12 @@ func (d *Memo) modification(x Modification, cur string) {
 				count(x.Shares), money(x.FairValueBefore, cur), money(x.FairValueAfter, cur)))
 		}
 	}
+	if x.HolderLeaves && x.Accounting != "improbable_to_probable" {
+		text = append(text, "The holder leaves on the date.")
+	}
+	if x.HolderLeaves && vestedParts(x) {
+		text = append(text, "Before the change, the leaver's vested options are worth what leaving gives them, exercise at once if in the money or else nothing (their intrinsic value, as the lattice's exit); after it, what the new terms let the leaver keep, valued on the lattice.")
+	}
 	d.Para(strings.Join(text, " "))
 	if x.Kind == "modification" {
 		b, a := x.TermsBefore, x.TermsAfter
@@ -426,6 +437,16 @@ func (d *Memo) modification(x Modification, cur string) {
 	d.partsTable(x)
 	d.Para(fmt.Sprintf("Effect on the cost (the cost with the change less the cost without it, forfeitures as the policy expects them): %s in all, %s in this period, %s to the period end, %s still to recognize.",
 		money(x.Cost, cur), money(x.Amount, cur), money(x.Cumulative, cur), money(x.Unrecognized, cur)))
+}
+
+// vestedParts reports whether x touches shares vested before it.
+func vestedParts(x Modification) bool {
+	for _, p := range x.Parts {
+		if p.Vested && p.Shares > 0 {
+			return true
+		}
+	}
+	return false
 }
 
 func noteText(note string) string {
@@ -469,7 +490,11 @@ func writeModifications(b *Book, m *Model) error {
 	money := func(v float64) any { return b.Cell(b.Style.Money, v) }
 	per := func(v float64) any { return b.Cell(b.Style.MoneyPerShare, v) }
 	for _, x := range m.Modifications {
-		if err := t.Row(b.Cell(b.Style.Bold, "modification"), b.Text(x.GrantID), b.DateCell(x.Date), b.Text(accountingLabel(x)), b.Text(x.Changes),
+		what := x.Changes
+		if x.HolderLeaves {
+			what += "; the holder leaves that day"
+		}
+		if err := t.Row(b.Cell(b.Style.Bold, "modification"), b.Text(x.GrantID), b.DateCell(x.Date), b.Text(accountingLabel(x)), b.Text(what),
 			b.Cell(b.Style.Int, x.Shares), nil, nil, nil, nil, nil, nil,
 			money(x.FairValueBefore), money(x.FairValueAfter), money(x.Increment), money(x.Cost),
 			money(x.CumulativeOpen), money(x.Amount), money(x.Cumulative), money(x.Unrecognized), nil, b.Text(x.ValueStatus), b.Text(x.Ref), b.Text(x.Note)); err != nil {

@@ -7,6 +7,7 @@ import (
 	"os"
 	"strings"
 	"testing"
+	"time"
 
 	"grantworth/grants"
 	"grantworth/grants/grantstest"
@@ -621,5 +622,166 @@ func TestReconciliationModificationsLine(t *testing.T) {
 	}
 	if got := line(t, r.Expense, "service"); math.Abs(got-12_000*90.0/730) > tolCent {
 		t.Errorf("expense walk: service %.2f, want %.2f", got, 12_000*90.0/730)
+	}
+}
+
+// TestLeaverWindowByHand: a good leaver's exercise window extended. An
+// invented option of 4,800 shares at strike 2, granted 2024-08-01 and
+// vesting monthly over 48 months without a cliff, to expire 2034-08-01.
+// Its holder leaves on 2026-08-01, when 24 months (2,400 shares) have
+// vested; the other 2,400 are forfeited that day. The board lets the
+// leaver keep the vested options for a year (new expiry 2027-08-01, exit
+// rate 0). The share is worth 3 that day; flat 4% rates, volatility 50%,
+// no dividends or exercise multiple.
+//
+// Before the change the leaver's vested options are worth what leaving
+// gives them under the lattice's exit, exercise at once: 3 − 2 = 1.00 a
+// share. After it they are a one-year option, which with no multiple, exit
+// or dividends is the Black-Scholes-Merton call: QuantLib 1.29 gives
+// 1.19868972 (testdata/quantlib_reprice_gen.py). The options are vested,
+// so the increment is booked at once in the quarter (ASC 718-20-35-3;
+// IFRS 2.27 and B43(b)):
+//
+//	increment = 2,400 × (1.19868972 − 1.00) = 476.86
+//
+// The 2,400 unvested shares were not expected to vest before the change
+// and do not vest after it (improbable to improbable, ASC 718-20-55-116
+// Type IV): they add nothing and their grant-date cost is reversed by the
+// forfeiture, so the grant's cost is the 2,400 vested shares' grant-date
+// cost plus the increment.
+func TestLeaverWindowByHand(t *testing.T) {
+	var ref struct {
+		Leaver struct {
+			Value float64 `json:"value"`
+		} `json:"leaver"`
+	}
+	data, err := os.ReadFile("testdata/quantlib_reprice.json")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := json.Unmarshal(data, &ref); err != nil || ref.Leaver.Value == 0 {
+		t.Fatalf("reference: %v", err)
+	}
+	d := grantstest.Day
+	zero := 0.0
+	s := &grants.Schedule{
+		Company:     grants.Company{Name: "Brackenfield Optics, Inc.", ValuationDate: d("2026-09-30"), PeriodStart: d("2026-07-01"), Currency: "USD"},
+		Assumptions: grants.Assumptions{Volatility: 0.5, Attribution: grants.Graded, Forfeitures: grants.AsOccur, PostVestingExitRate: 0.10},
+		Grants: []grants.Grant{{ID: "B-1", Instrument: grants.Option, GrantDate: d("2024-08-01"), VestStart: d("2024-08-01"),
+			Shares: 4_800, Strike: 2, ExpiryDate: d("2034-08-01"), VestMonths: 48, VestEvery: 1}},
+		SharePrices: []grants.PricePoint{{Date: d("2024-07-31"), Price: 2}, {Date: d("2026-07-31"), Price: 3}},
+		Rates:       []grants.RatePoint{{CurveDate: d("2024-01-01"), TenorYears: 1, Rate: 0.04}, {CurveDate: d("2024-01-01"), TenorYears: 10, Rate: 0.04}},
+		Events:      []grants.Event{{GrantID: "B-1", Date: d("2026-08-01"), Kind: grants.Forfeited, Shares: 2_400}},
+		Modifications: []grants.Modification{{GrantID: "B-1", Date: d("2026-08-01"), NewExpiryDate: d("2027-08-01"), NewExitRate: &zero,
+			Note: "good leaver: a year to exercise"}},
+	}
+	v, b := valueAndClose(t, s, nil)
+	mv := v.Modifications[0]
+	const tolVanilla = 1e-5 // DESIGN §5, the vanilla limits
+	var vested int64
+	for j, p := range mv.Change().Parts {
+		if !p.Vested(mv.Change().Date) {
+			continue
+		}
+		vested += p.Shares
+		if mv.BeforeValues[j].Value != 1 {
+			t.Errorf("part %d before: %v, want the intrinsic value 1", j+1, mv.BeforeValues[j].Value)
+		}
+		if got := mv.AfterValues[j].Value; math.Abs(got/ref.Leaver.Value-1) > tolVanilla {
+			t.Errorf("part %d after: lattice %.8f, QuantLib %.8f", j+1, got, ref.Leaver.Value)
+		}
+	}
+	if vested != 2_400 {
+		t.Fatalf("%d vested shares touched, want 2,400", vested)
+	}
+	me := b.Expense.Modifications[0]
+	want := 2_400 * (ref.Leaver.Value - 1)
+	tol := 2_400 * tolVanilla * ref.Leaver.Value
+	for _, c := range []struct {
+		name      string
+		got, want float64
+	}{
+		{"increment", me.Increment, want},
+		{"cost added", me.Cost, want},
+		{"in the quarter", me.Period, want},
+		{"unrecognised", me.Unrecognized, 0},
+	} {
+		if math.Abs(c.got-c.want) > tol {
+			t.Errorf("%s: %.4f, want %.4f", c.name, c.got, c.want)
+		}
+	}
+	t.Logf("after %.8f (QuantLib %.8f), increment %.2f", mv.AfterValues[0].Value, ref.Leaver.Value, me.Increment)
+	var base float64
+	for _, tr := range b.Expense.Grants[0].Tranches {
+		if !tr.VestDate.After(d("2026-08-01")) {
+			base += tr.FairValue * float64(tr.Shares)
+		}
+	}
+	if got := b.Expense.Grants[0].Cost; math.Abs(got-(base+me.Cost)) > tolCent {
+		t.Errorf("grant cost %.2f, want the vested shares' grant-date cost %.2f plus the increment %.2f", got, base, me.Cost)
+	}
+	for _, p := range me.Parts {
+		if !p.Vested && (p.Increment != 0 || p.Attribution(me.Date) != "none: forfeited on 2026-08-01") {
+			t.Errorf("unvested part %+v: attributed %q", p, p.Attribution(me.Date))
+		}
+	}
+
+	// Without the new expiry the award after the change would be valued as
+	// if the holder stayed: the schedule draws a warning on the cell.
+	s.Modifications[0].NewExpiryDate = time.Time{}
+	rep := grants.Validate(s)
+	found := false
+	for _, w := range rep.Warnings {
+		if w.Column == "new_expiry_date" && strings.Contains(w.Msg, "leaves on 2026-08-01") {
+			found = true
+		}
+	}
+	if !found {
+		t.Errorf("no warning on new_expiry_date for a leaver's change: %v", rep.Warnings)
+	}
+}
+
+// TestDecelerationByHand: a change that makes vesting slower. oneOption's
+// 1,200 shares (fair value 10 at grant on 2025-01-01, all vesting
+// 2027-01-01 after 730 days) get a three-year cliff on 2026-01-01, so
+// they would vest on 2028-01-01, worth 3 a share before and after (values
+// given): no increment. A change not beneficial to the holder is not
+// taken into account (IFRS 2 B44(c)); the grant-date cost is recognised
+// when the original service condition is met, whether or not the new one
+// is (ASC 718-20-55-116, Type II, probable to improbable), so the cost is
+// earned over the original service to 2027-01-01 and kept when the holder
+// leaves on 2027-06-01, between the two vest dates (as forfeitures occur):
+//
+//	2026-03-31: 12,000 × 455/730 = 7,479.45
+//	2026-12-31: 12,000 (the last day's service ends the period)
+//	2027-06-30: 12,000, nothing reversed by the departure
+//
+// A departure before the original vest date (2026-06-01) forfeits the
+// shares as it would have without the change: nothing is left.
+func TestDecelerationByHand(t *testing.T) {
+	d := grantstest.Day
+	for _, c := range []struct {
+		end, leaves string
+		cumulative  float64
+	}{
+		{"2026-03-31", "", 12_000 * 455.0 / 730},
+		{"2026-12-31", "", 12_000},
+		{"2027-06-30", "2027-06-01", 12_000},
+		{"2026-06-30", "2026-06-01", 0},
+	} {
+		s := oneOption(c.end, Policy{Forfeitures: grants.AsOccur})
+		s.Modifications = []grants.Modification{{GrantID: "L-1", Date: d("2026-01-01"), NewVestMonths: ip(36), NewCliffMonths: ip(36)}}
+		if c.leaves != "" {
+			s.Events = []grants.Event{{GrantID: "L-1", Date: d(c.leaves), Kind: grants.Forfeited, Shares: 1_200}}
+		}
+		v := fakeValuation(s, ten, nil)
+		fakeModifications(t, s, v, flat(3), flat(3))
+		r := closeOf(t, s, v, nil).Expense
+		if math.Abs(r.Cumulative-c.cumulative) > tolCent {
+			t.Errorf("%s (leaving %q): cumulative %.2f, want %.2f", c.end, c.leaves, r.Cumulative, c.cumulative)
+		}
+		if me := r.Modifications[0]; me.Cost != 0 || me.Improbable {
+			t.Errorf("%s: the change adds %.2f (improbable %v), want nothing", c.end, me.Cost, me.Improbable)
+		}
 	}
 }

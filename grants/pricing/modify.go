@@ -14,7 +14,9 @@ import (
 // 718-20-35-3; IFRS 2.27, B43): the award under the terms just before the
 // change and just after it, part by part (grants.Split), with the share
 // price, curve and volatility of that date, its remaining term, and each
-// part vested or not. For a cancellation with a replacement award only
+// part vested or not. When the holder leaves on the date, the vested parts
+// of an option before the change are worth what exiting that day gives
+// (see leaverBefore). For a cancellation with a replacement award only
 // the cancelled award is valued here: the replacement's value on the date
 // is its grant-date value in Valuation.Grants.
 type ModificationValue struct {
@@ -189,6 +191,9 @@ func (p *pricer) modifications(v *Valuation, opts Options) error {
 			mv.BeforeValues = vals[k]
 		}
 	}
+	for i := range v.Modifications {
+		leaverBefore(&v.Modifications[i])
+	}
 	// Values a prior close filed are kept.
 	for i := range v.Modifications {
 		mv := &v.Modifications[i]
@@ -212,6 +217,27 @@ func (p *pricer) modifications(v *Valuation, opts Options) error {
 		}
 	}
 	return nil
+}
+
+// leaverBefore values the vested parts of a leaver's options under the
+// terms before the change as the lattice's exit does: exercised at once if
+// in the money, else lapsed, so worth their intrinsic value on the date
+// (the share price less the strike, or nothing). Without the change the
+// leaver would have held them no longer; with it (a new expiry, an exit
+// rate) the parts are valued on the lattice as the terms after say.
+// Vested RSUs are shares, and a cancellation with a replacement is valued
+// as the award it cancels: both are left as they are.
+func leaverBefore(mv *ModificationValue) {
+	ch := mv.Change()
+	if !ch.Leaves || ch.Cancellation != nil || mv.Before.Grant.Instrument != grants.Option {
+		return
+	}
+	intrinsic := max(mv.Before.Market.Spot-ch.Before.Strike, 0)
+	for j, p := range ch.Parts {
+		if p.Vested(ch.Date) {
+			mv.BeforeValues[j] = valuation.Result{Value: intrinsic}
+		}
+	}
 }
 
 // keepModification puts the filed values lm in place of mv's, part by
