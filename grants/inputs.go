@@ -226,7 +226,7 @@ func (s *Schedule) feasible(in Inputs) error {
 	switch l := valuation.Limits; {
 	case !l.SharePrice.In(in.Market.Spot):
 		ref, col, val = in.SharePrice.Ref, "share_price", num(in.Market.Spot)
-	case !l.Strike.In(t.Strike) || !l.Moneyness.In(t.Strike/in.Market.Spot):
+	case !l.Strike.In(t.Strike):
 		ref, col, val = s.cell(SheetGrants, "strike", g.Row, g.Refs), "strike", num(t.Strike)
 	case !l.YearsToExpiry.In(t.YearsToExpiry):
 		ref, col, val = s.cell(SheetGrants, "expiry_date", g.Row, g.Refs), "expiry_date", isoDay(g.ExpiryDate)

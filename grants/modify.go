@@ -2,7 +2,6 @@ package grants
 
 import (
 	"fmt"
-	"math/bits"
 	"sort"
 	"strconv"
 	"time"
@@ -422,7 +421,7 @@ func (s *Schedule) SplitOf(g Grant) (*Split, error) {
 			if m.ChangesVesting() {
 				return nil, fail(st, "shares", ErrInconsistent, "a change of vesting applies to all %d outstanding shares of grant %s; leave shares empty, or record the shares whose vesting changes as a grant of their own", total, g.ID)
 			}
-			touched = shareOut(m.Shares, open)
+			touched = ProRata(m.Shares, open)
 			ch.Partial, partial = true, m
 		}
 		leaves := false
@@ -535,43 +534,6 @@ func revest(g Grant, sps []span, total int64, t Terms, at time.Time) []span {
 				add(f)
 			}
 		}
-	}
-	return out
-}
-
-// shareOut gives n of the shares pools hold, in proportion to each pool
-// (0 ≤ n ≤ their sum): the floor of each exact share, and the shares left
-// over one each to the largest remainders, the later pool first on a tie.
-func shareOut(n int64, pools []int64) []int64 {
-	out := make([]int64, len(pools))
-	var total int64
-	for _, p := range pools {
-		total += p
-	}
-	if n <= 0 || total <= 0 {
-		return out
-	}
-	n = min(n, total)
-	type rem struct {
-		i int
-		r uint64 // n·pool mod total
-	}
-	rs := make([]rem, len(pools))
-	var given int64
-	for i, p := range pools {
-		hi, lo := bits.Mul64(uint64(n), uint64(p))
-		q, r := bits.Div64(hi, lo, uint64(total))
-		out[i], rs[i] = int64(q), rem{i, r}
-		given += out[i]
-	}
-	sort.SliceStable(rs, func(a, b int) bool {
-		if rs[a].r != rs[b].r {
-			return rs[a].r > rs[b].r
-		}
-		return rs[a].i > rs[b].i
-	})
-	for k := int64(0); k < n-given; k++ {
-		out[rs[k].i]++
 	}
 	return out
 }

@@ -59,7 +59,12 @@ type autoGeo struct {
 	anchor float64   // a node: ln H, else ln K, else ln S0
 	lo, hi float64   // band of log prices
 	bar    bool      // the top node is the barrier
+	bound  float64   // reachBound: no tranche is worth more
 }
+
+// worthless reports whether no tranche can be worth more than
+// AutoNegligible of the share price: they are valued at 0 ± bound.
+func (g *autoGeo) worthless(am *autoModel) bool { return g.bound <= AutoNegligible*am.spot }
 
 // autoR is σ²Δt/h², the ratio of a step's variance to the squared node
 // spacing, on the longest step of each interval.
@@ -76,6 +81,13 @@ const autoMaxSpacing = 0.4
 // autoBand is the half-width of the band of log prices, in standard
 // deviations σ√T of the whole term (the curve's drift is added).
 const autoBand = 6.0
+
+// autoStrikeReach is how far the band reaches above the strike, in
+// standard deviations σ√T, when the strike lies near or beyond the top
+// of the band: the payoff's kink and the values just above it are on the
+// grid, and the linear extrapolation at the top of the band starts where
+// the value is nearly linear in the share price.
+const autoStrikeReach = 2.0
 
 func (am *autoModel) geometry(vest []float64) autoGeo {
 	var g autoGeo
@@ -110,12 +122,16 @@ func (am *autoModel) geometry(vest []float64) autoGeo {
 		g.base = append(g.base, max(1, int(math.Ceil(gap/dt0-1e-9))))
 	}
 	nuLo, nuHi := am.driftRange()
+	g.bound = am.reachBound(nuHi)
 	w := autoBand * am.sig * math.Sqrt(T)
 	g.lo = am.x0 - w + math.Min(0, nuLo*T)
 	g.hi = am.x0 + w + math.Max(0, nuHi*T)
 	g.anchor = am.x0
 	if am.K > 0 {
 		g.anchor = math.Log(am.K)
+		if !g.worthless(am) {
+			g.hi = math.Max(g.hi, g.anchor+autoStrikeReach*am.sig*math.Sqrt(T))
+		}
 	}
 	if am.bar && am.xH < g.hi {
 		g.bar = true
@@ -189,13 +205,42 @@ func (am *autoModel) closed(v float64) (val, life float64) {
 		if k != 0 {
 			frac = -math.Expm1(-k*d) / k
 		}
-		life := d
-		if am.lambda > 0 {
-			life = -math.Expm1(-am.lambda*d) / am.lambda
-		}
-		return pv * (am.lambda*frac + surv), v + life
+		return pv * (am.lambda*frac + surv), v + am.holdLife(d)
 	}
 	return am.spot - am.K, 0
+}
+
+// reachBound is an upper bound of the value of every tranche:
+// S0·e^(q⁻T)·Q^S(max_{t≤T} S_t ≥ K), Q^S the measure under which the share
+// with its dividends reinvested is the numeraire. Whenever the award ends,
+// at τ ≤ T (exercise at the multiple or rationally, an exit, expiry), it
+// pays (S_τ − K)⁺ ≤ S_τ·1{S_τ ≥ K}, and the discounted share with its
+// dividends reinvested, Z_t = S_t·e^(qt)·P(0, t), is a martingale (also
+// with the exits' independent clock), so by optional stopping and the
+// change of numeraire E[P(0, τ)·S_τ·1{S_τ ≥ K}] ≤ e^(q⁻T)·E[Z_τ·1{S_τ ≥ K}]
+// = S0·e^(q⁻T)·Q^S(S_τ ≥ K), and {S_τ ≥ K} lies within {max S ≥ K}. Under
+// Q^S, ln S drifts at f − q + σ²/2, at most μ = max(0, nuHi + σ²) (nuHi the
+// largest ν of driftRange), so ln S_t − ln S0 ≤ μT + σW_t and the
+// reflection principle gives Q^S(max S ≥ K) ≤ 2Φ(−a/(σ√T)), a = ln(K/S0) −
+// μT > 0. With no strike, or the strike within reach, it is +Inf.
+func (am *autoModel) reachBound(nuHi float64) float64 {
+	if am.K <= 0 {
+		return math.Inf(1)
+	}
+	a := math.Log(am.K) - am.x0 - math.Max(0, nuHi+am.sig*am.sig)*am.T
+	if a <= 0 {
+		return math.Inf(1)
+	}
+	return am.spot * math.Exp(math.Max(0, -am.q)*am.T) * 2 * stdNormCDF(-a/(am.sig*math.Sqrt(am.T)))
+}
+
+// holdLife is the expected time a vested holder keeps an award that is
+// never exercised early: until he leaves or for the d years left.
+func (am *autoModel) holdLife(d float64) float64 {
+	if am.lambda > 0 {
+		return -math.Expm1(-am.lambda*d) / am.lambda
+	}
+	return d
 }
 
 // driftRange is the smallest and largest ν = f − q − σ²/2 over the term.
@@ -225,6 +270,7 @@ type autoGrid struct {
 	intr   []float64  // S − K
 	term   []float64  // payoff at expiry, averaged over the node's cell
 	xK, jk float64    // ln K and the jump of W_xxx there (0: none)
+	ks     float64    // the side of the strike kinkPart lives on: +1 above, −1 below
 	kfix   [2]int     // nodes within h of ln K (−1: none)
 	kcor   [2]float64 // their corrections per unit time
 	w, l   []float64  // value and expected remaining life
@@ -269,6 +315,10 @@ func (g *autoGrid) setup(am *autoModel, geo *autoGeo, h float64, ghosts int) {
 	if am.lambda > 0 && am.K > 0 {
 		g.xK = math.Log(am.K)
 		g.jk = -2 * am.lambda * am.K / (am.sig * am.sig)
+		g.ks = 1
+		if am.x0 > g.xK {
+			g.ks = -1
+		}
 		u := (g.xK - g.x[0]) / h
 		j := int(math.Floor(u))
 		for i, jj := range [2]int{j, j + 1} {
@@ -281,11 +331,16 @@ func (g *autoGrid) setup(am *autoModel, geo *autoGeo, h float64, ghosts int) {
 	}
 }
 
-// kinkPart is the part of W at x that carries the third-derivative jump at
-// the strike: jump·|x − ln K|³/12.
+// kinkPart is a part of W at x that carries the third-derivative jump at
+// the strike: jump·((x − ln K)⁺)³/6, or jump·((ln K − x)⁺)³/6, whichever is
+// 0 on the spot's side of the strike. Being 0 there, it never cancels
+// against W where W is small: a two-sided |x − ln K|³ grows with the
+// distance from the strike, and far out of the money W − kinkPart and the
+// part added back would each be many orders of magnitude above W, leaving
+// W lost in their rounding.
 func (g *autoGrid) kinkPart(x float64) float64 {
-	d := math.Abs(x - g.xK)
-	return g.jk * d * d * d / 12
+	d := max(g.ks*(x-g.xK), 0)
+	return g.jk * d * d * d / 6
 }
 
 // cellAverage is (S−K)⁺ averaged over [x−c, x+c] in log price where that
@@ -414,11 +469,12 @@ func (am *autoModel) step(g *autoGrid, bar bool, st autoStep) {
 			}
 		}
 	}
-	// Ends of the band: the value linear in the share price, the life
-	// linear in log price.
+	// Ends of the band: the value linear in the share price (and at
+	// least 0 at the bottom, where a call's convex value would otherwise
+	// be extrapolated below 0), the life linear in log price.
 	eh := math.Exp(g.h)
 	for j := jlo - 1; j >= 0; j-- {
-		w2[j] = w2[j+1] - (w2[j+2]-w2[j+1])/eh
+		w2[j] = max(w2[j+1]-(w2[j+2]-w2[j+1])/eh, 0)
 		l2[j] = 2*l2[j+1] - l2[j+2]
 	}
 	if bar {
@@ -494,25 +550,38 @@ func stencil(c, top int) int {
 	return min(max(c-1, 0), top-3)
 }
 
-// interp is the cubic interpolant of f at log price x; for the value (kink
-// true) the strike's third-derivative jump is taken out of the nodes first
-// and added back at x.
+// interp is the quintic interpolant of f at log price x, through the six
+// nodes around it (never across the barrier); for the value (kink true)
+// the strike's third-derivative jump is taken out of the nodes first and
+// added back at x. Its error, O(h⁶), is far below the lattice's own: a
+// cubic's O(h⁴) error, which changes irregularly from level to level as the
+// spot moves between nodes, spoilt the extrapolation where the value
+// curves sharply on the scale of a node spacing (low volatility, the
+// strike a few standard deviations away).
 func (g *autoGrid) interp(f []float64, top int, x float64, kink bool) float64 {
+	const np = 6
 	u := (x - g.x[0]) / g.h
 	c := min(max(int(math.Floor(u)), 0), top-1)
-	st := stencil(c, top)
+	st := min(max(c-np/2+1, 0), top-np+1)
 	u -= float64(st)
-	var fs [4]float64
-	copy(fs[:], f[st:st+4])
-	add := 0.0
+	sum, add := 0.0, 0.0
 	if kink && g.jk != 0 {
-		for i := range fs {
-			fs[i] -= g.kinkPart(g.x[st+i])
-		}
 		add = g.kinkPart(x)
 	}
-	c0, c1, c2, c3 := cubicCoef(fs[0], fs[1], fs[2], fs[3])
-	return c0 + u*(c1+u*(c2+u*c3)) + add
+	for a := range np {
+		w := 1.0
+		for b := range np {
+			if b != a {
+				w *= (u - float64(b)) / float64(a-b)
+			}
+		}
+		fa := f[st+a]
+		if kink && g.jk != 0 {
+			fa -= g.kinkPart(g.x[st+a])
+		}
+		sum += w * fa
+	}
+	return sum + add
 }
 
 // cubicCoef are the monomial coefficients in u of the cubic through
@@ -536,12 +605,13 @@ func (g *autoGrid) gaussCubic(top int, m, s float64) (ew, el float64) {
 		return 0, 0
 	}
 	ya := (g.x[cLo] - m) / s
-	Pa, pa := stdNormCDF(ya), stdNormPDF(ya)
+	ta, pa := normTail(ya), stdNormPDF(ya)
 	beta := s / h
 	for c := cLo; c <= cHi; c++ {
 		yb := (g.x[c+1] - m) / s
-		Pb, pb := stdNormCDF(yb), stdNormPDF(yb)
-		M0, M1, M2, M3 := partialMoments(ya, yb, Pa, Pb, pa, pb)
+		tb, pb := normTail(yb), stdNormPDF(yb)
+		M0 := normMass(ya, yb, ta, tb)
+		M1, M2, M3 := partialMoments(ya, yb, M0, pa, pb)
 		st := stencil(c, top)
 		alpha := (m - g.x[st]) / h
 		for k, f := range [2][]float64{g.w, g.l} {
@@ -564,40 +634,59 @@ func (g *autoGrid) gaussCubic(top int, m, s float64) (ew, el float64) {
 				el += x
 			}
 		}
-		ya, Pa, pa = yb, Pb, pb
+		ya, ta, pa = yb, tb, pb
 	}
 	if g.jk != 0 {
-		ew += g.jk / 12 * absCubeMoment(g.x[cLo], g.x[cHi+1], g.xK, m, s)
+		ew += g.jk / 6 * kinkMoment(g.x[cLo], g.x[cHi+1], g.xK, g.ks, m, s)
 	}
 	return ew, el
 }
 
 // partialMoments are M_k = ∫_ya^yb y^k φ(y) dy, k = 0..3, of the standard
-// normal density φ, given Φ and φ at both ends (integration by parts:
-// M_k = (k−1)·M_{k−2} + ya^(k−1)φ(ya) − yb^(k−1)φ(yb)).
-func partialMoments(ya, yb, Pa, Pb, pa, pb float64) (M0, M1, M2, M3 float64) {
-	M0 = Pb - Pa
+// normal density φ, given the mass M0 = Φ(yb) − Φ(ya) and φ at both ends
+// (integration by parts: M_k = (k−1)·M_{k−2} + ya^(k−1)φ(ya) −
+// yb^(k−1)φ(yb)).
+func partialMoments(ya, yb, M0, pa, pb float64) (M1, M2, M3 float64) {
 	M1 = pa - pb
 	M2 = M0 + ya*pa - yb*pb
 	M3 = 2*M1 + ya*ya*pa - yb*yb*pb
 	return
 }
 
-// absCubeMoment is ∫_a^b |x − c|³ φ(x; m, s) dx for the normal density of
-// mean m and standard deviation s.
-func absCubeMoment(a, b, c, m, s float64) float64 {
+// kinkMoment is ∫_a^b ((ks·(x − c))⁺)³ φ(x; m, s) dx for the normal density
+// of mean m and standard deviation s: the moment of kinkPart's cubic on
+// side ks (+1 above c, −1 below).
+func kinkMoment(a, b, c, ks, m, s float64) float64 {
 	// (x − c)³ = s³(y − z)³ with y = (x − m)/s, z = (c − m)/s
 	z := (c - m) / s
-	part := func(ya, yb float64) float64 {
-		if ya >= yb {
-			return 0
-		}
-		M0, M1, M2, M3 := partialMoments(ya, yb, stdNormCDF(ya), stdNormCDF(yb), stdNormPDF(ya), stdNormPDF(yb))
-		return M3 - 3*z*M2 + 3*z*z*M1 - z*z*z*M0
-	}
 	ya, yb := (a-m)/s, (b-m)/s
-	zc := math.Min(math.Max(z, ya), yb)
-	return s * s * s * (part(zc, yb) - part(ya, zc))
+	if ks > 0 {
+		ya = math.Max(ya, z)
+	} else {
+		yb = math.Min(yb, z)
+	}
+	if ya >= yb {
+		return 0
+	}
+	M0 := normMass(ya, yb, normTail(ya), normTail(yb))
+	M1, M2, M3 := partialMoments(ya, yb, M0, stdNormPDF(ya), stdNormPDF(yb))
+	return ks * s * s * s * (M3 - 3*z*M2 + 3*z*z*M1 - z*z*z*M0)
+}
+
+// normTail is Φ(−|y|), the normal tail beyond y.
+func normTail(y float64) float64 { return stdNormCDF(-math.Abs(y)) }
+
+// normMass is Φ(yb) − Φ(ya) for ya ≤ yb from their tails ta = normTail(ya)
+// and tb = normTail(yb), so that a cell far in the upper tail keeps its
+// digits (Φ(yb) − Φ(ya) there is 1 − 1 to rounding).
+func normMass(ya, yb, ta, tb float64) float64 {
+	switch {
+	case ya >= 0:
+		return ta - tb
+	case yb <= 0:
+		return tb - ta
+	}
+	return 1 - ta - tb
 }
 
 // gaussTrap integrates w and l below node top against the normal density
@@ -662,7 +751,7 @@ func (g *autoGrid) gaussTrap(top int, m, s float64, bar bool) (ew, el float64) {
 		if end {
 			hi = g.x[top]
 		}
-		ew += g.jk / 12 * absCubeMoment(m-12*s, hi, g.xK, m, s)
+		ew += g.jk / 6 * kinkMoment(m-12*s, hi, g.xK, g.ks, m, s)
 	}
 	return ew, el
 }
@@ -687,7 +776,7 @@ func autoPreflight(t Terms, vestYears []float64, m Market, conv Convention) (aut
 	}
 	am := newAutoModel(t, m, conv)
 	geo := am.geometry(vestYears)
-	if len(geo.knots) == 0 {
+	if len(geo.knots) == 0 || geo.worthless(&am) {
 		return am, geo, nil
 	}
 	if nodes, steps := geo.nodes(autoMinLevels-1), geo.steps(autoMinLevels-1); nodes > MaxLatticeSteps || steps > MaxLatticeSteps {
@@ -715,13 +804,29 @@ func latticeAuto(t Terms, vestYears []float64, m Market, conv Convention) ([]Res
 	if len(geo.knots) == 0 {
 		return out, nil
 	}
+	if geo.worthless(&am) {
+		// The share price reaching the strike within the term is so
+		// unlikely that every tranche is worth at most the bound: 0 ±
+		// bound. The holder then keeps the award until he leaves or it
+		// expires, except on paths that reach the strike (probability
+		// below bound/S0), where his life differs by at most T.
+		for _, ks := range geo.at {
+			for _, i := range ks {
+				v := vestYears[i]
+				_, life := am.preVest(v, 0, v+am.holdLife(am.T-v))
+				out[i] = Result{Value: 0, ErrorEstimate: geo.bound, ExpectedTermYears: life,
+					TermError: am.T * geo.bound / am.spot, Method: MethodLattice}
+			}
+		}
+		return out, nil
+	}
 	var vals, lives [][]float64
 	g := gridPool.Get().(*autoGrid)
 	defer gridPool.Put(g)
 	work := 0
 	for lv := 0; lv < autoMaxLevels; lv++ {
 		if lv >= autoMinLevels {
-			if !missed(out, geo) || work+geo.work(lv) > autoMaxWork || geo.nodes(lv) > MaxLatticeSteps || geo.steps(lv) > MaxLatticeSteps {
+			if !am.missed(out, geo) || work+geo.work(lv) > autoMaxWork || geo.nodes(lv) > MaxLatticeSteps || geo.steps(lv) > MaxLatticeSteps {
 				break
 			}
 		}
@@ -738,7 +843,7 @@ func latticeAuto(t Terms, vestYears []float64, m Market, conv Convention) ([]Res
 		for _, i := range ks {
 			out[i].Steps = steps
 			out[i].Method = MethodLattice
-			out[i].MissedTarget = out[i].ErrorEstimate > AutoTarget*math.Abs(out[i].Value)
+			out[i].MissedTarget = out[i].ErrorEstimate > am.target(out[i].Value)
 		}
 	}
 	return out, nil
@@ -749,6 +854,14 @@ func latticeAuto(t Terms, vestYears []float64, m Market, conv Convention) ([]Res
 // the integration end terms), and about the accuracy of the references it
 // was checked against.
 const autoFloor = 2e-5
+
+// autoAbsFloor, times the share price, is the smallest absolute error auto
+// mode claims: far out of the money, where the value is a few billionths of
+// the share price or less, the levels converge irregularly and their
+// changes understate the error (by up to 2e-13 of the share price at three
+// levels in the sweep of TestLatticeAutoFarOutOfTheMoney). A tenth of
+// AutoNegligible, so that the target stays within reach.
+const autoAbsFloor = AutoNegligible / 10
 
 // autoKappa weighs the finest level's own correction in the error estimate.
 const autoKappa = 0.2
@@ -782,8 +895,19 @@ func (am *autoModel) estimate(geo autoGeo, vals, lives [][]float64, out []Result
 				est = math.Abs(v2-v1) + math.Abs(v1-v0)
 				lest = math.Abs(l2-l1) + math.Abs(l1-l0)
 			}
+			if val < 0 {
+				// An award is worth at least nothing (its holder may let
+				// it lapse). The extrapolation falls below 0 only where
+				// the last change exceeds half the finest value, far from
+				// the asymptotic regime (a value of a few billionths of
+				// the share price): the value is then 0, nearer the truth
+				// than R, and the estimate at least the finest value and
+				// its last change.
+				val = 0
+				est = math.Max(est, math.Abs(v2)+math.Abs(v2-v1))
+			}
 			out[i].Value = val
-			out[i].ErrorEstimate = est + autoFloor*math.Abs(val)
+			out[i].ErrorEstimate = math.Max(est+autoFloor*math.Abs(val), autoAbsFloor*am.spot)
 			out[i].ExpectedTermYears = life
 			out[i].TermError = lest + autoFloor*life
 		}
@@ -804,11 +928,17 @@ func asymptotic(vals [][]float64, i int) bool {
 	return true
 }
 
+// target is the error estimate auto mode aims for on a value val:
+// AutoTarget of it, or AutoNegligible of the share price if that is more.
+func (am *autoModel) target(val float64) float64 {
+	return math.Max(AutoTarget*math.Abs(val), AutoNegligible*am.spot)
+}
+
 // missed reports whether a gridded tranche's estimate exceeds the target.
-func missed(out []Result, geo autoGeo) bool {
+func (am *autoModel) missed(out []Result, geo autoGeo) bool {
 	for _, ks := range geo.at {
 		for _, i := range ks {
-			if out[i].ErrorEstimate > AutoTarget*math.Abs(out[i].Value) {
+			if out[i].ErrorEstimate > am.target(out[i].Value) {
 				return true
 			}
 		}

@@ -65,7 +65,7 @@ func BenchmarkLatticeTranches(b *testing.B) {
 // for a unique ten-year grant with vesting, multiple and exit, all its
 // tranches included), and one tranche with the barrier a node from the spot
 // and vesting a week away (issue 11's region); ms/grant is the cost of one
-// call.
+// call, ns/node one node-step of the levels it solved (autoNodeSteps).
 func BenchmarkLatticeAuto(b *testing.B) {
 	tm, mk := benchGrant()
 	near := Terms{Strike: 100, YearsToExpiry: 10, YearsToVest: 7.0 / 365, ExerciseMultiple: 1.05, ExitRate: 0.08}
@@ -82,14 +82,18 @@ func BenchmarkLatticeAuto(b *testing.B) {
 	} {
 		b.Run(c.name, func(b *testing.B) {
 			b.ReportAllocs()
+			var rs []Result
 			for b.Loop() {
-				rs, err := LatticeTranches(c.tm, c.vest, c.mk, LatticeOptions{})
+				var err error
+				rs, err = LatticeTranches(c.tm, c.vest, c.mk, LatticeOptions{})
 				if err != nil {
 					b.Fatal(err)
 				}
 				latticeSink += rs[0].Value
 			}
-			b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/1e6, "ms/grant")
+			ns := float64(b.Elapsed().Nanoseconds()) / float64(b.N)
+			b.ReportMetric(ns/1e6, "ms/grant")
+			b.ReportMetric(ns/float64(autoNodeSteps(c.tm, c.vest, c.mk, rs)), "ns/node")
 		})
 	}
 }
@@ -112,4 +116,22 @@ func BenchmarkRunJobsAuto(b *testing.B) {
 		latticeSink += rs[0].Tranches[0].Value
 	}
 	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/float64(len(jobs))/1e6, "ms/grant")
+}
+
+// autoNodeSteps are the node-steps auto mode solved for a grant whose
+// results are rs: every level up to the one of the finest steps.
+func autoNodeSteps(tm Terms, vest []float64, mk Market, rs []Result) int {
+	_, geo, _ := autoPreflight(tm, vest, mk, Convention{})
+	steps := 0
+	for _, r := range rs {
+		steps = max(steps, r.Steps)
+	}
+	n := 0
+	for lv := 0; lv < autoMaxLevels; lv++ {
+		n += geo.work(lv)
+		if geo.steps(lv) >= steps {
+			break
+		}
+	}
+	return n
 }

@@ -82,7 +82,11 @@
 //     stencil's known error for such a jump removed (in the manner of the
 //     immersed interface method, LeVeque and Li 1994, SIAM Journal on
 //     Numerical Analysis 31(4)), and interpolation and integration take the
-//     jump out and add it back in closed form. The expiry payoff is
+//     jump out and add it back in closed form: as the one-sided cubic
+//     jump·((x − ln K)⁺)³/6 that is 0 on the spot's side of the strike, so
+//     that far out of the money it never cancels against a tiny W. Values
+//     between nodes come from the quintic through the six nearest nodes.
+//     The band reaches two σ√T above the strike. The expiry payoff is
 //     averaged over each node's cell (Pooley, Vetzal and Forsyth 2003,
 //     "Convergence remedies for non-smooth payoffs in option pricing",
 //     Journal of Computational Finance 6(4)).
@@ -100,6 +104,14 @@
 //     its estimate the sum of its last two changes.
 //   - If the limits stop the ladder with an estimate above the target,
 //     Result.MissedTarget says so; the estimate stays honest.
+//   - Far out of the money the target is AutoNegligible (10⁻¹⁰) of the
+//     share price where that is more than 0.05% of the value, and no
+//     estimate is below a tenth of it. An award whose share price can
+//     hardly reach the strike within the term (the reflection principle
+//     bounds its value, reachBound, by AutoNegligible of the share price)
+//     is valued at 0 with that bound as its estimate, with no lattice. A
+//     value is never below 0: an extrapolation that overshoots below 0 is
+//     shown as 0 with an estimate covering the finest level.
 //
 // Against an independent Crank-Nicolson solution of the same model
 // (fdref_test.go), over 80 random employee options and 160 with the barrier

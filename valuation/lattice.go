@@ -68,18 +68,9 @@ func LatticeTranches(t Terms, vestYears []float64, m Market, o LatticeOptions) (
 	if err != nil {
 		return nil, err
 	}
-	for i, r := range rs {
+	for _, r := range rs {
 		if !finite(r.Value) || !finite(r.ExpectedTermYears) || !finite(r.ErrorEstimate) {
 			return nil, inputErr("the lattice gave no finite value for volatility %v, years to expiry %v, spot %v and strike %v", m.VolAnnual, t.YearsToExpiry, m.Spot, t.Strike)
-		}
-		if r.Value < 0 && o.Steps == 0 {
-			// An award is worth at least nothing (its holder may let it
-			// lapse): a value of auto mode below 0 is rounding against the
-			// strike or an extrapolation's overshoot. It is shown as 0,
-			// with an error estimate that covers the difference. (A raw
-			// tree is left as the textbook computes it.)
-			rs[i].ErrorEstimate = max(r.ErrorEstimate, -r.Value)
-			rs[i].Value = 0
 		}
 	}
 	return rs, nil
@@ -135,8 +126,6 @@ func checkLattice(t Terms, vestYears []float64, m Market, o LatticeOptions) erro
 		return limitErr(Limits.SharePrice, "spot", m.Spot)
 	case !Limits.Strike.In(t.Strike):
 		return limitErr(Limits.Strike, "strike", t.Strike)
-	case !Limits.Moneyness.In(t.Strike / m.Spot):
-		return inputErr("strike %v is more than %s times the spot %v: the award is worth nothing the lattice resolves; check the units", t.Strike, bound(Limits.Moneyness.Max), m.Spot)
 	case !finite(m.VolAnnual) || m.VolAnnual <= 0:
 		return inputErr("volatility %v must be a finite number above 0", m.VolAnnual)
 	case !Limits.YearsToExpiry.In(t.YearsToExpiry):

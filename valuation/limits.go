@@ -71,14 +71,12 @@ func bound(x float64) string {
 // S0·e^±maxLogSpan (about 10^±260), and totals multiply a value per share
 // by up to 10^12 shares and add up many grants.
 var Limits = struct {
-	SharePrice, Strike, Moneyness, Volatility, YearsToExpiry, DividendYield, ExitRate, ExerciseMultiple, Steps, Shares, Rate, Tenor Limit
+	SharePrice, Strike, Volatility, YearsToExpiry, DividendYield, ExitRate, ExerciseMultiple, Steps, Shares, Rate, Tenor Limit
 }{
 	SharePrice: Limit{Key: "share_price", Min: 1e-6, Max: 1e12,
 		Why: "a millionth of a currency unit to 10^12 a share: any share in any currency; node prices S0·e^±600 and totals over 10^12 shares stay far inside floating point"},
 	Strike: Limit{Key: "strike", Min: 0, Max: 1e12,
 		Why: "0 (a pre-funded warrant) to 10^12 a share, as for the share price"},
-	Moneyness: Limit{Key: "strike_to_share_price", Min: 0, Max: 1e4,
-		Why: "a strike of at most 10^4 times the share price: beyond that an award is worth nothing the lattice resolves (its value is lost in rounding against the strike), and the cause is nearly always a unit (a strike in cents, a price in thousands)"},
 	Volatility: Limit{Key: "volatility", Min: 0.01, Max: 5,
 		Why: "1% to 500% a year: outside it the figure is almost surely mistyped (45 for 0.45); how high a volatility the lattice resolves also depends on the term and the steps (Feasible)"},
 	YearsToExpiry: Limit{Key: "years_to_expiry", Min: 0, MinOpen: true, Max: MaxTermDays / 365.0,
@@ -105,7 +103,7 @@ const MaxTermDays = 36525
 // AllLimits lists the rows of Limits, for documentation and tests.
 func AllLimits() []Limit {
 	l := Limits
-	return []Limit{l.SharePrice, l.Strike, l.Moneyness, l.Volatility, l.YearsToExpiry, l.DividendYield, l.ExitRate, l.ExerciseMultiple, l.Steps, l.Shares, l.Rate, l.Tenor}
+	return []Limit{l.SharePrice, l.Strike, l.Volatility, l.YearsToExpiry, l.DividendYield, l.ExitRate, l.ExerciseMultiple, l.Steps, l.Shares, l.Rate, l.Tenor}
 }
 
 // Feasible reports, without solving, whether LatticeTranches values terms

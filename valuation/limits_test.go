@@ -73,18 +73,18 @@ func TestFeasibleAgreesWithLattice(t *testing.T) {
 	}
 }
 
-// Auto mode never gives a negative value: rounding against a large strike
-// is shown as 0 with an error estimate that covers it.
+// Auto mode's value for the case that came out at −4.8e-7 (a strike 10^4
+// times the spot at 1% volatility, exits: the strike's correction cancelled
+// against the value) is 0 within the negligible, by itself (the lattice
+// no longer shows values below 0 as 0).
 func TestAutoValueNotNegative(t *testing.T) {
-	// A strike 10^4 times the spot at 1% volatility, where the auto
-	// lattice's value came out at −4.8e-7.
 	tm := Terms{Strike: 1.6e4, YearsToExpiry: 10, ExerciseMultiple: 2.2, ExitRate: 0.12}
 	m := Market{Spot: 1.6, VolAnnual: 0.01, Curve: FlatCurve(0.04)}
 	r, err := Lattice(tm, m, LatticeOptions{})
 	if err != nil {
 		t.Fatal(err)
 	}
-	if r.Value < 0 || r.ErrorEstimate < 0 {
-		t.Errorf("value %v ± %v", r.Value, r.ErrorEstimate)
+	if r.Value != 0 || r.ErrorEstimate < 0 || r.ErrorEstimate > AutoNegligible*m.Spot {
+		t.Errorf("value %v ± %v, want 0 ± at most %v", r.Value, r.ErrorEstimate, AutoNegligible*m.Spot)
 	}
 }

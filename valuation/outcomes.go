@@ -16,8 +16,8 @@ type OutcomeOptions struct {
 }
 
 // Defaults of OutcomeOptions. The share is sampled exactly at the grid
-// dates and the barrier and departures are exact between them, so the grid
-// only sets when a barrier hit is paid (mid-step): twice a month is ample.
+// dates, and the barrier, its hit time and departures are exact between
+// them: twice a month is ample.
 const (
 	DefaultOutcomePaths        = 20000
 	DefaultOutcomeStepsPerYear = 24
@@ -85,8 +85,8 @@ func (o *Outcomes) Quantile(p float64) float64 {
 // exactly on a grid that holds every vest date and expiry. Each tranche
 // follows the model on the common path: nothing before it vests; from then
 // on exercise when the share first reaches M·K (between grid dates by the
-// Brownian-bridge crossing probability, paying H − K at the middle of the
-// step), or a departure at V + E/λ (E a standard exponential drawn once per
+// Brownian-bridge crossing probability, paying H − K at a hit time drawn
+// from the bridge's first-passage law, bridgeHit), or a departure at V + E/λ (E a standard exponential drawn once per
 // path, so every tranche's departure comes the same time after its own
 // vesting; the share there drawn from the Brownian bridge), else (S_T − K)⁺
 // at expiry. European terms pay at expiry only. The mean of Sample is
@@ -173,6 +173,16 @@ func SimulateOutcomes(tranches []Terms, weights []float64, m Market, o OutcomeOp
 	rng := rand.New(rand.NewPCG(o.Seed, 0x6f7574636f6d6573)) // stream constant: "outcomes"
 	x := make([]float64, n+1)
 	next := make([]int, n+1) // next[i]: the first step j ≥ i in which the path reaches H (n: none)
+	// hitAt is the time at which the path first reaches H within step j
+	// (x[j] < H), drawn once per path and step, so that the tranches that
+	// share the path share the hit.
+	hitFrac, hitPath := make([]float64, n), make([]int, n)
+	hitAt := func(p, j int) float64 {
+		if hitPath[j] != p+1 {
+			hitPath[j], hitFrac[j] = p+1, bridgeHit(rng, x[j], x[j+1], h, sd[j]*sd[j])
+		}
+		return times[j] + (times[j+1]-times[j])*hitFrac[j]
+	}
 	out := &Outcomes{Paths: paths, Sample: make([]float64, paths),
 		EndYears: make([]float64, endPeriod(horizon, 1)+1), EndMonths: make([]float64, endPeriod(horizon, 12)+1)}
 	var sum, sum2, life float64
@@ -220,21 +230,21 @@ func SimulateOutcomes(tranches []Terms, weights []float64, m Market, o OutcomeOp
 				}
 				switch {
 				case j < ie:
-					mid := (times[j] + times[j+1]) / 2
-					pv, end, how = (H-t.Strike)*m.Curve.Discount(mid), mid, EndMultiple
+					at := hitAt(p, j)
+					pv, end, how = (H-t.Strike)*m.Curve.Discount(at), at, EndMultiple
 				case ie < t.iT:
 					t0, t1 := times[ie], times[ie+1]
 					w := (tau - t0) / (t1 - t0)
 					xt := x[ie] + w*(x[ie+1]-x[ie]) + sd[ie]*math.Sqrt(w*(1-w))*zb
-					if barrier && (xt >= h || rng.Float64() < bridgeCross(h, x[ie], xt, sd[ie]*sd[ie]*w)) { // a fresh uniform: only this tranche's part of the step
-						mid := (t0 + tau) / 2
-						pv, end, how = (H-t.Strike)*m.Curve.Discount(mid), mid, EndMultiple
+					if v := sd[ie] * sd[ie] * w; barrier && (xt >= h || rng.Float64() < bridgeCross(h, x[ie], xt, v)) { // a fresh uniform: only this tranche's part of the step
+						at := t0 + (tau-t0)*bridgeHit(rng, x[ie], xt, h, v)
+						pv, end, how = (H-t.Strike)*m.Curve.Discount(at), at, EndMultiple
 						break
 					}
 					pv, end, how = math.Max(math.Exp(xt)-t.Strike, 0)*m.Curve.Discount(tau), tau, EndLeftExercised
 				case j < t.iT:
-					mid := (times[j] + times[j+1]) / 2
-					pv, end, how = (H-t.Strike)*m.Curve.Discount(mid), mid, EndMultiple
+					at := hitAt(p, j)
+					pv, end, how = (H-t.Strike)*m.Curve.Discount(at), at, EndMultiple
 				default:
 					pv, end = math.Max(math.Exp(x[t.iT])-t.Strike, 0)*disc[t.iT], times[t.iT]
 					how = EndExpiryExercised

@@ -1,6 +1,7 @@
 package valuation
 
 import (
+	"fmt"
 	"math"
 	"testing"
 )
@@ -109,27 +110,60 @@ func TestOutcomesMatchLattice(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		var want, wantErr, wantTerm, wsum float64
+		var want, wantErr, wantTerm, wantTermErr, wsum float64
 		for i, r := range lat {
 			want += w[i] * r.Value
 			wantErr += w[i] * r.ErrorEstimate
 			wantTerm += w[i] * r.ExpectedTermYears
+			wantTermErr += w[i] * r.TermError
 			wsum += w[i]
 		}
-		want, wantErr, wantTerm = want/wsum, wantErr/wsum, wantTerm/wsum
+		want, wantErr, wantTerm, wantTermErr = want/wsum, wantErr/wsum, wantTerm/wsum, wantTermErr/wsum
 		out := simulate(t, tr, w, m, OutcomeOptions{Paths: n, Seed: 7})
 		within(t, c.name+": mean", out.Mean, want, outcomeZMax*out.StdErr+wantErr)
 		// End times lie in [0, 10], so their standard deviation is at most 5
 		// (Popoviciu's inequality) and the mean's standard error at most
-		// 5/√n; the simulation ends a barrier hit at mid-step, at most 1/48
-		// year from the hit.
-		within(t, c.name+": expected term", out.ExpectedTermYears, wantTerm, outcomeZMax*5/math.Sqrt(n)+1.0/48)
+		// 5/√n; the barrier's hit time is drawn from the Brownian bridge.
+		within(t, c.name+": expected term", out.ExpectedTermYears, wantTerm, outcomeZMax*5/math.Sqrt(n)+wantTermErr)
 		if out.Endings[EndMultiple] <= 0 || out.Endings[EndLeftExercised] <= 0 || out.Endings[EndLeftLapsed] <= 0 || out.Endings[EndExpiryLapsed] <= 0 {
 			t.Errorf("%s: some way of ending never happens: %v", c.name, out.Endings)
 		}
 		t.Logf("%s: mean %.4f ± %.4f, lattice %.4f ± %.4f; term %.3f, lattice %.3f; in the money %.3f; endings %.3f",
 			c.name, out.Mean, out.StdErr, want, wantErr, out.ExpectedTermYears, wantTerm, out.InTheMoney, out.Endings)
 	}
+}
+
+// On a grid of one step a year the barrier's hit time still comes from the
+// Brownian bridge (bridgeHit), not the middle of the step: the month in
+// which the award ends has the distribution it has on a grid of 240 steps
+// a year (two samples of the same model, each month within outcomeZMax
+// combined standard errors), and the mean and the expected term agree with
+// the lattice. With the hit paid at mid-step, 70% of the paths ended in
+// the sixth month of a year (all hits fell there); with the bridge, 7%.
+func TestOutcomesCoarseGridHitTime(t *testing.T) {
+	m := Market{Spot: 10, VolAnnual: 0.4, Curve: FlatCurve(0.12)}
+	tm := Terms{Strike: 10, YearsToExpiry: 6, YearsToVest: 0, ExerciseMultiple: 1.6}
+	const n = 40000
+	lat, err := Lattice(tm, m, LatticeOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	coarse := simulate(t, []Terms{tm}, []float64{1}, m, OutcomeOptions{Paths: n, StepsPerYear: 1, Seed: 11})
+	fine := simulate(t, []Terms{tm}, []float64{1}, m, OutcomeOptions{Paths: n, StepsPerYear: 240, Seed: 12})
+	within(t, "mean", coarse.Mean, lat.Value, outcomeZMax*coarse.StdErr+lat.ErrorEstimate)
+	// End times in [0, 6]: standard deviation at most 3 (Popoviciu).
+	within(t, "expected term", coarse.ExpectedTermYears, lat.ExpectedTermYears, outcomeZMax*3/math.Sqrt(n)+lat.TermError)
+	sixth := 0.0
+	for k := range coarse.EndMonths {
+		pc, pf := coarse.EndMonths[k], fine.EndMonths[k]
+		p := (pc + pf) / 2
+		within(t, fmt.Sprintf("ending in month %d", k+1), pc, pf, outcomeZMax*math.Sqrt(2*p*(1-p)/n)+1e-12)
+		if k%12 == 5 {
+			sixth += pc
+		}
+	}
+	t.Logf("mean %.5f ± %.5f, lattice %.5f ± %.2g; term %.4f, lattice %.4f; ended in the sixth month of a year %.3f",
+		coarse.Mean, coarse.StdErr, lat.Value, lat.ErrorEstimate, coarse.ExpectedTermYears, lat.ExpectedTermYears, sixth)
 }
 
 func monthlyVest(months, cliff int) []float64 {

@@ -45,6 +45,16 @@ type Result struct {
 
 // AutoTarget is the relative accuracy auto mode aims for (DESIGN §5: within
 // 0.05% of a converged reference). It refines its ladder until the error
-// estimate of every tranche is within AutoTarget of its value, or its limits
-// are reached (Result.MissedTarget).
+// estimate of every tranche is within AutoTarget of its value (or within
+// AutoNegligible of the share price, if that is more), or its limits are
+// reached (Result.MissedTarget).
 const AutoTarget = 5e-4
+
+// AutoNegligible, times the share price, is the absolute accuracy auto
+// mode settles for where AutoTarget of the value is less: far out of the
+// money, where a value of a few billionths of the share price cannot be
+// resolved to 0.05% of itself by any lattice, and does not need to be.
+// An award that certainly cannot be worth more than this (its share
+// price reaching the strike within the term is that unlikely) is valued
+// at 0 with that bound as its error estimate, without a lattice.
+const AutoNegligible = 1e-10

@@ -111,10 +111,7 @@ func limitEdges(t *testing.T, l valuation.Limit) (in, out []edge) {
 			outs = []float64{lo - 1, hi + 1}
 		}
 		col(l.Key, ins, outs)
-		switch l.Key {
-		case "share_price":
-			in[0].row["strike"] = "0.01" // within Moneyness of the lowest price
-		case "strike":
+		if l.Key == "strike" {
 			in[1].row["share_price"] = g(hi) // a strike of 10^12 on a share of 10^12
 		}
 		if l.Key == "volatility" {
@@ -122,10 +119,6 @@ func limitEdges(t *testing.T, l valuation.Limit) (in, out []edge) {
 			// volatility on a three-year option.
 			in[1].row["expiry_date"], in[1].row["vest_months"] = "2028-01-10", "24"
 		}
-	case "strike_to_share_price":
-		// The share price is 1.6 (the Share Prices row at 2025-01-10).
-		in = append(in, edge{row: map[string]string{"strike": g(1.6 * l.Max)}})
-		out = append(out, edge{row: map[string]string{"strike": g(1.6 * l.Max * (1 + tiny))}, cell: grantCell("strike")})
 	case "exercise_multiple":
 		col(l.Key, []float64{0, l.Min * (1 + tiny), l.Max}, []float64{l.Min, l.Max * (1 + tiny), -0.5})
 	case "years_to_expiry":
@@ -265,7 +258,8 @@ func TestLimitRegressions(t *testing.T) {
 			f["assumptions.csv"] = strings.Replace(f["assumptions.csv"], "steps,auto", "steps,5000", 1)
 		}, "Assumptions!B9 (steps)"},
 		{"volatility 0.01 at rates near 50%", map[string]string{"volatility": "0.01"}, oneCurve("0", "0.49", "30", "0.49"), ""},
-		{"a strike 10^5 times the share price (auto mode's value was noise, up to 92 ± 150 for a worthless option)", map[string]string{"strike": "160000"}, nil, grantCell("strike")},
+		{"a strike 10^5 times the share price (auto mode's value was noise, up to 92 ± 150 for a worthless option)", map[string]string{"strike": "160000"}, nil, ""},
+		{"a strike 10^12 on a share of 1.6 at 1% volatility", map[string]string{"strike": "1e12", "volatility": "0.01"}, nil, ""},
 	} {
 		rows := []map[string]string{c.row}
 		if c.row == nil {

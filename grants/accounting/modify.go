@@ -375,17 +375,9 @@ func (l *awardLedger) atLayered(pol Policy, v view, comp []float64) snapshot {
 		return s
 	}
 	if pol.Attribution == grants.Graded {
-		for i := range l.tr {
-			t := &l.tr[i]
-			for li := range t.layers {
-				ly := &t.layers[li]
-				if !t.on(l, ly, d, v) {
-					continue
-				}
-				live, acc := t.counts(ly, d, v)
-				comp[i] += ly.value*float64(live)*ly.expected(kd, v.rate, v)*ly.frac(d, v) + ly.value*float64(acc)
-			}
-		}
+		l.eachLayer(d, v, func(i int, ly *layer, live, acc int64) {
+			comp[i] += ly.value*float64(live)*ly.expected(kd, v.rate, v)*ly.frac(d, v) + ly.value*float64(acc)
+		})
 		return s
 	}
 	// Straight-line: each group (the grant-date value; each change's
@@ -399,24 +391,16 @@ func (l *awardLedger) atLayered(pol Policy, v view, comp []float64) snapshot {
 	groups := map[changeKey][]*layer{}
 	var order []changeKey
 	entries := map[changeKey][]entry{}
-	for i := range l.tr {
-		t := &l.tr[i]
-		for li := range t.layers {
-			ly := &t.layers[li]
-			if !t.on(l, ly, d, v) {
-				continue
-			}
-			live, acc := t.counts(ly, d, v)
-			comp[i] += ly.value * float64(acc)
-			if _, ok := entries[ly.key]; !ok {
-				order = append(order, ly.key)
-			}
-			if live > 0 { // straight-line ends at the last vest day with shares still counted
-				groups[ly.key] = append(groups[ly.key], ly)
-			}
-			entries[ly.key] = append(entries[ly.key], entry{i, ly.value * float64(live) * ly.expected(kd, v.rate, v), d >= ly.target(d, v)})
+	l.eachLayer(d, v, func(i int, ly *layer, live, acc int64) {
+		comp[i] += ly.value * float64(acc)
+		if _, ok := entries[ly.key]; !ok {
+			order = append(order, ly.key)
 		}
-	}
+		if live > 0 { // straight-line ends at the last vest day with shares still counted
+			groups[ly.key] = append(groups[ly.key], ly)
+		}
+		entries[ly.key] = append(entries[ly.key], entry{i, ly.value * float64(live) * ly.expected(kd, v.rate, v), d >= ly.target(d, v)})
+	})
 	for _, k := range order {
 		var total, floor, unvested float64
 		for _, e := range entries[k] {
@@ -443,6 +427,22 @@ func (l *awardLedger) atLayered(pol Policy, v view, comp []float64) snapshot {
 		}
 	}
 	return s
+}
+
+// eachLayer calls f with every layer of every part that counts on day d
+// in view v, with the part's index and the layer's counts on d.
+func (l *awardLedger) eachLayer(d int, v view, f func(part int, ly *layer, live, acc int64)) {
+	for i := range l.tr {
+		t := &l.tr[i]
+		for li := range t.layers {
+			ly := &t.layers[li]
+			if !t.on(l, ly, d, v) {
+				continue
+			}
+			live, acc := t.counts(ly, d, v)
+			f(i, ly, live, acc)
+		}
+	}
 }
 
 // groupFrac is the share of a group of layers earned through day d,
