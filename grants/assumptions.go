@@ -76,6 +76,8 @@ func (a *Assumptions) set(r AssumptionRow) {
 		a.Framework = Framework(r.Text)
 	case "steps":
 		a.Steps = int(r.Value)
+	case "tax_rate":
+		a.TaxRate = r.Value
 	}
 }
 
@@ -101,6 +103,8 @@ func (a *Assumptions) row(key string) AssumptionRow {
 		r.Text = string(a.Framework)
 	case "steps":
 		r.Value = float64(a.Steps)
+	case "tax_rate":
+		r.Value = a.TaxRate
 	}
 	return r
 }

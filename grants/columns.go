@@ -81,6 +81,8 @@ const (
 	SheetAssumptions = "Assumptions"
 	SheetGrants      = "Grants"
 	SheetVesting     = "Vesting"
+	SheetTransfers   = "Transfers"
+	SheetAccounts    = "Accounts"
 	SheetSharePrices = "Share Prices"
 	SheetRates       = "Rates"
 	SheetEvents      = "Events"
@@ -105,9 +107,12 @@ var Sheets = []Sheet{
 		Columns: []Column{
 			{Key: "company_name", Kind: KindText, Required: true, Need: "required", Help: "The company's name as it appears in the memo."},
 			{Key: "valuation_date", Kind: KindDate, Required: true, Need: "required", Help: "The period end: liability-classified warrants are remeasured on it and expense runs to it."},
-			{Key: "period_start", Kind: KindDate, Need: "optional", Default: "first day of the quarter ending on valuation_date", Help: "The first day of the reporting period."},
+			{Key: "period_start", Kind: KindDate, Need: "optional", Default: "first day of the quarter ending on valuation_date (the fiscal quarter, when valuation_date ends one)", Help: "The first day of the reporting period."},
 			{Key: "currency", Kind: KindText, Unit: "ISO 4217 code", Need: "optional", Default: "USD", Help: "Three-letter currency code of prices and strikes."},
 			{Key: "shares_outstanding", Kind: KindInt, Unit: "shares", Need: "warrants", Help: "Common shares outstanding, for the dilution of warrants."},
+			{Key: "fiscal_year_end", Kind: KindChoice, Choices: months, Unit: "month", Need: "optional", Default: "December (calendar years)", Help: "The month the fiscal year ends in: its name, its first three letters or its number 1 to 12. Quarters, the expense forecast, the expense by fiscal year and the default period_start follow it; a year ending in January runs from 1 February and is named by the calendar year it ends in (FY2027 ends in January 2027)."},
+			{Key: "fiscal_year_end_weekday", Kind: KindChoice, Choices: weekdays, Need: "optional", Default: "none: the year ends on the month's last day", Help: "For a 52/53-week year: the weekday it ends on, in or near the fiscal_year_end month. Its quarters are 13 weeks each, the fourth 14 in a 53-week year."},
+			{Key: "fiscal_year_end_rule", Kind: KindChoice, Choices: []string{"last", "nearest"}, Need: "with fiscal_year_end_weekday", Default: "last", Help: "last: the year ends on the last such weekday of the month; nearest: on the one nearest the month's last day, which may fall in the next month's first three days."},
 		}},
 	{Name: SheetAssumptions, File: "assumptions.csv", KeyValue: true, Required: true,
 		Help: "Company-wide valuation assumptions: key, value, an optional source that the memo quotes and an optional effective_date from which the row applies (a row without one applies from the beginning). A grant takes, key by key, the row in force at its measurement date (the latest effective_date on or before it); attribution, forfeitures, pre_vesting_forfeiture_rate and steps are those in force at valuation_date. A grant row may override some of them.",
@@ -120,7 +125,8 @@ var Sheets = []Sheet{
 			{Key: "attribution", Kind: KindChoice, Choices: []string{string(Graded), string(StraightLine)}, Need: "optional", Default: "graded", Help: "How a graded award's cost is spread over service: per tranche (graded) or evenly over the whole award (straight-line)."},
 			{Key: "forfeitures", Kind: KindChoice, Choices: []string{string(Estimate), string(AsOccur)}, Need: "optional", Default: "estimate", Help: "Estimate forfeitures in advance, or account for them as they occur."},
 			{Key: "steps", Kind: KindSteps, Need: "optional", Default: "auto", Help: "Lattice steps: auto (converged, with an error estimate) or a fixed number."},
-			{Key: "framework", Kind: KindChoice, Choices: frameworks, Need: "optional", Default: "asc718", Help: "The accounting standard the books follow: asc718 (US GAAP) or ifrs2. Under ifrs2 attribution must be graded and forfeitures estimated, and the journal credits a share-based payment reserve."},
+			{Key: "framework", Kind: KindChoice, Choices: frameworks, Need: "optional", Default: "asc718", Help: "The accounting standard the books follow: asc718 (US GAAP, with ASC 740 for the tax effect) or ifrs2 (with IAS 12). Under ifrs2 attribution must be graded and forfeitures estimated, the journal credits a share-based payment reserve, and the deferred tax follows the intrinsic value."},
+			{Key: "tax_rate", Kind: KindPercent, Unit: "annual", Need: "optional", Default: "none (no tax effect)", Help: "The statutory income tax rate at which the deferred tax asset of deductible awards is measured, e.g. 25% or 0.25; dated rows give enacted changes."},
 		},
 		KeyColumns: []Column{
 			{Key: "source", Kind: KindText, Need: "optional", Help: "Where the value comes from (a study, a policy memo); the memo and the workbook quote it beside the cell."},
@@ -150,6 +156,8 @@ var Sheets = []Sheet{
 			{Key: "exercise_style", Kind: KindChoice, Choices: exerciseStyles, Need: "warrants, optional", Default: "american", Help: "American warrants may be exercised at any time once vested; european only at expiry."},
 			{Key: "purpose", Kind: KindChoice, Choices: purposes, Need: "warrants: required; options and RSUs: optional", Default: "compensation (options and RSUs)", Help: "What the award pays for: compensation (share-based payment for services, expensed over service) or financing (a warrant issued to a lender or an investor: not compensation; measured at issue, and remeasured every period if a liability)."},
 			{Key: "hire_date", Kind: KindDate, Need: "optional", Default: "grant_date", Help: "For a holder hired after the grant date, the day service begins: cost is recognised from it. Leave empty when the holder was employed at grant."},
+			{Key: "tax_deductible", Kind: KindChoice, Choices: []string{"yes", "no"}, Need: "optional", Default: "yes for options and RSUs, no for warrants", Help: "Whether the award gives the company a tax deduction: no for US incentive stock options, yes for non-qualified options and RSUs. Deductible awards carry a deferred tax asset when Assumptions gives tax_rate."},
+			{Key: "cost_center", Kind: KindText, Need: "optional", Default: "unassigned", Help: "The cost centre (function or department) whose expense the grant is, e.g. R&D or 4100; a move to another is a Transfers row. Expense is split by cost centre in the memo, the workbook, valuation.json and journal.csv; a grant with none is in the unassigned line, with a warning."},
 		}},
 	{Name: SheetVesting, File: "vesting.csv",
 		Help: "Optional custom vesting: for each grant named here these rows replace the schedule of the Grants columns. The shares of a grant must add up to its grant.",
@@ -179,7 +187,23 @@ var Sheets = []Sheet{
 			{Key: "date", Kind: KindDate, Required: true, Need: "required", Help: "The date of the event."},
 			{Key: "event", Kind: KindChoice, Choices: eventKinds, Required: true, Need: "required", Help: "exercised, forfeited (unvested shares lost on leaving), expired (vested shares lapsed) or cancelled."},
 			{Key: "shares", Kind: KindInt, Unit: "shares", Required: true, Need: "required", Help: "Shares affected."},
+			{Key: "share_price", Kind: KindNumber, Unit: "currency per share", Need: "optional", Default: "Share Prices on the date", Help: "The share's fair value on the date of an exercise, for its tax deduction and the excess tax benefit or shortfall."},
 			{Key: "replacement_grant_id", Kind: KindText, Need: "cancelled events, optional", Help: "For a cancellation with a concurrent replacement award: the grant_id of the replacement, granted on the cancellation date. The exchange is booked as a modification (ASC 718-20-35-8; IFRS 2.28(c)): the cancelled shares' grant-date cost is kept and only a replacement worth more than them on that date adds cost."},
+		}},
+	{Name: SheetTransfers, File: "transfers.csv",
+		Help: "Optional: the cost centre history of holders who move. From its date on (that day included) a grant's service is rendered in the row's cost centre; before its first row, in the Grants cost_center. The expense of each day of service lands in the cost centre it was rendered in.",
+		Columns: []Column{
+			{Key: "grant_id", Kind: KindText, Required: true, Need: "required", Help: "A grant_id of the Grants sheet."},
+			{Key: "date", Kind: KindDate, Required: true, Need: "required", Help: "The first day of service in the new cost centre."},
+			{Key: "cost_center", Kind: KindText, Required: true, Need: "required", Help: "The cost centre from that date on."},
+		}},
+	{Name: SheetAccounts, File: "accounts.csv",
+		Help: "Optional: the general-ledger account each role of journal.csv books to (role, account code and name). A role not listed keeps its default name and no code. A compensation_expense row with a cost_center applies to that cost centre only.",
+		Columns: []Column{
+			{Key: "role", Kind: KindChoice, Choices: accountRoleNames(), Required: true, Need: "required", Help: "compensation_expense; equity (additional paid-in capital, or under IFRS the share-based payment reserve); share_based_payment_liability (liability-classified awards); warrant_liability, fair_value_change, warrant_equity and financing_proceeds (warrants issued in financings); deferred_tax_asset; deferred_tax_benefit (the deferred tax line of the income statement)."},
+			{Key: "cost_center", Kind: KindText, Need: "optional", Default: "every cost centre", Help: "For compensation_expense only: the cost centre this account serves, for a chart of accounts with an expense account per function."},
+			{Key: "account_code", Kind: KindText, Need: "this or account_name", Help: "The account's code in your chart of accounts, as your ledger imports it."},
+			{Key: "account_name", Kind: KindText, Need: "this or account_code", Default: "the role's default name", Help: "The account's name."},
 		}},
 	modificationsSheet,
 }

@@ -72,10 +72,13 @@
 // The rules Validate applies, beyond the types of the cells:
 //
 //   - Company: period_start before valuation_date; shares_outstanding given
-//     when there are warrants.
+//     when there are warrants; fiscal_year_end a month (a name, its first
+//     three letters or 1 to 12), fiscal_year_end_weekday a weekday, a
+//     warning for fiscal_year_end_rule without one (FiscalCalendar).
 //   - Assumptions: volatility given (unless every option and warrant row
 //     gives one) and above 0, a warning outside 5%–200%; dividend yield,
-//     exit and forfeiture rates in [0, 1); exercise multiple 0 or 1 to 100;
+//     exit and forfeiture rates and tax_rate in [0, 1); exercise multiple 0
+//     or 1 to 100;
 //     under framework ifrs2, attribution graded and forfeitures estimate
 //     (IFRS 2 allows no other), each refusal naming its cell.
 //   - Grants: unique grant_id (both rows named); shares above 0; a strike
@@ -87,7 +90,8 @@
 //     and financing for warrants only; a hire_date before the expiry; a
 //     warning for a strike below the share price at grant, a grant after
 //     the valuation date, a vest_start over a year after grant, a
-//     hire_date after the last vest date.
+//     hire_date after the last vest date; no cost_center named unassigned
+//     (Unassigned, the name of expense with none).
 //   - Market: a share price at every measurement date (the row's share_price
 //     or a Share Prices row on or before it), and one at the valuation date
 //     when an option or warrant is granted by then (PeriodEndPrice, for
@@ -99,13 +103,21 @@
 //     (4.5 for 4.5% is caught); a curve is par-semiannual or zero rates, not
 //     both, and must build.
 //   - Vesting: rows for known grants, shares above 0, adding up to the grant.
+//   - Transfers: rows for known grants, one cost centre per grant and day,
+//     none named unassigned; a warning for a row on or before the grant
+//     date (its centre holds from the start) and one after the valuation
+//     date (left out of this close).
+//   - Accounts: a role of AccountRoles, an account_code or an
+//     account_name, one row per role (and, for compensation_expense, per
+//     cost centre); a warning for a cost_center on another role, or one no
+//     grant or transfer names.
 //   - Events: known grants, shares above 0, dates not before the grant (a
 //     warning after the valuation date); shares never above what is
 //     outstanding when they happen: forfeited and cancelled against all
 //     outstanding shares (a warning when a forfeiture exceeds the unvested
 //     ones, and when it forfeits only part of them, so that the rest vest
 //     after the holder left), exercised and expired against vested
-//     outstanding shares.
+//     outstanding shares; a share_price above 0.
 //
 // # Measurement
 //

@@ -370,13 +370,23 @@ func (s *Schedule) PeriodEndPrice() (Source, error) {
 
 func (s *Schedule) periodEndPrice() (Source, *CellError) {
 	d := s.Company.ValuationDate
-	if p, ok := s.PriceAt(d); ok {
-		r := s.cell(SheetSharePrices, "price", p.Row, nil)
-		return Source{Value: p.Price, Ref: r, Text: fmt.Sprintf("%s (valuation of %s)", r, isoDay(p.Date))}, nil
+	if src, ok := s.SharePriceOn(d); ok {
+		return src, nil
 	}
 	r := s.cell(SheetCompany, "valuation_date", 0, s.Company.Refs)
 	return Source{}, &CellError{Sheet: r.Sheet, Cell: r.Cell, Column: "valuation_date", Value: isoDay(d), Err: ErrRequired,
 		Msg: "has no share price: no Share Prices row is dated on or before it, and the intrinsic values of the options and warrants outstanding at the period end need one"}
+}
+
+// SharePriceOn is the share price in force on day d (PriceAt) with its
+// cell, or false when no Share Prices row is dated on or before d.
+func (s *Schedule) SharePriceOn(d time.Time) (Source, bool) {
+	p, ok := s.PriceAt(d)
+	if !ok {
+		return Source{}, false
+	}
+	r := s.cell(SheetSharePrices, "price", p.Row, nil)
+	return Source{Value: p.Price, Ref: r, Text: fmt.Sprintf("%s (valuation of %s)", r, isoDay(p.Date))}, true
 }
 
 // NeedsPeriodEndPrice reports whether an option or warrant is granted by
@@ -396,7 +406,8 @@ func (s *Schedule) NeedsPeriodEndPrice() bool {
 // keeping the reporting period as long as the schedule's own: a schedule
 // whose period_start to valuation_date spans n whole months (a quarter,
 // say) reports the n months ending on d; a period_start the schedule did
-// not give stays the default, QuarterStart of d; a period of any other
+// not give stays the default, Company.DefaultPeriodStart of d (the
+// fiscal quarter ending on d, when d ends one); a period of any other
 // length becomes the three months ending on d. When the period start so
 // moves away from a period_start the schedule gave, the returned warning
 // says which period is reported and why; otherwise it is "".
@@ -406,7 +417,7 @@ func (s *Schedule) MoveValuationDate(d time.Time) string {
 	co.ValuationDate = d
 	_, given := co.Refs["period_start"]
 	if !given || oldStart.IsZero() || oldEnd.IsZero() {
-		co.PeriodStart = QuarterStart(d)
+		co.PeriodStart = co.DefaultPeriodStart(d)
 		return ""
 	}
 	if d.Equal(oldEnd) {
@@ -430,13 +441,14 @@ func (s *Schedule) MoveValuationDate(d time.Time) string {
 
 // Period is the reporting period of the schedule: its period start to its
 // valuation date, as calendar days. A period start the schedule does not
-// give is the reader's default, QuarterStart of the valuation date.
+// give is the reader's default, Company.DefaultPeriodStart of the
+// valuation date.
 func (s *Schedule) Period() (start, end time.Time) {
 	day := func(t time.Time) time.Time { return time.Date(t.Year(), t.Month(), t.Day(), 0, 0, 0, 0, time.UTC) }
 	end = day(s.Company.ValuationDate)
 	start = day(s.Company.PeriodStart)
 	if s.Company.PeriodStart.IsZero() {
-		start = QuarterStart(end)
+		start = s.Company.DefaultPeriodStart(end)
 	}
 	return start, end
 }

@@ -167,7 +167,7 @@ func TestMoveValuationDate(t *testing.T) {
 		s.Company.ValuationDate = d(c.end)
 		if c.start == "" {
 			delete(s.Company.Refs, "period_start")
-			s.Company.PeriodStart = QuarterStart(d(c.end))
+			s.Company.PeriodStart = s.Company.DefaultPeriodStart(d(c.end))
 		} else {
 			s.Company.PeriodStart = d(c.start)
 		}

@@ -76,6 +76,8 @@ type Schedule struct {
 	Assumptions Assumptions
 	Grants      []Grant
 	Vesting     []VestRow // custom vesting rows; they replace the column schedule of the grants they name
+	Transfers   []Transfer
+	Accounts    []AccountRow
 	SharePrices []PricePoint
 	Rates       []RatePoint
 	Events      []Event
@@ -92,11 +94,30 @@ type Schedule struct {
 type Company struct {
 	Name              string
 	ValuationDate     time.Time // the period end
-	PeriodStart       time.Time // default: first day of the quarter ending on ValuationDate
+	PeriodStart       time.Time // default: DefaultPeriodStart(ValuationDate)
 	Currency          string    // ISO 4217, default USD
 	SharesOutstanding float64
+	Fiscal            FiscalCalendar // fiscal_year_end and the 52/53-week keys
 	GrantDate         time.Time      // designs workbook: the grant date of every design; zero means ValuationDate
 	Refs              map[string]Ref // by key, e.g. "valuation_date"
+}
+
+// DefaultPeriodStart is the period start a schedule that gives none has
+// for a period ending on end: the first day of the quarter that ends on
+// end (DESIGN §4.2). When end is the last day of a fiscal quarter that is
+// the fiscal quarter; otherwise it is a quarter's length back: three
+// months (2026-11-20 gives 2026-08-21) or, in a 52/53-week calendar,
+// 13 weeks.
+func (c Company) DefaultPeriodStart(end time.Time) time.Time {
+	end = time.Date(end.Year(), end.Month(), end.Day(), 0, 0, 0, 0, time.UTC)
+	q := c.Fiscal.Quarter(end)
+	switch {
+	case q.End.Equal(end):
+		return q.Start
+	case c.Fiscal.WeekBased:
+		return end.AddDate(0, 0, 1-weekDays)
+	}
+	return AddMonths(end.AddDate(0, 0, 1), -3)
 }
 
 // Attribution is how a graded award's cost is spread over service.
@@ -129,6 +150,7 @@ type Assumptions struct {
 	Forfeitures              ForfeiturePolicy
 	Steps                    int               // 0 = auto
 	Framework                Framework         // "" is ASC718
+	TaxRate                  float64           // statutory income tax rate; 0: no tax effect is booked
 	Sources                  map[string]string // by key: the text of the source column
 	Refs                     map[string]Ref    // by key: where the value came from
 	// Dated are the rows with an effective_date, in sheet order.
@@ -182,6 +204,11 @@ type Grant struct {
 	// service begins; zero when the holder was employed at grant.
 	HireDate time.Time
 
+	CostCenter string // "" when none is given: the expense is Unassigned
+	// TaxDeductible says whether the award gives the company a tax
+	// deduction (nil: by instrument, see Deductible).
+	TaxDeductible *bool
+
 	Row  int            // 1-based row on the Grants sheet
 	Refs map[string]Ref // by column key, e.g. "strike"
 }
@@ -202,6 +229,19 @@ type VestRow struct {
 	Row      int
 }
 
+// Unassigned is the cost centre of expense whose grant names none. The
+// name is reserved: a schedule may not use it for a cost centre.
+const Unassigned = "unassigned"
+
+// Transfer is one row of Transfers: grant GrantID's service is rendered in
+// CostCenter from Date on.
+type Transfer struct {
+	GrantID    string
+	Date       time.Time
+	CostCenter string
+	Row        int
+}
+
 // PricePoint is one row of Share Prices: the share's fair value from Date on.
 type PricePoint struct {
 	Date  time.Time
@@ -220,14 +260,69 @@ type RatePoint struct {
 
 // Event is one row of Events.
 type Event struct {
-	GrantID string
-	Date    time.Time
-	Kind    EventKind
-	Shares  int64
-	Row     int
+	GrantID    string
+	Date       time.Time
+	Kind       EventKind
+	Shares     int64
+	SharePrice *float64 // the share's fair value on Date, when the row gives it
+	Row        int
 	// ReplacementGrantID names, for a cancellation with a concurrent
 	// replacement award, the grant that replaces the shares (modify.go).
 	ReplacementGrantID string
+}
+
+// Deductible reports whether grant g gives the company a tax deduction:
+// its tax_deductible cell, else yes for options and RSUs (non-qualified
+// options and RSUs are deductible in the United States; an incentive stock
+// option is not, and must say no) and no for warrants (issued to lenders
+// and investors, which give no compensation deduction).
+func (g Grant) Deductible() bool {
+	if g.TaxDeductible != nil {
+		return *g.TaxDeductible
+	}
+	return g.Instrument != Warrant
+}
+
+// AccountRole is what an account does in the journal (the Accounts
+// sheet's role column, accounting.Role) and the name of its account when
+// the company gives none, under ASC 718 and under IFRS 2.
+type AccountRole struct {
+	Role     string
+	Name     string
+	IFRSName string
+}
+
+// AccountRoles are the journal's roles, in the order the template lists
+// them.
+var AccountRoles = []AccountRole{
+	{"compensation_expense", "Compensation expense", "Share-based payment expense"},
+	{"equity", "Additional paid-in capital", "Share-based payment reserve"},
+	{"share_based_payment_liability", "Share-based compensation liability", "Share-based payment liability"},
+	{"warrant_liability", "Warrant liability", "Warrant liability"},
+	{"fair_value_change", "Change in fair value of warrant liability", "Change in fair value of warrant liability"},
+	{"warrant_equity", "Additional paid-in capital", "Share premium"},
+	{"financing_proceeds", "Financing proceeds allocated to warrants", "Financing proceeds allocated to warrants"},
+	{"deferred_tax_asset", "Deferred tax asset", "Deferred tax asset"},
+	{"deferred_tax_benefit", "Deferred income tax benefit", "Deferred tax income"},
+}
+
+func accountRoleNames() []string {
+	out := make([]string, len(AccountRoles))
+	for i, r := range AccountRoles {
+		out[i] = r.Role
+	}
+	return out
+}
+
+// AccountRow is one row of Accounts: the account a role books to, for
+// every cost centre or (CostCenter given, compensation_expense only) for
+// one.
+type AccountRow struct {
+	Role       string
+	CostCenter string
+	Code       string
+	Name       string
+	Row        int
 }
 
 // Tranche is the part of a grant that vests on one date.

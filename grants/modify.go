@@ -294,15 +294,15 @@ func (s *Schedule) SplitOf(g Grant) (*Split, error) {
 	// The vesting as a function of rank, before the first step and after
 	// each: spans[k+1] holds the vest dates after step k.
 	var bounds []int64 // tranche boundaries: tranche i holds ranks [bounds[i], bounds[i+1])
-	var first []span
+	var first []vestSpan
 	var r int64
 	for _, t := range ts {
 		bounds = append(bounds, r)
-		first = append(first, span{r, t.VestDate})
+		first = append(first, vestSpan{r, t.VestDate})
 		r += t.Shares
 	}
 	bounds = append(bounds, r)
-	spans := [][]span{first}
+	spans := [][]vestSpan{first}
 	terms := termsOf(g)
 	termsAt := []Terms{terms}
 	for _, st := range steps {
@@ -456,14 +456,14 @@ func (s *Schedule) SplitOf(g Grant) (*Split, error) {
 	return sp, nil
 }
 
-// span gives the vest date of the ranks from from up to the next span's.
-type span struct {
+// vestSpan gives the vest date of the ranks from from up to the next one's.
+type vestSpan struct {
 	from int64
 	date time.Time
 }
 
 // dateAt is the vest date of rank x.
-func dateAt(sps []span, x int64) time.Time {
+func dateAt(sps []vestSpan, x int64) time.Time {
 	i := sort.Search(len(sps), func(i int) bool { return sps[i].from > x }) - 1
 	return sps[max(i, 0)].date
 }
@@ -480,7 +480,7 @@ func changedVestingKey(m *Modification) string {
 // of rank x still unvested vests on the first date of t's vesting (from
 // g's vest_start, every g's vest_every_months) by which more than x shares
 // have vested, and not before at.
-func revest(g Grant, sps []span, total int64, t Terms, at time.Time) []span {
+func revest(g Grant, sps []vestSpan, total int64, t Terms, at time.Time) []vestSpan {
 	vm, cliff := max(t.VestMonths, 0), min(max(t.CliffMonths, 0), max(t.VestMonths, 0))
 	every := max(g.VestEvery, 1)
 	var months []int
@@ -496,7 +496,7 @@ func revest(g Grant, sps []span, total int64, t Terms, at time.Time) []span {
 		months = append(months, vm)
 	}
 	// The new vesting as spans: ranks below counts[k] vest by months[k].
-	var fresh []span
+	var fresh []vestSpan
 	var prev int64
 	for _, m := range months {
 		c := floorMulDiv(total, int64(m), int64(vm))
@@ -505,15 +505,15 @@ func revest(g Grant, sps []span, total int64, t Terms, at time.Time) []span {
 			if !d.After(at) {
 				d = at
 			}
-			fresh = append(fresh, span{prev, d})
+			fresh = append(fresh, vestSpan{prev, d})
 			prev = c
 		}
 	}
 	if len(fresh) == 0 {
-		fresh = []span{{0, at}}
+		fresh = []vestSpan{{0, at}}
 	}
-	var out []span
-	add := func(x span) {
+	var out []vestSpan
+	add := func(x vestSpan) {
 		if n := len(out); n > 0 && out[n-1].date.Equal(x.date) {
 			return
 		}
@@ -528,7 +528,7 @@ func revest(g Grant, sps []span, total int64, t Terms, at time.Time) []span {
 			add(x)
 			continue
 		}
-		add(span{x.from, dateAt(fresh, x.from)})
+		add(vestSpan{x.from, dateAt(fresh, x.from)})
 		for _, f := range fresh {
 			if f.from > x.from && f.from < end {
 				add(f)

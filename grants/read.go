@@ -34,15 +34,15 @@ const (
 // is an error naming the cell: a grant id or a holder is a short label, and
 // unbounded text would fill the memo with pages.
 const (
-	MaxIDChars     = 64  // grant_id
-	MaxNameChars   = 200 // holder, company_name
+	MaxIDChars     = 64  // grant_id, cost_center, account_code
+	MaxNameChars   = 200 // holder, company_name, account_name
 	MaxSourceChars = 500 // the source of an assumption
 	MaxHeaderChars = 100 // a header or a key
 )
 
 // textLimit gives the longest text allowed in a column read as text.
 var textLimit = map[string]int{"grant_id": MaxIDChars, "holder": MaxNameChars, "company_name": MaxNameChars,
-	"replacement_grant_id": MaxIDChars, "note": MaxSourceChars}
+	"cost_center": MaxIDChars, "account_code": MaxIDChars, "account_name": MaxNameChars, "replacement_grant_id": MaxIDChars, "note": MaxSourceChars}
 
 // tooLong reports whether v has more than limit characters.
 func tooLong(v string, limit int) bool {
@@ -404,6 +404,10 @@ func (t *tableReader) readTable() {
 			t.grantRow(c)
 		case SheetVesting:
 			t.vestRow(c)
+		case SheetTransfers:
+			t.transferRow(c)
+		case SheetAccounts:
+			t.accountRow(c)
 		case SheetSharePrices:
 			t.priceRow(c)
 		case SheetRates:
@@ -649,6 +653,11 @@ func (t *tableReader) grantRow(c *rowCtx) {
 		g.Purpose = Compensation
 	}
 	g.HireDate, _ = c.date("hire_date", false)
+	g.CostCenter, _ = c.text("cost_center")
+	if v, ok := c.choice("tax_deductible", false); ok {
+		b := v == "yes"
+		g.TaxDeductible = &b
+	}
 	g.Refs = c.refs
 	if c.failed || !idOK {
 		if idOK {
@@ -693,6 +702,34 @@ func (t *tableReader) vestRow(c *rowCtx) {
 	t.s.Vesting = append(t.s.Vesting, v)
 }
 
+func (t *tableReader) transferRow(c *rowCtx) {
+	tr := Transfer{Row: c.row}
+	tr.GrantID, _ = c.required("grant_id")
+	tr.Date, _ = c.date("date", true)
+	tr.CostCenter, _ = c.required("cost_center")
+	if c.failed {
+		if tr.GrantID != "" {
+			t.rep.skip[tr.GrantID] = true
+		}
+		return
+	}
+	t.s.Transfers = append(t.s.Transfers, tr)
+}
+
+func (t *tableReader) accountRow(c *rowCtx) {
+	a := AccountRow{Row: c.row}
+	a.Role, _ = c.choice("role", true)
+	a.CostCenter, _ = c.text("cost_center")
+	a.Code, _ = c.text("account_code")
+	a.Name, _ = c.text("account_name")
+	if !c.failed && a.Code == "" && a.Name == "" {
+		c.failf("account_code", "", ErrRequired, "is empty, and so is account_name: give the role %s an account code, a name or both", a.Role)
+	}
+	if !c.failed {
+		t.s.Accounts = append(t.s.Accounts, a)
+	}
+}
+
 func (t *tableReader) priceRow(c *rowCtx) {
 	p := PricePoint{Row: c.row}
 	p.Date, _ = c.date("date", true)
@@ -725,6 +762,7 @@ func (t *tableReader) eventRow(c *rowCtx) {
 		e.Kind = EventKind(k)
 	}
 	e.Shares, _ = c.integer("shares", true)
+	e.SharePrice = c.ptr("share_price", false)
 	e.ReplacementGrantID, _ = c.text("replacement_grant_id")
 	if c.failed {
 		if e.GrantID != "" {
@@ -869,6 +907,26 @@ func (t *tableReader) companyValue(c *rowCtx, col *Column) {
 		if n, ok := c.integer(col.Key, false); ok {
 			co.SharesOutstanding = float64(n)
 		}
+	case "fiscal_year_end":
+		if v, ok := c.text(col.Key); ok {
+			if m, ok := parseMonth(v); ok {
+				co.Fiscal.YearEnd = m
+			} else {
+				c.failf(col.Key, v, ErrNotChoice, "is not a month: give its name (January), its first three letters (Jan) or its number 1 to 12")
+			}
+		}
+	case "fiscal_year_end_weekday":
+		if v, ok := c.text(col.Key); ok {
+			if w, ok := parseWeekday(v); ok {
+				co.Fiscal.WeekBased, co.Fiscal.Weekday = true, w
+			} else {
+				c.failf(col.Key, v, ErrNotChoice, "is not a weekday: give its name (Saturday) or its first three letters (Sat)")
+			}
+		}
+	case "fiscal_year_end_rule":
+		if v, ok := c.choice(col.Key, false); ok {
+			co.Fiscal.Nearest = v == "nearest"
+		}
 	case "grant_date":
 		co.GrantDate, _ = c.date(col.Key, false)
 	}
@@ -956,6 +1014,8 @@ func (t *tableReader) assumptionValue(c *rowCtx, col *Column, a *Assumptions) {
 		if v, ok := c.choice(col.Key, false); ok {
 			a.Framework = Framework(v)
 		}
+	case "tax_rate":
+		a.TaxRate, _ = c.percent(col.Key, false)
 	case "steps":
 		if v, ok := c.text(col.Key); ok && !strings.EqualFold(v, "auto") {
 			n, err := ParseInt(v)
@@ -975,12 +1035,6 @@ func finishCompany(s *Schedule, rep *Report) {
 		co.Currency = "USD"
 	}
 	if co.PeriodStart.IsZero() && !co.ValuationDate.IsZero() {
-		co.PeriodStart = QuarterStart(co.ValuationDate)
+		co.PeriodStart = co.DefaultPeriodStart(co.ValuationDate)
 	}
-}
-
-// QuarterStart is the first day of the three-month period that ends on
-// end: the day after end, three months back (2026-09-30 gives 2026-07-01).
-func QuarterStart(end time.Time) time.Time {
-	return AddMonths(end.AddDate(0, 0, 1), -3)
 }

@@ -132,6 +132,18 @@ func (s *Schedule) EventsOf(id string) []Event {
 	return out
 }
 
+// TransfersOf returns the Transfers rows of grant id in date order.
+func (s *Schedule) TransfersOf(id string) []Transfer {
+	var out []Transfer
+	for _, t := range s.Transfers {
+		if t.GrantID == id {
+			out = append(out, t)
+		}
+	}
+	sort.SliceStable(out, func(i, j int) bool { return out[i].Date.Before(out[j].Date) })
+	return out
+}
+
 // Grant returns the grant with the given id.
 func (s *Schedule) Grant(id string) (Grant, bool) {
 	for _, g := range s.Grants {

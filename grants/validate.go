@@ -43,6 +43,8 @@ func validate(s *Schedule, skip map[string]bool) Report {
 	v.rates()
 	v.grants()
 	v.vesting()
+	v.transfers()
+	v.accounts()
 	v.events()
 	v.modifications()
 	v.designs()
@@ -102,6 +104,10 @@ func (v *validator) company() {
 		if _, err := v.s.periodEndPrice(); err != nil {
 			v.rep.addErr(err)
 		}
+	}
+	if _, rule := co.Refs["fiscal_year_end_rule"]; rule && !co.Fiscal.WeekBased {
+		v.rep.warnf(v.s.cell(SheetCompany, "fiscal_year_end_rule", 0, co.Refs), "fiscal_year_end_rule", "", ErrInconsistent,
+			"applies only to a 52/53-week year, with fiscal_year_end_weekday; it is ignored and the year ends on the month's last day")
 	}
 	if co.SharesOutstanding < 0 {
 		v.rep.errf(v.s.cell(SheetCompany, "shares_outstanding", 0, co.Refs), "shares_outstanding", num(co.SharesOutstanding), ErrRange, "must be more than zero")
@@ -184,6 +190,7 @@ func (v *validator) assumptions() {
 	v.multiple(sh, 0, a.Refs, a.ExerciseMultiple)
 	v.rate(sh, "post_vesting_exit_rate", 0, a.Refs, a.PostVestingExitRate, "the annual share of vested holders who leave")
 	v.rate(sh, "pre_vesting_forfeiture_rate", 0, a.Refs, a.PreVestingForfeitureRate, "the annual share of unvested holders who leave")
+	v.rate(sh, "tax_rate", 0, a.Refs, a.TaxRate, "the statutory income tax rate")
 	// The policy of the close is the one in force at the valuation date.
 	if p := v.s.InForce(); p.Framework == IFRS2 {
 		if p.Attribution == StraightLine {
@@ -332,6 +339,7 @@ func (v *validator) grants() {
 		if g.SharePrice != nil {
 			v.limit(ref("share_price"), valuation.Limits.SharePrice, *g.SharePrice, "")
 		}
+		v.costCenter(ref("cost_center"), g.CostCenter)
 		if g.Instrument == Warrant && s.Company.SharesOutstanding <= 0 {
 			v.rep.errf(s.cell(SheetCompany, "shares_outstanding", 0, s.Company.Refs), "shares_outstanding", "", ErrRequired,
 				"is needed for the dilution of warrant %s (%s)", g.ID, ref("grant_id").Cell)
@@ -454,6 +462,73 @@ func (v *validator) vesting() {
 	}
 }
 
+// costCenter refuses the reserved name Unassigned.
+func (v *validator) costCenter(ref Ref, name string) {
+	if strings.EqualFold(strings.TrimSpace(name), Unassigned) {
+		v.rep.errf(ref, "cost_center", name, ErrRange, "is the name grantworth gives expense with no cost centre; leave the cell empty for that, or name the cost centre")
+	}
+}
+
+func (v *validator) transfers() {
+	s := v.s
+	seen := map[string]int{} // grant and date → row
+	for _, tr := range s.Transfers {
+		ref := func(k string) Ref { return s.cell(SheetTransfers, k, tr.Row, nil) }
+		g, ok := v.grant(tr.GrantID)
+		if !ok {
+			if !v.skip[tr.GrantID] {
+				v.rep.errf(ref("grant_id"), "grant_id", tr.GrantID, ErrUnknown, "is not a grant_id of the Grants sheet")
+			}
+			continue
+		}
+		v.costCenter(ref("cost_center"), tr.CostCenter)
+		key := tr.GrantID + "\x00" + isoDay(tr.Date)
+		if r, dup := seen[key]; dup {
+			v.rep.errf(ref("date"), "date", isoDay(tr.Date), ErrDuplicate, "is also the date of row %d (%s) for grant %s; keep one cost centre per day", r, s.cell(SheetTransfers, "date", r, nil).Cell, tr.GrantID)
+			continue
+		}
+		seen[key] = tr.Row
+		switch {
+		case !g.GrantDate.IsZero() && !tr.Date.After(g.GrantDate):
+			v.rep.warnf(ref("date"), "date", isoDay(tr.Date), ErrRange, "is on or before the grant date %s of grant %s: the grant's service is in %s from its start, whatever its cost_center (%s)",
+				isoDay(g.GrantDate), g.ID, tr.CostCenter, s.cell(SheetGrants, "cost_center", g.Row, g.Refs).Cell)
+		case !s.Company.ValuationDate.IsZero() && tr.Date.After(s.Company.ValuationDate):
+			v.rep.warnf(ref("date"), "date", isoDay(tr.Date), ErrRange, "is after the valuation date %s: it is left out of this close, like an event after it", isoDay(s.Company.ValuationDate))
+		}
+	}
+}
+
+func (v *validator) accounts() {
+	s := v.s
+	used := map[string]bool{}
+	for _, g := range s.Grants {
+		used[g.CostCenter] = true
+	}
+	for _, t := range s.Transfers {
+		used[t.CostCenter] = true
+	}
+	seen := map[string]int{} // role and cost centre → row
+	for _, a := range s.Accounts {
+		ref := func(k string) Ref { return s.cell(SheetAccounts, k, a.Row, nil) }
+		key := a.Role + "\x00" + a.CostCenter
+		if r, dup := seen[key]; dup {
+			what := "role " + a.Role
+			if a.CostCenter != "" {
+				what += " and cost centre " + a.CostCenter
+			}
+			v.rep.errf(ref("role"), "role", a.Role, ErrDuplicate, "is given twice: row %d (%s) maps the same %s", r, s.cell(SheetAccounts, "role", r, nil).Cell, what)
+			continue
+		}
+		seen[key] = a.Row
+		switch {
+		case a.CostCenter != "" && a.Role != "compensation_expense":
+			v.rep.warnf(ref("cost_center"), "cost_center", a.CostCenter, ErrInconsistent, "applies to compensation_expense only; the %s row is used for every cost centre", a.Role)
+		case a.CostCenter != "" && !used[a.CostCenter]:
+			v.rep.warnf(ref("cost_center"), "cost_center", a.CostCenter, ErrUnknown, "is not the cost_center of any grant or transfer; the row is not used")
+		}
+	}
+}
+
 func (v *validator) events() {
 	s := v.s
 	byGrant := map[string][]Event{}
@@ -478,6 +553,9 @@ func (v *validator) events() {
 		if exp := s.Expiry(g); !exp.IsZero() && e.Date.After(exp) {
 			v.rep.errf(ref("date"), "date", isoDay(e.Date), ErrRange, "is after the expiry date %s of grant %s (%s)", isoDay(exp), g.ID, s.cell(SheetGrants, "expiry_date", g.Row, g.Refs).Cell)
 			continue
+		}
+		if e.SharePrice != nil && !(*e.SharePrice > 0) {
+			v.rep.errf(ref("share_price"), "share_price", num(*e.SharePrice), ErrRange, "must be more than zero")
 		}
 		if vd := s.Company.ValuationDate; !vd.IsZero() && e.Date.After(vd) {
 			v.rep.warnf(ref("date"), "date", isoDay(e.Date), ErrRange, "is after the valuation date %s", isoDay(vd))

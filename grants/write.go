@@ -9,6 +9,7 @@ import (
 	"path/filepath"
 	"strconv"
 	"time"
+	"unicode/utf8"
 
 	"github.com/xuri/excelize/v2"
 )
@@ -134,8 +135,7 @@ func writeTable(f *excelize.File, sh *Sheet, rows [][]any, st cellStyles) error 
 				return err
 			}
 		}
-		w := float64(max(len(c.Key)+2, 12))
-		if err := f.SetColWidth(sh.Name, col, col, w); err != nil {
+		if err := f.SetColWidth(sh.Name, col, col, colWidth(c.Key, rows, i)); err != nil {
 			return err
 		}
 	}
@@ -153,6 +153,21 @@ func writeTable(f *excelize.File, sh *Sheet, rows [][]any, st cellStyles) error 
 		}
 	}
 	return nil
+}
+
+// colWidth fits column i to its header and to the longest text written
+// in it (up to 60 characters), so that a long role or account name is not
+// cut short by the cell beside it.
+func colWidth(key string, rows [][]any, i int) float64 {
+	w := max(len(key), 10)
+	for _, row := range rows {
+		if i < len(row) {
+			if t, ok := row[i].(string); ok {
+				w = max(w, min(utf8.RuneCountInString(t), 58))
+			}
+		}
+	}
+	return float64(w + 2)
 }
 
 func writeKeyValue(f *excelize.File, sh *Sheet, rows [][]any, st cellStyles) error {
@@ -312,7 +327,26 @@ func sheetRows(s *Schedule, sh *Sheet) [][]any {
 			if !g.HireDate.IsZero() {
 				put(row, "hire_date", g.HireDate)
 			}
+			if g.CostCenter != "" {
+				put(row, "cost_center", g.CostCenter)
+			}
+			if g.TaxDeductible != nil {
+				put(row, "tax_deductible", map[bool]string{true: "yes", false: "no"}[*g.TaxDeductible])
+			}
 			rows = append(rows, row)
+		}
+	case SheetTransfers:
+		for _, t := range s.Transfers {
+			rows = append(rows, []any{t.GrantID, t.Date, t.CostCenter})
+		}
+	case SheetAccounts:
+		for _, a := range s.Accounts {
+			rows = append(rows, []any{a.Role, nilIfEmpty(a.CostCenter), nilIfEmpty(a.Code), nilIfEmpty(a.Name)})
+		}
+		if len(s.Accounts) == 0 && len(s.Grants) == 0 { // the blank template: every role with its default name
+			for _, r := range AccountRoles {
+				rows = append(rows, []any{r.Role, nil, nil, r.Name})
+			}
 		}
 	case SheetVesting:
 		for _, v := range s.Vesting {
@@ -333,6 +367,9 @@ func sheetRows(s *Schedule, sh *Sheet) [][]any {
 			put(row, "date", e.Date)
 			put(row, "event", string(e.Kind))
 			put(row, "shares", e.Shares)
+			if e.SharePrice != nil {
+				put(row, "share_price", *e.SharePrice)
+			}
 			if e.ReplacementGrantID != "" {
 				put(row, "replacement_grant_id", e.ReplacementGrantID)
 			}
@@ -346,6 +383,13 @@ func sheetRows(s *Schedule, sh *Sheet) [][]any {
 		}
 	}
 	return rows
+}
+
+func nilIfEmpty(s string) any {
+	if s == "" {
+		return nil
+	}
+	return s
 }
 
 func companyRows(s *Schedule, sh *Sheet) [][]any {
@@ -363,6 +407,9 @@ func companyRows(s *Schedule, sh *Sheet) [][]any {
 		{"period_start", val(!co.PeriodStart.IsZero(), co.PeriodStart)},
 		{"currency", val(!blank && co.Currency != "", co.Currency)},
 		{"shares_outstanding", val(co.SharesOutstanding > 0, int64(co.SharesOutstanding))},
+		{"fiscal_year_end", val(co.Fiscal.YearEnd != 0, co.Fiscal.YearEnd.String())},
+		{"fiscal_year_end_weekday", val(co.Fiscal.WeekBased, weekdays[co.Fiscal.Weekday])},
+		{"fiscal_year_end_rule", val(co.Fiscal.WeekBased, map[bool]string{true: "nearest", false: "last"}[co.Fiscal.Nearest])},
 	}
 	if sh.Column("grant_date") != nil {
 		rows = append(rows, []any{"grant_date", val(!co.GrantDate.IsZero(), co.GrantDate)})
@@ -393,9 +440,12 @@ func assumptionRows(s *Schedule) [][]any {
 	if a.Steps > 0 {
 		steps = int64(a.Steps)
 	}
-	framework := any(nil)
+	framework, taxRate := any(nil), any(nil)
 	if a.Framework != "" {
 		framework = val("framework", string(a.Framework))
+	}
+	if a.TaxRate != 0 {
+		taxRate = val("tax_rate", a.TaxRate)
 	}
 	rows := [][]any{
 		{"volatility", val("volatility", a.Volatility)},
@@ -407,6 +457,7 @@ func assumptionRows(s *Schedule) [][]any {
 		{"forfeitures", val("forfeitures", string(a.Forfeitures))},
 		{"steps", val("steps", steps)},
 		{"framework", framework},
+		{"tax_rate", taxRate},
 	}
 	for i := range rows {
 		if src := a.Sources[rows[i][0].(string)]; src != "" {

@@ -182,8 +182,7 @@ func BuildComparison(c *design.Comparison, run Run, steps int, sim valuation.Out
 	if steps > 0 {
 		m.Steps = fmt.Sprintf("%d (raw lattice)", steps)
 	}
-	ye := design.FiscalYears(c.GrantDate, c.GrantDate, c.YearEnd)[0].End
-	m.FiscalYearEnd = ye.Format("01-02")
+	m.FiscalYearEnd = c.Calendar.Year(c.GrantDate).End.Format("01-02")
 	seen := map[int]bool{}
 	for i := range c.Designs {
 		d := designResult(&c.Designs[i])

@@ -28,17 +28,33 @@ type ExpenseDetail struct {
 	// the financing warrants' liability, outside operating expense.
 	FinancingFairValueChange float64 `json:"financing_fair_value_change"`
 
+	// FiscalCalendar says in words how the company's fiscal years and
+	// quarters run; Periods, Forecast and ByFiscalYear follow it.
+	FiscalCalendar string `json:"fiscal_calendar"`
+
 	ByGrant      []ExpenseGrant  `json:"by_grant"`
 	ByGrantMonth []ExpenseGroup  `json:"by_grant_month"`
-	Forecast     []ExpensePeriod `json:"forecast"` // the next 16 calendar quarters
+	Forecast     []ExpensePeriod `json:"forecast"` // the next 16 fiscal quarters
+	// ByFiscalYear is the expense of each fiscal year from the earliest
+	// grant's to the last service: recognised through the period end and
+	// expected after it.
+	ByFiscalYear []ExpenseYear `json:"by_fiscal_year"`
+	// ByCostCenter splits the compensation expense by cost centre (name
+	// order, "unassigned" last); the centres add up to the totals.
+	ByCostCenter []ExpenseCostCenter `json:"by_cost_center"`
 	// AfterForecast is the unrecognised cost expected after the forecast.
 	AfterForecast float64 `json:"after_forecast"`
 	// Financing are the warrants issued in financings, apart from
 	// compensation.
-	Financing   []FinancingWarrant `json:"financing_warrants"`
-	Journal     []JournalEntry     `json:"journal"`
-	PolicyNotes []string           `json:"policy_notes"`
-	Disclosures *Disclosures       `json:"disclosures"`
+	Financing []FinancingWarrant `json:"financing_warrants"`
+	// Journal is journal.csv's entries; its amounts have JournalDecimals
+	// decimals (the currency's minor unit).
+	Journal         []JournalEntry `json:"journal"`
+	JournalDecimals int            `json:"journal_decimals"`
+	// Tax is the income tax effect; nil without a tax rate.
+	Tax         *Tax         `json:"tax"`
+	PolicyNotes []string     `json:"policy_notes"`
+	Disclosures *Disclosures `json:"disclosures"`
 }
 
 // FinancingWarrant is a warrant issued in a financing: measured once at
@@ -105,7 +121,34 @@ type ExpenseGrant struct {
 	Events         []EventRecord   `json:"events"`
 	Remeasurements []Remeasurement `json:"remeasurements"`
 
+	// CostCenter is the grant's at the period end; ByCostCenter its parts
+	// in every cost centre its service was rendered in.
+	CostCenter   string           `json:"cost_center"`
+	ByCostCenter []CostCenterPart `json:"by_cost_center"`
+
 	Tranches []ExpenseTranche `json:"tranches"`
+}
+
+// CostCenterPart is the part of one grant's expense in one cost centre.
+type CostCenterPart struct {
+	CostCenter   string  `json:"cost_center"`
+	GrantID      string  `json:"-"` // for the workbook's rows under each centre
+	Amount       float64 `json:"period_amount"`
+	Cumulative   float64 `json:"cumulative"`
+	Unrecognized float64 `json:"unrecognized_cost"`
+}
+
+// ExpenseCostCenter is one cost centre's compensation expense.
+type ExpenseCostCenter struct {
+	CostCenter    string    `json:"cost_center"`
+	Grants        int       `json:"grants"`
+	Amount        float64   `json:"period_amount"`
+	Cumulative    float64   `json:"cumulative"`
+	Unrecognized  float64   `json:"unrecognized_cost"`
+	Forecast      []float64 `json:"forecast"` // by quarter of ExpenseDetail.Forecast
+	AfterForecast float64   `json:"after_forecast"`
+	// Parts are the grants' parts in this centre, in grant order.
+	Parts []CostCenterPart `json:"-"`
 }
 
 // EventRecord is an event applied to a grant.
@@ -153,20 +196,35 @@ type ExpenseGroup struct {
 	Unrecognized float64 `json:"unrecognized_cost"`
 }
 
-// JournalEntry is one summary entry for the period.
+// ExpenseYear is the compensation expense of one fiscal year.
+type ExpenseYear struct {
+	Year       string  `json:"fiscal_year"` // "2026" in calendar years, else "FY2027"
+	Start      Date    `json:"start"`
+	End        Date    `json:"end"`
+	Recognized float64 `json:"recognized"` // through the period end
+	Expected   float64 `json:"expected"`   // after the period end
+	Total      float64 `json:"total"`
+}
+
+// JournalEntry is one entry of the period's journal, as journal.csv has it.
 type JournalEntry struct {
+	Number      int           `json:"entry"`
 	Date        Date          `json:"date"`
 	Description string        `json:"description"`
 	Lines       []JournalLine `json:"lines"`
 }
 
-// JournalLine is one debit or credit: the role the account plays (see
-// accounting.Role), the account's code (empty unless mapped) and name.
+// JournalLine is one debit or credit, rounded to the currency's minor
+// unit (exactly one of Debit and Credit is non-zero): the role the account
+// plays (see accounting.Role), the account's code (empty unless mapped)
+// and name, the cost centre of an expense line and the grant of a
+// per-grant entry.
 type JournalLine struct {
 	Role        string  `json:"role"`
 	AccountCode string  `json:"account_code"`
 	Account     string  `json:"account"`
-	GrantID     string  `json:"grant_id"` // the grant a line books, when it books one (a catch-up)
+	CostCenter  string  `json:"cost_center"`
+	GrantID     string  `json:"grant_id"`
 	Debit       float64 `json:"debit"`
 	Credit      float64 `json:"credit"`
 }
@@ -272,7 +330,7 @@ type WarrantRow struct {
 func periodsOf(ps []accounting.PeriodAmount) []ExpensePeriod {
 	out := make([]ExpensePeriod, 0, len(ps))
 	for _, p := range ps {
-		out = append(out, ExpensePeriod{Start: DateOf(p.Start), End: DateOf(p.End), Amount: p.Amount, FinancingFairValueChange: p.FairValueChange, Current: p.Current})
+		out = append(out, ExpensePeriod{Start: DateOf(p.Start), End: DateOf(p.End), Amount: p.Amount, FinancingFairValueChange: p.FairValueChange, Current: p.Current, Label: p.Label})
 	}
 	return out
 }
@@ -289,6 +347,8 @@ func expenseModel(b *accounting.Books) *Expense {
 		Forecast: periodsOf(r.Forecast), AfterForecast: r.AfterForecast,
 		PolicyNotes: append([]string{}, r.PolicyNotes...),
 		ByGrant:     []ExpenseGrant{}, Journal: []JournalEntry{}, Financing: []FinancingWarrant{},
+		FiscalCalendar: r.Policy.Calendar.String(),
+		ByFiscalYear:   make([]ExpenseYear, 0, len(r.ByFiscalYear)),
 	}
 	for _, w := range r.Financing {
 		det.Financing = append(det.Financing, FinancingWarrant{GrantID: w.GrantID, Holder: w.Holder, Classification: string(w.Classification),
@@ -298,6 +358,17 @@ func expenseModel(b *accounting.Books) *Expense {
 			ReclassifiedToDate: w.ReclassifiedToDate, CompensationReversed: w.CompensationReversed,
 			Events: eventRecords(w.Events), Remeasurements: remeasurementRecords(w.Remeasurements)})
 	}
+	det.ByCostCenter = make([]ExpenseCostCenter, 0, len(r.ByCostCenter))
+	centre := map[string]int{}
+	for _, c := range r.ByCostCenter {
+		centre[c.CostCenter] = len(det.ByCostCenter)
+		det.ByCostCenter = append(det.ByCostCenter, ExpenseCostCenter{CostCenter: c.CostCenter, Grants: c.Grants, Amount: c.Period,
+			Cumulative: c.Cumulative, Unrecognized: c.Unrecognized, Forecast: append([]float64{}, c.Forecast...), AfterForecast: c.AfterForecast})
+	}
+	for _, y := range r.ByFiscalYear {
+		det.ByFiscalYear = append(det.ByFiscalYear, ExpenseYear{Year: y.Year.Name, Start: DateOf(y.Year.Start), End: DateOf(y.Year.End),
+			Recognized: y.Recognized, Expected: y.Expected, Total: y.Recognized + y.Expected})
+	}
 	months := map[string]*ExpenseGroup{}
 	for _, g := range r.Grants {
 		eg := ExpenseGrant{GrantID: g.GrantID, Holder: g.Holder, Instrument: string(g.Instrument), Liability: g.Liability,
@@ -306,7 +377,11 @@ func expenseModel(b *accounting.Books) *Expense {
 			Unrecognized: g.Unrecognized, RemainingYears: g.RemainingYears,
 			LiabilityOpen: g.LiabilityOpen, LiabilityEnd: g.LiabilityEnd,
 			ReclassifiedEquity: g.ReclassifiedEquity, ReclassifiedToDate: g.ReclassifiedToDate,
-			Outstanding: g.Outstanding, Events: []EventRecord{}, Remeasurements: []Remeasurement{}, Tranches: []ExpenseTranche{}}
+			Outstanding: g.Outstanding, Events: []EventRecord{}, Remeasurements: []Remeasurement{}, Tranches: []ExpenseTranche{},
+			CostCenter: g.CostCenter, ByCostCenter: make([]CostCenterPart, 0, len(g.ByCostCenter))}
+		for _, p := range g.ByCostCenter {
+			eg.ByCostCenter = append(eg.ByCostCenter, CostCenterPart{CostCenter: p.CostCenter, GrantID: g.GrantID, Amount: p.Period, Cumulative: p.Cumulative, Unrecognized: p.Unrecognized})
+		}
 		eg.Events, eg.Remeasurements = eventRecords(g.Events), remeasurementRecords(g.Remeasurements)
 		for _, t := range g.Tranches {
 			eg.Tranches = append(eg.Tranches, ExpenseTranche{Index: t.Index, VestDate: DateOf(t.VestDate), Shares: t.Shares,
@@ -315,6 +390,10 @@ func expenseModel(b *accounting.Books) *Expense {
 				RemainingYears: t.RemainingYears})
 		}
 		det.ByGrant = append(det.ByGrant, eg)
+		for _, p := range eg.ByCostCenter {
+			c := &det.ByCostCenter[centre[p.CostCenter]]
+			c.Parts = append(c.Parts, p)
+		}
 	}
 	for i := range det.ByGrant {
 		g := &det.ByGrant[i]
@@ -335,10 +414,13 @@ func expenseModel(b *accounting.Books) *Expense {
 		det.ByGrantMonth = append(det.ByGrantMonth, *g)
 	}
 	sort.Slice(det.ByGrantMonth, func(i, j int) bool { return det.ByGrantMonth[i].Key < det.ByGrantMonth[j].Key })
-	for _, e := range b.Journal {
-		je := JournalEntry{Date: DateOf(e.Date), Description: e.Description}
+	det.JournalDecimals = b.Chart.Decimals
+	det.Tax = taxModel(b.Tax)
+	for i, e := range b.Journal {
+		je := JournalEntry{Number: i + 1, Date: DateOf(e.Date), Description: e.Description}
 		for _, l := range e.Lines {
-			je.Lines = append(je.Lines, JournalLine{Role: string(l.Role), AccountCode: l.Account.Code, Account: l.Account.Name, GrantID: l.GrantID, Debit: l.Debit, Credit: l.Credit})
+			je.Lines = append(je.Lines, JournalLine{Role: string(l.Role), AccountCode: l.Account.Code, Account: l.Account.Name,
+				CostCenter: l.CostCenter, GrantID: l.GrantID, Debit: l.Debit, Credit: l.Credit})
 		}
 		det.Journal = append(det.Journal, je)
 	}

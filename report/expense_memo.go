@@ -14,7 +14,8 @@ func init() {
 	memoHooks = append(memoHooks,
 		MemoHook{"expense", "Compensation expense for the period", (*Memo).expense},
 		MemoHook{"financing", "Warrants issued in financings", (*Memo).financing},
-		MemoHook{"journal", "Journal summary", (*Memo).journal},
+		MemoHook{"journal", "Journal entries", (*Memo).journal},
+		MemoHook{"tax", "Income tax effects", (*Memo).tax},
 		MemoHook{"disclosures", "Share-based payment disclosures", (*Memo).disclosures})
 }
 
@@ -27,11 +28,6 @@ type expenseData struct {
 // chartQuarters is how many recognised periods (the current one included)
 // the expense chart shows before the forecast.
 const chartQuarters = 8
-
-func quarterLabel(p ExpensePeriod) string {
-	t := p.End.Time()
-	return fmt.Sprintf("%d Q%d", t.Year(), (int(t.Month())+2)/3)
-}
 
 func (d *Memo) expense(m *Model) error {
 	e := detail(m)
@@ -50,6 +46,8 @@ func (d *Memo) expense(m *Model) error {
 		{"Unrecognized compensation cost at the period end", money(m.Expense.UnrecognizedCost, cur)},
 		{"Weighted-average remaining recognition period", fixed(m.Expense.WeightedAverageRemainingYears, 2) + " years"},
 	})
+
+	d.costCenters(m, e)
 
 	if len(e.ByGrant) <= maxGrantRows {
 		d.Sub("By grant")
@@ -103,7 +101,7 @@ func (d *Memo) expense(m *Model) error {
 	var labels []string
 	var values []float64
 	for _, p := range periods {
-		label := quarterLabel(p)
+		label := p.Label
 		if p.Current {
 			label += " (this period)"
 		}
@@ -111,7 +109,7 @@ func (d *Memo) expense(m *Model) error {
 		values = append(values, p.Amount)
 	}
 	for _, p := range e.Forecast {
-		labels = append(labels, quarterLabel(p)+" e")
+		labels = append(labels, p.Label+" e")
 		values = append(values, p.Amount)
 	}
 	if err := d.Chart(func(w, h vg.Length) ([]byte, error) {
@@ -124,12 +122,25 @@ func (d *Memo) expense(m *Model) error {
 	rows := make([][]string, 0, len(e.Forecast)+1)
 	var sum float64
 	for _, p := range e.Forecast {
-		rows = append(rows, []string{quarterLabel(p), p.Start.String() + " to " + p.End.String(), groupDigits(p.Amount, 2)})
+		rows = append(rows, []string{p.Label, p.Start.String() + " to " + p.End.String(), groupDigits(p.Amount, 2)})
 		sum += p.Amount
 	}
 	rows = append(rows, []string{"Later", "", groupDigits(e.AfterForecast, 2)})
 	rows = append(rows, []string{"\x00Total", "", groupDigits(sum+e.AfterForecast, 2)})
 	d.Table([]Col{{"Quarter", 40, false}, {"Days", 70, false}, {"Expected expense (" + cur + ")", 60, true}}, rows)
+
+	if len(e.ByFiscalYear) > 0 {
+		d.Sub("Expense by fiscal year")
+		d.Para("Fiscal years are " + e.FiscalCalendar + ". Recognised is what the periods to " + e.PeriodEnd.String() +
+			" booked; expected is what the awards outstanding at that date will add, on the same assumptions as the forecast.")
+		rows = rows[:0]
+		for _, y := range e.ByFiscalYear {
+			rows = append(rows, []string{y.Year, y.Start.String() + " to " + y.End.String(), groupDigits(y.Recognized, 2), groupDigits(y.Expected, 2), groupDigits(y.Total, 2)})
+		}
+		// The years add up to the cumulative expense and the unrecognised cost.
+		rows = append(rows, []string{"\x00Total", "", groupDigits(e.Cumulative, 2), groupDigits(m.Expense.UnrecognizedCost, 2), groupDigits(e.Cumulative+m.Expense.UnrecognizedCost, 2)})
+		d.Table([]Col{{"Fiscal year", 22, false}, {"Days", 46, false}, {"Recognized (" + cur + ")", 34, true}, {"Expected (" + cur + ")", 34, true}, {"Total (" + cur + ")", 34, true}}, rows)
+	}
 	return nil
 }
 
@@ -147,21 +158,22 @@ func (d *Memo) journal(m *Model) error {
 	if e.Framework == "ifrs2" {
 		equity = "a share-based payment reserve in equity (IFRS 2)"
 	}
-	d.Para(fmt.Sprintf("Summary entries for the period %s to %s, in %s. Equity-classified awards credit %s; liability-classified awards credit their liability, remeasured to fair value, and every change in it is compensation. Warrants issued in financings have entries of their own, outside compensation: a liability-classified one's change in fair value is booked outside operating expense. A catch-up for a closed period is an entry of its own, naming its grant and cause. Exercise proceeds are not shown. The workbook's Journal sheet lists every line with its account role.",
-		e.PeriodStart, e.PeriodEnd, m.Company.Currency, equity))
+	d.Para(fmt.Sprintf("The entries of journal.csv for the period %s to %s, in %s, dated %s. Compensation expense is booked by cost centre. Equity-classified awards credit %s; liability-classified awards credit their liability, remeasured to fair value, and every change in it is compensation. Warrants issued in financings have entries of their own, outside compensation: a liability-classified one's change in fair value is booked outside operating expense. With a tax rate, the deferred tax asset's movement is booked against the deferred tax line. Accounts are those of the Accounts sheet; a role it does not map keeps its default name and no code. Amounts are rounded to the currency's minor unit so that every entry balances and the expense lines add up to the period's expense. A catch-up for a closed period is an entry of its own, naming its grant and cause. Exercise proceeds are not shown.",
+		e.PeriodStart, e.PeriodEnd, m.Company.Currency, e.PeriodEnd, equity))
 	var rows [][]string
-	for i, j := range e.Journal {
-		rows = append(rows, []string{"\x00" + fmt.Sprintf("%d. %s", i+1, j.Description), "", ""})
+	for _, j := range e.Journal {
+		rows = append(rows, []string{"\x00" + fmt.Sprintf("%d. %s", j.Number, j.Description)})
 		for _, l := range j.Lines {
 			acct := "Dr " + l.Account
-			dr, cr := groupDigits(l.Debit, 2), ""
+			dr, cr := groupDigits(l.Debit, e.JournalDecimals), ""
 			if l.Credit != 0 {
-				acct, dr, cr = "    Cr "+l.Account, "", groupDigits(l.Credit, 2)
+				acct, dr, cr = "    Cr "+l.Account, "", groupDigits(l.Credit, e.JournalDecimals)
 			}
-			rows = append(rows, []string{acct, dr, cr})
+			rows = append(rows, []string{acct, l.AccountCode, l.CostCenter, dr, cr})
 		}
 	}
-	d.Table([]Col{{"Entry and account", 110, false}, {"Debit", 30, true}, {"Credit", 30, true}}, rows)
+	d.Table([]Col{{"Entry and account", 86, false}, {"Code", 14, false}, {"Cost centre", 20, false}, {"Debit", 25, true}, {"Credit", 25, true}}, rows)
+	d.Note("The same lines are on the Journal sheet of valuation.xlsx and in journal.csv, one row per line, ready to import.")
 	return nil
 }
 
@@ -272,6 +284,33 @@ func (d *Memo) disclosures(m *Model) error {
 		d.Note("Each roll-forward balances: start + granted − vested − exercised − forfeited − cancelled − expired = end. The same tables are on the Disclosures sheet of valuation.xlsx.")
 	}
 	return nil
+}
+
+// costCenters is the expense split by cost centre, with the next four
+// forecast quarters.
+func (d *Memo) costCenters(m *Model, e *ExpenseDetail) {
+	d.Sub("By cost centre")
+	d.Para("Each day of service is expensed in the cost centre it was rendered in (the Grants column cost_center and the Transfers sheet); a later change of estimate or a reversal is shared among the cost centres in proportion to the days of service each had. The cost centres add up to the totals.")
+	nq := min(4, len(e.Forecast))
+	cols := []Col{{"Cost centre", 26, false}, {"This period", 22, true}, {"Cumulative", 22, true}, {"Unrecognized", 22, true}}
+	w := 78.0 / float64(max(nq, 1))
+	for _, q := range e.Forecast[:nq] {
+		cols = append(cols, Col{q.Label + " e", w, true})
+	}
+	rows := make([][]string, 0, len(e.ByCostCenter)+1)
+	for _, c := range e.ByCostCenter {
+		row := []string{c.CostCenter, groupDigits(c.Amount, 2), groupDigits(c.Cumulative, 2), groupDigits(c.Unrecognized, 2)}
+		for _, v := range c.Forecast[:nq] {
+			row = append(row, groupDigits(v, 2))
+		}
+		rows = append(rows, row)
+	}
+	total := []string{"\x00Total", groupDigits(e.Amount, 2), groupDigits(e.Cumulative, 2), groupDigits(m.Expense.UnrecognizedCost, 2)}
+	for _, q := range e.Forecast[:nq] {
+		total = append(total, groupDigits(q.Amount, 2))
+	}
+	d.Table(cols, append(rows, total))
+	d.Note("e = expected. Every forecast quarter by cost centre, and each grant's part in each cost centre, are on the Expense by cost centre sheet of valuation.xlsx.")
 }
 
 // financing is the section on warrants issued in financings: not

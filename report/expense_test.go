@@ -32,12 +32,12 @@ func ymdT(s string) time.Time {
 func expenseSchedule() *grants.Schedule {
 	return &grants.Schedule{
 		Company:     grants.Company{Name: "Quillmere Instruments GmbH", ValuationDate: ymdT("2026-12-31"), PeriodStart: ymdT("2026-10-01"), Currency: "EUR"},
-		Assumptions: grants.Assumptions{Attribution: grants.Graded, Forfeitures: grants.Estimate, PreVestingForfeitureRate: 0.05},
+		Assumptions: grants.Assumptions{Attribution: grants.Graded, Forfeitures: grants.Estimate, PreVestingForfeitureRate: 0.05, TaxRate: 0.3},
 		Grants: []grants.Grant{
 			{ID: "Q-1", Holder: "E7", Instrument: grants.Option, GrantDate: ymdT("2025-01-15"), Shares: 4000, Strike: 3,
-				ExpiryDate: ymdT("2035-01-15"), VestStart: ymdT("2025-01-15"), VestMonths: 48, CliffMonths: 12, VestEvery: 12},
+				ExpiryDate: ymdT("2035-01-15"), VestStart: ymdT("2025-01-15"), VestMonths: 48, CliffMonths: 12, VestEvery: 12, CostCenter: "R&D"},
 			{ID: "Q-2", Holder: "E9", Instrument: grants.Option, GrantDate: ymdT("2026-11-02"), Shares: 1200, Strike: 5,
-				ExpiryDate: ymdT("2036-11-02"), VestStart: ymdT("2026-11-02"), VestMonths: 36, CliffMonths: 12, VestEvery: 12},
+				ExpiryDate: ymdT("2036-11-02"), VestStart: ymdT("2026-11-02"), VestMonths: 36, CliffMonths: 12, VestEvery: 12, CostCenter: "S&M"},
 			{ID: "Q-3", Holder: "E2", Instrument: grants.RSU, GrantDate: ymdT("2026-02-01"), Shares: 900,
 				VestStart: ymdT("2026-02-01"), VestMonths: 36, VestEvery: 12},
 			{ID: "Q-4", Holder: "=SUM(A1)", Instrument: grants.Warrant, GrantDate: ymdT("2026-03-01"), Shares: 10000, Strike: 4,
@@ -48,6 +48,7 @@ func expenseSchedule() *grants.Schedule {
 				Purpose: grants.Financing},
 		},
 		SharePrices: []grants.PricePoint{{Date: ymdT("2026-01-01"), Price: 6}},
+		Transfers:   []grants.Transfer{{GrantID: "Q-1", Date: ymdT("2026-11-16"), CostCenter: "S&M", Row: 2}},
 		Events: []grants.Event{
 			{GrantID: "Q-1", Date: ymdT("2026-11-30"), Kind: grants.Forfeited, Shares: 2000, Row: 2},
 			{GrantID: "Q-1", Date: ymdT("2026-12-10"), Kind: grants.Exercised, Shares: 600, Row: 3},
@@ -71,7 +72,7 @@ func valuationFor(s *grants.Schedule, revalue func(g grants.Grant, at time.Time)
 		v.Grants = append(v.Grants, gv)
 		if g.Classification == grants.Liability && revalue != nil {
 			var rs []pricing.Revaluation
-			for _, at := range append([]time.Time{g.GrantDate}, pricing.RemeasurementDates(g.GrantDate, end, nil)...) {
+			for _, at := range append([]time.Time{g.GrantDate}, pricing.RemeasurementDates(grants.FiscalCalendar{}, g.GrantDate, end, nil)...) {
 				vals, err := revalue(g, at)
 				rs = append(rs, pricing.Revaluation{Date: at, Values: vals, Err: err})
 				if err != nil {
@@ -217,8 +218,23 @@ func TestExpenseOutputs(t *testing.T) {
 	if total[0] != "total" {
 		t.Fatalf("last Expense row %v", total)
 	}
-	if got, _ := strconv.ParseFloat(total[13], 64); math.Abs(got-e.Amount) > 1e-6 {
+	if got, _ := strconv.ParseFloat(total[14], 64); math.Abs(got-e.Amount) > 1e-6 {
 		t.Errorf("Expense sheet period total %v, JSON %v", got, e.Amount)
+	}
+	// The cost centres add up to the totals, in the JSON and on their sheet.
+	var ccSum float64
+	for _, c := range e.ByCostCenter {
+		ccSum += c.Amount
+	}
+	if len(e.ByCostCenter) != 3 || math.Abs(ccSum-e.Amount) > 1e-9 {
+		t.Errorf("cost centres %+v add to %v, period %v", e.ByCostCenter, ccSum, e.Amount)
+	}
+	crows, err := f.GetRows(SheetCostCenters, excelize.Options{RawCellValue: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if last := crows[len(crows)-1]; last[0] != "total" || !closeText(last[4], e.Amount) {
+		t.Errorf("cost centre sheet total row %v, period %v", last, e.Amount)
 	}
 	for _, r := range rows[1:] {
 		if r[1] == "Q-4" {
@@ -262,13 +278,13 @@ func TestExpenseOutputs(t *testing.T) {
 		lines += len(j.Lines)
 	}
 	var dr, cr float64
-	for _, r := range jrows[1:] {
-		if len(r) > 6 {
-			v, _ := strconv.ParseFloat(r[6], 64)
+	for _, r := range jrows[1:] { // debit and credit are columns F and G, as in journal.csv
+		if len(r) > 5 {
+			v, _ := strconv.ParseFloat(r[5], 64)
 			dr += v
 		}
-		if len(r) > 7 {
-			v, _ := strconv.ParseFloat(r[7], 64)
+		if len(r) > 6 {
+			v, _ := strconv.ParseFloat(r[6], 64)
 			cr += v
 		}
 	}
@@ -283,10 +299,10 @@ func TestExpenseOutputs(t *testing.T) {
 	// Memo: the three sections with their figures.
 	text := pdfText(t, renderMemo(t, m))
 	flat := strings.Join(strings.Fields(text), " ")
-	for _, want := range []string{"Compensation expense for the period", "Journal summary", "Share-based payment disclosures",
+	for _, want := range []string{"Compensation expense for the period", "Journal entries", "Income tax effects", "Deferred tax asset at the period end", "Share-based payment disclosures",
 		"Expense by quarter", "Outstanding at end", "Nonvested at start", "Vested and expected to vest",
 		money(e.Amount, "EUR"), "Additional paid-in capital", "Share-based compensation liability", "Warrants issued in financings",
-		"Change in fair value of warrant liability", "Total intrinsic value of exercises", "range of exercise prices"} {
+		"Change in fair value of warrant liability", "Total intrinsic value of exercises", "range of exercise prices", "By cost centre", "Expense by fiscal year"} {
 		if !strings.Contains(flat, want) {
 			t.Errorf("memo has no %q", want)
 		}
@@ -333,12 +349,23 @@ func TestExpenseIFRS2Names(t *testing.T) {
 	}
 	// The termination makes the period's equity-classified cost negative:
 	// the first entry debits the reserve and credits the expense.
-	if l := e.Journal[0].Lines[0]; l.Role != "equity" || l.Account != "Share-based payment reserve" || l.Debit <= 0 {
-		t.Errorf("equity line %+v", l)
+	var equity []JournalLine
+	for _, l := range e.Journal[0].Lines {
+		if l.Role == "equity" {
+			equity = append(equity, l)
+		}
+	}
+	if len(equity) != 1 || equity[0].Account != "Share-based payment reserve" || equity[0].Debit <= 0 {
+		t.Errorf("equity lines %+v", equity)
 	}
 	f := renderBook(t, m)
-	if v, _ := f.GetCellValue(SheetJournal, "F2"); v != "Share-based payment reserve" {
-		t.Errorf("Journal!F2 = %q", v)
+	rows, _ := f.GetRows(SheetJournal)
+	found := false
+	for _, r := range rows[1:] {
+		found = found || len(r) > 9 && r[9] == "equity" && r[3] == "Share-based payment reserve"
+	}
+	if !found {
+		t.Errorf("Journal sheet has no share-based payment reserve line: %q", rows)
 	}
 	flat := strings.Join(strings.Fields(pdfText(t, renderMemo(t, m))), " ")
 	for _, want := range []string{"Standard: IFRS 2", "credit a share-based payment reserve in equity (IFRS 2)", "Share-based payment reserve"} {
@@ -346,4 +373,10 @@ func TestExpenseIFRS2Names(t *testing.T) {
 			t.Errorf("memo has no %q", want)
 		}
 	}
+}
+
+// closeText reports whether the cell text is the number v to 1e-6.
+func closeText(text string, v float64) bool {
+	f, err := strconv.ParseFloat(text, 64)
+	return err == nil && math.Abs(f-v) <= 1e-6
 }

@@ -1,11 +1,19 @@
 package report
 
+import (
+	"strings"
+
+	"github.com/xuri/excelize/v2"
+)
+
 // Workbook sheets of the expense attribution and the disclosure tables.
 
 // Sheet names added by this file, after Convergence.
 const (
 	SheetExpense     = "Expense"
+	SheetCostCenters = "Expense by cost centre"
 	SheetForecast    = "Expense forecast"
+	SheetByYear      = "Expense by fiscal year"
 	SheetFinancing   = "Financing warrants"
 	SheetDisclosures = "Disclosures"
 	SheetJournal     = "Journal"
@@ -14,19 +22,27 @@ const (
 func init() {
 	sheetHooks = append(sheetHooks,
 		SheetHook{SheetExpense, writeExpense},
+		SheetHook{SheetCostCenters, writeCostCenters},
 		SheetHook{SheetForecast, writeForecast},
+		SheetHook{SheetByYear, writeByYear},
 		SheetHook{SheetFinancing, writeFinancing},
 		SheetHook{SheetDisclosures, writeDisclosures},
-		SheetHook{SheetJournal, writeJournal})
+		SheetHook{SheetJournal, writeJournal},
+		SheetHook{SheetTax, writeTax})
 }
 
 // notRun writes a one-line sheet when expense attribution did not run.
 func notRun(b *Book, name string) error {
+	return noteSheet(b, name, "Expense attribution did not run for this valuation.")
+}
+
+// noteSheet writes a sheet of one note.
+func noteSheet(b *Book, name, note string) error {
 	t, err := b.NewTable(name, []Column{{"Note", 80}}, 1)
 	if err != nil {
 		return err
 	}
-	if err := t.Row("Expense attribution did not run for this valuation."); err != nil {
+	if err := t.Row(note); err != nil {
 		return err
 	}
 	return t.Close()
@@ -46,7 +62,7 @@ func writeExpense(b *Book, m *Model) error {
 	if e == nil {
 		return notRun(b, SheetExpense)
 	}
-	cols := []Column{{"Level", 9}, {"Grant", 14}, {"Holder", 12}, {"Instrument", 11}, {"Tranche", 8},
+	cols := []Column{{"Level", 9}, {"Grant", 14}, {"Holder", 12}, {"Cost centre", 14}, {"Instrument", 11}, {"Tranche", 8},
 		{"Service start", 12}, {"Vest date / service end", 14}, {"Shares", 11}, {"Shares counted", 13},
 		{"Expected share at vest", 12}, {"Fair value per share", 14}, {"Total cost", 16},
 		{"Cumulative at period start", 16}, {"Period expense", 16}, {"Cumulative at period end", 16},
@@ -73,14 +89,14 @@ func writeExpense(b *Book, m *Model) error {
 		if g.Liability {
 			liability = money(g.LiabilityEnd)
 		}
-		if err := t.Row("grant", b.Text(g.GrantID), b.Text(g.Holder), g.Instrument, nil,
+		if err := t.Row("grant", b.Text(g.GrantID), b.Text(g.Holder), b.Text(g.CostCenter), g.Instrument, nil,
 			b.DateCell(g.ServiceStart), b.DateCell(g.ServiceEnd), b.Cell(b.Style.Int, gs), b.Cell(b.Style.Number, counted),
 			nil, nil, money(g.Cost), money(g.CumulativeOpen), money(g.Amount), money(g.Cumulative),
 			money(g.Unrecognized), b.Cell(b.Style.Years, g.RemainingYears), liability); err != nil {
 			return err
 		}
 		for _, tr := range g.Tranches {
-			if err := t.Row("tranche", b.Text(g.GrantID), b.Text(g.Holder), g.Instrument, tr.Index,
+			if err := t.Row("tranche", b.Text(g.GrantID), b.Text(g.Holder), nil, g.Instrument, tr.Index,
 				b.DateCell(g.ServiceStart), b.DateCell(tr.VestDate), b.Cell(b.Style.Int, tr.Shares), b.Cell(b.Style.Number, tr.SharesCounted),
 				b.Cell(b.Style.Percent, tr.ExpectedShare), b.Cell(b.Style.MoneyPerShare, tr.FairValuePerShare),
 				money(tr.Cost), money(tr.CumulativeOpen), money(tr.Amount), money(tr.Cumulative),
@@ -94,7 +110,7 @@ func writeExpense(b *Book, m *Model) error {
 		cost += g.Cost
 		open += g.CumulativeOpen
 	}
-	if err := t.Row(b.Cell(b.Style.Bold, "total"), nil, nil, nil, nil, nil, nil, b.Cell(b.Style.Int, shares), nil, nil, nil,
+	if err := t.Row(b.Cell(b.Style.Bold, "total"), nil, nil, nil, nil, nil, nil, nil, b.Cell(b.Style.Int, shares), nil, nil, nil,
 		money(cost), money(open), money(e.Amount), money(e.Cumulative), money(m.Expense.UnrecognizedCost),
 		b.Cell(b.Style.Years, m.Expense.WeightedAverageRemainingYears), nil); err != nil {
 		return err
@@ -109,7 +125,7 @@ func writeForecast(b *Book, m *Model) error {
 	if e == nil {
 		return notRun(b, SheetForecast)
 	}
-	cols := []Column{{"Kind", 12}, {"Start", 12}, {"End", 12}, {"Compensation expense", 20}, {"Financing warrants: change in fair value (outside operating expense)", 26}}
+	cols := []Column{{"Kind", 12}, {"Quarter", 12}, {"Start", 12}, {"End", 12}, {"Compensation expense", 20}, {"Financing warrants: change in fair value (outside operating expense)", 26}}
 	t, err := b.NewTable(SheetForecast, cols, len(m.Expense.Periods)+len(e.Forecast)+1)
 	if err != nil {
 		return err
@@ -119,16 +135,16 @@ func writeForecast(b *Book, m *Model) error {
 		if p.Current {
 			kind = "this period"
 		}
-		if err := t.Row(kind, b.DateCell(p.Start), b.DateCell(p.End), b.Cell(b.Style.Money, p.Amount), b.Cell(b.Style.Money, p.FinancingFairValueChange)); err != nil {
+		if err := t.Row(kind, p.Label, b.DateCell(p.Start), b.DateCell(p.End), b.Cell(b.Style.Money, p.Amount), b.Cell(b.Style.Money, p.FinancingFairValueChange)); err != nil {
 			return err
 		}
 	}
 	for _, p := range e.Forecast {
-		if err := t.Row("expected", b.DateCell(p.Start), b.DateCell(p.End), b.Cell(b.Style.Money, p.Amount), nil); err != nil {
+		if err := t.Row("expected", p.Label, b.DateCell(p.Start), b.DateCell(p.End), b.Cell(b.Style.Money, p.Amount), nil); err != nil {
 			return err
 		}
 	}
-	if err := t.Row("after", nil, nil, b.Cell(b.Style.Money, e.AfterForecast), nil); err != nil {
+	if err := t.Row("after", nil, nil, nil, b.Cell(b.Style.Money, e.AfterForecast), nil); err != nil {
 		return err
 	}
 	return t.Close()
@@ -306,41 +322,51 @@ func writeDisclosures(b *Book, m *Model) error {
 	return writeBlocks(b, SheetDisclosures, []float64{44, 30, 18, 20, 20, 22, 20, 22}, blocks)
 }
 
-// writeJournal is one row per line of the period's entries.
+// writeJournal is journal.csv as a sheet: one row per line of every entry,
+// with the role and grant beside the file's columns.
 func writeJournal(b *Book, m *Model) error {
 	e := detail(m)
 	if e == nil {
 		return notRun(b, SheetJournal)
 	}
-	cols := []Column{{"Entry", 7}, {"Date", 12}, {"Description", 84}, {"Account role", 28}, {"Account code", 12}, {"Account", 40},
-		{"Debit", 16}, {"Credit", 16}, {"Currency", 9}, {"Grant", 12}}
+	cols := []Column{{"Entry", 7}, {"Date", 13}, {"Account code", 13}, {"Account", 54}, {"Cost centre", 14}, {"Debit", 16}, {"Credit", 16},
+		{"Currency", 10}, {"Description", 84}, {"Role", 22}, {"Grant", 14}}
+	// Debits and credits as journal.csv has them: in the currency's minor
+	// unit, the currency in its own column rather than in each amount (a
+	// space's width after each, "_)", keeps it apart from the next column).
+	format := "#,##0"
+	if e.JournalDecimals > 0 {
+		format += "." + strings.Repeat("0", e.JournalDecimals)
+	}
+	format += "_)"
+	amount, err := b.f.NewStyle(&excelize.Style{CustomNumFmt: &format})
+	if err != nil {
+		return err
+	}
 	n := 0
 	for _, j := range e.Journal {
 		n += len(j.Lines)
 	}
-	t, err := b.NewTable(SheetJournal, cols, max(n, 1))
+	t, err := b.NewTable(SheetJournal, cols, n)
 	if err != nil {
 		return err
 	}
 	if n == 0 {
-		if err := t.Row(nil, nil, "Nothing is to be booked for the period."); err != nil {
+		if err := t.Row(nil, nil, nil, "Nothing is to be booked for the period."); err != nil {
 			return err
 		}
 	}
-	for i, j := range e.Journal {
+	for _, j := range e.Journal {
 		for _, l := range j.Lines {
-			var dr, cr, grant any
+			var dr, cr any
 			if l.Debit != 0 {
-				dr = b.Cell(b.Style.Money, l.Debit)
+				dr = b.Cell(amount, l.Debit)
 			}
 			if l.Credit != 0 {
-				cr = b.Cell(b.Style.Money, l.Credit)
+				cr = b.Cell(amount, l.Credit)
 			}
-			if l.GrantID != "" {
-				grant = b.Text(l.GrantID)
-			}
-			if err := t.Row(b.Cell(b.Style.Int, i+1), b.DateCell(j.Date), b.Text(j.Description), l.Role, b.Text(l.AccountCode),
-				b.Text(l.Account), dr, cr, m.Company.Currency, grant); err != nil {
+			if err := t.Row(j.Number, b.DateCell(j.Date), b.Text(l.AccountCode), b.Text(l.Account), b.Text(l.CostCenter), dr, cr,
+				b.Text(m.Company.Currency), b.Text(j.Description), l.Role, b.Text(l.GrantID)); err != nil {
 				return err
 			}
 		}

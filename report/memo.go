@@ -409,7 +409,8 @@ type Col struct {
 // Table lays out rows under a shaded header. Cells wrap within their
 // column; a table that runs past the page continues on the next one with
 // its header repeated. A row whose first cell starts with "\x00" is drawn
-// bold (totals).
+// bold (totals); if it has no other cell it heads a group and runs across
+// the whole table.
 func (d *Memo) Table(cols []Col, rows [][]string) {
 	p := d.pdf
 	head := func() {
@@ -442,9 +443,13 @@ func (d *Memo) Table(cols []Col, rows [][]string) {
 			style = "B"
 		}
 		p.SetFont(fontSans, style, tableSize)
-		wrapped := make([][]string, len(cols))
+		cells := cols
+		if bold && len(r) == 1 {
+			cells = []Col{{Width: sumWidths(cols)}}
+		}
+		wrapped := make([][]string, len(cells))
 		lines := 1
-		for j, c := range cols {
+		for j, c := range cells {
 			s := ""
 			if j < len(r) {
 				s = strings.TrimPrefix(r[j], "\x00")
@@ -473,7 +478,7 @@ func (d *Memo) Table(cols []Col, rows [][]string) {
 			p.SetLineWidth(0.3)
 			p.Line(x, y, x+sumWidths(cols), y)
 		}
-		for j, c := range cols {
+		for j, c := range cells {
 			d.cellLines(x, y+0.6, c, wrapped[j])
 			x += c.Width
 		}

@@ -346,9 +346,11 @@ type ExpensePeriod struct {
 	Amount float64 `json:"amount"`
 	// Added by expense.go: the change in fair value of the financing
 	// warrants' liability, apart from Amount (outside operating expense),
-	// and whether this is the reporting period.
+	// whether this is the reporting period, and the fiscal quarter holding
+	// End ("2026 Q3", "FY2027 Q1").
 	FinancingFairValueChange float64 `json:"fair_value_change"`
 	Current                  bool    `json:"current"`
+	Label                    string  `json:"label"`
 }
 
 // Caution is the notice every output carries (DESIGN §5).

@@ -98,7 +98,7 @@ func priorOf(m *Model) (*accounting.Prior, string) {
 			PreVestingForfeitureRate: e.PreVestingForfeitureRate, Framework: grants.Framework(e.Framework)},
 		LiabilityChangeApart: m.SchemaVersion < 2}
 	for _, pa := range e.Periods {
-		p.Periods = append(p.Periods, accounting.PeriodAmount{Start: pa.Start.Time(), End: pa.End.Time(), Amount: pa.Amount, FairValueChange: pa.FinancingFairValueChange})
+		p.Periods = append(p.Periods, accounting.PeriodAmount{Start: pa.Start.Time(), End: pa.End.Time(), Label: pa.Label, Amount: pa.Amount, FairValueChange: pa.FinancingFairValueChange})
 	}
 	booked := make(map[string]*ExpenseGrant, len(e.ByGrant))
 	for i := range e.ByGrant {

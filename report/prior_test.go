@@ -23,7 +23,7 @@ import (
 func closeAt(t *testing.T, s *grants.Schedule, end string, prior *accounting.Prior) (*pricing.Valuation, *accounting.Books, string) {
 	t.Helper()
 	s.Company.ValuationDate = grantstest.Day(end)
-	s.Company.PeriodStart = grants.QuarterStart(s.Company.ValuationDate)
+	s.Company.PeriodStart = grants.Company{}.DefaultPeriodStart(s.Company.ValuationDate)
 	if prior != nil {
 		if _, err := accounting.Open(s, prior); err != nil {
 			t.Fatal(err)

@@ -53,7 +53,18 @@ per sheet. With --designs it writes the workbook that compare reads instead,
 ` + designsTemplateXLSX + ` (or the folder ` + designsTemplateCSV + ` with --csv): the
 schedule's Company, Assumptions, Share Prices and Rates sheets and a Designs
 sheet of one row per grant design. It never overwrites an existing file
-unless --force is given.`,
+unless --force is given.
+
+The Company sheet's fiscal_year_end (a month; calendar years when empty)
+sets the fiscal quarters of the forecast and the expense by fiscal year, and
+the default period: a year ending in January has quarters February-April to
+November-January and is named by the year it ends in. For a 52/53-week year
+give fiscal_year_end_weekday (the weekday it ends on) and
+fiscal_year_end_rule (last of the month, or nearest its last day). The
+Accounts sheet lists every role of journal.csv with its default account name:
+add your account codes. The Grants sheet's cost_center and the Transfers sheet
+split the expense by function; the Assumptions key tax_rate and the Grants
+column tax_deductible give the deferred tax.`,
 		Example: `  grantworth init
   grantworth init q3-close
   grantworth init q3-close --csv

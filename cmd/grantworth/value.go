@@ -25,7 +25,7 @@ import (
 func init() { verbs = append(verbs, newValueCmd) }
 
 // Output file names (DESIGN §4.1).
-var outputNames = []string{"memo.pdf", "valuation.xlsx", "valuation.json"}
+var outputNames = []string{"memo.pdf", "valuation.xlsx", "valuation.json", "journal.csv"}
 
 type valueOptions struct {
 	io            *IO
@@ -42,19 +42,22 @@ func newValueCmd(ios *IO) *cobra.Command {
 	opts := &valueOptions{io: ios}
 	cmd := &cobra.Command{
 		Use:   "value SCHEDULE",
-		Short: "Value every grant and write memo.pdf, valuation.xlsx and valuation.json",
+		Short: "Value every grant and write memo.pdf, valuation.xlsx, valuation.json and journal.csv",
 		Long: `value is the quarter-close job. It reads a grant schedule (an .xlsx workbook
 or a folder of CSV files), validates it, expands every grant into vesting
 tranches, values each tranche (options on the employee-option lattice in
 automatic, converged mode on all cores; warrants on the lattice with dilution;
 RSUs in closed form), runs the sensitivity, convergence and Monte Carlo
-checks and the period's expense attribution, and writes three files into the
+checks and the period's expense attribution, and writes four files into the
 output folder:
 
   memo.pdf        the memo for the file and the auditor
   valuation.xlsx  every input with its cell and every result, with live
                   Black-Scholes-Merton formulas beside the tool's figures
   valuation.json  the same figures for other programs (DESIGN §4.3)
+  journal.csv     the period's journal entries to import into the general
+                  ledger, by cost centre, in the accounts of the Accounts
+                  sheet (DESIGN §4.4)
 
 With --prior, the close follows an earlier one (its output folder or its
 valuation.json, only read): the grant-date fair values it filed stay locked
@@ -82,7 +85,7 @@ IFRS 2 or local rules).`,
 			return runValue(opts)
 		},
 	}
-	cmd.Flags().StringVar(&opts.out, "out", "out", "folder to write the three files into (created if missing)")
+	cmd.Flags().StringVar(&opts.out, "out", "out", "folder to write the four files into (created if missing)")
 	cmd.Flags().StringVar(&opts.valuationDate, "valuation-date", "", "period end YYYY-MM-DD, instead of the schedule's Company valuation_date")
 	cmd.Flags().StringVar(&opts.prior, "prior", "", "the prior close to follow: its output folder or its valuation.json")
 	cmd.Flags().StringSliceVar(&opts.correct, "correct", nil, "grant IDs whose locked grant-date value is measured again, as the correction of an error (needs --prior; repeat or separate with commas)")
@@ -343,6 +346,7 @@ func outputs(m *report.Model, tmp string) []outFile {
 			return report.WriteWorkbookWith(w, m, report.WorkbookOptions{TempDir: tmp})
 		}},
 		{"valuation.json", func(w io.Writer) error { return report.WriteJSON(w, m) }},
+		{"journal.csv", func(w io.Writer) error { return report.WriteJournalCSV(w, m) }},
 	}
 }
 

@@ -15,6 +15,8 @@ type Books struct {
 	Expense        *ExpenseReport
 	Disclosure     *Disclosure
 	Journal        []Entry
+	Chart          Chart           // the accounts and rounding the journal is in
+	Tax            *TaxReport      // nil when the schedule gives no tax rate
 	Reconciliation *Reconciliation // nil without a prior close
 	// SharePrice is the share price at the period end, with its cell,
 	// for the disclosures' intrinsic values.
@@ -72,7 +74,12 @@ func Close(s *grants.Schedule, v *pricing.Valuation, prior *Prior) (*Books, erro
 		}
 		catchUps = b.Reconciliation.CatchUps
 	}
-	b.Journal = Journal(rep, catchUps, nil)
+	b.Tax = p.tax(TaxInputsOf(s), b.SharePrice.Value)
+	if b.Tax != nil {
+		b.Warnings = append(b.Warnings, b.Tax.Warnings...)
+	}
+	b.Chart = ChartOf(s)
+	b.Journal = Journal(rep, catchUps, b.Tax, b.Chart)
 	return b, nil
 }
 

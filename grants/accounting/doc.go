@@ -13,7 +13,7 @@
 //  1. AwardsOf pairs each valued grant with its fair value per tranche (an
 //     Award): the grant-date value of an equity-classified award; for a
 //     liability-classified warrant its value at the grant date, with its
-//     revaluations at the past quarter ends, on the days of its exercises
+//     revaluations at the past fiscal quarter ends, on the days of its exercises
 //     and at the valuation date as Remeasurements. Each event goes with the
 //     share price in force on its date. The grant's weighted-average
 //     assumptions go along for the disclosure of the period's grants:
@@ -24,15 +24,18 @@
 //     events) and from the same ledgers the ExpenseReport of the period
 //     (Expense) and the Disclosure tables (Disclose).
 //  3. After a prior close, the Reconciliation to it (below).
-//  4. Journal writes the period's entries from the ExpenseReport and the
-//     catch-ups.
+//  4. With a tax rate, the TaxReport of the period: the deferred tax and
+//     the deductions taken or lost (below).
+//  5. Journal writes the period's entries from the ExpenseReport, the
+//     catch-ups and the tax, in the company's chart of accounts (ChartOf).
 //
 // The schedule's period is grants.Schedule.Period (the Company sheet's
 // period_start to valuation_date); its policy is PolicyOf (the Assumptions
 // keys attribution, forfeitures, pre_vesting_forfeiture_rate and
-// framework). The share price at the period end, for intrinsic values, is
-// grants.Schedule.PeriodEndPrice, with its cell; without one, a schedule
-// with options or warrants is an error, never a silent zero.
+// framework, and the Company sheet's fiscal calendar). The share price at
+// the period end, for intrinsic values, is grants.Schedule.PeriodEndPrice,
+// with its cell; without one, a schedule with options or warrants is an
+// error, never a silent zero.
 //
 // Nothing here values anything (pricing did) or lays anything out (report
 // does); report reads Books and adds nothing up.
@@ -194,6 +197,91 @@
 // values (Locks); a change first recorded after the quarter it is dated in
 // was closed is a catch-up of the open quarter (late_modification).
 //
+// # Fiscal calendar
+//
+// Policy.Calendar (grants.FiscalCalendar, from the Company keys
+// fiscal_year_end and, for a 52/53-week year, fiscal_year_end_weekday and
+// fiscal_year_end_rule) sets the quarters: the context quarters before
+// the period (Periods), the 16 of the forecast (Forecast, the first from
+// the day after the period end to the end of its fiscal quarter), each
+// with its Label, and the liability warrants' remeasurement dates. A year
+// ending on 31 January has quarters February to April, May to July,
+// August to October and November to January, so its forecast has no
+// two-month stub. ByFiscalYear is the expense of each fiscal year, from
+// the one holding the earliest grant to the one holding the last day of
+// service, bucketed by grants.FiscalCalendar.Years (the one bucketing,
+// which the comparison of grant designs uses too): recognised, each period
+// counted in the year holding its end (so the years add up to the
+// cumulative expense, and to the periods as booked after a prior close),
+// and expected, as the forecast expects it (adding up to the unrecognised
+// cost).
+//
+// # Cost centres
+//
+// A grant's service is rendered in its cost centre (the Grants column
+// cost_center; Unassigned when empty), and from each Transfers row's date
+// on (that day included) in the row's cost centre; transfers dated after
+// the period end are left out, like events. Each day of service is
+// expensed where it was rendered: a tranche's cumulative cost through day
+// d is shared among the cost centres in proportion to the days of its
+// service rendered in each through d (a tranche vesting on its service
+// start belongs to the centre of that day). For a tranche whose cost
+// accrues evenly this puts each day's expense in that day's centre; a
+// later change (the forfeiture estimate trued up, a forfeiture reversing
+// the cost, a cancellation) is shared by the same days, so the cost
+// recognised in each centre is always that of the service rendered there
+// (common practice for functional expense; the attribution over the
+// service period is ASC 718-10-35-2, from memory). Future service is the
+// centre's at the period end. Every figure of a grant (period,
+// cumulative, unrecognised, each forecast quarter and what follows) is
+// split so, the float rounding going to the centre at the period end, so
+// that the parts add up to the grant's figures exactly; ByCostCenter adds
+// them up by centre, in name order with Unassigned last, and a warning
+// names the grants with expense in Unassigned. After a prior close, the
+// difference between the opening balance it booked and the one restated
+// now is in the centre at the period end, and so is a catch-up.
+//
+// # Income taxes
+//
+// With a statutory rate (the Assumptions key tax_rate, the rate in force
+// on each day; 0 or absent: no TaxReport), each award that gives the
+// company a tax deduction (grants.Grant.Deductible: the Grants column
+// tax_deductible, else options and RSUs yes, warrants no; financing
+// warrants never) carries a deferred tax asset on a deductible temporary
+// difference:
+//
+//   - ASC 718: the compensation cost recognised on its outstanding shares
+//     (ASC 718-740-25-2 and 718-740-30-1, from memory), for a
+//     liability-classified award its liability. The asset is not adjusted
+//     for the share price.
+//   - IFRS 2: the deduction the share price at the period end would give,
+//     the intrinsic value of the outstanding options (the share price of
+//     the outstanding RSUs), for the service rendered and on the shares
+//     expected to vest, attributed like the cost (IAS 12.68B). The tax on
+//     the part of it beyond the cumulative cost of those shares is in
+//     equity (IAS 12.68C), per grant; the rest in profit or loss.
+//
+// An RSU's shares are deducted when they vest and an option's when
+// exercised; lapsed and cancelled shares never are. The period's deferred
+// tax benefit is the change in the asset less the change of the part in
+// equity, the rate at the day before the period start measuring the
+// opening asset (so an enacted change of rate goes through the period;
+// ASC 740-10-35-4, from memory) and, under IFRS 2, the share price of
+// that day the opening deduction. The Settlements of the period are each
+// deduction taken (an exercise, at the share price of its Events row or
+// else of Share Prices on the day; an RSU tranche vesting, at Share
+// Prices on its vest day) or lost (vested shares expired or forfeited,
+// shares cancelled): the deduction at the rate less the cost recognised
+// on those shares at the rate is an excess tax benefit or a shortfall
+// (ASC 718-740-35-2, in income tax expense since ASU 2016-09; under IFRS
+// 2 an excess is in equity, IAS 12.68C; from memory). An exercise on a day
+// with no share price known is listed as not computed, with the reason.
+// The deduction itself reduces current tax and belongs to the income tax
+// provision: the journal books only the deferred tax asset's movement
+// (its release for the deductions of the period included), so that
+// nothing is booked twice. A disqualifying disposition of an incentive
+// stock option is not modelled.
+//
 // # Disclosures
 //
 // Disclose builds the tables of the share-based payment note
@@ -295,18 +383,25 @@
 // account does: compensation expense, equity, the share-based payment
 // liability, the financing warrants' liability, its change in fair value,
 // the equity exercised financing warrants become, the financing's
-// proceeds), the Account the company maps to that role (DefaultAccount
-// otherwise, whose names follow the framework), the grant it books when it
-// books one, and a debit or a credit. Every entry balances. Journal gives
-// the period's summary entries: compensation of equity-classified awards
-// against equity; compensation of liability-classified awards against
-// their liability; those exercised, reclassified to equity; financing
-// warrants recognised as liabilities at issue; the change in fair value of
-// that liability; the financing warrants exercised, reclassified to
-// equity; one entry per modification of the period naming its grant; one
-// entry per catch-up naming its grant and cause (the
-// compensation lines leave the catch-ups out). An entry of less than half
-// a cent is left out.
+// proceeds, the deferred tax asset, the deferred tax line), the Account
+// the company maps to that role in its Chart (the Accounts sheet: a code
+// and a name per role, and for compensation expense optionally per cost
+// centre; DefaultAccount otherwise, a name in the framework's wording and
+// no code), the cost centre of an expense line, the grant of a per-grant
+// entry, and a debit or a credit. Journal gives the period's summary
+// entries: compensation of equity-classified awards against equity and
+// of liability-classified awards against their liability, with an expense
+// line per cost centre; those exercised, reclassified to equity;
+// financing warrants recognised as liabilities at issue; the change in
+// fair value of that liability; the financing warrants exercised,
+// reclassified to equity; one entry per catch-up naming its grant and
+// cause, and one per modification of the period naming its grant (the
+// summary lines leave both out); and the deferred tax. Amounts are whole minor units of the currency (grants.MinorUnits:
+// cents, or none for the yen). The compensation lines are rounded
+// together by the largest remainder method (apportion, common practice),
+// so that they add up to the period's expense rounded; every other entry
+// is rounded once and its lines share it, so every entry balances exactly.
+// An entry that rounds to nothing is left out.
 //
 // # Framework
 //
@@ -323,7 +418,7 @@
 // # Extending
 //
 // Later rules add to these shapes rather than reshape them: a new account
-// is a Role (with its default Account); a new kind of history change is a
+// is a Role (with its default names in grants.AccountRoles); a new kind of history change is a
 // Cause; a new movement of a walk is a WalkLine (its views, like those
 // above, telescoping from the opening to the closing balance); per-grant
 // entries set Line.GrantID. Spread attributes one award over periods of

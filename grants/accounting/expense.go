@@ -42,8 +42,9 @@ type Award struct {
 	Events   []grants.Event // this grant's events, in any order
 	// EventPrices are the share price in force on each event's date, in
 	// Events order (0 or missing when unknown), for the intrinsic value of
-	// exercises in the disclosures.
+	// exercises in the disclosures; an event row's own share_price wins.
 	EventPrices    []float64
+	Transfers      []grants.Transfer // this grant's cost centre history, in any order
 	Remeasurements []Remeasurement
 	Measured       *MeasuredAssumptions // optional; used by Disclose
 	// Modified are the changes of its terms dated by the period end, with
@@ -53,9 +54,10 @@ type Award struct {
 	Replaces *Replaces
 }
 
-// Policy is the company's attribution and forfeiture policy and the
-// standard it follows. The zero Attribution is Graded and the zero
-// Forfeitures is Estimate (both allowed under ASC 718 and IFRS 2).
+// Policy is the company's attribution and forfeiture policy, the standard
+// it follows and the fiscal calendar its periods are reported in. The zero
+// Attribution is Graded and the zero Forfeitures is Estimate (both allowed
+// under ASC 718 and IFRS 2); the zero Calendar is calendar years.
 type Policy struct {
 	Attribution              grants.Attribution
 	Forfeitures              grants.ForfeiturePolicy
@@ -64,15 +66,29 @@ type Policy struct {
 	// IFRS 2 requires graded attribution and estimated forfeitures, and
 	// names the journal's equity account differently.
 	Framework grants.Framework
+	// Calendar is the fiscal calendar of the periods and the forecast.
+	Calendar grants.FiscalCalendar
 }
 
 // PeriodAmount is the expense of one period.
 type PeriodAmount struct {
 	Start           time.Time
 	End             time.Time
+	Label           string  // the fiscal quarter holding End, e.g. "2026 Q3" or "FY2027 Q1"
 	Amount          float64 // compensation expense
 	FairValueChange float64 // financing warrants' liability, apart from compensation (outside operating expense)
 	Current         bool    // the reporting period [period start, valuation date]
+}
+
+// YearAmount is the compensation expense of one fiscal year: what was
+// recognised in it through the period end (each period as booked at its
+// end, like Periods) and what is expected in it after the period end (as
+// expected at the period end, like Forecast). The years of a report add up
+// to its cumulative expense and its unrecognised cost.
+type YearAmount struct {
+	Year       grants.FiscalPeriod
+	Recognized float64
+	Expected   float64
 }
 
 // TrancheExpense is one tranche's attribution.
@@ -133,6 +149,13 @@ type GrantExpense struct {
 	Events         []grants.Event
 	Remeasurements []Remeasurement
 
+	// CostCenter is the grant's cost centre at the period end (Unassigned
+	// when it names none); ByCostCenter splits its Period, Cumulative and
+	// Unrecognized among the cost centres its service was rendered in
+	// (one part when it never moved). The parts add up to the grant's.
+	CostCenter   string
+	ByCostCenter []CostCenterAmount
+
 	Tranches []TrancheExpense
 }
 
@@ -180,6 +203,10 @@ type FinancingWarrant struct {
 	// after it: what a later close keeps.
 	Events         []grants.Event
 	Remeasurements []Remeasurement
+
+	// CostCenter is the warrant's cost centre at the period end, for a
+	// compensation catch-up it may carry.
+	CostCenter string
 }
 
 // ExpenseReport is the attribution for one reporting period.
@@ -200,15 +227,23 @@ type ExpenseReport struct {
 	// (common practice).
 	RemainingYears float64
 
-	// Periods are the calendar quarters from the one holding the earliest
+	// Periods are the fiscal quarters from the one holding the earliest
 	// grant date up to the period start (context), then the current period.
 	Periods []PeriodAmount
 	// Forecast is the expected compensation expense in each of the next 16
-	// calendar quarters after PeriodEnd (the first may be partial), assuming
+	// fiscal quarters after PeriodEnd (the first may be partial), assuming
 	// no further events and, under Estimate, forfeitures at the estimated
 	// rate. AfterForecast is what remains after them.
 	Forecast      []PeriodAmount
 	AfterForecast float64
+	// ByCostCenter splits Period, Cumulative, Unrecognized, the Forecast
+	// and AfterForecast by cost centre, in name order with Unassigned
+	// last; the centres add up to the totals.
+	ByCostCenter []CostCenterExpense
+	// ByFiscalYear covers the fiscal years from the one holding the
+	// earliest grant date to the one in which the last service is rendered
+	// (at least the one holding PeriodEnd), from Policy.Calendar.Years.
+	ByFiscalYear []YearAmount
 
 	// Financing are the warrants issued in financings, apart from
 	// compensation: none of them is in Grants, Cumulative, Unrecognized or
@@ -227,7 +262,7 @@ type ExpenseReport struct {
 	Modifications []ModificationExpense
 }
 
-// ForecastQuarters is how many calendar quarters the forecast covers.
+// ForecastQuarters is how many fiscal quarters the forecast covers.
 const ForecastQuarters = 16
 
 // ServiceRule says in words which service-start rule attribution applies.
@@ -316,36 +351,66 @@ func (p *period) expense() *ExpenseReport {
 	rep := &ExpenseReport{PeriodStart: periodStart, PeriodEnd: periodEnd, Policy: pol, ServiceRule: ServiceRule}
 	open := shiftDays(periodStart, -1)
 
+	cal := pol.Calendar
 	// Period boundaries: context quarters, then the current period. After
 	// a prior close the closed periods are as it booked them.
 	var bounds []PeriodAmount
-	if p.prior != nil {
+	first, lastDay := periodEnd, periodEnd
+	for _, l := range ledgers {
+		if g := l.in.Grant.GrantDate; g.Before(first) {
+			first = g
+		}
+		if d := shiftDays(l.last, -1); d.After(lastDay) {
+			lastDay = d
+		}
+	}
+	switch {
+	case p.prior != nil:
 		for _, pa := range p.prior.Periods {
 			pa.Current = false
-			bounds = append(bounds, pa)
-		}
-	} else if len(ledgers) > 0 {
-		first := ledgers[0].in.Grant.GrantDate
-		for _, l := range ledgers {
-			if l.in.Grant.GrantDate.Before(first) {
-				first = l.in.Grant.GrantDate
+			if pa.Label == "" {
+				pa.Label = cal.Quarter(pa.End).Name
 			}
+			bounds = append(bounds, pa)
+			first = minDay(first, pa.Start)
 		}
-		for q := quarterStart(first); q.Before(periodStart); q = q.AddDate(0, 3, 0) {
-			end := quarterEnd(q)
+	case len(ledgers) > 0:
+		for _, q := range cal.Quarters(first, open) {
+			end := q.End
 			if !end.Before(periodStart) {
 				end = open
 			}
-			bounds = append(bounds, PeriodAmount{Start: q, End: end})
+			bounds = append(bounds, PeriodAmount{Start: q.Start, End: end, Label: q.Name})
 		}
 	}
-	bounds = append(bounds, PeriodAmount{Start: periodStart, End: periodEnd, Current: true})
+	bounds = append(bounds, PeriodAmount{Start: periodStart, End: periodEnd, Current: true, Label: cal.Quarter(periodEnd).Name})
 	fstart := shiftDays(periodEnd, 1)
 	for k := 0; k < ForecastQuarters; k++ {
-		end := quarterEnd(fstart)
-		rep.Forecast = append(rep.Forecast, PeriodAmount{Start: fstart, End: end})
-		fstart = shiftDays(end, 1)
+		q := cal.Quarter(fstart)
+		rep.Forecast = append(rep.Forecast, PeriodAmount{Start: fstart, End: q.End, Label: q.Name})
+		fstart = shiftDays(q.End, 1)
 	}
+	for _, y := range cal.Years(first, lastDay) {
+		rep.ByFiscalYear = append(rep.ByFiscalYear, YearAmount{Year: y})
+	}
+	// The days each ledger is evaluated on after the period end, as
+	// expected at the period end: the forecast's quarter ends and the
+	// fiscal year ends.
+	future := newDaySet()
+	for _, f := range rep.Forecast {
+		future.add(f.End)
+	}
+	for _, y := range rep.ByFiscalYear {
+		if y.Year.End.After(periodEnd) {
+			future.add(y.Year.End)
+			if d := shiftDays(y.Year.Start, -1); d.After(periodEnd) {
+				future.add(d)
+			}
+		}
+	}
+	futureVals := make([]float64, len(future.days))
+	forecast := make([]float64, len(rep.Forecast)) // one ledger's
+	centres := newCentreBook(len(rep.Forecast))
 
 	var wYears float64
 	for _, l := range ledgers {
@@ -359,9 +424,14 @@ func (p *period) expense() *ExpenseReport {
 		l.bufComp = make([]float64, len(l.tr))
 		if l.financing {
 			fw := l.financingWarrant(s0, s1, p.prior != nil, pg, periodStart, periodEnd)
+			fw.CostCenter = l.centres[l.centreOn(dayNum(periodEnd))]
 			rep.Financing = append(rep.Financing, fw)
 			rep.FairValueChange += fw.FairValueChange
 			rep.Period += fw.CompensationReversed
+			if fw.CompensationReversed != 0 { // in the cost centres too, so that they add up to the period
+				centres.add(g.ID, centreParts{amounts: []CostCenterAmount{{CostCenter: fw.CostCenter, Period: fw.CompensationReversed}},
+					forecast: [][]float64{make([]float64, len(rep.Forecast))}, after: []float64{0}})
+			}
 			l.addPeriods(pol, bounds, p.prior != nil, fw.CompensationReversed, fw.FairValueChange)
 			if l.liability && len(l.remeas) == 0 {
 				rep.Warnings = append(rep.Warnings, fmt.Sprintf("grant %s: liability-classified financing warrant with no remeasurement; its liability is carried at its fair value at issue", g.ID))
@@ -470,23 +540,54 @@ func (p *period) expense() *ExpenseReport {
 				rep.Warnings = append(rep.Warnings, fmt.Sprintf("grant %s: liability-classified warrant with no remeasurement; its liability is carried at the grant-date fair value", g.ID))
 			}
 		}
-		rep.Grants = append(rep.Grants, ge)
+		ge.CostCenter = l.centres[l.centreOn(dayNum(periodEnd))]
 		rep.Period += ge.Period
 		rep.Cumulative += ge.Cumulative
 		rep.Unrecognized += ge.Unrecognized
 		l.addPeriods(pol, bounds, p.prior != nil, ge.Period, 0)
+		for k, d := range future.days {
+			futureVals[k] = l.atInto(pol, d, periodEnd, l.bufComp).compTotal()
+		}
 		prevTotal := s1.compTotal()
 		for k := range rep.Forecast {
-			cur := l.atInto(pol, rep.Forecast[k].End, periodEnd, l.bufComp).compTotal()
-			rep.Forecast[k].Amount += cur - prevTotal
+			cur := futureVals[future.index(rep.Forecast[k].End)]
+			forecast[k] = cur - prevTotal
+			rep.Forecast[k].Amount += forecast[k]
 			prevTotal = cur
 		}
-		rep.AfterForecast += sInf.compTotal() - prevTotal
+		after := sInf.compTotal() - prevTotal
+		rep.AfterForecast += after
+		parts := l.costCenters(pol, ge, s0, s1, sInf, open, periodEnd, far, rep.Forecast, forecast, after)
+		ge.ByCostCenter = parts.amounts
+		centres.add(g.ID, parts)
+		rep.Grants = append(rep.Grants, ge)
+		for k := range rep.ByFiscalYear {
+			y := &rep.ByFiscalYear[k]
+			if y.Year.End.After(periodEnd) {
+				from := s1.compTotal()
+				if d := shiftDays(y.Year.Start, -1); d.After(periodEnd) {
+					from = futureVals[future.index(d)]
+				}
+				y.Expected += futureVals[future.index(y.Year.End)] - from
+			}
+		}
 	}
 	if rep.Unrecognized > 0 {
 		rep.RemainingYears = wYears / rep.Unrecognized
 	}
 	rep.Periods = bounds
+	// A period's expense is recognised in the fiscal year holding its end.
+	for _, b := range bounds {
+		for k := range rep.ByFiscalYear {
+			if y := &rep.ByFiscalYear[k]; !b.End.Before(y.Year.Start) && !b.End.After(y.Year.End) {
+				y.Recognized += b.Amount
+			}
+		}
+	}
+	rep.ByCostCenter = centres.list()
+	if w := centres.unassignedWarning(); w != "" {
+		rep.Warnings = append(rep.Warnings, w)
+	}
 	rep.PolicyNotes = policyNotes(pol, ledgers)
 	rep.Modifications = p.modificationExpense()
 	return rep
@@ -558,6 +659,45 @@ func Spread(a Award, pol Policy, ends []time.Time) (amounts []float64, cost floa
 		far = asOf
 	}
 	return amounts, l.at(pol, far, known).compTotal(), nil
+}
+
+// daySet is a set of calendar days in the order added, each with its index.
+type daySet struct {
+	days []time.Time
+	idx  map[int]int // by dayNum
+}
+
+func newDaySet() *daySet { return &daySet{idx: map[int]int{}} }
+
+func (s *daySet) add(d time.Time) {
+	if _, ok := s.idx[dayNum(d)]; !ok {
+		s.idx[dayNum(d)] = len(s.days)
+		s.days = append(s.days, civilDay(d))
+	}
+}
+
+// index is the index of day d, which must have been added.
+func (s *daySet) index(d time.Time) int {
+	i, ok := s.idx[dayNum(d)]
+	if !ok {
+		panic("accounting: day " + d.Format(time.DateOnly) + " not in the set")
+	}
+	return i
+}
+
+func minDay(a, b time.Time) time.Time {
+	if b.Before(a) {
+		return b
+	}
+	return a
+}
+
+func maxDay(a, b time.Time) time.Time {
+	if b.After(a) {
+		return b
+	}
+	return a
+
 }
 
 // addPeriods adds the award's compensation in each of the periods ps

@@ -386,7 +386,7 @@ func TestLiabilityAwardRemeasuredToSettlement(t *testing.T) {
 
 	// Journal: Dr compensation / Cr award liability 900; Dr award
 	// liability / Cr additional paid-in capital 3,200.
-	checkJournal(t, Journal(r, nil, nil), []Entry{
+	checkJournal(t, Journal(r, nil, nil, Chart{Decimals: 2}), []Entry{
 		{Lines: []Line{{Role: RoleCompensation, Debit: 900}, {Role: RoleAwardLiability, Credit: 900}}},
 		{Lines: []Line{{Role: RoleAwardLiability, Debit: 3200}, {Role: RoleEquity, Credit: 3200}}},
 	}, grants.ASC718)
@@ -411,8 +411,9 @@ func checkJournal(t *testing.T, got, want []Entry, fw grants.Framework) {
 			if g.Role != l.Role || g.Account != DefaultAccount(l.Role, fw) {
 				t.Errorf("journal %d line %d: %s %q, want %s %q", i, j, g.Role, g.Account.Name, l.Role, DefaultAccount(l.Role, fw).Name)
 			}
-			nearly(t, fmt.Sprintf("journal %d line %d debit", i, j), g.Debit, l.Debit, tolMoney)
-			nearly(t, fmt.Sprintf("journal %d line %d credit", i, j), g.Credit, l.Credit, tolMoney)
+			// The journal is in cents: want rounded to the cent.
+			nearly(t, fmt.Sprintf("journal %d line %d debit", i, j), g.Debit, math.Round(l.Debit*100)/100, 1e-9)
+			nearly(t, fmt.Sprintf("journal %d line %d credit", i, j), g.Credit, math.Round(l.Credit*100)/100, 1e-9)
 		}
 	}
 }

@@ -63,7 +63,7 @@ func TestFinancingWarrantLiability(t *testing.T) {
 	nearly(t, "Q1 2025 change in fair value", w.FairValueChange, 60_000, tolMoney)
 	nearly(t, "Q1 2025 liability", w.LiabilityEnd, 380_000, tolMoney)
 	nearly(t, "Q1 2025 report change", r.FairValueChange, 60_000, tolMoney)
-	checkJournal(t, Journal(r, nil, nil), []Entry{
+	checkJournal(t, Journal(r, nil, nil, Chart{Decimals: 2}), []Entry{
 		{Lines: []Line{{Role: RoleFinancing, Debit: 320_000}, {Role: RoleLiability, Credit: 320_000}}},
 		{Lines: []Line{{Role: RoleFairValueChange, Debit: 60_000}, {Role: RoleLiability, Credit: 60_000}}},
 	}, grants.ASC718)
@@ -92,7 +92,7 @@ func TestFinancingWarrantLiability(t *testing.T) {
 		}
 	}
 	nearly(t, "changes since issue", sum, 735_000+137_500-320_000, tolMoney)
-	checkJournal(t, Journal(r, nil, nil), []Entry{
+	checkJournal(t, Journal(r, nil, nil, Chart{Decimals: 2}), []Entry{
 		{Lines: []Line{{Role: RoleFairValueChange, Debit: 112_500}, {Role: RoleLiability, Credit: 112_500}}},
 		{Lines: []Line{{Role: RoleLiability, Debit: 137_500}, {Role: RoleWarrantEquity, Credit: 137_500}}},
 	}, grants.ASC718)
@@ -131,8 +131,8 @@ func TestFinancingWarrantEquity(t *testing.T) {
 	a.Grant.Classification, a.Grant.Purpose = grants.Equity, grants.Financing
 	for _, p := range [][2]string{{"2024-04-01", "2024-06-30"}, {"2026-07-01", "2026-09-30"}} {
 		r := mustExpense(t, []Award{a}, Policy{}, p[0], p[1])
-		if r.Period != 0 || r.Cumulative != 0 || len(r.Grants) != 0 || r.FairValueChange != 0 || len(Journal(r, nil, nil)) != 0 {
-			t.Errorf("%s: %v, journal %+v", p[0], r, Journal(r, nil, nil))
+		if r.Period != 0 || r.Cumulative != 0 || len(r.Grants) != 0 || r.FairValueChange != 0 || len(Journal(r, nil, nil, Chart{Decimals: 2})) != 0 {
+			t.Errorf("%s: %v, journal %+v", p[0], r, Journal(r, nil, nil, Chart{Decimals: 2}))
 		}
 		w := r.Financing[0]
 		nearly(t, p[0]+" value at issue", w.ValueAtIssue, 150_000, tolMoney)
@@ -168,15 +168,15 @@ func TestIFRS2Framework(t *testing.T) {
 	for _, fw := range []grants.Framework{grants.ASC718, grants.IFRS2} {
 		r := mustExpense(t, []Award{fourTranche()}, Policy{Framework: fw}, "2029-01-01", "2029-03-31")
 		nearly(t, string(fw)+" Q1 2029", r.Period, want, tolMoney)
-		checkJournal(t, Journal(r, nil, nil), []Entry{{Lines: []Line{{Role: RoleCompensation, Debit: want}, {Role: RoleEquity, Credit: want}}}}, fw)
+		checkJournal(t, Journal(r, nil, nil, Chart{Decimals: 2}), []Entry{{Lines: []Line{{Role: RoleCompensation, Debit: want}, {Role: RoleEquity, Credit: want}}}}, fw)
 	}
 	r := mustExpense(t, []Award{fourTranche()}, Policy{Framework: grants.IFRS2}, "2029-01-01", "2029-03-31")
-	j := Journal(r, nil, nil)
+	j := Journal(r, nil, nil, Chart{Decimals: 2})
 	if got := j[0].Lines[1].Account.Name; got != "Share-based payment reserve" {
 		t.Errorf("IFRS 2 equity account %q", got)
 	}
 	// A company's own account wins over either default.
-	j = Journal(r, nil, Accounts{RoleEquity: {Code: "3100", Name: "Other reserves"}})
+	j = Journal(r, nil, nil, Chart{Decimals: 2, Accounts: map[ChartKey]Account{{Role: RoleEquity}: {Code: "3100", Name: "Other reserves"}}})
 	if got := j[0].Lines[1].Account; got.Code != "3100" || got.Name != "Other reserves" {
 		t.Errorf("mapped account %+v", got)
 	}
@@ -329,7 +329,7 @@ func TestPurposeCorrectedAfterPriorClose(t *testing.T) {
 	for _, e := range b.Journal {
 		if len(e.Lines) == 2 && e.Lines[0].Role == RoleFinancing && e.Lines[1].Role == RoleCompensation && e.Lines[0].GrantID == "L-1" {
 			found = true
-			nearly(t, "reversal entry", e.Lines[0].Debit, booked, tolMoney)
+			nearly(t, "reversal entry, in cents", e.Lines[0].Debit, booked, tolCent)
 		}
 	}
 	if !found {

@@ -40,7 +40,9 @@ type move struct {
 	kind   grants.EventKind
 	shares int64
 	vested bool    // the tranche was vested on the day of the move
-	price  float64 // share price on the day of the move; 0 if unknown
+	price  float64 // share price on the day of the move: its Events row's, else Share Prices'; 0 if unknown
+	// rowPrice is whether the price is the Events row's own share_price.
+	rowPrice bool
 	// replaced marks a cancellation with a replacement award, the change
 	// by (modify.go).
 	replaced bool
@@ -86,6 +88,9 @@ type awardLedger struct {
 	layered  bool
 	typeIII  bool
 	replaced *replacedBy
+	// the cost centres the grant's service is rendered in, and when
+	centres []string
+	spans   []centreSpan
 
 	// scratch for atInto
 	bufValue, bufLia, bufComp []float64
@@ -202,12 +207,16 @@ func newAwardLedger(a *Award, pol Policy, asOf time.Time) (*awardLedger, error) 
 		}
 		if dayOnOrBefore(e.Date, asOf) {
 			pe := pricedEvent{Event: e}
-			if k < len(a.EventPrices) {
+			switch {
+			case e.SharePrice != nil:
+				pe.price = *e.SharePrice
+			case k < len(a.EventPrices):
 				pe.price = a.EventPrices[k]
 			}
 			evs = append(evs, pe)
 		}
 	}
+	l.setCostCenters(a, asOf)
 	sort.SliceStable(evs, func(i, j int) bool { return valuation.Days(evs[j].Date, evs[i].Date) < 0 })
 	if err := l.apply(evs); err != nil {
 		return nil, err
@@ -298,7 +307,7 @@ func (l *awardLedger) apply(pevs []pricedEvent) error {
 	}
 	for _, m := range al.Moves {
 		t := &l.tr[m.Tranche]
-		mv := move{date: m.Date, dayN: dayNum(m.Date), kind: m.Kind, shares: m.Shares, vested: m.Vested, price: pevs[m.Event].price}
+		mv := move{date: m.Date, dayN: dayNum(m.Date), kind: m.Kind, shares: m.Shares, vested: m.Vested, price: pevs[m.Event].price, rowPrice: pevs[m.Event].SharePrice != nil}
 		if e := pevs[m.Event].Event; e.Kind == grants.Cancelled && e.ReplacementGrantID != "" {
 			mv.replaced, mv.by = true, changeKey{grant: g.ID, day: mv.dayN, replaced: true}
 		}
@@ -563,17 +572,6 @@ func (l *awardLedger) costs(pol Policy, v view) (cost, cum float64) {
 	}
 	v.d = max(dayNum(l.last)+1, v.d)
 	return l.atView(pol, v, comp).compTotal(), cum
-}
-
-// quarterStart is the first day of the calendar quarter holding d.
-func quarterStart(d time.Time) time.Time {
-	m := (int(d.Month())-1)/3*3 + 1
-	return time.Date(d.Year(), time.Month(m), 1, 0, 0, 0, 0, time.UTC)
-}
-
-// quarterEnd is the last day of the calendar quarter holding d.
-func quarterEnd(d time.Time) time.Time {
-	return shiftDays(quarterStart(d).AddDate(0, 3, 0), -1)
 }
 
 func civilDay(t time.Time) time.Time {

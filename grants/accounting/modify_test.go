@@ -335,7 +335,7 @@ func TestIFRS2RepricingExample(t *testing.T) {
 			}
 		}
 		s.Events = evs
-		s.Company.PeriodStart = grants.QuarterStart(s.Company.ValuationDate)
+		s.Company.PeriodStart = s.Company.DefaultPeriodStart(s.Company.ValuationDate)
 		return s
 	}
 	r1 := 1 - math.Sqrt(39.0/46)
@@ -545,7 +545,7 @@ func TestModificationAcrossCloses(t *testing.T) {
 	d := grantstest.Day
 	at := func(end string, withMod bool) *grants.Schedule {
 		s := ashgrove()
-		s.Company.ValuationDate, s.Company.PeriodStart = d(end), grants.QuarterStart(d(end))
+		s.Company.ValuationDate, s.Company.PeriodStart = d(end), s.Company.DefaultPeriodStart(d(end))
 		if !withMod {
 			s.Modifications = nil
 		}

@@ -64,10 +64,10 @@ func TestSampleRollForwardIdentity(t *testing.T) {
 	if d.Options.Start.Shares+d.Options.Granted.Shares == 0 {
 		t.Fatal("the sample has no options")
 	}
-	for q := quarterStart(ymd("2023-10-01")); q.Before(end); q = q.AddDate(0, 3, 0) {
-		d, err := Disclose(awards, PolicyOf(s), q, quarterEnd(q), 3)
+	for _, q := range s.Company.Fiscal.Quarters(ymd("2023-10-01"), end) {
+		d, err := Disclose(awards, PolicyOf(s), q.Start, q.End, 3)
 		if err != nil {
-			t.Fatalf("quarter %s: %v", q.Format("2006-01-02"), err)
+			t.Fatalf("quarter %s: %v", q.Name, err)
 		}
 		if err := d.Check(); err != nil {
 			t.Error(err)

@@ -9,14 +9,14 @@ import (
 // AwardOf pairs grant g of s with its tranches as granted
 // (Schedule.Tranches, before forfeitures: attribution applies the events
 // itself), its events with the share price in force on each event's date
-// (Schedule.PriceAt) and fairValue, the fair value per share of each
-// tranche in the same order.
+// (Schedule.PriceAt), its transfers between cost centres and fairValue,
+// the fair value per share of each tranche in the same order.
 func AwardOf(s *grants.Schedule, g grants.Grant, fairValue []float64) (Award, error) {
 	ts := s.Tranches(g)
 	if len(fairValue) != len(ts) {
 		return Award{}, fmt.Errorf("grant %s: %d fair values for %d tranches", g.ID, len(fairValue), len(ts))
 	}
-	a := Award{Grant: g, Events: s.EventsOf(g.ID)}
+	a := Award{Grant: g, Events: s.EventsOf(g.ID), Transfers: s.TransfersOf(g.ID)}
 	for _, e := range a.Events {
 		var px float64
 		if p, ok := s.PriceAt(e.Date); ok {
@@ -31,7 +31,8 @@ func AwardOf(s *grants.Schedule, g grants.Grant, fairValue []float64) (Award, er
 }
 
 // PolicyOf is the schedule's attribution and forfeiture policy and its
-// framework: the Assumptions rows in force at its valuation date.
+// framework, the Assumptions rows in force at its valuation date, with the
+// fiscal calendar of its Company sheet.
 func PolicyOf(s *grants.Schedule) Policy {
 	a := s.InForce()
 	return Policy{
@@ -39,5 +40,6 @@ func PolicyOf(s *grants.Schedule) Policy {
 		Forfeitures:              a.Forfeitures,
 		PreVestingForfeitureRate: a.PreVestingForfeitureRate,
 		Framework:                a.Framework,
+		Calendar:                 s.Company.Fiscal,
 	}
 }

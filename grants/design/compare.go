@@ -20,9 +20,6 @@ type Options struct {
 	// Outcomes control the simulation of how each design ends; design i
 	// (from 0) is simulated with seed Outcomes.Seed+i.
 	Outcomes valuation.OutcomeOptions
-	// YearEnd is the last day of the company's fiscal year; the zero value
-	// is 31 December (calendar years).
-	YearEnd YearEnd
 	// Progress, when not nil, is called as designs finish, from one
 	// goroutine at a time.
 	Progress func(done, total int)
@@ -34,9 +31,9 @@ type Comparison struct {
 	Company    string
 	Currency   string
 	GrantDate  time.Time
-	SharePrice grants.Source     // at the grant date
-	Policy     accounting.Policy // in force at the grant date; the forfeiture rate is each design's
-	YearEnd    YearEnd
+	SharePrice grants.Source         // at the grant date
+	Policy     accounting.Policy     // in force at the grant date; the forfeiture rate is each design's
+	Calendar   grants.FiscalCalendar // the Company sheet's fiscal years, of the expense by year
 	Designs    []Result
 	Warnings   []string
 }
@@ -112,7 +109,7 @@ func Compare(s *grants.Schedule, o Options) (*Comparison, error) {
 	gd := s.DesignDate()
 	c := &Comparison{
 		Company: s.Company.Name, Currency: s.Company.Currency, GrantDate: gd,
-		Policy: policyAt(s, gd), YearEnd: o.YearEnd, Designs: make([]Result, len(s.Designs)),
+		Policy: policyAt(s, gd), Calendar: s.Company.Fiscal, Designs: make([]Result, len(s.Designs)),
 	}
 	errs := make([]error, len(s.Designs))
 	warns := make([][]string, len(s.Designs))
@@ -194,7 +191,7 @@ func compareOne(s *grants.Schedule, d grants.Design, o Options, oo valuation.Out
 	r.ErrorEstimate /= n
 	r.ExpectedTermYears /= n
 	r.BSMSimplified /= n
-	if r.ExpenseByYear, err = expenseByYear(s, g, values, r.ForfeitureRate, o.YearEnd); err != nil {
+	if r.ExpenseByYear, err = expenseByYear(s, g, values, r.ForfeitureRate, s.Company.Fiscal); err != nil {
 		return nil, fmt.Errorf("expense: %w", err)
 	}
 	r.BreakEven = breakEven(r, in.Market.Curve.Discount(r.HorizonYears))

@@ -2,9 +2,7 @@ package design
 
 import (
 	"math"
-	"strings"
 	"testing"
-	"time"
 
 	"grantworth/grants"
 	"grantworth/grants/grantstest"
@@ -319,32 +317,5 @@ func TestBreakEven(t *testing.T) {
 	}
 	if p10, p50, p90 := r.Outcomes.Quantile(0.1), r.Outcomes.Quantile(0.5), r.Outcomes.Quantile(0.9); !(p10 <= p50 && p50 < p90) {
 		t.Errorf("payoff percentiles %v %v %v", p10, p50, p90)
-	}
-}
-
-func TestFiscalYears(t *testing.T) {
-	for _, c := range []struct {
-		first, last string
-		end         YearEnd
-		want        string
-	}{
-		{"2026-07-01", "2030-07-01", YearEnd{}, "2026:2026-01-01..2026-12-31 2027 2028 2029 2030:2030-01-01..2030-12-31"},
-		{"2026-07-01", "2026-07-01", YearEnd{}, "2026:2026-01-01..2026-12-31"},
-		{"2026-07-01", "2028-06-30", YearEnd{Month: time.June, Day: 30}, "2027:2026-07-01..2027-06-30 2028:2027-07-01..2028-06-30"},
-		{"2026-06-30", "2026-07-01", YearEnd{Month: time.June, Day: 30}, "2026:2025-07-01..2026-06-30 2027:2026-07-01..2027-06-30"},
-		{"2027-03-01", "2028-03-01", YearEnd{Month: time.February, Day: 29}, "2028:2027-03-01..2028-02-29 2029:2028-03-01..2029-02-28"},
-	} {
-		var parts []string
-		ys := FiscalYears(day(c.first), day(c.last), c.end)
-		for i, y := range ys {
-			s := ""
-			if i == 0 || i == len(ys)-1 {
-				s = ":" + y.Start.Format(time.DateOnly) + ".." + y.End.Format(time.DateOnly)
-			}
-			parts = append(parts, time.Date(y.Year, 1, 1, 0, 0, 0, 0, time.UTC).Format("2006")+s)
-		}
-		if got := strings.Join(parts, " "); got != c.want {
-			t.Errorf("%s..%s %+v: %s, want %s", c.first, c.last, c.end, got, c.want)
-		}
 	}
 }

@@ -51,7 +51,10 @@
 //
 // # Years
 //
-// FiscalYears is the one place dates are bucketed into years: fiscal years
-// ending on Options.YearEnd, calendar years by default, each labelled by
-// the calendar year in which it ends.
+// The expense by year is by the fiscal years of the designs workbook's
+// Company sheet (fiscal_year_end and the 52/53-week keys; calendar years by
+// default), bucketed by grants.FiscalCalendar.Years, the one place dates
+// are bucketed into fiscal years, which the valuation's expense by fiscal
+// year uses too; each year is named by the calendar year of its nominal
+// end month.
 package design

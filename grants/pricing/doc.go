@@ -38,7 +38,7 @@
 //     and estimate, and the Monte Carlo value of the same terms beside it
 //     for the first MissedTargetSample the simulation can value.
 //   - Revaluations of each liability-classified warrant at its grant date,
-//     at the past quarter ends and on the days of its exercises before
+//     at the past fiscal quarter ends and on the days of its exercises before
 //     its expiry (RemeasurementDates): the accounting remeasures the
 //     liability to them, and reclassifies exercised warrants to equity at
 //     the exercise day's value, not the last period end's.

@@ -203,15 +203,18 @@ type Valuation struct {
 
 // RemeasurementDates are the days before end on which a
 // liability-classified warrant granted on grantDate is revalued after its
-// grant date: the quarter ends from the one containing grantDate up to
-// before end, the most recent MaxRemeasurements of them, and the days in
-// (grantDate, end) of its exercises, given in exercised, on which it is
-// remeasured before the exercised warrants leave the liability (IFRS
-// 2.30; ASC 718-30-35-3; ASC 815-40-35). In date order, each day once.
-func RemeasurementDates(grantDate, end time.Time, exercised []time.Time) []time.Time {
+// grant date: the fiscal quarter ends of calendar cal from the one of the
+// quarter containing grantDate up to before end, the most recent
+// MaxRemeasurements of them, and the days in (grantDate, end) of its
+// exercises, given in exercised, on which it is remeasured before the
+// exercised warrants leave the liability (IFRS 2.30; ASC 718-30-35-3;
+// ASC 815-40-35). In date order, each day once.
+func RemeasurementDates(cal grants.FiscalCalendar, grantDate, end time.Time, exercised []time.Time) []time.Time {
 	var ends []time.Time
-	for q := quarterEndOf(grantDate); q.Before(end); q = quarterEndOf(q.AddDate(0, 0, 1)) {
-		ends = append(ends, q)
+	for _, q := range cal.Quarters(grantDate, end) {
+		if q.End.Before(end) {
+			ends = append(ends, q.End)
+		}
 	}
 	if len(ends) > MaxRemeasurements {
 		ends = ends[len(ends)-MaxRemeasurements:]
@@ -226,12 +229,13 @@ func RemeasurementDates(grantDate, end time.Time, exercised []time.Time) []time.
 }
 
 // revaluationDates are the dates a liability-classified warrant is
-// revalued at before end: its grant date and RemeasurementDates (with the
-// days of its exercises), and the valuation date of the prior close it is
-// locked to (a close measured it then) when that is not a quarter end.
-func revaluationDates(gv *GrantValue, end time.Time, exercised []time.Time) []time.Time {
+// revalued at before end: its grant date and the RemeasurementDates of
+// calendar cal (with the days of its exercises), and the valuation date of
+// the prior close it is locked to (a close measured it then) when that is
+// not a quarter end.
+func revaluationDates(cal grants.FiscalCalendar, gv *GrantValue, end time.Time, exercised []time.Time) []time.Time {
 	g := gv.Inputs.Grant
-	dates := append([]time.Time{g.GrantDate}, RemeasurementDates(g.GrantDate, end, exercised)...)
+	dates := append([]time.Time{g.GrantDate}, RemeasurementDates(cal, g.GrantDate, end, exercised)...)
 	if lk := gv.Lock; lk != nil && gv.Status == Remeasured && lk.Close.Before(end) && lk.Close.After(g.GrantDate) {
 		for _, d := range dates {
 			if valuation.Days(d, lk.Close) == 0 {
@@ -242,11 +246,6 @@ func revaluationDates(gv *GrantValue, end time.Time, exercised []time.Time) []ti
 		sort.Slice(dates, func(i, j int) bool { return dates[i].Before(dates[j]) })
 	}
 	return dates
-}
-
-func quarterEndOf(d time.Time) time.Time {
-	m := (int(d.Month())-1)/3*3 + 1
-	return time.Date(d.Year(), time.Month(m), 1, 0, 0, 0, 0, time.UTC).AddDate(0, 3, -1)
 }
 
 // Value values the grants ins (from ValueInputs): options as lattice jobs
@@ -319,7 +318,7 @@ func Value(s *grants.Schedule, ins []grants.Inputs, opts Options) (*Valuation, e
 			}
 		}
 		var rs []Revaluation
-		for _, at := range revaluationDates(gv, end, exercised) {
+		for _, at := range revaluationDates(s.Company.Fiscal, gv, end, exercised) {
 			if gv.Status == Remeasured && gv.Lock != nil {
 				if r, ok := gv.Lock.revaluation(at); ok && len(r.Values) == len(gv.Inputs.Tranches) {
 					rs = append(rs, r)

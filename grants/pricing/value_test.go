@@ -34,7 +34,7 @@ func valuedSample(t *testing.T) *Valuation {
 	return v
 }
 
-// Calendar quarter ends (common practice) from the grant's quarter up to
+// Fiscal quarter ends (common practice) from the grant's quarter up to
 // before the period end, at most MaxRemeasurements of the latest, and the
 // days of exercises after the grant and before the period end, on which
 // the liability is remeasured before it is reclassified (IFRS 2.30;
@@ -62,12 +62,21 @@ func TestRemeasurementDates(t *testing.T) {
 		for _, e := range c.exercised {
 			ex = append(ex, ymd(e))
 		}
-		for _, q := range RemeasurementDates(ymd(c.grant), ymd(c.end), ex) {
+		for _, q := range RemeasurementDates(grants.FiscalCalendar{}, ymd(c.grant), ymd(c.end), ex) {
 			got = append(got, q.Format(time.DateOnly))
 		}
 		if strings.Join(got, " ") != strings.Join(c.want, " ") {
 			t.Errorf("RemeasurementDates(%s, %s) = %v, want %v", c.grant, c.end, got, c.want)
 		}
+	}
+	// A year ending in January: its quarter ends are 30 April, 31 July,
+	// 31 October and 31 January.
+	var got []string
+	for _, q := range RemeasurementDates(grants.FiscalCalendar{YearEnd: time.January}, ymd("2025-02-10"), ymd("2025-10-31"), nil) {
+		got = append(got, q.Format(time.DateOnly))
+	}
+	if strings.Join(got, " ") != "2025-04-30 2025-07-31" {
+		t.Errorf("January year: %v, want 2025-04-30 2025-07-31", got)
 	}
 }
 
@@ -188,7 +197,7 @@ func TestValueSample(t *testing.T) {
 		if len(rs) == 0 || !rs[0].Date.Equal(g.GrantDate) {
 			t.Fatalf("grant %s revaluations %+v", g.ID, rs)
 		}
-		want := append([]time.Time{g.GrantDate}, RemeasurementDates(g.GrantDate, ymd("2026-09-30"), nil)...)
+		want := append([]time.Time{g.GrantDate}, RemeasurementDates(grants.FiscalCalendar{}, g.GrantDate, ymd("2026-09-30"), nil)...)
 		if len(rs) != len(want) {
 			t.Errorf("grant %s: %d revaluations, want %d", g.ID, len(rs), len(want))
 		}

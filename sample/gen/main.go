@@ -21,6 +21,12 @@
 //   - RSUs vesting yearly over three years;
 //   - terminations (forfeited unvested shares, then expired vested ones)
 //     and exercises on the Events sheet;
+//   - a cost centre on every grant (R&D, S&M, G&A, COGS) and two
+//     transfers between cost centres;
+//   - general-ledger accounts for journal.csv, one expense account per
+//     cost centre;
+//   - a 25% tax rate under ASC 718, with a quarter of the options
+//     incentive stock options that give no deduction;
 //   - seven valuations of the common stock on Share Prices, the last two
 //     after a down round in August 2026;
 //   - on the Modifications sheet, the board's response to the down round
@@ -58,6 +64,11 @@ import (
 
 const seed = 20260930
 
+// costCenters are given to the option grants in turn: research and
+// development, sales and marketing, general and administrative, cost of
+// revenue.
+var costCenters = []string{"R&D", "R&D", "S&M", "G&A", "R&D", "COGS", "S&M"}
+
 func day(s string) time.Time {
 	t, err := time.Parse(time.DateOnly, s)
 	if err != nil {
@@ -70,15 +81,17 @@ func f(x float64) *float64 { return &x }
 
 func ip(n int) *int { return &n }
 
+var no = false
+
 // Schedule builds the Tarnwick Labs schedule.
 func Schedule() *grants.Schedule {
 	rng := rand.New(rand.NewPCG(seed, 1))
 	s := &grants.Schedule{
 		Company: grants.Company{Name: "Tarnwick Labs, Inc.", ValuationDate: day("2026-09-30"), PeriodStart: day("2026-07-01"),
-			Currency: "USD", SharesOutstanding: 24_500_000},
+			Currency: "USD", SharesOutstanding: 24_500_000, Fiscal: grants.FiscalCalendar{YearEnd: time.December}},
 		Assumptions: grants.Assumptions{
 			Volatility: 0.52, DividendYield: 0, ExerciseMultiple: 2.2, PostVestingExitRate: 0.12, PreVestingForfeitureRate: 0.10,
-			Attribution: grants.Graded, Forfeitures: grants.Estimate, Framework: grants.ASC718,
+			Attribution: grants.Graded, Forfeitures: grants.Estimate, Framework: grants.ASC718, TaxRate: 0.25,
 			Sources: map[string]string{
 				"volatility":                  "median of 5 peers' daily log-return volatility over 6.1 years to 2026-09-30 (grantworth vol sample/peers/*.csv, guideline peers)",
 				"dividend_yield":              "no dividends paid or planned (board resolution of 2023-11-14)",
@@ -87,6 +100,7 @@ func Schedule() *grants.Schedule {
 				"pre_vesting_forfeiture_rate": "Tarnwick HR: 10% a year of unvested holders left, 2021-2026",
 				"attribution":                 "accounting policy memo of 2023-10-02",
 				"framework":                   "US GAAP financial statements (accounting policy memo of 2023-10-02)",
+				"tax_rate":                    "US federal 21% and state taxes net of the federal benefit, blended (tax provision memo of 2026-01-15)",
 			},
 		},
 	}
@@ -140,6 +154,10 @@ func Schedule() *grants.Schedule {
 		} else {
 			optionHolders = append(optionHolders, g.Holder)
 		}
+		g.CostCenter = costCenters[m%len(costCenters)]
+		if m%4 == 2 { // an incentive stock option: no deduction for the company
+			g.TaxDeductible = &no
+		}
 		if m == 20 { // an executive's grant with its own strike price premium and a lower exit rate
 			g.Strike = math.Round(priceAt(gd)*1.25*100) / 100
 			g.PostVestingExitRate = f(0.05)
@@ -148,7 +166,8 @@ func Schedule() *grants.Schedule {
 	}
 	// A grant vesting on milestones, on the Vesting sheet (30/30/40).
 	ms := grants.Grant{ID: id(), Holder: "E900", Instrument: grants.Option, GrantDate: day("2024-08-19"), Shares: 50_000,
-		Strike: priceAt(day("2024-08-19")), ExpiryDate: day("2034-08-19"), VestStart: day("2024-08-19"), VestMonths: 36, CliffMonths: 12, VestEvery: 12}
+		Strike: priceAt(day("2024-08-19")), ExpiryDate: day("2034-08-19"), VestStart: day("2024-08-19"), VestMonths: 36, CliffMonths: 12, VestEvery: 12,
+		CostCenter: "R&D"}
 	opts = append(opts, ms)
 	s.Vesting = []grants.VestRow{
 		{GrantID: ms.ID, VestDate: day("2025-03-31"), Shares: 15_000},
@@ -170,7 +189,30 @@ func Schedule() *grants.Schedule {
 	for i, gd := range []string{"2024-02-15", "2024-11-12", "2025-05-06", "2025-11-18", "2026-04-21"} {
 		t := day(gd)
 		s.Grants = append(s.Grants, grants.Grant{ID: id(), Holder: fmt.Sprintf("D%02d", i+1), Instrument: grants.RSU, GrantDate: t,
-			Shares: int64(500 * (6 + rng.IntN(20))), VestStart: t, VestMonths: 36, VestEvery: 12})
+			Shares: int64(500 * (6 + rng.IntN(20))), VestStart: t, VestMonths: 36, VestEvery: 12, CostCenter: "G&A"})
+	}
+	// The general-ledger accounts of journal.csv: an expense account per
+	// function, and the balance-sheet and tax accounts.
+	s.Accounts = []grants.AccountRow{
+		{Role: "compensation_expense", Code: "6400", Name: "Share-based compensation"},
+		{Role: "compensation_expense", CostCenter: "R&D", Code: "6410", Name: "Share-based compensation - research and development"},
+		{Role: "compensation_expense", CostCenter: "S&M", Code: "6420", Name: "Share-based compensation - sales and marketing"},
+		{Role: "compensation_expense", CostCenter: "G&A", Code: "6430", Name: "Share-based compensation - general and administrative"},
+		{Role: "compensation_expense", CostCenter: "COGS", Code: "5410", Name: "Share-based compensation - cost of revenue"},
+		{Role: "equity", Code: "3100", Name: "Additional paid-in capital"},
+		{Role: "share_based_payment_liability", Code: "2460", Name: "Share-based compensation liability"},
+		{Role: "warrant_liability", Code: "2450", Name: "Warrant liability"},
+		{Role: "fair_value_change", Code: "7150", Name: "Change in fair value of warrant liability"},
+		{Role: "warrant_equity", Code: "3100", Name: "Additional paid-in capital"},
+		{Role: "financing_proceeds", Code: "2210", Name: "Debt discount - warrants"},
+		{Role: "deferred_tax_asset", Code: "1850", Name: "Deferred tax assets"},
+		{Role: "deferred_tax_benefit", Code: "8100", Name: "Deferred income tax benefit"},
+	}
+	// Two holders changed function: one from R&D to S&M a year ago, one
+	// from cost of revenue to R&D in the period.
+	s.Transfers = []grants.Transfer{
+		{GrantID: opts[4].ID, Date: day("2025-10-01"), CostCenter: "S&M"},
+		{GrantID: opts[12].ID, Date: day("2026-08-17"), CostCenter: "R&D"},
 	}
 
 	// Events: two holders left (unvested forfeited on leaving, vested shares
@@ -234,8 +276,8 @@ var QuarterEnds = []string{"2025-12-31", "2026-03-31", "2026-06-30", "2026-09-30
 // events, share prices and curves dated on or before d, valued at d.
 func AsKnownAt(s *grants.Schedule, d time.Time) *grants.Schedule {
 	q := *s
-	q.Company.ValuationDate, q.Company.PeriodStart = d, grants.QuarterStart(d)
-	q.Grants, q.Vesting, q.Events, q.SharePrices, q.Rates, q.Modifications = nil, nil, nil, nil, nil, nil
+	q.Company.ValuationDate, q.Company.PeriodStart = d, s.Company.DefaultPeriodStart(d)
+	q.Grants, q.Vesting, q.Events, q.SharePrices, q.Rates, q.Transfers, q.Modifications = nil, nil, nil, nil, nil, nil, nil
 	kept := map[string]bool{}
 	for _, g := range s.Grants {
 		if !g.GrantDate.After(d) {
@@ -251,6 +293,11 @@ func AsKnownAt(s *grants.Schedule, d time.Time) *grants.Schedule {
 	for _, e := range s.Events {
 		if !e.Date.After(d) {
 			q.Events = append(q.Events, e)
+		}
+	}
+	for _, t := range s.Transfers {
+		if kept[t.GrantID] && !t.Date.After(d) {
+			q.Transfers = append(q.Transfers, t)
 		}
 	}
 	for _, m := range s.Modifications {
