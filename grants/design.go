@@ -282,7 +282,11 @@ func (v *validator) designs() {
 		}
 	}
 	if volMissing {
-		v.rep.errf(Ref{Sheet: SheetAssumptions}, "volatility", "", ErrRequired, "has no row in force on the grant date %s, and not every option and warrant design gives one", isoDay(gd))
+		if ref, ok := a.blank["volatility"]; ok {
+			v.rep.errf(ref, "volatility", "", ErrRequired, "is empty, and not every option and warrant design gives one: fill in the annual volatility, 0.45 or 45%%")
+		} else {
+			v.rep.errf(Ref{Sheet: SheetAssumptions}, "volatility", "", ErrRequired, "has no row in force on the grant date %s, and not every option and warrant design gives one", isoDay(gd))
+		}
 	}
 	if gd.IsZero() {
 		return
@@ -292,8 +296,18 @@ func (v *validator) designs() {
 	} else if AddMonths(price.Date, StaleMonths).Before(gd) {
 		v.rep.warnf(dref, dkey, isoDay(gd), ErrRange, "is more than %d months after the latest share valuation, %s (%s): the valuation may be stale",
 			StaleMonths, isoDay(price.Date), s.cell(SheetSharePrices, "date", price.Row, nil))
+	} else if olderThanQuarter(price.Date, gd) {
+		v.rep.warnf(s.cell(SheetSharePrices, "date", price.Row, nil), "date", isoDay(price.Date), ErrRange,
+			"is the share valuation in force, %s old at the grant date %s of the designs (more than %d months): check that the share's fair value has not moved since, or add a Share Prices row nearer the date",
+			ageText(price.Date, gd), isoDay(gd), QuarterMonths)
 	}
-	if _, ok := s.curveAt(gd); needCurve && !ok {
+	c, ok := s.curveAt(gd)
+	switch {
+	case needCurve && !ok:
 		v.rep.errf(dref, dkey, isoDay(gd), ErrRequired, "is the grant date of the designs, but no Rates curve is dated on or before it")
+	case needCurve && olderThanQuarter(c.date, gd):
+		v.rep.warnf(s.cell(SheetRates, "curve_date", c.points[0].Row, nil), "curve_date", isoDay(c.date), ErrRange,
+			"is the rate curve in force, %s old at the grant date %s of the designs (more than %d months): add a Rates curve dated nearer it",
+			ageText(c.date, gd), isoDay(gd), QuarterMonths)
 	}
 }

@@ -67,20 +67,25 @@
 // errors.Is. A Report keeps errors and warnings apart and holds up to
 // MaxErrors errors. Reading never stops at the first problem: a row with a
 // bad cell is left out of the Schedule (and rules that would misfire
-// because of it are skipped), and everything else is still checked.
+// because of it are skipped), and everything else is still checked. A grant
+// whose shares, expiry or vesting columns are wrong has its Vesting and
+// Events rows left unchecked, so that one cause gives one error.
 //
 // The rules Validate applies, beyond the types of the cells:
 //
+//   - Schedule: at least one grant on the Grants sheet.
 //   - Company: period_start before valuation_date; shares_outstanding given
 //     when there are warrants; fiscal_year_end a month (a name, its first
 //     three letters or 1 to 12), fiscal_year_end_weekday a weekday, a
 //     warning for fiscal_year_end_rule without one (FiscalCalendar).
 //   - Assumptions: volatility given (unless every option and warrant row
-//     gives one) and above 0, a warning outside 5%–200%; dividend yield,
-//     exit and forfeiture rates and tax_rate in [0, 1); exercise multiple 0
-//     or 1 to 100;
+//     gives one; a blank value names its empty cell) and above 0, a
+//     warning outside 5%–200%; dividend yield, exit and forfeiture rates
+//     and tax_rate in [0, 1); exercise multiple 0 or 1 to 100;
 //     under framework ifrs2, attribution graded and forfeitures estimate
-//     (IFRS 2 allows no other), each refusal naming its cell.
+//     (IFRS 2 allows no other), each refusal naming its cell. A percentage
+//     typed without its sign and so out of range (58 for 58%) is asked
+//     about: "did you mean 58% (0.58)?" (PercentHint).
 //   - Grants: unique grant_id (both rows named); shares above 0; a strike
 //     for options and warrants, never negative (an RSU's is ignored with a
 //     warning); an expiry (expiry_date or term_years) after grant_date;
@@ -97,11 +102,14 @@
 //     when an option or warrant is granted by then (PeriodEndPrice, for
 //     the disclosures' intrinsic values), with a warning when the latest
 //     valuation is more than StaleMonths old at the grant date (common
-//     practice); a Rates curve dated on or before every measurement date of
+//     practice), and a milder one, on the Share Prices row, when it is more
+//     than QuarterMonths old at the measurement dates of some grants
+//     (named, each with the age); a Rates curve dated on or before every measurement date of
 //     an option or warrant; prices above 0 and one per date; tenors from 0
 //     to 100 years and unique within a curve; rates between -20% and 50%
 //     (4.5 for 4.5% is caught); a curve is par-semiannual or zero rates, not
-//     both, and must build.
+//     both, and must build; a warning on a curve more than QuarterMonths
+//     old at the measurement dates of some grants.
 //   - Vesting: rows for known grants, shares above 0, adding up to the grant.
 //   - Transfers: rows for known grants, one cost centre per grant and day,
 //     none named unassigned; a warning for a row on or before the grant

@@ -158,6 +158,9 @@ type Assumptions struct {
 	// Since is, in a view made by At, the effective_date of each key's
 	// row in force (absent for an undated row or a default).
 	Since map[string]time.Time
+	// blank holds the value cell of each key whose row has an empty value,
+	// so that a message can name the cell to fill in.
+	blank map[string]Ref
 }
 
 // AssumptionRow is a row of the Assumptions sheet with an effective_date:

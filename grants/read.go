@@ -184,6 +184,7 @@ func read(src source, layout []Sheet) (*Schedule, *Report, error) {
 	s.Assumptions.Forfeitures = Estimate
 
 	found := map[string]string{} // canonical → actual name
+	var unknown []string
 	for _, name := range src.sheetNames() {
 		n := norm(name)
 		matched := false
@@ -198,8 +199,17 @@ func read(src source, layout []Sheet) (*Schedule, *Report, error) {
 			}
 		}
 		if !matched && n != "about" {
-			rep.warnf(Ref{Sheet: name}, "", "", ErrUnknown, "sheet is not one grantworth reads; it is ignored")
+			unknown = append(unknown, name)
 		}
+	}
+	var missing []Column // the layout's sheets not found, for a hint
+	for _, sh := range layout {
+		if _, ok := found[sh.Name]; !ok {
+			missing = append(missing, Column{Key: sh.Name})
+		}
+	}
+	for _, name := range unknown {
+		rep.warnf(Ref{Sheet: name}, "", "", ErrUnknown, "sheet is not one grantworth reads; it is ignored%s", didYouMean(name, missing, nil))
 	}
 	d1904 := src.date1904()
 	for i := range layout {
@@ -237,9 +247,25 @@ func read(src source, layout []Sheet) (*Schedule, *Report, error) {
 		}
 	}
 	finishCompany(s, rep)
+	noGrants(s, rep)
 	v := validate(s, rep.skip)
 	rep.Merge(v)
 	return s, rep, nil
+}
+
+// noGrants reports a schedule whose Grants sheet was read but holds no
+// grant: there is nothing to value, and
+// a memo of zeros must not pass for a close. A row or header that failed
+// has its own error already.
+func noGrants(s *Schedule, rep *Report) {
+	if _, read := s.layout[SheetGrants]; read && len(s.Grants) == 0 {
+		for _, e := range rep.Errors {
+			if e.Sheet == SheetGrants {
+				return
+			}
+		}
+		rep.errf(Ref{Sheet: SheetGrants, Cell: "A2"}, "grant_id", "", ErrRequired, "the sheet has no grant: add one row per grant under the header")
+	}
 }
 
 // fatal reports whether err makes the whole source unreadable.
@@ -356,6 +382,7 @@ func (t *tableReader) readTable() {
 		return
 	}
 	cols := map[string]int{}
+	var unknown []int // columns of headers that name no column
 	for i, h := range head {
 		if tooLong(h, MaxHeaderChars) {
 			t.rep.errf(Ref{Sheet: t.sh.Name, Cell: cellName(i+1, hrow)}, "", h, ErrTooLarge, "is longer than any column name (at most %d characters)", MaxHeaderChars)
@@ -367,13 +394,13 @@ func (t *tableReader) readTable() {
 		}
 		var col *Column
 		for j := range t.sh.Columns {
-			if norm(t.sh.Columns[j].Key) == n {
+			if t.sh.Columns[j].matches(n) {
 				col = &t.sh.Columns[j]
 			}
 		}
 		ref := Ref{Sheet: t.sh.Name, Cell: cellName(i+1, hrow)}
 		if col == nil {
-			t.rep.warnf(ref, "", h, ErrUnknown, "is not a column grantworth reads; it is ignored")
+			unknown = append(unknown, i)
 			continue
 		}
 		if j, dup := cols[col.Key]; dup {
@@ -381,6 +408,9 @@ func (t *tableReader) readTable() {
 			continue
 		}
 		cols[col.Key] = i
+	}
+	for _, i := range unknown { // hinted at the columns still missing
+		t.rep.warnf(Ref{Sheet: t.sh.Name, Cell: cellName(i+1, hrow)}, "", head[i], ErrUnknown, "is not a column grantworth reads; it is ignored%s", didYouMean(head[i], t.sh.Columns, cols))
 	}
 	t.s.layout[t.sh.Name] = cols
 	missing := false
@@ -836,12 +866,12 @@ func (t *tableReader) readKeyValue() {
 		}
 		col := (*Column)(nil)
 		for i := range t.sh.Columns {
-			if norm(t.sh.Columns[i].Key) == norm(key) {
+			if t.sh.Columns[i].matches(norm(key)) {
 				col = &t.sh.Columns[i]
 			}
 		}
 		if col == nil {
-			t.rep.warnf(keyRef, "key", key, ErrUnknown, "is not a key grantworth reads; it is ignored")
+			t.rep.warnf(keyRef, "key", key, ErrUnknown, "is not a key grantworth reads; it is ignored%s", didYouMean(key, t.sh.Columns, nil))
 			continue
 		}
 		c := &rowCtx{t: t, row: n, cells: cells, cols: map[string]int{col.Key: vc}, refs: map[string]Ref{}}
@@ -866,6 +896,12 @@ func (t *tableReader) readKeyValue() {
 			t.companyValue(c, col)
 		} else {
 			t.assumptionValue(c, col, &t.s.Assumptions)
+			if _, given := c.refs[col.Key]; !given && !c.failed {
+				if t.s.Assumptions.blank == nil {
+					t.s.Assumptions.blank = map[string]Ref{}
+				}
+				t.s.Assumptions.blank[col.Key] = c.ref(col.Key)
+			}
 			if src != "" {
 				t.s.Assumptions.Sources[col.Key] = src
 			}

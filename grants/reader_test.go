@@ -202,12 +202,13 @@ func TestTemplate(t *testing.T) {
 	if s, _ := f.GetStyle(st); s == nil || s.CustomNumFmt == nil || *s.CustomNumFmt != "yyyy-mm-dd" {
 		t.Errorf("grant_date D2 style %+v", s)
 	}
-	// A blank template reads with only the required company values missing.
+	// A blank template reads with only the required company values and
+	// the grants missing.
 	_, rep, err := ReadXLSX(bytes.NewReader(data), int64(len(data)))
 	if err != nil {
 		t.Fatal(err)
 	}
-	if len(rep.Errors) != 2 || len(rep.Warnings) != 0 {
+	if len(rep.Errors) != 3 || len(rep.Warnings) != 0 || !strings.Contains(rep.Errors[2].Error(), "Grants!A2 (grant_id): the sheet has no grant") {
 		t.Errorf("blank template:\n%s", problems(rep))
 	}
 }

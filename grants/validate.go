@@ -33,7 +33,10 @@ const (
 )
 
 func validate(s *Schedule, skip map[string]bool) Report {
-	v := &validator{s: s, skip: skip, byID: make(map[string]int, len(s.Grants))}
+	v := &validator{s: s, skip: make(map[string]bool, len(skip)), byID: make(map[string]int, len(s.Grants))}
+	for id := range skip {
+		v.skip[id] = true
+	}
 	for i := len(s.Grants) - 1; i >= 0; i-- {
 		v.byID[s.Grants[i].ID] = i // the first row of an id wins
 	}
@@ -53,9 +56,12 @@ func validate(s *Schedule, skip map[string]bool) Report {
 
 type validator struct {
 	s    *Schedule
-	skip map[string]bool
-	byID map[string]int // grant index by id
+	skip map[string]bool // grant ids whose Vesting and Events rows are not checked: the grant's row has an error
+	byID map[string]int  // grant index by id
 	rep  Report
+	// the share valuations and rate curves more than a quarter old at
+	// some grant's measurement date (marketAt), warned of after the grants
+	oldPrices, oldCurves agedInputs
 }
 
 func (v *validator) grant(id string) (Grant, bool) {
@@ -114,10 +120,25 @@ func (v *validator) company() {
 	}
 }
 
+// PercentHint is "; did you mean 58% (0.58)?" for a value x of a percent
+// column or flag that is out of range (in says what is in range) but would
+// be in range as x%: a percentage typed without its sign, 58 for 58%. It is
+// "" otherwise; 1 and below get no hint (1 may as well mean 100%).
+func PercentHint(x float64, in func(float64) bool) string {
+	if x <= 1 || in(x) || !in(x/100) {
+		return ""
+	}
+	return fmt.Sprintf("; did you mean %s%% (%s)?", num12(x), num12(x/100))
+}
+
+// num12 writes f to 12 significant digits, hiding the float noise of a
+// scaling (4.526/100 is 0.04526, not 0.045259999999999995).
+func num12(f float64) string { return strconv.FormatFloat(f, 'g', 12, 64) }
+
 func (v *validator) rate(sheet, key string, row int, refs map[string]Ref, x float64, what string) {
 	ref := v.s.cell(sheet, key, row, refs)
 	if !valuation.Limits.ExitRate.In(x) { // the range of every annual leaving rate
-		v.rep.errf(ref, key, num(x), ErrRange, "must be at least 0 and below 1 (100%%): %s", what)
+		v.rep.errf(ref, key, num(x), ErrRange, "must be at least 0 and below 1 (100%%): %s%s", what, PercentHint(x, valuation.Limits.ExitRate.In))
 	}
 }
 
@@ -126,14 +147,15 @@ func (v *validator) vol(sheet string, row int, refs map[string]Ref, x float64) {
 	switch {
 	case !valuation.Limits.Volatility.In(x):
 		l := valuation.Limits.Volatility
-		v.rep.errf(ref, "volatility", num(x), ErrRange, "must be from %g to %g (%g%% to %g%%), as a decimal, 0.45, or a percentage, 45%%", l.Min, l.Max, l.Min*100, l.Max*100)
+		v.rep.errf(ref, "volatility", num(x), ErrRange, "must be from %g to %g (%g%% to %g%%), as a decimal, 0.45, or a percentage, 45%%%s", l.Min, l.Max, l.Min*100, l.Max*100, PercentHint(x, l.In))
 	case x < VolLow || x > VolHigh:
 		v.rep.warnf(ref, "volatility", num(x), ErrRange, "is outside %g%%–%g%%; check that it is an annual decimal (0.45 = 45%%)", VolLow*100, VolHigh*100)
 	}
 }
 
 func (v *validator) yield(sheet string, row int, refs map[string]Ref, x float64) {
-	v.limit(v.s.cell(sheet, "dividend_yield", row, refs), valuation.Limits.DividendYield, x, " (100%)")
+	l := valuation.Limits.DividendYield
+	v.limit(v.s.cell(sheet, "dividend_yield", row, refs), l, x, " (100%)"+PercentHint(x, l.In))
 }
 
 func (v *validator) multiple(sheet string, row int, refs map[string]Ref, x float64) {
@@ -164,10 +186,13 @@ func (v *validator) assumptions() {
 		if at := a.At(md); at.has("volatility") {
 			continue
 		}
-		if !a.dated("volatility") {
-			v.rep.errf(Ref{Sheet: sh}, "volatility", "", ErrRequired, "key is missing, and grant %s (%s) gives none", g.ID, v.s.cell(SheetGrants, "volatility", g.Row, g.Refs))
+		gref := v.s.cell(SheetGrants, "volatility", g.Row, g.Refs)
+		if ref, ok := a.blank["volatility"]; ok && !a.dated("volatility") {
+			v.rep.errf(ref, "volatility", "", ErrRequired, "is empty, and grant %s (%s) gives none: fill in the annual volatility, 0.45 or 45%%", g.ID, gref)
+		} else if !a.dated("volatility") {
+			v.rep.errf(Ref{Sheet: sh}, "volatility", "", ErrRequired, "key is missing, and grant %s (%s) gives none: add a row volatility with its value", g.ID, gref)
 		} else {
-			v.rep.errf(Ref{Sheet: sh}, "volatility", "", ErrRequired, "has no row in force on %s, the measurement date of grant %s (%s gives none): add a row without effective_date or one dated on or before it", isoDay(md), g.ID, v.s.cell(SheetGrants, "volatility", g.Row, g.Refs))
+			v.rep.errf(Ref{Sheet: sh}, "volatility", "", ErrRequired, "has no row in force on %s, the measurement date of grant %s (%s gives none): add a row without effective_date or one dated on or before it", isoDay(md), g.ID, gref)
 		}
 		break
 	}
@@ -232,8 +257,11 @@ func (v *validator) rates() {
 				tenors[p.TenorYears] = p.Row
 			}
 			if !valuation.Limits.Rate.In(p.Rate) {
-				v.rep.errf(v.s.cell(SheetRates, "rate", p.Row, nil), "rate", num(p.Rate), ErrRange,
-					"is not a plausible rate; write 4.5%% or 0.045, not 4.5")
+				msg := "is not a plausible rate; write 4.5% or 0.045, not 4.5"
+				if h := PercentHint(p.Rate, valuation.Limits.Rate.In); h != "" {
+					msg = "is not a plausible rate" + h
+				}
+				v.rep.errf(v.s.cell(SheetRates, "rate", p.Row, nil), "rate", num(p.Rate), ErrRange, "%s", msg)
 			}
 			if p.Compounding == "par-semiannual" {
 				par++
@@ -268,6 +296,10 @@ func (v *validator) grants() {
 		} else {
 			ids[g.ID] = g.Row
 		}
+		// An error in what shapes the grant's tranches (shares, expiry,
+		// vesting) is reported once: its Vesting and Events rows are not
+		// checked against tranches known to be wrong (skip).
+		shapeErrs := v.rep.ErrorCount()
 		if g.Shares <= 0 {
 			v.rep.errf(ref("shares"), "shares", strconv.FormatInt(g.Shares, 10), ErrRange, "must be more than zero")
 		}
@@ -300,6 +332,9 @@ func (v *validator) grants() {
 		}
 		if e := g.VestEvery; e != 1 && e != 3 && e != 12 {
 			v.rep.errf(ref("vest_every_months"), "vest_every_months", strconv.Itoa(e), ErrRange, "must be 1, 3 or 12")
+		}
+		if v.rep.ErrorCount() > shapeErrs {
+			v.skip[g.ID] = true
 		}
 		if !g.VestStart.IsZero() && !g.GrantDate.IsZero() && g.VestStart.After(g.GrantDate.AddDate(1, 0, 0)) {
 			v.rep.warnf(ref("vest_start"), "vest_start", isoDay(g.VestStart), ErrRange, "is more than a year after grant_date %s", isoDay(g.GrantDate))
@@ -368,6 +403,8 @@ func (v *validator) grants() {
 			}
 		}
 	}
+	v.oldPrices.warn(v, "the share valuation in force", "check that the share's fair value has not moved since, or add a Share Prices row nearer the date")
+	v.oldCurves.warn(v, "the rate curve in force", "add a Rates curve dated nearer the measurement date")
 }
 
 func article(i Instrument) string {
@@ -406,15 +443,19 @@ func (v *validator) marketAt(g Grant, ref func(string) Ref) {
 		}
 		v.rep.warnf(r, key, isoDay(md), ErrRange,
 			"is more than %d months after the latest share valuation, %s (%s): the valuation may be stale", StaleMonths, isoDay(p.Date), s.cell(SheetSharePrices, "date", p.Row, nil))
+	} else if ok && g.SharePrice == nil && olderThanQuarter(p.Date, md) {
+		v.oldPrices.note(s.cell(SheetSharePrices, "date", p.Row, nil), "date", p.Date, md, g.ID)
 	}
 	if g.Instrument == Warrant && g.Classification == Liability && !g.ExpiryDate.IsZero() && !md.Before(g.ExpiryDate) {
 		v.rep.errf(ref("expiry_date"), "expiry_date", isoDay(g.ExpiryDate), ErrRange,
 			"is on or before the valuation date %s: liability-classified warrant %s is remeasured at the valuation date but has expired; leave it out of the schedule of outstanding awards", isoDay(md), g.ID)
 	}
 	if g.Instrument != RSU {
-		if _, ok := s.curveAt(md); !ok {
+		if c, ok := s.curveAt(md); !ok {
 			v.rep.errf(ref("grant_date"), "grant_date", "", ErrRequired,
 				"no Rates curve is dated on or before the measurement date %s of grant %s", isoDay(md), g.ID)
+		} else if olderThanQuarter(c.date, md) {
+			v.oldCurves.note(s.cell(SheetRates, "curve_date", c.points[0].Row, nil), "curve_date", c.date, md, g.ID)
 		}
 	}
 }

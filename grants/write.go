@@ -229,7 +229,7 @@ func writeAbout(f *excelize.File, st cellStyles, layout []Sheet, title string) e
 	lines := [][]any{
 		{title},
 		{Caution},
-		{"Sheet and column names may be in any case, with or without spaces or underscores; columns may come in any order. Dates are date cells or ISO text (2026-09-30); other text dates are refused as ambiguous. Rates may be 0.45 or 45%. Numbers may use commas only as thousands separators (1,234,567.5)."},
+		{"Sheet and column names may be in any case, with or without spaces or underscores; columns may come in any order, and the other headers the trade uses, listed under meaning, are read too. Dates are date cells or ISO text (2026-09-30); other text dates are refused as ambiguous. Rates may be 0.45 or 45%. Numbers may use commas only as thousands separators (1,234,567.5)."},
 		{},
 		{"sheet", "column or key", "kind", "unit", "needed", "default", "meaning"},
 	}
@@ -240,7 +240,11 @@ func writeAbout(f *excelize.File, st cellStyles, layout []Sheet, title string) e
 			if ch := choices(&c); ch != nil {
 				kind = "one of: " + joinComma(ch)
 			}
-			lines = append(lines, []any{"", c.Key, kind, c.Unit, c.Need, c.Default, c.Help})
+			what := "headers"
+			if sh.KeyValue {
+				what = "keys"
+			}
+			lines = append(lines, []any{"", c.Key, kind, c.Unit, c.Need, c.Default, c.Help + c.also(what)})
 		}
 		for _, c := range sh.KeyColumns {
 			lines = append(lines, []any{"", c.Key + " (column)", c.Kind.String(), c.Unit, c.Need, c.Default, c.Help})

@@ -144,6 +144,8 @@ func runCompare(o *compareOptions) error {
 		Input:    report.Input{Path: filepath.ToSlash(o.Path), SHA256: sum},
 		Warnings: append(warningTexts(rep), report.MemoTextWarnings(s, o.Path)...),
 	}, steps, sim)
+	m.Warnings = uniqueWarnings(m.Warnings)
+	printWarnings(o.IO.Err, m.Warnings)
 	if out != nil {
 		if err := out.write([]outFile{
 			{compareOutputs[0], func(w io.Writer) error { return report.WriteComparePDF(w, m) }},
@@ -184,7 +186,7 @@ func printComparison(w io.Writer, m *report.CompareModel, dir string) {
 	}
 	fmt.Fprintln(w)
 	if n := len(m.Warnings); n > 0 {
-		fmt.Fprintf(w, "%d %s (listed in the PDF, the workbook and the JSON)\n", n, checkPlural(n, "warning"))
+		fmt.Fprintf(w, "%d %s (printed on stderr, and listed in the PDF, the workbook and the JSON)\n", n, checkPlural(n, "warning"))
 	}
 	if dir != "" {
 		for _, n := range compareOutputs {

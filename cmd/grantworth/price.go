@@ -74,7 +74,8 @@ share reaches --exercise-multiple times the strike; vested holders leave at
 money, else the option lapses; at expiry, exercise if in the money.
 --american adds rational early exercise; --european values exercise at
 expiry only (ignoring vesting, multiple and exits). Rates are continuously
-compounded; volatility and rates are decimals (0.45, not 45).
+compounded; volatility and rates are decimals or percentages (0.45 or 45%,
+not 45).
 
 Without --steps the lattice value is converged, with an error estimate;
 --steps N gives the raw N-step Cox-Ross-Rubinstein tree. With
@@ -120,13 +121,13 @@ or valuation professionals and the accounting rules that apply to you
 	f.Float64Var(&opts.Spot, "spot", 0, "share fair value at the measurement date (required)")
 	f.Float64Var(&opts.Strike, "strike", 0, "exercise price (required)")
 	f.Float64Var(&opts.Years, "years", 0, "contractual term in years (required)")
-	f.Float64Var(&opts.Vol, "vol", 0, "annual volatility, e.g. 0.45 (required)")
-	f.Float64Var(&opts.Rate, "rate", 0, "risk-free rate, flat, continuously compounded, e.g. 0.04 (required)")
-	f.Float64Var(&opts.DividendYield, "dividend-yield", 0, "continuous dividend yield")
+	f.Var(&percentValue{p: &opts.Vol}, "vol", "annual volatility, e.g. 0.45 or 45% (required)")
+	f.Var(&percentValue{p: &opts.Rate}, "rate", "risk-free rate, flat, continuously compounded, e.g. 0.04 or 4% (required)")
+	f.Var(&percentValue{p: &opts.DividendYield}, "dividend-yield", "continuous dividend yield, e.g. 0.02 or 2%")
 	f.Float64Var(&opts.VestYears, "vest-years", 0, "years to the vest date (0 = vested)")
 	f.Float64Var(&opts.Multiple, "exercise-multiple", 0, "exercise once the share reaches this multiple of the strike (0 = none)")
-	f.Float64Var(&opts.ExitRate, "exit-rate", 0, "annual share of vested holders who leave, in [0, 1)")
-	f.Float64Var(&opts.ForfeitureRate, "forfeiture-rate", 0, "annual share of unvested holders who leave, in [0, 1): adds the expected cost per granted award (never a fair value)")
+	f.Var(&percentValue{p: &opts.ExitRate}, "exit-rate", "annual share of vested holders who leave, in [0, 1), e.g. 0.08 or 8%")
+	f.Var(&percentValue{p: &opts.ForfeitureRate}, "forfeiture-rate", "annual share of unvested holders who leave, in [0, 1), e.g. 0.1 or 10%: adds the expected cost per granted award (never a fair value)")
 	f.BoolVar(&opts.American, "american", false, "also exercise whenever that is optimal (rational exercise)")
 	f.BoolVar(&opts.European, "european", false, "exercise at expiry only: ignores vesting, multiple and exits")
 	f.IntVar(&opts.Steps, "steps", 0, "raw N-step lattice (default: auto, converged)")
@@ -162,7 +163,12 @@ func (o *priceOptions) check(cmd *cobra.Command, method string) error {
 			return badInput("--%s %v: not a finite number", c.flag, c.v)
 		}
 	}
-	lim := valuation.Limits // the one table of ranges, shared with check and value
+	// The one table of ranges, shared with check and value; each value is
+	// quoted as typed (45%).
+	lim := valuation.Limits
+	given := func(name string) string { return f.Lookup(name).Value.String() }
+	hint := func(name string, in func(float64) bool) string { return percentHint(f.Lookup(name), in) }
+	anyRate := func(x float64) bool { return math.Abs(x) <= 1 }
 	switch {
 	case !lim.SharePrice.In(o.Spot):
 		return badInput("--spot %v: the share value must be %s", o.Spot, lim.SharePrice.Range())
@@ -171,11 +177,11 @@ func (o *priceOptions) check(cmd *cobra.Command, method string) error {
 	case !lim.YearsToExpiry.In(o.Years):
 		return badInput("--years %v: the term must be above 0 and at most 100 years (%d days)", o.Years, valuation.MaxTermDays)
 	case !valuation.Limits.Volatility.In(o.Vol):
-		return badInput("--vol %v: volatility must be %s (a decimal: 0.45, not 45)", o.Vol, valuation.Limits.Volatility.Range())
-	case math.Abs(o.Rate) > 1:
-		return badInput("--rate %v: a decimal rate between -1 and 1 (0.04, not 4)", o.Rate)
+		return badInput("--vol %s: volatility must be %s (a decimal, 0.45, or a percentage, 45%%)%s", given("vol"), lim.Volatility.Range(), hint("vol", lim.Volatility.In))
+	case !anyRate(o.Rate):
+		return badInput("--rate %s: a rate between -1 and 1 (-100%% and 100%%), as a decimal, 0.04, or a percentage, 4%%%s", given("rate"), hint("rate", anyRate))
 	case !lim.DividendYield.In(o.DividendYield):
-		return badInput("--dividend-yield %v: a decimal yield %s", o.DividendYield, lim.DividendYield.Range())
+		return badInput("--dividend-yield %s: a yield %s%s", given("dividend-yield"), lim.DividendYield.Range(), hint("dividend-yield", lim.DividendYield.In))
 	case o.VestYears < 0:
 		return badInput("--vest-years %v: must be at or above 0", o.VestYears)
 	case o.VestYears > o.Years:
@@ -183,9 +189,9 @@ func (o *priceOptions) check(cmd *cobra.Command, method string) error {
 	case !lim.ExerciseMultiple.In(o.Multiple):
 		return badInput("--exercise-multiple %v: %s (0: none)", o.Multiple, lim.ExerciseMultiple.Range())
 	case !lim.ExitRate.In(o.ExitRate):
-		return badInput("--exit-rate %v: an annual share %s", o.ExitRate, lim.ExitRate.Range())
+		return badInput("--exit-rate %s: an annual share %s%s", given("exit-rate"), lim.ExitRate.Range(), hint("exit-rate", lim.ExitRate.In))
 	case o.ForfeitureRate < 0 || o.ForfeitureRate >= 1:
-		return badInput("--forfeiture-rate %v: an annual share at or above 0 and below 1", o.ForfeitureRate)
+		return badInput("--forfeiture-rate %s: an annual share at or above 0 and below 1%s", given("forfeiture-rate"), hint("forfeiture-rate", lim.ExitRate.In))
 	case f.Changed("steps") && (o.Steps == 0 || !lim.Steps.In(float64(o.Steps))):
 		return badInput("--steps %d: from %g to %g", o.Steps, lim.Steps.Min, lim.Steps.Max)
 	case o.American && o.European:
@@ -283,6 +289,9 @@ func computePrice(o *priceOptions) (*priceResult, error) {
 	if err != nil {
 		return nil, asInput(err)
 	}
+	if res.Main.MissedTarget {
+		res.Mode = "auto, short of its accuracy target"
+	}
 	if res.BSM, err = o.dilute(func(m valuation.Market) (valuation.Result, error) { return valuation.BlackScholes(t, m) }); err != nil {
 		return nil, asInput(err)
 	}
@@ -297,11 +306,30 @@ func runPrice(o *priceOptions) error {
 	if err != nil {
 		return err
 	}
+	if w := missedTargetWarning(res); w != "" {
+		fmt.Fprintln(o.IO.Err, "warning: "+w)
+	}
 	if o.JSON {
 		return printPriceJSON(o.IO.Out, res)
 	}
 	printPriceText(o.IO.Out, res)
 	return nil
+}
+
+// missedTargetWarning says when the automatic lattice stopped short of its
+// accuracy target (valuation.Result.MissedTarget), and how to check the
+// value; "" when it did not.
+func missedTargetWarning(r *priceResult) string {
+	m := r.Main
+	if !m.MissedTarget {
+		return ""
+	}
+	w := fmt.Sprintf("the lattice's error estimate ± %.2g is %.2g%% of the value, above its %g%% accuracy target at the finest ladder it allows",
+		m.ErrorEstimate, 100*m.ErrorEstimate/math.Abs(m.Value), 100*valuation.AutoTarget)
+	if r.Opts.American {
+		return w + "; Monte Carlo does not value rational exercise (--american), so check this value another way"
+	}
+	return w + "; cross-check it with --method mc"
 }
 
 func printPriceText(w io.Writer, r *priceResult) {
@@ -406,6 +434,7 @@ func printPriceJSON(w io.Writer, r *priceResult) error {
 		Steps             int           `json:"steps"`
 		Method            string        `json:"method"`
 		Mode              string        `json:"mode"`
+		MissedTarget      bool          `json:"missed_target"`
 		BSM               comparison    `json:"bsm"`
 		BSMSimplified     comparison    `json:"bsm_simplified"`
 		Dilution          *dilution     `json:"dilution,omitempty"`
@@ -413,7 +442,7 @@ func printPriceJSON(w io.Writer, r *priceResult) error {
 		Inputs            inputs        `json:"inputs"`
 	}{
 		Value: r.Main.Value, ErrorEstimate: r.Main.ErrorEstimate, ExpectedTermYears: r.Main.ExpectedTermYears,
-		Steps: r.Main.Steps, Method: string(r.Main.Method), Mode: r.Mode,
+		Steps: r.Main.Steps, Method: string(r.Main.Method), Mode: r.Mode, MissedTarget: r.Main.MissedTarget,
 		BSM:           comparison{r.BSM.Value, r.BSM.ExpectedTermYears},
 		BSMSimplified: comparison{r.Simplified.Value, r.Simplified.ExpectedTermYears},
 		Inputs: inputs{o.Spot, o.Strike, o.Years, o.Vol, o.Rate, o.DividendYield, o.VestYears, o.Multiple, o.ExitRate,

@@ -33,6 +33,10 @@ func TestPriceArgs(t *testing.T) {
 			return o.Method == valuation.MethodMC && o.Paths == 2000 && o.Seed == 7 && o.European
 		}},
 		{priceArgs("--method", "bsm"), func(o *priceOptions) bool { return o.Method == valuation.MethodBSM }},
+		// Every percent flag takes a percentage as the schedule's columns do.
+		{priceArgs("--vol", "45%", "--rate", "4.5%", "--dividend-yield", "1%", "--exit-rate", "8%", "--forfeiture-rate", "10 %"), func(o *priceOptions) bool {
+			return o.Vol == 0.45 && o.Rate == 0.045 && o.DividendYield == 0.01 && o.ExitRate == 0.08 && o.ForfeitureRate == 0.1
+		}},
 	} {
 		ios, _, _ := volTestIO()
 		var got *priceOptions
@@ -57,8 +61,15 @@ func TestPriceBadFlags(t *testing.T) {
 		{priceArgs("--strike", "-5"), "--strike -5"},
 		{priceArgs("--spot", "0"), "--spot 0"},
 		{priceArgs("--years", "-1"), "--years -1"},
-		{priceArgs("--rate", "4"), "--rate 4"},
-		{priceArgs("--rate", "NaN"), "--rate NaN"},
+		{priceArgs("--rate", "4"), "--rate 4: a rate between -1 and 1 (-100% and 100%), as a decimal, 0.04, or a percentage, 4%; did you mean 4% (0.04)?"},
+		{priceArgs("--rate", "400%"), "--rate 400%: a rate between -1 and 1"},
+		{priceArgs("--vol", "58"), "--vol 58: volatility must be from 0.01 to 5 (a decimal, 0.45, or a percentage, 45%); did you mean 58% (0.58)?"},
+		{priceArgs("--vol", "600%"), "--vol 600%: volatility must be from 0.01 to 5 (a decimal, 0.45, or a percentage, 45%)\n"},
+		{priceArgs("--vol", "45 %x"), `"45 %x" for "--vol" flag: not a decimal (0.45) or a percentage (45%)`},
+		{priceArgs("--dividend-yield", "2"), "--dividend-yield 2: a yield at least 0 and below 1; did you mean 2% (0.02)?"},
+		{priceArgs("--exit-rate", "8"), "--exit-rate 8: an annual share at least 0 and below 1; did you mean 8% (0.08)?"},
+		{priceArgs("--forfeiture-rate", "10"), "--forfeiture-rate 10: an annual share at or above 0 and below 1; did you mean 10% (0.1)?"},
+		{priceArgs("--rate", "NaN"), `"NaN" for "--rate"`},
 		{priceArgs("--dividend-yield", "-0.01"), "--dividend-yield -0.01"},
 		{priceArgs("--vest-years", "11"), "--vest-years 11"},
 		{priceArgs("--vest-years", "-1"), "--vest-years -1"},
@@ -209,5 +220,50 @@ func TestPriceExpectedCost(t *testing.T) {
 	}
 	if !strings.Contains(out.String(), "Expected cost per granted option, not a fair value") {
 		t.Errorf("report lacks the expected cost line:\n%s", out)
+	}
+}
+
+// A value the automatic lattice could not bring within its accuracy target
+// says so: a warning on stderr and missed_target in the JSON. The case is
+// the American call of TestLatticeAutoIssue11Cases (valuation), whose
+// exercise boundary lies too near the spot for the lattice's step limit;
+// a plain option is within the target and says nothing.
+func TestPriceMissedTarget(t *testing.T) {
+	for _, c := range []struct {
+		argv   []string
+		missed bool
+	}{
+		{[]string{"--spot", "100", "--strike", "100", "--years", "15", "--vol", "10%", "--rate", "-1%", "--dividend-yield", "8%", "--american"}, true},
+		{priceArgs("--vest-years", "4"), false},
+	} {
+		for _, asJSON := range []bool{false, true} {
+			argv := append([]string{"price"}, c.argv...)
+			if asJSON {
+				argv = append(argv, "--json")
+			}
+			ios, out, errb := volTestIO()
+			if code := run(argv, ios); code != 0 {
+				t.Fatalf("%v: exit %d: %s", argv, code, errb)
+			}
+			warned := strings.Contains(errb.String(), "warning: the lattice's error estimate ± 0.0017 is 0.085% of the value, above its 0.05% accuracy target at the finest ladder it allows; Monte Carlo does not value rational exercise (--american), so check this value another way\n")
+			if warned != c.missed || (!c.missed && errb.Len() > 0) {
+				t.Errorf("%v: stderr %q, want the warning %v", argv, errb, c.missed)
+			}
+			if strings.Contains(out.String(), "warning") {
+				t.Errorf("%v: a warning on stdout:\n%s", argv, out)
+			}
+			if asJSON {
+				var got struct {
+					MissedTarget *bool  `json:"missed_target"`
+					Mode         string `json:"mode"`
+				}
+				if err := json.Unmarshal(out.Bytes(), &got); err != nil || got.MissedTarget == nil || *got.MissedTarget != c.missed {
+					t.Errorf("%v: missed_target %v (err %v), want %v", argv, got.MissedTarget, err, c.missed)
+				}
+				if c.missed && got.Mode != "auto, short of its accuracy target" {
+					t.Errorf("%v: mode %q", argv, got.Mode)
+				}
+			}
+		}
 	}
 }

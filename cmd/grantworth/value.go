@@ -54,10 +54,11 @@ output folder:
   memo.pdf        the memo for the file and the auditor
   valuation.xlsx  every input with its cell and every result, with live
                   Black-Scholes-Merton formulas beside the tool's figures
-  valuation.json  the same figures for other programs (DESIGN §4.3)
+  valuation.json  the same figures for other programs (its fields: the
+                  README, "valuation.json")
   journal.csv     the period's journal entries to import into the general
                   ledger, by cost centre, in the accounts of the Accounts
-                  sheet (DESIGN §4.4)
+                  sheet (the README describes its columns)
 
 With --prior, the close follows an earlier one (its output folder or its
 valuation.json, only read): the grant-date fair values it filed stay locked
@@ -236,6 +237,7 @@ func runValue(o *valueOptions) error {
 	if err != nil {
 		return err
 	}
+	m.Warnings = uniqueWarnings(m.Warnings)
 	files := outputs(m, out.tempDir())
 	if o.io.ErrIsTerminal {
 		var mu sync.Mutex // the files are written at the same time
@@ -252,6 +254,7 @@ func runValue(o *valueOptions) error {
 	if err := out.write(files); err != nil {
 		return err
 	}
+	printWarnings(o.io.Err, m.Warnings)
 	printSummary(o.io.Out, m, o.out)
 	return nil
 }
@@ -384,7 +387,7 @@ func printSummary(w io.Writer, m *report.Model, dir string) {
 		fmt.Fprintf(w, "  modifications     %d (%s %s added to the cost, %s %s of it in the period)\n", n, cur, money2(cost), cur, money2(amount))
 	}
 	if len(m.Warnings) > 0 {
-		fmt.Fprintf(w, "  warnings          %d (listed in the memo and the workbook)\n", len(m.Warnings))
+		fmt.Fprintf(w, "  warnings          %d (printed on stderr, and listed in the memo and the workbook)\n", len(m.Warnings))
 	}
 	for _, n := range outputNames {
 		fmt.Fprintf(w, "  wrote             %s\n", filepath.Join(dir, n))
@@ -399,6 +402,30 @@ func warningTexts(rep *grants.Report) []string {
 		out = append(out, w.Error())
 	}
 	return out
+}
+
+// uniqueWarnings is ws without repeats, in the order first found: a
+// warning raised twice (by the schedule and by the valuation, or for each
+// tranche of a grant in the same words) is listed once.
+func uniqueWarnings(ws []string) []string {
+	seen := make(map[string]bool, len(ws))
+	out := ws[:0:0]
+	for _, w := range ws {
+		if !seen[w] {
+			seen[w] = true
+			out = append(out, w)
+		}
+	}
+	return out
+}
+
+// printWarnings writes each warning on a line of its own, after
+// "warning: ", for the person at the terminal (stderr); the files list
+// them too.
+func printWarnings(w io.Writer, ws []string) {
+	for _, x := range ws {
+		fmt.Fprintf(w, "warning: %s\n", x)
+	}
 }
 
 // money2 is an amount with two decimals and grouped thousands.

@@ -134,6 +134,7 @@ type volReport struct {
 	AsOf          time.Time
 	WindowStart   time.Time
 	LookbackYears float64
+	Covered       volSpan // the years of prices each peer's estimate rests on
 	Peers         []volPeer
 	Summary       valuation.PeerSummary
 	Proposed      string
@@ -209,6 +210,22 @@ func estimateVol(opts *volOptions, hists []*priceHistory) (*volReport, error) {
 		}
 		rep.AsOf = d
 	}
+	// An as-of date before a file's first price leaves that peer nothing.
+	var late []string
+	var lastStart time.Time
+	for _, h := range hists {
+		first := h.Points[0].Date
+		if first.After(rep.AsOf) {
+			late = append(late, fmt.Sprintf("%s starts %s", h.File, first.Format(time.DateOnly)))
+		}
+		if first.After(lastStart) {
+			lastStart = first
+		}
+	}
+	if len(late) > 0 {
+		return nil, badInput("--as-of %s is before the prices start (%s): give a date well after %s, so that every file has a window of prices",
+			rep.AsOf.Format(time.DateOnly), strings.Join(late, "; "), lastStart.Format(time.DateOnly))
+	}
 	// Window start: --lookback, or the latest first date (every peer covers it).
 	if opts.LookbackYears > 0 {
 		rep.LookbackYears = opts.LookbackYears
@@ -251,6 +268,7 @@ func estimateVol(opts *volOptions, hists []*priceHistory) (*volReport, error) {
 		rep.Peers = append(rep.Peers, volPeer{Name: volPeerName(h.File), History: h, Est: est})
 		vols = append(vols, est.Annual)
 	}
+	rep.Covered = volCovered(rep.Peers)
 	rep.Summary = valuation.SummarizeVols(vols)
 	switch opts.Propose {
 	case "mean":
@@ -260,9 +278,46 @@ func estimateVol(opts *volOptions, hists []*priceHistory) (*volReport, error) {
 	default:
 		rep.Value = rep.Summary.Median
 	}
-	rep.Source = fmt.Sprintf("%s of %d peers' %s log-return volatility over %.1f years to %s",
-		strings.ReplaceAll(rep.Proposed, "-", " "), len(rep.Peers), rep.Frequency, rep.LookbackYears, rep.AsOf.Format(time.DateOnly))
+	over := fmt.Sprintf("%.1f years", rep.LookbackYears)
+	if rep.short() {
+		over = rep.Covered.text() + " (all the prices the files hold; " + over + " were asked)"
+	}
+	rep.Source = fmt.Sprintf("%s of %d peers' %s log-return volatility over %s to %s",
+		strings.ReplaceAll(rep.Proposed, "-", " "), len(rep.Peers), rep.Frequency, over, rep.AsOf.Format(time.DateOnly))
 	return rep, nil
+}
+
+// volSpan is the shortest and the longest stretch of prices, in years,
+// that the peers' estimates rest on.
+type volSpan struct{ Min, Max float64 }
+
+func volCovered(peers []volPeer) volSpan {
+	var sp volSpan
+	for i, p := range peers {
+		y := valuation.YearFrac(p.Est.First, p.Est.Last)
+		if i == 0 || y < sp.Min {
+			sp.Min = y
+		}
+		if y > sp.Max {
+			sp.Max = y
+		}
+	}
+	return sp
+}
+
+// text is "6.1 years", or "6.1 to 7.0 years" when the peers differ.
+func (sp volSpan) text() string {
+	lo, hi := fmt.Sprintf("%.1f", sp.Min), fmt.Sprintf("%.1f", sp.Max)
+	if lo == hi {
+		return lo + " years"
+	}
+	return lo + " to " + hi + " years"
+}
+
+// short reports whether the prices cover visibly less than the window: a
+// --lookback longer than the files' histories.
+func (rep *volReport) short() bool {
+	return fmt.Sprintf("%.1f", rep.Covered.Max) != fmt.Sprintf("%.1f", rep.LookbackYears) && rep.Covered.Max < rep.LookbackYears
 }
 
 func (rep *volReport) why() string {
@@ -280,7 +335,11 @@ func volPct(v float64) string { return fmt.Sprintf("%.2f%%", 100*v) }
 func printVolTable(w io.Writer, rep *volReport) {
 	fmt.Fprintf(w, "Volatility from %d peers' %s log returns, annualised with %v %s a year\n",
 		len(rep.Peers), rep.Frequency, rep.Frequency.PeriodsPerYear(), map[valuation.Frequency]string{valuation.Daily: "trading days", valuation.Weekly: "weeks"}[rep.Frequency])
-	fmt.Fprintf(w, "Window: %s to %s (%.1f years)\n\n", rep.WindowStart.Format(time.DateOnly), rep.AsOf.Format(time.DateOnly), rep.LookbackYears)
+	fmt.Fprintf(w, "Window: %s to %s (%.1f years)", rep.WindowStart.Format(time.DateOnly), rep.AsOf.Format(time.DateOnly), rep.LookbackYears)
+	if rep.short() {
+		fmt.Fprintf(w, "; the prices cover %s of it", rep.Covered.text())
+	}
+	fmt.Fprint(w, "\n\n")
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
 	fmt.Fprintln(tw, "peer\tprice column\treturns\tfirst\tlast\tannual vol")
 	for _, p := range rep.Peers {

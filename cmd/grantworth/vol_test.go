@@ -5,6 +5,7 @@ import (
 	"encoding/json"
 	"os"
 	"path/filepath"
+	"regexp"
 	"strconv"
 	"strings"
 	"testing"
@@ -213,5 +214,33 @@ func TestVolSamplePeers(t *testing.T) {
 	}
 	if !strings.Contains(out.String(), "median of 5 peers' daily log-return volatility over 6.1 years to 2026-09-30") {
 		t.Errorf("sample output:\n%s", out)
+	}
+}
+
+// A --lookback longer than the prices says what the estimate rests on, in
+// the window line and in the source text; an --as-of before a file's first
+// price names the file and where it starts.
+func TestVolWindowBeyondPrices(t *testing.T) {
+	files, _ := filepath.Glob("../../sample/peers/*.csv")
+	ios, out, errb := volTestIO()
+	if code := run(append([]string{"vol", "--as-of", "2026-09-30", "--lookback", "10"}, files...), ios); code != 0 {
+		t.Fatalf("exit %d: %s", code, errb)
+	}
+	for _, want := range []string{
+		"Window: 2016-09-29 to 2026-09-30 (10.0 years); the prices cover 6.1 to 7.0 years of it\n",
+		"Source text: median of 5 peers' daily log-return volatility over 6.1 to 7.0 years (all the prices the files hold; 10.0 years were asked) to 2026-09-30\n",
+	} {
+		if !strings.Contains(out.String(), want) {
+			t.Errorf("no line %q in\n%s", want, out)
+		}
+	}
+	if !strings.Contains(errb.String(), "corvid.csv: prices start 2020-08-14, 3.9 years after the window starts (2016-09-29)") {
+		t.Errorf("stderr:\n%s", errb)
+	}
+	ios, out, errb = volTestIO()
+	code := run(append([]string{"vol", "--as-of", "2020-01-01", "--lookback", "1"}, files...), ios)
+	want := regexp.MustCompile(`^grantworth: --as-of 2020-01-01 is before the prices start \(\S*corvid.csv starts 2020-08-14\): give a date well after 2020-08-14, so that every file has a window of prices\n$`)
+	if code != exitInput || !want.MatchString(errb.String()) || out.Len() != 0 {
+		t.Errorf("--as-of before the prices: exit %d, stderr %q", code, errb)
 	}
 }

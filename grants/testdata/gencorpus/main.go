@@ -55,6 +55,7 @@ PB-2,2026-01-15,600
 2024-01-01,1.40
 2025-01-01,2.00
 2026-06-30,2.80
+2025-05-31,2.30
 `,
 	"rates.csv": `curve_date,tenor_years,rate,compounding
 2024-01-01,1,0.045,continuous
@@ -62,6 +63,8 @@ PB-2,2026-01-15,600
 2026-06-30,0.5,0.041,par-semiannual
 2026-06-30,2,0.039,par-semiannual
 2026-06-30,10,0.040,par-semiannual
+2025-01-01,1,0.044,continuous
+2025-01-01,10,0.041,continuous
 `,
 	"events.csv": `grant_id,date,event,shares
 PB-1,2026-03-15,forfeited,2400
@@ -176,7 +179,7 @@ var cases = []corpusCase{
 	{name: "vest-every-two-months", edits: []edit{{"grants.csv", "2034-03-01,48,12,1,", "2034-03-01,48,12,2,"}},
 		want: []string{`Grants!I2 (vest_every_months): "2" must be 1, 3 or 12`}},
 	{name: "rate-as-whole-number", edits: []edit{{"rates.csv", "2024-01-01,1,0.045", "2024-01-01,1,4.5"}},
-		want: []string{`Rates!C2 (rate): "4.5" is not a plausible rate; write 4.5% or 0.045, not 4.5`}},
+		want: []string{`Rates!C2 (rate): "4.5" is not a plausible rate; did you mean 4.5% (0.045)?`}},
 	{name: "curve-mixes-par-and-zero", edits: []edit{{"rates.csv", "2026-06-30,2,0.039,par-semiannual", "2026-06-30,2,0.039,continuous"}},
 		want: []string{"Rates!D4 (compounding): the curve of 2026-06-30 mixes par-semiannual yields with zero rates"}},
 	{name: "duplicate-tenor", edits: []edit{{"rates.csv", "2024-01-01,10,", "2024-01-01,1,"}},
