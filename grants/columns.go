@@ -195,8 +195,9 @@ var (
 )
 
 // Sheets is the layout of the input workbook (DESIGN §4.2), in the order the
-// template writes them.
-var Sheets = []Sheet{
+// template writes them; the sheets of vesting conditions (conditions.go)
+// come last.
+var Sheets = append([]Sheet{
 	{Name: SheetCompany, File: "company.csv", KeyValue: true, Required: true,
 		Help: "The company and the reporting period: one key and its value per row.",
 		Columns: []Column{
@@ -253,6 +254,7 @@ var Sheets = []Sheet{
 			{Key: "hire_date", Kind: KindDate, Need: "optional", Default: "grant_date", Help: "For a holder hired after the grant date, the day service begins: cost is recognised from it. Leave empty when the holder was employed at grant.", Synonyms: []string{"Date of Hire", "Employment Start Date", "Service Start Date"}},
 			{Key: "tax_deductible", Kind: KindChoice, Choices: []string{"yes", "no"}, Need: "optional", Default: "yes for options and RSUs, no for warrants", Help: "Whether the award gives the company a tax deduction: no for US incentive stock options, yes for non-qualified options and RSUs. Deductible awards carry a deferred tax asset when Assumptions gives tax_rate."},
 			{Key: "cost_center", Kind: KindText, Need: "optional", Default: "unassigned", Help: "The cost centre (function or department) whose expense the grant is, e.g. R&D or 4100; a move to another is a Transfers row. Expense is split by cost centre in the memo, the workbook, valuation.json and journal.csv; a grant with none is in the unassigned line, with a warning."},
+			{Key: "condition", Kind: KindText, Need: "optional", Default: "none (service only)", Help: "A condition_id of the Conditions sheet: the award vests only if that performance or market condition is met too."},
 		}},
 	{Name: SheetVesting, File: "vesting.csv",
 		Help: "Optional custom vesting: for each grant named here these rows replace the schedule of the Grants columns. The shares of a grant must add up to its grant.",
@@ -300,8 +302,7 @@ var Sheets = []Sheet{
 			{Key: "account_code", Kind: KindText, Need: "this or account_name", Help: "The account's code in your chart of accounts, as your ledger imports it."},
 			{Key: "account_name", Kind: KindText, Need: "this or account_code", Default: "the role's default name", Help: "The account's name."},
 		}},
-	modificationsSheet,
-}
+}, append(conditionSheets, modificationsSheet)...)
 
 // DesignSheets is the layout of the grant designs workbook that compare
 // reads (and init --designs writes): the schedule's Company sheet with one

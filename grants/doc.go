@@ -45,6 +45,28 @@
 // refers to a string the workbook lacks is an error wrapping ErrDamaged and
 // naming the sheet, never a schedule with rows missing.
 //
+// # Vesting conditions
+//
+// A grant may name, in its condition column, a row of the Conditions sheet
+// (conditions.go): a performance condition (payouts at threshold, target
+// and maximum; its assessments, dated, on the Assessments sheet), a price
+// hurdle (a price, on a closing price or an average of N closes, watched
+// daily or continuously, by a deadline, and the day it was met) or
+// relative TSR (a performance period, the peers and their price files on
+// the Peers sheet, the payout curve on the Payout Curve sheet, an optional
+// cap when the company's own TSR is negative, and the company's own price
+// file). Validation checks each condition's kind-specific columns, that
+// only a performance condition is assessed, that relative TSR is carried
+// by units and no condition by a warrant, and that a hurdle's deadline
+// falls after the grant. ReadFile reads the price files a relative TSR
+// names (paths relative to the workbook's folder, or to a CSV folder
+// itself; ParsePrices, the format of `grantworth vol`) and checks they
+// cover the period's start and each grant's measurement date, with a
+// warning when they cover less than the look-back; each problem names the
+// cell that gives the file. Inputs then estimates a relative TSR grant's
+// volatilities and correlations from them (ConditionInputs, TSRInputs),
+// and its volatility is the company's own, from its file.
+//
 // # Limits
 //
 // Untrusted workbooks cannot exhaust memory or time: files are capped at

@@ -39,6 +39,10 @@ type Inputs struct {
 	// was interpolated (or bootstrapped) from, and Text describes the curve
 	// and how.
 	RiskFreeRate Source
+
+	// Condition is the grant's vesting condition beyond service with what
+	// valuing it needs (condition_inputs.go); nil for service only.
+	Condition *ConditionInputs
 }
 
 // Named is one valuation input of a grant by its key.
@@ -183,6 +187,11 @@ func (s *Schedule) Inputs(g Grant) (Inputs, error) {
 		in.RiskFreeRate = Source{Text: fmt.Sprintf("no Rates curve on or before %s; an RSU's value needs none", isoDay(md))}
 	} else {
 		return fail("grant_date", "no Rates curve is dated on or before %s, the measurement date of grant %s", isoDay(md), g.ID)
+	}
+	if g.Condition != "" {
+		if err := s.conditionInputs(&in); err != nil {
+			return Inputs{}, err
+		}
 	}
 	if err := s.feasible(in); err != nil {
 		return Inputs{}, err

@@ -85,6 +85,13 @@ type Schedule struct {
 	Modifications []Modification
 	Designs       []Design // the Designs sheet of a designs workbook (ReadDesigns)
 
+	// Vesting conditions (conditions.go): the Conditions, Assessments,
+	// Payout Curve and Peers sheets, row by row.
+	Conditions  []Condition
+	Assessments []Assessment
+	PayoutCurve []PayoutRow
+	Peers       []Peer
+
 	// layout is, per sheet read, the 0-based column of each column key, so
 	// that problems with empty cells can name the cell.
 	layout map[string]map[string]int
@@ -206,6 +213,9 @@ type Grant struct {
 	// HireDate is, for a holder hired after the grant date, the day
 	// service begins; zero when the holder was employed at grant.
 	HireDate time.Time
+	// Condition is a condition_id of the Conditions sheet; "" for service
+	// only.
+	Condition string
 
 	CostCenter string // "" when none is given: the expense is Unassigned
 	// TaxDeductible says whether the award gives the company a tax

@@ -666,6 +666,10 @@ func (v *validator) modifications() {
 			v.rep.errf(ref("grant_id"), "grant_id", m.GrantID, ErrInconsistent, "is a liability-classified warrant, remeasured at fair value every period: a change of its terms is not booked as a modification by grantworth; give its new terms to the valuation that remeasures it")
 			continue
 		}
+		if g.Condition != "" {
+			v.rep.errf(ref("grant_id"), "grant_id", m.GrantID, ErrInconsistent, "vests on condition %s besides service: grantworth does not yet book a change of the terms of such an award; book it outside grantworth and leave its row out", g.Condition)
+			continue
+		}
 		if m.NewStrike != nil {
 			switch {
 			case g.Instrument == RSU:
@@ -741,6 +745,9 @@ func (v *validator) modifications() {
 		}
 		if c, ok := v.grant(e.GrantID); ok && c.Instrument == Warrant && c.Classification == Liability {
 			v.rep.errf(ref("replacement_grant_id"), "replacement_grant_id", rid, ErrInconsistent, "grant %s is a liability-classified warrant, remeasured at fair value; its cancellation with a replacement is not booked as a modification by grantworth", c.ID)
+		}
+		if c, ok := v.grant(e.GrantID); ok && (c.Condition != "" || r.Condition != "") {
+			v.rep.errf(ref("replacement_grant_id"), "replacement_grant_id", rid, ErrInconsistent, "grant %s or %s vests on a condition besides service: grantworth does not yet book such an exchange as a modification", c.ID, r.ID)
 		}
 		if _, ok := s.ReplacedBy(e.GrantID); ok {
 			v.rep.errf(ref("replacement_grant_id"), "replacement_grant_id", rid, ErrInconsistent, "grant %s is itself a replacement award; a replacement of a replacement is not booked by grantworth", e.GrantID)

@@ -42,7 +42,9 @@ const (
 
 // textLimit gives the longest text allowed in a column read as text.
 var textLimit = map[string]int{"grant_id": MaxIDChars, "holder": MaxNameChars, "company_name": MaxNameChars,
-	"cost_center": MaxIDChars, "account_code": MaxIDChars, "account_name": MaxNameChars, "replacement_grant_id": MaxIDChars, "note": MaxSourceChars}
+	"cost_center": MaxIDChars, "account_code": MaxIDChars, "account_name": MaxNameChars,
+	"condition": MaxIDChars, "condition_id": MaxIDChars, "peer": MaxNameChars, "description": MaxSourceChars, "note": MaxSourceChars,
+	"own_prices": MaxSourceChars, "file": MaxSourceChars, "replacement_grant_id": MaxIDChars}
 
 // tooLong reports whether v has more than limit characters.
 func tooLong(v string, limit int) bool {
@@ -80,7 +82,17 @@ type rowIter interface {
 // not a workbook, too large); every problem in the schedule itself, with
 // its sheet and cell, is in the Report, and the Schedule holds the rows
 // that could be read.
-func ReadFile(path string) (*Schedule, *Report, error) { return readFile(path, Sheets) }
+//
+// The price files that relative TSR conditions name are read too, their
+// paths relative to the workbook's folder (or the CSV folder); their
+// problems are in the Report, at the cell that names them.
+func ReadFile(path string) (*Schedule, *Report, error) {
+	s, rep, err := readFile(path, Sheets)
+	if err == nil {
+		rep.Merge(s.loadPrices(scheduleDir(path)))
+	}
+	return s, rep, err
+}
 
 // readFile is ReadFile for the workbook of the given layout (Sheets or
 // DesignSheets).
@@ -448,6 +460,14 @@ func (t *tableReader) readTable() {
 			t.modificationRow(c)
 		case SheetDesigns:
 			t.designRow(c)
+		case SheetConditions:
+			t.conditionRow(c)
+		case SheetAssessments:
+			t.assessmentRow(c)
+		case SheetPayoutCurve:
+			t.payoutRow(c)
+		case SheetPeers:
+			t.peerRow(c)
 		}
 	}
 }
@@ -688,6 +708,7 @@ func (t *tableReader) grantRow(c *rowCtx) {
 		b := v == "yes"
 		g.TaxDeductible = &b
 	}
+	g.Condition, _ = c.text("condition")
 	g.Refs = c.refs
 	if c.failed || !idOK {
 		if idOK {

@@ -32,6 +32,19 @@ func TestSampleBothFormsAgree(t *testing.T) {
 	if len(rx.Errors)+len(rc.Errors) != 0 || !aged(rx) || !aged(rc) {
 		t.Fatalf("sample problems:\nxlsx:\n%scsv:\n%s", problems(rx), problems(rc))
 	}
+	// The price files a relative TSR names are written relative to each
+	// form's folder: the same files by other paths.
+	for _, s := range []*Schedule{sx, sc} {
+		for i := range s.Conditions {
+			if k := &s.Conditions[i]; k.Own != nil {
+				k.OwnPrices, k.Own.File = filepath.Base(k.OwnPrices), filepath.Base(k.Own.File)
+			}
+		}
+		for i := range s.Peers {
+			p := &s.Peers[i]
+			p.File, p.History.File = filepath.Base(p.File), filepath.Base(p.History.File)
+		}
+	}
 	if !reflect.DeepEqual(sx, sc) {
 		for i := range sx.Grants {
 			if !reflect.DeepEqual(sx.Grants[i], sc.Grants[i]) {

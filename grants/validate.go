@@ -51,6 +51,7 @@ func validate(s *Schedule, skip map[string]bool) Report {
 	v.events()
 	v.modifications()
 	v.designs()
+	v.conditions()
 	return v.rep
 }
 

@@ -337,6 +337,9 @@ func sheetRows(s *Schedule, sh *Sheet) [][]any {
 			if g.TaxDeductible != nil {
 				put(row, "tax_deductible", map[bool]string{true: "yes", false: "no"}[*g.TaxDeductible])
 			}
+			if g.Condition != "" {
+				put(row, "condition", g.Condition)
+			}
 			rows = append(rows, row)
 		}
 	case SheetTransfers:
@@ -385,6 +388,8 @@ func sheetRows(s *Schedule, sh *Sheet) [][]any {
 		for _, d := range s.Designs {
 			rows = append(rows, designRowCells(d, n, put))
 		}
+	case SheetConditions, SheetAssessments, SheetPayoutCurve, SheetPeers:
+		rows = conditionRows(s, sh.Name, n, put)
 	}
 	return rows
 }

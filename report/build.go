@@ -172,6 +172,7 @@ func Build(s *grants.Schedule, v *pricing.Valuation, b *accounting.Books, run Ru
 	}
 	m.Expense = expenseModel(b)
 	m.Modifications = modificationsModel(s, v, b)
+	conditionsModel(m, s, v, b)
 	if r := b.Reconciliation; r != nil {
 		m.Prior = priorModel(r.Prior)
 		m.Reconciliation = reconciliationModel(r, v)

@@ -30,6 +30,10 @@ type MemoHook struct {
 
 var memoHooks []MemoHook
 
+// memoSkips leave a hook's section (by Key) out of a memo it reports true
+// for: a section with nothing to show.
+var memoSkips = map[string]func(m *Model) bool{}
+
 // Memo is the PDF being written. Hooks use its methods so that their
 // sections look like the others.
 type Memo struct {
@@ -80,7 +84,11 @@ func WriteMemo(w io.Writer, m *Model) error {
 		{"convergence", "Convergence of the lattice", (*Memo).convergence},
 		{"comparison", "Lattice against simplified-method Black-Scholes-Merton", (*Memo).comparison},
 	}
-	steps = append(steps, memoHooks...)
+	for _, h := range memoHooks {
+		if skip := memoSkips[h.Key]; skip == nil || !skip(m) {
+			steps = append(steps, h)
+		}
+	}
 	steps = append(steps,
 		MemoHook{"warnings", "Warnings", (*Memo).warnings},
 		MemoHook{"caution", "Caution", (*Memo).caution})

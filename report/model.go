@@ -94,7 +94,10 @@ type Model struct {
 	// Modifications are the changes of awards' terms, and cancellations
 	// with a replacement award, dated by the valuation date (modify.go).
 	Modifications []Modification `json:"modifications"`
-	Caution       string         `json:"caution"`
+	// Conditions are the vesting conditions beyond service the grants
+	// carry (conditions.go); absent when none does.
+	Conditions []VestingCondition `json:"conditions,omitempty"`
+	Caution    string             `json:"caution"`
 }
 
 // SchemaVersion is the layout of valuation.json this grantworth writes,
@@ -183,6 +186,10 @@ type Grant struct {
 	Classification string    `json:"classification,omitempty"`
 	ExerciseStyle  string    `json:"exercise_style,omitempty"`
 	Dilution       *Dilution `json:"dilution,omitempty"`
+
+	// Condition is how a vesting condition beyond service entered the
+	// grant's value and expense (conditions.go); absent for service only.
+	Condition *GrantCondition `json:"condition,omitempty"`
 
 	Tranches []Tranche `json:"tranches"`
 }

@@ -40,6 +40,10 @@ type SheetHook struct {
 
 var sheetHooks []SheetHook
 
+// sheetSkips leave a hook's sheet (by Name) out of a workbook it reports
+// true for: a sheet with nothing to show.
+var sheetSkips = map[string]func(m *Model) bool{}
+
 // Book is the workbook being written, with its styles. Hooks use it to add
 // sheets that look like the others.
 type Book struct {
@@ -141,7 +145,11 @@ func WriteWorkbookWith(w io.Writer, m *Model, o WorkbookOptions) error {
 		{SheetSensitivity, writeSensitivity},
 		{SheetConvergence, writeConvergence},
 	}
-	steps = append(steps, sheetHooks...)
+	for _, h := range sheetHooks {
+		if skip := sheetSkips[h.Name]; skip == nil || !skip(m) {
+			steps = append(steps, h)
+		}
+	}
 	steps = append(steps, SheetHook{SheetWarnings, writeWarnings}, SheetHook{SheetAbout, writeAbout})
 	for i, s := range steps {
 		if i == 0 {

@@ -427,19 +427,8 @@ func (am *autoModel) solveLevel(geo *autoGeo, lv int, g *autoGrid, vest []float6
 // Journal of Financial and Quantitative Analysis 25(1)), with the first two
 // moments of the log-price step matched.
 func (am *autoModel) step(g *autoGrid, bar bool, st autoStep) {
-	h, dt := g.h, st.dt
-	nu := st.f - am.q - am.sig*am.sig/2
-	k := int(math.Round(nu * dt / h))
-	eps := (nu*dt - float64(k)*h) / h
-	v := am.sig*am.sig*dt/(h*h) + eps*eps
-	pu, pd := (v+eps)/2, (v-eps)/2
-	if pu < 0 || pd < 0 {
-		// upwind: positive weights at the cost of a variance error
-		r := am.sig * am.sig * dt / (h * h)
-		pu, pd = r/2+math.Max(eps, 0), r/2+math.Max(-eps, 0)
-	}
-	pm := 1 - pu - pd
-	disc := math.Exp(-st.f * dt)
+	dt := st.dt
+	k, pu, pm, pd, disc := am.branch(g.h, st)
 	a := -math.Expm1(-am.lambda * dt)
 	b := 1 - a
 	dl := dt
@@ -491,6 +480,25 @@ func (am *autoModel) step(g *autoGrid, bar bool, st autoStep) {
 	g.l, g.l2 = l2, l
 }
 
+// branch is the trinomial branching of step st on nodes h apart: the shift
+// k of the middle branch (the node nearest the drift), the three
+// probabilities with the first two moments of the log-price step matched,
+// and the step's discount factor.
+func (am *autoModel) branch(h float64, st autoStep) (k int, pu, pm, pd, disc float64) {
+	dt := st.dt
+	nu := st.f - am.q - am.sig*am.sig/2
+	k = int(math.Round(nu * dt / h))
+	eps := (nu*dt - float64(k)*h) / h
+	v := am.sig*am.sig*dt/(h*h) + eps*eps
+	pu, pd = (v+eps)/2, (v-eps)/2
+	if pu < 0 || pd < 0 {
+		// upwind: positive weights at the cost of a variance error
+		r := am.sig * am.sig * dt / (h * h)
+		pu, pd = r/2+math.Max(eps, 0), r/2+math.Max(-eps, 0)
+	}
+	return k, pu, 1 - pu - pd, pd, math.Exp(-st.f * dt)
+}
+
 // trinomialRoll is the inner loop of a step: for each node j,
 // w2[j] = a·ex[j] + cu·w[j+2] + cm·w[j+1] + cd·w[j] and l2[j] = dl + lu·l[j+2]
 // + lm·l[j+1] + ld·l[j], where w and l start one node below the first
@@ -521,18 +529,28 @@ func trinomialRoll(w2, l2, ex, w, l []float64, a, cu, cm, cd, dl, lu, lm, ld flo
 // normal density when it is narrow, and by the trapezoid rule with the
 // Euler-Maclaurin end terms at the barrier when it is wide (narrow).
 func (am *autoModel) read(g *autoGrid, geo *autoGeo, v float64) (val, life float64) {
+	val, life = am.readFrom(g, geo, am.x0, 0, v)
+	return am.preVest(v, val, life)
+}
+
+// readFrom is the value at time t and log price x of a tranche vesting at
+// v ≥ t, and its expected remaining life, from the vested value W and life
+// L on the grid at time v: P(t, v)·E[W(x_v) | x_t = x] and (v − t) +
+// E[L(x_v) | x_t = x], the log price at v normal with mean x + ∫f − q(v−t)
+// − s²/2 and standard deviation s = σ√(v−t).
+func (am *autoModel) readFrom(g *autoGrid, geo *autoGeo, x, t, v float64) (val, life float64) {
 	top := g.top
-	if v == 0 {
-		if geo.bar && am.x0 >= am.xH {
-			return am.spot - am.K, 0
+	if v <= t {
+		if geo.bar && x >= am.xH {
+			return math.Exp(x) - am.K, 0
 		}
-		return g.interp(g.w, top, am.x0, true), g.interp(g.l, top, am.x0, false)
+		return g.interp(g.w, top, x, true), g.interp(g.l, top, x, false)
 	}
-	P := am.curve.Discount(v)
-	s := am.sig * math.Sqrt(v)
-	m := am.x0 - math.Log(P) - am.q*v - s*s/2
+	P := am.curve.Discount(v) / am.curve.Discount(t)
+	s := am.sig * math.Sqrt(v-t)
+	m := x - math.Log(P) - am.q*(v-t) - s*s/2
 	var ew, el float64
-	if geo.narrow(am, v) {
+	if geo.narrow(am, v-t) {
 		ew, el = g.gaussCubic(top, m, s)
 	} else {
 		ew, el = g.gaussTrap(top, m, s, geo.bar)
@@ -541,7 +559,7 @@ func (am *autoModel) read(g *autoGrid, geo *autoGeo, v float64) (val, life float
 		// ∫ above ln H of (e^x − K)φ
 		ew += math.Exp(m+s*s/2)*stdNormCDF((m+s*s-am.xH)/s) - am.K*stdNormCDF((m-am.xH)/s)
 	}
-	return am.preVest(v, P*ew, v+el)
+	return P * ew, v - t + el
 }
 
 // stencil is the first of the four nodes whose cubic interpolates cell c

@@ -126,4 +126,54 @@
 //
 // RunJobs values many grants on all cores, with results in job order that
 // do not depend on the number of workers.
+//
+// # Price hurdles
+//
+// A HurdleAward vests (an option becomes exercisable, a unit is delivered)
+// at the later of each tranche's vest date and the first time the share
+// price is at or above the Hurdle, if that is by its deadline. Before then
+// nothing happens: no exercise, and a leaver forfeits (pre-vesting, so out
+// of fair value). HurdleLattice solves it in auto mode's way: the award
+// once the hurdle is met on auto mode's grid anchored on the exercise
+// multiple (before the vest date, its vest layer carried back by the exact
+// normal law, readFrom), and the award still waiting on a second grid of
+// the same spacing and time layers with a node exactly on the hurdle,
+// where it takes the first one's value; the ladder, Richardson's
+// extrapolation and the estimate are auto mode's (the coarsest level has
+// twice its steps). UpAndInCall is the closed form it meets for a
+// European call watched continuously (Reiner and Rubinstein 1991). Daily
+// closes are the continuous hurdle raised by the continuity correction of
+// Broadie, Glasserman and Kou (1997), with DailyCorrectionTolerance in the
+// estimate. HurdleSim simulates daily closes (and averages of N closes,
+// which only it values) exactly and continuous hurdles by the Brownian
+// bridge, and gives the hitting-time distribution and each tranche's
+// derived service period (the median time to vest on the paths on which it
+// vests, ASC 718-10-55-71). On 40 random up-and-in calls the lattice is
+// within 0.05% of the closed form with a covering estimate, and on
+// employee options and units it agrees with the simulation within their
+// combined error (the tests).
+//
+// # Relative total shareholder return
+//
+// TSRSim values units vesting by the company's TSR rank among its peers:
+// the total returns at the end of the performance period are drawn exactly
+// from correlated geometric Brownian motions (each at the risk-free rate,
+// dividends reinvested; the Cholesky factor of the correlations), from the
+// TSR to date of each company for an award granted during the period; the
+// payout curve (PayoutCurve) and a cap when the company's own TSR is
+// negative set the units; a unit is worth the expected payout times the
+// share price at the end (rate less dividend yield), discounted.
+// Correlations estimates the matrix from price files on common dates, as
+// HistoricalVol does each volatility. The tests check the engine against
+// Margrabe's exchange option (and QuantLib's), a binary outperformance
+// payout against its bivariate-normal closed form, and a large symmetric
+// peer group against the uniform rank.
+//
+// # Simulations of conditions
+//
+// HurdleSim and TSRSim run antithetic pairs with a control variate (the
+// discounted stopped share, mean S0) in blocks of SimBlockPaths paths, each
+// block from its own PCG stream, on all cores, in rounds until every
+// value's standard error is within SimOptions.TargetRelSE of it: the
+// numbers depend on the seed only, never on the number of cores.
 package valuation

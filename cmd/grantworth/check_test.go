@@ -58,12 +58,12 @@ func TestCheckSample(t *testing.T) {
 		if code != 0 {
 			t.Fatalf("check %s: exit %d\n%s%s", p, code, out, errs)
 		}
-		if !strings.Contains(out, "44 grants (37 options, 2 warrants, 5 RSUs)") || !strings.HasSuffix(out, "0 errors, 5 warnings\n") {
+		if !strings.Contains(out, "47 grants (38 options, 2 warrants, 7 RSUs)") || !strings.HasSuffix(out, "0 errors, 5 warnings\n") {
 			t.Errorf("check %s (want the 5 warnings of share valuations more than a quarter old):\n%s", p, out)
 		}
 		code, out, _ = runArgs(t, "check", path, "--json")
 		var res checkResult
-		if code != 0 || json.Unmarshal([]byte(out), &res) != nil || !res.OK || res.Summary.Grants != 44 || res.Summary.Instruments["warrant"] != 2 {
+		if code != 0 || json.Unmarshal([]byte(out), &res) != nil || !res.OK || res.Summary.Grants != 47 || res.Summary.Instruments["warrant"] != 2 {
 			t.Errorf("check --json %s: exit %d\n%s", p, code, out)
 		}
 	}

@@ -32,6 +32,11 @@ func sampleCopy(t *testing.T, edit func(files map[string]string)) string {
 			must(t, os.WriteFile(filepath.Join(dir, n), []byte(s), 0o644))
 		}
 	}
+	// The price files the relative TSR condition names, beside the folder
+	// as in sample/.
+	for _, d := range []string{"peers", "prices"} {
+		must(t, os.CopyFS(filepath.Join(filepath.Dir(dir), d), os.DirFS(filepath.Join("..", "..", "sample", d))))
+	}
 	return dir
 }
 
@@ -252,7 +257,7 @@ func TestOldInputsWarned(t *testing.T) {
 	})
 	code, out, _ := runArgs(t, "check", dir)
 	for _, want := range []string{
-		`Rates!A66 (curve_date): warning: "2025-09-30" is the rate curve in force, more than 3 months old at the measurement dates of 9 grants, TW-028 (3 months 13 days), TW-029 (4 months 14 days), TW-030 (5 months 8 days), TW-031 (6 months 8 days), TW-032 (7 months 3 days) and 4 more: add a Rates curve dated nearer the measurement date` + "\n",
+		`Rates!A66 (curve_date): warning: "2025-09-30" is the rate curve in force, more than 3 months old at the measurement dates of 10 grants, TW-028 (3 months 13 days), TW-029 (4 months 14 days), TW-030 (5 months 8 days), TW-031 (6 months 8 days), TW-032 (7 months 3 days) and 5 more: add a Rates curve dated nearer the measurement date` + "\n",
 		`Share Prices!A2 (date): warning: "2023-09-30" is the share valuation in force, more than 3 months old at the measurement dates of 4 grants, TW-004 (3 months 11 days), TW-005 (4 months 5 days), TW-006 (5 months 12 days), TW-040 (4 months 16 days): check that the share's fair value has not moved since, or add a Share Prices row nearer the date` + "\n",
 	} {
 		if !strings.Contains(out, want) {

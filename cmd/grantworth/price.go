@@ -37,6 +37,7 @@ type priceOptions struct {
 	Paths             int
 	Seed              uint64
 	JSON              bool
+	Hurdle            hurdleFlags // price_hurdle.go
 }
 
 func (o *priceOptions) diluted() bool { return o.SharesOutstanding > 0 }
@@ -85,6 +86,16 @@ by default the share price already reflects the warrants (Galai-Schneller);
 American (rational exercise) unless --european; --method bsm values them
 European.
 
+With --hurdle H the award becomes exercisable only once the share price has
+been at or above H, by --hurdle-years (default: expiry); it combines with
+vesting, the multiple and exits. --hurdle-monitoring daily (the default)
+watches closing prices, 252 a year; continuous is the textbook barrier,
+with which --european is exactly the up-and-in call of Reiner and
+Rubinstein (--method bsm gives that closed form). --hurdle-days N watches
+the average of the last N closes (--method mc only). --method mc also
+prints the probability of meeting the hurdle and the derived service
+period (the median time to vest on the paths that vest).
+
 The figures are estimates, not an audit opinion: defer to licensed auditors
 or valuation professionals and the accounting rules that apply to you
 (ASC 718, IFRS 2 or local rules).`,
@@ -102,6 +113,13 @@ or valuation professionals and the accounting rules that apply to you
   # unvested holders leave a year (a planning figure, never the fair value)
   grantworth price --spot 12 --strike 12 --years 10 --vol 0.55 --rate 0.04 \
       --vest-years 4 --exercise-multiple 2.5 --exit-rate 0.08 --forfeiture-rate 0.1
+
+  # The same option exercisable only once the share has closed at or above 18
+  # within 4 years; and the textbook up-and-in call against its closed form
+  grantworth price --spot 12 --strike 12 --years 10 --vol 0.55 --rate 0.04 \
+      --vest-years 4 --exercise-multiple 2.5 --exit-rate 0.08 --hurdle 18 --hurdle-years 4
+  grantworth price --spot 12 --strike 12 --years 4 --vol 0.55 --rate 0.04 \
+      --european --hurdle 18 --hurdle-monitoring continuous
 
   # Warrants Tarnwick issued to a lender: 400,000 on 25,000,000 shares, American
   grantworth price --spot 12 --strike 15 --years 7 --vol 0.55 --rate 0.04 \
@@ -138,6 +156,7 @@ or valuation professionals and the accounting rules that apply to you
 	f.IntVar(&opts.Paths, "paths", 100000, "Monte Carlo paths (with --method mc)")
 	f.Uint64Var(&opts.Seed, "seed", 1, "Monte Carlo seed (with --method mc)")
 	f.BoolVar(&opts.JSON, "json", false, "print one JSON object")
+	addHurdleFlags(f, &opts.Hurdle)
 	return cmd
 }
 
@@ -205,6 +224,9 @@ func (o *priceOptions) check(cmd *cobra.Command, method string) error {
 	case o.NewIssue && !f.Changed("warrants"):
 		return badInput("--new-issue needs --shares-outstanding and --warrants")
 	}
+	if err := o.checkHurdle(cmd, method); err != nil {
+		return err
+	}
 	switch method {
 	case "lattice":
 		o.Method = valuation.MethodLattice
@@ -235,6 +257,7 @@ type priceResult struct {
 	Mode            string // auto, raw, closed form, Monte Carlo
 	BSM, Simplified valuation.Result
 	Opts            *priceOptions
+	Hurdle          *valuation.HurdleSimResult // --hurdle with --method mc
 }
 
 // dilute applies the options' dilution (if any) to a value function of the
@@ -264,6 +287,9 @@ func (o *priceOptions) dilute(value func(valuation.Market) (valuation.Result, er
 }
 
 func computePrice(o *priceOptions) (*priceResult, error) {
+	if o.Hurdle.set() {
+		return computeHurdlePrice(o)
+	}
 	t := o.terms()
 	res := &priceResult{Opts: o}
 	var err error
@@ -362,6 +388,9 @@ func printPriceText(w io.Writer, r *priceResult) {
 			strings.SplitN(what, ",", 2)[0], valuation.ExpectedCost(r.Main.Value, o.ForfeitureRate, o.VestYears),
 			valuation.SurvivalToVest(o.ForfeitureRate, o.VestYears), o.VestYears, o.ForfeitureRate)
 	}
+	if o.Hurdle.set() {
+		printHurdleText(w, r)
+	}
 	fmt.Fprintln(w, "\nBlack-Scholes-Merton comparison (exercise at expiry):")
 	tw = tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
 	fmt.Fprintf(tw, "  on the contractual term\t%.2f years\t%.4f\n", r.BSM.ExpectedTermYears, r.BSM.Value)
@@ -439,6 +468,7 @@ func printPriceJSON(w io.Writer, r *priceResult) error {
 		BSMSimplified     comparison    `json:"bsm_simplified"`
 		Dilution          *dilution     `json:"dilution,omitempty"`
 		ExpectedCost      *expectedCost `json:"expected_cost,omitempty"`
+		Hurdle            *hurdleJSON   `json:"hurdle,omitempty"`
 		Inputs            inputs        `json:"inputs"`
 	}{
 		Value: r.Main.Value, ErrorEstimate: r.Main.ErrorEstimate, ExpectedTermYears: r.Main.ExpectedTermYears,
@@ -451,6 +481,7 @@ func printPriceJSON(w io.Writer, r *priceResult) error {
 	if o.Method == valuation.MethodMC {
 		out.Inputs.Paths, out.Inputs.Seed = o.Paths, &o.Seed
 	}
+	out.Hurdle = hurdleJSONOf(r)
 	if o.ForfeitureRate > 0 {
 		out.ExpectedCost = &expectedCost{valuation.ExpectedCost(r.Main.Value, o.ForfeitureRate, o.VestYears), o.ForfeitureRate,
 			valuation.SurvivalToVest(o.ForfeitureRate, o.VestYears), "planning figure with pre-vesting forfeiture; not a fair value"}

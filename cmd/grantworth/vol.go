@@ -18,6 +18,7 @@ import (
 	"gonum.org/v1/plot/plotutil"
 	"gonum.org/v1/plot/vg"
 
+	"grantworth/grants"
 	"grantworth/valuation"
 )
 
@@ -124,7 +125,7 @@ or valuation professionals and the accounting rules that apply to you
 // volPeer is one peer's estimate.
 type volPeer struct {
 	Name    string
-	History *priceHistory
+	History *grants.PriceHistory
 	Est     valuation.VolEstimate
 }
 
@@ -144,13 +145,13 @@ type volReport struct {
 }
 
 func runVol(opts *volOptions) error {
-	hists := make([]*priceHistory, 0, len(opts.Files))
+	hists := make([]*grants.PriceHistory, 0, len(opts.Files))
 	for _, name := range opts.Files {
 		f, err := os.Open(name)
 		if err != nil {
 			return asInput(err)
 		}
-		h, err := parsePrices(io.LimitReader(f, 64<<20), name)
+		h, err := grants.ParsePrices(io.LimitReader(f, 64<<20), name)
 		f.Close()
 		if err != nil {
 			return asInput(err)
@@ -180,7 +181,7 @@ func runVol(opts *volOptions) error {
 }
 
 // volCommonLastDate is the latest date present in every history.
-func volCommonLastDate(hists []*priceHistory) (time.Time, bool) {
+func volCommonLastDate(hists []*grants.PriceHistory) (time.Time, bool) {
 	count := map[time.Time]int{}
 	for _, h := range hists {
 		for _, p := range h.Points {
@@ -201,7 +202,7 @@ func volPeerName(file string) string {
 }
 
 // estimateVol computes the report from parsed histories (no I/O).
-func estimateVol(opts *volOptions, hists []*priceHistory) (*volReport, error) {
+func estimateVol(opts *volOptions, hists []*grants.PriceHistory) (*volReport, error) {
 	rep := &volReport{Frequency: opts.Frequency, AsOf: opts.AsOf, Proposed: opts.Propose}
 	if rep.AsOf.IsZero() {
 		d, ok := volCommonLastDate(hists)
@@ -255,7 +256,7 @@ func estimateVol(opts *volOptions, hists []*priceHistory) (*volReport, error) {
 			Frequency: opts.Frequency, AsOf: rep.AsOf, MinObservations: opts.MinObservations,
 		})
 		if err != nil {
-			return nil, asInput(&priceFileError{File: h.File, Line: lastLine, Err: err})
+			return nil, asInput(&grants.PriceFileError{File: h.File, Line: lastLine, Err: err})
 		}
 		if gap := est.First.Sub(rep.WindowStart); gap > 10*24*time.Hour {
 			rep.Warnings = append(rep.Warnings, fmt.Sprintf("%s: prices start %s, %.1f years after the window starts (%s)",

@@ -118,6 +118,7 @@ func AwardsOf(s *grants.Schedule, v *pricing.Valuation) ([]Award, []string, erro
 		if err != nil {
 			return nil, nil, fmt.Errorf("expense: %w", err)
 		}
+		a.Condition = ConditionOf(s, gv, end)
 		if shares > 0 {
 			a.Measured = &MeasuredAssumptions{Volatility: gv.Inputs.Volatility.Value, RiskFreeRate: rate / shares,
 				DividendYield: gv.Inputs.DividendYield.Value, ExpectedTermYears: term / shares}

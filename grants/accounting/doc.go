@@ -197,6 +197,49 @@
 // values (Locks); a change first recorded after the quarter it is dated in
 // was closed is a catch-up of the open quarter (late_modification).
 //
+// # Vesting conditions beyond service
+//
+// An award may vest on a condition besides service (Award.Condition, made
+// by ConditionOf from the schedule's Conditions and Assessments and from
+// pricing's valuation of the condition).
+//
+// A performance condition (revenue, earnings, a milestone) is not in the
+// fair value per unit (ASC 718-10-30-27, IFRS 2.19). Its cost follows the
+// probable outcome (ASC 718-10-25-20; IFRS 2.20 asks for the best estimate
+// of the number that will vest, the same figure here): each day counts the
+// share of target units named by the latest assessment dated on or before
+// it (its expected payout while probable, nothing while improbable, the
+// target payout before the first), and only assessments dated by the
+// period end count. The cumulative cost is the attribution above times
+// that share, so a change of assessment is trued up at once, cumulatively,
+// on its date, and a condition that becomes improbable reverses all the
+// cost recognised on it (ASC 718-10-35-3, from memory).
+// TestPerformanceConditionProbableImprobable works 1,000 units at 20.00
+// through probable, improbable and probable at 150% by hand.
+//
+// A market condition (a price hurdle, relative TSR) is in the fair value
+// (ASC 718-10-30-14, IFRS 2.21). Its cost is recognised over the requisite
+// service and is not reversed when the condition is not met, only when the
+// service is not rendered (a forfeiture); a relative TSR award's cost is
+// not trued up for the payout achieved (TestMarketConditionMissedKeepsExpense).
+// Each tranche's requisite service runs to the later of its vest date and
+// the end the condition sets (Conditioned.ServiceEnd): for a price hurdle
+// the derived service period, the median time to vest on the simulated
+// paths on which the tranche vests (ASC 718-10-55-71), estimated at grant
+// and not revised (IFRS 2.15(b)); for relative TSR the end of the
+// performance period. When a hurdle is met (Conditioned.Met), each
+// tranche's service ends at the later of that day and its vest date, never
+// later than before, so the rest of its cost is recognised by then
+// (TestMarketConditionMetEarly). The forfeiture estimate runs to the end of
+// the requisite service, and a straight-line award's floor counts a
+// tranche once that service is done.
+//
+// Not modelled: share counts (the roll-forwards, the outstanding and
+// vested-and-expected tables) follow the vest dates whatever the
+// condition; an award that lapses because its market condition was not
+// met leaves them only through an event the company records (expired,
+// once its vest date has passed), and its cost stays.
+//
 // # Fiscal calendar
 //
 // Policy.Calendar (grants.FiscalCalendar, from the Company keys

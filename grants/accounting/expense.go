@@ -52,6 +52,9 @@ type Award struct {
 	// cancellation it replaces (modify.go).
 	Modified *Modified
 	Replaces *Replaces
+	// Condition is how a vesting condition beyond service changes the
+	// attribution (ConditionOf); nil for service only.
+	Condition *Conditioned
 }
 
 // Policy is the company's attribution and forfeiture policy, the standard
@@ -157,6 +160,10 @@ type GrantExpense struct {
 	ByCostCenter []CostCenterAmount
 
 	Tranches []TrancheExpense
+	// Condition is how a vesting condition beyond service changed the
+	// attribution (nil for service only): the outcomes assessed, the
+	// requisite service ends, the day a hurdle was met.
+	Condition *Conditioned
 }
 
 // FinancingWarrant is a warrant issued in a financing (to a lender or an
@@ -438,7 +445,7 @@ func (p *period) expense() *ExpenseReport {
 			}
 			continue
 		}
-		ge := GrantExpense{GrantID: g.ID, Holder: g.Holder, Instrument: g.Instrument, Liability: l.liability, GrantDate: g.GrantDate, ServiceStart: l.start, ServiceEnd: l.last}
+		ge := GrantExpense{GrantID: g.ID, Holder: g.Holder, Instrument: g.Instrument, Liability: l.liability, GrantDate: g.GrantDate, ServiceStart: l.start, ServiceEnd: l.last, Condition: l.in.Condition}
 		// The opening balances: as restated (s0), or as the prior close
 		// booked them (nothing for a grant it did not have).
 		bookedTranche := func(i int) float64 { return s0.comp[i] }
@@ -465,8 +472,8 @@ func (p *period) expense() *ExpenseReport {
 		for i, t := range l.tr {
 			c := t.countsAt(periodEnd)
 			live := c.live(t.Tranche.Shares)
-			if live > 0 {
-				lastLive = t.Tranche.VestDate
+			if e := t.serviceEnd(dayNum(periodEnd)); live > 0 && e.After(lastLive) {
+				lastLive = e
 			}
 			q := t.expected(dayNum(periodEnd), l.rate)
 			fv := t.FairValue
@@ -475,7 +482,7 @@ func (p *period) expense() *ExpenseReport {
 			}
 			te := TrancheExpense{
 				Index: t.Tranche.Index, VestDate: t.Tranche.VestDate, ServiceStart: t.start,
-				Shares: t.Tranche.Shares, SharesCounted: float64(live)*q + float64(c.accelerated),
+				Shares: t.Tranche.Shares, SharesCounted: float64(live)*q*l.outcome(dayNum(periodEnd)) + float64(c.accelerated),
 				FairValue: fv, GrantDateFairValue: t.FairValue, ExpectedShare: q,
 				Cost: sInf.comp[i], CumulativeOpen: bookedTranche(i), Cumulative: s1.comp[i],
 			}
@@ -484,7 +491,7 @@ func (p *period) expense() *ExpenseReport {
 			if te.Unrecognized < 1e-9*math.Max(1, te.Cost) {
 				te.Unrecognized = 0
 			}
-			if left := valuation.Days(shiftDays(periodEnd, 1), t.Tranche.VestDate); left > 0 && te.Unrecognized > 0 {
+			if left := valuation.Days(shiftDays(periodEnd, 1), t.serviceEnd(dayNum(periodEnd))); left > 0 && te.Unrecognized > 0 {
 				te.RemainingYears = float64(left) / 365
 			}
 			ge.Tranches = append(ge.Tranches, te)

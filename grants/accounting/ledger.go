@@ -55,7 +55,11 @@ type trancheLedger struct {
 	days  int       // service days
 	// day numbers (dn) of the service start and the vest date
 	startN, vestN int
-	moves         []move
+	// endN is the last day of the requisite service (the vest date unless
+	// a market condition sets a later one); from day metN on (a hurdle
+	// met; MaxInt until then) it is metEndN (conditions.go).
+	endN, metN, metEndN int
+	moves               []move
 	// A ledger of an award that a change touched has one entry per part
 	// of a tranche (modify.go): of is the index of its tranche in
 	// Award.Tranches, origN the day number of that tranche's vest date as
@@ -88,6 +92,9 @@ type awardLedger struct {
 	layered  bool
 	typeIII  bool
 	replaced *replacedBy
+	// asOfN is the last day whose events (and a condition's assessments)
+	// are known.
+	asOfN int
 	// the cost centres the grant's service is rendered in, and when
 	centres []string
 	spans   []centreSpan
@@ -145,7 +152,7 @@ func newAwardLedger(a *Award, pol Policy, asOf time.Time) (*awardLedger, error) 
 	if len(a.Tranches) == 0 {
 		return nil, fmt.Errorf("grant %s: no tranches", g.ID)
 	}
-	l := &awardLedger{in: a, liability: g.IsLiability(), financing: g.IsFinancing(), start: ServiceStart(g)}
+	l := &awardLedger{in: a, liability: g.IsLiability(), financing: g.IsFinancing(), start: ServiceStart(g), asOfN: dayNum(asOf)}
 	if pol.Forfeitures == grants.Estimate {
 		l.rate = pol.PreVestingForfeitureRate
 	}
@@ -165,9 +172,9 @@ func newAwardLedger(a *Award, pol Policy, asOf time.Time) (*awardLedger, error) 
 		if !g.ExpiryDate.IsZero() && tc.Tranche.VestDate.After(g.ExpiryDate) {
 			return nil, fmt.Errorf("grant %s tranche %d: vests %s, after expiry %s", g.ID, tc.Tranche.Index, tc.Tranche.VestDate.Format(time.DateOnly), g.ExpiryDate.Format(time.DateOnly))
 		}
-		t := trancheLedger{TrancheCost: tc, start: l.start, startN: dayNum(l.start), vestN: dayNum(tc.Tranche.VestDate), of: i}
+		t := trancheLedger{TrancheCost: tc, start: l.start, startN: dayNum(l.start), vestN: dayNum(tc.Tranche.VestDate), metN: math.MaxInt, of: i}
 		t.days = t.vestN - t.startN
-		t.origN = t.vestN
+		t.endN, t.origN = t.vestN, t.vestN
 		l.tr = append(l.tr, t)
 	}
 	l.last = a.Tranches[len(a.Tranches)-1].Tranche.VestDate
@@ -181,6 +188,7 @@ func newAwardLedger(a *Award, pol Policy, asOf time.Time) (*awardLedger, error) 
 		}
 		l.cut(asOf)
 	}
+	l.applyCondition()
 	if len(a.Remeasurements) > 0 && !l.liability {
 		return nil, fmt.Errorf("grant %s: remeasurements given but it is not a liability-classified warrant", g.ID)
 	}
@@ -252,10 +260,11 @@ func (t *trancheLedger) vestedN(d int) bool { return t.vestN <= d }
 // (or the service start) to the day before vesting; 1 once vested or with
 // no forfeiture rate.
 func (t *trancheLedger) expected(d int, rate float64) float64 {
-	if t.vestedN(d) || rate == 0 {
+	end := t.endAt(d)
+	if end <= d || rate == 0 {
 		return 1
 	}
-	return valuation.SurvivalToVest(rate, float64(t.vestN-max(t.startN, d+1))/365)
+	return valuation.SurvivalToVest(rate, float64(end-max(t.startN, d+1))/365)
 }
 
 // pricedEvent is an event with the share price on its date.
@@ -380,10 +389,11 @@ func (l *awardLedger) attribute(pol Policy, value []float64, d, known, endN int,
 		return
 	}
 	kd := min(d, known)
-	q := func(i int) float64 { return l.tr[i].expected(kd, rate) }
+	o := l.outcome(d) // a performance condition's probable outcome
+	q := func(i int) float64 { return l.tr[i].expected(kd, rate) * o }
 	if pol.Attribution == grants.Graded {
 		for i := range l.tr {
-			out[i] = value[i] * q(i) * serviceFraction(l.tr[i].startN, l.tr[i].days, d)
+			out[i] = value[i] * q(i) * serviceFraction(l.tr[i].startN, l.tr[i].daysAt(d), d)
 		}
 		return
 	}
@@ -391,7 +401,7 @@ func (l *awardLedger) attribute(pol Policy, value []float64, d, known, endN int,
 	for i := range l.tr {
 		v := value[i] * q(i)
 		total += v
-		if l.tr[i].vestedN(d) {
+		if l.tr[i].endAt(d) <= d { // vested, the requisite service done
 			floor += v
 		} else {
 			unvested += v
@@ -402,7 +412,7 @@ func (l *awardLedger) attribute(pol Policy, value []float64, d, known, endN int,
 	for i := range l.tr {
 		v := value[i] * q(i)
 		switch {
-		case l.tr[i].vestedN(d):
+		case l.tr[i].endAt(d) <= d:
 			out[i] = v
 		case unvested > 0:
 			out[i] = rest * v / unvested
@@ -506,7 +516,7 @@ func (l *awardLedger) atView(pol Policy, v view, comp []float64) snapshot {
 		}
 		return s
 	}
-	endN := l.serviceEndN(counts)
+	endN := l.serviceEndN(counts, d)
 	if !l.liability {
 		for i := range l.tr {
 			value[i] = l.tr[i].FairValue * float64(counts[i].live(l.tr[i].Tranche.Shares))
@@ -546,17 +556,25 @@ func (l *awardLedger) settledN(i int, v view) float64 {
 	return x
 }
 
-// serviceEndN is the day number of the last vest date of a tranche with
-// shares whose cost still counts (not forfeited or cancelled before
-// vesting): where straight-line attribution ends. With none, the last
-// vest date.
-func (l *awardLedger) serviceEndN(counts []trancheCounts) int {
-	for i := len(l.tr) - 1; i >= 0; i-- {
+// serviceEndN is the day number of the latest end of requisite service,
+// as known at the end of day d, of a tranche with shares whose cost still
+// counts (not forfeited or cancelled before vesting): where straight-line
+// attribution ends. The end is the vest date unless a market condition
+// sets a later one (trancheLedger.endAt). With no such tranche, the
+// latest end of any.
+func (l *awardLedger) serviceEndN(counts []trancheCounts, d int) int {
+	end, any := 0, 0
+	for i := range l.tr {
+		e := l.tr[i].endAt(d)
+		any = max(any, e)
 		if counts[i].live(l.tr[i].Tranche.Shares) > 0 {
-			return l.tr[i].vestN
+			end = max(end, e)
 		}
 	}
-	return l.tr[len(l.tr)-1].vestN
+	if end == 0 {
+		return any
+	}
+	return end
 }
 
 // costs is the award's expected total compensation cost and its

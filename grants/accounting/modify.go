@@ -210,6 +210,7 @@ func (l *awardLedger) cut(asOf time.Time) {
 		}
 		t.vestN = dayNum(t.Tranche.VestDate)
 		t.days = t.vestN - t.startN
+		t.endN = t.vestN
 		if t.Tranche.VestDate.After(l.last) {
 			l.last = t.Tranche.VestDate
 		}

@@ -183,7 +183,7 @@ func (l *awardLedger) taxBasis(pol Policy, ifrs bool, d int, price float64) (bas
 		return cost, cost
 	}
 	est := make([]float64, n)
-	l.attribute(pol, value, d, d, l.serviceEndN(counts), l.rate, est)
+	l.attribute(pol, value, d, d, l.serviceEndN(counts, d), l.rate, est)
 	for _, v := range est {
 		basis += v
 	}

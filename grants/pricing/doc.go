@@ -47,6 +47,33 @@
 //     (ExpectedTermRate), the last being the rate disclosed for the
 //     period's grants.
 //
+// # Vesting conditions
+//
+// A grant may carry a condition besides service (grants.Inputs.Condition),
+// and the dispatch decides its method here too (conditions.go):
+//
+//   - A performance condition stays out of the fair value (ASC
+//     718-10-30-27, IFRS 2.19): the grant is valued as the same award with
+//     service vesting only; the accounting follows its probable outcome.
+//   - A price hurdle on the closing price is valued on the hurdle lattice
+//     (valuation.HurdleLattice), and simulated beside it
+//     (valuation.HurdleSim, at HurdleCheckTarget) as the check: z per
+//     tranche, a warning past MonteCarloZLimit. The simulation also gives
+//     the probability of meeting the hurdle, its hitting-time distribution
+//     and each tranche's derived service period (ASC 718-10-55-71), which
+//     the accounting runs the expense to; and the award is valued without
+//     its hurdle for the memo.
+//   - A hurdle on an average of closing prices, and relative TSR
+//     (valuation.TSRSim, its volatilities, correlations and TSR to date
+//     from the price files), are valued by simulation at SimTarget.
+//
+// Each grant simulates with a seed derived from its grant ID, so its
+// numbers are the same in every close wherever it sits in the ledger; the
+// sensitivity cases reuse it (common random numbers). Market-condition
+// grants are left out of the generic checks (convergence, the Monte Carlo
+// sample, the missed-target list), which value the award without its
+// condition. GrantValue.Condition holds what was found.
+//
 // # After a prior close
 //
 // Options.Locks are the measurements a prior close filed

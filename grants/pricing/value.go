@@ -60,6 +60,10 @@ type Options struct {
 	// correction of an error.
 	Locks   map[string]Lock
 	Correct []string
+	// SimTarget scales the standard errors the simulations of market
+	// conditions aim for (conditions.go): 0 or 1 as set there, 4 four
+	// times as loose (quick runs and tests).
+	SimTarget float64
 }
 
 // GrantValue is one grant's inputs and the value of each of its tranches.
@@ -90,6 +94,9 @@ type GrantValue struct {
 	// ExpectedTermRate at its expected term (Results' ExpectedTermYears),
 	// the rate disclosed for the period's grants; all 0 without a curve.
 	RiskFreeRate, SimplifiedRate, ExpectedTermRate []float64
+	// Condition is how a market condition was valued (conditions.go);
+	// nil without one.
+	Condition *ConditionValue
 }
 
 // FairValueTotal is the sum over the tranches of value times shares.
@@ -256,7 +263,7 @@ func revaluationDates(cal grants.FiscalCalendar, gv *GrantValue, end time.Time, 
 // expense attribution needs. The result depends only on the schedule and
 // opts, never on the number of cores.
 func Value(s *grants.Schedule, ins []grants.Inputs, opts Options) (*Valuation, error) {
-	p := &pricer{s: s, opts: opts.Lattice}
+	p := &pricer{s: s, opts: opts.Lattice, simScale: max(opts.SimTarget, 1)}
 	v := &Valuation{Options: opts, Grants: make([]GrantValue, len(ins))}
 	for i := range ins {
 		v.Grants[i].Inputs = ins[i]
@@ -303,6 +310,9 @@ func Value(s *grants.Schedule, ins []grants.Inputs, opts Options) (*Valuation, e
 	if err := p.missedTarget(v); err != nil {
 		return nil, err
 	}
+	if err := p.conditions(v); err != nil {
+		return nil, err
+	}
 	v.Revaluations = map[string][]Revaluation{}
 	_, end := s.Period()
 	for i := range v.Grants {
@@ -336,10 +346,14 @@ func Value(s *grants.Schedule, ins []grants.Inputs, opts Options) (*Valuation, e
 	return v, nil
 }
 
-// pricer holds a run's schedule and lattice settings.
+// pricer holds a run's schedule and lattice settings, and the base case's
+// condition valuations (conditions.go).
 type pricer struct {
-	s    *grants.Schedule
-	opts valuation.LatticeOptions
+	s        *grants.Schedule
+	opts     valuation.LatticeOptions
+	mu       sync.Mutex
+	conds    map[string]*ConditionValue
+	simScale float64 // Options.SimTarget
 }
 
 // dilution is how a warrant grant dilutes: its own shares against the
@@ -483,6 +497,14 @@ func (p *pricer) valueSet(gs []GrantValue, sh shift, progress func(done, total i
 			return nil, nil, err
 		}
 		g := in.Grant
+		if in.Condition.Market() {
+			rs, err := p.marketValue(in, terms, m, sh)
+			if err != nil {
+				return nil, nil, err
+			}
+			out[i] = rs
+			continue
+		}
 		if sh.name != "" && g.Instrument != grants.RSU && len(terms) > 0 {
 			t := terms[0]
 			if g.Instrument == grants.Warrant {
@@ -689,7 +711,7 @@ func representative(gs []GrantValue) (*GrantValue, int) {
 	for pass := 0; pass < 2 && best == nil; pass++ {
 		for i := range gs {
 			gv := &gs[i]
-			if gv.Inputs.Grant.Instrument == grants.RSU || (pass == 0 && gv.Inputs.Grant.Instrument != grants.Option) {
+			if gv.Inputs.Grant.Instrument == grants.RSU || market(gv) || (pass == 0 && gv.Inputs.Grant.Instrument != grants.Option) {
 				continue
 			}
 			for k, t := range gv.Inputs.Tranches {
@@ -772,7 +794,7 @@ func monteCarloSample(gs []GrantValue) (picks []mcPick, rational bool) {
 	for i := range gs {
 		gv := &gs[i]
 		g := gv.Inputs.Grant
-		if g.Instrument != grants.Option && g.Instrument != grants.Warrant {
+		if g.Instrument != grants.Option && g.Instrument != grants.Warrant || market(gv) {
 			continue
 		}
 		best, bv := -1, -1.0
@@ -897,7 +919,7 @@ func (p *pricer) missedTarget(v *Valuation) error {
 	var picks []mcPick
 	for i := range v.Grants {
 		gv := &v.Grants[i]
-		if g := gv.Inputs.Grant; g.Instrument != grants.Option && g.Instrument != grants.Warrant {
+		if g := gv.Inputs.Grant; g.Instrument != grants.Option && g.Instrument != grants.Warrant || market(gv) {
 			continue
 		}
 		for k, r := range gv.Results {

@@ -126,8 +126,12 @@ func TestValueSample(t *testing.T) {
 		if len(gv.Results) != len(gv.Inputs.Tranches) || len(gv.BSM) != len(gv.Inputs.Tranches) {
 			t.Fatalf("grant %s: %d results, %d BSM for %d tranches", g.ID, len(gv.Results), len(gv.BSM), len(gv.Inputs.Tranches))
 		}
+		limit := gv.Inputs.Market.Spot
+		if c := gv.Inputs.Condition; c != nil && c.TSR != nil {
+			limit *= c.TSR.Award.Payout.Max() // units paying up to that many shares each
+		}
 		for k, r := range gv.Results {
-			if !(r.Value > 0) || r.Value > gv.Inputs.Market.Spot {
+			if !(r.Value > 0) || r.Value > limit {
 				t.Errorf("grant %s tranche %d: value %g outside (0, spot %g]", g.ID, k+1, r.Value, gv.Inputs.Market.Spot)
 			}
 		}

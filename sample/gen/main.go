@@ -36,7 +36,11 @@
 //     whose cliff is waived and exercise window extended to a year, the
 //     rest of the grant forfeited that day (improbable to probable);
 //   - a rate curve at every quarter end, zero rates until 2026-03-31 and
-//     government par yields (par-semiannual) from 2026-06-30 on.
+//     government par yields (par-semiannual) from 2026-06-30 on;
+//   - one award vesting on each kind of condition beyond service: a
+//     performance condition, a price hurdle and relative TSR
+//     (conditions.go), with Tarnwick's own daily closes in
+//     sample/prices/tarnwick.csv for the relative TSR.
 //
 // It also writes sample/quarters/: the same schedule as the finance team
 // held it at four quarter ends, 2025-12-31 to 2026-09-30, one CSV folder
@@ -266,6 +270,7 @@ func Schedule() *grants.Schedule {
 		}
 		q = grants.AddMonths(q.AddDate(0, 0, 1), 3).AddDate(0, 0, -1)
 	}
+	addConditions(s)
 	return s
 }
 
@@ -315,6 +320,7 @@ func AsKnownAt(s *grants.Schedule, d time.Time) *grants.Schedule {
 			q.Rates = append(q.Rates, r)
 		}
 	}
+	conditionsKnownAt(&q, s, d)
 	return &q
 }
 
@@ -358,10 +364,14 @@ func run(dir string) error {
 	if err := os.WriteFile(filepath.Join(dir, "tarnwick.xlsx"), buf.Bytes(), 0o644); err != nil {
 		return err
 	}
+	if err := ownCloses(dir, s); err != nil {
+		return err
+	}
 	csvDir := filepath.Join(dir, "tarnwick-csv")
 	if err := os.MkdirAll(csvDir, 0o755); err != nil {
 		return err
 	}
+	relocate(s, 1)
 	if err := grants.WriteCSVDir(csvDir, s); err != nil {
 		return err
 	}
@@ -370,6 +380,7 @@ func run(dir string) error {
 		if err := os.MkdirAll(d, 0o755); err != nil {
 			return err
 		}
+		relocate(q, 2)
 		if err := grants.WriteCSVDir(d, q); err != nil {
 			return err
 		}

@@ -36,9 +36,10 @@ func TestGeneratorReproducesSample(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	// tarnwick.xlsx and a CSV file per sheet, designs.xlsx, and a CSV file
-	// per sheet for each of the four quarters.
-	if want := 1 + len(grants.Sheets) + 1 + 4*len(grants.Sheets); n != want {
+	// tarnwick.xlsx and a CSV file per sheet, designs.xlsx,
+	// prices/tarnwick.csv (the company's closes for its relative TSR
+	// award), and a CSV file per sheet for each of the four quarters.
+	if want := 1 + len(grants.Sheets) + 1 + 1 + 4*len(grants.Sheets); n != want {
 		t.Errorf("generator wrote %d files, want %d", n, want)
 	}
 }

@@ -1,4 +1,4 @@
-package main
+package grants
 
 import (
 	"encoding/csv"
@@ -12,7 +12,9 @@ import (
 	"grantworth/valuation"
 )
 
-// Price history files for `grantworth vol`.
+// Price history files: the peers' closing prices that `grantworth vol`
+// reads, and the company's and its peers' prices that a relative TSR
+// condition names (the Peers sheet and the Conditions sheet's own_prices).
 //
 // A file is CSV with a header row naming the columns, matched
 // case-insensitively ignoring spaces and underscores: `date` (ISO
@@ -22,37 +24,37 @@ import (
 // Rows must be in increasing date order with no date twice and every price
 // a positive number. Blank lines are skipped.
 
-// maxPriceRows bounds a price file: 100,000 rows is four centuries of
+// MaxPriceRows bounds a price file: 100,000 rows is four centuries of
 // trading days. Sizes claimed by a file are never trusted beyond it.
-const maxPriceRows = 100_000
+const MaxPriceRows = 100_000
 
-// Sentinels wrapped by priceFileError, for errors.Is in tests.
+// Sentinels wrapped by PriceFileError, for errors.Is in tests.
 var (
-	errPriceHeader = errors.New("bad header")
-	errPriceDate   = errors.New("bad date")
-	errPriceValue  = errors.New("bad price")
-	errPriceOrder  = errors.New("dates out of order")
-	errPriceCount  = errors.New("too few prices")
+	ErrPriceHeader = errors.New("bad header")
+	ErrPriceDate   = errors.New("bad date")
+	ErrPriceValue  = errors.New("bad price")
+	ErrPriceOrder  = errors.New("dates out of order")
+	ErrPriceCount  = errors.New("too few prices")
 )
 
-// priceFileError locates a problem in a price file.
-type priceFileError struct {
+// PriceFileError locates a problem in a price file.
+type PriceFileError struct {
 	File string
 	Line int // 1-based; 0 when the problem is the file as a whole
 	Err  error
 }
 
-func (e *priceFileError) Error() string {
+func (e *PriceFileError) Error() string {
 	if e.Line == 0 {
 		return fmt.Sprintf("%s: %v", e.File, e.Err)
 	}
 	return fmt.Sprintf("%s:%d: %v", e.File, e.Line, e.Err)
 }
 
-func (e *priceFileError) Unwrap() error { return e.Err }
+func (e *PriceFileError) Unwrap() error { return e.Err }
 
-// priceHistory is one parsed file.
-type priceHistory struct {
+// PriceHistory is one parsed file.
+type PriceHistory struct {
 	File   string
 	Column string // the header of the price column used
 	Points []valuation.PricePoint
@@ -64,18 +66,19 @@ func priceNormHeader(s string) string {
 	return strings.NewReplacer(" ", "", "_", "").Replace(s)
 }
 
-// parsePrices reads one price history from r; name is used in errors.
-func parsePrices(r io.Reader, name string) (*priceHistory, error) {
+// ParsePrices reads one price history from r; name is used in errors,
+// which are *PriceFileError (file and line) wrapping a sentinel above.
+func ParsePrices(r io.Reader, name string) (*PriceHistory, error) {
 	cr := csv.NewReader(r)
 	cr.FieldsPerRecord = -1
 	cr.TrimLeadingSpace = true
 	cr.ReuseRecord = true
 	fail := func(line int, sentinel error, format string, args ...any) error {
-		return &priceFileError{File: name, Line: line, Err: fmt.Errorf("%w: %s", sentinel, fmt.Sprintf(format, args...))}
+		return &PriceFileError{File: name, Line: line, Err: fmt.Errorf("%w: %s", sentinel, fmt.Sprintf(format, args...))}
 	}
 	header, err := cr.Read()
 	if err == io.EOF {
-		return nil, fail(0, errPriceHeader, "the file is empty; want a header row with date and close")
+		return nil, fail(0, ErrPriceHeader, "the file is empty; want a header row with date and close")
 	}
 	if err != nil {
 		return nil, priceCSVFail(name, err)
@@ -92,9 +95,9 @@ func parsePrices(r io.Reader, name string) (*priceHistory, error) {
 		}
 	}
 	if iDate < 0 || (iClose < 0 && iAdj < 0) {
-		return nil, fail(1, errPriceHeader, "header %q needs a date column and a close (or adjusted_close) column", strings.Join(header, ","))
+		return nil, fail(1, ErrPriceHeader, "header %q needs a date column and a close (or adjusted_close) column", strings.Join(header, ","))
 	}
-	h := &priceHistory{File: name, Column: strings.TrimSpace(header[max(iClose, 0)])}
+	h := &PriceHistory{File: name, Column: strings.TrimSpace(header[max(iClose, 0)])}
 	iPrice := iClose
 	if iAdj >= 0 {
 		iPrice, h.Column = iAdj, strings.TrimSpace(header[iAdj])
@@ -112,32 +115,32 @@ func parsePrices(r io.Reader, name string) (*priceHistory, error) {
 		if len(rec) == 1 && strings.TrimSpace(rec[0]) == "" {
 			continue
 		}
-		if len(h.Points) >= maxPriceRows {
-			return nil, fail(line, errPriceCount, "more than %d rows", maxPriceRows)
+		if len(h.Points) >= MaxPriceRows {
+			return nil, fail(line, ErrPriceCount, "more than %d rows", MaxPriceRows)
 		}
 		if iDate >= len(rec) || iPrice >= len(rec) {
-			return nil, fail(line, errPriceValue, "row has %d fields, want at least %d", len(rec), max(iDate, iPrice)+1)
+			return nil, fail(line, ErrPriceValue, "row has %d fields, want at least %d", len(rec), max(iDate, iPrice)+1)
 		}
 		ds := strings.TrimSpace(rec[iDate])
 		d, err := time.Parse(time.DateOnly, ds)
 		if err != nil {
-			return nil, fail(line, errPriceDate, "date %q is not an ISO date YYYY-MM-DD (other formats are ambiguous)", ds)
+			return nil, fail(line, ErrPriceDate, "date %q is not an ISO date YYYY-MM-DD (other formats are ambiguous)", ds)
 		}
 		ps := strings.TrimSpace(rec[iPrice])
 		p, err := strconv.ParseFloat(ps, 64)
 		if err != nil {
-			return nil, fail(line, errPriceValue, "%s %q is not a number", h.Column, ps)
+			return nil, fail(line, ErrPriceValue, "%s %q is not a number", h.Column, ps)
 		}
 		if !(p > 0) || p > 1e15 {
-			return nil, fail(line, errPriceValue, "%s %v is not a positive price", h.Column, ps)
+			return nil, fail(line, ErrPriceValue, "%s %v is not a positive price", h.Column, ps)
 		}
 		if n := len(h.Points); n > 0 {
 			prev := h.Points[n-1].Date
 			switch {
 			case d.Equal(prev):
-				return nil, fail(line, errPriceOrder, "date %s appears twice (also line %d)", ds, prevLine)
+				return nil, fail(line, ErrPriceOrder, "date %s appears twice (also line %d)", ds, prevLine)
 			case d.Before(prev):
-				return nil, fail(line, errPriceOrder, "date %s comes after %s (line %d); dates must increase", ds, prev.Format(time.DateOnly), prevLine)
+				return nil, fail(line, ErrPriceOrder, "date %s comes after %s (line %d); dates must increase", ds, prev.Format(time.DateOnly), prevLine)
 			}
 		}
 		h.Points = append(h.Points, valuation.PricePoint{Date: d, Price: p})
@@ -146,9 +149,9 @@ func parsePrices(r io.Reader, name string) (*priceHistory, error) {
 	}
 	switch len(h.Points) {
 	case 0:
-		return nil, fail(0, errPriceCount, "no prices below the header")
+		return nil, fail(0, ErrPriceCount, "no prices below the header")
 	case 1:
-		return nil, fail(h.Lines[0], errPriceCount, "only one price; a return needs at least two")
+		return nil, fail(h.Lines[0], ErrPriceCount, "only one price; a return needs at least two")
 	}
 	return h, nil
 }
@@ -156,7 +159,7 @@ func parsePrices(r io.Reader, name string) (*priceHistory, error) {
 func priceCSVFail(name string, err error) error {
 	var pe *csv.ParseError
 	if errors.As(err, &pe) {
-		return &priceFileError{File: name, Line: pe.Line, Err: fmt.Errorf("%w: %v", errPriceValue, pe.Err)}
+		return &PriceFileError{File: name, Line: pe.Line, Err: fmt.Errorf("%w: %v", ErrPriceValue, pe.Err)}
 	}
-	return &priceFileError{File: name, Err: err}
+	return &PriceFileError{File: name, Err: err}
 }
