@@ -173,14 +173,14 @@ func (s *Schedule) Inputs(g Grant) (Inputs, error) {
 
 	// Curve.
 	in.Market = valuation.Market{Spot: in.SharePrice.Value, VolAnnual: in.Volatility.Value, DividendYield: in.DividendYield.Value}
-	if c, ok := s.curveAt(md); ok {
-		cv, text, err := c.build()
+	if c, ok := s.builtCurveAt(md); ok {
+		cv, text, err := c.cv, c.text, c.err
 		if err != nil {
 			r := s.cell(SheetRates, "curve_date", c.points[0].Row, nil)
 			return Inputs{}, &CellError{Sheet: r.Sheet, Cell: r.Cell, Column: "curve_date", Value: isoDay(c.date), Err: ErrRange, Msg: "curve cannot be built: " + err.Error()}
 		}
 		in.Market.Curve, in.CurveDate = cv, c.date
-		r, how := s.citeRate(c, horizon)
+		r, how := s.citeRate(c.curve, horizon)
 		in.RiskFreeRate = Source{Value: cv.Zero(horizon), Ref: r, Text: text + "; " + how}
 	} else if g.Instrument == RSU {
 		in.Market.Curve = valuation.FlatCurve(0)
@@ -348,6 +348,9 @@ func (a *Assumptions) has(key string) bool {
 // valuation date (a later grant is not outstanding at the period end and
 // is left out, with a warning in skipped), or every error found.
 func (s *Schedule) ValueInputs() (ins []Inputs, errs []error, skipped []string) {
+	if s.fresh() == nil {
+		s.Reindex()
+	}
 	for _, g := range s.Grants {
 		if valuation.Days(s.Company.ValuationDate, g.GrantDate) > 0 {
 			skipped = append(skipped, fmt.Sprintf("grant %s, dated %s after the valuation date %s, is left out of this valuation",

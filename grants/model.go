@@ -95,6 +95,8 @@ type Schedule struct {
 	// layout is, per sheet read, the 0-based column of each column key, so
 	// that problems with empty cells can name the cell.
 	layout map[string]map[string]int
+	// idx finds a grant's rows and a date's curve without a scan (index.go).
+	idx *index
 }
 
 // Company is the Company sheet.

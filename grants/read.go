@@ -259,6 +259,7 @@ func read(src source, layout []Sheet) (*Schedule, *Report, error) {
 		}
 	}
 	finishCompany(s, rep)
+	s.Reindex()
 	noGrants(s, rep)
 	v := validate(s, rep.skip)
 	rep.Merge(v)

@@ -110,6 +110,9 @@ func customTranches(g Grant, rows []VestRow) []Tranche {
 }
 
 func (s *Schedule) vestRows(id string) []VestRow {
+	if ix := s.fresh(); ix != nil {
+		return rowsAt(s.Vesting, ix.vestOf[id])
+	}
 	var out []VestRow
 	for _, v := range s.Vesting {
 		if v.GrantID == id {
@@ -123,9 +126,13 @@ func (s *Schedule) vestRows(id string) []VestRow {
 // date in sheet order).
 func (s *Schedule) EventsOf(id string) []Event {
 	var out []Event
-	for _, e := range s.Events {
-		if e.GrantID == id {
-			out = append(out, e)
+	if ix := s.fresh(); ix != nil {
+		out = rowsAt(s.Events, ix.eventsOf[id])
+	} else {
+		for _, e := range s.Events {
+			if e.GrantID == id {
+				out = append(out, e)
+			}
 		}
 	}
 	sort.SliceStable(out, func(i, j int) bool { return out[i].Date.Before(out[j].Date) })

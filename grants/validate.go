@@ -386,7 +386,7 @@ func (v *validator) grants() {
 		v.marketAt(g, ref)
 		// Vesting that ends after expiry.
 		if g.Instrument != RSU && !g.ExpiryDate.IsZero() && g.ExpiryDate.After(g.GrantDate) && g.CliffMonths <= g.VestMonths {
-			ts := s.Tranches(g)
+			ts := s.tranchesBeforeEvents(g) // events move no vest date
 			if n := len(ts); n > 0 && ts[n-1].VestDate.After(g.ExpiryDate) {
 				if rows := s.vestRows(g.ID); len(rows) > 0 {
 					last := rows[0]
@@ -699,8 +699,28 @@ func (s *Schedule) curves() []curve {
 	return out
 }
 
+// builtCurveAt is the latest curve dated on or before d, with its zero
+// curve built (once per curve date when the schedule is indexed).
+func (s *Schedule) builtCurveAt(d time.Time) (*indexedCurve, bool) {
+	if ix := s.fresh(); ix != nil {
+		return ix.curveOn(d)
+	}
+	c, ok := s.curveAt(d)
+	if !ok {
+		return nil, false
+	}
+	cv, text, err := c.build()
+	return &indexedCurve{c, cv, text, err}, true
+}
+
 // curveAt is the latest curve dated on or before d.
 func (s *Schedule) curveAt(d time.Time) (curve, bool) {
+	if ix := s.fresh(); ix != nil {
+		if c, ok := ix.curveOn(d); ok {
+			return c.curve, true
+		}
+		return curve{}, false
+	}
 	var best curve
 	ok := false
 	for _, p := range s.Rates {

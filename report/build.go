@@ -191,7 +191,7 @@ func grantOf(gv *pricing.GrantValue) Grant {
 		ExpiryDate: DateOf(g.ExpiryDate), Shares: g.Shares, Strike: g.Strike,
 		SharePrice: in.SharePrice.Value, Volatility: in.Volatility.Value, RiskFreeRate: in.RiskFreeRate.Value,
 		DividendYield: in.DividendYield.Value, ExerciseMultiple: in.ExerciseMultiple.Value,
-		PostVestingExitRate: in.ExitRate.Value, Method: "lattice", ValueStatus: string(gv.Status),
+		PostVestingExitRate: in.ExitRate.Value, Method: "lattice", ValueStatus: string(gv.Status), ValuationKey: gv.Key,
 	}
 	if rg.Purpose == "" {
 		rg.Purpose = string(grants.Compensation)

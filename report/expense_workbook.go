@@ -1,6 +1,9 @@
 package report
 
 import (
+	"fmt"
+	"io"
+	"strconv"
 	"strings"
 
 	"github.com/xuri/excelize/v2"
@@ -55,45 +58,135 @@ func detail(m *Model) *ExpenseDetail {
 	return m.Expense.ExpenseDetail
 }
 
+// Sheet that continues the Expense sheet's tranche rows when a large
+// ledger's would not fit beside its grant rows (sheetsplit.go).
+const SheetExpenseTranches = "Expense tranches"
+
+// expenseColumns are the columns of the Expense sheet and of its
+// continuation.
+var expenseColumns = []Column{{"Level", 9}, {"Grant", 14}, {"Holder", 12}, {"Cost centre", 14}, {"Instrument", 11}, {"Tranche", 8},
+	{"Service start", 12}, {"Vest date / service end", 14}, {"Shares", 11}, {"Shares counted", 13},
+	{"Expected share at vest", 12}, {"Fair value per share", 14}, {"Total cost", 16},
+	{"Cumulative at period start", 16}, {"Period expense", 16}, {"Cumulative at period end", 16},
+	{"Unrecognized cost", 16}, {"Remaining years", 11}, {"Liability at period end (liability-classified)", 18}}
+
 // writeExpense is one row per grant (level "grant") followed by its
-// tranches (level "tranche"), then the total.
+// tranches (level "tranche"), then the total. When that is more than a
+// sheet holds, the sheet keeps the grant rows and the total and the
+// tranche rows go to the Expense tranches sheets.
 func writeExpense(b *Book, m *Model) error {
 	e := detail(m)
 	if e == nil {
 		return notRun(b, SheetExpense)
 	}
-	cols := []Column{{"Level", 9}, {"Grant", 14}, {"Holder", 12}, {"Cost centre", 14}, {"Instrument", 11}, {"Tranche", 8},
-		{"Service start", 12}, {"Vest date / service end", 14}, {"Shares", 11}, {"Shares counted", 13},
-		{"Expected share at vest", 12}, {"Fair value per share", 14}, {"Total cost", 16},
-		{"Cumulative at period start", 16}, {"Period expense", 16}, {"Cumulative at period end", 16},
-		{"Unrecognized cost", 16}, {"Remaining years", 11}, {"Liability at period end (liability-classified)", 18}}
-	rows := 1
+	tranches := 0
 	for _, g := range e.ByGrant {
-		rows += 1 + len(g.Tranches)
+		tranches += len(g.Tranches)
 	}
-	t, err := b.NewTable(SheetExpense, cols, rows)
+	apart := len(e.ByGrant)+tranches+1 > sheetRowLimit-1
+	rows := len(e.ByGrant) + 1
+	if !apart {
+		rows += tranches
+	}
+	x := &expenseSheet{b: b, m: m, e: e}
+	t, err := b.NewTable(SheetExpense, expenseColumns, rows)
 	if err != nil {
 		return err
 	}
-	money := func(v float64) any { return b.Cell(b.Style.Money, v) }
-	var shares int64
-	for _, g := range e.ByGrant {
-		var gs int64
-		var counted float64
-		for _, tr := range g.Tranches {
-			gs += tr.Shares
-			counted += tr.SharesCounted
+	fast := !b.slow && expenseRowsPlain(m.Expense)
+	if fast {
+		err = b.fastTable(t, x.fast(0, len(e.ByGrant), true, !apart))
+	} else {
+		err = x.slow(t, 0, len(e.ByGrant), true, !apart)
+	}
+	if err != nil || !apart {
+		return err
+	}
+	// The tranche rows apart: whole grants to a sheet.
+	last := SheetExpenseTranches
+	for from, part := 0, 0; from < len(e.ByGrant); part++ {
+		to, n := from, 0
+		for to < len(e.ByGrant) && n+len(e.ByGrant[to].Tranches) <= sheetRowLimit-1 {
+			n += len(e.ByGrant[to].Tranches)
+			to++
 		}
-		shares += gs
-		var liability any
-		if g.Liability {
-			liability = money(g.LiabilityEnd)
+		if to == from {
+			return fmt.Errorf("grant %s has more tranches than a sheet holds", e.ByGrant[from].GrantID)
 		}
-		if err := t.Row("grant", b.Text(g.GrantID), b.Text(g.Holder), b.Text(g.CostCenter), g.Instrument, nil,
-			b.DateCell(g.ServiceStart), b.DateCell(g.ServiceEnd), b.Cell(b.Style.Int, gs), b.Cell(b.Style.Number, counted),
-			nil, nil, money(g.Cost), money(g.CumulativeOpen), money(g.Amount), money(g.Cumulative),
-			money(g.Unrecognized), b.Cell(b.Style.Years, g.RemainingYears), liability); err != nil {
+		if part == 0 {
+			if _, err := b.f.NewSheet(SheetExpenseTranches); err != nil {
+				return err
+			}
+		}
+		t, err := b.partTable(SheetExpenseTranches, part, expenseColumns, n)
+		if err != nil {
 			return err
+		}
+		last = partName(SheetExpenseTranches, part)
+		if fast {
+			err = b.fastTable(t, x.fast(from, to, false, true))
+		} else {
+			err = x.slow(t, from, to, false, true)
+		}
+		if err != nil {
+			return err
+		}
+		from = to
+	}
+	b.split = append(b.split, "the Expense sheet keeps a row per grant and the total, its tranche rows are on "+SheetExpenseTranches+" to "+last)
+	return nil
+}
+
+// expenseSheet writes the rows of the Expense sheet (or of its tranche
+// continuation) for grants [from, to) of e.ByGrant, through excelize
+// (slow) or apart (fast): with total (the Expense sheet itself) each
+// grant's row and the total row, and the tranche rows if withTranches.
+type expenseSheet struct {
+	b *Book
+	m *Model
+	e *ExpenseDetail
+}
+
+// totals are the total row's sums over every grant.
+func (x *expenseSheet) totals() (shares int64, cost, open float64) {
+	for _, g := range x.e.ByGrant {
+		for _, tr := range g.Tranches {
+			shares += tr.Shares
+		}
+		cost += g.Cost
+		open += g.CumulativeOpen
+	}
+	return shares, cost, open
+}
+
+func grantSums(g *ExpenseGrant) (shares int64, counted float64) {
+	for _, tr := range g.Tranches {
+		shares += tr.Shares
+		counted += tr.SharesCounted
+	}
+	return shares, counted
+}
+
+func (x *expenseSheet) slow(t *Table, from, to int, total, withTranches bool) error {
+	b, e := x.b, x.e
+	money := func(v float64) any { return b.Cell(b.Style.Money, v) }
+	for i := from; i < to; i++ {
+		g := &e.ByGrant[i]
+		if total { // the Expense sheet itself: its grant rows
+			gs, counted := grantSums(g)
+			var liability any
+			if g.Liability {
+				liability = money(g.LiabilityEnd)
+			}
+			if err := t.Row("grant", b.Text(g.GrantID), b.Text(g.Holder), b.Text(g.CostCenter), g.Instrument, nil,
+				b.DateCell(g.ServiceStart), b.DateCell(g.ServiceEnd), b.Cell(b.Style.Int, gs), b.Cell(b.Style.Number, counted),
+				nil, nil, money(g.Cost), money(g.CumulativeOpen), money(g.Amount), money(g.Cumulative),
+				money(g.Unrecognized), b.Cell(b.Style.Years, g.RemainingYears), liability); err != nil {
+				return err
+			}
+		}
+		if !withTranches {
+			continue
 		}
 		for _, tr := range g.Tranches {
 			if err := t.Row("tranche", b.Text(g.GrantID), b.Text(g.Holder), nil, g.Instrument, tr.Index,
@@ -105,15 +198,13 @@ func writeExpense(b *Book, m *Model) error {
 			}
 		}
 	}
-	var cost, open float64
-	for _, g := range e.ByGrant {
-		cost += g.Cost
-		open += g.CumulativeOpen
-	}
-	if err := t.Row(b.Cell(b.Style.Bold, "total"), nil, nil, nil, nil, nil, nil, nil, b.Cell(b.Style.Int, shares), nil, nil, nil,
-		money(cost), money(open), money(e.Amount), money(e.Cumulative), money(m.Expense.UnrecognizedCost),
-		b.Cell(b.Style.Years, m.Expense.WeightedAverageRemainingYears), nil); err != nil {
-		return err
+	if total {
+		shares, cost, open := x.totals()
+		if err := t.Row(b.Cell(b.Style.Bold, "total"), nil, nil, nil, nil, nil, nil, nil, b.Cell(b.Style.Int, shares), nil, nil, nil,
+			money(cost), money(open), money(e.Amount), money(e.Cumulative), money(x.m.Expense.UnrecognizedCost),
+			b.Cell(b.Style.Years, x.m.Expense.WeightedAverageRemainingYears), nil); err != nil {
+			return err
+		}
 	}
 	return t.Close()
 }
@@ -343,33 +434,174 @@ func writeJournal(b *Book, m *Model) error {
 	if err != nil {
 		return err
 	}
-	n := 0
-	for _, j := range e.Journal {
-		n += len(j.Lines)
-	}
-	t, err := b.NewTable(SheetJournal, cols, n)
-	if err != nil {
-		return err
-	}
-	if n == 0 {
+	if len(e.Journal) == 0 {
+		t, err := b.NewTable(SheetJournal, cols, 0)
+		if err != nil {
+			return err
+		}
 		if err := t.Row(nil, nil, nil, "Nothing is to be booked for the period."); err != nil {
 			return err
 		}
+		return t.Close()
 	}
-	for _, j := range e.Journal {
-		for _, l := range j.Lines {
-			var dr, cr any
-			if l.Debit != 0 {
-				dr = b.Cell(amount, l.Debit)
+	// Whole entries to a sheet: a journal longer than a sheet (a catch-up
+	// for each of many grants) continues on Journal 2, ....
+	for from, part := 0, 0; from < len(e.Journal); part++ {
+		to, n := from, 0
+		for to < len(e.Journal) && (to == from || n+len(e.Journal[to].Lines) <= sheetRowLimit-1) {
+			n += len(e.Journal[to].Lines)
+			to++
+		}
+		t, err := b.partTable(SheetJournal, part, cols, n)
+		if err != nil {
+			return err
+		}
+		for _, j := range e.Journal[from:to] {
+			for _, l := range j.Lines {
+				var dr, cr any
+				if l.Debit != 0 {
+					dr = b.Cell(amount, l.Debit)
+				}
+				if l.Credit != 0 {
+					cr = b.Cell(amount, l.Credit)
+				}
+				if err := t.Row(j.Number, b.DateCell(j.Date), b.Text(l.AccountCode), b.Text(l.Account), b.Text(l.CostCenter), dr, cr,
+					b.Text(m.Company.Currency), b.Text(j.Description), l.Role, b.Text(l.GrantID)); err != nil {
+					return err
+				}
 			}
-			if l.Credit != 0 {
-				cr = b.Cell(amount, l.Credit)
+		}
+		if err := t.Close(); err != nil {
+			return err
+		}
+		from = to
+	}
+	return nil
+}
+
+// expenseRowsPlain reports whether the fast rows can write x's Expense
+// rows (see plainText).
+func expenseRowsPlain(x *Expense) bool {
+	e := x.ExpenseDetail
+	for i := range e.ByGrant {
+		g := &e.ByGrant[i]
+		if !plainText(g.GrantID) || !plainText(g.Holder) || !plainText(g.CostCenter) || !plainText(g.Instrument) || !plainDate(g.ServiceStart) || !plainDate(g.ServiceEnd) {
+			return false
+		}
+		for _, v := range []float64{g.Cost, g.CumulativeOpen, g.Amount, g.Cumulative, g.Unrecognized, g.RemainingYears, g.LiabilityEnd} {
+			if !finite(v) {
+				return false
 			}
-			if err := t.Row(j.Number, b.DateCell(j.Date), b.Text(l.AccountCode), b.Text(l.Account), b.Text(l.CostCenter), dr, cr,
-				b.Text(m.Company.Currency), b.Text(j.Description), l.Role, b.Text(l.GrantID)); err != nil {
-				return err
+		}
+		for _, tr := range g.Tranches {
+			if !plainDate(tr.VestDate) {
+				return false
+			}
+			for _, v := range []float64{tr.SharesCounted, tr.ExpectedShare, tr.FairValuePerShare, tr.Cost, tr.CumulativeOpen, tr.Amount, tr.Cumulative, tr.Unrecognized, tr.RemainingYears} {
+				if !finite(v) {
+					return false
+				}
 			}
 		}
 	}
-	return t.Close()
+	for _, v := range []float64{e.Amount, e.Cumulative, x.UnrecognizedCost, x.WeightedAverageRemainingYears} {
+		if !finite(v) {
+			return false
+		}
+	}
+	return true
+}
+
+// fast is slow's rows written apart, byte for byte as excelize writes
+// them, numbered from row 2.
+func (x *expenseSheet) fast(from, to int, total, withTranches bool) fastRows {
+	return func(out io.Writer) error {
+		b, e := x.b, x.e
+		s := b.Style
+		w := &rowWriter{b: make([]byte, 0, 8192)}
+		row := 1
+		start := func() {
+			row++
+			w.row = strconv.AppendInt(w.row[:0], int64(row), 10)
+			w.b = append(w.b[:0], `<row r="`...)
+			w.b = append(w.b, w.row...)
+			w.b = append(w.b, `">`...)
+		}
+		end := func() error {
+			w.b = append(w.b, `</row>`...)
+			_, err := out.Write(w.b)
+			return err
+		}
+		for i := from; i < to; i++ {
+			g := &e.ByGrant[i]
+			if total {
+				gs, counted := grantSums(g)
+				start()
+				w.text(1, 0, "grant")
+				w.text(2, s.Input, g.GrantID)
+				w.text(3, s.Input, g.Holder)
+				w.text(4, s.Input, g.CostCenter)
+				w.text(5, 0, g.Instrument)
+				w.date(7, s.Date, g.ServiceStart)
+				w.date(8, s.Date, g.ServiceEnd)
+				w.int(9, s.Int, gs)
+				w.float(10, s.Number, counted)
+				w.float(13, s.Money, g.Cost)
+				w.float(14, s.Money, g.CumulativeOpen)
+				w.float(15, s.Money, g.Amount)
+				w.float(16, s.Money, g.Cumulative)
+				w.float(17, s.Money, g.Unrecognized)
+				w.float(18, s.Years, g.RemainingYears)
+				if g.Liability {
+					w.float(19, s.Money, g.LiabilityEnd)
+				}
+				if err := end(); err != nil {
+					return err
+				}
+			}
+			if !withTranches {
+				continue
+			}
+			for k := range g.Tranches {
+				tr := &g.Tranches[k]
+				start()
+				w.text(1, 0, "tranche")
+				w.text(2, s.Input, g.GrantID)
+				w.text(3, s.Input, g.Holder)
+				w.text(5, 0, g.Instrument)
+				w.int(6, 0, int64(tr.Index))
+				w.date(7, s.Date, g.ServiceStart)
+				w.date(8, s.Date, tr.VestDate)
+				w.int(9, s.Int, tr.Shares)
+				w.float(10, s.Number, tr.SharesCounted)
+				w.float(11, s.Percent, tr.ExpectedShare)
+				w.float(12, s.MoneyPerShare, tr.FairValuePerShare)
+				w.float(13, s.Money, tr.Cost)
+				w.float(14, s.Money, tr.CumulativeOpen)
+				w.float(15, s.Money, tr.Amount)
+				w.float(16, s.Money, tr.Cumulative)
+				w.float(17, s.Money, tr.Unrecognized)
+				w.float(18, s.Years, tr.RemainingYears)
+				if err := end(); err != nil {
+					return err
+				}
+			}
+		}
+		if total {
+			shares, cost, open := x.totals()
+			start()
+			w.text(1, s.Bold, "total")
+			w.int(9, s.Int, shares)
+			w.float(13, s.Money, cost)
+			w.float(14, s.Money, open)
+			w.float(15, s.Money, e.Amount)
+			w.float(16, s.Money, e.Cumulative)
+			w.float(17, s.Money, x.m.Expense.UnrecognizedCost)
+			w.float(18, s.Years, x.m.Expense.WeightedAverageRemainingYears)
+			if err := end(); err != nil {
+				return err
+			}
+		}
+		return nil
+	}
 }

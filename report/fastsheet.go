@@ -25,15 +25,51 @@ import (
 // slowSheets, set by a test, sends the Tranches sheet through excelize.
 var slowSheets = false
 
-// rowsToken is the placeholder cell's text.
-const rowsToken = "grantworth-rows-placeholder-5c1e"
+// rowsToken begins the placeholder cell's text; the number of the rows
+// writer it stands for follows.
+const rowsToken = "grantworth-rows-placeholder-5c1e-"
 
-// placeholderRow is the row excelize writes for the placeholder: row 2,
-// one inline string in A2, no style.
-var placeholderRow = []byte(`<row r="2"><c r="A2" t="inlineStr"><is><t>` + rowsToken + `</t></is></c></row>`)
+// placeholderHead begins the row excelize writes for a placeholder: row
+// 2, one inline string in A2, no style.
+var placeholderHead = []byte(`<row r="2"><c r="A2" t="inlineStr"><is><t>` + rowsToken)
+
+const placeholderTail = `</t></is></c></row>`
+
+// placeholder is the text of the placeholder cell of rows writer k.
+func placeholder(k int) string { return rowsToken + strconv.Itoa(k) }
 
 // fastRows writes a sheet's data rows, in the stream writer's form, to w.
 type fastRows func(w io.Writer) error
+
+// fastTable writes the data rows of table t with rows in place of
+// excelize, and closes it: the rows are written as the archive is put in
+// order (canonicalZip).
+func (b *Book) fastTable(t *Table, rows fastRows) error {
+	if err := t.Row(placeholder(len(b.fast))); err != nil {
+		return err
+	}
+	b.fast = append(b.fast, rows)
+	return t.Close()
+}
+
+// findPlaceholder returns where the placeholder row in data begins and
+// ends and the number of its rows writer; ok is false if data holds none.
+func findPlaceholder(data []byte) (start, end, k int, ok bool) {
+	i := bytes.Index(data, placeholderHead)
+	if i < 0 {
+		return 0, 0, 0, false
+	}
+	j := i + len(placeholderHead)
+	n := 0
+	for j < len(data) && data[j] >= '0' && data[j] <= '9' {
+		n = n*10 + int(data[j]-'0')
+		j++
+	}
+	if !bytes.HasPrefix(data[j:], []byte(placeholderTail)) {
+		return 0, 0, 0, false
+	}
+	return i, j + len(placeholderTail), n, true
+}
 
 // plainText reports whether excelize writes s as it is: printable ASCII
 // without an XML special character, an underscore (its _xHHHH_ escapes)
@@ -221,53 +257,50 @@ func trancheRowsPlain(m *Model) bool {
 	return true
 }
 
-// trancheRows writes the Tranches sheet's data rows, from row 2, the
-// cells of writeTranches in the same order.
-func trancheRows(b *Book, m *Model) fastRows {
+// trancheRows writes n of the Tranches sheet's data rows from the from-th
+// tranche, numbered from row 2, the cells of slowTrancheRows in the same
+// order.
+func trancheRows(b *Book, m *Model, from, n int) fastRows {
 	return func(out io.Writer) error {
 		s := b.Style
 		w := &rowWriter{b: make([]byte, 0, 8192)}
 		row := 1
-		for _, g := range m.Grants {
-			for _, tr := range g.Tranches {
-				row++
-				w.row = strconv.AppendInt(w.row[:0], int64(row), 10)
-				d1, d2, bsm := bsmFormulas(row, g.Instrument)
-				w.b = append(w.b[:0], `<row r="`...)
-				w.b = append(w.b, w.row...)
-				w.b = append(w.b, `">`...)
-				w.text(1, s.Input, g.ID)
-				w.text(2, s.Input, g.Holder)
-				w.text(3, s.Input, g.Instrument)
-				w.int(4, s.Int, int64(tr.Index))
-				w.date(5, s.Date, tr.VestDate)
-				w.int(6, s.Int, tr.Shares)
-				w.float(7, s.MoneyPerShare, g.SharePrice)
-				w.float(8, s.MoneyPerShare, g.Strike)
-				w.float(9, s.Years, tr.YearsToExpiry)
-				w.float(10, s.Years, tr.YearsToVest)
-				w.float(11, s.Percent, g.Volatility)
-				w.float(12, s.Percent, tr.RiskFreeRate)
-				w.float(13, s.Percent, g.DividendYield)
-				w.float(14, s.Number, g.ExerciseMultiple)
-				w.float(15, s.Percent, g.PostVestingExitRate)
-				w.float(16, s.MoneyPerShare, tr.FairValuePerShare)
-				w.float(17, s.Number, tr.ErrorEstimate)
-				w.float(18, s.Years, tr.ExpectedTermYears)
-				w.float(19, s.Years, tr.SimplifiedTerm)
-				w.float(20, s.Percent, tr.SimplifiedRate)
-				w.float(21, s.MoneyPerShare, tr.BSMSimplifiedValue)
-				w.formula(22, s.Number, d1)
-				w.formula(23, s.Number, d2)
-				w.formula(24, s.MoneyPerShare, bsm)
-				w.float(25, s.MoneyPerShare, tr.FairValuePerShare-tr.BSMSimplifiedValue)
-				w.float(26, s.Money, tr.FairValueTotal)
-				w.b = append(w.b, `</row>`...)
-				if _, err := out.Write(w.b); err != nil {
-					return err
-				}
-			}
-		}
-		return nil
+		return eachTranche(m, from, n, func(g *Grant, tr *Tranche) error {
+			row++
+			w.row = strconv.AppendInt(w.row[:0], int64(row), 10)
+			d1, d2, bsm := bsmFormulas(row, g.Instrument)
+			w.b = append(w.b[:0], `<row r="`...)
+			w.b = append(w.b, w.row...)
+			w.b = append(w.b, `">`...)
+			w.text(1, s.Input, g.ID)
+			w.text(2, s.Input, g.Holder)
+			w.text(3, s.Input, g.Instrument)
+			w.int(4, s.Int, int64(tr.Index))
+			w.date(5, s.Date, tr.VestDate)
+			w.int(6, s.Int, tr.Shares)
+			w.float(7, s.MoneyPerShare, g.SharePrice)
+			w.float(8, s.MoneyPerShare, g.Strike)
+			w.float(9, s.Years, tr.YearsToExpiry)
+			w.float(10, s.Years, tr.YearsToVest)
+			w.float(11, s.Percent, g.Volatility)
+			w.float(12, s.Percent, tr.RiskFreeRate)
+			w.float(13, s.Percent, g.DividendYield)
+			w.float(14, s.Number, g.ExerciseMultiple)
+			w.float(15, s.Percent, g.PostVestingExitRate)
+			w.float(16, s.MoneyPerShare, tr.FairValuePerShare)
+			w.float(17, s.Number, tr.ErrorEstimate)
+			w.float(18, s.Years, tr.ExpectedTermYears)
+			w.float(19, s.Years, tr.SimplifiedTerm)
+			w.float(20, s.Percent, tr.SimplifiedRate)
+			w.float(21, s.MoneyPerShare, tr.BSMSimplifiedValue)
+			w.formula(22, s.Number, d1)
+			w.formula(23, s.Number, d2)
+			w.formula(24, s.MoneyPerShare, bsm)
+			w.float(25, s.MoneyPerShare, tr.FairValuePerShare-tr.BSMSimplifiedValue)
+			w.float(26, s.Money, tr.FairValueTotal)
+			w.b = append(w.b, `</row>`...)
+			_, err := out.Write(w.b)
+			return err
+		})
 	}
 }

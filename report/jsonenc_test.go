@@ -4,11 +4,12 @@ import (
 	"bytes"
 	"encoding/json"
 	"math"
+	"strings"
 	"testing"
 )
 
 // referenceJSON is valuation.json as encoding/json writes it: the
-// reference the one-pass encoder must equal byte for byte.
+// reference the one-pass encoder must equal but for white space.
 func referenceJSON(t *testing.T, m *Model) []byte {
 	t.Helper()
 	c := withEmptyLists(m)
@@ -28,9 +29,22 @@ func sameJSON(t *testing.T, name string, m *Model) {
 	if err := WriteJSON(&got, m); err != nil {
 		t.Fatal(err)
 	}
-	want := referenceJSON(t, m)
-	if !bytes.Equal(got.Bytes(), want) {
-		g, w := got.Bytes(), want
+	sameTokens(t, name, got.Bytes(), referenceJSON(t, m))
+}
+
+// sameTokens fails unless got and want are the same bytes but for white
+// space between tokens (json.Compact), and got is valid JSON.
+func sameTokens(t *testing.T, name string, got, want []byte) {
+	t.Helper()
+	var g, w bytes.Buffer
+	if err := json.Compact(&g, got); err != nil {
+		t.Fatalf("%s: WriteJSON wrote invalid JSON: %v", name, err)
+	}
+	if err := json.Compact(&w, want); err != nil {
+		t.Fatal(err)
+	}
+	if !bytes.Equal(g.Bytes(), w.Bytes()) {
+		g, w := g.Bytes(), w.Bytes()
 		i := 0
 		for i < len(g) && i < len(w) && g[i] == w[i] {
 			i++
@@ -68,4 +82,41 @@ func TestJSONEncoderMatchesEncodingJSON(t *testing.T) {
 	sameJSON(t, "awkward", m)
 
 	sameJSON(t, "empty", &Model{})
+}
+
+// Flat records in lists (tranches, events, inputs, periods) take a line
+// each, without spaces; everything else is indented by two spaces.
+func TestJSONFlatRecordsOnOneLine(t *testing.T) {
+	m := expenseModelFor(t, expenseSchedule())
+	var b bytes.Buffer
+	if err := WriteJSON(&b, m); err != nil {
+		t.Fatal(err)
+	}
+	lines := strings.Split(b.String(), "\n")
+	tranches, flat := 0, 0
+	for _, l := range lines {
+		x := strings.TrimLeft(l, " ")
+		if strings.HasPrefix(x, `{"index":`) {
+			tranches++
+			if !strings.HasSuffix(strings.TrimSuffix(x, ","), "}") || strings.Contains(x, `": `) {
+				t.Errorf("a tranche is not one compact line: %q", l)
+			}
+		}
+		if strings.HasPrefix(x, "{") && strings.HasSuffix(strings.TrimSuffix(x, ","), "}") {
+			flat++
+		}
+	}
+	want := 0
+	for _, g := range m.Grants {
+		want += len(g.Tranches)
+	}
+	for _, g := range m.Expense.ByGrant {
+		want += len(g.Tranches)
+	}
+	if tranches != want {
+		t.Errorf("%d tranche lines, want %d (the grants' and the expense's)", tranches, want)
+	}
+	if !strings.HasPrefix(b.String(), "{\n  \"schema_version\": ") {
+		t.Errorf("the top level is not indented: %q", b.String()[:40])
+	}
 }

@@ -181,6 +181,10 @@ type Grant struct {
 	// close, locked (kept from the prior close), corrected (measured again
 	// at the grant date), or remeasured (a liability-classified warrant).
 	ValueStatus string `json:"value_status"`
+	// ValuationKey is a digest of every number the values were measured
+	// with (pricing.GrantValue.Key): a later close whose inputs give the
+	// same key keeps the values without valuing the grant again.
+	ValuationKey string `json:"valuation_key"`
 
 	// Warrants only.
 	Classification string    `json:"classification,omitempty"`

@@ -234,10 +234,10 @@ func touched(ch *grants.Change) int64 {
 	return n
 }
 
-// filedModifications gives the prior close p the modifications its Model
-// m filed, grant by grant (ReadPrior), or what is wrong with them.
-func filedModifications(m *Model, p *accounting.Prior) string {
-	for _, x := range m.Modifications {
+// filedModifications gives the prior close p the modifications ms it
+// filed, grant by grant (ReadPrior), or what is wrong with them.
+func filedModifications(ms []Modification, p *accounting.Prior) string {
+	for _, x := range ms {
 		lm := pricing.LockedModification{Date: x.Date.Time(), Terms: x.Terms}
 		k := 0
 		for _, pt := range x.Parts {

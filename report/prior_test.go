@@ -137,3 +137,80 @@ func TestReadPriorRefusals(t *testing.T) {
 		t.Errorf("the file itself: %v", err)
 	}
 }
+
+// A later close that keeps a grant's values without valuing it again
+// (pricing.Options.Reuse, its valuation key unchanged) keeps exactly what
+// valuing it afresh gives: every number of every reused tranche equal to
+// the last bit, read back through valuation.json. A grant whose inputs
+// changed is valued, and its drift noted.
+func TestReusedValuesEqualAFreshRunToTheBit(t *testing.T) {
+	s := grantstest.Fernhollow()
+	_, _, dir := closeAt(t, s, "2026-06-30", nil)
+	prior, err := ReadPrior(dir)
+	if err != nil {
+		t.Fatal(err)
+	}
+	s.Company.ValuationDate = grantstest.Day("2026-09-30")
+	s.Company.PeriodStart = grants.Company{}.DefaultPeriodStart(s.Company.ValuationDate)
+	if _, err := accounting.Open(s, prior); err != nil {
+		t.Fatal(err)
+	}
+	// One grant's input corrected since the prior close.
+	var changed string
+	for i, g := range s.Grants {
+		if g.Instrument == grants.Option {
+			s.Grants[i].Strike *= 1.01
+			changed = g.ID
+			break
+		}
+	}
+	ins, errs, _ := s.ValueInputs()
+	if len(errs) > 0 {
+		t.Fatal(errs)
+	}
+	run := func(o pricing.Options) (*pricing.Valuation, int) {
+		jobs := 0
+		o.Progress = func(_, total int) { jobs = total }
+		v, err := pricing.Value(s, ins, o)
+		if err != nil {
+			t.Fatal(err)
+		}
+		return v, jobs
+	}
+	reused, jobsReused := run(pricing.Options{Locks: prior.Locks(), Reuse: true})
+	fresh, jobsFresh := run(pricing.Options{})
+	bits := math.Float64bits
+	n := 0
+	for i := range reused.Grants {
+		r, f := &reused.Grants[i], &fresh.Grants[i]
+		id := r.Inputs.Grant.ID
+		_, filed := prior.Locks()[id]
+		switch {
+		case id == changed:
+			if r.Reused || r.Drift == nil {
+				t.Errorf("grant %s, its strike changed: reused %v, drift %v; want it valued and its drift noted", id, r.Reused, r.Drift)
+			}
+			continue
+		case filed && r.Inputs.Grant.Classification != grants.Liability && !r.Reused:
+			t.Errorf("grant %s: inputs as filed, yet valued again", id)
+		case !r.Reused:
+			continue
+		}
+		n++
+		if r.Key != f.Key {
+			t.Errorf("grant %s: key %s kept, %s afresh", id, r.Key, f.Key)
+		}
+		for k := range r.Results {
+			a, b := r.Results[k], f.Results[k]
+			if bits(a.Value) != bits(b.Value) || bits(a.ErrorEstimate) != bits(b.ErrorEstimate) || bits(a.ExpectedTermYears) != bits(b.ExpectedTermYears) || a.Steps != b.Steps ||
+				bits(r.BSM[k].Value) != bits(f.BSM[k].Value) || bits(r.BSM[k].ExpectedTermYears) != bits(f.BSM[k].ExpectedTermYears) ||
+				bits(r.RiskFreeRate[k]) != bits(f.RiskFreeRate[k]) || bits(r.SimplifiedRate[k]) != bits(f.SimplifiedRate[k]) {
+				t.Errorf("grant %s tranche %d: kept %+v %+v %v %v, afresh %+v %+v %v %v", id, k+1, a, r.BSM[k], r.RiskFreeRate[k], r.SimplifiedRate[k], b, f.BSM[k], f.RiskFreeRate[k], f.SimplifiedRate[k])
+			}
+		}
+	}
+	t.Logf("%d grants kept their filed values; %d lattice jobs with reuse, %d without", n, jobsReused, jobsFresh)
+	if n == 0 || jobsReused >= jobsFresh {
+		t.Errorf("%d grants reused; %d lattice jobs with reuse, %d without: want fewer", n, jobsReused, jobsFresh)
+	}
+}

@@ -4,7 +4,6 @@ import (
 	"archive/zip"
 	"bufio"
 	"bytes"
-	"errors"
 	"fmt"
 	"io"
 	"os"
@@ -49,10 +48,14 @@ var sheetSkips = map[string]func(m *Model) bool{}
 type Book struct {
 	f     *excelize.File
 	Style Styles
-	// fast writes the Tranches rows apart (fastsheet.go); slow
-	// sends every sheet through excelize (for the test that compares).
-	fast fastRows
+	// fast write the data rows of large sheets apart (fastsheet.go),
+	// placeholder k's rows fast[k]; slow sends every sheet through
+	// excelize (for the test that compares).
+	fast []fastRows
 	slow bool
+	// split names the sheets continued on numbered sheets, for the About
+	// sheet.
+	split []string
 }
 
 // Styles are the cell styles of the workbook.
@@ -186,9 +189,9 @@ func WriteWorkbookWith(w io.Writer, m *Model, o WorkbookOptions) error {
 // excelize writes streamed sheets in map order, which would make two runs
 // differ; the entries are copied without recompressing.
 //
-// When fast is not nil, the worksheet holding the placeholder row is
-// written anew with fast's rows in that row's place.
-func canonicalZip(w io.Writer, in io.ReaderAt, size int64, fast fastRows) error {
+// A worksheet holding a placeholder row is written anew with the rows of
+// its fast writer in that row's place.
+func canonicalZip(w io.Writer, in io.ReaderAt, size int64, fast []fastRows) error {
 	zr, err := zip.NewReader(in, size)
 	if err != nil {
 		return err
@@ -205,18 +208,19 @@ func canonicalZip(w io.Writer, in io.ReaderAt, size int64, fast fastRows) error 
 	zw.RegisterCompressor(zip.Deflate, func(out io.Writer) (io.WriteCloser, error) {
 		return newParallelDeflate(out), nil
 	})
+	spliced := 0
 	for _, zf := range files {
 		h := zf.FileHeader
 		h.Modified = time.Time{}
 		h.ModifiedDate, h.ModifiedTime = 0, 0
 		h.Extra = nil
-		if fast != nil && strings.HasPrefix(zf.Name, "xl/worksheets/") && zf.UncompressedSize64 < 1<<20 {
+		if spliced < len(fast) && strings.HasPrefix(zf.Name, "xl/worksheets/") && zf.UncompressedSize64 < 1<<20 {
 			done, err := spliceRows(zw, zf, h, fast)
 			if err != nil {
 				return err
 			}
 			if done {
-				fast = nil
+				spliced++
 				continue
 			}
 		}
@@ -232,15 +236,15 @@ func canonicalZip(w io.Writer, in io.ReaderAt, size int64, fast fastRows) error 
 			return err
 		}
 	}
-	if fast != nil {
-		return errors.New("workbook: the Tranches placeholder row was not found; its rows would be lost")
+	if spliced != len(fast) {
+		return fmt.Errorf("workbook: %d of %d placeholder rows were not found; their rows would be lost", len(fast)-spliced, len(fast))
 	}
 	return zw.Close()
 }
 
-// spliceRows writes entry zf anew with fast's rows in place of the
-// placeholder row, if it holds that row.
-func spliceRows(zw *zip.Writer, zf *zip.File, h zip.FileHeader, fast fastRows) (bool, error) {
+// spliceRows writes entry zf anew with the rows of its fast writer in
+// place of the placeholder row, if it holds one.
+func spliceRows(zw *zip.Writer, zf *zip.File, h zip.FileHeader, fast []fastRows) (bool, error) {
 	r, err := zf.Open()
 	if err != nil {
 		return false, err
@@ -250,9 +254,12 @@ func spliceRows(zw *zip.Writer, zf *zip.File, h zip.FileHeader, fast fastRows) (
 	if err != nil {
 		return false, err
 	}
-	i := bytes.Index(data, placeholderRow)
-	if i < 0 {
+	i, end, k, ok := findPlaceholder(data)
+	if !ok {
 		return false, nil
+	}
+	if k >= len(fast) {
+		return false, fmt.Errorf("workbook: placeholder %d of %d in %s", k, len(fast), zf.Name)
 	}
 	h.CRC32, h.CompressedSize64, h.UncompressedSize64 = 0, 0, 0
 	h.CompressedSize, h.UncompressedSize = 0, 0
@@ -266,13 +273,13 @@ func spliceRows(zw *zip.Writer, zf *zip.File, h zip.FileHeader, fast fastRows) (
 	}
 	// Large writes: the compressor works in pieces of a megabyte.
 	bw := bufio.NewWriterSize(dst, 1<<20)
-	if err := fast(bw); err != nil {
+	if err := fast[k](bw); err != nil {
 		return false, err
 	}
 	if err := bw.Flush(); err != nil {
 		return false, err
 	}
-	_, err = dst.Write(data[i+len(placeholderRow):])
+	_, err = dst.Write(data[end:])
 	return true, err
 }
 
@@ -367,12 +374,14 @@ func (b *Book) NewTable(name string, cols []Column, rows int) (*Table, error) {
 // Row appends one row. Values are excelize.Cell (for a style or formula),
 // numbers, or strings; use Book.Text for text from the input.
 func (t *Table) Row(values ...any) error {
+	cutCells(values)
 	t.row++
 	return t.sw.SetRow("A"+strconv.Itoa(t.row), values)
 }
 
 // TallRow appends one row of the given height in points.
 func (t *Table) TallRow(height float64, values ...any) error {
+	cutCells(values)
 	t.row++
 	return t.sw.SetRow("A"+strconv.Itoa(t.row), values, excelize.RowOpts{Height: height})
 }
@@ -513,20 +522,27 @@ func (b *Book) valueCell(a Assumption) any {
 
 func writeAssumptions(b *Book, m *Model) error {
 	cols := []Column{{"Grant", 14}, {"Input", 26}, {"Value", 16}, {"As given", 18}, {"Cell", 18}, {"In force from", 12}, {"Source", 60}}
-	t, err := b.NewTable(SheetAssumptions, cols, len(m.Assumptions))
-	if err != nil {
-		return err
-	}
-	for _, a := range m.Assumptions {
-		grant := a.GrantID
-		if grant == "" {
-			grant = "(all)"
-		}
-		if err := t.Row(b.Text(grant), b.Text(a.Name), b.valueCell(a), b.Text(a.Text), b.Text(a.Ref), b.DateCell(a.EffectiveDate), b.Text(a.Source)); err != nil {
+	as := m.Assumptions
+	for i, rows := range sheetParts(len(as)) {
+		t, err := b.partTable(SheetAssumptions, i, cols, rows)
+		if err != nil {
 			return err
 		}
+		for _, a := range as[:rows] {
+			grant := a.GrantID
+			if grant == "" {
+				grant = "(all)"
+			}
+			if err := t.Row(b.Text(grant), b.Text(a.Name), b.valueCell(a), b.Text(a.Text), b.Text(a.Ref), b.DateCell(a.EffectiveDate), b.Text(a.Source)); err != nil {
+				return err
+			}
+		}
+		if err := t.Close(); err != nil {
+			return err
+		}
+		as = as[rows:]
 	}
-	return t.Close()
+	return nil
 }
 
 func writeGrants(b *Book, m *Model) error {
@@ -604,59 +620,92 @@ var TrancheColumns = []Column{{"Grant", 14}, {"Holder", 14}, {"Instrument", 11},
 	{"Simplified BSM (formula)", 14},
 	{"Lattice less BSM", 13}, {"Fair value total", 18}}
 
+// eachTranche calls f for n tranches of m in order, from the from-th
+// (counting from 0 over all grants).
+func eachTranche(m *Model, from, n int, f func(g *Grant, tr *Tranche) error) error {
+	for i := range m.Grants {
+		g := &m.Grants[i]
+		if from >= len(g.Tranches) {
+			from -= len(g.Tranches)
+			continue
+		}
+		for j := from; j < len(g.Tranches) && n > 0; j++ {
+			if err := f(g, &g.Tranches[j]); err != nil {
+				return err
+			}
+			n--
+		}
+		from = 0
+		if n == 0 {
+			break
+		}
+	}
+	return nil
+}
+
+// writeTranches writes a row per tranche, on as many sheets as they need
+// (sheetsplit.go).
 func writeTranches(b *Book, m *Model) error {
 	n := 0
 	for _, g := range m.Grants {
 		n += len(g.Tranches)
 	}
-	t, err := b.NewTable(SheetTranches, TrancheColumns, n)
-	if err != nil {
-		return err
-	}
-	if !b.slow && trancheRowsPlain(m) {
-		if err := t.Row(rowsToken); err != nil {
+	fast := !b.slow && trancheRowsPlain(m)
+	from := 0
+	for i, rows := range sheetParts(n) {
+		t, err := b.partTable(SheetTranches, i, TrancheColumns, rows)
+		if err != nil {
 			return err
 		}
-		if err := t.Close(); err != nil {
+		if fast {
+			err = b.fastTable(t, trancheRows(b, m, from, rows))
+		} else {
+			err = slowTrancheRows(b, t, m, from, rows)
+		}
+		if err != nil {
 			return err
 		}
-		b.fast = trancheRows(b, m)
-		return nil
+		from += rows
 	}
+	return nil
+}
+
+// slowTrancheRows writes n tranche rows from the from-th through
+// excelize, and closes t.
+func slowTrancheRows(b *Book, t *Table, m *Model, from, n int) error {
 	s := b.Style
 	// The row's cells are built in place and passed by pointer, not boxed
 	// one by one: the sheet has a row per tranche, hundreds of thousands
 	// for a large ledger.
 	var cells [26]excelize.Cell
 	vals := make([]any, len(cells))
-	for _, g := range m.Grants {
-		for _, tr := range g.Tranches {
-			row := t.RowNum() + 1
-			d1, d2, bsm := bsmFormulas(row, g.Instrument)
-			cells = [26]excelize.Cell{b.Text(g.ID), b.Text(g.Holder), b.Text(g.Instrument), b.Cell(s.Int, tr.Index),
-				{StyleID: s.Date, Value: tr.VestDate.Time()}, b.Cell(s.Int, tr.Shares), b.Cell(s.MoneyPerShare, g.SharePrice),
-				b.Cell(s.MoneyPerShare, g.Strike), b.Cell(s.Years, tr.YearsToExpiry), b.Cell(s.Years, tr.YearsToVest),
-				b.Cell(s.Percent, g.Volatility), b.Cell(s.Percent, tr.RiskFreeRate), b.Cell(s.Percent, g.DividendYield),
-				b.Cell(s.Number, g.ExerciseMultiple), b.Cell(s.Percent, g.PostVestingExitRate),
-				b.Cell(s.MoneyPerShare, tr.FairValuePerShare), b.Cell(s.Number, tr.ErrorEstimate),
-				b.Cell(s.Years, tr.ExpectedTermYears), b.Cell(s.Years, tr.SimplifiedTerm),
-				b.Cell(s.Percent, tr.SimplifiedRate), b.Cell(s.MoneyPerShare, tr.BSMSimplifiedValue),
-				{StyleID: s.Number, Formula: d1}, {StyleID: s.Number, Formula: d2}, {StyleID: s.MoneyPerShare, Formula: bsm},
-				b.Cell(s.MoneyPerShare, tr.FairValuePerShare-tr.BSMSimplifiedValue),
-				b.Cell(s.Money, tr.FairValueTotal)}
-			for i := range cells {
-				vals[i] = &cells[i]
-			}
-			if tr.VestDate.IsZero() {
-				vals[4] = nil
-			}
-			if d1 == "" {
-				vals[21], vals[22] = nil, nil
-			}
-			if err := t.Row(vals...); err != nil {
-				return err
-			}
+	err := eachTranche(m, from, n, func(g *Grant, tr *Tranche) error {
+		row := t.RowNum() + 1
+		d1, d2, bsm := bsmFormulas(row, g.Instrument)
+		cells = [26]excelize.Cell{b.Text(g.ID), b.Text(g.Holder), b.Text(g.Instrument), b.Cell(s.Int, tr.Index),
+			{StyleID: s.Date, Value: tr.VestDate.Time()}, b.Cell(s.Int, tr.Shares), b.Cell(s.MoneyPerShare, g.SharePrice),
+			b.Cell(s.MoneyPerShare, g.Strike), b.Cell(s.Years, tr.YearsToExpiry), b.Cell(s.Years, tr.YearsToVest),
+			b.Cell(s.Percent, g.Volatility), b.Cell(s.Percent, tr.RiskFreeRate), b.Cell(s.Percent, g.DividendYield),
+			b.Cell(s.Number, g.ExerciseMultiple), b.Cell(s.Percent, g.PostVestingExitRate),
+			b.Cell(s.MoneyPerShare, tr.FairValuePerShare), b.Cell(s.Number, tr.ErrorEstimate),
+			b.Cell(s.Years, tr.ExpectedTermYears), b.Cell(s.Years, tr.SimplifiedTerm),
+			b.Cell(s.Percent, tr.SimplifiedRate), b.Cell(s.MoneyPerShare, tr.BSMSimplifiedValue),
+			{StyleID: s.Number, Formula: d1}, {StyleID: s.Number, Formula: d2}, {StyleID: s.MoneyPerShare, Formula: bsm},
+			b.Cell(s.MoneyPerShare, tr.FairValuePerShare-tr.BSMSimplifiedValue),
+			b.Cell(s.Money, tr.FairValueTotal)}
+		for i := range cells {
+			vals[i] = &cells[i]
 		}
+		if tr.VestDate.IsZero() {
+			vals[4] = nil
+		}
+		if d1 == "" {
+			vals[21], vals[22] = nil, nil
+		}
+		return t.Row(vals...)
+	})
+	if err != nil {
+		return err
 	}
 	return t.Close()
 }
@@ -751,8 +800,12 @@ func writeAbout(b *Book, m *Model) error {
 		{"Monte Carlo cross-check", m.Settings.MonteCarlo},
 		{"Sensitivity runs", m.Settings.Sensitivities},
 		{"Formulas", "Tranches columns V to X recompute the simplified-method Black-Scholes-Merton value from columns G, H, J, K, M, S and T with NORM.S.DIST; column U is the tool's own figure. Spreadsheet programs recalculate them when the file is opened."},
-		{"Caution", m.Caution},
 	}
+	if len(b.split) > 0 {
+		rows = append(rows, [2]any{"Continued sheets", "A sheet holds at most " + count(MaxSheetRows) + " rows, so long tables continue on numbered sheets, each with its header row, the rows in order: " +
+			joinSplit(b.split) + ". valuation.json holds every row in one file."})
+	}
+	rows = append(rows, [2]any{"Caution", m.Caution})
 	return writeItems(b, SheetAbout, rows)
 }
 

@@ -1,6 +1,7 @@
 package main
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"io"
@@ -134,6 +135,9 @@ func runValue(o *valueOptions) error {
 		}
 		vdate = t
 	}
+	st := newStages(o.io)
+	defer st.interrupt() // a failed stage's line ends before its error
+	st.begin("reading")
 	s, rep, err := grants.ReadFile(o.path)
 	if err != nil {
 		return readError(o.path, err)
@@ -175,12 +179,14 @@ func runValue(o *valueOptions) error {
 		rep.Merge(fresh)
 	}
 	if !rep.OK() {
+		st.interrupt()
 		return printProblems(o.io.Err, rep, nil)
 	}
 	// As check does: the valuation inputs of each grant, and whether the
 	// lattice can value them.
 	ins, inErrs, skipped := s.ValueInputs()
 	if len(inErrs) > 0 {
+		st.interrupt()
 		return printProblems(o.io.Err, rep, inErrs)
 	}
 	var prior *accounting.Prior
@@ -198,6 +204,15 @@ func runValue(o *valueOptions) error {
 		}
 		return err
 	}
+	tranches := 0
+	for _, in := range ins {
+		tranches += len(in.Tranches)
+	}
+	priorNote := ""
+	if prior != nil {
+		priorNote = ", and the prior close"
+	}
+	st.end("%s grants, %s tranches%s", groupCount(len(ins)), groupCount(tranches), priorNote)
 	// Lock and check the output folder before the long work: a second run,
 	// a read-only folder or an output in the way is refused now.
 	out, err := openOutput(o.out, outputNames, o.force, o.io)
@@ -205,6 +220,7 @@ func runValue(o *valueOptions) error {
 		return err
 	}
 	defer out.close()
+	st.mark("valuing")
 	bar := newProgress(o.io, "valuing grants")
 	sensBar := newProgress(o.io, "sensitivity runs")
 	v, err := pricing.Value(s, ins, pricing.Options{
@@ -213,6 +229,10 @@ func runValue(o *valueOptions) error {
 		Sensitivity: func(done, total int) { bar.finish(); sensBar.update(done, total) },
 		Locks:       prior.Locks(),
 		Correct:     o.correct,
+		// A grant whose inputs are as the prior close filed them keeps
+		// its values without being valued, when the same grantworth
+		// made them.
+		Reuse: prior != nil && prior.ToolVersion == version,
 	})
 	bar.finish()
 	sensBar.finish()
@@ -222,6 +242,18 @@ func runValue(o *valueOptions) error {
 		}
 		return err
 	}
+	kept := 0
+	for i := range v.Grants {
+		if v.Grants[i].Reused {
+			kept++
+		}
+	}
+	keptNote := ""
+	if kept > 0 {
+		keptNote = fmt.Sprintf(" (%s as filed, not valued again)", groupCount(kept))
+	}
+	st.end("%s grants%s", groupCount(len(v.Grants)), keptNote)
+	st.begin("accounting")
 	books, err := accounting.Close(s, v, prior)
 	if err != nil {
 		if ce := (*grants.CellError)(nil); errors.As(err, &ce) {
@@ -229,6 +261,8 @@ func runValue(o *valueOptions) error {
 		}
 		return err
 	}
+	st.end("%s grants booked, %s journal entries", groupCount(len(v.Grants)), groupCount(len(books.Journal)))
+	st.mark("writing")
 	m, err := report.Build(s, v, books, report.Run{
 		Tool:     report.Tool{Name: "grantworth", Version: version},
 		Input:    report.Input{Path: filepath.ToSlash(o.path), SHA256: sum},
@@ -254,9 +288,17 @@ func runValue(o *valueOptions) error {
 	if err := out.write(files); err != nil {
 		return err
 	}
+	st.end("%d files", len(files))
 	printWarnings(o.io.Err, m.Warnings)
 	printSummary(o.io.Out, m, o.out)
 	return nil
+}
+
+// stage labels this goroutine, and those it starts from now on, with
+// the run's stage, so that a CPU profile (--cpuprofile) splits by stage:
+// go tool pprof -tags grantworth cpu.prof.
+func stage(name string) {
+	pprof.SetGoroutineLabels(pprof.WithLabels(context.Background(), pprof.Labels("stage", name)))
 }
 
 // readError is the error of a schedule or designs workbook at path that

@@ -14,6 +14,7 @@ import (
 	"strings"
 	"sync"
 	"testing"
+	"time"
 
 	"github.com/xuri/excelize/v2"
 
@@ -421,6 +422,54 @@ func TestProgressBar(t *testing.T) {
 	}
 }
 
+// The time left appears once a second has passed and a per cent is done,
+// estimated from the pace so far, and is padded so that a shorter text
+// overwrites a longer one.
+func TestTimeLeft(t *testing.T) {
+	for _, c := range []struct {
+		spent       time.Duration
+		done, total int
+		want        string
+	}{
+		{500 * time.Millisecond, 50, 100, ""},            // too soon to judge
+		{10 * time.Second, 0, 100, ""},                   // nothing done
+		{10 * time.Second, 5, 1000, ""},                  // less than a per cent
+		{10 * time.Second, 100, 100, ""},                 // done
+		{10 * time.Second, 50, 100, ", about 11 s left"}, // 10 s more, rounded up
+		{30 * time.Second, 25, 100, ", about 1 min 30 s left"},
+	} {
+		got := timeLeft(c.spent, c.done, c.total)
+		if len(got) != timeLeftWidth || strings.TrimRight(got, " ") != c.want {
+			t.Errorf("timeLeft(%v, %d, %d) = %q, want %q padded to %d", c.spent, c.done, c.total, got, c.want, timeLeftWidth)
+		}
+	}
+}
+
+// On a terminal each stage ends with a line of what it did; a stage that
+// fails ends its line before the error; elsewhere nothing is printed.
+func TestStages(t *testing.T) {
+	var buf bytes.Buffer
+	st := newStages(&IO{Err: &buf, ErrIsTerminal: true})
+	st.begin("reading")
+	st.end("%s grants", groupCount(12345))
+	st.begin("accounting")
+	st.interrupt()
+	st.interrupt()
+	got := buf.String()
+	if !strings.Contains(got, "reading     ...\rreading     12,345 grants") || !strings.HasSuffix(got, "accounting  ...\n") ||
+		strings.Count(got, "\n") != 2 {
+		t.Errorf("terminal stages = %q", got)
+	}
+	buf.Reset()
+	st = newStages(&IO{Err: &buf})
+	st.begin("reading")
+	st.end("done")
+	st.interrupt()
+	if buf.Len() != 0 {
+		t.Errorf("stages on a non-terminal wrote %q", buf.String())
+	}
+}
+
 // --valuation-date moves the period end: grants made after it are left out
 // with a warning, and the period is the quarter ending on it.
 func TestValueValuationDate(t *testing.T) {
@@ -432,8 +481,9 @@ func TestValueValuationDate(t *testing.T) {
 	if code != 0 {
 		t.Fatalf("exit %d: %s", code, errb.String())
 	}
-	if e := errb.String(); !strings.Contains(e, "\r") || !strings.Contains(e, "valuing grants") || !strings.Contains(e, "writing memo.pdf") {
-		t.Errorf("terminal stderr = %q, want a progress bar and the files being written", e)
+	if e := errb.String(); !strings.Contains(e, "\r") || !strings.Contains(e, "valuing grants") || !strings.Contains(e, "writing memo.pdf") ||
+		!strings.Contains(e, "\rreading ") || !strings.Contains(e, "\raccounting ") || !strings.Contains(e, fmt.Sprintf("\rwriting     %d files", len(outputNames))) {
+		t.Errorf("terminal stderr = %q, want a progress bar, the files being written and each stage's line", e)
 	}
 	if strings.Contains(out.String(), "\r") {
 		t.Error("progress went to stdout")

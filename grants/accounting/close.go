@@ -114,7 +114,7 @@ func AwardsOf(s *grants.Schedule, v *pricing.Valuation) ([]Award, []string, erro
 				rate += n * gv.Inputs.RiskFreeRate.Value
 			}
 		}
-		a, err := AwardOf(s, g, fv)
+		a, err := awardOf(s, g, gv.Inputs.Tranches, fv)
 		if err != nil {
 			return nil, nil, fmt.Errorf("expense: %w", err)
 		}

@@ -48,6 +48,9 @@ type Prior struct {
 	// compensation (grantworth's format 1): its booked cost cannot be
 	// carried on by the rule of ASC 718-30-35-3.
 	LiabilityChangeApart bool
+
+	byID    map[string]int // grant's index: position by grant ID
+	indexed int            // len(Grants) when byID was made
 }
 
 // PriorGrant is one grant as a prior close filed it.
@@ -67,6 +70,9 @@ type PriorGrant struct {
 	// post_vesting_exit_rate, risk_free_rate, strike), with their cells.
 	Inputs   map[string]grants.Source
 	Tranches []PriorTranche
+	// ValuationKey is the digest of every number its filed values were
+	// measured with (pricing.GrantValue.Key); "" if none was filed.
+	ValuationKey string
 
 	Cost, Cumulative, Unrecognized float64
 	// Liability-classified warrants: the liability at its valuation date
@@ -96,12 +102,20 @@ type PriorTranche struct {
 	Cumulative                   float64 // compensation recognised through the close's valuation date
 }
 
-// grant returns the prior close's grant id.
+// grant returns the prior close's grant id (the first of that id), by
+// an index made on the first call (again when the grants are appended
+// to): a close looks up every grant of a ledger that may have a hundred
+// thousand.
 func (p *Prior) grant(id string) (*PriorGrant, bool) {
-	for i := range p.Grants {
-		if p.Grants[i].ID == id {
-			return &p.Grants[i], true
+	if p.byID == nil || p.indexed != len(p.Grants) {
+		p.byID = make(map[string]int, len(p.Grants))
+		for i := len(p.Grants) - 1; i >= 0; i-- {
+			p.byID[p.Grants[i].ID] = i
 		}
+		p.indexed = len(p.Grants)
+	}
+	if i, ok := p.byID[id]; ok && p.Grants[i].ID == id {
+		return &p.Grants[i], true
 	}
 	return nil, false
 }
@@ -209,7 +223,7 @@ func (p *Prior) Locks() map[string]pricing.Lock {
 	}
 	out := make(map[string]pricing.Lock, len(p.Grants))
 	for _, pg := range p.Grants {
-		lk := pricing.Lock{Close: p.ValuationDate, Liability: pg.Liability, MeasurementDate: pg.MeasurementDate, ExpiryDate: pg.ExpiryDate, Inputs: pg.Inputs,
+		lk := pricing.Lock{Close: p.ValuationDate, Liability: pg.Liability, MeasurementDate: pg.MeasurementDate, ExpiryDate: pg.ExpiryDate, Inputs: pg.Inputs, Key: pg.ValuationKey,
 			Modifications: pg.Modifications}
 		if pg.Liability {
 			for _, r := range pg.Remeasurements {
@@ -257,7 +271,7 @@ func Filed(s *grants.Schedule, v *pricing.Valuation, b *Books) *Prior {
 			continue
 		}
 		pg := PriorGrant{ID: g.ID, Instrument: g.Instrument, Liability: ge.Liability, GrantDate: g.GrantDate, ServiceStart: ge.ServiceStart,
-			MeasurementDate: in.MeasurementDate, ExpiryDate: g.ExpiryDate, Inputs: map[string]grants.Source{},
+			MeasurementDate: in.MeasurementDate, ExpiryDate: g.ExpiryDate, Inputs: map[string]grants.Source{}, ValuationKey: gv.Key,
 			Cost: ge.Cost, Cumulative: ge.Cumulative, Unrecognized: ge.Unrecognized,
 			LiabilityEnd: ge.LiabilityEnd, Reclassified: ge.ReclassifiedToDate, Outstanding: ge.Outstanding}
 		for _, e := range ge.Events {
@@ -301,7 +315,7 @@ func filedMeasurements(pg *PriorGrant, gv *pricing.GrantValue, cum func(k int) f
 func filedFinancing(gv *pricing.GrantValue, fw *FinancingWarrant) PriorGrant {
 	g := gv.Inputs.Grant
 	pg := PriorGrant{ID: g.ID, Instrument: g.Instrument, Liability: g.IsLiability(), Financing: true, GrantDate: g.GrantDate,
-		ServiceStart: g.GrantDate, MeasurementDate: gv.Inputs.MeasurementDate, ExpiryDate: g.ExpiryDate, Inputs: map[string]grants.Source{},
+		ServiceStart: g.GrantDate, MeasurementDate: gv.Inputs.MeasurementDate, ExpiryDate: g.ExpiryDate, Inputs: map[string]grants.Source{}, ValuationKey: gv.Key,
 		LiabilityEnd: fw.LiabilityEnd, Reclassified: fw.ReclassifiedToDate, Outstanding: fw.Outstanding, Remeasurements: fw.Remeasurements}
 	for _, e := range fw.Events {
 		pg.Events = append(pg.Events, grants.Event{GrantID: g.ID, Date: e.Date, Kind: e.Kind, Shares: e.Shares})

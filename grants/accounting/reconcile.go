@@ -145,6 +145,14 @@ func (p *period) reconcile(pr *Prior, sts []grantStates, rep *ExpenseReport, d *
 	var Kc, Qc, S, Fc, Cc, Smod float64 // cumulative moves
 	var hasLiability bool
 	var lOpen, lComp, lReclass, lEnd float64
+	// The grants measured again as corrections, found once (a look-up per
+	// grant, not a scan of the ledger for each).
+	corrected := map[string]*pricing.GrantValue{}
+	for i := range v.Grants {
+		if gv := &v.Grants[i]; gv.Status == pricing.Corrected {
+			corrected[gv.Inputs.Grant.ID] = gv
+		}
+	}
 	for i, st := range sts {
 		ge := &rep.Grants[i]
 		l := st.ledger
@@ -172,7 +180,7 @@ func (p *period) reconcile(pr *Prior, sts []grantStates, rep *ExpenseReport, d *
 			lEnd += ge.LiabilityEnd
 		}
 		if st.old {
-			r.CatchUps = append(r.CatchUps, catchUps(st, l, pr, s, v)...)
+			r.CatchUps = append(r.CatchUps, catchUps(st, l, pr, s, corrected)...)
 		}
 	}
 	for _, fw := range rep.Financing {
@@ -287,10 +295,10 @@ func capital(s string) string { return strings.ToUpper(s[:1]) + s[1:] }
 // the compensation its restated history adds for the closed periods,
 // with every cause found, and apart the effect of a changed forfeiture
 // rate on the cost it had recognised.
-func catchUps(st grantStates, l *awardLedger, pr *Prior, s *grants.Schedule, v *pricing.Valuation) []CatchUp {
+func catchUps(st grantStates, l *awardLedger, pr *Prior, s *grants.Schedule, corrected map[string]*pricing.GrantValue) []CatchUp {
 	g := l.in.Grant
 	var out []CatchUp
-	causes, details := diagnose(st, l, pr, s, v)
+	causes, details := diagnose(st, l, pr, s, corrected)
 	if amt := st.cumA0 - st.bookedCum; math.Abs(amt) >= minEntry || len(causes) > 0 {
 		if len(causes) == 0 {
 			causes = []Cause{CauseRestated}
@@ -308,16 +316,15 @@ func catchUps(st grantStates, l *awardLedger, pr *Prior, s *grants.Schedule, v *
 }
 
 // diagnose finds why a grant's history differs from what the prior close
-// filed, the causes in the order of the Cause constants.
-func diagnose(st grantStates, l *awardLedger, pr *Prior, s *grants.Schedule, v *pricing.Valuation) ([]Cause, []string) {
+// filed, the causes in the order of the Cause constants; corrected are
+// the grants measured again as corrections, by ID.
+func diagnose(st grantStates, l *awardLedger, pr *Prior, s *grants.Schedule, corrected map[string]*pricing.GrantValue) ([]Cause, []string) {
 	g := l.in.Grant
 	found := map[Cause][]string{}
 	add := func(c Cause, format string, args ...any) { found[c] = append(found[c], fmt.Sprintf(format, args...)) }
 	P := dayNum(pr.ValuationDate)
-	for _, gv := range v.Grants {
-		if gv.Inputs.Grant.ID == g.ID && gv.Status == pricing.Corrected {
-			add(CauseCorrection, "the grant-date fair value is measured again as a correction: %.4f a share then, %.4f now (weighted by shares)", lockedAverage(gv, l), valuedAverage(l))
-		}
+	if gv, ok := corrected[g.ID]; ok {
+		add(CauseCorrection, "the grant-date fair value is measured again as a correction: %.4f a share then, %.4f now (weighted by shares)", lockedAverage(gv, l), valuedAverage(l))
 	}
 	pg := st.prior
 	if pg != nil && pg.Financing {
@@ -391,7 +398,7 @@ func trancheShares(ts []PriorTranche) int64 {
 // lockedAverage and valuedAverage are a corrected grant's filed and new
 // grant-date fair values per share, weighted by shares (for a
 // liability-classified warrant, its values at the grant date).
-func lockedAverage(gv pricing.GrantValue, l *awardLedger) float64 {
+func lockedAverage(gv *pricing.GrantValue, l *awardLedger) float64 {
 	if gv.Lock == nil {
 		return 0
 	}

@@ -12,11 +12,17 @@ import (
 // (Schedule.PriceAt), its transfers between cost centres and fairValue,
 // the fair value per share of each tranche in the same order.
 func AwardOf(s *grants.Schedule, g grants.Grant, fairValue []float64) (Award, error) {
-	ts := s.Tranches(g)
+	return awardOf(s, g, s.Tranches(g), fairValue)
+}
+
+// awardOf is AwardOf with g's tranches ts given (Schedule.Tranches: the
+// forfeitures they carry are left out), so that a grant valued already is
+// not expanded again.
+func awardOf(s *grants.Schedule, g grants.Grant, ts []grants.Tranche, fairValue []float64) (Award, error) {
 	if len(fairValue) != len(ts) {
 		return Award{}, fmt.Errorf("grant %s: %d fair values for %d tranches", g.ID, len(fairValue), len(ts))
 	}
-	a := Award{Grant: g, Events: s.EventsOf(g.ID), Transfers: s.TransfersOf(g.ID)}
+	a := Award{Grant: g, Events: s.EventsOf(g.ID), Transfers: s.TransfersOf(g.ID), Tranches: make([]TrancheCost, len(ts))}
 	for _, e := range a.Events {
 		var px float64
 		if p, ok := s.PriceAt(e.Date); ok {
@@ -25,7 +31,7 @@ func AwardOf(s *grants.Schedule, g grants.Grant, fairValue []float64) (Award, er
 		a.EventPrices = append(a.EventPrices, px)
 	}
 	for i, t := range ts {
-		a.Tranches = append(a.Tranches, TrancheCost{Tranche: grants.Tranche{GrantID: t.GrantID, Index: t.Index, VestDate: t.VestDate, Shares: t.Shares}, FairValue: fairValue[i]})
+		a.Tranches[i] = TrancheCost{Tranche: grants.Tranche{GrantID: t.GrantID, Index: t.Index, VestDate: t.VestDate, Shares: t.Shares}, FairValue: fairValue[i]}
 	}
 	return a, nil
 }

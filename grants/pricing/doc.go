@@ -32,6 +32,13 @@
 //   - A Monte Carlo cross-check of up to MonteCarloSample tranches spread
 //     over instruments and grant months, each with its own seed, z against
 //     the lattice and a warning past MonteCarloZLimit.
+//
+// The automatic value beside the convergence study and the checks is the
+// one the run reports for the tranche, valued with its grant's other
+// tranches (a tranche valued alone sits on another time grid and may
+// differ within the error estimate); it is valued again only where the run
+// did not value it so (a raw --steps run, a diluted warrant, a value kept
+// from a prior close).
 //   - The tranches whose automatic lattice value misses valuation.AutoTarget
 //     (valuation.Result.MissedTarget), listed in Valuation.MissedTarget with
 //     a warning each (the first MissedTargetWarnings): the lattice's value

@@ -42,6 +42,9 @@ type Lock struct {
 	// Modifications are the values of the grant's changes the prior
 	// close measured (modify.go).
 	Modifications []LockedModification
+	// Key is the valuation key (GrantValue.Key) of the values filed; ""
+	// from a close that filed none.
+	Key string
 }
 
 // LockedTranche is one tranche's measurement as filed.
@@ -109,6 +112,7 @@ func lock(v *Valuation, opts Options) ([]string, error) {
 		if err := keep(gv, &lk); err != nil {
 			return nil, err
 		}
+		gv.Key = lk.Key
 	}
 	return driftWarnings(v.Grants), nil
 }
@@ -218,7 +222,7 @@ func keep(gv *GrantValue, lk *Lock) error {
 		t := lk.Tranches[j]
 		today := gv.Results[k]
 		tol := math.Max(today.ErrorEstimate, t.Result.ErrorEstimate) + 1e-12*math.Abs(t.Result.Value)
-		if math.Abs(today.Value-t.Result.Value) > tol {
+		if !gv.Reused && math.Abs(today.Value-t.Result.Value) > tol {
 			differs = true
 		}
 		n := float64(tr.Shares)

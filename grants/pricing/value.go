@@ -1,6 +1,8 @@
 package pricing
 
 import (
+	"crypto/sha256"
+	"encoding/hex"
 	"fmt"
 	"math"
 	"runtime"
@@ -60,6 +62,14 @@ type Options struct {
 	// correction of an error.
 	Locks   map[string]Lock
 	Correct []string
+	// Reuse lets a locked grant without a vesting condition beyond
+	// service (the key does not cover one) whose valuation key today
+	// equals the one filed (Lock.Key: every number that enters its valuation is as it
+	// was) take its filed values without being valued again; such a
+	// grant is not checked for drift, which only another method could
+	// cause. Set it when the prior close was made by this version of
+	// grantworth.
+	Reuse bool
 	// SimTarget scales the standard errors the simulations of market
 	// conditions aim for (conditions.go): 0 or 1 as set there, 4 four
 	// times as loose (quick runs and tests).
@@ -88,6 +98,14 @@ type GrantValue struct {
 	// Drift is, for a locked grant that today's inputs would value
 	// differently, by how much and why; nil otherwise.
 	Drift *Drift
+	// Key is the grant's valuation key: a digest of every number that
+	// enters its valuation (instrument, terms and vest times of every
+	// tranche, market and curve, dilution, lattice settings), of today's
+	// inputs, or for a locked grant of the filed ones. Reused is set when
+	// a locked grant took its filed values without being valued
+	// (Options.Reuse).
+	Key    string
+	Reused bool
 	// RiskFreeRate is, per tranche, the continuous zero rate of the
 	// grant's curve at the tranche's years to expiry, SimplifiedRate at
 	// the term of its closed-form comparison (BSM's ExpectedTermYears) and
@@ -265,8 +283,18 @@ func revaluationDates(cal grants.FiscalCalendar, gv *GrantValue, end time.Time, 
 func Value(s *grants.Schedule, ins []grants.Inputs, opts Options) (*Valuation, error) {
 	p := &pricer{s: s, opts: opts.Lattice, simScale: max(opts.SimTarget, 1)}
 	v := &Valuation{Options: opts, Grants: make([]GrantValue, len(ins))}
+	correct := map[string]bool{}
+	for _, id := range opts.Correct {
+		correct[id] = true
+	}
 	for i := range ins {
-		v.Grants[i].Inputs = ins[i]
+		gv := &v.Grants[i]
+		gv.Inputs = ins[i]
+		gv.Key = p.key(gv)
+		if lk, ok := opts.Locks[gv.Inputs.Grant.ID]; ok && opts.Reuse && !correct[gv.Inputs.Grant.ID] &&
+			!lk.Liability && !isLiability(gv.Inputs.Grant) && gv.Inputs.Condition == nil && lk.Key != "" && lk.Key == gv.Key {
+			gv.Reused = true
+		}
 	}
 	base, _, err := p.valueSet(v.Grants, shift{}, opts.Progress)
 	if err != nil {
@@ -275,6 +303,9 @@ func Value(s *grants.Schedule, ins []grants.Inputs, opts Options) (*Valuation, e
 	for i := range v.Grants {
 		gv := &v.Grants[i]
 		gv.Results = base[i]
+		if gv.Reused { // filled from the lock by lock()
+			gv.Results = make([]valuation.Result, len(gv.Inputs.Tranches))
+		}
 		if err := p.compare(gv); err != nil {
 			return nil, err
 		}
@@ -491,6 +522,9 @@ func (p *pricer) valueSet(gs []GrantValue, sh shift, progress func(done, total i
 	var jobs []valuation.Job
 	var jobOf []int
 	for i := range gs {
+		if gs[i].Reused && sh == (shift{}) {
+			continue // its filed values are kept
+		}
 		in := gs[i].Inputs
 		terms, m, err := shiftCase(in, sh, curves)
 		if err != nil {
@@ -580,6 +614,33 @@ func dedupJobs(jobs []valuation.Job) ([]valuation.Job, []int) {
 		index[i] = u
 	}
 	return uniq, index
+}
+
+// key is gv's valuation key (GrantValue.Key): a SHA-256 digest of its
+// instrument and every number that enters its valuation.
+func (p *pricer) key(gv *GrantValue) string {
+	in, g := &gv.Inputs, gv.Inputs.Grant
+	vest := make([]float64, len(in.Terms))
+	for k, t := range in.Terms {
+		vest[k] = t.YearsToVest
+	}
+	b := []byte(string(g.Instrument) + "|" + string(g.Classification) + "|" + string(g.ExerciseStyle) + "|")
+	if len(in.Terms) > 0 {
+		b = append(b, jobKey(valuation.Job{Terms: in.Terms[0], VestYears: vest, Market: in.Market, Options: p.opts})...)
+	} else {
+		b = append(b, jobKey(valuation.Job{Market: in.Market, Options: p.opts})...)
+	}
+	for _, t := range in.Terms { // a tranche's own terms (an RSU's expiry is its vest date)
+		b = strconv.AppendUint(b, math.Float64bits(t.YearsToExpiry), 16)
+		b = append(b, ',')
+	}
+	if g.Instrument == grants.Warrant {
+		if d := p.dilution(g); d != nil {
+			b = fmt.Appendf(b, "|%x,%x,%t", math.Float64bits(d.SharesOutstanding), math.Float64bits(d.Warrants), d.PriceReflectsWarrants)
+		}
+	}
+	sum := sha256.Sum256(b)
+	return hex.EncodeToString(sum[:16])
 }
 
 func jobKey(j valuation.Job) string {
@@ -733,7 +794,7 @@ func (p *pricer) convergence(v *Valuation) error {
 	in := gv.Inputs
 	t := mcTerms(gv, k)
 	mk := in.Market
-	auto, err := valuation.Lattice(t, mk, valuation.LatticeOptions{})
+	auto, err := p.autoResult(gv, k)
 	if err != nil {
 		return fmt.Errorf("convergence study, grant %s: %w", in.Grant.ID, err)
 	}
@@ -762,6 +823,17 @@ func mcTerms(gv *GrantValue, k int) valuation.Terms {
 		t = rational(t)
 	}
 	return t
+}
+
+// autoResult is the automatic lattice's result for tranche k of gv on
+// its mcTerms, as the convergence study and the Monte Carlo check show it:
+// the run's own value when the run measured it so (now, on the automatic
+// lattice, undiluted), else valued afresh.
+func (p *pricer) autoResult(gv *GrantValue, k int) (valuation.Result, error) {
+	if p.opts == (valuation.LatticeOptions{}) && gv.Status != Locked && gv.Dilution == nil && gv.Inputs.Grant.Instrument != grants.RSU {
+		return gv.Results[k], nil
+	}
+	return valuation.Lattice(mcTerms(gv, k), gv.Inputs.Market, valuation.LatticeOptions{})
 }
 
 // simulable reports whether valuation.MonteCarlo values terms t: it does
@@ -866,7 +938,7 @@ func (p *pricer) monteCarlo(v *Valuation) error {
 		go func() {
 			defer func() { <-sem; wg.Done() }()
 			o := &outs[j]
-			o.c, o.err, o.mcErr = check(&v.Grants[pk.i], pk.k, uint64(MonteCarloSeed+j))
+			o.c, o.err, o.mcErr = p.check(&v.Grants[pk.i], pk.k, uint64(MonteCarloSeed+j))
 		}()
 	}
 	wg.Wait()
@@ -892,10 +964,10 @@ func (p *pricer) monteCarlo(v *Valuation) error {
 // check simulates tranche k of gv with the given seed beside the automatic
 // lattice on the same terms (mcTerms). err is the lattice's failure (the
 // run fails), mcErr the simulation's refusal (the tranche is left out).
-func check(gv *GrantValue, k int, seed uint64) (c MonteCarloCheck, err, mcErr error) {
+func (p *pricer) check(gv *GrantValue, k int, seed uint64) (c MonteCarloCheck, err, mcErr error) {
 	in := gv.Inputs
 	t := mcTerms(gv, k)
-	auto, err := valuation.Lattice(t, in.Market, valuation.LatticeOptions{})
+	auto, err := p.autoResult(gv, k)
 	if err != nil {
 		return c, fmt.Errorf("Monte Carlo check, grant %s tranche %d: lattice: %w", in.Grant.ID, in.Tranches[k].Index, err), nil
 	}
@@ -946,7 +1018,7 @@ func (p *pricer) missedTarget(v *Valuation) error {
 		sem <- struct{}{}
 		go func() {
 			defer func() { <-sem; wg.Done() }()
-			c, err, mcErr := check(gv, pk.k, seed)
+			c, err, mcErr := p.check(gv, pk.k, seed)
 			if err == nil && mcErr == nil {
 				v.MissedTarget[j].Check = &c
 			}

@@ -398,3 +398,68 @@ func ymd(s string) time.Time {
 	}
 	return t
 }
+
+// The ledger path (every grant's job batched, grants with the same inputs
+// valued once, on all cores) gives each tranche the value its grant gets
+// valued alone on the lattice, to 1e-12 relative (issue 15's accuracy
+// bound; in fact bit for bit): batching saves work, never accuracy.
+func TestLedgerPathEqualsEachGrantAlone(t *testing.T) {
+	const rel = 1e-12
+	// The sample's first options, each twice under another ID (a board's
+	// batch of grants alike), so that the ledger path values some once
+	// for two grants.
+	s, _, err := grants.ReadFile(filepath.Join("..", "..", "sample", "tarnwick.xlsx"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var keep []grants.Grant
+	for _, g := range s.Grants {
+		if g.Instrument == grants.Option && len(keep) < 8 {
+			twin := g
+			twin.ID += "-TWIN"
+			keep = append(keep, g, twin)
+		}
+	}
+	s.Grants = keep
+	ins, errs, _ := s.ValueInputs()
+	if len(errs) > 0 {
+		t.Fatal(errs[0])
+	}
+	v, err := Value(s, ins, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	jobs, checked := map[string]bool{}, 0
+	for _, gv := range v.Grants {
+		in := gv.Inputs
+		if in.Grant.Instrument != grants.Option || len(in.Terms) == 0 {
+			continue
+		}
+		vest := make([]float64, len(in.Terms))
+		for k, tm := range in.Terms {
+			vest[k] = tm.YearsToVest
+		}
+		jobs[jobKey(valuation.Job{Terms: in.Terms[0], VestYears: vest, Market: in.Market})] = true
+		alone, err := valuation.LatticeTranches(in.Terms[0], vest, in.Market, valuation.LatticeOptions{})
+		if err != nil {
+			t.Fatalf("grant %s: %v", in.Grant.ID, err)
+		}
+		for k, want := range alone {
+			got := gv.Results[k]
+			for _, c := range []struct {
+				name      string
+				got, want float64
+			}{{"value", got.Value, want.Value}, {"error estimate", got.ErrorEstimate, want.ErrorEstimate},
+				{"expected term", got.ExpectedTermYears, want.ExpectedTermYears}} {
+				if math.Abs(c.got-c.want) > rel*math.Abs(c.want) {
+					t.Errorf("grant %s tranche %d: %s %v on the ledger path, %v alone", in.Grant.ID, k+1, c.name, c.got, c.want)
+				}
+			}
+			checked++
+		}
+	}
+	if len(jobs) == 0 || 2*len(jobs) != len(v.Grants) {
+		t.Fatalf("%d distinct jobs for %d grants, want one for each pair", len(jobs), len(v.Grants))
+	}
+	t.Logf("%d option tranches checked; %d distinct lattice jobs", checked, len(jobs))
+}

@@ -1,0 +1,101 @@
+package grants
+
+import (
+	"sort"
+	"time"
+
+	"grantworth/valuation"
+)
+
+// index holds what a schedule's per-grant look-ups would otherwise find by
+// scanning whole sheets for every grant: the Events and Vesting rows of
+// each grant (their positions in sheet order) and the zero curve of each
+// Rates curve date, built once and shared by every grant measured on it
+// (so that caches keyed by the curve, such as the sensitivity runs', hit).
+//
+// The reader indexes the schedule it returns, and ValueInputs a schedule
+// built in code. An index is used only while the sheets it was built from
+// are unchanged in length and place (fresh); a schedule whose Events,
+// Vesting or Rates are appended to or replaced is scanned again until it
+// is indexed anew. Rows edited in place (a grant_id or a date changed)
+// need Schedule.Reindex.
+type index struct {
+	events, vesting, rates int
+	event0                 *Event
+	vest0                  *VestRow
+	rate0                  *RatePoint
+	eventsOf, vestOf       map[string][]int32 // positions by grant ID
+	curves                 []indexedCurve     // by date
+}
+
+// indexedCurve is one curve date's rows and its zero curve, or why it
+// cannot be built.
+type indexedCurve struct {
+	curve
+	cv   *valuation.Curve
+	text string
+	err  error
+}
+
+// Reindex builds the schedule's look-up index anew (see index). The
+// reader calls it; call it again after editing rows in place.
+func (s *Schedule) Reindex() {
+	ix := &index{
+		events: len(s.Events), vesting: len(s.Vesting), rates: len(s.Rates),
+		eventsOf: map[string][]int32{}, vestOf: map[string][]int32{},
+	}
+	if len(s.Events) > 0 {
+		ix.event0 = &s.Events[0]
+	}
+	if len(s.Vesting) > 0 {
+		ix.vest0 = &s.Vesting[0]
+	}
+	if len(s.Rates) > 0 {
+		ix.rate0 = &s.Rates[0]
+	}
+	for i, e := range s.Events {
+		ix.eventsOf[e.GrantID] = append(ix.eventsOf[e.GrantID], int32(i))
+	}
+	for i, v := range s.Vesting {
+		ix.vestOf[v.GrantID] = append(ix.vestOf[v.GrantID], int32(i))
+	}
+	for _, c := range s.curves() {
+		cv, text, err := c.build()
+		ix.curves = append(ix.curves, indexedCurve{c, cv, text, err})
+	}
+	s.idx = ix
+}
+
+// fresh is s's index if it still describes s's sheets, else nil.
+func (s *Schedule) fresh() *index {
+	ix := s.idx
+	if ix == nil || len(s.Events) != ix.events || len(s.Vesting) != ix.vesting || len(s.Rates) != ix.rates {
+		return nil
+	}
+	if (len(s.Events) > 0 && &s.Events[0] != ix.event0) || (len(s.Vesting) > 0 && &s.Vesting[0] != ix.vest0) ||
+		(len(s.Rates) > 0 && &s.Rates[0] != ix.rate0) {
+		return nil
+	}
+	return ix
+}
+
+// curveOn is the latest curve dated on or before d, built.
+func (ix *index) curveOn(d time.Time) (*indexedCurve, bool) {
+	i := sort.Search(len(ix.curves), func(i int) bool { return ix.curves[i].date.After(d) })
+	if i == 0 {
+		return nil, false
+	}
+	return &ix.curves[i-1], true
+}
+
+// rowsAt are the rows of rows at positions at.
+func rowsAt[T any](rows []T, at []int32) []T {
+	if len(at) == 0 {
+		return nil
+	}
+	out := make([]T, len(at))
+	for i, k := range at {
+		out[i] = rows[k]
+	}
+	return out
+}
