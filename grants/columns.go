@@ -289,6 +289,7 @@ var Sheets = append([]Sheet{
 			{Key: "event", Kind: KindChoice, Choices: eventKinds, Required: true, Need: "required", Help: "exercised, forfeited (unvested shares lost on leaving), expired (vested shares lapsed) or cancelled.", Synonyms: []string{"Event Type", "Transaction Type", "Action"}},
 			{Key: "shares", Kind: KindInt, Unit: "shares", Required: true, Need: "required", Help: "Shares affected.", Synonyms: []string{"Shares Affected", "Number of Shares", "Quantity"}},
 			{Key: "share_price", Kind: KindNumber, Unit: "currency per share", Need: "optional", Default: "Share Prices on the date", Help: "The share's fair value on the date of an exercise, for its tax deduction and the excess tax benefit or shortfall."},
+			{Key: "replacement_grant_id", Kind: KindText, Need: "cancelled events, optional", Help: "For a cancellation with a concurrent replacement award: the grant_id of the replacement, granted on the cancellation date. The exchange is booked as a modification (ASC 718-20-35-8; IFRS 2.28(c)): the cancelled shares' grant-date cost is kept and only a replacement worth more than them on that date adds cost."},
 		}},
 	{Name: SheetTransfers, File: "transfers.csv",
 		Help: "Optional: the cost centre history of holders who move. From its date on (that day included) a grant's service is rendered in the row's cost centre; before its first row, in the Grants cost_center. The expense of each day of service lands in the cost centre it was rendered in.",
@@ -305,7 +306,7 @@ var Sheets = append([]Sheet{
 			{Key: "account_code", Kind: KindText, Need: "this or account_name", Help: "The account's code in your chart of accounts, as your ledger imports it."},
 			{Key: "account_name", Kind: KindText, Need: "this or account_code", Default: "the role's default name", Help: "The account's name."},
 		}},
-}, conditionSheets...)
+}, append(conditionSheets, modificationsSheet)...)
 
 // DesignSheets is the layout of the grant designs workbook that compare
 // reads (and init --designs writes): the schedule's Company sheet with one

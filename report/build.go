@@ -176,6 +176,7 @@ func Build(s *grants.Schedule, v *pricing.Valuation, b *accounting.Books, run Ru
 		m.Settings.MonteCarlo = "No Monte Carlo check: every lattice-valued award allows rational early exercise, which the simulation does not model."
 	}
 	m.Expense = expenseModel(b)
+	m.Modifications = modificationsModel(s, v, b)
 	conditionsModel(m, s, v, b)
 	if r := b.Reconciliation; r != nil {
 		m.Prior = priorModel(r.Prior)

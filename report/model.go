@@ -91,6 +91,9 @@ type Model struct {
 	// the walk from it; both nil for a first close.
 	Prior          *PriorClose     `json:"prior"`
 	Reconciliation *Reconciliation `json:"reconciliation"`
+	// Modifications are the changes of awards' terms, and cancellations
+	// with a replacement award, dated by the valuation date (modify.go).
+	Modifications []Modification `json:"modifications"`
 	// Conditions are the vesting conditions beyond service the grants
 	// carry (conditions.go); absent when none does.
 	Conditions []VestingCondition `json:"conditions,omitempty"`

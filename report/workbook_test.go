@@ -57,7 +57,7 @@ func TestWorkbookGolden(t *testing.T) {
 
 func TestWorkbookSheetsAndHeaders(t *testing.T) {
 	f := renderBook(t, fixture())
-	want := []string{SheetSummary, SheetAssumptions, SheetGrants, SheetTranches, SheetSensitivity, SheetConvergence, SheetExpense, SheetCostCenters, SheetForecast, SheetByYear, SheetFinancing, SheetDisclosures, SheetJournal, SheetTax, SheetReconciliation, SheetWarnings, SheetAbout}
+	want := []string{SheetSummary, SheetAssumptions, SheetGrants, SheetTranches, SheetSensitivity, SheetConvergence, SheetExpense, SheetCostCenters, SheetForecast, SheetByYear, SheetFinancing, SheetDisclosures, SheetJournal, SheetTax, SheetModifications, SheetReconciliation, SheetWarnings, SheetAbout}
 	got := f.GetSheetList()
 	if strings.Join(got, ",") != strings.Join(want, ",") {
 		t.Fatalf("sheets = %v, want %v", got, want)

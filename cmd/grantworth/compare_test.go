@@ -119,9 +119,9 @@ func TestCompareTableOutput(t *testing.T) {
 	printComparison(&out, &m, "out/designs")
 	text := out.String()
 	for _, want := range []string{
-		"Tarnwick Labs, Inc.: 6 grant designs on 2026-10-15, share price 3.40 (amounts in USD)",
+		"Tarnwick Labs, Inc.: 6 grant designs on 2026-10-15, share price 2.25 (amounts in USD)",
 		"Standard   3y no cliff   Premium 25%   7-year term          RSUs   Long window",
-		"  Strike                                    3.40          3.40   4.25 (+25%)          3.40             –          3.40",
+		"  Strike                                    2.25          2.25   2.81 (+25%)          2.25             –          2.25",
 		"Cost to the company\n",
 		"  Expected cost, with departures ",
 		"  before vesting (not a fair value)\n",

@@ -420,6 +420,14 @@ func printSummary(w io.Writer, m *report.Model, dir string) {
 			}
 		}
 	}
+	if n := len(m.Modifications); n > 0 {
+		var cost, amount float64
+		for _, x := range m.Modifications {
+			cost += x.Cost
+			amount += x.Amount
+		}
+		fmt.Fprintf(w, "  modifications     %d (%s %s added to the cost, %s %s of it in the period)\n", n, cur, money2(cost), cur, money2(amount))
+	}
 	if len(m.Warnings) > 0 {
 		fmt.Fprintf(w, "  warnings          %d (printed on stderr, and listed in the memo and the workbook)\n", len(m.Warnings))
 	}
