@@ -192,6 +192,7 @@ var (
 	frameworks      = []string{string(ASC718), string(IFRS2)}
 	eventKinds      = []string{string(Exercised), string(Forfeited), string(Expired), string(Cancelled)}
 	compoundings    = []string{"continuous", "annual", "semiannual", "par-semiannual"}
+	paperSizes      = []string{"a4", "letter"}
 )
 
 // Sheets is the layout of the input workbook (DESIGN §4.2), in the order the
@@ -209,6 +210,9 @@ var Sheets = append([]Sheet{
 			{Key: "fiscal_year_end", Kind: KindChoice, Choices: months, Unit: "month", Need: "optional", Default: "December (calendar years)", Help: "The month the fiscal year ends in: its name, its first three letters or its number 1 to 12. Quarters, the expense forecast, the expense by fiscal year and the default period_start follow it; a year ending in January runs from 1 February and is named by the calendar year it ends in (FY2027 ends in January 2027)."},
 			{Key: "fiscal_year_end_weekday", Kind: KindChoice, Choices: weekdays, Need: "optional", Default: "none: the year ends on the month's last day", Help: "For a 52/53-week year: the weekday it ends on, in or near the fiscal_year_end month. Its quarters are 13 weeks each, the fourth 14 in a 53-week year."},
 			{Key: "fiscal_year_end_rule", Kind: KindChoice, Choices: []string{"last", "nearest"}, Need: "with fiscal_year_end_weekday", Default: "last", Help: "last: the year ends on the last such weekday of the month; nearest: on the one nearest the month's last day, which may fall in the next month's first three days."},
+			{Key: "preparer", Kind: KindText, Need: "optional", Help: "The firm that prepares the memo, for a consultant's client pack: on the memo's cover and at the top of every page."},
+			{Key: "client", Kind: KindText, Need: "optional", Default: "company_name", Help: "Whom the memo is prepared for, when not the company itself: on the cover and at the top of every page."},
+			{Key: "paper_size", Kind: KindChoice, Choices: paperSizes, Need: "optional", Default: "letter if currency is USD, else a4", Help: "The memo's paper: a4 or letter."},
 		}},
 	{Name: SheetAssumptions, File: "assumptions.csv", KeyValue: true, Required: true,
 		Help: "Company-wide valuation assumptions: key, value, an optional source that the memo quotes and an optional effective_date from which the row applies (a row without one applies from the beginning). A grant takes, key by key, the row in force at its measurement date (the latest effective_date on or before it); attribution, forfeitures, pre_vesting_forfeiture_rate and steps are those in force at valuation_date. A grant row may override some of them.",

@@ -108,6 +108,9 @@ type Company struct {
 	SharesOutstanding float64
 	Fiscal            FiscalCalendar // fiscal_year_end and the 52/53-week keys
 	GrantDate         time.Time      // designs workbook: the grant date of every design; zero means ValuationDate
+	Client            string         // optional: whom a consultant prepares the memo for
+	Preparer          string         // optional: the firm that prepares the memo
+	PaperSize         string         // optional: "a4" or "letter"; "" chooses by currency
 	Refs              map[string]Ref // by key, e.g. "valuation_date"
 }
 

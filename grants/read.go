@@ -44,7 +44,8 @@ const (
 var textLimit = map[string]int{"grant_id": MaxIDChars, "holder": MaxNameChars, "company_name": MaxNameChars,
 	"cost_center": MaxIDChars, "account_code": MaxIDChars, "account_name": MaxNameChars,
 	"condition": MaxIDChars, "condition_id": MaxIDChars, "peer": MaxNameChars, "description": MaxSourceChars, "note": MaxSourceChars,
-	"own_prices": MaxSourceChars, "file": MaxSourceChars, "replacement_grant_id": MaxIDChars}
+	"own_prices": MaxSourceChars, "file": MaxSourceChars, "replacement_grant_id": MaxIDChars,
+	"preparer": MaxNameChars, "client": MaxNameChars}
 
 // tooLong reports whether v has more than limit characters.
 func tooLong(v string, limit int) bool {
@@ -987,6 +988,12 @@ func (t *tableReader) companyValue(c *rowCtx, col *Column) {
 		}
 	case "grant_date":
 		co.GrantDate, _ = c.date(col.Key, false)
+	case "preparer":
+		co.Preparer, _ = c.text(col.Key)
+	case "client":
+		co.Client, _ = c.text(col.Key)
+	case "paper_size":
+		co.PaperSize, _ = c.choice(col.Key, false)
 	}
 }
 

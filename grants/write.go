@@ -419,6 +419,9 @@ func companyRows(s *Schedule, sh *Sheet) [][]any {
 		{"fiscal_year_end", val(co.Fiscal.YearEnd != 0, co.Fiscal.YearEnd.String())},
 		{"fiscal_year_end_weekday", val(co.Fiscal.WeekBased, weekdays[co.Fiscal.Weekday])},
 		{"fiscal_year_end_rule", val(co.Fiscal.WeekBased, map[bool]string{true: "nearest", false: "last"}[co.Fiscal.Nearest])},
+		{"preparer", val(co.Preparer != "", co.Preparer)},
+		{"client", val(co.Client != "", co.Client)},
+		{"paper_size", val(co.PaperSize != "", co.PaperSize)},
 	}
 	if sh.Column("grant_date") != nil {
 		rows = append(rows, []any{"grant_date", val(!co.GrantDate.IsZero(), co.GrantDate)})

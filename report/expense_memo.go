@@ -98,22 +98,19 @@ func (d *Memo) expense(m *Model) error {
 	if len(periods) > chartQuarters {
 		periods = periods[len(periods)-chartQuarters:]
 	}
-	var labels []string
-	var values []float64
+	bars := make([]PeriodBar, 0, len(periods)+len(e.Forecast))
 	for _, p := range periods {
-		label := p.Label
+		kind := PeriodPast
 		if p.Current {
-			label += " (this period)"
+			kind = PeriodCurrent
 		}
-		labels = append(labels, label)
-		values = append(values, p.Amount)
+		bars = append(bars, PeriodBar{p.Label, p.Amount, kind})
 	}
 	for _, p := range e.Forecast {
-		labels = append(labels, p.Label+" e")
-		values = append(values, p.Amount)
+		bars = append(bars, PeriodBar{p.Label, p.Amount, PeriodExpected})
 	}
 	if err := d.Chart(func(w, h vg.Length) ([]byte, error) {
-		return BarPNG("Compensation expense by quarter (e = expected)", labels, values, cur, w, h)
+		return PeriodBarsPNG("Compensation expense by quarter", bars, cur, w, h)
 	}, textW, 80); err != nil {
 		return err
 	}
@@ -162,7 +159,7 @@ func (d *Memo) journal(m *Model) error {
 		e.PeriodStart, e.PeriodEnd, m.Company.Currency, e.PeriodEnd, equity))
 	var rows [][]string
 	for _, j := range e.Journal {
-		rows = append(rows, []string{"\x00" + fmt.Sprintf("%d. %s", j.Number, j.Description)})
+		rows = append(rows, []string{rowHeading + fmt.Sprintf("%d. %s", j.Number, j.Description)})
 		for _, l := range j.Lines {
 			acct := "Dr " + l.Account
 			dr, cr := groupDigits(l.Debit, e.JournalDecimals), ""

@@ -135,6 +135,12 @@ type Company struct {
 	Name              string  `json:"name"`
 	Currency          string  `json:"currency"` // ISO 4217
 	SharesOutstanding float64 `json:"shares_outstanding"`
+	// Who the memo is for and by whom, when a consultant prepares it, and
+	// its paper: the Company sheet's client, preparer and paper_size.
+	// They change no figure, so valuation.json leaves them out.
+	Client    string `json:"-"`
+	Preparer  string `json:"-"`
+	PaperSize string `json:"-"` // "a4", "letter" or "" (by currency)
 }
 
 // Settings are the run's choices that change numbers.

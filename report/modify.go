@@ -469,9 +469,9 @@ func yesNo(b bool) string {
 func writeModifications(b *Book, m *Model) error {
 	cols := []Column{{"Level", 13}, {"Grant", 12}, {"Date", 11}, {"Booked as", 20}, {"What changed / tranche", 40}, {"Shares", 11},
 		{"Vested before", 9}, {"Vest date before", 12}, {"Vest date after", 12},
-		{"Fair value before, per share", 13}, {"Fair value after, per share", 13}, {"Cost added per share", 13},
-		{"Fair value before", 14}, {"Fair value after", 14}, {"Incremental fair value", 14}, {"Cost added", 14},
-		{"Cumulative at period start", 14}, {"Period expense", 14}, {"Cumulative at period end", 14}, {"Unrecognized cost", 14},
+		{b.Cur("Fair value before, per share"), 13}, {b.Cur("Fair value after, per share"), 13}, {b.Cur("Cost added per share"), 13},
+		{b.Cur("Fair value before"), 14}, {b.Cur("Fair value after"), 14}, {b.Cur("Incremental fair value"), 14}, {b.Cur("Cost added"), 14},
+		{b.Cur("Cumulative at period start"), 14}, {b.Cur("Period expense"), 14}, {b.Cur("Cumulative at period end"), 14}, {b.Cur("Unrecognized cost"), 14},
 		{"Attribution", 36}, {"Values", 10}, {"Row", 16}, {"Note", 40}}
 	rows := 0
 	for _, x := range m.Modifications {
