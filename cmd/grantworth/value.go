@@ -404,8 +404,8 @@ func printSummary(w io.Writer, m *report.Model, dir string) {
 			fmt.Fprintf(w, "    %-15s %d (%s %s)\n", g.Key, g.Grants, cur, money2(g.FairValueTotal))
 		}
 	}
-	fmt.Fprintf(w, "  tranches          %d\n", m.Totals.Tranches)
-	fmt.Fprintf(w, "  shares            %d\n", m.Totals.Shares)
+	fmt.Fprintf(w, "  tranches          %s\n", groupCount(m.Totals.Tranches))
+	fmt.Fprintf(w, "  shares            %s\n", groupCount(int(m.Totals.Shares)))
 	fmt.Fprintf(w, "  total fair value  %s %s\n", cur, money2(m.Totals.FairValueTotal))
 	if f := m.FinancingTotals; f.Grants > 0 {
 		fmt.Fprintf(w, "  financing         %d warrant grants (%s %s), not share-based payment\n", f.Grants, cur, money2(f.FairValueTotal))

@@ -118,7 +118,7 @@ func TestValueSampleSummary(t *testing.T) {
 	}
 	out := sampleRun.stdout
 	for _, want := range []string{m.Company.Name, "grants            " + strconv.Itoa(m.Totals.Grants),
-		"tranches          " + strconv.Itoa(m.Totals.Tranches), money2(m.Totals.FairValueTotal),
+		"tranches          " + groupCount(m.Totals.Tranches), "shares            " + groupCount(int(m.Totals.Shares)), money2(m.Totals.FairValueTotal),
 		filepath.Join(dir, "memo.pdf"), filepath.Join(dir, "valuation.xlsx"), filepath.Join(dir, "valuation.json")} {
 		if !strings.Contains(out, want) {
 			t.Errorf("summary lacks %q:\n%s", want, out)
