@@ -192,6 +192,7 @@ var (
 	frameworks      = []string{string(ASC718), string(IFRS2)}
 	eventKinds      = []string{string(Exercised), string(Forfeited), string(Expired), string(Cancelled)}
 	compoundings    = []string{"continuous", "annual", "semiannual", "par-semiannual"}
+	paperSizes      = []string{"a4", "letter"}
 )
 
 // Sheets is the layout of the input workbook (DESIGN §4.2), in the order the
@@ -209,6 +210,9 @@ var Sheets = append([]Sheet{
 			{Key: "fiscal_year_end", Kind: KindChoice, Choices: months, Unit: "month", Need: "optional", Default: "December (calendar years)", Help: "The month the fiscal year ends in: its name, its first three letters or its number 1 to 12. Quarters, the expense forecast, the expense by fiscal year and the default period_start follow it; a year ending in January runs from 1 February and is named by the calendar year it ends in (FY2027 ends in January 2027)."},
 			{Key: "fiscal_year_end_weekday", Kind: KindChoice, Choices: weekdays, Need: "optional", Default: "none: the year ends on the month's last day", Help: "For a 52/53-week year: the weekday it ends on, in or near the fiscal_year_end month. Its quarters are 13 weeks each, the fourth 14 in a 53-week year."},
 			{Key: "fiscal_year_end_rule", Kind: KindChoice, Choices: []string{"last", "nearest"}, Need: "with fiscal_year_end_weekday", Default: "last", Help: "last: the year ends on the last such weekday of the month; nearest: on the one nearest the month's last day, which may fall in the next month's first three days."},
+			{Key: "preparer", Kind: KindText, Need: "optional", Help: "The firm that prepares the memo, for a consultant's client pack: on the memo's cover and at the top of every page."},
+			{Key: "client", Kind: KindText, Need: "optional", Default: "company_name", Help: "Whom the memo is prepared for, when not the company itself: on the cover and at the top of every page."},
+			{Key: "paper_size", Kind: KindChoice, Choices: paperSizes, Need: "optional", Default: "letter if currency is USD, else a4", Help: "The memo's paper: a4 or letter."},
 		}},
 	{Name: SheetAssumptions, File: "assumptions.csv", KeyValue: true, Required: true,
 		Help: "Company-wide valuation assumptions: key, value, an optional source that the memo quotes and an optional effective_date from which the row applies (a row without one applies from the beginning). A grant takes, key by key, the row in force at its measurement date (the latest effective_date on or before it); attribution, forfeitures, pre_vesting_forfeiture_rate and steps are those in force at valuation_date. A grant row may override some of them.",
@@ -285,6 +289,7 @@ var Sheets = append([]Sheet{
 			{Key: "event", Kind: KindChoice, Choices: eventKinds, Required: true, Need: "required", Help: "exercised, forfeited (unvested shares lost on leaving), expired (vested shares lapsed) or cancelled.", Synonyms: []string{"Event Type", "Transaction Type", "Action"}},
 			{Key: "shares", Kind: KindInt, Unit: "shares", Required: true, Need: "required", Help: "Shares affected.", Synonyms: []string{"Shares Affected", "Number of Shares", "Quantity"}},
 			{Key: "share_price", Kind: KindNumber, Unit: "currency per share", Need: "optional", Default: "Share Prices on the date", Help: "The share's fair value on the date of an exercise, for its tax deduction and the excess tax benefit or shortfall."},
+			{Key: "replacement_grant_id", Kind: KindText, Need: "cancelled events, optional", Help: "For a cancellation with a concurrent replacement award: the grant_id of the replacement, granted on the cancellation date. The exchange is booked as a modification (ASC 718-20-35-8; IFRS 2.28(c)): the cancelled shares' grant-date cost is kept and only a replacement worth more than them on that date adds cost."},
 		}},
 	{Name: SheetTransfers, File: "transfers.csv",
 		Help: "Optional: the cost centre history of holders who move. From its date on (that day included) a grant's service is rendered in the row's cost centre; before its first row, in the Grants cost_center. The expense of each day of service lands in the cost centre it was rendered in.",
@@ -301,7 +306,7 @@ var Sheets = append([]Sheet{
 			{Key: "account_code", Kind: KindText, Need: "this or account_name", Help: "The account's code in your chart of accounts, as your ledger imports it."},
 			{Key: "account_name", Kind: KindText, Need: "this or account_code", Default: "the role's default name", Help: "The account's name."},
 		}},
-}, conditionSheets...)
+}, append(conditionSheets, modificationsSheet)...)
 
 // DesignSheets is the layout of the grant designs workbook that compare
 // reads (and init --designs writes): the schedule's Company sheet with one

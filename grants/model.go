@@ -81,7 +81,9 @@ type Schedule struct {
 	SharePrices []PricePoint
 	Rates       []RatePoint
 	Events      []Event
-	Designs     []Design // the Designs sheet of a designs workbook (ReadDesigns)
+	// Modifications are the rows of the Modifications sheet (modify.go).
+	Modifications []Modification
+	Designs       []Design // the Designs sheet of a designs workbook (ReadDesigns)
 
 	// Vesting conditions (conditions.go): the Conditions, Assessments,
 	// Payout Curve and Peers sheets, row by row.
@@ -106,6 +108,9 @@ type Company struct {
 	SharesOutstanding float64
 	Fiscal            FiscalCalendar // fiscal_year_end and the 52/53-week keys
 	GrantDate         time.Time      // designs workbook: the grant date of every design; zero means ValuationDate
+	Client            string         // optional: whom a consultant prepares the memo for
+	Preparer          string         // optional: the firm that prepares the memo
+	PaperSize         string         // optional: "a4" or "letter"; "" chooses by currency
 	Refs              map[string]Ref // by key, e.g. "valuation_date"
 }
 
@@ -279,6 +284,9 @@ type Event struct {
 	Shares     int64
 	SharePrice *float64 // the share's fair value on Date, when the row gives it
 	Row        int
+	// ReplacementGrantID names, for a cancellation with a concurrent
+	// replacement award, the grant that replaces the shares (modify.go).
+	ReplacementGrantID string
 }
 
 // Deductible reports whether grant g gives the company a tax deduction:

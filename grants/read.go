@@ -44,7 +44,8 @@ const (
 var textLimit = map[string]int{"grant_id": MaxIDChars, "holder": MaxNameChars, "company_name": MaxNameChars,
 	"cost_center": MaxIDChars, "account_code": MaxIDChars, "account_name": MaxNameChars,
 	"condition": MaxIDChars, "condition_id": MaxIDChars, "peer": MaxNameChars, "description": MaxSourceChars, "note": MaxSourceChars,
-	"own_prices": MaxSourceChars, "file": MaxSourceChars}
+	"own_prices": MaxSourceChars, "file": MaxSourceChars, "replacement_grant_id": MaxIDChars,
+	"preparer": MaxNameChars, "client": MaxNameChars}
 
 // tooLong reports whether v has more than limit characters.
 func tooLong(v string, limit int) bool {
@@ -457,6 +458,8 @@ func (t *tableReader) readTable() {
 			t.rateRow(c)
 		case SheetEvents:
 			t.eventRow(c)
+		case SheetModifications:
+			t.modificationRow(c)
 		case SheetDesigns:
 			t.designRow(c)
 		case SheetConditions:
@@ -806,11 +809,14 @@ func (t *tableReader) eventRow(c *rowCtx) {
 	e := Event{Row: c.row}
 	e.GrantID, _ = c.required("grant_id")
 	e.Date, _ = c.date("date", true)
-	if k, ok := c.choice("event", true); ok {
+	if k := norm(c.cellText("event")); strings.HasPrefix(k, "modif") || strings.HasPrefix(k, "repric") {
+		c.failf("event", c.cellText("event"), ErrNotChoice, "is not an event: record a change of terms (a repricing, a new expiry, accelerated vesting) as a row of the Modifications sheet")
+	} else if k, ok := c.choice("event", true); ok {
 		e.Kind = EventKind(k)
 	}
 	e.Shares, _ = c.integer("shares", true)
 	e.SharePrice = c.ptr("share_price", false)
+	e.ReplacementGrantID, _ = c.text("replacement_grant_id")
 	if c.failed {
 		if e.GrantID != "" {
 			t.rep.skip[e.GrantID] = true
@@ -982,6 +988,12 @@ func (t *tableReader) companyValue(c *rowCtx, col *Column) {
 		}
 	case "grant_date":
 		co.GrantDate, _ = c.date(col.Key, false)
+	case "preparer":
+		co.Preparer, _ = c.text(col.Key)
+	case "client":
+		co.Client, _ = c.text(col.Key)
+	case "paper_size":
+		co.PaperSize, _ = c.choice(col.Key, false)
 	}
 }
 

@@ -181,7 +181,7 @@ func TestTemplate(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	want := []string{"Company", "Assumptions", "Grants", "Vesting", "Share Prices", "Rates", "Events", "Transfers", "Accounts", "Conditions", "Assessments", "Payout Curve", "Peers", "About"}
+	want := []string{"Company", "Assumptions", "Grants", "Vesting", "Share Prices", "Rates", "Events", "Transfers", "Accounts", "Conditions", "Assessments", "Payout Curve", "Peers", "Modifications", "About"}
 	if got := f.GetSheetList(); strings.Join(got, "|") != strings.Join(want, "|") {
 		t.Errorf("sheets %v, want %v", got, want)
 	}

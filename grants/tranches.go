@@ -26,7 +26,7 @@ import (
 // Cancelled. A grant with no shares has no tranches.
 func (s *Schedule) Tranches(g Grant) []Tranche {
 	ts := s.tranchesBeforeEvents(g)
-	for _, m := range Allocate(ts, s.EventsOf(g.ID)).Moves {
+	for _, m := range s.allocate(g, ts, s.EventsOf(g.ID)).Moves {
 		if m.Vested {
 			continue
 		}

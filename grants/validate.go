@@ -49,6 +49,7 @@ func validate(s *Schedule, skip map[string]bool) Report {
 	v.transfers()
 	v.accounts()
 	v.events()
+	v.modifications()
 	v.designs()
 	v.conditions()
 	return v.rep
@@ -591,8 +592,8 @@ func (v *validator) events() {
 			v.rep.errf(ref("date"), "date", isoDay(e.Date), ErrRange, "is before the grant date %s of grant %s (%s)", isoDay(g.GrantDate), g.ID, s.cell(SheetGrants, "grant_date", g.Row, g.Refs).Cell)
 			continue
 		}
-		if !g.ExpiryDate.IsZero() && e.Date.After(g.ExpiryDate) {
-			v.rep.errf(ref("date"), "date", isoDay(e.Date), ErrRange, "is after the expiry date %s of grant %s (%s)", isoDay(g.ExpiryDate), g.ID, s.cell(SheetGrants, "expiry_date", g.Row, g.Refs).Cell)
+		if exp := s.Expiry(g); !exp.IsZero() && e.Date.After(exp) {
+			v.rep.errf(ref("date"), "date", isoDay(e.Date), ErrRange, "is after the expiry date %s of grant %s (%s)", isoDay(exp), g.ID, s.cell(SheetGrants, "expiry_date", g.Row, g.Refs).Cell)
 			continue
 		}
 		if e.SharePrice != nil && !(*e.SharePrice > 0) {
@@ -612,7 +613,7 @@ func (v *validator) events() {
 		}
 		g, _ := v.grant(id)
 		gref := s.cell(SheetGrants, "shares", g.Row, g.Refs)
-		for _, tk := range Allocate(s.tranchesBeforeEvents(g), byGrant[id]).Events {
+		for _, tk := range s.allocate(g, s.tranchesBeforeEvents(g), byGrant[id]).Events {
 			e := tk.Event
 			ref := s.cell(SheetEvents, "shares", e.Row, nil)
 			n := strconv.FormatInt(e.Shares, 10)

@@ -369,12 +369,21 @@ func sheetRows(s *Schedule, sh *Sheet) [][]any {
 		}
 	case SheetEvents:
 		for _, e := range s.Events {
-			var px any
+			row := make([]any, n)
+			put(row, "grant_id", e.GrantID)
+			put(row, "date", e.Date)
+			put(row, "event", string(e.Kind))
+			put(row, "shares", e.Shares)
 			if e.SharePrice != nil {
-				px = *e.SharePrice
+				put(row, "share_price", *e.SharePrice)
 			}
-			rows = append(rows, []any{e.GrantID, e.Date, string(e.Kind), e.Shares, px})
+			if e.ReplacementGrantID != "" {
+				put(row, "replacement_grant_id", e.ReplacementGrantID)
+			}
+			rows = append(rows, row)
 		}
+	case SheetModifications:
+		rows = modificationRows(s, n, put)
 	case SheetDesigns:
 		for _, d := range s.Designs {
 			rows = append(rows, designRowCells(d, n, put))
@@ -410,6 +419,9 @@ func companyRows(s *Schedule, sh *Sheet) [][]any {
 		{"fiscal_year_end", val(co.Fiscal.YearEnd != 0, co.Fiscal.YearEnd.String())},
 		{"fiscal_year_end_weekday", val(co.Fiscal.WeekBased, weekdays[co.Fiscal.Weekday])},
 		{"fiscal_year_end_rule", val(co.Fiscal.WeekBased, map[bool]string{true: "nearest", false: "last"}[co.Fiscal.Nearest])},
+		{"preparer", val(co.Preparer != "", co.Preparer)},
+		{"client", val(co.Client != "", co.Client)},
+		{"paper_size", val(co.PaperSize != "", co.PaperSize)},
 	}
 	if sh.Column("grant_date") != nil {
 		rows = append(rows, []any{"grant_date", val(!co.GrantDate.IsZero(), co.GrantDate)})

@@ -95,6 +95,10 @@ type Run struct {
 	Warnings []string
 }
 
+// sensitivityEveryGrant is Settings.Sensitivities when every grant was
+// revalued in each case; the memo says so in its own words already.
+const sensitivityEveryGrant = "Each case revalues every grant with the input moved for all of them."
+
 // Build lays the schedule s, its valuation v and the books b of its close
 // into a Model: every grant with its inputs, their provenance and tranche
 // results, the sums (Summarize), the sensitivity cases, the convergence
@@ -102,7 +106,8 @@ type Run struct {
 // journal and disclosures. It values and books nothing.
 func Build(s *grants.Schedule, v *pricing.Valuation, b *accounting.Books, run Run) (*Model, error) {
 	m := &Model{SchemaVersion: SchemaVersion, Tool: run.Tool, Input: run.Input, Warnings: append(make([]string, 0, len(run.Warnings)), run.Warnings...)}
-	m.Company = Company{Name: s.Company.Name, Currency: s.Company.Currency, SharesOutstanding: s.Company.SharesOutstanding}
+	m.Company = Company{Name: s.Company.Name, Currency: s.Company.Currency, SharesOutstanding: s.Company.SharesOutstanding,
+		Client: s.Company.Client, Preparer: s.Company.Preparer, PaperSize: s.Company.PaperSize}
 	m.ValuationDate = DateOf(s.Company.ValuationDate)
 	m.PeriodStart = DateOf(s.Company.PeriodStart)
 	m.Settings.Steps = "auto"
@@ -127,7 +132,7 @@ func Build(s *grants.Schedule, v *pricing.Valuation, b *accounting.Books, run Ru
 	if v.SensitivitySample < len(v.Grants) {
 		m.Settings.Sensitivities = fmt.Sprintf("Each case revalues an evenly spaced sample of %d of the %d grants; its relative change is applied to the total fair value of all grants.", v.SensitivitySample, len(v.Grants))
 	} else {
-		m.Settings.Sensitivities = "Each case revalues every grant with the input moved for all of them."
+		m.Settings.Sensitivities = sensitivityEveryGrant
 	}
 	for _, c := range v.Sensitivity {
 		sens := Sensitivity{Input: c.Input, Label: c.Label, Unit: c.Unit}
@@ -171,6 +176,7 @@ func Build(s *grants.Schedule, v *pricing.Valuation, b *accounting.Books, run Ru
 		m.Settings.MonteCarlo = "No Monte Carlo check: every lattice-valued award allows rational early exercise, which the simulation does not model."
 	}
 	m.Expense = expenseModel(b)
+	m.Modifications = modificationsModel(s, v, b)
 	conditionsModel(m, s, v, b)
 	if r := b.Reconciliation; r != nil {
 		m.Prior = priorModel(r.Prior)

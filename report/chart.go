@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"image/color"
 	"math"
+	"strings"
 
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/font"
@@ -13,11 +14,13 @@ import (
 	"gonum.org/v1/plot/vg/vgimg"
 )
 
-// Chart colours: a dark slate for data, a muted amber for the reference.
+// Chart colours: a dark slate for data, a muted amber for the reference
+// (and the current period), a pale slate for what is only expected.
 var (
-	inkData = color.RGBA{R: 0x2F, G: 0x48, B: 0x58, A: 0xFF}
-	inkRef  = color.RGBA{R: 0xC0, G: 0x7A, B: 0x1E, A: 0xFF}
-	inkGrid = color.RGBA{R: 0xDD, G: 0xDD, B: 0xDD, A: 0xFF}
+	inkData     = color.RGBA{R: 0x2F, G: 0x48, B: 0x58, A: 0xFF}
+	inkRef      = color.RGBA{R: 0xC0, G: 0x7A, B: 0x1E, A: 0xFF}
+	inkGrid     = color.RGBA{R: 0xDD, G: 0xDD, B: 0xDD, A: 0xFF}
+	inkExpected = color.RGBA{R: 0xB9, G: 0xC8, B: 0xD2, A: 0xFF}
 )
 
 const chartDPI = 200
@@ -53,6 +56,17 @@ func basePlot(title, xlabel, ylabel string) *plot.Plot {
 	g.Vertical.Color, g.Horizontal.Color = inkGrid, inkGrid
 	p.Add(g)
 	return p
+}
+
+// signTicks are the default ticks with the reports' minus sign.
+type signTicks struct{}
+
+func (signTicks) Ticks(min, max float64) []plot.Tick {
+	ts := plot.DefaultTicks{}.Ticks(min, max)
+	for i := range ts {
+		ts[i].Label = strings.ReplaceAll(ts[i].Label, "-", minus)
+	}
+	return ts
 }
 
 // amountTicks labels an axis with grouped digits instead of exponents.
@@ -93,6 +107,7 @@ func SensitivityPNG(s Sensitivity, currency string, w, h vg.Length) ([]byte, err
 		b.Color, b.Shape, b.Radius = inkRef, draw.CircleGlyph{}, vg.Points(3.5)
 		p.Add(b)
 	}
+	p.X.Tick.Marker = signTicks{}
 	p.Y.Tick.Marker = amountTicks{decimals: 1}
 	return pngOf(p, w, h)
 }
@@ -167,6 +182,94 @@ func BarPNG(title string, labels []string, values []float64, ylabel string, w, h
 	p.NominalX(labels...)
 	p.X.Tick.Label.Rotation = math.Pi / 4
 	p.X.Tick.Label.XAlign, p.X.Tick.Label.YAlign = draw.XRight, draw.YCenter
+	p.Y.Min, p.Y.Max = barRange(values)
+	p.Y.Tick.Marker = amountTicks{}
+	return pngOf(p, w, h)
+}
+
+// PeriodKind tells a past period, the current one and an expected one
+// apart on a chart of periods.
+type PeriodKind int
+
+const (
+	PeriodPast PeriodKind = iota
+	PeriodCurrent
+	PeriodExpected
+)
+
+// PeriodBar is one period of a chart of periods.
+type PeriodBar struct {
+	Label string
+	Value float64
+	Kind  PeriodKind
+}
+
+// periodInks are the fill of each kind of period and its legend text.
+var periodInks = [...]struct {
+	fill   color.Color
+	legend string
+}{
+	PeriodPast:     {inkData, "recognised"},
+	PeriodCurrent:  {inkRef, "this period"},
+	PeriodExpected: {inkExpected, "expected"},
+}
+
+// barHeadroom is the room above the tallest bar, as a share of its
+// height: no bar reaches the top of the axis, and the legend above the
+// bars has room.
+const barHeadroom = 0.25
+
+// barRange is the value axis of a bar chart of values: from zero (or the
+// lowest value, when one is negative) to the highest value and
+// barHeadroom above it, so that every bar is drawn whole.
+func barRange(values []float64) (lo, hi float64) {
+	for _, v := range values {
+		lo, hi = min(lo, v), max(hi, v)
+	}
+	if hi == lo {
+		return lo, lo + 1
+	}
+	return lo, hi + (hi-lo)*barHeadroom
+}
+
+// PeriodBarsPNG is a bar chart of amounts by period, the past periods,
+// the current one and the expected ones each in a fill of its own and
+// named in a legend; the value axis runs from zero to the tallest bar
+// with room above it.
+func PeriodBarsPNG(title string, bars []PeriodBar, ylabel string, w, h vg.Length) ([]byte, error) {
+	p := basePlot(title, "", ylabel)
+	labels := make([]string, len(bars))
+	values := make([]float64, len(bars))
+	for i, b := range bars {
+		labels[i], values[i] = b.Label, b.Value
+	}
+	for kind, ink := range periodInks {
+		vs := make(plotter.Values, len(bars))
+		any := false
+		for i, b := range bars {
+			if int(b.Kind) == kind {
+				vs[i], any = b.Value, true
+			}
+		}
+		if !any {
+			continue
+		}
+		bc, err := plotter.NewBarChart(vs, vg.Points(14))
+		if err != nil {
+			return nil, err
+		}
+		bc.Color = ink.fill
+		bc.LineStyle.Width = vg.Points(0.4)
+		bc.LineStyle.Color = inkData
+		p.Add(bc)
+		p.Legend.Add(ink.legend, bc)
+	}
+	p.Legend.Top = true
+	p.Legend.TextStyle.Font.Size = vg.Points(7)
+	p.NominalX(labels...)
+	p.X.Tick.Label.Rotation = math.Pi / 4
+	p.X.Tick.Label.XAlign, p.X.Tick.Label.YAlign = draw.XRight, draw.YCenter
+	p.Y.Min, p.Y.Max = barRange(values)
 	p.Y.Tick.Marker = amountTicks{}
 	return pngOf(p, w, h)
 }

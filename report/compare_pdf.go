@@ -26,8 +26,9 @@ type compareData struct {
 // dates are the grant date, so the same model gives the same bytes.
 func WriteComparePDF(w io.Writer, m *CompareModel) error {
 	author := m.Tool.Name + " " + m.Tool.Version
-	pdf := newPDF("Grant designs compared: "+m.Company, "Grant designs for a grant on "+m.GrantDate.String(), author, m.Tool.Name, m.GrantDate.Time())
-	d := &Memo{pdf: pdf, sections: map[string]int{}, widths: map[int]bool{},
+	paper := PaperFor(Company{Currency: m.Currency})
+	pdf := newPDF(paper, "Grant designs compared: "+m.Company, "Grant designs for a grant on "+m.GrantDate.String(), author, m.Tool.Name, m.GrantDate.Time())
+	d := &Memo{pdf: pdf, sections: map[string]int{}, widths: map[int]bool{}, paper: paper,
 		head: [2]string{m.Company + " · Grant designs compared", "Grant date " + m.GrantDate.String()}}
 	pdf.SetHeaderFuncMode(d.header, false)
 	pdf.SetFooterFunc(d.footer)

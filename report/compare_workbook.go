@@ -90,8 +90,8 @@ func designRow(t *Table, b *Book, m *CompareModel, label string, cell func(Desig
 
 func writeComparison(b *Book, m *CompareModel) error {
 	s := b.Style
-	money := func(v float64) any { return b.Cell(s.Money, v) }
-	perSh := func(v float64) any { return b.Cell(s.MoneyPerShare, v) }
+	money := func(v float64) any { return b.Cell(s.MoneyTagged, v) }
+	perSh := func(v float64) any { return b.Cell(s.PerShareTagged, v) }
 	notRSU := func(d DesignResult, v any) any {
 		if d.Instrument == RSU {
 			return nil
@@ -206,7 +206,7 @@ func writeDesignExpense(b *Book, m *CompareModel) error {
 	for _, y := range m.Years {
 		r := []any{y.Year, b.DateCell(y.Start), b.DateCell(y.End)}
 		for _, d := range m.Designs {
-			r = append(r, b.Cell(b.Style.Money, d.expenseIn(y.Year)))
+			r = append(r, b.Cell(b.Style.MoneyTagged, d.expenseIn(y.Year)))
 		}
 		if err := t.Row(r...); err != nil {
 			return err
@@ -214,7 +214,7 @@ func writeDesignExpense(b *Book, m *CompareModel) error {
 	}
 	tot := []any{b.Cell(b.Style.Bold, "Expected cost"), nil, nil}
 	for _, d := range m.Designs {
-		tot = append(tot, b.Cell(b.Style.Money, d.ExpectedCostTotal))
+		tot = append(tot, b.Cell(b.Style.MoneyTagged, d.ExpectedCostTotal))
 	}
 	if err := t.Row(tot...); err != nil {
 		return err
@@ -236,16 +236,16 @@ func writeOutcomes(b *Book, m *CompareModel) error {
 		label string
 		cell  func(DesignResult) any
 	}{
-		{"Simulated value per share (mean payoff, today's money)", func(d DesignResult) any { return b.Cell(s.MoneyPerShare, d.SimulatedMean) }},
-		{"Its standard error", func(d DesignResult) any { return b.Cell(s.MoneyPerShare, d.SimulatedSE) }},
-		{"Fair value per share, lattice", func(d DesignResult) any { return b.Cell(s.MoneyPerShare, d.FairValuePerShare) }},
+		{"Simulated value per share (mean payoff, today's money)", func(d DesignResult) any { return b.Cell(s.PerShareTagged, d.SimulatedMean) }},
+		{"Its standard error", func(d DesignResult) any { return b.Cell(s.PerShareTagged, d.SimulatedSE) }},
+		{"Fair value per share, lattice", func(d DesignResult) any { return b.Cell(s.PerShareTagged, d.FairValuePerShare) }},
 		{"Chance a share ends in the money", func(d DesignResult) any { return b.Cell(s.Percent, d.ProbabilityInTheMoney) }},
 	}
 	for _, p := range m.Percentiles {
 		rows = append(rows, struct {
 			label string
 			cell  func(DesignResult) any
-		}{fmt.Sprintf("Payoff per share, %s percentile", ordinal(p)), func(d DesignResult) any { return b.Cell(s.MoneyPerShare, d.payoffAt(p).PerShare) }})
+		}{fmt.Sprintf("Payoff per share, %s percentile", ordinal(p)), func(d DesignResult) any { return b.Cell(s.PerShareTagged, d.payoffAt(p).PerShare) }})
 	}
 	for k, e := range m.Endings {
 		rows = append(rows, struct {
@@ -297,9 +297,9 @@ func writeDesignTranches(b *Book, m *CompareModel) error {
 	for _, d := range m.Designs {
 		for _, tr := range d.Tranche {
 			if err := t.Row(b.Text(d.Design), tr.Index, b.DateCell(tr.VestDate), b.Cell(s.Years, tr.YearsToVest), b.Cell(s.Int, tr.Shares),
-				b.Cell(s.MoneyPerShare, tr.FairValuePerShare), b.Cell(s.Number, tr.ErrorEstimate), b.Cell(s.Years, tr.ExpectedTermYears),
-				b.Cell(s.MoneyPerShare, tr.BSMSimplifiedValue), b.Cell(s.Percent, tr.SurvivalToVest), b.Cell(s.MoneyPerShare, tr.ExpectedCost),
-				b.Cell(s.Money, tr.FairValueTotal), b.Cell(s.Money, tr.ExpectedCostTotal)); err != nil {
+				b.Cell(s.PerShareTagged, tr.FairValuePerShare), b.Cell(s.Number, tr.ErrorEstimate), b.Cell(s.Years, tr.ExpectedTermYears),
+				b.Cell(s.PerShareTagged, tr.BSMSimplifiedValue), b.Cell(s.Percent, tr.SurvivalToVest), b.Cell(s.PerShareTagged, tr.ExpectedCost),
+				b.Cell(s.MoneyTagged, tr.FairValueTotal), b.Cell(s.MoneyTagged, tr.ExpectedCostTotal)); err != nil {
 				return err
 			}
 		}
@@ -317,7 +317,7 @@ func writeDesignInputs(b *Book, m *CompareModel) error {
 		label string
 		cell  func(DesignResult) any
 	}{
-		{"Share price at grant", func(DesignResult) any { return b.Cell(s.MoneyPerShare, m.SharePrice) }},
+		{"Share price at grant", func(DesignResult) any { return b.Cell(s.PerShareTagged, m.SharePrice) }},
 		{"Volatility", func(d DesignResult) any { return b.Cell(s.Percent, d.Volatility) }},
 		{"Dividend yield", func(d DesignResult) any { return b.Cell(s.Percent, d.DividendYield) }},
 		{"Risk-free zero rate to the term (continuous)", func(d DesignResult) any { return b.Cell(s.Percent, d.RiskFreeRate) }},
@@ -341,7 +341,7 @@ func writeCompareAbout(b *Book, m *CompareModel) error {
 		{"Input SHA-256", m.Input.SHA256},
 		{"Company", b.Text(m.Company)},
 		{"Grant date", b.DateCell(m.GrantDate)},
-		{"Share price at grant", b.Cell(b.Style.MoneyPerShare, m.SharePrice)},
+		{"Share price at grant", b.Cell(b.Style.PerShareTagged, m.SharePrice)},
 		{"Share price from", b.Text(m.SharePriceSource)},
 		{"Attribution", b.Text(m.Attribution)},
 		{"Fiscal year ends (month-day)", m.FiscalYearEnd},

@@ -246,14 +246,12 @@ func (d *Memo) tsr(m *Model) error {
 }
 
 // ShareBarsPNG is a bar chart of shares (probabilities, payouts) by label,
-// the axis in per cent.
+// the axis in per cent from zero to the tallest bar with room above it.
 func ShareBarsPNG(title string, labels []string, values []float64, ylabel string, w, h vg.Length) ([]byte, error) {
 	p := basePlot(title, "", ylabel+" (%)")
 	pc := make(plotter.Values, len(values))
-	top := 0.0
 	for i, v := range values {
 		pc[i] = 100 * v
-		top = math.Max(top, pc[i])
 	}
 	width := vg.Points(14)
 	if n := len(values); n > 0 {
@@ -270,10 +268,7 @@ func ShareBarsPNG(title string, labels []string, values []float64, ylabel string
 		p.X.Tick.Label.Rotation = math.Pi / 4
 		p.X.Tick.Label.XAlign, p.X.Tick.Label.YAlign = draw.XRight, draw.YCenter
 	}
-	p.Y.Min = 0
-	if top == 0 {
-		p.Y.Max = 1
-	}
+	p.Y.Min, p.Y.Max = barRange(pc)
 	p.Y.Tick.Marker = percentTicks{}
 	return pngOf(p, w, h)
 }

@@ -105,8 +105,8 @@ func writeConditionValues(b *Book, m *Model) error {
 		}
 	}
 	t, err := b.NewTable(SheetConditionValues, []Column{{"Grant", 12}, {"Condition", 12}, {"Kind", 13}, {"Method", 13}, {"Tranche", 8},
-		{"Vest date", 12}, {"Service end", 12}, {"Fair value per share", 14}, {"± error or s.e.", 14},
-		{"Simulation check", 14}, {"± its s.e.", 12}, {"z", 8}, {"Without the hurdle", 14}, {"Derived service years", 14},
+		{"Vest date", 12}, {"Service end", 12}, {b.Cur("Fair value per share"), 14}, {b.Cur("± error or s.e."), 14},
+		{b.Cur("Simulation check"), 14}, {b.Cur("± its s.e."), 12}, {"z", 8}, {b.Cur("Without the hurdle"), 14}, {"Derived service years", 14},
 		{"Hurdle met (probability)", 14}, {"Median years to meet", 14}, {"Expected payout", 12}, {"Paths", 11}, {"Seed", 10}}, rows)
 	if err != nil {
 		return err

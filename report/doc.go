@@ -49,7 +49,8 @@
 // SheetHook to sheetHooks, and a memo section by appending a MemoHook to
 // memoHooks, in an init function; hooks come after the built-in results
 // and before Warnings. The Book and Memo helpers (NewTable, Text, Cell,
-// Table, Para, Sub, Chart, BarPNG) give them the same look. Data for a new
+// Cur, Amount, Table, Para, Sub, Chart, BarPNG, PeriodBarsPNG) give them
+// the same look. Data for a new
 // section goes into the Model (as Expense does), so that JSON carries it
 // too.
 //
@@ -58,4 +59,23 @@
 // Money is in the Company currency; values per share carry four decimals
 // in the memo; rates, volatilities and yields are decimals in JSON and the
 // workbook (formatted as percentages there) and percentages in the memo.
+// The memo prints every negative figure with one minus sign, U+2212
+// (format.go), and says changes in words ("3.88% below it", relation).
+// The workbook names the currency in the header of an amount column
+// (Book.Cur) and keeps plain numbers in its cells, rounded by style
+// (Book.Cell: cents, six decimals a share, eight for rates); a cell with
+// no value is empty (Book.Amount). Each sheet declares the range its
+// cells fill (NewTable, or NewTableSpan for stacked tables).
+//
+// # Pages
+//
+// The memo is on US Letter for a USD reporter and on A4 otherwise, or as
+// the Company sheet's paper_size says (PaperFor), its text block 170 mm
+// wide on either. Table sizes its columns from their content (no date,
+// code or header word broken across lines) and keeps a heading row
+// (rowHeading) with the row after it; Sub keeps a sub-heading with what
+// follows. The optional preparer and client of the Company sheet head
+// the cover and every later page. The expense chart (PeriodBarsPNG)
+// tells past, current and expected quarters apart and leaves room
+// above its tallest bar.
 package report

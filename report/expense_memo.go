@@ -98,22 +98,19 @@ func (d *Memo) expense(m *Model) error {
 	if len(periods) > chartQuarters {
 		periods = periods[len(periods)-chartQuarters:]
 	}
-	var labels []string
-	var values []float64
+	bars := make([]PeriodBar, 0, len(periods)+len(e.Forecast))
 	for _, p := range periods {
-		label := p.Label
+		kind := PeriodPast
 		if p.Current {
-			label += " (this period)"
+			kind = PeriodCurrent
 		}
-		labels = append(labels, label)
-		values = append(values, p.Amount)
+		bars = append(bars, PeriodBar{p.Label, p.Amount, kind})
 	}
 	for _, p := range e.Forecast {
-		labels = append(labels, p.Label+" e")
-		values = append(values, p.Amount)
+		bars = append(bars, PeriodBar{p.Label, p.Amount, PeriodExpected})
 	}
 	if err := d.Chart(func(w, h vg.Length) ([]byte, error) {
-		return BarPNG("Compensation expense by quarter (e = expected)", labels, values, cur, w, h)
+		return PeriodBarsPNG("Compensation expense by quarter", bars, cur, w, h)
 	}, textW, 80); err != nil {
 		return err
 	}
@@ -158,11 +155,11 @@ func (d *Memo) journal(m *Model) error {
 	if e.Framework == "ifrs2" {
 		equity = "a share-based payment reserve in equity (IFRS 2)"
 	}
-	d.Para(fmt.Sprintf("The entries of journal.csv for the period %s to %s, in %s, dated %s. Compensation expense is booked by cost centre. Equity-classified awards credit %s; liability-classified awards credit their liability, remeasured to fair value, and every change in it is compensation. Warrants issued in financings have entries of their own, outside compensation: a liability-classified one's change in fair value is booked outside operating expense. With a tax rate, the deferred tax asset's movement is booked against the deferred tax line. Accounts are those of the Accounts sheet; a role it does not map keeps its default name and no code. Amounts are rounded to the currency's minor unit so that every entry balances and the expense lines add up to the period's expense. A catch-up for a closed period is an entry of its own, naming its grant and cause. Exercise proceeds are not shown.",
+	d.Para(fmt.Sprintf("The entries of journal.csv for the period %s to %s, in %s, dated %s. Compensation expense is booked by cost centre. Equity-classified awards credit %s; liability-classified awards credit their liability, remeasured to fair value, and every change in it is compensation. Warrants issued in financings have entries of their own, outside compensation: a liability-classified one's change in fair value is booked outside operating expense. With a tax rate, the deferred tax asset's movement is booked against the deferred tax line. Accounts are those of the Accounts sheet; a role it does not map keeps its default name and no code. Amounts are rounded to the currency's minor unit so that every entry balances and the expense lines add up to the period's expense. A catch-up for a closed period is an entry of its own, naming its grant and cause, and so is each modification of the period (its section of the memo gives the detail). Exercise proceeds are not shown.",
 		e.PeriodStart, e.PeriodEnd, m.Company.Currency, e.PeriodEnd, equity))
 	var rows [][]string
 	for _, j := range e.Journal {
-		rows = append(rows, []string{"\x00" + fmt.Sprintf("%d. %s", j.Number, j.Description)})
+		rows = append(rows, []string{rowHeading + fmt.Sprintf("%d. %s", j.Number, j.Description)})
 		for _, l := range j.Lines {
 			acct := "Dr " + l.Account
 			dr, cr := groupDigits(l.Debit, e.JournalDecimals), ""

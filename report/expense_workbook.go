@@ -63,12 +63,14 @@ func detail(m *Model) *ExpenseDetail {
 const SheetExpenseTranches = "Expense tranches"
 
 // expenseColumns are the columns of the Expense sheet and of its
-// continuation.
-var expenseColumns = []Column{{"Level", 9}, {"Grant", 14}, {"Holder", 12}, {"Cost centre", 14}, {"Instrument", 11}, {"Tranche", 8},
-	{"Service start", 12}, {"Vest date / service end", 14}, {"Shares", 11}, {"Shares counted", 13},
-	{"Expected share at vest", 12}, {"Fair value per share", 14}, {"Total cost", 16},
-	{"Cumulative at period start", 16}, {"Period expense", 16}, {"Cumulative at period end", 16},
-	{"Unrecognized cost", 16}, {"Remaining years", 11}, {"Liability at period end (liability-classified)", 18}}
+// continuation, the amounts' headers with the currency.
+func expenseColumns(b *Book) []Column {
+	return []Column{{"Level", 9}, {"Grant", 14}, {"Holder", 12}, {"Cost centre", 14}, {"Instrument", 11}, {"Tranche", 8},
+		{"Service start", 12}, {"Vest date / service end", 14}, {"Shares", 11}, {"Shares counted", 13},
+		{"Expected share at vest", 12}, {b.Cur("Fair value per share"), 14}, {b.Cur("Total cost"), 16},
+		{b.Cur("Cumulative at period start"), 16}, {b.Cur("Period expense"), 16}, {b.Cur("Cumulative at period end"), 16},
+		{b.Cur("Unrecognized cost"), 16}, {"Remaining years", 11}, {b.Cur("Liability at period end (liability-classified)"), 18}}
+}
 
 // writeExpense is one row per grant (level "grant") followed by its
 // tranches (level "tranche"), then the total. When that is more than a
@@ -89,7 +91,7 @@ func writeExpense(b *Book, m *Model) error {
 		rows += tranches
 	}
 	x := &expenseSheet{b: b, m: m, e: e}
-	t, err := b.NewTable(SheetExpense, expenseColumns, rows)
+	t, err := b.NewTable(SheetExpense, expenseColumns(b), rows)
 	if err != nil {
 		return err
 	}
@@ -118,7 +120,7 @@ func writeExpense(b *Book, m *Model) error {
 				return err
 			}
 		}
-		t, err := b.partTable(SheetExpenseTranches, part, expenseColumns, n)
+		t, err := b.partTable(SheetExpenseTranches, part, expenseColumns(b), n)
 		if err != nil {
 			return err
 		}
@@ -179,7 +181,7 @@ func (x *expenseSheet) slow(t *Table, from, to int, total, withTranches bool) er
 				liability = money(g.LiabilityEnd)
 			}
 			if err := t.Row("grant", b.Text(g.GrantID), b.Text(g.Holder), b.Text(g.CostCenter), g.Instrument, nil,
-				b.DateCell(g.ServiceStart), b.DateCell(g.ServiceEnd), b.Cell(b.Style.Int, gs), b.Cell(b.Style.Number, counted),
+				b.DateCell(g.ServiceStart), b.DateCell(g.ServiceEnd), b.Cell(b.Style.Int, gs), b.Cell(b.Style.Shares, counted),
 				nil, nil, money(g.Cost), money(g.CumulativeOpen), money(g.Amount), money(g.Cumulative),
 				money(g.Unrecognized), b.Cell(b.Style.Years, g.RemainingYears), liability); err != nil {
 				return err
@@ -190,7 +192,7 @@ func (x *expenseSheet) slow(t *Table, from, to int, total, withTranches bool) er
 		}
 		for _, tr := range g.Tranches {
 			if err := t.Row("tranche", b.Text(g.GrantID), b.Text(g.Holder), nil, g.Instrument, tr.Index,
-				b.DateCell(g.ServiceStart), b.DateCell(tr.VestDate), b.Cell(b.Style.Int, tr.Shares), b.Cell(b.Style.Number, tr.SharesCounted),
+				b.DateCell(g.ServiceStart), b.DateCell(tr.VestDate), b.Cell(b.Style.Int, tr.Shares), b.Cell(b.Style.Shares, tr.SharesCounted),
 				b.Cell(b.Style.Percent, tr.ExpectedShare), b.Cell(b.Style.MoneyPerShare, tr.FairValuePerShare),
 				money(tr.Cost), money(tr.CumulativeOpen), money(tr.Amount), money(tr.Cumulative),
 				money(tr.Unrecognized), b.Cell(b.Style.Years, tr.RemainingYears), nil); err != nil {
@@ -216,7 +218,7 @@ func writeForecast(b *Book, m *Model) error {
 	if e == nil {
 		return notRun(b, SheetForecast)
 	}
-	cols := []Column{{"Kind", 12}, {"Quarter", 12}, {"Start", 12}, {"End", 12}, {"Compensation expense", 20}, {"Financing warrants: change in fair value (outside operating expense)", 26}}
+	cols := []Column{{"Kind", 12}, {"Quarter", 12}, {"Start", 12}, {"End", 12}, {b.Cur("Compensation expense"), 20}, {b.Cur("Financing warrants: change in fair value (outside operating expense)"), 26}}
 	t, err := b.NewTable(SheetForecast, cols, len(m.Expense.Periods)+len(e.Forecast)+1)
 	if err != nil {
 		return err
@@ -249,9 +251,9 @@ func writeFinancing(b *Book, m *Model) error {
 		return notRun(b, SheetFinancing)
 	}
 	cols := []Column{{"Grant", 14}, {"Holder", 14}, {"Classification", 14}, {"Issue date", 12}, {"Warrants issued", 14},
-		{"Fair value per warrant at issue", 20}, {"Value at issue", 18}, {"Outstanding at period end", 16}, {"Exercised in period", 14},
-		{"Fair value per warrant at period end", 22}, {"Liability at period start", 18}, {"Recognised at issue in period", 18},
-		{"Change in fair value (outside operating expense)", 26}, {"Reclassified to equity on exercise", 20}, {"Liability at period end", 18}}
+		{b.Cur("Fair value per warrant at issue"), 20}, {b.Cur("Value at issue"), 18}, {"Outstanding at period end", 16}, {"Exercised in period", 14},
+		{b.Cur("Fair value per warrant at period end"), 22}, {b.Cur("Liability at period start"), 18}, {b.Cur("Recognised at issue in period"), 18},
+		{b.Cur("Change in fair value (outside operating expense)"), 26}, {b.Cur("Reclassified to equity on exercise"), 20}, {b.Cur("Liability at period end"), 18}}
 	t, err := b.NewTable(SheetFinancing, cols, max(len(e.Financing), 1))
 	if err != nil {
 		return err
@@ -299,7 +301,18 @@ func writeBlocks(b *Book, name string, widths []float64, blocks []block) error {
 			cols[i].Header = first.head[i]
 		}
 	}
-	t, err := b.NewTable(name, cols, len(first.rows))
+	last, lastCol := 0, len(cols)
+	for k, bl := range blocks {
+		if k > 0 {
+			last += 1 // the blank row
+		}
+		last += 1 + len(bl.rows)
+		lastCol = max(lastCol, len(bl.head))
+		for _, r := range bl.rows {
+			lastCol = max(lastCol, len(r))
+		}
+	}
+	t, err := b.NewTableSpan(name, cols, len(first.rows), last, lastCol)
 	if err != nil {
 		return err
 	}
@@ -310,7 +323,7 @@ func writeBlocks(b *Book, name string, widths []float64, blocks []block) error {
 			for i, h := range bl.head {
 				head[i] = b.Cell(b.Style.Header, h)
 			}
-			if err := t.TallRow(45, head...); err != nil {
+			if err := t.TallRow(headerHeight(bl.head, widths), head...); err != nil {
 				return err
 			}
 		}
@@ -335,64 +348,72 @@ func writeDisclosures(b *Book, m *Model) error {
 	money := func(v float64) any { return b.Cell(s.Money, v) }
 	per := func(v float64) any { return b.Cell(s.MoneyPerShare, v) }
 
-	roll := block{head: []string{"Roll-forward", "Line", "Shares", "Weighted-average exercise price", "Weighted-average fair value (at grant; financing: at issue)"}}
+	// A weighted average over no shares, and what an RSU cannot have
+	// (an exercise), are blank.
+	roll := block{head: []string{"Roll-forward", "Line", "Shares", b.Cur("Weighted-average exercise price"), b.Cur("Weighted-average fair value (at grant; financing: at issue)")}}
 	for _, r := range []struct {
 		name string
 		r    RollForward
 	}{{"Options", d.Options}, {"Nonvested RSUs", d.RSUs}, {"Warrants granted for services", d.Warrants}, {"Financing warrants (not share-based payment)", d.FinancingWarrants}} {
 		for _, l := range r.r.Lines {
-			var px any
-			if r.r.Basis == "outstanding" {
-				px = per(l.WeightedExercisePrice)
-			}
-			roll.rows = append(roll.rows, []any{r.name, l.Label, b.Cell(s.Int, l.Shares), px, per(l.WeightedFairValue)})
+			priced := l.Shares != 0
+			roll.rows = append(roll.rows, []any{r.name, l.Label, b.Cell(s.Int, l.Shares),
+				b.Amount(s.MoneyPerShare, l.WeightedExercisePrice, priced && r.r.Basis == "outstanding"),
+				b.Amount(s.MoneyPerShare, l.WeightedFairValue, priced)})
 		}
 	}
-	end := block{head: []string{"At the period end", "Line", "Shares", "Weighted-average exercise price", "Weighted-average remaining contractual term (years)", "Aggregate intrinsic value"}}
+	end := block{head: []string{"At the period end", "Line", "Shares", b.Cur("Weighted-average exercise price"), "Weighted-average remaining contractual term (years)", b.Cur("Aggregate intrinsic value")}}
 	for _, x := range []struct {
 		name string
 		ls   []SummaryLine
 	}{{"Options", d.OptionsAtEnd}, {"Warrants granted for services", d.WarrantsAtEnd}} {
 		for _, l := range x.ls {
-			end.rows = append(end.rows, []any{x.name, l.Label, b.Cell(s.Number, l.Shares), per(l.WeightedExercisePrice),
-				b.Cell(s.Years, l.RemainingTermYears), money(l.IntrinsicValue)})
+			some := l.Shares != 0
+			end.rows = append(end.rows, []any{x.name, l.Label, b.Cell(s.Shares, l.Shares), b.Amount(s.MoneyPerShare, l.WeightedExercisePrice, some),
+				b.Amount(s.Years, l.RemainingTermYears, some), money(l.IntrinsicValue)})
 		}
 	}
-	granted := block{head: []string{"Granted in the period", "Grants", "Shares", "Weighted-average grant-date fair value", "Weighted-average volatility",
+	granted := block{head: []string{"Granted in the period", "Grants", "Shares", b.Cur("Weighted-average grant-date fair value"), "Weighted-average volatility",
 		"Weighted-average risk-free rate (at the expected term)", "Weighted-average dividend yield", "Weighted-average expected term (years)"}}
 	for _, x := range []struct {
 		name        string
 		g           GrantsInPeriod
 		assumptions bool
 	}{{"Options", d.OptionGrants, true}, {"RSUs", d.RSUGrants, false}, {"Warrants granted for services", d.WarrantGrants, true}} {
-		row := []any{x.name, b.Cell(s.Int, x.g.Grants), b.Cell(s.Int, x.g.Shares), per(x.g.WeightedFairValue)}
+		row := []any{x.name, b.Cell(s.Int, x.g.Grants), b.Cell(s.Int, x.g.Shares), b.Amount(s.MoneyPerShare, x.g.WeightedFairValue, x.g.Shares != 0)}
 		if x.assumptions && x.g.Measured > 0 {
 			row = append(row, b.Cell(s.Percent, x.g.Volatility), b.Cell(s.Percent, x.g.RiskFreeRate), b.Cell(s.Percent, x.g.DividendYield),
 				b.Cell(s.Years, x.g.ExpectedTermYears))
 		}
 		granted.rows = append(granted.rows, row)
 	}
-	activity := block{head: []string{"Exercises and vesting in the period", "Exercised (shares)", "Total intrinsic value of exercises",
-		"Cash received from exercises", "Weighted-average share price at exercise", "Exercised with no share price known (shares)",
-		"Vested (shares)", "Total fair value of awards vested"}}
+	activity := block{head: []string{"Exercises and vesting in the period", "Exercised (shares)", b.Cur("Total intrinsic value of exercises"),
+		b.Cur("Cash received from exercises"), b.Cur("Weighted-average share price at exercise"), "Exercised with no share price known (shares)",
+		"Vested (shares)", b.Cur("Total fair value of awards vested")}}
 	for _, x := range []struct {
-		name string
-		a    Activity
-	}{{"Options", d.OptionActivity}, {"Warrants granted for services", d.WarrantActivity}, {"RSUs", d.RSUActivity}} {
-		activity.rows = append(activity.rows, []any{x.name, b.Cell(s.Int, x.a.Exercised), money(x.a.IntrinsicValueExercised),
-			money(x.a.CashReceived), per(x.a.WeightedSharePriceAtExercise), b.Cell(s.Int, x.a.Unpriced),
+		name      string
+		a         Activity
+		exercised bool // an RSU is never exercised: its exercise cells are blank
+	}{{"Options", d.OptionActivity, true}, {"Warrants granted for services", d.WarrantActivity, true}, {"RSUs", d.RSUActivity, false}} {
+		ex := func(style int, v float64) any { return b.Amount(style, v, x.exercised) }
+		var exercised, unpriced any
+		if x.exercised {
+			exercised, unpriced = b.Cell(s.Int, x.a.Exercised), b.Cell(s.Int, x.a.Unpriced)
+		}
+		activity.rows = append(activity.rows, []any{x.name, exercised, ex(s.Money, x.a.IntrinsicValueExercised),
+			ex(s.Money, x.a.CashReceived), b.Amount(s.MoneyPerShare, x.a.WeightedSharePriceAtExercise, x.exercised && x.a.Exercised > x.a.Unpriced), unpriced,
 			b.Cell(s.Int, x.a.Vested), money(x.a.FairValueVested)})
 	}
-	ranges := block{head: []string{"Outstanding at the period end by range of exercise prices", "Lowest exercise price", "Highest exercise price",
-		"Outstanding", "Weighted-average exercise price", "Weighted-average remaining contractual life (years)", "Exercisable",
-		"Weighted-average exercise price, exercisable"}}
+	ranges := block{head: []string{"Outstanding at the period end by range of exercise prices", b.Cur("Lowest exercise price"), b.Cur("Highest exercise price"),
+		"Outstanding", b.Cur("Weighted-average exercise price"), "Weighted-average remaining contractual life (years)", "Exercisable",
+		b.Cur("Weighted-average exercise price, exercisable")}}
 	for _, x := range []struct {
 		name string
 		rs   []PriceRange
 	}{{"Options", d.OptionRanges}, {"Warrants granted for services", d.WarrantRanges}} {
 		for _, r := range x.rs {
 			ranges.rows = append(ranges.rows, []any{x.name, per(r.Low), per(r.High), b.Cell(s.Int, r.Outstanding), per(r.WeightedExercisePrice),
-				b.Cell(s.Years, r.WeightedRemainingTermYears), b.Cell(s.Int, r.Exercisable), per(r.ExercisableWeightedPrice)})
+				b.Cell(s.Years, r.WeightedRemainingTermYears), b.Cell(s.Int, r.Exercisable), b.Amount(s.MoneyPerShare, r.ExercisableWeightedPrice, r.Exercisable != 0)})
 		}
 	}
 	blocks := []block{roll, end, granted, activity}
@@ -400,15 +421,15 @@ func writeDisclosures(b *Book, m *Model) error {
 		blocks = append(blocks, ranges)
 	}
 	if len(d.WarrantsOutstanding) > 0 {
-		w := block{head: []string{"Warrants granted for services, outstanding", "Classification", "Outstanding", "Exercisable", "Strike",
-			"Remaining contractual term (years)", "Fair value per warrant", "Intrinsic value"}}
+		w := block{head: []string{"Warrants granted for services, outstanding", "Classification", "Outstanding", "Exercisable", b.Cur("Strike"),
+			"Remaining contractual term (years)", b.Cur("Fair value per warrant"), b.Cur("Intrinsic value")}}
 		for _, r := range d.WarrantsOutstanding {
 			w.rows = append(w.rows, []any{b.Text(r.GrantID), r.Classification, b.Cell(s.Int, r.Shares), b.Cell(s.Int, r.Exercisable),
 				per(r.Strike), b.Cell(s.Years, r.RemainingTermYears), per(r.FairValuePerShare), money(r.IntrinsicValue)})
 		}
 		blocks = append(blocks, w)
 	}
-	blocks = append(blocks, block{head: []string{"Share price at the period end", "Used for the intrinsic values"},
+	blocks = append(blocks, block{head: []string{"Share price at the period end", b.Cur("Used for the intrinsic values")},
 		rows: [][]any{{"Share price", per(d.SharePrice)}}})
 	return writeBlocks(b, SheetDisclosures, []float64{44, 30, 18, 20, 20, 22, 20, 22}, blocks)
 }
@@ -420,7 +441,7 @@ func writeJournal(b *Book, m *Model) error {
 	if e == nil {
 		return notRun(b, SheetJournal)
 	}
-	cols := []Column{{"Entry", 7}, {"Date", 13}, {"Account code", 13}, {"Account", 54}, {"Cost centre", 14}, {"Debit", 16}, {"Credit", 16},
+	cols := []Column{{"Entry", 7}, {"Date", 13}, {"Account code", 13}, {"Account", 54}, {"Cost centre", 14}, {b.Cur("Debit"), 16}, {b.Cur("Credit"), 16},
 		{"Currency", 10}, {"Description", 84}, {"Role", 22}, {"Grant", 14}}
 	// Debits and credits as journal.csv has them: in the currency's minor
 	// unit, the currency in its own column rather than in each amount (a
@@ -519,7 +540,7 @@ func (x *expenseSheet) fast(from, to int, total, withTranches bool) fastRows {
 	return func(out io.Writer) error {
 		b, e := x.b, x.e
 		s := b.Style
-		w := &rowWriter{b: make([]byte, 0, 8192)}
+		w := &rowWriter{b: make([]byte, 0, 8192), round: b.roundCell}
 		row := 1
 		start := func() {
 			row++
@@ -546,7 +567,7 @@ func (x *expenseSheet) fast(from, to int, total, withTranches bool) fastRows {
 				w.date(7, s.Date, g.ServiceStart)
 				w.date(8, s.Date, g.ServiceEnd)
 				w.int(9, s.Int, gs)
-				w.float(10, s.Number, counted)
+				w.float(10, s.Shares, counted)
 				w.float(13, s.Money, g.Cost)
 				w.float(14, s.Money, g.CumulativeOpen)
 				w.float(15, s.Money, g.Amount)
@@ -574,7 +595,7 @@ func (x *expenseSheet) fast(from, to int, total, withTranches bool) fastRows {
 				w.date(7, s.Date, g.ServiceStart)
 				w.date(8, s.Date, tr.VestDate)
 				w.int(9, s.Int, tr.Shares)
-				w.float(10, s.Number, tr.SharesCounted)
+				w.float(10, s.Shares, tr.SharesCounted)
 				w.float(11, s.Percent, tr.ExpectedShare)
 				w.float(12, s.MoneyPerShare, tr.FairValuePerShare)
 				w.float(13, s.Money, tr.Cost)

@@ -198,8 +198,9 @@ func finite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
 
 // rowWriter appends cells in the stream writer's form.
 type rowWriter struct {
-	b   []byte
-	row []byte // the row number as text
+	b     []byte
+	row   []byte                             // the row number as text
+	round func(style int, v float64) float64 // Book.roundCell, as Book.Cell rounds
 }
 
 func (w *rowWriter) ref(col int) {
@@ -255,7 +256,7 @@ func (w *rowWriter) int(col, s int, v int64) {
 
 func (w *rowWriter) float(col, s int, v float64) {
 	var tmp [40]byte
-	w.value(col, s, appendCellFloat(tmp[:0], v))
+	w.value(col, s, appendCellFloat(tmp[:0], w.round(s, v)))
 }
 
 // date writes d as its serial number; the zero Date writes nothing.
@@ -353,7 +354,7 @@ func trancheRowsPlain(m *Model) bool {
 func trancheRows(b *Book, m *Model, from, n int) fastRows {
 	return func(out io.Writer) error {
 		s := b.Style
-		w := &rowWriter{b: make([]byte, 0, 8192)}
+		w := &rowWriter{b: make([]byte, 0, 8192), round: b.roundCell}
 		row := 1
 		return eachTranche(m, from, n, func(g *Grant, tr *Tranche) error {
 			row++

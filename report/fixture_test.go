@@ -95,6 +95,30 @@ func fixture() *Model {
 		c.Points = append(c.Points, ConvergencePoint{Steps: n, Value: 1.32 + sign*0.4/float64(n)})
 	}
 	m.Convergence = c
+	// A repricing of G-001 from 2.50 to 2.00 on 2026-08-20, its first
+	// tranche vested (values invented).
+	mod := Modification{GrantID: "G-001", Date: day("2026-08-20"), Kind: "modification", Accounting: "probable_to_probable",
+		Changes: "strike 2.5 → 2", Note: "=board resolution of 2026-08-18", Ref: "Modifications!B2", Terms: "2026-08-20|2.5 …|2 …", ValueStatus: "measured",
+		TermsBefore: ModifiedTerms{Strike: 2.5, ExpiryDate: day("2035-03-14"), VestMonths: 48, CliffMonths: 12, ExerciseMultiple: 2.5, PostVestingExitRate: 0.08},
+		TermsAfter:  ModifiedTerms{Strike: 2, ExpiryDate: day("2035-03-14"), VestMonths: 48, CliffMonths: 12, ExerciseMultiple: 2.5, PostVestingExitRate: 0.08},
+		SharePrice:  1.80, SharePriceSource: "Share Prices!B9 (valuation of 2026-08-15)", Volatility: 0.6, VolatilitySource: "Assumptions!B10, in force from 2026-07-01",
+		RiskFreeRate: 0.038, CurveSource: "Rates curve of 2026-06-30, 3 points, continuous zero rates", Shares: 4800}
+	for i := 1; i <= 4; i++ {
+		v := float64(i)
+		p := ModifiedPart{TrancheIndex: i, Shares: 1200, Vested: i == 1, VestDateBefore: DateOf(time.Date(2025+i, 3, 14, 0, 0, 0, 0, time.UTC)),
+			Before: PartValue{FairValuePerShare: 0.61 + 0.02*v, ErrorEstimate: 0.0003, ExpectedTermYears: 4 + v/2, Steps: 2400},
+			After:  PartValue{FairValuePerShare: 0.79 + 0.02*v, ErrorEstimate: 0.0003, ExpectedTermYears: 4.2 + v/2, Steps: 2400}, Increment: 0.18}
+		p.VestDateAfter = p.VestDateBefore
+		p.Attribution = "over the service from 2026-08-20 to " + p.VestDateAfter.String()
+		if i == 1 {
+			p.Attribution = "at once, on 2026-08-20"
+		}
+		mod.Parts = append(mod.Parts, p)
+		mod.FairValueBefore += p.Before.FairValuePerShare * 1200
+		mod.FairValueAfter += p.After.FairValuePerShare * 1200
+	}
+	mod.Increment, mod.Cost, mod.Amount, mod.Cumulative, mod.Unrecognized = 864, 864, 300.5, 300.5, 563.5
+	m.Modifications = []Modification{mod}
 	m.CrossChecks = []CrossCheck{
 		{GrantID: "G-001", TrancheIndex: 1, Method: "mc", Lattice: 1.32, LatticeError: 0.0003, Value: 1.3187, StdErr: 0.0021, Paths: 40000, Seed: 1, Z: -0.6128},
 		{GrantID: "G-002", TrancheIndex: 1, Method: "mc", Lattice: 0.874, LatticeError: 0.0002, Value: 0.8772, StdErr: 0.0015, Paths: 40000, Seed: 2, Z: 2.1146},

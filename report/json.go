@@ -102,6 +102,7 @@ func withEmptyLists(m *Model) Model {
 	c.Assumptions = nonNil(c.Assumptions)
 	c.Sensitivity = nonNil(c.Sensitivity)
 	c.CrossChecks = nonNil(c.CrossChecks)
+	c.Modifications = nonNil(c.Modifications)
 	if c.Expense != nil && c.Expense.Periods == nil {
 		e := *c.Expense
 		e.Periods = []ExpensePeriod{}

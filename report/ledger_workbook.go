@@ -11,11 +11,11 @@ func writeCostCenters(b *Book, m *Model) error {
 	if e == nil {
 		return notRun(b, SheetCostCenters)
 	}
-	cols := []Column{{"Level", 12}, {"Cost centre", 18}, {"Grant", 14}, {"Grants", 8}, {"Period expense", 16}, {"Cumulative at period end", 16}, {"Unrecognized cost", 16}}
+	cols := []Column{{"Level", 12}, {"Cost centre", 18}, {"Grant", 14}, {"Grants", 8}, {b.Cur("Period expense"), 16}, {b.Cur("Cumulative at period end"), 16}, {b.Cur("Unrecognized cost"), 16}}
 	for _, q := range e.Forecast {
-		cols = append(cols, Column{q.Label + " expected", 14})
+		cols = append(cols, Column{b.Cur(q.Label + " expected"), 14})
 	}
-	cols = append(cols, Column{"Later", 14})
+	cols = append(cols, Column{b.Cur("Later"), 14})
 	rows := 1 + len(e.ByCostCenter)
 	for _, c := range e.ByCostCenter {
 		rows += len(c.Parts)
@@ -55,7 +55,7 @@ func writeByYear(b *Book, m *Model) error {
 	if e == nil {
 		return notRun(b, SheetByYear)
 	}
-	cols := []Column{{"Fiscal year", 12}, {"Start", 12}, {"End", 12}, {"Recognized", 18}, {"Expected", 18}, {"Total", 18}, {"Calendar", 60}}
+	cols := []Column{{"Fiscal year", 12}, {"Start", 12}, {"End", 12}, {b.Cur("Recognized"), 18}, {b.Cur("Expected"), 18}, {b.Cur("Total"), 18}, {"Calendar", 60}}
 	t, err := b.NewTable(SheetByYear, cols, len(e.ByFiscalYear))
 	if err != nil {
 		return err

@@ -45,16 +45,43 @@ type Memo struct {
 	widths   map[int]bool // pixel widths of the images placed so far
 	sub      string       // a sub-heading not drawn yet: it goes with what follows
 	head     [2]string    // the running head's left and right text (pages after the first)
+	paper    Paper
 }
 
-// Page geometry, in millimetres (A4).
+// Paper is a page size of the reports.
+type Paper struct {
+	Name string  // as gofpdf knows it: "A4" or "Letter"
+	W, H float64 // millimetres
+}
+
+// The reports' page sizes: ISO A4, and US Letter (8.5 × 11 inches).
+var (
+	PaperA4     = Paper{"A4", 210, 297}
+	PaperLetter = Paper{"Letter", 215.9, 279.4}
+)
+
+// PaperFor is the memo's page size: the one the Company sheet names
+// (paper_size "a4" or "letter"), else Letter for a company that reports
+// in US dollars and A4 for any other.
+func PaperFor(c Company) Paper {
+	switch strings.ToLower(c.PaperSize) {
+	case "letter":
+		return PaperLetter
+	case "a4":
+		return PaperA4
+	}
+	if c.Currency == "USD" {
+		return PaperLetter
+	}
+	return PaperA4
+}
+
+// Page geometry, in millimetres. The text block is textW wide on either
+// paper, centred across the page.
 const (
-	pageW, pageH  = 210.0, 297.0
-	marginL       = 20.0
-	marginR       = 20.0
 	marginT       = 22.0
 	marginB       = 20.0
-	textW         = pageW - marginL - marginR
+	textW         = 170.0
 	bodySize      = 9.5
 	bodyLine      = 4.6
 	tableSize     = 7.5
@@ -113,9 +140,10 @@ func WriteMemo(w io.Writer, m *Model) error {
 
 func newMemo(m *Model) (*Memo, error) {
 	author := m.Tool.Name + " " + m.Tool.Version
-	pdf := newPDF("Fair value memo: "+m.Company.Name, "Fair value of share-based awards as of "+m.ValuationDate.String(), author, m.Tool.Name, m.ValuationDate.Time())
-	d := &Memo{pdf: pdf, m: m, sections: map[string]int{}, widths: map[int]bool{},
-		head: [2]string{m.Company.Name + " · Fair value memo", "Valuation date " + m.ValuationDate.String()}}
+	paper := PaperFor(m.Company)
+	pdf := newPDF(paper, "Fair value memo: "+m.Company.Name, "Fair value of share-based awards as of "+m.ValuationDate.String(), author, m.Tool.Name, m.ValuationDate.Time())
+	d := &Memo{pdf: pdf, m: m, sections: map[string]int{}, widths: map[int]bool{}, paper: paper,
+		head: runningHead(m)}
 	pdf.SetHeaderFuncMode(d.header, false)
 	pdf.SetFooterFunc(d.footer)
 	var err error
@@ -125,10 +153,25 @@ func newMemo(m *Model) (*Memo, error) {
 	return d, pdf.Error()
 }
 
-// newPDF is an A4 document in the reports' fonts and margins, its
+// runningHead is the left and right text at the top of every page but
+// the first: whom the memo is for and who prepared it, when the Company
+// sheet says so, and the valuation date.
+func runningHead(m *Model) [2]string {
+	left := m.Company.Name + " · Fair value memo"
+	if c := m.Company.Client; c != "" && c != m.Company.Name {
+		left = c + " · " + left
+	}
+	right := "Valuation date " + m.ValuationDate.String()
+	if p := m.Company.Preparer; p != "" {
+		right = "Prepared by " + p + " · " + right
+	}
+	return [2]string{left, right}
+}
+
+// newPDF is a document on paper in the reports' fonts and margins, its
 // metadata dated date, so that the same input gives the same bytes.
-func newPDF(title, subject, author, producer string, date time.Time) pdfDoc {
-	pdf := pdfDoc{gofpdf.New("P", "mm", "A4", "")}
+func newPDF(paper Paper, title, subject, author, producer string, date time.Time) pdfDoc {
+	pdf := pdfDoc{gofpdf.New("P", "mm", paper.Name, "")}
 	pdf.SetCompression(true)
 	pdf.SetCatalogSort(true)
 	pdf.SetCreationDate(date)
@@ -141,7 +184,7 @@ func newPDF(title, subject, author, producer string, date time.Time) pdfDoc {
 	pdf.AddUTF8FontFromBytes(fontSans, "", goregular.TTF)
 	pdf.AddUTF8FontFromBytes(fontSans, "B", gobold.TTF)
 	pdf.AddUTF8FontFromBytes(fontSans, "I", goitalic.TTF)
-	pdf.SetMargins(marginL, marginT, marginR)
+	pdf.SetMargins((paper.W-textW)/2, marginT, (paper.W-textW)/2)
 	pdf.SetAutoPageBreak(true, marginB)
 	pdf.AliasNbPages("{nb}")
 	return pdf
@@ -155,16 +198,11 @@ func (d *Memo) templates(fsys fs.FS, dir string) (*template.Template, error) {
 		"perShare":  perShare,
 		"pct":       pct,
 		"signedPct": signedPct,
+		"relation":  relation,
 		"fixed":     fixed,
 		"count":     func(n any) string { return fmt.Sprint(groupAny(n)) },
-		"ratio": func(a, b float64) float64 {
-			if b == 0 {
-				return 0
-			}
-			return a/b - 1
-		},
-		"sec":     func(key string) string { return fmt.Sprint(d.sections[key]) },
-		"counted": counted,
+		"sec":       func(key string) string { return fmt.Sprint(d.sections[key]) },
+		"counted":   counted,
 		"first": func(ps []ConvergencePoint) string {
 			if len(ps) == 0 {
 				return "–"
@@ -204,14 +242,14 @@ func (d *Memo) header() {
 	p := d.pdf
 	p.SetFont(fontSans, "", 7.5)
 	p.SetTextColor(90, 90, 90)
-	p.SetXY(marginL, 10)
+	p.SetXY(d.marginL(), 10)
 	p.CellFormat(textW/2, 4, d.head[0], "", 0, "L", false, 0, "")
 	p.CellFormat(textW/2, 4, d.head[1], "", 0, "R", false, 0, "")
 	p.SetDrawColor(180, 180, 180)
 	p.SetLineWidth(0.2)
-	p.Line(marginL, 15, pageW-marginR, 15)
+	p.Line(d.marginL(), 15, d.paper.W-d.marginL(), 15)
 	p.SetTextColor(0, 0, 0)
-	p.SetXY(marginL, marginT)
+	p.SetXY(d.marginL(), marginT)
 }
 
 func (d *Memo) footer() {
@@ -231,7 +269,7 @@ func (d *Memo) titlePage(y, scale float64, kind, title string) {
 	p := d.pdf
 	p.AddPage()
 	p.SetFillColor(0x2F, 0x48, 0x58)
-	p.Rect(0, 0, pageW, 8, "F")
+	p.Rect(0, 0, d.paper.W, 8, "F")
 	p.SetY(y)
 	p.SetFont(fontSans, "", 12*scale)
 	p.SetTextColor(0x2F, 0x48, 0x58)
@@ -250,13 +288,13 @@ func (d *Memo) cautionBox(caution string, size float64) {
 	p.SetFont(fontSans, "", size)
 	lines := p.SplitText(caution, textW-10)
 	h := float64(len(lines))*line + 12
-	if p.GetY()+h+6 > pageH-marginB {
+	if p.GetY()+h+6 > d.pageH()-marginB {
 		p.AddPage()
 	}
-	y := pageH - marginB - h - 6
+	y := d.pageH() - marginB - h - 6
 	p.SetFillColor(0xF3, 0xEE, 0xE4)
-	p.Rect(marginL, y, textW, h, "F")
-	p.SetXY(marginL+5, y+4)
+	p.Rect(d.marginL(), y, textW, h, "F")
+	p.SetXY(d.marginL()+5, y+4)
 	p.SetFont(fontSans, "B", size)
 	p.CellFormat(textW-10, line, "Caution", "", 2, "L", false, 0, "")
 	p.SetFont(fontSans, "", size)
@@ -273,13 +311,23 @@ func (d *Memo) cover() {
 		p.CellFormat(textW, 7, "Reporting period "+m.PeriodStart.String()+" to "+m.ValuationDate.String(), "", 1, "L", false, 0, "")
 	}
 	p.Ln(14)
-	rows := [][2]string{
-		{"Share-based awards", count(m.Totals.Grants) + " grants, " + count(m.Totals.Tranches) + " vesting tranches"},
-		{"Total fair value", money(m.Totals.FairValueTotal, m.Company.Currency)},
+	cur := m.Company.Currency
+	var rows [][2]string
+	if c := m.Company.Client; c != "" && c != m.Company.Name {
+		rows = append(rows, [2]string{"Prepared for", c})
+	}
+	if pr := m.Company.Preparer; pr != "" {
+		rows = append(rows, [2]string{"Prepared by", pr})
+	}
+	rows = append(rows,
+		[2]string{"Share-based awards", count(m.Totals.Grants) + " grants, " + count(m.Totals.Tranches) + " vesting tranches"},
+		[2]string{"Fair value granted", money(m.Totals.FairValueTotal, cur) + " over " + count(m.Totals.Shares) + " shares: every award in the schedule, at its measurement date (grant date; a liability-classified award at the period end)"})
+	if o := outstandingOf(m); o.OK {
+		rows = append(rows, [2]string{"Still outstanding", money(o.FairValue, cur) + " over " + count(o.Shares) + " shares at the period end, at grant-date fair value (options and warrants not exercised, forfeited, cancelled or expired; RSUs not yet vested)"})
 	}
 	if f := m.FinancingTotals; f.Grants > 0 {
 		rows = append(rows, [2]string{"Financing warrants", fmt.Sprintf("%s, fair value %s (not share-based payment; kept apart)",
-			counted(f.Grants, "grant"), money(f.FairValueTotal, m.Company.Currency))})
+			counted(f.Grants, "grant"), money(f.FairValueTotal, cur))})
 	}
 	rows = append(rows, [2]string{"Prepared with", m.Tool.Name + " " + m.Tool.Version}, [2]string{"Input", m.Input.Path})
 	for _, r := range rows {
@@ -307,7 +355,7 @@ func (d *Memo) Section(n int, title string, newPage bool) { d.section(n, title, 
 func (d *Memo) section(n int, title string, newPage bool, keep float64) {
 	d.flushSub(0)
 	p := d.pdf
-	if newPage || p.GetY() > pageH-marginB-max(45, keep) {
+	if newPage || p.GetY() > d.pageH()-marginB-max(45, keep) {
 		p.AddPage()
 	} else {
 		p.Ln(6)
@@ -401,33 +449,49 @@ func (d *Memo) Text(name string, data any) error {
 
 // need starts a new page unless h millimetres are left.
 func (d *Memo) need(h float64) {
-	if d.pdf.GetY()+h > pageH-marginB {
+	if d.pdf.GetY()+h > d.pageH()-marginB {
 		d.pdf.AddPage()
 	}
 }
 
 // Col is one column of a memo table; widths are in millimetres and
-// should add up to at most the text width (170).
+// should add up to at most the text width (170). Table widens a column
+// whose content needs more and takes the room from columns that have
+// some to spare.
 type Col struct {
 	Header string
 	Width  float64
 	Right  bool // align right (numbers)
 }
 
-// Table lays out rows under a shaded header. Cells wrap within their
-// column; a table that runs past the page continues on the next one with
-// its header repeated. A row whose first cell starts with "\x00" is drawn
-// bold (totals); if it has no other cell it heads a group and runs across
-// the whole table.
+// Row markers: the first cell of a row may start with one of them.
+const (
+	rowBold    = "\x00" // a total: bold, with a rule above
+	rowHeading = "\x01" // a heading inside a table: bold, kept on one page with the row after it
+)
+
+// cellPad is the room a table cell leaves around its text (millimetres).
+const cellPad = 2.0
+
+// Table lays out rows under a shaded header. Columns are sized from their
+// content (fitColumns): no date, code, number or header word is broken
+// across lines. Cells wrap at spaces within their column; a table that
+// runs past the page continues on the next one with its header
+// repeated. A row whose first cell starts with rowBold is drawn bold
+// (totals); one that starts with rowHeading is a bold heading that never
+// stays alone at the foot of a page. A bold row of one cell heads a group
+// and runs across the whole table.
 func (d *Memo) Table(cols []Col, rows [][]string) {
 	p := d.pdf
+	cols = d.fitColumns(cols, rows)
+	width := sumWidths(cols)
 	head := func() {
 		p.SetFont(fontSans, "B", tableSize)
 		p.SetFillColor(0x2F, 0x48, 0x58)
 		p.SetTextColor(255, 255, 255)
 		lines := 1
 		for _, c := range cols {
-			if n := len(p.SplitText(c.Header, c.Width-2)); n > lines {
+			if n := len(p.SplitText(c.Header, c.Width-cellPad)); n > lines {
 				lines = n
 			}
 		}
@@ -435,64 +499,185 @@ func (d *Memo) Table(cols []Col, rows [][]string) {
 		x, y := p.GetX(), p.GetY()
 		for _, c := range cols {
 			p.Rect(x, y, c.Width, h, "F")
-			d.cellLines(x, y+0.8, c, p.SplitText(c.Header, c.Width-2))
+			d.cellLines(x, y+0.8, c, p.SplitText(c.Header, c.Width-cellPad))
 			x += c.Width
 		}
-		p.SetXY(marginL, y+h)
+		p.SetXY(d.marginL(), y+h)
 		p.SetTextColor(0, 0, 0)
+	}
+	// Every row is wrapped first, so that a heading row can tell whether
+	// the row after it fits beside it.
+	type laid struct {
+		style   string
+		heading bool
+		cells   []Col // cols, or one across the table
+		lines   [][]string
+		h       float64
+	}
+	laidRows := make([]laid, len(rows))
+	for i, r := range rows {
+		l := laid{}
+		first := ""
+		if len(r) > 0 {
+			first = r[0]
+		}
+		switch {
+		case strings.HasPrefix(first, rowBold):
+			l.style = "B"
+		case strings.HasPrefix(first, rowHeading):
+			l.style, l.heading = "B", true
+		}
+		p.SetFont(fontSans, l.style, tableSize)
+		l.cells = cols
+		if l.style == "B" && len(r) == 1 {
+			l.cells = []Col{{Width: width}}
+		}
+		l.lines = make([][]string, len(l.cells))
+		n := 1
+		for j, c := range l.cells {
+			s := ""
+			if j < len(r) {
+				s = trimMarker(r[j])
+			}
+			l.lines[j] = p.SplitText(s, c.Width-cellPad)
+			if len(l.lines[j]) == 0 {
+				l.lines[j] = []string{""}
+			}
+			n = max(n, len(l.lines[j]))
+		}
+		l.h = float64(n)*tableLine + 1.2
+		laidRows[i] = l
 	}
 	d.flushSub(20)
 	d.need(20)
 	head()
-	for i, r := range rows {
-		bold := len(r) > 0 && strings.HasPrefix(r[0], "\x00")
+	for i, l := range laidRows {
+		keep := l.h
+		if l.heading && i+1 < len(laidRows) {
+			keep += laidRows[i+1].h
+		}
+		if p.GetY()+keep > d.pageH()-marginB {
+			p.AddPage()
+			head()
+		}
+		p.SetFont(fontSans, l.style, tableSize)
+		x, y := d.marginL(), p.GetY()
+		if i%2 == 1 {
+			p.SetFillColor(0xF2, 0xF4, 0xF5)
+			p.Rect(x, y, width, l.h, "F")
+		}
+		if l.style == "B" {
+			p.SetDrawColor(0x2F, 0x48, 0x58)
+			p.SetLineWidth(0.3)
+			p.Line(x, y, x+width, y)
+		}
+		for j, c := range l.cells {
+			d.cellLines(x, y+0.6, c, l.lines[j])
+			x += c.Width
+		}
+		p.SetXY(d.marginL(), y+l.h)
+	}
+	p.Ln(3)
+}
+
+// trimMarker is a cell's text without its row marker.
+func trimMarker(s string) string {
+	return strings.TrimPrefix(strings.TrimPrefix(s, rowBold), rowHeading)
+}
+
+// fitColumns sizes cols from the header and rows they will show, in the
+// table fonts.
+func (d *Memo) fitColumns(cols []Col, rows [][]string) []Col {
+	p := d.pdf
+	measure := func(s string, bold bool) float64 {
 		style := ""
 		if bold {
 			style = "B"
 		}
 		p.SetFont(fontSans, style, tableSize)
-		cells := cols
-		if bold && len(r) == 1 {
-			cells = []Col{{Width: sumWidths(cols)}}
-		}
-		wrapped := make([][]string, len(cells))
-		lines := 1
-		for j, c := range cells {
-			s := ""
-			if j < len(r) {
-				s = strings.TrimPrefix(r[j], "\x00")
-			}
-			wrapped[j] = p.SplitText(s, c.Width-2)
-			if len(wrapped[j]) == 0 {
-				wrapped[j] = []string{""}
-			}
-			if len(wrapped[j]) > lines {
-				lines = len(wrapped[j])
-			}
-		}
-		h := float64(lines)*tableLine + 1.2
-		if p.GetY()+h > pageH-marginB {
-			p.AddPage()
-			head()
-			p.SetFont(fontSans, style, tableSize)
-		}
-		x, y := marginL, p.GetY()
-		if i%2 == 1 {
-			p.SetFillColor(0xF2, 0xF4, 0xF5)
-			p.Rect(x, y, sumWidths(cols), h, "F")
-		}
-		if bold {
-			p.SetDrawColor(0x2F, 0x48, 0x58)
-			p.SetLineWidth(0.3)
-			p.Line(x, y, x+sumWidths(cols), y)
-		}
-		for j, c := range cells {
-			d.cellLines(x, y+0.6, c, wrapped[j])
-			x += c.Width
-		}
-		p.SetXY(marginL, y+h)
+		return p.GetStringWidth(s)
 	}
-	p.Ln(3)
+	// SplitText keeps the cell margins clear on either side of the
+	// width it is given (c.Width-cellPad).
+	return fitColumns(cols, rows, textW, cellPad+2*p.GetCellMargin()+0.1, measure)
+}
+
+// fitColumns returns cols with widths that fit their content within
+// limit millimetres, measure giving the width of a text in the table
+// font (bold or not) and pad the room a cell keeps around its text:
+//
+//  1. every column is at least as wide as its longest word, header words
+//     included, so that nothing breaks mid-word, as a third of its header
+//     (three lines at most), and as wide as asked;
+//  2. room a column has beyond its longest line (its header over two
+//     lines) goes to columns whose cells would wrap;
+//  3. a table wider than limit gives back room from the columns wider
+//     than their longest word; only when the longest words alone are
+//     wider than limit are all columns narrowed alike.
+func fitColumns(cols []Col, rows [][]string, limit, pad float64, measure func(s string, bold bool) float64) []Col {
+	out := append([]Col(nil), cols...)
+	n := len(cols)
+	least, natural := make([]float64, n), make([]float64, n)
+	for j, c := range cols {
+		// A header wraps at spaces, over three lines at most.
+		least[j] = measure(c.Header, true) / 3
+		for _, w := range strings.Fields(c.Header) {
+			least[j] = max(least[j], measure(w, true))
+		}
+		natural[j] = max(least[j], measure(c.Header, true)/2)
+	}
+	for _, r := range rows {
+		bold := len(r) > 0 && (strings.HasPrefix(r[0], rowBold) || strings.HasPrefix(r[0], rowHeading))
+		if bold && len(r) == 1 {
+			continue // a group's heading runs across the table
+		}
+		for j := 0; j < n && j < len(r); j++ {
+			s := trimMarker(r[j])
+			for _, w := range strings.Fields(s) {
+				least[j] = max(least[j], measure(w, bold))
+			}
+			natural[j] = max(natural[j], measure(s, bold))
+		}
+	}
+	for j := range out {
+		least[j] += pad
+		natural[j] = max(natural[j]+pad, least[j])
+		out[j].Width = max(out[j].Width, least[j])
+	}
+	var spare, need float64
+	for j, c := range out {
+		if c.Width > natural[j] {
+			spare += c.Width - natural[j]
+		} else {
+			need += natural[j] - c.Width
+		}
+	}
+	if move := min(spare, need); move > 0 {
+		for j, c := range out {
+			if c.Width > natural[j] {
+				out[j].Width -= (c.Width - natural[j]) * move / spare
+			} else {
+				out[j].Width += (natural[j] - c.Width) * move / need
+			}
+		}
+	}
+	total, slack := 0.0, 0.0
+	for j, c := range out {
+		total += c.Width
+		slack += c.Width - least[j]
+	}
+	if over := total - limit; over > 0 {
+		if slack >= over {
+			for j, c := range out {
+				out[j].Width -= (c.Width - least[j]) * over / slack
+			}
+		} else {
+			for j := range out {
+				out[j].Width = least[j] * limit / (total - slack)
+			}
+		}
+	}
+	return out
 }
 
 func (d *Memo) cellLines(x, y float64, c Col, lines []string) {
@@ -537,7 +722,7 @@ func (d *Memo) Chart(chart func(w, h vg.Length) ([]byte, error), w, h float64) e
 	if err != nil {
 		return err
 	}
-	d.ImageAt(png, marginL, -1, w, h)
+	d.ImageAt(png, d.marginL(), -1, w, h)
 	d.pdf.SetY(d.pdf.GetY() + h + 3)
 	return nil
 }
@@ -570,10 +755,43 @@ type memoData struct {
 	// All are the totals of every instrument valued: the share-based
 	// awards and the financing warrants.
 	All Totals
+	// Outstanding is the part of the share-based awards still outstanding
+	// at the period end (ok false when the books did not run).
+	Outstanding Outstanding
+}
+
+// Outstanding is the grant-date fair value of the share-based awards
+// still outstanding at the period end: options and warrants granted for
+// services not exercised, forfeited, cancelled or expired, and RSUs not
+// yet vested, each at the weighted-average fair value of its roll-forward
+// (the disclosure tables').
+type Outstanding struct {
+	OK        bool
+	Shares    int64
+	FairValue float64
+}
+
+// outstandingOf sums the closing lines of the share-based roll-forwards.
+func outstandingOf(m *Model) Outstanding {
+	e := detail(m)
+	if e == nil || e.Disclosures == nil {
+		return Outstanding{}
+	}
+	o := Outstanding{OK: true}
+	x := e.Disclosures
+	for _, r := range []RollForward{x.Options, x.RSUs, x.Warrants} {
+		if len(r.Lines) == 0 {
+			continue
+		}
+		end := r.Lines[len(r.Lines)-1]
+		o.Shares += end.Shares
+		o.FairValue += float64(end.Shares) * end.WeightedFairValue
+	}
+	return o
 }
 
 func (d *Memo) data() memoData {
-	md := memoData{Model: d.m, All: d.m.Totals.Plus(d.m.FinancingTotals)}
+	md := memoData{Model: d.m, All: d.m.Totals.Plus(d.m.FinancingTotals), Outstanding: outstandingOf(d.m)}
 	for _, g := range d.m.Grants {
 		if g.Instrument == Warrant {
 			md.Warrants = append(md.Warrants, g)
@@ -581,3 +799,9 @@ func (d *Memo) data() memoData {
 	}
 	return md
 }
+
+// pageH is the page height in millimetres.
+func (d *Memo) pageH() float64 { return d.paper.H }
+
+// marginL is the left margin in millimetres: the text block centred.
+func (d *Memo) marginL() float64 { return (d.paper.W - textW) / 2 }

@@ -19,10 +19,13 @@ func (d *Memo) summary(m *Model) error {
 		{"Company", m.Company.Name},
 		{"Valuation date", m.ValuationDate.String()},
 		{"Share-based awards: grants / vesting tranches", count(m.Totals.Grants) + " / " + count(m.Totals.Tranches)},
-		{"Shares under award", count(m.Totals.Shares)},
-		{"Total fair value of share-based awards", money(m.Totals.FairValueTotal, cur)},
-		{"Simplified-method Black-Scholes-Merton", money(m.Totals.BSMSimplifiedTotal, cur)},
+		{"Shares granted", count(m.Totals.Shares)},
+		{"Fair value of every award granted, each at its measurement date", money(m.Totals.FairValueTotal, cur)},
 	}
+	if o := outstandingOf(m); o.OK {
+		rows = append(rows, []string{"Of which outstanding at the period end (grant-date fair value)", money(o.FairValue, cur) + " over " + count(o.Shares) + " shares"})
+	}
+	rows = append(rows, []string{"Simplified-method Black-Scholes-Merton, every award granted", money(m.Totals.BSMSimplifiedTotal, cur)})
 	if f := m.FinancingTotals; f.Grants > 0 {
 		rows = append(rows, []string{"Warrants issued in financings (not share-based payment)",
 			fmt.Sprintf("%s over %s shares, fair value %s", counted(f.Grants, "grant"), count(f.Shares), money(f.FairValueTotal, cur))})
@@ -87,19 +90,40 @@ func (d *Memo) groupTable(first string, gs []Group, tot, fin Totals) {
 
 func (d *Memo) methodology(*Model) error { return d.Text("methodology", d.data()) }
 
+// assumptions lists the company-wide inputs once, each with the number
+// of grants that take it, then what is set grant by grant (a grant-row
+// override, a share price, a rate, a default) grouped by input, value and
+// source, at every size of schedule: the workbook's Assumptions sheet
+// keeps a row per grant and input.
 func (d *Memo) assumptions(m *Model) error {
 	if err := d.Text("assumptions", d.data()); err != nil {
 		return err
 	}
+	cur := m.Company.Currency
 	var company, grant []Assumption
 	for _, a := range m.Assumptions {
 		if a.GrantID == "" {
 			company = append(company, a)
-		} else {
+		} else if !a.Term {
 			grant = append(grant, a)
 		}
 	}
-	cols := []Col{{"Input", 40, false}, {"Value", 30, false}, {"Cell", 26, false}, {"Source", 74, false}}
+	// A grant's input read from a company-wide cell is counted on that
+	// cell's row, not repeated.
+	type cell struct{ name, ref string }
+	users := map[cell]map[string]bool{}
+	for _, a := range company {
+		users[cell{a.Name, a.Ref}] = map[string]bool{}
+	}
+	own := grant[:0:0]
+	for _, a := range grant {
+		if u, ok := users[cell{a.Name, a.Ref}]; ok {
+			u[a.GrantID] = true
+		} else {
+			own = append(own, a)
+		}
+	}
+	grants := len(m.Grants)
 	if len(company) > 0 {
 		d.Sub("Company-wide")
 		rows := make([][]string, len(company))
@@ -108,47 +132,36 @@ func (d *Memo) assumptions(m *Model) error {
 			if !a.EffectiveDate.IsZero() {
 				src = strings.TrimSpace(src + " (in force from " + a.EffectiveDate.String() + ")")
 			}
-			rows[i] = []string{a.Name, assumptionText(a, m.Company.Currency), a.Ref, src}
+			who := ""
+			switch n := len(users[cell{a.Name, a.Ref}]); {
+			case n == 0:
+			case n == grants:
+				who = "all " + count(n)
+			default:
+				who = count(n) + " of " + count(grants)
+			}
+			rows[i] = []string{a.Name, assumptionText(a, cur), a.Ref, who, src}
 		}
-		d.Table(cols, rows)
+		d.Table([]Col{{"Input", 38, false}, {"Value", 26, false}, {"Cell", 24, false}, {"Grants", 16, true}, {"Source", 66, false}}, rows)
 	}
-	var terms int
-	assumed := grant[:0:0]
-	for _, a := range grant {
-		if a.Term {
-			terms++
-		} else {
-			assumed = append(assumed, a)
-		}
-	}
-	if len(assumed) == 0 {
+	if len(own) == 0 {
+		d.Note(fmt.Sprintf("Every grant takes the company-wide inputs above. The grants' terms (dates, shares, strike, vesting) are in section %d and, with their cells, on the workbook's Assumptions sheet.", d.sections["results"]))
 		return nil
 	}
-	d.Sub("By grant")
-	if len(assumed) <= maxDetailRows {
-		cols := []Col{{"Grant", 20, false}, {"Input", 32, false}, {"Value", 20, true}, {"Cell", 26, false}, {"Source", 72, false}}
-		rows := make([][]string, len(assumed))
-		for i, a := range assumed {
-			rows[i] = []string{a.GrantID, a.Name, assumptionText(a, m.Company.Currency), a.Ref, a.Source}
-		}
-		d.Table(cols, rows)
-		d.Note("The grants' terms (dates, shares, strike, vesting) are in section " + fmt.Sprint(d.sections["results"]) + " and, with their cells, on the workbook's Assumptions sheet.")
-		return nil
-	}
-	// Many grants: one row per input, value and source, with the grants
-	// that share it; every row stays in the workbook.
+	// One row per input, value and source, with the grants that share
+	// it; every row stays in the workbook.
 	type key struct{ name, value, source, sheet string }
 	seen := map[key]int{}
 	first := map[key]Assumption{}
 	cells := map[key]map[string]bool{}
 	var order []key
-	for _, a := range assumed {
+	for _, a := range own {
 		sheet, _, _ := strings.Cut(a.Ref, "!")
 		src := a.Source
 		if a.Ref != "" && strings.Contains(a.Ref, "!") {
 			src = strings.ReplaceAll(src, a.Ref, sheet) // "Grants!Q7 (grant row)" groups as "Grants (grant row)"
 		}
-		k := key{a.Name, assumptionText(a, m.Company.Currency), src, sheet}
+		k := key{a.Name, assumptionText(a, cur), src, sheet}
 		if seen[k] == 0 {
 			order = append(order, k)
 			first[k] = a
@@ -158,25 +171,25 @@ func (d *Memo) assumptions(m *Model) error {
 		cells[k][a.Ref] = true
 	}
 	sort.SliceStable(order, func(i, j int) bool { return order[i].name < order[j].name })
-	d.Note(fmt.Sprintf("%s inputs of %s grants, grouped by input, value and source. The workbook's Assumptions sheet lists each one with its cell, and the grants' terms (dates, shares, strike, vesting) too.", count(len(assumed)), count(len(m.Grants))))
+	d.Sub("Set grant by grant")
+	d.Note(fmt.Sprintf("The inputs that are not one company-wide cell (%s of them over %s grants), grouped by input, value and source. The workbook's Assumptions sheet lists each one with its cell, and the grants' terms (dates, shares, strike, vesting) too.", count(len(own)), count(grants)))
 	if len(order) > 3*maxDetailRows {
 		d.Note(fmt.Sprintf("Only the first %d of %s groups are shown.", 3*maxDetailRows, count(len(order))))
 		order = order[:3*maxDetailRows]
 	}
-	gcols := []Col{{"Input", 32, false}, {"Value", 20, true}, {"Grants", 22, false}, {"Cell", 26, false}, {"Source", 70, false}}
 	rows := make([][]string, len(order))
 	for i, k := range order {
 		who := count(seen[k]) + " grants"
 		if seen[k] == 1 {
 			who = first[k].GrantID
 		}
-		cell := first[k].Ref
+		ref := first[k].Ref
 		if n := len(cells[k]); n > 1 {
-			cell = k.sheet + " (" + count(n) + " cells)"
+			ref = k.sheet + " (" + count(n) + " cells)"
 		}
-		rows[i] = []string{k.name, k.value, who, cell, k.source}
+		rows[i] = []string{k.name, k.value, who, ref, k.source}
 	}
-	d.Table(gcols, rows)
+	d.Table([]Col{{"Input", 32, false}, {"Value", 20, true}, {"Grants", 22, false}, {"Cell", 26, false}, {"Source", 70, false}}, rows)
 	return nil
 }
 
@@ -287,8 +300,8 @@ func (d *Memo) sensitivity(m *Model) error {
 		d.Para("No sensitivity runs were made.")
 		return nil
 	}
-	if m.Settings.Sensitivities != "" {
-		d.Note(m.Settings.Sensitivities)
+	if m.Settings.Sensitivities != "" && m.Settings.Sensitivities != sensitivityEveryGrant {
+		d.Note(m.Settings.Sensitivities) // a sample: the note says which
 	}
 	cur := m.Company.Currency
 	// Charts two by two.
@@ -304,7 +317,7 @@ func (d *Memo) sensitivity(m *Model) error {
 			d.need(ch + 2)
 		}
 		y := d.pdf.GetY()
-		d.ImageAt(png, marginL+float64(col)*(cw+2), y, w, ch)
+		d.ImageAt(png, d.marginL()+float64(col)*(cw+2), y, w, ch)
 		if col == 1 || i == len(m.Sensitivity)-1 {
 			d.pdf.SetY(y + ch + 2)
 		}
@@ -313,7 +326,7 @@ func (d *Memo) sensitivity(m *Model) error {
 	var rows [][]string
 	for _, s := range m.Sensitivity {
 		for _, p := range s.Points {
-			rows = append(rows, []string{s.Label, p.Label, groupDigits(p.FairValueTotal, 2), signedPct(p.Change)})
+			rows = append(rows, []string{s.Label, withMinus(p.Label), groupDigits(p.FairValueTotal, 2), signedPct(p.Change)})
 		}
 	}
 	d.Table(cols, rows)
@@ -409,6 +422,14 @@ func crossCheckSummary(xs []CrossCheck) string {
 		n = "1 tranche"
 	}
 	return fmt.Sprintf("%s, largest |z| %s", n, fixed(worst, 1))
+}
+
+// withMinus is a case label ("-10 points") with the memo's minus sign.
+func withMinus(label string) string {
+	if rest, ok := strings.CutPrefix(label, "-"); ok {
+		return minus + rest
+	}
+	return label
 }
 
 // signedFixed is x with d decimals and an explicit sign (− for negative).

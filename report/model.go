@@ -91,6 +91,9 @@ type Model struct {
 	// the walk from it; both nil for a first close.
 	Prior          *PriorClose     `json:"prior"`
 	Reconciliation *Reconciliation `json:"reconciliation"`
+	// Modifications are the changes of awards' terms, and cancellations
+	// with a replacement award, dated by the valuation date (modify.go).
+	Modifications []Modification `json:"modifications"`
 	// Conditions are the vesting conditions beyond service the grants
 	// carry (conditions.go); absent when none does.
 	Conditions []VestingCondition `json:"conditions,omitempty"`
@@ -132,6 +135,12 @@ type Company struct {
 	Name              string  `json:"name"`
 	Currency          string  `json:"currency"` // ISO 4217
 	SharesOutstanding float64 `json:"shares_outstanding"`
+	// Who the memo is for and by whom, when a consultant prepares it, and
+	// its paper: the Company sheet's client, preparer and paper_size.
+	// They change no figure, so valuation.json leaves them out.
+	Client    string `json:"-"`
+	Preparer  string `json:"-"`
+	PaperSize string `json:"-"` // "a4", "letter" or "" (by currency)
 }
 
 // Settings are the run's choices that change numbers.

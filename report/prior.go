@@ -88,6 +88,7 @@ type priorReader struct {
 	booked        []bool         // grants[i] has its expense attribution
 	bad           []string       // grants[i]'s attribution does not fit it ("" if it does)
 	pending       []ExpenseGrant // attributions read before their grants
+	modifications []Modification // the changes of awards' terms it measured
 }
 
 // checkHead refuses a file grantworth did not write or wrote in a newer
@@ -223,6 +224,8 @@ func (r *priorReader) read(dec *json.Decoder) error {
 				return err
 			}
 			err = r.readExpense(dec)
+		case "modifications":
+			err = dec.Decode(&r.modifications)
 		case "assumptions":
 			err = each(dec, func() error {
 				var a Assumption
@@ -439,7 +442,7 @@ func (r *priorReader) prior() (*accounting.Prior, string) {
 		}
 	}
 	p.Grants = r.grants
-	return p, ""
+	return p, filedModifications(r.modifications, p)
 }
 
 // priorFinancing is the PriorGrant of a warrant issued in a financing:

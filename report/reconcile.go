@@ -306,7 +306,7 @@ func writeReconciliation(b *Book, m *Model) error {
 	if err != nil {
 		return err
 	}
-	money := func(v float64) any { return b.Cell(b.Style.Money, v) }
+	money := func(v float64) any { return b.Cell(b.Style.MoneyTagged, v) }
 	walk := func(name string, w Walk) error {
 		if w.Opening != nil {
 			if err := t.Row(name, b.Text(w.Opening.Label), w.Opening.Key, money(w.Opening.Amount)); err != nil {
@@ -345,7 +345,7 @@ func writeReconciliation(b *Book, m *Model) error {
 	}
 	for _, x := range r.Drift {
 		label := fmt.Sprintf("Locked at %s a share; today's inputs give %s", perShare(x.FiledPerShare), perShare(x.TodayPerShare))
-		if err := t.Row("Locked value", b.Text(label), "drift", b.Cell(b.Style.MoneyPerShare, x.TodayPerShare-x.FiledPerShare), b.Text(x.GrantID), b.Text(x.Inputs)); err != nil {
+		if err := t.Row("Locked value", b.Text(label), "drift", b.Cell(b.Style.PerShareTagged, x.TodayPerShare-x.FiledPerShare), b.Text(x.GrantID), b.Text(x.Inputs)); err != nil {
 			return err
 		}
 	}

@@ -168,10 +168,10 @@ func writeTax(b *Book, m *Model) error {
 		return noteSheet(b, SheetTax, "No tax_rate is given on the Assumptions sheet: no tax effect is worked out.")
 	}
 	x := e.Tax
-	cols := []Column{{"Kind", 11}, {"Grant", 14}, {"Date", 13}, {"Event", 11}, {"Shares", 11}, {"Share price", 12},
-		{"Temporary difference, period start", 22}, {"Temporary difference, period end", 22}, {"Cost of outstanding", 16},
-		{"Deferred tax asset, period start", 22}, {"Deferred tax asset, period end", 22}, {"In equity at period end", 14},
-		{"Deduction", 16}, {"Cost", 16}, {"Rate", 9}, {"Excess tax benefit (shortfall)", 16}, {"To equity", 14}, {"Note", 50}}
+	cols := []Column{{"Kind", 11}, {"Grant", 14}, {"Date", 13}, {"Event", 11}, {"Shares", 11}, {b.Cur("Share price"), 12},
+		{b.Cur("Temporary difference, period start"), 22}, {b.Cur("Temporary difference, period end"), 22}, {b.Cur("Cost of outstanding"), 16},
+		{b.Cur("Deferred tax asset, period start"), 22}, {b.Cur("Deferred tax asset, period end"), 22}, {b.Cur("In equity at period end"), 14},
+		{b.Cur("Deduction"), 16}, {b.Cur("Cost"), 16}, {"Rate", 9}, {b.Cur("Excess tax benefit (shortfall)"), 16}, {b.Cur("To equity"), 14}, {"Note", 50}}
 	t, err := b.NewTable(SheetTax, cols, len(x.ByGrant)+len(x.Settlements)+1)
 	if err != nil {
 		return err

@@ -6,12 +6,14 @@ import (
 	"bytes"
 	"fmt"
 	"io"
+	"math"
 	"os"
 	"sort"
 	"strconv"
 	"strings"
 	"time"
 	"unicode"
+	"unicode/utf8"
 
 	"github.com/xuri/excelize/v2"
 )
@@ -48,6 +50,13 @@ var sheetSkips = map[string]func(m *Model) bool{}
 type Book struct {
 	f     *excelize.File
 	Style Styles
+	// cur is the currency code that headers of amounts carry ("USD"):
+	// the cells hold plain numbers.
+	cur string
+	// decimals is how many decimals a value of each number style keeps
+	// (roundCell): sums carry float noise (129999.999999999) that no
+	// reader should see.
+	decimals map[int]int
 	// fast write the data rows of large sheets apart (fastsheet.go),
 	// placeholder k's rows fast[k]; slow sends every sheet through
 	// excelize (for the test that compares).
@@ -59,15 +68,74 @@ type Book struct {
 }
 
 // Styles are the cell styles of the workbook.
+//
+// Money and MoneyPerShare are plain amounts: the header of their column
+// names the currency (Book.Cur). MoneyTagged and PerShareTagged carry it
+// in every cell, for a column that mixes amounts with other things.
+// Shares is a count of shares that may be fractional (expected to vest),
+// shown whole.
 type Styles struct {
 	Header, Text, Input, Int, Number, Years, Percent, Date int
 	Money, MoneyPerShare, Bold, BoldTop, Wrap              int
+	MoneyTagged, PerShareTagged, Shares, WrapInput         int
 }
 
 // Column is one column of a sheet table.
 type Column struct {
 	Header string
 	Width  float64
+}
+
+// widthSample is how many rows fitWidths is shown: enough to meet every
+// kind of value, without a pass over a ledger's every row.
+const widthSample = 2000
+
+// fitWidths widens each column of cols to hold the longest text under it
+// (rows: the cells' text, column by column) and the longest word of its
+// header (headers wrap), up to limit characters; no column gets narrower
+// than asked. Widths are in the spreadsheet's characters.
+func fitWidths(cols []Column, rows [][]string, limit float64) []Column {
+	out := append([]Column(nil), cols...)
+	for j := range out {
+		w := out[j].Width
+		for _, word := range strings.Fields(out[j].Header) {
+			w = max(w, float64(utf8.RuneCountInString(word))*1.2+2) // bold
+		}
+		for _, r := range rows {
+			if j < len(r) {
+				w = max(w, float64(utf8.RuneCountInString(r[j]))+2)
+			}
+		}
+		out[j].Width = min(w, max(limit, out[j].Width))
+	}
+	return out
+}
+
+// headerHeight is the height in points of a header row whose headers
+// wrap within columns of widths characters: every line of the longest
+// header shown, two lines at least.
+func headerHeight(heads []string, widths []float64) float64 {
+	lines := 2
+	for i, h := range heads {
+		if i >= len(widths) || h == "" {
+			continue
+		}
+		// Bold text runs about a fifth wider than the column's characters.
+		per := max(1, int((widths[i]-1)/1.2))
+		n, line := 1, 0
+		for _, w := range strings.Fields(h) {
+			k := utf8.RuneCountInString(w)
+			if line > 0 && line+1+k > per {
+				n, line = n+1, k
+			} else if line > 0 {
+				line += 1 + k
+			} else {
+				line = k
+			}
+		}
+		lines = max(lines, n)
+	}
+	return 13*float64(lines) + 4
 }
 
 // Table writes one sheet: a styled, frozen header row with an autofilter,
@@ -121,7 +189,7 @@ func WriteWorkbookWith(w io.Writer, m *Model, o WorkbookOptions) error {
 		})
 		return zw
 	})
-	b := &Book{f: f, slow: slowSheets}
+	b := &Book{f: f, slow: slowSheets, cur: m.Company.Currency}
 	if err := b.styles(m.Company.Currency); err != nil {
 		return err
 	}
@@ -306,13 +374,17 @@ func (b *Book) styles(currency string) error {
 		{&b.Style.Text, excelize.Style{NumFmt: 49}},
 		{&b.Style.Input, excelize.Style{NumFmt: 49, Alignment: &excelize.Alignment{Indent: 1}}},
 		{&b.Style.Wrap, excelize.Style{Alignment: &excelize.Alignment{WrapText: true, Vertical: "top"}}},
+		{&b.Style.WrapInput, excelize.Style{NumFmt: 49, Alignment: &excelize.Alignment{WrapText: true}}},
 		{&b.Style.Int, excelize.Style{NumFmt: 3}},
-		{&b.Style.Number, excelize.Style{CustomNumFmt: strPtr("#,##0.0000")}},
+		{&b.Style.Shares, excelize.Style{CustomNumFmt: strPtr("#,##0")}}, // not NumFmt 3: a style of its own, rounded apart
+		{&b.Style.Number, excelize.Style{CustomNumFmt: strPtr("#,##0.0###")}},
 		{&b.Style.Years, excelize.Style{CustomNumFmt: strPtr("0.000")}},
 		{&b.Style.Percent, excelize.Style{CustomNumFmt: strPtr("0.00%")}},
 		{&b.Style.Date, excelize.Style{CustomNumFmt: strPtr("yyyy-mm-dd")}},
-		{&b.Style.Money, excelize.Style{CustomNumFmt: strPtr(`#,##0.00\ "` + cur + `"`)}},
-		{&b.Style.MoneyPerShare, excelize.Style{CustomNumFmt: strPtr(`#,##0.0000\ "` + cur + `"`)}},
+		{&b.Style.Money, excelize.Style{CustomNumFmt: strPtr("#,##0.00")}},
+		{&b.Style.MoneyPerShare, excelize.Style{CustomNumFmt: strPtr("#,##0.0000")}},
+		{&b.Style.MoneyTagged, excelize.Style{CustomNumFmt: strPtr(`#,##0.00\ "` + cur + `"`)}},
+		{&b.Style.PerShareTagged, excelize.Style{CustomNumFmt: strPtr(`#,##0.0000\ "` + cur + `"`)}},
 		{&b.Style.Bold, excelize.Style{Font: &excelize.Font{Bold: true}}},
 		{&b.Style.BoldTop, excelize.Style{Font: &excelize.Font{Bold: true}, Alignment: &excelize.Alignment{Vertical: "top"}}},
 	}
@@ -323,19 +395,63 @@ func (b *Book) styles(currency string) error {
 		}
 		*s.dst = id
 	}
+	st := b.Style
+	b.decimals = map[int]int{st.Int: 0, st.Shares: 2, st.Number: 8, st.Years: 6, st.Percent: 8,
+		st.Money: 2, st.MoneyTagged: 2, st.MoneyPerShare: 6, st.PerShareTagged: 6}
 	return nil
+}
+
+// Cur is header h with the currency the amounts under it are in:
+// "Fair value total (USD)".
+func (b *Book) Cur(h string) string { return h + " (" + b.cur + ")" }
+
+// roundCell is v rounded to the decimals its style keeps: cents for
+// amounts, six decimals for values per share and years, eight for rates
+// and plain numbers, whole numbers for counts. A value of another style
+// is v.
+func (b *Book) roundCell(style int, v float64) float64 {
+	d, ok := b.decimals[style]
+	if !ok || math.IsNaN(v) || math.IsInf(v, 0) {
+		return v
+	}
+	p := math.Pow10(d)
+	r := math.Round(v*p) / p
+	if math.IsInf(r*p, 0) { // too large to scale: keep it
+		return v
+	}
+	if r == 0 {
+		return 0 // no negative zero
+	}
+	return r
 }
 
 func strPtr(s string) *string { return &s }
 
 // NewTable starts sheet name (which must exist) with a header row, frozen,
 // with an autofilter over the header and the rows data rows that follow.
+// The sheet declares that it fills the header and those rows (its
+// <dimension>, which readers in streaming mode rely on); a sheet that
+// writes more rows or columns says so with NewTableSpan.
 func (b *Book) NewTable(name string, cols []Column, rows int) (*Table, error) {
+	return b.NewTableSpan(name, cols, rows, rows+1, len(cols))
+}
+
+// NewTableSpan is NewTable for a sheet whose cells reach row lastRow and
+// column lastCol (1-based), beyond the filtered table: sections stacked
+// under it, a note beside it.
+func (b *Book) NewTableSpan(name string, cols []Column, rows, lastRow, lastCol int) (*Table, error) {
 	last, err := excelize.CoordinatesToCellName(len(cols), rows+1)
 	if err != nil {
 		return nil, err
 	}
 	if err := b.f.AutoFilter(name, "A1:"+last, nil); err != nil {
+		return nil, err
+	}
+	end, err := excelize.CoordinatesToCellName(max(lastCol, len(cols), 1), max(lastRow, rows+1))
+	if err != nil {
+		return nil, err
+	}
+	if err := b.f.SetSheetDimension(name, "A1:"+end); err != nil {
 		return nil, err
 	}
 	// Printed, a sheet is landscape and one page wide, header row repeated.
@@ -365,7 +481,12 @@ func (b *Book) NewTable(name string, cols []Column, rows int) (*Table, error) {
 	for i, c := range cols {
 		head[i] = excelize.Cell{StyleID: b.Style.Header, Value: c.Header}
 	}
-	if err := sw.SetRow("A1", head, excelize.RowOpts{Height: 30}); err != nil {
+	heads := make([]string, len(cols))
+	widths := make([]float64, len(cols))
+	for i, c := range cols {
+		heads[i], widths[i] = c.Header, c.Width
+	}
+	if err := sw.SetRow("A1", head, excelize.RowOpts{Height: headerHeight(heads, widths)}); err != nil {
 		return nil, err
 	}
 	return &Table{sw: sw, row: 1, cols: len(cols)}, nil
@@ -416,9 +537,23 @@ func (b *Book) Text(s string) excelize.Cell {
 	return excelize.Cell{StyleID: b.Style.Input, Value: s}
 }
 
-// Cell is a number or date with a style.
+// Cell is a number or date with a style; a float is rounded to the
+// decimals the style keeps (roundCell).
 func (b *Book) Cell(style int, v any) excelize.Cell {
+	if f, ok := v.(float64); ok {
+		v = b.roundCell(style, f)
+	}
 	return excelize.Cell{StyleID: style, Value: v}
+}
+
+// Amount is a cell of style for v, or an empty cell when ok is false: a
+// line with no such value (a weighted average over no shares, an
+// exercise of an RSU) is blank, not 0.
+func (b *Book) Amount(style int, v float64, ok bool) any {
+	if !ok {
+		return nil
+	}
+	return b.Cell(style, v)
 }
 
 // DateCell is a date cell, or an empty one for the zero Date.
@@ -441,28 +576,49 @@ func writeSummary(b *Book, m *Model) error {
 		{"Period start", b.DateCell(m.PeriodStart)},
 		{"Share-based awards: grants", b.Cell(b.Style.Int, m.Totals.Grants)},
 		{"Share-based awards: tranches", b.Cell(b.Style.Int, m.Totals.Tranches)},
-		{"Shares under award", b.Cell(b.Style.Int, m.Totals.Shares)},
-		{"Total fair value of share-based awards", b.Cell(b.Style.Money, m.Totals.FairValueTotal)},
-		{"Simplified-method BSM total", b.Cell(b.Style.Money, m.Totals.BSMSimplifiedTotal)},
-		{"Lattice less simplified BSM", b.Cell(b.Style.Money, m.Totals.FairValueTotal-m.Totals.BSMSimplifiedTotal)},
+		{"Shares granted", b.Cell(b.Style.Int, m.Totals.Shares)},
+		{b.Cur("Fair value of every award granted, each at its measurement date"), b.Cell(b.Style.Money, m.Totals.FairValueTotal)},
 	}
+	if o := outstandingOf(m); o.OK {
+		rows = append(rows,
+			kv{"Outstanding at the period end: shares", b.Cell(b.Style.Int, o.Shares)},
+			kv{b.Cur("Outstanding at the period end: grant-date fair value"), b.Cell(b.Style.Money, o.FairValue)})
+	}
+	rows = append(rows,
+		kv{b.Cur("Simplified-method BSM total, every award granted"), b.Cell(b.Style.Money, m.Totals.BSMSimplifiedTotal)},
+		kv{b.Cur("Lattice less simplified BSM"), b.Cell(b.Style.Money, m.Totals.FairValueTotal-m.Totals.BSMSimplifiedTotal)})
 	if f := m.FinancingTotals; f.Grants > 0 {
 		rows = append(rows,
 			kv{"Financing warrants (not share-based payment): grants", b.Cell(b.Style.Int, f.Grants)},
-			kv{"Financing warrants: fair value", b.Cell(b.Style.Money, f.FairValueTotal)})
+			kv{b.Cur("Financing warrants: fair value"), b.Cell(b.Style.Money, f.FairValueTotal)})
 	}
 	if e := detail(m); e != nil {
 		rows = append(rows,
-			kv{"Compensation expense for the period", b.Cell(b.Style.Money, e.Amount)},
-			kv{"Unrecognized compensation cost", b.Cell(b.Style.Money, m.Expense.UnrecognizedCost)},
+			kv{b.Cur("Compensation expense for the period"), b.Cell(b.Style.Money, e.Amount)},
+			kv{b.Cur("Unrecognized compensation cost"), b.Cell(b.Style.Money, m.Expense.UnrecognizedCost)},
 			kv{"Weighted-average remaining years", b.Cell(b.Style.Years, m.Expense.WeightedAverageRemainingYears)})
 		if len(e.Financing) > 0 {
-			rows = append(rows, kv{"Change in fair value of warrant liability (financing)", b.Cell(b.Style.Money, e.FinancingFairValueChange)})
+			rows = append(rows, kv{b.Cur("Change in fair value of warrant liability (financing)"), b.Cell(b.Style.Money, e.FinancingFairValueChange)})
 		}
 	}
 	rows = append(rows, kv{"Warnings", b.Cell(b.Style.Int, len(m.Warnings))})
-	cols := []Column{{"Item", 46}, {"Value", 26}, {"Grants", 10}, {"Tranches", 10}, {"Shares", 14}, {"Fair value total", 22}, {"Fair value per share", 20}, {"Simplified BSM total", 22}}
-	t, err := b.NewTable(SheetSummary, cols, len(rows))
+	groupHead := []string{"Grants", "Tranches", "Shares", b.Cur("Fair value total"), b.Cur("Fair value per share"), b.Cur("Simplified BSM total")}
+	cols := []Column{{"Item", 46}, {"Value", 26}}
+	for _, h := range groupHead {
+		cols = append(cols, Column{h, 14})
+	}
+	labels := make([][]string, 0, len(rows)+len(m.ByInstrument)+len(m.ByGrantMonth))
+	for _, r := range rows {
+		labels = append(labels, []string{r.k, m.Company.Name})
+	}
+	for _, g := range append(append([]Group(nil), m.ByInstrument...), m.ByGrantMonth...) {
+		labels = append(labels, []string{g.Key})
+	}
+	cols = fitWidths(cols, labels, 70)
+	// The table, a blank row and a header row before each group, a blank
+	// row and the caution.
+	last := 1 + len(rows) + 2 + len(m.ByInstrument) + 2 + len(m.ByGrantMonth) + 2
+	t, err := b.NewTableSpan(SheetSummary, cols, len(rows), last, len(cols))
 	if err != nil {
 		return err
 	}
@@ -477,10 +633,14 @@ func writeSummary(b *Book, m *Model) error {
 	}{{"By instrument", m.ByInstrument}, {"By grant month", m.ByGrantMonth}} {
 		t.Skip(1)
 		head := []any{b.Cell(b.Style.Header, sec.title), b.Cell(b.Style.Header, "")}
-		for _, h := range []string{"Grants", "Tranches", "Shares", "Fair value total", "Fair value per share", "Simplified BSM total"} {
+		for _, h := range groupHead {
 			head = append(head, b.Cell(b.Style.Header, h))
 		}
-		if err := t.Row(head...); err != nil {
+		widths := make([]float64, len(cols))
+		for i, c := range cols {
+			widths[i] = c.Width
+		}
+		if err := t.TallRow(headerHeight(append([]string{sec.title, ""}, groupHead...), widths), head...); err != nil {
 			return err
 		}
 		for _, g := range sec.groups {
@@ -511,17 +671,28 @@ func (b *Book) valueCell(a Assumption) any {
 	case KindPercent:
 		return b.Cell(b.Style.Percent, a.Value)
 	case KindMoney:
-		return b.Cell(b.Style.MoneyPerShare, a.Value)
+		return b.Cell(b.Style.PerShareTagged, a.Value) // a column of every kind of value: the cell says its currency
 	case KindYears:
 		return b.Cell(b.Style.Years, a.Value)
 	case KindNumber:
+		if a.Value == math.Trunc(a.Value) && math.Abs(a.Value) < 1e15 {
+			return b.Cell(b.Style.Int, int64(a.Value)) // a whole number (shares): no decimals
+		}
 		return b.Cell(b.Style.Number, a.Value)
 	}
 	return b.Text(a.Text)
 }
 
 func writeAssumptions(b *Book, m *Model) error {
-	cols := []Column{{"Grant", 14}, {"Input", 26}, {"Value", 16}, {"As given", 18}, {"Cell", 18}, {"In force from", 12}, {"Source", 60}}
+	// Widths from the content, the source wrapped within a column of at
+	// most sourceWidth characters.
+	const sourceWidth = 70
+	cols := []Column{{"Grant", 8}, {"Input", 8}, {"Value", 12}, {"As given", 10}, {"Cell", 8}, {"In force from", 12}, {"Source", 20}}
+	text := make([][]string, 0, min(len(m.Assumptions), widthSample))
+	for _, a := range m.Assumptions[:min(len(m.Assumptions), widthSample)] {
+		text = append(text, []string{a.GrantID, a.Name, assumptionText(a, m.Company.Currency) + " " + m.Company.Currency, a.Text, a.Ref, "", a.Source})
+	}
+	cols = fitWidths(cols, text, sourceWidth)
 	as := m.Assumptions
 	for i, rows := range sheetParts(len(as)) {
 		t, err := b.partTable(SheetAssumptions, i, cols, rows)
@@ -533,7 +704,19 @@ func writeAssumptions(b *Book, m *Model) error {
 			if grant == "" {
 				grant = "(all)"
 			}
-			if err := t.Row(b.Text(grant), b.Text(a.Name), b.valueCell(a), b.Text(a.Text), b.Text(a.Ref), b.DateCell(a.EffectiveDate), b.Text(a.Source)); err != nil {
+			src := b.Text(a.Source)
+			cells := []any{b.Text(grant), b.Text(a.Name), b.valueCell(a), b.Text(a.Text), b.Text(a.Ref), b.DateCell(a.EffectiveDate), src}
+			if n := utf8.RuneCountInString(a.Source); float64(n) > cols[6].Width-2 {
+				// Wrapped, in a row as tall as its lines: spreadsheet
+				// programs do not all fit a row's height to wrapped text.
+				src.StyleID = b.Style.WrapInput
+				cells[6] = src
+				if err := t.TallRow(15*math.Ceil(float64(n)/(cols[6].Width-4)), cells...); err != nil {
+					return err
+				}
+				continue
+			}
+			if err := t.Row(cells...); err != nil {
 				return err
 			}
 		}
@@ -547,10 +730,15 @@ func writeAssumptions(b *Book, m *Model) error {
 
 func writeGrants(b *Book, m *Model) error {
 	cols := []Column{{"Grant", 14}, {"Holder", 14}, {"Instrument", 11}, {"Grant date", 12}, {"Measurement date", 13},
-		{"Expiry date", 12}, {"Shares", 12}, {"Strike", 14}, {"Share price", 14}, {"Volatility", 11},
+		{"Expiry date", 12}, {"Shares", 12}, {b.Cur("Strike"), 14}, {b.Cur("Share price"), 14}, {"Volatility", 11},
 		{"Risk-free rate", 11}, {"Dividend yield", 11}, {"Exercise multiple", 10}, {"Exit rate", 10},
-		{"Tranches", 9}, {"Fair value per share", 16}, {"Fair value total", 20}, {"Simplified BSM total", 20},
-		{"Lattice less BSM", 18}, {"Method", 10}, {"Classification", 13}, {"Purpose", 13}, {"Hire date", 12}}
+		{"Tranches", 9}, {b.Cur("Fair value per share"), 16}, {b.Cur("Fair value total"), 20}, {b.Cur("Simplified BSM total"), 20},
+		{b.Cur("Lattice less BSM"), 18}, {"Method", 10}, {"Classification", 13}, {"Purpose", 13}, {"Hire date", 12}}
+	ids := make([][]string, 0, min(len(m.Grants), widthSample))
+	for _, g := range m.Grants[:min(len(m.Grants), widthSample)] {
+		ids = append(ids, []string{g.ID, g.Holder, g.Instrument})
+	}
+	cols = fitWidths(cols, ids, 40)
 	t, err := b.NewTable(SheetGrants, cols, len(m.Grants))
 	if err != nil {
 		return err
@@ -611,7 +799,12 @@ func bsmFormulas(row int, instrument string) (d1, d2, value string) {
 	return d1, d2, value
 }
 
-// TrancheColumns are the headers of the Tranches sheet.
+// trancheAmountColumns are the columns of TrancheColumns (0-based) in
+// the currency, which their headers name.
+var trancheAmountColumns = []int{6, 7, 15, 16, 20, 23, 24, 25}
+
+// TrancheColumns are the headers of the Tranches sheet (the currency is
+// added to those of trancheAmountColumns).
 var TrancheColumns = []Column{{"Grant", 14}, {"Holder", 14}, {"Instrument", 11}, {"Tranche", 8}, {"Vest date", 12},
 	{"Shares", 11}, {"Share price", 13}, {"Strike", 13}, {"Years to expiry", 9}, {"Years to vest", 9},
 	{"Volatility", 10}, {"Risk-free rate", 10}, {"Dividend yield", 10}, {"Exercise multiple", 9}, {"Exit rate", 9},
@@ -650,10 +843,14 @@ func writeTranches(b *Book, m *Model) error {
 	for _, g := range m.Grants {
 		n += len(g.Tranches)
 	}
+	cols := append([]Column(nil), TrancheColumns...)
+	for _, i := range trancheAmountColumns {
+		cols[i].Header = b.Cur(cols[i].Header)
+	}
 	fast := !b.slow && trancheRowsPlain(m)
 	from := 0
 	for i, rows := range sheetParts(n) {
-		t, err := b.partTable(SheetTranches, i, TrancheColumns, rows)
+		t, err := b.partTable(SheetTranches, i, cols, rows)
 		if err != nil {
 			return err
 		}
@@ -715,7 +912,7 @@ func writeSensitivity(b *Book, m *Model) error {
 	for _, s := range m.Sensitivity {
 		n += len(s.Points)
 	}
-	cols := []Column{{"Input", 26}, {"Shift", 12}, {"Case", 22}, {"Total fair value", 22}, {"Change from base", 14}}
+	cols := []Column{{"Input", 26}, {"Shift", 12}, {"Case", 22}, {b.Cur("Total fair value"), 22}, {"Change from base", 14}}
 	t, err := b.NewTable(SheetSensitivity, cols, n)
 	if err != nil {
 		return err
@@ -732,13 +929,17 @@ func writeSensitivity(b *Book, m *Model) error {
 }
 
 func writeConvergence(b *Book, m *Model) error {
-	cols := []Column{{"Grant", 14}, {"Tranche", 9}, {"Steps", 10}, {"Raw lattice value", 16}, {"Auto value", 14},
+	cols := []Column{{"Grant", 14}, {"Tranche", 9}, {"Steps", 10}, {b.Cur("Raw lattice value"), 16}, {b.Cur("Auto value"), 14},
 		{"Auto error estimate", 14}, {"Auto steps", 10}}
 	var pts []ConvergencePoint
 	if m.Convergence != nil {
 		pts = m.Convergence.Points
 	}
-	t, err := b.NewTable(SheetConvergence, cols, len(pts))
+	last, lastCol := len(pts)+1, len(cols)
+	if len(m.CrossChecks) > 0 {
+		last, lastCol = last+2+len(m.CrossChecks), 9
+	}
+	t, err := b.NewTableSpan(SheetConvergence, cols, len(pts), last, lastCol)
 	if err != nil {
 		return err
 	}
@@ -754,12 +955,17 @@ func writeConvergence(b *Book, m *Model) error {
 	}
 	if len(m.CrossChecks) > 0 {
 		t.Skip(1)
-		hs := []string{"Cross-check grant", "Tranche", "Method", "Lattice value", "Other method", "Standard error", "Paths", "Lattice error", "z"}
+		hs := []string{"Cross-check grant", "Tranche", "Method", b.Cur("Lattice value"), b.Cur("Other method"), "Standard error", "Paths", "Lattice error", "z"}
 		head := make([]any, len(hs))
+		widths := make([]float64, len(hs))
 		for i, h := range hs {
 			head[i] = b.Cell(s.Header, h)
+			widths[i] = 14
+			if i < len(cols) {
+				widths[i] = cols[i].Width
+			}
 		}
-		if err := t.Row(head...); err != nil {
+		if err := t.TallRow(headerHeight(hs, widths), head...); err != nil {
 			return err
 		}
 		for _, x := range m.CrossChecks {

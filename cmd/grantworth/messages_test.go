@@ -106,7 +106,7 @@ func setKey(t *testing.T, files map[string]string, file, key, v string) {
 // and in value, and value writes nothing.
 func TestEmptySchedule(t *testing.T) {
 	dir := sampleCopy(t, func(f map[string]string) {
-		for _, n := range []string{"grants.csv", "vesting.csv", "events.csv"} {
+		for _, n := range []string{"grants.csv", "vesting.csv", "events.csv", "modifications.csv"} {
 			keepHeader(f, n)
 		}
 		f["transfers.csv"], f["accounts.csv"] = "", "" // optional sheets, of grants
@@ -184,7 +184,7 @@ func keepGrants(f map[string]string, ids ...string) {
 		keep[id] = true
 	}
 	f["accounts.csv"] = "" // its cost centres would be unused
-	for _, n := range []string{"grants.csv", "vesting.csv", "events.csv", "transfers.csv"} {
+	for _, n := range []string{"grants.csv", "vesting.csv", "events.csv", "transfers.csv", "modifications.csv"} {
 		lines := strings.Split(strings.TrimSuffix(f[n], "\n"), "\n")
 		out := lines[:1]
 		for _, l := range lines[1:] {

@@ -181,6 +181,24 @@ func TestValuePriorSampleChain(t *testing.T) {
 			t.Errorf("%s: cumulative %v, prior %v, period %v", quarters[i], j.Expense.Cumulative, prev.Expense.Cumulative, j.Expense.PeriodAmount)
 		}
 	}
+	// The README's table of the chain shows these closes' figures.
+	readme, err := os.ReadFile(filepath.Join("..", "..", "README.md"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i, j := range c.json {
+		row := ""
+		for _, l := range strings.Split(string(readme), "\n") {
+			if strings.HasPrefix(l, "| "+quarters[i]+" |") {
+				row = l
+			}
+		}
+		for _, v := range []float64{j.Expense.PeriodAmount, j.Expense.Cumulative, j.Expense.UnrecognizedCost} {
+			if !strings.Contains(row, " "+money2(v)+" ") {
+				t.Errorf("README's row for the close of %s does not show %s: %q", quarters[i], money2(v), row)
+			}
+		}
+	}
 	q3 := c.json[3]
 	status := map[string]string{}
 	for _, g := range q3.Grants {

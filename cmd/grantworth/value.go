@@ -396,8 +396,8 @@ func printSummary(w io.Writer, m *report.Model, dir string) {
 			fmt.Fprintf(w, "    %-15s %d (%s %s)\n", g.Key, g.Grants, cur, money2(g.FairValueTotal))
 		}
 	}
-	fmt.Fprintf(w, "  tranches          %d\n", m.Totals.Tranches)
-	fmt.Fprintf(w, "  shares            %d\n", m.Totals.Shares)
+	fmt.Fprintf(w, "  tranches          %s\n", groupCount(m.Totals.Tranches))
+	fmt.Fprintf(w, "  shares            %s\n", groupCount(int(m.Totals.Shares)))
 	fmt.Fprintf(w, "  total fair value  %s %s\n", cur, money2(m.Totals.FairValueTotal))
 	if f := m.FinancingTotals; f.Grants > 0 {
 		fmt.Fprintf(w, "  financing         %d warrant grants (%s %s), not share-based payment\n", f.Grants, cur, money2(f.FairValueTotal))
@@ -411,6 +411,14 @@ func printSummary(w io.Writer, m *report.Model, dir string) {
 				}
 			}
 		}
+	}
+	if n := len(m.Modifications); n > 0 {
+		var cost, amount float64
+		for _, x := range m.Modifications {
+			cost += x.Cost
+			amount += x.Amount
+		}
+		fmt.Fprintf(w, "  modifications     %d (%s %s added to the cost, %s %s of it in the period)\n", n, cur, money2(cost), cur, money2(amount))
 	}
 	if len(m.Warnings) > 0 {
 		fmt.Fprintf(w, "  warnings          %d (printed on stderr, and listed in the memo and the workbook)\n", len(m.Warnings))

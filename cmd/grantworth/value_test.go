@@ -118,7 +118,7 @@ func TestValueSampleSummary(t *testing.T) {
 	}
 	out := sampleRun.stdout
 	for _, want := range []string{m.Company.Name, "grants            " + strconv.Itoa(m.Totals.Grants),
-		"tranches          " + strconv.Itoa(m.Totals.Tranches), money2(m.Totals.FairValueTotal),
+		"tranches          " + groupCount(m.Totals.Tranches), "shares            " + groupCount(int(m.Totals.Shares)), money2(m.Totals.FairValueTotal),
 		filepath.Join(dir, "memo.pdf"), filepath.Join(dir, "valuation.xlsx"), filepath.Join(dir, "valuation.json")} {
 		if !strings.Contains(out, want) {
 			t.Errorf("summary lacks %q:\n%s", want, out)
@@ -205,10 +205,13 @@ func TestValueSampleWorkbook(t *testing.T) {
 			if get("A") != g.ID || get("B") != g.Holder {
 				t.Fatalf("Tranches row %d: grant %q holder %q, want %q %q", row, get("A"), get("B"), g.ID, g.Holder)
 			}
-			for col, want := range map[string]float64{"F": float64(tr.Shares), "P": tr.FairValuePerShare, "U": tr.BSMSimplifiedValue, "Z": tr.FairValueTotal} {
+			// The workbook keeps six decimals of a value per share and
+			// cents of an amount (no float noise, issue 14).
+			for col, c := range map[string]struct{ want, tol float64 }{"F": {float64(tr.Shares), 0}, "P": {tr.FairValuePerShare, 5e-7},
+				"U": {tr.BSMSimplifiedValue, 5e-7}, "Z": {tr.FairValueTotal, 0.005}} {
+				want := c.want
 				got, err := strconv.ParseFloat(get(col), 64)
-				// The workbook keeps 15 significant digits, as Excel does.
-				if err != nil || math.Abs(got-want) > 1e-12*math.Max(1, math.Abs(want)) {
+				if err != nil || math.Abs(got-want) > c.tol+1e-12*math.Max(1, math.Abs(want)) {
 					t.Errorf("Tranches!%s%d = %q, JSON has %v", col, row, get(col), want)
 				}
 			}

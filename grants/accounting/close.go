@@ -130,6 +130,9 @@ func AwardsOf(s *grants.Schedule, v *pricing.Valuation) ([]Award, []string, erro
 		}
 		awards = append(awards, a)
 	}
+	if err := modifiedOf(awards, v); err != nil {
+		return nil, nil, err
+	}
 	return awards, warns, nil
 }
 

@@ -415,8 +415,8 @@ func dayOnOrAfter(a, b time.Time) bool { return valuation.Days(b, a) >= 0 }
 // number outstanding, and its exercises in the period to act (when not
 // nil).
 func rollOutstanding(l *awardLedger, r *rollAccs, act *Activity, open, start, end time.Time, inPeriod bool) {
-	k := l.in.Grant.Strike
-	for _, t := range l.tr {
+	for i, t := range l.tr {
+		strike := func(d time.Time) float64 { return l.strikeOn(i, d) } // in force on d
 		atOpen, atEnd := t.Tranche.Shares, t.Tranche.Shares
 		for _, m := range t.moves {
 			if dayOnOrBefore(m.date, open) {
@@ -426,6 +426,7 @@ func rollOutstanding(l *awardLedger, r *rollAccs, act *Activity, open, start, en
 			}
 			if dayOnOrBefore(m.date, end) {
 				atEnd -= m.shares
+				k := strike(m.date)
 				switch m.kind {
 				case grants.Exercised:
 					r.exercised.add(m.shares, k, t.FairValue)
@@ -449,11 +450,11 @@ func rollOutstanding(l *awardLedger, r *rollAccs, act *Activity, open, start, en
 			}
 		}
 		if inPeriod {
-			r.granted.add(t.Tranche.Shares, k, t.FairValue)
+			r.granted.add(t.Tranche.Shares, strike(l.in.Grant.GrantDate), t.FairValue)
 		} else {
-			r.start.add(atOpen, k, t.FairValue)
+			r.start.add(atOpen, strike(open), t.FairValue)
 		}
-		r.end.add(atEnd, k, t.FairValue)
+		r.end.add(atEnd, strike(end), t.FairValue)
 	}
 }
 
@@ -504,24 +505,24 @@ func rollNonvested(l *awardLedger, r *rollAccs, open, start, end time.Time, inPe
 // summarise adds an option or warrant grant's period-end position, and
 // its outstanding and exercisable shares to the exercise-price ranges.
 func summarise(l *awardLedger, out, ex, exp *outAcc, ranges rangeAccs, end time.Time, price float64) {
-	g := l.in.Grant
 	term := 0.0
-	if !g.ExpiryDate.IsZero() {
-		term = math.Max(valuation.YearFrac(end, g.ExpiryDate), 0)
+	if !l.expiry.IsZero() {
+		term = math.Max(valuation.YearFrac(end, l.expiry), 0)
 	}
-	for _, t := range l.tr {
+	for i, t := range l.tr {
 		n := float64(t.countsAt(end).open)
 		if n == 0 {
 			continue
 		}
-		out.add(n, g.Strike, term, price)
+		k := l.strikeOn(i, end)
+		out.add(n, k, term, price)
 		if t.vestedOn(end) {
-			ex.add(n, g.Strike, term, price)
-			exp.add(n, g.Strike, term, price)
-			ranges.add(g.Strike, int64(n), int64(n), term)
+			ex.add(n, k, term, price)
+			exp.add(n, k, term, price)
+			ranges.add(k, int64(n), int64(n), term)
 		} else {
-			ranges.add(g.Strike, int64(n), 0, term)
-			exp.add(n*t.expected(dayNum(end), l.rate), g.Strike, term, price)
+			ranges.add(k, int64(n), 0, term)
+			exp.add(n*t.expected(dayNum(end), l.rate), k, term, price)
 		}
 	}
 }
@@ -529,12 +530,12 @@ func summarise(l *awardLedger, out, ex, exp *outAcc, ranges rangeAccs, end time.
 // warrantRow is a warrant grant's row, if any of it is outstanding.
 func warrantRow(l *awardLedger, end time.Time, price float64) (WarrantRow, bool) {
 	g := l.in.Grant
-	row := WarrantRow{GrantID: g.ID, Holder: g.Holder, Classification: g.Classification, Strike: g.Strike, ExpiryDate: g.ExpiryDate}
+	row := WarrantRow{GrantID: g.ID, Holder: g.Holder, Classification: g.Classification, Strike: l.strikeOn(0, end), ExpiryDate: l.expiry}
 	if row.Classification == "" {
 		row.Classification = grants.Equity
 	}
-	if !g.ExpiryDate.IsZero() {
-		row.RemainingTermYears = math.Max(valuation.YearFrac(end, g.ExpiryDate), 0)
+	if !l.expiry.IsZero() {
+		row.RemainingTermYears = math.Max(valuation.YearFrac(end, l.expiry), 0)
 	}
 	var fv float64
 	for i, t := range l.tr {
@@ -553,6 +554,6 @@ func warrantRow(l *awardLedger, end time.Time, price float64) (WarrantRow, bool)
 		return row, false
 	}
 	row.FairValue = fv / float64(row.Shares)
-	row.IntrinsicValue = float64(row.Shares) * math.Max(price-g.Strike, 0)
+	row.IntrinsicValue = float64(row.Shares) * math.Max(price-row.Strike, 0)
 	return row, true
 }

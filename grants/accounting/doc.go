@@ -154,6 +154,49 @@
 // + issued + change in fair value − reclassified on exercise = closing,
 // the exercised warrants leaving at the exercise day's fair value.
 //
+// # Modifications
+//
+// A change of an award's terms (a row of the Modifications sheet) or the
+// cancellation of its shares with a concurrent replacement award (a
+// cancelled event with a replacement_grant_id) is a modification (ASC
+// 718-20-35-3 and 35-8; IFRS 2.26-28 and B42-B44). Award.Modified carries
+// the award's parts (grants.Split: a tranche, or the shares of one that
+// vest together once a change of vesting cut it) and each change with the
+// fair value per share of every part on its date, just before and just
+// after it (pricing measures both with that date's share price, curve and
+// volatility). Each part's cost is then a stack of layers, each earned over
+// its own service and reversed by a forfeiture before its vest day:
+//
+//   - the grant-date cost, never reduced by a change: a change that brings
+//     a vest date forward earns what is left of it from the change to the
+//     new date; one that puts it back is not taken into account (IFRS 2
+//     B44(c)), so the grant-date cost is earned over the original service
+//     and kept once that service is given (ASC 718-20-55-116, Type II);
+//   - the incremental fair value (after less before, per part; a decrease
+//     adds nothing), at once for a part vested on the date and otherwise
+//     over the service from the date to its vest date (B43(a)-(b));
+//   - for shares that vest only because of the change while their holder
+//     leaves that day (a forfeited event on the date), under ASC 718 an
+//     improbable-to-probable change (Type III): the grant-date cost earned
+//     on them ends and their whole fair value on the date is recognised
+//     instead; IFRS 2 has no such category and treats them as above.
+//     Shares the holder forfeits that day all the same (improbable to
+//     improbable, Type IV) add nothing. For the leaver's vested options,
+//     pricing values the terms before as the lattice's exit does: exercise
+//     at once if in the money, else nothing (their intrinsic value);
+//   - for a replacement award, the cancelled shares' grant-date cost not
+//     yet vested, carried over and earned over the replacement's service
+//     (not recognised at once as for a cancellation, ASC 718-20-35-9), and
+//     the replacement's value on the date less the cancelled shares' value
+//     then, if more (ASC 718-20-35-8; IFRS 2.28(c)).
+//
+// ModificationExpense reports each change's effect on the cost (the cost
+// with the change less the cost without it), the walk from the prior close
+// gives it a line of its own, and the journal an entry per change naming
+// its grant. A prior close's values of a change are kept like grant-date
+// values (Locks); a change first recorded after the quarter it is dated in
+// was closed is a catch-up of the open quarter (late_modification).
+//
 // # Vesting conditions beyond service
 //
 // An award may vest on a condition besides service (Award.Condition, made
@@ -395,8 +438,8 @@
 // financing warrants recognised as liabilities at issue; the change in
 // fair value of that liability; the financing warrants exercised,
 // reclassified to equity; one entry per catch-up naming its grant and
-// cause (the summary lines leave the catch-ups out); and the deferred
-// tax. Amounts are whole minor units of the currency (grants.MinorUnits:
+// cause, and one per modification of the period naming its grant (the
+// summary lines leave both out); and the deferred tax. Amounts are whole minor units of the currency (grants.MinorUnits:
 // cents, or none for the yen). The compensation lines are rounded
 // together by the largest remainder method (apportion, common practice),
 // so that they add up to the period's expense rounded; every other entry

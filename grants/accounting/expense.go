@@ -47,6 +47,11 @@ type Award struct {
 	Transfers      []grants.Transfer // this grant's cost centre history, in any order
 	Remeasurements []Remeasurement
 	Measured       *MeasuredAssumptions // optional; used by Disclose
+	// Modified are the changes of its terms dated by the period end, with
+	// their values, and Replaces, for a replacement award, the
+	// cancellation it replaces (modify.go).
+	Modified *Modified
+	Replaces *Replaces
 	// Condition is how a vesting condition beyond service changes the
 	// attribution (ConditionOf); nil for service only.
 	Condition *Conditioned
@@ -258,6 +263,10 @@ type ExpenseReport struct {
 	// PolicyNotes say where the chosen policy differs between ASC 718 and
 	// IFRS 2, and what attribution does not model.
 	PolicyNotes []string
+	// Modifications are the changes of awards' terms dated by the period
+	// end, and the cancellations with a replacement, with what each did to
+	// the cost (modify.go).
+	Modifications []ModificationExpense
 }
 
 // ForecastQuarters is how many fiscal quarters the forecast covers.
@@ -339,6 +348,7 @@ func openPeriod(awards []Award, policy Policy, periodStart, periodEnd time.Time)
 	if len(errs) > 0 {
 		return nil, errors.Join(errs...)
 	}
+	p.linkReplacements()
 	return p, nil
 }
 
@@ -441,9 +451,9 @@ func (p *period) expense() *ExpenseReport {
 		bookedTranche := func(i int) float64 { return s0.comp[i] }
 		if p.prior != nil {
 			bookedTranche = func(i int) float64 {
-				if pg != nil {
+				if pg != nil && (i == 0 || l.tr[i-1].of != l.tr[i].of) { // a tranche's first part carries it
 					for _, t := range pg.Tranches {
-						if dayNum(t.VestDate) == l.tr[i].vestN {
+						if dayNum(t.VestDate) == l.tr[i].origN {
 							return t.Cumulative
 						}
 					}
@@ -493,6 +503,7 @@ func (p *period) expense() *ExpenseReport {
 				wYears += te.Unrecognized * te.RemainingYears
 			}
 		}
+		ge.Tranches = l.byTranche(ge.Tranches)
 		if !lastLive.IsZero() {
 			ge.ServiceEnd = lastLive
 		}
@@ -585,6 +596,7 @@ func (p *period) expense() *ExpenseReport {
 		rep.Warnings = append(rep.Warnings, w)
 	}
 	rep.PolicyNotes = policyNotes(pol, ledgers)
+	rep.Modifications = p.modificationExpense()
 	return rep
 }
 
@@ -603,8 +615,7 @@ func policyNotes(pol Policy, ledgers []*awardLedger) []string {
 	if pol.Forfeitures == grants.AsOccur {
 		notes = append(notes, "Accounting for forfeitures as they occur is an election under ASC 718 (718-10-35-3); IFRS 2 requires an estimate of the awards expected to vest.")
 	}
-	notes = append(notes, "A cancellation is treated as without a replacement award; modifications and replacement awards are not modelled.")
-	return notes
+	return append(notes, modificationNotes(pol.Framework, ledgers)...)
 }
 
 // String is a one-line summary, for logs and test failures.

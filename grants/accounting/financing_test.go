@@ -212,11 +212,12 @@ func TestMeasuredRateAtExpectedTerm(t *testing.T) {
 
 // The audit case of issue 10, end to end through pricing: the sample's
 // investor warrant TW-039 (liability-classified, issued in a financing),
-// 50,000 of its 400,000 exercised on 2026-08-14 after the share's fair
-// value rose to 3.90 on 2026-08-01 (an invented Share Prices row). Pricing
+// 50,000 of its 400,000 exercised on 2026-08-10 after the share's fair
+// value rose to 3.90 on 2026-08-01 (an invented Share Prices row, before
+// the sample's down round of 2026-08-14). Pricing
 // revalues it on the exercise day; the books reclassify the exercised
-// warrants at that day's fair value v(08-14), not at the 2026-06-30 value,
-// so the period's change in fair value is larger by 50,000 × (v(08-14) −
+// warrants at that day's fair value v(08-10), not at the 2026-06-30 value,
+// so the period's change in fair value is larger by 50,000 × (v(08-10) −
 // v(06-30)) than a reclassification at the last period end would give
 // (IFRS 2.30 and ASC 815-40-35: remeasure on settlement, then reclassify).
 func TestAuditCaseExerciseMidQuarter(t *testing.T) {
@@ -225,7 +226,7 @@ func TestAuditCaseExerciseMidQuarter(t *testing.T) {
 		t.Fatalf("sample: %v %v", err, rep.Err())
 	}
 	s.SharePrices = append(s.SharePrices, grants.PricePoint{Date: ymd("2026-08-01"), Price: 3.90, Row: 99})
-	s.Events = append(s.Events, grants.Event{GrantID: "TW-039", Date: ymd("2026-08-14"), Kind: grants.Exercised, Shares: 50_000, Row: 99})
+	s.Events = append(s.Events, grants.Event{GrantID: "TW-039", Date: ymd("2026-08-10"), Kind: grants.Exercised, Shares: 50_000, Row: 99})
 	g, _ := s.Grant("TW-039")
 	in, err := s.Inputs(g)
 	if err != nil {
@@ -243,10 +244,10 @@ func TestAuditCaseExerciseMidQuarter(t *testing.T) {
 		at[r.Date.Format(time.DateOnly)] = r.Values[0]
 	}
 	v0630 := at["2026-06-30"]
-	if v0814, ok := at["2026-08-14"]; !ok || !(v0814 > v0630) {
+	if v0810, ok := at["2026-08-10"]; !ok || !(v0810 > v0630) {
 		t.Fatalf("revaluations %v: want the exercise day, above the 2026-06-30 value after the price rose", at)
 	}
-	v0814 := at["2026-08-14"]
+	v0810 := at["2026-08-10"]
 	awards, warns, err := AwardsOf(s, v)
 	if err != nil || len(warns) > 0 {
 		t.Fatalf("awards: %v %v", err, warns)
@@ -259,10 +260,10 @@ func TestAuditCaseExerciseMidQuarter(t *testing.T) {
 	w := r.Financing[0]
 	vEnd := v.Grants[0].Results[0].Value
 	nearly(t, "opening liability", w.LiabilityOpen, 400_000*v0630, tolMoney)
-	nearly(t, "reclassified at the exercise day's value", w.Reclassified, 50_000*v0814, tolMoney)
+	nearly(t, "reclassified at the exercise day's value", w.Reclassified, 50_000*v0810, tolMoney)
 	nearly(t, "closing liability", w.LiabilityEnd, 350_000*vEnd, tolMoney)
-	nearly(t, "change in fair value", w.FairValueChange, 350_000*vEnd+50_000*v0814-400_000*v0630, tolMoney)
-	t.Logf("v(06-30) %.4f, v(08-14) %.4f, v(09-30) %.4f: the remeasurement on the exercise day adds %.2f to the change", v0630, v0814, vEnd, 50_000*(v0814-v0630))
+	nearly(t, "change in fair value", w.FairValueChange, 350_000*vEnd+50_000*v0810-400_000*v0630, tolMoney)
+	t.Logf("v(06-30) %.4f, v(08-10) %.4f, v(09-30) %.4f: the remeasurement on the exercise day adds %.2f to the change", v0630, v0810, vEnd, 50_000*(v0810-v0630))
 	if r.Period != 0 || len(r.Grants) != 0 {
 		t.Errorf("the financing warrant booked compensation: %v", r)
 	}

@@ -211,32 +211,35 @@ func abs64(x int64) int64 {
 // default names of r's framework:
 //
 //  1. compensation of equity-classified awards against equity, without
-//     their catch-ups;
+//     their catch-ups and the modifications' cost;
 //  2. compensation of liability-classified awards (every change in their
 //     fair value included) against the award liability, without their
 //     catch-ups;
 //  3. one entry per catch-up, naming its grant and cause, against equity,
 //     the award liability, or for compensation reversed on a warrant now
 //     known to be issued in a financing, the financing's proceeds;
-//  4. exercised liability-classified awards, the liability at the
+//  4. one entry per modification of an award's terms or cancellation with
+//     a replacement award, naming its grant, for what it added to the
+//     period's expense (r.Modifications; modify.go), against equity;
+//  5. exercised liability-classified awards, the liability at the
 //     exercise day's fair value reclassified to equity;
-//  5. financing warrants classified as liabilities issued in the period,
+//  6. financing warrants classified as liabilities issued in the period,
 //     at fair value, against the financing's proceeds;
-//  6. the change in fair value of the financing warrants' liability,
+//  7. the change in fair value of the financing warrants' liability,
 //     outside operating expense;
-//  7. exercised financing warrants, the liability at the exercise day's
+//  8. exercised financing warrants, the liability at the exercise day's
 //     fair value reclassified to equity;
-//  8. with tax, the change in the deferred tax asset against the deferred
+//  9. with tax, the change in the deferred tax asset against the deferred
 //     tax benefit (and, under IFRS 2, equity for the part beyond the
 //     cumulative expense).
 //
 // Every compensation expense line is for one cost centre: the summary
 // entries have a line per centre from the grants' parts
-// (GrantExpense.ByCostCenter), and a catch-up is booked in its grant's
-// cost centre at the period end, which holds the difference between the
-// opening balance the prior close booked and the one restated now (see
-// the package notes on cost centres). Amounts are rounded to the
-// currency's minor unit; the compensation lines (entries 1 to 3) are
+// (GrantExpense.ByCostCenter), and a catch-up or a modification is booked
+// in its grant's cost centre at the period end (for a catch-up, the centre
+// that holds the difference between the opening balance the prior close
+// booked and the one restated now; see the package notes on cost centres). Amounts are rounded to the
+// currency's minor unit; the compensation lines (entries 1 to 4) are
 // rounded together (largest remainder, apportion) so that they add up to
 // the period's expense rounded, and every entry balances in minor units.
 // Entries that round to nothing are left out. Equity-classified financing
@@ -244,7 +247,8 @@ func abs64(x int64) int64 {
 // them, and have no entry here.
 func Journal(r *ExpenseReport, catchUps []CatchUp, tax *TaxReport, chart Chart) []Entry {
 	j := &journal{chart: chart, fw: r.Policy.Framework, date: r.PeriodEnd}
-	// The compensation entries: the two summaries, then one per catch-up;
+	// The compensation entries: the two summaries, then one per catch-up
+	// and one per modification;
 	// and their expense amounts by cost centre.
 	type compEntry struct {
 		desc    string
@@ -297,6 +301,15 @@ func Journal(r *ExpenseReport, catchUps []CatchUp, tax *TaxReport, chart Chart) 
 		if summary >= 0 {
 			amounts[cell{summary, centre}] -= c.Amount
 		}
+	}
+	for _, m := range r.Modifications {
+		entries = append(entries, compEntry{m.JournalText(), RoleEquity, m.GrantID})
+		centre := centreOf[m.GrantID]
+		if centre == "" {
+			centre = grants.Unassigned
+		}
+		amounts[cell{len(entries) - 1, centre}] += m.Period
+		amounts[cell{0, centre}] -= m.Period
 	}
 	cells := make([]cell, 0, len(amounts))
 	for c := range amounts {

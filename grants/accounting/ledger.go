@@ -43,6 +43,10 @@ type move struct {
 	price  float64 // share price on the day of the move: its Events row's, else Share Prices'; 0 if unknown
 	// rowPrice is whether the price is the Events row's own share_price.
 	rowPrice bool
+	// replaced marks a cancellation with a replacement award, the change
+	// by (modify.go).
+	replaced bool
+	by       changeKey
 }
 
 type trancheLedger struct {
@@ -56,6 +60,14 @@ type trancheLedger struct {
 	// met; MaxInt until then) it is metEndN (conditions.go).
 	endN, metN, metEndN int
 	moves               []move
+	// A ledger of an award that a change touched has one entry per part
+	// of a tranche (modify.go): of is the index of its tranche in
+	// Award.Tranches, origN the day number of that tranche's vest date as
+	// granted (its key in a prior close), and layers its costs. For any
+	// other award of is the entry's own index and origN its vestN.
+	of     int
+	origN  int
+	layers []layer
 }
 
 type awardLedger struct {
@@ -71,6 +83,15 @@ type awardLedger struct {
 	remeasN              []int           // their day numbers
 	// day numbers of the grant date and the service start
 	grantN, startN int
+	// expiry is the award's expiry after the changes dated by the ledger's
+	// date; layered is set when a change touched it, and replaced for a
+	// replacement award (modify.go).
+	// typeIII is set under ASC 718, which books an improbable-to-probable
+	// change at its date's fair value.
+	expiry   time.Time
+	layered  bool
+	typeIII  bool
+	replaced *replacedBy
 	// asOfN is the last day whose events (and a condition's assessments)
 	// are known.
 	asOfN int
@@ -151,13 +172,22 @@ func newAwardLedger(a *Award, pol Policy, asOf time.Time) (*awardLedger, error) 
 		if !g.ExpiryDate.IsZero() && tc.Tranche.VestDate.After(g.ExpiryDate) {
 			return nil, fmt.Errorf("grant %s tranche %d: vests %s, after expiry %s", g.ID, tc.Tranche.Index, tc.Tranche.VestDate.Format(time.DateOnly), g.ExpiryDate.Format(time.DateOnly))
 		}
-		t := trancheLedger{TrancheCost: tc, start: l.start, startN: dayNum(l.start), vestN: dayNum(tc.Tranche.VestDate), metN: math.MaxInt}
+		t := trancheLedger{TrancheCost: tc, start: l.start, startN: dayNum(l.start), vestN: dayNum(tc.Tranche.VestDate), metN: math.MaxInt, of: i}
 		t.days = t.vestN - t.startN
-		t.endN = t.vestN
+		t.endN, t.origN = t.vestN, t.vestN
 		l.tr = append(l.tr, t)
 	}
 	l.last = a.Tranches[len(a.Tranches)-1].Tranche.VestDate
 	l.grantN, l.startN = dayNum(g.GrantDate), dayNum(l.start)
+	l.expiry, l.typeIII = g.ExpiryDate, pol.Framework != grants.IFRS2
+	if a.Modified != nil {
+		for _, ch := range a.Modified.Changes {
+			if dayOnOrBefore(ch.Date, asOf) && !ch.After.ExpiryDate.IsZero() {
+				l.expiry = ch.After.ExpiryDate
+			}
+		}
+		l.cut(asOf)
+	}
 	l.applyCondition()
 	if len(a.Remeasurements) > 0 && !l.liability {
 		return nil, fmt.Errorf("grant %s: remeasurements given but it is not a liability-classified warrant", g.ID)
@@ -199,12 +229,15 @@ func newAwardLedger(a *Award, pol Policy, asOf time.Time) (*awardLedger, error) 
 	if err := l.apply(evs); err != nil {
 		return nil, err
 	}
-	if !g.ExpiryDate.IsZero() && dayOnOrBefore(g.ExpiryDate, asOf) && g.Instrument != grants.RSU {
+	if exp := l.expiry; !exp.IsZero() && dayOnOrBefore(exp, asOf) && g.Instrument != grants.RSU {
 		for i := range l.tr {
 			if n := l.tr[i].open(); n > 0 {
-				l.tr[i].moves = append(l.tr[i].moves, move{date: g.ExpiryDate, dayN: dayNum(g.ExpiryDate), kind: grants.Expired, shares: n, vested: true})
+				l.tr[i].moves = append(l.tr[i].moves, move{date: exp, dayN: dayNum(exp), kind: grants.Expired, shares: n, vested: true})
 			}
 		}
+	}
+	if l.layered {
+		l.layer(asOf)
 	}
 	return l, nil
 }
@@ -257,8 +290,8 @@ func (l *awardLedger) apply(pevs []pricedEvent) error {
 			return fail(e, "%s %d shares: want a positive number", e.Kind, e.Shares)
 		case valuation.Days(g.GrantDate, e.Date) < 0:
 			return fail(e, "%s before the grant date %s", e.Kind, g.GrantDate.Format(time.DateOnly))
-		case !g.ExpiryDate.IsZero() && valuation.Days(g.ExpiryDate, e.Date) > 0:
-			return fail(e, "%s after the expiry date %s", e.Kind, g.ExpiryDate.Format(time.DateOnly))
+		case !l.expiry.IsZero() && valuation.Days(l.expiry, e.Date) > 0:
+			return fail(e, "%s after the expiry date %s", e.Kind, l.expiry.Format(time.DateOnly))
 		}
 		switch e.Kind {
 		case grants.Forfeited, grants.Cancelled, grants.Exercised, grants.Expired:
@@ -283,7 +316,11 @@ func (l *awardLedger) apply(pevs []pricedEvent) error {
 	}
 	for _, m := range al.Moves {
 		t := &l.tr[m.Tranche]
-		t.moves = append(t.moves, move{date: m.Date, dayN: dayNum(m.Date), kind: m.Kind, shares: m.Shares, vested: m.Vested, price: pevs[m.Event].price, rowPrice: pevs[m.Event].SharePrice != nil})
+		mv := move{date: m.Date, dayN: dayNum(m.Date), kind: m.Kind, shares: m.Shares, vested: m.Vested, price: pevs[m.Event].price, rowPrice: pevs[m.Event].SharePrice != nil}
+		if e := pevs[m.Event].Event; e.Kind == grants.Cancelled && e.ReplacementGrantID != "" {
+			mv.replaced, mv.by = true, changeKey{grant: g.ID, day: mv.dayN, replaced: true}
+		}
+		t.moves = append(t.moves, mv)
 	}
 	return nil
 }
@@ -435,6 +472,10 @@ type view struct {
 	d, known int
 	rate     float64
 	keep     func(move) bool
+	// Changes of the award's terms (modify.go) dated on or after from are
+	// left out (0: none), and so is the change skip.
+	from int
+	skip changeKey
 }
 
 // atView is the award's position in view v, the cumulative cost by
@@ -448,6 +489,9 @@ type view struct {
 // has no cost: its liability, if it is one, is the latest fair value times
 // the outstanding warrants, in full from the issue date.
 func (l *awardLedger) atView(pol Policy, v view, comp []float64) snapshot {
+	if l.layered {
+		return l.atLayered(pol, v, comp)
+	}
 	d, known := v.d, v.known
 	n := len(l.tr)
 	s := snapshot{comp: comp}

@@ -84,6 +84,9 @@ type PriorGrant struct {
 	// its grant date (first, when it could be valued then), at the past
 	// quarter ends and at the close's valuation date.
 	Remeasurements []Remeasurement
+	// Modifications are the changes of its terms the close measured, with
+	// their values per part (modify.go).
+	Modifications []pricing.LockedModification
 }
 
 // PriorTranche is one tranche as a prior close filed it.
@@ -220,7 +223,8 @@ func (p *Prior) Locks() map[string]pricing.Lock {
 	}
 	out := make(map[string]pricing.Lock, len(p.Grants))
 	for _, pg := range p.Grants {
-		lk := pricing.Lock{Close: p.ValuationDate, Liability: pg.Liability, MeasurementDate: pg.MeasurementDate, ExpiryDate: pg.ExpiryDate, Inputs: pg.Inputs, Key: pg.ValuationKey}
+		lk := pricing.Lock{Close: p.ValuationDate, Liability: pg.Liability, MeasurementDate: pg.MeasurementDate, ExpiryDate: pg.ExpiryDate, Inputs: pg.Inputs, Key: pg.ValuationKey,
+			Modifications: pg.Modifications}
 		if pg.Liability {
 			for _, r := range pg.Remeasurements {
 				lk.Revaluations = append(lk.Revaluations, pricing.Revaluation{Date: r.Date, Values: r.FairValue})
@@ -281,6 +285,7 @@ func Filed(s *grants.Schedule, v *pricing.Valuation, b *Books) *Prior {
 			}
 			pg.Remeasurements = append([]Remeasurement{{Date: g.GrantDate, FairValue: at0}}, ge.Remeasurements...)
 		}
+		pg.Modifications = filedModifications(v, g.ID)
 		p.Grants = append(p.Grants, pg)
 	}
 	return p

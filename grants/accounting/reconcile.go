@@ -85,19 +85,21 @@ func (r *Reconciliation) Check() error {
 // grantStates are one award's cost and cumulative cost in the views the
 // reconciliation walks through (see the package notes).
 type grantStates struct {
-	old                                  bool // granted on or before the prior close
-	costA0, costA, costB1, costB2, costC float64
-	cumA0, cumA, cumB1, cumB2            float64
-	bookedCost, bookedCum                float64
-	liabilityOpen, settledOpen, fvOpen   float64
-	prior                                *PriorGrant
-	ledger                               *awardLedger
+	old                                         bool // granted on or before the prior close
+	costA0, costA, costB1, costB2, costM, costC float64
+	cumA0, cumA, cumB1, cumB2, cumD0            float64
+	bookedCost, bookedCum                       float64
+	liabilityOpen, settledOpen, fvOpen          float64
+	prior                                       *PriorGrant
+	ledger                                      *awardLedger
 }
 
 // states looks at ledger l in the views of the reconciliation to the
 // prior close pr: A′ restated at the prior close at its forfeiture rate,
 // A at today's, B1 with the period's forfeitures, B2 with all the period's
-// events, C knowing the leavers through the period end.
+// events, M with the period's changes of terms too (modify.go), C knowing
+// the leavers through the period end; and D0, this close without the
+// period's changes of terms.
 func (p *period) states(l *awardLedger, pr *Prior) grantStates {
 	P, N := dayNum(pr.ValuationDate), dayNum(p.end)
 	st := grantStates{ledger: l, old: l.grantN <= P}
@@ -111,15 +113,18 @@ func (p *period) states(l *awardLedger, pr *Prior) grantStates {
 	if p.pol.Forfeitures == grants.Estimate {
 		ratePrior = prev.PreVestingForfeitureRate
 	}
-	st.costA, st.cumA = l.costs(p.pol, view{d: b, known: b, rate: l.rate, keep: upTo(b)})
+	cut := P + 1 // the period's changes of terms are left out until view M
+	st.costA, st.cumA = l.costs(p.pol, view{d: b, known: b, rate: l.rate, keep: upTo(b), from: cut})
 	st.costA0, st.cumA0 = st.costA, st.cumA
 	if st.old {
-		st.costA0, st.cumA0 = l.costs(p.pol, view{d: b, known: b, rate: ratePrior, keep: upTo(b)})
+		st.costA0, st.cumA0 = l.costs(p.pol, view{d: b, known: b, rate: ratePrior, keep: upTo(b), from: cut})
 	}
 	forfeits := func(m move) bool { return m.dayN <= b || m.dayN <= N && m.kind == grants.Forfeited }
-	st.costB1, st.cumB1 = l.costs(p.pol, view{d: b, known: b, rate: l.rate, keep: forfeits})
-	st.costB2, st.cumB2 = l.costs(p.pol, view{d: b, known: b, rate: l.rate, keep: upTo(N)})
+	st.costB1, st.cumB1 = l.costs(p.pol, view{d: b, known: b, rate: l.rate, keep: forfeits, from: cut})
+	st.costB2, st.cumB2 = l.costs(p.pol, view{d: b, known: b, rate: l.rate, keep: upTo(N), from: cut})
+	st.costM, _ = l.costs(p.pol, view{d: b, known: b, rate: l.rate, keep: upTo(N)})
 	st.costC, _ = l.costs(p.pol, view{d: b, known: N, rate: l.rate, keep: upTo(N)})
+	st.cumD0 = l.atView(p.pol, view{d: N, known: N, rate: l.rate, from: cut}, make([]float64, len(l.tr))).compTotal()
 	if pg, ok := pr.grant(l.in.Grant.ID); ok {
 		st.prior = pg
 		st.bookedCost, st.bookedCum = pg.Cost, pg.Cumulative
@@ -136,8 +141,8 @@ func (p *period) states(l *awardLedger, pr *Prior) grantStates {
 // booked as compensation has that compensation reversed, a catch-up.
 func (p *period) reconcile(pr *Prior, sts []grantStates, rep *ExpenseReport, d *Disclosure, s *grants.Schedule, v *pricing.Valuation) (*Reconciliation, error) {
 	r := &Reconciliation{Prior: pr}
-	var K, Q, Nw, F, R float64    // cost moves
-	var Kc, Qc, S, Fc, Cc float64 // cumulative moves
+	var K, Q, Nw, F, R, Mod float64     // cost moves
+	var Kc, Qc, S, Fc, Cc, Smod float64 // cumulative moves
 	var hasLiability bool
 	var lOpen, lComp, lReclass, lEnd float64
 	// The grants measured again as corrections, found once (a look-up per
@@ -160,11 +165,13 @@ func (p *period) reconcile(pr *Prior, sts []grantStates, rep *ExpenseReport, d *
 			Nw += st.costA
 		}
 		F += st.costB2 - st.costA
-		Q += st.costC - st.costB2
+		Mod += st.costM - st.costB2
+		Q += st.costC - st.costM
 		R += ge.Cost - st.costC // a liability-classified award remeasured in the period
 		Fc += st.cumB1 - st.cumA
 		Cc += st.cumB2 - st.cumB1
-		S += ge.Cumulative - st.cumB2
+		S += st.cumD0 - st.cumB2
+		Smod += ge.Cumulative - st.cumD0
 		if l.liability || st.prior != nil && st.prior.Liability {
 			hasLiability = true
 			lOpen += st.liabilityOpen
@@ -194,6 +201,7 @@ func (p *period) reconcile(pr *Prior, sts []grantStates, rep *ExpenseReport, d *
 			{Key: "new_grants", Label: "Grants of the period, expected cost at grant", Exact: Nw},
 			{Key: "expense", Label: "Compensation expense of the period", Exact: -rep.Period},
 			{Key: "forfeitures_and_cancellations", Label: "Forfeitures (expected cost released) and cancellations (estimate settled in full)", Exact: F},
+			{Key: "modifications", Label: "Modifications of the period (incremental fair value, and Type III and replacement effects)", Exact: Mod},
 			{Key: "forfeiture_estimate", Label: "Changes in the forfeiture estimate", Exact: Q},
 			{Key: "catch_ups", Label: "Catch-ups for closed periods (cost)", Exact: K},
 			{Key: "remeasurement", Label: "Remeasurement of liability-classified awards to fair value", Exact: R},
@@ -207,6 +215,7 @@ func (p *period) reconcile(pr *Prior, sts []grantStates, rep *ExpenseReport, d *
 			{Key: "service", Label: "Service rendered in the period (with the remeasurement of liability-classified awards)", Exact: S},
 			{Key: "forfeitures", Label: "Forfeitures in the period (cost reversed)", Exact: Fc},
 			{Key: "cancellations", Label: "Cancellations in the period (unrecognized cost recognized at once)", Exact: Cc},
+			{Key: "modifications", Label: "Modifications of the period (cost recognized because of them)", Exact: Smod},
 			{Key: "forfeiture_estimate", Label: "Change in the forfeiture rate, on cost recognized before the period", Exact: Qc},
 			{Key: "catch_ups", Label: "Catch-ups for closed periods", Exact: Kc},
 		}, nil,
@@ -347,8 +356,9 @@ func diagnose(st grantStates, l *awardLedger, pr *Prior, s *grants.Schedule, cor
 				add(CauseEventRemoved, "%s %s shares on %s, applied by the prior close, is no longer recorded", e.Kind, groupInt(e.Shares), e.Date.Format(time.DateOnly))
 			}
 		}
-		if !sameTranches(pg.Tranches, l.tr) {
-			add(CauseVesting, "the vesting changed: %d tranches of %s shares then, %d of %s now", len(pg.Tranches), groupInt(trancheShares(pg.Tranches)), len(l.tr), groupInt(g.Shares))
+		diagnoseModifications(pg, l, P, s, add)
+		if !sameTranches(pg.Tranches, l.in.Tranches) {
+			add(CauseVesting, "the vesting changed: %d tranches of %s shares then, %d of %s now", len(pg.Tranches), groupInt(trancheShares(pg.Tranches)), len(l.in.Tranches), groupInt(g.Shares))
 		}
 		if !pg.ServiceStart.IsZero() && dayNum(pg.ServiceStart) != l.startN {
 			add(CauseTerms, "the service period starts on %s now, %s then", l.start.Format(time.DateOnly), pg.ServiceStart.Format(time.DateOnly))
@@ -356,7 +366,7 @@ func diagnose(st grantStates, l *awardLedger, pr *Prior, s *grants.Schedule, cor
 	}
 	var causes []Cause
 	var details []string
-	for _, c := range []Cause{CauseCorrection, CausePurpose, CauseLateGrant, CauseLateEvent, CauseEventRemoved, CauseVesting, CauseTerms} {
+	for _, c := range []Cause{CauseCorrection, CausePurpose, CauseLateGrant, CauseLateEvent, CauseEventRemoved, CauseLateModification, CauseModificationRemoved, CauseVesting, CauseTerms} {
 		if ds, ok := found[c]; ok {
 			causes = append(causes, c)
 			details = append(details, ds...)
@@ -365,12 +375,12 @@ func diagnose(st grantStates, l *awardLedger, pr *Prior, s *grants.Schedule, cor
 	return causes, details
 }
 
-func sameTranches(filed []PriorTranche, now []trancheLedger) bool {
+func sameTranches(filed []PriorTranche, now []TrancheCost) bool {
 	if len(filed) != len(now) {
 		return false
 	}
 	for i, t := range filed {
-		if dayNum(t.VestDate) != now[i].vestN || t.Shares != now[i].Tranche.Shares {
+		if dayNum(t.VestDate) != dayNum(now[i].Tranche.VestDate) || t.Shares != now[i].Tranche.Shares {
 			return false
 		}
 	}
@@ -395,7 +405,7 @@ func lockedAverage(gv *pricing.GrantValue, l *awardLedger) float64 {
 	var n, x float64
 	for _, t := range l.tr {
 		for _, lt := range gv.Lock.Tranches {
-			if dayNum(lt.VestDate) == t.vestN {
+			if dayNum(lt.VestDate) == t.origN {
 				n += float64(t.Tranche.Shares)
 				x += float64(t.Tranche.Shares) * lt.Result.Value
 			}

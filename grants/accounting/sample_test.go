@@ -29,6 +29,23 @@ func sampleAwards(t *testing.T) (*grants.Schedule, []Award) {
 		if err != nil {
 			t.Fatal(err)
 		}
+		// The sample's modifications, each part valued at its tranche's
+		// value before and after, so that they add nothing and the
+		// identities below hold as without them.
+		sp, err := s.SplitOf(g)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if sp != nil {
+			a.Modified = &Modified{Parts: sp.Parts}
+			for _, ch := range sp.Changes {
+				vals := make([]float64, len(sp.Parts))
+				for j, p := range sp.Parts {
+					vals[j] = fv[p.Tranche]
+				}
+				a.Modified.Changes = append(a.Modified.Changes, ChangeValue{Change: ch, ValuesBefore: vals, ValuesAfter: vals})
+			}
+		}
 		awards = append(awards, a)
 	}
 	return s, awards

@@ -39,6 +39,9 @@ type Lock struct {
 	// grant date, the past quarter ends and the prior close's valuation
 	// date.
 	Revaluations []Revaluation
+	// Modifications are the values of the grant's changes the prior
+	// close measured (modify.go).
+	Modifications []LockedModification
 	// Key is the valuation key (GrantValue.Key) of the values filed; ""
 	// from a close that filed none.
 	Key string

@@ -219,7 +219,11 @@ type Valuation struct {
 	// values at the grant date and then at RemeasurementDates, up to the
 	// first that failed.
 	Revaluations map[string][]Revaluation
-	Warnings     []string
+	// Modifications are the changes of the grants' terms dated by the
+	// valuation date, each measured on its date (modify.go), in ledger
+	// order and, within a grant, date order.
+	Modifications []ModificationValue
+	Warnings      []string
 }
 
 // RemeasurementDates are the days before end on which a
@@ -311,6 +315,9 @@ func Value(s *grants.Schedule, ins []grants.Inputs, opts Options) (*Valuation, e
 		return nil, err
 	}
 	v.Warnings = append(v.Warnings, warns...)
+	if err := p.modifications(v, opts); err != nil {
+		return nil, err
+	}
 	for i := range v.Grants {
 		v.FairValueTotal += v.Grants[i].FairValueTotal()
 	}

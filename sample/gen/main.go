@@ -27,7 +27,14 @@
 //     cost centre;
 //   - a 25% tax rate under ASC 718, with a quarter of the options
 //     incentive stock options that give no deduction;
-//   - six valuations of the common stock on Share Prices;
+//   - seven valuations of the common stock on Share Prices, the last two
+//     after a down round in August 2026;
+//   - on the Modifications sheet, the board's response to the down round
+//     (2026-08-20): two underwater options repriced to the new valuation,
+//     one partly vested (TW-022) and one not yet (TW-033); and a good
+//     leaver (TW-028, holder E026, leaving on 2026-09-10 before the cliff)
+//     whose cliff is waived and exercise window extended to a year, the
+//     rest of the grant forfeited that day (improbable to probable);
 //   - a rate curve at every quarter end, zero rates until 2026-03-31 and
 //     government par yields (par-semiannual) from 2026-06-30 on;
 //   - one award vesting on each kind of condition beyond service: a
@@ -76,6 +83,8 @@ func day(s string) time.Time {
 
 func f(x float64) *float64 { return &x }
 
+func ip(n int) *int { return &n }
+
 var no = false
 
 // Schedule builds the Tarnwick Labs schedule.
@@ -105,7 +114,8 @@ func Schedule() *grants.Schedule {
 		{Date: day("2024-12-31"), Price: 1.60},
 		{Date: day("2025-06-30"), Price: 2.40},
 		{Date: day("2026-03-31"), Price: 3.05},
-		{Date: day("2026-09-30"), Price: 3.40},
+		{Date: day("2026-08-14"), Price: 2.10}, // after the Series B down round
+		{Date: day("2026-09-30"), Price: 2.25},
 	}
 	priceAt := func(t time.Time) float64 {
 		p := 0.0
@@ -222,6 +232,20 @@ func Schedule() *grants.Schedule {
 			s.Events = append(s.Events, grants.Event{GrantID: g.ID, Date: on.AddDate(0, 0, 90), Kind: grants.Expired, Shares: rest})
 		}
 	}
+	// The down round of August 2026: the board reprices two underwater
+	// options (strikes 2.40 and 3.05) to the new valuation, and lets a
+	// good leaver keep what has accrued before the cliff, with a year to
+	// exercise it.
+	reprice := 2.10
+	note := "board resolution of 2026-08-18: options of continuing staff struck above the August valuation repriced to it"
+	s.Modifications = []grants.Modification{
+		{GrantID: opts[21].ID, Date: day("2026-08-20"), NewStrike: &reprice, Note: note},
+		{GrantID: opts[32].ID, Date: day("2026-08-20"), NewStrike: &reprice, Note: note},
+		{GrantID: opts[27].ID, Date: day("2026-09-10"), NewCliffMonths: ip(0), NewExpiryDate: day("2027-09-10"), NewExitRate: f(0),
+			Note: "good leaver (board consent of 2026-09-08): cliff waived, a year to exercise"},
+	}
+	s.Events = append(s.Events, grants.Event{GrantID: opts[27].ID, Date: day("2026-09-10"), Kind: grants.Forfeited,
+		Shares: opts[27].Shares - opts[27].Shares*7/48}) // seven months accrued of 48
 	left(opts[2], day("2025-07-18"), 0)
 	left(opts[5], day("2026-02-27"), 1000)
 	s.Events = append(s.Events,
@@ -258,7 +282,7 @@ var QuarterEnds = []string{"2025-12-31", "2026-03-31", "2026-06-30", "2026-09-30
 func AsKnownAt(s *grants.Schedule, d time.Time) *grants.Schedule {
 	q := *s
 	q.Company.ValuationDate, q.Company.PeriodStart = d, s.Company.DefaultPeriodStart(d)
-	q.Grants, q.Vesting, q.Events, q.SharePrices, q.Rates, q.Transfers = nil, nil, nil, nil, nil, nil
+	q.Grants, q.Vesting, q.Events, q.SharePrices, q.Rates, q.Transfers, q.Modifications = nil, nil, nil, nil, nil, nil, nil
 	kept := map[string]bool{}
 	for _, g := range s.Grants {
 		if !g.GrantDate.After(d) {
@@ -279,6 +303,11 @@ func AsKnownAt(s *grants.Schedule, d time.Time) *grants.Schedule {
 	for _, t := range s.Transfers {
 		if kept[t.GrantID] && !t.Date.After(d) {
 			q.Transfers = append(q.Transfers, t)
+		}
+	}
+	for _, m := range s.Modifications {
+		if !m.Date.After(d) {
+			q.Modifications = append(q.Modifications, m)
 		}
 	}
 	for _, p := range s.SharePrices {

@@ -257,7 +257,29 @@ var cases = []corpusCase{
 		want: []string{`Grants!L3 (hire_date): "2035-02-01" is on or after the expiry 2035-01-15 of option PB-2`}},
 	{name: "decimal-comma-price", edits: []edit{{"share_prices.csv", "2025-01-01,2.00", "2025-01-01,\"2,00\""}},
 		want: []string{`Share Prices!B3 (price): "2,00" is not a number`}},
+	// Modifications and replacement awards.
+	{name: "event-modified", edits: []edit{{"events.csv", "forfeited", "modified"}},
+		want: []string{`Events!C2 (event): "modified" is not an event: record a change of terms (a repricing, a new expiry, accelerated vesting) as a row of the Modifications sheet`}},
+	{name: "modification-unknown-grant", edits: []edit{{"modifications.csv", "", modHead + "PB-9,2026-07-15,1.20,,,,,,,\n"}},
+		want: []string{`Modifications!A2 (grant_id): "PB-9" is not a grant_id of the Grants sheet`}},
+	{name: "modification-changes-nothing", edits: []edit{{"modifications.csv", "", modHead + "PB-1,2026-07-15,,,,,,,,board minute 12\n"}},
+		want: []string{`Modifications!C2 (new_strike): the row changes nothing: give at least one of new_strike, new_expiry_date, new_vest_months, new_cliff_months, new_post_vesting_exit_rate, new_exercise_multiple`}},
+	{name: "modification-rsu-strike", edits: []edit{{"modifications.csv", "", modHead + "PB-3,2026-07-15,1.20,,,,,,,\n"}},
+		want: []string{`Modifications!C2 (new_strike): "1.2" grant PB-3 is an RSU, which has no strike`}},
+	{name: "modification-partial-vesting", edits: []edit{{"modifications.csv", "", modHead + "PB-1,2026-07-15,,,36,,,,1000,\n"}},
+		want: []string{`Modifications!I2 (shares): "1000" a change of vesting applies to all 2400 outstanding shares of grant PB-1; leave shares empty, or record the shares whose vesting changes as a grant of their own`}},
+	{name: "modification-after-expiry", edits: []edit{{"modifications.csv", "", modHead + "PB-2,2035-02-01,1.00,,,,,,,\n"}},
+		want: []string{`Modifications!B2 (date): "2035-02-01" is on or after the expiry 2035-01-15 of grant PB-2: nothing is left to change`}},
+	{name: "modification-liability-warrant", edits: []edit{{"modifications.csv", "", modHead + "PB-4,2026-07-15,2.00,,,,,,,\n"}},
+		want: []string{`Modifications!A2 (grant_id): "PB-4" is a liability-classified warrant, remeasured at fair value every period: a change of its terms is not booked as a modification by grantworth; give its new terms to the valuation that remeasures it`}},
+	{name: "replacement-not-concurrent", edits: []edit{{"events.csv", "", "grant_id,date,event,shares,replacement_grant_id\nPB-1,2026-03-15,forfeited,2400,\nPB-2,2026-05-01,cancelled,1200,PB-1\n"}},
+		want: []string{`Events!E3 (replacement_grant_id): "PB-1" is granted on 2024-03-01 (Grants!C2), not on the cancellation date 2026-05-01: a replacement is granted with the cancellation (ASC 718-20-35-8; IFRS 2.28(c)); a later grant is a new award, and the cancellation then recognises the cancelled shares' remaining cost at once`}},
+	{name: "replacement-on-forfeiture", edits: []edit{{"events.csv", "", "grant_id,date,event,shares,replacement_grant_id\nPB-1,2026-03-15,forfeited,2400,PB-2\n"}},
+		want: []string{`Events!E2 (replacement_grant_id): "PB-2" names a replacement award, which only a cancelled event may have (this one is forfeited)`}},
 }
+
+// modHead is the header row of the Modifications sheet's CSV file.
+const modHead = "grant_id,date,new_strike,new_expiry_date,new_vest_months,new_cliff_months,new_post_vesting_exit_rate,new_exercise_multiple,shares,note\n"
 
 func main() {
 	out := filepath.Join("grants", "testdata", "malformed")
