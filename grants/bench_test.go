@@ -77,3 +77,36 @@ func BenchmarkRead10000(b *testing.B) {
 		b.Fatal("nothing read")
 	}
 }
+
+// BenchmarkTransfersOf looks up every grant's Transfers rows in a
+// 10,000-grant ledger with a transfer for one grant in 25 (as bench/ledger
+// writes), through the index and by scanning the sheet for each grant as
+// an unindexed schedule does.
+func BenchmarkTransfersOf(b *testing.B) {
+	s := bigSchedule(10000)
+	for i, g := range s.Grants {
+		if i%25 == 0 {
+			s.Transfers = append(s.Transfers, Transfer{GrantID: g.ID, Date: g.GrantDate.AddDate(0, 6, 0), CostCenter: "S&M"})
+		}
+	}
+	unindexed := *s
+	unindexed.idx = nil
+	s.Reindex()
+	var sink int
+	for _, c := range []struct {
+		name string
+		s    *Schedule
+	}{{"indexed", s}, {"scanned", &unindexed}} {
+		b.Run(c.name, func(b *testing.B) {
+			b.ReportAllocs()
+			for b.Loop() {
+				for _, g := range c.s.Grants {
+					sink += len(c.s.TransfersOf(g.ID))
+				}
+			}
+		})
+	}
+	if sink == 0 {
+		b.Fatal("no transfers found")
+	}
+}

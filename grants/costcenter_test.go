@@ -129,3 +129,38 @@ func TestWrittenAccountsColumnsFit(t *testing.T) {
 		}
 	}
 }
+
+// TransfersOf gives the same rows, in date order, from the index as from a
+// scan of the sheet, and scans again once rows are added after indexing.
+func TestTransfersOfIndexed(t *testing.T) {
+	s := bigSchedule(50)
+	for i, g := range s.Grants {
+		for k := range i % 4 { // none to three transfers, out of date order
+			s.Transfers = append(s.Transfers, Transfer{GrantID: g.ID, Date: g.GrantDate.AddDate(0, 0, 90*(3-k)), CostCenter: "CC" + string(rune('A'+k)), Row: len(s.Transfers) + 2})
+		}
+	}
+	scanned := func(id string) []Transfer {
+		u := *s
+		u.idx = nil
+		return u.TransfersOf(id)
+	}
+	s.Reindex()
+	if s.fresh() == nil {
+		t.Fatal("the index is stale just after Reindex")
+	}
+	for _, g := range s.Grants {
+		got, want := s.TransfersOf(g.ID), scanned(g.ID)
+		if len(got) != len(want) {
+			t.Fatalf("%s: %d transfers from the index, %d scanned", g.ID, len(got), len(want))
+		}
+		for k := range got {
+			if got[k] != want[k] || (k > 0 && got[k].Date.Before(got[k-1].Date)) {
+				t.Errorf("%s: transfer %d is %+v, scanned %+v", g.ID, k, got[k], want[k])
+			}
+		}
+	}
+	s.Transfers = append(s.Transfers, Transfer{GrantID: s.Grants[0].ID, Date: s.Grants[0].GrantDate.AddDate(0, 1, 0), CostCenter: "late", Row: 999})
+	if tr := s.TransfersOf(s.Grants[0].ID); len(tr) != 1 || tr[0].CostCenter != "late" {
+		t.Errorf("a row added after indexing: %+v", tr)
+	}
+}

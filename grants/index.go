@@ -8,24 +8,25 @@ import (
 )
 
 // index holds what a schedule's per-grant look-ups would otherwise find by
-// scanning whole sheets for every grant: the Events and Vesting rows of
-// each grant (their positions in sheet order) and the zero curve of each
+// scanning whole sheets for every grant: the Events, Vesting and Transfers
+// rows of each grant (their positions in sheet order) and the zero curve of each
 // Rates curve date, built once and shared by every grant measured on it
 // (so that caches keyed by the curve, such as the sensitivity runs', hit).
 //
 // The reader indexes the schedule it returns, and ValueInputs a schedule
 // built in code. An index is used only while the sheets it was built from
 // are unchanged in length and place (fresh); a schedule whose Events,
-// Vesting or Rates are appended to or replaced is scanned again until it
+// Vesting, Transfers or Rates are appended to or replaced is scanned again until it
 // is indexed anew. Rows edited in place (a grant_id or a date changed)
 // need Schedule.Reindex.
 type index struct {
-	events, vesting, rates int
-	event0                 *Event
-	vest0                  *VestRow
-	rate0                  *RatePoint
-	eventsOf, vestOf       map[string][]int32 // positions by grant ID
-	curves                 []indexedCurve     // by date
+	events, vesting, transfers, rates int
+	event0                            *Event
+	vest0                             *VestRow
+	transfer0                         *Transfer
+	rate0                             *RatePoint
+	eventsOf, vestOf, transfersOf     map[string][]int32 // positions by grant ID
+	curves                            []indexedCurve     // by date
 }
 
 // indexedCurve is one curve date's rows and its zero curve, or why it
@@ -41,14 +42,17 @@ type indexedCurve struct {
 // reader calls it; call it again after editing rows in place.
 func (s *Schedule) Reindex() {
 	ix := &index{
-		events: len(s.Events), vesting: len(s.Vesting), rates: len(s.Rates),
-		eventsOf: map[string][]int32{}, vestOf: map[string][]int32{},
+		events: len(s.Events), vesting: len(s.Vesting), transfers: len(s.Transfers), rates: len(s.Rates),
+		eventsOf: map[string][]int32{}, vestOf: map[string][]int32{}, transfersOf: map[string][]int32{},
 	}
 	if len(s.Events) > 0 {
 		ix.event0 = &s.Events[0]
 	}
 	if len(s.Vesting) > 0 {
 		ix.vest0 = &s.Vesting[0]
+	}
+	if len(s.Transfers) > 0 {
+		ix.transfer0 = &s.Transfers[0]
 	}
 	if len(s.Rates) > 0 {
 		ix.rate0 = &s.Rates[0]
@@ -58,6 +62,9 @@ func (s *Schedule) Reindex() {
 	}
 	for i, v := range s.Vesting {
 		ix.vestOf[v.GrantID] = append(ix.vestOf[v.GrantID], int32(i))
+	}
+	for i, t := range s.Transfers {
+		ix.transfersOf[t.GrantID] = append(ix.transfersOf[t.GrantID], int32(i))
 	}
 	for _, c := range s.curves() {
 		cv, text, err := c.build()
@@ -69,11 +76,11 @@ func (s *Schedule) Reindex() {
 // fresh is s's index if it still describes s's sheets, else nil.
 func (s *Schedule) fresh() *index {
 	ix := s.idx
-	if ix == nil || len(s.Events) != ix.events || len(s.Vesting) != ix.vesting || len(s.Rates) != ix.rates {
+	if ix == nil || len(s.Events) != ix.events || len(s.Vesting) != ix.vesting || len(s.Transfers) != ix.transfers || len(s.Rates) != ix.rates {
 		return nil
 	}
 	if (len(s.Events) > 0 && &s.Events[0] != ix.event0) || (len(s.Vesting) > 0 && &s.Vesting[0] != ix.vest0) ||
-		(len(s.Rates) > 0 && &s.Rates[0] != ix.rate0) {
+		(len(s.Transfers) > 0 && &s.Transfers[0] != ix.transfer0) || (len(s.Rates) > 0 && &s.Rates[0] != ix.rate0) {
 		return nil
 	}
 	return ix

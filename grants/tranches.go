@@ -142,9 +142,13 @@ func (s *Schedule) EventsOf(id string) []Event {
 // TransfersOf returns the Transfers rows of grant id in date order.
 func (s *Schedule) TransfersOf(id string) []Transfer {
 	var out []Transfer
-	for _, t := range s.Transfers {
-		if t.GrantID == id {
-			out = append(out, t)
+	if ix := s.fresh(); ix != nil {
+		out = rowsAt(s.Transfers, ix.transfersOf[id])
+	} else {
+		for _, t := range s.Transfers {
+			if t.GrantID == id {
+				out = append(out, t)
+			}
 		}
 	}
 	sort.SliceStable(out, func(i, j int) bool { return out[i].Date.Before(out[j].Date) })

@@ -5,17 +5,19 @@ import (
 	"encoding/xml"
 	"io"
 	"math"
+	"regexp"
 	"strconv"
 	"strings"
 	"time"
+	"unicode/utf16"
 	"unicode/utf8"
 )
 
 // The Tranches sheet of a large ledger has a row per tranche, hundreds of
 // thousands of rows of 26 cells, and excelize's stream writer spent most
 // of the workbook's time on it cell by cell. When every value on the sheet
-// is of a plain kind (text of printable ASCII needing no escape, finite
-// numbers, dates after 1900-02-28), its rows are written here instead,
+// is of a kind written here (any text, escaped as excelize escapes it;
+// finite numbers; dates after 1900-02-28), its rows are written here instead,
 // byte for byte as the stream writer writes them: excelize writes the
 // sheet with the header and a placeholder row, and canonicalZip writes
 // the rows in the placeholder's place as it copies the archive. Otherwise the
@@ -73,7 +75,7 @@ func findPlaceholder(data []byte) (start, end, k int, ok bool) {
 
 // plainText reports whether excelize writes s as it is: printable ASCII
 // without an XML special character, an underscore (its _xHHHH_ escapes)
-// or white space at either end.
+// or white space at either end. Other text goes through appendCellText.
 func plainText(s string) bool {
 	if len(s) > 0 && (s[0] == ' ' || s[len(s)-1] == ' ') {
 		return false
@@ -85,6 +87,97 @@ func plainText(s string) bool {
 		}
 	}
 	return true
+}
+
+// appendCellText appends the <t> element of an inline string cell holding
+// s, as excelize v2.11.1's stream writer writes it (trimCellValue and
+// bstrMarshal in its cell.go and lib.go, and writeCell in stream.go): the
+// text cut to what a cell holds (cutText, then excelize's cut to 32,767
+// UTF-16 units); xml:space="preserve" when it begins or ends with a space,
+// tab, line feed or carriage return; the XML escapes of encoding/xml
+// (which also turns characters XML 1.0 cannot hold and invalid UTF-8 into
+// U+FFFD), with line feeds left as they are; and each literal _xHHHH_ in
+// the text marked as literal by escaping its underscore (_x005F_).
+func appendCellText(b []byte, s string) []byte {
+	if len(s) > MaxCellChars {
+		s = cutUTF16(cutText(s), MaxCellChars)
+	}
+	if plainText(s) {
+		b = append(b, `<t>`...)
+		b = append(b, s...)
+		return append(b, `</t>`...)
+	}
+	b = append(b, `<t`...)
+	if s != "" && (isCellSpace(s[0]) || isCellSpace(s[len(s)-1])) {
+		b = append(b, ` xml:space="preserve"`...)
+	}
+	b = append(b, '>')
+	var esc strings.Builder
+	_ = xml.EscapeText(&esc, []byte(s))
+	b = appendLiteralEscapes(b, strings.ReplaceAll(esc.String(), "&#xA;", "\n"))
+	return append(b, `</t>`...)
+}
+
+func isCellSpace(c byte) bool { return c == '\t' || c == '\n' || c == '\r' || c == ' ' }
+
+// cutUTF16 cuts s to at most n UTF-16 code units, on a character boundary.
+func cutUTF16(s string, n int) string {
+	units := 0
+	for i, r := range s {
+		if units += utf16.RuneLen(r); units > n {
+			return s[:i]
+		}
+	}
+	return s
+}
+
+// literalEscape is the form of the escapes of characters XML cannot hold
+// in a spreadsheet's text (ECMA-376 Part 1, 22.9.2.19 ST_Xstring).
+var literalEscape = regexp.MustCompile(`_x[a-fA-F\d]{4}_`)
+
+// appendLiteralEscapes appends s, with each _xHHHH_ in it escaped as
+// excelize's bstrMarshal escapes it, quirks included so that the bytes are
+// the same: _xHHHH_ becomes _x005F_xHHHH_; _x005F_ itself becomes
+// _x005F_x005F_, or _x005F_x005F_x005F_ when xHHHH_ follows it; and an
+// escape naming a UTF-16 surrogate (D800 to DFFF) is dropped.
+func appendLiteralEscapes(b []byte, s string) []byte {
+	if !strings.Contains(s, "_x") {
+		return append(b, s...)
+	}
+	cursor := 0
+	for _, m := range literalEscape.FindAllStringIndex(s, -1) {
+		b = append(b, s[cursor:m[0]]...)
+		cursor = m[1]
+		if sub := s[m[0]:m[1]]; sub == "_x005F_" {
+			if next := s[m[1]:min(len(s), m[1]+6)]; len(next) == 6 && next[0] == 'x' && next[5] == '_' && isHex4(next[1:5]) && !surrogate(next[1:5]) {
+				b = append(b, "_x005F_x005F_x005F_"...)
+			} else {
+				b = append(b, "_x005F_x005F_"...)
+			}
+			continue
+		}
+		if !surrogate(s[m[0]+2 : m[1]-1]) {
+			b = append(b, "_x005F"...)
+			b = append(b, s[m[0]:m[1]]...)
+		}
+	}
+	return append(b, s[cursor:]...)
+}
+
+func isHex4(h string) bool {
+	for i := 0; i < len(h); i++ {
+		if c := h[i] | 0x20; !(h[i] >= '0' && h[i] <= '9') && !(c >= 'a' && c <= 'f') {
+			return false
+		}
+	}
+	return len(h) == 4
+}
+
+// surrogate reports whether the four hexadecimal digits h name a UTF-16
+// surrogate, which is no character.
+func surrogate(h string) bool {
+	v, _ := strconv.ParseUint(h, 16, 16)
+	return v >= 0xd800 && v <= 0xdfff
 }
 
 // Excel's day 60 is the 29th of February 1900 that never was; from the
@@ -137,14 +230,14 @@ func (w *rowWriter) style(s int) {
 	}
 }
 
-// text is an inline string (the caller has checked plainText).
+// text is an inline string.
 func (w *rowWriter) text(col, s int, v string) {
 	w.b = append(w.b, `<c`...)
 	w.ref(col)
 	w.style(s)
-	w.b = append(w.b, ` t="inlineStr"><is><t>`...)
-	w.b = append(w.b, v...)
-	w.b = append(w.b, `</t></is></c>`...)
+	w.b = append(w.b, ` t="inlineStr"><is>`...)
+	w.b = appendCellText(w.b, v)
+	w.b = append(w.b, `</is></c>`...)
 }
 
 func (w *rowWriter) value(col, s int, v []byte) {
@@ -235,9 +328,6 @@ func appendCellFloat(b []byte, v float64) []byte {
 // sheet.
 func trancheRowsPlain(m *Model) bool {
 	for _, g := range m.Grants {
-		if !plainText(g.ID) || !plainText(g.Holder) || !plainText(g.Instrument) {
-			return false
-		}
 		for _, v := range []float64{g.SharePrice, g.Strike, g.Volatility, g.DividendYield, g.ExerciseMultiple, g.PostVestingExitRate} {
 			if !finite(v) {
 				return false

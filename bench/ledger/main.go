@@ -31,6 +31,11 @@
 //     cliff (37 tranches), with its own strike and its own volatility
 //     override; the same prices, curves and departures as realistic.
 //
+// Both kinds put every grant in a cost centre (R&D, S&M, G&A or COGS, as
+// a plan's functions are commonly named, so that holders and cost centres
+// carry text the workbook escapes) and move one grant in 25 to another
+// cost centre part-way (a Transfers row).
+//
 // bench/run.sh times value on both kinds at several sizes.
 package main
 
@@ -65,6 +70,7 @@ func main() {
 	default:
 		fail(fmt.Errorf("-kind %q: want realistic or adversarial", *kind))
 	}
+	costCentres(s)
 	if *correct != 0 {
 		if *correct < 1 || *correct > *n {
 			fail(fmt.Errorf("-correct %d: want a grant number from 1 to %d", *correct, *n))
@@ -83,7 +89,7 @@ func main() {
 	if err := os.WriteFile(*out, buf.Bytes(), 0o644); err != nil {
 		fail(err)
 	}
-	fmt.Printf("wrote %s: %d %s grants, %d events, %d bytes\n", *out, *n, *kind, len(s.Events), buf.Len())
+	fmt.Printf("wrote %s: %d %s grants, %d events, %d transfers, %d bytes\n", *out, *n, *kind, len(s.Events), len(s.Transfers), buf.Len())
 }
 
 func fail(err error) {
@@ -254,4 +260,29 @@ func departures(s *grants.Schedule, rng *rand.Rand, g grants.Grant) {
 		s.Events = append(s.Events, grants.Event{GrantID: g.ID, Date: left.AddDate(0, 0, 1+rng.IntN(89)), Kind: grants.Exercised, Shares: ex})
 	}
 	s.Events = append(s.Events, grants.Event{GrantID: g.ID, Date: end, Kind: grants.Expired, Shares: vested - ex})
+}
+
+// centres are the cost centres of the invented ledger, most of the plan in
+// R&D.
+var centres = []string{"R&D", "R&D", "R&D", "S&M", "S&M", "G&A", "COGS"}
+
+// costCentres puts each grant of s in a cost centre and moves one grant in
+// 25 to another on a day between its grant and the valuation date. It
+// draws from a generator of its own, so the grants and events are those
+// the kind's generator made.
+func costCentres(s *grants.Schedule) {
+	rng := rand.New(rand.NewPCG(2026, 13))
+	for i := range s.Grants {
+		g := &s.Grants[i]
+		g.CostCenter = centres[rng.IntN(len(centres))]
+		span := int(valDate.Sub(g.GrantDate).Hours()/24) - 1
+		if rng.IntN(25) != 0 || span < 2 {
+			continue
+		}
+		to := centres[rng.IntN(len(centres))]
+		for to == g.CostCenter {
+			to = centres[rng.IntN(len(centres))]
+		}
+		s.Transfers = append(s.Transfers, grants.Transfer{GrantID: g.ID, Date: g.GrantDate.AddDate(0, 0, 1+rng.IntN(span)), CostCenter: to})
+	}
 }

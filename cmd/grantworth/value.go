@@ -8,7 +8,6 @@ import (
 	"io/fs"
 	"os"
 	"path/filepath"
-	"runtime/debug"
 	"runtime/pprof"
 	"strings"
 	"sync"
@@ -98,16 +97,8 @@ IFRS 2 or local rules).`,
 	return cmd
 }
 
-// memoryLimit is the soft limit on the Go heap during value (unless the
-// GOMEMLIMIT environment variable sets one): a large ledger's workbook
-// makes much short-lived garbage, and collecting it sooner keeps the
-// process within DESIGN §5's budget of 1 GiB at little cost in time.
-const memoryLimit = 768 << 20
-
 func runValue(o *valueOptions) error {
-	if os.Getenv("GOMEMLIMIT") == "" {
-		defer debug.SetMemoryLimit(debug.SetMemoryLimit(memoryLimit))
-	}
+	defer limitMemory(readLimit)() // memlimit.go
 	if o.cpuProfile != "" {
 		f, err := os.Create(o.cpuProfile)
 		if err != nil {
@@ -142,6 +133,7 @@ func runValue(o *valueOptions) error {
 	if err != nil {
 		return readError(o.path, err)
 	}
+	limitMemory(ledgerLimit(len(s.Grants), availableMemory()))
 	var moved []string
 	if !vdate.IsZero() {
 		// After a prior close the period starts the day after it (Open,
