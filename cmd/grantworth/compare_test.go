@@ -11,7 +11,6 @@ import (
 	"strings"
 	"sync"
 	"testing"
-	"time"
 
 	"github.com/xuri/excelize/v2"
 
@@ -307,24 +306,7 @@ func TestInitDesignsTemplate(t *testing.T) {
 		}
 	}
 	path := filepath.Join(dir, designsTemplateXLSX)
-	f, err := excelize.OpenFile(path)
-	if err != nil {
-		t.Fatal(err)
-	}
-	set := func(sheet, cell string, v any) {
-		if err := f.SetCellValue(sheet, cell, v); err != nil {
-			t.Fatal(err)
-		}
-	}
-	day := func(s string) time.Time { t, _ := time.Parse(time.DateOnly, s); return t }
-	set("Company", "B2", "Pebblebrook Audio, Inc.")
-	set("Company", "B3", day("2026-09-30"))
-	set("Assumptions", "B2", 0.5)
-	set("Share Prices", "A2", day("2026-09-30"))
-	set("Share Prices", "B2", 2.0)
-	set("Rates", "A2", day("2026-09-30"))
-	set("Rates", "B2", 5)
-	set("Rates", "C2", 0.04)
+	f, set, _ := fillTemplateContext(t, path, "2026-09-30", 2.0)
 	// design, instrument, shares, strike, strike_premium, term_years, vest_months, cliff_months, vest_every_months
 	for col, v := range map[string]any{"A": "At the money", "B": "option", "C": 4800, "E": 0, "F": 10, "G": 48, "H": 12, "I": 1} {
 		set("Designs", col+"2", v)

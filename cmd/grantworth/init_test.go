@@ -61,24 +61,7 @@ func TestInitTemplateFilledPassesCheck(t *testing.T) {
 	if code != exitInput || !strings.Contains(out, "Company!B2 (company_name): is required") || !strings.Contains(out, "Company!B3 (valuation_date): is required") {
 		t.Fatalf("blank template: exit %d\n%s", code, out)
 	}
-	f, err := excelize.OpenFile(path)
-	if err != nil {
-		t.Fatal(err)
-	}
-	set := func(sheet, cell string, v any) {
-		if err := f.SetCellValue(sheet, cell, v); err != nil {
-			t.Fatal(err)
-		}
-	}
-	day := func(s string) time.Time { t, _ := time.Parse(time.DateOnly, s); return t }
-	set("Company", "B2", "Pebblebrook Audio, Inc.")
-	set("Company", "B3", day("2026-09-30"))
-	set("Assumptions", "B2", 0.5)
-	set("Share Prices", "A2", day("2026-06-30"))
-	set("Share Prices", "B2", 1.25)
-	set("Rates", "A2", day("2026-06-30"))
-	set("Rates", "B2", 5)
-	set("Rates", "C2", 0.04)
+	f, set, day := fillTemplateContext(t, path, "2026-06-30", 1.25)
 	// One grant row: id, instrument, grant date, shares, strike, term,
 	// four-year monthly vesting with a one-year cliff, its own share price
 	// (the Share Prices row gives the period end's).
@@ -112,4 +95,32 @@ func TestCheckExitCodes(t *testing.T) {
 	if code != exitInput || !strings.Contains(out, `"ok": false`) || !strings.Contains(out, "x.xlsx: is not an .xlsx workbook") {
 		t.Errorf("not a workbook: exit %d\n%s", code, out)
 	}
+}
+
+// fillTemplateContext opens a template init wrote and fills the context
+// every schedule needs: an invented company valued on 2026-09-30, a
+// volatility, one share price and a one-point curve dated priceDate. It
+// returns the open workbook, a setter that fails the test on error, and a
+// date parser.
+func fillTemplateContext(t *testing.T, path, priceDate string, price float64) (*excelize.File, func(sheet, cell string, v any), func(string) time.Time) {
+	t.Helper()
+	f, err := excelize.OpenFile(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	set := func(sheet, cell string, v any) {
+		if err := f.SetCellValue(sheet, cell, v); err != nil {
+			t.Fatal(err)
+		}
+	}
+	day := func(s string) time.Time { t, _ := time.Parse(time.DateOnly, s); return t }
+	set("Company", "B2", "Pebblebrook Audio, Inc.")
+	set("Company", "B3", day("2026-09-30"))
+	set("Assumptions", "B2", 0.5)
+	set("Share Prices", "A2", day(priceDate))
+	set("Share Prices", "B2", price)
+	set("Rates", "A2", day(priceDate))
+	set("Rates", "B2", 5)
+	set("Rates", "C2", 0.04)
+	return f, set, day
 }
