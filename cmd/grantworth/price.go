@@ -286,6 +286,10 @@ func (o *priceOptions) dilute(value func(valuation.Market) (valuation.Result, er
 	return last, nil
 }
 
+// boundedMode is the mode of an auto-mode value bounded without a
+// lattice (valuation.AutoNegligible).
+const boundedMode = "auto, bounded: the share price is too unlikely to reach the strike"
+
 func computePrice(o *priceOptions) (*priceResult, error) {
 	if o.Hurdle.set() {
 		return computeHurdlePrice(o)
@@ -317,6 +321,12 @@ func computePrice(o *priceOptions) (*priceResult, error) {
 	}
 	if res.Main.MissedTarget {
 		res.Mode = "auto, short of its accuracy target"
+	}
+	if o.Method == valuation.MethodLattice && o.Steps == 0 && res.Main.Steps == 0 {
+		// Auto mode builds no lattice for an award whose share price is
+		// too unlikely to reach the strike: its value is 0 and its error
+		// estimate a bound on what it can be worth.
+		res.Mode = boundedMode
 	}
 	if res.BSM, err = o.dilute(func(m valuation.Market) (valuation.Result, error) { return valuation.BlackScholes(t, m) }); err != nil {
 		return nil, asInput(err)
@@ -371,7 +381,11 @@ func printPriceText(w io.Writer, r *priceResult) {
 		if o.Method == valuation.MethodMC {
 			kind = "standard error"
 		}
-		fmt.Fprintf(tw, "%s\t± %.4f\n", strings.ToUpper(kind[:1])+kind[1:], r.Main.ErrorEstimate)
+		est := fmt.Sprintf("%.4f", r.Main.ErrorEstimate)
+		if e := r.Main.ErrorEstimate; e > 0 && e < 5e-5 {
+			est = fmt.Sprintf("%.1e", e) // too small for four decimals, not zero
+		}
+		fmt.Fprintf(tw, "%s\t± %s\n", strings.ToUpper(kind[:1])+kind[1:], est)
 	} else {
 		fmt.Fprintf(tw, "Error estimate\t%s\n", map[bool]string{true: "exact (closed form)", false: "none (raw tree, not converged)"}[o.Method == valuation.MethodBSM])
 	}
@@ -381,7 +395,11 @@ func printPriceText(w io.Writer, r *priceResult) {
 	if o.Method == valuation.MethodMC {
 		stepsName = "Paths"
 	}
-	fmt.Fprintf(tw, "%s\t%d\n", stepsName, r.Main.Steps)
+	if r.Mode == boundedMode {
+		fmt.Fprintf(tw, "%s\tnone: no lattice is needed for a value this small\n", stepsName)
+	} else {
+		fmt.Fprintf(tw, "%s\t%d\n", stepsName, r.Main.Steps)
+	}
 	tw.Flush()
 	if o.ForfeitureRate > 0 {
 		fmt.Fprintf(w, "\nExpected cost per granted %s, not a fair value: %.4f\n  (fair value × %.4f, the share of holders expected to stay %g years to vesting at %g a year)\n",

@@ -267,3 +267,23 @@ func TestPriceMissedTarget(t *testing.T) {
 		}
 	}
 }
+
+// An award whose share price cannot plausibly reach its strike (a strike
+// 10^12 times the share price) is valued at 0 with a bound as its error
+// estimate and no lattice: the output says so instead of "0 steps" of a
+// converged lattice, and shows the bound rather than ± 0.0000.
+func TestPriceBounded(t *testing.T) {
+	ios, out, errb := volTestIO()
+	argv := []string{"price", "--spot", "1.6", "--strike", "1e12", "--years", "10", "--vol", "0.5", "--rate", "0.04", "--vest-years", "1"}
+	if code := run(argv, ios); code != 0 {
+		t.Fatalf("exit %d: %s", code, errb)
+	}
+	for _, want := range []string{"Fair value per option  0.0000\n", "Error estimate         ± ", "e-", boundedMode, "none: no lattice is needed"} {
+		if !strings.Contains(out.String(), want) {
+			t.Errorf("output lacks %q:\n%s", want, out)
+		}
+	}
+	if strings.Contains(out.String(), "± 0.0000") || strings.Contains(out.String(), "converged") {
+		t.Errorf("a bounded value shown as converged or with a zero estimate:\n%s", out)
+	}
+}
