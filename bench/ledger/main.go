@@ -179,12 +179,14 @@ func realistic(n int) *grants.Schedule {
 			ExpiryDate: grants.AddMonths(gd, 120), VestStart: gd, VestMonths: 48, CliffMonths: 12, VestEvery: 1,
 		}
 		switch r := rng.IntN(10000); {
-		case r < 2: // a liability-classified warrant, vested at issue
+		case r < 2: // a liability-classified warrant issued to an investor, vested at issue
 			g.Instrument, g.Classification, g.ExerciseStyle = grants.Warrant, grants.Liability, grants.American
+			g.Purpose = grants.Financing
 			g.ExpiryDate, g.VestMonths, g.CliffMonths = grants.AddMonths(gd, 60), 0, 0
 			g.Shares *= 10
 		case r < 7: // an equity-classified warrant issued with a loan
 			g.Instrument, g.Classification, g.ExerciseStyle = grants.Warrant, grants.Equity, grants.European
+			g.Purpose = grants.Financing
 			g.ExpiryDate, g.VestMonths, g.CliffMonths = grants.AddMonths(gd, 84), 0, 0
 			g.Shares *= 10
 		case r < 1250: // an RSU, yearly over three years
