@@ -22,9 +22,16 @@ const (
 // distributions, every tranche, the inputs of each design, the warnings and
 // an About sheet with the caution. Every number comes from the model; the
 // entries are written in a fixed order with no timestamps, so the same
-// model gives the same bytes.
+// model gives the same bytes. Temporary files go to the system's temporary
+// folder; see WriteCompareWorkbookWith.
 func WriteCompareWorkbook(w io.Writer, m *CompareModel) error {
-	f := excelize.NewFile()
+	return WriteCompareWorkbookWith(w, m, WorkbookOptions{})
+}
+
+// WriteCompareWorkbookWith is WriteCompareWorkbook with options: excelize's
+// streamed sheets spill into o.TempDir past its chunk size.
+func WriteCompareWorkbookWith(w io.Writer, m *CompareModel, o WorkbookOptions) error {
+	f := excelize.NewFile(excelize.Options{TmpDir: o.TempDir})
 	defer f.Close()
 	b := &Book{f: f}
 	if err := b.styles(m.Currency); err != nil {
