@@ -71,7 +71,7 @@ var conditionSheets = []Sheet{
 			{Key: "hurdle_days", Kind: KindInt, Unit: "closing prices", Need: "price-hurdle: optional", Default: "1 (the closing price)", Help: "The number of closing prices averaged against the hurdle, e.g. 20 for a 20-day average."},
 			{Key: "hurdle_monitoring", Kind: KindChoice, Choices: monitorings, Need: "price-hurdle: optional", Default: "daily", Help: "daily watches closing prices (252 a year); continuous every moment (the textbook barrier)."},
 			{Key: "hurdle_deadline", Kind: KindDate, Need: "price-hurdle: required for RSUs", Default: "the option's expiry", Help: "The hurdle must be met on or before this date, or the award lapses."},
-			{Key: "hurdle_met_date", Kind: KindDate, Need: "price-hurdle: once met", Help: "The day the hurdle was met: the cost of tranches whose service is done is recognised then."},
+			{Key: "hurdle_met_date", Kind: KindDate, Need: "price-hurdle: once met", Help: "The day the hurdle was met: the cost of tranches whose service is done is recognized then."},
 			{Key: "performance_start", Kind: KindDate, Need: "relative-tsr: required", Help: "The first day of the performance period."},
 			{Key: "performance_end", Kind: KindDate, Need: "relative-tsr: required", Help: "The last day of the performance period; units vest on the later of it and their vest date."},
 			{Key: "own_prices", Kind: KindText, Unit: "file", Need: "relative-tsr: required", Help: "The company's closing prices: a CSV file with date and close (adjusted_close, with dividends reinvested, when present), its path relative to the workbook's folder (for a CSV folder, to that folder)."},

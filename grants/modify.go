@@ -737,7 +737,7 @@ func (v *validator) modifications() {
 		}
 		byReplacement[rid] = e.Row
 		if valuation.Days(r.GrantDate, e.Date) != 0 {
-			v.rep.errf(ref("replacement_grant_id"), "replacement_grant_id", rid, ErrInconsistent, "is granted on %s (%s), not on the cancellation date %s: a replacement is granted with the cancellation (ASC 718-20-35-8; IFRS 2.28(c)); a later grant is a new award, and the cancellation then recognises the cancelled shares' remaining cost at once",
+			v.rep.errf(ref("replacement_grant_id"), "replacement_grant_id", rid, ErrInconsistent, "is granted on %s (%s), not on the cancellation date %s: a replacement is granted with the cancellation (ASC 718-20-35-8; IFRS 2.28(c)); a later grant is a new award, and the cancellation then recognizes the cancelled shares' remaining cost at once",
 				isoDay(r.GrantDate), s.cell(SheetGrants, "grant_date", r.Row, r.Refs), isoDay(e.Date))
 		}
 		if r.Instrument == Warrant && r.Classification == Liability {

@@ -353,7 +353,7 @@ func (v *validator) grants() {
 				v.rep.errf(ref("hire_date"), "hire_date", isoDay(g.HireDate), ErrRange, "is on or after the expiry %s of %s %s", isoDay(g.ExpiryDate), article(g.Instrument), g.ID)
 			} else if ts := s.tranchesBeforeEvents(g); len(ts) > 0 && g.HireDate.After(ts[len(ts)-1].VestDate) {
 				v.rep.warnf(ref("hire_date"), "hire_date", isoDay(g.HireDate), ErrRange,
-					"is after the last vest date %s of grant %s: no service is left to earn, so its whole cost is recognised on the hire date", isoDay(ts[len(ts)-1].VestDate), g.ID)
+					"is after the last vest date %s of grant %s: no service is left to earn, so its whole cost is recognized on the hire date", isoDay(ts[len(ts)-1].VestDate), g.ID)
 			}
 		}
 		if co := s.Company.ValuationDate; !co.IsZero() && g.GrantDate.After(co) {

@@ -209,7 +209,7 @@ var periodInks = [...]struct {
 	fill   color.Color
 	legend string
 }{
-	PeriodPast:     {inkData, "recognised"},
+	PeriodPast:     {inkData, "recognized"},
 	PeriodCurrent:  {inkRef, "this period"},
 	PeriodExpected: {inkExpected, "expected"},
 }

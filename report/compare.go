@@ -259,7 +259,7 @@ func compareNotes(m *CompareModel, c *design.Comparison) []string {
 	}
 	notes := []string{
 		"Fair value is the grant-date value the accounts record under ASC 718 and IFRS 2: the award valued on a lattice with vesting, early exercise at the exercise multiple and exits of vested holders. It leaves out holders who leave before vesting.",
-		fmt.Sprintf("Expected cost is the fair value of the shares expected to vest when %s of unvested holders leave each year: the cost the company expects to recognise. It is a planning figure, not a fair value. Expense by year spreads it by the %s method over the service to each vest date.", strings.Join(rates, " or "), m.Attribution),
+		fmt.Sprintf("Expected cost is the fair value of the shares expected to vest when %s of unvested holders leave each year: the cost the company expects to recognize. It is a planning figure, not a fair value. Expense by year spreads it by the %s method over the service to each vest date.", strings.Join(rates, " or "), m.Attribution),
 		"Probability in the money, the payoff percentiles and the ways of ending are risk-neutral: they are the odds that price the award, not a forecast of the share. A share's risk-neutral growth is only the risk-free rate, so an option's median payoff can be nothing while a minority of good outcomes carries its value.",
 		"The break-even share price is the price at expiry (an RSU: at its last vesting) at which the award pays its fair value grown at the risk-free rate: what the holder would have had by taking the fair value in cash and investing it.",
 	}

@@ -36,13 +36,13 @@ type ExpenseDetail struct {
 	ByGrantMonth []ExpenseGroup  `json:"by_grant_month"`
 	Forecast     []ExpensePeriod `json:"forecast"` // the next 16 fiscal quarters
 	// ByFiscalYear is the expense of each fiscal year from the earliest
-	// grant's to the last service: recognised through the period end and
+	// grant's to the last service: recognized through the period end and
 	// expected after it.
 	ByFiscalYear []ExpenseYear `json:"by_fiscal_year"`
 	// ByCostCenter splits the compensation expense by cost centre (name
 	// order, "unassigned" last); the centres add up to the totals.
 	ByCostCenter []ExpenseCostCenter `json:"by_cost_center"`
-	// AfterForecast is the unrecognised cost expected after the forecast.
+	// AfterForecast is the unrecognized cost expected after the forecast.
 	AfterForecast float64 `json:"after_forecast"`
 	// Financing are the warrants issued in financings, apart from
 	// compensation.

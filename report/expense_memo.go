@@ -25,7 +25,7 @@ type expenseData struct {
 	E *ExpenseDetail
 }
 
-// chartQuarters is how many recognised periods (the current one included)
+// chartQuarters is how many recognized periods (the current one included)
 // the expense chart shows before the forecast.
 const chartQuarters = 8
 
@@ -128,13 +128,13 @@ func (d *Memo) expense(m *Model) error {
 
 	if len(e.ByFiscalYear) > 0 {
 		d.Sub("Expense by fiscal year")
-		d.Para("Fiscal years are " + e.FiscalCalendar + ". Recognised is what the periods to " + e.PeriodEnd.String() +
+		d.Para("Fiscal years are " + e.FiscalCalendar + ". Recognized is what the periods to " + e.PeriodEnd.String() +
 			" booked; expected is what the awards outstanding at that date will add, on the same assumptions as the forecast.")
 		rows = rows[:0]
 		for _, y := range e.ByFiscalYear {
 			rows = append(rows, []string{y.Year, y.Start.String() + " to " + y.End.String(), groupDigits(y.Recognized, 2), groupDigits(y.Expected, 2), groupDigits(y.Total, 2)})
 		}
-		// The years add up to the cumulative expense and the unrecognised cost.
+		// The years add up to the cumulative expense and the unrecognized cost.
 		rows = append(rows, []string{"\x00Total", "", groupDigits(e.Cumulative, 2), groupDigits(m.Expense.UnrecognizedCost, 2), groupDigits(e.Cumulative+m.Expense.UnrecognizedCost, 2)})
 		d.Table([]Col{{"Fiscal year", 22, false}, {"Days", 46, false}, {"Recognized (" + cur + ")", 34, true}, {"Expected (" + cur + ")", 34, true}, {"Total (" + cur + ")", 34, true}}, rows)
 	}
@@ -354,8 +354,8 @@ func (d *Memo) financing(m *Model) error {
 			li = append(li, []string{"\x00Total", "", groupDigits(open, 2), groupDigits(issued, 2), groupDigits(change, 2), groupDigits(reclass, 2), groupDigits(closing, 2)})
 		}
 		d.Table([]Col{{"Grant", 22, false}, {"Fair value per warrant at the period end", 26, true}, {"Opening liability", 24, true},
-			{"Recognised at issue", 22, true}, {"Change in fair value", 24, true}, {"To equity on exercise", 24, true}, {"Closing liability", 24, true}}, li)
-		d.Para(fmt.Sprintf("Change in fair value of the warrant liability for the period, outside operating expense: %s (a positive change is a loss). Opening liability + recognised at issue + change in fair value − reclassified to equity on exercise = closing liability.",
+			{"Recognized at issue", 22, true}, {"Change in fair value", 24, true}, {"To equity on exercise", 24, true}, {"Closing liability", 24, true}}, li)
+		d.Para(fmt.Sprintf("Change in fair value of the warrant liability for the period, outside operating expense: %s (a positive change is a loss). Opening liability + recognized at issue + change in fair value − reclassified to equity on exercise = closing liability.",
 			money(e.FinancingFairValueChange, cur)))
 	}
 	if x := e.Disclosures; x != nil {

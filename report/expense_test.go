@@ -159,7 +159,7 @@ func TestExpenseOutputs(t *testing.T) {
 		unrec += g.Unrecognized
 	}
 	if math.Abs(unrec-e.UnrecognizedCost) > 1e-6 {
-		t.Errorf("by-grant unrecognised %v, total %v", unrec, e.UnrecognizedCost)
+		t.Errorf("by-grant unrecognized %v, total %v", unrec, e.UnrecognizedCost)
 	}
 	// The compensatory liability warrant's remeasurement is compensation
 	// (ASC 718-30-35-3), and its liability rolls: open + compensation −

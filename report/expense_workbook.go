@@ -252,7 +252,7 @@ func writeFinancing(b *Book, m *Model) error {
 	}
 	cols := []Column{{"Grant", 14}, {"Holder", 14}, {"Classification", 14}, {"Issue date", 12}, {"Warrants issued", 14},
 		{b.Cur("Fair value per warrant at issue"), 20}, {b.Cur("Value at issue"), 18}, {"Outstanding at period end", 16}, {"Exercised in period", 14},
-		{b.Cur("Fair value per warrant at period end"), 22}, {b.Cur("Liability at period start"), 18}, {b.Cur("Recognised at issue in period"), 18},
+		{b.Cur("Fair value per warrant at period end"), 22}, {b.Cur("Liability at period start"), 18}, {b.Cur("Recognized at issue in period"), 18},
 		{b.Cur("Change in fair value (outside operating expense)"), 26}, {b.Cur("Reclassified to equity on exercise"), 20}, {b.Cur("Liability at period end"), 18}}
 	t, err := b.NewTable(SheetFinancing, cols, max(len(e.Financing), 1))
 	if err != nil {

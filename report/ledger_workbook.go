@@ -49,7 +49,7 @@ func writeCostCenters(b *Book, m *Model) error {
 	return t.Close()
 }
 
-// writeByYear is the expense of each fiscal year, recognised and expected.
+// writeByYear is the expense of each fiscal year, recognized and expected.
 func writeByYear(b *Book, m *Model) error {
 	e := detail(m)
 	if e == nil {

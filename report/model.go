@@ -356,7 +356,7 @@ type Expense struct {
 	*ExpenseDetail                                // by grant, forecast, journal, disclosures (expense.go)
 }
 
-// ExpensePeriod is the expense recognised in [Start, End].
+// ExpensePeriod is the expense recognized in [Start, End].
 type ExpensePeriod struct {
 	Start  Date    `json:"start"`
 	End    Date    `json:"end"`

@@ -403,10 +403,10 @@ func (d *Memo) modification(x Modification, cur string) {
 		pct(x.DividendYield), strings.TrimPrefix(x.CurveSource, "Rates ")))
 	switch x.Accounting {
 	case "improbable_to_probable":
-		text = append(text, fmt.Sprintf("The holder leaves on the date, so the shares the change vests were not expected to vest under the terms before: their grant-date cost earned to the day before, %s, is reversed, and their fair value on the date recognised instead (ASC 718-20-55-116).",
+		text = append(text, fmt.Sprintf("The holder leaves on the date, so the shares the change vests were not expected to vest under the terms before: their grant-date cost earned to the day before, %s, is reversed, and their fair value on the date recognized instead (ASC 718-20-55-116).",
 			money(x.Reversed, cur)))
 	case "replacement":
-		text = append(text, fmt.Sprintf("The cancelled shares were worth %s on the date and the replacement %s, so the exchange adds %s (ASC 718-20-35-8; IFRS 2.28(c)). The grant-date cost of the cancelled shares not yet vested, %s (%s of it earned by then), is not recognised at once as for a cancellation: the replacement takes it over and earns it over its own service.",
+		text = append(text, fmt.Sprintf("The cancelled shares were worth %s on the date and the replacement %s, so the exchange adds %s (ASC 718-20-35-8; IFRS 2.28(c)). The grant-date cost of the cancelled shares not yet vested, %s (%s of it earned by then), is not recognized at once as for a cancellation: the replacement takes it over and earns it over its own service.",
 			money(x.FairValueBefore, cur), money(x.FairValueAfter, cur), money(x.Increment, cur), money(x.Carried, cur), money(x.Earned, cur)))
 	default:
 		if x.Increment > 0 {

@@ -118,12 +118,12 @@ func (d *Memo) tax(m *Model) error {
 	}
 	if x.Framework == "ifrs2" {
 		rows = append(rows,
-			[]string{"Recognised in equity in the period (IAS 12.68C)", money(x.ToEquity, cur)},
+			[]string{"Recognized in equity in the period (IAS 12.68C)", money(x.ToEquity, cur)},
 			[]string{"Share price for the estimated deductions, start and end", perShare(x.SharePriceAtPeriodStart) + " and " + perShare(x.SharePrice)})
 	}
 	rows = append(rows, []string{"Deferred tax asset at the period end", money(x.Asset, cur)})
 	if x.Framework == "ifrs2" {
-		rows = append(rows, []string{"of which recognised in equity", money(x.Equity, cur)})
+		rows = append(rows, []string{"of which recognized in equity", money(x.Equity, cur)})
 	}
 	rows = append(rows, []string{"Grants that give no deduction (no asset)", count(x.NotDeductible)})
 	d.Table([]Col{{"Item", 110, false}, {"Amount", 60, true}}, rows)

@@ -24,7 +24,7 @@ type Conditioned struct {
 	ServiceEnd []time.Time
 	// Met is the day a price hurdle was met (zero until it is): a tranche
 	// whose vest date has passed vests then, and the rest of its cost is
-	// recognised.
+	// recognized.
 	Met time.Time
 }
 

@@ -104,7 +104,7 @@ func TestMarketConditionMissedKeepsExpense(t *testing.T) {
 
 // Rule: when a hurdle is met before the derived service period ends, the
 // award vests at the later of that day and its vest date, and the cost
-// not yet recognised is recognised by then (ASC 718-10-55-71 to 55-79, from
+// not yet recognized is recognized by then (ASC 718-10-55-71 to 55-79, from
 // memory: the derived service period ends when the condition is met).
 //
 // Worked by hand, the award above met on 2025-10-01, before its vest date:

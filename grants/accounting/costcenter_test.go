@@ -43,8 +43,8 @@ func TestCostCenterTransferByHand(t *testing.T) {
 	nearly(t, "S&M period", sm.Period, 10000.0*91/365, tolMoney)
 	nearly(t, "R&D cumulative", rd.Cumulative, 10000.0*90/365, tolMoney)
 	nearly(t, "S&M cumulative", sm.Cumulative, 10000.0*91/365, tolMoney)
-	nearly(t, "R&D unrecognised", rd.Unrecognized, 0, tolMoney)
-	nearly(t, "S&M unrecognised", sm.Unrecognized, 10000.0*184/365, tolMoney)
+	nearly(t, "R&D unrecognized", rd.Unrecognized, 0, tolMoney)
+	nearly(t, "S&M unrecognized", sm.Unrecognized, 10000.0*184/365, tolMoney)
 	nearly(t, "S&M forecast Q3", sm.Forecast[0], 10000.0*92/365, tolMoney)
 	nearly(t, "R&D forecast Q3", rd.Forecast[0], 0, tolMoney)
 	if g := r.Grants[0]; g.CostCenter != "S&M" || len(g.ByCostCenter) != 2 {
@@ -102,7 +102,7 @@ func TestCostCenterUnassigned(t *testing.T) {
 }
 
 // Property: for random awards, events and transfers, the cost centres add
-// up to the totals (period, cumulative, unrecognised, every forecast
+// up to the totals (period, cumulative, unrecognized, every forecast
 // quarter and what follows), and each grant's parts to the grant's.
 func TestCostCentersAddUp(t *testing.T) {
 	rng := rand.New(rand.NewPCG(13, 4100))
@@ -138,7 +138,7 @@ func TestCostCentersAddUp(t *testing.T) {
 			what := fmt.Sprintf("%s/%s to %s", pol.Attribution, pol.Forfeitures, end)
 			nearly(t, what+" period", per, r.Period, tol)
 			nearly(t, what+" cumulative", cum, r.Cumulative, tol)
-			nearly(t, what+" unrecognised", unrec, r.Unrecognized, tol)
+			nearly(t, what+" unrecognized", unrec, r.Unrecognized, tol)
 			nearly(t, what+" after forecast", after, r.AfterForecast, tol)
 			for k := range fc {
 				nearly(t, fmt.Sprintf("%s forecast %d", what, k), fc[k], r.Forecast[k].Amount, tol)

@@ -93,7 +93,7 @@
 // rest covers only the service ahead, so the count converges to the actual
 // shares by the vest date (factor 1 from then on). As-occur: every share
 // counts until it is forfeited. Either way a forfeiture reverses all the
-// cost recognised on the forfeited shares, on the day of the forfeiture.
+// cost recognized on the forfeited shares, on the day of the forfeiture.
 //
 // # Events
 //
@@ -111,7 +111,7 @@
 // the cost of an equity-classified award. Cancelled shares (a
 // cancellation without a replacement award) are taken the same way as
 // forfeited ones; on unvested shares of an equity-classified award their
-// remaining unrecognised cost is recognised in full on the cancellation
+// remaining unrecognized cost is recognized in full on the cancellation
 // date (ASC 718-20-35-9, IFRS 2.28(a); from memory). Options and warrants
 // still outstanding at the end of their expiry date expire then. An event
 // that does not fit its grant is an *EventError (errors.Is ErrEvent)
@@ -128,9 +128,9 @@
 // the share of service rendered, attributed like any award; its cumulative
 // cost is that liability plus what its exercises moved to equity, each at
 // the fair value of its exercise day, remeasured then and not taken from
-// the last period end. Its expected total and unrecognised cost are at the
+// the last period end. Its expected total and unrecognized cost are at the
 // current fair value. Forfeited, cancelled and expired shares leave the
-// liability and the cost recognised on them is reversed: a liability
+// liability and the cost recognized on them is reversed: a liability
 // award costs what it is settled for.
 //
 // # Financing warrants
@@ -145,7 +145,7 @@
 // it on relative fair values (ASC 470-20-25-2), the fair value at issue
 // being the input; it is equity under ASC 815-40 and IAS 32.16 (from
 // memory), never remeasured, and has no entry of the period. A
-// liability-classified one is recognised at its fair value at issue, in
+// liability-classified one is recognized at its fair value at issue, in
 // full (there is no service to attribute over), remeasured at every period
 // end and on the day of each exercise, and the change is the change in
 // fair value of the warrant liability, outside operating expense (ASC
@@ -178,7 +178,7 @@
 //   - for shares that vest only because of the change while their holder
 //     leaves that day (a forfeited event on the date), under ASC 718 an
 //     improbable-to-probable change (Type III): the grant-date cost earned
-//     on them ends and their whole fair value on the date is recognised
+//     on them ends and their whole fair value on the date is recognized
 //     instead; IFRS 2 has no such category and treats them as above.
 //     Shares the holder forfeits that day all the same (improbable to
 //     improbable, Type IV) add nothing. For the leaver's vested options,
@@ -186,7 +186,7 @@
 //     at once if in the money, else nothing (their intrinsic value);
 //   - for a replacement award, the cancelled shares' grant-date cost not
 //     yet vested, carried over and earned over the replacement's service
-//     (not recognised at once as for a cancellation, ASC 718-20-35-9), and
+//     (not recognized at once as for a cancellation, ASC 718-20-35-9), and
 //     the replacement's value on the date less the cancelled shares' value
 //     then, if more (ASC 718-20-35-8; IFRS 2.28(c)).
 //
@@ -213,12 +213,12 @@
 // period end count. The cumulative cost is the attribution above times
 // that share, so a change of assessment is trued up at once, cumulatively,
 // on its date, and a condition that becomes improbable reverses all the
-// cost recognised on it (ASC 718-10-35-3, from memory).
+// cost recognized on it (ASC 718-10-35-3, from memory).
 // TestPerformanceConditionProbableImprobable works 1,000 units at 20.00
 // through probable, improbable and probable at 150% by hand.
 //
 // A market condition (a price hurdle, relative TSR) is in the fair value
-// (ASC 718-10-30-14, IFRS 2.21). Its cost is recognised over the requisite
+// (ASC 718-10-30-14, IFRS 2.21). Its cost is recognized over the requisite
 // service and is not reversed when the condition is not met, only when the
 // service is not rendered (a forfeiture); a relative TSR award's cost is
 // not trued up for the payout achieved (TestMarketConditionMissedKeepsExpense).
@@ -229,7 +229,7 @@
 // and not revised (IFRS 2.15(b)); for relative TSR the end of the
 // performance period. When a hurdle is met (Conditioned.Met), each
 // tranche's service ends at the later of that day and its vest date, never
-// later than before, so the rest of its cost is recognised by then
+// later than before, so the rest of its cost is recognized by then
 // (TestMarketConditionMetEarly). The forfeiture estimate runs to the end of
 // the requisite service, and a straight-line award's floor counts a
 // tranche once that service is done.
@@ -253,10 +253,10 @@
 // two-month stub. ByFiscalYear is the expense of each fiscal year, from
 // the one holding the earliest grant to the one holding the last day of
 // service, bucketed by grants.FiscalCalendar.Years (the one bucketing,
-// which the comparison of grant designs uses too): recognised, each period
+// which the comparison of grant designs uses too): recognized, each period
 // counted in the year holding its end (so the years add up to the
 // cumulative expense, and to the periods as booked after a prior close),
-// and expected, as the forecast expects it (adding up to the unrecognised
+// and expected, as the forecast expects it (adding up to the unrecognized
 // cost).
 //
 // # Cost centres
@@ -272,11 +272,11 @@
 // accrues evenly this puts each day's expense in that day's centre; a
 // later change (the forfeiture estimate trued up, a forfeiture reversing
 // the cost, a cancellation) is shared by the same days, so the cost
-// recognised in each centre is always that of the service rendered there
+// recognized in each centre is always that of the service rendered there
 // (common practice for functional expense; the attribution over the
 // service period is ASC 718-10-35-2, from memory). Future service is the
 // centre's at the period end. Every figure of a grant (period,
-// cumulative, unrecognised, each forecast quarter and what follows) is
+// cumulative, unrecognized, each forecast quarter and what follows) is
 // split so, the float rounding going to the centre at the period end, so
 // that the parts add up to the grant's figures exactly; ByCostCenter adds
 // them up by centre, in name order with Unassigned last, and a warning
@@ -293,7 +293,7 @@
 // warrants never) carries a deferred tax asset on a deductible temporary
 // difference:
 //
-//   - ASC 718: the compensation cost recognised on its outstanding shares
+//   - ASC 718: the compensation cost recognized on its outstanding shares
 //     (ASC 718-740-25-2 and 718-740-30-1, from memory), for a
 //     liability-classified award its liability. The asset is not adjusted
 //     for the share price.
@@ -314,7 +314,7 @@
 // deduction taken (an exercise, at the share price of its Events row or
 // else of Share Prices on the day; an RSU tranche vesting, at Share
 // Prices on its vest day) or lost (vested shares expired or forfeited,
-// shares cancelled): the deduction at the rate less the cost recognised
+// shares cancelled): the deduction at the rate less the cost recognized
 // on those shares at the rate is an excess tax benefit or a shortfall
 // (ASC 718-740-35-2, in income tax expense since ASU 2016-09; under IFRS
 // 2 an excess is in equity, IAS 12.68C; from memory). An exercise on a day
@@ -382,7 +382,7 @@
 //
 // The Reconciliation walks from the prior close to this one. Each award
 // is looked at in a few views that differ in one thing at a time (its
-// cost once vested, and its cost recognised, in each):
+// cost once vested, and its cost recognized, in each):
 //
 //	A′  restated at the prior close with everything known now, at the
 //	    prior's forfeiture rate (for a grant of the period: at its grant,
@@ -393,18 +393,18 @@
 //	C   B2 knowing the leavers through this period's end
 //	D   this close
 //
-// The unrecognised cost walks: at the prior close (as filed), plus the
+// The unrecognized cost walks: at the prior close (as filed), plus the
 // grants of the period (their cost at grant, A), less the period's
 // expense, plus forfeitures and cancellations (B2 − A: the expected cost
 // forfeitures release, and the estimate a cancellation settles in full),
 // plus changes in the forfeiture estimate ((A − A′) + (C − B2)), plus the
 // cost of catch-ups (A′ less the cost filed), plus the remeasurement of
 // liability-classified awards (D − C: their cost at today's fair value
-// against the prior close's), to the unrecognised cost now. The period's
+// against the prior close's), to the unrecognized cost now. The period's
 // expense walks: service in the period (D − C, with the remeasurement of
 // liability-classified awards),
 // forfeitures (B1 − A), cancellations (B2 − B1), the changed rate on cost
-// already recognised (A − A′) and the catch-ups (A′ less the cost
+// already recognized (A − A′) and the catch-ups (A′ less the cost
 // booked). The liability of liability-classified awards walks from its
 // filed balance through compensation and the reclassifications on
 // exercise (the financing warrants' liability has its own roll); the awards outstanding of each instrument from the counts
@@ -435,7 +435,7 @@
 // entries: compensation of equity-classified awards against equity and
 // of liability-classified awards against their liability, with an expense
 // line per cost centre; those exercised, reclassified to equity;
-// financing warrants recognised as liabilities at issue; the change in
+// financing warrants recognized as liabilities at issue; the change in
 // fair value of that liability; the financing warrants exercised,
 // reclassified to equity; one entry per catch-up naming its grant and
 // cause, and one per modification of the period naming its grant (the

@@ -28,6 +28,6 @@ func ExampleExpense() {
 		fmt.Println(err)
 		return
 	}
-	fmt.Printf("2030 expense %.0f, cumulative %.0f, unrecognised %.0f over %.2f years\n", r.Period, r.Cumulative, r.Unrecognized, r.RemainingYears)
-	// Output: 2030 expense 250000, cumulative 500000, unrecognised 250000 over 1.00 years
+	fmt.Printf("2030 expense %.0f, cumulative %.0f, unrecognized %.0f over %.2f years\n", r.Period, r.Cumulative, r.Unrecognized, r.RemainingYears)
+	// Output: 2030 expense 250000, cumulative 500000, unrecognized 250000 over 1.00 years
 }

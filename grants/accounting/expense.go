@@ -84,10 +84,10 @@ type PeriodAmount struct {
 }
 
 // YearAmount is the compensation expense of one fiscal year: what was
-// recognised in it through the period end (each period as booked at its
+// recognized in it through the period end (each period as booked at its
 // end, like Periods) and what is expected in it after the period end (as
 // expected at the period end, like Forecast). The years of a report add up
-// to its cumulative expense and its unrecognised cost.
+// to its cumulative expense and its unrecognized cost.
 type YearAmount struct {
 	Year       grants.FiscalPeriod
 	Recognized float64
@@ -180,7 +180,7 @@ type FinancingWarrant struct {
 	Shares         int64 // issued
 	// FairValueAtIssue is per warrant (weighted over the tranches);
 	// ValueAtIssue the total, fair value at issue times the warrants
-	// issued: the amount a liability is recognised at, and the input to
+	// issued: the amount a liability is recognized at, and the input to
 	// the allocation of the financing's proceeds to an equity-classified
 	// one (relative fair values, ASC 470-20-25-2).
 	FairValueAtIssue float64
@@ -194,7 +194,7 @@ type FinancingWarrant struct {
 	// Liability-classified only, the period's roll of the liability:
 	// LiabilityOpen + Issued + FairValueChange − Reclassified = LiabilityEnd.
 	LiabilityOpen      float64 // at the end of the day before the period start (as the prior close filed it, after one)
-	Issued             float64 // recognised at issue, when issued in the period
+	Issued             float64 // recognized at issue, when issued in the period
 	FairValueChange    float64 // remeasurement, outside operating expense
 	Reclassified       float64 // to equity on exercise, at the exercise day's fair value
 	LiabilityEnd       float64
@@ -230,7 +230,7 @@ type ExpenseReport struct {
 	Unrecognized float64 // at PeriodEnd
 	// RemainingYears is the weighted-average remaining recognition period:
 	// each tranche's (graded) or award's (straight-line) service days left
-	// after the period end, over 365, weighted by its unrecognised cost
+	// after the period end, over 365, weighted by its unrecognized cost
 	// (common practice).
 	RemainingYears float64
 
@@ -583,7 +583,7 @@ func (p *period) expense() *ExpenseReport {
 		rep.RemainingYears = wYears / rep.Unrecognized
 	}
 	rep.Periods = bounds
-	// A period's expense is recognised in the fiscal year holding its end.
+	// A period's expense is recognized in the fiscal year holding its end.
 	for _, b := range bounds {
 		for k := range rep.ByFiscalYear {
 			if y := &rep.ByFiscalYear[k]; !b.End.Before(y.Year.Start) && !b.End.After(y.Year.End) {
@@ -621,7 +621,7 @@ func policyNotes(pol Policy, ledgers []*awardLedger) []string {
 // String is a one-line summary, for logs and test failures.
 func (r *ExpenseReport) String() string {
 	var b strings.Builder
-	fmt.Fprintf(&b, "expense %s..%s %s/%s: period %.2f, cumulative %.2f, unrecognised %.2f over %.2f years; financing warrants' fv change %.2f",
+	fmt.Fprintf(&b, "expense %s..%s %s/%s: period %.2f, cumulative %.2f, unrecognized %.2f over %.2f years; financing warrants' fv change %.2f",
 		r.PeriodStart.Format(time.DateOnly), r.PeriodEnd.Format(time.DateOnly), r.Policy.Attribution, r.Policy.Forfeitures,
 		r.Period, r.Cumulative, r.Unrecognized, r.RemainingYears, r.FairValueChange)
 	return b.String()
@@ -629,7 +629,7 @@ func (r *ExpenseReport) String() string {
 
 // Spread attributes one award's cost over consecutive periods as it is
 // expected on the award's grant date: amounts[i] is the compensation
-// cost recognised after the end of day ends[i−1] (for i = 0, from the
+// cost recognized after the end of day ends[i−1] (for i = 0, from the
 // start) through the end of day ends[i], and cost is the award's expected
 // total, which the amounts add up to once ends reach its last vest date.
 // The award's events up to the last end are applied; the forfeiture

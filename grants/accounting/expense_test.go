@@ -90,7 +90,7 @@ func TestIFRS2CliffForfeitureEstimate(t *testing.T) {
 		nearly(t, string(attr)+" 2029 by hand", r.Period, 464*math.Pow(0.8, 2.0/3)*100*15/3, 1e-4)
 		r = mustExpense(t, awards, pol, "2031-01-01", "2031-12-31")
 		nearly(t, string(attr)+" cumulative 2031", r.Cumulative, 600000, 1e-4)
-		nearly(t, string(attr)+" unrecognised 2031", r.Unrecognized, 0, 1e-4)
+		nearly(t, string(attr)+" unrecognized 2031", r.Unrecognized, 0, 1e-4)
 	}
 }
 
@@ -127,7 +127,7 @@ func TestFourTrancheGraded(t *testing.T) {
 	r := mustExpense(t, aw, pol, "2029-10-01", "2029-12-31")
 	cum := 8000 + 4500 + 10000.0/3 + 11000.0*365/1461
 	nearly(t, "graded cumulative 2029", r.Cumulative, cum, tolMoney)
-	nearly(t, "graded unrecognised 2029", r.Unrecognized, 38000-cum, tolMoney)
+	nearly(t, "graded unrecognized 2029", r.Unrecognized, 38000-cum, tolMoney)
 	// Weighted-average remaining period: tranche 2 has 4,500 left over 365
 	// days, tranche 3 6,666.67 over 730, tranche 4 11000·1096/1461 over 1,096.
 	u2, u3, u4 := 4500.0, 20000.0/3, 11000.0*1096/1461
@@ -137,7 +137,7 @@ func TestFourTrancheGraded(t *testing.T) {
 		t.Fatalf("want one grant of four tranches, got %+v", r.Grants)
 	}
 	nearly(t, "tranche 1 period", r.Grants[0].Tranches[0].Period, 8000.0*92/365, tolMoney)
-	nearly(t, "tranche 4 unrecognised", r.Grants[0].Tranches[3].Unrecognized, u4, tolMoney)
+	nearly(t, "tranche 4 unrecognized", r.Grants[0].Tranches[3].Unrecognized, u4, tolMoney)
 }
 
 // Rule: straight-line attribution over the whole award's service period
@@ -154,7 +154,7 @@ func TestFourTrancheStraightLine(t *testing.T) {
 		nearly(t, "straight-line "+c.start, r.Period, 38000*c.days/1461, tolMoney)
 	}
 	r := mustExpense(t, aw, pol, "2029-10-01", "2029-12-31")
-	nearly(t, "straight-line unrecognised 2029", r.Unrecognized, 38000*1096.0/1461, tolMoney)
+	nearly(t, "straight-line unrecognized 2029", r.Unrecognized, 38000*1096.0/1461, tolMoney)
 	nearly(t, "straight-line remaining years", r.RemainingYears, 1096.0/365, 1e-12)
 	// By tranche, the award's cumulative goes to the unvested tranches in
 	// proportion to cost (none vested yet): tranche 1 gets 8/38 of it.
@@ -208,11 +208,11 @@ func TestEstimateTrueUpAtVesting(t *testing.T) {
 	pol := Policy{Attribution: grants.Graded, Forfeitures: grants.Estimate, PreVestingForfeitureRate: 0.10}
 	r := mustExpense(t, []Award{a}, pol, "2029-01-01", "2029-09-30")
 	nearly(t, "cumulative to 2029-09-30", r.Cumulative, 10000*math.Pow(0.9, 92.0/365)*273/365, tolMoney)
-	nearly(t, "unrecognised at 2029-09-30 (net of expected forfeitures)", r.Unrecognized, 10000*math.Pow(0.9, 92.0/365)*92/365, tolMoney)
+	nearly(t, "unrecognized at 2029-09-30 (net of expected forfeitures)", r.Unrecognized, 10000*math.Pow(0.9, 92.0/365)*92/365, tolMoney)
 	r = mustExpense(t, []Award{a}, pol, "2029-10-01", "2029-12-31")
 	nearly(t, "Q4 2029", r.Period, 10000-10000*math.Pow(0.9, 92.0/365)*273/365, tolMoney)
 	nearly(t, "cumulative 2029", r.Cumulative, 10000, tolMoney)
-	nearly(t, "unrecognised 2029", r.Unrecognized, 0, tolMoney)
+	nearly(t, "unrecognized 2029", r.Unrecognized, 0, tolMoney)
 	r = mustExpense(t, []Award{a}, pol, "2030-01-01", "2030-03-31")
 	nearly(t, "Q1 2030 at vesting", r.Period, 0, tolMoney)
 	// The forecast made at 2029-09-30 books the rest at the expected share
@@ -239,7 +239,7 @@ func TestTermination(t *testing.T) {
 	r := mustExpense(t, []Award{a}, asOccur, "2030-04-01", "2030-06-30")
 	nearly(t, "as-occur Q2 2030", r.Period, 10000-before, tolMoney)
 	nearly(t, "as-occur cumulative", r.Cumulative, 10000, tolMoney)
-	nearly(t, "as-occur unrecognised", r.Unrecognized, 0, tolMoney)
+	nearly(t, "as-occur unrecognized", r.Unrecognized, 0, tolMoney)
 	// The service ends at the last vest date that still has shares.
 	if !r.Grants[0].ServiceEnd.Equal(ymd("2030-01-01")) {
 		t.Errorf("service end after the termination %v, want 2030-01-01", r.Grants[0].ServiceEnd)
@@ -267,7 +267,7 @@ func TestTermination(t *testing.T) {
 
 // Rule (DESIGN §3; ours, the one rule of grants.Allocate): a partial
 // forfeiture of a pooled row comes out of every unvested tranche in
-// proportion, and reverses the cost recognised on the shares it takes
+// proportion, and reverses the cost recognized on the shares it takes
 // (ASC 718-10-35-3; IFRS 2.19-20). A pooled row of 10,000 RSUs granted
 // 2029-01-01 at 10 a unit, four yearly tranches of 2,500 vesting
 // 2030-01-01 .. 2033-01-01 (365, 730, 1,095 and 1,461 service days);
@@ -301,8 +301,8 @@ func TestPartialForfeitureProRata(t *testing.T) {
 	}
 }
 
-// Rule: a cancellation without a replacement recognises the remaining
-// unrecognised cost at once (ASC 718-20-35-9; IFRS 2.28(a); from memory).
+// Rule: a cancellation without a replacement recognizes the remaining
+// unrecognized cost at once (ASC 718-20-35-9; IFRS 2.28(a); from memory).
 // The four-tranche award at 10 a share, 3,000 unvested shares cancelled on
 // 2030-06-30: cumulative jumps to the full 40,000.
 func TestCancellationAccelerates(t *testing.T) {
@@ -318,7 +318,7 @@ func TestCancellationAccelerates(t *testing.T) {
 	} {
 		r := mustExpense(t, []Award{a}, pol, "2030-04-01", "2030-06-30")
 		nearly(t, fmt.Sprintf("%v cumulative", pol), r.Cumulative, 40000, tolMoney)
-		nearly(t, fmt.Sprintf("%v unrecognised", pol), r.Unrecognized, 0, tolMoney)
+		nearly(t, fmt.Sprintf("%v unrecognized", pol), r.Unrecognized, 0, tolMoney)
 		if pol.Attribution == grants.Graded && pol.Forfeitures == grants.AsOccur {
 			nearly(t, "as-occur Q2 2030", r.Period, 40000-before, tolMoney)
 		}
@@ -331,7 +331,7 @@ func TestCancellationAccelerates(t *testing.T) {
 // Rule: a liability-classified award to a provider of services is
 // remeasured at every period end and on the day it is exercised, and every
 // change in its fair value is compensation cost (ASC 718-30-35-3; IFRS
-// 2.30-33); its unrecognised cost is measured at the current fair value.
+// 2.30-33); its unrecognized cost is measured at the current fair value.
 // 1,000 warrants granted 2029-01-01 for services, vesting 2030-01-01 (365
 // service days), worth 5 at grant, remeasured 6 on 2029-03-31, 4.50 on
 // 2029-06-30, 6.50 on 2029-12-31, 8 on 2030-02-14 (the exercise of 400)
@@ -340,7 +340,7 @@ func TestCancellationAccelerates(t *testing.T) {
 //   - Q1 2029: liability = cost = 6 × 1,000 × 90/365 = 1,479.45.
 //   - Q2 2029: liability 4.50 × 1,000 × 181/365 = 2,231.51, so the
 //     quarter's cost is 2,231.51 − 1,479.45 = 752.05; the expected total
-//     is 4,500 at the current fair value, 4,500 × 184/365 unrecognised.
+//     is 4,500 at the current fair value, 4,500 × 184/365 unrecognized.
 //   - Q1 2030: the liability opens at 6.50 × 1,000 = 6,500; 400 exercised
 //     at the exercise day's 8 move 3,200 to equity; it closes at
 //     600 × 7 = 4,200; the cost is 4,200 + 3,200 − 6,500 = 900. Had the
@@ -364,7 +364,7 @@ func TestLiabilityAwardRemeasuredToSettlement(t *testing.T) {
 	g := r.Grants[0]
 	nearly(t, "Q2 compensation", r.Period, 4500.0*181/365-6000.0*90/365, tolMoney)
 	nearly(t, "Q2 expected total at current fair value", g.Cost, 4500, tolMoney)
-	nearly(t, "Q2 unrecognised at current fair value", r.Unrecognized, 4500.0*184/365, tolMoney)
+	nearly(t, "Q2 unrecognized at current fair value", r.Unrecognized, 4500.0*184/365, tolMoney)
 	nearly(t, "Q2 tranche fair value shown", g.Tranches[0].FairValue, 4.5, 0)
 	nearly(t, "Q2 liability roll", g.LiabilityEnd-g.LiabilityOpen, g.Period-g.ReclassifiedEquity, tolMoney)
 	if len(r.Periods) != 2 || r.Periods[0].Current || !r.Periods[1].Current {
@@ -543,7 +543,7 @@ func randomAward(rng *rand.Rand, id string) (a Award, vestedCost float64) {
 // grant-date fair value of what vests): over an award's whole life the
 // expense adds up to fair value × shares that vested (cancelled shares count
 // as vested, being accelerated), under every policy; the periods add up to
-// the cumulative; forecast and what follows it add up to the unrecognised cost.
+// the cumulative; forecast and what follows it add up to the unrecognized cost.
 func TestLifetimeExpenseEqualsVestedCost(t *testing.T) {
 	rng := rand.New(rand.NewPCG(6, 718))
 	pols := []Policy{
@@ -570,7 +570,7 @@ func TestLifetimeExpenseEqualsVestedCost(t *testing.T) {
 			if math.Abs(sum-r.Cumulative) > tol {
 				t.Errorf("%v award %s: periods add to %.6f, cumulative %.6f", pol, a.Grant.ID, sum, r.Cumulative)
 			}
-			// Mid-life: forecast + after = unrecognised.
+			// Mid-life: forecast + after = unrecognized.
 			mid, err := Expense([]Award{a}, pol, ymd("2028-07-01"), ymd("2028-09-30"))
 			if err != nil {
 				t.Fatal(err)
@@ -580,10 +580,10 @@ func TestLifetimeExpenseEqualsVestedCost(t *testing.T) {
 				fc += f.Amount
 			}
 			if math.Abs(fc+mid.AfterForecast-mid.Unrecognized) > tol {
-				t.Errorf("%v award %s: forecast %.6f + after %.6f != unrecognised %.6f", pol, a.Grant.ID, fc, mid.AfterForecast, mid.Unrecognized)
+				t.Errorf("%v award %s: forecast %.6f + after %.6f != unrecognized %.6f", pol, a.Grant.ID, fc, mid.AfterForecast, mid.Unrecognized)
 			}
 			if mid.Unrecognized < -tol || mid.RemainingYears < 0 {
-				t.Errorf("%v award %s: unrecognised %.6f over %.3f years", pol, a.Grant.ID, mid.Unrecognized, mid.RemainingYears)
+				t.Errorf("%v award %s: unrecognized %.6f over %.3f years", pol, a.Grant.ID, mid.Unrecognized, mid.RemainingYears)
 			}
 		}
 	}

@@ -38,7 +38,7 @@ func investorWarrant() Award {
 // operating expense (ASC 815-40-35-4; IAS 32.11 with IFRS 9; from memory),
 // with its own journal lines. Worked by hand from investorWarrant:
 //
-//   - Q1 2025 (issue): recognised at issue 400,000 × 0.80 = 320,000;
+//   - Q1 2025 (issue): recognized at issue 400,000 × 0.80 = 320,000;
 //     remeasured to 400,000 × 0.95 = 380,000 on 2025-03-31, a change of
 //     +60,000.
 //   - Q3 2026 (the audit case): the liability opens at 400,000 × 1.90 =

@@ -18,7 +18,7 @@ import (
 // 2026-10-31, 92 days: 10,000 × 92/730 = 1,260.27. Before it, FY2027 Q1
 // (1 February to 30 April, 89 days) and Q2 (May to July, 92 days). After
 // it FY2027 Q4 (November to January, 92 days), then FY2028's quarters of
-// 89, 92, 92 and 92 days, then nothing. FY2027 recognised 273 days and
+// 89, 92, 92 and 92 days, then nothing. FY2027 recognized 273 days and
 // expects 92 more; FY2028 expects 365 days = 5,000.
 func TestJanuaryFiscalYearQuartersAndForecast(t *testing.T) {
 	a := testAward("J1", grants.Option, "2026-02-01", []string{"2028-02-01"}, []int64{1000}, []float64{10})
@@ -69,9 +69,9 @@ func TestJanuaryFiscalYearQuartersAndForecast(t *testing.T) {
 	if y27.Year.Name != "FY2027" || y28.Year.Name != "FY2028" || !y28.Year.End.Equal(ymd("2028-01-31")) {
 		t.Errorf("years %+v, %+v", y27.Year, y28.Year)
 	}
-	nearly(t, "FY2027 recognised", y27.Recognized, 273*perDay, tolMoney)
+	nearly(t, "FY2027 recognized", y27.Recognized, 273*perDay, tolMoney)
 	nearly(t, "FY2027 expected", y27.Expected, 92*perDay, tolMoney)
-	nearly(t, "FY2028 recognised", y28.Recognized, 0, tolMoney)
+	nearly(t, "FY2028 recognized", y28.Recognized, 0, tolMoney)
 	nearly(t, "FY2028 expected", y28.Expected, 5000, tolMoney)
 
 	// The same award in calendar quarters: the forecast starts with the
@@ -83,7 +83,7 @@ func TestJanuaryFiscalYearQuartersAndForecast(t *testing.T) {
 
 // Identity (common practice): over many awards and events and every kind
 // of calendar, the fiscal years add up to the cumulative expense
-// (recognised) and the unrecognised cost (expected), and the recognised
+// (recognized) and the unrecognized cost (expected), and the recognized
 // part of each year equals its quarters.
 func TestFiscalYearsAddUp(t *testing.T) {
 	rng := rand.New(rand.NewPCG(7, 740))
@@ -108,9 +108,9 @@ func TestFiscalYearsAddUp(t *testing.T) {
 						q += p.Amount
 					}
 				}
-				nearly(t, fmt.Sprintf("%v %s %s recognised against its quarters", cal, attr, y.Year.Name), y.Recognized, q, 1e-6)
+				nearly(t, fmt.Sprintf("%v %s %s recognized against its quarters", cal, attr, y.Year.Name), y.Recognized, q, 1e-6)
 			}
-			nearly(t, fmt.Sprintf("%v %s recognised", cal, attr), rec, r.Cumulative, 1e-6)
+			nearly(t, fmt.Sprintf("%v %s recognized", cal, attr), rec, r.Cumulative, 1e-6)
 			nearly(t, fmt.Sprintf("%v %s expected", cal, attr), exp, r.Unrecognized, 1e-6)
 			var f float64
 			for _, p := range r.Forecast {

@@ -338,7 +338,7 @@ func Journal(r *ExpenseReport, catchUps []CatchUp, tax *TaxReport, chart Chart) 
 		j.entry(ce.desc, append(lines, j.line(ce.credit, "", ce.grantID, -total)))
 	}
 	j.transfer("Liability-classified awards exercised: liability at the exercise-date fair value reclassified to equity", RoleAwardLiability, RoleEquity, liaReclass)
-	j.transfer("Financing warrants issued in the period, recognised as a liability at fair value", RoleFinancing, RoleLiability, issued)
+	j.transfer("Financing warrants issued in the period, recognized as a liability at fair value", RoleFinancing, RoleLiability, issued)
 	j.transfer("Change in fair value of the financing warrants' liability (outside operating expense)", RoleFairValueChange, RoleLiability, change)
 	j.transfer("Financing warrants exercised: liability at the exercise-date fair value reclassified to equity", RoleLiability, RoleWarrantEquity, finReclass)
 	if tax != nil {

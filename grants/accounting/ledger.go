@@ -138,7 +138,7 @@ func (p Policy) normalized() (Policy, error) {
 	case p.Framework == grants.IFRS2 && p.Attribution != grants.Graded:
 		return p, fmt.Errorf("attribution %q: IFRS 2 treats each tranche as a separate award, so attribution must be %q (IFRS 2.IG11)", p.Attribution, grants.Graded)
 	case p.Framework == grants.IFRS2 && p.Forfeitures != grants.Estimate:
-		return p, fmt.Errorf("forfeitures %q: IFRS 2 recognises the awards expected to vest, so forfeitures must be %q (IFRS 2.20)", p.Forfeitures, grants.Estimate)
+		return p, fmt.Errorf("forfeitures %q: IFRS 2 recognizes the awards expected to vest, so forfeitures must be %q (IFRS 2.20)", p.Forfeitures, grants.Estimate)
 	}
 	if !(p.PreVestingForfeitureRate >= 0 && p.PreVestingForfeitureRate < 1) {
 		return p, fmt.Errorf("pre-vesting forfeiture rate %v: want a share in [0, 1)", p.PreVestingForfeitureRate)
@@ -329,7 +329,7 @@ func (l *awardLedger) apply(pevs []pricedEvent) error {
 // the end of a day.
 type trancheCounts struct {
 	reversed    int64 // forfeited while unvested: cost reversed
-	accelerated int64 // cancelled while unvested: cost recognised at once
+	accelerated int64 // cancelled while unvested: cost recognized at once
 	open        int64 // still outstanding
 	exercised   int64
 }
@@ -438,7 +438,7 @@ type snapshot struct {
 	comp      []float64 // cumulative compensation cost by tranche (none for a financing warrant)
 	liability float64   // warrant liability
 	settled   float64   // cumulative liability reclassified to equity on exercise
-	issued    float64   // a financing warrant's liability recognised at issue
+	issued    float64   // a financing warrant's liability recognized at issue
 }
 
 func (s snapshot) compTotal() float64 {

@@ -134,11 +134,11 @@ func (ly *layer) expected(kd int, rate float64, v view) float64 {
 }
 
 // counts is the layer's live shares through day d in view v, and those
-// whose cost a cancellation recognised at once. A move before the layer's
+// whose cost a cancellation recognized at once. A move before the layer's
 // first day that took unvested shares took them before it existed; from
 // then on a forfeiture or a cancellation with a replacement before the
 // layer's vest day reverses it (the cost goes, or goes to the
-// replacement), a plain cancellation before it recognises it at once.
+// replacement), a plain cancellation before it recognizes it at once.
 func (t *trancheLedger) counts(ly *layer, d int, v view) (live, accel int64) {
 	live = t.Tranche.Shares
 	for _, m := range t.moves {
@@ -511,7 +511,7 @@ type ModificationExpense struct {
 
 	// The change's effect on the cost: the expected total, through the day
 	// before the period start, in the period, through its end, and not yet
-	// recognised.
+	// recognized.
 	Cost, CumulativeOpen, Period, Cumulative, Unrecognized float64
 }
 
@@ -689,7 +689,7 @@ func results(rs []valuation.Result) []float64 {
 // byTranche merges the parts of a tranche (ts, in l.tr order) into one
 // entry per tranche of the award: counts and amounts added, the expected
 // share at vest weighted by the shares counted, the vest date the last
-// part's, the years left weighted by the cost not yet recognised.
+// part's, the years left weighted by the cost not yet recognized.
 func (l *awardLedger) byTranche(ts []TrancheExpense) []TrancheExpense {
 	if !l.layered || len(l.tr) == len(l.in.Tranches) {
 		return ts
@@ -735,7 +735,7 @@ func (l *awardLedger) byTranche(ts []TrancheExpense) []TrancheExpense {
 // modificationNotes say how changes of terms are booked, and where the
 // standards differ on the ones the ledgers hold.
 func modificationNotes(fw grants.Framework, ledgers []*awardLedger) []string {
-	notes := []string{"A cancellation without a replacement award recognises the cancelled shares' remaining cost at once (ASC 718-20-35-9, IFRS 2.28(a)). A change of an award's terms, and a cancellation with a concurrent replacement award, is booked as a modification (ASC 718-20-35-3 and 35-8; IFRS 2.27, 2.28(c) and B42-B44): the grant-date cost stays, and an increase in fair value on the modification date is added, at once for vested shares and over the remaining service for unvested ones."}
+	notes := []string{"A cancellation without a replacement award recognizes the cancelled shares' remaining cost at once (ASC 718-20-35-9, IFRS 2.28(a)). A change of an award's terms, and a cancellation with a concurrent replacement award, is booked as a modification (ASC 718-20-35-3 and 35-8; IFRS 2.27, 2.28(c) and B42-B44): the grant-date cost stays, and an increase in fair value on the modification date is added, at once for vested shares and over the remaining service for unvested ones."}
 	for _, l := range ledgers {
 		if l.in.Modified == nil {
 			continue
@@ -745,9 +745,9 @@ func modificationNotes(fw grants.Framework, ledgers []*awardLedger) []string {
 				switch {
 				case p.Improbable == 0:
 				case fw == grants.IFRS2:
-					return append(notes, "A change that vests shares not expected to vest under the terms before (the holder leaving on the modification date) is booked as IFRS 2 requires (B43): the grant-date cost of the shares that now vest is recognised, brought forward to their new vest date, and the increase in fair value on the date added. (ASC 718 would book it as improbable to probable, Type III: the grant-date cost reversed and the fair value on the date recognised instead, ASC 718-20-55-116.)")
+					return append(notes, "A change that vests shares not expected to vest under the terms before (the holder leaving on the modification date) is booked as IFRS 2 requires (B43): the grant-date cost of the shares that now vest is recognized, brought forward to their new vest date, and the increase in fair value on the date added. (ASC 718 would book it as improbable to probable, Type III: the grant-date cost reversed and the fair value on the date recognized instead, ASC 718-20-55-116.)")
 				default:
-					return append(notes, "A change that vests shares not expected to vest under the terms before (the holder leaving on the modification date) is booked as improbable to probable (ASC 718-20-55-116, Type III): the grant-date cost of those shares is reversed and their fair value on the modification date recognised instead. IFRS 2 has no such category: it would keep the grant-date cost of shares that now vest and add only the increase in fair value (B43).")
+					return append(notes, "A change that vests shares not expected to vest under the terms before (the holder leaving on the modification date) is booked as improbable to probable (ASC 718-20-55-116, Type III): the grant-date cost of those shares is reversed and their fair value on the modification date recognized instead. IFRS 2 has no such category: it would keep the grant-date cost of shares that now vest and add only the increase in fair value (B43).")
 				}
 			}
 		}
@@ -834,7 +834,7 @@ func (m *ModificationExpense) JournalText() string {
 	case m.Replacement != "":
 		return "Modification: grant " + m.GrantID + " cancelled and replaced by grant " + m.Replacement + " on " + day(m.Date)
 	case m.Improbable:
-		return "Modification of grant " + m.GrantID + " on " + day(m.Date) + " (improbable to probable: grant-date cost reversed, fair value on the date recognised)"
+		return "Modification of grant " + m.GrantID + " on " + day(m.Date) + " (improbable to probable: grant-date cost reversed, fair value on the date recognized)"
 	}
 	return "Modification of grant " + m.GrantID + " on " + day(m.Date) + " (incremental fair value)"
 }

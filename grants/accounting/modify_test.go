@@ -67,7 +67,7 @@ func valueAndClose(t *testing.T, s *grants.Schedule, prior *Prior) (*pricing.Val
 }
 
 // TestRepricingVestedByHand: a fully vested underwater option repriced.
-// Its grant-date cost was recognised at grant (vested at once), so the
+// Its grant-date cost was recognized at grant (vested at once), so the
 // quarter's expense is the incremental fair value alone, all of it in the
 // quarter of the repricing (ASC 718-20-35-3; the illustrations of ASC
 // 718-20-55 book the increment of vested options at once; IFRS 2.27 and
@@ -142,7 +142,7 @@ func TestRepricingVestedByHand(t *testing.T) {
 		{"cost added", me.Cost, want},
 		{"booked in the period", me.Period, want},
 		{"quarter's expense", r.Period, want},
-		{"unrecognised", r.Unrecognized, 0},
+		{"unrecognized", r.Unrecognized, 0},
 		{"cumulative", r.Cumulative, 10_000*v.Grants[0].Results[0].Value + want},
 	} {
 		if math.Abs(c.got-c.want) > tolCent {
@@ -263,7 +263,7 @@ func TestRepricingUnvestedByHand(t *testing.T) {
 		{"increment", me.Increment, 2_400},
 		{"increment's cost", me.Cost, 2_400},
 		{"increment in the quarter", me.Period, 2_400 * 90.0 / 365},
-		{"increment unrecognised", me.Unrecognized, 2_400 * 275.0 / 365},
+		{"increment unrecognized", me.Unrecognized, 2_400 * 275.0 / 365},
 		{"total cost", r.Grants[0].Cost, 12_000 + 2_400},
 		{"cumulative", r.Cumulative, 12_000*455.0/730 + 2_400*90.0/365},
 		{"grant-date cost", r.Grants[0].Tranches[0].FairValue * float64(r.Grants[0].Tranches[0].Shares), 12_000},
@@ -383,7 +383,7 @@ func TestIFRS2RepricingExample(t *testing.T) {
 //
 //	quarter to 2026-03-31: 12,000 × 90/730 = 1,479.45
 //
-// and none of it is recognised at once, as a cancellation without a
+// and none of it is recognized at once, as a cancellation without a
 // replacement would (ASC 718-20-35-9). One worth 6 a share (6,000) adds
 // 6,000 − 4,800 = 1,200 over its year of service: 1,200 × 90/365 = 295.89
 // in the quarter.
@@ -452,12 +452,12 @@ func typeIII(fw grants.Framework) (*grants.Schedule, *pricing.Valuation) {
 // that were not expected to vest (the holder leaves that day): under ASC
 // 718 an improbable-to-probable change (ASC 718-20-55-116, Type III). The
 // grant-date cost earned on them is reversed and their fair value on the
-// date recognised at once instead, the modification-date value, not the
+// date recognized at once instead, the modification-date value, not the
 // original (as forfeitures occur):
 //
 //	opening, 2025-09-30:  1,200 × 2 × 273/365            = 1,795.07
 //	reversed on the date: 1,000 × 2 × 304/365 (to 10-31) = 1,665.75
-//	recognised:           1,000 × 1.50                   = 1,500.00
+//	recognized:           1,000 × 1.50                   = 1,500.00
 //	cumulative at 2025-12-31                              = 1,500.00
 //	the quarter's expense: 1,500 − 1,795.07              =  −295.07
 //
@@ -477,7 +477,7 @@ func TestTypeIIIByHand(t *testing.T) {
 		{"expense", r.Period, 1_500 - 1_200*2*273.0/365},
 		{"reversed", me.Reversed, 1_000 * 2 * 304.0 / 365},
 		{"cost of the change", me.Cost, 1_500},
-		{"unrecognised", r.Unrecognized, 0},
+		{"unrecognized", r.Unrecognized, 0},
 	} {
 		if math.Abs(c.got-c.want) > tolCent {
 			t.Errorf("%s: %.4f, want %.4f", c.name, c.got, c.want)
@@ -498,7 +498,7 @@ func TestTypeIIIByHand(t *testing.T) {
 // TestAccelerationByHand: the same cliff waiver for a holder who stays
 // (probable to probable, ASC 718-20-35-3 Type I; IFRS 2 B43(c)). The
 // grant-date cost is not reversed: the 1,000 shares now vesting on
-// 2025-11-01 have what was left of their cost recognised that day, and
+// 2025-11-01 have what was left of their cost recognized that day, and
 // the two tranches of 100 (2025-12-01, 2026-01-01) have theirs spread from
 // the date to their new vest dates. With the same value before and after
 // nothing is added, and the cost stays 2,400:
@@ -595,11 +595,11 @@ func TestModificationAcrossCloses(t *testing.T) {
 }
 
 // TestReconciliationModificationsLine: the walk from the prior close shows
-// the period's modifications on a line of their own: the unrecognised
+// the period's modifications on a line of their own: the unrecognized
 // cost gains the increment (cost line), the expense the part of it
-// recognised in the period. oneOption, closed at 2025-12-31 and then at
+// recognized in the period. oneOption, closed at 2025-12-31 and then at
 // 2026-03-31 with a repricing on 2026-01-01 worth 2 a share more
-// (TestRepricingUnvestedByHand): 2,400 added, 591.78 recognised.
+// (TestRepricingUnvestedByHand): 2,400 added, 591.78 recognized.
 func TestReconciliationModificationsLine(t *testing.T) {
 	pol := Policy{Forfeitures: grants.AsOccur}
 	q4 := oneOption("2025-12-31", pol)
@@ -615,7 +615,7 @@ func TestReconciliationModificationsLine(t *testing.T) {
 		t.Fatal(err)
 	}
 	if got := line(t, r.Unrecognized, "modifications"); math.Abs(got-2_400) > tolCent {
-		t.Errorf("unrecognised cost walk: modifications %.2f, want 2,400", got)
+		t.Errorf("unrecognized cost walk: modifications %.2f, want 2,400", got)
 	}
 	if got := line(t, r.Expense, "modifications"); math.Abs(got-2_400*90.0/365) > tolCent {
 		t.Errorf("expense walk: modifications %.2f, want %.2f", got, 2_400*90.0/365)
@@ -704,7 +704,7 @@ func TestLeaverWindowByHand(t *testing.T) {
 		{"increment", me.Increment, want},
 		{"cost added", me.Cost, want},
 		{"in the quarter", me.Period, want},
-		{"unrecognised", me.Unrecognized, 0},
+		{"unrecognized", me.Unrecognized, 0},
 	} {
 		if math.Abs(c.got-c.want) > tol {
 			t.Errorf("%s: %.4f, want %.4f", c.name, c.got, c.want)
@@ -746,7 +746,7 @@ func TestLeaverWindowByHand(t *testing.T) {
 // 2027-01-01 after 730 days) get a three-year cliff on 2026-01-01, so
 // they would vest on 2028-01-01, worth 3 a share before and after (values
 // given): no increment. A change not beneficial to the holder is not
-// taken into account (IFRS 2 B44(c)); the grant-date cost is recognised
+// taken into account (IFRS 2 B44(c)); the grant-date cost is recognized
 // when the original service condition is met, whether or not the new one
 // is (ASC 718-20-55-116, Type II, probable to improbable), so the cost is
 // earned over the original service to 2027-01-01 and kept when the holder

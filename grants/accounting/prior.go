@@ -27,7 +27,7 @@ func refuse(format string, args ...any) error {
 }
 
 // Prior is what an earlier close filed that a later one needs: the
-// grant-date values it measured, the cost it recognised per grant and
+// grant-date values it measured, the cost it recognized per grant and
 // tranche, the liability and the counts at its valuation date, the
 // events it knew of and the periods it booked. report.ReadPrior reads it
 // from that close's valuation.json.
@@ -99,7 +99,7 @@ type PriorTranche struct {
 	// RiskFreeRate and SimplifiedRate are the zero rates at the tranche's
 	// expiry and at the comparison's term.
 	RiskFreeRate, SimplifiedRate float64
-	Cumulative                   float64 // compensation recognised through the close's valuation date
+	Cumulative                   float64 // compensation recognized through the close's valuation date
 }
 
 // grant returns the prior close's grant id (the first of that id), by

@@ -110,7 +110,7 @@ func line(t *testing.T, w Walk, key string) float64 {
 // 546 days of service from 2025-01-01 through 2026-06-30); the holder
 // left on 2026-05-14, recorded in the next quarter. The catch-up is
 // −8,975.34 and is the whole expense of the quarter (no service after the
-// departure). Unrecognised cost: 3,024.66 at the prior close, less the
+// departure). Unrecognized cost: 3,024.66 at the prior close, less the
 // 12,000 of cost the forfeiture releases, plus the 8,975.34 reversed,
 // gives 0.
 func TestLateForfeitureCatchUp(t *testing.T) {
@@ -132,10 +132,10 @@ func TestLateForfeitureCatchUp(t *testing.T) {
 	nearly(t, "catch-up", r.CatchUps[0].Amount, -booked, tolMoney)
 	nearly(t, "expense walk: catch-ups", line(t, r.Expense, "catch_ups"), -8975.34, tolCent)
 	nearly(t, "expense walk: service", line(t, r.Expense, "service"), 0, tolCent)
-	nearly(t, "opening unrecognised", r.Unrecognized.Opening.Amount, 3024.66, tolCent)
+	nearly(t, "opening unrecognized", r.Unrecognized.Opening.Amount, 3024.66, tolCent)
 	nearly(t, "cost released", line(t, r.Unrecognized, "catch_ups"), -12000, tolCent)
 	nearly(t, "expense in the walk", line(t, r.Unrecognized, "expense"), 8975.34, tolCent)
-	nearly(t, "closing unrecognised", r.Unrecognized.Closing.Amount, 0, tolCent)
+	nearly(t, "closing unrecognized", r.Unrecognized.Closing.Amount, 0, tolCent)
 	if c := r.Outstanding[0]; c.Lines[0].Shares != 1200 || c.Lines[1].Key != "catch_ups" || c.Lines[1].Shares != -1200 || c.Lines[len(c.Lines)-1].Shares != 0 {
 		t.Errorf("options walk %+v", c.Lines)
 	}
@@ -176,10 +176,10 @@ func TestCorrectionCatchUp(t *testing.T) {
 }
 
 // Rule: a change in the forfeiture estimate is a change in estimate; the
-// cost recognised on it is trued up in the period of the change (ASC
+// cost recognized on it is trued up in the period of the change (ASC
 // 718-10-35-3, ASC 250-10-45-17). Worked by hand: at the prior close the
 // tranche counted 1,200 × 0.9^Y of its 12,000 with Y = 184/365 (the days
-// from 2026-07-01 to the vest date), 546/730 of it recognised; at 20% it
+// from 2026-07-01 to the vest date), 546/730 of it recognized; at 20% it
 // counts 0.8^Y. The catch-up is 12,000 × 546/730 × (0.8^Y − 0.9^Y).
 func TestForfeitureRateChangeCatchUp(t *testing.T) {
 	s := oneOption("2026-06-30", Policy{Attribution: grants.Graded, Forfeitures: grants.Estimate, PreVestingForfeitureRate: 0.10})

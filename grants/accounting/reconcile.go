@@ -45,7 +45,7 @@ type CatchUp struct {
 }
 
 // Reconciliation walks from the prior close to this one: the
-// unrecognised compensation cost, the period's expense, the liability of
+// unrecognized compensation cost, the period's expense, the liability of
 // liability-classified awards and the awards outstanding; and lists the
 // catch-ups. The warrants issued in financings have their own roll
 // (FinancingWarrant).
@@ -294,7 +294,7 @@ func capital(s string) string { return strings.ToUpper(s[:1]) + s[1:] }
 // catchUps are the catch-ups of one grant granted by the prior close:
 // the compensation its restated history adds for the closed periods,
 // with every cause found, and apart the effect of a changed forfeiture
-// rate on the cost it had recognised.
+// rate on the cost it had recognized.
 func catchUps(st grantStates, l *awardLedger, pr *Prior, s *grants.Schedule, corrected map[string]*pricing.GrantValue) []CatchUp {
 	g := l.in.Grant
 	var out []CatchUp
@@ -310,7 +310,7 @@ func catchUps(st grantStates, l *awardLedger, pr *Prior, s *grants.Schedule, cor
 		a := s.InForce()
 		prev, _ := pr.Policy.normalized()
 		out = append(out, CatchUp{GrantID: g.ID, Cause: CauseEstimateChange, Amount: amt, Liability: l.liability,
-			Detail: fmt.Sprintf("the pre-vesting forfeiture rate is %g now (%s), %g at the prior close: the cost recognised to it is trued up", a.PreVestingForfeitureRate, a.Refs["pre_vesting_forfeiture_rate"], prev.PreVestingForfeitureRate)})
+			Detail: fmt.Sprintf("the pre-vesting forfeiture rate is %g now (%s), %g at the prior close: the cost recognized to it is trued up", a.PreVestingForfeitureRate, a.Refs["pre_vesting_forfeiture_rate"], prev.PreVestingForfeitureRate)})
 	}
 	return out
 }
@@ -328,7 +328,7 @@ func diagnose(st grantStates, l *awardLedger, pr *Prior, s *grants.Schedule, cor
 	}
 	pg := st.prior
 	if pg != nil && pg.Financing {
-		add(CausePurpose, "its purpose is compensation now (%s), financing at the prior close: its cost is recognised from its grant date", purposeCell(s, g))
+		add(CausePurpose, "its purpose is compensation now (%s), financing at the prior close: its cost is recognized from its grant date", purposeCell(s, g))
 	}
 	if pg == nil {
 		add(CauseLateGrant, "granted on %s, in a closed period, and first valued now", g.GrantDate.Format(time.DateOnly))

@@ -40,7 +40,7 @@ type TaxReport struct {
 	PriceOpen, PriceEnd   float64 // IFRS 2: the share prices the estimated deductions use
 	Grants                []GrantTax
 	AssetOpen, AssetEnd   float64 // deferred tax asset
-	EquityOpen, EquityEnd float64 // IFRS 2: the part of the asset recognised in equity (IAS 12.68C)
+	EquityOpen, EquityEnd float64 // IFRS 2: the part of the asset recognized in equity (IAS 12.68C)
 	// Benefit is the period's deferred tax benefit in profit or loss (a
 	// negative Benefit is an expense); ToEquity the period's change in the
 	// part in equity. Benefit + ToEquity = AssetEnd − AssetOpen.
@@ -58,7 +58,7 @@ type TaxReport struct {
 type GrantTax struct {
 	GrantID string
 	// Basis is the deductible temporary difference: under ASC 718 the
-	// compensation cost recognised on the award's outstanding shares (for
+	// compensation cost recognized on the award's outstanding shares (for
 	// a liability-classified warrant, the liability); under IFRS 2 the
 	// deduction the share price would give, for the service rendered.
 	BasisOpen, BasisEnd float64
@@ -82,7 +82,7 @@ type Settlement struct {
 	SharePrice  float64 // on Date, for exercises and vestings
 	PriceSource string
 	Deduction   float64 // (price − strike) × shares; price × shares for RSUs; 0 when lapsed
-	Cost        float64 // compensation cost recognised on those shares
+	Cost        float64 // compensation cost recognized on those shares
 	Rate        float64
 	// Excess is Rate × (Deduction − Cost): an excess tax benefit when
 	// positive, a shortfall when negative; ToEquity is, under IFRS 2, the
@@ -166,7 +166,7 @@ func (l *awardLedger) taxBasis(pol Policy, ifrs bool, d int, price float64) (bas
 		delivered := g.Instrument == grants.RSU && t.vestedN(d)
 		if !delivered {
 			// The cost of the shares still outstanding: the cumulative cost
-			// less that of shares cancelled (recognised at once, never
+			// less that of shares cancelled (recognized at once, never
 			// deducted) and of vested shares exercised or lapsed.
 			cost += comp[i] - t.FairValue*float64(c.accelerated+c.live(t.Tranche.Shares)-c.open)
 			iv := price
@@ -228,7 +228,7 @@ func (l *awardLedger) settlements(in TaxInputs, ifrs bool, from, to int) []Settl
 					k.price = m.price
 				}
 				add(k, m.date, m.shares, t.FairValue*float64(m.shares))
-			case m.vested || m.kind == grants.Cancelled: // lapsed, or cancelled: cost recognised, no deduction
+			case m.vested || m.kind == grants.Cancelled: // lapsed, or cancelled: cost recognized, no deduction
 				add(key{day: m.dayN, kind: string(m.kind)}, m.date, m.shares, t.FairValue*float64(m.shares))
 			}
 		}

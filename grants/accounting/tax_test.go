@@ -142,7 +142,7 @@ func TestDeferredTaxIFRSIntrinsicValueByHand(t *testing.T) {
 }
 
 // Rule: when the deduction is taken, the difference between the deduction
-// and the cost recognised, at the rate, is an excess tax benefit or a
+// and the cost recognized, at the rate, is an excess tax benefit or a
 // shortfall (ASC 718-740-35-2, in income tax expense since ASU 2016-09;
 // from memory), and the deferred tax asset of those shares is released. A
 // vested option, 1,000 at a fair value of 4, strike 5, 25%: on 15 May 400

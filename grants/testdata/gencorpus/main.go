@@ -273,7 +273,7 @@ var cases = []corpusCase{
 	{name: "modification-liability-warrant", edits: []edit{{"modifications.csv", "", modHead + "PB-4,2026-07-15,2.00,,,,,,,\n"}},
 		want: []string{`Modifications!A2 (grant_id): "PB-4" is a liability-classified warrant, remeasured at fair value every period: a change of its terms is not booked as a modification by grantworth; give its new terms to the valuation that remeasures it`}},
 	{name: "replacement-not-concurrent", edits: []edit{{"events.csv", "", "grant_id,date,event,shares,replacement_grant_id\nPB-1,2026-03-15,forfeited,2400,\nPB-2,2026-05-01,cancelled,1200,PB-1\n"}},
-		want: []string{`Events!E3 (replacement_grant_id): "PB-1" is granted on 2024-03-01 (Grants!C2), not on the cancellation date 2026-05-01: a replacement is granted with the cancellation (ASC 718-20-35-8; IFRS 2.28(c)); a later grant is a new award, and the cancellation then recognises the cancelled shares' remaining cost at once`}},
+		want: []string{`Events!E3 (replacement_grant_id): "PB-1" is granted on 2024-03-01 (Grants!C2), not on the cancellation date 2026-05-01: a replacement is granted with the cancellation (ASC 718-20-35-8; IFRS 2.28(c)); a later grant is a new award, and the cancellation then recognizes the cancelled shares' remaining cost at once`}},
 	{name: "replacement-on-forfeiture", edits: []edit{{"events.csv", "", "grant_id,date,event,shares,replacement_grant_id\nPB-1,2026-03-15,forfeited,2400,PB-2\n"}},
 		want: []string{`Events!E2 (replacement_grant_id): "PB-2" names a replacement award, which only a cancelled event may have (this one is forfeited)`}},
 }
