@@ -17,14 +17,15 @@ const (
 	SheetInputs     = "Inputs"
 )
 
-// WriteCompareWorkbook writes comparison.xlsx: the comparison with designs
+// WriteCompareWorkbookWith writes comparison.xlsx: the comparison with designs
 // as columns, the expected expense by fiscal year, the outcome
 // distributions, every tranche, the inputs of each design, the warnings and
 // an About sheet with the caution. Every number comes from the model; the
 // entries are written in a fixed order with no timestamps, so the same
-// model gives the same bytes.
-func WriteCompareWorkbook(w io.Writer, m *CompareModel) error {
-	f := excelize.NewFile()
+// model gives the same bytes. Temporary files (excelize's streamed sheets
+// past its chunk size) go into o.TempDir, "" the system's temporary folder.
+func WriteCompareWorkbookWith(w io.Writer, m *CompareModel, o WorkbookOptions) error {
+	f := excelize.NewFile(excelize.Options{TmpDir: o.TempDir})
 	defer f.Close()
 	b := &Book{f: f}
 	if err := b.styles(m.Currency); err != nil {

@@ -149,7 +149,9 @@ func runCompare(o *compareOptions) error {
 	if out != nil {
 		if err := out.write([]outFile{
 			{compareOutputs[0], func(w io.Writer) error { return report.WriteComparePDF(w, m) }},
-			{compareOutputs[1], func(w io.Writer) error { return report.WriteCompareWorkbook(w, m) }},
+			{compareOutputs[1], func(w io.Writer) error {
+				return report.WriteCompareWorkbookWith(w, m, report.WorkbookOptions{TempDir: out.tempDir()})
+			}},
 		}); err != nil {
 			return err
 		}

@@ -329,3 +329,45 @@ func BenchmarkCompareSample(b *testing.B) {
 		}
 	}
 }
+
+// compare --out keeps its temporary files in the output's staging folder:
+// a TMPDIR pointed at a fresh folder is still empty after the run, and
+// the output folder holds both files and nothing else. (The workbook's
+// spill into that folder is report.TestCompareWorkbookTempDir.)
+func TestCompareLeavesNothingInTMPDIR(t *testing.T) {
+	system, parent := t.TempDir(), t.TempDir()
+	t.Setenv("TMPDIR", system)
+	out := filepath.Join(parent, "out")
+	if code, _, errs := runArgs(t, "compare", sampleDesigns, "--out", out); code != 0 {
+		t.Fatalf("compare: exit %d\n%s", code, errs)
+	}
+	if left, _ := os.ReadDir(system); len(left) != 0 {
+		t.Errorf("%d files left in TMPDIR, e.g. %s", len(left), left[0].Name())
+	}
+	if ents, _ := os.ReadDir(parent); len(ents) != 1 {
+		t.Errorf("beside the output folder: %v, want out only", ents)
+	}
+	ents, _ := os.ReadDir(out)
+	var names []string
+	for _, e := range ents {
+		names = append(names, e.Name())
+	}
+	if strings.Join(names, " ") != strings.Join(compareOutputs, " ") {
+		t.Errorf("output folder holds %v, want %v", names, compareOutputs)
+	}
+	xlsx, err := os.ReadFile(filepath.Join(out, "comparison.xlsx"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	f, err := excelize.OpenReader(bytes.NewReader(xlsx))
+	if err != nil {
+		t.Fatalf("comparison.xlsx: %v", err)
+	}
+	defer f.Close()
+	if rows, err := f.GetRows("Comparison"); err != nil || len(rows) < 10 {
+		t.Errorf("comparison.xlsx Comparison sheet: %d rows, %v", len(rows), err)
+	}
+	if pdf, err := os.ReadFile(filepath.Join(out, "comparison.pdf")); err != nil || !bytes.HasSuffix(bytes.TrimSpace(pdf), []byte("%%EOF")) {
+		t.Errorf("comparison.pdf is not a whole PDF: %v", err)
+	}
+}
