@@ -177,7 +177,12 @@ func writeTax(b *Book, m *Model) error {
 		return err
 	}
 	money := func(v float64) any { return b.Cell(b.Style.Money, v) }
+	idle := 0 // grants with no difference and no asset at either date
 	for _, g := range x.ByGrant {
+		if g.BasisAtPeriodStart == 0 && g.Basis == 0 && g.Cost == 0 && g.AssetAtPeriodStart == 0 && g.Asset == 0 && g.Equity == 0 {
+			idle++
+			continue
+		}
 		if err := t.Row("grant", b.Text(g.GrantID), nil, nil, nil, nil, money(g.BasisAtPeriodStart), money(g.Basis), money(g.Cost),
 			money(g.AssetAtPeriodStart), money(g.Asset), money(g.Equity), nil, nil, nil, nil, nil, nil); err != nil {
 			return err
@@ -201,8 +206,19 @@ func writeTax(b *Book, m *Model) error {
 		}
 	}
 	if err := t.Row(b.Cell(b.Style.Bold, "total"), nil, nil, nil, nil, nil, nil, nil, nil, money(x.AssetAtPeriodStart), money(x.Asset), money(x.Equity),
-		nil, nil, nil, nil, nil, fmt.Sprintf("deferred tax benefit of the period %s; to equity %s", groupDigits(x.Benefit, 2), groupDigits(x.ToEquity, 2))); err != nil {
+		nil, nil, nil, nil, nil, taxTotalNote(x, idle)); err != nil {
 		return err
 	}
 	return t.Close()
+}
+
+// taxTotalNote is the Income tax sheet's total line's note: the period's
+// benefit, what went to equity, and how many deductible grants are left
+// out for having nothing outstanding at either date.
+func taxTotalNote(x *Tax, idle int) string {
+	note := fmt.Sprintf("deferred tax benefit of the period %s; to equity %s", groupDigits(x.Benefit, 2), groupDigits(x.ToEquity, 2))
+	if idle > 0 {
+		note += fmt.Sprintf("; %d deductible %s with no temporary difference at either date not listed", idle, map[bool]string{true: "grant", false: "grants"}[idle == 1])
+	}
+	return note
 }

@@ -531,3 +531,46 @@ func BenchmarkValueSample(b *testing.B) {
 		}
 	}
 }
+
+// The Income tax sheet lists each deductible grant that has a temporary
+// difference or an asset at either date, and counts the others in its
+// total line instead of a row of zeros each (the sample has one: TW-006,
+// exercised and expired before the period).
+func TestValueSampleTaxSheetSkipsIdleGrants(t *testing.T) {
+	_, _, xb, js := valueSample(t)
+	var m report.Model
+	if err := json.Unmarshal(js, &m); err != nil {
+		t.Fatal(err)
+	}
+	x := m.Expense.Tax
+	idle := 0
+	for _, g := range x.ByGrant {
+		if g.BasisAtPeriodStart == 0 && g.Basis == 0 && g.Cost == 0 && g.AssetAtPeriodStart == 0 && g.Asset == 0 && g.Equity == 0 {
+			idle++
+		}
+	}
+	if idle == 0 {
+		t.Fatal("the sample has no deductible grant with nothing outstanding: the test needs one")
+	}
+	f, err := excelize.OpenReader(bytes.NewReader(xb))
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	rows, err := f.GetRows(report.SheetTax)
+	if err != nil {
+		t.Fatal(err)
+	}
+	listed, total := 0, ""
+	for _, r := range rows {
+		if len(r) > 0 && r[0] == "grant" {
+			listed++
+		}
+		if len(r) > 0 && r[0] == "total" {
+			total = r[len(r)-1]
+		}
+	}
+	if listed != len(x.ByGrant)-idle || !strings.Contains(total, fmt.Sprintf("%d deductible grant", idle)) {
+		t.Errorf("%d grant rows of %d deductible grants, %d idle; total note %q", listed, len(x.ByGrant), idle, total)
+	}
+}
