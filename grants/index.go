@@ -95,6 +95,22 @@ func (ix *index) curveOn(d time.Time) (*indexedCurve, bool) {
 	return &ix.curves[i-1], true
 }
 
+// ofGrant are the rows of one grant, in sheet order: at the positions the
+// index holds for it (at) when the index is fresh (ix not nil), else by
+// a scan comparing each row's grantID with id.
+func ofGrant[T any](rows []T, ix *index, at func(*index) []int32, id string, grantID func(*T) string) []T {
+	if ix != nil {
+		return rowsAt(rows, at(ix))
+	}
+	var out []T
+	for i := range rows {
+		if grantID(&rows[i]) == id {
+			out = append(out, rows[i])
+		}
+	}
+	return out
+}
+
 // rowsAt are the rows of rows at positions at.
 func rowsAt[T any](rows []T, at []int32) []T {
 	if len(at) == 0 {

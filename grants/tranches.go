@@ -110,47 +110,20 @@ func customTranches(g Grant, rows []VestRow) []Tranche {
 }
 
 func (s *Schedule) vestRows(id string) []VestRow {
-	if ix := s.fresh(); ix != nil {
-		return rowsAt(s.Vesting, ix.vestOf[id])
-	}
-	var out []VestRow
-	for _, v := range s.Vesting {
-		if v.GrantID == id {
-			out = append(out, v)
-		}
-	}
-	return out
+	return ofGrant(s.Vesting, s.fresh(), func(ix *index) []int32 { return ix.vestOf[id] }, id, func(v *VestRow) string { return v.GrantID })
 }
 
 // EventsOf returns the events of grant id in date order (rows on the same
 // date in sheet order).
 func (s *Schedule) EventsOf(id string) []Event {
-	var out []Event
-	if ix := s.fresh(); ix != nil {
-		out = rowsAt(s.Events, ix.eventsOf[id])
-	} else {
-		for _, e := range s.Events {
-			if e.GrantID == id {
-				out = append(out, e)
-			}
-		}
-	}
+	out := ofGrant(s.Events, s.fresh(), func(ix *index) []int32 { return ix.eventsOf[id] }, id, func(e *Event) string { return e.GrantID })
 	sort.SliceStable(out, func(i, j int) bool { return out[i].Date.Before(out[j].Date) })
 	return out
 }
 
 // TransfersOf returns the Transfers rows of grant id in date order.
 func (s *Schedule) TransfersOf(id string) []Transfer {
-	var out []Transfer
-	if ix := s.fresh(); ix != nil {
-		out = rowsAt(s.Transfers, ix.transfersOf[id])
-	} else {
-		for _, t := range s.Transfers {
-			if t.GrantID == id {
-				out = append(out, t)
-			}
-		}
-	}
+	out := ofGrant(s.Transfers, s.fresh(), func(ix *index) []int32 { return ix.transfersOf[id] }, id, func(t *Transfer) string { return t.GrantID })
 	sort.SliceStable(out, func(i, j int) bool { return out[i].Date.Before(out[j].Date) })
 	return out
 }
