@@ -593,10 +593,7 @@ func (t *tableReader) modificationRow(c *rowCtx) {
 	m.Shares, _ = c.integer("shares", false)
 	m.Note, _ = c.text("note")
 	m.Refs = c.refs
-	if c.failed {
-		if m.GrantID != "" {
-			t.rep.skip[m.GrantID] = true
-		}
+	if !c.keep(m.GrantID) {
 		return
 	}
 	t.s.Modifications = append(t.s.Modifications, m)

@@ -494,6 +494,16 @@ type rowCtx struct {
 	failed bool
 }
 
+// keep reports whether the row read cleanly. A row that did not marks
+// the grant it names, so that the grant's later checks are skipped instead
+// of cascading from the row that is missing.
+func (c *rowCtx) keep(grantID string) bool {
+	if c.failed && grantID != "" {
+		c.t.rep.skip[grantID] = true
+	}
+	return !c.failed
+}
+
 func (c *rowCtx) ref(key string) Ref {
 	if i, ok := c.cols[key]; ok {
 		return Ref{Sheet: c.t.sh.Name, Cell: cellName(i+1, c.row)}
@@ -746,10 +756,7 @@ func (t *tableReader) vestRow(c *rowCtx) {
 	v.GrantID, _ = c.required("grant_id")
 	v.VestDate, _ = c.date("vest_date", true)
 	v.Shares, _ = c.integer("shares", true)
-	if c.failed {
-		if v.GrantID != "" {
-			t.rep.skip[v.GrantID] = true
-		}
+	if !c.keep(v.GrantID) {
 		return
 	}
 	t.s.Vesting = append(t.s.Vesting, v)
@@ -760,10 +767,7 @@ func (t *tableReader) transferRow(c *rowCtx) {
 	tr.GrantID, _ = c.required("grant_id")
 	tr.Date, _ = c.date("date", true)
 	tr.CostCenter, _ = c.required("cost_center")
-	if c.failed {
-		if tr.GrantID != "" {
-			t.rep.skip[tr.GrantID] = true
-		}
+	if !c.keep(tr.GrantID) {
 		return
 	}
 	t.s.Transfers = append(t.s.Transfers, tr)
@@ -817,10 +821,7 @@ func (t *tableReader) eventRow(c *rowCtx) {
 	e.Shares, _ = c.integer("shares", true)
 	e.SharePrice = c.ptr("share_price", false)
 	e.ReplacementGrantID, _ = c.text("replacement_grant_id")
-	if c.failed {
-		if e.GrantID != "" {
-			t.rep.skip[e.GrantID] = true
-		}
+	if !c.keep(e.GrantID) {
 		return
 	}
 	t.s.Events = append(t.s.Events, e)
