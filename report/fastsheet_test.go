@@ -12,6 +12,22 @@ import (
 	"github.com/xuri/excelize/v2"
 )
 
+// renderBothWays writes m's workbook with the fast sheet writers and again
+// with every sheet through excelize, and returns both zips' entries.
+func renderBothWays(t *testing.T, m *Model) (fast, slow map[string][]byte) {
+	t.Helper()
+	render := func(slow bool) map[string][]byte {
+		slowSheets = slow
+		defer func() { slowSheets = false }()
+		var buf bytes.Buffer
+		if err := WriteWorkbook(&buf, m); err != nil {
+			t.Fatal(err)
+		}
+		return zipEntries(t, buf.Bytes())
+	}
+	return render(false), render(true)
+}
+
 func zipEntries(t *testing.T, b []byte) map[string][]byte {
 	t.Helper()
 	zr, err := zip.NewReader(bytes.NewReader(b), int64(len(b)))
@@ -55,16 +71,7 @@ func TestFastTrancheRowsMatchExcelize(t *testing.T) {
 	if !trancheRowsPlain(m) {
 		t.Fatal("the test model does not take the fast rows")
 	}
-	render := func(slow bool) map[string][]byte {
-		slowSheets = slow
-		defer func() { slowSheets = false }()
-		var buf bytes.Buffer
-		if err := WriteWorkbook(&buf, m); err != nil {
-			t.Fatal(err)
-		}
-		return zipEntries(t, buf.Bytes())
-	}
-	fast, slow := render(false), render(true)
+	fast, slow := renderBothWays(t, m)
 	if len(fast) != len(slow) {
 		t.Fatalf("%d entries fast, %d through excelize", len(fast), len(slow))
 	}

@@ -43,16 +43,7 @@ func TestFastExpenseRowsMatchExcelize(t *testing.T) {
 		if limit != MaxSheetRows {
 			lowerRowLimit(t, limit)
 		}
-		render := func(slow bool) map[string][]byte {
-			slowSheets = slow
-			defer func() { slowSheets = false }()
-			var buf bytes.Buffer
-			if err := WriteWorkbook(&buf, m); err != nil {
-				t.Fatal(err)
-			}
-			return zipEntries(t, buf.Bytes())
-		}
-		fast, slow := render(false), render(true)
+		fast, slow := renderBothWays(t, m)
 		if len(fast) != len(slow) {
 			t.Fatalf("limit %d: %d entries fast, %d through excelize", limit, len(fast), len(slow))
 		}
