@@ -8,6 +8,7 @@ import (
 	"io/fs"
 	"os"
 	"path/filepath"
+	"runtime"
 	"runtime/pprof"
 	"strings"
 	"sync"
@@ -36,6 +37,7 @@ type valueOptions struct {
 	correct       []string
 	force         bool
 	cpuProfile    string
+	memProfile    string
 }
 
 func newValueCmd(ios *IO) *cobra.Command {
@@ -94,6 +96,10 @@ IFRS 2 or local rules).`,
 	// For developers: a CPU profile of the run, for go tool pprof.
 	cmd.Flags().StringVar(&opts.cpuProfile, "cpuprofile", "", "write a CPU profile to this file")
 	_ = cmd.Flags().MarkHidden("cpuprofile")
+	// For developers: a heap profile of what is live once the report's
+	// model is built, just before the files are written, for go tool pprof.
+	cmd.Flags().StringVar(&opts.memProfile, "memprofile", "", "write a heap profile, taken before the files are written, to this file")
+	_ = cmd.Flags().MarkHidden("memprofile")
 	return cmd
 }
 
@@ -264,6 +270,11 @@ func runValue(o *valueOptions) error {
 		return err
 	}
 	m.Warnings = uniqueWarnings(m.Warnings)
+	if o.memProfile != "" {
+		if err := writeHeapProfile(o.memProfile); err != nil {
+			return err
+		}
+	}
 	files := outputs(m, out.tempDir())
 	if o.io.ErrIsTerminal {
 		var mu sync.Mutex // the files are written at the same time
@@ -284,6 +295,20 @@ func runValue(o *valueOptions) error {
 	printWarnings(o.io.Err, m.Warnings)
 	printSummary(o.io.Out, m, o.out)
 	return nil
+}
+
+// writeHeapProfile writes the live heap's profile to path (--memprofile).
+func writeHeapProfile(path string) error {
+	f, err := os.Create(path)
+	if err != nil {
+		return err
+	}
+	runtime.GC() // the profile's in-use figures are those of the last collection
+	if err := pprof.WriteHeapProfile(f); err != nil {
+		f.Close()
+		return err
+	}
+	return f.Close()
 }
 
 // stage labels this goroutine, and those it starts from now on, with
