@@ -234,7 +234,11 @@ func WriteWorkbookWith(w io.Writer, m *Model, o WorkbookOptions) error {
 			return fmt.Errorf("workbook sheet %s: %w", s.Name, err)
 		}
 	}
-	f.SetActiveSheet(0)
+	// No SetActiveSheet: a new file's first sheet is already the selected
+	// tab (tabSelected in its sheet view, activeTab 0 by default), and
+	// excelize's SetActiveSheet parses every sheet's XML to say so, the
+	// streamed ones included (a large ledger's tens of megabytes of
+	// Assumptions), only to throw the result away.
 	var none bytes.Buffer
 	if err := f.Write(&none); err != nil {
 		return err
