@@ -3,7 +3,6 @@ package report
 import (
 	"fmt"
 	"io"
-	"strconv"
 	"strings"
 
 	"github.com/xuri/excelize/v2"
@@ -540,20 +539,13 @@ func (x *expenseSheet) fast(from, to int, total, withTranches bool) fastRows {
 	return func(out io.Writer) error {
 		b, e := x.b, x.e
 		s := b.Style
-		w := &rowWriter{b: make([]byte, 0, 8192), round: b.roundCell}
+		w := b.newRowWriter(out)
 		row := 1
 		start := func() {
 			row++
-			w.row = strconv.AppendInt(w.row[:0], int64(row), 10)
-			w.b = append(w.b[:0], `<row r="`...)
-			w.b = append(w.b, w.row...)
-			w.b = append(w.b, `">`...)
+			_ = w.start(row, 0)
 		}
-		end := func() error {
-			w.b = append(w.b, `</row>`...)
-			_, err := out.Write(w.b)
-			return err
-		}
+		end := w.end
 		for i := from; i < to; i++ {
 			g := &e.ByGrant[i]
 			if total {
@@ -624,6 +616,6 @@ func (x *expenseSheet) fast(from, to int, total, withTranches bool) fastRows {
 				return err
 			}
 		}
-		return nil
+		return w.flush()
 	}
 }

@@ -5,6 +5,7 @@ import (
 	"bytes"
 	"io"
 	"math"
+	"math/rand/v2"
 	"strings"
 	"testing"
 	"time"
@@ -157,5 +158,52 @@ func TestFastTrancheRowsRefuseAwkwardValues(t *testing.T) {
 	m.Grants[0].Tranches[0].ErrorEstimate = math.NaN()
 	if trancheRowsPlain(m) {
 		t.Error("a NaN would be written by the fast rows")
+	}
+}
+
+// The digits of a rounded value written from its scaled whole number
+// (appendScaled) are those of the shortest-decimal search excelize makes
+// (appendCellFloat of the value Book.roundCell gives), for values of every
+// size and sign, at each style's decimals, around the 10^15 bound, at
+// halves and at the values sums of money leave (129999.999999999).
+func TestAppendScaledMatchesShortestDecimal(t *testing.T) {
+	rng := rand.New(rand.NewPCG(3, 4))
+	var vs []float64
+	for i := 0; i < 200000; i++ {
+		mag := math.Pow10(rng.IntN(36) - 18)
+		v := rng.Float64() * mag
+		if rng.IntN(2) == 0 {
+			v = -v
+		}
+		vs = append(vs, v)
+	}
+	for d := 0; d <= 8; d++ {
+		p := math.Pow10(d)
+		for _, k := range []float64{1, 5, 9, 10, 99, 999999999999999, 1e15 - 1, 1e15, 1e15 + 1, 123456789012345, 4503599627370496} {
+			vs = append(vs, k/p, -k/p, (k+0.5)/p, math.Nextafter(k/p, 0), math.Nextafter(k/p, 2*k/p))
+		}
+	}
+	vs = append(vs, 0, math.Copysign(0, -1), 129999.999999999, 0.1+0.2, 1e-9, 5e-9, math.MaxFloat64, math.SmallestNonzeroFloat64,
+		math.NaN(), math.Inf(1), math.Inf(-1))
+	scaled := 0
+	for d := 0; d <= 8; d++ {
+		for _, v := range vs {
+			want := string(appendCellFloat(nil, roundTo(d, v)))
+			var got []byte
+			if appendScaled(&got, v, d, false) {
+				scaled++
+				if string(got) != want {
+					t.Fatalf("v %v to %d decimals: scaled %q, shortest %q", v, d, got, want)
+				}
+			}
+			r := roundTo(d, v)
+			got = got[:0]
+			if appendScaled(&got, r, d, true) && string(got) != string(appendCellFloat(nil, r)) {
+				t.Fatalf("rounded %v to %d decimals: scaled %q, shortest %q", r, d, got, appendCellFloat(nil, r))
+			}
+		}
+	}
+	if scaled < len(vs) {
+		t.Errorf("only %d of %d values took the scaled path", scaled, 9*len(vs))
 	}
 }

@@ -343,12 +343,7 @@ func spliceRows(zw *zip.Writer, zf *zip.File, h zip.FileHeader, fast []fastRows)
 	if _, err := dst.Write(data[:i]); err != nil {
 		return false, err
 	}
-	// Large writes: the compressor works in pieces of a megabyte.
-	bw := bufio.NewWriterSize(dst, 1<<20)
-	if err := fast[k](bw); err != nil {
-		return false, err
-	}
-	if err := bw.Flush(); err != nil {
+	if err := fast[k](dst); err != nil {
 		return false, err
 	}
 	_, err = dst.Write(data[end:])
@@ -788,20 +783,45 @@ const (
 // RSU's comparison value is the share price less the dividends forgone to
 // vesting, and has no d1 or d2.
 func bsmFormulas(row int, instrument string) (d1, d2, value string) {
-	// Plain concatenation rather than fmt: this runs for every tranche of
-	// a ledger that may have hundreds of thousands.
 	n := strconv.Itoa(row)
-	c := func(col string) string { return col + n }
 	if instrument == RSU {
-		return "", "", c(colSpot) + "*EXP(-" + c(colDiv) + "*" + c(colVest) + ")"
+		return "", "", bsmRSU.at(n)
 	}
-	d1 = "(LN(" + c(colSpot) + "/" + c(colStrike) + ")+(" + c(colRate) + "-" + c(colDiv) + "+" + c(colVol) + "^2/2)*" + c(colTerm) +
-		")/(" + c(colVol) + "*SQRT(" + c(colTerm) + "))"
-	d2 = c(colD1) + "-" + c(colVol) + "*SQRT(" + c(colTerm) + ")"
-	value = c(colSpot) + "*EXP(-" + c(colDiv) + "*" + c(colTerm) + ")*_xlfn.NORM.S.DIST(" + c(colD1) + ",TRUE)-" +
-		c(colStrike) + "*EXP(-" + c(colRate) + "*" + c(colTerm) + ")*_xlfn.NORM.S.DIST(" + c(colD2) + ",TRUE)"
-	return d1, d2, value
+	return bsmD1.at(n), bsmD2.at(n), bsmValue.at(n)
 }
+
+// rowFormula is a formula of a Tranches row: its text cut where the row
+// number goes, so that a row's formula is written without building it
+// (trancheRows) and contains no character XML escapes.
+type rowFormula []string
+
+// at is the formula on row n.
+func (f rowFormula) at(n string) string { return strings.Join(f, n) }
+
+// newRowFormula is the formula of the cells of columns cols on the same
+// row: each "%" of text stands for the next column's cell.
+func newRowFormula(text string, cols ...string) rowFormula {
+	parts := strings.Split(text, "%")
+	if len(parts) != len(cols)+1 {
+		panic("newRowFormula: " + text)
+	}
+	f := rowFormula{parts[0]}
+	for i, col := range cols {
+		f[len(f)-1] += col
+		f = append(f, parts[i+1])
+	}
+	return f
+}
+
+// The simplified-method formulas of a Tranches row.
+var (
+	bsmD1 = newRowFormula("(LN(%/%)+(%-%+%^2/2)*%)/(%*SQRT(%))",
+		colSpot, colStrike, colRate, colDiv, colVol, colTerm, colVol, colTerm)
+	bsmD2    = newRowFormula("%-%*SQRT(%)", colD1, colVol, colTerm)
+	bsmValue = newRowFormula("%*EXP(-%*%)*_xlfn.NORM.S.DIST(%,TRUE)-%*EXP(-%*%)*_xlfn.NORM.S.DIST(%,TRUE)",
+		colSpot, colDiv, colTerm, colD1, colStrike, colRate, colTerm, colD2)
+	bsmRSU = newRowFormula("%*EXP(-%*%)", colSpot, colDiv, colVest)
+)
 
 // trancheAmountColumns are the columns of TrancheColumns (0-based) in
 // the currency, which their headers name.
