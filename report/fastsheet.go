@@ -3,6 +3,7 @@ package report
 import (
 	"bytes"
 	"encoding/xml"
+	"fmt"
 	"io"
 	"math"
 	"regexp"
@@ -15,18 +16,30 @@ import (
 	"github.com/xuri/excelize/v2"
 )
 
-// The Tranches sheet of a large ledger has a row per tranche, hundreds of
-// thousands of rows of 26 cells, and excelize's stream writer spent most
-// of the workbook's time on it cell by cell. When every value on the sheet
-// is of a kind written here (any text, escaped as excelize escapes it;
-// finite numbers; dates after 1900-02-28), its rows are written here instead,
-// byte for byte as the stream writer writes them: excelize writes the
-// sheet with the header and a placeholder row, and canonicalZip writes
-// the rows in the placeholder's place as it copies the archive. Otherwise the
-// sheet goes through excelize as every other sheet does. A test checks
-// that both ways give the same sheet XML.
+// The sheets with a row per tranche, grant or input of a large ledger
+// (Tranches, Expense, Assumptions, Grants, ...) have hundreds of
+// thousands of rows, and excelize's stream writer spent most of the
+// workbook's time on them cell by cell, then wrote them to a temporary
+// file and read them back. Their rows are written here instead, byte for
+// byte as the stream writer writes them: excelize writes the sheet with
+// the header and a placeholder row, and canonicalZip writes the rows in
+// the placeholder's place as it copies the archive, straight into its
+// compressor. Two ways:
+//
+//   - Book.rows runs a sheet's own row loop later, with a Table that
+//     encodes each row's values itself (rowWriter.cell) instead of
+//     handing them to excelize: one loop for both ways.
+//   - The Tranches and Expense rows, the largest, have writers of their
+//     own that skip the boxing of every value (trancheRows,
+//     expenseSheet.fast), used when every value on the sheet is of a
+//     kind written here (any text, escaped as excelize escapes it;
+//     finite numbers; dates after 1900-02-28); otherwise the sheet goes
+//     through excelize as the others do.
+//
+// A test writes every sheet both ways and checks that they give the same
+// XML.
 
-// slowSheets, set by a test, sends the Tranches sheet through excelize.
+// slowSheets, set by a test, sends every sheet through excelize.
 var slowSheets = false
 
 // rowsToken begins the placeholder cell's text; the number of the rows
@@ -47,13 +60,36 @@ type fastRows func(w io.Writer) error
 
 // fastTable writes the data rows of table t with rows in place of
 // excelize, and closes it: the rows are written as the archive is put in
-// order (canonicalZip).
+// order (canonicalZip), numbered from row 2.
 func (b *Book) fastTable(t *Table, rows fastRows) error {
 	if err := t.Row(placeholder(len(b.fast))); err != nil {
 		return err
 	}
 	b.fast = append(b.fast, rows)
 	return t.Close()
+}
+
+// rows writes the data rows of table t, which has only its header, with
+// write, and closes t. Through excelize (Book.slow) write runs now;
+// otherwise it runs as the archive is put in order, with a Table of its
+// own that encodes the rows in excelize's form (rowWriter.cell), so it
+// must not depend on anything that changes after this call. write uses
+// Row, TallRow, Skip and RowNum; Merge is not offered on that path.
+func (b *Book) rows(t *Table, write func(t *Table) error) error {
+	if b.slow {
+		if err := write(t); err != nil {
+			return err
+		}
+		return t.Close()
+	}
+	row, cols := t.row, t.cols // the header's
+	return b.fastTable(t, func(out io.Writer) error {
+		ft := &Table{row: row, cols: cols, fast: b.newRowWriter(out)}
+		if err := write(ft); err != nil {
+			return err
+		}
+		return ft.fast.flush()
+	})
 }
 
 // findPlaceholder returns where the placeholder row in data begins and
@@ -330,6 +366,16 @@ func (w *rowWriter) float(col, s int, v float64) {
 	w.close()
 }
 
+// number writes v as it is, as excelize writes a float64 (v was rounded
+// by Book.Cell, or is of a style that keeps every digit).
+func (w *rowWriter) number(col, s int, v float64) {
+	w.open(col, s)
+	if d := w.decimals(s); d < 0 || !appendScaled(&w.b, v, d, true) {
+		w.b = appendCellFloat(w.b, v)
+	}
+	w.close()
+}
+
 func (w *rowWriter) decimals(s int) int {
 	if s >= 0 && s < len(w.dec) {
 		return int(w.dec[s])
@@ -435,6 +481,84 @@ func (w *rowWriter) formula(col, s int, f string) {
 		w.b = append(w.b, f...)
 	}
 	w.b = append(w.b, `</f></c>`...)
+}
+
+// cell appends v at column col as excelize's StreamWriter.SetRow writes
+// it, for the kinds of value the sheets pass: nil (no cell), text, whole
+// numbers, float64, time.Time (with a style) and excelize.Cell holding
+// one of them or a formula alone. Any other is an error: it would be
+// written differently from excelize.
+func (w *rowWriter) cell(col int, v any) error {
+	s := 0
+	switch c := v.(type) {
+	case nil:
+		return nil
+	case excelize.Cell:
+		s, v = c.StyleID, c.Value
+		if c.Formula != "" {
+			return w.formulaCell(col, s, c)
+		}
+	case *excelize.Cell:
+		if c != nil {
+			s, v = c.StyleID, c.Value
+			if c.Formula != "" {
+				return w.formulaCell(col, s, *c)
+			}
+		}
+	}
+	switch x := v.(type) {
+	case nil: // a cell with a style and nothing in it
+		w.b = append(w.b, `<c`...)
+		w.ref(col)
+		w.style(s)
+		w.b = append(w.b, `></c>`...)
+	case string:
+		w.text(col, s, x)
+	case int:
+		w.int(col, s, int64(x))
+	case int64:
+		w.int(col, s, x)
+	case int32:
+		w.int(col, s, int64(x))
+	case float64:
+		if math.IsNaN(x) || math.IsInf(x, 0) {
+			w.text(col, s, fmt.Sprint(x))
+		} else {
+			w.number(col, s, x)
+		}
+	case time.Time:
+		// A style of ours (excelize would add one), midnight UTC from
+		// the 1st of March 1900 on: a whole serial number.
+		if s <= 0 || x.Location() != time.UTC || x.Before(excelFirstDay) || !x.Before(excelLastDay) || x.Truncate(24*time.Hour) != x {
+			return fmt.Errorf("workbook: the fast rows do not write the time %v (style %d)", x, s)
+		}
+		w.int(col, s, excelDays(x))
+	default:
+		return fmt.Errorf("workbook: the fast rows do not write a %T", v)
+	}
+	return nil
+}
+
+func (w *rowWriter) formulaCell(col, s int, c excelize.Cell) error {
+	if c.Value != nil {
+		return fmt.Errorf("workbook: the fast rows do not write a formula with a value")
+	}
+	w.formula(col, s, c.Formula)
+	return nil
+}
+
+// values writes row r of values from column A, height points tall (0:
+// the default), as StreamWriter.SetRow writes it.
+func (w *rowWriter) values(r int, height float64, values []any) error {
+	if err := w.start(r, height); err != nil {
+		return err
+	}
+	for i, v := range values {
+		if err := w.cell(i+1, v); err != nil {
+			return err
+		}
+	}
+	return w.end()
 }
 
 // appendCellFloat writes v as excelize does: the shortest decimal form,

@@ -144,6 +144,9 @@ type Table struct {
 	sw   *excelize.StreamWriter
 	row  int
 	cols int
+	// fast, on the fast path of Book.rows, writes the rows in sw's
+	// place.
+	fast *rowWriter
 }
 
 // WriteWorkbook writes valuation.xlsx. Every number comes from the Model;
@@ -493,22 +496,29 @@ func (b *Book) NewTableSpan(name string, cols []Column, rows, lastRow, lastCol i
 
 // Row appends one row. Values are excelize.Cell (for a style or formula),
 // numbers, or strings; use Book.Text for text from the input.
-func (t *Table) Row(values ...any) error {
-	cutCells(values)
-	t.row++
-	return t.sw.SetRow("A"+strconv.Itoa(t.row), values)
-}
+func (t *Table) Row(values ...any) error { return t.put(0, values) }
 
 // TallRow appends one row of the given height in points.
-func (t *Table) TallRow(height float64, values ...any) error {
+func (t *Table) TallRow(height float64, values ...any) error { return t.put(height, values) }
+
+func (t *Table) put(height float64, values []any) error {
 	cutCells(values)
 	t.row++
-	return t.sw.SetRow("A"+strconv.Itoa(t.row), values, excelize.RowOpts{Height: height})
+	if t.fast != nil {
+		return t.fast.values(t.row, height, values)
+	}
+	if height != 0 {
+		return t.sw.SetRow("A"+strconv.Itoa(t.row), values, excelize.RowOpts{Height: height})
+	}
+	return t.sw.SetRow("A"+strconv.Itoa(t.row), values)
 }
 
 // Merge merges the cells from column first to column last (1-based) of the
 // last row written.
 func (t *Table) Merge(first, last int) error {
+	if t.fast != nil {
+		return fmt.Errorf("workbook: no merged cells on the fast rows")
+	}
 	a, err := excelize.CoordinatesToCellName(first, t.row)
 	if err != nil {
 		return err
@@ -527,7 +537,12 @@ func (t *Table) Skip(n int) { t.row += n }
 func (t *Table) RowNum() int { return t.row }
 
 // Close finishes the sheet.
-func (t *Table) Close() error { return t.sw.Flush() }
+func (t *Table) Close() error {
+	if t.fast != nil {
+		return t.fast.flush()
+	}
+	return t.sw.Flush()
+}
 
 // Text is a text cell for a value that came from the input: stored as an
 // inline string with the text number format, so it can never be read as a
@@ -698,28 +713,34 @@ func writeAssumptions(b *Book, m *Model) error {
 		if err != nil {
 			return err
 		}
-		for _, a := range as[:rows] {
-			grant := a.GrantID
-			if grant == "" {
-				grant = "(all)"
-			}
-			src := b.Text(a.Source)
-			cells := []any{b.Text(grant), b.Text(a.Name), b.valueCell(a), b.Text(a.Text), b.Text(a.Ref), b.DateCell(a.EffectiveDate), src}
-			if n := utf8.RuneCountInString(a.Source); float64(n) > cols[6].Width-2 {
-				// Wrapped, in a row as tall as its lines: spreadsheet
-				// programs do not all fit a row's height to wrapped text.
-				src.StyleID = b.Style.WrapInput
-				cells[6] = src
-				if err := t.TallRow(15*math.Ceil(float64(n)/(cols[6].Width-4)), cells...); err != nil {
+		part := as[:rows]
+		err = b.rows(t, func(t *Table) error {
+			cells := make([]any, 7)
+			for _, a := range part {
+				grant := a.GrantID
+				if grant == "" {
+					grant = "(all)"
+				}
+				src := b.Text(a.Source)
+				cells[0], cells[1], cells[2], cells[3], cells[4], cells[5], cells[6] =
+					b.Text(grant), b.Text(a.Name), b.valueCell(a), b.Text(a.Text), b.Text(a.Ref), b.DateCell(a.EffectiveDate), src
+				if n := utf8.RuneCountInString(a.Source); float64(n) > cols[6].Width-2 {
+					// Wrapped, in a row as tall as its lines: spreadsheet
+					// programs do not all fit a row's height to wrapped text.
+					src.StyleID = b.Style.WrapInput
+					cells[6] = src
+					if err := t.TallRow(15*math.Ceil(float64(n)/(cols[6].Width-4)), cells...); err != nil {
+						return err
+					}
+					continue
+				}
+				if err := t.Row(cells...); err != nil {
 					return err
 				}
-				continue
 			}
-			if err := t.Row(cells...); err != nil {
-				return err
-			}
-		}
-		if err := t.Close(); err != nil {
+			return nil
+		})
+		if err != nil {
 			return err
 		}
 		as = as[rows:]
@@ -743,23 +764,25 @@ func writeGrants(b *Book, m *Model) error {
 		return err
 	}
 	s := b.Style
-	for _, g := range m.Grants {
-		var class any
-		if g.Classification != "" {
-			class = b.Text(g.Classification)
+	return b.rows(t, func(t *Table) error {
+		for _, g := range m.Grants {
+			var class any
+			if g.Classification != "" {
+				class = b.Text(g.Classification)
+			}
+			if err := t.Row(b.Text(g.ID), b.Text(g.Holder), b.Text(g.Instrument), b.DateCell(g.GrantDate),
+				b.DateCell(g.MeasurementDate), b.DateCell(g.ExpiryDate), b.Cell(s.Int, g.Shares),
+				b.Cell(s.MoneyPerShare, g.Strike), b.Cell(s.MoneyPerShare, g.SharePrice), b.Cell(s.Percent, g.Volatility),
+				b.Cell(s.Percent, g.RiskFreeRate), b.Cell(s.Percent, g.DividendYield), b.Cell(s.Number, g.ExerciseMultiple),
+				b.Cell(s.Percent, g.PostVestingExitRate), b.Cell(s.Int, len(g.Tranches)),
+				b.Cell(s.MoneyPerShare, g.FairValuePerShare), b.Cell(s.Money, g.FairValueTotal),
+				b.Cell(s.Money, g.BSMSimplifiedTotal), b.Cell(s.Money, g.FairValueTotal-g.BSMSimplifiedTotal),
+				b.Text(g.Method), class, g.Purpose, b.DateCell(g.HireDate)); err != nil {
+				return err
+			}
 		}
-		if err := t.Row(b.Text(g.ID), b.Text(g.Holder), b.Text(g.Instrument), b.DateCell(g.GrantDate),
-			b.DateCell(g.MeasurementDate), b.DateCell(g.ExpiryDate), b.Cell(s.Int, g.Shares),
-			b.Cell(s.MoneyPerShare, g.Strike), b.Cell(s.MoneyPerShare, g.SharePrice), b.Cell(s.Percent, g.Volatility),
-			b.Cell(s.Percent, g.RiskFreeRate), b.Cell(s.Percent, g.DividendYield), b.Cell(s.Number, g.ExerciseMultiple),
-			b.Cell(s.Percent, g.PostVestingExitRate), b.Cell(s.Int, len(g.Tranches)),
-			b.Cell(s.MoneyPerShare, g.FairValuePerShare), b.Cell(s.Money, g.FairValueTotal),
-			b.Cell(s.Money, g.BSMSimplifiedTotal), b.Cell(s.Money, g.FairValueTotal-g.BSMSimplifiedTotal),
-			b.Text(g.Method), class, g.Purpose, b.DateCell(g.HireDate)); err != nil {
-			return err
-		}
-	}
-	return t.Close()
+		return nil
+	})
 }
 
 // Tranches sheet columns, by letter, for the formulas.
