@@ -264,19 +264,21 @@ func writeFinancing(b *Book, m *Model) error {
 		return t.Close()
 	}
 	s := b.Style
-	for _, w := range e.Financing {
-		row := []any{b.Text(w.GrantID), b.Text(w.Holder), w.Classification, b.DateCell(w.IssueDate), b.Cell(s.Int, w.Shares),
-			b.Cell(s.MoneyPerShare, w.FairValueAtIssue), b.Cell(s.Money, w.ValueAtIssue), b.Cell(s.Int, w.Outstanding),
-			b.Cell(s.Int, w.Exercised), b.Cell(s.MoneyPerShare, w.FairValue)}
-		if w.Classification == "liability" {
-			row = append(row, b.Cell(s.Money, w.LiabilityOpen), b.Cell(s.Money, w.Issued), b.Cell(s.Money, w.FairValueChange),
-				b.Cell(s.Money, w.Reclassified), b.Cell(s.Money, w.LiabilityEnd))
+	return b.rows(t, func(t *Table) error {
+		for _, w := range e.Financing {
+			row := []any{b.Text(w.GrantID), b.Text(w.Holder), w.Classification, b.DateCell(w.IssueDate), b.Cell(s.Int, w.Shares),
+				b.Cell(s.MoneyPerShare, w.FairValueAtIssue), b.Cell(s.Money, w.ValueAtIssue), b.Cell(s.Int, w.Outstanding),
+				b.Cell(s.Int, w.Exercised), b.Cell(s.MoneyPerShare, w.FairValue)}
+			if w.Classification == "liability" {
+				row = append(row, b.Cell(s.Money, w.LiabilityOpen), b.Cell(s.Money, w.Issued), b.Cell(s.Money, w.FairValueChange),
+					b.Cell(s.Money, w.Reclassified), b.Cell(s.Money, w.LiabilityEnd))
+			}
+			if err := t.Row(row...); err != nil {
+				return err
+			}
 		}
-		if err := t.Row(row...); err != nil {
-			return err
-		}
-	}
-	return t.Close()
+		return nil
+	})
 }
 
 // block is one table of a stacked sheet: its own header row naming
@@ -476,22 +478,26 @@ func writeJournal(b *Book, m *Model) error {
 		if err != nil {
 			return err
 		}
-		for _, j := range e.Journal[from:to] {
-			for _, l := range j.Lines {
-				var dr, cr any
-				if l.Debit != 0 {
-					dr = b.Cell(amount, l.Debit)
-				}
-				if l.Credit != 0 {
-					cr = b.Cell(amount, l.Credit)
-				}
-				if err := t.Row(j.Number, b.DateCell(j.Date), b.Text(l.AccountCode), b.Text(l.Account), b.Text(l.CostCenter), dr, cr,
-					b.Text(m.Company.Currency), b.Text(j.Description), l.Role, b.Text(l.GrantID)); err != nil {
-					return err
+		entries := e.Journal[from:to]
+		err = b.rows(t, func(t *Table) error {
+			for _, j := range entries {
+				for _, l := range j.Lines {
+					var dr, cr any
+					if l.Debit != 0 {
+						dr = b.Cell(amount, l.Debit)
+					}
+					if l.Credit != 0 {
+						cr = b.Cell(amount, l.Credit)
+					}
+					if err := t.Row(j.Number, b.DateCell(j.Date), b.Text(l.AccountCode), b.Text(l.Account), b.Text(l.CostCenter), dr, cr,
+						b.Text(m.Company.Currency), b.Text(j.Description), l.Role, b.Text(l.GrantID)); err != nil {
+						return err
+					}
 				}
 			}
-		}
-		if err := t.Close(); err != nil {
+			return nil
+		})
+		if err != nil {
 			return err
 		}
 		from = to

@@ -101,7 +101,8 @@ func sameBothWays(t *testing.T, label string, m *Model) {
 }
 
 // Every sheet whose rows Book.rows writes apart (Assumptions, Grants,
-// the cost centres, the journal, ...) is the XML excelize writes, with
+// Condition values; the expense sheets are checked with the expense
+// model) is the XML excelize writes, with
 // awkward text and numbers in every column of the Assumptions and Grants
 // sheets: values of every kind, a missing grant and date, a wrapped tall
 // row, a text longer than a cell holds, numbers that are not finite or
@@ -140,6 +141,9 @@ func TestFastSheetRowsMatchExcelize(t *testing.T) {
 	m.Grants[0].HireDate = Date{}
 	m.Grants[1].HireDate = DateOf(time.Date(1900, 3, 1, 0, 0, 0, 0, time.UTC))
 	sameBothWays(t, "", m)
+	// The cost centres, the journal and the financing warrants are in
+	// TestFastExpenseRowsMatchExcelize; the condition values here.
+	sameBothWays(t, "conditions: ", conditioned(t))
 }
 
 // awkwardTexts are texts that excelize escapes one way or another: XML's
