@@ -82,11 +82,11 @@ func (b *Book) rows(t *Table, write func(t *Table) error) error {
 		}
 		return t.Close()
 	}
-	row, cols := t.row, t.cols // the header's
+	row, cols, sheet := t.row, t.cols, t.sheet // the header's
 	return b.fastTable(t, func(out io.Writer) error {
-		ft := &Table{row: row, cols: cols, fast: b.newRowWriter(out)}
+		ft := &Table{sheet: sheet, row: row, cols: cols, fast: b.newRowWriter(out)}
 		if err := write(ft); err != nil {
-			return err
+			return fmt.Errorf("workbook sheet %s: %w", sheet, err)
 		}
 		return ft.fast.flush()
 	})

@@ -141,9 +141,10 @@ func headerHeight(heads []string, widths []float64) float64 {
 // Table writes one sheet: a styled, frozen header row with an autofilter,
 // then rows.
 type Table struct {
-	sw   *excelize.StreamWriter
-	row  int
-	cols int
+	sw    *excelize.StreamWriter
+	sheet string
+	row   int
+	cols  int
 	// fast, on the fast path of Book.rows, writes the rows in sw's
 	// place.
 	fast *rowWriter
@@ -491,7 +492,7 @@ func (b *Book) NewTableSpan(name string, cols []Column, rows, lastRow, lastCol i
 	if err := sw.SetRow("A1", head, excelize.RowOpts{Height: headerHeight(heads, widths)}); err != nil {
 		return nil, err
 	}
-	return &Table{sw: sw, row: 1, cols: len(cols)}, nil
+	return &Table{sw: sw, sheet: name, row: 1, cols: len(cols)}, nil
 }
 
 // Row appends one row. Values are excelize.Cell (for a style or formula),
