@@ -727,10 +727,13 @@ func writeAssumptions(b *Book, m *Model) error {
 					b.Text(grant), b.Text(a.Name), b.valueCell(a), b.Text(a.Text), b.Text(a.Ref), b.DateCell(a.EffectiveDate), src
 				if n := utf8.RuneCountInString(a.Source); float64(n) > cols[6].Width-2 {
 					// Wrapped, in a row as tall as its lines: spreadsheet
-					// programs do not all fit a row's height to wrapped text.
+					// programs do not all fit a row's height to wrapped
+					// text. A row is at most 409 points tall (the file
+					// format's limit); a longer source is shown in part,
+					// the rest a click away.
 					src.StyleID = b.Style.WrapInput
 					cells[6] = src
-					if err := t.TallRow(15*math.Ceil(float64(n)/(cols[6].Width-4)), cells...); err != nil {
+					if err := t.TallRow(min(excelize.MaxRowHeight, 15*math.Ceil(float64(n)/(cols[6].Width-4))), cells...); err != nil {
 						return err
 					}
 					continue
