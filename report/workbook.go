@@ -414,18 +414,10 @@ func (b *Book) Cur(h string) string { return h + " (" + b.cur + ")" }
 // is v.
 func (b *Book) roundCell(style int, v float64) float64 {
 	d, ok := b.decimals[style]
-	if !ok || math.IsNaN(v) || math.IsInf(v, 0) {
+	if !ok {
 		return v
 	}
-	p := math.Pow10(d)
-	r := math.Round(v*p) / p
-	if math.IsInf(r*p, 0) { // too large to scale: keep it
-		return v
-	}
-	if r == 0 {
-		return 0 // no negative zero
-	}
-	return r
+	return roundTo(d, v)
 }
 
 func strPtr(s string) *string { return &s }
