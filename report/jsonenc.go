@@ -203,7 +203,7 @@ func (e *jsonEnc) value(v reflect.Value, depth int) {
 			e.buf = append(e.buf, "null"...)
 		} else {
 			e.buf = append(e.buf, '"')
-			e.buf = d.t.AppendFormat(e.buf, "2006-01-02")
+			e.buf = d.AppendISO(e.buf)
 			e.buf = append(e.buf, '"')
 		}
 		return
