@@ -44,8 +44,9 @@ type scanner struct {
 // that does not fit.
 const scanBuffer = 1 << 20
 
-func newScanner(rd io.Reader, hash io.Writer) *scanner {
-	return &scanner{rd: rd, hash: hash, buf: make([]byte, 0, scanBuffer), mark: -1}
+// newScanner reads rd through a buffer of size bytes (at least 8).
+func newScanner(rd io.Reader, hash io.Writer, size int) *scanner {
+	return &scanner{rd: rd, hash: hash, buf: make([]byte, 0, max(size, 8)), mark: -1}
 }
 
 // A jsonError is where and why a valuation.json cannot be read: a
@@ -89,7 +90,7 @@ func (s *scanner) describe(i int) string {
 		return "the end of the file"
 	}
 	c := s.buf[i]
-	if c >= 0x20 && c < 0x7f {
+	if c < utf8.RuneSelf {
 		return strconv.QuoteRune(rune(c))
 	}
 	return fmt.Sprintf("byte 0x%02x", c)
@@ -415,7 +416,7 @@ func (s *scanner) number() []byte {
 	}
 	tok := s.buf[s.pos : s.pos+i]
 	if n := numberLen(tok); n < len(tok) {
-		s.failAt(s.pos+n, true, "%q is not a number", tok)
+		s.failAt(s.pos, true, "%q is not a number", tok)
 		return nil
 	}
 	s.pos += i

@@ -48,20 +48,21 @@ func ReadPrior(path string) (*accounting.Prior, error) {
 		return nil, err
 	}
 	defer f.Close()
-	return readPrior(f, path, file)
+	return readPrior(f, path, file, scanBuffer)
 }
 
 // readPrior reads a prior close's valuation.json from rd. The file is
 // read once, as a stream (a large ledger's is hundreds of megabytes):
 // what a later close needs is kept as it goes by (priorMembers), the rest
 // only checked to be JSON, and its bytes are hashed on the way. path is
-// the prior as given, file the valuation.json read, for the messages.
-func readPrior(rd io.Reader, path, file string) (*accounting.Prior, error) {
+// the prior as given, file the valuation.json read, for the messages;
+// bufSize the scanner's buffer (tests make it small).
+func readPrior(rd io.Reader, path, file string, bufSize int) (*accounting.Prior, error) {
 	refuse := func(format string, args ...any) error {
 		return &accounting.PriorError{Msg: "prior close " + path + ": " + fmt.Sprintf(format, args...)}
 	}
 	h := sha256.New()
-	s := newScanner(rd, h)
+	s := newScanner(rd, h, bufSize)
 	r := &priorReader{refuse: refuse, index: map[string]int{}, plans: priorPlans()}
 	if err := r.read(s); err != nil {
 		var pe *accounting.PriorError
@@ -76,7 +77,8 @@ func readPrior(rd io.Reader, path, file string) (*accounting.Prior, error) {
 			} else {
 				where += ", "
 			}
-			return nil, refuse("is not a valuation.json grantworth wrote: %s%v", where, err)
+			pe := refuse("is not a valuation.json grantworth wrote: %s%v", where, err).(*accounting.PriorError)
+			return nil, &priorJSONError{pe, je}
 		}
 		return nil, err
 	}
@@ -90,6 +92,16 @@ func readPrior(rd io.Reader, path, file string) (*accounting.Prior, error) {
 	p.Path, p.SHA256 = path, hex.EncodeToString(h.Sum(nil))
 	return p, nil
 }
+
+// priorJSONError is a refusal of a file that is not JSON, or whose
+// members are not of their kind: an accounting.PriorError that keeps
+// where the file goes wrong.
+type priorJSONError struct {
+	*accounting.PriorError
+	where *jsonError
+}
+
+func (e *priorJSONError) Unwrap() []error { return []error{e.PriorError, e.where} }
 
 // priorMembers are the members of valuation.json's records that a later
 // close reads (into accounting.Prior, through addGrant, book, addInput and
