@@ -13,18 +13,17 @@ import (
 // A streaming JSON scanner for reading valuation.json back (prior.go): it
 // reads the file once through a large buffer, checks the grammar of
 // everything it passes (RFC 8259, as encoding/json's scanner does, the
-// members it skips included), hands each byte it reads to an optional
-// hash, and says where a file goes wrong by line and column. Errors stick:
+// members it skips included), and says where a file goes wrong by line
+// and column. Errors stick:
 // after the first, every call returns a zero value and the error stays in
 // err, so that the readers built on it check once per record.
 
 type scanner struct {
-	rd   io.Reader
-	hash io.Writer // nil, or given every byte read
-	buf  []byte    // buf[pos:] is not read yet
-	pos  int
-	eof  bool
-	err  error
+	rd  io.Reader
+	buf []byte // buf[pos:] is not read yet
+	pos int
+	eof bool
+	err error
 
 	// Where buf[0] is in the file: its offset, the newlines before it and
 	// the offset of the line it is on.
@@ -45,8 +44,8 @@ type scanner struct {
 const scanBuffer = 1 << 20
 
 // newScanner reads rd through a buffer of size bytes (at least 8).
-func newScanner(rd io.Reader, hash io.Writer, size int) *scanner {
-	return &scanner{rd: rd, hash: hash, buf: make([]byte, 0, max(size, 8)), mark: -1}
+func newScanner(rd io.Reader, size int) *scanner {
+	return &scanner{rd: rd, buf: make([]byte, 0, max(size, 8)), mark: -1}
 }
 
 // A jsonError is where and why a valuation.json cannot be read: a
@@ -122,9 +121,6 @@ func (s *scanner) more() bool {
 	}
 	for {
 		m, err := s.rd.Read(s.buf[n:cap(s.buf)])
-		if m > 0 && s.hash != nil {
-			s.hash.Write(s.buf[n : n+m])
-		}
 		s.buf = s.buf[:n+m]
 		switch {
 		case err == io.EOF:
@@ -389,87 +385,125 @@ func (s *scanner) str(dst *string) {
 // number reads a number token, checked against JSON's grammar; nil (and
 // no error) for a null. It is valid until the scanner reads on.
 func (s *scanner) number() []byte {
-	if s.err != nil {
-		return nil
-	}
-	c := s.peek()
-	if c == 'n' {
-		s.literal("null")
-		return nil
-	}
-	if c != '-' && (c < '0' || c > '9') {
-		s.kindError("a number")
-		return nil
-	}
-	// The token's end first, the whole token in the buffer, then its
-	// grammar.
-	i := 0 // from s.pos
-	for {
-		j := s.pos + i
-		for j < len(s.buf) && numberByte[s.buf[j]] {
-			j++
-		}
-		i = j - s.pos
-		if j < len(s.buf) || !s.more() {
-			break
-		}
-	}
-	tok := s.buf[s.pos : s.pos+i]
-	if n := numberLen(tok); n < len(tok) {
-		s.failAt(s.pos, true, "%q is not a number", tok)
-		return nil
-	}
-	s.pos += i
+	tok, _ := s.numberScan()
 	return tok
 }
 
-// numberLen is the length of the number at the start of b by JSON's
-// grammar, -?(0|[1-9][0-9]*)(\.[0-9]+)?([eE][+-]?[0-9]+)?, or the
-// position where it goes wrong (len(b) if b ends too soon: b is followed
-// by a byte no number holds).
-func numberLen(b []byte) int {
+// numScan is what one pass over a number token finds: where it ends (or
+// goes wrong), and, for a number without an exponent, its digits as a
+// whole number (mant, exact if nd ≤ 19) with dec of them decimals.
+type numScan struct {
+	end     int
+	ok      bool
+	neg     bool
+	exp     bool
+	mant    uint64
+	nd, dec int
+}
+
+// scanNumber scans the number at the start of b by JSON's grammar,
+// -?(0|[1-9][0-9]*)(\.[0-9]+)?([eE][+-]?[0-9]+)?, in one pass. A token
+// that reaches the end of b may go on past it.
+func scanNumber(b []byte) (r numScan) {
 	i := 0
-	digits := func() bool {
-		at := i
-		for i < len(b) && b[i] >= '0' && b[i] <= '9' {
-			i++
-		}
-		return i > at
-	}
 	if i < len(b) && b[i] == '-' {
+		r.neg = true
 		i++
 	}
-	switch {
-	case i < len(b) && b[i] == '0':
+	at := i
+	for i < len(b) && b[i]-'0' < 10 {
+		r.mant = 10*r.mant + uint64(b[i]-'0')
 		i++
-	case !digits():
-		return min(i, len(b)-1)
+	}
+	r.nd = i - at
+	if r.nd == 0 || r.nd > 1 && b[at] == '0' {
+		r.end = i
+		return r
 	}
 	if i < len(b) && b[i] == '.' {
 		i++
-		if !digits() {
-			return min(i, len(b)-1)
+		at = i
+		for i < len(b) && b[i]-'0' < 10 {
+			r.mant = 10*r.mant + uint64(b[i]-'0')
+			i++
 		}
+		r.dec = i - at
+		if r.dec == 0 {
+			r.end = i
+			return r
+		}
+		r.nd += r.dec
 	}
 	if i < len(b) && (b[i] == 'e' || b[i] == 'E') {
+		r.exp = true
 		i++
 		if i < len(b) && (b[i] == '+' || b[i] == '-') {
 			i++
 		}
-		if !digits() {
-			return min(i, len(b)-1)
+		at = i
+		for i < len(b) && b[i]-'0' < 10 {
+			i++
+		}
+		if i == at {
+			r.end = i
+			return r
 		}
 	}
-	return i
+	// A number ends at a byte no number holds: "1.5.2" is not two.
+	r.end, r.ok = i, i == len(b) || !numberByte[b[i]]
+	return r
 }
 
-// float reads a number into a float64 (null leaves it as it is).
+// numberScan reads the number that comes next (nil, and no error, for a
+// null).
+func (s *scanner) numberScan() ([]byte, numScan) {
+	if s.err != nil {
+		return nil, numScan{}
+	}
+	c := s.peek()
+	if c == 'n' {
+		s.literal("null")
+		return nil, numScan{}
+	}
+	if c != '-' && (c < '0' || c > '9') {
+		s.kindError("a number")
+		return nil, numScan{}
+	}
+	for {
+		r := scanNumber(s.buf[s.pos:])
+		if s.pos+r.end == len(s.buf) && s.more() {
+			continue // the token may go on in the next read
+		}
+		if !r.ok {
+			i := s.pos
+			for i < len(s.buf) && numberByte[s.buf[i]] {
+				i++
+			}
+			s.failAt(s.pos, true, "%q is not a number", s.buf[s.pos:i])
+			return nil, r
+		}
+		tok := s.buf[s.pos : s.pos+r.end]
+		s.pos += r.end
+		return tok, r
+	}
+}
+
+// float reads a number into a float64 (null leaves it as it is). A
+// number without an exponent whose digits make a whole number up to 2⁵³
+// and that has at most 22 decimals is the quotient of two floats that
+// hold them exactly, rounded once: the nearest float to it (W. D.
+// Clinger, "How to Read Floating Point Numbers Accurately", 1990;
+// strconv's first path too). Anything else is left to strconv.
 func (s *scanner) float(dst *float64) {
-	tok := s.number()
+	tok, r := s.numberScan()
 	if tok == nil {
 		return
 	}
-	if f, ok := exactFloat(tok); ok {
+	if !r.exp && r.nd <= 19 && r.mant <= 1<<53 && r.dec < len(pow10) {
+		f := float64(r.mant) / pow10[r.dec]
+		if r.neg {
+			f = -f
+		}
 		*dst = f
 		return
 	}
@@ -481,50 +515,21 @@ func (s *scanner) float(dst *float64) {
 	*dst = f
 }
 
-// exactFloat reads a number without an exponent whose digits make a
-// whole number up to 2⁵³ and that has at most 22 decimals: the quotient
-// of two floats that hold them exactly, rounded once, is the nearest
-// float to it (W. D. Clinger, "How to Read Floating Point Numbers
-// Accurately", 1990; strconv's first path too). Anything else is not ok.
-func exactFloat(b []byte) (float64, bool) {
-	i, neg := 0, false
-	if b[0] == '-' {
-		i, neg = 1, true
-	}
-	var mant uint64
-	nd, dec := 0, 0
-	for ; i < len(b) && b[i] >= '0' && b[i] <= '9'; i++ {
-		mant = 10*mant + uint64(b[i]-'0')
-		nd++
-	}
-	if i < len(b) && b[i] == '.' {
-		for i++; i < len(b) && b[i] >= '0' && b[i] <= '9'; i++ {
-			mant = 10*mant + uint64(b[i]-'0')
-			nd++
-			dec++
-		}
-	}
-	if i != len(b) || nd > 19 || mant > 1<<53 || dec > 22 {
-		return 0, false
-	}
-	f := float64(mant)
-	if dec > 0 {
-		f /= pow10[dec]
-	}
-	if neg {
-		f = -f
-	}
-	return f, true
-}
-
 // pow10 are the powers of ten a float64 holds exactly.
 var pow10 = [23]float64{1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10, 1e11, 1e12, 1e13, 1e14, 1e15, 1e16, 1e17, 1e18, 1e19, 1e20, 1e21, 1e22}
 
 // integer reads a whole number of bits bits (null gives ok false).
 func (s *scanner) integer(bits int) (v int64, ok bool) {
-	tok := s.number()
+	tok, r := s.numberScan()
 	if tok == nil {
 		return 0, false
+	}
+	if !r.exp && r.dec == 0 && r.nd <= 18 && bits == 64 {
+		v = int64(r.mant)
+		if r.neg {
+			v = -v
+		}
+		return v, true
 	}
 	v, err := strconv.ParseInt(unsafe.String(&tok[0], len(tok)), 10, bits)
 	if err != nil {

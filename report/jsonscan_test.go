@@ -10,6 +10,7 @@ import (
 	"path/filepath"
 	"reflect"
 	"strconv"
+	"strings"
 	"testing"
 	"testing/iotest"
 	"time"
@@ -188,11 +189,22 @@ func TestReadPriorMalformed(t *testing.T) {
 	}
 }
 
-// The fast path of float (exactFloat) gives what strconv.ParseFloat
-// gives, to the bit, on decimals of every length up to 22 places, and
-// declines what it cannot read exactly.
-func TestExactFloat(t *testing.T) {
+// The scanner reads a number as strconv.ParseFloat does, to the bit,
+// through its fast path (decimals up to 2⁵³ with at most 22 places) and
+// past it: decimals of every length, exponents, the extremes.
+func TestScannerFloat(t *testing.T) {
 	rng := rand.New(rand.NewPCG(7, 11))
+	read := func(s string) float64 {
+		var f float64
+		sc := newScanner(strings.NewReader(s), 8)
+		sc.float(&f)
+		if sc.err != nil {
+			t.Fatalf("%s: %v", s, sc.err)
+		}
+		return f
+	}
+	cases := []string{"0", "-0", "0.1", "9007199254740992", "9007199254740993", "0.12345678901234567890123", "123456789012345678901",
+		"1e5", "2.5E-3", "1e-400", "4.9e-324", "1.7976931348623157e308", "0.0000000000000000000001", "12345678901234567890.5"}
 	for i := 0; i < 200_000; i++ {
 		digits := strconv.FormatUint(rng.Uint64()>>uint(rng.IntN(64)), 10)
 		at := rng.IntN(len(digits) + 1)
@@ -206,17 +218,18 @@ func TestExactFloat(t *testing.T) {
 		if rng.IntN(2) == 0 {
 			s = "-" + s
 		}
+		if rng.IntN(8) == 0 {
+			s += "e" + strconv.Itoa(rng.IntN(60)-30)
+		}
+		cases = append(cases, s)
+	}
+	for _, s := range cases {
 		want, err := strconv.ParseFloat(s, 64)
 		if err != nil {
 			t.Fatal(err)
 		}
-		if got, ok := exactFloat([]byte(s)); ok && math.Float64bits(got) != math.Float64bits(want) {
-			t.Fatalf("exactFloat(%s) = %v, strconv %v", s, got, want)
-		}
-	}
-	for _, s := range []string{"9007199254740993", "1e5", "0.12345678901234567890123", "123456789012345678901"} {
-		if _, ok := exactFloat([]byte(s)); ok {
-			t.Errorf("exactFloat(%s) claims an exact value", s)
+		if got := read(s); math.Float64bits(got) != math.Float64bits(want) {
+			t.Fatalf("%s read as %v, strconv %v", s, got, want)
 		}
 	}
 }

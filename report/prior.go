@@ -62,7 +62,9 @@ func readPrior(rd io.Reader, path, file string, bufSize int) (*accounting.Prior,
 		return &accounting.PriorError{Msg: "prior close " + path + ": " + fmt.Sprintf(format, args...)}
 	}
 	h := sha256.New()
-	s := newScanner(rd, h, bufSize)
+	ra := newReadAhead(rd, h)
+	defer ra.Close()
+	s := newScanner(ra, bufSize)
 	r := &priorReader{refuse: refuse, index: map[string]int{}, plans: priorPlans()}
 	if err := r.read(s); err != nil {
 		var pe *accounting.PriorError
@@ -89,8 +91,94 @@ func readPrior(rd io.Reader, path, file string, bufSize int) (*accounting.Prior,
 	if msg != "" {
 		return nil, refuse("is incomplete: %s", msg)
 	}
+	// The scanner read to the end of the file (scanner.end), so the
+	// hash has had every byte.
 	p.Path, p.SHA256 = path, hex.EncodeToString(h.Sum(nil))
 	return p, nil
+}
+
+// readAhead reads a file ahead of its reader in a goroutine of its own,
+// a chunk at a time, and hashes each chunk there: the hash of a large
+// prior close (a third of its reading time) runs beside the parsing, on
+// another core.
+type readAhead struct {
+	full chan []byte // chunks read and hashed, in order; closed at the end
+	free chan []byte // chunks read out
+	stop chan struct{}
+	done chan struct{}
+	err  error  // the read error that ended the file (not io.EOF), once full is closed
+	buf  []byte // the chunk being read out
+	left []byte // its part not read out
+}
+
+// readAheadChunk is the size of a chunk; readAheadChunks are in flight.
+const (
+	readAheadChunk  = 1 << 20
+	readAheadChunks = 4
+)
+
+// newReadAhead starts reading rd. The hash has had every byte once Read
+// has returned io.EOF. Close stops the goroutine.
+func newReadAhead(rd io.Reader, h io.Writer) *readAhead {
+	ra := &readAhead{full: make(chan []byte, readAheadChunks), free: make(chan []byte, readAheadChunks),
+		stop: make(chan struct{}), done: make(chan struct{})}
+	for i := 0; i < readAheadChunks; i++ {
+		ra.free <- make([]byte, readAheadChunk)
+	}
+	go func() {
+		defer close(ra.done)
+		defer close(ra.full)
+		for {
+			var b []byte
+			select {
+			case b = <-ra.free:
+			case <-ra.stop:
+				return
+			}
+			n, err := io.ReadFull(rd, b[:cap(b)])
+			h.Write(b[:n])
+			if n > 0 {
+				select {
+				case ra.full <- b[:n]:
+				case <-ra.stop:
+					return
+				}
+			}
+			if err != nil {
+				if err != io.EOF && err != io.ErrUnexpectedEOF {
+					ra.err = err
+				}
+				return
+			}
+		}
+	}()
+	return ra
+}
+
+func (ra *readAhead) Read(p []byte) (int, error) {
+	for len(ra.left) == 0 {
+		if ra.buf != nil {
+			ra.free <- ra.buf[:cap(ra.buf)]
+			ra.buf = nil
+		}
+		b, ok := <-ra.full
+		if !ok {
+			if ra.err != nil {
+				return 0, ra.err
+			}
+			return 0, io.EOF
+		}
+		ra.buf, ra.left = b, b
+	}
+	n := copy(p, ra.left)
+	ra.left = ra.left[n:]
+	return n, nil
+}
+
+// Close stops the reading goroutine and waits for it.
+func (ra *readAhead) Close() {
+	close(ra.stop)
+	<-ra.done
 }
 
 // priorJSONError is a refusal of a file that is not JSON, or whose
