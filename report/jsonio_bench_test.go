@@ -65,55 +65,50 @@ const benchLedgerGrants = 2000
 // Writing valuation.json of a large ledger: go test ./report -run - -bench
 // 'WriteJSON|ReadPrior' -benchmem. MB/s are of the file written.
 func BenchmarkWriteJSON(b *testing.B) {
-	m := ledgerModel(benchLedgerGrants)
-	var buf bytes.Buffer
-	if err := WriteJSON(&buf, m); err != nil {
-		b.Fatal(err)
-	}
-	b.SetBytes(int64(buf.Len()))
-	b.ReportAllocs()
-	b.ResetTimer()
-	cpu := cpuTime()
-	for b.Loop() {
-		if err := WriteJSON(io.Discard, m); err != nil {
-			b.Fatal(err)
-		}
-	}
-	reportCPU(b, cpu, buf.Len())
-}
-
-// reportCPU reports the process's CPU time per operation since cpu (all
-// threads, the collector's included) and the megabytes of the file per
-// CPU second: steadier than the wall-clock figures on a shared machine.
-func reportCPU(b *testing.B, cpu time.Duration, size int) {
-	d := (cpuTime() - cpu) / time.Duration(b.N)
-	if d <= 0 {
-		return
-	}
-	b.ReportMetric(float64(d.Microseconds())/1e3, "cpu-ms/op")
-	b.ReportMetric(float64(size)/1e6/d.Seconds(), "cpu-MB/s")
+	m, file := ledgerFile(b)
+	benchLoop(b, len(file), func() error { return WriteJSON(io.Discard, m) })
 }
 
 // Reading a large ledger's valuation.json back as a prior close. MB/s are
 // of the file read.
 func BenchmarkReadPrior(b *testing.B) {
+	_, file := ledgerFile(b)
+	path := filepath.Join(b.TempDir(), "valuation.json")
+	if err := os.WriteFile(path, file, 0o644); err != nil {
+		b.Fatal(err)
+	}
+	benchLoop(b, len(file), func() error {
+		_, err := ReadPrior(path)
+		return err
+	})
+}
+
+// ledgerFile is the benchmarks' ledger and its valuation.json.
+func ledgerFile(b *testing.B) (*Model, []byte) {
 	m := ledgerModel(benchLedgerGrants)
 	var buf bytes.Buffer
 	if err := WriteJSON(&buf, m); err != nil {
 		b.Fatal(err)
 	}
-	path := filepath.Join(b.TempDir(), "valuation.json")
-	if err := os.WriteFile(path, buf.Bytes(), 0o644); err != nil {
-		b.Fatal(err)
-	}
-	b.SetBytes(int64(buf.Len()))
+	return m, buf.Bytes()
+}
+
+// benchLoop runs op b.N times over a file of size bytes. Beside the
+// wall-clock figures it reports the process's CPU time per operation (all
+// threads, the collector's included) and the megabytes per CPU second:
+// steadier on a shared machine.
+func benchLoop(b *testing.B, size int, op func() error) {
+	b.SetBytes(int64(size))
 	b.ReportAllocs()
 	b.ResetTimer()
 	cpu := cpuTime()
 	for b.Loop() {
-		if _, err := ReadPrior(path); err != nil {
+		if err := op(); err != nil {
 			b.Fatal(err)
 		}
 	}
-	reportCPU(b, cpu, buf.Len())
+	if d := (cpuTime() - cpu) / time.Duration(b.N); d > 0 {
+		b.ReportMetric(float64(d.Microseconds())/1e3, "cpu-ms/op")
+		b.ReportMetric(float64(size)/1e6/d.Seconds(), "cpu-MB/s")
+	}
 }
