@@ -499,8 +499,8 @@ func (s *scanner) float(dst *float64) {
 	if tok == nil {
 		return
 	}
-	if !r.exp && r.nd <= 19 && r.mant <= 1<<53 && r.dec < len(pow10) {
-		f := float64(r.mant) / pow10[r.dec]
+	if !r.exp && r.nd <= 19 && r.mant <= 1<<53 && r.dec < len(exactPow10) {
+		f := float64(r.mant) / exactPow10[r.dec]
 		if r.neg {
 			f = -f
 		}
@@ -515,8 +515,8 @@ func (s *scanner) float(dst *float64) {
 	*dst = f
 }
 
-// pow10 are the powers of ten a float64 holds exactly.
-var pow10 = [23]float64{1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10, 1e11, 1e12, 1e13, 1e14, 1e15, 1e16, 1e17, 1e18, 1e19, 1e20, 1e21, 1e22}
+// exactPow10 are the powers of ten a float64 holds exactly.
+var exactPow10 = [23]float64{1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10, 1e11, 1e12, 1e13, 1e14, 1e15, 1e16, 1e17, 1e18, 1e19, 1e20, 1e21, 1e22}
 
 // integer reads a whole number of bits bits (null gives ok false).
 func (s *scanner) integer(bits int) (v int64, ok bool) {
