@@ -14,9 +14,9 @@ import (
 // reads the file once through a large buffer, checks the grammar of
 // everything it passes (RFC 8259, as encoding/json's scanner does, the
 // members it skips included), and says where a file goes wrong by line
-// and column. Errors stick:
-// after the first, every call returns a zero value and the error stays in
-// err, so that the readers built on it check once per record.
+// and column. Errors stick: after the first, every call returns a zero
+// value and the error stays in err, so that the readers built on it check
+// once per record.
 
 type scanner struct {
 	rd  io.Reader

@@ -27,9 +27,7 @@ import (
 // (schema_version) than this grantworth reads, or one that lacks what a
 // later close needs.
 func ReadPrior(path string) (*accounting.Prior, error) {
-	refuse := func(format string, args ...any) error {
-		return &accounting.PriorError{Msg: "prior close " + path + ": " + fmt.Sprintf(format, args...)}
-	}
+	refuse := refusal(path)
 	file := path
 	st, err := os.Stat(path)
 	switch {
@@ -58,9 +56,7 @@ func ReadPrior(path string) (*accounting.Prior, error) {
 // the prior as given, file the valuation.json read, for the messages;
 // bufSize the scanner's buffer (tests make it small).
 func readPrior(rd io.Reader, path, file string, bufSize int) (*accounting.Prior, error) {
-	refuse := func(format string, args ...any) error {
-		return &accounting.PriorError{Msg: "prior close " + path + ": " + fmt.Sprintf(format, args...)}
-	}
+	refuse := refusal(path)
 	h := sha256.New()
 	ra := newReadAhead(rd, h)
 	defer ra.Close()
@@ -179,6 +175,13 @@ func (ra *readAhead) Read(p []byte) (int, error) {
 func (ra *readAhead) Close() {
 	close(ra.stop)
 	<-ra.done
+}
+
+// refusal makes the refusals of the prior close at path.
+func refusal(path string) func(format string, args ...any) error {
+	return func(format string, args ...any) error {
+		return &accounting.PriorError{Msg: "prior close " + path + ": " + fmt.Sprintf(format, args...)}
+	}
 }
 
 // priorJSONError is a refusal of a file that is not JSON, or whose
