@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"reflect"
 	"strconv"
+	"sync"
 	"unsafe"
 )
 
@@ -23,6 +24,7 @@ import (
 
 type decodePlans struct {
 	only  map[reflect.Type][]string // members read, by record type; a type not listed is read whole
+	mu    sync.Mutex                // guards plans: a type is compiled on first use
 	plans map[reflect.Type]*decPlan
 }
 
@@ -50,10 +52,10 @@ var (
 func newDecodePlans(only map[reflect.Type][]string, types ...reflect.Type) *decodePlans {
 	d := &decodePlans{only: only, plans: map[reflect.Type]*decPlan{}}
 	for _, t := range types {
-		d.plan(t)
+		d.of(t)
 	}
 	for t, names := range only {
-		pl := d.plan(t)
+		pl := d.of(t)
 		for _, n := range names {
 			if _, ok := pl.index[n]; !ok {
 				panic(fmt.Sprintf("report: %v has no JSON member %q", t, n))
@@ -63,8 +65,21 @@ func newDecodePlans(only map[reflect.Type][]string, types ...reflect.Type) *deco
 	return d
 }
 
-// plan is t's plan, compiled on first use. The plans are compiled before
-// any decoding, so that they may be used by several readers at once.
+// decode reads the value that comes next into *v (v a pointer), by the
+// plan of v's element type.
+func (d *decodePlans) decode(s *scanner, v any) {
+	rv := reflect.ValueOf(v)
+	d.of(rv.Type().Elem()).decode(s, rv.UnsafePointer())
+}
+
+// of is t's plan, compiled on first use; several readers may ask at once.
+func (d *decodePlans) of(t reflect.Type) *decPlan {
+	d.mu.Lock()
+	defer d.mu.Unlock()
+	return d.plan(t)
+}
+
+// plan is t's plan, compiled on first use; d.mu is held.
 func (d *decodePlans) plan(t reflect.Type) *decPlan {
 	if pl, ok := d.plans[t]; ok {
 		return pl

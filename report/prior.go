@@ -274,10 +274,7 @@ func (r *priorReader) read(s *scanner) error {
 	} else {
 		s.expect('{', "an object")
 	}
-	decode := func(v any) {
-		rv := reflect.ValueOf(v)
-		r.plans.plan(rv.Type().Elem()).decode(s, rv.UnsafePointer())
-	}
+	decode := func(v any) { r.plans.decode(s, v) }
 	for n := 0; s.next(&n, '}'); {
 		key := s.key()
 		switch string(key) {
@@ -296,7 +293,7 @@ func (r *priorReader) read(s *scanner) error {
 			// One Grant read after another: addGrant copies what it
 			// keeps.
 			var g Grant
-			grant := r.plans.plan(reflect.TypeFor[Grant]())
+			grant := r.plans.of(reflect.TypeFor[Grant]())
 			if !s.open('[') {
 				break
 			}
@@ -318,7 +315,7 @@ func (r *priorReader) read(s *scanner) error {
 			decode(&r.modifications)
 		case "assumptions":
 			var a Assumption
-			input := r.plans.plan(reflect.TypeFor[Assumption]())
+			input := r.plans.of(reflect.TypeFor[Assumption]())
 			if !s.open('[') {
 				break
 			}
@@ -349,8 +346,8 @@ func (r *priorReader) readExpense(s *scanner) {
 		return
 	}
 	e := &Expense{}
-	pl := r.plans.plan(reflect.TypeFor[Expense]())
-	grant := r.plans.plan(reflect.TypeFor[ExpenseGrant]())
+	pl := r.plans.of(reflect.TypeFor[Expense]())
+	grant := r.plans.of(reflect.TypeFor[ExpenseGrant]())
 	for n := 0; s.next(&n, '}'); {
 		key := s.key()
 		if string(key) == "by_grant" {
