@@ -45,6 +45,11 @@ type Lock struct {
 	// Key is the valuation key (GrantValue.Key) of the values filed; ""
 	// from a close that filed none.
 	Key string
+	// Measured is set when the prior close measured the values filed on
+	// the inputs Key describes (it valued the grant then: status
+	// measured or corrected), so that its checks of the grant (Studies)
+	// were made on those inputs too.
+	Measured bool
 }
 
 // LockedTranche is one tranche's measurement as filed.
