@@ -15,6 +15,7 @@ import (
 
 	"grantworth/grants"
 	"grantworth/grants/accounting"
+	"grantworth/grants/pricing"
 	"grantworth/valuation"
 )
 
@@ -89,6 +90,7 @@ type priorReader struct {
 	bad           []string       // grants[i]'s attribution does not fit it ("" if it does)
 	pending       []ExpenseGrant // attributions read before their grants
 	modifications []Modification // the changes of awards' terms it measured
+	studies       pricing.Studies
 }
 
 // checkHead refuses a file grantworth did not write or wrote in a newer
@@ -226,6 +228,8 @@ func (r *priorReader) read(dec *json.Decoder) error {
 			err = r.readExpense(dec)
 		case "modifications":
 			err = dec.Decode(&r.modifications)
+		case "sensitivity", "convergence", "cross_checks":
+			err = r.readStudy(dec, key)
 		case "assumptions":
 			err = each(dec, func() error {
 				var a Assumption
@@ -308,7 +312,8 @@ func (r *priorReader) readExpense(dec *json.Decoder) error {
 // addGrant keeps what a later close needs of grant g's valuation.
 func (r *priorReader) addGrant(g *Grant) {
 	pg := accounting.PriorGrant{ID: g.ID, Instrument: grants.Instrument(g.Instrument), Liability: g.Instrument == Warrant && g.Classification == string(grants.Liability),
-		GrantDate: g.GrantDate.Time(), MeasurementDate: g.MeasurementDate.Time(), ExpiryDate: g.ExpiryDate.Time(), ValuationKey: g.ValuationKey}
+		GrantDate: g.GrantDate.Time(), MeasurementDate: g.MeasurementDate.Time(), ExpiryDate: g.ExpiryDate.Time(), ValuationKey: g.ValuationKey,
+		Status: pricing.Status(g.ValueStatus)}
 	if len(g.Tranches) > 0 {
 		pg.Tranches = make([]accounting.PriorTranche, len(g.Tranches))
 	}
@@ -442,6 +447,11 @@ func (r *priorReader) prior() (*accounting.Prior, string) {
 		}
 	}
 	p.Grants = r.grants
+	p.Studies = r.studies
+	p.Studies.GrantIDs = make([]string, len(r.grants))
+	for i := range r.grants {
+		p.Studies.GrantIDs[i] = r.grants[i].ID
+	}
 	return p, filedModifications(r.modifications, p)
 }
 
@@ -452,7 +462,7 @@ func (r *priorReader) prior() (*accounting.Prior, string) {
 func priorFinancing(g *accounting.PriorGrant, fw *FinancingWarrant) (accounting.PriorGrant, string) {
 	pg := accounting.PriorGrant{ID: g.ID, Instrument: g.Instrument, Liability: g.Liability, Financing: true,
 		GrantDate: g.GrantDate, ServiceStart: g.GrantDate, MeasurementDate: g.MeasurementDate, ExpiryDate: g.ExpiryDate,
-		ValuationKey: g.ValuationKey, Inputs: g.Inputs, LiabilityEnd: fw.LiabilityEnd, Reclassified: fw.ReclassifiedToDate, Outstanding: fw.Outstanding}
+		ValuationKey: g.ValuationKey, Status: g.Status, Inputs: g.Inputs, LiabilityEnd: fw.LiabilityEnd, Reclassified: fw.ReclassifiedToDate, Outstanding: fw.Outstanding}
 	for _, t := range g.Tranches {
 		t.Cumulative = 0
 		pg.Tranches = append(pg.Tranches, t)
@@ -467,6 +477,53 @@ func priorFinancing(g *accounting.PriorGrant, fw *FinancingWarrant) (accounting.
 		pg.Remeasurements = append(pg.Remeasurements, accounting.Remeasurement{Date: r.Date.Time(), FairValue: r.FairValuePerShare})
 	}
 	return pg, ""
+}
+
+// readStudy reads the sensitivity cases, the convergence study or the
+// Monte Carlo checks (key) into r.studies, for a rerun to reuse.
+func (r *priorReader) readStudy(dec *json.Decoder, key string) error {
+	st := &r.studies
+	switch key {
+	case "sensitivity":
+		var ss []Sensitivity
+		if err := dec.Decode(&ss); err != nil {
+			return err
+		}
+		st.Sensitivity = nil
+		for _, s := range ss {
+			ps := pricing.Sensitivity{Input: s.Input, Label: s.Label, Unit: s.Unit}
+			for _, pt := range s.Points {
+				ps.Points = append(ps.Points, pricing.SensitivityPoint{Shift: pt.Shift, Label: pt.Label, FairValueTotal: pt.FairValueTotal, Change: pt.Change})
+			}
+			st.Sensitivity = append(st.Sensitivity, ps)
+		}
+	case "convergence":
+		var c *Convergence
+		if err := dec.Decode(&c); err != nil {
+			return err
+		}
+		st.Convergence = nil
+		if c != nil {
+			st.Convergence = &pricing.Convergence{GrantID: c.GrantID, TrancheIndex: c.TrancheIndex,
+				Auto: valuation.Result{Value: c.AutoValue, ErrorEstimate: c.AutoError, Steps: c.AutoSteps}}
+			for _, pt := range c.Points {
+				st.Convergence.Points = append(st.Convergence.Points, pricing.ConvergencePoint{Steps: pt.Steps, Value: pt.Value})
+			}
+		}
+	default:
+		var cs []CrossCheck
+		if err := dec.Decode(&cs); err != nil {
+			return err
+		}
+		st.MonteCarlo = nil
+		for _, c := range cs {
+			if c.Method == "mc" {
+				st.MonteCarlo = append(st.MonteCarlo, pricing.MonteCarloCheck{GrantID: c.GrantID, TrancheIndex: c.TrancheIndex, Lattice: c.Lattice, LatticeError: c.LatticeError,
+					Result: valuation.Result{Value: c.Value, ErrorEstimate: c.StdErr, Steps: c.Paths}, Seed: c.Seed, Z: c.Z})
+			}
+		}
+	}
+	return nil
 }
 
 // refOf parses "Sheet!Cell" back into a Ref ("default" and "" give the

@@ -138,3 +138,29 @@ func (p *pricer) priorSensitivity(sample []*GrantValue, base, sampleBase float64
 
 // same reports whether a and b are the same number to the last bit.
 func same(a, b float64) bool { return math.Float64bits(a) == math.Float64bits(b) }
+
+// FiledStudies are v's checks as a close files them for the next
+// (valuation.json's sensitivity, convergence and cross_checks, its
+// grants' order): only the fields Studies lists.
+func (v *Valuation) FiledStudies() Studies {
+	st := Studies{GrantIDs: make([]string, len(v.Grants))}
+	for i := range v.Grants {
+		st.GrantIDs[i] = v.Grants[i].Inputs.Grant.ID
+	}
+	for _, s := range v.Sensitivity {
+		f := Sensitivity{Input: s.Input, Label: s.Label, Unit: s.Unit}
+		for _, pt := range s.Points {
+			f.Points = append(f.Points, SensitivityPoint{Shift: pt.Shift, Label: pt.Label, FairValueTotal: pt.FairValueTotal, Change: pt.Change})
+		}
+		st.Sensitivity = append(st.Sensitivity, f)
+	}
+	if c := v.Convergence; c != nil {
+		st.Convergence = &Convergence{GrantID: c.GrantID, TrancheIndex: c.TrancheIndex,
+			Auto: valuation.Result{Value: c.Auto.Value, ErrorEstimate: c.Auto.ErrorEstimate, Steps: c.Auto.Steps}, Points: slices.Clone(c.Points)}
+	}
+	for _, c := range v.MonteCarlo {
+		st.MonteCarlo = append(st.MonteCarlo, MonteCarloCheck{GrantID: c.GrantID, TrancheIndex: c.TrancheIndex, Lattice: c.Lattice, LatticeError: c.LatticeError,
+			Result: valuation.Result{Value: c.Result.Value, ErrorEstimate: c.Result.ErrorEstimate, Steps: c.Result.Steps}, Seed: c.Seed, Z: c.Z})
+	}
+	return st
+}
