@@ -221,6 +221,10 @@ func runValue(o *valueOptions) error {
 	st.mark("valuing")
 	bar := newProgress(o.io, "valuing grants")
 	sensBar := newProgress(o.io, "sensitivity runs")
+	var studies *pricing.Studies
+	if prior != nil {
+		studies = &prior.Studies
+	}
 	v, err := pricing.Value(s, ins, pricing.Options{
 		Lattice:     valuation.LatticeOptions{Steps: s.InForce().Steps},
 		Progress:    bar.update,
@@ -231,6 +235,9 @@ func runValue(o *valueOptions) error {
 		// its values without being valued, when the same grantworth
 		// made them.
 		Reuse: prior != nil && prior.ToolVersion == version,
+		// and so do the checks of the prior close that are provably the
+		// ones this run would make.
+		Studies: studies,
 	})
 	bar.finish()
 	sensBar.finish()
