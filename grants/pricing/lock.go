@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"slices"
 	"strings"
 	"time"
 
@@ -218,6 +219,9 @@ func keep(gv *GrantValue, lk *Lock) error {
 	}
 	var shares, now, then float64
 	differs := false
+	// Grants on the same terms share one slice of results (valued once,
+	// valueSet): the kept values go into the grant's own.
+	gv.Results = slices.Clone(gv.Results)
 	for k, tr := range gv.Inputs.Tranches {
 		j, ok := byDay[dayKey(tr.VestDate)]
 		if !ok {

@@ -1,0 +1,68 @@
+package pricing_test
+
+import (
+	"math"
+	"os"
+	"path/filepath"
+	"testing"
+
+	"grantworth/grants"
+	"grantworth/grants/grantstest"
+	"grantworth/grants/pricing"
+	"grantworth/report"
+)
+
+// Two grants on the same terms (a board's batch) are valued once; when
+// one is corrected and the other keeps the value a prior close filed, the
+// corrected one keeps today's measurement and the locked one the filed
+// value: keeping one grant's value does not write over the other's.
+func TestLockedTwinDoesNotOverwriteCorrectedTwin(t *testing.T) {
+	d := grantstest.Day
+	ledger := func() *grants.Schedule {
+		s := grantstest.Fernhollow()
+		for _, id := range []string{"A-1", "A-2"} {
+			s.Grants = append(s.Grants, grants.Grant{ID: id, Instrument: grants.Option, GrantDate: d("2025-05-01"), Shares: 2400, Strike: 3.5,
+				ExpiryDate: d("2035-05-01"), VestStart: d("2025-05-01"), VestMonths: 48, CliffMonths: 12, VestEvery: 3, Purpose: grants.Compensation})
+		}
+		return s
+	}
+	_, data := closeOf(t, ledger(), nil, pricing.Options{})
+	dir := t.TempDir()
+	if err := os.WriteFile(filepath.Join(dir, "valuation.json"), data, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	prior, err := report.ReadPrior(dir)
+	if err != nil {
+		t.Fatal(err)
+	}
+	// The share prices were wrong: both twins would now be worth more.
+	s := ledger()
+	for i := range s.SharePrices {
+		s.SharePrices[i].Price *= 1.1
+	}
+	s.Company.ValuationDate = d("2026-12-31")
+	v, _ := closeOf(t, s, prior, pricing.Options{Correct: []string{"A-1"}})
+	fresh := grantstest.Value(t, s, nil)
+	byID := func(v *pricing.Valuation, id string) *pricing.GrantValue {
+		for i := range v.Grants {
+			if v.Grants[i].Inputs.Grant.ID == id {
+				return &v.Grants[i]
+			}
+		}
+		t.Fatalf("no grant %s", id)
+		return nil
+	}
+	a1, a2, want := byID(v, "A-1"), byID(v, "A-2"), byID(fresh, "A-1")
+	filed := prior.Locks()["A-2"].Tranches
+	for k := range a1.Results {
+		if math.Float64bits(a1.Results[k].Value) != math.Float64bits(want.Results[k].Value) {
+			t.Errorf("corrected A-1 tranche %d: %v, today's measurement %v", k+1, a1.Results[k].Value, want.Results[k].Value)
+		}
+		if math.Float64bits(a2.Results[k].Value) != math.Float64bits(filed[k].Result.Value) {
+			t.Errorf("locked A-2 tranche %d: %v, filed %v", k+1, a2.Results[k].Value, filed[k].Result.Value)
+		}
+	}
+	if a1.Status != pricing.Corrected || a2.Status != pricing.Locked {
+		t.Errorf("statuses %s, %s", a1.Status, a2.Status)
+	}
+}
