@@ -240,6 +240,11 @@ func keep(gv *GrantValue, lk *Lock) error {
 		then += n * t.Result.Value
 		gv.Results[k], gv.BSM[k] = t.Result, t.BSM
 		gv.RiskFreeRate[k], gv.SimplifiedRate[k] = t.RiskFreeRate, t.SimplifiedRate
+		if c := gv.Inputs.Market.Curve; gv.Reused && c != nil {
+			// As compare gives a grant valued again, whose expected
+			// term is the one filed.
+			gv.ExpectedTermRate[k] = c.Zero(t.Result.ExpectedTermYears)
+		}
 	}
 	gv.Status = Locked
 	if differs && shares > 0 {

@@ -1,6 +1,7 @@
 package pricing_test
 
 import (
+	"bytes"
 	"math"
 	"os"
 	"path/filepath"
@@ -64,5 +65,49 @@ func TestLockedTwinDoesNotOverwriteCorrectedTwin(t *testing.T) {
 	}
 	if a1.Status != pricing.Corrected || a2.Status != pricing.Locked {
 		t.Errorf("statuses %s, %s", a1.Status, a2.Status)
+	}
+}
+
+// A rerun that keeps its grants' filed values without valuing them
+// (Options.Reuse) writes the same valuation.json, byte for byte, as one
+// that values every grant again and keeps the filed values: the zero
+// rates at the expected terms (ExpectedTermRate, disclosed as the
+// weighted-average risk-free rate) included.
+func TestReuseWritesWhatValuingAgainWrites(t *testing.T) {
+	s := studiesLedger()
+	_, data := closeOf(t, s, nil, pricing.Options{})
+	dir := t.TempDir()
+	if err := os.WriteFile(filepath.Join(dir, "valuation.json"), data, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	prior, err := report.ReadPrior(dir)
+	if err != nil {
+		t.Fatal(err)
+	}
+	rerun := func(reuse bool) (*pricing.Valuation, []byte) {
+		s := studiesLedger()
+		s.Company.ValuationDate = grantstest.Day("2026-12-31")
+		return closeOf(t, s, prior, pricing.Options{Reuse: reuse, Studies: &prior.Studies})
+	}
+	kept, keptJSON := rerun(true)
+	again, againJSON := rerun(false)
+	n := 0
+	for i := range kept.Grants {
+		a, b := &kept.Grants[i], &again.Grants[i]
+		if a.Reused {
+			n++
+		}
+		for k := range a.ExpectedTermRate {
+			if math.Float64bits(a.ExpectedTermRate[k]) != math.Float64bits(b.ExpectedTermRate[k]) {
+				t.Errorf("grant %s tranche %d: zero rate at the expected term %v kept, %v valued again", a.Inputs.Grant.ID, k+1, a.ExpectedTermRate[k], b.ExpectedTermRate[k])
+				break
+			}
+		}
+	}
+	if n == 0 {
+		t.Fatal("no grant kept its filed values")
+	}
+	if !bytes.Equal(keptJSON, againJSON) {
+		t.Error("valuation.json differs")
 	}
 }

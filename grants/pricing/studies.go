@@ -43,9 +43,9 @@ func unchanged(gv *GrantValue) bool {
 // priorCheck is the prior close's Monte Carlo check of tranche k of gv
 // with the given seed, completed with auto (the automatic lattice this
 // run compares it with), when the simulation is provably the one this
-// run would make: the grant is unchanged, the prior simulated the same
-// tranche with the same seed and paths, and compared it with the same
-// lattice value. The simulation depends on nothing else.
+// run would make: the grant is unchanged and the prior simulated the same
+// tranche with the same seed and paths. The simulation depends on nothing
+// else (the lattice beside it is this run's).
 func (p *pricer) priorCheck(gv *GrantValue, k int, seed uint64, auto valuation.Result) (MonteCarloCheck, bool) {
 	st := p.studies
 	if st == nil || !unchanged(gv) {
@@ -53,8 +53,7 @@ func (p *pricer) priorCheck(gv *GrantValue, k int, seed uint64, auto valuation.R
 	}
 	in := gv.Inputs
 	for _, c := range st.MonteCarlo {
-		if c.GrantID == in.Grant.ID && c.TrancheIndex == in.Tranches[k].Index && c.Seed == seed && c.Result.Steps == MonteCarloPaths &&
-			same(c.Lattice, auto.Value) && same(c.LatticeError, auto.ErrorEstimate) {
+		if c.GrantID == in.Grant.ID && c.TrancheIndex == in.Tranches[k].Index && c.Seed == seed && c.Result.Steps == MonteCarloPaths {
 			mc := valuation.Result{Value: c.Result.Value, ErrorEstimate: c.Result.ErrorEstimate, Steps: c.Result.Steps, Method: valuation.MethodMC}
 			return newCheck(gv, k, auto, mc, seed), true
 		}
@@ -63,17 +62,17 @@ func (p *pricer) priorCheck(gv *GrantValue, k int, seed uint64, auto valuation.R
 }
 
 // priorConvergence is the prior close's convergence study of tranche k
-// of gv, beside auto, when it is provably the one this run would make:
-// the grant is unchanged and the prior studied the same tranche beside
-// the same automatic value (the raw lattices depend on nothing else).
+// of gv, beside auto (this run's automatic lattice value), when it is
+// provably the one this run would make: the grant is unchanged and the
+// prior studied the same tranche (the raw lattices depend on nothing
+// else).
 func (p *pricer) priorConvergence(gv *GrantValue, k int, auto valuation.Result) (*Convergence, bool) {
 	st := p.studies
 	if st == nil || st.Convergence == nil || !unchanged(gv) {
 		return nil, false
 	}
 	c := st.Convergence
-	if c.GrantID != gv.Inputs.Grant.ID || c.TrancheIndex != gv.Inputs.Tranches[k].Index ||
-		!same(c.Auto.Value, auto.Value) || !same(c.Auto.ErrorEstimate, auto.ErrorEstimate) || c.Auto.Steps != auto.Steps {
+	if c.GrantID != gv.Inputs.Grant.ID || c.TrancheIndex != gv.Inputs.Tranches[k].Index {
 		return nil, false
 	}
 	return &Convergence{GrantID: c.GrantID, TrancheIndex: c.TrancheIndex, Auto: auto, Points: slices.Clone(c.Points)}, true

@@ -447,7 +447,13 @@ func (p *pricer) compare(gv *GrantValue) error {
 			}
 		}
 	}
-	gv.BSM = make([]valuation.Result, len(in.Terms))
+	n := len(in.Terms)
+	gv.BSM = make([]valuation.Result, n)
+	rates := make([]float64, 3*n)
+	gv.RiskFreeRate, gv.SimplifiedRate, gv.ExpectedTermRate = rates[:n:n], rates[n:2*n:2*n], rates[2*n:]
+	if gv.Reused {
+		return nil // keep (lock.go) fills them from the lock
+	}
 	for k, t := range in.Terms {
 		var err error
 		switch g.Instrument {
@@ -466,9 +472,6 @@ func (p *pricer) compare(gv *GrantValue) error {
 			return fmt.Errorf("grant %s tranche %d: simplified BSM: %w", g.ID, k+1, err)
 		}
 	}
-	gv.RiskFreeRate = make([]float64, len(in.Terms))
-	gv.SimplifiedRate = make([]float64, len(in.Terms))
-	gv.ExpectedTermRate = make([]float64, len(in.Terms))
 	if c := in.Market.Curve; c != nil {
 		for k, t := range in.Terms {
 			gv.RiskFreeRate[k] = c.Zero(t.YearsToExpiry)
@@ -918,10 +921,11 @@ func mcTerms(gv *GrantValue, k int) valuation.Terms {
 // autoResult is the automatic lattice's result for tranche k of gv on
 // its mcTerms, as the convergence study and the Monte Carlo check show it:
 // the run's own value when the run measured it so (now, on the automatic
-// lattice, undiluted; or kept as filed because the same grantworth
-// measured it so on the same inputs, Reused), else valued afresh.
+// lattice, undiluted), else valued afresh (a locked grant's too, kept
+// without being valued or not, so that keeping it unvalued changes
+// nothing).
 func (p *pricer) autoResult(gv *GrantValue, k int) (valuation.Result, error) {
-	if p.opts == (valuation.LatticeOptions{}) && (gv.Status != Locked || gv.Reused) && gv.Dilution == nil && gv.Inputs.Grant.Instrument != grants.RSU {
+	if p.opts == (valuation.LatticeOptions{}) && gv.Status != Locked && gv.Dilution == nil && gv.Inputs.Grant.Instrument != grants.RSU {
 		return gv.Results[k], nil
 	}
 	return valuation.Lattice(mcTerms(gv, k), gv.Inputs.Market, valuation.LatticeOptions{})
