@@ -275,6 +275,7 @@ type autoGrid struct {
 	kcor   [2]float64 // their corrections per unit time
 	w, l   []float64  // value and expected remaining life
 	w2, l2 []float64  // the next layer while a step is taken
+	steps  []autoStep // the level's steps (levelSteps), kept for the next
 }
 
 func (g *autoGrid) setup(am *autoModel, geo *autoGeo, h float64, ghosts int) {
@@ -393,7 +394,8 @@ func (am *autoModel) levelSteps(geo *autoGeo, lv int, steps []autoStep) []autoSt
 // solveLevel rolls the vested value and life back over level lv and reads
 // every gridded tranche at its knot into vals and lives.
 func (am *autoModel) solveLevel(geo *autoGeo, lv int, g *autoGrid, vest []float64, vals, lives []float64) {
-	steps := am.levelSteps(geo, lv, nil)
+	steps := am.levelSteps(geo, lv, g.steps)
+	g.steps = steps
 	h := geo.spacing(lv)
 	kmax := 0
 	for _, st := range steps {
