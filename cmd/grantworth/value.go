@@ -361,12 +361,22 @@ func openPrior(o *valueOptions, s *grants.Schedule) (*accounting.Prior, []string
 	if err != nil {
 		return nil, nil, asInput(err)
 	}
-	locks := prior.Locks()
+	// The grants it filed values for (prior.Locks' keys, without making
+	// the locks twice).
+	filed := make(map[string]bool, len(o.correct))
+	for _, id := range o.correct {
+		filed[id] = false
+	}
+	for _, pg := range prior.Grants {
+		if _, ok := filed[pg.ID]; ok {
+			filed[pg.ID] = true
+		}
+	}
 	for _, id := range o.correct {
 		if _, ok := s.Grant(id); !ok {
 			return nil, nil, badInput("--correct %s: no such grant on the Grants sheet", id)
 		}
-		if _, ok := locks[id]; !ok {
+		if !filed[id] {
 			return nil, nil, badInput("--correct %s: the prior close of %s filed no value for it to correct", id, prior.ValuationDate.Format(time.DateOnly))
 		}
 	}
