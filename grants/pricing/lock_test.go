@@ -3,14 +3,11 @@ package pricing_test
 import (
 	"bytes"
 	"math"
-	"os"
-	"path/filepath"
 	"testing"
 
 	"grantworth/grants"
 	"grantworth/grants/grantstest"
 	"grantworth/grants/pricing"
-	"grantworth/report"
 )
 
 // Two grants on the same terms (a board's batch) are valued once; when
@@ -28,14 +25,7 @@ func TestLockedTwinDoesNotOverwriteCorrectedTwin(t *testing.T) {
 		return s
 	}
 	_, data := closeOf(t, ledger(), nil, pricing.Options{})
-	dir := t.TempDir()
-	if err := os.WriteFile(filepath.Join(dir, "valuation.json"), data, 0o644); err != nil {
-		t.Fatal(err)
-	}
-	prior, err := report.ReadPrior(dir)
-	if err != nil {
-		t.Fatal(err)
-	}
+	prior := readBack(t, data)
 	// The share prices were wrong: both twins would now be worth more.
 	s := ledger()
 	for i := range s.SharePrices {
@@ -76,14 +66,7 @@ func TestLockedTwinDoesNotOverwriteCorrectedTwin(t *testing.T) {
 func TestReuseWritesWhatValuingAgainWrites(t *testing.T) {
 	s := studiesLedger()
 	_, data := closeOf(t, s, nil, pricing.Options{})
-	dir := t.TempDir()
-	if err := os.WriteFile(filepath.Join(dir, "valuation.json"), data, 0o644); err != nil {
-		t.Fatal(err)
-	}
-	prior, err := report.ReadPrior(dir)
-	if err != nil {
-		t.Fatal(err)
-	}
+	prior := readBack(t, data)
 	rerun := func(reuse bool) (*pricing.Valuation, []byte) {
 		s := studiesLedger()
 		s.Company.ValuationDate = grantstest.Day("2026-12-31")

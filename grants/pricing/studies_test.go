@@ -64,6 +64,21 @@ func closeOf(t *testing.T, s *grants.Schedule, prior *accounting.Prior, opts pri
 	return v, buf.Bytes()
 }
 
+// readBack is the close whose valuation.json is data as a later close
+// reads it (report.ReadPrior), a fresh copy at each call.
+func readBack(t *testing.T, data []byte) *accounting.Prior {
+	t.Helper()
+	dir := t.TempDir()
+	if err := os.WriteFile(filepath.Join(dir, "valuation.json"), data, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	prior, err := report.ReadPrior(dir)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return prior
+}
+
 // A rerun takes the prior close's sensitivity cases, convergence study and
 // Monte Carlo checks (pricing.Options.Studies, read back from its
 // valuation.json) only where each is provably the one it would make: the
@@ -80,10 +95,6 @@ func TestReusedStudiesEqualAFreshRunToTheBit(t *testing.T) {
 	}
 	s := studiesLedger()
 	v1, data := closeOf(t, s, nil, pricing.Options{})
-	dir := t.TempDir()
-	if err := os.WriteFile(filepath.Join(dir, "valuation.json"), data, 0o644); err != nil {
-		t.Fatal(err)
-	}
 	if v1.SensitivitySample >= len(v1.Grants) || len(v1.MonteCarlo) < 2 || v1.Convergence == nil {
 		t.Fatalf("the ledger should sample its sensitivity and have checks: sample %d of %d, %d Monte Carlo checks, convergence %v",
 			v1.SensitivitySample, len(v1.Grants), len(v1.MonteCarlo), v1.Convergence)
@@ -167,10 +178,7 @@ func TestReusedStudiesEqualAFreshRunToTheBit(t *testing.T) {
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
-			prior, err := report.ReadPrior(dir)
-			if err != nil {
-				t.Fatal(err)
-			}
+			prior := readBack(t, data)
 			if c.sampleTotals {
 				sampleTotals(&prior.Studies)
 			}
@@ -210,20 +218,11 @@ func TestReusedStudiesEqualAFreshRunToTheBit(t *testing.T) {
 	// not reuse that close's checks: the file does not say whether it
 	// made them on the inputs of the keys filed.
 	t.Run("after a close of locked grants", func(t *testing.T) {
-		prior, err := report.ReadPrior(dir)
-		if err != nil {
-			t.Fatal(err)
-		}
+		prior := readBack(t, data)
 		s := studiesLedger()
 		s.Company.ValuationDate = grantstest.Day("2026-12-31")
-		_, data := closeOf(t, s, prior, pricing.Options{Reuse: true, Studies: &prior.Studies})
-		dir2 := t.TempDir()
-		if err := os.WriteFile(filepath.Join(dir2, "valuation.json"), data, 0o644); err != nil {
-			t.Fatal(err)
-		}
-		if prior, err = report.ReadPrior(dir2); err != nil {
-			t.Fatal(err)
-		}
+		_, data2 := closeOf(t, s, prior, pricing.Options{Reuse: true, Studies: &prior.Studies})
+		prior = readBack(t, data2)
 		s = studiesLedger()
 		s.Company.ValuationDate = grantstest.Day("2027-03-31")
 		v, _ := closeOf(t, s, prior, pricing.Options{Reuse: true, Studies: &prior.Studies})
