@@ -119,6 +119,7 @@ func lock(v *Valuation, opts Options) ([]string, error) {
 			return nil, err
 		}
 		gv.Key = lk.Key
+		gv.Lock.Tranches = nil // kept in Results, BSM and the rates
 	}
 	return driftWarnings(v.Grants), nil
 }
@@ -220,8 +221,11 @@ func keep(gv *GrantValue, lk *Lock) error {
 	var shares, now, then float64
 	differs := false
 	// Grants on the same terms share one slice of results (valued once,
-	// valueSet): the kept values go into the grant's own.
-	gv.Results = slices.Clone(gv.Results)
+	// valueSet): the kept values go into the grant's own (a Reused
+	// grant's is its own already).
+	if !gv.Reused {
+		gv.Results = slices.Clone(gv.Results)
+	}
 	for k, tr := range gv.Inputs.Tranches {
 		j, ok := byDay[dayKey(tr.VestDate)]
 		if !ok {

@@ -99,7 +99,8 @@ type GrantValue struct {
 	UndilutedValue float64
 	// Status says whether the values were measured now, kept from a
 	// prior close (Lock) or corrected; Lock is the prior close's
-	// measurement of a locked, corrected or remeasured grant.
+	// measurement of a locked, corrected or remeasured grant (a locked
+	// grant's without its Tranches, whose values it keeps as its own).
 	Status Status
 	Lock   *Lock
 	// Drift is, for a locked grant that today's inputs would value
@@ -205,6 +206,8 @@ type Revaluation struct {
 
 // Valuation is everything Value found.
 type Valuation struct {
+	// Options are those of the run, without the Locks (each grant's is
+	// its Lock), which are let go once used: a ledger's are large.
 	Options Options
 	Grants  []GrantValue
 	// FairValueTotal sums the grants' totals in order.
@@ -391,6 +394,7 @@ func Value(s *grants.Schedule, ins []grants.Inputs, opts Options) (*Valuation, e
 		}
 		v.Revaluations[g.ID] = rs
 	}
+	v.Options.Locks = nil
 	return v, nil
 }
 
