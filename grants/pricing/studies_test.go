@@ -178,6 +178,7 @@ func TestReusedStudiesEqualAFreshRunToTheBit(t *testing.T) {
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
+			t.Parallel()
 			prior := readBack(t, data)
 			if c.sampleTotals {
 				sampleTotals(&prior.Studies)
@@ -218,6 +219,7 @@ func TestReusedStudiesEqualAFreshRunToTheBit(t *testing.T) {
 	// not reuse that close's checks: the file does not say whether it
 	// made them on the inputs of the keys filed.
 	t.Run("after a close of locked grants", func(t *testing.T) {
+		t.Parallel()
 		prior := readBack(t, data)
 		s := studiesLedger()
 		s.Company.ValuationDate = grantstest.Day("2026-12-31")
