@@ -257,6 +257,9 @@ func runValue(o *valueOptions) error {
 	if kept > 0 {
 		keptNote = fmt.Sprintf(" (%s as filed, not valued again)", groupCount(kept))
 	}
+	if n := studiesNote(v.StudiesReused); n != "" {
+		keptNote += "; " + n + " as the prior close made them"
+	}
 	st.end("%s grants%s", groupCount(len(v.Grants)), keptNote)
 	st.begin("accounting")
 	books, err := accounting.Close(s, v, prior)
@@ -302,6 +305,22 @@ func runValue(o *valueOptions) error {
 	printWarnings(o.io.Err, m.Warnings)
 	printSummary(o.io.Out, m, o.out)
 	return nil
+}
+
+// studiesNote names the checks a rerun took from the prior close, "" if
+// none.
+func studiesNote(r pricing.StudiesReused) string {
+	var parts []string
+	if r.MonteCarlo > 0 {
+		parts = append(parts, fmt.Sprintf("%d Monte Carlo %s", r.MonteCarlo, map[bool]string{true: "check", false: "checks"}[r.MonteCarlo == 1]))
+	}
+	if r.Convergence {
+		parts = append(parts, "the convergence study")
+	}
+	if r.Sensitivity {
+		parts = append(parts, "the sensitivity cases")
+	}
+	return strings.Join(parts, ", ")
 }
 
 // writeHeapProfile writes the live heap's profile to path (--memprofile).
