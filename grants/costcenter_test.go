@@ -164,3 +164,26 @@ func TestTransfersOfIndexed(t *testing.T) {
 		t.Errorf("a row added after indexing: %+v", tr)
 	}
 }
+
+// Whether an event names a replacement award is answered by the index as
+// by a scan of the Events sheet, before and after such an event is added.
+func TestHasReplacementsIndexed(t *testing.T) {
+	s := bigSchedule(20)
+	for i, g := range s.Grants[:5] {
+		s.Events = append(s.Events, Event{GrantID: g.ID, Date: g.GrantDate.AddDate(1, 0, i), Kind: Forfeited, Shares: 10, Row: len(s.Events) + 2})
+	}
+	s.Reindex()
+	if s.fresh() == nil || s.hasReplacements() {
+		t.Fatalf("fresh index %v, replacements %v: want a fresh index and none", s.fresh() != nil, s.hasReplacements())
+	}
+	s.Events[2].ReplacementGrantID = s.Grants[9].ID // edited in place: Reindex needed
+	s.Reindex()
+	if !s.hasReplacements() {
+		t.Error("the index misses a replacement named after Reindex")
+	}
+	s.Events = append(s.Events, Event{GrantID: s.Grants[7].ID, Kind: Cancelled, ReplacementGrantID: s.Grants[8].ID})
+	s.Events[2].ReplacementGrantID = ""
+	if s.fresh() != nil || !s.hasReplacements() {
+		t.Error("after an event is appended the sheet is scanned again and its replacement found")
+	}
+}

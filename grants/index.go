@@ -17,8 +17,8 @@ import (
 // built in code. An index is used only while the sheets it was built from
 // are unchanged in length and place (fresh); a schedule whose Events,
 // Vesting, Transfers or Rates are appended to or replaced is scanned again until it
-// is indexed anew. Rows edited in place (a grant_id or a date changed)
-// need Schedule.Reindex.
+// is indexed anew. Rows edited in place (a grant_id, a date or a
+// replacement_grant_id changed) need Schedule.Reindex.
 type index struct {
 	events, vesting, transfers, rates int
 	event0                            *Event
@@ -27,6 +27,7 @@ type index struct {
 	rate0                             *RatePoint
 	eventsOf, vestOf, transfersOf     map[string][]int32 // positions by grant ID
 	curves                            []indexedCurve     // by date
+	replacements                      bool               // an event names a replacement award
 }
 
 // indexedCurve is one curve date's rows and its zero curve, or why it
@@ -59,6 +60,7 @@ func (s *Schedule) Reindex() {
 	}
 	for i, e := range s.Events {
 		ix.eventsOf[e.GrantID] = append(ix.eventsOf[e.GrantID], int32(i))
+		ix.replacements = ix.replacements || e.ReplacementGrantID != ""
 	}
 	for i, v := range s.Vesting {
 		ix.vestOf[v.GrantID] = append(ix.vestOf[v.GrantID], int32(i))

@@ -117,29 +117,31 @@ func writeConditionValues(b *Book, m *Model) error {
 		}
 		return b.Cell(style, v)
 	}
-	for _, g := range m.Grants {
-		gc := g.Condition
-		if gc == nil {
-			continue
-		}
-		hurdle := gc.Kind == string(grants.PriceHurdle)
-		payout, hasPayout := 0.0, gc.TSR != nil
-		if hasPayout {
-			payout = gc.TSR.MeanPayout
-		}
-		for i, ct := range gc.Tranches {
-			checked := gc.Method == "lattice"
-			if err := t.Row(b.Text(g.ID), b.Text(gc.ConditionID), gc.Kind, gc.Method, ct.Index, b.DateCell(g.Tranches[i].VestDate), b.DateCell(ct.ServiceEnd),
-				b.Cell(b.Style.MoneyPerShare, ct.Value), b.Cell(b.Style.MoneyPerShare, ct.Error),
-				opt(b.Style.MoneyPerShare, ct.Check, checked), opt(b.Style.MoneyPerShare, ct.CheckStdErr, checked), opt(b.Style.Number, ct.Z, checked),
-				opt(b.Style.MoneyPerShare, ct.PlainValue, hurdle), opt(b.Style.Years, ct.DerivedServiceYears, ct.DerivedServiceYears > 0),
-				opt(b.Style.Percent, gc.HitProbability, hurdle), opt(b.Style.Years, gc.MedianHitYears, hurdle), opt(b.Style.Percent, payout, hasPayout),
-				opt(b.Style.Int, float64(gc.Paths), gc.Paths > 0), opt(b.Style.Int, float64(gc.Seed), gc.Seed > 0)); err != nil {
-				return err
+	return b.rows(t, func(t *Table) error {
+		for _, g := range m.Grants {
+			gc := g.Condition
+			if gc == nil {
+				continue
+			}
+			hurdle := gc.Kind == string(grants.PriceHurdle)
+			payout, hasPayout := 0.0, gc.TSR != nil
+			if hasPayout {
+				payout = gc.TSR.MeanPayout
+			}
+			for i, ct := range gc.Tranches {
+				checked := gc.Method == "lattice"
+				if err := t.Row(b.Text(g.ID), b.Text(gc.ConditionID), gc.Kind, gc.Method, ct.Index, b.DateCell(g.Tranches[i].VestDate), b.DateCell(ct.ServiceEnd),
+					b.Cell(b.Style.MoneyPerShare, ct.Value), b.Cell(b.Style.MoneyPerShare, ct.Error),
+					opt(b.Style.MoneyPerShare, ct.Check, checked), opt(b.Style.MoneyPerShare, ct.CheckStdErr, checked), opt(b.Style.Number, ct.Z, checked),
+					opt(b.Style.MoneyPerShare, ct.PlainValue, hurdle), opt(b.Style.Years, ct.DerivedServiceYears, ct.DerivedServiceYears > 0),
+					opt(b.Style.Percent, gc.HitProbability, hurdle), opt(b.Style.Years, gc.MedianHitYears, hurdle), opt(b.Style.Percent, payout, hasPayout),
+					opt(b.Style.Int, float64(gc.Paths), gc.Paths > 0), opt(b.Style.Int, float64(gc.Seed), gc.Seed > 0)); err != nil {
+					return err
+				}
 			}
 		}
-	}
-	return t.Close()
+		return nil
+	})
 }
 
 func writeAssessments(b *Book, m *Model) error {

@@ -46,12 +46,22 @@ var (
 		return w
 	}}
 	deflateBufs = sync.Pool{New: func() any { return new(bytes.Buffer) }}
+	// chunkBufs hold the pieces waiting to be compressed: a large sheet
+	// is hundreds of them, and a new megabyte for each cost the clearing
+	// of fresh memory and the collector's work.
+	chunkBufs = sync.Pool{New: func() any {
+		b := make([]byte, 0, deflateChunk)
+		return &b
+	}}
 )
 
 func newParallelDeflate(out io.Writer) io.WriteCloser {
 	n := runtime.GOMAXPROCS(0)
-	return &parallelDeflate{out: out, sem: make(chan struct{}, n), buf: make([]byte, 0, deflateChunk)}
+	return &parallelDeflate{out: out, sem: make(chan struct{}, n)}
 }
+
+// chunk is an empty piece buffer from the pool.
+func chunk() []byte { return (*chunkBufs.Get().(*[]byte))[:0] }
 
 func (d *parallelDeflate) Write(p []byte) (int, error) {
 	if d.err != nil {
@@ -59,6 +69,9 @@ func (d *parallelDeflate) Write(p []byte) (int, error) {
 	}
 	n := len(p)
 	for len(p) > 0 {
+		if d.buf == nil {
+			d.buf = chunk()
+		}
 		k := min(len(p), deflateChunk-len(d.buf))
 		d.buf = append(d.buf, p[:k]...)
 		p = p[k:]
@@ -76,7 +89,7 @@ func (d *parallelDeflate) Write(p []byte) (int, error) {
 // the finished pieces beyond the number in flight.
 func (d *parallelDeflate) dispatch(final bool) {
 	in := d.buf
-	d.buf = make([]byte, 0, deflateChunk)
+	d.buf = nil
 	ch := make(chan deflated, 1)
 	d.pending = append(d.pending, ch)
 	go func() {
@@ -95,6 +108,9 @@ func (d *parallelDeflate) dispatch(final bool) {
 			}
 		}
 		flatePool.Put(w)
+		if cap(in) == deflateChunk {
+			chunkBufs.Put(&in)
+		}
 		ch <- deflated{b, err}
 	}()
 	for len(d.pending) > cap(d.sem) {

@@ -3,7 +3,6 @@ package report
 import (
 	"fmt"
 	"io"
-	"strconv"
 	"strings"
 
 	"github.com/xuri/excelize/v2"
@@ -265,19 +264,21 @@ func writeFinancing(b *Book, m *Model) error {
 		return t.Close()
 	}
 	s := b.Style
-	for _, w := range e.Financing {
-		row := []any{b.Text(w.GrantID), b.Text(w.Holder), w.Classification, b.DateCell(w.IssueDate), b.Cell(s.Int, w.Shares),
-			b.Cell(s.MoneyPerShare, w.FairValueAtIssue), b.Cell(s.Money, w.ValueAtIssue), b.Cell(s.Int, w.Outstanding),
-			b.Cell(s.Int, w.Exercised), b.Cell(s.MoneyPerShare, w.FairValue)}
-		if w.Classification == "liability" {
-			row = append(row, b.Cell(s.Money, w.LiabilityOpen), b.Cell(s.Money, w.Issued), b.Cell(s.Money, w.FairValueChange),
-				b.Cell(s.Money, w.Reclassified), b.Cell(s.Money, w.LiabilityEnd))
+	return b.rows(t, func(t *Table) error {
+		for _, w := range e.Financing {
+			row := []any{b.Text(w.GrantID), b.Text(w.Holder), w.Classification, b.DateCell(w.IssueDate), b.Cell(s.Int, w.Shares),
+				b.Cell(s.MoneyPerShare, w.FairValueAtIssue), b.Cell(s.Money, w.ValueAtIssue), b.Cell(s.Int, w.Outstanding),
+				b.Cell(s.Int, w.Exercised), b.Cell(s.MoneyPerShare, w.FairValue)}
+			if w.Classification == "liability" {
+				row = append(row, b.Cell(s.Money, w.LiabilityOpen), b.Cell(s.Money, w.Issued), b.Cell(s.Money, w.FairValueChange),
+					b.Cell(s.Money, w.Reclassified), b.Cell(s.Money, w.LiabilityEnd))
+			}
+			if err := t.Row(row...); err != nil {
+				return err
+			}
 		}
-		if err := t.Row(row...); err != nil {
-			return err
-		}
-	}
-	return t.Close()
+		return nil
+	})
 }
 
 // block is one table of a stacked sheet: its own header row naming
@@ -477,22 +478,26 @@ func writeJournal(b *Book, m *Model) error {
 		if err != nil {
 			return err
 		}
-		for _, j := range e.Journal[from:to] {
-			for _, l := range j.Lines {
-				var dr, cr any
-				if l.Debit != 0 {
-					dr = b.Cell(amount, l.Debit)
-				}
-				if l.Credit != 0 {
-					cr = b.Cell(amount, l.Credit)
-				}
-				if err := t.Row(j.Number, b.DateCell(j.Date), b.Text(l.AccountCode), b.Text(l.Account), b.Text(l.CostCenter), dr, cr,
-					b.Text(m.Company.Currency), b.Text(j.Description), l.Role, b.Text(l.GrantID)); err != nil {
-					return err
+		entries := e.Journal[from:to]
+		err = b.rows(t, func(t *Table) error {
+			for _, j := range entries {
+				for _, l := range j.Lines {
+					var dr, cr any
+					if l.Debit != 0 {
+						dr = b.Cell(amount, l.Debit)
+					}
+					if l.Credit != 0 {
+						cr = b.Cell(amount, l.Credit)
+					}
+					if err := t.Row(j.Number, b.DateCell(j.Date), b.Text(l.AccountCode), b.Text(l.Account), b.Text(l.CostCenter), dr, cr,
+						b.Text(m.Company.Currency), b.Text(j.Description), l.Role, b.Text(l.GrantID)); err != nil {
+						return err
+					}
 				}
 			}
-		}
-		if err := t.Close(); err != nil {
+			return nil
+		})
+		if err != nil {
 			return err
 		}
 		from = to
@@ -540,20 +545,13 @@ func (x *expenseSheet) fast(from, to int, total, withTranches bool) fastRows {
 	return func(out io.Writer) error {
 		b, e := x.b, x.e
 		s := b.Style
-		w := &rowWriter{b: make([]byte, 0, 8192), round: b.roundCell}
+		w := b.newRowWriter(out)
 		row := 1
 		start := func() {
 			row++
-			w.row = strconv.AppendInt(w.row[:0], int64(row), 10)
-			w.b = append(w.b[:0], `<row r="`...)
-			w.b = append(w.b, w.row...)
-			w.b = append(w.b, `">`...)
+			_ = w.start(row, 0)
 		}
-		end := func() error {
-			w.b = append(w.b, `</row>`...)
-			_, err := out.Write(w.b)
-			return err
-		}
+		end := w.end
 		for i := from; i < to; i++ {
 			g := &e.ByGrant[i]
 			if total {
@@ -624,6 +622,6 @@ func (x *expenseSheet) fast(from, to int, total, withTranches bool) fastRows {
 				return err
 			}
 		}
-		return nil
+		return w.flush()
 	}
 }

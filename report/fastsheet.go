@@ -3,6 +3,7 @@ package report
 import (
 	"bytes"
 	"encoding/xml"
+	"fmt"
 	"io"
 	"math"
 	"regexp"
@@ -11,20 +12,34 @@ import (
 	"time"
 	"unicode/utf16"
 	"unicode/utf8"
+
+	"github.com/xuri/excelize/v2"
 )
 
-// The Tranches sheet of a large ledger has a row per tranche, hundreds of
-// thousands of rows of 26 cells, and excelize's stream writer spent most
-// of the workbook's time on it cell by cell. When every value on the sheet
-// is of a kind written here (any text, escaped as excelize escapes it;
-// finite numbers; dates after 1900-02-28), its rows are written here instead,
-// byte for byte as the stream writer writes them: excelize writes the
-// sheet with the header and a placeholder row, and canonicalZip writes
-// the rows in the placeholder's place as it copies the archive. Otherwise the
-// sheet goes through excelize as every other sheet does. A test checks
-// that both ways give the same sheet XML.
+// The sheets with a row per tranche, grant or input of a large ledger
+// (Tranches, Expense, Assumptions, Grants, ...) have hundreds of
+// thousands of rows, and excelize's stream writer spent most of the
+// workbook's time on them cell by cell, then wrote them to a temporary
+// file and read them back. Their rows are written here instead, byte for
+// byte as the stream writer writes them: excelize writes the sheet with
+// the header and a placeholder row, and canonicalZip writes the rows in
+// the placeholder's place as it copies the archive, straight into its
+// compressor. Two ways:
+//
+//   - Book.rows runs a sheet's own row loop later, with a Table that
+//     encodes each row's values itself (rowWriter.cell) instead of
+//     handing them to excelize: one loop for both ways.
+//   - The Tranches and Expense rows, the largest, have writers of their
+//     own that skip the boxing of every value (trancheRows,
+//     expenseSheet.fast), used when every value on the sheet is of a
+//     kind written here (any text, escaped as excelize escapes it;
+//     finite numbers; dates after 1900-02-28); otherwise the sheet goes
+//     through excelize as the others do.
+//
+// A test writes every sheet both ways and checks that they give the same
+// XML.
 
-// slowSheets, set by a test, sends the Tranches sheet through excelize.
+// slowSheets, set by a test, sends every sheet through excelize.
 var slowSheets = false
 
 // rowsToken begins the placeholder cell's text; the number of the rows
@@ -45,13 +60,36 @@ type fastRows func(w io.Writer) error
 
 // fastTable writes the data rows of table t with rows in place of
 // excelize, and closes it: the rows are written as the archive is put in
-// order (canonicalZip).
+// order (canonicalZip), numbered from row 2.
 func (b *Book) fastTable(t *Table, rows fastRows) error {
 	if err := t.Row(placeholder(len(b.fast))); err != nil {
 		return err
 	}
 	b.fast = append(b.fast, rows)
 	return t.Close()
+}
+
+// rows writes the data rows of table t, which has only its header, with
+// write, and closes t. Through excelize (Book.slow) write runs now;
+// otherwise it runs as the archive is put in order, with a Table of its
+// own that encodes the rows in excelize's form (rowWriter.cell), so it
+// must not depend on anything that changes after this call. write uses
+// Row, TallRow, Skip and RowNum; Merge is not offered on that path.
+func (b *Book) rows(t *Table, write func(t *Table) error) error {
+	if b.slow {
+		if err := write(t); err != nil {
+			return err
+		}
+		return t.Close()
+	}
+	row, cols, sheet := t.row, t.cols, t.sheet // the header's
+	return b.fastTable(t, func(out io.Writer) error {
+		ft := &Table{sheet: sheet, row: row, cols: cols, fast: b.newRowWriter(out)}
+		if err := write(ft); err != nil {
+			return fmt.Errorf("workbook sheet %s: %w", sheet, err)
+		}
+		return ft.fast.flush()
+	})
 }
 
 // findPlaceholder returns where the placeholder row in data begins and
@@ -196,11 +234,70 @@ func plainDate(d Date) bool {
 
 func finite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
 
-// rowWriter appends cells in the stream writer's form.
+// rowWriter appends rows in the stream writer's form to b, and hands
+// them to out in batches (flush).
 type rowWriter struct {
-	b     []byte
-	row   []byte                             // the row number as text
-	round func(style int, v float64) float64 // Book.roundCell, as Book.Cell rounds
+	b   []byte
+	row []byte // the row number as text
+	out io.Writer
+	// dec is the decimals Book.roundCell keeps for each style (by ID),
+	// -1 for a style it leaves as it is.
+	dec []int8
+}
+
+// rowBatch is the size of the writes of a rowWriter: large enough that
+// the writer below (the archive's compressor, which works in pieces of a
+// megabyte) is called rarely, small enough to stay in the cache.
+const rowBatch = 64 << 10
+
+// newRowWriter is a rowWriter to out with b's styles.
+func (b *Book) newRowWriter(out io.Writer) *rowWriter {
+	dec := make([]int8, 0, 32)
+	for style, d := range b.decimals {
+		for len(dec) <= style {
+			dec = append(dec, -1)
+		}
+		dec[style] = int8(d)
+	}
+	return &rowWriter{b: make([]byte, 0, rowBatch+8192), out: out, dec: dec}
+}
+
+// start begins row r, height points tall (0: the default height); it is
+// excelize's error for a height past the file format's limit.
+func (w *rowWriter) start(r int, height float64) error {
+	if height > excelize.MaxRowHeight {
+		return excelize.ErrMaxRowHeight
+	}
+	w.row = strconv.AppendInt(w.row[:0], int64(r), 10)
+	w.b = append(w.b, `<row r="`...)
+	w.b = append(w.b, w.row...)
+	w.b = append(w.b, '"')
+	if height > 0 {
+		w.b = append(w.b, ` ht="`...)
+		w.b = strconv.AppendFloat(w.b, height, 'f', -1, 64)
+		w.b = append(w.b, `" customHeight="1"`...)
+	}
+	w.b = append(w.b, '>')
+	return nil
+}
+
+// end ends the row, and hands a full batch to out.
+func (w *rowWriter) end() error {
+	w.b = append(w.b, `</row>`...)
+	if len(w.b) < rowBatch {
+		return nil
+	}
+	return w.flush()
+}
+
+// flush hands the rows written so far to out.
+func (w *rowWriter) flush() error {
+	if len(w.b) == 0 {
+		return nil
+	}
+	_, err := w.out.Write(w.b)
+	w.b = w.b[:0]
+	return err
 }
 
 func (w *rowWriter) ref(col int) {
@@ -211,6 +308,9 @@ func (w *rowWriter) ref(col int) {
 }
 
 func appendColumn(b []byte, col int) []byte {
+	if col <= 26 {
+		return append(b, byte('A'+col-1))
+	}
 	var tmp [4]byte
 	i := len(tmp)
 	for col > 0 {
@@ -223,7 +323,7 @@ func appendColumn(b []byte, col int) []byte {
 }
 
 func (w *rowWriter) style(s int) {
-	if s != 0 {
+	if s > 0 {
 		w.b = append(w.b, ` s="`...)
 		w.b = strconv.AppendInt(w.b, int64(s), 10)
 		w.b = append(w.b, '"')
@@ -240,23 +340,116 @@ func (w *rowWriter) text(col, s int, v string) {
 	w.b = append(w.b, `</is></c>`...)
 }
 
-func (w *rowWriter) value(col, s int, v []byte) {
+// open begins a cell holding a value (<v>).
+func (w *rowWriter) open(col, s int) {
 	w.b = append(w.b, `<c`...)
 	w.ref(col)
 	w.style(s)
 	w.b = append(w.b, `><v>`...)
-	w.b = append(w.b, v...)
-	w.b = append(w.b, `</v></c>`...)
 }
+
+func (w *rowWriter) close() { w.b = append(w.b, `</v></c>`...) }
 
 func (w *rowWriter) int(col, s int, v int64) {
-	var tmp [24]byte
-	w.value(col, s, strconv.AppendInt(tmp[:0], v, 10))
+	w.open(col, s)
+	w.b = strconv.AppendInt(w.b, v, 10)
+	w.close()
 }
 
+// float writes v rounded as Book.Cell rounds it (Book.roundCell) for
+// style s.
 func (w *rowWriter) float(col, s int, v float64) {
-	var tmp [40]byte
-	w.value(col, s, appendCellFloat(tmp[:0], w.round(s, v)))
+	w.open(col, s)
+	if d := w.decimals(s); d < 0 || !appendScaled(&w.b, v, d, false) {
+		w.b = appendCellFloat(w.b, roundTo(d, v))
+	}
+	w.close()
+}
+
+// number writes v as it is, as excelize writes a float64 (v was rounded
+// by Book.Cell, or is of a style that keeps every digit).
+func (w *rowWriter) number(col, s int, v float64) {
+	w.open(col, s)
+	if d := w.decimals(s); d < 0 || !appendScaled(&w.b, v, d, true) {
+		w.b = appendCellFloat(w.b, v)
+	}
+	w.close()
+}
+
+func (w *rowWriter) decimals(s int) int {
+	if s >= 0 && s < len(w.dec) {
+		return int(w.dec[s])
+	}
+	return -1
+}
+
+// pow10 are the exact powers of ten a style's decimals scale by.
+var pow10 = [...]float64{1, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10, 1e11, 1e12, 1e13, 1e14, 1e15}
+
+// appendScaled appends v rounded to d decimals as excelize writes that
+// rounded value (appendCellFloat of roundTo(d, v)), but from the whole
+// number k = round(v·10^d) rather than by the shortest-decimal search,
+// and reports true; or appends nothing and reports false, where that is
+// not known to give the same digits. With exact, v must already be
+// rounded (v = k/10^d, as Book.roundCell computes it).
+//
+// Why the digits are the same: r = k/10^d, correctly rounded, is the
+// double nearest the decimal s = k·10^-d, so s reads back as r. Any other
+// decimal with no more significant digits than s differs from s by at
+// least 10^-d, while two decimals that both read back as r differ by at
+// most one unit in the last place of r, which is below 10^-d/4 when
+// |k| < 10^15 (|r| < 10^(15-d), ulp(r) ≤ |r|·2^-52). So s is the shortest
+// decimal that reads back as r, the one strconv writes; with at most 15
+// significant digits, excelize's cut leaves it as it is.
+func appendScaled(b *[]byte, v float64, d int, exact bool) bool {
+	if d < 0 || d >= len(pow10) {
+		return false
+	}
+	p := pow10[d]
+	k := math.Round(v * p)
+	if !(math.Abs(k) < 1e15) || k == 0 || (exact && k/p != v) {
+		return false // NaN, infinities and large values; zero (or -0); v not rounded
+	}
+	u := uint64(math.Abs(k))
+	if k < 0 {
+		*b = append(*b, '-')
+	}
+	scale := uint64(p)
+	*b = strconv.AppendUint(*b, u/scale, 10)
+	frac := u % scale
+	if frac == 0 {
+		return true
+	}
+	for frac%10 == 0 {
+		frac /= 10
+		d--
+	}
+	*b = append(*b, '.')
+	var tmp [16]byte
+	i := len(tmp)
+	for ; d > 0; d-- {
+		i--
+		tmp[i] = byte('0' + frac%10)
+		frac /= 10
+	}
+	*b = append(*b, tmp[i:]...)
+	return true
+}
+
+// roundTo is Book.roundCell for a style of d decimals (d < 0: none).
+func roundTo(d int, v float64) float64 {
+	if d < 0 || math.IsNaN(v) || math.IsInf(v, 0) {
+		return v
+	}
+	p := math.Pow10(d)
+	r := math.Round(v*p) / p
+	if math.IsInf(r*p, 0) { // too large to scale: keep it
+		return v
+	}
+	if r == 0 {
+		return 0 // no negative zero
+	}
+	return r
 }
 
 // date writes d as its serial number; the zero Date writes nothing.
@@ -264,8 +457,12 @@ func (w *rowWriter) date(col, s int, d Date) {
 	if d.IsZero() {
 		return
 	}
-	days := d.Time().Sub(excelEpoch) / (24 * time.Hour)
-	w.int(col, s, int64(days))
+	w.int(col, s, excelDays(d.Time()))
+}
+
+// excelDays is the serial number of a day from the 1st of March 1900 on.
+func excelDays(t time.Time) int64 {
+	return int64(t.Sub(excelEpoch) / (24 * time.Hour))
 }
 
 func (w *rowWriter) formula(col, s int, f string) {
@@ -284,6 +481,84 @@ func (w *rowWriter) formula(col, s int, f string) {
 		w.b = append(w.b, f...)
 	}
 	w.b = append(w.b, `</f></c>`...)
+}
+
+// cell appends v at column col as excelize's StreamWriter.SetRow writes
+// it, for the kinds of value the sheets pass: nil (no cell), text, whole
+// numbers, float64, time.Time (with a style) and excelize.Cell holding
+// one of them or a formula alone. Any other is an error: it would be
+// written differently from excelize.
+func (w *rowWriter) cell(col int, v any) error {
+	s := 0
+	switch c := v.(type) {
+	case nil:
+		return nil
+	case excelize.Cell:
+		s, v = c.StyleID, c.Value
+		if c.Formula != "" {
+			return w.formulaCell(col, s, c)
+		}
+	case *excelize.Cell:
+		if c != nil {
+			s, v = c.StyleID, c.Value
+			if c.Formula != "" {
+				return w.formulaCell(col, s, *c)
+			}
+		}
+	}
+	switch x := v.(type) {
+	case nil: // a cell with a style and nothing in it
+		w.b = append(w.b, `<c`...)
+		w.ref(col)
+		w.style(s)
+		w.b = append(w.b, `></c>`...)
+	case string:
+		w.text(col, s, x)
+	case int:
+		w.int(col, s, int64(x))
+	case int64:
+		w.int(col, s, x)
+	case int32:
+		w.int(col, s, int64(x))
+	case float64:
+		if math.IsNaN(x) || math.IsInf(x, 0) {
+			w.text(col, s, fmt.Sprint(x))
+		} else {
+			w.number(col, s, x)
+		}
+	case time.Time:
+		// A style of ours (excelize would add one), midnight UTC from
+		// the 1st of March 1900 on: a whole serial number.
+		if s <= 0 || x.Location() != time.UTC || x.Before(excelFirstDay) || !x.Before(excelLastDay) || x.Truncate(24*time.Hour) != x {
+			return fmt.Errorf("workbook: the fast rows do not write the time %v (style %d)", x, s)
+		}
+		w.int(col, s, excelDays(x))
+	default:
+		return fmt.Errorf("workbook: the fast rows do not write a %T", v)
+	}
+	return nil
+}
+
+func (w *rowWriter) formulaCell(col, s int, c excelize.Cell) error {
+	if c.Value != nil {
+		return fmt.Errorf("workbook: the fast rows do not write a formula with a value")
+	}
+	w.formula(col, s, c.Formula)
+	return nil
+}
+
+// values writes row r of values from column A, height points tall (0:
+// the default), as StreamWriter.SetRow writes it.
+func (w *rowWriter) values(r int, height float64, values []any) error {
+	if err := w.start(r, height); err != nil {
+		return err
+	}
+	for i, v := range values {
+		if err := w.cell(i+1, v); err != nil {
+			return err
+		}
+	}
+	return w.end()
 }
 
 // appendCellFloat writes v as excelize does: the shortest decimal form,
@@ -354,15 +629,11 @@ func trancheRowsPlain(m *Model) bool {
 func trancheRows(b *Book, m *Model, from, n int) fastRows {
 	return func(out io.Writer) error {
 		s := b.Style
-		w := &rowWriter{b: make([]byte, 0, 8192), round: b.roundCell}
+		w := b.newRowWriter(out)
 		row := 1
-		return eachTranche(m, from, n, func(g *Grant, tr *Tranche) error {
+		err := eachTranche(m, from, n, func(g *Grant, tr *Tranche) error {
 			row++
-			w.row = strconv.AppendInt(w.row[:0], int64(row), 10)
-			d1, d2, bsm := bsmFormulas(row, g.Instrument)
-			w.b = append(w.b[:0], `<row r="`...)
-			w.b = append(w.b, w.row...)
-			w.b = append(w.b, `">`...)
+			_ = w.start(row, 0)
 			w.text(1, s.Input, g.ID)
 			w.text(2, s.Input, g.Holder)
 			w.text(3, s.Input, g.Instrument)
@@ -384,14 +655,36 @@ func trancheRows(b *Book, m *Model, from, n int) fastRows {
 			w.float(19, s.Years, tr.SimplifiedTerm)
 			w.float(20, s.Percent, tr.SimplifiedRate)
 			w.float(21, s.MoneyPerShare, tr.BSMSimplifiedValue)
-			w.formula(22, s.Number, d1)
-			w.formula(23, s.Number, d2)
-			w.formula(24, s.MoneyPerShare, bsm)
+			if g.Instrument == RSU {
+				w.template(24, s.MoneyPerShare, bsmRSU)
+			} else {
+				w.template(22, s.Number, bsmD1)
+				w.template(23, s.Number, bsmD2)
+				w.template(24, s.MoneyPerShare, bsmValue)
+			}
 			w.float(25, s.MoneyPerShare, tr.FairValuePerShare-tr.BSMSimplifiedValue)
 			w.float(26, s.Money, tr.FairValueTotal)
-			w.b = append(w.b, `</row>`...)
-			_, err := out.Write(w.b)
-			return err
+			return w.end()
 		})
+		if err != nil {
+			return err
+		}
+		return w.flush()
 	}
+}
+
+// template writes the formula of template f (rowFormula) on the row
+// being written.
+func (w *rowWriter) template(col, s int, f rowFormula) {
+	w.b = append(w.b, `<c`...)
+	w.ref(col)
+	w.style(s)
+	w.b = append(w.b, ` t="str"><f>`...)
+	for i, part := range f {
+		if i > 0 {
+			w.b = append(w.b, w.row...)
+		}
+		w.b = append(w.b, part...)
+	}
+	w.b = append(w.b, `</f></c>`...)
 }

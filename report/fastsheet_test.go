@@ -5,6 +5,7 @@ import (
 	"bytes"
 	"io"
 	"math"
+	"math/rand/v2"
 	"strings"
 	"testing"
 	"time"
@@ -71,14 +72,22 @@ func TestFastTrancheRowsMatchExcelize(t *testing.T) {
 	if !trancheRowsPlain(m) {
 		t.Fatal("the test model does not take the fast rows")
 	}
+	sameBothWays(t, "", m)
+}
+
+// sameBothWays checks that m's workbook is the same XML written with the
+// fast rows and through excelize, entry by entry, with no placeholder
+// left.
+func sameBothWays(t *testing.T, label string, m *Model) {
+	t.Helper()
 	fast, slow := renderBothWays(t, m)
 	if len(fast) != len(slow) {
-		t.Fatalf("%d entries fast, %d through excelize", len(fast), len(slow))
+		t.Fatalf("%s%d entries fast, %d through excelize", label, len(fast), len(slow))
 	}
 	for name, want := range slow {
 		got := fast[name]
 		if bytes.Contains(got, []byte(rowsToken)) {
-			t.Errorf("%s still holds the placeholder", name)
+			t.Errorf("%s%s still holds the placeholder", label, name)
 		}
 		if !bytes.Equal(got, want) {
 			i := 0
@@ -86,9 +95,55 @@ func TestFastTrancheRowsMatchExcelize(t *testing.T) {
 				i++
 			}
 			lo := max(0, i-120)
-			t.Errorf("%s differs at byte %d:\n fast: %q\nslow: %q", name, i, got[lo:min(len(got), i+120)], want[lo:min(len(want), i+120)])
+			t.Errorf("%s%s differs at byte %d:\n fast: %q\nslow: %q", label, name, i, got[lo:min(len(got), i+120)], want[lo:min(len(want), i+120)])
 		}
 	}
+}
+
+// Every sheet whose rows Book.rows writes apart (Assumptions, Grants,
+// Condition values; the expense sheets are checked with the expense
+// model) is the XML excelize writes, with
+// awkward text and numbers in every column of the Assumptions and Grants
+// sheets: values of every kind, a missing grant and date, a wrapped tall
+// row, a text longer than a cell holds, numbers that are not finite or
+// pass 15 digits, negative zero.
+func TestFastSheetRowsMatchExcelize(t *testing.T) {
+	m := fixture()
+	odd := []float64{math.NaN(), math.Inf(1), math.Inf(-1), math.Copysign(0, -1), 1234567.891234567891, 123456789012345678901.0,
+		-0.0421826842478506123, 1e-9, 0.1 + 0.2, 129999.999999999}
+	kinds := []string{KindPercent, KindMoney, KindYears, KindNumber, KindDate, KindText, "other"}
+	for i, s := range awkwardTexts {
+		a := Assumption{GrantID: s, Name: awkwardTexts[(i+1)%len(awkwardTexts)], Kind: kinds[i%len(kinds)], Value: odd[i%len(odd)],
+			Text: awkwardTexts[(i+2)%len(awkwardTexts)], Ref: awkwardTexts[(i+3)%len(awkwardTexts)], Source: s}
+		if i%3 == 0 {
+			a.GrantID = ""
+			a.EffectiveDate = DateOf(time.Date(2026, 7, 1, 0, 0, 0, 0, time.UTC))
+		}
+		if i%4 == 0 {
+			a.Value = float64(i * 1000) // a whole number
+		}
+		if i%5 == 0 {
+			a.Source = strings.Repeat(s+" wrapped source ", 12)
+		}
+		m.Assumptions = append(m.Assumptions, a)
+	}
+	m.Assumptions = append(m.Assumptions, Assumption{Name: "long", Kind: KindText, Text: strings.Repeat("x&", MaxCellChars), Source: "short"})
+	for i := range m.Grants {
+		g := &m.Grants[i]
+		g.Holder = awkwardTexts[(i+4)%len(awkwardTexts)]
+		g.Method = awkwardTexts[(i+5)%len(awkwardTexts)]
+		g.Purpose = awkwardTexts[(i+6)%len(awkwardTexts)]
+		g.Classification = awkwardTexts[(i+7)%len(awkwardTexts)]
+		g.Strike = odd[i%len(odd)]
+		g.Volatility = odd[(i+1)%len(odd)]
+		g.FairValueTotal = odd[(i+2)%len(odd)]
+	}
+	m.Grants[0].HireDate = Date{}
+	m.Grants[1].HireDate = DateOf(time.Date(1900, 3, 1, 0, 0, 0, 0, time.UTC))
+	sameBothWays(t, "", m)
+	// The cost centres, the journal and the financing warrants are in
+	// TestFastExpenseRowsMatchExcelize; the condition values here.
+	sameBothWays(t, "conditions: ", conditioned(t))
 }
 
 // awkwardTexts are texts that excelize escapes one way or another: XML's
@@ -157,5 +212,52 @@ func TestFastTrancheRowsRefuseAwkwardValues(t *testing.T) {
 	m.Grants[0].Tranches[0].ErrorEstimate = math.NaN()
 	if trancheRowsPlain(m) {
 		t.Error("a NaN would be written by the fast rows")
+	}
+}
+
+// The digits of a rounded value written from its scaled whole number
+// (appendScaled) are those of the shortest-decimal search excelize makes
+// (appendCellFloat of the value Book.roundCell gives), for values of every
+// size and sign, at each style's decimals, around the 10^15 bound, at
+// halves and at the values sums of money leave (129999.999999999).
+func TestAppendScaledMatchesShortestDecimal(t *testing.T) {
+	rng := rand.New(rand.NewPCG(3, 4))
+	var vs []float64
+	for i := 0; i < 200000; i++ {
+		mag := math.Pow10(rng.IntN(36) - 18)
+		v := rng.Float64() * mag
+		if rng.IntN(2) == 0 {
+			v = -v
+		}
+		vs = append(vs, v)
+	}
+	for d := 0; d <= 8; d++ {
+		p := math.Pow10(d)
+		for _, k := range []float64{1, 5, 9, 10, 99, 999999999999999, 1e15 - 1, 1e15, 1e15 + 1, 123456789012345, 4503599627370496} {
+			vs = append(vs, k/p, -k/p, (k+0.5)/p, math.Nextafter(k/p, 0), math.Nextafter(k/p, 2*k/p))
+		}
+	}
+	vs = append(vs, 0, math.Copysign(0, -1), 129999.999999999, 0.1+0.2, 1e-9, 5e-9, math.MaxFloat64, math.SmallestNonzeroFloat64,
+		math.NaN(), math.Inf(1), math.Inf(-1))
+	scaled := 0
+	for d := 0; d <= 8; d++ {
+		for _, v := range vs {
+			want := string(appendCellFloat(nil, roundTo(d, v)))
+			var got []byte
+			if appendScaled(&got, v, d, false) {
+				scaled++
+				if string(got) != want {
+					t.Fatalf("v %v to %d decimals: scaled %q, shortest %q", v, d, got, want)
+				}
+			}
+			r := roundTo(d, v)
+			got = got[:0]
+			if appendScaled(&got, r, d, true) && string(got) != string(appendCellFloat(nil, r)) {
+				t.Fatalf("rounded %v to %d decimals: scaled %q, shortest %q", r, d, got, appendCellFloat(nil, r))
+			}
+		}
+	}
+	if scaled < len(vs) {
+		t.Errorf("only %d of %d values took the scaled path", scaled, 9*len(vs))
 	}
 }

@@ -6,24 +6,31 @@ import (
 	"math"
 	"reflect"
 	"strconv"
+	"unsafe"
 )
 
 // WriteJSON writes valuation.json (DESIGN §4.3): the Model as one JSON
 // object, indented by two spaces, fields in a fixed order, empty lists as
-// [] rather than null. The same Model gives the same bytes. A NaN or an
-// infinity anywhere in the Model is an error, not a silent null.
+// [] rather than null, each record of scalars in a list (a tranche, an
+// input, a period) on one line. The same Model gives the same bytes. A
+// NaN or an infinity anywhere in what it writes is an error, not a silent
+// null; the file is then incomplete, and the caller discards it (value
+// writes into a staging folder).
 func WriteJSON(w io.Writer, m *Model) error {
-	if err := checkFinite(reflect.ValueOf(m), "model"); err != nil {
-		return err
-	}
 	c := withEmptyLists(m)
 	// The file for a large ledger is hundreds of megabytes: it is encoded
 	// in one pass straight to w (jsonenc.go), never held in memory whole.
 	// The bytes are those of encoding/json's Encoder with a two-space
-	// indent (the golden tests and TestJSONEncoderMatchesEncodingJSON
-	// check it).
-	e := &jsonEnc{w: w, buf: make([]byte, 0, flushAt+4096)}
-	e.value(reflect.ValueOf(c), 0)
+	// indent but for the records on one line (the golden tests and
+	// TestJSONEncoderMatchesEncodingJSON check it).
+	e := &jsonEnc{w: w, buf: make([]byte, 0, flushAt+flushAt/8)}
+	encoderOf(reflect.TypeFor[Model]()).encode(e, unsafe.Pointer(&c), 0)
+	if e.err == errNonFinite {
+		if err := checkFinite(reflect.ValueOf(m), "model"); err != nil {
+			return err
+		}
+		return e.err
+	}
 	e.buf = append(e.buf, '\n')
 	e.flush()
 	return e.err

@@ -2,38 +2,52 @@ package report
 
 import (
 	"bytes"
+	"encoding"
 	"encoding/json"
+	"errors"
 	"io"
 	"math"
 	"reflect"
 	"strconv"
 	"strings"
 	"sync"
+	"unsafe"
 )
 
-// A JSON encoder for the Model's types that writes, in one pass and
-// without a reflection walk per value, the bytes of encoding/json's
-// Encoder (no HTML escaping) indented by two spaces, except that a flat
-// record in a list (an object of strings, numbers and booleans only: a
-// tranche, an event, an input, a period) is written on one line without
-// spaces. valuation.json for a large ledger holds millions of such
-// records: indented, each took a line a member, a third of the file. It
-// knows the kinds the Model uses (structs with json tags and omitempty,
-// embedded struct pointers, pointers, slices, strings, bools, integers,
-// float64 and json.Marshaler); any other kind is handed to encoding/json.
-// A test checks it against encoding/json on whole Models: the same bytes
-// but for white space between tokens.
+// A JSON encoder for the Model's types that writes, in one pass, the bytes
+// of encoding/json's Encoder (no HTML escaping) indented by two spaces,
+// except that a flat record in a list (an object of strings, numbers and
+// booleans only: a tranche, an event, an input, a period) is written on
+// one line without spaces. valuation.json for a large ledger holds
+// millions of such records: indented, each took a line a member, a third
+// of the file.
+//
+// Each type is looked at once: encoderOf compiles it into a plan (a
+// struct's members with their keys, offsets and encoders; a slice's
+// element encoder), and the plans then read the values through their
+// offsets, without reflection. The plans know the kinds the Model uses
+// (structs with json tags and omitempty, embedded struct pointers,
+// pointers, slices, strings, bools, integers, float64 and Date); any other
+// kind, or a type with its own MarshalJSON or MarshalText, is handed to
+// encoding/json. A test checks the encoder against encoding/json on whole
+// Models: the same bytes but for white space between tokens.
 
 type jsonEnc struct {
 	w   io.Writer
 	buf []byte
 	err error
-	// flat is set while a flat record (flatRecord) is written on one line.
+	// flat is set while a flat record (typeEnc.flat) is written on one
+	// line.
 	flat bool
 }
 
-// flushAt is the buffer size at which the encoder writes out.
-const flushAt = 1 << 16
+// flushAt is the buffer size at which the encoder writes out: large
+// writes, few system calls.
+const flushAt = 1 << 20
+
+// errNonFinite stops the encoder at a NaN or an infinity; WriteJSON then
+// finds its path for the message.
+var errNonFinite = errors.New("report: a number is not finite")
 
 func (e *jsonEnc) flush() {
 	if e.err == nil && len(e.buf) > 0 {
@@ -42,8 +56,16 @@ func (e *jsonEnc) flush() {
 	e.buf = e.buf[:0]
 }
 
+// indent is what newline appends: a newline and up to 32 levels of two
+// spaces.
+var indent = "\n" + strings.Repeat("  ", 32)
+
 func (e *jsonEnc) newline(depth int) {
 	if e.flat {
+		return
+	}
+	if n := 1 + 2*depth; n <= len(indent) {
+		e.buf = append(e.buf, indent[:n]...)
 		return
 	}
 	e.buf = append(e.buf, '\n')
@@ -52,37 +74,185 @@ func (e *jsonEnc) newline(depth int) {
 	}
 }
 
-var (
-	marshalerType = reflect.TypeFor[json.Marshaler]()
-	dateType      = reflect.TypeFor[Date]()
-)
+// encodeFunc appends the value of the plan's type at p.
+type encodeFunc func(e *jsonEnc, p unsafe.Pointer, depth int)
 
-// field is one JSON member of a struct: its key (quoted, with ": ") and
-// the index path to it (longer than one through an embedded pointer).
-type field struct {
-	key       []byte
-	index     []int
-	omitEmpty bool
-	scalar    bool // a string, number, bool or Date: no object or array
+// typeEnc is the compiled plan of one type.
+type typeEnc struct {
+	t    reflect.Type
+	kind encKind
+	enc  encodeFunc // for the kinds encodeScalar does not know
+	// flat: a struct whose members are all scalars (scalar), written on
+	// one line when it is an element of a list.
+	flat, scalar bool
+	empty        func(p unsafe.Pointer) bool // for omitempty
 }
 
-var fieldCache sync.Map // reflect.Type → []field
+// encKind names the scalars a struct's member loop writes itself.
+type encKind uint8
 
-// fieldsOf lists t's JSON members in encoding/json's order. Embedded
-// structs (or pointers to them) without a tag are flattened; a name that
-// occurs twice at the same depth is a conflict this encoder does not
-// resolve, so such a type is refused (ok false) and encoded by
-// encoding/json.
-func fieldsOf(t reflect.Type) ([]field, bool) {
-	if f, ok := fieldCache.Load(t); ok {
-		fs := f.([]field)
-		return fs, fs != nil
+const (
+	kOther encKind = iota
+	kString
+	kFloat64
+	kInt
+	kInt64
+	kBool
+	kDate
+)
+
+// member is one JSON member of a struct: its key and the way to its
+// value (as in jsonField) and its encoder.
+type member struct {
+	key, flatKey []byte // `"name": ` and `"name":`
+	embedded     bool
+	embedOff     uintptr
+	off          uintptr
+	te           *typeEnc
+	omitEmpty    bool
+}
+
+var (
+	marshalerType     = reflect.TypeFor[json.Marshaler]()
+	textMarshalerType = reflect.TypeFor[encoding.TextMarshaler]()
+	dateType          = reflect.TypeFor[Date]()
+	encPlans          sync.Map // reflect.Type → *typeEnc
+	encPlanMu         sync.Mutex
+)
+
+// encoderOf is the plan of t, compiled on first use.
+func encoderOf(t reflect.Type) *typeEnc {
+	if te, ok := encPlans.Load(t); ok {
+		return te.(*typeEnc)
 	}
-	var out []field
+	encPlanMu.Lock()
+	defer encPlanMu.Unlock()
+	building := map[reflect.Type]*typeEnc{}
+	te := compileEnc(t, building)
+	for t, te := range building {
+		encPlans.Store(t, te)
+	}
+	return te
+}
+
+// compileEnc builds t's plan. building holds the plans being built, so
+// that a type that contains itself refers to its own plan.
+func compileEnc(t reflect.Type, building map[reflect.Type]*typeEnc) *typeEnc {
+	if te, ok := encPlans.Load(t); ok {
+		return te.(*typeEnc)
+	}
+	if te, ok := building[t]; ok {
+		return te
+	}
+	te := &typeEnc{t: t}
+	building[t] = te
+	te.empty = emptyFunc(t)
+	switch {
+	case t == dateType:
+		te.kind, te.scalar = kDate, true
+		return te
+	case t.Kind() != reflect.Pointer && (t.Implements(marshalerType) || t.Implements(textMarshalerType) ||
+		reflect.PointerTo(t).Implements(marshalerType) || reflect.PointerTo(t).Implements(textMarshalerType)):
+		te.enc = fallbackEnc(t)
+		return te
+	}
+	switch t.Kind() {
+	case reflect.String:
+		te.kind, te.scalar = kString, true
+	case reflect.Float64:
+		te.kind, te.scalar = kFloat64, true
+	case reflect.Int:
+		te.kind, te.scalar = kInt, true
+	case reflect.Int64:
+		te.kind, te.scalar = kInt64, true
+	case reflect.Bool:
+		te.kind, te.scalar = kBool, true
+	case reflect.Int8, reflect.Int16, reflect.Int32:
+		te.scalar = true
+		te.enc = func(e *jsonEnc, p unsafe.Pointer, _ int) {
+			e.buf = strconv.AppendInt(e.buf, reflect.NewAt(t, p).Elem().Int(), 10)
+		}
+	case reflect.Uint, reflect.Uint8, reflect.Uint16, reflect.Uint32, reflect.Uint64, reflect.Uintptr:
+		te.scalar = true
+		te.enc = func(e *jsonEnc, p unsafe.Pointer, _ int) {
+			e.buf = strconv.AppendUint(e.buf, reflect.NewAt(t, p).Elem().Uint(), 10)
+		}
+	case reflect.Pointer:
+		elem := compileEnc(t.Elem(), building)
+		te.enc = func(e *jsonEnc, p unsafe.Pointer, depth int) {
+			q := *(*unsafe.Pointer)(p)
+			if q == nil {
+				e.buf = append(e.buf, "null"...)
+				return
+			}
+			elem.encode(e, q, depth)
+		}
+	case reflect.Slice:
+		if t.Elem().Kind() == reflect.Uint8 {
+			te.enc = fallbackEnc(t) // base64
+			break
+		}
+		te.enc = sliceEnc(t, compileEnc(t.Elem(), building))
+	case reflect.Struct:
+		members, ok := membersOf(t, building)
+		if !ok {
+			te.enc = fallbackEnc(t)
+			break
+		}
+		te.flat = true
+		for _, m := range members {
+			te.flat = te.flat && m.te.scalar
+		}
+		te.enc = structEnc(members)
+	default:
+		// Float32 (encoding/json formats it in 32 bits), arrays, maps,
+		// interfaces: none in the Model; left to encoding/json.
+		te.enc = fallbackEnc(t)
+	}
+	return te
+}
+
+// membersOf is t's JSON members with their encoders (jsonFields).
+func membersOf(t reflect.Type, building map[reflect.Type]*typeEnc) ([]member, bool) {
+	fs, ok := jsonFields(t)
+	if !ok {
+		return nil, false
+	}
+	out := make([]member, len(fs))
+	for i, f := range fs {
+		key, _ := json.Marshal(f.name)
+		out[i] = member{key: append(key, ':', ' '), flatKey: append(key, ':'), embedded: f.embedded, embedOff: f.embedOff,
+			off: f.off, te: compileEnc(f.typ, building), omitEmpty: f.omitEmpty}
+	}
+	return out, true
+}
+
+// jsonField is one JSON member of a struct type and the way to its value:
+// the offset of the embedded struct pointer it is reached through
+// (embedded, embedType the struct it points to), then its offset.
+type jsonField struct {
+	name      string
+	typ       reflect.Type
+	embedded  bool
+	embedOff  uintptr
+	embedType reflect.Type
+	off       uintptr
+	omitEmpty bool
+}
+
+// jsonFields lists t's JSON members in encoding/json's order. Embedded
+// structs (or pointers to them) without a tag are flattened; a name that
+// occurs twice, an embedding within an embedding, or the options string
+// and omitzero are rules the encoder and the decoder here do not follow,
+// so such a type is refused (ok false) and left to encoding/json.
+func jsonFields(t reflect.Type) ([]jsonField, bool) {
+	var out []jsonField
 	seen := map[string]bool{}
 	ok := true
-	var walk func(t reflect.Type, index []int)
-	walk = func(t reflect.Type, index []int) {
+	// nested: t is itself embedded; embedded: reached through the
+	// pointer at embedOff.
+	var walk func(t reflect.Type, nested bool, via *jsonField, base uintptr)
+	walk = func(t reflect.Type, nested bool, via *jsonField, base uintptr) {
 		for i := 0; i < t.NumField(); i++ {
 			sf := t.Field(i)
 			tag := sf.Tag.Get("json")
@@ -90,17 +260,20 @@ func fieldsOf(t reflect.Type) ([]field, bool) {
 				continue
 			}
 			name, opts, _ := strings.Cut(tag, ",")
-			idx := append(append([]int(nil), index...), i)
 			if sf.Anonymous && name == "" {
 				ft := sf.Type
 				if ft.Kind() == reflect.Pointer {
 					ft = ft.Elem()
 				}
 				if ft.Kind() == reflect.Struct {
-					if len(index) > 0 {
+					if nested {
 						ok = false // nested embedding: leave the rules to encoding/json
 					}
-					walk(ft, idx)
+					if sf.Type.Kind() == reflect.Pointer {
+						walk(ft, true, &jsonField{embedded: true, embedOff: base + sf.Offset, embedType: ft}, 0)
+					} else {
+						walk(ft, true, via, base+sf.Offset)
+					}
 					continue
 				}
 			}
@@ -114,63 +287,150 @@ func fieldsOf(t reflect.Type) ([]field, bool) {
 				ok = false
 			}
 			seen[name] = true
-			key, _ := json.Marshal(name)
-			out = append(out, field{key: append(key, ':', ' '), index: idx, omitEmpty: strings.Contains(","+opts+",", ",omitempty,"), scalar: scalarType(sf.Type)})
+			f := jsonField{name: name, typ: sf.Type, off: base + sf.Offset, omitEmpty: strings.Contains(","+opts+",", ",omitempty,")}
+			if via != nil {
+				f.embedded, f.embedOff, f.embedType = true, via.embedOff, via.embedType
+			}
+			out = append(out, f)
 		}
 	}
-	walk(t, nil)
-	if !ok {
-		out = nil
-	}
-	if out == nil {
-		fieldCache.Store(t, []field(nil))
-		return nil, false
-	}
-	fieldCache.Store(t, out)
-	return out, true
+	walk(t, false, nil, 0)
+	return out, ok
 }
 
-// scalarType reports whether t is written as a JSON string, number or
-// boolean.
-func scalarType(t reflect.Type) bool {
-	if t == dateType {
-		return true
+// encode appends the value at p.
+func (te *typeEnc) encode(e *jsonEnc, p unsafe.Pointer, depth int) {
+	if !e.scalar(te.kind, p) {
+		te.enc(e, p, depth)
 	}
-	if t.Implements(marshalerType) {
+}
+
+// scalar appends the scalar of kind k at p, or reports false for a kind it
+// does not write.
+func (e *jsonEnc) scalar(k encKind, p unsafe.Pointer) bool {
+	switch k {
+	case kString:
+		e.str(*(*string)(p))
+	case kFloat64:
+		e.float(*(*float64)(p))
+	case kInt:
+		e.buf = strconv.AppendInt(e.buf, int64(*(*int)(p)), 10)
+	case kInt64:
+		e.buf = strconv.AppendInt(e.buf, *(*int64)(p), 10)
+	case kBool:
+		e.buf = strconv.AppendBool(e.buf, *(*bool)(p))
+	case kDate:
+		d := *(*Date)(p)
+		if d.IsZero() {
+			e.buf = append(e.buf, "null"...)
+		} else {
+			e.buf = append(e.buf, '"')
+			e.buf = appendDate(e.buf, d)
+			e.buf = append(e.buf, '"')
+		}
+	default:
 		return false
 	}
-	switch t.Kind() {
-	case reflect.String, reflect.Bool, reflect.Int, reflect.Int8, reflect.Int16, reflect.Int32, reflect.Int64,
-		reflect.Uint, reflect.Uint8, reflect.Uint16, reflect.Uint32, reflect.Uint64, reflect.Float32, reflect.Float64:
-		return true
-	}
-	return false
+	return true
 }
 
-var flatCache sync.Map // reflect.Type → bool
-
-// flatRecord reports whether t is a struct whose members are all scalars
-// (scalarType): such a record in a list is written on one line, without
-// spaces, so that the list of a large ledger's tranches takes a line a
-// tranche and no more bytes than it needs.
-func flatRecord(t reflect.Type) bool {
-	if f, ok := flatCache.Load(t); ok {
-		return f.(bool)
-	}
-	flat := false
-	if t.Kind() == reflect.Struct {
-		if fs, ok := fieldsOf(t); ok {
-			flat = true
-			for _, f := range fs {
-				flat = flat && f.scalar
+func structEnc(members []member) encodeFunc {
+	return func(e *jsonEnc, p unsafe.Pointer, depth int) {
+		if len(e.buf) >= flushAt {
+			e.flush()
+		}
+		e.buf = append(e.buf, '{')
+		n := 0
+		for i := range members {
+			m := &members[i]
+			q := p
+			if m.embedded {
+				q = *(*unsafe.Pointer)(unsafe.Add(p, m.embedOff))
+				if q == nil {
+					continue
+				}
+			}
+			q = unsafe.Add(q, m.off)
+			if m.omitEmpty && m.te.empty(q) {
+				continue
+			}
+			if n > 0 {
+				e.buf = append(e.buf, ',')
+			}
+			n++
+			if e.flat {
+				e.buf = append(e.buf, m.flatKey...)
+			} else {
+				e.newline(depth + 1)
+				e.buf = append(e.buf, m.key...)
+			}
+			if !e.scalar(m.te.kind, q) {
+				m.te.enc(e, q, depth+1)
 			}
 		}
+		if n > 0 {
+			e.newline(depth)
+		}
+		e.buf = append(e.buf, '}')
 	}
-	flatCache.Store(t, flat)
-	return flat
 }
 
-func isEmpty(v reflect.Value) bool {
+func sliceEnc(t reflect.Type, elem *typeEnc) encodeFunc {
+	size := t.Elem().Size()
+	return func(e *jsonEnc, p unsafe.Pointer, depth int) {
+		// A slice's header is the same whatever its element type.
+		s := (*[]byte)(p)
+		if *s == nil {
+			e.buf = append(e.buf, "null"...)
+			return
+		}
+		n := len(*s)
+		if n == 0 {
+			e.buf = append(e.buf, '[', ']')
+			return
+		}
+		flat := !e.flat && elem.flat
+		base := unsafe.Pointer(unsafe.SliceData(*s))
+		e.buf = append(e.buf, '[')
+		for i := 0; i < n && e.err == nil; i++ {
+			if i > 0 {
+				e.buf = append(e.buf, ',')
+			}
+			e.newline(depth + 1)
+			q := unsafe.Add(base, uintptr(i)*size)
+			if flat {
+				e.flat = true
+				elem.encode(e, q, depth+1)
+				e.flat = false
+				continue
+			}
+			elem.encode(e, q, depth+1)
+		}
+		e.newline(depth)
+		e.buf = append(e.buf, ']')
+	}
+}
+
+// emptyFunc is omitempty's test for t, as encoding/json applies it.
+func emptyFunc(t reflect.Type) func(unsafe.Pointer) bool {
+	switch t.Kind() {
+	case reflect.String:
+		return func(p unsafe.Pointer) bool { return len(*(*string)(p)) == 0 }
+	case reflect.Slice:
+		return func(p unsafe.Pointer) bool { return len(*(*[]byte)(p)) == 0 }
+	case reflect.Pointer:
+		return func(p unsafe.Pointer) bool { return *(*unsafe.Pointer)(p) == nil }
+	case reflect.Float64:
+		return func(p unsafe.Pointer) bool { return *(*float64)(p) == 0 }
+	case reflect.Int:
+		return func(p unsafe.Pointer) bool { return *(*int)(p) == 0 }
+	case reflect.Bool:
+		return func(p unsafe.Pointer) bool { return !*(*bool)(p) }
+	}
+	return func(p unsafe.Pointer) bool { return isEmptyValue(reflect.NewAt(t, p).Elem()) }
+}
+
+func isEmptyValue(v reflect.Value) bool {
 	switch v.Kind() {
 	case reflect.String, reflect.Slice, reflect.Map, reflect.Array:
 		return v.Len() == 0
@@ -178,7 +438,7 @@ func isEmpty(v reflect.Value) bool {
 		return !v.Bool()
 	case reflect.Int, reflect.Int8, reflect.Int16, reflect.Int32, reflect.Int64:
 		return v.Int() == 0
-	case reflect.Uint, reflect.Uint8, reflect.Uint16, reflect.Uint32, reflect.Uint64:
+	case reflect.Uint, reflect.Uint8, reflect.Uint16, reflect.Uint32, reflect.Uint64, reflect.Uintptr:
 		return v.Uint() == 0
 	case reflect.Float32, reflect.Float64:
 		return v.Float() == 0
@@ -188,122 +448,27 @@ func isEmpty(v reflect.Value) bool {
 	return false
 }
 
-// value appends v at the given depth.
-func (e *jsonEnc) value(v reflect.Value, depth int) {
-	if len(e.buf) >= flushAt {
-		e.flush()
-	}
-	if e.err != nil {
-		return
-	}
-	t := v.Type()
-	if t == dateType {
-		d := v.Interface().(Date)
-		if d.IsZero() {
-			e.buf = append(e.buf, "null"...)
-		} else {
-			e.buf = append(e.buf, '"')
-			e.buf = d.t.AppendFormat(e.buf, "2006-01-02")
-			e.buf = append(e.buf, '"')
+// float appends f as encoding/json does; a NaN or an infinity stops the
+// encoder.
+func (e *jsonEnc) float(f float64) {
+	if f-f != 0 {
+		if e.err == nil {
+			e.err = errNonFinite
 		}
 		return
 	}
-	if t.Kind() != reflect.Pointer && t.Implements(marshalerType) {
-		e.fallback(v, depth)
-		return
-	}
-	switch v.Kind() {
-	case reflect.String:
-		e.str(v.String())
-	case reflect.Bool:
-		e.buf = strconv.AppendBool(e.buf, v.Bool())
-	case reflect.Int, reflect.Int8, reflect.Int16, reflect.Int32, reflect.Int64:
-		e.buf = strconv.AppendInt(e.buf, v.Int(), 10)
-	case reflect.Float64:
-		e.buf = appendFloat(e.buf, v.Float())
-	case reflect.Pointer:
-		if v.IsNil() {
-			e.buf = append(e.buf, "null"...)
-			return
-		}
-		e.value(v.Elem(), depth)
-	case reflect.Slice:
-		if v.IsNil() {
-			e.buf = append(e.buf, "null"...)
-			return
-		}
-		if t.Elem().Kind() == reflect.Uint8 {
-			e.fallback(v, depth) // base64
-			return
-		}
-		n := v.Len()
-		if n == 0 {
-			e.buf = append(e.buf, '[', ']')
-			return
-		}
-		flat := !e.flat && flatRecord(t.Elem())
-		e.buf = append(e.buf, '[')
-		for i := 0; i < n; i++ {
-			if i > 0 {
-				e.buf = append(e.buf, ',')
-			}
-			e.newline(depth + 1)
-			if flat {
-				e.flat = true
-				e.value(v.Index(i), depth+1)
-				e.flat = false
-				continue
-			}
-			e.value(v.Index(i), depth+1)
-		}
-		e.newline(depth)
-		e.buf = append(e.buf, ']')
-	case reflect.Struct:
-		fs, ok := fieldsOf(t)
-		if !ok {
-			e.fallback(v, depth)
-			return
-		}
-		e.buf = append(e.buf, '{')
-		n := 0
-	members:
-		for _, f := range fs {
-			fv := v
-			for _, i := range f.index {
-				if fv.Kind() == reflect.Pointer {
-					if fv.IsNil() {
-						continue members
-					}
-					fv = fv.Elem()
-				}
-				fv = fv.Field(i)
-			}
-			if f.omitEmpty && isEmpty(fv) {
-				continue
-			}
-			if n > 0 {
-				e.buf = append(e.buf, ',')
-			}
-			n++
-			e.newline(depth + 1)
-			if e.flat {
-				e.buf = append(e.buf, f.key[:len(f.key)-1]...) // no space after the colon
-			} else {
-				e.buf = append(e.buf, f.key...)
-			}
-			e.value(fv, depth+1)
-		}
-		if n > 0 {
-			e.newline(depth)
-		}
-		e.buf = append(e.buf, '}')
-	default:
-		e.fallback(v, depth)
-	}
+	e.buf = appendFloat(e.buf, f)
 }
 
-// appendFloat formats f as encoding/json does.
+// appendFloat formats f as encoding/json does. A whole number below 2⁵³
+// is written as an integer: its shortest form is its digits.
 func appendFloat(b []byte, f float64) []byte {
+	if f == math.Trunc(f) && math.Abs(f) < 1<<53 {
+		if f == 0 && math.Signbit(f) {
+			return append(b, '-', '0')
+		}
+		return strconv.AppendInt(b, int64(f), 10)
+	}
 	abs := math.Abs(f)
 	format := byte('f')
 	if abs != 0 && (abs < 1e-6 || abs >= 1e21) {
@@ -321,6 +486,34 @@ func appendFloat(b []byte, f float64) []byte {
 	return b
 }
 
+// appendDate appends d as YYYY-MM-DD, the calendar date of its day number
+// by the civil-from-days conversion of the proleptic Gregorian calendar
+// (H. Hinnant, "chrono-Compatible Low-Level Date Algorithms"); a year
+// outside 0 to 9999 is left to Date.AppendISO.
+func appendDate(b []byte, d Date) []byte {
+	z := int64(d.n) - dayOffset + 719468
+	era := z / 146097
+	if z < 0 {
+		era = (z - 146096) / 146097
+	}
+	doe := z - era*146097
+	yoe := (doe - doe/1460 + doe/36524 - doe/146096) / 365
+	y := yoe + era*400
+	doy := doe - (365*yoe + yoe/4 - yoe/100)
+	mp := (5*doy + 2) / 153
+	day := doy - (153*mp+2)/5 + 1
+	m := mp + 3
+	if mp >= 10 {
+		m = mp - 9
+		y++
+	}
+	if y < 0 || y > 9999 {
+		return d.AppendISO(b)
+	}
+	return append(b, byte('0'+y/1000), byte('0'+y/100%10), byte('0'+y/10%10), byte('0'+y%10), '-',
+		byte('0'+m/10), byte('0'+m%10), '-', byte('0'+day/10), byte('0'+day%10))
+}
+
 // str appends s quoted. Printable ASCII without a quote or a backslash is
 // copied; anything else is left to encoding/json.
 func (e *jsonEnc) str(s string) {
@@ -333,6 +526,13 @@ func (e *jsonEnc) str(s string) {
 	e.buf = append(e.buf, '"')
 	e.buf = append(e.buf, s...)
 	e.buf = append(e.buf, '"')
+}
+
+// fallbackEnc encodes a value of t with encoding/json.
+func fallbackEnc(t reflect.Type) encodeFunc {
+	return func(e *jsonEnc, p unsafe.Pointer, depth int) {
+		e.fallback(reflect.NewAt(t, p), depth)
+	}
 }
 
 // fallback encodes v with encoding/json and indents it to depth.

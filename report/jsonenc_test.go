@@ -82,6 +82,19 @@ func TestJSONEncoderMatchesEncodingJSON(t *testing.T) {
 	sameJSON(t, "awkward", m)
 
 	sameJSON(t, "empty", &Model{})
+	sameJSON(t, "ledger", ledgerModel(5))
+}
+
+// A NaN or an infinity stops the writer wherever it is, the expense's
+// records (through the embedded ExpenseDetail) included, and the error
+// names it.
+func TestJSONRejectsNonFiniteInExpense(t *testing.T) {
+	m := ledgerModel(3)
+	m.Expense.ByGrant[2].Tranches[5].Cumulative = math.Inf(-1)
+	err := WriteJSON(&bytes.Buffer{}, m)
+	if err == nil || !strings.Contains(err.Error(), "ByGrant[2].Tranches[5].Cumulative is -Inf") {
+		t.Fatalf("WriteJSON with an infinity: err = %v, want one naming ByGrant[2].Tranches[5].Cumulative", err)
+	}
 }
 
 // Flat records in lists (tranches, events, inputs, periods) take a line

@@ -25,28 +25,27 @@ func writeCostCenters(b *Book, m *Model) error {
 		return err
 	}
 	money := func(v float64) any { return b.Cell(b.Style.Money, v) }
-	for _, c := range e.ByCostCenter {
-		row := []any{b.Cell(b.Style.Bold, "cost centre"), b.Text(c.CostCenter), nil, c.Grants, money(c.Amount), money(c.Cumulative), money(c.Unrecognized)}
-		for _, v := range c.Forecast {
-			row = append(row, money(v))
-		}
-		if err := t.Row(append(row, money(c.AfterForecast))...); err != nil {
-			return err
-		}
-		for _, p := range c.Parts {
-			if err := t.Row("grant", b.Text(c.CostCenter), b.Text(p.GrantID), nil, money(p.Amount), money(p.Cumulative), money(p.Unrecognized)); err != nil {
+	return b.rows(t, func(t *Table) error {
+		for _, c := range e.ByCostCenter {
+			row := []any{b.Cell(b.Style.Bold, "cost centre"), b.Text(c.CostCenter), nil, c.Grants, money(c.Amount), money(c.Cumulative), money(c.Unrecognized)}
+			for _, v := range c.Forecast {
+				row = append(row, money(v))
+			}
+			if err := t.Row(append(row, money(c.AfterForecast))...); err != nil {
 				return err
 			}
+			for _, p := range c.Parts {
+				if err := t.Row("grant", b.Text(c.CostCenter), b.Text(p.GrantID), nil, money(p.Amount), money(p.Cumulative), money(p.Unrecognized)); err != nil {
+					return err
+				}
+			}
 		}
-	}
-	row := []any{b.Cell(b.Style.Bold, "total"), nil, nil, nil, money(e.Amount), money(e.Cumulative), money(m.Expense.UnrecognizedCost)}
-	for _, q := range e.Forecast {
-		row = append(row, money(q.Amount))
-	}
-	if err := t.Row(append(row, money(e.AfterForecast))...); err != nil {
-		return err
-	}
-	return t.Close()
+		row := []any{b.Cell(b.Style.Bold, "total"), nil, nil, nil, money(e.Amount), money(e.Cumulative), money(m.Expense.UnrecognizedCost)}
+		for _, q := range e.Forecast {
+			row = append(row, money(q.Amount))
+		}
+		return t.Row(append(row, money(e.AfterForecast))...)
+	})
 }
 
 // writeByYear is the expense of each fiscal year, recognized and expected.

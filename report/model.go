@@ -8,33 +8,57 @@ import (
 
 // Date is a calendar date. It is written as YYYY-MM-DD in JSON and as a
 // date cell in the workbook; the zero Date is written as null.
-type Date struct{ t time.Time }
+//
+// It holds the day number (days since 1970-01-01, offset so that the zero
+// Date is unset) in four bytes, not a time.Time's twenty-four: a large
+// ledger's model holds several dates per tranche, millions of them, and a
+// time.Time also carries a pointer the collector must follow.
+type Date struct{ n int32 }
+
+// dayOffset is added to a day number so that no real date is stored as 0.
+const dayOffset = 1 << 30
 
 // DateOf returns the date part of t.
 func DateOf(t time.Time) Date {
 	if t.IsZero() {
 		return Date{}
 	}
-	return Date{time.Date(t.Year(), t.Month(), t.Day(), 0, 0, 0, 0, time.UTC)}
+	y, m, d := t.Date()
+	days := time.Date(y, m, d, 0, 0, 0, 0, time.UTC).Unix() / 86400
+	return Date{int32(days + dayOffset)}
 }
 
 // Time is the date at midnight UTC.
-func (d Date) Time() time.Time { return d.t }
+func (d Date) Time() time.Time {
+	if d.n == 0 {
+		return time.Time{}
+	}
+	return time.Unix((int64(d.n)-dayOffset)*86400, 0).UTC()
+}
 
 // IsZero reports whether d is unset.
-func (d Date) IsZero() bool { return d.t.IsZero() }
+func (d Date) IsZero() bool { return d.n == 0 }
 
 // String is YYYY-MM-DD, or "" for the zero Date.
 func (d Date) String() string {
-	if d.t.IsZero() {
+	if d.IsZero() {
 		return ""
 	}
-	return d.t.Format("2006-01-02")
+	return string(d.AppendISO(nil))
+}
+
+// AppendISO appends the date as YYYY-MM-DD to b (nothing for the zero
+// Date).
+func (d Date) AppendISO(b []byte) []byte {
+	if d.IsZero() {
+		return b
+	}
+	return d.Time().AppendFormat(b, "2006-01-02")
 }
 
 // MarshalJSON writes "YYYY-MM-DD" or null.
 func (d Date) MarshalJSON() ([]byte, error) {
-	if d.t.IsZero() {
+	if d.IsZero() {
 		return []byte("null"), nil
 	}
 	return json.Marshal(d.String())
@@ -54,7 +78,7 @@ func (d *Date) UnmarshalJSON(b []byte) error {
 	if err != nil {
 		return fmt.Errorf("date %q: %w", s, err)
 	}
-	*d = Date{t}
+	*d = DateOf(t)
 	return nil
 }
 

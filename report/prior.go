@@ -1,17 +1,18 @@
 package report
 
 import (
-	"bufio"
 	"crypto/sha256"
 	"encoding/hex"
-	"encoding/json"
 	"errors"
 	"fmt"
 	"io"
 	"io/fs"
 	"os"
 	"path/filepath"
+	"reflect"
 	"strings"
+	"sync"
+	"unsafe"
 
 	"grantworth/grants"
 	"grantworth/grants/accounting"
@@ -22,13 +23,12 @@ import (
 // ReadPrior reads the close that a later one follows: an output folder
 // (its valuation.json) or a valuation.json file. The file is only read.
 // Every refusal wraps accounting.ErrPrior and says what is wrong: a file
-// that is not a valuation.json grantworth wrote, one written in a newer
-// format (schema_version) than this grantworth reads, or one that lacks
-// what a later close needs.
+// that is not a valuation.json grantworth wrote (not JSON at all, with
+// the line and column where it goes wrong), one written in a newer format
+// (schema_version) than this grantworth reads, or one that lacks what a
+// later close needs.
 func ReadPrior(path string) (*accounting.Prior, error) {
-	refuse := func(format string, args ...any) error {
-		return &accounting.PriorError{Msg: "prior close " + path + ": " + fmt.Sprintf(format, args...)}
-	}
+	refuse := refusal(path)
 	file := path
 	st, err := os.Stat(path)
 	switch {
@@ -47,20 +47,38 @@ func ReadPrior(path string) (*accounting.Prior, error) {
 		return nil, err
 	}
 	defer f.Close()
-	// The file is read once, as a stream: what a later close needs is
-	// kept as it goes by (a large ledger's file is hundreds of megabytes),
-	// and its bytes are hashed on the way.
+	return readPrior(f, path, file, scanBuffer)
+}
+
+// readPrior reads a prior close's valuation.json from rd. The file is
+// read once, as a stream (a large ledger's is hundreds of megabytes):
+// what a later close needs is kept as it goes by (priorMembers), the rest
+// only checked to be JSON, and its bytes are hashed on the way. path is
+// the prior as given, file the valuation.json read, for the messages;
+// bufSize the scanner's buffer (tests make it small).
+func readPrior(rd io.Reader, path, file string, bufSize int) (*accounting.Prior, error) {
+	refuse := refusal(path)
 	h := sha256.New()
-	in := io.TeeReader(bufio.NewReaderSize(f, 1<<20), h)
-	r := &priorReader{refuse: refuse, index: map[string]int{}}
-	if err := r.read(json.NewDecoder(in)); err != nil {
+	ra := newReadAhead(rd, h)
+	defer ra.Close()
+	s := newScanner(ra, bufSize)
+	r := &priorReader{refuse: refuse, index: map[string]int{}, plans: priorPlans()}
+	if err := r.read(s); err != nil {
 		var pe *accounting.PriorError
-		if errors.As(err, &pe) {
+		var je *jsonError
+		switch {
+		case errors.As(err, &pe):
 			return nil, err
+		case errors.As(err, &je):
+			where := file
+			if where == path {
+				where = ""
+			} else {
+				where += ", "
+			}
+			pe := refuse("is not a valuation.json grantworth wrote: %s%v", where, err).(*accounting.PriorError)
+			return nil, &priorJSONError{pe, je}
 		}
-		return nil, refuse("is not a valuation.json grantworth wrote: %v", err)
-	}
-	if _, err := io.Copy(io.Discard, in); err != nil {
 		return nil, err
 	}
 	if err := r.checkHead(); err != nil {
@@ -70,9 +88,141 @@ func ReadPrior(path string) (*accounting.Prior, error) {
 	if msg != "" {
 		return nil, refuse("is incomplete: %s", msg)
 	}
+	// The scanner read to the end of the file (scanner.end), so the
+	// hash has had every byte.
 	p.Path, p.SHA256 = path, hex.EncodeToString(h.Sum(nil))
 	return p, nil
 }
+
+// readAhead reads a file ahead of its reader in a goroutine of its own,
+// a chunk at a time, and hashes each chunk there: the hash of a large
+// prior close (a third of its reading time) runs beside the parsing, on
+// another core.
+type readAhead struct {
+	full chan []byte // chunks read and hashed, in order; closed at the end
+	free chan []byte // chunks read out
+	stop chan struct{}
+	done chan struct{}
+	err  error  // the read error that ended the file (not io.EOF), once full is closed
+	buf  []byte // the chunk being read out
+	left []byte // its part not read out
+}
+
+// readAheadChunk is the size of a chunk; readAheadChunks are in flight.
+const (
+	readAheadChunk  = 1 << 20
+	readAheadChunks = 4
+)
+
+// newReadAhead starts reading rd. The hash has had every byte once Read
+// has returned io.EOF. Close stops the goroutine.
+func newReadAhead(rd io.Reader, h io.Writer) *readAhead {
+	ra := &readAhead{full: make(chan []byte, readAheadChunks), free: make(chan []byte, readAheadChunks),
+		stop: make(chan struct{}), done: make(chan struct{})}
+	for i := 0; i < readAheadChunks; i++ {
+		ra.free <- make([]byte, readAheadChunk)
+	}
+	go func() {
+		defer close(ra.done)
+		defer close(ra.full)
+		for {
+			var b []byte
+			select {
+			case b = <-ra.free:
+			case <-ra.stop:
+				return
+			}
+			n, err := io.ReadFull(rd, b[:cap(b)])
+			h.Write(b[:n])
+			if n > 0 {
+				select {
+				case ra.full <- b[:n]:
+				case <-ra.stop:
+					return
+				}
+			}
+			if err != nil {
+				if err != io.EOF && err != io.ErrUnexpectedEOF {
+					ra.err = err
+				}
+				return
+			}
+		}
+	}()
+	return ra
+}
+
+func (ra *readAhead) Read(p []byte) (int, error) {
+	for len(ra.left) == 0 {
+		if ra.buf != nil {
+			ra.free <- ra.buf[:cap(ra.buf)]
+			ra.buf = nil
+		}
+		b, ok := <-ra.full
+		if !ok {
+			if ra.err != nil {
+				return 0, ra.err
+			}
+			return 0, io.EOF
+		}
+		ra.buf, ra.left = b, b
+	}
+	n := copy(p, ra.left)
+	ra.left = ra.left[n:]
+	return n, nil
+}
+
+// Close stops the reading goroutine and waits for it.
+func (ra *readAhead) Close() {
+	close(ra.stop)
+	<-ra.done
+}
+
+// refusal makes the refusals of the prior close at path.
+func refusal(path string) func(format string, args ...any) error {
+	return func(format string, args ...any) error {
+		return &accounting.PriorError{Msg: "prior close " + path + ": " + fmt.Sprintf(format, args...)}
+	}
+}
+
+// priorJSONError is a refusal of a file that is not JSON, or whose
+// members are not of their kind: an accounting.PriorError that keeps
+// where the file goes wrong.
+type priorJSONError struct {
+	*accounting.PriorError
+	where *jsonError
+}
+
+func (e *priorJSONError) Unwrap() []error { return []error{e.PriorError, e.where} }
+
+// priorMembers are the members of valuation.json's records that a later
+// close reads (into accounting.Prior, through addGrant, book, addInput and
+// prior); the reader skips the others, checking only that they are JSON.
+// A record type not listed (a period, an event, a remeasurement, a
+// modification) is read whole. To read one more member, add its json
+// name here and use its field.
+var priorMembers = map[reflect.Type][]string{
+	reflect.TypeFor[Company](): {"name", "currency"},
+	reflect.TypeFor[Grant](): {"grant_id", "instrument", "grant_date", "measurement_date", "expiry_date", "valuation_key",
+		"value_status", "classification", "tranches"},
+	reflect.TypeFor[Tranche](): {"index", "vest_date", "shares", "risk_free_rate", "fair_value_per_share", "error_estimate",
+		"expected_term_years", "steps", "bsm_simplified_value", "simplified_term_years", "simplified_rate"},
+	reflect.TypeFor[Expense](): {"periods", "unrecognized_cost", "period_start", "attribution", "forfeitures",
+		"pre_vesting_forfeiture_rate", "framework", "financing_warrants"},
+	reflect.TypeFor[ExpenseGrant](): {"grant_id", "service_start", "cost", "cumulative", "unrecognized_cost",
+		"liability_at_period_end", "reclassified_to_equity_cumulative", "outstanding_at_period_end", "events", "remeasurements", "tranches"},
+	reflect.TypeFor[ExpenseTranche](): {"index", "fair_value_per_share", "grant_date_fair_value_per_share", "cumulative"},
+	reflect.TypeFor[FinancingWarrant](): {"grant_id", "liability_at_period_end", "reclassified_to_equity_cumulative",
+		"outstanding", "events", "remeasurements"},
+	reflect.TypeFor[Assumption](): {"grant_id", "name", "value", "ref", "source", "effective_date", "term"},
+}
+
+// priorPlans are the decoding plans of the prior reader, compiled once.
+var priorPlans = sync.OnceValue(func() *decodePlans {
+	return newDecodePlans(priorMembers, reflect.TypeFor[*int](), reflect.TypeFor[*Tool](), reflect.TypeFor[Date](),
+		reflect.TypeFor[Company](), reflect.TypeFor[Grant](), reflect.TypeFor[Expense](), reflect.TypeFor[ExpenseGrant](),
+		reflect.TypeFor[[]Modification](), reflect.TypeFor[Assumption]())
+})
 
 // priorReader keeps what a later close needs from a valuation.json as it
 // is decoded, member by member and grant by grant.
@@ -90,7 +240,8 @@ type priorReader struct {
 	bad           []string       // grants[i]'s attribution does not fit it ("" if it does)
 	pending       []ExpenseGrant // attributions read before their grants
 	modifications []Modification // the changes of awards' terms it measured
-	studies       pricing.Studies
+	plans         *decodePlans
+	studies       pricing.Studies // the checks it filed
 }
 
 // checkHead refuses a file grantworth did not write or wrote in a newer
@@ -118,195 +269,126 @@ func (r *priorReader) checkHead() error {
 	return nil
 }
 
-// delim reads the delimiter want.
-func delim(dec *json.Decoder, want json.Delim) error {
-	tok, err := dec.Token()
-	if err != nil {
-		return err
+// read reads the file's top-level object.
+func (r *priorReader) read(s *scanner) error {
+	if c := s.peek(); c != '{' && c != 0 {
+		s.kindError("an object")
+	} else {
+		s.expect('{', "an object")
 	}
-	if d, ok := tok.(json.Delim); !ok || d != want {
-		return fmt.Errorf("found %v where %v was expected", tok, want)
-	}
-	return nil
-}
-
-// each calls f for each element of the array that comes next.
-func each(dec *json.Decoder, f func() error) error {
-	if err := delim(dec, '['); err != nil {
-		return err
-	}
-	for dec.More() {
-		if err := f(); err != nil {
-			return err
-		}
-	}
-	return delim(dec, ']')
-}
-
-// members calls f with each key of the object that comes next; f decodes
-// the value.
-func members(dec *json.Decoder, f func(key string) error) error {
-	if err := delim(dec, '{'); err != nil {
-		return err
-	}
-	for dec.More() {
-		tok, err := dec.Token()
-		if err != nil {
-			return err
-		}
-		key, ok := tok.(string)
-		if !ok {
-			return fmt.Errorf("found %v where a member name was expected", tok)
-		}
-		if err := f(key); err != nil {
-			return err
-		}
-	}
-	return delim(dec, '}')
-}
-
-// skip reads past the value that comes next.
-func skip(dec *json.Decoder) error {
-	depth := 0
-	for {
-		tok, err := dec.Token()
-		if err != nil {
-			return err
-		}
-		switch tok {
-		case json.Delim('{'), json.Delim('['):
-			depth++
-		case json.Delim('}'), json.Delim(']'):
-			depth--
-		}
-		if depth == 0 {
-			return nil
-		}
-	}
-}
-
-func (r *priorReader) read(dec *json.Decoder) error {
-	tok, err := dec.Token()
-	if err != nil {
-		return err
-	}
-	if tok != json.Delim('{') {
-		return fmt.Errorf("the file holds %v, not an object", tok)
-	}
-	for dec.More() {
-		tok, err := dec.Token()
-		if err != nil {
-			return err
-		}
-		key, _ := tok.(string)
-		switch key {
+	decode := func(v any) { r.plans.decode(s, v) }
+	for n := 0; s.next(&n, '}'); {
+		key := s.key()
+		switch string(key) {
 		case "schema_version":
-			err = dec.Decode(&r.schemaVersion)
+			decode(&r.schemaVersion)
 		case "tool":
-			err = dec.Decode(&r.tool)
+			decode(&r.tool)
 		case "valuation_date":
-			err = dec.Decode(&r.valuationDate)
+			decode(&r.valuationDate)
 		case "company":
-			err = dec.Decode(&r.company)
+			decode(&r.company)
 		case "grants":
 			if err := r.checkHead(); err != nil {
 				return err
 			}
-			err = each(dec, func() error {
-				var g Grant
-				if err := dec.Decode(&g); err != nil {
-					return err
+			// One Grant read after another: addGrant copies what it
+			// keeps.
+			var g Grant
+			grant := r.plans.of(reflect.TypeFor[Grant]())
+			if !s.open('[') {
+				break
+			}
+			for n := 0; s.next(&n, ']'); {
+				g = Grant{Tranches: g.Tranches[:0]}
+				grant.decode(s, unsafe.Pointer(&g))
+				if s.err != nil {
+					break
 				}
 				r.addGrant(&g)
-				return nil
-			})
+			}
 		case "expense":
 			// The grant-date values it holds are read by its format.
 			if err := r.checkHead(); err != nil {
 				return err
 			}
-			err = r.readExpense(dec)
+			r.readExpense(s)
 		case "modifications":
-			err = dec.Decode(&r.modifications)
-		case "sensitivity", "convergence", "cross_checks":
-			err = r.readStudy(dec, key)
+			decode(&r.modifications)
+		case "sensitivity":
+			var ss []Sensitivity
+			decode(&ss)
+			r.studies.Sensitivity = sensitivityStudy(ss)
+		case "convergence":
+			var c *Convergence
+			decode(&c)
+			r.studies.Convergence = convergenceStudy(c)
+		case "cross_checks":
+			var cs []CrossCheck
+			decode(&cs)
+			r.studies.MonteCarlo = monteCarloStudy(cs)
 		case "assumptions":
-			err = each(dec, func() error {
-				var a Assumption
-				if err := dec.Decode(&a); err != nil {
-					return err
+			var a Assumption
+			input := r.plans.of(reflect.TypeFor[Assumption]())
+			if !s.open('[') {
+				break
+			}
+			for n := 0; s.next(&n, ']'); {
+				a = Assumption{}
+				input.decode(s, unsafe.Pointer(&a))
+				if s.err != nil {
+					break
 				}
 				r.addInput(&a)
-				return nil
-			})
+			}
 		default:
-			err = skip(dec)
-		}
-		if err != nil {
-			return err
+			s.skip()
 		}
 	}
-	_, err = dec.Token() // the closing brace
-	return err
+	s.end()
+	return s.err
 }
 
 // readExpense reads the expense object, its by_grant list grant by
 // grant.
-func (r *priorReader) readExpense(dec *json.Decoder) error {
-	var raw json.RawMessage
-	tok, err := dec.Token()
-	if err != nil {
-		return err
-	}
-	if tok == nil {
+func (r *priorReader) readExpense(s *scanner) {
+	if s.null() {
 		r.expense = nil
-		return nil
+		return
 	}
-	if tok != json.Delim('{') {
-		return fmt.Errorf("expense is %v, not an object", tok)
-	}
-	rest := map[string]json.RawMessage{}
-	byGrant := false
-	for dec.More() {
-		tok, err := dec.Token()
-		if err != nil {
-			return err
-		}
-		key, _ := tok.(string)
-		if key == "by_grant" {
-			byGrant = true
-			err = each(dec, func() error {
-				var eg ExpenseGrant
-				if err := dec.Decode(&eg); err != nil {
-					return err
-				}
-				r.book(&eg)
-				return nil
-			})
-		} else {
-			err = dec.Decode(&raw)
-			rest[key] = append(json.RawMessage(nil), raw...)
-		}
-		if err != nil {
-			return err
-		}
-	}
-	if err := delim(dec, '}'); err != nil {
-		return err
-	}
-	b, err := json.Marshal(rest)
-	if err != nil {
-		return err
+	if !s.open('{') {
+		return
 	}
 	e := &Expense{}
-	if err := json.Unmarshal(b, e); err != nil {
-		return err
-	}
-	if byGrant && e.ExpenseDetail == nil {
-		e.ExpenseDetail = &ExpenseDetail{}
+	pl := r.plans.of(reflect.TypeFor[Expense]())
+	grant := r.plans.of(reflect.TypeFor[ExpenseGrant]())
+	for n := 0; s.next(&n, '}'); {
+		key := s.key()
+		if string(key) == "by_grant" {
+			if e.ExpenseDetail == nil {
+				e.ExpenseDetail = &ExpenseDetail{}
+			}
+			if !s.open('[') {
+				continue
+			}
+			for n := 0; s.next(&n, ']'); {
+				// A fresh record each: book keeps its remeasurements.
+				var eg ExpenseGrant
+				grant.decode(s, unsafe.Pointer(&eg))
+				if s.err != nil {
+					break
+				}
+				r.book(&eg)
+			}
+			continue
+		}
+		if i, ok := pl.index[string(key)]; ok {
+			pl.member(s, i, unsafe.Pointer(e))
+		} else {
+			s.skip()
+		}
 	}
 	r.expense = e
-	return nil
 }
 
 // addGrant keeps what a later close needs of grant g's valuation.
@@ -479,51 +561,42 @@ func priorFinancing(g *accounting.PriorGrant, fw *FinancingWarrant) (accounting.
 	return pg, ""
 }
 
-// readStudy reads the sensitivity cases, the convergence study or the
-// Monte Carlo checks (key) into r.studies, for a rerun to reuse.
-func (r *priorReader) readStudy(dec *json.Decoder, key string) error {
-	st := &r.studies
-	switch key {
-	case "sensitivity":
-		var ss []Sensitivity
-		if err := dec.Decode(&ss); err != nil {
-			return err
+// sensitivityStudy, convergenceStudy and monteCarloStudy are the checks
+// a close filed (its sensitivity cases, convergence study and Monte Carlo
+// cross-checks), for a rerun to reuse (pricing.Studies).
+func sensitivityStudy(ss []Sensitivity) []pricing.Sensitivity {
+	var out []pricing.Sensitivity
+	for _, s := range ss {
+		ps := pricing.Sensitivity{Input: s.Input, Label: s.Label, Unit: s.Unit}
+		for _, pt := range s.Points {
+			ps.Points = append(ps.Points, pricing.SensitivityPoint{Shift: pt.Shift, Label: pt.Label, FairValueTotal: pt.FairValueTotal, Change: pt.Change})
 		}
-		st.Sensitivity = nil
-		for _, s := range ss {
-			ps := pricing.Sensitivity{Input: s.Input, Label: s.Label, Unit: s.Unit}
-			for _, pt := range s.Points {
-				ps.Points = append(ps.Points, pricing.SensitivityPoint{Shift: pt.Shift, Label: pt.Label, FairValueTotal: pt.FairValueTotal, Change: pt.Change})
-			}
-			st.Sensitivity = append(st.Sensitivity, ps)
-		}
-	case "convergence":
-		var c *Convergence
-		if err := dec.Decode(&c); err != nil {
-			return err
-		}
-		st.Convergence = nil
-		if c != nil {
-			st.Convergence = &pricing.Convergence{GrantID: c.GrantID, TrancheIndex: c.TrancheIndex,
-				Auto: valuation.Result{Value: c.AutoValue, ErrorEstimate: c.AutoError, Steps: c.AutoSteps}}
-			for _, pt := range c.Points {
-				st.Convergence.Points = append(st.Convergence.Points, pricing.ConvergencePoint{Steps: pt.Steps, Value: pt.Value})
-			}
-		}
-	default:
-		var cs []CrossCheck
-		if err := dec.Decode(&cs); err != nil {
-			return err
-		}
-		st.MonteCarlo = nil
-		for _, c := range cs {
-			if c.Method == "mc" {
-				st.MonteCarlo = append(st.MonteCarlo, pricing.MonteCarloCheck{GrantID: c.GrantID, TrancheIndex: c.TrancheIndex, Lattice: c.Lattice, LatticeError: c.LatticeError,
-					Result: valuation.Result{Value: c.Value, ErrorEstimate: c.StdErr, Steps: c.Paths}, Seed: c.Seed, Z: c.Z})
-			}
+		out = append(out, ps)
+	}
+	return out
+}
+
+func convergenceStudy(c *Convergence) *pricing.Convergence {
+	if c == nil {
+		return nil
+	}
+	pc := &pricing.Convergence{GrantID: c.GrantID, TrancheIndex: c.TrancheIndex,
+		Auto: valuation.Result{Value: c.AutoValue, ErrorEstimate: c.AutoError, Steps: c.AutoSteps}}
+	for _, pt := range c.Points {
+		pc.Points = append(pc.Points, pricing.ConvergencePoint{Steps: pt.Steps, Value: pt.Value})
+	}
+	return pc
+}
+
+func monteCarloStudy(cs []CrossCheck) []pricing.MonteCarloCheck {
+	var out []pricing.MonteCarloCheck
+	for _, c := range cs {
+		if c.Method == "mc" {
+			out = append(out, pricing.MonteCarloCheck{GrantID: c.GrantID, TrancheIndex: c.TrancheIndex, Lattice: c.Lattice, LatticeError: c.LatticeError,
+				Result: valuation.Result{Value: c.Value, ErrorEstimate: c.StdErr, Steps: c.Paths}, Seed: c.Seed, Z: c.Z})
 		}
 	}
-	return nil
+	return out
 }
 
 // refOf parses "Sheet!Cell" back into a Ref ("default" and "" give the

@@ -1,7 +1,6 @@
 package report
 
 import (
-	"bytes"
 	"strconv"
 	"strings"
 	"testing"
@@ -43,20 +42,7 @@ func TestFastExpenseRowsMatchExcelize(t *testing.T) {
 		if limit != MaxSheetRows {
 			lowerRowLimit(t, limit)
 		}
-		fast, slow := renderBothWays(t, m)
-		if len(fast) != len(slow) {
-			t.Fatalf("limit %d: %d entries fast, %d through excelize", limit, len(fast), len(slow))
-		}
-		for name, want := range slow {
-			if got := fast[name]; !bytes.Equal(got, want) {
-				i := 0
-				for i < len(got) && i < len(want) && got[i] == want[i] {
-					i++
-				}
-				lo := max(0, i-120)
-				t.Errorf("limit %d: %s differs at byte %d:\n fast: %q\nslow: %q", limit, name, i, got[lo:min(len(got), i+120)], want[lo:min(len(want), i+120)])
-			}
-		}
+		sameBothWays(t, "limit "+strconv.Itoa(limit)+": ", m)
 	}
 }
 

@@ -141,9 +141,13 @@ func headerHeight(heads []string, widths []float64) float64 {
 // Table writes one sheet: a styled, frozen header row with an autofilter,
 // then rows.
 type Table struct {
-	sw   *excelize.StreamWriter
-	row  int
-	cols int
+	sw    *excelize.StreamWriter
+	sheet string
+	row   int
+	cols  int
+	// fast, on the fast path of Book.rows, writes the rows in sw's
+	// place.
+	fast *rowWriter
 }
 
 // WriteWorkbook writes valuation.xlsx. Every number comes from the Model;
@@ -234,7 +238,11 @@ func WriteWorkbookWith(w io.Writer, m *Model, o WorkbookOptions) error {
 			return fmt.Errorf("workbook sheet %s: %w", s.Name, err)
 		}
 	}
-	f.SetActiveSheet(0)
+	// No SetActiveSheet: a new file's first sheet is already the selected
+	// tab (tabSelected in its sheet view, activeTab 0 by default), and
+	// excelize's SetActiveSheet parses every sheet's XML to say so, the
+	// streamed ones included (a large ledger's tens of megabytes of
+	// Assumptions), only to throw the result away.
 	var none bytes.Buffer
 	if err := f.Write(&none); err != nil {
 		return err
@@ -339,12 +347,7 @@ func spliceRows(zw *zip.Writer, zf *zip.File, h zip.FileHeader, fast []fastRows)
 	if _, err := dst.Write(data[:i]); err != nil {
 		return false, err
 	}
-	// Large writes: the compressor works in pieces of a megabyte.
-	bw := bufio.NewWriterSize(dst, 1<<20)
-	if err := fast[k](bw); err != nil {
-		return false, err
-	}
-	if err := bw.Flush(); err != nil {
+	if err := fast[k](dst); err != nil {
 		return false, err
 	}
 	_, err = dst.Write(data[end:])
@@ -411,18 +414,10 @@ func (b *Book) Cur(h string) string { return h + " (" + b.cur + ")" }
 // is v.
 func (b *Book) roundCell(style int, v float64) float64 {
 	d, ok := b.decimals[style]
-	if !ok || math.IsNaN(v) || math.IsInf(v, 0) {
+	if !ok {
 		return v
 	}
-	p := math.Pow10(d)
-	r := math.Round(v*p) / p
-	if math.IsInf(r*p, 0) { // too large to scale: keep it
-		return v
-	}
-	if r == 0 {
-		return 0 // no negative zero
-	}
-	return r
+	return roundTo(d, v)
 }
 
 func strPtr(s string) *string { return &s }
@@ -489,27 +484,34 @@ func (b *Book) NewTableSpan(name string, cols []Column, rows, lastRow, lastCol i
 	if err := sw.SetRow("A1", head, excelize.RowOpts{Height: headerHeight(heads, widths)}); err != nil {
 		return nil, err
 	}
-	return &Table{sw: sw, row: 1, cols: len(cols)}, nil
+	return &Table{sw: sw, sheet: name, row: 1, cols: len(cols)}, nil
 }
 
 // Row appends one row. Values are excelize.Cell (for a style or formula),
 // numbers, or strings; use Book.Text for text from the input.
-func (t *Table) Row(values ...any) error {
-	cutCells(values)
-	t.row++
-	return t.sw.SetRow("A"+strconv.Itoa(t.row), values)
-}
+func (t *Table) Row(values ...any) error { return t.put(0, values) }
 
 // TallRow appends one row of the given height in points.
-func (t *Table) TallRow(height float64, values ...any) error {
+func (t *Table) TallRow(height float64, values ...any) error { return t.put(height, values) }
+
+func (t *Table) put(height float64, values []any) error {
 	cutCells(values)
 	t.row++
-	return t.sw.SetRow("A"+strconv.Itoa(t.row), values, excelize.RowOpts{Height: height})
+	if t.fast != nil {
+		return t.fast.values(t.row, height, values)
+	}
+	if height != 0 {
+		return t.sw.SetRow("A"+strconv.Itoa(t.row), values, excelize.RowOpts{Height: height})
+	}
+	return t.sw.SetRow("A"+strconv.Itoa(t.row), values)
 }
 
 // Merge merges the cells from column first to column last (1-based) of the
 // last row written.
 func (t *Table) Merge(first, last int) error {
+	if t.fast != nil {
+		return fmt.Errorf("workbook: no merged cells on the fast rows")
+	}
 	a, err := excelize.CoordinatesToCellName(first, t.row)
 	if err != nil {
 		return err
@@ -528,7 +530,12 @@ func (t *Table) Skip(n int) { t.row += n }
 func (t *Table) RowNum() int { return t.row }
 
 // Close finishes the sheet.
-func (t *Table) Close() error { return t.sw.Flush() }
+func (t *Table) Close() error {
+	if t.fast != nil {
+		return t.fast.flush()
+	}
+	return t.sw.Flush()
+}
 
 // Text is a text cell for a value that came from the input: stored as an
 // inline string with the text number format, so it can never be read as a
@@ -699,28 +706,37 @@ func writeAssumptions(b *Book, m *Model) error {
 		if err != nil {
 			return err
 		}
-		for _, a := range as[:rows] {
-			grant := a.GrantID
-			if grant == "" {
-				grant = "(all)"
-			}
-			src := b.Text(a.Source)
-			cells := []any{b.Text(grant), b.Text(a.Name), b.valueCell(a), b.Text(a.Text), b.Text(a.Ref), b.DateCell(a.EffectiveDate), src}
-			if n := utf8.RuneCountInString(a.Source); float64(n) > cols[6].Width-2 {
-				// Wrapped, in a row as tall as its lines: spreadsheet
-				// programs do not all fit a row's height to wrapped text.
-				src.StyleID = b.Style.WrapInput
-				cells[6] = src
-				if err := t.TallRow(15*math.Ceil(float64(n)/(cols[6].Width-4)), cells...); err != nil {
+		part := as[:rows]
+		err = b.rows(t, func(t *Table) error {
+			cells := make([]any, 7)
+			for _, a := range part {
+				grant := a.GrantID
+				if grant == "" {
+					grant = "(all)"
+				}
+				src := b.Text(a.Source)
+				cells[0], cells[1], cells[2], cells[3], cells[4], cells[5], cells[6] =
+					b.Text(grant), b.Text(a.Name), b.valueCell(a), b.Text(a.Text), b.Text(a.Ref), b.DateCell(a.EffectiveDate), src
+				if n := utf8.RuneCountInString(a.Source); float64(n) > cols[6].Width-2 {
+					// Wrapped, in a row as tall as its lines: spreadsheet
+					// programs do not all fit a row's height to wrapped
+					// text. A row is at most 409 points tall (the file
+					// format's limit); a longer source is shown in part,
+					// the rest a click away.
+					src.StyleID = b.Style.WrapInput
+					cells[6] = src
+					if err := t.TallRow(min(excelize.MaxRowHeight, 15*math.Ceil(float64(n)/(cols[6].Width-4))), cells...); err != nil {
+						return err
+					}
+					continue
+				}
+				if err := t.Row(cells...); err != nil {
 					return err
 				}
-				continue
 			}
-			if err := t.Row(cells...); err != nil {
-				return err
-			}
-		}
-		if err := t.Close(); err != nil {
+			return nil
+		})
+		if err != nil {
 			return err
 		}
 		as = as[rows:]
@@ -744,23 +760,25 @@ func writeGrants(b *Book, m *Model) error {
 		return err
 	}
 	s := b.Style
-	for _, g := range m.Grants {
-		var class any
-		if g.Classification != "" {
-			class = b.Text(g.Classification)
+	return b.rows(t, func(t *Table) error {
+		for _, g := range m.Grants {
+			var class any
+			if g.Classification != "" {
+				class = b.Text(g.Classification)
+			}
+			if err := t.Row(b.Text(g.ID), b.Text(g.Holder), b.Text(g.Instrument), b.DateCell(g.GrantDate),
+				b.DateCell(g.MeasurementDate), b.DateCell(g.ExpiryDate), b.Cell(s.Int, g.Shares),
+				b.Cell(s.MoneyPerShare, g.Strike), b.Cell(s.MoneyPerShare, g.SharePrice), b.Cell(s.Percent, g.Volatility),
+				b.Cell(s.Percent, g.RiskFreeRate), b.Cell(s.Percent, g.DividendYield), b.Cell(s.Number, g.ExerciseMultiple),
+				b.Cell(s.Percent, g.PostVestingExitRate), b.Cell(s.Int, len(g.Tranches)),
+				b.Cell(s.MoneyPerShare, g.FairValuePerShare), b.Cell(s.Money, g.FairValueTotal),
+				b.Cell(s.Money, g.BSMSimplifiedTotal), b.Cell(s.Money, g.FairValueTotal-g.BSMSimplifiedTotal),
+				b.Text(g.Method), class, g.Purpose, b.DateCell(g.HireDate)); err != nil {
+				return err
+			}
 		}
-		if err := t.Row(b.Text(g.ID), b.Text(g.Holder), b.Text(g.Instrument), b.DateCell(g.GrantDate),
-			b.DateCell(g.MeasurementDate), b.DateCell(g.ExpiryDate), b.Cell(s.Int, g.Shares),
-			b.Cell(s.MoneyPerShare, g.Strike), b.Cell(s.MoneyPerShare, g.SharePrice), b.Cell(s.Percent, g.Volatility),
-			b.Cell(s.Percent, g.RiskFreeRate), b.Cell(s.Percent, g.DividendYield), b.Cell(s.Number, g.ExerciseMultiple),
-			b.Cell(s.Percent, g.PostVestingExitRate), b.Cell(s.Int, len(g.Tranches)),
-			b.Cell(s.MoneyPerShare, g.FairValuePerShare), b.Cell(s.Money, g.FairValueTotal),
-			b.Cell(s.Money, g.BSMSimplifiedTotal), b.Cell(s.Money, g.FairValueTotal-g.BSMSimplifiedTotal),
-			b.Text(g.Method), class, g.Purpose, b.DateCell(g.HireDate)); err != nil {
-			return err
-		}
-	}
-	return t.Close()
+		return nil
+	})
 }
 
 // Tranches sheet columns, by letter, for the formulas.
@@ -784,20 +802,45 @@ const (
 // RSU's comparison value is the share price less the dividends forgone to
 // vesting, and has no d1 or d2.
 func bsmFormulas(row int, instrument string) (d1, d2, value string) {
-	// Plain concatenation rather than fmt: this runs for every tranche of
-	// a ledger that may have hundreds of thousands.
 	n := strconv.Itoa(row)
-	c := func(col string) string { return col + n }
 	if instrument == RSU {
-		return "", "", c(colSpot) + "*EXP(-" + c(colDiv) + "*" + c(colVest) + ")"
+		return "", "", bsmRSU.at(n)
 	}
-	d1 = "(LN(" + c(colSpot) + "/" + c(colStrike) + ")+(" + c(colRate) + "-" + c(colDiv) + "+" + c(colVol) + "^2/2)*" + c(colTerm) +
-		")/(" + c(colVol) + "*SQRT(" + c(colTerm) + "))"
-	d2 = c(colD1) + "-" + c(colVol) + "*SQRT(" + c(colTerm) + ")"
-	value = c(colSpot) + "*EXP(-" + c(colDiv) + "*" + c(colTerm) + ")*_xlfn.NORM.S.DIST(" + c(colD1) + ",TRUE)-" +
-		c(colStrike) + "*EXP(-" + c(colRate) + "*" + c(colTerm) + ")*_xlfn.NORM.S.DIST(" + c(colD2) + ",TRUE)"
-	return d1, d2, value
+	return bsmD1.at(n), bsmD2.at(n), bsmValue.at(n)
 }
+
+// rowFormula is a formula of a Tranches row: its text cut where the row
+// number goes, so that a row's formula is written without building it
+// (trancheRows) and contains no character XML escapes.
+type rowFormula []string
+
+// at is the formula on row n.
+func (f rowFormula) at(n string) string { return strings.Join(f, n) }
+
+// newRowFormula is the formula of the cells of columns cols on the same
+// row: each "%" of text stands for the next column's cell.
+func newRowFormula(text string, cols ...string) rowFormula {
+	parts := strings.Split(text, "%")
+	if len(parts) != len(cols)+1 {
+		panic("newRowFormula: " + text)
+	}
+	f := rowFormula{parts[0]}
+	for i, col := range cols {
+		f[len(f)-1] += col
+		f = append(f, parts[i+1])
+	}
+	return f
+}
+
+// The simplified-method formulas of a Tranches row.
+var (
+	bsmD1 = newRowFormula("(LN(%/%)+(%-%+%^2/2)*%)/(%*SQRT(%))",
+		colSpot, colStrike, colRate, colDiv, colVol, colTerm, colVol, colTerm)
+	bsmD2    = newRowFormula("%-%*SQRT(%)", colD1, colVol, colTerm)
+	bsmValue = newRowFormula("%*EXP(-%*%)*_xlfn.NORM.S.DIST(%,TRUE)-%*EXP(-%*%)*_xlfn.NORM.S.DIST(%,TRUE)",
+		colSpot, colDiv, colTerm, colD1, colStrike, colRate, colTerm, colD2)
+	bsmRSU = newRowFormula("%*EXP(-%*%)", colSpot, colDiv, colVest)
+)
 
 // trancheAmountColumns are the columns of TrancheColumns (0-based) in
 // the currency, which their headers name.

@@ -204,3 +204,19 @@ func TestWorkbookDeterministic(t *testing.T) {
 		t.Fatal("two renderings of the same Model differ")
 	}
 }
+
+// A source too long for a row of its lines (a row is at most 409 points
+// tall, excelize.MaxRowHeight) is written whole in the tallest row, not
+// refused with the whole workbook.
+func TestWorkbookLongSource(t *testing.T) {
+	m := fixture()
+	long := strings.Repeat("word ", 1000) + "end"
+	m.Assumptions[0].Source = long
+	f := renderBook(t, m)
+	if v, _ := f.GetCellValue(SheetAssumptions, "G2"); v != long {
+		t.Errorf("Assumptions!G2 holds %d characters, want the %d of the source", len(v), len(long))
+	}
+	if h, _ := f.GetRowHeight(SheetAssumptions, 2); h != excelize.MaxRowHeight {
+		t.Errorf("row 2 is %v points tall, want %v", h, excelize.MaxRowHeight)
+	}
+}

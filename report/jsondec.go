@@ -1,0 +1,277 @@
+package report
+
+import (
+	"encoding"
+	"encoding/json"
+	"fmt"
+	"reflect"
+	"strconv"
+	"sync"
+	"unsafe"
+)
+
+// Decoding plans over the scanner (jsonscan.go) for the Model's types: the
+// mirror of the encoder's plans (jsonenc.go). A struct is read member by
+// member into its fields by their json names (exact names; a member it
+// does not know is skipped, its grammar checked), a list into a slice, a
+// null as encoding/json reads one (a pointer or a slice becomes nil, a
+// Date zero, anything else is left as it is). A type the plans do not know
+// (a map, an interface, one with its own UnmarshalJSON or UnmarshalText)
+// is read as raw bytes and handed to encoding/json.
+//
+// A plan may read only some members of a record (decodePlans.only): the
+// prior reader skips what a later close does not need.
+
+type decodePlans struct {
+	only  map[reflect.Type][]string // members read, by record type; a type not listed is read whole
+	mu    sync.Mutex                // guards plans: a type is compiled on first use
+	plans map[reflect.Type]*decPlan
+}
+
+type decPlan struct {
+	t      reflect.Type
+	kind   encKind                        // a scalar decodeScalar reads, or kOther
+	dec    func(*scanner, unsafe.Pointer) // the other kinds
+	fields []decField                     // a struct's members
+	index  map[string]int                 // position in fields by name
+}
+
+type decField struct {
+	jsonField
+	plan *decPlan // nil: not read
+}
+
+var (
+	unmarshalerType     = reflect.TypeFor[json.Unmarshaler]()
+	textUnmarshalerType = reflect.TypeFor[encoding.TextUnmarshaler]()
+)
+
+// newDecodePlans compiles the plans of the types given and of every type
+// they hold. only names, for a record type, the members to read; it
+// panics on a name the type does not have (a mistake in the caller's list).
+func newDecodePlans(only map[reflect.Type][]string, types ...reflect.Type) *decodePlans {
+	d := &decodePlans{only: only, plans: map[reflect.Type]*decPlan{}}
+	for _, t := range types {
+		d.of(t)
+	}
+	for t, names := range only {
+		pl := d.of(t)
+		for _, n := range names {
+			if _, ok := pl.index[n]; !ok {
+				panic(fmt.Sprintf("report: %v has no JSON member %q", t, n))
+			}
+		}
+	}
+	return d
+}
+
+// decode reads the value that comes next into *v (v a pointer), by the
+// plan of v's element type.
+func (d *decodePlans) decode(s *scanner, v any) {
+	rv := reflect.ValueOf(v)
+	d.of(rv.Type().Elem()).decode(s, rv.UnsafePointer())
+}
+
+// of is t's plan, compiled on first use; several readers may ask at once.
+func (d *decodePlans) of(t reflect.Type) *decPlan {
+	d.mu.Lock()
+	defer d.mu.Unlock()
+	return d.plan(t)
+}
+
+// plan is t's plan, compiled on first use; d.mu is held.
+func (d *decodePlans) plan(t reflect.Type) *decPlan {
+	if pl, ok := d.plans[t]; ok {
+		return pl
+	}
+	pl := &decPlan{t: t}
+	d.plans[t] = pl
+	switch {
+	case t == dateType:
+		pl.kind = kDate
+		return pl
+	case t.Kind() != reflect.Pointer && (reflect.PointerTo(t).Implements(unmarshalerType) || reflect.PointerTo(t).Implements(textUnmarshalerType)):
+		pl.dec = rawDec(t)
+		return pl
+	}
+	switch t.Kind() {
+	case reflect.String:
+		pl.kind = kString
+	case reflect.Float64:
+		pl.kind = kFloat64
+	case reflect.Int:
+		pl.kind = kInt
+	case reflect.Int64:
+		pl.kind = kInt64
+	case reflect.Bool:
+		pl.kind = kBool
+	case reflect.Int8, reflect.Int16, reflect.Int32:
+		pl.dec = func(s *scanner, p unsafe.Pointer) {
+			if v, ok := s.integer(t.Bits()); ok {
+				reflect.NewAt(t, p).Elem().SetInt(v)
+			}
+		}
+	case reflect.Uint, reflect.Uint8, reflect.Uint16, reflect.Uint32, reflect.Uint64, reflect.Uintptr:
+		pl.dec = func(s *scanner, p unsafe.Pointer) {
+			if v, ok := s.unsigned(t.Bits()); ok {
+				reflect.NewAt(t, p).Elem().SetUint(v)
+			}
+		}
+	case reflect.Pointer:
+		elem := d.plan(t.Elem())
+		pl.dec = func(s *scanner, p unsafe.Pointer) {
+			pp := (*unsafe.Pointer)(p)
+			if s.null() {
+				*pp = nil
+				return
+			}
+			if *pp == nil {
+				*pp = reflect.New(t.Elem()).UnsafePointer()
+			}
+			elem.decode(s, *pp)
+		}
+	case reflect.Slice:
+		if t.Elem().Kind() == reflect.Uint8 {
+			pl.dec = rawDec(t) // base64
+			break
+		}
+		pl.dec = sliceDec(t, d.plan(t.Elem()))
+	case reflect.Struct:
+		fs, ok := jsonFields(t)
+		if !ok {
+			pl.dec = rawDec(t)
+			break
+		}
+		read := map[string]bool{}
+		names, some := d.only[t]
+		for _, n := range names {
+			read[n] = true
+		}
+		pl.index = map[string]int{}
+		for i, f := range fs {
+			df := decField{jsonField: f}
+			if !some || read[f.name] {
+				df.plan = d.plan(f.typ)
+			}
+			pl.fields = append(pl.fields, df)
+			pl.index[f.name] = i
+		}
+		pl.dec = pl.decodeStruct
+	default:
+		pl.dec = rawDec(t)
+	}
+	return pl
+}
+
+// decode reads the value that comes next into the value of the plan's
+// type at p.
+func (pl *decPlan) decode(s *scanner, p unsafe.Pointer) {
+	switch pl.kind {
+	case kString:
+		s.str((*string)(p))
+	case kFloat64:
+		s.float((*float64)(p))
+	case kInt:
+		if v, ok := s.integer(strconv.IntSize); ok {
+			*(*int)(p) = int(v)
+		}
+	case kInt64:
+		if v, ok := s.integer(64); ok {
+			*(*int64)(p) = v
+		}
+	case kBool:
+		s.boolean((*bool)(p))
+	case kDate:
+		s.date((*Date)(p))
+	default:
+		pl.dec(s, p)
+	}
+}
+
+// decodeStruct reads an object into the struct at p. The members of a
+// file grantworth wrote come in the order of the fields: the next field's
+// name is tried before the index.
+func (pl *decPlan) decodeStruct(s *scanner, p unsafe.Pointer) {
+	if !s.open('{') {
+		return
+	}
+	next := 0
+	for n := 0; s.next(&n, '}'); {
+		k := s.key()
+		if s.err != nil {
+			return
+		}
+		i := -1
+		if next < len(pl.fields) && string(k) == pl.fields[next].name {
+			i = next
+		} else if j, ok := pl.index[string(k)]; ok {
+			i = j
+		}
+		if i < 0 {
+			s.skip()
+			continue
+		}
+		next = i + 1
+		pl.member(s, i, p)
+	}
+}
+
+// member reads the value that comes next into field i of the struct at p
+// (or skips it, a field not read).
+func (pl *decPlan) member(s *scanner, i int, p unsafe.Pointer) {
+	f := &pl.fields[i]
+	if f.plan == nil {
+		s.skip()
+		return
+	}
+	if f.embedded {
+		pp := (*unsafe.Pointer)(unsafe.Add(p, f.embedOff))
+		if *pp == nil {
+			*pp = reflect.New(f.embedType).UnsafePointer()
+		}
+		p = *pp
+	}
+	f.plan.decode(s, unsafe.Add(p, f.off))
+}
+
+// sliceDec reads an array into a slice of t, from its first element on
+// (its array reused, each element zeroed first); null makes it nil.
+func sliceDec(t reflect.Type, elem *decPlan) func(*scanner, unsafe.Pointer) {
+	return func(s *scanner, p unsafe.Pointer) {
+		v := reflect.NewAt(t, p).Elem()
+		if s.null() {
+			v.SetZero()
+			return
+		}
+		if !s.open('[') {
+			return
+		}
+		if v.IsNil() {
+			v.Set(reflect.MakeSlice(t, 0, 0))
+		}
+		v.SetLen(0)
+		for n := 0; s.next(&n, ']'); {
+			i := v.Len()
+			if i == v.Cap() {
+				v.Grow(1)
+			}
+			v.SetLen(i + 1)
+			e := v.Index(i)
+			e.SetZero()
+			elem.decode(s, e.Addr().UnsafePointer())
+		}
+	}
+}
+
+// rawDec reads a value of t through encoding/json.
+func rawDec(t reflect.Type) func(*scanner, unsafe.Pointer) {
+	return func(s *scanner, p unsafe.Pointer) {
+		raw := s.rawValue()
+		if s.err != nil {
+			return
+		}
+		if err := json.Unmarshal(raw, reflect.NewAt(t, p).Interface()); err != nil {
+			s.failAt(s.pos-len(raw), false, "%v", err)
+		}
+	}
+}
