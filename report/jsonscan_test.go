@@ -68,6 +68,7 @@ func priorViaEncodingJSON(t *testing.T, data []byte) *accounting.Prior {
 		r.expense = &e
 	}
 	r.modifications = m.Modifications
+	r.studies.Sensitivity, r.studies.Convergence, r.studies.MonteCarlo = sensitivityStudy(m.Sensitivity), convergenceStudy(m.Convergence), monteCarloStudy(m.CrossChecks)
 	for i := range m.Assumptions {
 		r.addInput(&m.Assumptions[i])
 	}

@@ -16,6 +16,7 @@ import (
 
 	"grantworth/grants"
 	"grantworth/grants/accounting"
+	"grantworth/grants/pricing"
 	"grantworth/valuation"
 )
 
@@ -203,7 +204,7 @@ func (e *priorJSONError) Unwrap() []error { return []error{e.PriorError, e.where
 var priorMembers = map[reflect.Type][]string{
 	reflect.TypeFor[Company](): {"name", "currency"},
 	reflect.TypeFor[Grant](): {"grant_id", "instrument", "grant_date", "measurement_date", "expiry_date", "valuation_key",
-		"classification", "tranches"},
+		"value_status", "classification", "tranches"},
 	reflect.TypeFor[Tranche](): {"index", "vest_date", "shares", "risk_free_rate", "fair_value_per_share", "error_estimate",
 		"expected_term_years", "steps", "bsm_simplified_value", "simplified_term_years", "simplified_rate"},
 	reflect.TypeFor[Expense](): {"periods", "unrecognized_cost", "period_start", "attribution", "forfeitures",
@@ -240,6 +241,7 @@ type priorReader struct {
 	pending       []ExpenseGrant // attributions read before their grants
 	modifications []Modification // the changes of awards' terms it measured
 	plans         *decodePlans
+	studies       pricing.Studies // the checks it filed
 }
 
 // checkHead refuses a file grantworth did not write or wrote in a newer
@@ -313,6 +315,18 @@ func (r *priorReader) read(s *scanner) error {
 			r.readExpense(s)
 		case "modifications":
 			decode(&r.modifications)
+		case "sensitivity":
+			var ss []Sensitivity
+			decode(&ss)
+			r.studies.Sensitivity = sensitivityStudy(ss)
+		case "convergence":
+			var c *Convergence
+			decode(&c)
+			r.studies.Convergence = convergenceStudy(c)
+		case "cross_checks":
+			var cs []CrossCheck
+			decode(&cs)
+			r.studies.MonteCarlo = monteCarloStudy(cs)
 		case "assumptions":
 			var a Assumption
 			input := r.plans.of(reflect.TypeFor[Assumption]())
@@ -380,7 +394,8 @@ func (r *priorReader) readExpense(s *scanner) {
 // addGrant keeps what a later close needs of grant g's valuation.
 func (r *priorReader) addGrant(g *Grant) {
 	pg := accounting.PriorGrant{ID: g.ID, Instrument: grants.Instrument(g.Instrument), Liability: g.Instrument == Warrant && g.Classification == string(grants.Liability),
-		GrantDate: g.GrantDate.Time(), MeasurementDate: g.MeasurementDate.Time(), ExpiryDate: g.ExpiryDate.Time(), ValuationKey: g.ValuationKey}
+		GrantDate: g.GrantDate.Time(), MeasurementDate: g.MeasurementDate.Time(), ExpiryDate: g.ExpiryDate.Time(), ValuationKey: g.ValuationKey,
+		Status: pricing.Status(g.ValueStatus)}
 	if len(g.Tranches) > 0 {
 		pg.Tranches = make([]accounting.PriorTranche, len(g.Tranches))
 	}
@@ -514,6 +529,11 @@ func (r *priorReader) prior() (*accounting.Prior, string) {
 		}
 	}
 	p.Grants = r.grants
+	p.Studies = r.studies
+	p.Studies.GrantIDs = make([]string, len(r.grants))
+	for i := range r.grants {
+		p.Studies.GrantIDs[i] = r.grants[i].ID
+	}
 	return p, filedModifications(r.modifications, p)
 }
 
@@ -524,7 +544,7 @@ func (r *priorReader) prior() (*accounting.Prior, string) {
 func priorFinancing(g *accounting.PriorGrant, fw *FinancingWarrant) (accounting.PriorGrant, string) {
 	pg := accounting.PriorGrant{ID: g.ID, Instrument: g.Instrument, Liability: g.Liability, Financing: true,
 		GrantDate: g.GrantDate, ServiceStart: g.GrantDate, MeasurementDate: g.MeasurementDate, ExpiryDate: g.ExpiryDate,
-		ValuationKey: g.ValuationKey, Inputs: g.Inputs, LiabilityEnd: fw.LiabilityEnd, Reclassified: fw.ReclassifiedToDate, Outstanding: fw.Outstanding}
+		ValuationKey: g.ValuationKey, Status: g.Status, Inputs: g.Inputs, LiabilityEnd: fw.LiabilityEnd, Reclassified: fw.ReclassifiedToDate, Outstanding: fw.Outstanding}
 	for _, t := range g.Tranches {
 		t.Cumulative = 0
 		pg.Tranches = append(pg.Tranches, t)
@@ -539,6 +559,44 @@ func priorFinancing(g *accounting.PriorGrant, fw *FinancingWarrant) (accounting.
 		pg.Remeasurements = append(pg.Remeasurements, accounting.Remeasurement{Date: r.Date.Time(), FairValue: r.FairValuePerShare})
 	}
 	return pg, ""
+}
+
+// sensitivityStudy, convergenceStudy and monteCarloStudy are the checks
+// a close filed (its sensitivity cases, convergence study and Monte Carlo
+// cross-checks), for a rerun to reuse (pricing.Studies).
+func sensitivityStudy(ss []Sensitivity) []pricing.Sensitivity {
+	var out []pricing.Sensitivity
+	for _, s := range ss {
+		ps := pricing.Sensitivity{Input: s.Input, Label: s.Label, Unit: s.Unit}
+		for _, pt := range s.Points {
+			ps.Points = append(ps.Points, pricing.SensitivityPoint{Shift: pt.Shift, Label: pt.Label, FairValueTotal: pt.FairValueTotal, Change: pt.Change})
+		}
+		out = append(out, ps)
+	}
+	return out
+}
+
+func convergenceStudy(c *Convergence) *pricing.Convergence {
+	if c == nil {
+		return nil
+	}
+	pc := &pricing.Convergence{GrantID: c.GrantID, TrancheIndex: c.TrancheIndex,
+		Auto: valuation.Result{Value: c.AutoValue, ErrorEstimate: c.AutoError, Steps: c.AutoSteps}}
+	for _, pt := range c.Points {
+		pc.Points = append(pc.Points, pricing.ConvergencePoint{Steps: pt.Steps, Value: pt.Value})
+	}
+	return pc
+}
+
+func monteCarloStudy(cs []CrossCheck) []pricing.MonteCarloCheck {
+	var out []pricing.MonteCarloCheck
+	for _, c := range cs {
+		if c.Method == "mc" {
+			out = append(out, pricing.MonteCarloCheck{GrantID: c.GrantID, TrancheIndex: c.TrancheIndex, Lattice: c.Lattice, LatticeError: c.LatticeError,
+				Result: valuation.Result{Value: c.Value, ErrorEstimate: c.StdErr, Steps: c.Paths}, Seed: c.Seed, Z: c.Z})
+		}
+	}
+	return out
 }
 
 // refOf parses "Sheet!Cell" back into a Ref ("default" and "" give the

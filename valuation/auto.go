@@ -275,6 +275,10 @@ type autoGrid struct {
 	kcor   [2]float64 // their corrections per unit time
 	w, l   []float64  // value and expected remaining life
 	w2, l2 []float64  // the next layer while a step is taken
+	steps  []autoStep // the level's steps (levelSteps), kept for the next
+	// ints and prevInts are −ln D(t) at the ends of the steps of this
+	// level and the last (levelSteps).
+	ints, prevInts []float64
 }
 
 func (g *autoGrid) setup(am *autoModel, geo *autoGeo, h float64, ghosts int) {
@@ -369,9 +373,15 @@ type autoStep struct {
 	dt, f float64
 }
 
-// levelSteps lists the steps of level lv, from the first knot forward.
-func (am *autoModel) levelSteps(geo *autoGeo, lv int, steps []autoStep) []autoStep {
-	steps = steps[:0]
+// levelSteps lists the steps of level lv, from the first knot forward,
+// into steps, and the integrated forward rate −ln D(t) at each step's end
+// into ints. prev holds level lv−1's (nil on level 0): a step of level lv
+// ends at an even k of 2n where one of level lv−1 ends at k/2 of n, the
+// same time to the last bit ((t1−t0)·2k/(2n) rounds as (t1−t0)·k/n, a
+// power of 2 apart), so half the logarithms are taken from it.
+func (am *autoModel) levelSteps(geo *autoGeo, lv int, steps []autoStep, prev, ints []float64) ([]autoStep, []float64) {
+	steps, ints = steps[:0], ints[:0]
+	off := 0 // where the segment's ends start in prev
 	for i, nb := range geo.base {
 		n := nb << lv
 		t0, t1 := geo.knots[i], geo.knots[i+1]
@@ -381,19 +391,30 @@ func (am *autoModel) levelSteps(geo *autoGeo, lv int, steps []autoStep) []autoSt
 			if k == n {
 				tk = t1
 			}
-			lq := -math.Log(am.curve.Discount(tk))
+			var lq float64
+			if lv > 0 && k%2 == 0 {
+				lq = prev[off+k/2-1]
+			} else {
+				lq = -math.Log(am.curve.Discount(tk))
+			}
 			dt := tk - (t0 + (t1-t0)*float64(k-1)/float64(n))
 			steps = append(steps, autoStep{dt: dt, f: (lq - lp) / dt})
+			ints = append(ints, lq)
 			lp = lq
 		}
+		off += n / 2
 	}
-	return steps
+	return steps, ints
 }
 
 // solveLevel rolls the vested value and life back over level lv and reads
 // every gridded tranche at its knot into vals and lives.
 func (am *autoModel) solveLevel(geo *autoGeo, lv int, g *autoGrid, vest []float64, vals, lives []float64) {
-	steps := am.levelSteps(geo, lv, nil)
+	// g.ints holds level lv−1's integrated rates (latticeAuto solves the
+	// levels in order, from 0).
+	g.prevInts, g.ints = g.ints, g.prevInts
+	steps, ints := am.levelSteps(geo, lv, g.steps, g.prevInts, g.ints)
+	g.steps, g.ints = steps, ints
 	h := geo.spacing(lv)
 	kmax := 0
 	for _, st := range steps {

@@ -221,6 +221,10 @@ func runValue(o *valueOptions) error {
 	st.mark("valuing")
 	bar := newProgress(o.io, "valuing grants")
 	sensBar := newProgress(o.io, "sensitivity runs")
+	var studies *pricing.Studies
+	if prior != nil {
+		studies = &prior.Studies
+	}
 	v, err := pricing.Value(s, ins, pricing.Options{
 		Lattice:     valuation.LatticeOptions{Steps: s.InForce().Steps},
 		Progress:    bar.update,
@@ -231,6 +235,9 @@ func runValue(o *valueOptions) error {
 		// its values without being valued, when the same grantworth
 		// made them.
 		Reuse: prior != nil && prior.ToolVersion == version,
+		// and so do the checks of the prior close that are provably the
+		// ones this run would make.
+		Studies: studies,
 	})
 	bar.finish()
 	sensBar.finish()
@@ -249,6 +256,9 @@ func runValue(o *valueOptions) error {
 	keptNote := ""
 	if kept > 0 {
 		keptNote = fmt.Sprintf(" (%s as filed, not valued again)", groupCount(kept))
+	}
+	if n := studiesNote(v.StudiesReused); n != "" {
+		keptNote += "; " + n + " as the prior close made them"
 	}
 	st.end("%s grants%s", groupCount(len(v.Grants)), keptNote)
 	st.begin("accounting")
@@ -295,6 +305,22 @@ func runValue(o *valueOptions) error {
 	printWarnings(o.io.Err, m.Warnings)
 	printSummary(o.io.Out, m, o.out)
 	return nil
+}
+
+// studiesNote names the checks a rerun took from the prior close, "" if
+// none.
+func studiesNote(r pricing.StudiesReused) string {
+	var parts []string
+	if r.MonteCarlo > 0 {
+		parts = append(parts, fmt.Sprintf("%d Monte Carlo %s", r.MonteCarlo, map[bool]string{true: "check", false: "checks"}[r.MonteCarlo == 1]))
+	}
+	if r.Convergence {
+		parts = append(parts, "the convergence study")
+	}
+	if r.Sensitivity {
+		parts = append(parts, "the sensitivity cases")
+	}
+	return strings.Join(parts, ", ")
 }
 
 // writeHeapProfile writes the live heap's profile to path (--memprofile).
@@ -354,12 +380,22 @@ func openPrior(o *valueOptions, s *grants.Schedule) (*accounting.Prior, []string
 	if err != nil {
 		return nil, nil, asInput(err)
 	}
-	locks := prior.Locks()
+	// The grants it filed values for (prior.Locks' keys, without making
+	// the locks twice).
+	filed := make(map[string]bool, len(o.correct))
+	for _, id := range o.correct {
+		filed[id] = false
+	}
+	for _, pg := range prior.Grants {
+		if _, ok := filed[pg.ID]; ok {
+			filed[pg.ID] = true
+		}
+	}
 	for _, id := range o.correct {
 		if _, ok := s.Grant(id); !ok {
 			return nil, nil, badInput("--correct %s: no such grant on the Grants sheet", id)
 		}
-		if _, ok := locks[id]; !ok {
+		if !filed[id] {
 			return nil, nil, badInput("--correct %s: the prior close of %s filed no value for it to correct", id, prior.ValuationDate.Format(time.DateOnly))
 		}
 	}

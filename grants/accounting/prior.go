@@ -48,6 +48,10 @@ type Prior struct {
 	// compensation (grantworth's format 1): its booked cost cannot be
 	// carried on by the rule of ASC 718-30-35-3.
 	LiabilityChangeApart bool
+	// Studies are the checks it filed (sensitivity, convergence, Monte
+	// Carlo) and its grants' order, for a rerun to reuse
+	// (pricing.Options.Studies).
+	Studies pricing.Studies
 
 	byID    map[string]int // grant's index: position by grant ID
 	indexed int            // len(Grants) when byID was made
@@ -73,6 +77,9 @@ type PriorGrant struct {
 	// ValuationKey is the digest of every number its filed values were
 	// measured with (pricing.GrantValue.Key); "" if none was filed.
 	ValuationKey string
+	// Status is where its values came from in that close (measured,
+	// locked, corrected, remeasured).
+	Status pricing.Status
 
 	Cost, Cumulative, Unrecognized float64
 	// Liability-classified warrants: the liability at its valuation date
@@ -224,7 +231,7 @@ func (p *Prior) Locks() map[string]pricing.Lock {
 	out := make(map[string]pricing.Lock, len(p.Grants))
 	for _, pg := range p.Grants {
 		lk := pricing.Lock{Close: p.ValuationDate, Liability: pg.Liability, MeasurementDate: pg.MeasurementDate, ExpiryDate: pg.ExpiryDate, Inputs: pg.Inputs, Key: pg.ValuationKey,
-			Modifications: pg.Modifications}
+			Modifications: pg.Modifications, Measured: pg.Status == pricing.Measured || pg.Status == pricing.Corrected}
 		if pg.Liability {
 			for _, r := range pg.Remeasurements {
 				lk.Revaluations = append(lk.Revaluations, pricing.Revaluation{Date: r.Date, Values: r.FairValue})
@@ -271,7 +278,7 @@ func Filed(s *grants.Schedule, v *pricing.Valuation, b *Books) *Prior {
 			continue
 		}
 		pg := PriorGrant{ID: g.ID, Instrument: g.Instrument, Liability: ge.Liability, GrantDate: g.GrantDate, ServiceStart: ge.ServiceStart,
-			MeasurementDate: in.MeasurementDate, ExpiryDate: g.ExpiryDate, Inputs: map[string]grants.Source{}, ValuationKey: gv.Key,
+			MeasurementDate: in.MeasurementDate, ExpiryDate: g.ExpiryDate, Inputs: map[string]grants.Source{}, ValuationKey: gv.Key, Status: gv.Status,
 			Cost: ge.Cost, Cumulative: ge.Cumulative, Unrecognized: ge.Unrecognized,
 			LiabilityEnd: ge.LiabilityEnd, Reclassified: ge.ReclassifiedToDate, Outstanding: ge.Outstanding}
 		for _, e := range ge.Events {
@@ -288,6 +295,7 @@ func Filed(s *grants.Schedule, v *pricing.Valuation, b *Books) *Prior {
 		pg.Modifications = filedModifications(v, g.ID)
 		p.Grants = append(p.Grants, pg)
 	}
+	p.Studies = v.FiledStudies()
 	return p
 }
 
@@ -315,7 +323,7 @@ func filedMeasurements(pg *PriorGrant, gv *pricing.GrantValue, cum func(k int) f
 func filedFinancing(gv *pricing.GrantValue, fw *FinancingWarrant) PriorGrant {
 	g := gv.Inputs.Grant
 	pg := PriorGrant{ID: g.ID, Instrument: g.Instrument, Liability: g.IsLiability(), Financing: true, GrantDate: g.GrantDate,
-		ServiceStart: g.GrantDate, MeasurementDate: gv.Inputs.MeasurementDate, ExpiryDate: g.ExpiryDate, Inputs: map[string]grants.Source{}, ValuationKey: gv.Key,
+		ServiceStart: g.GrantDate, MeasurementDate: gv.Inputs.MeasurementDate, ExpiryDate: g.ExpiryDate, Inputs: map[string]grants.Source{}, ValuationKey: gv.Key, Status: gv.Status,
 		LiabilityEnd: fw.LiabilityEnd, Reclassified: fw.ReclassifiedToDate, Outstanding: fw.Outstanding, Remeasurements: fw.Remeasurements}
 	for _, e := range fw.Events {
 		pg.Events = append(pg.Events, grants.Event{GrantID: g.ID, Date: e.Date, Kind: e.Kind, Shares: e.Shares})

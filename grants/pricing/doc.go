@@ -99,6 +99,20 @@
 // locked grant whose tranches changed, or whose classification changed,
 // must be corrected: the error wraps ErrLock.
 //
+// With Options.Reuse, a locked grant whose valuation key today is the one
+// filed (every number that enters its valuation as it was, the same
+// grantworth) keeps its filed values without being valued (Reused), and
+// gets exactly what valuing it again would give. Options.Studies are the
+// prior close's checks (studies.go): the Monte Carlo cross-check of a
+// tranche, the convergence study, the sensitivity cases are taken from it
+// only when every grant they touch is Reused and was measured by that
+// close on the inputs of its key (Lock.Measured), the same tranche and
+// seed, the same sample of the same ledger; the sensitivity cases when,
+// besides, the ledger's total is the one filed, or the prior filed the
+// sample's totals (SensitivityPoint.SampleTotal). Valuation.StudiesReused
+// says which were taken. A rerun that reuses writes the same outputs, byte
+// for byte, as one that values and checks everything again.
+//
 // The result depends on the schedule and the options only, never on the
 // number of cores. Progress comes back through the callbacks of Options;
 // Value prints nothing.

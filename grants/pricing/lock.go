@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"slices"
 	"strings"
 	"time"
 
@@ -45,6 +46,11 @@ type Lock struct {
 	// Key is the valuation key (GrantValue.Key) of the values filed; ""
 	// from a close that filed none.
 	Key string
+	// Measured is set when the prior close measured the values filed on
+	// the inputs Key describes (it valued the grant then: status
+	// measured or corrected), so that its checks of the grant (Studies)
+	// were made on those inputs too.
+	Measured bool
 }
 
 // LockedTranche is one tranche's measurement as filed.
@@ -113,6 +119,7 @@ func lock(v *Valuation, opts Options) ([]string, error) {
 			return nil, err
 		}
 		gv.Key = lk.Key
+		gv.Lock.Tranches = nil // kept in Results, BSM and the rates
 	}
 	return driftWarnings(v.Grants), nil
 }
@@ -213,6 +220,12 @@ func keep(gv *GrantValue, lk *Lock) error {
 	}
 	var shares, now, then float64
 	differs := false
+	// Grants on the same terms share one slice of results (valued once,
+	// valueSet): the kept values go into the grant's own (a Reused
+	// grant's is its own already).
+	if !gv.Reused {
+		gv.Results = slices.Clone(gv.Results)
+	}
 	for k, tr := range gv.Inputs.Tranches {
 		j, ok := byDay[dayKey(tr.VestDate)]
 		if !ok {
@@ -231,6 +244,11 @@ func keep(gv *GrantValue, lk *Lock) error {
 		then += n * t.Result.Value
 		gv.Results[k], gv.BSM[k] = t.Result, t.BSM
 		gv.RiskFreeRate[k], gv.SimplifiedRate[k] = t.RiskFreeRate, t.SimplifiedRate
+		if c := gv.Inputs.Market.Curve; gv.Reused && c != nil {
+			// As compare gives a grant valued again, whose expected
+			// term is the one filed.
+			gv.ExpectedTermRate[k] = c.Zero(t.Result.ExpectedTermYears)
+		}
 	}
 	gv.Status = Locked
 	if differs && shares > 0 {

@@ -70,6 +70,13 @@ type Options struct {
 	// cause. Set it when the prior close was made by this version of
 	// grantworth.
 	Reuse bool
+	// Studies are the checks of the prior close the Locks come from
+	// (nil without one). A check of this run whose every input is as the
+	// prior close's (its grants Reused, and measured by that close on the
+	// inputs of their keys) is taken from it instead of being run again:
+	// the sensitivity cases, the convergence study, each Monte Carlo
+	// cross-check (studies.go). It needs Reuse.
+	Studies *Studies
 	// SimTarget scales the standard errors the simulations of market
 	// conditions aim for (conditions.go): 0 or 1 as set there, 4 four
 	// times as loose (quick runs and tests).
@@ -92,7 +99,8 @@ type GrantValue struct {
 	UndilutedValue float64
 	// Status says whether the values were measured now, kept from a
 	// prior close (Lock) or corrected; Lock is the prior close's
-	// measurement of a locked, corrected or remeasured grant.
+	// measurement of a locked, corrected or remeasured grant (a locked
+	// grant's without its Tranches, whose values it keeps as its own).
 	Status Status
 	Lock   *Lock
 	// Drift is, for a locked grant that today's inputs would value
@@ -139,6 +147,10 @@ type SensitivityPoint struct {
 	Label          string
 	FairValueTotal float64
 	Change         float64 // relative to the base case
+	// SampleTotal is the total fair value of the sensitivity sample in
+	// this case (in the base case, the sample's own): FairValueTotal is
+	// the ledger's total times SampleTotal over the base case's.
+	SampleTotal float64
 }
 
 // Convergence is the raw lattice against the step count for one tranche,
@@ -194,6 +206,8 @@ type Revaluation struct {
 
 // Valuation is everything Value found.
 type Valuation struct {
+	// Options are those of the run, without the Locks (each grant's is
+	// its Lock), which are let go once used: a ledger's are large.
 	Options Options
 	Grants  []GrantValue
 	// FairValueTotal sums the grants' totals in order.
@@ -224,6 +238,9 @@ type Valuation struct {
 	// order and, within a grant, date order.
 	Modifications []ModificationValue
 	Warnings      []string
+	// StudiesReused says which checks were taken from the prior close
+	// (Options.Studies) instead of being run.
+	StudiesReused StudiesReused
 }
 
 // RemeasurementDates are the days before end on which a
@@ -282,6 +299,9 @@ func revaluationDates(cal grants.FiscalCalendar, gv *GrantValue, end time.Time, 
 // opts, never on the number of cores.
 func Value(s *grants.Schedule, ins []grants.Inputs, opts Options) (*Valuation, error) {
 	p := &pricer{s: s, opts: opts.Lattice, simScale: max(opts.SimTarget, 1)}
+	if opts.Reuse {
+		p.studies = opts.Studies
+	}
 	v := &Valuation{Options: opts, Grants: make([]GrantValue, len(ins))}
 	correct := map[string]bool{}
 	for _, id := range opts.Correct {
@@ -374,6 +394,7 @@ func Value(s *grants.Schedule, ins []grants.Inputs, opts Options) (*Valuation, e
 		}
 		v.Revaluations[g.ID] = rs
 	}
+	v.Options.Locks = nil
 	return v, nil
 }
 
@@ -384,7 +405,8 @@ type pricer struct {
 	opts     valuation.LatticeOptions
 	mu       sync.Mutex
 	conds    map[string]*ConditionValue
-	simScale float64 // Options.SimTarget
+	simScale float64  // Options.SimTarget
+	studies  *Studies // Options.Studies, when Options.Reuse
 }
 
 // dilution is how a warrant grant dilutes: its own shares against the
@@ -429,7 +451,13 @@ func (p *pricer) compare(gv *GrantValue) error {
 			}
 		}
 	}
-	gv.BSM = make([]valuation.Result, len(in.Terms))
+	n := len(in.Terms)
+	gv.BSM = make([]valuation.Result, n)
+	rates := make([]float64, 3*n)
+	gv.RiskFreeRate, gv.SimplifiedRate, gv.ExpectedTermRate = rates[:n:n], rates[n:2*n:2*n], rates[2*n:]
+	if gv.Reused {
+		return nil // keep (lock.go) fills them from the lock
+	}
 	for k, t := range in.Terms {
 		var err error
 		switch g.Instrument {
@@ -448,9 +476,6 @@ func (p *pricer) compare(gv *GrantValue) error {
 			return fmt.Errorf("grant %s tranche %d: simplified BSM: %w", g.ID, k+1, err)
 		}
 	}
-	gv.RiskFreeRate = make([]float64, len(in.Terms))
-	gv.SimplifiedRate = make([]float64, len(in.Terms))
-	gv.ExpectedTermRate = make([]float64, len(in.Terms))
 	if c := in.Market.Curve; c != nil {
 		for k, t := range in.Terms {
 			gv.RiskFreeRate[k] = c.Zero(t.YearsToExpiry)
@@ -539,20 +564,10 @@ func (p *pricer) valueSet(gs []GrantValue, sh shift, progress func(done, total i
 			out[i] = rs
 			continue
 		}
-		if sh.name != "" && g.Instrument != grants.RSU && len(terms) > 0 {
-			t := terms[0]
-			if g.Instrument == grants.Warrant {
-				t = rational(t)
-			}
-			vest := make([]float64, len(terms))
-			for k, tk := range terms {
-				vest[k] = tk.YearsToVest
-			}
-			if err := valuation.Feasible(t, vest, m, p.opts); err != nil {
-				out[i] = gs[i].Results
-				kept = append(kept, g.ID)
-				continue
-			}
+		if sh.name != "" && p.infeasible(g, terms, m) {
+			out[i] = gs[i].Results
+			kept = append(kept, g.ID)
+			continue
 		}
 		switch g.Instrument {
 		case grants.RSU:
@@ -594,6 +609,42 @@ func (p *pricer) valueSet(gs []GrantValue, sh shift, progress func(done, total i
 		out[jobOf[j]] = r.Tranches
 	}
 	return out, kept, nil
+}
+
+// infeasible reports whether the lattice cannot value option or warrant g
+// on its shifted terms in market m (valuation.Feasible: its volatility
+// moved past what the tree can represent over its term, say).
+func (p *pricer) infeasible(g grants.Grant, terms []valuation.Terms, m valuation.Market) bool {
+	if g.Instrument == grants.RSU || len(terms) == 0 {
+		return false
+	}
+	t := terms[0]
+	if g.Instrument == grants.Warrant {
+		t = rational(t)
+	}
+	vest := make([]float64, len(terms))
+	for k, tk := range terms {
+		vest[k] = tk.YearsToVest
+	}
+	return valuation.Feasible(t, vest, m, p.opts) != nil
+}
+
+// unvalued are the grants of gs, by ID, that valueSet keeps at their base
+// values in the shifted case sh, found without valuing any.
+func (p *pricer) unvalued(gs []GrantValue, sh shift) []string {
+	var kept []string
+	curves := map[*valuation.Curve]*valuation.Curve{}
+	for i := range gs {
+		in := gs[i].Inputs
+		if in.Condition.Market() {
+			continue
+		}
+		terms, m, err := shiftCase(in, sh, curves)
+		if err == nil && p.infeasible(in.Grant, terms, m) {
+			kept = append(kept, in.Grant.ID)
+		}
+	}
+	return kept
 }
 
 // dedupJobs returns the distinct jobs and, for each job, the index of its
@@ -687,15 +738,15 @@ var sensitivityCases = []struct {
 }
 
 // sensitivity revalues the ledger (or a sample of it) with one input moved
-// at a time.
+// at a time; cases provably as the prior close's are taken from it
+// (priorSensitivity).
 func (p *pricer) sensitivity(v *Valuation, progress func(done, total int)) error {
 	gs := v.Grants
-	sample := gs
-	if len(gs) > SensitivitySample {
-		sample = make([]GrantValue, 0, SensitivitySample)
-		for i := 0; i < SensitivitySample; i++ {
-			sample = append(sample, gs[i*len(gs)/SensitivitySample])
-		}
+	idx := sampleOf(len(gs))
+	sample := make([]GrantValue, len(idx))
+	samplePtr := make([]*GrantValue, len(idx))
+	for j, i := range idx {
+		sample[j], samplePtr[j] = gs[i], &gs[i]
 	}
 	v.SensitivitySample = len(sample)
 	total := func(rs [][]valuation.Result) float64 {
@@ -713,44 +764,86 @@ func (p *pricer) sensitivity(v *Valuation, progress func(done, total int)) error
 	}
 	sampleBase := total(baseRes)
 	base := v.FairValueTotal
+	reused, ok := p.priorSensitivity(samplePtr, base, sampleBase)
 	n, done := 0, 0
 	for _, c := range sensitivityCases {
 		n += len(c.shifts) - 1
 	}
-	for _, c := range sensitivityCases {
+	for ci, c := range sensitivityCases {
 		sens := Sensitivity{Input: c.key, Label: c.label, Unit: c.unit}
 		for j, d := range c.shifts {
-			fv := base
+			st := sampleBase
 			if d != 0 {
-				rs, kept, err := p.valueSet(sample, shift{c.key, d}, nil)
-				if err != nil {
-					return fmt.Errorf("sensitivity %s %+g: %w", c.key, d, err)
+				var kept []string
+				if ok {
+					kept = p.unvalued(sample, shift{c.key, d})
+				} else {
+					rs, k, err := p.valueSet(sample, shift{c.key, d}, nil)
+					if err != nil {
+						return fmt.Errorf("sensitivity %s %+g: %w", c.key, d, err)
+					}
+					st, kept = total(rs), k
 				}
 				if len(kept) > 0 {
 					v.Warnings = append(v.Warnings, fmt.Sprintf("sensitivity case %s %s: the lattice cannot value %s with the input moved; the base value is used instead",
 						c.label, c.labels[j], joinIDs(kept)))
-				}
-				if sampleBase > 0 {
-					fv = base * total(rs) / sampleBase
 				}
 				done++
 				if progress != nil {
 					progress(done, n)
 				}
 			}
-			change := 0.0
-			if base > 0 {
-				change = fv/base - 1
+			if ok {
+				continue
 			}
-			x := d
-			if c.unit == "percentage points" {
-				x = d * 100
-			}
-			sens.Points = append(sens.Points, SensitivityPoint{Shift: x, Label: c.labels[j], FairValueTotal: fv, Change: change})
+			fv, change := sensitivityPoint(base, st, sampleBase, d != 0)
+			sens.Points = append(sens.Points, SensitivityPoint{Shift: shiftShown(c.unit, d), Label: c.labels[j], FairValueTotal: fv, Change: change, SampleTotal: st})
+		}
+		if ok {
+			sens = reused[ci]
 		}
 		v.Sensitivity = append(v.Sensitivity, sens)
 	}
+	v.StudiesReused.Sensitivity = ok
 	return nil
+}
+
+// sampleOf are the positions in a ledger of n grants of the sensitivity
+// sample: every grant when the ledger is small, else SensitivitySample
+// evenly spaced.
+func sampleOf(n int) []int {
+	m := min(n, SensitivitySample)
+	idx := make([]int, m)
+	for i := range idx {
+		idx[i] = i
+		if n > SensitivitySample {
+			idx[i] = i * n / SensitivitySample
+		}
+	}
+	return idx
+}
+
+// sensitivityPoint is the ledger's total fair value in a case whose sample
+// totals sampleTotal (base and sampleBase in the base case), and its
+// change from base.
+func sensitivityPoint(base, sampleTotal, sampleBase float64, shifted bool) (fv, change float64) {
+	fv = base
+	if shifted && sampleBase > 0 {
+		fv = base * sampleTotal / sampleBase
+	}
+	if base > 0 {
+		change = fv/base - 1
+	}
+	return fv, change
+}
+
+// shiftShown is shift d as a point shows it: in percentage points for
+// rates (unit "percentage points"), else in the input's own unit.
+func shiftShown(unit string, d float64) float64 {
+	if unit == "percentage points" {
+		return d * 100
+	}
+	return d
 }
 
 // joinIDs names grants by id, the first few of many.
@@ -798,6 +891,10 @@ func (p *pricer) convergence(v *Valuation) error {
 	if err != nil {
 		return fmt.Errorf("convergence study, grant %s: %w", in.Grant.ID, err)
 	}
+	if c, ok := p.priorConvergence(gv, k, auto); ok {
+		v.Convergence, v.StudiesReused.Convergence = c, true
+		return nil
+	}
 	c := &Convergence{GrantID: in.Grant.ID, TrancheIndex: in.Tranches[k].Index, Auto: auto}
 	for _, n := range ConvergenceSteps {
 		o := valuation.LatticeOptions{Steps: n}
@@ -828,7 +925,9 @@ func mcTerms(gv *GrantValue, k int) valuation.Terms {
 // autoResult is the automatic lattice's result for tranche k of gv on
 // its mcTerms, as the convergence study and the Monte Carlo check show it:
 // the run's own value when the run measured it so (now, on the automatic
-// lattice, undiluted), else valued afresh.
+// lattice, undiluted), else valued afresh (a locked grant's too, kept
+// without being valued or not, so that keeping it unvalued changes
+// nothing).
 func (p *pricer) autoResult(gv *GrantValue, k int) (valuation.Result, error) {
 	if p.opts == (valuation.LatticeOptions{}) && gv.Status != Locked && gv.Dilution == nil && gv.Inputs.Grant.Instrument != grants.RSU {
 		return gv.Results[k], nil
@@ -930,6 +1029,7 @@ func (p *pricer) monteCarlo(v *Valuation) error {
 		mcErr error // the simulation refused: the tranche is left out
 	}
 	outs := make([]out, len(picks))
+	reused := make([]bool, len(picks))
 	sem := make(chan struct{}, max(1, runtime.GOMAXPROCS(0)))
 	var wg sync.WaitGroup
 	for j, pk := range picks {
@@ -938,11 +1038,11 @@ func (p *pricer) monteCarlo(v *Valuation) error {
 		go func() {
 			defer func() { <-sem; wg.Done() }()
 			o := &outs[j]
-			o.c, o.err, o.mcErr = p.check(&v.Grants[pk.i], pk.k, uint64(MonteCarloSeed+j))
+			o.c, reused[j], o.err, o.mcErr = p.check(&v.Grants[pk.i], pk.k, uint64(MonteCarloSeed+j))
 		}()
 	}
 	wg.Wait()
-	for _, o := range outs {
+	for j, o := range outs {
 		switch {
 		case o.err != nil:
 			return o.err
@@ -954,6 +1054,9 @@ func (p *pricer) monteCarlo(v *Valuation) error {
 		}
 		c := o.c
 		v.MonteCarlo = append(v.MonteCarlo, c)
+		if reused[j] {
+			v.StudiesReused.MonteCarlo++
+		}
 		if w := mcWarning(c); w != "" {
 			v.Warnings = append(v.Warnings, w)
 		}
@@ -962,25 +1065,36 @@ func (p *pricer) monteCarlo(v *Valuation) error {
 }
 
 // check simulates tranche k of gv with the given seed beside the automatic
-// lattice on the same terms (mcTerms). err is the lattice's failure (the
-// run fails), mcErr the simulation's refusal (the tranche is left out).
-func (p *pricer) check(gv *GrantValue, k int, seed uint64) (c MonteCarloCheck, err, mcErr error) {
+// lattice on the same terms (mcTerms), or takes the prior close's
+// simulation when it is provably the same (priorCheck; reused). err is the
+// lattice's failure (the run fails), mcErr the simulation's refusal (the
+// tranche is left out).
+func (p *pricer) check(gv *GrantValue, k int, seed uint64) (c MonteCarloCheck, reused bool, err, mcErr error) {
 	in := gv.Inputs
-	t := mcTerms(gv, k)
 	auto, err := p.autoResult(gv, k)
 	if err != nil {
-		return c, fmt.Errorf("Monte Carlo check, grant %s tranche %d: lattice: %w", in.Grant.ID, in.Tranches[k].Index, err), nil
+		return c, false, fmt.Errorf("Monte Carlo check, grant %s tranche %d: lattice: %w", in.Grant.ID, in.Tranches[k].Index, err), nil
 	}
-	mc, err := valuation.MonteCarlo(t, in.Market, valuation.MCOptions{Paths: MonteCarloPaths, Seed: seed})
+	if c, ok := p.priorCheck(gv, k, seed, auto); ok {
+		return c, true, nil, nil
+	}
+	mc, err := valuation.MonteCarlo(mcTerms(gv, k), in.Market, valuation.MCOptions{Paths: MonteCarloPaths, Seed: seed})
 	if err != nil {
-		return c, nil, fmt.Errorf("grant %s tranche %d: %w", in.Grant.ID, in.Tranches[k].Index, err)
+		return c, false, nil, fmt.Errorf("grant %s tranche %d: %w", in.Grant.ID, in.Tranches[k].Index, err)
 	}
-	c = MonteCarloCheck{GrantID: in.Grant.ID, TrancheIndex: in.Tranches[k].Index, Instrument: in.Grant.Instrument,
+	return newCheck(gv, k, auto, mc, seed), false, nil, nil
+}
+
+// newCheck is the check of tranche k of gv: simulation mc with the given
+// seed beside the automatic lattice's auto.
+func newCheck(gv *GrantValue, k int, auto, mc valuation.Result, seed uint64) MonteCarloCheck {
+	in := gv.Inputs
+	c := MonteCarloCheck{GrantID: in.Grant.ID, TrancheIndex: in.Tranches[k].Index, Instrument: in.Grant.Instrument,
 		Lattice: auto.Value, LatticeError: auto.ErrorEstimate, Result: mc, Seed: seed}
 	if d := math.Hypot(mc.ErrorEstimate, auto.ErrorEstimate); d > 0 {
 		c.Z = (mc.Value - auto.Value) / d
 	}
-	return c, nil, nil
+	return c
 }
 
 // missedTarget lists the option and warrant tranches whose automatic
@@ -1018,7 +1132,7 @@ func (p *pricer) missedTarget(v *Valuation) error {
 		sem <- struct{}{}
 		go func() {
 			defer func() { <-sem; wg.Done() }()
-			c, err, mcErr := p.check(gv, pk.k, seed)
+			c, _, err, mcErr := p.check(gv, pk.k, seed)
 			if err == nil && mcErr == nil {
 				v.MissedTarget[j].Check = &c
 			}
