@@ -123,6 +123,9 @@ func Build(s *grants.Schedule, v *pricing.Valuation, b *accounting.Books, run Ru
 	}
 	m.Caution = Caution
 	m.Assumptions = companyAssumptions(s)
+	if len(v.Grants) > 0 {
+		m.Grants = make([]Grant, 0, len(v.Grants))
+	}
 	for i := range v.Grants {
 		gv := &v.Grants[i]
 		m.Grants = append(m.Grants, grantOf(gv))
@@ -219,6 +222,7 @@ func grantOf(gv *pricing.GrantValue) Grant {
 				PriceReflectsWarrants: d.PriceReflectsWarrants, Method: method, UndilutedValue: gv.UndilutedValue}
 		}
 	}
+	rg.Tranches = make([]Tranche, 0, len(in.Tranches))
 	for k, t := range in.Tranches {
 		term := in.Terms[k]
 		r, b := gv.Results[k], gv.BSM[k]

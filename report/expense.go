@@ -346,7 +346,7 @@ func expenseModel(b *accounting.Books) *Expense {
 		Amount: r.Period, Cumulative: r.Cumulative, FinancingFairValueChange: r.FairValueChange,
 		Forecast: periodsOf(r.Forecast), AfterForecast: r.AfterForecast,
 		PolicyNotes: append([]string{}, r.PolicyNotes...),
-		ByGrant:     []ExpenseGrant{}, Journal: []JournalEntry{}, Financing: []FinancingWarrant{},
+		ByGrant:     make([]ExpenseGrant, 0, len(r.Grants)), Journal: []JournalEntry{}, Financing: []FinancingWarrant{},
 		FiscalCalendar: r.Policy.Calendar.String(),
 		ByFiscalYear:   make([]ExpenseYear, 0, len(r.ByFiscalYear)),
 	}
@@ -377,7 +377,7 @@ func expenseModel(b *accounting.Books) *Expense {
 			Unrecognized: g.Unrecognized, RemainingYears: g.RemainingYears,
 			LiabilityOpen: g.LiabilityOpen, LiabilityEnd: g.LiabilityEnd,
 			ReclassifiedEquity: g.ReclassifiedEquity, ReclassifiedToDate: g.ReclassifiedToDate,
-			Outstanding: g.Outstanding, Events: []EventRecord{}, Remeasurements: []Remeasurement{}, Tranches: []ExpenseTranche{},
+			Outstanding: g.Outstanding, Events: []EventRecord{}, Remeasurements: []Remeasurement{}, Tranches: make([]ExpenseTranche, 0, len(g.Tranches)),
 			CostCenter: g.CostCenter, ByCostCenter: make([]CostCenterPart, 0, len(g.ByCostCenter))}
 		for _, p := range g.ByCostCenter {
 			eg.ByCostCenter = append(eg.ByCostCenter, CostCenterPart{CostCenter: p.CostCenter, GrantID: g.GrantID, Amount: p.Period, Cumulative: p.Cumulative, Unrecognized: p.Unrecognized})

@@ -143,5 +143,5 @@ func (t *trancheLedger) daysAt(d int) int { return t.endAt(d) - t.startN }
 // serviceEnd is the tranche's requisite service end as a date, as known at
 // the end of day d.
 func (t *trancheLedger) serviceEnd(d int) time.Time {
-	return shiftDays(civilDay(t.start), t.endAt(d)-t.startN)
+	return dayDate(t.endAt(d))
 }

@@ -469,6 +469,7 @@ func (p *period) expense() *ExpenseReport {
 		}
 		sInf := l.at(pol, far, periodEnd)
 		var lastLive time.Time
+		ge.Tranches = make([]TrancheExpense, 0, len(l.tr))
 		for i, t := range l.tr {
 			c := t.countsAt(periodEnd)
 			live := c.live(t.Tranche.Shares)
@@ -481,7 +482,7 @@ func (p *period) expense() *ExpenseReport {
 				fv = l.fairValueAt(i, dayNum(periodEnd))
 			}
 			te := TrancheExpense{
-				Index: t.Tranche.Index, VestDate: t.Tranche.VestDate, ServiceStart: t.start,
+				Index: t.Tranche.Index, VestDate: t.Tranche.VestDate, ServiceStart: l.start,
 				Shares: t.Tranche.Shares, SharesCounted: float64(live)*q*l.outcome(dayNum(periodEnd)) + float64(c.accelerated),
 				FairValue: fv, GrantDateFairValue: t.FairValue, ExpectedShare: q,
 				Cost: sInf.comp[i], CumulativeOpen: bookedTranche(i), Cumulative: s1.comp[i],

@@ -49,10 +49,20 @@ type move struct {
 	by       changeKey
 }
 
+// ledgerTerms are the terms of a tranche the ledger reads: a large
+// ledger holds one per tranche, so not a whole grants.Tranche.
+type ledgerTerms struct {
+	Index    int
+	VestDate time.Time
+	Shares   int64
+}
+
 type trancheLedger struct {
-	TrancheCost
-	start time.Time // service start
-	days  int       // service days
+	// Tranche and FairValue are those of the award's TrancheCost (the
+	// service starts on the award's start, awardLedger.start).
+	Tranche   ledgerTerms
+	FairValue float64
+	days      int // service days
 	// day numbers (dn) of the service start and the vest date
 	startN, vestN int
 	// endN is the last day of the requisite service (the vest date unless
@@ -114,6 +124,9 @@ func dayNum(t time.Time) int {
 	return int(time.Date(t.Year(), t.Month(), t.Day(), 0, 0, 0, 0, time.UTC).Unix() / 86400)
 }
 
+// dayDate is the calendar day numbered n (dayNum), at midnight UTC.
+func dayDate(n int) time.Time { return time.Unix(int64(n)*86400, 0).UTC() }
+
 func shiftDays(t time.Time, n int) time.Time { return t.AddDate(0, 0, n) }
 
 func (p Policy) normalized() (Policy, error) {
@@ -156,6 +169,7 @@ func newAwardLedger(a *Award, pol Policy, asOf time.Time) (*awardLedger, error) 
 	if pol.Forfeitures == grants.Estimate {
 		l.rate = pol.PreVestingForfeitureRate
 	}
+	l.tr = make([]trancheLedger, 0, len(a.Tranches))
 	for i, tc := range a.Tranches {
 		if tc.Tranche.GrantID != "" && tc.Tranche.GrantID != g.ID {
 			return nil, fmt.Errorf("grant %s: tranche %d belongs to grant %s", g.ID, tc.Tranche.Index, tc.Tranche.GrantID)
@@ -172,7 +186,8 @@ func newAwardLedger(a *Award, pol Policy, asOf time.Time) (*awardLedger, error) 
 		if !g.ExpiryDate.IsZero() && tc.Tranche.VestDate.After(g.ExpiryDate) {
 			return nil, fmt.Errorf("grant %s tranche %d: vests %s, after expiry %s", g.ID, tc.Tranche.Index, tc.Tranche.VestDate.Format(time.DateOnly), g.ExpiryDate.Format(time.DateOnly))
 		}
-		t := trancheLedger{TrancheCost: tc, start: l.start, startN: dayNum(l.start), vestN: dayNum(tc.Tranche.VestDate), metN: math.MaxInt, of: i}
+		terms := ledgerTerms{Index: tc.Tranche.Index, VestDate: tc.Tranche.VestDate, Shares: tc.Tranche.Shares}
+		t := trancheLedger{Tranche: terms, FairValue: tc.FairValue, startN: dayNum(l.start), vestN: dayNum(tc.Tranche.VestDate), metN: math.MaxInt, of: i}
 		t.days = t.vestN - t.startN
 		t.endN, t.origN = t.vestN, t.vestN
 		l.tr = append(l.tr, t)
@@ -301,7 +316,7 @@ func (l *awardLedger) apply(pevs []pricedEvent) error {
 	}
 	ts := make([]grants.Tranche, len(l.tr))
 	for i := range l.tr {
-		ts[i] = l.tr[i].Tranche
+		ts[i] = grants.Tranche{Index: l.tr[i].Tranche.Index, VestDate: l.tr[i].Tranche.VestDate, Shares: l.tr[i].Tranche.Shares}
 	}
 	al := grants.Allocate(ts, evs)
 	for _, tk := range al.Events {
