@@ -109,9 +109,28 @@ type awardLedger struct {
 	centres []string
 	spans   []centreSpan
 
-	// scratch for atInto
-	bufValue, bufLia, bufComp []float64
-	bufCounts                 []trancheCounts
+	// scratch for atView and the expense loop, shared by the ledgers of a
+	// period (they are read one at a time): a buffer per ledger would hold
+	// 48 bytes a tranche for the whole close.
+	scratch *ledgerScratch
+}
+
+// ledgerScratch are the buffers a ledger's views are computed in.
+type ledgerScratch struct {
+	value, lia, comp []float64
+	counts           []trancheCounts
+}
+
+// buffers are the scratch buffers sized for l's tranches.
+func (l *awardLedger) buffers() *ledgerScratch {
+	if l.scratch == nil {
+		l.scratch = &ledgerScratch{}
+	}
+	sc, n := l.scratch, len(l.tr)
+	if len(sc.value) < n {
+		sc.value, sc.lia, sc.comp, sc.counts = make([]float64, n), make([]float64, n), make([]float64, n), make([]trancheCounts, n)
+	}
+	return sc
 }
 
 // onOrBefore reports a <= b by calendar day.
@@ -510,10 +529,8 @@ func (l *awardLedger) atView(pol Policy, v view, comp []float64) snapshot {
 	d, known := v.d, v.known
 	n := len(l.tr)
 	s := snapshot{comp: comp}
-	if len(l.bufValue) < n {
-		l.bufValue, l.bufLia, l.bufCounts = make([]float64, n), make([]float64, n), make([]trancheCounts, n)
-	}
-	value, counts := l.bufValue[:n], l.bufCounts[:n]
+	sc := l.buffers()
+	value, counts := sc.value[:n], sc.counts[:n]
 	for i := range l.tr {
 		counts[i] = l.tr[i].countsWhere(d, v.keep)
 	}
@@ -545,7 +562,7 @@ func (l *awardLedger) atView(pol Policy, v view, comp []float64) snapshot {
 	for i := range l.tr {
 		value[i] = l.fairValueAt(i, d) * float64(counts[i].open)
 	}
-	lia := l.bufLia[:n]
+	lia := sc.lia[:n]
 	l.attribute(pol, value, d, known, endN, v.rate, lia)
 	for i := range l.tr {
 		settled := l.settledN(i, v)
