@@ -370,7 +370,8 @@ func expenseModel(b *accounting.Books) *Expense {
 			Recognized: y.Recognized, Expected: y.Expected, Total: y.Recognized + y.Expected})
 	}
 	months := map[string]*ExpenseGroup{}
-	for _, g := range r.Grants {
+	for i := range r.Grants {
+		g := &r.Grants[i]
 		eg := ExpenseGrant{GrantID: g.GrantID, Holder: g.Holder, Instrument: string(g.Instrument), Liability: g.Liability,
 			GrantDate: DateOf(g.GrantDate), ServiceStart: DateOf(g.ServiceStart), ServiceEnd: DateOf(g.ServiceEnd),
 			Cost: g.Cost, CumulativeOpen: g.CumulativeOpen, Amount: g.Period, Cumulative: g.Cumulative,
@@ -389,6 +390,7 @@ func expenseModel(b *accounting.Books) *Expense {
 				CumulativeOpen: t.CumulativeOpen, Amount: t.Period, Cumulative: t.Cumulative, Unrecognized: t.Unrecognized,
 				RemainingYears: t.RemainingYears})
 		}
+		g.Tranches = nil // the Model holds them now (Build takes b over)
 		det.ByGrant = append(det.ByGrant, eg)
 		for _, p := range eg.ByCostCenter {
 			c := &det.ByCostCenter[centre[p.CostCenter]]
