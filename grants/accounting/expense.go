@@ -455,7 +455,7 @@ func (p *period) expense() *ExpenseReport {
 			bookedTranche = func(i int) float64 {
 				if pg != nil && (i == 0 || l.tr[i-1].of != l.tr[i].of) { // a tranche's first part carries it
 					for _, t := range pg.Tranches {
-						if dayNum(t.VestDate) == l.tr[i].origN {
+						if dayNum(t.VestDate) == int(l.tr[i].origN) {
 							return t.Cumulative
 						}
 					}
@@ -484,7 +484,7 @@ func (p *period) expense() *ExpenseReport {
 				fv = l.fairValueAt(i, dayNum(periodEnd))
 			}
 			te := TrancheExpense{
-				Index: t.Tranche.Index, VestDate: t.Tranche.VestDate,
+				Index: t.Tranche.Index, VestDate: t.vestDate(),
 				Shares: t.Tranche.Shares, SharesCounted: float64(live)*q*l.outcome(dayNum(periodEnd)) + float64(c.accelerated),
 				FairValue: fv, GrantDateFairValue: t.FairValue, ExpectedShare: q,
 				Cost: sInf.comp[i], CumulativeOpen: bookedTranche(i), Cumulative: s1.comp[i],

@@ -51,10 +51,10 @@ type move struct {
 
 // ledgerTerms are the terms of a tranche the ledger reads: a large
 // ledger holds one per tranche, so not a whole grants.Tranche.
+// The vest date is the tranche's vestN (vestDate).
 type ledgerTerms struct {
-	Index    int
-	VestDate time.Time
-	Shares   int64
+	Index  int
+	Shares int64
 }
 
 type trancheLedger struct {
@@ -62,21 +62,21 @@ type trancheLedger struct {
 	// service starts on the award's start, awardLedger.start).
 	Tranche   ledgerTerms
 	FairValue float64
-	days      int // service days
-	// day numbers (dn) of the service start and the vest date
-	startN, vestN int
-	// endN is the last day of the requisite service (the vest date unless
-	// a market condition sets a later one); from day metN on (a hurdle
-	// met; MaxInt until then) it is metEndN (conditions.go).
-	endN, metN, metEndN int
-	moves               []move
+	// Day numbers (dayNum) in four bytes each, a large ledger holding
+	// millions of tranches: of the service start and the vest date; endN
+	// is the last day of the requisite service (the vest date unless a
+	// market condition sets a later one); from day metN on (a hurdle met;
+	// MaxInt32 until then) it is metEndN (conditions.go).
+	startN, vestN       int32
+	endN, metN, metEndN int32
 	// A ledger of an award that a change touched has one entry per part
 	// of a tranche (modify.go): of is the index of its tranche in
 	// Award.Tranches, origN the day number of that tranche's vest date as
 	// granted (its key in a prior close), and layers its costs. For any
 	// other award of is the entry's own index and origN its vestN.
+	origN  int32
 	of     int
-	origN  int
+	moves  []move
 	layers []layer
 }
 
@@ -205,9 +205,8 @@ func newAwardLedger(a *Award, pol Policy, asOf time.Time) (*awardLedger, error) 
 		if !g.ExpiryDate.IsZero() && tc.Tranche.VestDate.After(g.ExpiryDate) {
 			return nil, fmt.Errorf("grant %s tranche %d: vests %s, after expiry %s", g.ID, tc.Tranche.Index, tc.Tranche.VestDate.Format(time.DateOnly), g.ExpiryDate.Format(time.DateOnly))
 		}
-		terms := ledgerTerms{Index: tc.Tranche.Index, VestDate: tc.Tranche.VestDate, Shares: tc.Tranche.Shares}
-		t := trancheLedger{Tranche: terms, FairValue: tc.FairValue, startN: dayNum(l.start), vestN: dayNum(tc.Tranche.VestDate), metN: math.MaxInt, of: i}
-		t.days = t.vestN - t.startN
+		terms := ledgerTerms{Index: tc.Tranche.Index, Shares: tc.Tranche.Shares}
+		t := trancheLedger{Tranche: terms, FairValue: tc.FairValue, startN: int32(dayNum(l.start)), vestN: int32(dayNum(tc.Tranche.VestDate)), metN: math.MaxInt32, of: i}
 		t.endN, t.origN = t.vestN, t.vestN
 		l.tr = append(l.tr, t)
 	}
@@ -276,6 +275,9 @@ func newAwardLedger(a *Award, pol Policy, asOf time.Time) (*awardLedger, error) 
 	return l, nil
 }
 
+// vestDate is the tranche's vest date (after the changes that moved it).
+func (t *trancheLedger) vestDate() time.Time { return dayDate(int(t.vestN)) }
+
 func (t *trancheLedger) open() int64 {
 	n := t.Tranche.Shares
 	for _, m := range t.moves {
@@ -284,9 +286,9 @@ func (t *trancheLedger) open() int64 {
 	return n
 }
 
-func (t *trancheLedger) vestedOn(d time.Time) bool { return t.vestN <= dayNum(d) }
+func (t *trancheLedger) vestedOn(d time.Time) bool { return int(t.vestN) <= dayNum(d) }
 
-func (t *trancheLedger) vestedN(d int) bool { return t.vestN <= d }
+func (t *trancheLedger) vestedN(d int) bool { return int(t.vestN) <= d }
 
 // expected is the expected share of the tranche's live shares at the end
 // of day d that are still there at its vest date (see the package notes
@@ -298,7 +300,7 @@ func (t *trancheLedger) expected(d int, rate float64) float64 {
 	if end <= d || rate == 0 {
 		return 1
 	}
-	return valuation.SurvivalToVest(rate, float64(end-max(t.startN, d+1))/365)
+	return valuation.SurvivalToVest(rate, float64(end-max(int(t.startN), d+1))/365)
 }
 
 // pricedEvent is an event with the share price on its date.
@@ -335,7 +337,7 @@ func (l *awardLedger) apply(pevs []pricedEvent) error {
 	}
 	ts := make([]grants.Tranche, len(l.tr))
 	for i := range l.tr {
-		ts[i] = grants.Tranche{Index: l.tr[i].Tranche.Index, VestDate: l.tr[i].Tranche.VestDate, Shares: l.tr[i].Tranche.Shares}
+		ts[i] = grants.Tranche{Index: l.tr[i].Tranche.Index, VestDate: l.tr[i].vestDate(), Shares: l.tr[i].Tranche.Shares}
 	}
 	al := grants.Allocate(ts, evs)
 	for _, tk := range al.Events {
@@ -427,7 +429,7 @@ func (l *awardLedger) attribute(pol Policy, value []float64, d, known, endN int,
 	q := func(i int) float64 { return l.tr[i].expected(kd, rate) * o }
 	if pol.Attribution == grants.Graded {
 		for i := range l.tr {
-			out[i] = value[i] * q(i) * serviceFraction(l.tr[i].startN, l.tr[i].daysAt(d), d)
+			out[i] = value[i] * q(i) * serviceFraction(int(l.tr[i].startN), l.tr[i].daysAt(d), d)
 		}
 		return
 	}
