@@ -22,14 +22,14 @@ import (
 //     yet trusted, and the readers' garbage is collected soon enough that a
 //     hostile workbook is refused within DESIGN §5's 1 GiB.
 //   - Once the schedule is read, the limit is ledgerLimit: room for what
-//     every run holds (ledgerBase) and for a third more than the live heap
-//     of a ledger of that many grants at its peak (perGrantHeap), never
-//     more than a quarter of the memory the process may use (the
-//     machine's, or its control group's limit when lower), which leaves
-//     the rest to the operating system and to other programs. A
-//     10,000-grant ledger runs under about 520 MiB instead of the 700 MB
-//     it reached when the heap was left to double; the collector runs a
-//     few more times, for some 2% more CPU.
+//     every run holds (ledgerBase) and for about a quarter more than the
+//     live heap of a ledger of that many grants at its peak
+//     (perGrantHeap), never more than a quarter of the memory the process
+//     may use (the machine's, or its control group's limit when lower),
+//     which leaves the rest to the operating system and to other
+//     programs. A 10,000-grant ledger runs in about 450 MB instead of the
+//     700 MB it reached when the heap was left to double; the collector
+//     runs a few more times, for at most some 3% more CPU.
 const (
 	readLimit = 768 << 20
 	// ledgerBase is room for what a run holds whatever the ledger: the
@@ -38,10 +38,11 @@ const (
 	ledgerBase = 128 << 20
 	// perGrantHeap is room for the live heap per grant of the adversarial
 	// ledger (bench/ledger, 37 tranches a grant), measured in December
-	// 2026 with gctrace: it peaks at about 30 KB a grant, in accounting
-	// and while the model is built (300 MB at 10,000 grants, 836 MB at
-	// 30,000); 40 KiB leaves the collector a third more.
-	perGrantHeap = 40 << 10
+	// 2026 with gctrace: it peaks in accounting, at 250 to 300 MB at
+	// 10,000 grants (with what any run holds), 664 MB at 30,000 and
+	// 2.67 GB at 100,000, some 26 KB a grant; 32 KiB leaves the collector
+	// a quarter more.
+	perGrantHeap = 32 << 10
 )
 
 // limitMemory sets the heap's soft limit to limit, unless GOMEMLIMIT is
