@@ -319,6 +319,11 @@ type period struct {
 	start, end time.Time
 	ledgers    []*awardLedger
 	prior      *Prior
+	// ownsAwards is set when the awards are the period's own (Close made
+	// them) and nothing after the expense reads their tranches: expense
+	// then drops each award's tranches once its ledger's expense is
+	// drawn, so that a large ledger does not hold them beside the report.
+	ownsAwards bool
 }
 
 // openPeriod checks the policy and the period and builds the ledgers;
@@ -507,6 +512,9 @@ func (p *period) expense() *ExpenseReport {
 			}
 		}
 		ge.Tranches = l.byTranche(ge.Tranches)
+		if p.ownsAwards {
+			l.in.Tranches = nil
+		}
 		if !lastLive.IsZero() {
 			ge.ServiceEnd = lastLive
 		}
