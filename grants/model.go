@@ -343,7 +343,9 @@ type AccountRow struct {
 	Row        int
 }
 
-// Tranche is the part of a grant that vests on one date.
+// Tranche is the part of a grant that vests on one date. A large ledger
+// holds millions of them: the dates of its forfeitures and cancellations,
+// which few tranches have, are kept as day numbers in four bytes each.
 type Tranche struct {
 	GrantID  string
 	Index    int // 1-based, in vest-date order
@@ -352,14 +354,42 @@ type Tranche struct {
 
 	// Forfeited of Shares were forfeited before vesting, by the forfeited
 	// events up to ForfeitDate (the last such event): the holder left.
-	Forfeited   int64
-	ForfeitDate time.Time
 	// Cancelled of Shares were cancelled before vesting by cancelled
 	// events up to CancelDate.
-	Cancelled  int64
-	CancelDate time.Time
+	Forfeited, Cancelled int64
+	// forfeitDay and cancelDay are those dates as day numbers
+	// (dayNumber); 0 for none.
+	forfeitDay, cancelDay int32
 }
 
 // Vesting is the number of shares of the tranche that vest (or vested):
 // Shares less Forfeited and Cancelled.
 func (t Tranche) Vesting() int64 { return t.Shares - t.Forfeited - t.Cancelled }
+
+// ForfeitDate is the date of the last forfeited event that took shares
+// of the tranche before it vested; the zero Time when none did.
+func (t Tranche) ForfeitDate() time.Time { return fromDayNumber(t.forfeitDay) }
+
+// CancelDate is the date of the last cancelled event that took shares of
+// the tranche before it vested; the zero Time when none did.
+func (t Tranche) CancelDate() time.Time { return fromDayNumber(t.cancelDay) }
+
+// dayOffset is added to days since 1970-01-01 so that no date's day
+// number is 0, kept for no date.
+const dayOffset = 1 << 30
+
+// dayNumber is the calendar day of d as days since 1970-01-01 plus
+// dayOffset.
+func dayNumber(d time.Time) int32 {
+	y, m, day := d.Date()
+	return int32(time.Date(y, m, day, 0, 0, 0, 0, time.UTC).Unix()/86400 + dayOffset)
+}
+
+// fromDayNumber is the date dayNumber gave n, at midnight UTC; the zero
+// Time for 0.
+func fromDayNumber(n int32) time.Time {
+	if n == 0 {
+		return time.Time{}
+	}
+	return time.Unix((int64(n)-dayOffset)*86400, 0).UTC()
+}

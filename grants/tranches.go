@@ -34,10 +34,10 @@ func (s *Schedule) Tranches(g Grant) []Tranche {
 		switch m.Kind {
 		case Forfeited:
 			t.Forfeited += m.Shares
-			t.ForfeitDate = m.Date
+			t.forfeitDay = dayNumber(m.Date)
 		case Cancelled:
 			t.Cancelled += m.Shares
-			t.CancelDate = m.Date
+			t.cancelDay = dayNumber(m.Date)
 		}
 	}
 	return ts

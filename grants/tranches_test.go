@@ -63,7 +63,7 @@ func TestTranchesForfeit(t *testing.T) {
 	var forfeited, vesting int64
 	for _, tr := range ts {
 		vestedBefore := !tr.VestDate.After(d("2026-04-15"))
-		if vestedBefore && tr.Forfeited != 0 || !vestedBefore && (tr.Forfeited != tr.Shares || tr.ForfeitDate != d("2026-04-15")) {
+		if vestedBefore && tr.Forfeited != 0 || !vestedBefore && (tr.Forfeited != tr.Shares || !tr.ForfeitDate().Equal(d("2026-04-15"))) {
 			t.Errorf("tranche %d vesting %s: %+v", tr.Index, tr.VestDate.Format(time.DateOnly), tr)
 		}
 		forfeited += tr.Forfeited
@@ -126,5 +126,21 @@ func TestAddMonths(t *testing.T) {
 		if got := AddMonths(d(c.from), c.n); !got.Equal(d(c.want)) {
 			t.Errorf("AddMonths(%s, %d) = %s, want %s", c.from, c.n, got.Format(time.DateOnly), c.want)
 		}
+	}
+}
+
+// A tranche keeps the dates of its forfeitures and cancellations as day
+// numbers: every calendar day comes back as itself (1969-12-31, day -1,
+// and 1970-01-01, day 0, included), and no date as the zero Time.
+func TestTrancheEventDays(t *testing.T) {
+	for _, s := range []string{"1900-03-01", "1969-12-31", "1970-01-01", "2026-04-15", "2099-12-31"} {
+		day := d(s)
+		tr := Tranche{forfeitDay: dayNumber(day), cancelDay: dayNumber(day.Add(13 * time.Hour))}
+		if !tr.ForfeitDate().Equal(day) || !tr.CancelDate().Equal(day) {
+			t.Errorf("%s: forfeit %v, cancel %v", s, tr.ForfeitDate(), tr.CancelDate())
+		}
+	}
+	if tr := (Tranche{}); !tr.ForfeitDate().IsZero() || !tr.CancelDate().IsZero() {
+		t.Errorf("no events: forfeit %v, cancel %v", tr.ForfeitDate(), tr.CancelDate())
 	}
 }

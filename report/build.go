@@ -104,6 +104,12 @@ const sensitivityEveryGrant = "Each case revalues every grant with the input mov
 // results, the sums (Summarize), the sensitivity cases, the convergence
 // study, the Monte Carlo check and the period's expense attribution,
 // journal and disclosures. It values and books nothing.
+//
+// Build takes v and b over: as it lays each grant out it drops that
+// grant's per-tranche detail from them (v's tranches, terms, results and
+// rates; b's tranche expense), so that a large ledger is not held twice,
+// once as the valuation and the books and once as the Model. Read what
+// you need of v and b before calling Build.
 func Build(s *grants.Schedule, v *pricing.Valuation, b *accounting.Books, run Run) (*Model, error) {
 	m := &Model{SchemaVersion: SchemaVersion, Tool: run.Tool, Input: run.Input, Warnings: append(make([]string, 0, len(run.Warnings)), run.Warnings...)}
 	m.Company = Company{Name: s.Company.Name, Currency: s.Company.Currency, SharesOutstanding: s.Company.SharesOutstanding,
@@ -123,10 +129,19 @@ func Build(s *grants.Schedule, v *pricing.Valuation, b *accounting.Books, run Ru
 	}
 	m.Caution = Caution
 	m.Assumptions = companyAssumptions(s)
+	if len(v.Grants) > 0 {
+		m.Grants = make([]Grant, 0, len(v.Grants))
+	}
+	books := booksByGrant(b)
 	for i := range v.Grants {
 		gv := &v.Grants[i]
-		m.Grants = append(m.Grants, grantOf(gv))
+		g := grantOf(gv)
+		if gv.Inputs.Condition != nil {
+			g.Condition = grantCondition(gv, books[gv.Inputs.Grant.ID])
+		}
+		m.Grants = append(m.Grants, g)
 		m.Assumptions = append(m.Assumptions, grantAssumptions(gv)...)
+		releaseGrant(gv)
 	}
 	Summarize(m)
 	if v.SensitivitySample < len(v.Grants) {
@@ -177,7 +192,7 @@ func Build(s *grants.Schedule, v *pricing.Valuation, b *accounting.Books, run Ru
 	}
 	m.Expense = expenseModel(b)
 	m.Modifications = modificationsModel(s, v, b)
-	conditionsModel(m, s, v, b)
+	conditionsModel(m, s, v)
 	if r := b.Reconciliation; r != nil {
 		m.Prior = priorModel(r.Prior)
 		m.Reconciliation = reconciliationModel(r, v)
@@ -186,6 +201,24 @@ func Build(s *grants.Schedule, v *pricing.Valuation, b *accounting.Books, run Ru
 	m.Warnings = append(m.Warnings, v.Warnings...)
 	m.Warnings = append(m.Warnings, MemoTextWarnings(s, run.Input.Path)...)
 	return m, nil
+}
+
+// releaseGrant drops what the Model now holds of grant gv's tranches.
+func releaseGrant(gv *pricing.GrantValue) {
+	gv.Inputs.Tranches, gv.Inputs.Terms = nil, nil
+	gv.Results, gv.BSM = nil, nil
+	gv.RiskFreeRate, gv.SimplifiedRate, gv.ExpectedTermRate = nil, nil, nil
+}
+
+// booksByGrant are the books' grants by ID (none when b has no expense).
+func booksByGrant(b *accounting.Books) map[string]*accounting.GrantExpense {
+	books := map[string]*accounting.GrantExpense{}
+	if b != nil && b.Expense != nil {
+		for i := range b.Expense.Grants {
+			books[b.Expense.Grants[i].GrantID] = &b.Expense.Grants[i]
+		}
+	}
+	return books
 }
 
 func grantOf(gv *pricing.GrantValue) Grant {
@@ -219,6 +252,7 @@ func grantOf(gv *pricing.GrantValue) Grant {
 				PriceReflectsWarrants: d.PriceReflectsWarrants, Method: method, UndilutedValue: gv.UndilutedValue}
 		}
 	}
+	rg.Tranches = make([]Tranche, 0, len(in.Tranches))
 	for k, t := range in.Tranches {
 		term := in.Terms[k]
 		r, b := gv.Results[k], gv.BSM[k]

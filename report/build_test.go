@@ -25,15 +25,28 @@ func TestBuildMapsTheValuation(t *testing.T) {
 		t.Fatal(err)
 	}
 	run := Run{Tool: Tool{Name: "grantworth", Version: "test"}, Input: Input{Path: "sample/tarnwick.xlsx", SHA256: "00"}, Warnings: []string{"first warning"}}
+	// Build takes v over and drops each grant's tranche results once laid
+	// out: keep what this test compares.
+	valued := append([]pricing.GrantValue(nil), v.Grants...)
 	m, err := Build(s, v, b, run)
 	if err != nil {
 		t.Fatal(err)
 	}
-	if len(m.Grants) != len(v.Grants) {
-		t.Fatalf("%d grants in the Model, %d valued", len(m.Grants), len(v.Grants))
+	if len(m.Grants) != len(valued) {
+		t.Fatalf("%d grants in the Model, %d valued", len(m.Grants), len(valued))
+	}
+	for i := range v.Grants {
+		if gv := &v.Grants[i]; gv.Results != nil || gv.BSM != nil || gv.Inputs.Tranches != nil {
+			t.Errorf("grant %s: Build kept the valuation's tranche detail after laying it out", gv.Inputs.Grant.ID)
+		}
+	}
+	for _, ge := range b.Expense.Grants {
+		if ge.Tranches != nil {
+			t.Errorf("grant %s: Build kept the books' tranche expense after laying it out", ge.GrantID)
+		}
 	}
 	for i, g := range m.Grants {
-		gv := v.Grants[i]
+		gv := valued[i]
 		if g.ID != gv.Inputs.Grant.ID || len(g.Tranches) != len(gv.Results) {
 			t.Fatalf("grant %d: %s with %d tranches, valued %s with %d", i, g.ID, len(g.Tranches), gv.Inputs.Grant.ID, len(gv.Results))
 		}

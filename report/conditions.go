@@ -181,24 +181,15 @@ const (
 )
 
 // conditionsModel lays out the conditions of the grants v valued, in the
-// order of the Conditions sheet, and fills each grant's Condition.
-func conditionsModel(m *Model, s *grants.Schedule, v *pricing.Valuation, b *accounting.Books) {
-	books := map[string]*accounting.GrantExpense{}
-	if b != nil && b.Expense != nil {
-		for i := range b.Expense.Grants {
-			books[b.Expense.Grants[i].GrantID] = &b.Expense.Grants[i]
-		}
-	}
+// order of the Conditions sheet; Build has filled each grant's Condition
+// (grantCondition) as it laid the grant out.
+func conditionsModel(m *Model, s *grants.Schedule, v *pricing.Valuation) {
 	used := map[string][]string{}
 	for i := range v.Grants {
 		gv := &v.Grants[i]
-		ci := gv.Inputs.Condition
-		if ci == nil {
-			continue
+		if ci := gv.Inputs.Condition; ci != nil {
+			used[ci.Condition.ID] = append(used[ci.Condition.ID], gv.Inputs.Grant.ID)
 		}
-		id := gv.Inputs.Grant.ID
-		used[ci.Condition.ID] = append(used[ci.Condition.ID], id)
-		m.Grants[i].Condition = grantCondition(gv, books[id])
 	}
 	end := s.Company.ValuationDate
 	for _, k := range s.Conditions {

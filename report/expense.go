@@ -346,7 +346,7 @@ func expenseModel(b *accounting.Books) *Expense {
 		Amount: r.Period, Cumulative: r.Cumulative, FinancingFairValueChange: r.FairValueChange,
 		Forecast: periodsOf(r.Forecast), AfterForecast: r.AfterForecast,
 		PolicyNotes: append([]string{}, r.PolicyNotes...),
-		ByGrant:     []ExpenseGrant{}, Journal: []JournalEntry{}, Financing: []FinancingWarrant{},
+		ByGrant:     make([]ExpenseGrant, 0, len(r.Grants)), Journal: []JournalEntry{}, Financing: []FinancingWarrant{},
 		FiscalCalendar: r.Policy.Calendar.String(),
 		ByFiscalYear:   make([]ExpenseYear, 0, len(r.ByFiscalYear)),
 	}
@@ -370,14 +370,15 @@ func expenseModel(b *accounting.Books) *Expense {
 			Recognized: y.Recognized, Expected: y.Expected, Total: y.Recognized + y.Expected})
 	}
 	months := map[string]*ExpenseGroup{}
-	for _, g := range r.Grants {
+	for i := range r.Grants {
+		g := &r.Grants[i]
 		eg := ExpenseGrant{GrantID: g.GrantID, Holder: g.Holder, Instrument: string(g.Instrument), Liability: g.Liability,
 			GrantDate: DateOf(g.GrantDate), ServiceStart: DateOf(g.ServiceStart), ServiceEnd: DateOf(g.ServiceEnd),
 			Cost: g.Cost, CumulativeOpen: g.CumulativeOpen, Amount: g.Period, Cumulative: g.Cumulative,
 			Unrecognized: g.Unrecognized, RemainingYears: g.RemainingYears,
 			LiabilityOpen: g.LiabilityOpen, LiabilityEnd: g.LiabilityEnd,
 			ReclassifiedEquity: g.ReclassifiedEquity, ReclassifiedToDate: g.ReclassifiedToDate,
-			Outstanding: g.Outstanding, Events: []EventRecord{}, Remeasurements: []Remeasurement{}, Tranches: []ExpenseTranche{},
+			Outstanding: g.Outstanding, Events: []EventRecord{}, Remeasurements: []Remeasurement{}, Tranches: make([]ExpenseTranche, 0, len(g.Tranches)),
 			CostCenter: g.CostCenter, ByCostCenter: make([]CostCenterPart, 0, len(g.ByCostCenter))}
 		for _, p := range g.ByCostCenter {
 			eg.ByCostCenter = append(eg.ByCostCenter, CostCenterPart{CostCenter: p.CostCenter, GrantID: g.GrantID, Amount: p.Period, Cumulative: p.Cumulative, Unrecognized: p.Unrecognized})
@@ -389,6 +390,7 @@ func expenseModel(b *accounting.Books) *Expense {
 				CumulativeOpen: t.CumulativeOpen, Amount: t.Period, Cumulative: t.Cumulative, Unrecognized: t.Unrecognized,
 				RemainingYears: t.RemainingYears})
 		}
+		g.Tranches = nil // the Model holds them now (Build takes b over)
 		det.ByGrant = append(det.ByGrant, eg)
 		for _, p := range eg.ByCostCenter {
 			c := &det.ByCostCenter[centre[p.CostCenter]]

@@ -19,8 +19,10 @@ import (
 
 // closeAt values and books the invented company of grantstest at the
 // quarter ending on end, after prior (nil for a first close), and writes
-// its valuation.json into a temporary folder, which it returns.
-func closeAt(t *testing.T, s *grants.Schedule, end string, prior *accounting.Prior) (*pricing.Valuation, *accounting.Books, string) {
+// its valuation.json into a temporary folder, which it returns with what
+// the close filed (accounting.Filed, taken before Build takes the
+// valuation and the books over) and the books.
+func closeAt(t *testing.T, s *grants.Schedule, end string, prior *accounting.Prior) (*accounting.Prior, *accounting.Books, string) {
 	t.Helper()
 	s.Company.ValuationDate = grantstest.Day(end)
 	s.Company.PeriodStart = grants.Company{}.DefaultPeriodStart(s.Company.ValuationDate)
@@ -34,6 +36,7 @@ func closeAt(t *testing.T, s *grants.Schedule, end string, prior *accounting.Pri
 	if err != nil {
 		t.Fatal(err)
 	}
+	filed := accounting.Filed(s, v, b)
 	m, err := Build(s, v, b, Run{Tool: Tool{Name: "grantworth", Version: "test"}})
 	if err != nil {
 		t.Fatal(err)
@@ -46,7 +49,7 @@ func closeAt(t *testing.T, s *grants.Schedule, end string, prior *accounting.Pri
 	if err := os.WriteFile(filepath.Join(dir, "valuation.json"), buf.Bytes(), 0o644); err != nil {
 		t.Fatal(err)
 	}
-	return v, b, dir
+	return filed, b, dir
 }
 
 // valuation.json carries everything a later close needs: what ReadPrior
@@ -63,11 +66,11 @@ func TestPriorRoundTrip(t *testing.T) {
 		grants.Grant{ID: "F-2", Holder: "LENDER", Instrument: grants.Warrant, GrantDate: d("2025-10-15"), Shares: 20_000, Strike: 4,
 			ExpiryDate: d("2032-10-15"), VestStart: d("2025-10-15"), VestEvery: 1, Classification: grants.Equity, ExerciseStyle: grants.American, Purpose: grants.Financing})
 	s.Events = append(s.Events, grants.Event{GrantID: "F-1", Date: d("2026-08-20"), Kind: grants.Exercised, Shares: 5_000})
-	v, b, dir := closeAt(t, s, "2026-06-30", nil)
+	want, b, dir := closeAt(t, s, "2026-06-30", nil)
 	var prior *accounting.Prior
 	for i, end := range []string{"2026-06-30", "2026-09-30"} {
 		if i > 0 {
-			v, b, dir = closeAt(t, s, end, prior)
+			want, b, dir = closeAt(t, s, end, prior)
 			// The financing liability opens as the prior filed it and rolls.
 			for _, fw := range b.Expense.Financing {
 				if fw.GrantID != "F-1" {
@@ -88,7 +91,6 @@ func TestPriorRoundTrip(t *testing.T) {
 			t.Errorf("close of %s: path %q, sha256 %q, schema %d, tool %q", end, got.Path, got.SHA256, got.SchemaVersion, got.ToolVersion)
 		}
 		got.Path, got.SHA256, got.SchemaVersion, got.ToolVersion = "", "", 0, ""
-		want := accounting.Filed(s, v, b)
 		if !reflect.DeepEqual(got, want) {
 			for k := range want.Grants {
 				if k < len(got.Grants) && !reflect.DeepEqual(got.Grants[k], want.Grants[k]) {

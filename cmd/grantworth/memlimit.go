@@ -14,27 +14,35 @@ import (
 // collector run less often than GOGC has it (by default when the heap has
 // doubled since the last collection); it makes it run more often as the
 // heap nears the limit, and all the time once the live heap passes it.
+// With the default GOGC the heap of a run grows to about twice its live
+// heap before it is collected, so the limit is what keeps the memory a
+// user sees near what the run holds.
 //
 //   - While the schedule is read the limit is readLimit: the input is not
 //     yet trusted, and the readers' garbage is collected soon enough that a
 //     hostile workbook is refused within DESIGN §5's 1 GiB.
-//   - Once the schedule is read, the limit is ledgerLimit: room for about
-//     twice the live heap of a ledger of that many grants (perGrantHeap),
-//     never less than readLimit, and never more than a quarter of the
-//     memory the process may use (the machine's, or its control group's
-//     limit when lower), which leaves the rest to the operating system and
-//     to other programs. A 10,000-grant ledger keeps readLimit, as before
-//     (a larger limit only made it hold more memory, for no less CPU); at
-//     100,000 grants the live heap no longer sits above the limit, where
-//     the collector ran all the time and took over 40% of the CPU.
+//   - Once the schedule is read, the limit is ledgerLimit: room for what
+//     every run holds (ledgerBase) and for about a quarter more than the
+//     live heap of a ledger of that many grants at its peak
+//     (perGrantHeap), never more than a quarter of the memory the process
+//     may use (the machine's, or its control group's limit when lower),
+//     which leaves the rest to the operating system and to other
+//     programs. A 10,000-grant ledger runs in about 450 MB instead of the
+//     700 MB it reached when the heap was left to double; the collector
+//     runs a few more times, for at most some 3% more CPU.
 const (
 	readLimit = 768 << 20
-	// perGrantHeap is room for the heap per grant of the adversarial
+	// ledgerBase is room for what a run holds whatever the ledger: the
+	// live heap of a 1,000-grant ledger peaks at 70 to 85 MB, some 40 MB
+	// of which any ledger holds, and that of the sample at 23 MB.
+	ledgerBase = 128 << 20
+	// perGrantHeap is room for the live heap per grant of the adversarial
 	// ledger (bench/ledger, 37 tranches a grant), measured in December
-	// 2026: at 100,000 grants under a 768 MiB limit the run held 4.4 GiB
-	// with the collector running all the time, so its live heap was at
-	// most some 45 KiB a grant; 64 KiB leaves the collector room.
-	perGrantHeap = 64 << 10
+	// 2026 with gctrace: it peaks in accounting, at 250 to 300 MB at
+	// 10,000 grants (with what any run holds), 664 MB at 30,000 and
+	// 2.67 GB at 100,000, some 26 KB a grant; 32 KiB leaves the collector
+	// a quarter more.
+	perGrantHeap = 32 << 10
 )
 
 // limitMemory sets the heap's soft limit to limit, unless GOMEMLIMIT is
@@ -48,13 +56,14 @@ func limitMemory(limit int64) (restore func()) {
 }
 
 // ledgerLimit is the soft limit for a ledger of n grants on a process that
-// may use avail bytes (0 when unknown, then a quarter of it is no bound).
+// may use avail bytes (0 when unknown, then a quarter of it is no bound),
+// never under ledgerBase.
 func ledgerLimit(n int, avail int64) int64 {
-	limit := int64(n) * perGrantHeap
+	limit := ledgerBase + int64(n)*perGrantHeap
 	if avail > 0 {
 		limit = min(limit, avail/4)
 	}
-	return max(limit, readLimit)
+	return max(limit, ledgerBase)
 }
 
 // availableMemory is the memory the process may use: the machine's

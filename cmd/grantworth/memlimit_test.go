@@ -2,8 +2,9 @@ package main
 
 import "testing"
 
-// The soft limit keeps the reading limit for small ledgers, grows with the
-// ledger and stops at a quarter of the memory the process may use.
+// The soft limit is room for every run's own heap and for the ledger's,
+// grows with the ledger and stops at a quarter of the memory the process
+// may use.
 func TestLedgerLimit(t *testing.T) {
 	const gib = 1 << 30
 	for _, c := range []struct {
@@ -11,14 +12,14 @@ func TestLedgerLimit(t *testing.T) {
 		avail  int64
 		want   int64
 	}{
-		{0, 24 * gib, readLimit},
-		{10_000, 24 * gib, readLimit},                  // 625 MiB of room is under the reading limit
-		{30_000, 24 * gib, 30_000 * perGrantHeap},      // about 1.8 GiB
-		{100_000, 24 * gib, 6 * gib},                   // a quarter of the machine
-		{100_000, 4 * gib, gib},                        // a 4 GiB container: its quarter
-		{100_000, 2 * gib, readLimit},                  // a 2 GiB container: its quarter is under the reading limit
-		{100_000, 0, 100_000 * perGrantHeap},           // memory unknown
-		{1_000_000, 1 << 62, 1_000_000 * perGrantHeap}, // no bound from the machine
+		{0, 24 * gib, ledgerBase},
+		{10_000, 24 * gib, ledgerBase + 10_000*perGrantHeap},      // about 440 MiB
+		{100_000, 24 * gib, ledgerBase + 100_000*perGrantHeap},    // about 3.2 GiB, under a quarter of the machine
+		{200_000, 24 * gib, 6 * gib},                              // a quarter of the machine
+		{100_000, 4 * gib, gib},                                   // a 4 GiB container: its quarter
+		{100_000, 256 << 20, ledgerBase},                          // a quarter under what any run holds
+		{100_000, 0, ledgerBase + 100_000*perGrantHeap},           // memory unknown
+		{1_000_000, 1 << 62, ledgerBase + 1_000_000*perGrantHeap}, // no bound from the machine
 	} {
 		if got := ledgerLimit(c.grants, c.avail); got != c.want {
 			t.Errorf("ledgerLimit(%d, %d) = %d, want %d", c.grants, c.avail, got, c.want)

@@ -54,6 +54,9 @@ func Close(s *grants.Schedule, v *pricing.Valuation, prior *Prior) (*Books, erro
 		return nil, fmt.Errorf("expense and disclosures: %w", err)
 	}
 	p.prior = prior
+	// The awards are Close's own; only the reconciliation to a prior
+	// close reads their tranches after the expense.
+	p.ownsAwards = prior == nil
 	disc, err := p.disclose(b.SharePrice.Value)
 	if err != nil {
 		return nil, fmt.Errorf("disclosures: %w", err)

@@ -111,16 +111,16 @@ func (l *awardLedger) applyCondition() {
 	last := l.last
 	for i := range l.tr {
 		t := &l.tr[i]
-		if i < len(c.ServiceEnd) && !c.ServiceEnd[i].IsZero() && dayNum(c.ServiceEnd[i]) > t.endN {
-			t.endN = dayNum(c.ServiceEnd[i])
+		if i < len(c.ServiceEnd) && !c.ServiceEnd[i].IsZero() && dayNum(c.ServiceEnd[i]) > int(t.endN) {
+			t.endN = int32(dayNum(c.ServiceEnd[i]))
 		}
 		if !c.Met.IsZero() && dayNum(c.Met) <= l.asOfN {
 			// Once met, a tranche vests at the later of its vest date and
 			// that day, never later than the derived end.
-			t.metN = dayNum(c.Met)
+			t.metN = int32(dayNum(c.Met))
 			t.metEndN = min(t.endN, max(t.vestN, t.metN))
 		}
-		if e := shiftDays(civilDay(l.start), t.endN-l.startN); e.After(last) {
+		if e := shiftDays(civilDay(l.start), int(t.endN)-l.startN); e.After(last) {
 			last = e
 		}
 	}
@@ -131,17 +131,17 @@ func (l *awardLedger) applyCondition() {
 // end of day d: its vest date, or the later end a market condition sets,
 // brought forward once a hurdle is met.
 func (t *trancheLedger) endAt(d int) int {
-	if d >= t.metN {
-		return t.metEndN
+	if d >= int(t.metN) {
+		return int(t.metEndN)
 	}
-	return t.endN
+	return int(t.endN)
 }
 
 // daysAt are the tranche's service days as known at the end of day d.
-func (t *trancheLedger) daysAt(d int) int { return t.endAt(d) - t.startN }
+func (t *trancheLedger) daysAt(d int) int { return t.endAt(d) - int(t.startN) }
 
 // serviceEnd is the tranche's requisite service end as a date, as known at
 // the end of day d.
 func (t *trancheLedger) serviceEnd(d int) time.Time {
-	return shiftDays(civilDay(t.start), t.endAt(d)-t.startN)
+	return dayDate(t.endAt(d))
 }

@@ -104,9 +104,9 @@ func (l *awardLedger) split(comp []float64, d int, out []float64) {
 			continue
 		}
 		t := &l.tr[i]
-		a, b := t.startN, min(d, t.endAt(d)-1) // to the end of requisite service (a market condition can set it past the vest date)
+		a, b := int(t.startN), min(d, t.endAt(d)-1) // to the end of requisite service (a market condition can set it past the vest date)
 		if b < a {
-			out[l.centreOn(t.startN)] += v
+			out[l.centreOn(a)] += v
 			continue
 		}
 		n := float64(b - a + 1)

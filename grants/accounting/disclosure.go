@@ -339,7 +339,7 @@ func (a Activity) weighted() Activity {
 func vested(l *awardLedger, a *Activity, start, end time.Time) {
 	g := l.in.Grant
 	for i, t := range l.tr {
-		ev := t.Tranche.VestDate
+		ev := t.vestDate()
 		if ev.Before(g.GrantDate) {
 			ev = g.GrantDate
 		}
@@ -464,7 +464,7 @@ func rollOutstanding(l *awardLedger, r *rollAccs, act *Activity, open, start, en
 func rollNonvested(l *awardLedger, r *rollAccs, open, start, end time.Time, inPeriod bool) {
 	g := l.in.Grant
 	for _, t := range l.tr {
-		ev := t.Tranche.VestDate
+		ev := t.vestDate()
 		if ev.Before(g.GrantDate) {
 			ev = g.GrantDate
 		}

@@ -94,11 +94,11 @@ type YearAmount struct {
 	Expected   float64
 }
 
-// TrancheExpense is one tranche's attribution.
+// TrancheExpense is one tranche's attribution. Its service starts on its
+// grant's (GrantExpense.ServiceStart).
 type TrancheExpense struct {
 	Index         int
 	VestDate      time.Time
-	ServiceStart  time.Time
 	Shares        int64   // as granted
 	SharesCounted float64 // shares whose cost counts at period end (expected at vest under Estimate)
 	// FairValue is per share: the grant-date value, or for a
@@ -319,6 +319,11 @@ type period struct {
 	start, end time.Time
 	ledgers    []*awardLedger
 	prior      *Prior
+	// ownsAwards is set when the awards are the period's own (Close made
+	// them) and nothing after the expense reads their tranches: expense
+	// then drops each award's tranches once its ledger's expense is
+	// drawn, so that a large ledger does not hold them beside the report.
+	ownsAwards bool
 }
 
 // openPeriod checks the policy and the period and builds the ledgers;
@@ -333,6 +338,7 @@ func openPeriod(awards []Award, policy Policy, periodStart, periodEnd time.Time)
 		return nil, fmt.Errorf("period end %s is before period start %s", periodEnd.Format(time.DateOnly), periodStart.Format(time.DateOnly))
 	}
 	p := &period{pol: pol, start: periodStart, end: periodEnd}
+	sc := &ledgerScratch{}
 	var errs []error
 	for i := range awards {
 		if valuation.Days(awards[i].Grant.GrantDate, periodEnd) < 0 {
@@ -343,6 +349,7 @@ func openPeriod(awards []Award, policy Policy, periodStart, periodEnd time.Time)
 			errs = append(errs, err)
 			continue
 		}
+		l.scratch = sc
 		p.ledgers = append(p.ledgers, l)
 	}
 	if len(errs) > 0 {
@@ -428,7 +435,7 @@ func (p *period) expense() *ExpenseReport {
 		if p.prior != nil {
 			pg, _ = p.prior.grant(g.ID)
 		}
-		l.bufComp = make([]float64, len(l.tr))
+		comp := l.buffers().comp[:len(l.tr)]
 		if l.financing {
 			fw := l.financingWarrant(s0, s1, p.prior != nil, pg, periodStart, periodEnd)
 			fw.CostCenter = l.centres[l.centreOn(dayNum(periodEnd))]
@@ -439,7 +446,7 @@ func (p *period) expense() *ExpenseReport {
 				centres.add(g.ID, centreParts{amounts: []CostCenterAmount{{CostCenter: fw.CostCenter, Period: fw.CompensationReversed}},
 					forecast: [][]float64{make([]float64, len(rep.Forecast))}, after: []float64{0}})
 			}
-			l.addPeriods(pol, bounds, p.prior != nil, fw.CompensationReversed, fw.FairValueChange)
+			l.addPeriods(pol, bounds, p.prior != nil, fw.CompensationReversed, fw.FairValueChange, comp)
 			if l.liability && len(l.remeas) == 0 {
 				rep.Warnings = append(rep.Warnings, fmt.Sprintf("grant %s: liability-classified financing warrant with no remeasurement; its liability is carried at its fair value at issue", g.ID))
 			}
@@ -453,7 +460,7 @@ func (p *period) expense() *ExpenseReport {
 			bookedTranche = func(i int) float64 {
 				if pg != nil && (i == 0 || l.tr[i-1].of != l.tr[i].of) { // a tranche's first part carries it
 					for _, t := range pg.Tranches {
-						if dayNum(t.VestDate) == l.tr[i].origN {
+						if dayNum(t.VestDate) == int(l.tr[i].origN) {
 							return t.Cumulative
 						}
 					}
@@ -469,6 +476,7 @@ func (p *period) expense() *ExpenseReport {
 		}
 		sInf := l.at(pol, far, periodEnd)
 		var lastLive time.Time
+		ge.Tranches = make([]TrancheExpense, 0, len(l.tr))
 		for i, t := range l.tr {
 			c := t.countsAt(periodEnd)
 			live := c.live(t.Tranche.Shares)
@@ -481,7 +489,7 @@ func (p *period) expense() *ExpenseReport {
 				fv = l.fairValueAt(i, dayNum(periodEnd))
 			}
 			te := TrancheExpense{
-				Index: t.Tranche.Index, VestDate: t.Tranche.VestDate, ServiceStart: t.start,
+				Index: t.Tranche.Index, VestDate: t.vestDate(),
 				Shares: t.Tranche.Shares, SharesCounted: float64(live)*q*l.outcome(dayNum(periodEnd)) + float64(c.accelerated),
 				FairValue: fv, GrantDateFairValue: t.FairValue, ExpectedShare: q,
 				Cost: sInf.comp[i], CumulativeOpen: bookedTranche(i), Cumulative: s1.comp[i],
@@ -504,6 +512,9 @@ func (p *period) expense() *ExpenseReport {
 			}
 		}
 		ge.Tranches = l.byTranche(ge.Tranches)
+		if p.ownsAwards {
+			l.in.Tranches = nil
+		}
 		if !lastLive.IsZero() {
 			ge.ServiceEnd = lastLive
 		}
@@ -551,9 +562,9 @@ func (p *period) expense() *ExpenseReport {
 		rep.Period += ge.Period
 		rep.Cumulative += ge.Cumulative
 		rep.Unrecognized += ge.Unrecognized
-		l.addPeriods(pol, bounds, p.prior != nil, ge.Period, 0)
+		l.addPeriods(pol, bounds, p.prior != nil, ge.Period, 0, comp)
 		for k, d := range future.days {
-			futureVals[k] = l.atInto(pol, d, periodEnd, l.bufComp).compTotal()
+			futureVals[k] = l.atInto(pol, d, periodEnd, comp).compTotal()
 		}
 		prevTotal := s1.compTotal()
 		for k := range rep.Forecast {
@@ -711,8 +722,9 @@ func maxDay(a, b time.Time) time.Time {
 // (consecutive, the first from the start) to its Amount, and a financing
 // warrant's change in fair value to its FairValueChange. After a prior
 // close (booked) the closed periods stand as it booked them, and only the
-// current one takes the award's period figures, comp and fv.
-func (l *awardLedger) addPeriods(pol Policy, ps []PeriodAmount, booked bool, comp, fv float64) {
+// current one takes the award's period figures, comp and fv. buf is
+// scratch for the award's cost by tranche.
+func (l *awardLedger) addPeriods(pol Policy, ps []PeriodAmount, booked bool, comp, fv float64, buf []float64) {
 	var prevComp, prevFV float64
 	for k := range ps {
 		if booked {
@@ -722,7 +734,7 @@ func (l *awardLedger) addPeriods(pol Policy, ps []PeriodAmount, booked bool, com
 			}
 			continue
 		}
-		cur := l.atInto(pol, ps[k].End, ps[k].End, l.bufComp)
+		cur := l.atInto(pol, ps[k].End, ps[k].End, buf)
 		c := cur.compTotal()
 		ps[k].Amount += c - prevComp
 		prevComp = c

@@ -49,24 +49,34 @@ type move struct {
 	by       changeKey
 }
 
+// ledgerTerms are the terms of a tranche the ledger reads: a large
+// ledger holds one per tranche, so not a whole grants.Tranche.
+// The vest date is the tranche's vestN (vestDate).
+type ledgerTerms struct {
+	Index  int
+	Shares int64
+}
+
 type trancheLedger struct {
-	TrancheCost
-	start time.Time // service start
-	days  int       // service days
-	// day numbers (dn) of the service start and the vest date
-	startN, vestN int
-	// endN is the last day of the requisite service (the vest date unless
-	// a market condition sets a later one); from day metN on (a hurdle
-	// met; MaxInt until then) it is metEndN (conditions.go).
-	endN, metN, metEndN int
-	moves               []move
+	// Tranche and FairValue are those of the award's TrancheCost (the
+	// service starts on the award's start, awardLedger.start).
+	Tranche   ledgerTerms
+	FairValue float64
+	// Day numbers (dayNum) in four bytes each, a large ledger holding
+	// millions of tranches: of the service start and the vest date; endN
+	// is the last day of the requisite service (the vest date unless a
+	// market condition sets a later one); from day metN on (a hurdle met;
+	// MaxInt32 until then) it is metEndN (conditions.go).
+	startN, vestN       int32
+	endN, metN, metEndN int32
 	// A ledger of an award that a change touched has one entry per part
 	// of a tranche (modify.go): of is the index of its tranche in
 	// Award.Tranches, origN the day number of that tranche's vest date as
 	// granted (its key in a prior close), and layers its costs. For any
 	// other award of is the entry's own index and origN its vestN.
+	origN  int32
 	of     int
-	origN  int
+	moves  []move
 	layers []layer
 }
 
@@ -99,9 +109,28 @@ type awardLedger struct {
 	centres []string
 	spans   []centreSpan
 
-	// scratch for atInto
-	bufValue, bufLia, bufComp []float64
-	bufCounts                 []trancheCounts
+	// scratch for atView and the expense loop, shared by the ledgers of a
+	// period (they are read one at a time): a buffer per ledger would hold
+	// 48 bytes a tranche for the whole close.
+	scratch *ledgerScratch
+}
+
+// ledgerScratch are the buffers a ledger's views are computed in.
+type ledgerScratch struct {
+	value, lia, comp []float64
+	counts           []trancheCounts
+}
+
+// buffers are the scratch buffers sized for l's tranches.
+func (l *awardLedger) buffers() *ledgerScratch {
+	if l.scratch == nil {
+		l.scratch = &ledgerScratch{}
+	}
+	sc, n := l.scratch, len(l.tr)
+	if len(sc.value) < n {
+		sc.value, sc.lia, sc.comp, sc.counts = make([]float64, n), make([]float64, n), make([]float64, n), make([]trancheCounts, n)
+	}
+	return sc
 }
 
 // onOrBefore reports a <= b by calendar day.
@@ -113,6 +142,9 @@ func dayOnOrBefore(a, b time.Time) bool { return dayNum(a) <= dayNum(b) }
 func dayNum(t time.Time) int {
 	return int(time.Date(t.Year(), t.Month(), t.Day(), 0, 0, 0, 0, time.UTC).Unix() / 86400)
 }
+
+// dayDate is the calendar day numbered n (dayNum), at midnight UTC.
+func dayDate(n int) time.Time { return time.Unix(int64(n)*86400, 0).UTC() }
 
 func shiftDays(t time.Time, n int) time.Time { return t.AddDate(0, 0, n) }
 
@@ -156,6 +188,7 @@ func newAwardLedger(a *Award, pol Policy, asOf time.Time) (*awardLedger, error) 
 	if pol.Forfeitures == grants.Estimate {
 		l.rate = pol.PreVestingForfeitureRate
 	}
+	l.tr = make([]trancheLedger, 0, len(a.Tranches))
 	for i, tc := range a.Tranches {
 		if tc.Tranche.GrantID != "" && tc.Tranche.GrantID != g.ID {
 			return nil, fmt.Errorf("grant %s: tranche %d belongs to grant %s", g.ID, tc.Tranche.Index, tc.Tranche.GrantID)
@@ -172,8 +205,8 @@ func newAwardLedger(a *Award, pol Policy, asOf time.Time) (*awardLedger, error) 
 		if !g.ExpiryDate.IsZero() && tc.Tranche.VestDate.After(g.ExpiryDate) {
 			return nil, fmt.Errorf("grant %s tranche %d: vests %s, after expiry %s", g.ID, tc.Tranche.Index, tc.Tranche.VestDate.Format(time.DateOnly), g.ExpiryDate.Format(time.DateOnly))
 		}
-		t := trancheLedger{TrancheCost: tc, start: l.start, startN: dayNum(l.start), vestN: dayNum(tc.Tranche.VestDate), metN: math.MaxInt, of: i}
-		t.days = t.vestN - t.startN
+		terms := ledgerTerms{Index: tc.Tranche.Index, Shares: tc.Tranche.Shares}
+		t := trancheLedger{Tranche: terms, FairValue: tc.FairValue, startN: int32(dayNum(l.start)), vestN: int32(dayNum(tc.Tranche.VestDate)), metN: math.MaxInt32, of: i}
 		t.endN, t.origN = t.vestN, t.vestN
 		l.tr = append(l.tr, t)
 	}
@@ -242,6 +275,9 @@ func newAwardLedger(a *Award, pol Policy, asOf time.Time) (*awardLedger, error) 
 	return l, nil
 }
 
+// vestDate is the tranche's vest date (after the changes that moved it).
+func (t *trancheLedger) vestDate() time.Time { return dayDate(int(t.vestN)) }
+
 func (t *trancheLedger) open() int64 {
 	n := t.Tranche.Shares
 	for _, m := range t.moves {
@@ -250,9 +286,9 @@ func (t *trancheLedger) open() int64 {
 	return n
 }
 
-func (t *trancheLedger) vestedOn(d time.Time) bool { return t.vestN <= dayNum(d) }
+func (t *trancheLedger) vestedOn(d time.Time) bool { return int(t.vestN) <= dayNum(d) }
 
-func (t *trancheLedger) vestedN(d int) bool { return t.vestN <= d }
+func (t *trancheLedger) vestedN(d int) bool { return int(t.vestN) <= d }
 
 // expected is the expected share of the tranche's live shares at the end
 // of day d that are still there at its vest date (see the package notes
@@ -264,7 +300,7 @@ func (t *trancheLedger) expected(d int, rate float64) float64 {
 	if end <= d || rate == 0 {
 		return 1
 	}
-	return valuation.SurvivalToVest(rate, float64(end-max(t.startN, d+1))/365)
+	return valuation.SurvivalToVest(rate, float64(end-max(int(t.startN), d+1))/365)
 }
 
 // pricedEvent is an event with the share price on its date.
@@ -301,7 +337,7 @@ func (l *awardLedger) apply(pevs []pricedEvent) error {
 	}
 	ts := make([]grants.Tranche, len(l.tr))
 	for i := range l.tr {
-		ts[i] = l.tr[i].Tranche
+		ts[i] = grants.Tranche{Index: l.tr[i].Tranche.Index, VestDate: l.tr[i].vestDate(), Shares: l.tr[i].Tranche.Shares}
 	}
 	al := grants.Allocate(ts, evs)
 	for _, tk := range al.Events {
@@ -393,7 +429,7 @@ func (l *awardLedger) attribute(pol Policy, value []float64, d, known, endN int,
 	q := func(i int) float64 { return l.tr[i].expected(kd, rate) * o }
 	if pol.Attribution == grants.Graded {
 		for i := range l.tr {
-			out[i] = value[i] * q(i) * serviceFraction(l.tr[i].startN, l.tr[i].daysAt(d), d)
+			out[i] = value[i] * q(i) * serviceFraction(int(l.tr[i].startN), l.tr[i].daysAt(d), d)
 		}
 		return
 	}
@@ -495,10 +531,8 @@ func (l *awardLedger) atView(pol Policy, v view, comp []float64) snapshot {
 	d, known := v.d, v.known
 	n := len(l.tr)
 	s := snapshot{comp: comp}
-	if len(l.bufValue) < n {
-		l.bufValue, l.bufLia, l.bufCounts = make([]float64, n), make([]float64, n), make([]trancheCounts, n)
-	}
-	value, counts := l.bufValue[:n], l.bufCounts[:n]
+	sc := l.buffers()
+	value, counts := sc.value[:n], sc.counts[:n]
 	for i := range l.tr {
 		counts[i] = l.tr[i].countsWhere(d, v.keep)
 	}
@@ -530,7 +564,7 @@ func (l *awardLedger) atView(pol Policy, v view, comp []float64) snapshot {
 	for i := range l.tr {
 		value[i] = l.fairValueAt(i, d) * float64(counts[i].open)
 	}
-	lia := l.bufLia[:n]
+	lia := sc.lia[:n]
 	l.attribute(pol, value, d, known, endN, v.rate, lia)
 	for i := range l.tr {
 		settled := l.settledN(i, v)

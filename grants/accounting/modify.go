@@ -205,14 +205,12 @@ func (l *awardLedger) cut(asOf time.Time) {
 		t.Tranche.Shares = p.Shares
 		for _, ch := range mod.Changes {
 			if dayNum(ch.Date) <= n {
-				t.Tranche.VestDate = ch.Parts[j].VestAfter
+				t.vestN = int32(dayNum(ch.Parts[j].VestAfter))
 			}
 		}
-		t.vestN = dayNum(t.Tranche.VestDate)
-		t.days = t.vestN - t.startN
 		t.endN = t.vestN
-		if t.Tranche.VestDate.After(l.last) {
-			l.last = t.Tranche.VestDate
+		if vd := t.vestDate(); vd.After(l.last) {
+			l.last = vd
 		}
 		tr = append(tr, t)
 	}
@@ -224,7 +222,7 @@ func (l *awardLedger) cut(asOf time.Time) {
 func (l *awardLedger) layer(asOf time.Time) {
 	for i := range l.tr {
 		t := &l.tr[i]
-		t.layers = []layer{{kind: layerBase, startN: t.startN, value: t.FairValue, to: []retarget{{from: t.startN, vest: t.origN}}}}
+		t.layers = []layer{{kind: layerBase, startN: int(t.startN), value: t.FairValue, to: []retarget{{from: int(t.startN), vest: int(t.origN)}}}}
 	}
 	mod := l.in.Modified
 	if mod == nil {
@@ -331,14 +329,14 @@ func (l *awardLedger) replace(c *awardLedger, k int) {
 	var pool, worth float64
 	unvested := false
 	for i := range l.tr {
-		if l.tr[i].vestN > M {
+		if int(l.tr[i].vestN) > M {
 			unvested = true
 		}
 	}
 	for i := range l.tr {
 		t := &l.tr[i]
 		t.layers[0].value = 0
-		if !unvested || t.vestN > M {
+		if !unvested || int(t.vestN) > M {
 			pool += float64(t.Tranche.Shares)
 		}
 		worth += t.FairValue * float64(t.Tranche.Shares)
@@ -346,11 +344,11 @@ func (l *awardLedger) replace(c *awardLedger, k int) {
 	inc := worth - before
 	for i := range l.tr {
 		t := &l.tr[i]
-		if carried > 0 && pool > 0 && (!unvested || t.vestN > M) {
-			t.layers = append(t.layers, layer{kind: layerCarried, key: key, startN: M, value: carried / pool, f0: earned / carried, to: []retarget{{from: M, vest: t.vestN}}})
+		if carried > 0 && pool > 0 && (!unvested || int(t.vestN) > M) {
+			t.layers = append(t.layers, layer{kind: layerCarried, key: key, startN: M, value: carried / pool, f0: earned / carried, to: []retarget{{from: M, vest: int(t.vestN)}}})
 		}
 		if inc > 0 && worth > 0 && t.FairValue > 0 {
-			t.layers = append(t.layers, layer{kind: layerIncrement, key: key, startN: M, value: inc * t.FairValue / worth, to: []retarget{{from: M, vest: t.vestN}}})
+			t.layers = append(t.layers, layer{kind: layerIncrement, key: key, startN: M, value: inc * t.FairValue / worth, to: []retarget{{from: M, vest: int(t.vestN)}}})
 		}
 	}
 	l.replaced = &replacedBy{of: c, change: k, carried: carried, earned: earned, before: before, worth: worth}

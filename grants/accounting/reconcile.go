@@ -405,7 +405,7 @@ func lockedAverage(gv *pricing.GrantValue, l *awardLedger) float64 {
 	var n, x float64
 	for _, t := range l.tr {
 		for _, lt := range gv.Lock.Tranches {
-			if dayNum(lt.VestDate) == t.origN {
+			if dayNum(lt.VestDate) == int(t.origN) {
 				n += float64(t.Tranche.Shares)
 				x += float64(t.Tranche.Shares) * lt.Result.Value
 			}

@@ -232,9 +232,9 @@ func (l *awardLedger) settlements(in TaxInputs, ifrs bool, from, to int) []Settl
 				add(key{day: m.dayN, kind: string(m.kind)}, m.date, m.shares, t.FairValue*float64(m.shares))
 			}
 		}
-		if g.Instrument == grants.RSU && t.vestN >= from && t.vestN <= to {
-			if n := t.countsN(t.vestN).open; n > 0 {
-				add(key{day: t.vestN, kind: "vested"}, t.Tranche.VestDate, n, t.FairValue*float64(n))
+		if g.Instrument == grants.RSU && int(t.vestN) >= from && int(t.vestN) <= to {
+			if n := t.countsN(int(t.vestN)).open; n > 0 {
+				add(key{day: int(t.vestN), kind: "vested"}, t.vestDate(), n, t.FairValue*float64(n))
 			}
 		}
 	}
