@@ -152,7 +152,7 @@ func Build(s *grants.Schedule, v *pricing.Valuation, b *accounting.Books, run Ru
 	for _, c := range v.Sensitivity {
 		sens := Sensitivity{Input: c.Input, Label: c.Label, Unit: c.Unit}
 		for _, p := range c.Points {
-			sens.Points = append(sens.Points, SensitivityPoint{Shift: p.Shift, Label: p.Label, FairValueTotal: p.FairValueTotal, Change: p.Change})
+			sens.Points = append(sens.Points, SensitivityPoint{Shift: p.Shift, Label: p.Label, FairValueTotal: p.FairValueTotal, Change: p.Change, SampleFairValueTotal: p.SampleTotal})
 		}
 		m.Sensitivity = append(m.Sensitivity, sens)
 	}

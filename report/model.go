@@ -336,6 +336,11 @@ type SensitivityPoint struct {
 	Label          string  `json:"label"`
 	FairValueTotal float64 `json:"fair_value_total"`
 	Change         float64 `json:"change"` // relative to the base case
+	// SampleFairValueTotal is the total fair value of the grants the
+	// case revalued (the sensitivity sample, or every grant): filed so
+	// that a later close whose sample is unchanged can take the case as
+	// it is and scale it to its own total, instead of running it again.
+	SampleFairValueTotal float64 `json:"sample_fair_value_total"`
 }
 
 // Convergence shows raw lattice values against the step count for one

@@ -569,7 +569,7 @@ func sensitivityStudy(ss []Sensitivity) []pricing.Sensitivity {
 	for _, s := range ss {
 		ps := pricing.Sensitivity{Input: s.Input, Label: s.Label, Unit: s.Unit}
 		for _, pt := range s.Points {
-			ps.Points = append(ps.Points, pricing.SensitivityPoint{Shift: pt.Shift, Label: pt.Label, FairValueTotal: pt.FairValueTotal, Change: pt.Change})
+			ps.Points = append(ps.Points, pricing.SensitivityPoint{Shift: pt.Shift, Label: pt.Label, FairValueTotal: pt.FairValueTotal, Change: pt.Change, SampleTotal: pt.SampleFairValueTotal})
 		}
 		out = append(out, ps)
 	}

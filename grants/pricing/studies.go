@@ -149,7 +149,7 @@ func (v *Valuation) FiledStudies() Studies {
 	for _, s := range v.Sensitivity {
 		f := Sensitivity{Input: s.Input, Label: s.Label, Unit: s.Unit}
 		for _, pt := range s.Points {
-			f.Points = append(f.Points, SensitivityPoint{Shift: pt.Shift, Label: pt.Label, FairValueTotal: pt.FairValueTotal, Change: pt.Change})
+			f.Points = append(f.Points, SensitivityPoint{Shift: pt.Shift, Label: pt.Label, FairValueTotal: pt.FairValueTotal, Change: pt.Change, SampleTotal: pt.SampleTotal})
 		}
 		st.Sensitivity = append(st.Sensitivity, f)
 	}

@@ -121,10 +121,10 @@ func TestReusedStudiesEqualAFreshRunToTheBit(t *testing.T) {
 		}
 	}
 	rep := v1.Convergence.GrantID
-	sampleTotals := func(st *pricing.Studies) { // as if the prior close had filed them
+	unfile := func(st *pricing.Studies) { // as a valuation.json written before sample totals were filed
 		for i := range st.Sensitivity {
 			for j := range st.Sensitivity[i].Points {
-				st.Sensitivity[i].Points[j].SampleTotal = v1.Sensitivity[i].Points[j].SampleTotal
+				st.Sensitivity[i].Points[j].SampleTotal = 0
 			}
 		}
 	}
@@ -139,33 +139,33 @@ func TestReusedStudiesEqualAFreshRunToTheBit(t *testing.T) {
 	}
 	all := len(v1.MonteCarlo)
 	cases := []struct {
-		name         string
-		change       func(*grants.Schedule)
-		correct      string
-		version      bool // another grantworth made the prior close
-		sampleTotals bool
-		want         pricing.StudiesReused
+		name    string
+		change  func(*grants.Schedule)
+		correct string
+		version bool // another grantworth made the prior close
+		unfiled bool // the prior close did not file its sample totals
+		want    pricing.StudiesReused
 	}{
 		{name: "as filed", want: pricing.StudiesReused{Sensitivity: true, Convergence: true, MonteCarlo: all}},
+		{name: "a grant outside every check corrected, sample totals not filed", change: strike(outside), correct: outside, unfiled: true,
+			want: pricing.StudiesReused{Convergence: true, MonteCarlo: all}},
 		{name: "a grant outside every check corrected", change: strike(outside), correct: outside,
-			want: pricing.StudiesReused{Convergence: true, MonteCarlo: all}},
-		{name: "a grant outside every check corrected, sample totals filed", change: strike(outside), correct: outside, sampleTotals: true,
 			want: pricing.StudiesReused{Sensitivity: true, Convergence: true, MonteCarlo: all}},
-		{name: "a grant of the sensitivity sample corrected", change: strike(sampled), correct: sampled, sampleTotals: true,
+		{name: "a grant of the sensitivity sample corrected", change: strike(sampled), correct: sampled,
 			want: pricing.StudiesReused{Convergence: true, MonteCarlo: all}},
-		{name: "the representative grant corrected", change: strike(rep), correct: rep, sampleTotals: true,
+		{name: "the representative grant corrected", change: strike(rep), correct: rep,
 			want: pricing.StudiesReused{Sensitivity: !inSample[rep], MonteCarlo: all - 1}},
-		{name: "share price", sampleTotals: true, change: func(s *grants.Schedule) {
+		{name: "share price", change: func(s *grants.Schedule) {
 			for i := range s.SharePrices {
 				s.SharePrices[i].Price *= 1.01
 			}
 		}},
-		{name: "curve", sampleTotals: true, change: func(s *grants.Schedule) {
+		{name: "curve", change: func(s *grants.Schedule) {
 			for i := range s.Rates {
 				s.Rates[i].Rate += 0.001
 			}
 		}},
-		{name: "volatility", sampleTotals: true, change: func(s *grants.Schedule) {
+		{name: "volatility", change: func(s *grants.Schedule) {
 			s.Assumptions.Volatility += 0.01
 			for i := range s.Grants {
 				if v := s.Grants[i].Volatility; v != nil {
@@ -174,14 +174,14 @@ func TestReusedStudiesEqualAFreshRunToTheBit(t *testing.T) {
 				}
 			}
 		}},
-		{name: "another grantworth", version: true, sampleTotals: true},
+		{name: "another grantworth", version: true},
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
 			t.Parallel()
 			prior := readBack(t, data)
-			if c.sampleTotals {
-				sampleTotals(&prior.Studies)
+			if c.unfiled {
+				unfile(&prior.Studies)
 			}
 			rerun := func(studies *pricing.Studies) (*pricing.Valuation, []byte) {
 				s := studiesLedger()
