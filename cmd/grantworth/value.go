@@ -135,6 +135,13 @@ func runValue(o *valueOptions) error {
 	st := newStages(o.io)
 	defer st.interrupt() // a failed stage's line ends before its error
 	st.begin("reading")
+	// The prior close is read while the schedule is: the two are
+	// independent until openPrior checks one against the other (a large
+	// prior takes about as long as the schedule).
+	var priorRead func() (*accounting.Prior, error)
+	if o.prior != "" {
+		priorRead = readPriorAsync(o.prior)
+	}
 	s, rep, err := grants.ReadFile(o.path)
 	if err != nil {
 		return readError(o.path, err)
@@ -190,7 +197,7 @@ func runValue(o *valueOptions) error {
 	var prior *accounting.Prior
 	var priorWarnings []string
 	if o.prior != "" {
-		if prior, priorWarnings, err = openPrior(o, s); err != nil {
+		if prior, priorWarnings, err = openPrior(o, s, priorRead); err != nil {
 			return err
 		}
 	}
@@ -358,11 +365,30 @@ func readError(path string, err error) error {
 	return err
 }
 
+// readPriorAsync starts reading the prior close at path and returns the
+// function that waits for it. A run that stops before it asks leaves the
+// read to finish on its own.
+func readPriorAsync(path string) func() (*accounting.Prior, error) {
+	type read struct {
+		p   *accounting.Prior
+		err error
+	}
+	done := make(chan read, 1)
+	go func() {
+		p, err := report.ReadPrior(path)
+		done <- read{p, err}
+	}()
+	return func() (*accounting.Prior, error) {
+		r := <-done
+		return r.p, r.err
+	}
+}
+
 // openPrior reads the prior close o.prior and opens s's period after it
 // (accounting.Open). Refusals are input errors; the output folder may
 // not be the prior's, which must stay as it is.
-func openPrior(o *valueOptions, s *grants.Schedule) (*accounting.Prior, []string, error) {
-	prior, err := report.ReadPrior(o.prior)
+func openPrior(o *valueOptions, s *grants.Schedule, read func() (*accounting.Prior, error)) (*accounting.Prior, []string, error) {
+	prior, err := read()
 	if err != nil {
 		if errors.Is(err, accounting.ErrPrior) {
 			return nil, nil, asInput(err)
