@@ -475,11 +475,18 @@ func (s *scanner) numberScan() ([]byte, numScan) {
 			continue // the token may go on in the next read
 		}
 		if !r.ok {
-			i := s.pos
-			for i < len(s.buf) && numberByte[s.buf[i]] {
-				i++
+			// The message quotes the whole run of number bytes, read on
+			// to its end so that it does not depend on where a read ended.
+			k := 0
+			for {
+				for s.pos+k < len(s.buf) && numberByte[s.buf[s.pos+k]] {
+					k++
+				}
+				if s.pos+k < len(s.buf) || !s.more() {
+					break
+				}
 			}
-			s.failAt(s.pos, true, "%q is not a number", s.buf[s.pos:i])
+			s.failAt(s.pos, true, "%q is not a number", s.buf[s.pos:s.pos+k])
 			return nil, r
 		}
 		tok := s.buf[s.pos : s.pos+r.end]
