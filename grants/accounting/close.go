@@ -54,12 +54,19 @@ func Close(s *grants.Schedule, v *pricing.Valuation, prior *Prior) (*Books, erro
 		return nil, fmt.Errorf("expense and disclosures: %w", err)
 	}
 	p.prior = prior
-	// The awards are Close's own; only the reconciliation to a prior
-	// close reads their tranches after the expense.
+	// The awards are Close's own; only the disclosures (the period's
+	// grants) and the reconciliation to a prior close read their tranches
+	// once the ledgers are built, and only the reconciliation and the tax
+	// report read the ledgers' after the expense.
 	p.ownsAwards = prior == nil
+	taxIn := TaxInputsOf(s)
+	p.dropsLedgers = p.ownsAwards && !p.taxed(taxIn)
 	disc, err := p.disclose(b.SharePrice.Value)
 	if err != nil {
 		return nil, fmt.Errorf("disclosures: %w", err)
+	}
+	if p.ownsAwards {
+		p.releaseAwards()
 	}
 	rep := p.expense()
 	b.Expense, b.Disclosure = rep, disc
@@ -77,7 +84,7 @@ func Close(s *grants.Schedule, v *pricing.Valuation, prior *Prior) (*Books, erro
 		}
 		catchUps = b.Reconciliation.CatchUps
 	}
-	b.Tax = p.tax(TaxInputsOf(s), b.SharePrice.Value)
+	b.Tax = p.tax(taxIn, b.SharePrice.Value)
 	if b.Tax != nil {
 		b.Warnings = append(b.Warnings, b.Tax.Warnings...)
 	}
