@@ -208,6 +208,7 @@ func releaseGrant(gv *pricing.GrantValue) {
 	gv.Inputs.Tranches, gv.Inputs.Terms = nil, nil
 	gv.Results, gv.BSM = nil, nil
 	gv.RiskFreeRate, gv.SimplifiedRate, gv.ExpectedTermRate = nil, nil, nil
+	gv.ExpiryYears, gv.VestYears = nil, nil
 }
 
 // booksByGrant are the books' grants by ID (none when b has no expense).
@@ -254,10 +255,10 @@ func grantOf(gv *pricing.GrantValue) Grant {
 	}
 	rg.Tranches = make([]Tranche, 0, len(in.Tranches))
 	for k, t := range in.Tranches {
-		term := in.Terms[k]
+		expiry, vest := gv.TermYears(k)
 		r, b := gv.Results[k], gv.BSM[k]
 		tr := Tranche{Index: t.Index, VestDate: DateOf(t.VestDate), Shares: t.Shares,
-			YearsToExpiry: term.YearsToExpiry, YearsToVest: term.YearsToVest,
+			YearsToExpiry: expiry, YearsToVest: vest,
 			FairValuePerShare: r.Value, ErrorEstimate: r.ErrorEstimate, ExpectedTermYears: r.ExpectedTermYears, Steps: r.Steps,
 			BSMSimplifiedValue: b.Value, SimplifiedTerm: b.ExpectedTermYears,
 			RiskFreeRate: gv.RiskFreeRate[k], SimplifiedRate: gv.SimplifiedRate[k]}

@@ -261,6 +261,7 @@ func runValue(o *valueOptions) error {
 		keptNote += "; " + n + " as the prior close made them"
 	}
 	st.end("%s grants%s", groupCount(len(v.Grants)), keptNote)
+	v.ReleaseTerms() // nothing after reads them but the report's years
 	st.begin("accounting")
 	books, err := accounting.Close(s, v, prior)
 	if err != nil {
