@@ -49,16 +49,15 @@ func Close(s *grants.Schedule, v *pricing.Valuation, prior *Prior) (*Books, erro
 	if prior != nil && !start.Equal(civilDay(prior.ValuationDate).AddDate(0, 0, 1)) {
 		return nil, fmt.Errorf("the period starts on %s, not the day after the prior close of %s: open it with Open", day(start), day(prior.ValuationDate))
 	}
-	p, err := openPeriod(awards, PolicyOf(s), start, end)
-	if err != nil {
-		return nil, fmt.Errorf("expense and disclosures: %w", err)
-	}
-	p.prior = prior
 	// The awards are Close's own; only the disclosures (the period's
 	// grants) and the reconciliation to a prior close read their tranches
 	// once the ledgers are built, and only the reconciliation and the tax
 	// report read the ledgers' after the expense.
-	p.ownsAwards = prior == nil
+	p, err := openPeriodOwning(awards, PolicyOf(s), start, end, prior == nil)
+	if err != nil {
+		return nil, fmt.Errorf("expense and disclosures: %w", err)
+	}
+	p.prior = prior
 	taxIn := TaxInputsOf(s)
 	p.dropsLedgers = p.ownsAwards && !p.taxed(taxIn)
 	disc, err := p.disclose(b.SharePrice.Value)

@@ -321,8 +321,10 @@ type period struct {
 	prior      *Prior
 	// ownsAwards is set when the awards are the period's own (Close made
 	// them) and nothing after the disclosures reads their tranches (no
-	// prior close is reconciled): Close then lets each award's tranches
-	// go once the disclosures are drawn, the ledger holding them, and when nothing after the
+	// prior close is reconciled): each award's tranches are let go once
+	// its ledger holds them (openPeriodOwning), but for the awards granted
+	// in the period, whose the disclosures read, and which Close lets go
+	// once those are drawn (releaseAwards); and when nothing after the
 	// expense reads a ledger's tranches either (untaxed, see
 	// dropsLedgers), expense lets those go once that grant's expense is
 	// drawn, so that a large ledger is not held two or three times over
@@ -359,6 +361,15 @@ func keepsTranches(ledgers []*awardLedger) map[*awardLedger]bool {
 // openPeriod checks the policy and the period and builds the ledgers;
 // the error joins one error for each award that does not fit.
 func openPeriod(awards []Award, policy Policy, periodStart, periodEnd time.Time) (*period, error) {
+	return openPeriodOwning(awards, policy, periodStart, periodEnd, false)
+}
+
+// openPeriodOwning is openPeriod, and with owns the period's ownsAwards:
+// as each ledger is built it lets go of its award's tranches unless the
+// award was granted in the period (the disclosures read those; Close lets
+// them go once they are drawn, releaseAwards), so that a large ledger
+// does not hold every award's tranches beside every ledger's.
+func openPeriodOwning(awards []Award, policy Policy, periodStart, periodEnd time.Time, owns bool) (*period, error) {
 	pol, err := policy.normalized()
 	if err != nil {
 		return nil, err
@@ -367,7 +378,7 @@ func openPeriod(awards []Award, policy Policy, periodStart, periodEnd time.Time)
 	if periodEnd.Before(periodStart) {
 		return nil, fmt.Errorf("period end %s is before period start %s", periodEnd.Format(time.DateOnly), periodStart.Format(time.DateOnly))
 	}
-	p := &period{pol: pol, start: periodStart, end: periodEnd}
+	p := &period{pol: pol, start: periodStart, end: periodEnd, ownsAwards: owns}
 	sc := &ledgerScratch{}
 	var errs []error
 	for i := range awards {
@@ -378,6 +389,9 @@ func openPeriod(awards []Award, policy Policy, periodStart, periodEnd time.Time)
 		if err != nil {
 			errs = append(errs, err)
 			continue
+		}
+		if owns && valuation.Days(periodStart, awards[i].Grant.GrantDate) < 0 { // as disclose's inPeriod
+			awards[i].Tranches = nil
 		}
 		l.scratch = sc
 		p.ledgers = append(p.ledgers, l)
