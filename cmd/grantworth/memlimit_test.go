@@ -13,9 +13,9 @@ func TestLedgerLimit(t *testing.T) {
 		want   int64
 	}{
 		{0, 24 * gib, ledgerBase},
-		{10_000, 24 * gib, ledgerBase + 10_000*perGrantHeap},      // about 440 MiB
-		{100_000, 24 * gib, ledgerBase + 100_000*perGrantHeap},    // about 3.2 GiB, under a quarter of the machine
-		{200_000, 24 * gib, 6 * gib},                              // a quarter of the machine
+		{10_000, 24 * gib, ledgerBase + 10_000*perGrantHeap},      // about 300 MiB
+		{100_000, 24 * gib, ledgerBase + 100_000*perGrantHeap},    // about 1.8 GiB, under a quarter of the machine
+		{400_000, 24 * gib, 6 * gib},                              // a quarter of the machine
 		{100_000, 4 * gib, gib},                                   // a 4 GiB container: its quarter
 		{100_000, 256 << 20, ledgerBase},                          // a quarter under what any run holds
 		{100_000, 0, ledgerBase + 100_000*perGrantHeap},           // memory unknown
