@@ -21,9 +21,13 @@ func TestLedgerLimit(t *testing.T) {
 		{100_000, 0, ledgerBase + 100_000*perGrantHeap},           // memory unknown
 		{1_000_000, 1 << 62, ledgerBase + 1_000_000*perGrantHeap}, // no bound from the machine
 	} {
-		if got := ledgerLimit(c.grants, c.avail); got != c.want {
+		if got := ledgerLimit(c.grants, perGrantHeap, c.avail); got != c.want {
 			t.Errorf("ledgerLimit(%d, %d) = %d, want %d", c.grants, c.avail, got, c.want)
 		}
+	}
+	// After a prior close, more room a grant: about 440 MiB at 10,000.
+	if got, want := ledgerLimit(10_000, perGrantHeapPrior, 24*gib), int64(ledgerBase+10_000*perGrantHeapPrior); got != want {
+		t.Errorf("ledgerLimit after a prior close = %d, want %d", got, want)
 	}
 }
 

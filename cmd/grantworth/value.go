@@ -139,7 +139,11 @@ func runValue(o *valueOptions) error {
 	if err != nil {
 		return readError(o.path, err)
 	}
-	limitMemory(ledgerLimit(len(s.Grants), availableMemory()))
+	perGrant := int64(perGrantHeap)
+	if o.prior != "" {
+		perGrant = perGrantHeapPrior
+	}
+	limitMemory(ledgerLimit(len(s.Grants), perGrant, availableMemory()))
 	var moved []string
 	if !vdate.IsZero() {
 		// After a prior close the period starts the day after it (Open,
