@@ -128,7 +128,6 @@ func Build(s *grants.Schedule, v *pricing.Valuation, b *accounting.Books, run Ru
 		m.Settings.Framework = string(policy.Framework)
 	}
 	m.Caution = Caution
-	m.Assumptions = companyAssumptions(s)
 	if len(v.Grants) > 0 {
 		m.Grants = make([]Grant, 0, len(v.Grants))
 	}
@@ -140,8 +139,19 @@ func Build(s *grants.Schedule, v *pricing.Valuation, b *accounting.Books, run Ru
 			g.Condition = grantCondition(gv, books[gv.Inputs.Grant.ID])
 		}
 		m.Grants = append(m.Grants, g)
-		m.Assumptions = append(m.Assumptions, grantAssumptions(gv)...)
 		releaseGrant(gv)
+	}
+	// The assumptions once the valuation's tranche detail is let go, and
+	// sized once: made beside it, or grown by appending, a large ledger's
+	// would raise the peak of the run.
+	company := companyAssumptions(s)
+	rows := len(company)
+	for i := range v.Grants {
+		rows += grantAssumptionCount(&v.Grants[i])
+	}
+	m.Assumptions = append(make([]Assumption, 0, rows), company...)
+	for i := range v.Grants {
+		m.Assumptions = append(m.Assumptions, grantAssumptions(&v.Grants[i], len(m.Grants[i].Tranches))...)
 	}
 	Summarize(m)
 	if v.SensitivitySample < len(v.Grants) {
@@ -208,6 +218,7 @@ func releaseGrant(gv *pricing.GrantValue) {
 	gv.Inputs.Tranches, gv.Inputs.Terms = nil, nil
 	gv.Results, gv.BSM = nil, nil
 	gv.RiskFreeRate, gv.SimplifiedRate, gv.ExpectedTermRate = nil, nil, nil
+	gv.ExpiryYears, gv.VestYears = nil, nil
 }
 
 // booksByGrant are the books' grants by ID (none when b has no expense).
@@ -254,10 +265,10 @@ func grantOf(gv *pricing.GrantValue) Grant {
 	}
 	rg.Tranches = make([]Tranche, 0, len(in.Tranches))
 	for k, t := range in.Tranches {
-		term := in.Terms[k]
+		expiry, vest := gv.TermYears(k)
 		r, b := gv.Results[k], gv.BSM[k]
 		tr := Tranche{Index: t.Index, VestDate: DateOf(t.VestDate), Shares: t.Shares,
-			YearsToExpiry: term.YearsToExpiry, YearsToVest: term.YearsToVest,
+			YearsToExpiry: expiry, YearsToVest: vest,
 			FairValuePerShare: r.Value, ErrorEstimate: r.ErrorEstimate, ExpectedTermYears: r.ExpectedTermYears, Steps: r.Steps,
 			BSMSimplifiedValue: b.Value, SimplifiedTerm: b.ExpectedTermYears,
 			RiskFreeRate: gv.RiskFreeRate[k], SimplifiedRate: gv.SimplifiedRate[k]}
@@ -319,9 +330,9 @@ func companyAssumptions(s *grants.Schedule) []Assumption {
 	return out
 }
 
-// grantAssumptions are the inputs a grant was valued on, each with its
-// cell and source text.
-func grantAssumptions(gv *pricing.GrantValue) []Assumption {
+// grantAssumptions are the inputs a grant of that many tranches was
+// valued on, each with its cell and source text.
+func grantAssumptions(gv *pricing.GrantValue, tranches int) []Assumption {
 	in, g := gv.Inputs, gv.Inputs.Grant
 	ref := func(k string) string { return g.Refs[k].String() }
 	day := func(t time.Time) string { return DateOf(t).String() }
@@ -345,12 +356,25 @@ func grantAssumptions(gv *pricing.GrantValue) []Assumption {
 			Source: "service, and the cost, start on the hire date", Term: true})
 	}
 	out = append(out, Assumption{GrantID: g.ID, Name: "vesting", Kind: KindText,
-		Text: fmt.Sprintf("%d tranches from %s", len(in.Tranches), day(g.VestStart)), Ref: firstRef(g.Refs, "vest_months", "vest_start"),
+		Text: fmt.Sprintf("%d tranches from %s", tranches, day(g.VestStart)), Ref: firstRef(g.Refs, "vest_months", "vest_start"),
 		Source: fmt.Sprintf("%d months, cliff %d, every %d", g.VestMonths, g.CliffMonths, g.VestEvery), Term: true})
 	for _, n := range in.Named() {
 		out = append(out, src(n.Key, inputKinds[n.Key], *n.Source))
 	}
 	return out
+}
+
+// grantAssumptionCount is len(grantAssumptions(gv)), without making them.
+func grantAssumptionCount(gv *pricing.GrantValue) int {
+	g := gv.Inputs.Grant
+	n := 6 + len(gv.Inputs.Named()) // the terms always given, vesting, the inputs
+	if g.Instrument != grants.RSU {
+		n += 2 // strike, expiry_date
+	}
+	if g.HireDate.After(g.GrantDate) {
+		n++
+	}
+	return n
 }
 
 func purposeOf(g grants.Grant) string {

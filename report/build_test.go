@@ -92,3 +92,44 @@ func TestBuildMapsTheValuation(t *testing.T) {
 		t.Errorf("warnings %q: the run's come first", m.Warnings)
 	}
 }
+
+// What the value command lets go of before Build (the tranches' terms,
+// pricing.Valuation.ReleaseTerms) changes nothing in the Model, and Build
+// sizes its assumptions exactly (grantAssumptionCount), so that a large
+// ledger's are not copied as they grow. (Identities of the code.)
+func TestBuildAfterReleaseTerms(t *testing.T) {
+	s, _, err := grants.ReadFile(filepath.Join("..", "sample", "tarnwick.xlsx"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	run := Run{Tool: Tool{Name: "grantworth", Version: "test"}, Input: Input{Path: "sample/tarnwick.xlsx", SHA256: "00"}}
+	build := func(release bool) *Model {
+		v := grantstest.Value(t, s, nil)
+		if release {
+			v.ReleaseTerms()
+		}
+		b, err := accounting.Close(s, v, nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		m, err := Build(s, v, b, run)
+		if err != nil {
+			t.Fatal(err)
+		}
+		return m
+	}
+	want, got := build(false), build(true)
+	if len(got.Assumptions) != cap(got.Assumptions) {
+		t.Errorf("%d assumptions in room for %d", len(got.Assumptions), cap(got.Assumptions))
+	}
+	var a, b strings.Builder
+	if err := WriteJSON(&a, want); err != nil {
+		t.Fatal(err)
+	}
+	if err := WriteJSON(&b, got); err != nil {
+		t.Fatal(err)
+	}
+	if a.String() != b.String() {
+		t.Error("the Model differs once the tranches' terms are let go before Build")
+	}
+}

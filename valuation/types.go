@@ -1,5 +1,7 @@
 package valuation
 
+import "strconv"
+
 // Terms are the contractual and behavioural terms of one award tranche.
 type Terms struct {
 	Strike           float64 // K, currency per share
@@ -19,14 +21,30 @@ type Market struct {
 	Curve         *Curve  // zero curve at the measurement date
 }
 
-// Method names how a Result was obtained.
-type Method string
+// Method names how a Result was obtained. It is one byte, not a string,
+// so that a Result packs into 48 bytes: a ledger holds one per tranche
+// (millions of them), and its String is the name shown.
+type Method uint8
 
 const (
-	MethodLattice Method = "lattice"
-	MethodBSM     Method = "bsm"
-	MethodMC      Method = "mc"
+	MethodNone Method = iota // the zero Result's
+	MethodLattice
+	MethodBSM
+	MethodMC
 )
+
+var methodNames = [...]string{MethodNone: "", MethodLattice: "lattice", MethodBSM: "bsm", MethodMC: "mc"}
+
+// String is the method's name: "lattice", "bsm" or "mc" ("" for none).
+func (m Method) String() string {
+	if int(m) < len(methodNames) {
+		return methodNames[m]
+	}
+	return "method(" + strconv.Itoa(int(m)) + ")"
+}
+
+// MarshalText writes the method's name, as the string it once was.
+func (m Method) MarshalText() ([]byte, error) { return []byte(m.String()), nil }
 
 // Result is a value and the statistics of how it was obtained.
 type Result struct {

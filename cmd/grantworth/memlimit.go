@@ -22,14 +22,16 @@ import (
 //     yet trusted, and the readers' garbage is collected soon enough that a
 //     hostile workbook is refused within DESIGN §5's 1 GiB.
 //   - Once the schedule is read, the limit is ledgerLimit: room for what
-//     every run holds (ledgerBase) and for about a quarter more than the
+//     every run holds (ledgerBase) and for some 15 to 50% more than the
 //     live heap of a ledger of that many grants at its peak
 //     (perGrantHeap), never more than a quarter of the memory the process
 //     may use (the machine's, or its control group's limit when lower),
 //     which leaves the rest to the operating system and to other
-//     programs. A 10,000-grant ledger runs in about 450 MB instead of the
-//     700 MB it reached when the heap was left to double; the collector
-//     runs a few more times, for at most some 3% more CPU.
+//     programs. A 10,000-grant adversarial ledger runs in about 316 MiB
+//     and a 100,000-grant one in about 1.85 GiB (December 2026), instead
+//     of the 0.7 and 5.5 GiB they reached when the heap was left to double;
+//     the collector runs more often near the peak, for some 8% more CPU
+//     at 100,000 grants.
 const (
 	readLimit = 768 << 20
 	// ledgerBase is room for what a run holds whatever the ledger: the
@@ -38,11 +40,19 @@ const (
 	ledgerBase = 128 << 20
 	// perGrantHeap is room for the live heap per grant of the adversarial
 	// ledger (bench/ledger, 37 tranches a grant), measured in December
-	// 2026 with gctrace: it peaks in accounting, at 250 to 300 MB at
-	// 10,000 grants (with what any run holds), 664 MB at 30,000 and
-	// 2.67 GB at 100,000, some 26 KB a grant; 32 KiB leaves the collector
-	// a quarter more.
-	perGrantHeap = 32 << 10
+	// 2026 with heap profiles and gctrace: it peaks at the end of the
+	// accounting's expense and while the report is built, at 160 to 190
+	// MB at 10,000 grants and 1.6 to 1.7 GB at 100,000 (with what any run
+	// holds), some 16 KB a grant; 18 KiB keeps a 100,000-grant run within
+	// 2 GiB (issue 15) while leaving the collector some room at the peak,
+	// and more below it.
+	perGrantHeap = 18 << 10
+	// perGrantHeapPrior is perGrantHeap for a close that follows a prior
+	// one (--prior): the prior's values, the reconciliation to it and the
+	// awards and ledgers it reads are held beside the rest, and the live
+	// heap of a 10,000-grant rerun peaks at some 345 MB (December 2026),
+	// some 30 KB a grant.
+	perGrantHeapPrior = 32 << 10
 )
 
 // limitMemory sets the heap's soft limit to limit, unless GOMEMLIMIT is
@@ -55,11 +65,12 @@ func limitMemory(limit int64) (restore func()) {
 	return func() { debug.SetMemoryLimit(old) }
 }
 
-// ledgerLimit is the soft limit for a ledger of n grants on a process that
-// may use avail bytes (0 when unknown, then a quarter of it is no bound),
-// never under ledgerBase.
-func ledgerLimit(n int, avail int64) int64 {
-	limit := ledgerBase + int64(n)*perGrantHeap
+// ledgerLimit is the soft limit for a ledger of n grants, perGrant bytes
+// of room a grant (perGrantHeap, or perGrantHeapPrior after a prior
+// close), on a process that may use avail bytes (0 when unknown, then a
+// quarter of it is no bound), never under ledgerBase.
+func ledgerLimit(n int, perGrant, avail int64) int64 {
+	limit := ledgerBase + int64(n)*perGrant
 	if avail > 0 {
 		limit = min(limit, avail/4)
 	}

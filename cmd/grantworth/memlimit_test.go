@@ -13,17 +13,21 @@ func TestLedgerLimit(t *testing.T) {
 		want   int64
 	}{
 		{0, 24 * gib, ledgerBase},
-		{10_000, 24 * gib, ledgerBase + 10_000*perGrantHeap},      // about 440 MiB
-		{100_000, 24 * gib, ledgerBase + 100_000*perGrantHeap},    // about 3.2 GiB, under a quarter of the machine
-		{200_000, 24 * gib, 6 * gib},                              // a quarter of the machine
+		{10_000, 24 * gib, ledgerBase + 10_000*perGrantHeap},      // about 300 MiB
+		{100_000, 24 * gib, ledgerBase + 100_000*perGrantHeap},    // about 1.8 GiB, under a quarter of the machine
+		{400_000, 24 * gib, 6 * gib},                              // a quarter of the machine
 		{100_000, 4 * gib, gib},                                   // a 4 GiB container: its quarter
 		{100_000, 256 << 20, ledgerBase},                          // a quarter under what any run holds
 		{100_000, 0, ledgerBase + 100_000*perGrantHeap},           // memory unknown
 		{1_000_000, 1 << 62, ledgerBase + 1_000_000*perGrantHeap}, // no bound from the machine
 	} {
-		if got := ledgerLimit(c.grants, c.avail); got != c.want {
+		if got := ledgerLimit(c.grants, perGrantHeap, c.avail); got != c.want {
 			t.Errorf("ledgerLimit(%d, %d) = %d, want %d", c.grants, c.avail, got, c.want)
 		}
+	}
+	// After a prior close, more room a grant: about 440 MiB at 10,000.
+	if got, want := ledgerLimit(10_000, perGrantHeapPrior, 24*gib), int64(ledgerBase+10_000*perGrantHeapPrior); got != want {
+		t.Errorf("ledgerLimit after a prior close = %d, want %d", got, want)
 	}
 }
 

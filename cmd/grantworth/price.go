@@ -490,7 +490,7 @@ func printPriceJSON(w io.Writer, r *priceResult) error {
 		Inputs            inputs        `json:"inputs"`
 	}{
 		Value: r.Main.Value, ErrorEstimate: r.Main.ErrorEstimate, ExpectedTermYears: r.Main.ExpectedTermYears,
-		Steps: r.Main.Steps, Method: string(r.Main.Method), Mode: r.Mode, MissedTarget: r.Main.MissedTarget,
+		Steps: r.Main.Steps, Method: r.Main.Method.String(), Mode: r.Mode, MissedTarget: r.Main.MissedTarget,
 		BSM:           comparison{r.BSM.Value, r.BSM.ExpectedTermYears},
 		BSMSimplified: comparison{r.Simplified.Value, r.Simplified.ExpectedTermYears},
 		Inputs: inputs{o.Spot, o.Strike, o.Years, o.Vol, o.Rate, o.DividendYield, o.VestYears, o.Multiple, o.ExitRate,

@@ -146,7 +146,11 @@ func runValue(o *valueOptions) error {
 	if err != nil {
 		return readError(o.path, err)
 	}
-	limitMemory(ledgerLimit(len(s.Grants), availableMemory()))
+	perGrant := int64(perGrantHeap)
+	if o.prior != "" {
+		perGrant = perGrantHeapPrior
+	}
+	limitMemory(ledgerLimit(len(s.Grants), perGrant, availableMemory()))
 	var moved []string
 	if !vdate.IsZero() {
 		// After a prior close the period starts the day after it (Open,
@@ -268,6 +272,7 @@ func runValue(o *valueOptions) error {
 		keptNote += "; " + n + " as the prior close made them"
 	}
 	st.end("%s grants%s", groupCount(len(v.Grants)), keptNote)
+	v.ReleaseTerms() // nothing after reads them but the report's years
 	st.begin("accounting")
 	books, err := accounting.Close(s, v, prior)
 	if err != nil {

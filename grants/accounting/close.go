@@ -49,17 +49,23 @@ func Close(s *grants.Schedule, v *pricing.Valuation, prior *Prior) (*Books, erro
 	if prior != nil && !start.Equal(civilDay(prior.ValuationDate).AddDate(0, 0, 1)) {
 		return nil, fmt.Errorf("the period starts on %s, not the day after the prior close of %s: open it with Open", day(start), day(prior.ValuationDate))
 	}
-	p, err := openPeriod(awards, PolicyOf(s), start, end)
+	// The awards are Close's own; only the disclosures (the period's
+	// grants) and the reconciliation to a prior close read their tranches
+	// once the ledgers are built, and only the reconciliation and the tax
+	// report read the ledgers' after the expense.
+	p, err := openPeriodOwning(awards, PolicyOf(s), start, end, prior == nil)
 	if err != nil {
 		return nil, fmt.Errorf("expense and disclosures: %w", err)
 	}
 	p.prior = prior
-	// The awards are Close's own; only the reconciliation to a prior
-	// close reads their tranches after the expense.
-	p.ownsAwards = prior == nil
+	taxIn := TaxInputsOf(s)
+	p.dropsLedgers = p.ownsAwards && !p.taxed(taxIn)
 	disc, err := p.disclose(b.SharePrice.Value)
 	if err != nil {
 		return nil, fmt.Errorf("disclosures: %w", err)
+	}
+	if p.ownsAwards {
+		p.releaseAwards()
 	}
 	rep := p.expense()
 	b.Expense, b.Disclosure = rep, disc
@@ -77,7 +83,7 @@ func Close(s *grants.Schedule, v *pricing.Valuation, prior *Prior) (*Books, erro
 		}
 		catchUps = b.Reconciliation.CatchUps
 	}
-	b.Tax = p.tax(TaxInputsOf(s), b.SharePrice.Value)
+	b.Tax = p.tax(taxIn, b.SharePrice.Value)
 	if b.Tax != nil {
 		b.Warnings = append(b.Warnings, b.Tax.Warnings...)
 	}

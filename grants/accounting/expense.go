@@ -320,15 +320,56 @@ type period struct {
 	ledgers    []*awardLedger
 	prior      *Prior
 	// ownsAwards is set when the awards are the period's own (Close made
-	// them) and nothing after the expense reads their tranches: expense
-	// then drops each award's tranches once its ledger's expense is
-	// drawn, so that a large ledger does not hold them beside the report.
-	ownsAwards bool
+	// them) and nothing after the disclosures reads their tranches (no
+	// prior close is reconciled): each award's tranches are let go once
+	// its ledger holds them (openPeriodOwning), but for the awards granted
+	// in the period, whose the disclosures read, and which Close lets go
+	// once those are drawn (releaseAwards); and when nothing after the
+	// expense reads a ledger's tranches either (untaxed, see
+	// dropsLedgers), expense lets those go once that grant's expense is
+	// drawn, so that a large ledger is not held two or three times over
+	// beside the report.
+	ownsAwards   bool
+	dropsLedgers bool
+}
+
+// releaseAwards lets go of the tranches of the awards the ledgers were
+// built from: once built, a ledger reads only their count (tranches).
+func (p *period) releaseAwards() {
+	for _, l := range p.ledgers {
+		l.in.Tranches = nil
+	}
+}
+
+// keepsTranches reports whether ledger l's tranches are read after its
+// own expense is drawn: a modified award's (modificationExpense) and the
+// awards a replacement reads, a replacement's and a financing warrant's
+// (left alone, being few).
+func keepsTranches(ledgers []*awardLedger) map[*awardLedger]bool {
+	keep := map[*awardLedger]bool{}
+	for _, l := range ledgers {
+		if l.in.Modified != nil || l.replaced != nil || l.financing {
+			keep[l] = true
+		}
+		if l.replaced != nil {
+			keep[l.replaced.of] = true
+		}
+	}
+	return keep
 }
 
 // openPeriod checks the policy and the period and builds the ledgers;
 // the error joins one error for each award that does not fit.
 func openPeriod(awards []Award, policy Policy, periodStart, periodEnd time.Time) (*period, error) {
+	return openPeriodOwning(awards, policy, periodStart, periodEnd, false)
+}
+
+// openPeriodOwning is openPeriod, and with owns the period's ownsAwards:
+// as each ledger is built it lets go of its award's tranches unless the
+// award was granted in the period (the disclosures read those; Close lets
+// them go once they are drawn, releaseAwards), so that a large ledger
+// does not hold every award's tranches beside every ledger's.
+func openPeriodOwning(awards []Award, policy Policy, periodStart, periodEnd time.Time, owns bool) (*period, error) {
 	pol, err := policy.normalized()
 	if err != nil {
 		return nil, err
@@ -337,7 +378,7 @@ func openPeriod(awards []Award, policy Policy, periodStart, periodEnd time.Time)
 	if periodEnd.Before(periodStart) {
 		return nil, fmt.Errorf("period end %s is before period start %s", periodEnd.Format(time.DateOnly), periodStart.Format(time.DateOnly))
 	}
-	p := &period{pol: pol, start: periodStart, end: periodEnd}
+	p := &period{pol: pol, start: periodStart, end: periodEnd, ownsAwards: owns}
 	sc := &ledgerScratch{}
 	var errs []error
 	for i := range awards {
@@ -348,6 +389,9 @@ func openPeriod(awards []Award, policy Policy, periodStart, periodEnd time.Time)
 		if err != nil {
 			errs = append(errs, err)
 			continue
+		}
+		if owns && valuation.Days(periodStart, awards[i].Grant.GrantDate) < 0 { // as disclose's inPeriod
+			awards[i].Tranches = nil
 		}
 		l.scratch = sc
 		p.ledgers = append(p.ledgers, l)
@@ -426,6 +470,11 @@ func (p *period) expense() *ExpenseReport {
 	forecast := make([]float64, len(rep.Forecast)) // one ledger's
 	centres := newCentreBook(len(rep.Forecast))
 
+	graded := gradedAny(ledgers) // for policyNotes, read before any ledger is let go
+	var keep map[*awardLedger]bool
+	if p.dropsLedgers {
+		keep = keepsTranches(ledgers)
+	}
 	var wYears float64
 	for _, l := range ledgers {
 		g := l.in.Grant
@@ -512,9 +561,6 @@ func (p *period) expense() *ExpenseReport {
 			}
 		}
 		ge.Tranches = l.byTranche(ge.Tranches)
-		if p.ownsAwards {
-			l.in.Tranches = nil
-		}
 		if !lastLive.IsZero() {
 			ge.ServiceEnd = lastLive
 		}
@@ -589,6 +635,9 @@ func (p *period) expense() *ExpenseReport {
 				y.Expected += futureVals[future.index(y.Year.End)] - from
 			}
 		}
+		if p.dropsLedgers && !keep[l] {
+			l.tr = nil // its expense is drawn, and nothing after reads it
+		}
 	}
 	if rep.Unrecognized > 0 {
 		rep.RemainingYears = wYears / rep.Unrecognized
@@ -606,19 +655,25 @@ func (p *period) expense() *ExpenseReport {
 	if w := centres.unassignedWarning(); w != "" {
 		rep.Warnings = append(rep.Warnings, w)
 	}
-	rep.PolicyNotes = policyNotes(pol, ledgers)
+	rep.PolicyNotes = policyNotes(pol, graded, ledgers)
 	rep.Modifications = p.modificationExpense()
 	return rep
 }
 
-// policyNotes explains the policy's standing under each standard.
-func policyNotes(pol Policy, ledgers []*awardLedger) []string {
-	graded := false
+// gradedAny reports whether an award of ledgers vests in more than one
+// part.
+func gradedAny(ledgers []*awardLedger) bool {
 	for _, l := range ledgers {
 		if len(l.tr) > 1 {
-			graded = true
+			return true
 		}
 	}
+	return false
+}
+
+// policyNotes explains the policy's standing under each standard, graded
+// being whether an award vests in more than one part (gradedAny).
+func policyNotes(pol Policy, graded bool, ledgers []*awardLedger) []string {
 	var notes []string
 	if pol.Attribution == grants.StraightLine && graded {
 		notes = append(notes, "Straight-line attribution of a graded-vesting award is an election under ASC 718 (718-10-35-8); IFRS 2 treats each tranche as a separate award, which is graded attribution.")

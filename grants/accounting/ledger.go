@@ -89,8 +89,11 @@ type awardLedger struct {
 	start                time.Time
 	last                 time.Time // last vest date
 	tr                   []trancheLedger
-	remeas               []Remeasurement // sorted by date
-	remeasN              []int           // their day numbers
+	// tranches is len(in.Tranches), the award's tranches as granted,
+	// which Close lets go once the ledger is built (period.ownsAwards).
+	tranches int
+	remeas   []Remeasurement // sorted by date
+	remeasN  []int           // their day numbers
 	// day numbers of the grant date and the service start
 	grantN, startN int
 	// expiry is the award's expiry after the changes dated by the ledger's
@@ -188,7 +191,7 @@ func newAwardLedger(a *Award, pol Policy, asOf time.Time) (*awardLedger, error) 
 	if pol.Forfeitures == grants.Estimate {
 		l.rate = pol.PreVestingForfeitureRate
 	}
-	l.tr = make([]trancheLedger, 0, len(a.Tranches))
+	l.tr, l.tranches = make([]trancheLedger, 0, len(a.Tranches)), len(a.Tranches)
 	for i, tc := range a.Tranches {
 		if tc.Tranche.GrantID != "" && tc.Tranche.GrantID != g.ID {
 			return nil, fmt.Errorf("grant %s: tranche %d belongs to grant %s", g.ID, tc.Tranche.Index, tc.Tranche.GrantID)

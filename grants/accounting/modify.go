@@ -689,7 +689,7 @@ func results(rs []valuation.Result) []float64 {
 // share at vest weighted by the shares counted, the vest date the last
 // part's, the years left weighted by the cost not yet recognized.
 func (l *awardLedger) byTranche(ts []TrancheExpense) []TrancheExpense {
-	if !l.layered || len(l.tr) == len(l.in.Tranches) {
+	if !l.layered || len(l.tr) == l.tranches {
 		return ts
 	}
 	var out []TrancheExpense

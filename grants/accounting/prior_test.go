@@ -33,7 +33,7 @@ func fakeValuation(s *grants.Schedule, fv func(g grants.Grant, k int) float64, p
 		for k := range gv.Inputs.Tranches {
 			r := valuation.Result{Value: fv(g, k)}
 			gv.Results = append(gv.Results, r)
-			gv.BSM = append(gv.BSM, r)
+			gv.BSM = append(gv.BSM, pricing.Comparison{Value: r.Value, ExpectedTermYears: r.ExpectedTermYears})
 			gv.RiskFreeRate = append(gv.RiskFreeRate, 0)
 			gv.SimplifiedRate = append(gv.SimplifiedRate, 0)
 		}

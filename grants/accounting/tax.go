@@ -92,12 +92,18 @@ type Settlement struct {
 	Note     string // when not Computed: why
 }
 
+// taxed reports whether the period has a TaxReport: a tax rate in force
+// on the day before its start or on its end.
+func (p *period) taxed(in TaxInputs) bool {
+	return in.Rate(shiftDays(p.start, -1)) != 0 || in.Rate(p.end) != 0
+}
+
 // tax is the period's TaxReport, or nil when the rate is zero on both
 // dates.
 func (p *period) tax(in TaxInputs, priceEnd float64) *TaxReport {
 	open := shiftDays(p.start, -1)
 	t := &TaxReport{Framework: p.pol.Framework, RateOpen: in.Rate(open), RateEnd: in.Rate(p.end), PriceEnd: priceEnd}
-	if t.RateOpen == 0 && t.RateEnd == 0 {
+	if !p.taxed(in) {
 		return nil
 	}
 	ifrs := p.pol.Framework == grants.IFRS2

@@ -242,7 +242,7 @@ func keep(gv *GrantValue, lk *Lock) error {
 		shares += n
 		now += n * today.Value
 		then += n * t.Result.Value
-		gv.Results[k], gv.BSM[k] = t.Result, t.BSM
+		gv.Results[k], gv.BSM[k] = t.Result, comparisonOf(t.BSM)
 		gv.RiskFreeRate[k], gv.SimplifiedRate[k] = t.RiskFreeRate, t.SimplifiedRate
 		if c := gv.Inputs.Market.Curve; gv.Reused && c != nil {
 			// As compare gives a grant valued again, whose expected
