@@ -213,9 +213,25 @@ func (s *Schedule) steps(g Grant) []step {
 	for _, m := range s.ModificationsOf(g.ID) {
 		out = append(out, step{mod: m})
 	}
-	for i := range s.Events {
-		if e := &s.Events[i]; e.GrantID == g.ID && e.Kind == Cancelled && e.ReplacementGrantID != "" {
-			out = append(out, step{can: e})
+	// g's events, by the index's positions when it is fresh (a scan of
+	// the Events sheet per grant made valuing 100,000 grants with 16,000
+	// events cost 9 s), in sheet order either way.
+	replaces := func(e *Event) bool {
+		return e.GrantID == g.ID && e.Kind == Cancelled && e.ReplacementGrantID != ""
+	}
+	if ix := s.fresh(); ix != nil {
+		if ix.replacements {
+			for _, i := range ix.eventsOf[g.ID] {
+				if e := &s.Events[i]; replaces(e) {
+					out = append(out, step{can: e})
+				}
+			}
+		}
+	} else {
+		for i := range s.Events {
+			if e := &s.Events[i]; replaces(e) {
+				out = append(out, step{can: e})
+			}
 		}
 	}
 	sort.SliceStable(out, func(i, j int) bool { return out[i].date().Before(out[j].date()) })

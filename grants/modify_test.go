@@ -1,6 +1,7 @@
 package grants
 
 import (
+	"fmt"
 	"reflect"
 	"testing"
 )
@@ -154,5 +155,38 @@ func TestModificationsRoundTrip(t *testing.T) {
 		if exp := got.Expiry(got.Grants[0]); !exp.Equal(d("2035-01-31")) {
 			t.Errorf("%s: expiry after the modification %s", path, isoDay(exp))
 		}
+	}
+}
+
+// A grant's changes are the same whether its cancellations with a
+// replacement come from the schedule's index or from a scan of the Events
+// sheet, and a grant with none has no changes either way.
+func TestChangesIndexed(t *testing.T) {
+	k := 2.0
+	s := smallSchedule()
+	s.Grants = append(s.Grants, Grant{ID: "G-005", Instrument: Option, GrantDate: d("2026-05-01"), Shares: 500, Strike: 4.5, ExpiryDate: d("2036-05-01"),
+		VestStart: d("2026-05-01"), VestMonths: 12, CliffMonths: 12, VestEvery: 1, Purpose: Compensation})
+	s.Events = append(s.Events,
+		Event{GrantID: "G-003", Date: d("2026-03-01"), Kind: Forfeited, Shares: 10},
+		Event{GrantID: "G-004", Date: d("2026-05-01"), Kind: Cancelled, Shares: 1000, ReplacementGrantID: "G-005"})
+	s.Modifications = []Modification{{GrantID: "G-004", Date: d("2026-04-15"), NewStrike: &k}}
+	changes := func(s *Schedule) string {
+		out := ""
+		for _, g := range s.Grants {
+			cs, err := s.Changes(g)
+			out += fmt.Sprintf("%s %d %v %+v\n", g.ID, len(cs), err, cs)
+		}
+		return out
+	}
+	scanned := changes(s)
+	s.Reindex()
+	if s.fresh() == nil {
+		t.Fatal("the index is stale just after Reindex")
+	}
+	if got := changes(s); got != scanned {
+		t.Errorf("changes from the index:\n%s\nscanned:\n%s", got, scanned)
+	}
+	if cs, _ := s.Changes(s.Grants[3]); len(cs) != 2 {
+		t.Errorf("G-004 has %d changes, want the repricing and the cancellation with its replacement", len(cs))
 	}
 }
