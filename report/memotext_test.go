@@ -61,15 +61,22 @@ func TestMemoUnicodeFields(t *testing.T) {
 
 // fuzzDoc is the document FuzzMemoText draws on: building one (fonts,
 // templates) and writing it out cost tens of milliseconds, so each lasts
-// fuzzDocUses inputs and is then written out, which subsets the fonts to
-// every character drawn.
+// fuzzDocUses inputs, or until it passes fuzzDocPages pages, and is then
+// written out, which subsets the fonts to every character drawn. The page
+// bound keeps each input's call short: 2,000 control characters in a
+// narrow table column fill some 1,600 pages, and writing out a hundred
+// such inputs at once took 31 s, past the 10 s after which the fuzzing
+// machinery takes a worker for hung and stops it.
 var fuzzDoc struct {
 	sync.Mutex
 	d    *Memo
 	uses int
 }
 
-const fuzzDocUses = 100
+const (
+	fuzzDocUses  = 100
+	fuzzDocPages = 2000
+)
 
 // FuzzMemoText draws arbitrary text through every kind of memo text call
 // (cover, headings, paragraphs, notes, bullets, table cells, metadata): no
@@ -117,7 +124,7 @@ func FuzzMemoText(f *testing.F) {
 		if err := d.pdf.Error(); err != nil {
 			t.Fatalf("%q: %v", s, err)
 		}
-		if fd.uses++; fd.uses >= fuzzDocUses {
+		if fd.uses++; fd.uses >= fuzzDocUses || d.pdf.PageCount() > fuzzDocPages {
 			fd.d, fd.uses = nil, 0
 			if err := d.pdf.Output(io.Discard); err != nil {
 				t.Fatalf("writing the document after %q: %v", s, err)
