@@ -226,10 +226,15 @@ var (
 	excelLastDay  = time.Date(2200, 1, 1, 0, 0, 0, 0, time.UTC)
 )
 
+// The same bounds as dates, and the serial number of 1970-01-01.
+var (
+	excelFirstDate, excelLastDate = DateOf(excelFirstDay), DateOf(excelLastDay)
+	excelUnixDay                  = excelDays(time.Unix(0, 0).UTC())
+)
+
 // plainDate reports whether d is a date the fast rows can write.
 func plainDate(d Date) bool {
-	t := d.Time()
-	return d.IsZero() || (!t.Before(excelFirstDay) && t.Before(excelLastDay))
+	return d.IsZero() || (d.n >= excelFirstDate.n && d.n < excelLastDate.n)
 }
 
 func finite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
@@ -457,7 +462,7 @@ func (w *rowWriter) date(col, s int, d Date) {
 	if d.IsZero() {
 		return
 	}
-	w.int(col, s, excelDays(d.Time()))
+	w.int(col, s, excelUnixDay+d.unixDays())
 }
 
 // excelDays is the serial number of a day from the 1st of March 1900 on.

@@ -325,7 +325,7 @@ func (e *jsonEnc) scalar(k encKind, p unsafe.Pointer) bool {
 			e.buf = append(e.buf, "null"...)
 		} else {
 			e.buf = append(e.buf, '"')
-			e.buf = appendDate(e.buf, d)
+			e.buf = d.AppendISO(e.buf)
 			e.buf = append(e.buf, '"')
 		}
 	default:
@@ -484,34 +484,6 @@ func appendFloat(b []byte, f float64) []byte {
 		}
 	}
 	return b
-}
-
-// appendDate appends d as YYYY-MM-DD, the calendar date of its day number
-// by the civil-from-days conversion of the proleptic Gregorian calendar
-// (H. Hinnant, "chrono-Compatible Low-Level Date Algorithms"); a year
-// outside 0 to 9999 is left to Date.AppendISO.
-func appendDate(b []byte, d Date) []byte {
-	z := int64(d.n) - dayOffset + 719468
-	era := z / 146097
-	if z < 0 {
-		era = (z - 146096) / 146097
-	}
-	doe := z - era*146097
-	yoe := (doe - doe/1460 + doe/36524 - doe/146096) / 365
-	y := yoe + era*400
-	doy := doe - (365*yoe + yoe/4 - yoe/100)
-	mp := (5*doy + 2) / 153
-	day := doy - (153*mp+2)/5 + 1
-	m := mp + 3
-	if mp >= 10 {
-		m = mp - 9
-		y++
-	}
-	if y < 0 || y > 9999 {
-		return d.AppendISO(b)
-	}
-	return append(b, byte('0'+y/1000), byte('0'+y/100%10), byte('0'+y/10%10), byte('0'+y%10), '-',
-		byte('0'+m/10), byte('0'+m%10), '-', byte('0'+day/10), byte('0'+day%10))
 }
 
 // str appends s quoted. Printable ASCII without a quote or a backslash is

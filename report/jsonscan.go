@@ -611,52 +611,6 @@ func (s *scanner) date(dst *Date) {
 	}
 }
 
-// parseISODate reads YYYY-MM-DD, a real day of the proleptic Gregorian
-// calendar, as time.Parse with the layout 2006-01-02 does.
-func parseISODate(b []byte) (Date, bool) {
-	if len(b) != 10 || b[4] != '-' || b[7] != '-' {
-		return Date{}, false
-	}
-	num := func(b []byte) (int64, bool) {
-		n := int64(0)
-		for _, c := range b {
-			if c < '0' || c > '9' {
-				return 0, false
-			}
-			n = 10*n + int64(c-'0')
-		}
-		return n, true
-	}
-	y, ok1 := num(b[:4])
-	m, ok2 := num(b[5:7])
-	d, ok3 := num(b[8:])
-	if !ok1 || !ok2 || !ok3 || m < 1 || m > 12 || d < 1 {
-		return Date{}, false
-	}
-	days := [13]int64{0, 31, 28, 31, 30, 31, 30, 31, 31, 30, 31, 30, 31}[m]
-	if m == 2 && y%4 == 0 && (y%100 != 0 || y%400 == 0) {
-		days = 29
-	}
-	if d > days {
-		return Date{}, false
-	}
-	// Days from civil (H. Hinnant, "chrono-Compatible Low-Level Date
-	// Algorithms"); y is not negative here.
-	if m <= 2 {
-		y--
-	}
-	era := y / 400
-	if y < 0 {
-		era = (y - 399) / 400
-	}
-	yoe := y - era*400
-	mp := (m + 9) % 12
-	doy := (153*mp+2)/5 + d - 1
-	doe := yoe*365 + yoe/4 - yoe/100 + doy
-	n := era*146097 + doe - 719468
-	return Date{int32(n + dayOffset)}, true
-}
-
 // skip reads past the value that comes next, checking its grammar.
 func (s *scanner) skip() {
 	if s.err != nil {

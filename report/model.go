@@ -47,13 +47,85 @@ func (d Date) String() string {
 	return string(d.AppendISO(nil))
 }
 
+// unixDays is d's day number: days since 1970-01-01.
+func (d Date) unixDays() int64 { return int64(d.n) - dayOffset }
+
 // AppendISO appends the date as YYYY-MM-DD to b (nothing for the zero
-// Date).
+// Date): the calendar date of its day number by the civil-from-days
+// conversion of the proleptic Gregorian calendar (H. Hinnant,
+// "chrono-Compatible Low-Level Date Algorithms"), without a time.Time; a
+// year outside 0 to 9999 is left to the time package.
 func (d Date) AppendISO(b []byte) []byte {
 	if d.IsZero() {
 		return b
 	}
-	return d.Time().AppendFormat(b, "2006-01-02")
+	z := d.unixDays() + 719468
+	era := z / 146097
+	if z < 0 {
+		era = (z - 146096) / 146097
+	}
+	doe := z - era*146097
+	yoe := (doe - doe/1460 + doe/36524 - doe/146096) / 365
+	y := yoe + era*400
+	doy := doe - (365*yoe + yoe/4 - yoe/100)
+	mp := (5*doy + 2) / 153
+	day := doy - (153*mp+2)/5 + 1
+	m := mp + 3
+	if mp >= 10 {
+		m = mp - 9
+		y++
+	}
+	if y < 0 || y > 9999 {
+		return d.Time().AppendFormat(b, "2006-01-02")
+	}
+	return append(b, byte('0'+y/1000), byte('0'+y/100%10), byte('0'+y/10%10), byte('0'+y%10), '-',
+		byte('0'+m/10), byte('0'+m%10), '-', byte('0'+day/10), byte('0'+day%10))
+}
+
+// parseISODate reads YYYY-MM-DD, a real day of the proleptic Gregorian
+// calendar, as time.Parse with the layout 2006-01-02 does.
+func parseISODate(b []byte) (Date, bool) {
+	if len(b) != 10 || b[4] != '-' || b[7] != '-' {
+		return Date{}, false
+	}
+	num := func(b []byte) (int64, bool) {
+		n := int64(0)
+		for _, c := range b {
+			if c < '0' || c > '9' {
+				return 0, false
+			}
+			n = 10*n + int64(c-'0')
+		}
+		return n, true
+	}
+	y, ok1 := num(b[:4])
+	m, ok2 := num(b[5:7])
+	d, ok3 := num(b[8:])
+	if !ok1 || !ok2 || !ok3 || m < 1 || m > 12 || d < 1 {
+		return Date{}, false
+	}
+	days := [13]int64{0, 31, 28, 31, 30, 31, 30, 31, 31, 30, 31, 30, 31}[m]
+	if m == 2 && y%4 == 0 && (y%100 != 0 || y%400 == 0) {
+		days = 29
+	}
+	if d > days {
+		return Date{}, false
+	}
+	// Days from civil (H. Hinnant, "chrono-Compatible Low-Level Date
+	// Algorithms"); y is not negative here.
+	if m <= 2 {
+		y--
+	}
+	era := y / 400
+	if y < 0 {
+		era = (y - 399) / 400
+	}
+	yoe := y - era*400
+	mp := (m + 9) % 12
+	doy := (153*mp+2)/5 + d - 1
+	doe := yoe*365 + yoe/4 - yoe/100 + doy
+	n := era*146097 + doe - 719468
+	return Date{int32(n + dayOffset)}, true
 }
 
 // MarshalJSON writes "YYYY-MM-DD" or null.
@@ -74,11 +146,11 @@ func (d *Date) UnmarshalJSON(b []byte) error {
 	if err := json.Unmarshal(b, &s); err != nil {
 		return err
 	}
-	t, err := time.Parse("2006-01-02", s)
-	if err != nil {
-		return fmt.Errorf("date %q: %w", s, err)
+	v, ok := parseISODate([]byte(s))
+	if !ok {
+		return fmt.Errorf("date %q is not a date YYYY-MM-DD", s)
 	}
-	*d = DateOf(t)
+	*d = v
 	return nil
 }
 
