@@ -348,12 +348,28 @@ func appendColumn(b []byte, col int) []byte {
 }
 
 func (w *rowWriter) style(s int) {
-	if s > 0 {
+	if s > 0 && s < len(styleAttrs) {
+		w.b = append(w.b, styleAttrs[s]...)
+	} else if s > 0 {
 		w.b = append(w.b, ` s="`...)
 		w.b = strconv.AppendInt(w.b, int64(s), 10)
 		w.b = append(w.b, '"')
 	}
 }
+
+// styleAttrs are the s attributes of the first styles, and valueOpens
+// the beginnings of a value cell of each of them without a reference
+// (open): the sheets use a few dozen styles, and a large ledger's rows
+// tens of millions of cells.
+var styleAttrs, valueOpens = func() (attrs, opens [64]string) {
+	for s := range attrs {
+		if s > 0 {
+			attrs[s] = ` s="` + strconv.Itoa(s) + `"`
+		}
+		opens[s] = `<c` + attrs[s] + `><v>`
+	}
+	return
+}()
 
 // text is an inline string.
 func (w *rowWriter) text(col, s int, v string) {
@@ -367,6 +383,11 @@ func (w *rowWriter) text(col, s int, v string) {
 
 // open begins a cell holding a value (<v>).
 func (w *rowWriter) open(col, s int) {
+	if col == w.next && s >= 0 && s < len(valueOpens) {
+		w.next++
+		w.b = append(w.b, valueOpens[s]...)
+		return
+	}
 	w.b = append(w.b, `<c`...)
 	w.ref(col)
 	w.style(s)
@@ -439,27 +460,45 @@ func appendScaled(b *[]byte, v float64, d int, exact bool) bool {
 	if k < 0 {
 		*b = append(*b, '-')
 	}
-	scale := uint64(p)
-	*b = strconv.AppendUint(*b, u/scale, 10)
-	frac := u % scale
-	if frac == 0 {
-		return true
+	// The digits of u, at least d+1 of them (a zero before the point),
+	// from the last; then the whole part, and the decimals without their
+	// trailing zeros.
+	var tmp [24]byte
+	i, point := len(tmp), len(tmp)-d
+	for u >= 100 {
+		q := u / 100
+		r := 2 * (u - 100*q)
+		i -= 2
+		tmp[i], tmp[i+1] = digitPairs[r], digitPairs[r+1]
+		u = q
 	}
-	for frac%10 == 0 {
-		frac /= 10
-		d--
-	}
-	*b = append(*b, '.')
-	var tmp [16]byte
-	i := len(tmp)
-	for ; d > 0; d-- {
+	if u >= 10 {
+		i -= 2
+		tmp[i], tmp[i+1] = digitPairs[2*u], digitPairs[2*u+1]
+	} else {
 		i--
-		tmp[i] = byte('0' + frac%10)
-		frac /= 10
+		tmp[i] = byte('0' + u)
 	}
-	*b = append(*b, tmp[i:]...)
+	for i > point-1 {
+		i--
+		tmp[i] = '0'
+	}
+	*b = append(*b, tmp[i:point]...)
+	end := len(tmp)
+	for end > point && tmp[end-1] == '0' {
+		end--
+	}
+	if end > point {
+		*b = append(*b, '.')
+		*b = append(*b, tmp[point:end]...)
+	}
 	return true
 }
+
+// digitPairs are the numbers 00 to 99 as two digits each.
+const digitPairs = "00010203040506070809" + "10111213141516171819" + "20212223242526272829" + "30313233343536373839" +
+	"40414243444546474849" + "50515253545556575859" + "60616263646566676869" + "70717273747576777879" +
+	"80818283848586878889" + "90919293949596979899"
 
 // roundTo is Book.roundCell for a style of d decimals (d < 0: none).
 func roundTo(d int, v float64) float64 {
