@@ -539,8 +539,8 @@ func expenseRowsPlain(x *Expense) bool {
 	return true
 }
 
-// fast is slow's rows written apart, byte for byte as excelize writes
-// them, numbered from row 2.
+// fast is slow's rows written apart, cell for cell as excelize writes
+// them (rowWriter), numbered from row 2.
 func (x *expenseSheet) fast(from, to int, total, withTranches bool) fastRows {
 	return func(out io.Writer) error {
 		b, e := x.b, x.e

@@ -20,10 +20,14 @@ import (
 // (Tranches, Expense, Assumptions, Grants, ...) have hundreds of
 // thousands of rows, and excelize's stream writer spent most of the
 // workbook's time on them cell by cell, then wrote them to a temporary
-// file and read them back. Their rows are written here instead, byte for
-// byte as the stream writer writes them: excelize writes the sheet with
-// the header and a placeholder row, and canonicalZip writes the rows in
-// the placeholder's place as it copies the archive, straight into its
+// file and read them back. Their rows are written here instead, cell for
+// cell as the stream writer writes them (the same value, text escapes,
+// number digits, style and type) but shorter: a cell that follows the
+// one before it without a gap is written without its reference (ref),
+// and a formula repeated down the Tranches sheet is written once per run
+// of rows as a shared formula (formulaRun). excelize writes the sheet
+// with the header and a placeholder row, and canonicalZip writes the rows
+// in the placeholder's place as it copies the archive, straight into its
 // compressor. Two ways:
 //
 //   - Book.rows runs a sheet's own row loop later, with a Table that
@@ -36,8 +40,8 @@ import (
 //     finite numbers; dates after 1900-02-28); otherwise the sheet goes
 //     through excelize as the others do.
 //
-// A test writes every sheet both ways and checks that they give the same
-// XML.
+// A test writes every sheet both ways and checks that they read back as
+// the same cells, through excelize and by the file format's rules.
 
 // slowSheets, set by a test, sends every sheet through excelize.
 var slowSheets = false
@@ -55,7 +59,7 @@ const placeholderTail = `</t></is></c></row>`
 // placeholder is the text of the placeholder cell of rows writer k.
 func placeholder(k int) string { return rowsToken + strconv.Itoa(k) }
 
-// fastRows writes a sheet's data rows, in the stream writer's form, to w.
+// fastRows writes a sheet's data rows, in the fast rows' form, to w.
 type fastRows func(w io.Writer) error
 
 // fastTable writes the data rows of table t with rows in place of
@@ -239,12 +243,16 @@ func plainDate(d Date) bool {
 
 func finite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
 
-// rowWriter appends rows in the stream writer's form to b, and hands
+// rowWriter appends rows in the fast rows' form to b, and hands
 // them to out in batches (flush).
 type rowWriter struct {
 	b   []byte
-	row []byte // the row number as text
-	out io.Writer
+	r   int    // the row being written
+	row []byte // its number as text
+	// next is the column a cell written without its reference stands in:
+	// the one after the row's last cell (ref).
+	next int
+	out  io.Writer
 	// dec is the decimals Book.roundCell keeps for each style (by ID),
 	// -1 for a style it leaves as it is.
 	dec []int8
@@ -273,7 +281,8 @@ func (w *rowWriter) start(r int, height float64) error {
 	if height > excelize.MaxRowHeight {
 		return excelize.ErrMaxRowHeight
 	}
-	w.row = strconv.AppendInt(w.row[:0], int64(r), 10)
+	w.r, w.row = r, strconv.AppendInt(w.row[:0], int64(r), 10)
+	w.next = 1
 	w.b = append(w.b, `<row r="`...)
 	w.b = append(w.b, w.row...)
 	w.b = append(w.b, '"')
@@ -305,7 +314,18 @@ func (w *rowWriter) flush() error {
 	return err
 }
 
+// ref gives the cell being begun its column: by its place alone when it
+// follows the row's last cell (its r attribute is optional, ECMA-376
+// Part 1, 18.3.1.4: a cell without one is the column after the cell
+// before it, the first the row's first column), else by its r attribute.
+// Every cell of a long sheet's rows is written in order, and the
+// reference was a sixth of the Tranches sheet's XML.
 func (w *rowWriter) ref(col int) {
+	if col == w.next {
+		w.next++
+		return
+	}
+	w.next = col + 1
 	w.b = append(w.b, ` r="`...)
 	w.b = appendColumn(w.b, col)
 	w.b = append(w.b, w.row...)
@@ -328,12 +348,28 @@ func appendColumn(b []byte, col int) []byte {
 }
 
 func (w *rowWriter) style(s int) {
-	if s > 0 {
+	if s > 0 && s < len(styleAttrs) {
+		w.b = append(w.b, styleAttrs[s]...)
+	} else if s > 0 {
 		w.b = append(w.b, ` s="`...)
 		w.b = strconv.AppendInt(w.b, int64(s), 10)
 		w.b = append(w.b, '"')
 	}
 }
+
+// styleAttrs are the s attributes of the first styles, and valueOpens
+// the beginnings of a value cell of each of them without a reference
+// (open): the sheets use a few dozen styles, and a large ledger's rows
+// tens of millions of cells.
+var styleAttrs, valueOpens = func() (attrs, opens [64]string) {
+	for s := range attrs {
+		if s > 0 {
+			attrs[s] = ` s="` + strconv.Itoa(s) + `"`
+		}
+		opens[s] = `<c` + attrs[s] + `><v>`
+	}
+	return
+}()
 
 // text is an inline string.
 func (w *rowWriter) text(col, s int, v string) {
@@ -347,6 +383,11 @@ func (w *rowWriter) text(col, s int, v string) {
 
 // open begins a cell holding a value (<v>).
 func (w *rowWriter) open(col, s int) {
+	if col == w.next && s >= 0 && s < len(valueOpens) {
+		w.next++
+		w.b = append(w.b, valueOpens[s]...)
+		return
+	}
 	w.b = append(w.b, `<c`...)
 	w.ref(col)
 	w.style(s)
@@ -419,27 +460,45 @@ func appendScaled(b *[]byte, v float64, d int, exact bool) bool {
 	if k < 0 {
 		*b = append(*b, '-')
 	}
-	scale := uint64(p)
-	*b = strconv.AppendUint(*b, u/scale, 10)
-	frac := u % scale
-	if frac == 0 {
-		return true
+	// The digits of u, at least d+1 of them (a zero before the point),
+	// from the last; then the whole part, and the decimals without their
+	// trailing zeros.
+	var tmp [24]byte
+	i, point := len(tmp), len(tmp)-d
+	for u >= 100 {
+		q := u / 100
+		r := 2 * (u - 100*q)
+		i -= 2
+		tmp[i], tmp[i+1] = digitPairs[r], digitPairs[r+1]
+		u = q
 	}
-	for frac%10 == 0 {
-		frac /= 10
-		d--
-	}
-	*b = append(*b, '.')
-	var tmp [16]byte
-	i := len(tmp)
-	for ; d > 0; d-- {
+	if u >= 10 {
+		i -= 2
+		tmp[i], tmp[i+1] = digitPairs[2*u], digitPairs[2*u+1]
+	} else {
 		i--
-		tmp[i] = byte('0' + frac%10)
-		frac /= 10
+		tmp[i] = byte('0' + u)
 	}
-	*b = append(*b, tmp[i:]...)
+	for i > point-1 {
+		i--
+		tmp[i] = '0'
+	}
+	*b = append(*b, tmp[i:point]...)
+	end := len(tmp)
+	for end > point && tmp[end-1] == '0' {
+		end--
+	}
+	if end > point {
+		*b = append(*b, '.')
+		*b = append(*b, tmp[point:end]...)
+	}
 	return true
 }
+
+// digitPairs are the numbers 00 to 99 as two digits each.
+const digitPairs = "00010203040506070809" + "10111213141516171819" + "20212223242526272829" + "30313233343536373839" +
+	"40414243444546474849" + "50515253545556575859" + "60616263646566676869" + "70717273747576777879" +
+	"80818283848586878889" + "90919293949596979899"
 
 // roundTo is Book.roundCell for a style of d decimals (d < 0: none).
 func roundTo(d int, v float64) float64 {
@@ -635,9 +694,19 @@ func trancheRows(b *Book, m *Model, from, n int) fastRows {
 	return func(out io.Writer) error {
 		s := b.Style
 		w := b.newRowWriter(out)
+		runs := formulaRuns(m, from, n)
+		var run formulaRun
 		row := 1
 		err := eachTranche(m, from, n, func(g *Grant, tr *Tranche) error {
 			row++
+			if row > run.last {
+				formulas := 3
+				if g.Instrument == RSU {
+					formulas = 1
+				}
+				run.begin(row, runs[0], formulas)
+				runs = runs[1:]
+			}
 			_ = w.start(row, 0)
 			w.text(1, s.Input, g.ID)
 			w.text(2, s.Input, g.Holder)
@@ -661,11 +730,11 @@ func trancheRows(b *Book, m *Model, from, n int) fastRows {
 			w.float(20, s.Percent, tr.SimplifiedRate)
 			w.float(21, s.MoneyPerShare, tr.BSMSimplifiedValue)
 			if g.Instrument == RSU {
-				w.template(24, s.MoneyPerShare, bsmRSU)
+				w.shared(24, s.MoneyPerShare, bsmRSU, &run, 0)
 			} else {
-				w.template(22, s.Number, bsmD1)
-				w.template(23, s.Number, bsmD2)
-				w.template(24, s.MoneyPerShare, bsmValue)
+				w.shared(22, s.Number, bsmD1, &run, 0)
+				w.shared(23, s.Number, bsmD2, &run, 1)
+				w.shared(24, s.MoneyPerShare, bsmValue, &run, 2)
 			}
 			w.float(25, s.MoneyPerShare, tr.FairValuePerShare-tr.BSMSimplifiedValue)
 			w.float(26, s.Money, tr.FairValueTotal)
@@ -678,6 +747,78 @@ func trancheRows(b *Book, m *Model, from, n int) fastRows {
 	}
 }
 
+// A formula repeated down a column is written once, as a shared formula
+// (ECMA-376 Part 1, 18.3.1.40): the first cell of a run of rows holds its
+// text, a number (si) and the range of cells that share it (ref); each
+// cell below holds only the number, and its formula is the first one's
+// with the references moved down by as many rows (relative references,
+// 18.17.2.3). A Tranches row's three formulas were a fifth of its XML.
+
+// formulaRun is a run of consecutive Tranches rows whose grants take the
+// same formulas (RSU or not), each of which the run shares.
+type formulaRun struct {
+	first, last int // the run's rows
+	base        int // the number of the run's first shared formula
+	next        int // the number of the sheet's next shared formula
+}
+
+// begin starts a run of n rows at row with k formulas a row; a run of one
+// row shares nothing.
+func (r *formulaRun) begin(row, n, k int) {
+	r.first, r.last, r.base = row, row+n-1, r.next
+	if n > 1 {
+		r.next += k
+	}
+}
+
+// formulaRuns are the lengths of the runs of consecutive rows among n
+// tranches from the from-th (eachTranche) whose grants take the same
+// formulas.
+func formulaRuns(m *Model, from, n int) []int {
+	var runs []int
+	last := false
+	_ = eachTranche(m, from, n, func(g *Grant, _ *Tranche) error {
+		rsu := g.Instrument == RSU
+		if len(runs) == 0 || rsu != last {
+			runs = append(runs, 0)
+			last = rsu
+		}
+		runs[len(runs)-1]++
+		return nil
+	})
+	return runs
+}
+
+// shared writes the formula of template f (rowFormula) at column col of
+// the row being written, as the k-th shared formula of run.
+func (w *rowWriter) shared(col, s int, f rowFormula, run *formulaRun, k int) {
+	if run.first == run.last {
+		w.template(col, s, f)
+		return
+	}
+	w.b = append(w.b, `<c`...)
+	w.ref(col)
+	w.style(s)
+	w.b = append(w.b, ` t="str"><f t="shared"`...)
+	if w.r != run.first {
+		w.b = append(w.b, ` si="`...)
+		w.b = strconv.AppendInt(w.b, int64(run.base+k), 10)
+		w.b = append(w.b, `"/></c>`...)
+		return
+	}
+	w.b = append(w.b, ` ref="`...)
+	w.b = appendColumn(w.b, col)
+	w.b = append(w.b, w.row...)
+	w.b = append(w.b, ':')
+	w.b = appendColumn(w.b, col)
+	w.b = strconv.AppendInt(w.b, int64(run.last), 10)
+	w.b = append(w.b, `" si="`...)
+	w.b = strconv.AppendInt(w.b, int64(run.base+k), 10)
+	w.b = append(w.b, `">`...)
+	w.appendTemplate(f)
+	w.b = append(w.b, `</f></c>`...)
+}
+
 // template writes the formula of template f (rowFormula) on the row
 // being written.
 func (w *rowWriter) template(col, s int, f rowFormula) {
@@ -685,11 +826,16 @@ func (w *rowWriter) template(col, s int, f rowFormula) {
 	w.ref(col)
 	w.style(s)
 	w.b = append(w.b, ` t="str"><f>`...)
+	w.appendTemplate(f)
+	w.b = append(w.b, `</f></c>`...)
+}
+
+// appendTemplate appends template f's formula on the row being written.
+func (w *rowWriter) appendTemplate(f rowFormula) {
 	for i, part := range f {
 		if i > 0 {
 			w.b = append(w.b, w.row...)
 		}
 		w.b = append(w.b, part...)
 	}
-	w.b = append(w.b, `</f></c>`...)
 }

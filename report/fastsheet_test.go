@@ -3,9 +3,13 @@ package report
 import (
 	"archive/zip"
 	"bytes"
+	"encoding/xml"
+	"fmt"
 	"io"
 	"math"
 	"math/rand/v2"
+	"slices"
+	"strconv"
 	"strings"
 	"testing"
 	"time"
@@ -51,8 +55,8 @@ func zipEntries(t *testing.T, b []byte) map[string][]byte {
 	return out
 }
 
-// The Tranches rows written apart are the bytes excelize's stream writer
-// writes: every entry of the workbook inflates to the same XML both ways.
+// The Tranches rows written apart read back as the cells excelize's
+// stream writer writes: every cell's value, formula, style and type.
 func TestFastTrancheRowsMatchExcelize(t *testing.T) {
 	m := fixture() // its holders include a formula-like code and non-Latin letters
 	for i := range m.Grants {
@@ -75,9 +79,53 @@ func TestFastTrancheRowsMatchExcelize(t *testing.T) {
 	sameBothWays(t, "", m)
 }
 
-// sameBothWays checks that m's workbook is the same XML written with the
-// fast rows and through excelize, entry by entry, with no placeholder
-// left.
+// Runs of the formulas' rows of every length: RSUs and options of one
+// tranche and of several, one after the other, alone and in runs, the
+// runs cut where a sheet ends (the Tranches sheet continued).
+func TestFastTrancheFormulaRuns(t *testing.T) {
+	m := fixture()
+	var opt, rsu Grant
+	for _, g := range m.Grants {
+		if g.Instrument == RSU {
+			rsu = g
+		} else if len(g.Tranches) > 1 {
+			opt = g
+		}
+	}
+	if rsu.ID == "" || opt.ID == "" {
+		t.Fatal("the fixture has no RSU or no option of several tranches")
+	}
+	// o: an option, r: an RSU; the digit is its tranches.
+	m.Grants = nil
+	for i, k := range strings.Fields("o1 r1 o1 o1 r1 r1 o3 r2 o1 r3 o2 o2 r1") {
+		g := opt
+		if k[0] == 'r' {
+			g = rsu
+		}
+		g.ID = fmt.Sprintf("%s-%02d", g.ID, i)
+		g.Tranches = append([]Tranche(nil), g.Tranches...)
+		for len(g.Tranches) < int(k[1]-'0') {
+			g.Tranches = append(g.Tranches, g.Tranches[0])
+		}
+		g.Tranches = g.Tranches[:k[1]-'0']
+		m.Grants = append(m.Grants, g)
+	}
+	Summarize(m)
+	if !trancheRowsPlain(m) {
+		t.Fatal("the test model does not take the fast rows")
+	}
+	sameBothWays(t, "", m)
+	for _, limit := range []int{2, 3, 5} {
+		lowerRowLimit(t, limit)
+		sameBothWays(t, "limit "+strconv.Itoa(limit)+": ", m)
+	}
+}
+
+// sameBothWays checks that m's workbook written with the fast rows reads
+// back as the one written through excelize: every entry that is not a
+// worksheet the same bytes; every worksheet the same XML around its
+// rows, no placeholder left, and through excelize the same cells (value,
+// formula, style and type) and row heights.
 func sameBothWays(t *testing.T, label string, m *Model) {
 	t.Helper()
 	fast, slow := renderBothWays(t, m)
@@ -85,9 +133,17 @@ func sameBothWays(t *testing.T, label string, m *Model) {
 		t.Fatalf("%s%d entries fast, %d through excelize", label, len(fast), len(slow))
 	}
 	for name, want := range slow {
-		got := fast[name]
+		got, ok := fast[name]
+		if !ok {
+			t.Errorf("%s%s missing from the fast workbook", label, name)
+			continue
+		}
 		if bytes.Contains(got, []byte(rowsToken)) {
 			t.Errorf("%s%s still holds the placeholder", label, name)
+		}
+		if strings.HasPrefix(name, "xl/worksheets/") {
+			checkSharedFormulas(t, label+name, got)
+			got, want = aroundRows(got), aroundRows(want)
 		}
 		if !bytes.Equal(got, want) {
 			i := 0
@@ -98,11 +154,217 @@ func sameBothWays(t *testing.T, label string, m *Model) {
 			t.Errorf("%s%s differs at byte %d:\n fast: %q\nslow: %q", label, name, i, got[lo:min(len(got), i+120)], want[lo:min(len(want), i+120)])
 		}
 	}
+	sameCells(t, label, zipBytes(t, fast), zipBytes(t, slow))
+}
+
+// aroundRows is a worksheet's XML without the rows of its sheetData.
+func aroundRows(x []byte) []byte {
+	i, j := bytes.Index(x, []byte("<sheetData>")), bytes.Index(x, []byte("</sheetData>"))
+	if i < 0 || j < i {
+		return x
+	}
+	return append(append([]byte(nil), x[:i]...), x[j:]...)
+}
+
+// zipBytes is a zip archive of entries.
+func zipBytes(t *testing.T, entries map[string][]byte) []byte {
+	t.Helper()
+	var buf bytes.Buffer
+	zw := zip.NewWriter(&buf)
+	for name, b := range entries {
+		w, err := zw.Create(name)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if _, err := w.Write(b); err != nil {
+			t.Fatal(err)
+		}
+	}
+	if err := zw.Close(); err != nil {
+		t.Fatal(err)
+	}
+	return buf.Bytes()
+}
+
+// sameCells checks, through excelize, that two workbooks have the same
+// sheets, dimensions, row heights and cells: every cell's raw value,
+// formula, style and type.
+func sameCells(t *testing.T, label string, got, want []byte) {
+	t.Helper()
+	open := func(b []byte) *excelize.File {
+		f, err := excelize.OpenReader(bytes.NewReader(b))
+		if err != nil {
+			t.Fatal(err)
+		}
+		t.Cleanup(func() { f.Close() })
+		return f
+	}
+	g, w := open(got), open(want)
+	sheets := w.GetSheetList()
+	if gs := g.GetSheetList(); !slices.Equal(gs, sheets) {
+		t.Fatalf("%ssheets %q, want %q", label, gs, sheets)
+	}
+	cells := 0
+	for _, sh := range sheets {
+		gd, _ := g.GetSheetDimension(sh)
+		wd, err := w.GetSheetDimension(sh)
+		if err != nil || gd != wd {
+			t.Errorf("%s%s: dimension %q, want %q (%v)", label, sh, gd, wd, err)
+			continue
+		}
+		_, last, _ := strings.Cut(wd, ":")
+		cols, rows, err := excelize.CellNameToCoordinates(last)
+		if err != nil {
+			t.Fatalf("%s%s: dimension %q: %v", label, sh, wd, err)
+		}
+		for r := 1; r <= rows; r++ {
+			gh, _ := g.GetRowHeight(sh, r)
+			wh, _ := w.GetRowHeight(sh, r)
+			if gh != wh {
+				t.Errorf("%s%s row %d: height %v, want %v", label, sh, r, gh, wh)
+			}
+			for c := 1; c <= cols; c++ {
+				cell, _ := excelize.CoordinatesToCellName(c, r)
+				if a, b := cellOf(t, g, sh, cell), cellOf(t, w, sh, cell); a != b {
+					t.Errorf("%s%s!%s: %+v, want %+v", label, sh, cell, a, b)
+				}
+				cells++
+			}
+		}
+	}
+	if cells == 0 {
+		t.Errorf("%sno cells compared", label)
+	}
+}
+
+// sheetCell is a cell of a worksheet's XML with its place.
+type sheetCell struct {
+	col, row int
+	f        *struct {
+		T    string `xml:"t,attr"`
+		Ref  string `xml:"ref,attr"`
+		Si   *int   `xml:"si,attr"`
+		Text string `xml:",chardata"`
+	}
+}
+
+// sheetCells reads the cells of a worksheet's XML in order, each at its
+// place: a row or cell without its r attribute is the one after the
+// row or cell before it (ECMA-376 Part 1, 18.3.1.73 and 18.3.1.4), the
+// first the sheet's first row or the row's first column.
+func sheetCells(t *testing.T, name string, x []byte) []sheetCell {
+	t.Helper()
+	type cellXML struct {
+		R string `xml:"r,attr"`
+		F *struct {
+			T    string `xml:"t,attr"`
+			Ref  string `xml:"ref,attr"`
+			Si   *int   `xml:"si,attr"`
+			Text string `xml:",chardata"`
+		} `xml:"f"`
+	}
+	var ws struct {
+		Rows []struct {
+			R     int       `xml:"r,attr"`
+			Cells []cellXML `xml:"c"`
+		} `xml:"sheetData>row"`
+	}
+	if err := xml.Unmarshal(x, &ws); err != nil {
+		t.Fatalf("%s: %v", name, err)
+	}
+	var out []sheetCell
+	row := 0
+	for _, r := range ws.Rows {
+		if row++; r.R != 0 {
+			if r.R < row {
+				t.Fatalf("%s: row %d after row %d", name, r.R, row-1)
+			}
+			row = r.R
+		}
+		col := 0
+		for _, c := range r.Cells {
+			if col++; c.R != "" {
+				cc, rr, err := excelize.CellNameToCoordinates(c.R)
+				if err != nil || rr != row || cc < col {
+					t.Fatalf("%s: cell %s after column %d of row %d (%v)", name, c.R, col-1, row, err)
+				}
+				col = cc
+			}
+			out = append(out, sheetCell{col: col, row: row, f: c.F})
+		}
+	}
+	return out
+}
+
+// checkSharedFormulas checks the shared formulas of a worksheet's XML
+// (ECMA-376 Part 1, 18.3.1.40): each is given once, with its text and a
+// range (ref) that is exactly the cells of one column that refer to it,
+// all of them below the one that gives it, rows one after the other.
+func checkSharedFormulas(t *testing.T, name string, x []byte) {
+	t.Helper()
+	type use struct {
+		ref         string
+		first, last int // rows
+		col, n      int
+	}
+	shared := map[int]*use{}
+	for _, c := range sheetCells(t, name, x) {
+		if c.f == nil || c.f.T != "shared" {
+			continue
+		}
+		if c.f.Si == nil {
+			t.Errorf("%s: a shared formula at column %d row %d without si", name, c.col, c.row)
+			continue
+		}
+		u := shared[*c.f.Si]
+		if c.f.Ref != "" {
+			if u != nil || c.f.Text == "" {
+				t.Errorf("%s: shared formula %d given twice or without its text", name, *c.f.Si)
+			}
+			shared[*c.f.Si] = &use{ref: c.f.Ref, first: c.row, last: c.row, col: c.col, n: 1}
+			continue
+		}
+		if u == nil || c.f.Text != "" || c.col != u.col || c.row != u.last+1 {
+			t.Errorf("%s: column %d row %d refers to shared formula %d out of place (%+v)", name, c.col, c.row, *c.f.Si, u)
+			continue
+		}
+		u.last, u.n = c.row, u.n+1
+	}
+	for si, u := range shared {
+		a, _ := excelize.CoordinatesToCellName(u.col, u.first)
+		b, _ := excelize.CoordinatesToCellName(u.col, u.last)
+		if u.ref != a+":"+b || u.n < 2 {
+			t.Errorf("%s: shared formula %d has range %s, used by %d cells from %s to %s", name, si, u.ref, u.n, a, b)
+		}
+	}
+}
+
+// readCell is what a reader sees of a cell.
+type readCell struct {
+	Value, Formula string
+	Style          int
+	Type           excelize.CellType
+}
+
+func cellOf(t *testing.T, f *excelize.File, sheet, cell string) readCell {
+	t.Helper()
+	var c readCell
+	var err [4]error
+	c.Value, err[0] = f.GetCellValue(sheet, cell, excelize.Options{RawCellValue: true})
+	c.Formula, err[1] = f.GetCellFormula(sheet, cell)
+	c.Style, err[2] = f.GetCellStyle(sheet, cell)
+	c.Type, err[3] = f.GetCellType(sheet, cell)
+	for _, e := range err {
+		if e != nil {
+			t.Fatalf("%s!%s: %v", sheet, cell, e)
+		}
+	}
+	return c
 }
 
 // Every sheet whose rows Book.rows writes apart (Assumptions, Grants,
 // Condition values; the expense sheets are checked with the expense
-// model) is the XML excelize writes, with
+// model) reads back as the cells excelize writes, with
 // awkward text and numbers in every column of the Assumptions and Grants
 // sheets: values of every kind, a missing grant and date, a wrapped tall
 // row, a text longer than a cell holds, numbers that are not finite or

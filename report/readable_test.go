@@ -365,7 +365,6 @@ func sheetXML(t *testing.T, m *Model) map[string]string {
 // Every sheet declares the range its cells fill, so that readers in
 // streaming mode see the data (issue 14: every sheet said A1).
 func TestWorkbookDimensions(t *testing.T) {
-	cellRef := regexp.MustCompile(`<c r="([A-Z]+)([0-9]+)"`)
 	for _, m := range []*Model{fixture(), expenseModelFor(t, expenseSchedule())} {
 		for name, x := range sheetXML(t, m) {
 			dim := regexp.MustCompile(`<dimension ref="([^"]*)"`).FindStringSubmatch(x)
@@ -374,10 +373,8 @@ func TestWorkbookDimensions(t *testing.T) {
 				continue
 			}
 			maxCol, maxRow := 0, 0
-			for _, c := range cellRef.FindAllStringSubmatch(x, -1) {
-				col, _ := excelize.ColumnNameToNumber(c[1])
-				row, _ := strconv.Atoi(c[2])
-				maxCol, maxRow = max(maxCol, col), max(maxRow, row)
+			for _, c := range sheetCells(t, name, []byte(x)) {
+				maxCol, maxRow = max(maxCol, c.col), max(maxRow, c.row)
 			}
 			want, _ := excelize.CoordinatesToCellName(maxCol, maxRow)
 			if dim[1] != "A1:"+want {

@@ -34,7 +34,7 @@ func plainExpenseModel(t *testing.T) *Model {
 	return m
 }
 
-// The Expense rows written apart are the bytes excelize writes, on one
+// The Expense rows written apart read back as the cells excelize writes, on one
 // sheet and continued on several.
 func TestFastExpenseRowsMatchExcelize(t *testing.T) {
 	m := plainExpenseModel(t)

@@ -674,20 +674,69 @@ func groupRow(b *Book, t *Table, g Group) error {
 
 // valueCell formats an assumption's value by its kind.
 func (b *Book) valueCell(a Assumption) any {
-	switch a.Kind {
-	case KindPercent:
-		return b.Cell(b.Style.Percent, a.Value)
-	case KindMoney:
-		return b.Cell(b.Style.PerShareTagged, a.Value) // a column of every kind of value: the cell says its currency
-	case KindYears:
-		return b.Cell(b.Style.Years, a.Value)
-	case KindNumber:
-		if a.Value == math.Trunc(a.Value) && math.Abs(a.Value) < 1e15 {
-			return b.Cell(b.Style.Int, int64(a.Value)) // a whole number (shares): no decimals
-		}
-		return b.Cell(b.Style.Number, a.Value)
+	switch style, kind := b.valueKind(a); kind {
+	case valueWhole:
+		return b.Cell(style, int64(a.Value))
+	case valueNumber:
+		return b.Cell(style, a.Value)
 	}
 	return b.Text(a.Text)
+}
+
+// The kinds of an assumption's Value cell.
+const (
+	valueText   = iota // its text
+	valueWhole         // a whole number (shares): no decimals
+	valueNumber        // a number rounded by its style
+)
+
+// valueKind is the style and kind of assumption a's Value cell.
+func (b *Book) valueKind(a Assumption) (style, kind int) {
+	switch a.Kind {
+	case KindPercent:
+		return b.Style.Percent, valueNumber
+	case KindMoney:
+		return b.Style.PerShareTagged, valueNumber // a column of every kind of value: the cell says its currency
+	case KindYears:
+		return b.Style.Years, valueNumber
+	case KindNumber:
+		if a.Value == math.Trunc(a.Value) && math.Abs(a.Value) < 1e15 {
+			return b.Style.Int, valueWhole
+		}
+		return b.Style.Number, valueNumber
+	}
+	return b.Style.Input, valueText
+}
+
+// assumptionRow writes on the fast rows (w) the cells of an Assumptions
+// row that writeAssumptions gives Table.Row, without boxing each into an
+// interface value: the sheet has a row per input of every grant.
+func (b *Book) assumptionRow(w *rowWriter, row int, height float64, grant string, a Assumption, srcStyle int) error {
+	if err := w.start(row, height); err != nil {
+		return err
+	}
+	in := b.Style.Input
+	w.text(1, in, grant)
+	w.text(2, in, a.Name)
+	switch style, kind := b.valueKind(a); kind {
+	case valueWhole:
+		w.int(3, style, int64(a.Value))
+	case valueNumber:
+		if finite(a.Value) {
+			w.float(3, style, a.Value)
+		} else {
+			w.text(3, style, fmt.Sprint(a.Value)) // as rowWriter.cell writes it
+		}
+	default:
+		w.text(3, style, a.Text)
+	}
+	w.text(4, in, a.Text)
+	w.text(5, in, a.Ref)
+	if err := w.cell(6, b.DateCell(a.EffectiveDate)); err != nil {
+		return err
+	}
+	w.text(7, srcStyle, a.Source)
+	return w.end()
 }
 
 func writeAssumptions(b *Book, m *Model) error {
@@ -714,9 +763,7 @@ func writeAssumptions(b *Book, m *Model) error {
 				if grant == "" {
 					grant = "(all)"
 				}
-				src := b.Text(a.Source)
-				cells[0], cells[1], cells[2], cells[3], cells[4], cells[5], cells[6] =
-					b.Text(grant), b.Text(a.Name), b.valueCell(a), b.Text(a.Text), b.Text(a.Ref), b.DateCell(a.EffectiveDate), src
+				src, height := b.Text(a.Source), 0.0
 				if n := utf8.RuneCountInString(a.Source); float64(n) > cols[6].Width-2 {
 					// Wrapped, in a row as tall as its lines: spreadsheet
 					// programs do not all fit a row's height to wrapped
@@ -724,13 +771,18 @@ func writeAssumptions(b *Book, m *Model) error {
 					// format's limit); a longer source is shown in part,
 					// the rest a click away.
 					src.StyleID = b.Style.WrapInput
-					cells[6] = src
-					if err := t.TallRow(min(excelize.MaxRowHeight, 15*math.Ceil(float64(n)/(cols[6].Width-4))), cells...); err != nil {
+					height = min(excelize.MaxRowHeight, 15*math.Ceil(float64(n)/(cols[6].Width-4)))
+				}
+				if t.fast != nil {
+					t.row++
+					if err := b.assumptionRow(t.fast, t.row, height, grant, a, src.StyleID); err != nil {
 						return err
 					}
 					continue
 				}
-				if err := t.Row(cells...); err != nil {
+				cells[0], cells[1], cells[2], cells[3], cells[4], cells[5], cells[6] =
+					b.Text(grant), b.Text(a.Name), b.valueCell(a), b.Text(a.Text), b.Text(a.Ref), b.DateCell(a.EffectiveDate), src
+				if err := t.TallRow(height, cells...); err != nil {
 					return err
 				}
 			}
