@@ -41,11 +41,17 @@ var sinkBooks *Books
 // monthly vesting (48 tranches each) at a quarter end, as a first close
 // and after a prior close (the reconciliation's views of every award
 // included), to show what following a prior costs.
-func BenchmarkClosePrior(b *testing.B) {
+func BenchmarkClosePrior(b *testing.B) { benchClose(b, 2000) }
+
+// BenchmarkClose10000 is BenchmarkClosePrior at the 10,000 grants DESIGN
+// §5 sets for the end-to-end run.
+func BenchmarkClose10000(b *testing.B) { benchClose(b, 10000) }
+
+func benchClose(b *testing.B, n int) {
 	s := oneOption("2026-06-30", Policy{Attribution: grants.Graded, Forfeitures: grants.Estimate, PreVestingForfeitureRate: 0.1})
 	g0 := s.Grants[0]
 	s.Grants = nil
-	for i := 0; i < 2000; i++ {
+	for i := 0; i < n; i++ {
 		g := g0
 		g.ID = fmt.Sprintf("B%05d", i)
 		g.GrantDate = ymd("2022-01-01").AddDate(0, 0, i%1500)
