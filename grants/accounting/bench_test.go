@@ -61,6 +61,7 @@ func benchClose(b *testing.B, n int) {
 			s.Events = append(s.Events, grants.Event{GrantID: g.ID, Date: g.GrantDate.AddDate(1, 6, 0), Kind: grants.Forfeited, Shares: 600})
 		}
 	}
+	s.Reindex() // as the reader does
 	fv := func(grants.Grant, int) float64 { return 3 }
 	v := fakeValuation(s, fv, nil)
 	first, err := Close(s, v, nil)

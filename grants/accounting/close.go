@@ -72,12 +72,24 @@ func Close(s *grants.Schedule, v *pricing.Valuation, prior *Prior) (*Books, erro
 	b.Warnings = append(b.Warnings, rep.Warnings...)
 	var catchUps []CatchUp
 	if prior != nil {
-		var sts []grantStates // of the compensation ledgers, as rep.Grants
-		for _, l := range p.ledgers {
-			if !l.financing {
-				sts = append(sts, p.states(l, prior))
-			}
+		sts := make([]grantStates, 0, len(rep.Grants)) // of the compensation ledgers, as rep.Grants
+		prior.index()                                  // before the workers look grants up in it
+		type state struct {
+			st grantStates
+			ok bool
 		}
+		inOrder(len(p.ledgers), workersFor(len(p.ledgers)), func(i int, sc *ledgerScratch, r *state) {
+			l := p.ledgers[i]
+			*r = state{}
+			if !l.financing {
+				l.scratch = sc
+				r.st, r.ok = p.states(l, prior), true
+			}
+		}, func(_ int, r *state) {
+			if r.ok {
+				sts = append(sts, r.st)
+			}
+		})
 		if b.Reconciliation, err = p.reconcile(prior, sts, rep, disc, s, v); err != nil {
 			return nil, fmt.Errorf("reconciliation to the prior close: %w", err)
 		}
@@ -105,7 +117,7 @@ func Close(s *grants.Schedule, v *pricing.Valuation, prior *Prior) (*Books, erro
 // valuation date only, with a warning.
 func AwardsOf(s *grants.Schedule, v *pricing.Valuation) ([]Award, []string, error) {
 	_, end := s.Period()
-	var awards []Award
+	awards := make([]Award, 0, len(v.Grants))
 	var warns []string
 	for i := range v.Grants {
 		gv := &v.Grants[i]
