@@ -117,9 +117,17 @@ func Close(s *grants.Schedule, v *pricing.Valuation, prior *Prior) (*Books, erro
 // valuation date only, with a warning.
 func AwardsOf(s *grants.Schedule, v *pricing.Valuation) ([]Award, []string, error) {
 	_, end := s.Period()
-	awards := make([]Award, 0, len(v.Grants))
+	awards := make([]Award, len(v.Grants))
 	var warns []string
-	for i := range v.Grants {
+	var first error
+	type made struct {
+		warn string
+		err  error
+	}
+	// Each grant's award is its own (awards[i], from v.Grants[i]); the
+	// warnings and the first error go in grant order.
+	inOrder(len(v.Grants), workersFor(len(v.Grants)), func(i int, _ *ledgerScratch, m *made) {
+		*m = made{}
 		gv := &v.Grants[i]
 		g := gv.Inputs.Grant
 		fv := make([]float64, len(gv.Results))
@@ -137,7 +145,8 @@ func AwardsOf(s *grants.Schedule, v *pricing.Valuation) ([]Award, []string, erro
 		}
 		a, err := awardOf(s, g, gv.Inputs.Tranches, fv)
 		if err != nil {
-			return nil, nil, fmt.Errorf("expense: %w", err)
+			m.err = fmt.Errorf("expense: %w", err)
+			return
 		}
 		a.Condition = ConditionOf(s, gv, end)
 		if shares > 0 {
@@ -145,11 +154,19 @@ func AwardsOf(s *grants.Schedule, v *pricing.Valuation) ([]Award, []string, erro
 				DividendYield: gv.Inputs.DividendYield.Value, ExpectedTermYears: term / shares}
 		}
 		if g.IsLiability() {
-			if w := remeasure(&a, fv, end, v.Revaluations[g.ID]); w != "" {
-				warns = append(warns, w)
-			}
+			m.warn = remeasure(&a, fv, end, v.Revaluations[g.ID])
 		}
-		awards = append(awards, a)
+		awards[i] = a
+	}, func(_ int, m *made) {
+		if m.err != nil && first == nil {
+			first = m.err
+		}
+		if m.warn != "" {
+			warns = append(warns, m.warn)
+		}
+	})
+	if first != nil {
+		return nil, nil, first
 	}
 	if err := modifiedOf(awards, v); err != nil {
 		return nil, nil, err

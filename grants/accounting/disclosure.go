@@ -337,20 +337,18 @@ func (a Activity) weighted() Activity {
 // net of those forfeited or cancelled before vesting, at their fair value
 // (a tranche vesting before its grant date vests on the grant date).
 func vested(l *awardLedger, a *Activity, start, end time.Time) {
-	g := l.in.Grant
-	for i, t := range l.tr {
-		ev := t.vestDate()
-		if ev.Before(g.GrantDate) {
-			ev = g.GrantDate
-		}
-		if !dayOnOrAfter(ev, start) || !dayOnOrBefore(ev, end) {
+	startN, endN := dayNum(start), dayNum(end)
+	for i := range l.tr {
+		t := &l.tr[i]
+		ev := max(int(t.vestN), l.grantN) // the day it vests
+		if ev < startN || ev > endN {
 			continue
 		}
-		c := t.countsAt(ev)
+		c := t.countsN(ev)
 		n := c.live(t.Tranche.Shares)
 		fv := t.FairValue
 		if l.liability {
-			fv = l.fairValueAt(i, dayNum(ev))
+			fv = l.fairValueAt(i, ev)
 		}
 		a.Vested += n
 		a.FairValueVested += float64(n) * fv
