@@ -2,8 +2,11 @@ package accounting
 
 import (
 	"fmt"
-	"grantworth/grants"
 	"testing"
+
+	"grantworth/grants"
+	"grantworth/grants/pricing"
+	"grantworth/valuation"
 )
 
 var sinkReport *ExpenseReport
@@ -100,4 +103,25 @@ func reportCPU(b *testing.B, c0 float64) {
 	if c0 > 0 && b.N > 0 {
 		b.ReportMetric((cpuSeconds()-c0)/float64(b.N), "cpu-s/op")
 	}
+}
+
+var sinkLocks map[string]pricing.Lock
+
+// BenchmarkLocks makes the locks of a prior close of 10,000 grants of 48
+// tranches each, as a rerun does before it values anything.
+func BenchmarkLocks(b *testing.B) {
+	p := &Prior{ValuationDate: ymd("2026-09-30")}
+	for i := 0; i < 10000; i++ {
+		pg := PriorGrant{ID: fmt.Sprintf("B%05d", i), Instrument: grants.Option, Status: pricing.Locked}
+		for k := 1; k <= 48; k++ {
+			pg.Tranches = append(pg.Tranches, PriorTranche{Index: k, VestDate: ymd("2022-01-01").AddDate(0, k, 0), Shares: 100, Result: valuation.Result{Value: 3}})
+		}
+		p.Grants = append(p.Grants, pg)
+	}
+	b.ReportAllocs()
+	c0 := cpuSeconds()
+	for b.Loop() {
+		sinkLocks = p.Locks()
+	}
+	reportCPU(b, c0)
 }

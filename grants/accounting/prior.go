@@ -236,7 +236,8 @@ func (p *Prior) Locks() map[string]pricing.Lock {
 		return nil
 	}
 	out := make(map[string]pricing.Lock, len(p.Grants))
-	for _, pg := range p.Grants {
+	for i := range p.Grants {
+		pg := &p.Grants[i]
 		lk := pricing.Lock{Close: p.ValuationDate, Liability: pg.Liability, MeasurementDate: pg.MeasurementDate, ExpiryDate: pg.ExpiryDate, Inputs: pg.Inputs, Key: pg.ValuationKey,
 			Modifications: pg.Modifications, Measured: pg.Status == pricing.Measured || pg.Status == pricing.Corrected}
 		if pg.Liability {
@@ -250,7 +251,8 @@ func (p *Prior) Locks() map[string]pricing.Lock {
 			if len(pg.Tranches) > 0 {
 				lk.Tranches = make([]pricing.LockedTranche, 0, len(pg.Tranches))
 			}
-			for _, t := range pg.Tranches {
+			for k := range pg.Tranches {
+				t := &pg.Tranches[k]
 				lk.Tranches = append(lk.Tranches, pricing.LockedTranche{VestDate: t.VestDate, Result: t.Result, BSM: t.BSM,
 					RiskFreeRate: t.RiskFreeRate, SimplifiedRate: t.SimplifiedRate})
 			}
