@@ -698,6 +698,16 @@ func maxDay(a, b time.Time) time.Time {
 func (l *awardLedger) periodAmounts(pol Policy, ends []time.Time, buf, comp, fv []float64) ([]float64, []float64) {
 	var prevComp, prevFV float64
 	for _, e := range ends {
+		if dayNum(e) < l.grantN {
+			// Before the grant date an award has no cost and no liability
+			// (atView, atLayered; no event is dated before it, apply), and
+			// so had none at the ends before: what at would give, 0 − 0.
+			comp = append(comp, 0)
+			if l.financing {
+				fv = append(fv, 0)
+			}
+			continue
+		}
 		cur := l.atInto(pol, e, e, buf)
 		c := cur.compTotal()
 		comp = append(comp, c-prevComp)
