@@ -117,7 +117,10 @@ func Close(s *grants.Schedule, v *pricing.Valuation, prior *Prior) (*Books, erro
 // valuation date only, with a warning.
 func AwardsOf(s *grants.Schedule, v *pricing.Valuation) ([]Award, []string, error) {
 	_, end := s.Period()
-	awards := make([]Award, len(v.Grants))
+	var awards []Award // nil for none, as ever
+	if len(v.Grants) > 0 {
+		awards = make([]Award, len(v.Grants))
+	}
 	var warns []string
 	var first error
 	type made struct {

@@ -505,7 +505,15 @@ func (p *period) expense() *ExpenseReport {
 	if p.prior != nil {
 		p.prior.index() // before the workers look grants up in it
 	}
-	rep.Grants = make([]GrantExpense, 0, len(ledgers))
+	compensation := 0
+	for _, l := range ledgers {
+		if !l.financing {
+			compensation++
+		}
+	}
+	if compensation > 0 { // nil for none, as ever
+		rep.Grants = make([]GrantExpense, 0, compensation)
+	}
 	var wYears float64
 	inOrder(len(ledgers), workersFor(len(ledgers)), func(i int, sc *ledgerScratch, r *grantResult) {
 		l := ledgers[i]
