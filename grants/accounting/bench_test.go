@@ -2,8 +2,11 @@ package accounting
 
 import (
 	"fmt"
-	"grantworth/grants"
 	"testing"
+
+	"grantworth/grants"
+	"grantworth/grants/pricing"
+	"grantworth/valuation"
 )
 
 var sinkReport *ExpenseReport
@@ -41,11 +44,17 @@ var sinkBooks *Books
 // monthly vesting (48 tranches each) at a quarter end, as a first close
 // and after a prior close (the reconciliation's views of every award
 // included), to show what following a prior costs.
-func BenchmarkClosePrior(b *testing.B) {
+func BenchmarkClosePrior(b *testing.B) { benchClose(b, 2000) }
+
+// BenchmarkClose10000 is BenchmarkClosePrior at the 10,000 grants DESIGN
+// §5 sets for the end-to-end run.
+func BenchmarkClose10000(b *testing.B) { benchClose(b, 10000) }
+
+func benchClose(b *testing.B, n int) {
 	s := oneOption("2026-06-30", Policy{Attribution: grants.Graded, Forfeitures: grants.Estimate, PreVestingForfeitureRate: 0.1})
 	g0 := s.Grants[0]
 	s.Grants = nil
-	for i := 0; i < 2000; i++ {
+	for i := 0; i < n; i++ {
 		g := g0
 		g.ID = fmt.Sprintf("B%05d", i)
 		g.GrantDate = ymd("2022-01-01").AddDate(0, 0, i%1500)
@@ -55,6 +64,7 @@ func BenchmarkClosePrior(b *testing.B) {
 			s.Events = append(s.Events, grants.Event{GrantID: g.ID, Date: g.GrantDate.AddDate(1, 6, 0), Kind: grants.Forfeited, Shares: 600})
 		}
 	}
+	s.Reindex() // as the reader does
 	fv := func(grants.Grant, int) float64 { return 3 }
 	v := fakeValuation(s, fv, nil)
 	first, err := Close(s, v, nil)
@@ -67,18 +77,51 @@ func BenchmarkClosePrior(b *testing.B) {
 	vn := fakeValuation(&next, fv, prior)
 	b.Run("first", func(b *testing.B) {
 		b.ReportAllocs()
+		c0 := cpuSeconds()
 		for b.Loop() {
 			if sinkBooks, err = Close(&next, vn, nil); err != nil {
 				b.Fatal(err)
 			}
 		}
+		reportCPU(b, c0)
 	})
 	b.Run("prior", func(b *testing.B) {
 		b.ReportAllocs()
+		c0 := cpuSeconds()
 		for b.Loop() {
 			if sinkBooks, err = Close(&next, vn, prior); err != nil {
 				b.Fatal(err)
 			}
 		}
+		reportCPU(b, c0)
 	})
+}
+
+// reportCPU reports the CPU time per operation since c0 (cpuSeconds), all
+// cores together: on a shared machine a steadier figure than the time.
+func reportCPU(b *testing.B, c0 float64) {
+	if c0 > 0 && b.N > 0 {
+		b.ReportMetric((cpuSeconds()-c0)/float64(b.N), "cpu-s/op")
+	}
+}
+
+var sinkLocks map[string]pricing.Lock
+
+// BenchmarkLocks makes the locks of a prior close of 10,000 grants of 48
+// tranches each, as a rerun does before it values anything.
+func BenchmarkLocks(b *testing.B) {
+	p := &Prior{ValuationDate: ymd("2026-09-30")}
+	for i := 0; i < 10000; i++ {
+		pg := PriorGrant{ID: fmt.Sprintf("B%05d", i), Instrument: grants.Option, Status: pricing.Locked}
+		for k := 1; k <= 48; k++ {
+			pg.Tranches = append(pg.Tranches, PriorTranche{Index: k, VestDate: ymd("2022-01-01").AddDate(0, k, 0), Shares: 100, Result: valuation.Result{Value: 3}})
+		}
+		p.Grants = append(p.Grants, pg)
+	}
+	b.ReportAllocs()
+	c0 := cpuSeconds()
+	for b.Loop() {
+		sinkLocks = p.Locks()
+	}
+	reportCPU(b, c0)
 }

@@ -72,12 +72,24 @@ func Close(s *grants.Schedule, v *pricing.Valuation, prior *Prior) (*Books, erro
 	b.Warnings = append(b.Warnings, rep.Warnings...)
 	var catchUps []CatchUp
 	if prior != nil {
-		var sts []grantStates // of the compensation ledgers, as rep.Grants
-		for _, l := range p.ledgers {
-			if !l.financing {
-				sts = append(sts, p.states(l, prior))
-			}
+		sts := make([]grantStates, 0, len(rep.Grants)) // of the compensation ledgers, as rep.Grants
+		prior.index()                                  // before the workers look grants up in it
+		type state struct {
+			st grantStates
+			ok bool
 		}
+		inOrder(len(p.ledgers), workersFor(len(p.ledgers)), func(i int, sc *ledgerScratch, r *state) {
+			l := p.ledgers[i]
+			*r = state{}
+			if !l.financing {
+				l.scratch = sc
+				r.st, r.ok = p.states(l, prior), true
+			}
+		}, func(_ int, r *state) {
+			if r.ok {
+				sts = append(sts, r.st)
+			}
+		})
 		if b.Reconciliation, err = p.reconcile(prior, sts, rep, disc, s, v); err != nil {
 			return nil, fmt.Errorf("reconciliation to the prior close: %w", err)
 		}
@@ -105,9 +117,20 @@ func Close(s *grants.Schedule, v *pricing.Valuation, prior *Prior) (*Books, erro
 // valuation date only, with a warning.
 func AwardsOf(s *grants.Schedule, v *pricing.Valuation) ([]Award, []string, error) {
 	_, end := s.Period()
-	var awards []Award
+	var awards []Award // nil for none, as ever
+	if len(v.Grants) > 0 {
+		awards = make([]Award, len(v.Grants))
+	}
 	var warns []string
-	for i := range v.Grants {
+	var first error
+	type made struct {
+		warn string
+		err  error
+	}
+	// Each grant's award is its own (awards[i], from v.Grants[i]); the
+	// warnings and the first error go in grant order.
+	inOrder(len(v.Grants), workersFor(len(v.Grants)), func(i int, _ *ledgerScratch, m *made) {
+		*m = made{}
 		gv := &v.Grants[i]
 		g := gv.Inputs.Grant
 		fv := make([]float64, len(gv.Results))
@@ -125,7 +148,8 @@ func AwardsOf(s *grants.Schedule, v *pricing.Valuation) ([]Award, []string, erro
 		}
 		a, err := awardOf(s, g, gv.Inputs.Tranches, fv)
 		if err != nil {
-			return nil, nil, fmt.Errorf("expense: %w", err)
+			m.err = fmt.Errorf("expense: %w", err)
+			return
 		}
 		a.Condition = ConditionOf(s, gv, end)
 		if shares > 0 {
@@ -133,11 +157,19 @@ func AwardsOf(s *grants.Schedule, v *pricing.Valuation) ([]Award, []string, erro
 				DividendYield: gv.Inputs.DividendYield.Value, ExpectedTermYears: term / shares}
 		}
 		if g.IsLiability() {
-			if w := remeasure(&a, fv, end, v.Revaluations[g.ID]); w != "" {
-				warns = append(warns, w)
-			}
+			m.warn = remeasure(&a, fv, end, v.Revaluations[g.ID])
 		}
-		awards = append(awards, a)
+		awards[i] = a
+	}, func(_ int, m *made) {
+		if m.err != nil && first == nil {
+			first = m.err
+		}
+		if m.warn != "" {
+			warns = append(warns, m.warn)
+		}
+	})
+	if first != nil {
+		return nil, nil, first
 	}
 	if err := modifiedOf(awards, v); err != nil {
 		return nil, nil, err

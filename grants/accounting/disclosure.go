@@ -337,20 +337,18 @@ func (a Activity) weighted() Activity {
 // net of those forfeited or cancelled before vesting, at their fair value
 // (a tranche vesting before its grant date vests on the grant date).
 func vested(l *awardLedger, a *Activity, start, end time.Time) {
-	g := l.in.Grant
-	for i, t := range l.tr {
-		ev := t.vestDate()
-		if ev.Before(g.GrantDate) {
-			ev = g.GrantDate
-		}
-		if !dayOnOrAfter(ev, start) || !dayOnOrBefore(ev, end) {
+	startN, endN := dayNum(start), dayNum(end)
+	for i := range l.tr {
+		t := &l.tr[i]
+		ev := max(int(t.vestN), l.grantN) // the day it vests
+		if ev < startN || ev > endN {
 			continue
 		}
-		c := t.countsAt(ev)
+		c := t.countsN(ev)
 		n := c.live(t.Tranche.Shares)
 		fv := t.FairValue
 		if l.liability {
-			fv = l.fairValueAt(i, dayNum(ev))
+			fv = l.fairValueAt(i, ev)
 		}
 		a.Vested += n
 		a.FairValueVested += float64(n) * fv
@@ -509,20 +507,22 @@ func summarise(l *awardLedger, out, ex, exp *outAcc, ranges rangeAccs, end time.
 	if !l.expiry.IsZero() {
 		term = math.Max(valuation.YearFrac(end, l.expiry), 0)
 	}
-	for i, t := range l.tr {
-		n := float64(t.countsAt(end).open)
+	endN := dayNum(end)
+	for i := range l.tr {
+		t := &l.tr[i]
+		n := float64(t.countsN(endN).open)
 		if n == 0 {
 			continue
 		}
 		k := l.strikeOn(i, end)
 		out.add(n, k, term, price)
-		if t.vestedOn(end) {
+		if t.vestedN(endN) {
 			ex.add(n, k, term, price)
 			exp.add(n, k, term, price)
 			ranges.add(k, int64(n), int64(n), term)
 		} else {
 			ranges.add(k, int64(n), 0, term)
-			exp.add(n*t.expected(dayNum(end), l.rate), k, term, price)
+			exp.add(n*t.expected(endN, l.rate, l.survival()), k, term, price)
 		}
 	}
 }
@@ -538,15 +538,17 @@ func warrantRow(l *awardLedger, end time.Time, price float64) (WarrantRow, bool)
 		row.RemainingTermYears = math.Max(valuation.YearFrac(end, l.expiry), 0)
 	}
 	var fv float64
-	for i, t := range l.tr {
-		n := t.countsAt(end).open
+	endN := dayNum(end)
+	for i := range l.tr {
+		t := &l.tr[i]
+		n := t.countsN(endN).open
 		row.Shares += n
-		if t.vestedOn(end) {
+		if t.vestedN(endN) {
 			row.Exercisable += n
 		}
 		v := t.FairValue
 		if l.liability {
-			v = l.fairValueAt(i, dayNum(end))
+			v = l.fairValueAt(i, endN)
 		}
 		fv += float64(n) * v
 	}

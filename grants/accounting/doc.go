@@ -40,6 +40,11 @@
 // Nothing here values anything (pricing did) or lays anything out (report
 // does); report reads Books and adds nothing up.
 //
+// A large close runs its work per grant (each award, ledger, expense and
+// view of the reconciliation) on all cores, and adds the grants up in
+// grant order on one (parallel.go): the Books are the same to the bit
+// whatever the number of cores.
+//
 // To attribute one award over periods of one's own choosing (a grant
 // design before it is made, say) use Spread.
 //

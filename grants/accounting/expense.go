@@ -379,23 +379,32 @@ func openPeriodOwning(awards []Award, policy Policy, periodStart, periodEnd time
 		return nil, fmt.Errorf("period end %s is before period start %s", periodEnd.Format(time.DateOnly), periodStart.Format(time.DateOnly))
 	}
 	p := &period{pol: pol, start: periodStart, end: periodEnd, ownsAwards: owns}
-	sc := &ledgerScratch{}
+	type built struct {
+		l   *awardLedger
+		err error
+	}
 	var errs []error
-	for i := range awards {
+	p.ledgers = make([]*awardLedger, 0, len(awards))
+	inOrder(len(awards), workersFor(len(awards)), func(i int, sc *ledgerScratch, b *built) {
+		*b = built{}
 		if valuation.Days(awards[i].Grant.GrantDate, periodEnd) < 0 {
-			continue
+			return
 		}
-		l, err := newAwardLedger(&awards[i], pol, periodEnd)
-		if err != nil {
-			errs = append(errs, err)
-			continue
+		if b.l, b.err = newAwardLedger(&awards[i], pol, periodEnd); b.err != nil {
+			return
 		}
 		if owns && valuation.Days(periodStart, awards[i].Grant.GrantDate) < 0 { // as disclose's inPeriod
 			awards[i].Tranches = nil
 		}
-		l.scratch = sc
-		p.ledgers = append(p.ledgers, l)
-	}
+		b.l.scratch = sc
+	}, func(i int, b *built) {
+		switch {
+		case b.err != nil:
+			errs = append(errs, b.err)
+		case b.l != nil:
+			p.ledgers = append(p.ledgers, b.l)
+		}
+	})
 	if len(errs) > 0 {
 		return nil, errors.Join(errs...)
 	}
@@ -466,8 +475,6 @@ func (p *period) expense() *ExpenseReport {
 			}
 		}
 	}
-	futureVals := make([]float64, len(future.days))
-	forecast := make([]float64, len(rep.Forecast)) // one ledger's
 	centres := newCentreBook(len(rep.Forecast))
 
 	graded := gradedAny(ledgers) // for policyNotes, read before any ledger is let go
@@ -475,170 +482,88 @@ func (p *period) expense() *ExpenseReport {
 	if p.dropsLedgers {
 		keep = keepsTranches(ledgers)
 	}
-	var wYears float64
-	for _, l := range ledgers {
-		g := l.in.Grant
-		s0 := l.at(pol, open, open)
-		s1 := l.at(pol, periodEnd, periodEnd)
-		var pg *PriorGrant
-		if p.prior != nil {
-			pg, _ = p.prior.grant(g.ID)
+	x := &expenseRun{p: p, open: open, endN: dayNum(periodEnd), future: future.days, booked: p.prior != nil, keep: keep,
+		quarters: append([]PeriodAmount(nil), rep.Forecast...), forecastAt: make([]int, len(rep.Forecast)),
+		yearEnd: make([]int, len(rep.ByFiscalYear)), yearFrom: make([]int, len(rep.ByFiscalYear))}
+	if !x.booked {
+		for _, b := range bounds {
+			x.boundEnds = append(x.boundEnds, b.End)
 		}
-		comp := l.buffers().comp[:len(l.tr)]
-		if l.financing {
-			fw := l.financingWarrant(s0, s1, p.prior != nil, pg, periodStart, periodEnd)
-			fw.CostCenter = l.centres[l.centreOn(dayNum(periodEnd))]
-			rep.Financing = append(rep.Financing, fw)
+	}
+	for k, f := range rep.Forecast {
+		x.forecastAt[k] = future.index(f.End)
+	}
+	for k, y := range rep.ByFiscalYear {
+		x.yearEnd[k], x.yearFrom[k] = -1, -1
+		if y.Year.End.After(periodEnd) {
+			x.yearEnd[k] = future.index(y.Year.End)
+			if d := shiftDays(y.Year.Start, -1); d.After(periodEnd) {
+				x.yearFrom[k] = future.index(d)
+			}
+		}
+	}
+	if p.prior != nil {
+		p.prior.index() // before the workers look grants up in it
+	}
+	compensation := 0
+	for _, l := range ledgers {
+		if !l.financing {
+			compensation++
+		}
+	}
+	if compensation > 0 { // nil for none, as ever
+		rep.Grants = make([]GrantExpense, 0, compensation)
+	}
+	var wYears float64
+	inOrder(len(ledgers), workersFor(len(ledgers)), func(i int, sc *ledgerScratch, r *grantResult) {
+		l := ledgers[i]
+		l.scratch = sc
+		x.grant(l, r)
+	}, func(i int, r *grantResult) {
+		g := &ledgers[i].in.Grant
+		if r.financing {
+			fw := &r.fw
+			rep.Financing = append(rep.Financing, *fw)
 			rep.FairValueChange += fw.FairValueChange
 			rep.Period += fw.CompensationReversed
 			if fw.CompensationReversed != 0 { // in the cost centres too, so that they add up to the period
 				centres.add(g.ID, centreParts{amounts: []CostCenterAmount{{CostCenter: fw.CostCenter, Period: fw.CompensationReversed}},
 					forecast: [][]float64{make([]float64, len(rep.Forecast))}, after: []float64{0}})
 			}
-			l.addPeriods(pol, bounds, p.prior != nil, fw.CompensationReversed, fw.FairValueChange, comp)
-			if l.liability && len(l.remeas) == 0 {
-				rep.Warnings = append(rep.Warnings, fmt.Sprintf("grant %s: liability-classified financing warrant with no remeasurement; its liability is carried at its fair value at issue", g.ID))
+			addPeriods(bounds, x.booked, true, fw.CompensationReversed, fw.FairValueChange, r.periodComp, r.periodFV)
+			if r.warn != "" {
+				rep.Warnings = append(rep.Warnings, r.warn)
 			}
-			continue
+			return
 		}
-		ge := GrantExpense{GrantID: g.ID, Holder: g.Holder, Instrument: g.Instrument, Liability: l.liability, GrantDate: g.GrantDate, ServiceStart: l.start, ServiceEnd: l.last, Condition: l.in.Condition}
-		// The opening balances: as restated (s0), or as the prior close
-		// booked them (nothing for a grant it did not have).
-		bookedTranche := func(i int) float64 { return s0.comp[i] }
-		if p.prior != nil {
-			bookedTranche = func(i int) float64 {
-				if pg != nil && (i == 0 || l.tr[i-1].of != l.tr[i].of) { // a tranche's first part carries it
-					for _, t := range pg.Tranches {
-						if dayNum(t.VestDate) == int(l.tr[i].origN) {
-							return t.Cumulative
-						}
-					}
-				}
-				return 0
+		ge := &r.ge
+		if pol.Attribution == grants.Graded {
+			for _, w := range r.weights {
+				wYears += w.unrecognized * w.years
 			}
 		}
-		// Every tranche is vested the day after the later of the last vest
-		// date and the period end, so the cost there is the expected total.
-		far := shiftDays(l.last, 1)
-		if far.Before(periodEnd) {
-			far = periodEnd
+		if ge.Unrecognized > 0 && pol.Attribution == grants.StraightLine {
+			wYears += ge.Unrecognized * ge.RemainingYears
 		}
-		sInf := l.at(pol, far, periodEnd)
-		var lastLive time.Time
-		ge.Tranches = make([]TrancheExpense, 0, len(l.tr))
-		for i, t := range l.tr {
-			c := t.countsAt(periodEnd)
-			live := c.live(t.Tranche.Shares)
-			if e := t.serviceEnd(dayNum(periodEnd)); live > 0 && e.After(lastLive) {
-				lastLive = e
-			}
-			q := t.expected(dayNum(periodEnd), l.rate)
-			fv := t.FairValue
-			if l.liability {
-				fv = l.fairValueAt(i, dayNum(periodEnd))
-			}
-			te := TrancheExpense{
-				Index: t.Tranche.Index, VestDate: t.vestDate(),
-				Shares: t.Tranche.Shares, SharesCounted: float64(live)*q*l.outcome(dayNum(periodEnd)) + float64(c.accelerated),
-				FairValue: fv, GrantDateFairValue: t.FairValue, ExpectedShare: q,
-				Cost: sInf.comp[i], CumulativeOpen: bookedTranche(i), Cumulative: s1.comp[i],
-			}
-			te.Period = te.Cumulative - te.CumulativeOpen
-			te.Unrecognized = te.Cost - te.Cumulative
-			if te.Unrecognized < 1e-9*math.Max(1, te.Cost) {
-				te.Unrecognized = 0
-			}
-			if left := valuation.Days(shiftDays(periodEnd, 1), t.serviceEnd(dayNum(periodEnd))); left > 0 && te.Unrecognized > 0 {
-				te.RemainingYears = float64(left) / 365
-			}
-			ge.Tranches = append(ge.Tranches, te)
-			ge.Cost += te.Cost
-			ge.CumulativeOpen += te.CumulativeOpen
-			ge.Cumulative += te.Cumulative
-			ge.Unrecognized += te.Unrecognized
-			if pol.Attribution == grants.Graded {
-				wYears += te.Unrecognized * te.RemainingYears
-			}
+		if r.warn != "" {
+			rep.Warnings = append(rep.Warnings, r.warn)
 		}
-		ge.Tranches = l.byTranche(ge.Tranches)
-		if !lastLive.IsZero() {
-			ge.ServiceEnd = lastLive
-		}
-		if p.prior != nil {
-			ge.CumulativeOpen = 0
-			if pg != nil {
-				ge.CumulativeOpen = pg.Cumulative
-			}
-		}
-		ge.Period = ge.Cumulative - ge.CumulativeOpen
-		ge.Outstanding = l.outstanding(dayNum(periodEnd))
-		ge.Events = l.in.eventsThrough(periodEnd)
-		if ge.Unrecognized > 0 {
-			if pol.Attribution == grants.StraightLine {
-				if left := valuation.Days(shiftDays(periodEnd, 1), lastLive); left > 0 {
-					ge.RemainingYears = float64(left) / 365
-				}
-				wYears += ge.Unrecognized * ge.RemainingYears
-			} else {
-				var w float64
-				for _, te := range ge.Tranches {
-					w += te.Unrecognized * te.RemainingYears
-				}
-				ge.RemainingYears = w / ge.Unrecognized
-			}
-		}
-		if l.liability {
-			lOpen, settledOpen := s0.liability, s0.settled
-			if p.prior != nil {
-				lOpen, settledOpen = 0, 0
-				if pg != nil {
-					lOpen, settledOpen = pg.LiabilityEnd, pg.Reclassified
-				}
-			}
-			ge.LiabilityOpen = lOpen
-			ge.LiabilityEnd = s1.liability
-			ge.ReclassifiedEquity = s1.settled - settledOpen
-			ge.ReclassifiedToDate = s1.settled
-			ge.Remeasurements = l.remeas
-			if len(l.remeas) == 0 {
-				rep.Warnings = append(rep.Warnings, fmt.Sprintf("grant %s: liability-classified warrant with no remeasurement; its liability is carried at the grant-date fair value", g.ID))
-			}
-		}
-		ge.CostCenter = l.centres[l.centreOn(dayNum(periodEnd))]
 		rep.Period += ge.Period
 		rep.Cumulative += ge.Cumulative
 		rep.Unrecognized += ge.Unrecognized
-		l.addPeriods(pol, bounds, p.prior != nil, ge.Period, 0, comp)
-		for k, d := range future.days {
-			futureVals[k] = l.atInto(pol, d, periodEnd, comp).compTotal()
-		}
-		prevTotal := s1.compTotal()
+		addPeriods(bounds, x.booked, false, ge.Period, 0, r.periodComp, nil)
 		for k := range rep.Forecast {
-			cur := futureVals[future.index(rep.Forecast[k].End)]
-			forecast[k] = cur - prevTotal
-			rep.Forecast[k].Amount += forecast[k]
-			prevTotal = cur
+			rep.Forecast[k].Amount += r.forecast[k]
 		}
-		after := sInf.compTotal() - prevTotal
-		rep.AfterForecast += after
-		parts := l.costCenters(pol, ge, s0, s1, sInf, open, periodEnd, far, rep.Forecast, forecast, after)
-		ge.ByCostCenter = parts.amounts
-		centres.add(g.ID, parts)
-		rep.Grants = append(rep.Grants, ge)
+		rep.AfterForecast += r.after
+		centres.add(g.ID, r.parts)
+		rep.Grants = append(rep.Grants, *ge)
 		for k := range rep.ByFiscalYear {
-			y := &rep.ByFiscalYear[k]
-			if y.Year.End.After(periodEnd) {
-				from := s1.compTotal()
-				if d := shiftDays(y.Year.Start, -1); d.After(periodEnd) {
-					from = futureVals[future.index(d)]
-				}
-				y.Expected += futureVals[future.index(y.Year.End)] - from
+			if x.yearEnd[k] >= 0 {
+				rep.ByFiscalYear[k].Expected += r.years[k]
 			}
 		}
-		if p.dropsLedgers && !keep[l] {
-			l.tr = nil // its expense is drawn, and nothing after reads it
-		}
-	}
+	})
 	if rep.Unrecognized > 0 {
 		rep.RemainingYears = wYears / rep.Unrecognized
 	}
@@ -773,14 +698,43 @@ func maxDay(a, b time.Time) time.Time {
 
 }
 
-// addPeriods adds the award's compensation in each of the periods ps
-// (consecutive, the first from the start) to its Amount, and a financing
-// warrant's change in fair value to its FairValueChange. After a prior
-// close (booked) the closed periods stand as it booked them, and only the
-// current one takes the award's period figures, comp and fv. buf is
-// scratch for the award's cost by tranche.
-func (l *awardLedger) addPeriods(pol Policy, ps []PeriodAmount, booked bool, comp, fv float64, buf []float64) {
+// periodAmounts is what the award adds to each of the periods ends close
+// (consecutive, the first from the start): its compensation to their
+// Amount, appended to comp, and a financing warrant's change in fair
+// value to their FairValueChange, appended to fv. buf is scratch for the
+// award's cost by tranche.
+func (l *awardLedger) periodAmounts(pol Policy, ends []time.Time, buf, comp, fv []float64) ([]float64, []float64) {
 	var prevComp, prevFV float64
+	for _, e := range ends {
+		if dayNum(e) < l.grantN {
+			// Before the grant date an award has no cost and no liability
+			// (atView, atLayered; no event is dated before it, apply), and
+			// so had none at the ends before: what at would give, 0 − 0.
+			comp = append(comp, 0)
+			if l.financing {
+				fv = append(fv, 0)
+			}
+			continue
+		}
+		cur := l.atInto(pol, e, e, buf)
+		c := cur.compTotal()
+		comp = append(comp, c-prevComp)
+		prevComp = c
+		if l.financing {
+			f := cur.fvChange()
+			fv = append(fv, f-prevFV)
+			prevFV = f
+		}
+	}
+	return comp, fv
+}
+
+// addPeriods adds an award's compensation in each of the periods ps to
+// their Amount, and a financing warrant's change in fair value to their
+// FairValueChange: each period's own, pc and pf (periodAmounts). After a
+// prior close (booked) the closed periods stand as it booked them, and
+// only the current one takes the award's period figures, comp and fv.
+func addPeriods(ps []PeriodAmount, booked, financing bool, comp, fv float64, pc, pf []float64) {
 	for k := range ps {
 		if booked {
 			if ps[k].Current {
@@ -789,14 +743,9 @@ func (l *awardLedger) addPeriods(pol Policy, ps []PeriodAmount, booked bool, com
 			}
 			continue
 		}
-		cur := l.atInto(pol, ps[k].End, ps[k].End, buf)
-		c := cur.compTotal()
-		ps[k].Amount += c - prevComp
-		prevComp = c
-		if l.financing {
-			f := cur.fvChange()
-			ps[k].FairValueChange += f - prevFV
-			prevFV = f
+		ps[k].Amount += pc[k]
+		if financing {
+			ps[k].FairValueChange += pf[k]
 		}
 	}
 }
@@ -856,4 +805,219 @@ func (l *awardLedger) financingWarrant(s0, s1 snapshot, booked bool, pg *PriorGr
 	fw.FairValueChange = fw.LiabilityEnd - fw.LiabilityOpen - fw.Issued + fw.Reclassified
 	fw.Remeasurements = append([]Remeasurement{{Date: g.GrantDate, FairValue: at0}}, l.remeas...)
 	return fw
+}
+
+// expenseRun is what every grant's expense reads of the period: read
+// only while the workers run (expense).
+type expenseRun struct {
+	p      *period
+	open   time.Time // the day before the period start
+	endN   int       // the period end's day number
+	booked bool      // after a prior close: the closed periods stand as it booked them
+	keep   map[*awardLedger]bool
+	// boundEnds are the ends of the periods (unless booked), quarters the
+	// forecast quarters, future the days evaluated after the period end
+	// and forecastAt the index there of each quarter's end; for each fiscal
+	// year, yearEnd is that of its end and yearFrom of the day before its
+	// start (-1: the year ends by the period end, or starts by it).
+	boundEnds  []time.Time
+	quarters   []PeriodAmount
+	future     []time.Time
+	forecastAt []int
+	yearEnd    []int
+	yearFrom   []int
+}
+
+// grantResult is one ledger's figures, which expense adds up in ledger
+// order: a financing warrant's row, or a grant's expense with what it adds
+// to each period, forecast quarter and fiscal year, its parts by cost
+// centre, and the unrecognized cost and years left of each of its parts
+// (graded) for the weighted remaining period. Its slices are reused from
+// ledger to ledger.
+type grantResult struct {
+	financing bool
+	fw        FinancingWarrant
+	ge        GrantExpense
+	warn      string
+	// periodComp and periodFV are by period (unless booked).
+	periodComp, periodFV []float64
+	weights              []unrecognizedYears
+	forecast             []float64
+	after                float64
+	years                []float64 // by fiscal year, where yearEnd ≥ 0
+	parts                centreParts
+	futureVals           []float64 // scratch: the cost through each future day
+	priorDays            []int     // scratch: the prior close's tranches' vest days
+}
+
+type unrecognizedYears struct{ unrecognized, years float64 }
+
+// grant computes ledger l's figures into r.
+func (x *expenseRun) grant(l *awardLedger, r *grantResult) {
+	p := x.p
+	pol, periodStart, periodEnd, open, endN := p.pol, p.start, p.end, x.open, x.endN
+	g := l.in.Grant
+	s0 := l.at(pol, open, open)
+	s1 := l.at(pol, periodEnd, periodEnd)
+	var pg *PriorGrant
+	if p.prior != nil {
+		pg, _ = p.prior.grant(g.ID)
+	}
+	comp := l.buffers().comp[:len(l.tr)]
+	r.financing, r.warn = l.financing, ""
+	r.periodComp, r.periodFV = r.periodComp[:0], r.periodFV[:0]
+	if !x.booked {
+		r.periodComp, r.periodFV = l.periodAmounts(pol, x.boundEnds, comp, r.periodComp, r.periodFV)
+	}
+	if l.financing {
+		r.fw = l.financingWarrant(s0, s1, x.booked, pg, periodStart, periodEnd)
+		r.fw.CostCenter = l.centres[l.centreOn(endN)]
+		if l.liability && len(l.remeas) == 0 {
+			r.warn = fmt.Sprintf("grant %s: liability-classified financing warrant with no remeasurement; its liability is carried at its fair value at issue", g.ID)
+		}
+		return
+	}
+	ge := GrantExpense{GrantID: g.ID, Holder: g.Holder, Instrument: g.Instrument, Liability: l.liability, GrantDate: g.GrantDate, ServiceStart: l.start, ServiceEnd: l.last, Condition: l.in.Condition}
+	// The opening balances: as restated (s0), or as the prior close
+	// booked them (nothing for a grant it did not have).
+	bookedTranche := func(i int) float64 { return s0.comp[i] }
+	if p.prior != nil {
+		r.priorDays = r.priorDays[:0]
+		if pg != nil {
+			for _, t := range pg.Tranches {
+				r.priorDays = append(r.priorDays, dayNum(t.VestDate))
+			}
+		}
+		bookedTranche = func(i int) float64 {
+			if pg != nil && (i == 0 || l.tr[i-1].of != l.tr[i].of) { // a tranche's first part carries it
+				for k, d := range r.priorDays {
+					if d == int(l.tr[i].origN) {
+						return pg.Tranches[k].Cumulative
+					}
+				}
+			}
+			return 0
+		}
+	}
+	// Every tranche is vested the day after the later of the last vest
+	// date and the period end, so the cost there is the expected total.
+	far := shiftDays(l.last, 1)
+	if far.Before(periodEnd) {
+		far = periodEnd
+	}
+	sInf := l.at(pol, far, periodEnd)
+	lastLive, anyLive := 0, false // the day number of the last service end of a tranche with live shares
+	ge.Tranches = make([]TrancheExpense, 0, len(l.tr))
+	r.weights = r.weights[:0]
+	sv, o := l.survival(), l.outcome(endN)
+	for i := range l.tr {
+		t := &l.tr[i]
+		c := t.countsN(endN)
+		live := c.live(t.Tranche.Shares)
+		serviceEnd := t.endAt(endN)
+		if live > 0 && (!anyLive || serviceEnd > lastLive) {
+			lastLive, anyLive = serviceEnd, true
+		}
+		q := t.expected(endN, l.rate, sv)
+		fv := t.FairValue
+		if l.liability {
+			fv = l.fairValueAt(i, endN)
+		}
+		te := TrancheExpense{
+			Index: t.Tranche.Index, VestDate: t.vestDate(),
+			Shares: t.Tranche.Shares, SharesCounted: float64(live)*q*o + float64(c.accelerated),
+			FairValue: fv, GrantDateFairValue: t.FairValue, ExpectedShare: q,
+			Cost: sInf.comp[i], CumulativeOpen: bookedTranche(i), Cumulative: s1.comp[i],
+		}
+		te.Period = te.Cumulative - te.CumulativeOpen
+		te.Unrecognized = te.Cost - te.Cumulative
+		if te.Unrecognized < 1e-9*math.Max(1, te.Cost) {
+			te.Unrecognized = 0
+		}
+		if left := serviceEnd - (endN + 1); left > 0 && te.Unrecognized > 0 {
+			te.RemainingYears = float64(left) / 365
+		}
+		ge.Tranches = append(ge.Tranches, te)
+		ge.Cost += te.Cost
+		ge.CumulativeOpen += te.CumulativeOpen
+		ge.Cumulative += te.Cumulative
+		ge.Unrecognized += te.Unrecognized
+		if pol.Attribution == grants.Graded {
+			r.weights = append(r.weights, unrecognizedYears{te.Unrecognized, te.RemainingYears})
+		}
+	}
+	ge.Tranches = l.byTranche(ge.Tranches)
+	if anyLive {
+		ge.ServiceEnd = dayDate(lastLive)
+	}
+	if p.prior != nil {
+		ge.CumulativeOpen = 0
+		if pg != nil {
+			ge.CumulativeOpen = pg.Cumulative
+		}
+	}
+	ge.Period = ge.Cumulative - ge.CumulativeOpen
+	ge.Outstanding = l.outstanding(endN)
+	ge.Events = l.in.eventsThrough(periodEnd)
+	if ge.Unrecognized > 0 {
+		if pol.Attribution == grants.StraightLine {
+			if left := lastLive - (endN + 1); anyLive && left > 0 {
+				ge.RemainingYears = float64(left) / 365
+			}
+		} else {
+			var w float64
+			for _, te := range ge.Tranches {
+				w += te.Unrecognized * te.RemainingYears
+			}
+			ge.RemainingYears = w / ge.Unrecognized
+		}
+	}
+	if l.liability {
+		lOpen, settledOpen := s0.liability, s0.settled
+		if p.prior != nil {
+			lOpen, settledOpen = 0, 0
+			if pg != nil {
+				lOpen, settledOpen = pg.LiabilityEnd, pg.Reclassified
+			}
+		}
+		ge.LiabilityOpen = lOpen
+		ge.LiabilityEnd = s1.liability
+		ge.ReclassifiedEquity = s1.settled - settledOpen
+		ge.ReclassifiedToDate = s1.settled
+		ge.Remeasurements = l.remeas
+		if len(l.remeas) == 0 {
+			r.warn = fmt.Sprintf("grant %s: liability-classified warrant with no remeasurement; its liability is carried at the grant-date fair value", g.ID)
+		}
+	}
+	ge.CostCenter = l.centres[l.centreOn(endN)]
+	r.futureVals = r.futureVals[:0]
+	for _, d := range x.future {
+		r.futureVals = append(r.futureVals, l.atInto(pol, d, periodEnd, comp).compTotal())
+	}
+	prevTotal := s1.compTotal()
+	r.forecast = r.forecast[:0]
+	for k := range x.quarters {
+		cur := r.futureVals[x.forecastAt[k]]
+		r.forecast = append(r.forecast, cur-prevTotal)
+		prevTotal = cur
+	}
+	r.after = sInf.compTotal() - prevTotal
+	r.parts = l.costCenters(pol, ge, s0, s1, sInf, open, periodEnd, far, x.quarters, r.forecast, r.after)
+	ge.ByCostCenter = r.parts.amounts
+	r.years = r.years[:0]
+	for k, e := range x.yearEnd {
+		var y float64
+		if e >= 0 {
+			from := s1.compTotal()
+			if f := x.yearFrom[k]; f >= 0 {
+				from = r.futureVals[f]
+			}
+			y = r.futureVals[e] - from
+		}
+		r.years = append(r.years, y)
+	}
+	r.ge = ge
+	if p.dropsLedgers && !x.keep[l] {
+		l.tr = nil // its expense is drawn, and nothing after reads it
+	}
 }

@@ -112,16 +112,27 @@ type awardLedger struct {
 	centres []string
 	spans   []centreSpan
 
-	// scratch for atView and the expense loop, shared by the ledgers of a
-	// period (they are read one at a time): a buffer per ledger would hold
-	// 48 bytes a tranche for the whole close.
+	// scratch for atView and the expense loop, shared by the ledgers one
+	// worker of a close reads (one at a time; each worker sets it to its
+	// own before it reads a ledger, inOrder): a buffer per ledger would
+	// hold 48 bytes a tranche for the whole close.
 	scratch *ledgerScratch
 }
 
-// ledgerScratch are the buffers a ledger's views are computed in.
+// ledgerScratch are the buffers a ledger's views are computed in, and
+// the survival to vest they ask for again and again.
 type ledgerScratch struct {
 	value, lia, comp []float64
 	counts           []trancheCounts
+	surv             survivals
+}
+
+// survival is the cache of survival to vest of l's scratch.
+func (l *awardLedger) survival() *survivals {
+	if l.scratch == nil {
+		l.scratch = &ledgerScratch{}
+	}
+	return &l.scratch.surv
 }
 
 // buffers are the scratch buffers sized for l's tranches.
@@ -143,6 +154,14 @@ func dayOnOrBefore(a, b time.Time) bool { return dayNum(a) <= dayNum(b) }
 // that the inner loops compare and subtract integers. dayNum(b) − dayNum(a) equals
 // valuation.Days(a, b).
 func dayNum(t time.Time) int {
+	if t.Location() == time.UTC { // every UTC day is 86,400 seconds: the floor of its seconds over that
+		u := t.Unix()
+		n := u / 86400
+		if u%86400 < 0 {
+			n--
+		}
+		return int(n)
+	}
 	return int(time.Date(t.Year(), t.Month(), t.Day(), 0, 0, 0, 0, time.UTC).Unix() / 86400)
 }
 
@@ -298,12 +317,13 @@ func (t *trancheLedger) vestedN(d int) bool { return int(t.vestN) <= d }
 // on forfeitures): rate over the service days still to come, from day d+1
 // (or the service start) to the day before vesting; 1 once vested or with
 // no forfeiture rate.
-func (t *trancheLedger) expected(d int, rate float64) float64 {
+// sv computes valuation.SurvivalToVest.
+func (t *trancheLedger) expected(d int, rate float64, sv *survivals) float64 {
 	end := t.endAt(d)
 	if end <= d || rate == 0 {
 		return 1
 	}
-	return valuation.SurvivalToVest(rate, float64(end-max(int(t.startN), d+1))/365)
+	return sv.at(rate, end-max(int(t.startN), d+1))
 }
 
 // pricedEvent is an event with the share price on its date.
@@ -315,6 +335,9 @@ type pricedEvent struct {
 // apply checks the events (in date order) against the grant and gives
 // each tranche its moves by grants.Allocate.
 func (l *awardLedger) apply(pevs []pricedEvent) error {
+	if len(pevs) == 0 {
+		return nil // nothing to check or to give out
+	}
 	evs := make([]grants.Event, len(pevs))
 	for i, e := range pevs {
 		evs[i] = e.Event
@@ -429,7 +452,8 @@ func (l *awardLedger) attribute(pol Policy, value []float64, d, known, endN int,
 	}
 	kd := min(d, known)
 	o := l.outcome(d) // a performance condition's probable outcome
-	q := func(i int) float64 { return l.tr[i].expected(kd, rate) * o }
+	sv := l.survival()
+	q := func(i int) float64 { return l.tr[i].expected(kd, rate, sv) * o }
 	if pol.Attribution == grants.Graded {
 		for i := range l.tr {
 			out[i] = value[i] * q(i) * serviceFraction(int(l.tr[i].startN), l.tr[i].daysAt(d), d)
@@ -619,7 +643,7 @@ func (l *awardLedger) serviceEndN(counts []trancheCounts, d int) int {
 // cost once every tranche has vested, with the same moves and the same
 // knowledge of leavers.
 func (l *awardLedger) costs(pol Policy, v view) (cost, cum float64) {
-	comp := make([]float64, len(l.tr))
+	comp := l.buffers().comp[:len(l.tr)]
 	cum = l.atView(pol, v, comp).compTotal()
 	if v.keep == nil {
 		d := v.d

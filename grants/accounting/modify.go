@@ -125,12 +125,12 @@ func (ly *layer) frac(d int, v view) float64 {
 
 // expected is the expected share of the layer's live shares still there at
 // its vest day, seen at the end of day kd (see trancheLedger.expected).
-func (ly *layer) expected(kd int, rate float64, v view) float64 {
+func (ly *layer) expected(kd int, rate float64, v view, sv *survivals) float64 {
 	tv := ly.target(kd, v)
 	if tv <= kd || rate == 0 {
 		return 1
 	}
-	return valuation.SurvivalToVest(rate, float64(tv-max(ly.startN, kd+1))/365)
+	return sv.at(rate, tv-max(ly.startN, kd+1))
 }
 
 // counts is the layer's live shares through day d in view v, and those
@@ -366,6 +366,7 @@ type replacedBy struct {
 // graded over its own service, or straight-line by layer group.
 func (l *awardLedger) atLayered(pol Policy, v view, comp []float64) snapshot {
 	d, kd := v.d, min(v.d, v.known)
+	sv := l.survival()
 	s := snapshot{comp: comp}
 	for i := range comp {
 		comp[i] = 0
@@ -375,7 +376,7 @@ func (l *awardLedger) atLayered(pol Policy, v view, comp []float64) snapshot {
 	}
 	if pol.Attribution == grants.Graded {
 		l.eachLayer(d, v, func(i int, ly *layer, live, acc int64) {
-			comp[i] += ly.value*float64(live)*ly.expected(kd, v.rate, v)*ly.frac(d, v) + ly.value*float64(acc)
+			comp[i] += ly.value*float64(live)*ly.expected(kd, v.rate, v, sv)*ly.frac(d, v) + ly.value*float64(acc)
 		})
 		return s
 	}
@@ -398,7 +399,7 @@ func (l *awardLedger) atLayered(pol Policy, v view, comp []float64) snapshot {
 		if live > 0 { // straight-line ends at the last vest day with shares still counted
 			groups[ly.key] = append(groups[ly.key], ly)
 		}
-		entries[ly.key] = append(entries[ly.key], entry{i, ly.value * float64(live) * ly.expected(kd, v.rate, v), d >= ly.target(d, v)})
+		entries[ly.key] = append(entries[ly.key], entry{i, ly.value * float64(live) * ly.expected(kd, v.rate, v, sv), d >= ly.target(d, v)})
 	})
 	for _, k := range order {
 		var total, floor, unvested float64
@@ -865,6 +866,7 @@ func (l *awardLedger) strikeOn(i int, d time.Time) float64 {
 func (l *awardLedger) endedCost(d int, key changeKey) float64 {
 	var x float64
 	v := view{d: d, known: d, rate: l.rate}
+	sv := l.survival()
 	for i := range l.tr {
 		t := &l.tr[i]
 		for li := range t.layers {
@@ -873,7 +875,7 @@ func (l *awardLedger) endedCost(d int, key changeKey) float64 {
 				continue
 			}
 			live, acc := t.counts(ly, d, v)
-			x += ly.value*float64(live)*ly.expected(d, v.rate, v)*ly.frac(d, v) + ly.value*float64(acc)
+			x += ly.value*float64(live)*ly.expected(d, v.rate, v, sv)*ly.frac(d, v) + ly.value*float64(acc)
 		}
 	}
 	return x

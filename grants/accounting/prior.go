@@ -114,6 +114,17 @@ type PriorTranche struct {
 // to): a close looks up every grant of a ledger that may have a hundred
 // thousand.
 func (p *Prior) grant(id string) (*PriorGrant, bool) {
+	p.index()
+	if i, ok := p.byID[id]; ok && p.Grants[i].ID == id {
+		return &p.Grants[i], true
+	}
+	return nil, false
+}
+
+// index makes the index grant looks grants up by, unless it is made
+// already: the workers of a close look up at once, so Close makes it
+// before they start.
+func (p *Prior) index() {
 	if p.byID == nil || p.indexed != len(p.Grants) {
 		p.byID = make(map[string]int, len(p.Grants))
 		for i := len(p.Grants) - 1; i >= 0; i-- {
@@ -121,10 +132,6 @@ func (p *Prior) grant(id string) (*PriorGrant, bool) {
 		}
 		p.indexed = len(p.Grants)
 	}
-	if i, ok := p.byID[id]; ok && p.Grants[i].ID == id {
-		return &p.Grants[i], true
-	}
-	return nil, false
 }
 
 // Open checks schedule s against the prior close p and opens the period
@@ -229,15 +236,23 @@ func (p *Prior) Locks() map[string]pricing.Lock {
 		return nil
 	}
 	out := make(map[string]pricing.Lock, len(p.Grants))
-	for _, pg := range p.Grants {
+	for i := range p.Grants {
+		pg := &p.Grants[i]
 		lk := pricing.Lock{Close: p.ValuationDate, Liability: pg.Liability, MeasurementDate: pg.MeasurementDate, ExpiryDate: pg.ExpiryDate, Inputs: pg.Inputs, Key: pg.ValuationKey,
 			Modifications: pg.Modifications, Measured: pg.Status == pricing.Measured || pg.Status == pricing.Corrected}
 		if pg.Liability {
+			if len(pg.Remeasurements) > 0 {
+				lk.Revaluations = make([]pricing.Revaluation, 0, len(pg.Remeasurements))
+			}
 			for _, r := range pg.Remeasurements {
 				lk.Revaluations = append(lk.Revaluations, pricing.Revaluation{Date: r.Date, Values: r.FairValue})
 			}
 		} else {
-			for _, t := range pg.Tranches {
+			if len(pg.Tranches) > 0 {
+				lk.Tranches = make([]pricing.LockedTranche, 0, len(pg.Tranches))
+			}
+			for k := range pg.Tranches {
+				t := &pg.Tranches[k]
 				lk.Tranches = append(lk.Tranches, pricing.LockedTranche{VestDate: t.VestDate, Result: t.Result, BSM: t.BSM,
 					RiskFreeRate: t.RiskFreeRate, SimplifiedRate: t.SimplifiedRate})
 			}

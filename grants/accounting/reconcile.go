@@ -124,7 +124,7 @@ func (p *period) states(l *awardLedger, pr *Prior) grantStates {
 	st.costB2, st.cumB2 = l.costs(p.pol, view{d: b, known: b, rate: l.rate, keep: upTo(N), from: cut})
 	st.costM, _ = l.costs(p.pol, view{d: b, known: b, rate: l.rate, keep: upTo(N)})
 	st.costC, _ = l.costs(p.pol, view{d: b, known: N, rate: l.rate, keep: upTo(N)})
-	st.cumD0 = l.atView(p.pol, view{d: N, known: N, rate: l.rate, from: cut}, make([]float64, len(l.tr))).compTotal()
+	st.cumD0 = l.atView(p.pol, view{d: N, known: N, rate: l.rate, from: cut}, l.buffers().comp[:len(l.tr)]).compTotal()
 	if pg, ok := pr.grant(l.in.Grant.ID); ok {
 		st.prior = pg
 		st.bookedCost, st.bookedCum = pg.Cost, pg.Cumulative
