@@ -110,3 +110,24 @@ func BenchmarkTransfersOf(b *testing.B) {
 		b.Fatal("no transfers found")
 	}
 }
+
+// BenchmarkValueInputs10000 gathers the valuation inputs of a 10,000-grant
+// ledger (tranches, terms, market, curve and provenance of each grant, and
+// whether the lattice can value it), as the value command does once the
+// schedule is read.
+func BenchmarkValueInputs10000(b *testing.B) {
+	s := bigSchedule(10000)
+	s.Reindex()
+	b.ReportAllocs()
+	var sink int
+	for b.Loop() {
+		ins, errs, _ := s.ValueInputs()
+		if len(errs) > 0 {
+			b.Fatal(errs[0])
+		}
+		sink += len(ins)
+	}
+	if sink == 0 {
+		b.Fatal("no inputs")
+	}
+}

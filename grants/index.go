@@ -34,9 +34,18 @@ type index struct {
 // cannot be built.
 type indexedCurve struct {
 	curve
-	cv   *valuation.Curve
-	text string
-	err  error
+	cv      *valuation.Curve
+	text    string
+	err     error
+	byTenor []RatePoint // the points in tenor order (sheet order within a tenor), as citeRate reads them
+}
+
+// indexCurve is curve c built, with its points in tenor order.
+func indexCurve(c curve) indexedCurve {
+	cv, text, err := c.build()
+	pts := append([]RatePoint(nil), c.points...)
+	sort.SliceStable(pts, func(i, j int) bool { return pts[i].TenorYears < pts[j].TenorYears })
+	return indexedCurve{c, cv, text, err, pts}
 }
 
 // Reindex builds the schedule's look-up index anew (see index). The
@@ -69,8 +78,7 @@ func (s *Schedule) Reindex() {
 		ix.transfersOf[t.GrantID] = append(ix.transfersOf[t.GrantID], int32(i))
 	}
 	for _, c := range s.curves() {
-		cv, text, err := c.build()
-		ix.curves = append(ix.curves, indexedCurve{c, cv, text, err})
+		ix.curves = append(ix.curves, indexCurve(c))
 	}
 	s.idx = ix
 }

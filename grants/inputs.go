@@ -2,9 +2,12 @@ package grants
 
 import (
 	"fmt"
+	"runtime"
 	"sort"
 	"strconv"
 	"strings"
+	"sync"
+	"sync/atomic"
 	"time"
 
 	"grantworth/valuation"
@@ -180,7 +183,7 @@ func (s *Schedule) Inputs(g Grant) (Inputs, error) {
 			return Inputs{}, &CellError{Sheet: r.Sheet, Cell: r.Cell, Column: "curve_date", Value: isoDay(c.date), Err: ErrRange, Msg: "curve cannot be built: " + err.Error()}
 		}
 		in.Market.Curve, in.CurveDate = cv, c.date
-		r, how := s.citeRate(c.curve, horizon)
+		r, how := s.citeRate(c.byTenor, horizon)
 		in.RiskFreeRate = Source{Value: cv.Zero(horizon), Ref: r, Text: text + "; " + how}
 	} else if g.Instrument == RSU {
 		in.Market.Curve = valuation.FlatCurve(0)
@@ -250,14 +253,13 @@ func (s *Schedule) feasible(in Inputs) error {
 		Msg: fmt.Sprintf("cannot be valued on the lattice for grant %s (%s): %s", g.ID, s.cell(SheetGrants, "grant_id", g.Row, g.Refs).Cell, msg)}
 }
 
-// citeRate is where the zero rate of curve c at h years comes from: the
-// Rates cells it is interpolated between (linear in tenor, flat outside
-// the quoted tenors), or for par yields every cell up to the tenor at or
+// citeRate is where the zero rate at h years of the curve whose points
+// are pts, in tenor order (indexedCurve.byTenor), comes from: the Rates
+// cells it is interpolated between (linear in tenor, flat outside the
+// quoted tenors), or for par yields every cell up to the tenor at or
 // above h that the bootstrap used, with the how in words. Cells that are
 // adjacent rows are written as a range ("C8:C9"), others listed ("C2,C9").
-func (s *Schedule) citeRate(c curve, h float64) (Ref, string) {
-	pts := append([]RatePoint(nil), c.points...)
-	sort.SliceStable(pts, func(i, j int) bool { return pts[i].TenorYears < pts[j].TenorYears })
+func (s *Schedule) citeRate(pts []RatePoint, h float64) (Ref, string) {
 	cell := func(p RatePoint) string { return s.cell(SheetRates, "rate", p.Row, nil).Cell }
 	cite := func(ps []RatePoint) Ref {
 		r := Ref{Sheet: SheetRates, Cell: cell(ps[0])}
@@ -346,25 +348,85 @@ func (a *Assumptions) has(key string) bool {
 
 // ValueInputs collects the inputs of every grant made on or before the
 // valuation date (a later grant is not outstanding at the period end and
-// is left out, with a warning in skipped), or every error found.
+// is left out, with a warning in skipped), or every error found. The
+// grants are gathered on all cores; ins and errs are in ledger order.
 func (s *Schedule) ValueInputs() (ins []Inputs, errs []error, skipped []string) {
 	if s.fresh() == nil {
 		s.Reindex()
 	}
-	for _, g := range s.Grants {
+	var made []int // positions in s.Grants of the grants to value
+	for i, g := range s.Grants {
 		if valuation.Days(s.Company.ValuationDate, g.GrantDate) > 0 {
 			skipped = append(skipped, fmt.Sprintf("grant %s, dated %s after the valuation date %s, is left out of this valuation",
 				g.ID, isoDay(g.GrantDate), isoDay(s.Company.ValuationDate)))
 			continue
 		}
-		in, err := s.Inputs(g)
-		if err != nil {
-			errs = append(errs, err)
+		made = append(made, i)
+	}
+	if len(made) == 0 {
+		return nil, nil, skipped
+	}
+	ins = make([]Inputs, len(made))
+	errAt := make([]error, len(made))
+	var failed atomic.Bool
+	inChunks(len(made), inputsChunk, func(lo, hi int) {
+		for j := lo; j < hi; j++ {
+			if ins[j], errAt[j] = s.Inputs(s.Grants[made[j]]); errAt[j] != nil {
+				failed.Store(true)
+			}
+		}
+	})
+	if !failed.Load() {
+		return ins, nil, skipped
+	}
+	n := 0
+	for j := range ins {
+		if errAt[j] != nil {
+			errs = append(errs, errAt[j])
 			continue
 		}
-		ins = append(ins, in)
+		ins[n] = ins[j]
+		n++
 	}
-	return ins, errs, skipped
+	if n == 0 {
+		return nil, errs, skipped
+	}
+	clear(ins[n:])
+	return ins[:n], errs, skipped
+}
+
+// inputsChunk is how many consecutive grants one goroutine of ValueInputs
+// gathers at a time.
+const inputsChunk = 64
+
+// inChunks calls work on the consecutive ranges [lo, hi) of chunk items
+// that cover [0, n), on all cores. work must write only the items of its
+// range.
+func inChunks(n, chunk int, work func(lo, hi int)) {
+	chunks := (n + chunk - 1) / chunk
+	workers := min(runtime.GOMAXPROCS(0), chunks)
+	if workers <= 1 {
+		for lo := 0; lo < n; lo += chunk {
+			work(lo, min(lo+chunk, n))
+		}
+		return
+	}
+	var next atomic.Int64
+	var wg sync.WaitGroup
+	for range workers {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for {
+				c := int(next.Add(1) - 1)
+				if c >= chunks {
+					return
+				}
+				work(c*chunk, min((c+1)*chunk, n))
+			}
+		}()
+	}
+	wg.Wait()
 }
 
 // PeriodEndPrice is the share price in force at the valuation date (the

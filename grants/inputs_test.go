@@ -4,8 +4,11 @@ import (
 	"maps"
 	"math"
 	"path/filepath"
+	"reflect"
+	"runtime"
 	"strings"
 	"testing"
+	"time"
 
 	"grantworth/valuation"
 )
@@ -222,5 +225,38 @@ func TestRiskFreeRateCitesItsCells(t *testing.T) {
 	}
 	if in.RiskFreeRate.Ref.String() != "Rates!C2:C4" || !strings.Contains(in.RiskFreeRate.Text, "bootstrapped from the par yields up to 5-year") {
 		t.Errorf("par: %s: %s", in.RiskFreeRate.Ref, in.RiskFreeRate.Text)
+	}
+}
+
+// ValueInputs gathers the grants in chunks on all cores: the inputs, the
+// errors (in ledger order, each grant's own) and the grants left out are
+// those of one core, to the bit, and a grant in error leaves no gap.
+func TestValueInputsSameOnAnyCores(t *testing.T) {
+	defer runtime.GOMAXPROCS(runtime.GOMAXPROCS(0))
+	s := bigSchedule(1000)
+	for _, i := range []int{3, 400, 401, 999} { // no expiry: an error
+		s.Grants[i].ExpiryDate = time.Time{}
+	}
+	s.Grants[500].GrantDate = s.Company.ValuationDate.AddDate(0, 0, 1) // left out
+	s.Reindex()
+	runtime.GOMAXPROCS(1)
+	ins1, errs1, skipped1 := s.ValueInputs()
+	runtime.GOMAXPROCS(4)
+	ins4, errs4, skipped4 := s.ValueInputs()
+	if len(ins1) != 995 || len(errs1) != 4 || len(skipped1) != 1 {
+		t.Fatalf("%d inputs, %d errors, %d left out; want 995, 4 and 1", len(ins1), len(errs1), len(skipped1))
+	}
+	for k, i := range []int{3, 400, 401, 999} {
+		if id := s.Grants[i].ID; !strings.Contains(errs1[k].Error(), id) || errs1[k].Error() != errs4[k].Error() {
+			t.Errorf("error %d: %v on one core, %v on four; want grant %s's", k, errs1[k], errs4[k], id)
+		}
+	}
+	if !reflect.DeepEqual(ins1, ins4) || !reflect.DeepEqual(skipped1, skipped4) {
+		t.Error("the inputs gathered on four cores differ from those on one")
+	}
+	for j, in := range ins4 {
+		if j > 0 && in.Grant.ID <= ins4[j-1].Grant.ID { // bigSchedule's IDs rise with the rows
+			t.Fatalf("inputs out of ledger order at %d: %s after %s", j, in.Grant.ID, ins4[j-1].Grant.ID)
+		}
 	}
 }

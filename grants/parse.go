@@ -228,10 +228,30 @@ func norm(s string) string {
 // becomes its last day (31 January + 1 month = 28 or 29 February).
 func AddMonths(t time.Time, n int) time.Time {
 	y, m, d := t.Date()
-	first := time.Date(y, m+time.Month(n), 1, 0, 0, 0, 0, time.UTC)
-	last := first.AddDate(0, 1, -1).Day()
-	if d > last {
+	// The month n months on, as time.Date would normalize it.
+	k := y*12 + int(m) - 1 + n
+	ny := k / 12
+	if k%12 < 0 {
+		ny-- // floor
+	}
+	nm := time.Month(k - 12*ny + 1)
+	if last := daysIn(ny, nm); d > last {
 		d = last
 	}
-	return time.Date(first.Year(), first.Month(), d, 0, 0, 0, 0, time.UTC)
+	return time.Date(ny, nm, d, 0, 0, 0, 0, time.UTC)
+}
+
+// daysIn is the number of days of month m of year y (proleptic
+// Gregorian, as package time counts).
+func daysIn(y int, m time.Month) int {
+	switch m {
+	case time.February:
+		if y%4 == 0 && (y%100 != 0 || y%400 == 0) {
+			return 29
+		}
+		return 28
+	case time.April, time.June, time.September, time.November:
+		return 30
+	}
+	return 31
 }

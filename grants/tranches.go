@@ -51,6 +51,28 @@ func (s *Schedule) tranchesBeforeEvents(g Grant) []Tranche {
 	return expand(g)
 }
 
+// lastVest is the vest date of the last of g's tranches before events
+// (tranchesBeforeEvents), or false when it has none. The column schedule
+// is not expanded for it: its last tranche always vests at vest_months,
+// where the count reaches the grant's shares (floor(shares × m /
+// vest_months) is below shares for every earlier m).
+func (s *Schedule) lastVest(g Grant) (time.Time, bool) {
+	if rows := s.vestRows(g.ID); len(rows) > 0 {
+		ts := customTranches(g, rows)
+		if len(ts) == 0 {
+			return time.Time{}, false
+		}
+		return ts[len(ts)-1].VestDate, true
+	}
+	switch {
+	case g.Shares <= 0:
+		return time.Time{}, false
+	case g.VestMonths <= 0:
+		return g.GrantDate, true
+	}
+	return AddMonths(g.VestStart, g.VestMonths), true
+}
+
 // expand applies the column schedule of DESIGN §4.2.
 func expand(g Grant) []Tranche {
 	if g.Shares <= 0 {

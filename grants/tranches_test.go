@@ -1,6 +1,7 @@
 package grants
 
 import (
+	"fmt"
 	"math/rand/v2"
 	"testing"
 	"time"
@@ -125,6 +126,66 @@ func TestAddMonths(t *testing.T) {
 	} {
 		if got := AddMonths(d(c.from), c.n); !got.Equal(d(c.want)) {
 			t.Errorf("AddMonths(%s, %d) = %s, want %s", c.from, c.n, got.Format(time.DateOnly), c.want)
+		}
+	}
+}
+
+// AddMonths counts months by arithmetic and days in a month by the
+// Gregorian rule (common practice: 29 February in years divisible by 4,
+// except centuries not divisible by 400); it must agree with package
+// time's own normalization of an overflowing month and day, from which it
+// was first written, over years before and after 1970, leap centuries and
+// months far from the start.
+func TestAddMonthsAsTimeNormalizes(t *testing.T) {
+	byTime := func(t time.Time, n int) time.Time {
+		y, m, d := t.Date()
+		first := time.Date(y, m+time.Month(n), 1, 0, 0, 0, 0, time.UTC)
+		last := first.AddDate(0, 1, -1).Day()
+		if d > last {
+			d = last
+		}
+		return time.Date(first.Year(), first.Month(), d, 0, 0, 0, 0, time.UTC)
+	}
+	rng := rand.New(rand.NewPCG(3, 4))
+	for range 200_000 {
+		from := time.Date(rng.IntN(2600)-300, time.Month(1+rng.IntN(12)), 1+rng.IntN(31), rng.IntN(24), 0, 0, 0, time.UTC)
+		n := rng.IntN(2600) - 1300
+		if got, want := AddMonths(from, n), byTime(from, n); !got.Equal(want) {
+			t.Fatalf("AddMonths(%v, %d) = %v, want %v", from, n, got, want)
+		}
+	}
+	for _, y := range []int{1600, 1700, 1900, 2000, 2100, 2400, -100, -400, 0} {
+		from := time.Date(y, time.January, 31, 0, 0, 0, 0, time.UTC)
+		if got, want := AddMonths(from, 1), byTime(from, 1); !got.Equal(want) {
+			t.Errorf("AddMonths(%v, 1) = %v, want %v", from, got, want)
+		}
+	}
+}
+
+// lastVest is the vest date of the last tranche the schedule expands
+// (custom Vesting rows or the columns), without expanding the columns.
+func TestLastVestIsLastTranche(t *testing.T) {
+	rng := rand.New(rand.NewPCG(5, 6))
+	s := smallSchedule()
+	s.Vesting = nil
+	var gs []Grant
+	for i := range 20_000 {
+		start := time.Date(2020+rng.IntN(6), time.Month(1+rng.IntN(12)), 28+rng.IntN(4), 0, 0, 0, 0, time.UTC)
+		g := Grant{ID: fmt.Sprintf("G%d", i), GrantDate: start.AddDate(0, 0, -rng.IntN(40)), VestStart: start,
+			Shares: int64(rng.IntN(5000)) - 10, VestMonths: rng.IntN(70) - 2, CliffMonths: rng.IntN(30) - 2, VestEvery: rng.IntN(14) - 1}
+		if rng.IntN(10) == 0 { // some on custom rows, of any shares
+			for k := range 1 + rng.IntN(6) {
+				s.Vesting = append(s.Vesting, VestRow{GrantID: g.ID, VestDate: start.AddDate(0, rng.IntN(40)-k, 0), Shares: int64(rng.IntN(300)) - 20})
+			}
+		}
+		gs = append(gs, g)
+	}
+	s.Reindex()
+	for _, g := range gs {
+		ts := s.tranchesBeforeEvents(g)
+		got, ok := s.lastVest(g)
+		if ok != (len(ts) > 0) || ok && !got.Equal(ts[len(ts)-1].VestDate) {
+			t.Fatalf("grant %+v: lastVest %v %v, tranches %+v", g, got, ok, ts)
 		}
 	}
 }

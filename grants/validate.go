@@ -351,9 +351,9 @@ func (v *validator) grants() {
 		if !g.HireDate.IsZero() && !g.GrantDate.IsZero() && g.HireDate.After(g.GrantDate) {
 			if !g.ExpiryDate.IsZero() && !g.HireDate.Before(g.ExpiryDate) {
 				v.rep.errf(ref("hire_date"), "hire_date", isoDay(g.HireDate), ErrRange, "is on or after the expiry %s of %s %s", isoDay(g.ExpiryDate), article(g.Instrument), g.ID)
-			} else if ts := s.tranchesBeforeEvents(g); len(ts) > 0 && g.HireDate.After(ts[len(ts)-1].VestDate) {
+			} else if last, ok := s.lastVest(g); ok && g.HireDate.After(last) {
 				v.rep.warnf(ref("hire_date"), "hire_date", isoDay(g.HireDate), ErrRange,
-					"is after the last vest date %s of grant %s: no service is left to earn, so its whole cost is recognized on the hire date", isoDay(ts[len(ts)-1].VestDate), g.ID)
+					"is after the last vest date %s of grant %s: no service is left to earn, so its whole cost is recognized on the hire date", isoDay(last), g.ID)
 			}
 		}
 		if co := s.Company.ValuationDate; !co.IsZero() && g.GrantDate.After(co) {
@@ -386,8 +386,8 @@ func (v *validator) grants() {
 		v.marketAt(g, ref)
 		// Vesting that ends after expiry.
 		if g.Instrument != RSU && !g.ExpiryDate.IsZero() && g.ExpiryDate.After(g.GrantDate) && g.CliffMonths <= g.VestMonths {
-			ts := s.tranchesBeforeEvents(g) // events move no vest date
-			if n := len(ts); n > 0 && ts[n-1].VestDate.After(g.ExpiryDate) {
+			// Events move no vest date.
+			if lastVest, ok := s.lastVest(g); ok && lastVest.After(g.ExpiryDate) {
 				if rows := s.vestRows(g.ID); len(rows) > 0 {
 					last := rows[0]
 					for _, r := range rows {
@@ -399,7 +399,7 @@ func (v *validator) grants() {
 						"is after the expiry %s of grant %s (%s)", isoDay(g.ExpiryDate), g.ID, ref("expiry_date").Cell)
 				} else {
 					v.rep.errf(ref("vest_months"), "vest_months", "", ErrRange,
-						"vesting ends %s, after the expiry %s (%s)", isoDay(ts[n-1].VestDate), isoDay(g.ExpiryDate), ref("expiry_date").Cell)
+						"vesting ends %s, after the expiry %s (%s)", isoDay(lastVest), isoDay(g.ExpiryDate), ref("expiry_date").Cell)
 				}
 			}
 		}
@@ -709,8 +709,8 @@ func (s *Schedule) builtCurveAt(d time.Time) (*indexedCurve, bool) {
 	if !ok {
 		return nil, false
 	}
-	cv, text, err := c.build()
-	return &indexedCurve{c, cv, text, err}, true
+	ic := indexCurve(c)
+	return &ic, true
 }
 
 // curveAt is the latest curve dated on or before d.

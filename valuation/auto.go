@@ -104,19 +104,25 @@ func (am *autoModel) geometry(vest []float64) autoGeo {
 		}
 	}
 	sort.SliceStable(idx, func(a, b int) bool { return vest[idx[a]] < vest[idx[b]] })
-	for _, i := range idx {
-		if n := len(g.knots); n > 0 && vest[i] == g.knots[n-1] {
-			g.at[n-1] = append(g.at[n-1], i)
-			continue
-		}
-		g.knots = append(g.knots, vest[i])
-		g.at = append(g.at, []int{i})
-	}
-	if len(g.knots) == 0 {
+	if len(idx) == 0 {
 		return g
+	}
+	// A knot per vest time, with the tranches vesting then: a run of
+	// idx, which is in vest order.
+	g.knots = make([]float64, 0, len(idx)+1)
+	g.at = make([][]int, 0, len(idx)+1)
+	for j := 0; j < len(idx); {
+		e := j + 1
+		for e < len(idx) && vest[idx[e]] == vest[idx[j]] {
+			e++
+		}
+		g.knots = append(g.knots, vest[idx[j]])
+		g.at = append(g.at, idx[j:e:e])
+		j = e
 	}
 	g.knots = append(g.knots, T)
 	g.at = append(g.at, nil)
+	g.base = make([]int, 0, len(g.knots)-1)
 	for i := 0; i+1 < len(g.knots); i++ {
 		gap := g.knots[i+1] - g.knots[i]
 		g.base = append(g.base, max(1, int(math.Ceil(gap/dt0-1e-9))))

@@ -12,7 +12,27 @@ func YearFrac(a, b time.Time) float64 {
 // Days is the number of calendar days from a to b, counted on their
 // year-month-day in their own locations.
 func Days(a, b time.Time) int {
+	if a.Location() == time.UTC && b.Location() == time.UTC {
+		// The calendar day of a UTC time is that of its seconds.
+		if n := utcDay(b) - utcDay(a); n > -maxDays && n < maxDays {
+			return int(n)
+		}
+	}
 	da := time.Date(a.Year(), a.Month(), a.Day(), 0, 0, 0, 0, time.UTC)
 	db := time.Date(b.Year(), b.Month(), b.Day(), 0, 0, 0, 0, time.UTC)
 	return int(db.Sub(da) / (24 * time.Hour))
+}
+
+// maxDays bounds the days between two dates that Days counts from their
+// seconds; past it Days counts as it always has, through a
+// time.Duration, which saturates at about 292 years (106,751 days).
+const maxDays = 100_000
+
+// utcDay is the number of t's calendar day in UTC since 1970-01-01.
+func utcDay(t time.Time) int64 {
+	s := t.Unix()
+	if s < 0 {
+		return (s+1)/86400 - 1 // floor
+	}
+	return s / 86400
 }

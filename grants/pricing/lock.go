@@ -78,13 +78,21 @@ func isLiability(g grants.Grant) bool {
 // (see Lock); the warnings name each kept value that today's inputs would
 // change by more than its error estimate.
 func lock(v *Valuation, opts Options) ([]string, error) {
-	index := make(map[string]int, len(v.Grants))
-	for i := range v.Grants {
-		index[v.Grants[i].Inputs.Grant.ID] = i
+	valued := map[string]bool{} // of the grants named in opts.Correct
+	if len(opts.Correct) > 0 {
+		named := map[string]bool{}
+		for _, id := range opts.Correct {
+			named[id] = true
+		}
+		for i := range v.Grants {
+			if id := v.Grants[i].Inputs.Grant.ID; named[id] {
+				valued[id] = true
+			}
+		}
 	}
 	correct := map[string]bool{}
 	for _, id := range opts.Correct {
-		if _, ok := index[id]; !ok {
+		if !valued[id] {
 			return nil, &LockError{id, "is named to be corrected but is not valued in this close"}
 		}
 		if _, ok := opts.Locks[id]; !ok {
@@ -92,36 +100,51 @@ func lock(v *Valuation, opts Options) ([]string, error) {
 		}
 		correct[id] = true
 	}
-	for i := range v.Grants {
-		gv := &v.Grants[i]
-		g := gv.Inputs.Grant
-		gv.Status = Measured
-		if isLiability(g) {
-			gv.Status = Remeasured
+	// Grant by grant, on all cores: each keeps its own lock.
+	err := inChunks(len(v.Grants), grantChunk, func(lo, hi int) error {
+		for i := lo; i < hi; i++ {
+			if err := lockOne(&v.Grants[i], opts.Locks, correct); err != nil {
+				return err
+			}
 		}
-		lk, ok := opts.Locks[g.ID]
-		if !ok {
-			continue
-		}
-		gv.Lock = &lk
-		if correct[g.ID] {
-			gv.Status = Corrected
-			continue
-		}
-		if lk.Liability != isLiability(g) {
-			return nil, &LockError{g.ID, fmt.Sprintf("was %s at the prior close of %s and is %s now: a change of classification is not booked by grantworth; name the grant to be corrected if the classification was an error",
-				classOf(lk.Liability), day(lk.Close), classOf(isLiability(g)))}
-		}
-		if lk.Liability {
-			continue // its past values are kept as revaluations
-		}
-		if err := keep(gv, &lk); err != nil {
-			return nil, err
-		}
-		gv.Key = lk.Key
-		gv.Lock.Tranches = nil // kept in Results, BSM and the rates
+		return nil
+	})
+	if err != nil {
+		return nil, err
 	}
 	return driftWarnings(v.Grants), nil
+}
+
+// lockOne sets gv's Status and keeps its values from its lock in locks,
+// if it has one and is not named in correct.
+func lockOne(gv *GrantValue, locks map[string]Lock, correct map[string]bool) error {
+	g := gv.Inputs.Grant
+	gv.Status = Measured
+	if isLiability(g) {
+		gv.Status = Remeasured
+	}
+	lk, ok := locks[g.ID]
+	if !ok {
+		return nil
+	}
+	gv.Lock = &lk
+	if correct[g.ID] {
+		gv.Status = Corrected
+		return nil
+	}
+	if lk.Liability != isLiability(g) {
+		return &LockError{g.ID, fmt.Sprintf("was %s at the prior close of %s and is %s now: a change of classification is not booked by grantworth; name the grant to be corrected if the classification was an error",
+			classOf(lk.Liability), day(lk.Close), classOf(isLiability(g)))}
+	}
+	if lk.Liability {
+		return nil // its past values are kept as revaluations
+	}
+	if err := keep(gv, &lk); err != nil {
+		return err
+	}
+	gv.Key = lk.Key
+	gv.Lock.Tranches = nil // kept in Results, BSM and the rates
+	return nil
 }
 
 // Drift is how far today's inputs would move a locked grant's values:
@@ -206,7 +229,62 @@ func day(t time.Time) string { return t.Format(time.DateOnly) }
 
 // dayKey is the number of t's calendar day, for matching dates by day.
 func dayKey(t time.Time) int64 {
-	return time.Date(t.Year(), t.Month(), t.Day(), 0, 0, 0, 0, time.UTC).Unix() / 86400
+	if t.Location() == time.UTC { // the day of its seconds, as read
+		s := t.Unix()
+		if s < 0 {
+			return (s+1)/86400 - 1 // floor
+		}
+		return s / 86400
+	}
+	y, m, d := t.Date()
+	return time.Date(y, m, d, 0, 0, 0, 0, time.UTC).Unix() / 86400
+}
+
+// filedTranche is, for each tranche of ts, the position in filed of the
+// tranche filed with the same vest day (the last such), or -1.
+func filedTranche(ts []grants.Tranche, filed []LockedTranche) []int {
+	at := make([]int, len(ts))
+	days := make([]int64, len(filed))
+	increasing := true
+	for j, t := range filed {
+		days[j] = dayKey(t.VestDate)
+		increasing = increasing && (j == 0 || days[j] > days[j-1])
+	}
+	if increasing {
+		// Both in vest-date order, as Tranches gives them and a close
+		// files them: one merge.
+		j, prev, sorted := 0, int64(math.MinInt64), true
+		for k, tr := range ts {
+			d := dayKey(tr.VestDate)
+			if d < prev {
+				sorted = false
+				break
+			}
+			prev = d
+			for j < len(days) && days[j] < d {
+				j++
+			}
+			at[k] = -1
+			if j < len(days) && days[j] == d {
+				at[k] = j
+			}
+		}
+		if sorted {
+			return at
+		}
+	}
+	byDay := make(map[int64]int, len(filed))
+	for j, d := range days {
+		byDay[d] = j
+	}
+	for k, tr := range ts {
+		j, ok := byDay[dayKey(tr.VestDate)]
+		if !ok {
+			j = -1
+		}
+		at[k] = j
+	}
+	return at
 }
 
 // keep puts lk's values in place of gv's, tranche by tranche by vest
@@ -214,10 +292,7 @@ func dayKey(t time.Time) int64 {
 // today's values differ by more than their error estimates.
 func keep(gv *GrantValue, lk *Lock) error {
 	g := gv.Inputs.Grant
-	byDay := map[int64]int{}
-	for j, t := range lk.Tranches {
-		byDay[dayKey(t.VestDate)] = j
-	}
+	at := filedTranche(gv.Inputs.Tranches, lk.Tranches)
 	var shares, now, then float64
 	differs := false
 	// Grants on the same terms share one slice of results (valued once,
@@ -227,8 +302,8 @@ func keep(gv *GrantValue, lk *Lock) error {
 		gv.Results = slices.Clone(gv.Results)
 	}
 	for k, tr := range gv.Inputs.Tranches {
-		j, ok := byDay[dayKey(tr.VestDate)]
-		if !ok {
+		j := at[k]
+		if j < 0 {
 			return &LockError{g.ID, fmt.Sprintf("its tranche vesting %s has no value filed at the prior close of %s (its vesting changed since): name the grant to be corrected so that it is measured again at its grant date",
 				day(tr.VestDate), day(lk.Close))}
 		}

@@ -33,7 +33,7 @@ func studiesLedger() *grants.Schedule {
 
 // closeOf values s (after prior, if any) with opts as the value command
 // does, books it and renders its valuation.json.
-func closeOf(t *testing.T, s *grants.Schedule, prior *accounting.Prior, opts pricing.Options) (*pricing.Valuation, []byte) {
+func closeOf(t testing.TB, s *grants.Schedule, prior *accounting.Prior, opts pricing.Options) (*pricing.Valuation, []byte) {
 	t.Helper()
 	if prior != nil {
 		if _, err := accounting.Open(s, prior); err != nil {
@@ -66,7 +66,7 @@ func closeOf(t *testing.T, s *grants.Schedule, prior *accounting.Prior, opts pri
 
 // readBack is the close whose valuation.json is data as a later close
 // reads it (report.ReadPrior), a fresh copy at each call.
-func readBack(t *testing.T, data []byte) *accounting.Prior {
+func readBack(t testing.TB, data []byte) *accounting.Prior {
 	t.Helper()
 	dir := t.TempDir()
 	if err := os.WriteFile(filepath.Join(dir, "valuation.json"), data, 0o644); err != nil {

@@ -5,7 +5,6 @@ import (
 	"encoding/hex"
 	"fmt"
 	"math"
-	"runtime"
 	"slices"
 	"sort"
 	"strconv"
@@ -357,28 +356,40 @@ func Value(s *grants.Schedule, ins []grants.Inputs, opts Options) (*Valuation, e
 	for _, id := range opts.Correct {
 		correct[id] = true
 	}
-	for i := range ins {
-		gv := &v.Grants[i]
-		gv.Inputs = ins[i]
-		gv.Key = p.key(gv)
-		if lk, ok := opts.Locks[gv.Inputs.Grant.ID]; ok && opts.Reuse && !correct[gv.Inputs.Grant.ID] &&
-			!lk.Liability && !isLiability(gv.Inputs.Grant) && gv.Inputs.Condition == nil && lk.Key != "" && lk.Key == gv.Key {
-			gv.Reused = true
+	// Each grant's key, and whether it is reused, on all cores (a
+	// rerun's keys are most of its valuing).
+	inChunks(len(ins), grantChunk, func(lo, hi int) error {
+		var kb keyBuf
+		for i := lo; i < hi; i++ {
+			gv := &v.Grants[i]
+			gv.Inputs = ins[i]
+			gv.Key = kb.grantKey(p, gv)
+			if lk, ok := opts.Locks[gv.Inputs.Grant.ID]; ok && opts.Reuse && !correct[gv.Inputs.Grant.ID] &&
+				!lk.Liability && !isLiability(gv.Inputs.Grant) && gv.Inputs.Condition == nil && lk.Key != "" && lk.Key == gv.Key {
+				gv.Reused = true
+			}
 		}
-	}
+		return nil
+	})
 	base, _, err := p.valueSet(v.Grants, shift{}, opts.Progress)
 	if err != nil {
 		return nil, err
 	}
-	for i := range v.Grants {
-		gv := &v.Grants[i]
-		gv.Results = base[i]
-		if gv.Reused { // filled from the lock by lock()
-			gv.Results = make([]valuation.Result, len(gv.Inputs.Tranches))
+	err = inChunks(len(v.Grants), grantChunk, func(lo, hi int) error {
+		for i := lo; i < hi; i++ {
+			gv := &v.Grants[i]
+			gv.Results = base[i]
+			if gv.Reused { // filled from the lock by lock()
+				gv.Results = make([]valuation.Result, len(gv.Inputs.Tranches))
+			}
+			if err := p.compare(gv); err != nil {
+				return err
+			}
 		}
-		if err := p.compare(gv); err != nil {
-			return nil, err
-		}
+		return nil
+	})
+	if err != nil {
+		return nil, err
 	}
 	warns, err := lock(v, opts)
 	if err != nil {
@@ -683,16 +694,23 @@ func (p *pricer) infeasible(g grants.Grant, terms []valuation.Terms, m valuation
 // unvalued are the grants of gs, by ID, that valueSet keeps at their base
 // values in the shifted case sh, found without valuing any.
 func (p *pricer) unvalued(gs []GrantValue, sh shift) []string {
-	var kept []string
-	curves := map[*valuation.Curve]*valuation.Curve{}
-	for i := range gs {
-		in := gs[i].Inputs
-		if in.Condition.Market() {
-			continue
+	out := make([]bool, len(gs))
+	inChunks(len(gs), 16, func(lo, hi int) error {
+		curves := map[*valuation.Curve]*valuation.Curve{} // a chunk's own
+		for i := lo; i < hi; i++ {
+			in := gs[i].Inputs
+			if in.Condition.Market() {
+				continue
+			}
+			terms, m, err := shiftCase(in, sh, curves)
+			out[i] = err == nil && p.infeasible(in.Grant, terms, m)
 		}
-		terms, m, err := shiftCase(in, sh, curves)
-		if err == nil && p.infeasible(in.Grant, terms, m) {
-			kept = append(kept, in.Grant.ID)
+		return nil
+	})
+	var kept []string
+	for i, x := range out {
+		if x {
+			kept = append(kept, gs[i].Inputs.Grant.ID)
 		}
 	}
 	return kept
@@ -702,78 +720,123 @@ func (p *pricer) unvalued(gs []GrantValue, sh shift) []string {
 // distinct copy. Jobs are the same when every number that enters the
 // lattice is the same, bit for bit.
 func dedupJobs(jobs []valuation.Job) ([]valuation.Job, []int) {
-	seen := map[string]int{}
+	seen := make(map[string]int, len(jobs))
 	index := make([]int, len(jobs))
 	var uniq []valuation.Job
-	for i, j := range jobs {
-		k := jobKey(j)
-		u, ok := seen[k]
+	var kb keyBuf
+	for i := range jobs {
+		k := kb.appendJob(kb.b[:0], &jobs[i])
+		kb.b = k
+		u, ok := seen[string(k)] // no copy of the key for a job seen before
 		if !ok {
 			u = len(uniq)
-			seen[k] = u
-			uniq = append(uniq, j)
+			seen[string(k)] = u
+			uniq = append(uniq, jobs[i])
 		}
 		index[i] = u
 	}
 	return uniq, index
 }
 
-// key is gv's valuation key (GrantValue.Key): a SHA-256 digest of its
-// instrument and every number that enters its valuation.
-func (p *pricer) key(gv *GrantValue) string {
+// jobKey is the text of every number of job j that enters the lattice:
+// two jobs are valued alike when their keys are equal.
+func jobKey(j valuation.Job) string {
+	var kb keyBuf
+	return string(kb.appendJob(nil, &j))
+}
+
+// keyBuf writes valuation keys and job keys into buffers it reuses, and
+// keeps the text of what many grants share (each curve's points, the
+// lattice options), so that a ledger's keys cost no allocation but the
+// keys themselves. One goroutine uses one keyBuf.
+type keyBuf struct {
+	b, g     []byte
+	vest     []float64
+	curves   map[*valuation.Curve][]byte // a curve's points, as appendJob writes them
+	opts     valuation.LatticeOptions
+	optsText []byte // of opts, once optsSet
+	optsSet  bool
+}
+
+// grantKey is gv's valuation key (GrantValue.Key) in run p: a SHA-256
+// digest of its instrument and every number that enters its valuation.
+func (kb *keyBuf) grantKey(p *pricer, gv *GrantValue) string {
 	in, g := &gv.Inputs, gv.Inputs.Grant
-	vest := make([]float64, len(in.Terms))
-	for k, t := range in.Terms {
-		vest[k] = t.YearsToVest
-	}
-	b := []byte(string(g.Instrument) + "|" + string(g.Classification) + "|" + string(g.ExerciseStyle) + "|")
+	b := kb.g[:0]
+	b = append(b, g.Instrument...)
+	b = append(b, '|')
+	b = append(b, g.Classification...)
+	b = append(b, '|')
+	b = append(b, g.ExerciseStyle...)
+	b = append(b, '|')
+	j := valuation.Job{Market: in.Market, Options: p.opts}
 	if len(in.Terms) > 0 {
-		b = append(b, jobKey(valuation.Job{Terms: in.Terms[0], VestYears: vest, Market: in.Market, Options: p.opts})...)
-	} else {
-		b = append(b, jobKey(valuation.Job{Market: in.Market, Options: p.opts})...)
+		vest := kb.vest[:0]
+		for _, t := range in.Terms {
+			vest = append(vest, t.YearsToVest)
+		}
+		kb.vest = vest
+		j.Terms, j.VestYears = in.Terms[0], vest
 	}
+	b = kb.appendJob(b, &j)
 	for _, t := range in.Terms { // a tranche's own terms (an RSU's expiry is its vest date)
-		b = strconv.AppendUint(b, math.Float64bits(t.YearsToExpiry), 16)
-		b = append(b, ',')
+		b = appendBits(b, t.YearsToExpiry)
 	}
 	if g.Instrument == grants.Warrant {
 		if d := p.dilution(g); d != nil {
 			b = fmt.Appendf(b, "|%x,%x,%t", math.Float64bits(d.SharesOutstanding), math.Float64bits(d.Warrants), d.PriceReflectsWarrants)
 		}
 	}
+	kb.g = b
 	sum := sha256.Sum256(b)
 	return hex.EncodeToString(sum[:16])
 }
 
-func jobKey(j valuation.Job) string {
-	b := make([]byte, 0, 256)
-	f := func(x float64) { b = strconv.AppendUint(b, math.Float64bits(x), 16); b = append(b, ',') }
-	t, m := j.Terms, j.Market
-	f(t.Strike)
-	f(t.YearsToExpiry)
-	f(t.ExerciseMultiple)
-	f(t.ExitRate)
+// appendBits appends x's bits in hexadecimal and a comma.
+func appendBits(b []byte, x float64) []byte {
+	b = strconv.AppendUint(b, math.Float64bits(x), 16)
+	return append(b, ',')
+}
+
+// appendJob appends the text of j's numbers (jobKey) to b.
+func (kb *keyBuf) appendJob(b []byte, j *valuation.Job) []byte {
+	t, m := &j.Terms, &j.Market
+	b = appendBits(b, t.Strike)
+	b = appendBits(b, t.YearsToExpiry)
+	b = appendBits(b, t.ExerciseMultiple)
+	b = appendBits(b, t.ExitRate)
 	b = strconv.AppendBool(b, t.Rational)
 	b = strconv.AppendBool(b, t.European)
 	b = append(b, '|')
 	for _, v := range j.VestYears {
-		f(v)
+		b = appendBits(b, v)
 	}
 	b = append(b, '|')
-	f(m.Spot)
-	f(m.VolAnnual)
-	f(m.DividendYield)
+	b = appendBits(b, m.Spot)
+	b = appendBits(b, m.VolAnnual)
+	b = appendBits(b, m.DividendYield)
 	if m.Curve != nil {
-		ten, zs := m.Curve.Points()
-		for i := range ten {
-			f(ten[i])
-			f(zs[i])
+		text, ok := kb.curves[m.Curve]
+		if !ok {
+			ten, zs := m.Curve.Points()
+			for i := range ten {
+				text = appendBits(text, ten[i])
+				text = appendBits(text, zs[i])
+			}
+			if kb.curves == nil {
+				kb.curves = map[*valuation.Curve][]byte{}
+			}
+			kb.curves[m.Curve] = text
 		}
+		b = append(b, text...)
 	}
 	b = append(b, '|')
-	b = strconv.AppendInt(b, int64(j.Options.Steps), 10)
-	b = append(b, fmt.Sprintf("%+v", j.Options.Convention)...)
-	return string(b)
+	if !kb.optsSet || kb.opts != j.Options {
+		kb.opts, kb.optsSet = j.Options, true
+		kb.optsText = strconv.AppendInt(kb.optsText[:0], int64(j.Options.Steps), 10)
+		kb.optsText = append(kb.optsText, fmt.Sprintf("%+v", j.Options.Convention)...)
+	}
+	return append(b, kb.optsText...)
 }
 
 // sensitivityCases are the inputs moved and by how much.
@@ -1081,13 +1144,14 @@ func (p *pricer) monteCarlo(v *Valuation) error {
 	}
 	outs := make([]out, len(picks))
 	reused := make([]bool, len(picks))
-	sem := make(chan struct{}, max(1, runtime.GOMAXPROCS(0)))
+	// All at once (at most MonteCarloSample): the cores share them
+	// until the last ends, where checks taken a core at a time, of
+	// unequal lengths, would leave one core alone with the longest.
 	var wg sync.WaitGroup
 	for j, pk := range picks {
 		wg.Add(1)
-		sem <- struct{}{}
 		go func() {
-			defer func() { <-sem; wg.Done() }()
+			defer wg.Done()
 			o := &outs[j]
 			o.c, reused[j], o.err, o.mcErr = p.check(&v.Grants[pk.i], pk.k, uint64(MonteCarloSeed+j))
 		}()
@@ -1166,8 +1230,7 @@ func (p *pricer) missedTarget(v *Valuation) error {
 		}
 	}
 	v.MissedTarget = make([]MissedTarget, len(picks))
-	var wg sync.WaitGroup
-	sem := make(chan struct{}, max(1, runtime.GOMAXPROCS(0)))
+	var wg sync.WaitGroup // at most MissedTargetSample at once, as monteCarlo's
 	errs := make([]error, len(picks))
 	sim := 0
 	for j, pk := range picks {
@@ -1180,9 +1243,8 @@ func (p *pricer) missedTarget(v *Valuation) error {
 		seed := uint64(MonteCarloSeed + MonteCarloSample + sim)
 		sim++
 		wg.Add(1)
-		sem <- struct{}{}
 		go func() {
-			defer func() { <-sem; wg.Done() }()
+			defer wg.Done()
 			c, _, err, mcErr := p.check(gv, pk.k, seed)
 			if err == nil && mcErr == nil {
 				v.MissedTarget[j].Check = &c

@@ -1,0 +1,218 @@
+package pricing
+
+import (
+	"crypto/sha256"
+	"encoding/hex"
+	"fmt"
+	"math"
+	"runtime"
+	"strconv"
+	"testing"
+	"time"
+
+	"grantworth/grants"
+	"grantworth/valuation"
+)
+
+// keyBefore and jobKeyBefore are the valuation key and job key as they
+// were first written, one string at a time: the keys of a close filed
+// by an earlier build must be the ones this build computes, or a rerun
+// would value every grant again.
+func keyBefore(p *pricer, gv *GrantValue) string {
+	in, g := &gv.Inputs, gv.Inputs.Grant
+	vest := make([]float64, len(in.Terms))
+	for k, t := range in.Terms {
+		vest[k] = t.YearsToVest
+	}
+	b := []byte(string(g.Instrument) + "|" + string(g.Classification) + "|" + string(g.ExerciseStyle) + "|")
+	if len(in.Terms) > 0 {
+		b = append(b, jobKeyBefore(valuation.Job{Terms: in.Terms[0], VestYears: vest, Market: in.Market, Options: p.opts})...)
+	} else {
+		b = append(b, jobKeyBefore(valuation.Job{Market: in.Market, Options: p.opts})...)
+	}
+	for _, t := range in.Terms {
+		b = strconv.AppendUint(b, math.Float64bits(t.YearsToExpiry), 16)
+		b = append(b, ',')
+	}
+	if g.Instrument == grants.Warrant {
+		if d := p.dilution(g); d != nil {
+			b = fmt.Appendf(b, "|%x,%x,%t", math.Float64bits(d.SharesOutstanding), math.Float64bits(d.Warrants), d.PriceReflectsWarrants)
+		}
+	}
+	sum := sha256.Sum256(b)
+	return hex.EncodeToString(sum[:16])
+}
+
+func jobKeyBefore(j valuation.Job) string {
+	b := make([]byte, 0, 256)
+	f := func(x float64) { b = strconv.AppendUint(b, math.Float64bits(x), 16); b = append(b, ',') }
+	t, m := j.Terms, j.Market
+	f(t.Strike)
+	f(t.YearsToExpiry)
+	f(t.ExerciseMultiple)
+	f(t.ExitRate)
+	b = strconv.AppendBool(b, t.Rational)
+	b = strconv.AppendBool(b, t.European)
+	b = append(b, '|')
+	for _, v := range j.VestYears {
+		f(v)
+	}
+	b = append(b, '|')
+	f(m.Spot)
+	f(m.VolAnnual)
+	f(m.DividendYield)
+	if m.Curve != nil {
+		ten, zs := m.Curve.Points()
+		for i := range ten {
+			f(ten[i])
+			f(zs[i])
+		}
+	}
+	b = append(b, '|')
+	b = strconv.AppendInt(b, int64(j.Options.Steps), 10)
+	b = append(b, fmt.Sprintf("%+v", j.Options.Convention)...)
+	return string(b)
+}
+
+// The keys written into a reused buffer, with each curve's text kept, are
+// the keys as first written: for every grant of the sample (options,
+// warrants of both classifications, RSUs), under lattice options of
+// either kind, with one keyBuf for all of them as a goroutine of Value
+// uses it.
+func TestKeysAsFirstWritten(t *testing.T) {
+	v := valuedSample(t)
+	s, _, err := grants.ReadFile("../../sample/tarnwick.xlsx")
+	if err != nil {
+		t.Fatal(err)
+	}
+	kinds := map[grants.Instrument]int{}
+	for _, o := range []valuation.LatticeOptions{{}, {Steps: 400, Convention: valuation.Convention{StepsPerYear: true}}} {
+		p := &pricer{s: s, opts: o}
+		var kb keyBuf
+		for i := range v.Grants {
+			gv := &v.Grants[i]
+			kinds[gv.Inputs.Grant.Instrument]++
+			if got, want := kb.grantKey(p, gv), keyBefore(p, gv); got != want {
+				t.Errorf("grant %s, options %+v: key %s, as first written %s", gv.Inputs.Grant.ID, o, got, want)
+			}
+			vest := make([]float64, len(gv.Inputs.Terms))
+			for k, tm := range gv.Inputs.Terms {
+				vest[k] = tm.YearsToVest
+			}
+			j := valuation.Job{Market: gv.Inputs.Market, VestYears: vest, Options: o}
+			if len(gv.Inputs.Terms) > 0 {
+				j.Terms = gv.Inputs.Terms[0]
+			}
+			if got, want := string(kb.appendJob(nil, &j)), jobKeyBefore(j); got != want {
+				t.Errorf("grant %s: job key\n%s\nas first written\n%s", gv.Inputs.Grant.ID, got, want)
+			}
+		}
+	}
+	if kinds[grants.Option] == 0 || kinds[grants.Warrant] == 0 || kinds[grants.RSU] == 0 {
+		t.Fatalf("the sample should hold every instrument: %v", kinds)
+	}
+}
+
+// inChunks visits every index once, and returns the error a serial loop
+// would stop at, whatever the cores and the chunk.
+func TestInChunks(t *testing.T) {
+	defer runtime.GOMAXPROCS(runtime.GOMAXPROCS(4))
+	for _, n := range []int{0, 1, 7, 128, 129, 1000} {
+		for _, chunk := range []int{1, 3, 128} {
+			seen := make([]int, n)
+			err := inChunks(n, chunk, func(lo, hi int) error {
+				for i := lo; i < hi; i++ {
+					seen[i]++
+				}
+				return nil
+			})
+			if err != nil {
+				t.Fatal(err)
+			}
+			for i, c := range seen {
+				if c != 1 {
+					t.Fatalf("n %d chunk %d: index %d visited %d times", n, chunk, i, c)
+				}
+			}
+			if n < 2 {
+				continue
+			}
+			bad := map[int]bool{n / 2: true, n - 1: true}
+			err = inChunks(n, chunk, func(lo, hi int) error {
+				for i := lo; i < hi; i++ {
+					if bad[i] {
+						return fmt.Errorf("failed at %d", i)
+					}
+				}
+				return nil
+			})
+			if want := fmt.Sprintf("failed at %d", n/2); err == nil || err.Error() != want {
+				t.Errorf("n %d chunk %d: error %v, want %s", n, chunk, err, want)
+			}
+		}
+	}
+}
+
+// The filed tranche of each tranche is the one filed with its vest day,
+// the last of several on one day, by merge where both are in order and by
+// look-up where not.
+func TestFiledTranche(t *testing.T) {
+	day := func(s string) time.Time {
+		d, err := time.Parse(time.DateOnly, s)
+		if err != nil {
+			t.Fatal(err)
+		}
+		return d
+	}
+	ts := func(days ...string) []grants.Tranche {
+		var out []grants.Tranche
+		for _, d := range days {
+			out = append(out, grants.Tranche{VestDate: day(d)})
+		}
+		return out
+	}
+	filed := func(days ...string) []LockedTranche {
+		var out []LockedTranche
+		for _, d := range days {
+			// A filed date read back at another hour is the same day.
+			out = append(out, LockedTranche{VestDate: day(d).Add(13 * time.Hour)})
+		}
+		return out
+	}
+	for _, c := range []struct {
+		name  string
+		ts    []grants.Tranche
+		filed []LockedTranche
+		want  []int
+	}{
+		{"same", ts("2025-01-31", "2025-02-28", "2025-03-31"), filed("2025-01-31", "2025-02-28", "2025-03-31"), []int{0, 1, 2}},
+		{"fewer filed", ts("2025-01-31", "2025-02-28", "2025-03-31"), filed("2025-02-28"), []int{-1, 0, -1}},
+		{"more filed", ts("2025-02-28"), filed("2024-12-31", "2025-01-31", "2025-02-28", "2025-03-31"), []int{2}},
+		{"filed out of order", ts("2025-01-31", "2025-02-28"), filed("2025-02-28", "2025-01-31"), []int{1, 0}},
+		{"a day filed twice", ts("2025-01-31", "2025-02-28"), filed("2025-01-31", "2025-01-31", "2025-02-28"), []int{1, 2}},
+		{"tranches out of order", ts("2025-02-28", "2025-01-31"), filed("2025-01-31", "2025-02-28"), []int{1, 0}},
+		{"none filed", ts("2025-01-31"), nil, []int{-1}},
+	} {
+		got := filedTranche(c.ts, c.filed)
+		if fmt.Sprint(got) != fmt.Sprint(c.want) {
+			t.Errorf("%s: %v, want %v", c.name, got, c.want)
+		}
+	}
+}
+
+// dayKey counts the calendar day of a time in its own location, before
+// 1970 too, as time.Date at midnight UTC does.
+func TestDayKey(t *testing.T) {
+	east := time.FixedZone("UTC+9", 9*3600)
+	for _, tm := range []time.Time{
+		time.Date(1970, 1, 1, 0, 0, 0, 0, time.UTC), time.Date(1969, 12, 31, 23, 59, 59, 999, time.UTC),
+		time.Date(1969, 12, 31, 0, 0, 0, 0, time.UTC), time.Date(1900, 3, 1, 12, 0, 0, 0, time.UTC),
+		time.Date(2026, 9, 30, 0, 0, 0, 0, time.UTC), time.Date(2026, 9, 30, 23, 0, 0, 0, time.UTC),
+		time.Date(2026, 9, 30, 1, 0, 0, 0, east), time.Date(1, 1, 1, 0, 0, 0, 0, time.UTC), {},
+	} {
+		want := time.Date(tm.Year(), tm.Month(), tm.Day(), 0, 0, 0, 0, time.UTC).Unix() / 86400
+		if got := dayKey(tm); got != want {
+			t.Errorf("dayKey(%v) = %d, want %d", tm, got, want)
+		}
+	}
+}
