@@ -4,6 +4,7 @@ import (
 	"encoding"
 	"encoding/json"
 	"fmt"
+	"math"
 	"reflect"
 	"strconv"
 	"sync"
@@ -41,7 +42,13 @@ type decField struct {
 	plan *decPlan // nil: not read
 }
 
+// absent marks a float member that was not read (JSON has no NaN); only
+// the values an expense tranche may leave out are marked (ExpenseTranche,
+// the prior reader's book).
+var absent = math.NaN()
+
 var (
+	expenseTrancheType  = reflect.TypeFor[ExpenseTranche]()
 	unmarshalerType     = reflect.TypeFor[json.Unmarshaler]()
 	textUnmarshalerType = reflect.TypeFor[encoding.TextUnmarshaler]()
 )
@@ -157,6 +164,14 @@ func (d *decodePlans) plan(t reflect.Type) *decPlan {
 			pl.index[f.name] = i
 		}
 		pl.dec = pl.decodeStruct
+		if t == expenseTrancheType {
+			// A member a row leaves out (SchemaVersion 3) stays absent.
+			pl.dec = func(s *scanner, p unsafe.Pointer) {
+				et := (*ExpenseTranche)(p)
+				et.FairValuePerShare, et.GrantDateFairValuePerShare = absent, absent
+				pl.decodeStruct(s, p)
+			}
+		}
 	default:
 		pl.dec = rawDec(t)
 	}

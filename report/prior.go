@@ -7,6 +7,7 @@ import (
 	"fmt"
 	"io"
 	"io/fs"
+	"math"
 	"os"
 	"path/filepath"
 	"reflect"
@@ -439,12 +440,30 @@ func (r *priorReader) book(eg *ExpenseGrant) {
 	pg.Cost, pg.Cumulative, pg.Unrecognized = eg.Cost, eg.Cumulative, eg.Unrecognized
 	pg.LiabilityEnd, pg.Reclassified, pg.Outstanding = eg.LiabilityEnd, eg.ReclassifiedToDate, eg.Outstanding
 	for k := range pg.Tranches {
-		b := eg.Tranches[k]
+		b := &eg.Tranches[k]
 		if b.Index != pg.Tranches[k].Index {
 			r.bad[i] = fmt.Sprintf("grant %s: tranche %d valued, %d attributed in its place", pg.ID, pg.Tranches[k].Index, b.Index)
 			return
 		}
 		pg.Tranches[k].Cumulative = b.Cumulative
+		// What a row left out is the grant's tranche's (version 3), or
+		// was never left out (0 as encoding/json reads a missing member).
+		fv, gd := b.FairValuePerShare, b.GrantDateFairValuePerShare
+		if *r.schemaVersion >= 3 {
+			if math.IsNaN(fv) {
+				fv = pg.Tranches[k].Result.Value
+			}
+			if math.IsNaN(gd) {
+				gd = fv
+			}
+		}
+		if math.IsNaN(fv) {
+			fv = 0
+		}
+		if math.IsNaN(gd) {
+			gd = 0
+		}
+		b.FairValuePerShare, b.GrantDateFairValuePerShare = fv, gd
 	}
 	pg.Events = nil
 	for _, ev := range eg.Events {
