@@ -39,7 +39,8 @@ type decPlan struct {
 
 type decField struct {
 	jsonField
-	plan *decPlan // nil: not read
+	quoted []byte   // the name in quotes, as a member's name is written
+	plan   *decPlan // nil: not read
 }
 
 // absent marks a float member that was not read (JSON has no NaN); only
@@ -156,7 +157,7 @@ func (d *decodePlans) plan(t reflect.Type) *decPlan {
 		}
 		pl.index = map[string]int{}
 		for i, f := range fs {
-			df := decField{jsonField: f}
+			df := decField{jsonField: f, quoted: []byte(strconv.Quote(f.name))}
 			if !some || read[f.name] {
 				df.plan = d.plan(f.typ)
 			}
@@ -212,15 +213,17 @@ func (pl *decPlan) decodeStruct(s *scanner, p unsafe.Pointer) {
 	}
 	next := 0
 	for n := 0; s.next(&n, '}'); {
-		k := s.key()
-		if s.err != nil {
-			return
-		}
 		i := -1
-		if next < len(pl.fields) && string(k) == pl.fields[next].name {
+		if next < len(pl.fields) && s.keyIs(pl.fields[next].quoted) {
 			i = next
-		} else if j, ok := pl.index[string(k)]; ok {
-			i = j
+		} else {
+			k := s.key()
+			if s.err != nil {
+				return
+			}
+			if j, ok := pl.index[string(k)]; ok {
+				i = j
+			}
 		}
 		if i < 0 {
 			s.skip()
