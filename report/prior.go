@@ -269,11 +269,13 @@ type priorReader struct {
 	// file beside this reader. tail marks the reader of a tail: it keeps
 	// the inputs for later (inputs), notes which members it read (seen),
 	// and stops at one it cannot read on its own (stopped).
-	tailRd  *tailRead
-	tail    bool
-	stopped bool
-	seen    uint8
-	inputs  []Assumption
+	tailRd       *tailRead
+	tail         bool
+	stopped      bool
+	seen         uint8
+	inputs       blocks[Assumption]
+	held         blocks[heldAttribution]
+	heldTranches blocks[heldTranche] // theirs, one after another
 }
 
 // The members of the top level a tail's reader notes (priorReader.seen).
@@ -497,6 +499,10 @@ func (r *priorReader) addGrant(g *Grant) {
 // book pairs grant eg.GrantID with its expense attribution (the last
 // one, if the file gives two).
 func (r *priorReader) book(eg *ExpenseGrant) {
+	if r.tail {
+		r.hold(eg) // its grant is not known yet
+		return
+	}
 	i, ok := r.index[eg.GrantID]
 	if !ok {
 		c := *eg
@@ -571,7 +577,7 @@ func (r *priorReader) addInput(a *Assumption) {
 		return
 	}
 	if r.tail {
-		r.inputs = append(r.inputs, *a) // its grant is not known yet
+		r.inputs.add(*a) // its grant is not known yet
 		return
 	}
 	i, ok := r.index[a.GrantID]

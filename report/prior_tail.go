@@ -188,9 +188,20 @@ func (r *priorReader) merge(t *priorReader) {
 	if t.seen&seenExpense != 0 {
 		r.expense = t.expense
 	}
-	for i := range t.pending {
-		r.book(&t.pending[i])
-	}
+	var tranches []ExpenseTranche
+	ts := t.heldTranches.all()
+	t.held.each(func(h *heldAttribution) {
+		eg := h.eg
+		if h.tranches >= 0 {
+			tranches = tranches[:0]
+			for k := 0; k < h.tranches; k++ {
+				ht := ts()
+				tranches = append(tranches, ExpenseTranche{Index: ht.index, Cumulative: ht.cumulative, FairValuePerShare: ht.value, GrantDateFairValuePerShare: ht.grantDate})
+			}
+			eg.Tranches = tranches
+		}
+		r.book(&eg)
+	})
 	if t.seen&seenModifications != 0 {
 		r.modifications = t.modifications
 	}
@@ -203,7 +214,68 @@ func (r *priorReader) merge(t *priorReader) {
 	if t.seen&seenCrossChecks != 0 {
 		r.studies.MonteCarlo = t.studies.MonteCarlo
 	}
-	for i := range t.inputs {
-		r.addInput(&t.inputs[i])
+	t.inputs.each(r.addInput)
+}
+
+// heldTranche is what book reads of an expense tranche, held by a tail's
+// reader until the grants are known.
+type heldTranche struct {
+	index                        int
+	cumulative, value, grantDate float64
+}
+
+// heldAttribution is an attribution held by a tail's reader: the record
+// without its tranches, and their number (-1: null).
+type heldAttribution struct {
+	eg       ExpenseGrant
+	tranches int
+}
+
+// hold keeps attribution eg for the reader to book once the tail is
+// taken; of its tranches, the figures book reads.
+func (r *priorReader) hold(eg *ExpenseGrant) {
+	h := heldAttribution{eg: *eg, tranches: -1}
+	h.eg.Tranches = nil
+	if eg.Tranches != nil {
+		h.tranches = len(eg.Tranches)
+		for _, t := range eg.Tranches {
+			r.heldTranches.add(heldTranche{t.Index, t.Cumulative, t.FairValuePerShare, t.GrantDateFairValuePerShare})
+		}
+	}
+	r.held.add(h)
+}
+
+// blocks is a list that grows a block at a time: what it holds is never
+// copied as it grows (a tail holds a large ledger's attributions).
+type blocks[T any] struct{ b [][]T }
+
+const blockLen = 1024
+
+func (l *blocks[T]) add(v T) {
+	if n := len(l.b); n == 0 || len(l.b[n-1]) == blockLen {
+		l.b = append(l.b, make([]T, 0, blockLen))
+	}
+	last := &l.b[len(l.b)-1]
+	*last = append(*last, v)
+}
+
+// each calls f on every element, in order.
+func (l *blocks[T]) each(f func(*T)) {
+	for _, b := range l.b {
+		for i := range b {
+			f(&b[i])
+		}
+	}
+}
+
+// all returns a function that gives the elements in order, one a call.
+func (l *blocks[T]) all() func() *T {
+	i, j := 0, 0
+	return func() *T {
+		for j == len(l.b[i]) {
+			i, j = i+1, 0
+		}
+		j++
+		return &l.b[i][j-1]
 	}
 }
