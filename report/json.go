@@ -24,6 +24,13 @@ func WriteJSON(w io.Writer, m *Model) error {
 	// indent but for the records on one line (the golden tests and
 	// TestJSONEncoderMatchesEncodingJSON check it).
 	e := &jsonEnc{w: w, buf: make([]byte, 0, flushAt+flushAt/8)}
+	if c.Expense != nil && c.Expense.ExpenseDetail != nil && len(c.Expense.ByGrant) > 0 {
+		// An attribution's tranches leave out what the grant's give.
+		e.grantTranches = make(map[string][]Tranche, len(c.Grants))
+		for i := range c.Grants {
+			e.grantTranches[c.Grants[i].ID] = c.Grants[i].Tranches
+		}
+	}
 	encoderOf(reflect.TypeFor[Model]()).encode(e, unsafe.Pointer(&c), 0)
 	if e.err == errNonFinite {
 		if err := checkFinite(reflect.ValueOf(m), "model"); err != nil {

@@ -4,6 +4,7 @@ import (
 	"encoding"
 	"encoding/json"
 	"fmt"
+	"math"
 	"reflect"
 	"strconv"
 	"sync"
@@ -38,10 +39,17 @@ type decPlan struct {
 
 type decField struct {
 	jsonField
-	plan *decPlan // nil: not read
+	quoted []byte   // the name in quotes, as a member's name is written
+	plan   *decPlan // nil: not read
 }
 
+// absent marks a float member that was not read (JSON has no NaN); only
+// the values an expense tranche may leave out are marked (ExpenseTranche,
+// the prior reader's book).
+var absent = math.NaN()
+
 var (
+	expenseTrancheType  = reflect.TypeFor[ExpenseTranche]()
 	unmarshalerType     = reflect.TypeFor[json.Unmarshaler]()
 	textUnmarshalerType = reflect.TypeFor[encoding.TextUnmarshaler]()
 )
@@ -149,7 +157,7 @@ func (d *decodePlans) plan(t reflect.Type) *decPlan {
 		}
 		pl.index = map[string]int{}
 		for i, f := range fs {
-			df := decField{jsonField: f}
+			df := decField{jsonField: f, quoted: []byte(strconv.Quote(f.name))}
 			if !some || read[f.name] {
 				df.plan = d.plan(f.typ)
 			}
@@ -157,6 +165,14 @@ func (d *decodePlans) plan(t reflect.Type) *decPlan {
 			pl.index[f.name] = i
 		}
 		pl.dec = pl.decodeStruct
+		if t == expenseTrancheType {
+			// A member a row leaves out (SchemaVersion 3) stays absent.
+			pl.dec = func(s *scanner, p unsafe.Pointer) {
+				et := (*ExpenseTranche)(p)
+				et.FairValuePerShare, et.GrantDateFairValuePerShare = absent, absent
+				pl.decodeStruct(s, p)
+			}
+		}
 	default:
 		pl.dec = rawDec(t)
 	}
@@ -197,15 +213,17 @@ func (pl *decPlan) decodeStruct(s *scanner, p unsafe.Pointer) {
 	}
 	next := 0
 	for n := 0; s.next(&n, '}'); {
-		k := s.key()
-		if s.err != nil {
-			return
-		}
 		i := -1
-		if next < len(pl.fields) && string(k) == pl.fields[next].name {
+		if next < len(pl.fields) && s.keyIs(pl.fields[next].quoted) {
 			i = next
-		} else if j, ok := pl.index[string(k)]; ok {
-			i = j
+		} else {
+			k := s.key()
+			if s.err != nil {
+				return
+			}
+			if j, ok := pl.index[string(k)]; ok {
+				i = j
+			}
 		}
 		if i < 0 {
 			s.skip()

@@ -39,6 +39,11 @@ type jsonEnc struct {
 	// flat is set while a flat record (typeEnc.flat) is written on one
 	// line.
 	flat bool
+	// grantTranches are the tranches of each grant of the Model written,
+	// by grant ID; ref those of the grant whose expense attribution is
+	// being written (expenseTranchesEnc).
+	grantTranches map[string][]Tranche
+	ref           []Tranche
 }
 
 // flushAt is the buffer size at which the encoder writes out: large
@@ -113,11 +118,13 @@ type member struct {
 }
 
 var (
-	marshalerType     = reflect.TypeFor[json.Marshaler]()
-	textMarshalerType = reflect.TypeFor[encoding.TextMarshaler]()
-	dateType          = reflect.TypeFor[Date]()
-	encPlans          sync.Map // reflect.Type → *typeEnc
-	encPlanMu         sync.Mutex
+	marshalerType       = reflect.TypeFor[json.Marshaler]()
+	textMarshalerType   = reflect.TypeFor[encoding.TextMarshaler]()
+	dateType            = reflect.TypeFor[Date]()
+	expenseGrantType    = reflect.TypeFor[ExpenseGrant]()
+	expenseTranchesType = reflect.TypeFor[[]ExpenseTranche]()
+	encPlans            sync.Map // reflect.Type → *typeEnc
+	encPlanMu           sync.Mutex
 )
 
 // encoderOf is the plan of t, compiled on first use.
@@ -150,6 +157,18 @@ func compileEnc(t reflect.Type, building map[reflect.Type]*typeEnc) *typeEnc {
 	switch {
 	case t == dateType:
 		te.kind, te.scalar = kDate, true
+		return te
+	case t == expenseGrantType:
+		members, _ := membersOf(t, building)
+		enc := structEnc(members)
+		te.enc = func(e *jsonEnc, p unsafe.Pointer, depth int) {
+			e.ref = e.grantTranches[(*ExpenseGrant)(p).GrantID]
+			enc(e, p, depth)
+			e.ref = nil
+		}
+		return te
+	case t == expenseTranchesType:
+		te.enc = expenseTranchesEnc
 		return te
 	case t.Kind() != reflect.Pointer && (t.Implements(marshalerType) || t.Implements(textMarshalerType) ||
 		reflect.PointerTo(t).Implements(marshalerType) || reflect.PointerTo(t).Implements(textMarshalerType)):
@@ -532,3 +551,89 @@ func (e *jsonEnc) fallback(v reflect.Value, depth int) {
 	}
 	e.buf = append(e.buf, out.Bytes()...)
 }
+
+// expenseTranchesEnc writes a grant's tranche attributions
+// (expense.by_grant[].tranches), one a line, leaving out what a row would
+// repeat (SchemaVersion 3): its vest_date, shares and fair_value_per_share
+// when they are those of the grant's tranche of the same index (e.ref),
+// its grant_date_fair_value_per_share when it is its
+// fair_value_per_share. A reader takes a member left out from there. The
+// members written come in ExpenseTranche's order.
+func expenseTranchesEnc(e *jsonEnc, p unsafe.Pointer, depth int) {
+	s := *(*[]ExpenseTranche)(p)
+	switch {
+	case s == nil:
+		e.buf = append(e.buf, "null"...)
+		return
+	case len(s) == 0:
+		e.buf = append(e.buf, '[', ']')
+		return
+	}
+	e.buf = append(e.buf, '[')
+	for k := range s {
+		if k > 0 {
+			e.buf = append(e.buf, ',')
+		}
+		if len(e.buf) >= flushAt {
+			e.flush()
+		}
+		e.newline(depth + 1)
+		t := &s[k]
+		ref := trancheOf(e.ref, k, t.Index)
+		e.buf = append(e.buf, `{"index":`...)
+		e.buf = strconv.AppendInt(e.buf, int64(t.Index), 10)
+		if ref == nil || t.VestDate != ref.VestDate {
+			e.buf = append(e.buf, `,"vest_date":`...)
+			e.scalar(kDate, unsafe.Pointer(&t.VestDate))
+		}
+		if ref == nil || t.Shares != ref.Shares {
+			e.buf = append(e.buf, `,"shares":`...)
+			e.buf = strconv.AppendInt(e.buf, t.Shares, 10)
+		}
+		e.buf = append(e.buf, `,"shares_counted":`...)
+		e.float(t.SharesCounted)
+		if ref == nil || !sameFloat(t.FairValuePerShare, ref.FairValuePerShare) {
+			e.buf = append(e.buf, `,"fair_value_per_share":`...)
+			e.float(t.FairValuePerShare)
+		}
+		if !sameFloat(t.GrantDateFairValuePerShare, t.FairValuePerShare) {
+			e.buf = append(e.buf, `,"grant_date_fair_value_per_share":`...)
+			e.float(t.GrantDateFairValuePerShare)
+		}
+		e.buf = append(e.buf, `,"expected_share_at_vest":`...)
+		e.float(t.ExpectedShare)
+		e.buf = append(e.buf, `,"cost":`...)
+		e.float(t.Cost)
+		e.buf = append(e.buf, `,"cumulative_at_period_start":`...)
+		e.float(t.CumulativeOpen)
+		e.buf = append(e.buf, `,"period_amount":`...)
+		e.float(t.Amount)
+		e.buf = append(e.buf, `,"cumulative":`...)
+		e.float(t.Cumulative)
+		e.buf = append(e.buf, `,"unrecognized_cost":`...)
+		e.float(t.Unrecognized)
+		e.buf = append(e.buf, `,"remaining_years":`...)
+		e.float(t.RemainingYears)
+		e.buf = append(e.buf, '}')
+	}
+	e.newline(depth)
+	e.buf = append(e.buf, ']')
+}
+
+// trancheOf is the tranche of ts with the given index, looked for at
+// position k first; nil if there is none.
+func trancheOf(ts []Tranche, k, index int) *Tranche {
+	if k < len(ts) && ts[k].Index == index {
+		return &ts[k]
+	}
+	for i := range ts {
+		if ts[i].Index == index {
+			return &ts[i]
+		}
+	}
+	return nil
+}
+
+// sameFloat reports whether a and b are written the same: the same
+// float64, bit for bit (0 and -0 are not).
+func sameFloat(a, b float64) bool { return math.Float64bits(a) == math.Float64bits(b) }

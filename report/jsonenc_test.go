@@ -8,19 +8,103 @@ import (
 	"testing"
 )
 
-// referenceJSON is valuation.json as encoding/json writes it: the
-// reference the one-pass encoder must equal but for white space.
+// referenceJSON is valuation.json as encoding/json writes it, each
+// expense tranche without what it repeats (slimTranche): the reference
+// the one-pass encoder must equal but for white space.
 func referenceJSON(t *testing.T, m *Model) []byte {
 	t.Helper()
 	c := withEmptyLists(m)
 	var b bytes.Buffer
 	enc := json.NewEncoder(&b)
 	enc.SetEscapeHTML(false)
-	enc.SetIndent("", "  ")
 	if err := enc.Encode(c); err != nil {
 		t.Fatal(err)
 	}
-	return b.Bytes()
+	out := b.Bytes()
+	if c.Expense == nil || c.Expense.ExpenseDetail == nil {
+		return out
+	}
+	// The rows come in order after the grants: each is replaced where
+	// the one before it was.
+	grantTranches := map[string][]Tranche{}
+	for _, g := range c.Grants {
+		grantTranches[g.ID] = g.Tranches
+	}
+	at := bytes.Index(out, []byte(`"expense":`))
+	for _, eg := range c.Expense.ByGrant {
+		for _, et := range eg.Tranches {
+			full, err := json.Marshal(et)
+			if err != nil {
+				t.Fatal(err)
+			}
+			i := bytes.Index(out[at:], full)
+			if i < 0 {
+				t.Fatalf("grant %s: no row %s", eg.GrantID, full)
+			}
+			slim := slimTranche(t, et, grantTranches[eg.GrantID])
+			out = append(out[:at+i], append(slim, out[at+i+len(full):]...)...)
+			at += i + len(slim)
+		}
+	}
+	return out
+}
+
+// slimTranche is et as valuation.json has it since SchemaVersion 3: its
+// vest_date, shares and fair_value_per_share only where they are not
+// those of the grant's tranche of the same index (in ts), its
+// grant_date_fair_value_per_share only where it is not its
+// fair_value_per_share.
+func slimTranche(t *testing.T, et ExpenseTranche, ts []Tranche) []byte {
+	t.Helper()
+	type row struct {
+		Index                      int      `json:"index"`
+		VestDate                   *Date    `json:"vest_date,omitempty"`
+		Shares                     *int64   `json:"shares,omitempty"`
+		SharesCounted              float64  `json:"shares_counted"`
+		FairValuePerShare          *float64 `json:"fair_value_per_share,omitempty"`
+		GrantDateFairValuePerShare *float64 `json:"grant_date_fair_value_per_share,omitempty"`
+		ExpectedShare              float64  `json:"expected_share_at_vest"`
+		Cost                       float64  `json:"cost"`
+		CumulativeOpen             float64  `json:"cumulative_at_period_start"`
+		Amount                     float64  `json:"period_amount"`
+		Cumulative                 float64  `json:"cumulative"`
+		Unrecognized               float64  `json:"unrecognized_cost"`
+		RemainingYears             float64  `json:"remaining_years"`
+	}
+	r := row{et.Index, &et.VestDate, &et.Shares, et.SharesCounted, &et.FairValuePerShare, &et.GrantDateFairValuePerShare,
+		et.ExpectedShare, et.Cost, et.CumulativeOpen, et.Amount, et.Cumulative, et.Unrecognized, et.RemainingYears}
+	// row is ExpenseTranche's members, all of them, in their order.
+	if a, b := mustJSON(t, r), mustJSON(t, et); !bytes.Equal(a, b) {
+		t.Fatalf("the reference's row is not an ExpenseTranche:\n%s\n%s", a, b)
+	}
+	for _, gt := range ts {
+		if gt.Index != et.Index {
+			continue
+		}
+		if gt.VestDate == et.VestDate {
+			r.VestDate = nil
+		}
+		if gt.Shares == et.Shares {
+			r.Shares = nil
+		}
+		if math.Float64bits(gt.FairValuePerShare) == math.Float64bits(et.FairValuePerShare) {
+			r.FairValuePerShare = nil
+		}
+		break
+	}
+	if math.Float64bits(et.GrantDateFairValuePerShare) == math.Float64bits(et.FairValuePerShare) {
+		r.GrantDateFairValuePerShare = nil
+	}
+	return mustJSON(t, r)
+}
+
+func mustJSON(t *testing.T, v any) []byte {
+	t.Helper()
+	b, err := json.Marshal(v)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return b
 }
 
 func sameJSON(t *testing.T, name string, m *Model) {
@@ -83,6 +167,21 @@ func TestJSONEncoderMatchesEncodingJSON(t *testing.T) {
 
 	sameJSON(t, "empty", &Model{})
 	sameJSON(t, "ledger", ledgerModel(5))
+
+	// Expense tranches that differ from their grant's, or have none.
+	m = ledgerModel(4)
+	ts := m.Expense.ByGrant[0].Tranches
+	ts[0].VestDate = day("2026-01-01")
+	ts[1].Shares++
+	ts[2].FairValuePerShare = math.Copysign(0, -1)
+	m.Grants[0].Tranches[2].FairValuePerShare = 0
+	ts[3].GrantDateFairValuePerShare = 2 * ts[3].FairValuePerShare
+	ts[4].Index = 99
+	ts[5], ts[6] = ts[6], ts[5]
+	m.Expense.ByGrant[1].GrantID = "not a grant"
+	m.Grants[2].Tranches = nil
+	m.Expense.ByGrant[3].Tranches = nil
+	sameJSON(t, "expense tranches", m)
 }
 
 // A NaN or an infinity stops the writer wherever it is, the expense's

@@ -283,6 +283,22 @@ func (s *scanner) key() []byte {
 	return s.keyBuf
 }
 
+// keyIs reads a member's name and its colon if they are q (a name in
+// quotes that needs no escapes) followed at once by the colon, as a
+// file grantworth wrote has them; else it reads nothing and reports
+// false, and key reads the name.
+func (s *scanner) keyIs(q []byte) bool {
+	if s.err != nil || s.peek() != '"' {
+		return false
+	}
+	b := s.buf[s.pos:]
+	if len(b) <= len(q) || b[len(q)] != ':' || string(b[:len(q)]) != string(q) {
+		return false
+	}
+	s.pos += len(q) + 1
+	return true
+}
+
 // plainByte marks the bytes a string holds as they are: printable ASCII
 // but the quote and the backslash. numberByte marks the bytes a number is
 // made of.

@@ -204,7 +204,13 @@ type Model struct {
 // expense.financing_warrants; a liability-classified award's change in
 // fair value is compensation, and its tranches' fair_value_per_share is
 // its latest remeasurement (grant_date_fair_value_per_share beside it).
-const SchemaVersion = 2
+//
+// Version 3: a tranche of expense.by_grant leaves out what it would repeat:
+// its vest_date, shares and fair_value_per_share when they are those of
+// the grant's tranche of the same index in grants, and its
+// grant_date_fair_value_per_share when it is its fair_value_per_share
+// (expenseTranchesEnc, jsonenc.go).
+const SchemaVersion = 3
 
 // PriorClose identifies the close this one follows.
 type PriorClose struct {

@@ -7,6 +7,7 @@ import (
 	"fmt"
 	"io"
 	"io/fs"
+	"math"
 	"os"
 	"path/filepath"
 	"reflect"
@@ -63,6 +64,12 @@ func readPrior(rd io.Reader, path, file string, bufSize int) (*accounting.Prior,
 	defer ra.Close()
 	s := newScanner(ra, bufSize)
 	r := &priorReader{refuse: refuse, index: map[string]int{}, plans: priorPlans()}
+	if at, ok := rd.(io.ReaderAt); ok {
+		if size := sizeOf(rd); size > 0 {
+			r.tailRd = startTail(at, size, r.plans, bufSize)
+			defer r.tailRd.cancel()
+		}
+	}
 	if err := r.read(s); err != nil {
 		var pe *accounting.PriorError
 		var je *jsonError
@@ -94,6 +101,19 @@ func readPrior(rd io.Reader, path, file string, bufSize int) (*accounting.Prior,
 	return p, nil
 }
 
+// sizeOf is the size of the file rd reads from its start (0 if unknown).
+func sizeOf(rd io.Reader) int64 {
+	switch f := rd.(type) {
+	case *os.File:
+		if st, err := f.Stat(); err == nil && st.Mode().IsRegular() {
+			return st.Size()
+		}
+	case interface{ Size() int64 }:
+		return f.Size()
+	}
+	return 0
+}
+
 // readAhead reads a file ahead of its reader in a goroutine of its own,
 // a chunk at a time, and hashes each chunk there: the hash of a large
 // prior close (a third of its reading time) runs beside the parsing, on
@@ -114,8 +134,8 @@ const (
 	readAheadChunks = 4
 )
 
-// newReadAhead starts reading rd. The hash has had every byte once Read
-// has returned io.EOF. Close stops the goroutine.
+// newReadAhead starts reading rd. The hash h (if not nil) has had every
+// byte once Read has returned io.EOF. Close stops the goroutine.
 func newReadAhead(rd io.Reader, h io.Writer) *readAhead {
 	ra := &readAhead{full: make(chan []byte, readAheadChunks), free: make(chan []byte, readAheadChunks),
 		stop: make(chan struct{}), done: make(chan struct{})}
@@ -133,7 +153,9 @@ func newReadAhead(rd io.Reader, h io.Writer) *readAhead {
 				return
 			}
 			n, err := io.ReadFull(rd, b[:cap(b)])
-			h.Write(b[:n])
+			if h != nil {
+				h.Write(b[:n])
+			}
 			if n > 0 {
 				select {
 				case ra.full <- b[:n]:
@@ -242,7 +264,28 @@ type priorReader struct {
 	modifications []Modification // the changes of awards' terms it measured
 	plans         *decodePlans
 	studies       pricing.Studies // the checks it filed
+
+	// Reading on two cores (prior_tail.go): tailRd reads the tail of the
+	// file beside this reader. tail marks the reader of a tail: it keeps
+	// the inputs for later (inputs), notes which members it read (seen),
+	// and stops at one it cannot read on its own (stopped).
+	tailRd       *tailRead
+	tail         bool
+	stopped      bool
+	seen         uint8
+	inputs       blocks[Assumption]
+	held         blocks[heldAttribution]
+	heldTranches blocks[heldTranche] // theirs, one after another
 }
+
+// The members of the top level a tail's reader notes (priorReader.seen).
+const (
+	seenExpense uint8 = 1 << iota
+	seenModifications
+	seenSensitivity
+	seenConvergence
+	seenCrossChecks
+)
 
 // checkHead refuses a file grantworth did not write or wrote in a newer
 // format (once, before the grants are read).
@@ -276,9 +319,29 @@ func (r *priorReader) read(s *scanner) error {
 	} else {
 		s.expect('{', "an object")
 	}
+	return r.members(s, 0)
+}
+
+// members reads the members of the top-level object, n of them read
+// before, and checks that the file ends after it. A tail's reader starts
+// at a member's name.
+func (r *priorReader) members(s *scanner, n int) error {
 	decode := func(v any) { r.plans.decode(s, v) }
-	for n := 0; s.next(&n, '}'); {
+	for s.next(&n, '}') {
+		if r.tailRd != nil {
+			if took, err := r.takeTail(s); took {
+				return err
+			}
+		}
 		key := s.key()
+		if r.tail {
+			switch string(key) {
+			case "schema_version", "tool", "valuation_date", "company", "grants":
+				// What follows depends on them: the reader reads on.
+				r.stopped = true
+				return nil
+			}
+		}
 		switch string(key) {
 		case "schema_version":
 			decode(&r.schemaVersion)
@@ -308,25 +371,33 @@ func (r *priorReader) read(s *scanner) error {
 				r.addGrant(&g)
 			}
 		case "expense":
-			// The grant-date values it holds are read by its format.
-			if err := r.checkHead(); err != nil {
-				return err
+			// The grant-date values it holds are read by its format
+			// (a tail's reader leaves the check to the reader).
+			if !r.tail {
+				if err := r.checkHead(); err != nil {
+					return err
+				}
 			}
 			r.readExpense(s)
+			r.seen |= seenExpense
 		case "modifications":
 			decode(&r.modifications)
+			r.seen |= seenModifications
 		case "sensitivity":
 			var ss []Sensitivity
 			decode(&ss)
 			r.studies.Sensitivity = sensitivityStudy(ss)
+			r.seen |= seenSensitivity
 		case "convergence":
 			var c *Convergence
 			decode(&c)
 			r.studies.Convergence = convergenceStudy(c)
+			r.seen |= seenConvergence
 		case "cross_checks":
 			var cs []CrossCheck
 			decode(&cs)
 			r.studies.MonteCarlo = monteCarloStudy(cs)
+			r.seen |= seenCrossChecks
 		case "assumptions":
 			var a Assumption
 			input := r.plans.of(reflect.TypeFor[Assumption]())
@@ -371,13 +442,17 @@ func (r *priorReader) readExpense(s *scanner) {
 			if !s.open('[') {
 				continue
 			}
+			var tranches []ExpenseTranche
 			for n := 0; s.next(&n, ']'); {
-				// A fresh record each: book keeps its remeasurements.
-				var eg ExpenseGrant
+				// A fresh record each (book keeps its remeasurements)
+				// but for the array of its tranches, which book copies
+				// from.
+				eg := ExpenseGrant{Tranches: tranches[:0]}
 				grant.decode(s, unsafe.Pointer(&eg))
 				if s.err != nil {
 					break
 				}
+				tranches = eg.Tranches
 				r.book(&eg)
 			}
 			continue
@@ -424,9 +499,15 @@ func (r *priorReader) addGrant(g *Grant) {
 // book pairs grant eg.GrantID with its expense attribution (the last
 // one, if the file gives two).
 func (r *priorReader) book(eg *ExpenseGrant) {
+	if r.tail {
+		r.hold(eg) // its grant is not known yet
+		return
+	}
 	i, ok := r.index[eg.GrantID]
 	if !ok {
-		r.pending = append(r.pending, *eg)
+		c := *eg
+		c.Tranches = append([]ExpenseTranche(nil), eg.Tranches...)
+		r.pending = append(r.pending, c)
 		return
 	}
 	pg := &r.grants[i]
@@ -439,12 +520,30 @@ func (r *priorReader) book(eg *ExpenseGrant) {
 	pg.Cost, pg.Cumulative, pg.Unrecognized = eg.Cost, eg.Cumulative, eg.Unrecognized
 	pg.LiabilityEnd, pg.Reclassified, pg.Outstanding = eg.LiabilityEnd, eg.ReclassifiedToDate, eg.Outstanding
 	for k := range pg.Tranches {
-		b := eg.Tranches[k]
+		b := &eg.Tranches[k]
 		if b.Index != pg.Tranches[k].Index {
 			r.bad[i] = fmt.Sprintf("grant %s: tranche %d valued, %d attributed in its place", pg.ID, pg.Tranches[k].Index, b.Index)
 			return
 		}
 		pg.Tranches[k].Cumulative = b.Cumulative
+		// What a row left out is the grant's tranche's (version 3), or
+		// was never left out (0 as encoding/json reads a missing member).
+		fv, gd := b.FairValuePerShare, b.GrantDateFairValuePerShare
+		if *r.schemaVersion >= 3 {
+			if math.IsNaN(fv) {
+				fv = pg.Tranches[k].Result.Value
+			}
+			if math.IsNaN(gd) {
+				gd = fv
+			}
+		}
+		if math.IsNaN(fv) {
+			fv = 0
+		}
+		if math.IsNaN(gd) {
+			gd = 0
+		}
+		b.FairValuePerShare, b.GrantDateFairValuePerShare = fv, gd
 	}
 	pg.Events = nil
 	for _, ev := range eg.Events {
@@ -475,6 +574,10 @@ func (r *priorReader) book(eg *ExpenseGrant) {
 // addInput keeps an input a grant was measured with.
 func (r *priorReader) addInput(a *Assumption) {
 	if a.GrantID == "" || a.Term && a.Name != "strike" {
+		return
+	}
+	if r.tail {
+		r.inputs.add(*a) // its grant is not known yet
 		return
 	}
 	i, ok := r.index[a.GrantID]

@@ -2,6 +2,7 @@ package report
 
 import (
 	"bytes"
+	"encoding/json"
 	"errors"
 	"fmt"
 	"math"
@@ -214,5 +215,76 @@ func TestReusedValuesEqualAFreshRunToTheBit(t *testing.T) {
 	t.Logf("%d grants kept their filed values; %d lattice jobs with reuse, %d without", n, jobsReused, jobsFresh)
 	if n == 0 || jobsReused >= jobsFresh {
 		t.Errorf("%d grants reused; %d lattice jobs with reuse, %d without: want fewer", n, jobsReused, jobsFresh)
+	}
+}
+
+// A close written before SchemaVersion 3 (testdata/prior_schema2.json,
+// written by the grantworth before it) and the same close written since
+// (prior_schema3.json, whose expense tranches leave out what their grants'
+// tranches give) are read back the same: the test company's second
+// close, its liability-classified warrant G-002 accrued on a grant-date
+// value apart from its latest remeasurement.
+func TestReadPriorSchemaVersions(t *testing.T) {
+	var read [2]*accounting.Prior
+	for i, v := range []int{2, 3} {
+		p, err := ReadPrior(filepath.Join("testdata", fmt.Sprintf("prior_schema%d.json", v)))
+		if err != nil {
+			t.Fatal(err)
+		}
+		if p.SchemaVersion != v {
+			t.Fatalf("prior_schema%d.json: schema %d", v, p.SchemaVersion)
+		}
+		p.Path, p.SHA256, p.SchemaVersion = "", "", 0
+		read[i] = p
+	}
+	if !reflect.DeepEqual(read[0], read[1]) {
+		for k := range read[0].Grants {
+			if k < len(read[1].Grants) && !reflect.DeepEqual(read[0].Grants[k], read[1].Grants[k]) {
+				t.Errorf("grant %s:\nschema 2 %+v\nschema 3 %+v", read[0].Grants[k].ID, read[0].Grants[k], read[1].Grants[k])
+			}
+		}
+		t.Fatal("the two files are read differently")
+	}
+	found := false
+	for _, pg := range read[1].Grants {
+		found = found || pg.ID == "G-002" && pg.Liability && len(pg.Remeasurements) > 1 && pg.Remeasurements[0].FairValue[0] != pg.Tranches[0].Result.Value &&
+			pg.Remeasurements[0].FairValue[0] == 1.316496850549323
+	}
+	if !found {
+		t.Error("G-002 is not read with its grant-date value 1.316496850549323 (the file's) apart from its latest")
+	}
+
+	// A liability-classified warrant whose values are all its grant's:
+	// its tranches leave out both, read back as its grant's.
+	data := smallPrior()
+	var rows struct {
+		Expense struct {
+			ByGrant []struct {
+				Tranches []map[string]any `json:"tranches"`
+			} `json:"by_grant"`
+		} `json:"expense"`
+	}
+	if err := json.Unmarshal(data, &rows); err != nil || len(rows.Expense.ByGrant) != 3 {
+		t.Fatalf("smallPrior: %v", err)
+	}
+	for _, row := range rows.Expense.ByGrant[2].Tranches {
+		for _, name := range []string{"vest_date", "shares", "fair_value_per_share", "grant_date_fair_value_per_share"} {
+			if _, ok := row[name]; ok {
+				t.Errorf("the warrant's expense tranche repeats its %s: %v", name, row)
+			}
+		}
+	}
+	p, err := readPrior(bytes.NewReader(data), "small", "small", scanBuffer)
+	if err != nil {
+		t.Fatal(err)
+	}
+	w := p.Grants[2]
+	if !w.Liability || len(w.Remeasurements) != 2 || len(w.Remeasurements[0].FairValue) != 3 {
+		t.Fatalf("the warrant: %+v", w)
+	}
+	for k, tr := range w.Tranches {
+		if v := w.Remeasurements[0].FairValue[k]; v != tr.Result.Value || v == 0 {
+			t.Errorf("the warrant's tranche %d accrued on %v, its grant's value %v", tr.Index, v, tr.Result.Value)
+		}
 	}
 }
