@@ -151,7 +151,7 @@ func Build(s *grants.Schedule, v *pricing.Valuation, b *accounting.Books, run Ru
 	}
 	m.Assumptions = append(make([]Assumption, 0, rows), company...)
 	for i := range v.Grants {
-		m.Assumptions = append(m.Assumptions, grantAssumptions(&v.Grants[i], len(m.Grants[i].Tranches))...)
+		m.Assumptions = appendGrantAssumptions(m.Assumptions, &v.Grants[i], len(m.Grants[i].Tranches))
 	}
 	Summarize(m)
 	if v.SensitivitySample < len(v.Grants) {
@@ -330,22 +330,22 @@ func companyAssumptions(s *grants.Schedule) []Assumption {
 	return out
 }
 
-// grantAssumptions are the inputs a grant of that many tranches was
-// valued on, each with its cell and source text.
-func grantAssumptions(gv *pricing.GrantValue, tranches int) []Assumption {
+// appendGrantAssumptions appends to out the inputs a grant of that many
+// tranches was valued on, each with its cell and source text: straight
+// into the model's rows, sized once, with no slice of the grant's own.
+func appendGrantAssumptions(out []Assumption, gv *pricing.GrantValue, tranches int) []Assumption {
 	in, g := gv.Inputs, gv.Inputs.Grant
 	ref := func(k string) string { return g.Refs[k].String() }
 	day := func(t time.Time) string { return DateOf(t).String() }
 	src := func(key, kind string, s grants.Source) Assumption {
 		return Assumption{GrantID: g.ID, Name: key, Kind: kind, Value: s.Value, Text: strconv.FormatFloat(s.Value, 'g', -1, 64), Ref: s.Ref.String(), Source: s.Text, EffectiveDate: DateOf(s.Since)}
 	}
-	out := []Assumption{
-		{GrantID: g.ID, Name: "instrument", Kind: KindText, Text: string(g.Instrument), Ref: ref("instrument"), Term: true},
-		{GrantID: g.ID, Name: "purpose", Kind: KindText, Text: purposeOf(g), Ref: ref("purpose"), Source: purposeNote(g), Term: true},
-		{GrantID: g.ID, Name: "grant_date", Kind: KindDate, Text: day(g.GrantDate), Ref: ref("grant_date"), Term: true},
-		{GrantID: g.ID, Name: "measurement_date", Kind: KindDate, Text: day(in.MeasurementDate), Source: measurementNote(g), Term: true},
-		{GrantID: g.ID, Name: "shares", Kind: KindNumber, Value: float64(g.Shares), Text: strconv.FormatInt(g.Shares, 10), Ref: ref("shares"), Term: true},
-	}
+	out = append(out,
+		Assumption{GrantID: g.ID, Name: "instrument", Kind: KindText, Text: string(g.Instrument), Ref: ref("instrument"), Term: true},
+		Assumption{GrantID: g.ID, Name: "purpose", Kind: KindText, Text: purposeOf(g), Ref: ref("purpose"), Source: purposeNote(g), Term: true},
+		Assumption{GrantID: g.ID, Name: "grant_date", Kind: KindDate, Text: day(g.GrantDate), Ref: ref("grant_date"), Term: true},
+		Assumption{GrantID: g.ID, Name: "measurement_date", Kind: KindDate, Text: day(in.MeasurementDate), Source: measurementNote(g), Term: true},
+		Assumption{GrantID: g.ID, Name: "shares", Kind: KindNumber, Value: float64(g.Shares), Text: strconv.FormatInt(g.Shares, 10), Ref: ref("shares"), Term: true})
 	if g.Instrument != grants.RSU {
 		out = append(out,
 			Assumption{GrantID: g.ID, Name: "strike", Kind: KindMoney, Value: g.Strike, Text: strconv.FormatFloat(g.Strike, 'g', -1, 64), Ref: ref("strike"), Term: true},
@@ -364,7 +364,8 @@ func grantAssumptions(gv *pricing.GrantValue, tranches int) []Assumption {
 	return out
 }
 
-// grantAssumptionCount is len(grantAssumptions(gv)), without making them.
+// grantAssumptionCount is the number of rows appendGrantAssumptions
+// appends for gv, without making them.
 func grantAssumptionCount(gv *pricing.GrantValue) int {
 	g := gv.Inputs.Grant
 	n := 6 + len(gv.Inputs.Named()) // the terms always given, vesting, the inputs

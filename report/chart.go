@@ -2,9 +2,16 @@ package report
 
 import (
 	"bytes"
+	"encoding/binary"
+	"hash/crc32"
+	"image"
 	"image/color"
+	"image/png"
 	"math"
 	"strings"
+	"sync"
+
+	"github.com/klauspost/compress/zlib"
 
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/font"
@@ -29,11 +36,100 @@ const chartDPI = 200
 func pngOf(p *plot.Plot, w, h vg.Length) ([]byte, error) {
 	c := vgimg.NewWith(vgimg.UseWH(w, h), vgimg.UseDPI(chartDPI))
 	p.Draw(draw.New(c))
-	var buf bytes.Buffer
-	if _, err := (vgimg.PngCanvas{Canvas: c}).WriteTo(&buf); err != nil {
+	img, ok := c.Image().(*image.RGBA)
+	if !ok {
+		var buf bytes.Buffer
+		_, err := (vgimg.PngCanvas{Canvas: c}).WriteTo(&buf)
+		return buf.Bytes(), err
+	}
+	return chartPNG(img)
+}
+
+// chartPNGLevel is the Deflate level of the charts' image data. The memo
+// embeds a PNG's image data as it is, so this level sets the charts' size
+// in the PDF. Without filters, a chart's large runs of one colour
+// compress at level 3 of github.com/klauspost/compress into about as many
+// bytes as the standard PNG encoder's adaptive filters at its default
+// level (the sample memo: 559 KB against 559 KB), in a quarter of the
+// time.
+const chartPNGLevel = 3
+
+// pngScratch is what chartPNG reuses from one chart to the next: a row
+// of image data, the compressed data and the compressor.
+type pngScratch struct {
+	row []byte
+	out bytes.Buffer
+	zw  *zlib.Writer
+}
+
+var pngScratchPool = sync.Pool{New: func() any { return new(pngScratch) }}
+
+// chartPNG encodes an opaque chart as an 8-bit RGB PNG (colour type 2)
+// with filter type 0 (none) on every row, its alpha dropped: the chart is
+// drawn on an opaque background, so every pixel is already opaque, and
+// the image is the one the PNG encoder writes (it too writes an opaque
+// image as RGB), bit for bit once decoded.
+func chartPNG(img *image.RGBA) ([]byte, error) {
+	b := img.Bounds()
+	w, h := b.Dx(), b.Dy()
+	s := pngScratchPool.Get().(*pngScratch)
+	defer pngScratchPool.Put(s)
+	idat := &s.out // the image data, compressed, in one chunk
+	idat.Reset()
+	var err error
+	if s.zw == nil {
+		s.zw, err = zlib.NewWriterLevel(idat, chartPNGLevel)
+		if err != nil {
+			return nil, err
+		}
+	} else {
+		s.zw.Reset(idat)
+	}
+	n := 1 + 3*w
+	if cap(s.row) < n {
+		s.row = make([]byte, n)
+	}
+	row := s.row[:n]
+	alpha := byte(0xFF)
+	for y := b.Min.Y; y < b.Max.Y; y++ {
+		px := img.Pix[img.PixOffset(b.Min.X, y):]
+		row[0] = 0 // filter type none
+		for x, o := 0, 1; x < w; x, o = x+1, o+3 {
+			row[o], row[o+1], row[o+2] = px[4*x], px[4*x+1], px[4*x+2]
+			alpha &= px[4*x+3]
+		}
+		if _, err := s.zw.Write(row); err != nil {
+			return nil, err
+		}
+	}
+	if err := s.zw.Close(); err != nil {
 		return nil, err
 	}
-	return buf.Bytes(), nil
+	if alpha != 0xFF { // not opaque after all: keep the alpha
+		var buf bytes.Buffer
+		err := png.Encode(&buf, img)
+		return buf.Bytes(), err
+	}
+	out := make([]byte, 0, 8+25+12+idat.Len()+12)
+	out = append(out, "\x89PNG\r\n\x1a\n"...)
+	var ihdr [13]byte
+	binary.BigEndian.PutUint32(ihdr[0:], uint32(w))
+	binary.BigEndian.PutUint32(ihdr[4:], uint32(h))
+	ihdr[8], ihdr[9] = 8, 2 // 8 bits a sample, truecolour; compression, filter and interlace methods 0
+	out = pngChunk(out, "IHDR", ihdr[:])
+	out = pngChunk(out, "IDAT", idat.Bytes())
+	out = pngChunk(out, "IEND", nil)
+	return out, nil
+}
+
+// pngChunk appends a PNG chunk: length, type, data and the CRC of type
+// and data.
+func pngChunk(out []byte, typ string, data []byte) []byte {
+	out = binary.BigEndian.AppendUint32(out, uint32(len(data)))
+	start := len(out)
+	out = append(out, typ...)
+	out = append(out, data...)
+	return binary.BigEndian.AppendUint32(out, crc32.ChecksumIEEE(out[start:]))
 }
 
 func init() {

@@ -100,28 +100,53 @@ func (d *Memo) assumptions(m *Model) error {
 		return err
 	}
 	cur := m.Company.Currency
-	var company, grant []Assumption
-	for _, a := range m.Assumptions {
-		if a.GrantID == "" {
+	// A grant's input read from a company-wide cell is counted on that
+	// cell's row, not repeated. The rows are read where they are, not
+	// copied: a large schedule has hundreds of thousands.
+	type cell struct{ name, ref string }
+	var company []*Assumption
+	users := map[cell]map[string]bool{}
+	for i := range m.Assumptions {
+		if a := &m.Assumptions[i]; a.GrantID == "" {
 			company = append(company, a)
-		} else if !a.Term {
-			grant = append(grant, a)
+			users[cell{a.Name, a.Ref}] = map[string]bool{}
 		}
 	}
-	// A grant's input read from a company-wide cell is counted on that
-	// cell's row, not repeated.
-	type cell struct{ name, ref string }
-	users := map[cell]map[string]bool{}
-	for _, a := range company {
-		users[cell{a.Name, a.Ref}] = map[string]bool{}
+	// What is set grant by grant: one row per input, value and source,
+	// with the grants that share it; every row stays in the workbook.
+	type key struct{ name, value, source, sheet string }
+	type group struct {
+		n     int
+		first *Assumption
+		cells map[string]bool
 	}
-	own := grant[:0:0]
-	for _, a := range grant {
+	groups := map[key]*group{}
+	var order []key
+	own := 0
+	for i := range m.Assumptions {
+		a := &m.Assumptions[i]
+		if a.GrantID == "" || a.Term {
+			continue
+		}
 		if u, ok := users[cell{a.Name, a.Ref}]; ok {
 			u[a.GrantID] = true
-		} else {
-			own = append(own, a)
+			continue
 		}
+		own++
+		sheet, _, _ := strings.Cut(a.Ref, "!")
+		src := a.Source
+		if a.Ref != "" && strings.Contains(a.Ref, "!") {
+			src = strings.ReplaceAll(src, a.Ref, sheet) // "Grants!Q7 (grant row)" groups as "Grants (grant row)"
+		}
+		k := key{a.Name, assumptionText(*a, cur), src, sheet}
+		g := groups[k]
+		if g == nil {
+			order = append(order, k)
+			g = &group{first: a, cells: map[string]bool{}}
+			groups[k] = g
+		}
+		g.n++
+		g.cells[a.Ref] = true
 	}
 	grants := len(m.Grants)
 	if len(company) > 0 {
@@ -140,51 +165,30 @@ func (d *Memo) assumptions(m *Model) error {
 			default:
 				who = count(n) + " of " + count(grants)
 			}
-			rows[i] = []string{a.Name, assumptionText(a, cur), a.Ref, who, src}
+			rows[i] = []string{a.Name, assumptionText(*a, cur), a.Ref, who, src}
 		}
 		d.Table([]Col{{"Input", 38, false}, {"Value", 26, false}, {"Cell", 24, false}, {"Grants", 16, true}, {"Source", 66, false}}, rows)
 	}
-	if len(own) == 0 {
+	if own == 0 {
 		d.Note(fmt.Sprintf("Every grant takes the company-wide inputs above. The grants' terms (dates, shares, strike, vesting) are in section %d and, with their cells, on the workbook's Assumptions sheet.", d.sections["results"]))
 		return nil
 	}
-	// One row per input, value and source, with the grants that share
-	// it; every row stays in the workbook.
-	type key struct{ name, value, source, sheet string }
-	seen := map[key]int{}
-	first := map[key]Assumption{}
-	cells := map[key]map[string]bool{}
-	var order []key
-	for _, a := range own {
-		sheet, _, _ := strings.Cut(a.Ref, "!")
-		src := a.Source
-		if a.Ref != "" && strings.Contains(a.Ref, "!") {
-			src = strings.ReplaceAll(src, a.Ref, sheet) // "Grants!Q7 (grant row)" groups as "Grants (grant row)"
-		}
-		k := key{a.Name, assumptionText(a, cur), src, sheet}
-		if seen[k] == 0 {
-			order = append(order, k)
-			first[k] = a
-			cells[k] = map[string]bool{}
-		}
-		seen[k]++
-		cells[k][a.Ref] = true
-	}
 	sort.SliceStable(order, func(i, j int) bool { return order[i].name < order[j].name })
 	d.Sub("Set grant by grant")
-	d.Note(fmt.Sprintf("The inputs that are not one company-wide cell (%s of them over %s grants), grouped by input, value and source. The workbook's Assumptions sheet lists each one with its cell, and the grants' terms (dates, shares, strike, vesting) too.", count(len(own)), count(grants)))
+	d.Note(fmt.Sprintf("The inputs that are not one company-wide cell (%s of them over %s grants), grouped by input, value and source. The workbook's Assumptions sheet lists each one with its cell, and the grants' terms (dates, shares, strike, vesting) too.", count(own), count(grants)))
 	if len(order) > 3*maxDetailRows {
 		d.Note(fmt.Sprintf("Only the first %d of %s groups are shown.", 3*maxDetailRows, count(len(order))))
 		order = order[:3*maxDetailRows]
 	}
 	rows := make([][]string, len(order))
 	for i, k := range order {
-		who := count(seen[k]) + " grants"
-		if seen[k] == 1 {
-			who = first[k].GrantID
+		g := groups[k]
+		who := count(g.n) + " grants"
+		if g.n == 1 {
+			who = g.first.GrantID
 		}
-		ref := first[k].Ref
-		if n := len(cells[k]); n > 1 {
+		ref := g.first.Ref
+		if n := len(g.cells); n > 1 {
 			ref = k.sheet + " (" + count(n) + " cells)"
 		}
 		rows[i] = []string{k.name, k.value, who, ref, k.source}
