@@ -35,11 +35,16 @@ type decPlan struct {
 	dec    func(*scanner, unsafe.Pointer) // the other kinds
 	fields []decField                     // a struct's members
 	index  map[string]int                 // position in fields by name
+	// flat: a struct of scalars only, which WriteJSON writes on one line
+	// in a list (a tranche, an input): decodeStruct matches its members
+	// in place (inPlace) before it reads them one by one.
+	flat bool
 }
 
 type decField struct {
 	jsonField
 	quoted []byte   // the name in quotes, as a member's name is written
+	lead   []byte   // `,"name":`, the member as a one-line record has it after another
 	plan   *decPlan // nil: not read
 }
 
@@ -156,13 +161,16 @@ func (d *decodePlans) plan(t reflect.Type) *decPlan {
 			read[n] = true
 		}
 		pl.index = map[string]int{}
+		pl.flat = true
 		for i, f := range fs {
 			df := decField{jsonField: f, quoted: []byte(strconv.Quote(f.name))}
+			df.lead = append(append([]byte{','}, df.quoted...), ':')
 			if !some || read[f.name] {
 				df.plan = d.plan(f.typ)
 			}
 			pl.fields = append(pl.fields, df)
 			pl.index[f.name] = i
+			pl.flat = pl.flat && !f.embedded && scalarKind(f.typ)
 		}
 		pl.dec = pl.decodeStruct
 		if t == expenseTrancheType {
@@ -211,8 +219,11 @@ func (pl *decPlan) decodeStruct(s *scanner, p unsafe.Pointer) {
 	if !s.open('{') {
 		return
 	}
-	next := 0
-	for n := 0; s.next(&n, '}'); {
+	n, next := 0, 0
+	if pl.flat {
+		n, next = pl.inPlace(s, p)
+	}
+	for s.next(&n, '}') {
 		i := -1
 		if next < len(pl.fields) && s.keyIs(pl.fields[next].quoted) {
 			i = next
@@ -232,6 +243,146 @@ func (pl *decPlan) decodeStruct(s *scanner, p unsafe.Pointer) {
 		next = i + 1
 		pl.member(s, i, p)
 	}
+}
+
+// inPlace reads the members of a one-line record as WriteJSON writes
+// them, matched in the buffer: each name right after the '{' or the ','
+// before it, in quotes, printable ASCII without escapes, its colon right
+// after it (the next field's name tried first, as decodeStruct does, then
+// the index; a member left out or out of order is found too), up to the
+// first member that is not so written, or the end of the record or of the
+// buffer. It returns the members read (n) and the field after the last
+// one read (next); decodeStruct reads on from there, as it would have read
+// those members itself: the same values into the same fields, and a value
+// of the wrong kind or a fault refused by the same call.
+func (pl *decPlan) inPlace(s *scanner, p unsafe.Pointer) (n, next int) {
+	for s.err == nil {
+		b := s.buf[s.pos:]
+		if n > 0 {
+			if len(b) == 0 || b[0] != ',' {
+				break
+			}
+			b = b[1:]
+		}
+		i, at := -1, 0
+		if next < len(pl.fields) {
+			if q := pl.fields[next].quoted; len(b) > len(q) && b[len(q)] == ':' && string(b[:len(q)]) == string(q) {
+				i, at = next, len(q)+1
+			}
+		}
+		if i < 0 {
+			// Another member: its name read as key reads a name of
+			// printable ASCII without escapes, looked up as there.
+			if len(b) == 0 || b[0] != '"' {
+				break
+			}
+			j := 1
+			for j < len(b) && plainByte[b[j]] {
+				j++
+			}
+			if j+1 >= len(b) || b[j] != '"' || b[j+1] != ':' {
+				break
+			}
+			var ok bool
+			if i, ok = pl.index[string(b[1:j])]; !ok {
+				i = -1
+			}
+			at = j + 2
+		}
+		s.pos += len(s.buf[s.pos:]) - len(b) + at
+		n++
+		if i < 0 {
+			s.skip()
+			continue
+		}
+		next = i + 1
+		f := &pl.fields[i]
+		q := unsafe.Add(p, f.off)
+		kind := kOther
+		if f.plan != nil {
+			kind = f.plan.kind
+		}
+		switch kind {
+		case kFloat64, kInt, kInt64, kOther:
+			// A number that ends in the buffer is read here; anything
+			// else (a null, a string, a token the buffer cuts, a fault)
+			// as decodeStruct reads it.
+			b := s.buf[s.pos:]
+			r := scanNumber(b)
+			if !r.ok || r.end == len(b) {
+				pl.member(s, i, p)
+				continue
+			}
+			if f.plan == nil {
+				s.pos += r.end
+				continue
+			}
+			if !numberInPlace(s, kind, b[:r.end], &r, q) {
+				pl.member(s, i, p)
+			}
+		default:
+			f.plan.decode(s, q)
+		}
+	}
+	return n, next
+}
+
+// numberInPlace reads the number tok at s.pos, scanned whole (r), into the
+// value of kind k at q as scanner.float and scanner.integer would; false
+// (nothing read) where they would take another path.
+func numberInPlace(s *scanner, k encKind, tok []byte, r *numScan, q unsafe.Pointer) bool {
+	switch k {
+	case kFloat64:
+		if r.exp || r.nd > 19 || r.mant > 1<<53 || r.dec >= len(exactPow10) {
+			f, err := strconv.ParseFloat(unsafe.String(&tok[0], len(tok)), 64)
+			if err != nil {
+				return false
+			}
+			*(*float64)(q) = f
+			s.pos += len(tok)
+			return true
+		}
+		f := float64(r.mant) / exactPow10[r.dec]
+		if r.neg {
+			f = -f
+		}
+		*(*float64)(q) = f
+	case kInt, kInt64:
+		if r.exp || r.dec != 0 || r.nd > 18 || k == kInt && strconv.IntSize != 64 {
+			return false
+		}
+		v := int64(r.mant)
+		if r.neg {
+			v = -v
+		}
+		if k == kInt {
+			*(*int)(q) = int(v)
+		} else {
+			*(*int64)(q) = v
+		}
+	default:
+		return false
+	}
+	s.pos += len(tok)
+	return true
+}
+
+// scalarKind reports whether WriteJSON writes a value of t as a scalar
+// (its typeEnc.scalar): a struct of such members is flat.
+func scalarKind(t reflect.Type) bool {
+	if t == dateType {
+		return true
+	}
+	if t.Kind() != reflect.Pointer && (t.Implements(marshalerType) || t.Implements(textMarshalerType) ||
+		reflect.PointerTo(t).Implements(marshalerType) || reflect.PointerTo(t).Implements(textMarshalerType)) {
+		return false
+	}
+	switch t.Kind() {
+	case reflect.String, reflect.Float64, reflect.Int, reflect.Int64, reflect.Bool,
+		reflect.Int8, reflect.Int16, reflect.Int32, reflect.Uint, reflect.Uint8, reflect.Uint16, reflect.Uint32, reflect.Uint64, reflect.Uintptr:
+		return true
+	}
+	return false
 }
 
 // member reads the value that comes next into field i of the struct at p

@@ -44,7 +44,28 @@ type jsonEnc struct {
 	// being written (expenseTranchesEnc).
 	grantTranches map[string][]Tranche
 	ref           []Tranche
+	// floats holds the bytes of fractional numbers written lately, by
+	// their bits: a value written again (a grant's years_to_expiry and
+	// risk_free_rate on each of its tranches, a tranche's cost again as
+	// its cumulative) is copied instead of formatted again.
+	floats [floatMemos]floatMemo
 }
+
+// floatMemo is a float64's bits and the bytes appendFloat wrote for it
+// (n 0: none yet).
+type floatMemo struct {
+	bits uint64
+	n    uint8
+	b    [32]byte
+}
+
+// floatMemos is the number of floats jsonEnc keeps the bytes of, each
+// in the place the top floatMemoBits bits of a multiplicative hash of its
+// bits give.
+const (
+	floatMemoBits = 6
+	floatMemos    = 1 << floatMemoBits
+)
 
 // flushAt is the buffer size at which the encoder writes out: large
 // writes, few system calls.
@@ -476,7 +497,23 @@ func (e *jsonEnc) float(f float64) {
 		}
 		return
 	}
+	if f == math.Trunc(f) && math.Abs(f) < 1<<53 {
+		e.buf = appendFloat(e.buf, f) // a whole number: its digits
+		return
+	}
+	// appendFloat gives the same bytes for the same bits.
+	bits := math.Float64bits(f)
+	c := &e.floats[(bits*0x9e3779b97f4a7c15)>>(64-floatMemoBits)]
+	if c.n > 0 && c.bits == bits {
+		e.buf = append(e.buf, c.b[:c.n]...)
+		return
+	}
+	start := len(e.buf)
 	e.buf = appendFloat(e.buf, f)
+	if n := len(e.buf) - start; n <= len(c.b) {
+		c.bits, c.n = bits, uint8(n)
+		copy(c.b[:], e.buf[start:])
+	}
 }
 
 // appendFloat formats f as encoding/json does. A whole number below 2⁵³

@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"encoding/json"
 	"math"
+	"math/rand/v2"
 	"strings"
 	"testing"
 )
@@ -230,5 +231,35 @@ func TestJSONFlatRecordsOnOneLine(t *testing.T) {
 	}
 	if !strings.HasPrefix(b.String(), "{\n  \"schema_version\": ") {
 		t.Errorf("the top level is not indented: %q", b.String()[:40])
+	}
+}
+
+// The encoder writes a fractional number it wrote lately from the bytes
+// it kept (jsonEnc.floats): a stream drawn from a few values, so that
+// each is written again, after others that share its place, next to
+// values one bit apart, gives encoding/json's bytes for every one (the reference), a
+// value at a time as each is written anew.
+func TestJSONEncoderRepeatedFloats(t *testing.T) {
+	rng := rand.New(rand.NewPCG(7, 11))
+	pool := []float64{10.005479452054795, 0.0459025598046908, 5e-324, -1.5e300, 1e-7, 0.1, 2.5, 545.25, -0.3}
+	for len(pool) < 3*floatMemos {
+		x := rng.Float64() * math.Pow(10, float64(rng.IntN(40)-20))
+		pool = append(pool, x, math.Nextafter(x, 2*x)) // neighbours: one bit apart
+	}
+	e := &jsonEnc{}
+	for i := 0; i < 50_000; i++ {
+		f := pool[rng.IntN(len(pool))]
+		if rng.IntN(2) == 0 {
+			f = -f
+		}
+		e.buf = e.buf[:0]
+		e.float(f)
+		want, err := json.Marshal(f)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if !bytes.Equal(e.buf, want) {
+			t.Fatalf("%v (bits %x), number %d: encoder %s, encoding/json %s", f, math.Float64bits(f), i, e.buf, want)
+		}
 	}
 }

@@ -10,6 +10,7 @@ import (
 	"os"
 	"path/filepath"
 	"reflect"
+	"regexp"
 	"strconv"
 	"strings"
 	"testing"
@@ -337,4 +338,54 @@ func FuzzReadPrior(f *testing.F) {
 			t.Fatalf("json.Valid %v, ReadPrior %v", valid, err)
 		}
 	})
+}
+
+// A one-line record is read in place only while its members are written
+// as WriteJSON writes them; a record written otherwise (members moved,
+// left out or unknown, white space between the tokens, a name with an
+// escape, a number with an exponent, a null) is read from that member on
+// by the member loop: the result is still encoding/json's, read whole and
+// a byte at a time. The rewrites keep the file JSON (RFC 8259).
+func TestReadPriorOneLineRecordsWrittenOtherwise(t *testing.T) {
+	data := smallPrior()
+	rewrites := map[string]func([]byte) []byte{
+		"index moved last": func(b []byte) []byte {
+			return regexp.MustCompile(`\{"index":(\d+),([^{}\n]*)\}`).ReplaceAll(b, []byte(`{$2,"index":$1}`))
+		},
+		"unknown member": func(b []byte) []byte {
+			return bytes.ReplaceAll(b, []byte(`,"steps":`), []byte(`,"note":"a \"quoted\" word","steps":`))
+		},
+		"space before a colon": func(b []byte) []byte {
+			return bytes.ReplaceAll(b, []byte(`,"shares":`), []byte(`,"shares" :`))
+		},
+		"space after a comma": func(b []byte) []byte {
+			return bytes.ReplaceAll(b, []byte(`,"error_estimate":`), []byte(`, "error_estimate":`))
+		},
+		"space after the brace": func(b []byte) []byte {
+			return bytes.ReplaceAll(b, []byte(`{"index":`), []byte("{ \"index\":"))
+		},
+		"escaped name": func(b []byte) []byte {
+			return bytes.ReplaceAll(b, []byte(`,"cumulative":`), []byte(`,"cumul\u0061tive":`))
+		},
+		"exponent": func(b []byte) []byte {
+			return regexp.MustCompile(`"(cumulative|fair_value_per_share)":([0-9]+)\.([0-9]+)`).ReplaceAll(b, []byte(`"$1":$2.${3}E+0`))
+		},
+		"null": func(b []byte) []byte {
+			return bytes.ReplaceAll(b, []byte(`,"expected_term_years":`), []byte(`,"expected_term_years":null,"expected_term_years":`))
+		},
+	}
+	for name, rewrite := range rewrites {
+		b := rewrite(bytes.Clone(data))
+		if bytes.Equal(b, data) {
+			t.Fatalf("%s: the rewrite changed nothing", name)
+		}
+		got, err := readBoth(t, b)
+		if err != nil {
+			t.Fatalf("%s: %v", name, err)
+		}
+		got.Path, got.SHA256 = "", ""
+		if want := priorViaEncodingJSON(t, b); !reflect.DeepEqual(got, want) {
+			t.Errorf("%s: the scanner read\n%+v\nencoding/json\n%+v", name, got, want)
+		}
+	}
 }
