@@ -260,7 +260,7 @@ func (p *Prior) Locks() map[string]pricing.Lock {
 			from := len(block)
 			for k := range pg.Tranches {
 				t := &pg.Tranches[k]
-				block = append(block, pricing.LockedTranche{VestDate: t.VestDate, Result: t.Result, BSM: t.BSM,
+				block = append(block, pricing.LockedTranche{VestDate: t.VestDate, Result: t.Result, BSM: pricing.Comparison{Value: t.BSM.Value, ExpectedTermYears: t.BSM.ExpectedTermYears},
 					RiskFreeRate: t.RiskFreeRate, SimplifiedRate: t.SimplifiedRate})
 			}
 			if len(block) > from {

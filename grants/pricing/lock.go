@@ -56,7 +56,8 @@ type Lock struct {
 // LockedTranche is one tranche's measurement as filed.
 type LockedTranche struct {
 	VestDate                     time.Time
-	Result, BSM                  valuation.Result
+	Result                       valuation.Result
+	BSM                          Comparison // the closed-form comparison's value and expected term
 	RiskFreeRate, SimplifiedRate float64
 }
 
@@ -322,7 +323,7 @@ func keep(gv *GrantValue, lk *Lock) error {
 		shares += n
 		now += n * today.Value
 		then += n * t.Result.Value
-		gv.Results[k], gv.BSM[k] = t.Result, comparisonOf(t.BSM)
+		gv.Results[k], gv.BSM[k] = t.Result, t.BSM
 		gv.RiskFreeRate[k], gv.SimplifiedRate[k] = t.RiskFreeRate, t.SimplifiedRate
 		if c := gv.Inputs.Market.Curve; gv.Reused && c != nil {
 			// As compare gives a grant valued again, whose expected
