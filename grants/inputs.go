@@ -225,9 +225,13 @@ func (s *Schedule) feasible(in Inputs) error {
 	}
 	a := s.InForce() // value runs every lattice with the steps in force at the valuation date
 	o := valuation.LatticeOptions{Steps: a.Steps}
-	vest := make([]float64, len(in.Terms))
-	for k, tk := range in.Terms {
-		vest[k] = tk.YearsToVest
+	var buf [64]float64 // on the stack for most grants: Feasible keeps no part of vest
+	vest := buf[:0]
+	if len(in.Terms) > len(buf) {
+		vest = make([]float64, 0, len(in.Terms))
+	}
+	for _, tk := range in.Terms {
+		vest = append(vest, tk.YearsToVest)
 	}
 	err := valuation.Feasible(t, vest, in.Market, o)
 	if err == nil {

@@ -26,7 +26,11 @@ import (
 // Cancelled. A grant with no shares has no tranches.
 func (s *Schedule) Tranches(g Grant) []Tranche {
 	ts := s.tranchesBeforeEvents(g)
-	for _, m := range s.allocate(g, ts, s.EventsOf(g.ID)).Moves {
+	evs := s.EventsOf(g.ID)
+	if len(evs) == 0 {
+		return ts // no event moves a share (Allocate of no events makes no moves)
+	}
+	for _, m := range s.allocate(g, ts, evs).Moves {
 		if m.Vested {
 			continue
 		}

@@ -416,7 +416,7 @@ func rollOutstanding(l *awardLedger, r *rollAccs, act *Activity, open, start, en
 	for i, t := range l.tr {
 		strike := func(d time.Time) float64 { return l.strikeOn(i, d) } // in force on d
 		atOpen, atEnd := t.Tranche.Shares, t.Tranche.Shares
-		for _, m := range t.moves {
+		for _, m := range t.moves() {
 			if dayOnOrBefore(m.date, open) {
 				atOpen -= m.shares
 				atEnd -= m.shares
@@ -468,7 +468,7 @@ func rollNonvested(l *awardLedger, r *rollAccs, open, start, end time.Time, inPe
 		}
 		unvestedBy := func(d time.Time) int64 {
 			var n int64
-			for _, m := range t.moves {
+			for _, m := range t.moves() {
 				if !m.vested && dayOnOrBefore(m.date, d) {
 					n += m.shares
 				}
@@ -480,7 +480,7 @@ func rollNonvested(l *awardLedger, r *rollAccs, open, start, end time.Time, inPe
 		} else if !dayOnOrBefore(ev, open) {
 			r.start.add(t.Tranche.Shares-unvestedBy(open), 0, t.FairValue)
 		}
-		for _, m := range t.moves {
+		for _, m := range t.moves() {
 			if m.vested || dayOnOrBefore(m.date, open) || !dayOnOrBefore(m.date, end) {
 				continue
 			}

@@ -74,10 +74,41 @@ type trancheLedger struct {
 	// Award.Tranches, origN the day number of that tranche's vest date as
 	// granted (its key in a prior close), and layers its costs. For any
 	// other award of is the entry's own index and origN its vestN.
-	origN  int32
-	of     int
+	origN int32
+	of    int
+	// more holds the moves and layers of the few tranches that have any
+	// (moves, layers, extra): nil for the rest, which keeps the entry at
+	// 64 bytes.
+	more *trancheMore
+}
+
+type trancheMore struct {
 	moves  []move
 	layers []layer
+}
+
+// moves are the events that took shares of the tranche, in date order.
+func (t *trancheLedger) moves() []move {
+	if t.more == nil {
+		return nil
+	}
+	return t.more.moves
+}
+
+// layers are the tranche's cost layers once a change touched its award.
+func (t *trancheLedger) layers() []layer {
+	if t.more == nil {
+		return nil
+	}
+	return t.more.layers
+}
+
+// extra is t.more, made when first needed.
+func (t *trancheLedger) extra() *trancheMore {
+	if t.more == nil {
+		t.more = new(trancheMore)
+	}
+	return t.more
 }
 
 type awardLedger struct {
@@ -287,7 +318,7 @@ func newAwardLedger(a *Award, pol Policy, asOf time.Time) (*awardLedger, error) 
 	if exp := l.expiry; !exp.IsZero() && dayOnOrBefore(exp, asOf) && g.Instrument != grants.RSU {
 		for i := range l.tr {
 			if n := l.tr[i].open(); n > 0 {
-				l.tr[i].moves = append(l.tr[i].moves, move{date: exp, dayN: dayNum(exp), kind: grants.Expired, shares: n, vested: true})
+				l.tr[i].extra().moves = append(l.tr[i].moves(), move{date: exp, dayN: dayNum(exp), kind: grants.Expired, shares: n, vested: true})
 			}
 		}
 	}
@@ -302,7 +333,7 @@ func (t *trancheLedger) vestDate() time.Time { return dayDate(int(t.vestN)) }
 
 func (t *trancheLedger) open() int64 {
 	n := t.Tranche.Shares
-	for _, m := range t.moves {
+	for _, m := range t.moves() {
 		n -= m.shares
 	}
 	return n
@@ -382,7 +413,7 @@ func (l *awardLedger) apply(pevs []pricedEvent) error {
 		if e := pevs[m.Event].Event; e.Kind == grants.Cancelled && e.ReplacementGrantID != "" {
 			mv.replaced, mv.by = true, changeKey{grant: g.ID, day: mv.dayN, replaced: true}
 		}
-		t.moves = append(t.moves, mv)
+		t.extra().moves = append(t.moves(), mv)
 	}
 	return nil
 }
@@ -404,7 +435,7 @@ func (t *trancheLedger) countsN(d int) trancheCounts { return t.countsWhere(d, n
 // or before day d.
 func (t *trancheLedger) countsWhere(d int, keep func(move) bool) trancheCounts {
 	c := trancheCounts{open: t.Tranche.Shares}
-	for _, m := range t.moves {
+	for _, m := range t.moves() {
 		if keep == nil && m.dayN > d || keep != nil && !keep(m) {
 			continue
 		}
@@ -609,7 +640,7 @@ func (l *awardLedger) atView(pol Policy, v view, comp []float64) snapshot {
 // exercised shares leave the liability in the same view (countsWhere).
 func (l *awardLedger) settledN(i int, v view) float64 {
 	var x float64
-	for _, m := range l.tr[i].moves {
+	for _, m := range l.tr[i].moves() {
 		if m.kind == grants.Exercised && (v.keep == nil && m.dayN <= v.d || v.keep != nil && v.keep(m)) {
 			x += l.fairValueAt(i, m.dayN) * float64(m.shares)
 		}

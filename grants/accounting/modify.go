@@ -141,7 +141,7 @@ func (ly *layer) expected(kd int, rate float64, v view, sv *survivals) float64 {
 // replacement), a plain cancellation before it recognizes it at once.
 func (t *trancheLedger) counts(ly *layer, d int, v view) (live, accel int64) {
 	live = t.Tranche.Shares
-	for _, m := range t.moves {
+	for _, m := range t.moves() {
 		if v.keep == nil && m.dayN > d || v.keep != nil && !v.keep(m) {
 			continue
 		}
@@ -180,7 +180,7 @@ func (t *trancheLedger) on(l *awardLedger, ly *layer, d int, v view) bool {
 		return ly.endN == 0 || d < ly.endN
 	}
 	for i := range l.tr {
-		for _, m := range l.tr[i].moves {
+		for _, m := range l.tr[i].moves() {
 			if m.kind == grants.Forfeited && m.dayN == ly.endN && (v.keep == nil && m.dayN <= d || v.keep != nil && v.keep(m)) {
 				return false
 			}
@@ -201,6 +201,10 @@ func (l *awardLedger) cut(asOf time.Time) {
 	var tr []trancheLedger
 	for j, p := range mod.Parts {
 		t := l.tr[p.Tranche]
+		if t.more != nil { // each part its own moves and layers, as a copy's slices were
+			m := *t.more
+			t.more = &m
+		}
 		t.of = p.Tranche
 		t.Tranche.Shares = p.Shares
 		for _, ch := range mod.Changes {
@@ -222,7 +226,7 @@ func (l *awardLedger) cut(asOf time.Time) {
 func (l *awardLedger) layer(asOf time.Time) {
 	for i := range l.tr {
 		t := &l.tr[i]
-		t.layers = []layer{{kind: layerBase, startN: int(t.startN), value: t.FairValue, to: []retarget{{from: int(t.startN), vest: int(t.origN)}}}}
+		t.extra().layers = []layer{{kind: layerBase, startN: int(t.startN), value: t.FairValue, to: []retarget{{from: int(t.startN), vest: int(t.origN)}}}}
 	}
 	mod := l.in.Modified
 	if mod == nil {
@@ -241,8 +245,8 @@ func (l *awardLedger) layer(asOf time.Time) {
 			cp := ch.Parts[j]
 			vb, va := dayNum(cp.VestBefore), dayNum(cp.VestAfter)
 			if vb > M && va < vb {
-				for li := range t.layers {
-					ly := &t.layers[li]
+				for li := range t.layers() {
+					ly := &t.layers()[li]
 					if ly.endN == 0 && ly.target(M, view{}) > va {
 						ly.to = append(ly.to, retarget{from: M, vest: va, by: key})
 					}
@@ -252,7 +256,7 @@ func (l *awardLedger) layer(asOf time.Time) {
 				continue
 			}
 			liveM := t.Tranche.Shares
-			for _, m := range t.moves {
+			for _, m := range t.moves() {
 				if m.dayN < M && !m.vested && (m.kind == grants.Forfeited || m.kind == grants.Cancelled) {
 					liveM -= m.shares
 				}
@@ -269,8 +273,8 @@ func (l *awardLedger) layer(asOf time.Time) {
 				// the terms before, so the cost earned on them ends today
 				// and their fair value on the date replaces it.
 				r3 := float64(improbable) / float64(liveM)
-				for li, nl := 0, len(t.layers); li < nl; li++ {
-					ly := &t.layers[li]
+				for li, nl := 0, len(t.layers()); li < nl; li++ {
+					ly := &t.layers()[li]
 					if ly.endN != 0 {
 						continue
 					}
@@ -279,13 +283,13 @@ func (l *awardLedger) layer(asOf time.Time) {
 					ended.value = ly.value * r3
 					ended.endN, ended.endBy = M, key
 					ly.value -= ended.value
-					t.layers = append(t.layers, ended)
+					t.extra().layers = append(t.layers(), ended)
 				}
-				t.layers = append(t.layers, layer{kind: layerImprobable, key: key, startN: M, value: ch.ValuesAfter[j] * r3, to: []retarget{{from: M, vest: va}}})
+				t.extra().layers = append(t.layers(), layer{kind: layerImprobable, key: key, startN: M, value: ch.ValuesAfter[j] * r3, to: []retarget{{from: M, vest: va}}})
 			}
 			if rest := cp.Shares - improbable; rest > 0 {
 				if inc := ch.ValuesAfter[j] - ch.ValuesBefore[j]; inc > 0 {
-					t.layers = append(t.layers, layer{kind: layerIncrement, key: key, startN: M, value: inc * float64(rest) / float64(liveM), to: []retarget{{from: M, vest: va}}})
+					t.extra().layers = append(t.layers(), layer{kind: layerIncrement, key: key, startN: M, value: inc * float64(rest) / float64(liveM), to: []retarget{{from: M, vest: va}}})
 				}
 			}
 		}
@@ -312,8 +316,8 @@ func (l *awardLedger) replace(c *awardLedger, k int) {
 		if cp.Shares == 0 || dayNum(cp.VestBefore) <= M {
 			continue
 		}
-		for li := range t.layers {
-			ly := &t.layers[li]
+		for li := range t.layers() {
+			ly := &t.layers()[li]
 			if !t.on(c, ly, M-1, view{}) {
 				continue
 			}
@@ -335,7 +339,7 @@ func (l *awardLedger) replace(c *awardLedger, k int) {
 	}
 	for i := range l.tr {
 		t := &l.tr[i]
-		t.layers[0].value = 0
+		t.layers()[0].value = 0
 		if !unvested || int(t.vestN) > M {
 			pool += float64(t.Tranche.Shares)
 		}
@@ -345,10 +349,10 @@ func (l *awardLedger) replace(c *awardLedger, k int) {
 	for i := range l.tr {
 		t := &l.tr[i]
 		if carried > 0 && pool > 0 && (!unvested || int(t.vestN) > M) {
-			t.layers = append(t.layers, layer{kind: layerCarried, key: key, startN: M, value: carried / pool, f0: earned / carried, to: []retarget{{from: M, vest: int(t.vestN)}}})
+			t.extra().layers = append(t.layers(), layer{kind: layerCarried, key: key, startN: M, value: carried / pool, f0: earned / carried, to: []retarget{{from: M, vest: int(t.vestN)}}})
 		}
 		if inc > 0 && worth > 0 && t.FairValue > 0 {
-			t.layers = append(t.layers, layer{kind: layerIncrement, key: key, startN: M, value: inc * t.FairValue / worth, to: []retarget{{from: M, vest: int(t.vestN)}}})
+			t.extra().layers = append(t.layers(), layer{kind: layerIncrement, key: key, startN: M, value: inc * t.FairValue / worth, to: []retarget{{from: M, vest: int(t.vestN)}}})
 		}
 	}
 	l.replaced = &replacedBy{of: c, change: k, carried: carried, earned: earned, before: before, worth: worth}
@@ -434,8 +438,8 @@ func (l *awardLedger) atLayered(pol Policy, v view, comp []float64) snapshot {
 func (l *awardLedger) eachLayer(d int, v view, f func(part int, ly *layer, live, acc int64)) {
 	for i := range l.tr {
 		t := &l.tr[i]
-		for li := range t.layers {
-			ly := &t.layers[li]
+		for li := range t.layers() {
+			ly := &t.layers()[li]
 			if !t.on(l, ly, d, v) {
 				continue
 			}
@@ -869,8 +873,8 @@ func (l *awardLedger) endedCost(d int, key changeKey) float64 {
 	sv := l.survival()
 	for i := range l.tr {
 		t := &l.tr[i]
-		for li := range t.layers {
-			ly := &t.layers[li]
+		for li := range t.layers() {
+			ly := &t.layers()[li]
 			if ly.endBy != key || !t.on(l, ly, d, v) {
 				continue
 			}

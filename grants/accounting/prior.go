@@ -236,6 +236,15 @@ func (p *Prior) Locks() map[string]pricing.Lock {
 		return nil
 	}
 	out := make(map[string]pricing.Lock, len(p.Grants))
+	// Every equity award's filed tranches in one block, each award's its
+	// own full slice of it (no append can reach the next award's).
+	n := 0
+	for i := range p.Grants {
+		if !p.Grants[i].Liability {
+			n += len(p.Grants[i].Tranches)
+		}
+	}
+	block := make([]pricing.LockedTranche, 0, n)
 	for i := range p.Grants {
 		pg := &p.Grants[i]
 		lk := pricing.Lock{Close: p.ValuationDate, Liability: pg.Liability, MeasurementDate: pg.MeasurementDate, ExpiryDate: pg.ExpiryDate, Inputs: pg.Inputs, Key: pg.ValuationKey,
@@ -248,13 +257,14 @@ func (p *Prior) Locks() map[string]pricing.Lock {
 				lk.Revaluations = append(lk.Revaluations, pricing.Revaluation{Date: r.Date, Values: r.FairValue})
 			}
 		} else {
-			if len(pg.Tranches) > 0 {
-				lk.Tranches = make([]pricing.LockedTranche, 0, len(pg.Tranches))
-			}
+			from := len(block)
 			for k := range pg.Tranches {
 				t := &pg.Tranches[k]
-				lk.Tranches = append(lk.Tranches, pricing.LockedTranche{VestDate: t.VestDate, Result: t.Result, BSM: t.BSM,
+				block = append(block, pricing.LockedTranche{VestDate: t.VestDate, Result: t.Result, BSM: pricing.Comparison{Value: t.BSM.Value, ExpectedTermYears: t.BSM.ExpectedTermYears},
 					RiskFreeRate: t.RiskFreeRate, SimplifiedRate: t.SimplifiedRate})
+			}
+			if len(block) > from {
+				lk.Tranches = block[from:len(block):len(block)]
 			}
 		}
 		out[pg.ID] = lk

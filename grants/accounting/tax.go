@@ -223,7 +223,7 @@ func (l *awardLedger) settlements(in TaxInputs, ifrs bool, from, to int) []Settl
 	}
 	for i := range l.tr {
 		t := &l.tr[i]
-		for _, m := range t.moves {
+		for _, m := range t.moves() {
 			if m.dayN < from || m.dayN > to {
 				continue
 			}

@@ -56,7 +56,8 @@ type Lock struct {
 // LockedTranche is one tranche's measurement as filed.
 type LockedTranche struct {
 	VestDate                     time.Time
-	Result, BSM                  valuation.Result
+	Result                       valuation.Result
+	BSM                          Comparison // the closed-form comparison's value and expected term
 	RiskFreeRate, SimplifiedRate float64
 }
 
@@ -244,16 +245,19 @@ func dayKey(t time.Time) int64 {
 // tranche filed with the same vest day (the last such), or -1.
 func filedTranche(ts []grants.Tranche, filed []LockedTranche) []int {
 	at := make([]int, len(ts))
-	days := make([]int64, len(filed))
 	increasing := true
-	for j, t := range filed {
-		days[j] = dayKey(t.VestDate)
-		increasing = increasing && (j == 0 || days[j] > days[j-1])
+	for j := 1; j < len(filed) && increasing; j++ {
+		increasing = dayKey(filed[j].VestDate) > dayKey(filed[j-1].VestDate)
 	}
 	if increasing {
 		// Both in vest-date order, as Tranches gives them and a close
-		// files them: one merge.
+		// files them: one merge (the filed days are worked out as it
+		// goes, not kept: a rerun merges every grant's).
 		j, prev, sorted := 0, int64(math.MinInt64), true
+		fd := int64(math.MinInt64) // dayKey of filed[j], once j < len(filed)
+		if len(filed) > 0 {
+			fd = dayKey(filed[0].VestDate)
+		}
 		for k, tr := range ts {
 			d := dayKey(tr.VestDate)
 			if d < prev {
@@ -261,11 +265,13 @@ func filedTranche(ts []grants.Tranche, filed []LockedTranche) []int {
 				break
 			}
 			prev = d
-			for j < len(days) && days[j] < d {
-				j++
+			for j < len(filed) && fd < d {
+				if j++; j < len(filed) {
+					fd = dayKey(filed[j].VestDate)
+				}
 			}
 			at[k] = -1
-			if j < len(days) && days[j] == d {
+			if j < len(filed) && fd == d {
 				at[k] = j
 			}
 		}
@@ -274,8 +280,8 @@ func filedTranche(ts []grants.Tranche, filed []LockedTranche) []int {
 		}
 	}
 	byDay := make(map[int64]int, len(filed))
-	for j, d := range days {
-		byDay[d] = j
+	for j := range filed {
+		byDay[dayKey(filed[j].VestDate)] = j
 	}
 	for k, tr := range ts {
 		j, ok := byDay[dayKey(tr.VestDate)]
@@ -317,7 +323,7 @@ func keep(gv *GrantValue, lk *Lock) error {
 		shares += n
 		now += n * today.Value
 		then += n * t.Result.Value
-		gv.Results[k], gv.BSM[k] = t.Result, comparisonOf(t.BSM)
+		gv.Results[k], gv.BSM[k] = t.Result, t.BSM
 		gv.RiskFreeRate[k], gv.SimplifiedRate[k] = t.RiskFreeRate, t.SimplifiedRate
 		if c := gv.Inputs.Market.Curve; gv.Reused && c != nil {
 			// As compare gives a grant valued again, whose expected
