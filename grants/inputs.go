@@ -2,14 +2,13 @@ package grants
 
 import (
 	"fmt"
-	"runtime"
 	"sort"
 	"strconv"
 	"strings"
-	"sync"
 	"sync/atomic"
 	"time"
 
+	"grantworth/internal/cores"
 	"grantworth/valuation"
 )
 
@@ -373,12 +372,13 @@ func (s *Schedule) ValueInputs() (ins []Inputs, errs []error, skipped []string) 
 	ins = make([]Inputs, len(made))
 	errAt := make([]error, len(made))
 	var failed atomic.Bool
-	inChunks(len(made), inputsChunk, func(lo, hi int) {
+	cores.Chunks(len(made), inputsChunk, func(lo, hi int) error {
 		for j := lo; j < hi; j++ {
 			if ins[j], errAt[j] = s.Inputs(s.Grants[made[j]]); errAt[j] != nil {
 				failed.Store(true)
 			}
 		}
+		return nil
 	})
 	if !failed.Load() {
 		return ins, nil, skipped
@@ -402,36 +402,6 @@ func (s *Schedule) ValueInputs() (ins []Inputs, errs []error, skipped []string) 
 // inputsChunk is how many consecutive grants one goroutine of ValueInputs
 // gathers at a time.
 const inputsChunk = 64
-
-// inChunks calls work on the consecutive ranges [lo, hi) of chunk items
-// that cover [0, n), on all cores. work must write only the items of its
-// range.
-func inChunks(n, chunk int, work func(lo, hi int)) {
-	chunks := (n + chunk - 1) / chunk
-	workers := min(runtime.GOMAXPROCS(0), chunks)
-	if workers <= 1 {
-		for lo := 0; lo < n; lo += chunk {
-			work(lo, min(lo+chunk, n))
-		}
-		return
-	}
-	var next atomic.Int64
-	var wg sync.WaitGroup
-	for range workers {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			for {
-				c := int(next.Add(1) - 1)
-				if c >= chunks {
-					return
-				}
-				work(c*chunk, min((c+1)*chunk, n))
-			}
-		}()
-	}
-	wg.Wait()
-}
 
 // PeriodEndPrice is the share price in force at the valuation date (the
 // Share Prices row dated on or before it), with its cell: the disclosures

@@ -9,6 +9,7 @@ import (
 	"time"
 
 	"grantworth/grants"
+	"grantworth/internal/cores"
 	"grantworth/valuation"
 )
 
@@ -102,7 +103,7 @@ func lock(v *Valuation, opts Options) ([]string, error) {
 		correct[id] = true
 	}
 	// Grant by grant, on all cores: each keeps its own lock.
-	err := inChunks(len(v.Grants), grantChunk, func(lo, hi int) error {
+	err := cores.Chunks(len(v.Grants), grantChunk, func(lo, hi int) error {
 		for i := lo; i < hi; i++ {
 			if err := lockOne(&v.Grants[i], opts.Locks, correct); err != nil {
 				return err

@@ -13,6 +13,7 @@ import (
 	"time"
 
 	"grantworth/grants"
+	"grantworth/internal/cores"
 	"grantworth/valuation"
 )
 
@@ -358,7 +359,7 @@ func Value(s *grants.Schedule, ins []grants.Inputs, opts Options) (*Valuation, e
 	}
 	// Each grant's key, and whether it is reused, on all cores (a
 	// rerun's keys are most of its valuing).
-	inChunks(len(ins), grantChunk, func(lo, hi int) error {
+	cores.Chunks(len(ins), grantChunk, func(lo, hi int) error {
 		var kb keyBuf
 		for i := lo; i < hi; i++ {
 			gv := &v.Grants[i]
@@ -375,7 +376,7 @@ func Value(s *grants.Schedule, ins []grants.Inputs, opts Options) (*Valuation, e
 	if err != nil {
 		return nil, err
 	}
-	err = inChunks(len(v.Grants), grantChunk, func(lo, hi int) error {
+	err = cores.Chunks(len(v.Grants), grantChunk, func(lo, hi int) error {
 		for i := lo; i < hi; i++ {
 			gv := &v.Grants[i]
 			gv.Results = base[i]
@@ -695,7 +696,7 @@ func (p *pricer) infeasible(g grants.Grant, terms []valuation.Terms, m valuation
 // values in the shifted case sh, found without valuing any.
 func (p *pricer) unvalued(gs []GrantValue, sh shift) []string {
 	out := make([]bool, len(gs))
-	inChunks(len(gs), 16, func(lo, hi int) error {
+	cores.Chunks(len(gs), 16, func(lo, hi int) error {
 		curves := map[*valuation.Curve]*valuation.Curve{} // a chunk's own
 		for i := lo; i < hi; i++ {
 			in := gs[i].Inputs
