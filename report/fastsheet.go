@@ -325,6 +325,15 @@ func (w *rowWriter) ref(col int) {
 		w.next++
 		return
 	}
+	w.at(col)
+}
+
+// at gives the cell being begun its r attribute wherever it stands. A
+// cell of a shared formula always has it: readers place a shared formula
+// and move its references by its cells' own references (openpyxl 3.0,
+// the reader pandas uses for workbooks, fails on such a cell without
+// one).
+func (w *rowWriter) at(col int) {
 	w.next = col + 1
 	w.b = append(w.b, ` r="`...)
 	w.b = appendColumn(w.b, col)
@@ -797,7 +806,7 @@ func (w *rowWriter) shared(col, s int, f rowFormula, run *formulaRun, k int) {
 		return
 	}
 	w.b = append(w.b, `<c`...)
-	w.ref(col)
+	w.at(col)
 	w.style(s)
 	w.b = append(w.b, ` t="str"><f t="shared"`...)
 	if w.r != run.first {

@@ -237,9 +237,11 @@ func sameCells(t *testing.T, label string, got, want []byte) {
 	}
 }
 
-// sheetCell is a cell of a worksheet's XML with its place.
+// sheetCell is a cell of a worksheet's XML with its place; hasRef says
+// whether it gives its place by its own r attribute.
 type sheetCell struct {
 	col, row int
+	hasRef   bool
 	f        *struct {
 		T    string `xml:"t,attr"`
 		Ref  string `xml:"ref,attr"`
@@ -290,7 +292,7 @@ func sheetCells(t *testing.T, name string, x []byte) []sheetCell {
 				}
 				col = cc
 			}
-			out = append(out, sheetCell{col: col, row: row, f: c.F})
+			out = append(out, sheetCell{col: col, row: row, hasRef: c.R != "", f: c.F})
 		}
 	}
 	return out
@@ -299,7 +301,11 @@ func sheetCells(t *testing.T, name string, x []byte) []sheetCell {
 // checkSharedFormulas checks the shared formulas of a worksheet's XML
 // (ECMA-376 Part 1, 18.3.1.40): each is given once, with its text and a
 // range (ref) that is exactly the cells of one column that refer to it,
-// all of them below the one that gives it, rows one after the other.
+// all of them below the one that gives it, rows one after the other; and
+// every cell of a shared formula names its place (r), which the format
+// leaves optional but widely used readers need to move the formula's
+// references (openpyxl 3.0.9, from Debian's python3-openpyxl, fails on a
+// shared formula's cell without it).
 func checkSharedFormulas(t *testing.T, name string, x []byte) {
 	t.Helper()
 	type use struct {
@@ -315,6 +321,9 @@ func checkSharedFormulas(t *testing.T, name string, x []byte) {
 		if c.f.Si == nil {
 			t.Errorf("%s: a shared formula at column %d row %d without si", name, c.col, c.row)
 			continue
+		}
+		if !c.hasRef {
+			t.Errorf("%s: the shared formula's cell at column %d row %d without its r attribute", name, c.col, c.row)
 		}
 		u := shared[*c.f.Si]
 		if c.f.Ref != "" {
