@@ -16,7 +16,8 @@
 #              (default: 10000; "" for none)
 #   GOBENCH    go test -bench pattern for ./valuation (default: the lattice
 #              and auto mode; "" to skip)
-#   BENCHTIME  go test -benchtime (default: 3x)
+#   BENCHTIME  go test -benchtime (default: 100x: fewer runs are dominated by
+#              the first, cold one)
 #   WORK       scratch folder (default: a new one under /tmp, removed after)
 #
 # Each run is timed by /usr/bin/time -v: wall time, CPU time (user +
@@ -29,7 +30,7 @@ SIZES=${SIZES:-"1000 10000 50000 100000"}
 KINDS=${KINDS:-"realistic adversarial"}
 PRIOR=${PRIOR-10000}
 GOBENCH=${GOBENCH-'BenchmarkLattice(Tranches|Auto)$|BenchmarkRunJobsAuto$'}
-BENCHTIME=${BENCHTIME:-3x}
+BENCHTIME=${BENCHTIME:-100x}
 
 root=$(cd "$(dirname "$0")/.." && pwd)
 if [ -z "${WORK:-}" ]; then
