@@ -1,6 +1,10 @@
 package grants
 
-import "time"
+import (
+	"time"
+
+	"grantworth/valuation"
+)
 
 // Instrument is the kind of award.
 type Instrument string
@@ -380,10 +384,7 @@ const dayOffset = 1 << 30
 
 // dayNumber is the calendar day of d as days since 1970-01-01 plus
 // dayOffset.
-func dayNumber(d time.Time) int32 {
-	y, m, day := d.Date()
-	return int32(time.Date(y, m, day, 0, 0, 0, 0, time.UTC).Unix()/86400 + dayOffset)
-}
+func dayNumber(d time.Time) int32 { return int32(valuation.DayNumber(d) + dayOffset) }
 
 // fromDayNumber is the date dayNumber gave n, at midnight UTC; the zero
 // Time for 0.

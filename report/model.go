@@ -4,6 +4,8 @@ import (
 	"encoding/json"
 	"fmt"
 	"time"
+
+	"grantworth/valuation"
 )
 
 // Date is a calendar date. It is written as YYYY-MM-DD in JSON and as a
@@ -23,9 +25,7 @@ func DateOf(t time.Time) Date {
 	if t.IsZero() {
 		return Date{}
 	}
-	y, m, d := t.Date()
-	days := time.Date(y, m, d, 0, 0, 0, 0, time.UTC).Unix() / 86400
-	return Date{int32(days + dayOffset)}
+	return Date{int32(valuation.DayNumber(t) + dayOffset)}
 }
 
 // Time is the date at midnight UTC.

@@ -184,17 +184,7 @@ func dayOnOrBefore(a, b time.Time) bool { return dayNum(a) <= dayNum(b) }
 // dn is the day number of t's calendar day (days since 1970-01-01), so
 // that the inner loops compare and subtract integers. dayNum(b) − dayNum(a) equals
 // valuation.Days(a, b).
-func dayNum(t time.Time) int {
-	if t.Location() == time.UTC { // every UTC day is 86,400 seconds: the floor of its seconds over that
-		u := t.Unix()
-		n := u / 86400
-		if u%86400 < 0 {
-			n--
-		}
-		return int(n)
-	}
-	return int(time.Date(t.Year(), t.Month(), t.Day(), 0, 0, 0, 0, time.UTC).Unix() / 86400)
-}
+func dayNum(t time.Time) int { return int(valuation.DayNumber(t)) }
 
 // dayDate is the calendar day numbered n (dayNum), at midnight UTC.
 func dayDate(n int) time.Time { return time.Unix(int64(n)*86400, 0).UTC() }

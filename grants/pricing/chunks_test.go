@@ -158,20 +158,3 @@ func TestFiledTranche(t *testing.T) {
 		}
 	}
 }
-
-// dayKey counts the calendar day of a time in its own location, before
-// 1970 too, as time.Date at midnight UTC does.
-func TestDayKey(t *testing.T) {
-	east := time.FixedZone("UTC+9", 9*3600)
-	for _, tm := range []time.Time{
-		time.Date(1970, 1, 1, 0, 0, 0, 0, time.UTC), time.Date(1969, 12, 31, 23, 59, 59, 999, time.UTC),
-		time.Date(1969, 12, 31, 0, 0, 0, 0, time.UTC), time.Date(1900, 3, 1, 12, 0, 0, 0, time.UTC),
-		time.Date(2026, 9, 30, 0, 0, 0, 0, time.UTC), time.Date(2026, 9, 30, 23, 0, 0, 0, time.UTC),
-		time.Date(2026, 9, 30, 1, 0, 0, 0, east), time.Date(1, 1, 1, 0, 0, 0, 0, time.UTC), {},
-	} {
-		want := time.Date(tm.Year(), tm.Month(), tm.Day(), 0, 0, 0, 0, time.UTC).Unix() / 86400
-		if got := dayKey(tm); got != want {
-			t.Errorf("dayKey(%v) = %d, want %d", tm, got, want)
-		}
-	}
-}

@@ -229,38 +229,25 @@ func classOf(liability bool) string {
 
 func day(t time.Time) string { return t.Format(time.DateOnly) }
 
-// dayKey is the number of t's calendar day, for matching dates by day.
-func dayKey(t time.Time) int64 {
-	if t.Location() == time.UTC { // the day of its seconds, as read
-		s := t.Unix()
-		if s < 0 {
-			return (s+1)/86400 - 1 // floor
-		}
-		return s / 86400
-	}
-	y, m, d := t.Date()
-	return time.Date(y, m, d, 0, 0, 0, 0, time.UTC).Unix() / 86400
-}
-
 // filedTranche is, for each tranche of ts, the position in filed of the
 // tranche filed with the same vest day (the last such), or -1.
 func filedTranche(ts []grants.Tranche, filed []LockedTranche) []int {
 	at := make([]int, len(ts))
 	increasing := true
 	for j := 1; j < len(filed) && increasing; j++ {
-		increasing = dayKey(filed[j].VestDate) > dayKey(filed[j-1].VestDate)
+		increasing = valuation.DayNumber(filed[j].VestDate) > valuation.DayNumber(filed[j-1].VestDate)
 	}
 	if increasing {
 		// Both in vest-date order, as Tranches gives them and a close
 		// files them: one merge (the filed days are worked out as it
 		// goes, not kept: a rerun merges every grant's).
 		j, prev, sorted := 0, int64(math.MinInt64), true
-		fd := int64(math.MinInt64) // dayKey of filed[j], once j < len(filed)
+		fd := int64(math.MinInt64) // the day number of filed[j], once j < len(filed)
 		if len(filed) > 0 {
-			fd = dayKey(filed[0].VestDate)
+			fd = valuation.DayNumber(filed[0].VestDate)
 		}
 		for k, tr := range ts {
-			d := dayKey(tr.VestDate)
+			d := valuation.DayNumber(tr.VestDate)
 			if d < prev {
 				sorted = false
 				break
@@ -268,7 +255,7 @@ func filedTranche(ts []grants.Tranche, filed []LockedTranche) []int {
 			prev = d
 			for j < len(filed) && fd < d {
 				if j++; j < len(filed) {
-					fd = dayKey(filed[j].VestDate)
+					fd = valuation.DayNumber(filed[j].VestDate)
 				}
 			}
 			at[k] = -1
@@ -282,10 +269,10 @@ func filedTranche(ts []grants.Tranche, filed []LockedTranche) []int {
 	}
 	byDay := make(map[int64]int, len(filed))
 	for j := range filed {
-		byDay[dayKey(filed[j].VestDate)] = j
+		byDay[valuation.DayNumber(filed[j].VestDate)] = j
 	}
 	for k, tr := range ts {
-		j, ok := byDay[dayKey(tr.VestDate)]
+		j, ok := byDay[valuation.DayNumber(tr.VestDate)]
 		if !ok {
 			j = -1
 		}
