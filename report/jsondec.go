@@ -333,27 +333,15 @@ func (pl *decPlan) inPlace(s *scanner, p unsafe.Pointer) (n, next int) {
 func numberInPlace(s *scanner, k encKind, tok []byte, r *numScan, q unsafe.Pointer) bool {
 	switch k {
 	case kFloat64:
-		if r.exp || r.nd > 19 || r.mant > 1<<53 || r.dec >= len(exactPow10) {
-			f, err := strconv.ParseFloat(unsafe.String(&tok[0], len(tok)), 64)
-			if err != nil {
-				return false
-			}
-			*(*float64)(q) = f
-			s.pos += len(tok)
-			return true
-		}
-		f := float64(r.mant) / exactPow10[r.dec]
-		if r.neg {
-			f = -f
+		f, ok := floatOf(tok, r)
+		if !ok {
+			return false
 		}
 		*(*float64)(q) = f
 	case kInt, kInt64:
-		if r.exp || r.dec != 0 || r.nd > 18 || k == kInt && strconv.IntSize != 64 {
+		v, ok := wholeOf(r)
+		if !ok || k == kInt && strconv.IntSize != 64 {
 			return false
-		}
-		v := int64(r.mant)
-		if r.neg {
-			v = -v
 		}
 		if k == kInt {
 			*(*int)(q) = int(v)

@@ -522,20 +522,41 @@ func (s *scanner) float(dst *float64) {
 	if tok == nil {
 		return
 	}
+	f, ok := floatOf(tok, &r)
+	if !ok {
+		s.failAt(s.pos-len(tok), false, "the number %s is out of range", tok)
+		return
+	}
+	*dst = f
+}
+
+// floatOf is the float64 of the number tok, scanned whole (r): by one
+// exact division where its digits and its power of ten are exact float64s
+// (Clinger's fast path), else by strconv.ParseFloat; false when it is out
+// of range.
+func floatOf(tok []byte, r *numScan) (float64, bool) {
 	if !r.exp && r.nd <= 19 && r.mant <= 1<<53 && r.dec < len(exactPow10) {
 		f := float64(r.mant) / exactPow10[r.dec]
 		if r.neg {
 			f = -f
 		}
-		*dst = f
-		return
+		return f, true
 	}
 	f, err := strconv.ParseFloat(unsafe.String(&tok[0], len(tok)), 64)
-	if err != nil {
-		s.failAt(s.pos-len(tok), false, "the number %s is out of range", tok)
-		return
+	return f, err == nil
+}
+
+// wholeOf is the number scanned (r) as an int64 when it is written as a
+// whole number of at most 18 digits; false when strconv must decide.
+func wholeOf(r *numScan) (int64, bool) {
+	if r.exp || r.dec != 0 || r.nd > 18 {
+		return 0, false
 	}
-	*dst = f
+	v := int64(r.mant)
+	if r.neg {
+		v = -v
+	}
+	return v, true
 }
 
 // exactPow10 are the powers of ten a float64 holds exactly.
@@ -547,12 +568,10 @@ func (s *scanner) integer(bits int) (v int64, ok bool) {
 	if tok == nil {
 		return 0, false
 	}
-	if !r.exp && r.dec == 0 && r.nd <= 18 && bits == 64 {
-		v = int64(r.mant)
-		if r.neg {
-			v = -v
+	if bits == 64 {
+		if v, ok := wholeOf(&r); ok {
+			return v, true
 		}
-		return v, true
 	}
 	v, err := strconv.ParseInt(unsafe.String(&tok[0], len(tok)), 10, bits)
 	if err != nil {
