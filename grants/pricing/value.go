@@ -739,13 +739,6 @@ func dedupJobs(jobs []valuation.Job) ([]valuation.Job, []int) {
 	return uniq, index
 }
 
-// jobKey is the text of every number of job j that enters the lattice:
-// two jobs are valued alike when their keys are equal.
-func jobKey(j valuation.Job) string {
-	var kb keyBuf
-	return string(kb.appendJob(nil, &j))
-}
-
 // keyBuf writes valuation keys and job keys into buffers it reuses, and
 // keeps the text of what many grants share (each curve's points, the
 // lattice options), so that a ledger's keys cost no allocation but the
@@ -799,7 +792,8 @@ func appendBits(b []byte, x float64) []byte {
 	return append(b, ',')
 }
 
-// appendJob appends the text of j's numbers (jobKey) to b.
+// appendJob appends to b the text of every number of job j that enters
+// the lattice: two jobs are valued alike when their texts are equal.
 func (kb *keyBuf) appendJob(b []byte, j *valuation.Job) []byte {
 	t, m := &j.Terms, &j.Market
 	b = appendBits(b, t.Strike)

@@ -463,3 +463,10 @@ func TestLedgerPathEqualsEachGrantAlone(t *testing.T) {
 	}
 	t.Logf("%d option tranches checked; %d distinct lattice jobs", checked, len(jobs))
 }
+
+// jobKey is the text of every number of job j that enters the lattice
+// (keyBuf.appendJob): two jobs are valued alike when their keys are equal.
+func jobKey(j valuation.Job) string {
+	var kb keyBuf
+	return string(kb.appendJob(nil, &j))
+}
