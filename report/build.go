@@ -2,6 +2,7 @@ package report
 
 import (
 	"fmt"
+	"math"
 	"sort"
 	"strconv"
 	"time"
@@ -224,9 +225,10 @@ func Build(s *grants.Schedule, v *pricing.Valuation, b *accounting.Books, run Ru
 	m.Assumptions = make([]Assumption, rows[n])
 	copy(m.Assumptions, company)
 	eachGrant(n, func(lo, hi int) {
+		texts := inputTexts{}
 		for i := lo; i < hi; i++ {
 			at, end := rows[i], rows[i+1]
-			if got := appendGrantAssumptions(m.Assumptions[at:at:end], &v.Grants[i], len(m.Grants[i].Tranches)); len(got) != end-at {
+			if got := appendGrantAssumptions(m.Assumptions[at:at:end], &v.Grants[i], len(m.Grants[i].Tranches), texts); len(got) != end-at {
 				panic(fmt.Sprintf("report: grant %s has %d assumption rows, %d counted", v.Grants[i].Inputs.Grant.ID, len(got), end-at))
 			}
 		}
@@ -413,13 +415,10 @@ func companyAssumptions(s *grants.Schedule) []Assumption {
 // appendGrantAssumptions appends to out the inputs a grant of that many
 // tranches was valued on, each with its cell and source text: straight
 // into the model's rows, sized once, with no slice of the grant's own.
-func appendGrantAssumptions(out []Assumption, gv *pricing.GrantValue, tranches int) []Assumption {
+func appendGrantAssumptions(out []Assumption, gv *pricing.GrantValue, tranches int, texts inputTexts) []Assumption {
 	in := &gv.Inputs
 	g := &in.Grant
 	ref := func(k string) string { return g.Refs[k].String() }
-	src := func(key, kind string, s *grants.Source) Assumption {
-		return Assumption{GrantID: g.ID, Name: key, Kind: kind, Value: s.Value, Text: strconv.FormatFloat(s.Value, 'g', -1, 64), Ref: s.Ref.String(), Source: s.Text, EffectiveDate: DateOf(s.Since)}
-	}
 	out = append(out,
 		Assumption{GrantID: g.ID, Name: "instrument", Kind: KindText, Text: string(g.Instrument), Ref: ref("instrument"), Term: true},
 		Assumption{GrantID: g.ID, Name: "purpose", Kind: KindText, Text: purposeOf(g), Ref: ref("purpose"), Source: purposeNote(g), Term: true},
@@ -446,9 +445,44 @@ func appendGrantAssumptions(out []Assumption, gv *pricing.GrantValue, tranches i
 	out = append(out, Assumption{GrantID: g.ID, Name: "vesting", Kind: KindText,
 		Text: string(text), Ref: firstRef(g.Refs, "vest_months", "vest_start"), Source: string(source), Term: true})
 	for _, n := range in.Named() {
-		out = append(out, src(n.Key, inputKinds[n.Key], n.Source))
+		t := texts.of(n.Key, n.Source)
+		out = append(out, Assumption{GrantID: g.ID, Name: n.Key, Kind: t.kind, Value: n.Source.Value, Text: t.text, Ref: t.refText,
+			Source: n.Source.Text, EffectiveDate: DateOf(n.Source.Since)})
 	}
 	return out
+}
+
+// inputTexts are the texts of the inputs of the grant laid out last, by
+// key, for the next one: neighbouring grants share most of their inputs
+// (the Assumptions in force, the period's share price, a curve's cells),
+// and a value or a cell met again is then neither formatted nor
+// allocated again. One per chunk of grants (the texts are the same
+// whatever the chunk).
+type inputTexts map[string]*inputText
+
+type inputText struct {
+	kind    string // inputKinds[key]
+	value   float64
+	text    string // strconv.FormatFloat(value, 'g', -1, 64)
+	ref     grants.Ref
+	refText string // ref.String()
+}
+
+// of is the texts of input key with source s.
+func (ts inputTexts) of(key string, s *grants.Source) *inputText {
+	t := ts[key]
+	if t == nil {
+		t = &inputText{kind: inputKinds[key], value: s.Value, text: strconv.FormatFloat(s.Value, 'g', -1, 64), ref: s.Ref, refText: s.Ref.String()}
+		ts[key] = t
+		return t
+	}
+	if math.Float64bits(s.Value) != math.Float64bits(t.value) {
+		t.value, t.text = s.Value, strconv.FormatFloat(s.Value, 'g', -1, 64)
+	}
+	if s.Ref != t.ref {
+		t.ref, t.refText = s.Ref, s.Ref.String()
+	}
+	return t
 }
 
 // dayText is DateOf(t).String() in one allocation rather than two.
