@@ -152,7 +152,9 @@ func eachGrant(n int, work func(lo, hi int)) {
 // into a Model: every grant with its inputs, their provenance and tranche
 // results, the sums (Summarize), the sensitivity cases, the convergence
 // study, the Monte Carlo check and the period's expense attribution,
-// journal and disclosures. It values and books nothing.
+// journal and disclosures. It values and books nothing. A large ledger's
+// grants are laid out on all cores, and the Model is the same to the bit
+// on any number of them (TestBuildOnAnyCores).
 //
 // Build takes v and b over: as it lays each grant out it drops that
 // grant's per-tranche detail from them (v's tranches, terms, results and
