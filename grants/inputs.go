@@ -58,7 +58,7 @@ type Named struct {
 // options and warrants exercise_multiple, post_vesting_exit_rate and
 // risk_free_rate. The Sources are in's own.
 func (in *Inputs) Named() []Named {
-	out := []Named{{"share_price", &in.SharePrice}}
+	out := append(make([]Named, 0, 6), Named{"share_price", &in.SharePrice}) // room for all six: asked of every grant of a ledger
 	if in.Grant.Instrument != RSU {
 		out = append(out, Named{"volatility", &in.Volatility})
 	}

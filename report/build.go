@@ -2,6 +2,7 @@ package report
 
 import (
 	"fmt"
+	"math"
 	"sort"
 	"strconv"
 	"time"
@@ -9,6 +10,7 @@ import (
 	"grantworth/grants"
 	"grantworth/grants/accounting"
 	"grantworth/grants/pricing"
+	"grantworth/internal/cores"
 )
 
 // FinancingKey is the by-instrument group of the warrants issued in
@@ -26,14 +28,41 @@ const Financing = "financing"
 // once after the tranches are valued; the renderers only read what it
 // wrote.
 func Summarize(m *Model) {
+	for i := range m.Grants {
+		sumGrant(&m.Grants[i])
+	}
+	sumGroups(m)
+}
+
+// sumGrant is Summarize's part within grant g: each tranche's total, and
+// the grant's totals and value per share.
+func sumGrant(g *Grant) {
+	g.FairValueTotal, g.BSMSimplifiedTotal = 0, 0
+	var shares int64
+	for j := range g.Tranches {
+		t := &g.Tranches[j]
+		t.FairValueTotal = t.FairValuePerShare * float64(t.Shares)
+		g.FairValueTotal += t.FairValueTotal
+		g.BSMSimplifiedTotal += t.BSMSimplifiedValue * float64(t.Shares)
+		shares += t.Shares
+	}
+	g.FairValuePerShare = 0
+	if shares > 0 {
+		g.FairValuePerShare = g.FairValueTotal / float64(shares)
+	}
+}
+
+// sumGroups is Summarize's part over the grants, in grant order, once
+// sumGrant has summed each.
+func sumGroups(m *Model) {
 	m.Totals, m.FinancingTotals = Totals{}, Totals{}
 	inst := map[string]*Group{}
 	month := map[string]*Group{}
-	add := func(set map[string]*Group, key string, g *Grant) {
-		s := set[key]
+	add := func(set map[string]*Group, key []byte, g *Grant) {
+		s := set[string(key)]
 		if s == nil {
-			s = &Group{Key: key, Financing: g.Purpose == Financing}
-			set[key] = s
+			s = &Group{Key: string(key), Financing: g.Purpose == Financing}
+			set[s.Key] = s
 		}
 		s.Grants++
 		s.Tranches += len(g.Tranches)
@@ -41,28 +70,16 @@ func Summarize(m *Model) {
 		s.FairValueTotal += g.FairValueTotal
 		s.BSMSimplifiedTotal += g.BSMSimplifiedTotal
 	}
+	var key [32]byte
 	for i := range m.Grants {
 		g := &m.Grants[i]
-		g.FairValueTotal, g.BSMSimplifiedTotal = 0, 0
-		var shares int64
-		for j := range g.Tranches {
-			t := &g.Tranches[j]
-			t.FairValueTotal = t.FairValuePerShare * float64(t.Shares)
-			g.FairValueTotal += t.FairValueTotal
-			g.BSMSimplifiedTotal += t.BSMSimplifiedValue * float64(t.Shares)
-			shares += t.Shares
-		}
-		g.FairValuePerShare = 0
-		if shares > 0 {
-			g.FairValuePerShare = g.FairValueTotal / float64(shares)
-		}
 		tot := &m.Totals
 		if g.Purpose == Financing {
 			tot = &m.FinancingTotals
-			add(inst, FinancingKey, g)
+			add(inst, append(key[:0], FinancingKey...), g)
 		} else {
-			add(inst, g.Instrument, g)
-			add(month, g.GrantDate.Time().Format("2006-01"), g)
+			add(inst, append(key[:0], g.Instrument...), g)
+			add(month, appendMonth(key[:0], g.GrantDate), g)
 		}
 		tot.Grants++
 		tot.Tranches += len(g.Tranches)
@@ -72,6 +89,15 @@ func Summarize(m *Model) {
 	}
 	m.ByInstrument = sortedGroups(inst)
 	m.ByGrantMonth = sortedGroups(month)
+}
+
+// appendMonth appends d's month, d.Time().Format("2006-01"), to b.
+func appendMonth(b []byte, d Date) []byte {
+	n := len(b)
+	if b = d.AppendISO(b); len(b)-n == len("2006-01-02") {
+		return b[:n+len("2006-01")]
+	}
+	return d.Time().AppendFormat(b[:n], "2006-01")
 }
 
 func sortedGroups(set map[string]*Group) []Group {
@@ -99,11 +125,36 @@ type Run struct {
 // revalued in each case; the memo says so in its own words already.
 const sensitivityEveryGrant = "Each case revalues every grant with the input moved for all of them."
 
+// Build's work per grant runs on all cores in chunks of buildChunk
+// consecutive grants (internal/cores), each chunk writing only its own
+// grants' places in the Model, from buildMinParallel grants on; a smaller
+// ledger (the sample, most tests) is laid out in one plain loop. Tests
+// change both.
+var (
+	buildChunk       = 64
+	buildMinParallel = 256
+)
+
+// eachGrant calls work on chunks [lo, hi) of consecutive grants that
+// cover [0, n), on all cores if n is large enough.
+func eachGrant(n int, work func(lo, hi int)) {
+	if n < buildMinParallel {
+		work(0, n)
+		return
+	}
+	cores.Chunks(n, buildChunk, func(lo, hi int) error {
+		work(lo, hi)
+		return nil
+	})
+}
+
 // Build lays the schedule s, its valuation v and the books b of its close
 // into a Model: every grant with its inputs, their provenance and tranche
 // results, the sums (Summarize), the sensitivity cases, the convergence
 // study, the Monte Carlo check and the period's expense attribution,
-// journal and disclosures. It values and books nothing.
+// journal and disclosures. It values and books nothing. A large ledger's
+// grants are laid out on all cores, and the Model is the same to the bit
+// on any number of them (TestBuildOnAnyCores).
 //
 // Build takes v and b over: as it lays each grant out it drops that
 // grant's per-tranche detail from them (v's tranches, terms, results and
@@ -128,32 +179,63 @@ func Build(s *grants.Schedule, v *pricing.Valuation, b *accounting.Books, run Ru
 		m.Settings.Framework = string(policy.Framework)
 	}
 	m.Caution = Caution
-	if len(v.Grants) > 0 {
-		m.Grants = make([]Grant, 0, len(v.Grants))
+	// Each grant is laid out on its own, on all cores (eachGrant): its
+	// Grant, its tranches, its own sums and then its assumption rows, each
+	// written in its place in the Model. What adds the grants up
+	// (sumGroups) runs after, here, in grant order.
+	n := len(v.Grants)
+	if n > 0 {
+		m.Grants = make([]Grant, n)
 	}
-	books := booksByGrant(b)
+	var books map[string]*accounting.GrantExpense
 	for i := range v.Grants {
-		gv := &v.Grants[i]
-		g := grantOf(gv)
-		if gv.Inputs.Condition != nil {
-			g.Condition = grantCondition(gv, books[gv.Inputs.Grant.ID])
+		if v.Grants[i].Inputs.Condition != nil {
+			books = booksByGrant(b)
+			break
 		}
-		m.Grants = append(m.Grants, g)
-		releaseGrant(gv)
 	}
+	// rows[i+1] is the number of assumption rows of grant i, and then,
+	// summed, where they end.
+	rows := make([]int, n+1)
+	eachGrant(n, func(lo, hi int) {
+		k := 0
+		for i := lo; i < hi; i++ {
+			k += len(v.Grants[i].Inputs.Tranches)
+		}
+		slab := make([]Tranche, k) // the tranches of the chunk's grants, in one piece
+		for i := lo; i < hi; i++ {
+			gv, g := &v.Grants[i], &m.Grants[i]
+			k := len(gv.Inputs.Tranches)
+			grantOf(g, gv, slab[:k:k])
+			slab = slab[k:]
+			if gv.Inputs.Condition != nil {
+				g.Condition = grantCondition(gv, books[gv.Inputs.Grant.ID])
+			}
+			sumGrant(g)
+			rows[i+1] = grantAssumptionCount(gv)
+			releaseGrant(gv)
+		}
+	})
 	// The assumptions once the valuation's tranche detail is let go, and
 	// sized once: made beside it, or grown by appending, a large ledger's
 	// would raise the peak of the run.
 	company := companyAssumptions(s)
-	rows := len(company)
-	for i := range v.Grants {
-		rows += grantAssumptionCount(&v.Grants[i])
+	rows[0] = len(company)
+	for i := 1; i <= n; i++ {
+		rows[i] += rows[i-1]
 	}
-	m.Assumptions = append(make([]Assumption, 0, rows), company...)
-	for i := range v.Grants {
-		m.Assumptions = appendGrantAssumptions(m.Assumptions, &v.Grants[i], len(m.Grants[i].Tranches))
-	}
-	Summarize(m)
+	m.Assumptions = make([]Assumption, rows[n])
+	copy(m.Assumptions, company)
+	eachGrant(n, func(lo, hi int) {
+		texts := inputTexts{}
+		for i := lo; i < hi; i++ {
+			at, end := rows[i], rows[i+1]
+			if got := appendGrantAssumptions(m.Assumptions[at:at:end], &v.Grants[i], len(m.Grants[i].Tranches), texts); len(got) != end-at {
+				panic(fmt.Sprintf("report: grant %s has %d assumption rows, %d counted", v.Grants[i].Inputs.Grant.ID, len(got), end-at))
+			}
+		}
+	})
+	sumGroups(m)
 	if v.SensitivitySample < len(v.Grants) {
 		m.Settings.Sensitivities = fmt.Sprintf("Each case revalues an evenly spaced sample of %d of the %d grants; its relative change is applied to the total fair value of all grants.", v.SensitivitySample, len(v.Grants))
 	} else {
@@ -232,9 +314,12 @@ func booksByGrant(b *accounting.Books) map[string]*accounting.GrantExpense {
 	return books
 }
 
-func grantOf(gv *pricing.GrantValue) Grant {
-	in, g := gv.Inputs, gv.Inputs.Grant
-	rg := Grant{
+// grantOf lays grant gv out into rg, its tranches into tranches (one
+// per tranche of gv, which rg keeps).
+func grantOf(rg *Grant, gv *pricing.GrantValue, tranches []Tranche) {
+	in := &gv.Inputs
+	g := &in.Grant
+	*rg = Grant{
 		ID: g.ID, Holder: g.Holder, Instrument: string(g.Instrument), Purpose: string(g.Purpose),
 		GrantDate: DateOf(g.GrantDate), MeasurementDate: DateOf(in.MeasurementDate),
 		ExpiryDate: DateOf(g.ExpiryDate), Shares: g.Shares, Strike: g.Strike,
@@ -263,18 +348,17 @@ func grantOf(gv *pricing.GrantValue) Grant {
 				PriceReflectsWarrants: d.PriceReflectsWarrants, Method: method, UndilutedValue: gv.UndilutedValue}
 		}
 	}
-	rg.Tranches = make([]Tranche, 0, len(in.Tranches))
-	for k, t := range in.Tranches {
+	for k := range in.Tranches {
+		t := &in.Tranches[k]
 		expiry, vest := gv.TermYears(k)
-		r, b := gv.Results[k], gv.BSM[k]
-		tr := Tranche{Index: t.Index, VestDate: DateOf(t.VestDate), Shares: t.Shares,
+		r, b := &gv.Results[k], &gv.BSM[k]
+		tranches[k] = Tranche{Index: t.Index, VestDate: DateOf(t.VestDate), Shares: t.Shares,
 			YearsToExpiry: expiry, YearsToVest: vest,
 			FairValuePerShare: r.Value, ErrorEstimate: r.ErrorEstimate, ExpectedTermYears: r.ExpectedTermYears, Steps: r.Steps,
 			BSMSimplifiedValue: b.Value, SimplifiedTerm: b.ExpectedTermYears,
 			RiskFreeRate: gv.RiskFreeRate[k], SimplifiedRate: gv.SimplifiedRate[k]}
-		rg.Tranches = append(rg.Tranches, tr)
 	}
-	return rg
+	rg.Tranches = tranches
 }
 
 func companyAssumptions(s *grants.Schedule) []Assumption {
@@ -333,35 +417,80 @@ func companyAssumptions(s *grants.Schedule) []Assumption {
 // appendGrantAssumptions appends to out the inputs a grant of that many
 // tranches was valued on, each with its cell and source text: straight
 // into the model's rows, sized once, with no slice of the grant's own.
-func appendGrantAssumptions(out []Assumption, gv *pricing.GrantValue, tranches int) []Assumption {
-	in, g := gv.Inputs, gv.Inputs.Grant
+func appendGrantAssumptions(out []Assumption, gv *pricing.GrantValue, tranches int, texts inputTexts) []Assumption {
+	in := &gv.Inputs
+	g := &in.Grant
 	ref := func(k string) string { return g.Refs[k].String() }
-	day := func(t time.Time) string { return DateOf(t).String() }
-	src := func(key, kind string, s grants.Source) Assumption {
-		return Assumption{GrantID: g.ID, Name: key, Kind: kind, Value: s.Value, Text: strconv.FormatFloat(s.Value, 'g', -1, 64), Ref: s.Ref.String(), Source: s.Text, EffectiveDate: DateOf(s.Since)}
-	}
 	out = append(out,
 		Assumption{GrantID: g.ID, Name: "instrument", Kind: KindText, Text: string(g.Instrument), Ref: ref("instrument"), Term: true},
 		Assumption{GrantID: g.ID, Name: "purpose", Kind: KindText, Text: purposeOf(g), Ref: ref("purpose"), Source: purposeNote(g), Term: true},
-		Assumption{GrantID: g.ID, Name: "grant_date", Kind: KindDate, Text: day(g.GrantDate), Ref: ref("grant_date"), Term: true},
-		Assumption{GrantID: g.ID, Name: "measurement_date", Kind: KindDate, Text: day(in.MeasurementDate), Source: measurementNote(g), Term: true},
+		Assumption{GrantID: g.ID, Name: "grant_date", Kind: KindDate, Text: dayText(g.GrantDate), Ref: ref("grant_date"), Term: true},
+		Assumption{GrantID: g.ID, Name: "measurement_date", Kind: KindDate, Text: dayText(in.MeasurementDate), Source: measurementNote(g), Term: true},
 		Assumption{GrantID: g.ID, Name: "shares", Kind: KindNumber, Value: float64(g.Shares), Text: strconv.FormatInt(g.Shares, 10), Ref: ref("shares"), Term: true})
 	if g.Instrument != grants.RSU {
 		out = append(out,
 			Assumption{GrantID: g.ID, Name: "strike", Kind: KindMoney, Value: g.Strike, Text: strconv.FormatFloat(g.Strike, 'g', -1, 64), Ref: ref("strike"), Term: true},
-			Assumption{GrantID: g.ID, Name: "expiry_date", Kind: KindDate, Text: day(g.ExpiryDate), Ref: firstRef(g.Refs, "expiry_date", "term_years"), Term: true})
+			Assumption{GrantID: g.ID, Name: "expiry_date", Kind: KindDate, Text: dayText(g.ExpiryDate), Ref: firstRef(g.Refs, "expiry_date", "term_years"), Term: true})
 	}
 	if g.HireDate.After(g.GrantDate) {
-		out = append(out, Assumption{GrantID: g.ID, Name: "hire_date", Kind: KindDate, Text: day(g.HireDate), Ref: ref("hire_date"),
+		out = append(out, Assumption{GrantID: g.ID, Name: "hire_date", Kind: KindDate, Text: dayText(g.HireDate), Ref: ref("hire_date"),
 			Source: "service, and the cost, start on the hire date", Term: true})
 	}
+	// "%d tranches from %s" and "%d months, cliff %d, every %d", written
+	// out without fmt's boxing of each argument.
+	var buf [64]byte
+	text := append(strconv.AppendInt(buf[:0], int64(tranches), 10), " tranches from "...)
+	text = DateOf(g.VestStart).AppendISO(text)
+	source := append(strconv.AppendInt(text[len(text):], int64(g.VestMonths), 10), " months, cliff "...)
+	source = append(strconv.AppendInt(source, int64(g.CliffMonths), 10), ", every "...)
+	source = strconv.AppendInt(source, int64(g.VestEvery), 10)
 	out = append(out, Assumption{GrantID: g.ID, Name: "vesting", Kind: KindText,
-		Text: fmt.Sprintf("%d tranches from %s", tranches, day(g.VestStart)), Ref: firstRef(g.Refs, "vest_months", "vest_start"),
-		Source: fmt.Sprintf("%d months, cliff %d, every %d", g.VestMonths, g.CliffMonths, g.VestEvery), Term: true})
+		Text: string(text), Ref: firstRef(g.Refs, "vest_months", "vest_start"), Source: string(source), Term: true})
 	for _, n := range in.Named() {
-		out = append(out, src(n.Key, inputKinds[n.Key], *n.Source))
+		t := texts.of(n.Key, n.Source)
+		out = append(out, Assumption{GrantID: g.ID, Name: n.Key, Kind: t.kind, Value: n.Source.Value, Text: t.text, Ref: t.refText,
+			Source: n.Source.Text, EffectiveDate: DateOf(n.Source.Since)})
 	}
 	return out
+}
+
+// inputTexts are the texts of the inputs of the grant laid out last, by
+// key, for the next one: neighbouring grants share most of their inputs
+// (the Assumptions in force, the period's share price, a curve's cells),
+// and a value or a cell met again is then neither formatted nor
+// allocated again. One per chunk of grants (the texts are the same
+// whatever the chunk).
+type inputTexts map[string]*inputText
+
+type inputText struct {
+	kind    string // inputKinds[key]
+	value   float64
+	text    string // strconv.FormatFloat(value, 'g', -1, 64)
+	ref     grants.Ref
+	refText string // ref.String()
+}
+
+// of is the texts of input key with source s.
+func (ts inputTexts) of(key string, s *grants.Source) *inputText {
+	t := ts[key]
+	if t == nil {
+		t = &inputText{kind: inputKinds[key], value: s.Value, text: strconv.FormatFloat(s.Value, 'g', -1, 64), ref: s.Ref, refText: s.Ref.String()}
+		ts[key] = t
+		return t
+	}
+	if math.Float64bits(s.Value) != math.Float64bits(t.value) {
+		t.value, t.text = s.Value, strconv.FormatFloat(s.Value, 'g', -1, 64)
+	}
+	if s.Ref != t.ref {
+		t.ref, t.refText = s.Ref, s.Ref.String()
+	}
+	return t
+}
+
+// dayText is DateOf(t).String() in one allocation rather than two.
+func dayText(t time.Time) string {
+	var buf [16]byte
+	return string(DateOf(t).AppendISO(buf[:0]))
 }
 
 // grantAssumptionCount is the number of rows appendGrantAssumptions
@@ -378,14 +507,14 @@ func grantAssumptionCount(gv *pricing.GrantValue) int {
 	return n
 }
 
-func purposeOf(g grants.Grant) string {
+func purposeOf(g *grants.Grant) string {
 	if g.Purpose == "" {
 		return string(grants.Compensation)
 	}
 	return string(g.Purpose)
 }
 
-func purposeNote(g grants.Grant) string {
+func purposeNote(g *grants.Grant) string {
 	if g.IsFinancing() {
 		return "issued in a financing: not share-based payment, kept apart from compensation"
 	}
@@ -396,7 +525,7 @@ func purposeNote(g grants.Grant) string {
 var inputKinds = map[string]string{"share_price": KindMoney, "volatility": KindPercent, "dividend_yield": KindPercent,
 	"exercise_multiple": KindNumber, "post_vesting_exit_rate": KindPercent, "risk_free_rate": KindPercent}
 
-func measurementNote(g grants.Grant) string {
+func measurementNote(g *grants.Grant) string {
 	if g.Instrument == grants.Warrant && g.Classification == grants.Liability {
 		return "valuation date: a liability-classified warrant is remeasured each period"
 	}

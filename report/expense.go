@@ -345,8 +345,8 @@ func expenseModel(b *accounting.Books) *Expense {
 		PreVestingForfeitureRate: r.Policy.PreVestingForfeitureRate, Framework: string(r.Policy.Framework), ServiceRule: r.ServiceRule,
 		Amount: r.Period, Cumulative: r.Cumulative, FinancingFairValueChange: r.FairValueChange,
 		Forecast: periodsOf(r.Forecast), AfterForecast: r.AfterForecast,
-		PolicyNotes: append([]string{}, r.PolicyNotes...),
-		ByGrant:     make([]ExpenseGrant, 0, len(r.Grants)), Journal: []JournalEntry{}, Financing: []FinancingWarrant{},
+		PolicyNotes:    append([]string{}, r.PolicyNotes...),
+		Financing:      make([]FinancingWarrant, 0, len(r.Financing)),
 		FiscalCalendar: r.Policy.Calendar.String(),
 		ByFiscalYear:   make([]ExpenseYear, 0, len(r.ByFiscalYear)),
 	}
@@ -369,41 +369,51 @@ func expenseModel(b *accounting.Books) *Expense {
 		det.ByFiscalYear = append(det.ByFiscalYear, ExpenseYear{Year: y.Year.Name, Start: DateOf(y.Year.Start), End: DateOf(y.Year.End),
 			Recognized: y.Recognized, Expected: y.Expected, Total: y.Recognized + y.Expected})
 	}
-	months := map[string]*ExpenseGroup{}
-	for i := range r.Grants {
-		g := &r.Grants[i]
-		eg := ExpenseGrant{GrantID: g.GrantID, Holder: g.Holder, Instrument: string(g.Instrument), Liability: g.Liability,
-			GrantDate: DateOf(g.GrantDate), ServiceStart: DateOf(g.ServiceStart), ServiceEnd: DateOf(g.ServiceEnd),
-			Cost: g.Cost, CumulativeOpen: g.CumulativeOpen, Amount: g.Period, Cumulative: g.Cumulative,
-			Unrecognized: g.Unrecognized, RemainingYears: g.RemainingYears,
-			LiabilityOpen: g.LiabilityOpen, LiabilityEnd: g.LiabilityEnd,
-			ReclassifiedEquity: g.ReclassifiedEquity, ReclassifiedToDate: g.ReclassifiedToDate,
-			Outstanding: g.Outstanding, Events: []EventRecord{}, Remeasurements: []Remeasurement{}, Tranches: make([]ExpenseTranche, 0, len(g.Tranches)),
-			CostCenter: g.CostCenter, ByCostCenter: make([]CostCenterPart, 0, len(g.ByCostCenter))}
-		for _, p := range g.ByCostCenter {
-			eg.ByCostCenter = append(eg.ByCostCenter, CostCenterPart{CostCenter: p.CostCenter, GrantID: g.GrantID, Amount: p.Period, Cumulative: p.Cumulative, Unrecognized: p.Unrecognized})
+	// Each grant on its own, on all cores (eachGrant), its tranches and
+	// its parts by cost centre cut from one piece per chunk of grants;
+	// the cost centres' parts and the months after, in grant order.
+	det.ByGrant = make([]ExpenseGrant, len(r.Grants))
+	eachGrant(len(r.Grants), func(lo, hi int) {
+		nt, np := 0, 0
+		for i := lo; i < hi; i++ {
+			nt += len(r.Grants[i].Tranches)
+			np += len(r.Grants[i].ByCostCenter)
 		}
-		eg.Events, eg.Remeasurements = eventRecords(g.Events), remeasurementRecords(g.Remeasurements)
-		for _, t := range g.Tranches {
-			eg.Tranches = append(eg.Tranches, ExpenseTranche{Index: t.Index, VestDate: DateOf(t.VestDate), Shares: t.Shares,
-				SharesCounted: t.SharesCounted, FairValuePerShare: t.FairValue, GrantDateFairValuePerShare: t.GrantDateFairValue, ExpectedShare: t.ExpectedShare, Cost: t.Cost,
-				CumulativeOpen: t.CumulativeOpen, Amount: t.Period, Cumulative: t.Cumulative, Unrecognized: t.Unrecognized,
-				RemainingYears: t.RemainingYears})
+		tranches, parts := make([]ExpenseTranche, nt), make([]CostCenterPart, np)
+		for i := lo; i < hi; i++ {
+			g := &r.Grants[i]
+			nt, np := len(g.Tranches), len(g.ByCostCenter)
+			expenseGrantOf(&det.ByGrant[i], g, tranches[:nt:nt], parts[:np:np])
+			tranches, parts = tranches[nt:], parts[np:]
+			g.Tranches = nil // the Model holds them now (Build takes b over)
 		}
-		g.Tranches = nil // the Model holds them now (Build takes b over)
-		det.ByGrant = append(det.ByGrant, eg)
-		for _, p := range eg.ByCostCenter {
+	})
+	held := make([]int, len(det.ByCostCenter))
+	for i := range det.ByGrant {
+		for _, p := range det.ByGrant[i].ByCostCenter {
+			held[centre[p.CostCenter]]++
+		}
+	}
+	for k, n := range held {
+		if n > 0 {
+			det.ByCostCenter[k].Parts = make([]CostCenterPart, 0, n)
+		}
+	}
+	for i := range det.ByGrant {
+		for _, p := range det.ByGrant[i].ByCostCenter {
 			c := &det.ByCostCenter[centre[p.CostCenter]]
 			c.Parts = append(c.Parts, p)
 		}
 	}
+	months := map[string]*ExpenseGroup{}
+	var key [16]byte
 	for i := range det.ByGrant {
 		g := &det.ByGrant[i]
-		key := g.GrantDate.Time().Format("2006-01")
-		grp := months[key]
+		month := appendMonth(key[:0], g.GrantDate)
+		grp := months[string(month)]
 		if grp == nil {
-			grp = &ExpenseGroup{Key: key}
-			months[key] = grp
+			grp = &ExpenseGroup{Key: string(month)}
+			months[grp.Key] = grp
 		}
 		grp.Grants++
 		grp.Cost += g.Cost
@@ -418,8 +428,12 @@ func expenseModel(b *accounting.Books) *Expense {
 	sort.Slice(det.ByGrantMonth, func(i, j int) bool { return det.ByGrantMonth[i].Key < det.ByGrantMonth[j].Key })
 	det.JournalDecimals = b.Chart.Decimals
 	det.Tax = taxModel(b.Tax)
+	det.Journal = make([]JournalEntry, 0, len(b.Journal))
 	for i, e := range b.Journal {
 		je := JournalEntry{Number: i + 1, Date: DateOf(e.Date), Description: e.Description}
+		if len(e.Lines) > 0 {
+			je.Lines = make([]JournalLine, 0, len(e.Lines))
+		}
 		for _, l := range e.Lines {
 			je.Lines = append(je.Lines, JournalLine{Role: string(l.Role), AccountCode: l.Account.Code, Account: l.Account.Name,
 				CostCenter: l.CostCenter, GrantID: l.GrantID, Debit: l.Debit, Credit: l.Credit})
@@ -436,16 +450,43 @@ func expenseModel(b *accounting.Books) *Expense {
 	}
 }
 
+// expenseGrantOf lays grant g's attribution out into eg, its tranches
+// into tranches and its parts by cost centre into parts (one for each of
+// g's, which eg keeps).
+func expenseGrantOf(eg *ExpenseGrant, g *accounting.GrantExpense, tranches []ExpenseTranche, parts []CostCenterPart) {
+	*eg = ExpenseGrant{GrantID: g.GrantID, Holder: g.Holder, Instrument: string(g.Instrument), Liability: g.Liability,
+		GrantDate: DateOf(g.GrantDate), ServiceStart: DateOf(g.ServiceStart), ServiceEnd: DateOf(g.ServiceEnd),
+		Cost: g.Cost, CumulativeOpen: g.CumulativeOpen, Amount: g.Period, Cumulative: g.Cumulative,
+		Unrecognized: g.Unrecognized, RemainingYears: g.RemainingYears,
+		LiabilityOpen: g.LiabilityOpen, LiabilityEnd: g.LiabilityEnd,
+		ReclassifiedEquity: g.ReclassifiedEquity, ReclassifiedToDate: g.ReclassifiedToDate,
+		Outstanding: g.Outstanding, Events: eventRecords(g.Events), Remeasurements: remeasurementRecords(g.Remeasurements),
+		CostCenter: g.CostCenter, ByCostCenter: parts, Tranches: tranches}
+	for k := range g.ByCostCenter {
+		p := &g.ByCostCenter[k]
+		parts[k] = CostCenterPart{CostCenter: p.CostCenter, GrantID: g.GrantID, Amount: p.Period, Cumulative: p.Cumulative, Unrecognized: p.Unrecognized}
+	}
+	for k := range g.Tranches {
+		t := &g.Tranches[k]
+		tranches[k] = ExpenseTranche{Index: t.Index, VestDate: DateOf(t.VestDate), Shares: t.Shares,
+			SharesCounted: t.SharesCounted, FairValuePerShare: t.FairValue, GrantDateFairValuePerShare: t.GrantDateFairValue, ExpectedShare: t.ExpectedShare, Cost: t.Cost,
+			CumulativeOpen: t.CumulativeOpen, Amount: t.Period, Cumulative: t.Cumulative, Unrecognized: t.Unrecognized,
+			RemainingYears: t.RemainingYears}
+	}
+}
+
+// eventRecords are es as the Model has them; never nil.
 func eventRecords(es []grants.Event) []EventRecord {
-	out := []EventRecord{}
+	out := make([]EventRecord, 0, len(es))
 	for _, e := range es {
 		out = append(out, EventRecord{Date: DateOf(e.Date), Event: string(e.Kind), Shares: e.Shares})
 	}
 	return out
 }
 
+// remeasurementRecords are rs as the Model has them; never nil.
 func remeasurementRecords(rs []accounting.Remeasurement) []Remeasurement {
-	out := []Remeasurement{}
+	out := make([]Remeasurement, 0, len(rs))
 	for _, r := range rs {
 		out = append(out, Remeasurement{Date: DateOf(r.Date), FairValuePerShare: r.FairValue})
 	}
