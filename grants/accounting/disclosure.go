@@ -223,9 +223,10 @@ type grantAcc struct {
 
 func (a *grantAcc) add(aw *Award) {
 	var n int64
-	for _, tc := range aw.Tranches {
-		n += tc.Tranche.Shares
-		a.fv += float64(tc.Tranche.Shares) * tc.FairValue
+	for i := range aw.tranches() {
+		tc, fv := aw.tranche(i)
+		n += tc.Shares
+		a.fv += float64(tc.Shares) * fv
 	}
 	a.grants++
 	a.shares += n

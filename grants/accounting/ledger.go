@@ -224,36 +224,41 @@ func (p Policy) normalized() (Policy, error) {
 // ledger applies an award's events up to asOf to its tranches.
 func newAwardLedger(a *Award, pol Policy, asOf time.Time) (*awardLedger, error) {
 	g := a.Grant
-	if len(a.Tranches) == 0 {
+	nt := a.tranches()
+	if nt == 0 {
 		return nil, fmt.Errorf("grant %s: no tranches", g.ID)
 	}
 	l := &awardLedger{in: a, liability: g.IsLiability(), financing: g.IsFinancing(), start: ServiceStart(g), asOfN: dayNum(asOf)}
 	if pol.Forfeitures == grants.Estimate {
 		l.rate = pol.PreVestingForfeitureRate
 	}
-	l.tr, l.tranches = make([]trancheLedger, 0, len(a.Tranches)), len(a.Tranches)
-	for i, tc := range a.Tranches {
-		if tc.Tranche.GrantID != "" && tc.Tranche.GrantID != g.ID {
-			return nil, fmt.Errorf("grant %s: tranche %d belongs to grant %s", g.ID, tc.Tranche.Index, tc.Tranche.GrantID)
+	l.tr, l.tranches = make([]trancheLedger, 0, nt), nt
+	var prev *grants.Tranche
+	for i := range nt {
+		tc, fv := a.tranche(i)
+		if tc.GrantID != "" && tc.GrantID != g.ID {
+			return nil, fmt.Errorf("grant %s: tranche %d belongs to grant %s", g.ID, tc.Index, tc.GrantID)
 		}
-		if !(tc.FairValue >= 0) || math.IsInf(tc.FairValue, 0) {
-			return nil, fmt.Errorf("grant %s tranche %d: fair value per share %v is not a finite non-negative number", g.ID, tc.Tranche.Index, tc.FairValue)
+		if !(fv >= 0) || math.IsInf(fv, 0) {
+			return nil, fmt.Errorf("grant %s tranche %d: fair value per share %v is not a finite non-negative number", g.ID, tc.Index, fv)
 		}
-		if tc.Tranche.Shares < 0 {
-			return nil, fmt.Errorf("grant %s tranche %d: %d shares", g.ID, tc.Tranche.Index, tc.Tranche.Shares)
+		if tc.Shares < 0 {
+			return nil, fmt.Errorf("grant %s tranche %d: %d shares", g.ID, tc.Index, tc.Shares)
 		}
-		if i > 0 && tc.Tranche.VestDate.Before(a.Tranches[i-1].Tranche.VestDate) {
-			return nil, fmt.Errorf("grant %s: tranches not in vest-date order at tranche %d", g.ID, tc.Tranche.Index)
+		if prev != nil && tc.VestDate.Before(prev.VestDate) {
+			return nil, fmt.Errorf("grant %s: tranches not in vest-date order at tranche %d", g.ID, tc.Index)
 		}
-		if !g.ExpiryDate.IsZero() && tc.Tranche.VestDate.After(g.ExpiryDate) {
-			return nil, fmt.Errorf("grant %s tranche %d: vests %s, after expiry %s", g.ID, tc.Tranche.Index, tc.Tranche.VestDate.Format(time.DateOnly), g.ExpiryDate.Format(time.DateOnly))
+		if !g.ExpiryDate.IsZero() && tc.VestDate.After(g.ExpiryDate) {
+			return nil, fmt.Errorf("grant %s tranche %d: vests %s, after expiry %s", g.ID, tc.Index, tc.VestDate.Format(time.DateOnly), g.ExpiryDate.Format(time.DateOnly))
 		}
-		terms := ledgerTerms{Index: tc.Tranche.Index, Shares: tc.Tranche.Shares}
-		t := trancheLedger{Tranche: terms, FairValue: tc.FairValue, startN: int32(dayNum(l.start)), vestN: int32(dayNum(tc.Tranche.VestDate)), metN: math.MaxInt32, of: i}
+		terms := ledgerTerms{Index: tc.Index, Shares: tc.Shares}
+		t := trancheLedger{Tranche: terms, FairValue: fv, startN: int32(dayNum(l.start)), vestN: int32(dayNum(tc.VestDate)), metN: math.MaxInt32, of: i}
 		t.endN, t.origN = t.vestN, t.vestN
 		l.tr = append(l.tr, t)
+		prev = tc
 	}
-	l.last = a.Tranches[len(a.Tranches)-1].Tranche.VestDate
+	last, _ := a.tranche(nt - 1)
+	l.last = last.VestDate
 	l.grantN, l.startN = dayNum(g.GrantDate), dayNum(l.start)
 	l.expiry, l.typeIII = g.ExpiryDate, pol.Framework != grants.IFRS2
 	if a.Modified != nil {
@@ -269,12 +274,13 @@ func newAwardLedger(a *Award, pol Policy, asOf time.Time) (*awardLedger, error) 
 		return nil, fmt.Errorf("grant %s: remeasurements given but it is not a liability-classified warrant", g.ID)
 	}
 	for _, r := range a.Remeasurements {
-		if len(r.FairValue) != len(a.Tranches) {
-			return nil, fmt.Errorf("grant %s: remeasurement on %s has %d values for %d tranches", g.ID, r.Date.Format(time.DateOnly), len(r.FairValue), len(a.Tranches))
+		if len(r.FairValue) != nt {
+			return nil, fmt.Errorf("grant %s: remeasurement on %s has %d values for %d tranches", g.ID, r.Date.Format(time.DateOnly), len(r.FairValue), nt)
 		}
 		for i, v := range r.FairValue {
 			if !(v >= 0) || math.IsInf(v, 0) {
-				return nil, fmt.Errorf("grant %s tranche %d: remeasured fair value %v on %s", g.ID, a.Tranches[i].Tranche.Index, v, r.Date.Format(time.DateOnly))
+				tc, _ := a.tranche(i)
+				return nil, fmt.Errorf("grant %s tranche %d: remeasured fair value %v on %s", g.ID, tc.Index, v, r.Date.Format(time.DateOnly))
 			}
 		}
 		l.remeas = append(l.remeas, r)
