@@ -121,11 +121,11 @@ func awardsOf(s *grants.Schedule, v *pricing.Valuation, copies bool) ([]Award, [
 	}
 	// Each grant's award is its own (awards[i], from v.Grants[i]); the
 	// warnings and the first error go in grant order.
-	inOrder(len(v.Grants), workersFor(len(v.Grants)), func(i int, _ *ledgerScratch, m *made) {
+	inOrder(len(v.Grants), workersFor(len(v.Grants)), func(i int, sc *ledgerScratch, m *made) {
 		*m = made{}
 		gv := &v.Grants[i]
 		g := gv.Inputs.Grant
-		fv := make([]float64, len(gv.Results))
+		fv := sc.fvs.take(len(gv.Results))
 		var shares, term, rate float64
 		for k, r := range gv.Results {
 			fv[k] = r.Value
@@ -145,7 +145,8 @@ func awardsOf(s *grants.Schedule, v *pricing.Valuation, copies bool) ([]Award, [
 		}
 		a.Condition = ConditionOf(s, gv, end)
 		if shares > 0 {
-			a.Measured = &MeasuredAssumptions{Volatility: gv.Inputs.Volatility.Value, RiskFreeRate: rate / shares,
+			a.Measured = &sc.measured.take(1)[0]
+			*a.Measured = MeasuredAssumptions{Volatility: gv.Inputs.Volatility.Value, RiskFreeRate: rate / shares,
 				DividendYield: gv.Inputs.DividendYield.Value, ExpectedTermYears: term / shares}
 		}
 		if g.IsLiability() {

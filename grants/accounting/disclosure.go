@@ -523,7 +523,7 @@ func summarise(l *awardLedger, out, ex, exp *outAcc, ranges rangeAccs, end time.
 			ranges.add(k, int64(n), int64(n), term)
 		} else {
 			ranges.add(k, int64(n), 0, term)
-			exp.add(n*t.expected(endN, l.rate, l.survival()), k, term, price)
+			exp.add(n*l.expected(t, endN, l.rate, l.survival()), k, term, price)
 		}
 	}
 }

@@ -380,10 +380,7 @@ func openPeriod(awards []Award, policy Policy, periodStart, periodEnd time.Time)
 		if valuation.Days(awards[i].Grant.GrantDate, periodEnd) < 0 {
 			return
 		}
-		if b.l, b.err = newAwardLedger(&awards[i], pol, periodEnd); b.err != nil {
-			return
-		}
-		b.l.scratch = sc
+		b.l, b.err = newAwardLedger(&awards[i], pol, periodEnd, sc)
 	}, func(i int, b *built) {
 		switch {
 		case b.err != nil:
@@ -642,7 +639,7 @@ func Spread(a Award, pol Policy, ends []time.Time) (amounts []float64, cost floa
 	if n := len(ends); n > 0 && ends[n-1].After(asOf) {
 		asOf = ends[n-1]
 	}
-	l, err := newAwardLedger(&a, pol, asOf)
+	l, err := newAwardLedger(&a, pol, asOf, nil)
 	if err != nil {
 		return nil, 0, err
 	}
@@ -862,13 +859,14 @@ func (x *expenseRun) grant(l *awardLedger, r *grantResult) {
 	p := x.p
 	pol, periodStart, periodEnd, open, endN := p.pol, p.start, p.end, x.open, x.endN
 	g := l.in.Grant
-	s0 := l.at(pol, open, open)
-	s1 := l.at(pol, periodEnd, periodEnd)
+	sc, n := l.buffers(), len(l.tr)
+	s0 := l.atInto(pol, open, open, sc.s0[:n])
+	s1 := l.atInto(pol, periodEnd, periodEnd, sc.s1[:n])
 	var pg *PriorGrant
 	if p.prior != nil {
 		pg, _ = p.prior.grant(g.ID)
 	}
-	comp := l.buffers().comp[:len(l.tr)]
+	comp := sc.comp[:n]
 	r.financing, r.warn = l.financing, ""
 	r.periodComp, r.periodFV = r.periodComp[:0], r.periodFV[:0]
 	if !x.booked {
@@ -910,26 +908,26 @@ func (x *expenseRun) grant(l *awardLedger, r *grantResult) {
 	if far.Before(periodEnd) {
 		far = periodEnd
 	}
-	sInf := l.at(pol, far, periodEnd)
+	sInf := l.atInto(pol, far, periodEnd, sc.sInf[:n])
 	lastLive, anyLive := 0, false // the day number of the last service end of a tranche with live shares
-	ge.Tranches = make([]TrancheExpense, 0, len(l.tr))
+	ge.Tranches = sc.expenses.take(n)[:0]
 	r.weights = r.weights[:0]
 	sv, o := l.survival(), l.outcome(endN)
 	for i := range l.tr {
 		t := &l.tr[i]
 		c := t.countsN(endN)
 		live := c.live(t.Tranche.Shares)
-		serviceEnd := t.endAt(endN)
+		serviceEnd := l.endAt(t, endN)
 		if live > 0 && (!anyLive || serviceEnd > lastLive) {
 			lastLive, anyLive = serviceEnd, true
 		}
-		q := t.expected(endN, l.rate, sv)
+		q := l.expected(t, endN, l.rate, sv)
 		fv := t.FairValue
 		if l.liability {
 			fv = l.fairValueAt(i, endN)
 		}
 		te := TrancheExpense{
-			Index: t.Tranche.Index, VestDate: t.vestDate(),
+			Index: int(t.Tranche.Index), VestDate: t.vestDate(),
 			Shares: t.Tranche.Shares, SharesCounted: float64(live)*q*o + float64(c.accelerated),
 			FairValue: fv, GrantDateFairValue: t.FairValue, ExpectedShare: q,
 			Cost: sInf.comp[i], CumulativeOpen: bookedTranche(i), Cumulative: s1.comp[i],
@@ -1007,7 +1005,7 @@ func (x *expenseRun) grant(l *awardLedger, r *grantResult) {
 		prevTotal = cur
 	}
 	r.after = sInf.compTotal() - prevTotal
-	r.parts = l.costCenters(pol, ge, s0, s1, sInf, open, periodEnd, far, x.quarters, r.forecast, r.after)
+	r.parts = l.costCenters(pol, ge, s0, s1, sInf, open, periodEnd, far, x.quarters, r.forecast, r.after, r.parts)
 	ge.ByCostCenter = r.parts.amounts
 	r.years = r.years[:0]
 	for k, e := range x.yearEnd {

@@ -205,7 +205,7 @@ func (l *awardLedger) cut(asOf time.Time) {
 			m := *t.more
 			t.more = &m
 		}
-		t.of = p.Tranche
+		t.of = int32(p.Tranche)
 		t.Tranche.Shares = p.Shares
 		for _, ch := range mod.Changes {
 			if dayNum(ch.Date) <= n {
@@ -226,7 +226,7 @@ func (l *awardLedger) cut(asOf time.Time) {
 func (l *awardLedger) layer(asOf time.Time) {
 	for i := range l.tr {
 		t := &l.tr[i]
-		t.extra().layers = []layer{{kind: layerBase, startN: int(t.startN), value: t.FairValue, to: []retarget{{from: int(t.startN), vest: int(t.origN)}}}}
+		t.extra().layers = []layer{{kind: layerBase, startN: l.startN, value: t.FairValue, to: []retarget{{from: l.startN, vest: int(t.origN)}}}}
 	}
 	mod := l.in.Modified
 	if mod == nil {
@@ -564,7 +564,7 @@ func (p *period) modificationExpense() []ModificationExpense {
 				if cp.Shares == 0 {
 					continue
 				}
-				mp := ModifiedPart{Tranche: l.tr[j].Tranche.Index, Shares: cp.Shares, Left: cp.Left, Improbable: cp.Improbable, Vested: dayNum(cp.VestBefore) <= M,
+				mp := ModifiedPart{Tranche: int(l.tr[j].Tranche.Index), Shares: cp.Shares, Left: cp.Left, Improbable: cp.Improbable, Vested: dayNum(cp.VestBefore) <= M,
 					VestBefore: cp.VestBefore, VestAfter: cp.VestAfter, Before: ch.ValuesBefore[j]}
 				me.Before += mp.Before * float64(cp.Shares)
 				if !l.typeIII {
