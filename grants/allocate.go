@@ -1,8 +1,9 @@
 package grants
 
 import (
+	"cmp"
 	"math/bits"
-	"sort"
+	"slices"
 	"time"
 
 	"grantworth/valuation"
@@ -55,16 +56,22 @@ type Allocation struct {
 // may take are left as Short: the event takes what there is. Events of
 // any other kind take nothing.
 func Allocate(ts []Tranche, evs []Event) Allocation {
-	order := make([]int, len(evs))
+	// The moves are presized for what they nearly always number at most:
+	// a departure takes each unvested tranche once, its exercises and
+	// expiry then the vested ones, splitting one tranche at most each.
+	order, open := make([]int, len(evs)), make([]int64, len(ts))
 	for i := range order {
 		order[i] = i
 	}
-	sort.SliceStable(order, func(a, b int) bool { return valuation.Days(evs[order[b]].Date, evs[order[a]].Date) < 0 })
-	open := make([]int64, len(ts))
+	slices.SortStableFunc(order, func(a, b int) int {
+		return cmp.Compare(valuation.DayNumber(evs[a].Date), valuation.DayNumber(evs[b].Date))
+	})
 	for i, t := range ts {
 		open[i] = t.Shares
 	}
-	out := Allocation{Events: make([]Taken, 0, len(evs))}
+	out := Allocation{Events: make([]Taken, 0, len(evs)), Moves: make([]Move, 0, len(ts)+len(evs))}
+	var idx []int
+	var pool []int64
 	for _, k := range order {
 		e := evs[k]
 		vested := func(i int) bool { return valuation.Days(ts[i].VestDate, e.Date) >= 0 }
@@ -96,8 +103,7 @@ func Allocate(ts []Tranche, evs []Event) Allocation {
 		}
 		switch e.Kind {
 		case Forfeited, Cancelled:
-			var idx []int
-			var pool []int64
+			idx, pool = idx[:0], pool[:0]
 			for i := range ts {
 				if !vested(i) && open[i] > 0 {
 					idx = append(idx, i)
@@ -153,7 +159,7 @@ func ProRata(n int64, pools []int64) []int64 {
 	for i := range order {
 		order[i] = len(pools) - 1 - i
 	}
-	sort.SliceStable(order, func(a, b int) bool { return rem[order[a]] > rem[order[b]] })
+	slices.SortStableFunc(order, func(a, b int) int { return cmp.Compare(rem[b], rem[a]) })
 	for _, i := range order[:n-given] {
 		out[i]++
 	}

@@ -40,7 +40,7 @@ func Close(s *grants.Schedule, v *pricing.Valuation, prior *Prior) (*Books, erro
 		return nil, err
 	}
 	b.SharePrice = src
-	awards, warns, err := AwardsOf(s, v)
+	awards, warns, err := awardsOf(s, v, false) // v stays as it is until the books are made
 	if err != nil {
 		return nil, err
 	}
@@ -49,48 +49,29 @@ func Close(s *grants.Schedule, v *pricing.Valuation, prior *Prior) (*Books, erro
 	if prior != nil && !start.Equal(civilDay(prior.ValuationDate).AddDate(0, 0, 1)) {
 		return nil, fmt.Errorf("the period starts on %s, not the day after the prior close of %s: open it with Open", day(start), day(prior.ValuationDate))
 	}
-	// The awards are Close's own; only the disclosures (the period's
-	// grants) and the reconciliation to a prior close read their tranches
-	// once the ledgers are built, and only the reconciliation and the tax
-	// report read the ledgers' after the expense.
-	p, err := openPeriodOwning(awards, PolicyOf(s), start, end, prior == nil)
+	// The awards refer to v's tranches (awardsOf); the reconciliation to
+	// a prior close takes its views of each ledger with its expense, so
+	// only the tax report reads the ledgers' tranches after the expense.
+	p, err := openPeriod(awards, PolicyOf(s), start, end)
 	if err != nil {
 		return nil, fmt.Errorf("expense and disclosures: %w", err)
 	}
 	p.prior = prior
+	if prior != nil {
+		p.recon = &reconciling{s: s, corrected: correctedOf(v)}
+	}
 	taxIn := TaxInputsOf(s)
-	p.dropsLedgers = p.ownsAwards && !p.taxed(taxIn)
+	p.dropsLedgers = letGo && !p.taxed(taxIn)
 	disc, err := p.disclose(b.SharePrice.Value)
 	if err != nil {
 		return nil, fmt.Errorf("disclosures: %w", err)
-	}
-	if p.ownsAwards {
-		p.releaseAwards()
 	}
 	rep := p.expense()
 	b.Expense, b.Disclosure = rep, disc
 	b.Warnings = append(b.Warnings, rep.Warnings...)
 	var catchUps []CatchUp
 	if prior != nil {
-		sts := make([]grantStates, 0, len(rep.Grants)) // of the compensation ledgers, as rep.Grants
-		prior.index()                                  // before the workers look grants up in it
-		type state struct {
-			st grantStates
-			ok bool
-		}
-		inOrder(len(p.ledgers), workersFor(len(p.ledgers)), func(i int, sc *ledgerScratch, r *state) {
-			l := p.ledgers[i]
-			*r = state{}
-			if !l.financing {
-				l.scratch = sc
-				r.st, r.ok = p.states(l, prior), true
-			}
-		}, func(_ int, r *state) {
-			if r.ok {
-				sts = append(sts, r.st)
-			}
-		})
-		if b.Reconciliation, err = p.reconcile(prior, sts, rep, disc, s, v); err != nil {
+		if b.Reconciliation, err = p.reconcile(prior, p.sts, rep, disc, s, v); err != nil {
 			return nil, fmt.Errorf("reconciliation to the prior close: %w", err)
 		}
 		catchUps = b.Reconciliation.CatchUps
@@ -104,6 +85,10 @@ func Close(s *grants.Schedule, v *pricing.Valuation, prior *Prior) (*Books, erro
 	return b, nil
 }
 
+// letGo is whether Close lets go of what nothing reads after
+// (period.dropsLedgers); a test turns it off to check that nothing does.
+var letGo = true
+
 // AwardsOf pairs every grant v valued with its fair values: per tranche,
 // the grant-date value of an equity-classified award; for a
 // liability-classified warrant its value at the grant date, with its
@@ -116,6 +101,13 @@ func Close(s *grants.Schedule, v *pricing.Valuation, prior *Prior) (*Books, erro
 // A liability warrant that could not be revalued is measured at the
 // valuation date only, with a warning.
 func AwardsOf(s *grants.Schedule, v *pricing.Valuation) ([]Award, []string, error) {
+	return awardsOf(s, v, true)
+}
+
+// awardsOf is AwardsOf; without copies each award refers to its grant's
+// tranches in v rather than holding a copy of them (awardOf), and v must
+// stay as it is while the awards are read.
+func awardsOf(s *grants.Schedule, v *pricing.Valuation, copies bool) ([]Award, []string, error) {
 	_, end := s.Period()
 	var awards []Award // nil for none, as ever
 	if len(v.Grants) > 0 {
@@ -129,11 +121,11 @@ func AwardsOf(s *grants.Schedule, v *pricing.Valuation) ([]Award, []string, erro
 	}
 	// Each grant's award is its own (awards[i], from v.Grants[i]); the
 	// warnings and the first error go in grant order.
-	inOrder(len(v.Grants), workersFor(len(v.Grants)), func(i int, _ *ledgerScratch, m *made) {
+	inOrder(len(v.Grants), workersFor(len(v.Grants)), func(i int, sc *ledgerScratch, m *made) {
 		*m = made{}
 		gv := &v.Grants[i]
 		g := gv.Inputs.Grant
-		fv := make([]float64, len(gv.Results))
+		fv := sc.fvs.take(len(gv.Results))
 		var shares, term, rate float64
 		for k, r := range gv.Results {
 			fv[k] = r.Value
@@ -146,14 +138,15 @@ func AwardsOf(s *grants.Schedule, v *pricing.Valuation) ([]Award, []string, erro
 				rate += n * gv.Inputs.RiskFreeRate.Value
 			}
 		}
-		a, err := awardOf(s, g, gv.Inputs.Tranches, fv)
+		a, err := awardOf(s, g, gv.Inputs.Tranches, fv, copies)
 		if err != nil {
 			m.err = fmt.Errorf("expense: %w", err)
 			return
 		}
 		a.Condition = ConditionOf(s, gv, end)
 		if shares > 0 {
-			a.Measured = &MeasuredAssumptions{Volatility: gv.Inputs.Volatility.Value, RiskFreeRate: rate / shares,
+			a.Measured = &sc.measured.take(1)[0]
+			*a.Measured = MeasuredAssumptions{Volatility: gv.Inputs.Volatility.Value, RiskFreeRate: rate / shares,
 				DividendYield: gv.Inputs.DividendYield.Value, ExpectedTermYears: term / shares}
 		}
 		if g.IsLiability() {
@@ -184,10 +177,17 @@ func AwardsOf(s *grants.Schedule, v *pricing.Valuation) ([]Award, []string, erro
 // warning returned says so.
 func remeasure(a *Award, fv []float64, end time.Time, revs []pricing.Revaluation) string {
 	g := a.Grant
-	only := func(why string) string {
-		for i := range a.Tranches {
-			a.Tranches[i].FairValue = fv[i]
+	setValues := func(vs []float64) {
+		if a.valued != nil {
+			a.fv = vs
+			return
 		}
+		for i := range a.Tranches {
+			a.Tranches[i].FairValue = vs[i]
+		}
+	}
+	only := func(why string) string {
+		setValues(fv)
 		a.Remeasurements = []Remeasurement{{Date: end, FairValue: fv}}
 		return fmt.Sprintf("grant %s: liability-classified warrant measured at the valuation date only (%s); its compensation expense uses that value and no change in fair value is shown apart", g.ID, why)
 	}
@@ -204,9 +204,7 @@ func remeasure(a *Award, fv []float64, end time.Time, revs []pricing.Revaluation
 		}
 		rs = append(rs, Remeasurement{Date: r.Date, FairValue: r.Values})
 	}
-	for i := range a.Tranches {
-		a.Tranches[i].FairValue = revs[0].Values[i]
-	}
+	setValues(revs[0].Values)
 	a.Remeasurements = append(rs, Remeasurement{Date: end, FairValue: fv})
 	return ""
 }

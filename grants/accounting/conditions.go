@@ -108,17 +108,14 @@ func (l *awardLedger) applyCondition() {
 	if c == nil {
 		return
 	}
+	if !c.Met.IsZero() && dayNum(c.Met) <= l.asOfN {
+		l.metN = dayNum(c.Met) // endAt
+	}
 	last := l.last
 	for i := range l.tr {
 		t := &l.tr[i]
 		if i < len(c.ServiceEnd) && !c.ServiceEnd[i].IsZero() && dayNum(c.ServiceEnd[i]) > int(t.endN) {
 			t.endN = int32(dayNum(c.ServiceEnd[i]))
-		}
-		if !c.Met.IsZero() && dayNum(c.Met) <= l.asOfN {
-			// Once met, a tranche vests at the later of its vest date and
-			// that day, never later than the derived end.
-			t.metN = int32(dayNum(c.Met))
-			t.metEndN = min(t.endN, max(t.vestN, t.metN))
 		}
 		if e := shiftDays(civilDay(l.start), int(t.endN)-l.startN); e.After(last) {
 			last = e
@@ -127,21 +124,17 @@ func (l *awardLedger) applyCondition() {
 	l.last = last
 }
 
-// endAt is the last day of the tranche's requisite service as known at the
+// endAt is the last day of tranche t's requisite service as known at the
 // end of day d: its vest date, or the later end a market condition sets,
-// brought forward once a hurdle is met.
-func (t *trancheLedger) endAt(d int) int {
-	if d >= int(t.metN) {
-		return int(t.metEndN)
+// brought forward once a hurdle is met: from the day it was met (metN)
+// the tranche vests at the later of its vest date and that day, never
+// later than the derived end.
+func (l *awardLedger) endAt(t *trancheLedger, d int) int {
+	if d >= l.metN {
+		return min(int(t.endN), max(int(t.vestN), l.metN))
 	}
 	return int(t.endN)
 }
 
-// daysAt are the tranche's service days as known at the end of day d.
-func (t *trancheLedger) daysAt(d int) int { return t.endAt(d) - int(t.startN) }
-
-// serviceEnd is the tranche's requisite service end as a date, as known at
-// the end of day d.
-func (t *trancheLedger) serviceEnd(d int) time.Time {
-	return dayDate(t.endAt(d))
-}
+// daysAt are tranche t's service days as known at the end of day d.
+func (l *awardLedger) daysAt(t *trancheLedger, d int) int { return l.endAt(t, d) - l.startN }

@@ -1,8 +1,10 @@
 package accounting
 
 import (
+	"cmp"
 	"fmt"
 	"math"
+	"slices"
 	"sort"
 	"strings"
 	"time"
@@ -55,9 +57,15 @@ func (l *awardLedger) setCostCenters(a *Award, asOf time.Time) {
 		l.centres = append(l.centres, name)
 		return len(l.centres) - 1
 	}
-	l.spans = []centreSpan{{from: math.MinInt, centre: index(a.Grant.CostCenter)}}
-	ts := append([]grants.Transfer(nil), a.Transfers...)
-	sort.SliceStable(ts, func(i, j int) bool { return dayNum(ts[i].Date) < dayNum(ts[j].Date) })
+	sc := l.scratch                  // newAwardLedger's
+	l.centres = sc.names.take(1)[:0] // a grant's first cost centre, nearly always its only one
+	l.spans = sc.spans.take(1)
+	l.spans[0] = centreSpan{from: math.MinInt, centre: index(a.Grant.CostCenter)}
+	if len(a.Transfers) == 0 {
+		return
+	}
+	ts := slices.Clone(a.Transfers)
+	slices.SortStableFunc(ts, func(a, b grants.Transfer) int { return cmp.Compare(dayNum(a.Date), dayNum(b.Date)) })
 	for _, t := range ts {
 		if !dayOnOrBefore(t.Date, asOf) {
 			continue
@@ -104,7 +112,7 @@ func (l *awardLedger) split(comp []float64, d int, out []float64) {
 			continue
 		}
 		t := &l.tr[i]
-		a, b := int(t.startN), min(d, t.endAt(d)-1) // to the end of requisite service (a market condition can set it past the vest date)
+		a, b := l.startN, min(d, l.endAt(t, d)-1) // to the end of requisite service (a market condition can set it past the vest date)
 		if b < a {
 			out[l.centreOn(a)] += v
 			continue
@@ -146,15 +154,27 @@ type centreParts struct {
 // after are the grant's whole forecast amounts and what follows. The
 // float rounding of the split is put in the centre of the period end, so
 // that the parts add up to the grant's figures exactly.
-func (l *awardLedger) costCenters(pol Policy, ge GrantExpense, s0, s1, sInf snapshot, open, end, far time.Time, quarters []PeriodAmount, forecast []float64, after float64) centreParts {
-	if len(l.spans) == 1 {
-		return centreParts{
-			amounts:  []CostCenterAmount{{CostCenter: l.centres[0], Period: ge.Period, Cumulative: ge.Cumulative, Unrecognized: ge.Unrecognized}},
-			forecast: [][]float64{append([]float64(nil), forecast...)},
-			after:    []float64{after},
-		}
-	}
+//
+// The amounts are the grant's own (GrantExpense.ByCostCenter), cut from
+// the scratch's block; the forecast and after reuse the memory of those
+// of old, parts the caller has added up already.
+func (l *awardLedger) costCenters(pol Policy, ge GrantExpense, s0, s1, sInf snapshot, open, end, far time.Time, quarters []PeriodAmount, forecast []float64, after float64, old centreParts) centreParts {
 	n := len(l.centres)
+	p := centreParts{amounts: l.buffers().centres.take(n), forecast: old.forecast[:0], after: old.after[:0]}
+	for c := range n {
+		var row []float64
+		if c < len(old.forecast) {
+			row = old.forecast[c][:0] // read before the append below writes over it
+		}
+		p.forecast = append(p.forecast, row)
+		p.after = append(p.after, 0)
+	}
+	if len(l.spans) == 1 {
+		p.amounts[0] = CostCenterAmount{CostCenter: l.centres[0], Period: ge.Period, Cumulative: ge.Cumulative, Unrecognized: ge.Unrecognized}
+		p.forecast[0] = append(p.forecast[0], forecast...)
+		p.after[0] = after
+		return p
+	}
 	at := func(s snapshot, d time.Time) []float64 {
 		out := make([]float64, n)
 		l.split(s.comp, dayNum(d), out)
@@ -169,7 +189,6 @@ func (l *awardLedger) costCenters(pol Policy, ge GrantExpense, s0, s1, sInf snap
 		return x
 	}
 	cur := l.centreOn(dayNum(end))
-	p := centreParts{amounts: make([]CostCenterAmount, n), forecast: make([][]float64, n), after: make([]float64, n)}
 	var sums [3]float64
 	for c := range p.amounts {
 		a := CostCenterAmount{CostCenter: l.centres[c], Period: clean(cEnd[c] - cOpen[c]), Cumulative: clean(cEnd[c]), Unrecognized: clean(cFar[c] - cEnd[c])}
@@ -179,7 +198,9 @@ func (l *awardLedger) costCenters(pol Policy, ge GrantExpense, s0, s1, sInf snap
 			sums[2] += a.Unrecognized
 		}
 		p.amounts[c] = a
-		p.forecast[c] = make([]float64, len(quarters))
+		for range quarters {
+			p.forecast[c] = append(p.forecast[c], 0)
+		}
 	}
 	p.amounts[cur].Period, p.amounts[cur].Cumulative, p.amounts[cur].Unrecognized = ge.Period-sums[0], ge.Cumulative-sums[1], ge.Unrecognized-sums[2]
 	prev := cEnd

@@ -223,9 +223,10 @@ type grantAcc struct {
 
 func (a *grantAcc) add(aw *Award) {
 	var n int64
-	for _, tc := range aw.Tranches {
-		n += tc.Tranche.Shares
-		a.fv += float64(tc.Tranche.Shares) * tc.FairValue
+	for i := range aw.tranches() {
+		tc, fv := aw.tranche(i)
+		n += tc.Shares
+		a.fv += float64(tc.Shares) * fv
 	}
 	a.grants++
 	a.shares += n
@@ -522,7 +523,7 @@ func summarise(l *awardLedger, out, ex, exp *outAcc, ranges rangeAccs, end time.
 			ranges.add(k, int64(n), int64(n), term)
 		} else {
 			ranges.add(k, int64(n), 0, term)
-			exp.add(n*t.expected(endN, l.rate, l.survival()), k, term, price)
+			exp.add(n*l.expected(t, endN, l.rate, l.survival()), k, term, price)
 		}
 	}
 }

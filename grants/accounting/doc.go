@@ -43,7 +43,12 @@
 // A large close runs its work per grant (each award, ledger, expense and
 // view of the reconciliation) on all cores, and adds the grants up in
 // grant order on one (parallel.go): the Books are the same to the bit
-// whatever the number of cores.
+// whatever the number of cores. It holds little beside the report's own
+// rows: Close's awards refer to the valuation's tranches rather than copy
+// them, each grant's views for the reconciliation are taken with its
+// expense, and a ledger's tranches are let go once both are drawn (unless
+// the tax report reads them after); each worker has its own scratch, and
+// the lists kept per grant are cut from larger blocks.
 //
 // To attribute one award over periods of one's own choosing (a grant
 // design before it is made, say) use Spread.

@@ -55,6 +55,12 @@ type Award struct {
 	// Condition is how a vesting condition beyond service changes the
 	// attribution (ConditionOf); nil for service only.
 	Condition *Conditioned
+
+	// valued and fv are, in an award Close made, its tranches as the
+	// valuation holds them and their fair values, in place of Tranches
+	// (awardOf; read through tranche).
+	valued []grants.Tranche
+	fv     []float64
 }
 
 // Policy is the company's attribution and forfeiture policy, the standard
@@ -319,26 +325,19 @@ type period struct {
 	start, end time.Time
 	ledgers    []*awardLedger
 	prior      *Prior
-	// ownsAwards is set when the awards are the period's own (Close made
-	// them) and nothing after the disclosures reads their tranches (no
-	// prior close is reconciled): each award's tranches are let go once
-	// its ledger holds them (openPeriodOwning), but for the awards granted
-	// in the period, whose the disclosures read, and which Close lets go
-	// once those are drawn (releaseAwards); and when nothing after the
-	// expense reads a ledger's tranches either (untaxed, see
-	// dropsLedgers), expense lets those go once that grant's expense is
-	// drawn, so that a large ledger is not held two or three times over
-	// beside the report.
-	ownsAwards   bool
+	// recon is set when the period is reconciled to prior (Close): each
+	// grant's expense takes its views for the reconciliation too, into
+	// sts, those of the compensation ledgers in order (as
+	// ExpenseReport.Grants).
+	recon *reconciling
+	sts   []grantStates
+	// dropsLedgers is set when the ledgers are Close's own and nothing
+	// after the expense reads their tranches (untaxed): expense lets go
+	// of each ledger's tranches once that grant's expense (and its views)
+	// are drawn, so that a large ledger is not held twice over beside the
+	// report, but for those another ledger's expense reads after
+	// (keepsTranches).
 	dropsLedgers bool
-}
-
-// releaseAwards lets go of the tranches of the awards the ledgers were
-// built from: once built, a ledger reads only their count (tranches).
-func (p *period) releaseAwards() {
-	for _, l := range p.ledgers {
-		l.in.Tranches = nil
-	}
 }
 
 // keepsTranches reports whether ledger l's tranches are read after its
@@ -361,15 +360,6 @@ func keepsTranches(ledgers []*awardLedger) map[*awardLedger]bool {
 // openPeriod checks the policy and the period and builds the ledgers;
 // the error joins one error for each award that does not fit.
 func openPeriod(awards []Award, policy Policy, periodStart, periodEnd time.Time) (*period, error) {
-	return openPeriodOwning(awards, policy, periodStart, periodEnd, false)
-}
-
-// openPeriodOwning is openPeriod, and with owns the period's ownsAwards:
-// as each ledger is built it lets go of its award's tranches unless the
-// award was granted in the period (the disclosures read those; Close lets
-// them go once they are drawn, releaseAwards), so that a large ledger
-// does not hold every award's tranches beside every ledger's.
-func openPeriodOwning(awards []Award, policy Policy, periodStart, periodEnd time.Time, owns bool) (*period, error) {
 	pol, err := policy.normalized()
 	if err != nil {
 		return nil, err
@@ -378,7 +368,7 @@ func openPeriodOwning(awards []Award, policy Policy, periodStart, periodEnd time
 	if periodEnd.Before(periodStart) {
 		return nil, fmt.Errorf("period end %s is before period start %s", periodEnd.Format(time.DateOnly), periodStart.Format(time.DateOnly))
 	}
-	p := &period{pol: pol, start: periodStart, end: periodEnd, ownsAwards: owns}
+	p := &period{pol: pol, start: periodStart, end: periodEnd}
 	type built struct {
 		l   *awardLedger
 		err error
@@ -390,13 +380,7 @@ func openPeriodOwning(awards []Award, policy Policy, periodStart, periodEnd time
 		if valuation.Days(awards[i].Grant.GrantDate, periodEnd) < 0 {
 			return
 		}
-		if b.l, b.err = newAwardLedger(&awards[i], pol, periodEnd); b.err != nil {
-			return
-		}
-		if owns && valuation.Days(periodStart, awards[i].Grant.GrantDate) < 0 { // as disclose's inPeriod
-			awards[i].Tranches = nil
-		}
-		b.l.scratch = sc
+		b.l, b.err = newAwardLedger(&awards[i], pol, periodEnd, sc)
 	}, func(i int, b *built) {
 		switch {
 		case b.err != nil:
@@ -514,11 +498,23 @@ func (p *period) expense() *ExpenseReport {
 	if compensation > 0 { // nil for none, as ever
 		rep.Grants = make([]GrantExpense, 0, compensation)
 	}
+	if p.recon != nil {
+		p.sts = make([]grantStates, 0, compensation)
+	}
 	var wYears float64
 	inOrder(len(ledgers), workersFor(len(ledgers)), func(i int, sc *ledgerScratch, r *grantResult) {
 		l := ledgers[i]
 		l.scratch = sc
 		x.grant(l, r)
+		if p.recon != nil && !l.financing {
+			r.st = p.states(l, p.prior)
+			if r.st.old {
+				r.st.catchUps = catchUps(r.st, l, p.prior, p.recon.s, p.recon.corrected)
+			}
+		}
+		if p.dropsLedgers && !x.keep[l] {
+			l.tr = nil // its expense and views are drawn, and nothing after reads it
+		}
 	}, func(i int, r *grantResult) {
 		g := &ledgers[i].in.Grant
 		if r.financing {
@@ -558,6 +554,9 @@ func (p *period) expense() *ExpenseReport {
 		rep.AfterForecast += r.after
 		centres.add(g.ID, r.parts)
 		rep.Grants = append(rep.Grants, *ge)
+		if p.recon != nil {
+			p.sts = append(p.sts, r.st)
+		}
 		for k := range rep.ByFiscalYear {
 			if x.yearEnd[k] >= 0 {
 				rep.ByFiscalYear[k].Expected += r.years[k]
@@ -640,7 +639,7 @@ func Spread(a Award, pol Policy, ends []time.Time) (amounts []float64, cost floa
 	if n := len(ends); n > 0 && ends[n-1].After(asOf) {
 		asOf = ends[n-1]
 	}
-	l, err := newAwardLedger(&a, pol, asOf)
+	l, err := newAwardLedger(&a, pol, asOf, nil)
 	if err != nil {
 		return nil, 0, err
 	}
@@ -848,6 +847,9 @@ type grantResult struct {
 	parts                centreParts
 	futureVals           []float64 // scratch: the cost through each future day
 	priorDays            []int     // scratch: the prior close's tranches' vest days
+	// st are the ledger's views for the reconciliation to the prior
+	// close, with its catch-ups (period.recon).
+	st grantStates
 }
 
 type unrecognizedYears struct{ unrecognized, years float64 }
@@ -857,13 +859,14 @@ func (x *expenseRun) grant(l *awardLedger, r *grantResult) {
 	p := x.p
 	pol, periodStart, periodEnd, open, endN := p.pol, p.start, p.end, x.open, x.endN
 	g := l.in.Grant
-	s0 := l.at(pol, open, open)
-	s1 := l.at(pol, periodEnd, periodEnd)
+	sc, n := l.buffers(), len(l.tr)
+	s0 := l.atInto(pol, open, open, sc.s0[:n])
+	s1 := l.atInto(pol, periodEnd, periodEnd, sc.s1[:n])
 	var pg *PriorGrant
 	if p.prior != nil {
 		pg, _ = p.prior.grant(g.ID)
 	}
-	comp := l.buffers().comp[:len(l.tr)]
+	comp := sc.comp[:n]
 	r.financing, r.warn = l.financing, ""
 	r.periodComp, r.periodFV = r.periodComp[:0], r.periodFV[:0]
 	if !x.booked {
@@ -905,26 +908,26 @@ func (x *expenseRun) grant(l *awardLedger, r *grantResult) {
 	if far.Before(periodEnd) {
 		far = periodEnd
 	}
-	sInf := l.at(pol, far, periodEnd)
+	sInf := l.atInto(pol, far, periodEnd, sc.sInf[:n])
 	lastLive, anyLive := 0, false // the day number of the last service end of a tranche with live shares
-	ge.Tranches = make([]TrancheExpense, 0, len(l.tr))
+	ge.Tranches = sc.expenses.take(n)[:0]
 	r.weights = r.weights[:0]
 	sv, o := l.survival(), l.outcome(endN)
 	for i := range l.tr {
 		t := &l.tr[i]
 		c := t.countsN(endN)
 		live := c.live(t.Tranche.Shares)
-		serviceEnd := t.endAt(endN)
+		serviceEnd := l.endAt(t, endN)
 		if live > 0 && (!anyLive || serviceEnd > lastLive) {
 			lastLive, anyLive = serviceEnd, true
 		}
-		q := t.expected(endN, l.rate, sv)
+		q := l.expected(t, endN, l.rate, sv)
 		fv := t.FairValue
 		if l.liability {
 			fv = l.fairValueAt(i, endN)
 		}
 		te := TrancheExpense{
-			Index: t.Tranche.Index, VestDate: t.vestDate(),
+			Index: int(t.Tranche.Index), VestDate: t.vestDate(),
 			Shares: t.Tranche.Shares, SharesCounted: float64(live)*q*o + float64(c.accelerated),
 			FairValue: fv, GrantDateFairValue: t.FairValue, ExpectedShare: q,
 			Cost: sInf.comp[i], CumulativeOpen: bookedTranche(i), Cumulative: s1.comp[i],
@@ -1002,7 +1005,7 @@ func (x *expenseRun) grant(l *awardLedger, r *grantResult) {
 		prevTotal = cur
 	}
 	r.after = sInf.compTotal() - prevTotal
-	r.parts = l.costCenters(pol, ge, s0, s1, sInf, open, periodEnd, far, x.quarters, r.forecast, r.after)
+	r.parts = l.costCenters(pol, ge, s0, s1, sInf, open, periodEnd, far, x.quarters, r.forecast, r.after, r.parts)
 	ge.ByCostCenter = r.parts.amounts
 	r.years = r.years[:0]
 	for k, e := range x.yearEnd {
@@ -1017,7 +1020,4 @@ func (x *expenseRun) grant(l *awardLedger, r *grantResult) {
 		r.years = append(r.years, y)
 	}
 	r.ge = ge
-	if p.dropsLedgers && !x.keep[l] {
-		l.tr = nil // its expense is drawn, and nothing after reads it
-	}
 }

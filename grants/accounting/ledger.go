@@ -1,10 +1,11 @@
 package accounting
 
 import (
+	"cmp"
 	"errors"
 	"fmt"
 	"math"
-	"sort"
+	"slices"
 	"time"
 
 	"grantworth/grants"
@@ -53,32 +54,30 @@ type move struct {
 // ledger holds one per tranche, so not a whole grants.Tranche.
 // The vest date is the tranche's vestN (vestDate).
 type ledgerTerms struct {
-	Index  int
 	Shares int64
+	Index  int32
 }
 
+// trancheLedger is one tranche of a ledger, in 48 bytes: a large ledger
+// holds millions. What is the same for every tranche of the award (the
+// service start, the day a hurdle was met) is the ledger's.
 type trancheLedger struct {
-	// Tranche and FairValue are those of the award's TrancheCost (the
-	// service starts on the award's start, awardLedger.start).
+	// Tranche and FairValue are those of the award's tranche (the service
+	// starts on the award's start, awardLedger.start and startN).
 	Tranche   ledgerTerms
 	FairValue float64
-	// Day numbers (dayNum) in four bytes each, a large ledger holding
-	// millions of tranches: of the service start and the vest date; endN
-	// is the last day of the requisite service (the vest date unless a
-	// market condition sets a later one); from day metN on (a hurdle met;
-	// MaxInt32 until then) it is metEndN (conditions.go).
-	startN, vestN       int32
-	endN, metN, metEndN int32
+	// Day numbers (dayNum) in four bytes each: of the vest date, and of
+	// the last day of the requisite service, endN (the vest date unless a
+	// market condition sets a later one; awardLedger.endAt).
+	vestN, endN int32
 	// A ledger of an award that a change touched has one entry per part
-	// of a tranche (modify.go): of is the index of its tranche in
-	// Award.Tranches, origN the day number of that tranche's vest date as
+	// of a tranche (modify.go): of is the index of its tranche in the
+	// award's, origN the day number of that tranche's vest date as
 	// granted (its key in a prior close), and layers its costs. For any
 	// other award of is the entry's own index and origN its vestN.
-	origN int32
-	of    int
+	origN, of int32
 	// more holds the moves and layers of the few tranches that have any
-	// (moves, layers, extra): nil for the rest, which keeps the entry at
-	// 64 bytes.
+	// (moves, layers, extra): nil for the rest.
 	more *trancheMore
 }
 
@@ -125,8 +124,11 @@ type awardLedger struct {
 	tranches int
 	remeas   []Remeasurement // sorted by date
 	remeasN  []int           // their day numbers
-	// day numbers of the grant date and the service start
+	// day numbers of the grant date and the service start, and of the
+	// day a market condition's hurdle was met (math.MaxInt until then,
+	// conditions.go)
 	grantN, startN int
+	metN           int
 	// expiry is the award's expiry after the changes dated by the ledger's
 	// date; layered is set when a change touched it, and replaced for a
 	// replacement award (modify.go).
@@ -151,11 +153,51 @@ type awardLedger struct {
 }
 
 // ledgerScratch are the buffers a ledger's views are computed in, and
-// the survival to vest they ask for again and again.
+// the survival to vest they ask for again and again; and, on a worker of
+// a close, the scratch of building a ledger and the blocks the lists a
+// close keeps per grant are cut from.
 type ledgerScratch struct {
 	value, lia, comp []float64
-	counts           []trancheCounts
-	surv             survivals
+	// s0, s1 and sInf hold the cost by tranche of the snapshots of a
+	// grant's expense (expenseRun.grant).
+	s0, s1, sInf []float64
+	counts       []trancheCounts
+	surv         survivals
+
+	// events, given and tranches are newAwardLedger's and apply's.
+	events     []pricedEvent
+	given      []grants.Event
+	tranches   []grants.Tranche
+	perTranche []int
+
+	fvs      block[float64]
+	measured block[MeasuredAssumptions]
+	names    block[string]
+	spans    block[centreSpan]
+	expenses block[TrancheExpense]
+	centres  block[CostCenterAmount]
+}
+
+// block hands out lists of n elements cut from larger blocks, for the
+// lists a close keeps per grant: one allocation for many grants, and
+// none of the rounding up of many small ones. Each list is cut with its
+// capacity, so appending to it never writes into the next. The blocks
+// double from 64 elements to 1,024 (120 KiB of TrancheExpense), so that a
+// small close holds little more than it uses.
+type block[T any] struct {
+	free []T
+	size int // of the last block
+}
+
+// take is a list of n zero elements.
+func (b *block[T]) take(n int) []T {
+	if len(b.free) < n {
+		b.size = min(max(2*b.size, 64), 1024)
+		b.free = make([]T, max(n, b.size))
+	}
+	s := b.free[:n:n]
+	b.free = b.free[n:]
+	return s
 }
 
 // survival is the cache of survival to vest of l's scratch.
@@ -173,7 +215,9 @@ func (l *awardLedger) buffers() *ledgerScratch {
 	}
 	sc, n := l.scratch, len(l.tr)
 	if len(sc.value) < n {
-		sc.value, sc.lia, sc.comp, sc.counts = make([]float64, n), make([]float64, n), make([]float64, n), make([]trancheCounts, n)
+		b := make([]float64, 6*n) // one block for the six
+		sc.value, sc.lia, sc.comp, sc.s0, sc.s1, sc.sInf = b[:n:n], b[n:2*n:2*n], b[2*n:3*n:3*n], b[3*n:4*n:4*n], b[4*n:5*n:5*n], b[5*n:]
+		sc.counts = make([]trancheCounts, n)
 	}
 	return sc
 }
@@ -221,40 +265,50 @@ func (p Policy) normalized() (Policy, error) {
 	return p, nil
 }
 
-// ledger applies an award's events up to asOf to its tranches.
-func newAwardLedger(a *Award, pol Policy, asOf time.Time) (*awardLedger, error) {
+// ledger applies an award's events up to asOf to its tranches. sc is the
+// scratch of the worker building it, which the ledger keeps (nil: its
+// own).
+func newAwardLedger(a *Award, pol Policy, asOf time.Time, sc *ledgerScratch) (*awardLedger, error) {
 	g := a.Grant
-	if len(a.Tranches) == 0 {
+	nt := a.tranches()
+	if nt == 0 {
 		return nil, fmt.Errorf("grant %s: no tranches", g.ID)
 	}
-	l := &awardLedger{in: a, liability: g.IsLiability(), financing: g.IsFinancing(), start: ServiceStart(g), asOfN: dayNum(asOf)}
+	if sc == nil {
+		sc = &ledgerScratch{}
+	}
+	l := &awardLedger{in: a, liability: g.IsLiability(), financing: g.IsFinancing(), start: ServiceStart(g), asOfN: dayNum(asOf), scratch: sc}
 	if pol.Forfeitures == grants.Estimate {
 		l.rate = pol.PreVestingForfeitureRate
 	}
-	l.tr, l.tranches = make([]trancheLedger, 0, len(a.Tranches)), len(a.Tranches)
-	for i, tc := range a.Tranches {
-		if tc.Tranche.GrantID != "" && tc.Tranche.GrantID != g.ID {
-			return nil, fmt.Errorf("grant %s: tranche %d belongs to grant %s", g.ID, tc.Tranche.Index, tc.Tranche.GrantID)
+	l.tr, l.tranches = make([]trancheLedger, 0, nt), nt
+	var prev *grants.Tranche
+	for i := range nt {
+		tc, fv := a.tranche(i)
+		if tc.GrantID != "" && tc.GrantID != g.ID {
+			return nil, fmt.Errorf("grant %s: tranche %d belongs to grant %s", g.ID, tc.Index, tc.GrantID)
 		}
-		if !(tc.FairValue >= 0) || math.IsInf(tc.FairValue, 0) {
-			return nil, fmt.Errorf("grant %s tranche %d: fair value per share %v is not a finite non-negative number", g.ID, tc.Tranche.Index, tc.FairValue)
+		if !(fv >= 0) || math.IsInf(fv, 0) {
+			return nil, fmt.Errorf("grant %s tranche %d: fair value per share %v is not a finite non-negative number", g.ID, tc.Index, fv)
 		}
-		if tc.Tranche.Shares < 0 {
-			return nil, fmt.Errorf("grant %s tranche %d: %d shares", g.ID, tc.Tranche.Index, tc.Tranche.Shares)
+		if tc.Shares < 0 {
+			return nil, fmt.Errorf("grant %s tranche %d: %d shares", g.ID, tc.Index, tc.Shares)
 		}
-		if i > 0 && tc.Tranche.VestDate.Before(a.Tranches[i-1].Tranche.VestDate) {
-			return nil, fmt.Errorf("grant %s: tranches not in vest-date order at tranche %d", g.ID, tc.Tranche.Index)
+		if prev != nil && tc.VestDate.Before(prev.VestDate) {
+			return nil, fmt.Errorf("grant %s: tranches not in vest-date order at tranche %d", g.ID, tc.Index)
 		}
-		if !g.ExpiryDate.IsZero() && tc.Tranche.VestDate.After(g.ExpiryDate) {
-			return nil, fmt.Errorf("grant %s tranche %d: vests %s, after expiry %s", g.ID, tc.Tranche.Index, tc.Tranche.VestDate.Format(time.DateOnly), g.ExpiryDate.Format(time.DateOnly))
+		if !g.ExpiryDate.IsZero() && tc.VestDate.After(g.ExpiryDate) {
+			return nil, fmt.Errorf("grant %s tranche %d: vests %s, after expiry %s", g.ID, tc.Index, tc.VestDate.Format(time.DateOnly), g.ExpiryDate.Format(time.DateOnly))
 		}
-		terms := ledgerTerms{Index: tc.Tranche.Index, Shares: tc.Tranche.Shares}
-		t := trancheLedger{Tranche: terms, FairValue: tc.FairValue, startN: int32(dayNum(l.start)), vestN: int32(dayNum(tc.Tranche.VestDate)), metN: math.MaxInt32, of: i}
+		terms := ledgerTerms{Index: int32(tc.Index), Shares: tc.Shares}
+		t := trancheLedger{Tranche: terms, FairValue: fv, vestN: int32(dayNum(tc.VestDate)), of: int32(i)}
 		t.endN, t.origN = t.vestN, t.vestN
 		l.tr = append(l.tr, t)
+		prev = tc
 	}
-	l.last = a.Tranches[len(a.Tranches)-1].Tranche.VestDate
-	l.grantN, l.startN = dayNum(g.GrantDate), dayNum(l.start)
+	last, _ := a.tranche(nt - 1)
+	l.last = last.VestDate
+	l.grantN, l.startN, l.metN = dayNum(g.GrantDate), dayNum(l.start), math.MaxInt
 	l.expiry, l.typeIII = g.ExpiryDate, pol.Framework != grants.IFRS2
 	if a.Modified != nil {
 		for _, ch := range a.Modified.Changes {
@@ -269,22 +323,23 @@ func newAwardLedger(a *Award, pol Policy, asOf time.Time) (*awardLedger, error) 
 		return nil, fmt.Errorf("grant %s: remeasurements given but it is not a liability-classified warrant", g.ID)
 	}
 	for _, r := range a.Remeasurements {
-		if len(r.FairValue) != len(a.Tranches) {
-			return nil, fmt.Errorf("grant %s: remeasurement on %s has %d values for %d tranches", g.ID, r.Date.Format(time.DateOnly), len(r.FairValue), len(a.Tranches))
+		if len(r.FairValue) != nt {
+			return nil, fmt.Errorf("grant %s: remeasurement on %s has %d values for %d tranches", g.ID, r.Date.Format(time.DateOnly), len(r.FairValue), nt)
 		}
 		for i, v := range r.FairValue {
 			if !(v >= 0) || math.IsInf(v, 0) {
-				return nil, fmt.Errorf("grant %s tranche %d: remeasured fair value %v on %s", g.ID, a.Tranches[i].Tranche.Index, v, r.Date.Format(time.DateOnly))
+				tc, _ := a.tranche(i)
+				return nil, fmt.Errorf("grant %s tranche %d: remeasured fair value %v on %s", g.ID, tc.Index, v, r.Date.Format(time.DateOnly))
 			}
 		}
 		l.remeas = append(l.remeas, r)
 	}
-	sort.SliceStable(l.remeas, func(i, j int) bool { return dayNum(l.remeas[i].Date) < dayNum(l.remeas[j].Date) })
+	slices.SortStableFunc(l.remeas, func(a, b Remeasurement) int { return cmp.Compare(dayNum(a.Date), dayNum(b.Date)) })
 	for _, r := range l.remeas {
 		l.remeasN = append(l.remeasN, dayNum(r.Date))
 	}
 
-	var evs []pricedEvent
+	evs := sc.events[:0]
 	for k, e := range a.Events {
 		if e.GrantID != "" && e.GrantID != g.ID {
 			return nil, &EventError{GrantID: e.GrantID, Row: e.Row, Date: e.Date, Msg: fmt.Sprintf("listed under grant %s", g.ID)}
@@ -300,8 +355,9 @@ func newAwardLedger(a *Award, pol Policy, asOf time.Time) (*awardLedger, error) 
 			evs = append(evs, pe)
 		}
 	}
+	sc.events = evs
 	l.setCostCenters(a, asOf)
-	sort.SliceStable(evs, func(i, j int) bool { return valuation.Days(evs[j].Date, evs[i].Date) < 0 })
+	slices.SortStableFunc(evs, func(a, b pricedEvent) int { return cmp.Compare(dayNum(a.Date), dayNum(b.Date)) })
 	if err := l.apply(evs); err != nil {
 		return nil, err
 	}
@@ -333,18 +389,18 @@ func (t *trancheLedger) vestedOn(d time.Time) bool { return int(t.vestN) <= dayN
 
 func (t *trancheLedger) vestedN(d int) bool { return int(t.vestN) <= d }
 
-// expected is the expected share of the tranche's live shares at the end
+// expected is the expected share of tranche t's live shares at the end
 // of day d that are still there at its vest date (see the package notes
 // on forfeitures): rate over the service days still to come, from day d+1
 // (or the service start) to the day before vesting; 1 once vested or with
 // no forfeiture rate.
 // sv computes valuation.SurvivalToVest.
-func (t *trancheLedger) expected(d int, rate float64, sv *survivals) float64 {
-	end := t.endAt(d)
+func (l *awardLedger) expected(t *trancheLedger, d int, rate float64, sv *survivals) float64 {
+	end := l.endAt(t, d)
 	if end <= d || rate == 0 {
 		return 1
 	}
-	return sv.at(rate, end-max(int(t.startN), d+1))
+	return sv.at(rate, end-max(l.startN, d+1))
 }
 
 // pricedEvent is an event with the share price on its date.
@@ -359,10 +415,12 @@ func (l *awardLedger) apply(pevs []pricedEvent) error {
 	if len(pevs) == 0 {
 		return nil // nothing to check or to give out
 	}
-	evs := make([]grants.Event, len(pevs))
-	for i, e := range pevs {
-		evs[i] = e.Event
+	sc := l.scratch
+	evs := sc.given[:0]
+	for _, e := range pevs {
+		evs = append(evs, e.Event)
 	}
+	sc.given = evs
 	g := l.in.Grant
 	fail := func(e grants.Event, format string, args ...any) error {
 		return &EventError{GrantID: g.ID, Row: e.Row, Date: e.Date, Msg: fmt.Sprintf(format, args...)}
@@ -382,10 +440,11 @@ func (l *awardLedger) apply(pevs []pricedEvent) error {
 			return fail(e, "unknown event %q", e.Kind)
 		}
 	}
-	ts := make([]grants.Tranche, len(l.tr))
+	ts := sc.tranches[:0]
 	for i := range l.tr {
-		ts[i] = grants.Tranche{Index: l.tr[i].Tranche.Index, VestDate: l.tr[i].vestDate(), Shares: l.tr[i].Tranche.Shares}
+		ts = append(ts, grants.Tranche{Index: int(l.tr[i].Tranche.Index), VestDate: l.tr[i].vestDate(), Shares: l.tr[i].Tranche.Shares})
 	}
+	sc.tranches = ts
 	al := grants.Allocate(ts, evs)
 	for _, tk := range al.Events {
 		if tk.Short == 0 {
@@ -396,6 +455,30 @@ func (l *awardLedger) apply(pevs []pricedEvent) error {
 			return fail(e, "%s %d shares but only %d are outstanding", e.Kind, e.Shares, tk.Unvested+tk.Vested)
 		}
 		return fail(e, "%s %d shares but only %d are vested and outstanding", e.Kind, e.Shares, tk.Vested)
+	}
+	// The moves go to their tranches in two blocks, one of the tranches'
+	// trancheMore and one of the moves, each tranche's cut with its
+	// capacity (block.take).
+	per := sc.perTranche[:0]
+	for range l.tr {
+		per = append(per, 0)
+	}
+	sc.perTranche = per
+	for _, m := range al.Moves {
+		per[m.Tranche]++
+	}
+	withMoves := 0
+	for i, n := range per {
+		if n > 0 && l.tr[i].more == nil {
+			withMoves++
+		}
+	}
+	mores, moves := make([]trancheMore, withMoves), make([]move, len(al.Moves))
+	for i, n := range per {
+		if t := &l.tr[i]; n > 0 && t.more == nil {
+			t.more, mores = &mores[0], mores[1:]
+			t.more.moves, moves = moves[:0:n], moves[n:]
+		}
 	}
 	for _, m := range al.Moves {
 		t := &l.tr[m.Tranche]
@@ -474,10 +557,10 @@ func (l *awardLedger) attribute(pol Policy, value []float64, d, known, endN int,
 	kd := min(d, known)
 	o := l.outcome(d) // a performance condition's probable outcome
 	sv := l.survival()
-	q := func(i int) float64 { return l.tr[i].expected(kd, rate, sv) * o }
+	q := func(i int) float64 { return l.expected(&l.tr[i], kd, rate, sv) * o }
 	if pol.Attribution == grants.Graded {
 		for i := range l.tr {
-			out[i] = value[i] * q(i) * serviceFraction(int(l.tr[i].startN), l.tr[i].daysAt(d), d)
+			out[i] = value[i] * q(i) * serviceFraction(l.startN, l.daysAt(&l.tr[i], d), d)
 		}
 		return
 	}
@@ -485,7 +568,7 @@ func (l *awardLedger) attribute(pol Policy, value []float64, d, known, endN int,
 	for i := range l.tr {
 		v := value[i] * q(i)
 		total += v
-		if l.tr[i].endAt(d) <= d { // vested, the requisite service done
+		if l.endAt(&l.tr[i], d) <= d { // vested, the requisite service done
 			floor += v
 		} else {
 			unvested += v
@@ -496,7 +579,7 @@ func (l *awardLedger) attribute(pol Policy, value []float64, d, known, endN int,
 	for i := range l.tr {
 		v := value[i] * q(i)
 		switch {
-		case l.tr[i].endAt(d) <= d:
+		case l.endAt(&l.tr[i], d) <= d:
 			out[i] = v
 		case unvested > 0:
 			out[i] = rest * v / unvested
@@ -647,7 +730,7 @@ func (l *awardLedger) settledN(i int, v view) float64 {
 func (l *awardLedger) serviceEndN(counts []trancheCounts, d int) int {
 	end, any := 0, 0
 	for i := range l.tr {
-		e := l.tr[i].endAt(d)
+		e := l.endAt(&l.tr[i], d)
 		any = max(any, e)
 		if counts[i].live(l.tr[i].Tranche.Shares) > 0 {
 			end = max(end, e)
@@ -695,12 +778,21 @@ func (l *awardLedger) outstanding(d int) int64 {
 // eventsThrough are the award's events dated on or before end, in date
 // order.
 func (a *Award) eventsThrough(end time.Time) []grants.Event {
-	var out []grants.Event
+	n := 0
+	for _, e := range a.Events {
+		if dayOnOrBefore(e.Date, end) {
+			n++
+		}
+	}
+	if n == 0 {
+		return nil
+	}
+	out := make([]grants.Event, 0, n)
 	for _, e := range a.Events {
 		if dayOnOrBefore(e.Date, end) {
 			out = append(out, e)
 		}
 	}
-	sort.SliceStable(out, func(i, j int) bool { return dayNum(out[i].Date) < dayNum(out[j].Date) })
+	slices.SortStableFunc(out, func(a, b grants.Event) int { return cmp.Compare(dayNum(a.Date), dayNum(b.Date)) })
 	return out
 }

@@ -205,7 +205,7 @@ func (l *awardLedger) cut(asOf time.Time) {
 			m := *t.more
 			t.more = &m
 		}
-		t.of = p.Tranche
+		t.of = int32(p.Tranche)
 		t.Tranche.Shares = p.Shares
 		for _, ch := range mod.Changes {
 			if dayNum(ch.Date) <= n {
@@ -226,7 +226,7 @@ func (l *awardLedger) cut(asOf time.Time) {
 func (l *awardLedger) layer(asOf time.Time) {
 	for i := range l.tr {
 		t := &l.tr[i]
-		t.extra().layers = []layer{{kind: layerBase, startN: int(t.startN), value: t.FairValue, to: []retarget{{from: int(t.startN), vest: int(t.origN)}}}}
+		t.extra().layers = []layer{{kind: layerBase, startN: l.startN, value: t.FairValue, to: []retarget{{from: l.startN, vest: int(t.origN)}}}}
 	}
 	mod := l.in.Modified
 	if mod == nil {
@@ -545,10 +545,7 @@ func (p ModifiedPart) Attribution(on time.Time) string {
 // period's ledgers, dated by its end, in ledger and date order.
 func (p *period) modificationExpense() []ModificationExpense {
 	var out []ModificationExpense
-	byID := map[string]*awardLedger{}
-	for _, l := range p.ledgers {
-		byID[l.in.Grant.ID] = l
-	}
+	byID := p.byID(func(l *awardLedger) bool { return l.in.Modified != nil })
 	open, end := dayNum(p.start)-1, dayNum(p.end)
 	for _, l := range p.ledgers {
 		mod := l.in.Modified
@@ -567,7 +564,7 @@ func (p *period) modificationExpense() []ModificationExpense {
 				if cp.Shares == 0 {
 					continue
 				}
-				mp := ModifiedPart{Tranche: l.tr[j].Tranche.Index, Shares: cp.Shares, Left: cp.Left, Improbable: cp.Improbable, Vested: dayNum(cp.VestBefore) <= M,
+				mp := ModifiedPart{Tranche: int(l.tr[j].Tranche.Index), Shares: cp.Shares, Left: cp.Left, Improbable: cp.Improbable, Vested: dayNum(cp.VestBefore) <= M,
 					VestBefore: cp.VestBefore, VestAfter: cp.VestAfter, Before: ch.ValuesBefore[j]}
 				me.Before += mp.Before * float64(cp.Shares)
 				if !l.typeIII {
@@ -632,10 +629,7 @@ func (l *awardLedger) effect(pol Policy, d, known int, key changeKey) effectOf {
 // linkReplacements gives each replacement award among the ledgers the cost
 // of the cancellation it replaces.
 func (p *period) linkReplacements() {
-	byID := map[string]*awardLedger{}
-	for _, l := range p.ledgers {
-		byID[l.in.Grant.ID] = l
-	}
+	byID := p.byID(func(l *awardLedger) bool { return l.in.Replaces != nil })
 	for _, l := range p.ledgers {
 		r := l.in.Replaces
 		if r == nil {
@@ -647,10 +641,29 @@ func (p *period) linkReplacements() {
 	}
 }
 
+// byID indexes the period's ledgers by grant ID when any of them is
+// one that needs looking up (need), and is nil when none is: most closes
+// have no change of terms, and need no index of every ledger.
+func (p *period) byID(need func(*awardLedger) bool) map[string]*awardLedger {
+	for _, l := range p.ledgers {
+		if need(l) {
+			byID := make(map[string]*awardLedger, len(p.ledgers))
+			for _, l := range p.ledgers {
+				byID[l.in.Grant.ID] = l
+			}
+			return byID
+		}
+	}
+	return nil
+}
+
 // modifiedOf attaches to the awards the changes v measured, and to each
 // replacement award the cancellation it replaces.
 func modifiedOf(awards []Award, v *pricing.Valuation) error {
-	index := map[string]int{}
+	if len(v.Modifications) == 0 {
+		return nil // no index of every award to build
+	}
+	index := make(map[string]int, len(awards))
 	for i := range awards {
 		index[awards[i].Grant.ID] = i
 	}

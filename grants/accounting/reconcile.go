@@ -92,6 +92,27 @@ type grantStates struct {
 	liabilityOpen, settledOpen, fvOpen          float64
 	prior                                       *PriorGrant
 	ledger                                      *awardLedger
+	catchUps                                    []CatchUp // of a grant granted by the prior close (catchUps)
+}
+
+// reconciling is what each grant's views for the reconciliation read
+// beyond the ledger and the prior close: the schedule, for the cells the
+// catch-ups name, and the grants measured again as corrections, by ID.
+type reconciling struct {
+	s         *grants.Schedule
+	corrected map[string]*pricing.GrantValue
+}
+
+// correctedOf are the grants v measured again as corrections, by ID,
+// found once (a look-up per grant, not a scan of the ledger for each).
+func correctedOf(v *pricing.Valuation) map[string]*pricing.GrantValue {
+	corrected := map[string]*pricing.GrantValue{}
+	for i := range v.Grants {
+		if gv := &v.Grants[i]; gv.Status == pricing.Corrected {
+			corrected[gv.Inputs.Grant.ID] = gv
+		}
+	}
+	return corrected
 }
 
 // states looks at ledger l in the views of the reconciliation to the
@@ -136,8 +157,8 @@ func (p *period) states(l *awardLedger, pr *Prior) grantStates {
 
 // reconcile walks from the prior close to rep and d, the period's
 // attribution and disclosures; sts are the states of p's compensation
-// ledgers in order (those of rep.Grants); s and v give the cells and
-// corrections that catch-ups name. A financing warrant the prior close
+// ledgers in order (those of rep.Grants), with their catch-ups; s and v
+// give the cells and the counts of grants locked, corrected and measured. A financing warrant the prior close
 // booked as compensation has that compensation reversed, a catch-up.
 func (p *period) reconcile(pr *Prior, sts []grantStates, rep *ExpenseReport, d *Disclosure, s *grants.Schedule, v *pricing.Valuation) (*Reconciliation, error) {
 	r := &Reconciliation{Prior: pr}
@@ -145,14 +166,6 @@ func (p *period) reconcile(pr *Prior, sts []grantStates, rep *ExpenseReport, d *
 	var Kc, Qc, S, Fc, Cc, Smod float64 // cumulative moves
 	var hasLiability bool
 	var lOpen, lComp, lReclass, lEnd float64
-	// The grants measured again as corrections, found once (a look-up per
-	// grant, not a scan of the ledger for each).
-	corrected := map[string]*pricing.GrantValue{}
-	for i := range v.Grants {
-		if gv := &v.Grants[i]; gv.Status == pricing.Corrected {
-			corrected[gv.Inputs.Grant.ID] = gv
-		}
-	}
 	for i, st := range sts {
 		ge := &rep.Grants[i]
 		l := st.ledger
@@ -179,9 +192,7 @@ func (p *period) reconcile(pr *Prior, sts []grantStates, rep *ExpenseReport, d *
 			lReclass -= ge.ReclassifiedEquity
 			lEnd += ge.LiabilityEnd
 		}
-		if st.old {
-			r.CatchUps = append(r.CatchUps, catchUps(st, l, pr, s, corrected)...)
-		}
+		r.CatchUps = append(r.CatchUps, st.catchUps...)
 	}
 	for _, fw := range rep.Financing {
 		pg, ok := pr.grant(fw.GrantID)
@@ -320,8 +331,11 @@ func catchUps(st grantStates, l *awardLedger, pr *Prior, s *grants.Schedule, cor
 // the grants measured again as corrections, by ID.
 func diagnose(st grantStates, l *awardLedger, pr *Prior, s *grants.Schedule, corrected map[string]*pricing.GrantValue) ([]Cause, []string) {
 	g := l.in.Grant
-	found := map[Cause][]string{}
-	add := func(c Cause, format string, args ...any) { found[c] = append(found[c], fmt.Sprintf(format, args...)) }
+	var found [len(causeOrder)][]string // by causeOrder: a grant nearly always has none
+	add := func(c Cause, format string, args ...any) {
+		k := causeIndex(c)
+		found[k] = append(found[k], fmt.Sprintf(format, args...))
+	}
 	P := dayNum(pr.ValuationDate)
 	if gv, ok := corrected[g.ID]; ok {
 		add(CauseCorrection, "the grant-date fair value is measured again as a correction: %.4f a share then, %.4f now (weighted by shares)", lockedAverage(gv, l), valuedAverage(l))
@@ -333,32 +347,34 @@ func diagnose(st grantStates, l *awardLedger, pr *Prior, s *grants.Schedule, cor
 	if pg == nil {
 		add(CauseLateGrant, "granted on %s, in a closed period, and first valued now", g.GrantDate.Format(time.DateOnly))
 	} else {
-		key := func(e grants.Event) string {
-			return fmt.Sprintf("%d|%s|%d", dayNum(e.Date), e.Kind, e.Shares)
+		// The events filed, each matched at most once by one recorded
+		// now with the same day, kind and shares; a grant has few, so a
+		// scan, not a map.
+		matched := make([]bool, len(pg.Events))
+		same := func(a, b grants.Event) bool {
+			return dayNum(a.Date) == dayNum(b.Date) && a.Kind == b.Kind && a.Shares == b.Shares
 		}
-		filed := map[string]int{}
-		for _, e := range pg.Events {
-			filed[key(e)]++
-		}
+	now:
 		for _, e := range l.in.Events {
 			if dayNum(e.Date) > P {
 				continue
 			}
-			if filed[key(e)] > 0 {
-				filed[key(e)]--
-				continue
+			for j, f := range pg.Events {
+				if !matched[j] && same(f, e) {
+					matched[j] = true
+					continue now
+				}
 			}
 			add(CauseLateEvent, "%s %s shares on %s (%s) is first recorded now", e.Kind, groupInt(e.Shares), e.Date.Format(time.DateOnly), s.Cell(grants.SheetEvents, "date", e.Row))
 		}
-		for _, e := range pg.Events {
-			if filed[key(e)] > 0 {
-				filed[key(e)]--
+		for j, e := range pg.Events {
+			if !matched[j] {
 				add(CauseEventRemoved, "%s %s shares on %s, applied by the prior close, is no longer recorded", e.Kind, groupInt(e.Shares), e.Date.Format(time.DateOnly))
 			}
 		}
 		diagnoseModifications(pg, l, P, s, add)
-		if !sameTranches(pg.Tranches, l.in.Tranches) {
-			add(CauseVesting, "the vesting changed: %d tranches of %s shares then, %d of %s now", len(pg.Tranches), groupInt(trancheShares(pg.Tranches)), len(l.in.Tranches), groupInt(g.Shares))
+		if !sameTranches(pg.Tranches, l.in) {
+			add(CauseVesting, "the vesting changed: %d tranches of %s shares then, %d of %s now", len(pg.Tranches), groupInt(trancheShares(pg.Tranches)), l.in.tranches(), groupInt(g.Shares))
 		}
 		if !pg.ServiceStart.IsZero() && dayNum(pg.ServiceStart) != l.startN {
 			add(CauseTerms, "the service period starts on %s now, %s then", l.start.Format(time.DateOnly), pg.ServiceStart.Format(time.DateOnly))
@@ -366,8 +382,8 @@ func diagnose(st grantStates, l *awardLedger, pr *Prior, s *grants.Schedule, cor
 	}
 	var causes []Cause
 	var details []string
-	for _, c := range []Cause{CauseCorrection, CausePurpose, CauseLateGrant, CauseLateEvent, CauseEventRemoved, CauseLateModification, CauseModificationRemoved, CauseVesting, CauseTerms} {
-		if ds, ok := found[c]; ok {
+	for k, c := range causeOrder {
+		if ds := found[k]; len(ds) > 0 {
 			causes = append(causes, c)
 			details = append(details, ds...)
 		}
@@ -375,12 +391,27 @@ func diagnose(st grantStates, l *awardLedger, pr *Prior, s *grants.Schedule, cor
 	return causes, details
 }
 
-func sameTranches(filed []PriorTranche, now []TrancheCost) bool {
-	if len(filed) != len(now) {
+// causeOrder are the causes diagnose finds, in the order it lists them.
+var causeOrder = [...]Cause{CauseCorrection, CausePurpose, CauseLateGrant, CauseLateEvent, CauseEventRemoved, CauseLateModification, CauseModificationRemoved, CauseVesting, CauseTerms}
+
+// causeIndex is c's place in causeOrder.
+func causeIndex(c Cause) int {
+	for k, o := range causeOrder {
+		if o == c {
+			return k
+		}
+	}
+	panic("accounting: cause " + string(c) + " not in causeOrder")
+}
+
+// sameTranches reports whether award a's tranches vest on the days of
+// those filed, with their shares.
+func sameTranches(filed []PriorTranche, a *Award) bool {
+	if len(filed) != a.tranches() {
 		return false
 	}
 	for i, t := range filed {
-		if dayNum(t.VestDate) != dayNum(now[i].Tranche.VestDate) || t.Shares != now[i].Tranche.Shares {
+		if now, _ := a.tranche(i); dayNum(t.VestDate) != dayNum(now.VestDate) || t.Shares != now.Shares {
 			return false
 		}
 	}

@@ -26,7 +26,7 @@ func TestLedgerMatchesScheduleTranches(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		l, err := newAwardLedger(&a, Policy{}, ymd("2099-12-31"))
+		l, err := newAwardLedger(&a, Policy{}, ymd("2099-12-31"), nil)
 		if err != nil {
 			t.Fatalf("grant %s: %v", g.ID, err)
 		}
