@@ -32,7 +32,10 @@ func refuse(format string, args ...any) error {
 // events it knew of and the periods it booked. report.ReadPrior reads it
 // from that close's valuation.json.
 type Prior struct {
-	Path, SHA256  string // the file read, and the SHA-256 of its bytes
+	// Path is the file read, SHA256 the SHA-256 of its bytes (in hex),
+	// once known: a prior returned while its file was still being hashed
+	// (report.ReadPriorHashing) has it after Hashed.
+	Path, SHA256  string
 	ToolVersion   string
 	SchemaVersion int
 	Company       string
@@ -55,6 +58,28 @@ type Prior struct {
 
 	byID    map[string]int // grant's index: position by grant ID
 	indexed int            // len(Grants) when byID was made
+
+	hashing func() (string, error) // waits for SHA256 (HashLater)
+}
+
+// HashLater says that p's SHA256 is still being computed: sum waits for
+// it, or for the error that kept the file from being read through.
+func (p *Prior) HashLater(sum func() (string, error)) { p.hashing = sum }
+
+// Hashed waits for p's SHA256 if it is still being computed (HashLater)
+// and sets it; the error is the one that kept the file from being read
+// through, which fails the run as a failed reading would have. What
+// reads SHA256 calls it first, from one goroutine.
+func (p *Prior) Hashed() error {
+	if p.hashing == nil {
+		return nil
+	}
+	sum, err := p.hashing()
+	if err != nil {
+		return err
+	}
+	p.SHA256, p.hashing = sum, nil
+	return nil
 }
 
 // PriorGrant is one grant as a prior close filed it.
