@@ -389,7 +389,8 @@ type priorReader struct {
 	pending       []ExpenseGrant // attributions read before their grants
 	modifications []Modification // the changes of awards' terms it measured
 	plans         *decodePlans
-	studies       pricing.Studies // the checks it filed
+	studies       pricing.Studies           // the checks it filed
+	trancheBlock  []accounting.PriorTranche // the grants' tranches are slices of it (tranches)
 
 	// Reading on two cores (prior_tail.go): tailRd reads the tail of the
 	// file beside this reader. tail marks the reader of a tail: it keeps
@@ -599,12 +600,12 @@ func (r *priorReader) addGrant(g *Grant) {
 		GrantDate: g.GrantDate.Time(), MeasurementDate: g.MeasurementDate.Time(), ExpiryDate: g.ExpiryDate.Time(), ValuationKey: g.ValuationKey,
 		Status: pricing.Status(g.ValueStatus)}
 	if len(g.Tranches) > 0 {
-		pg.Tranches = make([]accounting.PriorTranche, len(g.Tranches))
+		pg.Tranches = r.tranches(len(g.Tranches))
 	}
 	for k, t := range g.Tranches {
 		pg.Tranches[k] = accounting.PriorTranche{Index: t.Index, VestDate: t.VestDate.Time(), Shares: t.Shares,
 			Result:       valuation.Result{Value: t.FairValuePerShare, ErrorEstimate: t.ErrorEstimate, ExpectedTermYears: t.ExpectedTermYears, Steps: t.Steps},
-			BSM:          valuation.Result{Value: t.BSMSimplifiedValue, ExpectedTermYears: t.SimplifiedTerm},
+			BSM:          pricing.Comparison{Value: t.BSMSimplifiedValue, ExpectedTermYears: t.SimplifiedTerm},
 			RiskFreeRate: t.RiskFreeRate, SimplifiedRate: t.SimplifiedRate}
 	}
 	r.index[g.ID] = len(r.grants)
@@ -621,6 +622,18 @@ func (r *priorReader) addGrant(g *Grant) {
 			r.book(&eg)
 		}
 	}
+}
+
+// tranches is room for a grant's n tranches (read already, not a count
+// the file claims): a full slice of a block that the grants read one
+// after another share (a ledger has hundreds of thousands of tranches).
+func (r *priorReader) tranches(n int) []accounting.PriorTranche {
+	if cap(r.trancheBlock)-len(r.trancheBlock) < n {
+		r.trancheBlock = make([]accounting.PriorTranche, 0, max(n, blockLen))
+	}
+	from := len(r.trancheBlock)
+	r.trancheBlock = r.trancheBlock[:from+n]
+	return r.trancheBlock[from : from+n : from+n]
 }
 
 // book pairs grant eg.GrantID with its expense attribution (the last
