@@ -5,6 +5,7 @@ import (
 	"encoding/hex"
 	"errors"
 	"fmt"
+	"hash"
 	"io"
 	"io/fs"
 	"math"
@@ -29,6 +30,22 @@ import (
 // (schema_version) than this grantworth reads, or one that lacks what a
 // later close needs.
 func ReadPrior(path string) (*accounting.Prior, error) {
+	p, err := ReadPriorHashing(path)
+	if err != nil {
+		return nil, err
+	}
+	if err := p.Hashed(); err != nil {
+		return nil, err
+	}
+	return p, nil
+}
+
+// ReadPriorHashing is ReadPrior that returns once the file is read,
+// while its SHA-256 is still being computed on the way to its end: a
+// large prior's hash runs beside what the caller does next, and
+// Prior.Hashed waits for it (with the read error, if the file failed to
+// read after what the reader needed of it).
+func ReadPriorHashing(path string) (*accounting.Prior, error) {
 	refuse := refusal(path)
 	file := path
 	st, err := os.Stat(path)
@@ -47,23 +64,43 @@ func ReadPrior(path string) (*accounting.Prior, error) {
 	if err != nil {
 		return nil, err
 	}
-	defer f.Close()
-	return readPrior(f, path, file, scanBuffer)
+	// The hash's goroutine closes f once the file is read through.
+	return readPriorHashing(f, f, path, file, scanBuffer)
 }
 
-// readPrior reads a prior close's valuation.json from rd. The file is
-// read once, as a stream (a large ledger's is hundreds of megabytes):
-// what a later close needs is kept as it goes by (priorMembers), the rest
-// only checked to be JSON, and its bytes are hashed on the way. path is
-// the prior as given, file the valuation.json read, for the messages;
-// bufSize the scanner's buffer (tests make it small).
+// readPrior reads a prior close's valuation.json from rd, its hash
+// included.
 func readPrior(rd io.Reader, path, file string, bufSize int) (*accounting.Prior, error) {
+	p, err := readPriorHashing(rd, nil, path, file, bufSize)
+	if err != nil {
+		return nil, err
+	}
+	if err := p.Hashed(); err != nil {
+		return nil, err
+	}
+	return p, nil
+}
+
+// readPriorHashing reads a prior close's valuation.json from rd. The
+// file is read once, as a stream (a large ledger's is hundreds of
+// megabytes): what a later close needs is kept as it goes by
+// (priorMembers), the rest only checked to be JSON, and its bytes are
+// hashed on the way, to the end of the file after the reader is done
+// (the Prior's Hashed waits for it). path is the prior as given, file
+// the valuation.json read, for the messages; bufSize the scanner's buffer
+// (tests make it small). closer, if not nil, is closed once nothing
+// reads rd any more.
+func readPriorHashing(rd io.Reader, closer io.Closer, path, file string, bufSize int) (p *accounting.Prior, err error) {
 	refuse := refusal(path)
-	h := sha256.New()
-	ra := newReadAhead(rd, h)
-	defer ra.Close()
+	ra := newReadAhead(rd, sha256.New(), closer)
+	defer func() {
+		ra.release()
+		if err != nil {
+			ra.Close() // the hash is not wanted
+		}
+	}()
 	s := newScanner(ra, bufSize)
-	r := &priorReader{refuse: refuse, index: map[string]int{}, plans: priorPlans()}
+	r := &priorReader{refuse: refuse, index: map[string]int{}, plans: priorPlans(), ahead: ra}
 	if at, ok := rd.(io.ReaderAt); ok {
 		if size := sizeOf(rd); size > 0 {
 			r.tailRd = startTail(at, size, r.plans, bufSize)
@@ -95,9 +132,15 @@ func readPrior(rd io.Reader, path, file string, bufSize int) (*accounting.Prior,
 	if msg != "" {
 		return nil, refuse("is incomplete: %s", msg)
 	}
-	// The scanner read to the end of the file (scanner.end), so the
-	// hash has had every byte.
-	p.Path, p.SHA256 = path, hex.EncodeToString(h.Sum(nil))
+	p.Path = path
+	hashed := ra.hashed // not ra, whose chunks go with the reader
+	p.HashLater(func() (string, error) {
+		sum, err := hashed.wait()
+		if err != nil {
+			return "", err
+		}
+		return hex.EncodeToString(sum), nil
+	})
 	return p, nil
 }
 
@@ -115,17 +158,45 @@ func sizeOf(rd io.Reader) int64 {
 }
 
 // readAhead reads a file ahead of its reader in a goroutine of its own,
-// a chunk at a time, and hashes each chunk there: the hash of a large
-// prior close (a third of its reading time) runs beside the parsing, on
-// another core.
+// a chunk at a time, and hashes each chunk there once it has handed it
+// on: the hash of a large prior close (a third of its reading time) runs
+// beside the parsing, on another core, and does not hold the parser up.
+// Once the reader reads no more (stopReading), the goroutine reads the
+// rest of the file for the hash alone, while the caller goes on.
 type readAhead struct {
-	full chan []byte // chunks read and hashed, in order; closed at the end
-	free chan []byte // chunks read out
-	stop chan struct{}
-	done chan struct{}
-	err  error  // the read error that ended the file (not io.EOF), once full is closed
+	rd     io.Reader
+	h      hash.Hash     // nil: no hash
+	full   chan []byte   // chunks read, in order; closed at the end
+	free   chan []byte   // chunks read out
+	detach chan struct{} // closed when the reader reads no more
+	stop   chan struct{} // closed when neither reading nor hash is wanted
+	done   chan struct{} // closed at the end; then err is final
+	err    error         // the read error that ended the file (not io.EOF)
+	hashed *hashEnd      // the hash, for whoever waits for it once the reader is gone
+
+	// closer is closed once the goroutine has ended and released is
+	// closed: what else reads the file (the tail) has done so.
+	closer   io.Closer
+	released chan struct{}
+
 	buf  []byte // the chunk being read out
 	left []byte // its part not read out
+}
+
+// hashEnd is what a readAhead's hash came to: once done is closed, the
+// hash of every byte of the file, or the error that ended it early.
+type hashEnd struct {
+	done chan struct{}
+	sum  []byte
+	err  error
+}
+
+var errReadStopped = errors.New("report: the reading of the prior close was stopped")
+
+// wait waits for the hash of the file.
+func (e *hashEnd) wait() ([]byte, error) {
+	<-e.done
+	return e.sum, e.err
 }
 
 // readAheadChunk is the size of a chunk; readAheadChunks are in flight.
@@ -134,44 +205,85 @@ const (
 	readAheadChunks = 4
 )
 
-// newReadAhead starts reading rd. The hash h (if not nil) has had every
-// byte once Read has returned io.EOF. Close stops the goroutine.
-func newReadAhead(rd io.Reader, h io.Writer) *readAhead {
-	ra := &readAhead{full: make(chan []byte, readAheadChunks), free: make(chan []byte, readAheadChunks),
-		stop: make(chan struct{}), done: make(chan struct{})}
+// newReadAhead starts reading rd, through the hash h (if not nil), and
+// closes closer (if not nil) at the end, once release has been called.
+// Close stops the goroutine.
+func newReadAhead(rd io.Reader, h hash.Hash, closer io.Closer) *readAhead {
+	ra := &readAhead{rd: rd, h: h, full: make(chan []byte, readAheadChunks), free: make(chan []byte, readAheadChunks),
+		detach: make(chan struct{}), stop: make(chan struct{}), done: make(chan struct{}), closer: closer, released: make(chan struct{}),
+		hashed: &hashEnd{done: make(chan struct{})}}
 	for i := 0; i < readAheadChunks; i++ {
 		ra.free <- make([]byte, readAheadChunk)
 	}
-	go func() {
-		defer close(ra.done)
-		defer close(ra.full)
-		for {
-			var b []byte
+	go ra.run()
+	return ra
+}
+
+// run reads the file to its end, or until stop is closed.
+func (ra *readAhead) run() {
+	defer close(ra.done)
+	defer func() {
+		if ra.hashed.sum == nil && ra.hashed.err == nil {
+			ra.hashed.err = errReadStopped
+		}
+		close(ra.hashed.done)
+	}()
+	if ra.closer != nil {
+		defer func() {
+			<-ra.released
+			ra.closer.Close()
+		}()
+	}
+	defer close(ra.full)
+	reading := true // the reader takes the chunks
+	for {
+		var b []byte
+		if reading {
 			select {
 			case b = <-ra.free:
+			case <-ra.detach:
+				reading = false
 			case <-ra.stop:
 				return
 			}
-			n, err := io.ReadFull(rd, b[:cap(b)])
-			if h != nil {
-				h.Write(b[:n])
+		}
+		if !reading {
+			if ra.h == nil {
+				return
 			}
-			if n > 0 {
-				select {
-				case ra.full <- b[:n]:
-				case <-ra.stop:
-					return
-				}
-			}
-			if err != nil {
-				if err != io.EOF && err != io.ErrUnexpectedEOF {
-					ra.err = err
-				}
+			// Every chunk is the goroutine's now (detach gave back the
+			// reader's): one read out, or one the reader did not take.
+			select {
+			case b = <-ra.free:
+			case b = <-ra.full:
+			case <-ra.stop:
 				return
 			}
 		}
-	}()
-	return ra
+		b = b[:cap(b)]
+		n, err := io.ReadFull(ra.rd, b)
+		if reading && n > 0 {
+			// Never blocks: full has room for every chunk. The reader
+			// reads b while it is hashed; it gives b back (free) only
+			// once done with it, and b is read into again only after
+			// that.
+			ra.full <- b[:n]
+		}
+		if ra.h != nil {
+			ra.h.Write(b[:n])
+		}
+		if !reading {
+			ra.free <- b
+		}
+		if err != nil {
+			if err != io.EOF && err != io.ErrUnexpectedEOF {
+				ra.err, ra.hashed.err = err, err
+			} else if ra.h != nil {
+				ra.hashed.sum = ra.h.Sum(nil)
+			}
+			return
+		}
+	}
 }
 
 func (ra *readAhead) Read(p []byte) (int, error) {
@@ -193,6 +305,20 @@ func (ra *readAhead) Read(p []byte) (int, error) {
 	ra.left = ra.left[n:]
 	return n, nil
 }
+
+// stopReading says that the reader reads no more (Read is not called
+// again): the goroutine goes on to the end of the file for the hash.
+func (ra *readAhead) stopReading() {
+	if ra.buf != nil {
+		ra.free <- ra.buf[:cap(ra.buf)] // never blocks: free has room for every chunk
+		ra.buf, ra.left = nil, nil
+	}
+	close(ra.detach)
+}
+
+// release says that nothing but the goroutine reads the file any more:
+// closer may be closed at the end. It is called once.
+func (ra *readAhead) release() { close(ra.released) }
 
 // Close stops the reading goroutine and waits for it.
 func (ra *readAhead) Close() {
@@ -263,13 +389,15 @@ type priorReader struct {
 	pending       []ExpenseGrant // attributions read before their grants
 	modifications []Modification // the changes of awards' terms it measured
 	plans         *decodePlans
-	studies       pricing.Studies // the checks it filed
+	studies       pricing.Studies           // the checks it filed
+	trancheBlock  []accounting.PriorTranche // the grants' tranches are slices of it (tranches)
 
 	// Reading on two cores (prior_tail.go): tailRd reads the tail of the
 	// file beside this reader. tail marks the reader of a tail: it keeps
 	// the inputs for later (inputs), notes which members it read (seen),
 	// and stops at one it cannot read on its own (stopped).
 	tailRd       *tailRead
+	ahead        *readAhead // the file as the reader reads it, and its hash
 	tail         bool
 	stopped      bool
 	seen         uint8
@@ -472,12 +600,12 @@ func (r *priorReader) addGrant(g *Grant) {
 		GrantDate: g.GrantDate.Time(), MeasurementDate: g.MeasurementDate.Time(), ExpiryDate: g.ExpiryDate.Time(), ValuationKey: g.ValuationKey,
 		Status: pricing.Status(g.ValueStatus)}
 	if len(g.Tranches) > 0 {
-		pg.Tranches = make([]accounting.PriorTranche, len(g.Tranches))
+		pg.Tranches = r.tranches(len(g.Tranches))
 	}
 	for k, t := range g.Tranches {
 		pg.Tranches[k] = accounting.PriorTranche{Index: t.Index, VestDate: t.VestDate.Time(), Shares: t.Shares,
 			Result:       valuation.Result{Value: t.FairValuePerShare, ErrorEstimate: t.ErrorEstimate, ExpectedTermYears: t.ExpectedTermYears, Steps: t.Steps},
-			BSM:          valuation.Result{Value: t.BSMSimplifiedValue, ExpectedTermYears: t.SimplifiedTerm},
+			BSM:          pricing.Comparison{Value: t.BSMSimplifiedValue, ExpectedTermYears: t.SimplifiedTerm},
 			RiskFreeRate: t.RiskFreeRate, SimplifiedRate: t.SimplifiedRate}
 	}
 	r.index[g.ID] = len(r.grants)
@@ -494,6 +622,18 @@ func (r *priorReader) addGrant(g *Grant) {
 			r.book(&eg)
 		}
 	}
+}
+
+// tranches is room for a grant's n tranches (read already, not a count
+// the file claims): a full slice of a block that the grants read one
+// after another share (a ledger has hundreds of thousands of tranches).
+func (r *priorReader) tranches(n int) []accounting.PriorTranche {
+	if cap(r.trancheBlock)-len(r.trancheBlock) < n {
+		r.trancheBlock = make([]accounting.PriorTranche, 0, max(n, blockLen))
+	}
+	from := len(r.trancheBlock)
+	r.trancheBlock = r.trancheBlock[:from+n]
+	return r.trancheBlock[from : from+n : from+n]
 }
 
 // book pairs grant eg.GrantID with its expense attribution (the last

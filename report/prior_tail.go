@@ -29,8 +29,9 @@ import (
 //   - a fault in the tail is reported at its line (the lines before the
 //     tail, counted by the reader, added) and column (the tail starts on
 //     a line of its own), unless the reader finds one before;
-//   - the hash is still the reader's, over every byte in order: it reads
-//     the rest of the file through once the tail is taken.
+//   - the hash is still the reader's, over every byte in order: its
+//     goroutine reads the rest of the file through once the reader is at
+//     the tail, beside the tail's reading and what the caller does next.
 
 // parallelPriorMin is the size from which a prior close is read on two
 // cores (tests set it to 0).
@@ -74,7 +75,7 @@ func startTail(ra io.ReaderAt, size int64, plans *decodePlans, bufSize int) *tai
 		if t.split < 0 || t.stop.Load() {
 			return
 		}
-		rd := newReadAhead(io.NewSectionReader(ra, t.split, size-t.split), nil)
+		rd := newReadAhead(io.NewSectionReader(ra, t.split, size-t.split), nil, nil)
 		defer rd.Close()
 		s := newScanner(&stoppable{rd, &t.stop}, bufSize)
 		s.base, s.lineStart = t.split, t.split-tailQuote+1
@@ -135,8 +136,8 @@ func (s *stoppable) Read(p []byte) (int, error) {
 
 // takeTail is called by the reader at the top level of the file, where
 // a member's name comes next in s: if the tail starts there, it takes
-// what the tail read (and reads the rest of the file through, for the
-// hash) and reports true, with the error reading on alone would have
+// what the tail read (the rest of the file goes on through the hash
+// alone) and reports true, with the error reading on alone would have
 // given. It reports false if the reader is to read on itself.
 func (r *priorReader) takeTail(s *scanner) (bool, error) {
 	t := r.tailRd
@@ -158,12 +159,10 @@ func (r *priorReader) takeTail(s *scanner) (bool, error) {
 		t.cancel()
 		return true, err
 	}
-	// The rest of the file goes through the hash while the tail is read;
-	// if the tail stops, the reader reads on from the second view.
-	if _, err := io.Copy(io.Discard, s.rd); err != nil {
-		t.cancel()
-		return true, err
-	}
+	// The rest of the file goes through the hash alone (the Prior's
+	// Hashed waits for it) while the tail is read; if the tail stops,
+	// the reader reads on from the second view.
+	r.ahead.stopReading()
 	<-t.done
 	r.tailRd = nil
 	if t.r == nil || t.r.stopped {

@@ -283,6 +283,13 @@ func runValue(o *valueOptions) error {
 	}
 	st.end("%s grants booked, %s journal entries", groupCount(len(v.Grants)), groupCount(len(books.Journal)))
 	st.mark("writing")
+	if prior != nil {
+		// The report names the prior's hash, which ran beside valuing
+		// and accounting.
+		if err := prior.Hashed(); err != nil {
+			return err
+		}
+	}
 	m, err := report.Build(s, v, books, report.Run{
 		Tool:     report.Tool{Name: "grantworth", Version: version},
 		Input:    report.Input{Path: filepath.ToSlash(o.path), SHA256: sum},
@@ -371,8 +378,9 @@ func readError(path string, err error) error {
 }
 
 // readPriorAsync starts reading the prior close at path and returns the
-// function that waits for it. A run that stops before it asks leaves the
-// read to finish on its own.
+// function that waits for it; the prior's hash may still be running
+// then (prior.Hashed waits for it). A run that stops before it asks
+// leaves the read to finish on its own.
 func readPriorAsync(path string) func() (*accounting.Prior, error) {
 	type read struct {
 		p   *accounting.Prior
@@ -380,7 +388,7 @@ func readPriorAsync(path string) func() (*accounting.Prior, error) {
 	}
 	done := make(chan read, 1)
 	go func() {
-		p, err := report.ReadPrior(path)
+		p, err := report.ReadPriorHashing(path)
 		done <- read{p, err}
 	}()
 	return func() (*accounting.Prior, error) {

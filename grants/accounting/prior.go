@@ -32,7 +32,10 @@ func refuse(format string, args ...any) error {
 // events it knew of and the periods it booked. report.ReadPrior reads it
 // from that close's valuation.json.
 type Prior struct {
-	Path, SHA256  string // the file read, and the SHA-256 of its bytes
+	// Path is the file read, SHA256 the SHA-256 of its bytes (in hex),
+	// once known: a prior returned while its file was still being hashed
+	// (report.ReadPriorHashing) has it after Hashed.
+	Path, SHA256  string
 	ToolVersion   string
 	SchemaVersion int
 	Company       string
@@ -55,6 +58,28 @@ type Prior struct {
 
 	byID    map[string]int // grant's index: position by grant ID
 	indexed int            // len(Grants) when byID was made
+
+	hashing func() (string, error) // waits for SHA256 (HashLater)
+}
+
+// HashLater says that p's SHA256 is still being computed: sum waits for
+// it, or for the error that kept the file from being read through.
+func (p *Prior) HashLater(sum func() (string, error)) { p.hashing = sum }
+
+// Hashed waits for p's SHA256 if it is still being computed (HashLater)
+// and sets it; the error is the one that kept the file from being read
+// through, which fails the run as a failed reading would have. What
+// reads SHA256 calls it first, from one goroutine.
+func (p *Prior) Hashed() error {
+	if p.hashing == nil {
+		return nil
+	}
+	sum, err := p.hashing()
+	if err != nil {
+		return err
+	}
+	p.SHA256, p.hashing = sum, nil
+	return nil
 }
 
 // PriorGrant is one grant as a prior close filed it.
@@ -101,8 +126,8 @@ type PriorTranche struct {
 	Index    int
 	VestDate time.Time
 	Shares   int64
-	Result   valuation.Result // the fair value per share with its error estimate, expected term and steps
-	BSM      valuation.Result // the closed-form comparison: value and term
+	Result   valuation.Result   // the fair value per share with its error estimate, expected term and steps
+	BSM      pricing.Comparison // the closed-form comparison: value and term
 	// RiskFreeRate and SimplifiedRate are the zero rates at the tranche's
 	// expiry and at the comparison's term.
 	RiskFreeRate, SimplifiedRate float64
@@ -236,15 +261,12 @@ func (p *Prior) Locks() map[string]pricing.Lock {
 		return nil
 	}
 	out := make(map[string]pricing.Lock, len(p.Grants))
-	// Every equity award's filed tranches in one block, each award's its
-	// own full slice of it (no append can reach the next award's).
-	n := 0
-	for i := range p.Grants {
-		if !p.Grants[i].Liability {
-			n += len(p.Grants[i].Tranches)
-		}
-	}
-	block := make([]pricing.LockedTranche, 0, n)
+	// The equity awards' filed tranches in blocks, each award's its own
+	// full slice of one (no append can reach the next award's): few
+	// allocations for a ledger's hundreds of thousands, and a lock whose
+	// tranches outlive the valuing (a corrected grant's) keeps one block
+	// alive, not them all.
+	var block []pricing.LockedTranche
 	for i := range p.Grants {
 		pg := &p.Grants[i]
 		lk := pricing.Lock{Close: p.ValuationDate, Liability: pg.Liability, MeasurementDate: pg.MeasurementDate, ExpiryDate: pg.ExpiryDate, Inputs: pg.Inputs, Key: pg.ValuationKey,
@@ -256,21 +278,25 @@ func (p *Prior) Locks() map[string]pricing.Lock {
 			for _, r := range pg.Remeasurements {
 				lk.Revaluations = append(lk.Revaluations, pricing.Revaluation{Date: r.Date, Values: r.FairValue})
 			}
-		} else {
+		} else if n := len(pg.Tranches); n > 0 {
+			if cap(block)-len(block) < n {
+				block = make([]pricing.LockedTranche, 0, max(n, lockBlock))
+			}
 			from := len(block)
 			for k := range pg.Tranches {
 				t := &pg.Tranches[k]
-				block = append(block, pricing.LockedTranche{VestDate: t.VestDate, Result: t.Result, BSM: pricing.Comparison{Value: t.BSM.Value, ExpectedTermYears: t.BSM.ExpectedTermYears},
+				block = append(block, pricing.LockedTranche{VestDate: t.VestDate, Result: t.Result, BSM: t.BSM,
 					RiskFreeRate: t.RiskFreeRate, SimplifiedRate: t.SimplifiedRate})
 			}
-			if len(block) > from {
-				lk.Tranches = block[from:len(block):len(block)]
-			}
+			lk.Tranches = block[from:len(block):len(block)]
 		}
 		out[pg.ID] = lk
 	}
 	return out
 }
+
+// lockBlock is the number of tranches in a block of Locks.
+const lockBlock = 1024
 
 // Filed is what the close b of schedule s, over the grants v valued, files
 // for the next close: the Prior that report.ReadPrior reads back from its
@@ -337,7 +363,7 @@ func filedMeasurements(pg *PriorGrant, gv *pricing.GrantValue, cum func(k int) f
 	for k, t := range in.Tranches {
 		pg.Tranches = append(pg.Tranches, PriorTranche{Index: t.Index, VestDate: t.VestDate, Shares: t.Shares,
 			Result:       valuation.Result{Value: gv.Results[k].Value, ErrorEstimate: gv.Results[k].ErrorEstimate, ExpectedTermYears: gv.Results[k].ExpectedTermYears, Steps: gv.Results[k].Steps},
-			BSM:          valuation.Result{Value: gv.BSM[k].Value, ExpectedTermYears: gv.BSM[k].ExpectedTermYears},
+			BSM:          gv.BSM[k],
 			RiskFreeRate: gv.RiskFreeRate[k], SimplifiedRate: gv.SimplifiedRate[k], Cumulative: cum(k)})
 	}
 }
