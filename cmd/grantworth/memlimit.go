@@ -49,9 +49,13 @@ const (
 	perGrantHeap = 18 << 10
 	// perGrantHeapPrior is perGrantHeap for a close that follows a prior
 	// one (--prior): the prior's values, the reconciliation to it and the
-	// awards and ledgers it reads are held beside the rest, and the live
-	// heap of a 10,000-grant rerun peaks at some 345 MB (December 2026),
-	// some 30 KB a grant.
+	// awards and ledgers it reads are held beside the rest. The live heap
+	// of a 10,000-grant rerun peaked at some 345 MB until December 2026,
+	// and at 235 to 240 MB since the accounting lets go of each ledger
+	// with its expense and the prior's locks come in small blocks. The
+	// limit was left where it was: with a lower one (GOMEMLIMIT 304 to
+	// 400 MiB) the rerun took as many page faults or more, the runtime
+	// handing freed memory back and touching it again.
 	perGrantHeapPrior = 32 << 10
 )
 
