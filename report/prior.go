@@ -19,6 +19,7 @@ import (
 	"grantworth/grants"
 	"grantworth/grants/accounting"
 	"grantworth/grants/pricing"
+	"grantworth/internal/slab"
 	"grantworth/valuation"
 )
 
@@ -389,8 +390,8 @@ type priorReader struct {
 	pending       []ExpenseGrant // attributions read before their grants
 	modifications []Modification // the changes of awards' terms it measured
 	plans         *decodePlans
-	studies       pricing.Studies           // the checks it filed
-	trancheBlock  []accounting.PriorTranche // the grants' tranches are slices of it (tranches)
+	studies       pricing.Studies                    // the checks it filed
+	trancheBlock  slab.Slab[accounting.PriorTranche] // the grants' tranches are cut from it
 
 	// Reading on two cores (prior_tail.go): tailRd reads the tail of the
 	// file beside this reader. tail marks the reader of a tail: it keeps
@@ -600,7 +601,8 @@ func (r *priorReader) addGrant(g *Grant) {
 		GrantDate: g.GrantDate.Time(), MeasurementDate: g.MeasurementDate.Time(), ExpiryDate: g.ExpiryDate.Time(), ValuationKey: g.ValuationKey,
 		Status: pricing.Status(g.ValueStatus)}
 	if len(g.Tranches) > 0 {
-		pg.Tranches = r.tranches(len(g.Tranches))
+		// Read already, not a count the file claims.
+		pg.Tranches = r.trancheBlock.Take(len(g.Tranches))
 	}
 	for k, t := range g.Tranches {
 		pg.Tranches[k] = accounting.PriorTranche{Index: t.Index, VestDate: t.VestDate.Time(), Shares: t.Shares,
@@ -622,18 +624,6 @@ func (r *priorReader) addGrant(g *Grant) {
 			r.book(&eg)
 		}
 	}
-}
-
-// tranches is room for a grant's n tranches (read already, not a count
-// the file claims): a full slice of a block that the grants read one
-// after another share (a ledger has hundreds of thousands of tranches).
-func (r *priorReader) tranches(n int) []accounting.PriorTranche {
-	if cap(r.trancheBlock)-len(r.trancheBlock) < n {
-		r.trancheBlock = make([]accounting.PriorTranche, 0, max(n, blockLen))
-	}
-	from := len(r.trancheBlock)
-	r.trancheBlock = r.trancheBlock[:from+n]
-	return r.trancheBlock[from : from+n : from+n]
 }
 
 // book pairs grant eg.GrantID with its expense attribution (the last

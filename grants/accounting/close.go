@@ -125,7 +125,7 @@ func awardsOf(s *grants.Schedule, v *pricing.Valuation, copies bool) ([]Award, [
 		*m = made{}
 		gv := &v.Grants[i]
 		g := gv.Inputs.Grant
-		fv := sc.fvs.take(len(gv.Results))
+		fv := sc.fvs.Take(len(gv.Results))
 		var shares, term, rate float64
 		for k, r := range gv.Results {
 			fv[k] = r.Value
@@ -145,7 +145,7 @@ func awardsOf(s *grants.Schedule, v *pricing.Valuation, copies bool) ([]Award, [
 		}
 		a.Condition = ConditionOf(s, gv, end)
 		if shares > 0 {
-			a.Measured = &sc.measured.take(1)[0]
+			a.Measured = &sc.measured.Take(1)[0]
 			*a.Measured = MeasuredAssumptions{Volatility: gv.Inputs.Volatility.Value, RiskFreeRate: rate / shares,
 				DividendYield: gv.Inputs.DividendYield.Value, ExpectedTermYears: term / shares}
 		}

@@ -58,8 +58,8 @@ func (l *awardLedger) setCostCenters(a *Award, asOf time.Time) {
 		return len(l.centres) - 1
 	}
 	sc := l.scratch                  // newAwardLedger's
-	l.centres = sc.names.take(1)[:0] // a grant's first cost centre, nearly always its only one
-	l.spans = sc.spans.take(1)
+	l.centres = sc.names.Take(1)[:0] // a grant's first cost centre, nearly always its only one
+	l.spans = sc.spans.Take(1)
 	l.spans[0] = centreSpan{from: math.MinInt, centre: index(a.Grant.CostCenter)}
 	if len(a.Transfers) == 0 {
 		return
@@ -160,7 +160,7 @@ type centreParts struct {
 // of old, parts the caller has added up already.
 func (l *awardLedger) costCenters(pol Policy, ge GrantExpense, s0, s1, sInf snapshot, open, end, far time.Time, quarters []PeriodAmount, forecast []float64, after float64, old centreParts) centreParts {
 	n := len(l.centres)
-	p := centreParts{amounts: l.buffers().centres.take(n), forecast: old.forecast[:0], after: old.after[:0]}
+	p := centreParts{amounts: l.buffers().centres.Take(n), forecast: old.forecast[:0], after: old.after[:0]}
 	for c := range n {
 		var row []float64
 		if c < len(old.forecast) {

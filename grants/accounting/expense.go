@@ -910,7 +910,7 @@ func (x *expenseRun) grant(l *awardLedger, r *grantResult) {
 	}
 	sInf := l.atInto(pol, far, periodEnd, sc.sInf[:n])
 	lastLive, anyLive := 0, false // the day number of the last service end of a tranche with live shares
-	ge.Tranches = sc.expenses.take(n)[:0]
+	ge.Tranches = sc.expenses.Take(n)[:0]
 	r.weights = r.weights[:0]
 	sv, o := l.survival(), l.outcome(endN)
 	for i := range l.tr {

@@ -9,6 +9,7 @@ import (
 	"time"
 
 	"grantworth/grants"
+	"grantworth/internal/slab"
 	"grantworth/valuation"
 )
 
@@ -170,34 +171,12 @@ type ledgerScratch struct {
 	tranches   []grants.Tranche
 	perTranche []int
 
-	fvs      block[float64]
-	measured block[MeasuredAssumptions]
-	names    block[string]
-	spans    block[centreSpan]
-	expenses block[TrancheExpense]
-	centres  block[CostCenterAmount]
-}
-
-// block hands out lists of n elements cut from larger blocks, for the
-// lists a close keeps per grant: one allocation for many grants, and
-// none of the rounding up of many small ones. Each list is cut with its
-// capacity, so appending to it never writes into the next. The blocks
-// double from 64 elements to 1,024 (120 KiB of TrancheExpense), so that a
-// small close holds little more than it uses.
-type block[T any] struct {
-	free []T
-	size int // of the last block
-}
-
-// take is a list of n zero elements.
-func (b *block[T]) take(n int) []T {
-	if len(b.free) < n {
-		b.size = min(max(2*b.size, 64), 1024)
-		b.free = make([]T, max(n, b.size))
-	}
-	s := b.free[:n:n]
-	b.free = b.free[n:]
-	return s
+	fvs      slab.Slab[float64]
+	measured slab.Slab[MeasuredAssumptions]
+	names    slab.Slab[string]
+	spans    slab.Slab[centreSpan]
+	expenses slab.Slab[TrancheExpense]
+	centres  slab.Slab[CostCenterAmount]
 }
 
 // survival is the cache of survival to vest of l's scratch.

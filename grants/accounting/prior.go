@@ -9,6 +9,7 @@ import (
 
 	"grantworth/grants"
 	"grantworth/grants/pricing"
+	"grantworth/internal/slab"
 	"grantworth/valuation"
 )
 
@@ -261,12 +262,11 @@ func (p *Prior) Locks() map[string]pricing.Lock {
 		return nil
 	}
 	out := make(map[string]pricing.Lock, len(p.Grants))
-	// The equity awards' filed tranches in blocks, each award's its own
-	// full slice of one (no append can reach the next award's): few
-	// allocations for a ledger's hundreds of thousands, and a lock whose
-	// tranches outlive the valuing (a corrected grant's) keeps one block
-	// alive, not them all.
-	var block []pricing.LockedTranche
+	// The equity awards' filed tranches cut from blocks (internal/slab):
+	// few allocations for a ledger's hundreds of thousands, and a lock
+	// whose tranches outlive the valuing (a corrected grant's) keeps one
+	// block alive, not them all.
+	var blocks slab.Slab[pricing.LockedTranche]
 	for i := range p.Grants {
 		pg := &p.Grants[i]
 		lk := pricing.Lock{Close: p.ValuationDate, Liability: pg.Liability, MeasurementDate: pg.MeasurementDate, ExpiryDate: pg.ExpiryDate, Inputs: pg.Inputs, Key: pg.ValuationKey,
@@ -278,25 +278,18 @@ func (p *Prior) Locks() map[string]pricing.Lock {
 			for _, r := range pg.Remeasurements {
 				lk.Revaluations = append(lk.Revaluations, pricing.Revaluation{Date: r.Date, Values: r.FairValue})
 			}
-		} else if n := len(pg.Tranches); n > 0 {
-			if cap(block)-len(block) < n {
-				block = make([]pricing.LockedTranche, 0, max(n, lockBlock))
-			}
-			from := len(block)
+		} else if len(pg.Tranches) > 0 {
+			lk.Tranches = blocks.Take(len(pg.Tranches))
 			for k := range pg.Tranches {
 				t := &pg.Tranches[k]
-				block = append(block, pricing.LockedTranche{VestDate: t.VestDate, Result: t.Result, BSM: t.BSM,
-					RiskFreeRate: t.RiskFreeRate, SimplifiedRate: t.SimplifiedRate})
+				lk.Tranches[k] = pricing.LockedTranche{VestDate: t.VestDate, Result: t.Result, BSM: t.BSM,
+					RiskFreeRate: t.RiskFreeRate, SimplifiedRate: t.SimplifiedRate}
 			}
-			lk.Tranches = block[from:len(block):len(block)]
 		}
 		out[pg.ID] = lk
 	}
 	return out
 }
-
-// lockBlock is the number of tranches in a block of Locks.
-const lockBlock = 1024
 
 // Filed is what the close b of schedule s, over the grants v valued, files
 // for the next close: the Prior that report.ReadPrior reads back from its
